@@ -54,6 +54,11 @@ export interface SimulationOptions {
   /** B (Å²) of the exp(−2B s²) fall-off that stands in for form and thermal factors without atoms (default 2 Å²). */
   fallOffB?: number;
   peakShape?: PeakShape;
+  /**
+   * Crystallite size (nm) adding Scherrer broadening β = Kλ/(τ cosθ), K = 0.9, to the Caglioti width:
+   * in quadrature when η < 0.5 (Gaussian-like), linearly otherwise (Lorentzian-like) — the usual approximations.
+   */
+  crystalliteSizeNm?: number;
   /** Monochromator 2θ (degrees) for the polarisation factor; 0 or absent = no monochromator. */
   monochromatorTwoTheta?: number;
   /** Zero shift, degrees 2θ: every peak appears at 2θ_Bragg + zeroShift. */
@@ -157,6 +162,11 @@ export function cagliotiFwhm(shape: PeakShape, twoTheta: number): number {
   return Math.sqrt(Math.max(shape.U * t * t + shape.V * t + shape.W, 1e-8));
 }
 
+/** Scherrer broadening (degrees 2θ) of crystallites of size τ (nm): β = Kλ/(τ cosθ), K = 0.9 (Scherrer 1918). */
+export function scherrerBroadening(twoTheta: number, wavelength: number, sizeNm: number): number {
+  return ((0.9 * wavelength) / (sizeNm * 10 * Math.cos((twoTheta / 2) * RAD))) / RAD;
+}
+
 /** Peak shift (degrees 2θ) of a specimen displaced by s from the focusing circle: Δ2θ = −2 s cos θ / R rad (common practice). */
 export function displacementShift(twoTheta: number, displacement: number, radius: number): number {
   return ((-2 * displacement * Math.cos((twoTheta / 2) * RAD)) / radius) / RAD;
@@ -253,6 +263,13 @@ export function simulatePattern(options: SimulationOptions): SimulatedScan {
   const fallOffB = options.fallOffB ?? 2;
   const lines = radiationLines(radiation, options.kAlpha2Ratio);
   const observed = (bragg: number) => bragg + zero + displacementShift(bragg, displacement, radius);
+  const size = options.crystalliteSizeNm;
+  const fwhmAt = (bragg: number, wavelength: number) => {
+    const instrument = cagliotiFwhm(shape, bragg);
+    if (!(size && size > 0)) return instrument;
+    const sample = scherrerBroadening(bragg, wavelength, size);
+    return shape.eta < 0.5 ? Math.hypot(instrument, sample) : instrument + sample;
+  };
 
   const n = Math.floor((twoThetaMax - twoThetaMin) / step + 1e-9) + 1;
   const x = new Float64Array(n);
@@ -261,7 +278,7 @@ export function simulatePattern(options: SimulationOptions): SimulatedScan {
 
   // Reflections whose tails reach into the scan: a margin beyond the last angle for the widest line.
   const longest = Math.max(...lines.map((l) => l.wavelength));
-  const edge = Math.min(twoThetaMax + 2 + Math.abs(zero) + window * cagliotiFwhm(shape, twoThetaMax), 179.9);
+  const edge = Math.min(twoThetaMax + 2 + Math.abs(zero) + window * fwhmAt(Math.min(twoThetaMax, 179), longest), 179.9);
   const dMin = longest / (2 * Math.sin((edge / 2) * RAD));
   const planes = allowedReflections(cell, system, centering, { dMin, equivalents: Boolean(structure) });
 
@@ -287,7 +304,7 @@ export function simulatePattern(options: SimulationOptions): SimulatedScan {
       twoThetaBragg: bragg,
       intensity: strength,
       multiplicity: r.multiplicity,
-      fwhm: cagliotiFwhm(shape, bragg),
+      fwhm: fwhmAt(bragg, kAlpha1),
     });
   }
 
@@ -308,7 +325,7 @@ export function simulatePattern(options: SimulationOptions): SimulatedScan {
       addPseudoVoigt(
         x,
         y,
-        { position: observed(bragg), area: strengths[i] * areaPerStrength * line.weight, fwhm: cagliotiFwhm(shape, bragg) },
+        { position: observed(bragg), area: strengths[i] * areaPerStrength * line.weight, fwhm: fwhmAt(bragg, line.wavelength) },
         shape.eta,
         window,
         twoThetaMin,

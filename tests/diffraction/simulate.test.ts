@@ -113,6 +113,25 @@ describe("profile, scale and background", () => {
     expect(above[above.length - 1] - above[0]).toBeCloseTo(cagliotiFwhm(shape, i111.twoThetaBragg), 2);
   });
 
+  it("crystallite size adds Scherrer broadening Kλ/(τ cosθ): in quadrature for η < 0.5, linearly above (common practice)", () => {
+    const d220 = dSpacing(STRUCTURES.silicon.cell, { h: 2, k: 2, l: 0 });
+    const bragg = twoThetaFromD(d220, ANODE_LINES.Cu.kAlpha1);
+    // Hand calculation: τ = 40 nm, 2θ = 47.30° → β = 0.9 · 1.540593 Å / (400 Å · cos 23.65°) rad = 0.2168°.
+    const beta = ((0.9 * 1.540593) / (400 * Math.cos((bragg / 2) * RAD))) / RAD;
+    expect(beta).toBeCloseTo(0.2168, 4);
+    for (const eta of [0.2, 0.7]) {
+      const shape = { U: 0.004, V: -0.002, W: 0.002, eta };
+      const sim = simulatePattern(silicon({ peakShape: shape, crystalliteSizeNm: 40, twoThetaMin: 44, twoThetaMax: 51 }));
+      const line = sim.reflections.find((r) => r.h === 2 && r.k === 2 && r.l === 0);
+      const instrument = cagliotiFwhm(shape, bragg);
+      const expected = eta < 0.5 ? Math.hypot(instrument, beta) : instrument + beta;
+      expect(line?.fwhm).toBeCloseTo(expected, 12);
+      const top = Math.max(...sim.intensity);
+      const above = Array.from(sim.twoTheta).filter((_, i) => sim.intensity[i] >= top / 2);
+      expect(above[above.length - 1] - above[0]).toBeCloseTo(expected, 2);
+    }
+  });
+
   it("background is constant + slope + Gaussian hump where there are no peaks", () => {
     const background = { constant: 200, slope: -0.5, hump: { center: 25, fwhm: 10, height: 300 } };
     const sim = simulatePattern(silicon({ background, scale: 0 }));
