@@ -1,0 +1,21 @@
+// Shows the one-time message a redirect carried, and lets the person dismiss it.
+import { useEffect, useState } from "react";
+import type { Toast } from "~/utils/toast.server";
+
+export function ToastMessage({ toast }: { toast: Toast }) {
+  const [open, setOpen] = useState(true);
+  useEffect(() => setOpen(true), [toast]);
+  if (!open) return null;
+  const tone = toast.kind === "error" ? "border-danger-600 text-danger-700" : "border-beam-500 text-ink-800";
+  return (
+    <div
+      role="status"
+      className={`fixed right-4 bottom-4 z-50 flex max-w-sm items-start gap-3 rounded-lg border-l-4 bg-white p-4 text-sm shadow-lg ${tone}`}
+    >
+      <p className="flex-1">{toast.message}</p>
+      <button type="button" className="text-ink-500 hover:text-ink-800" onClick={() => setOpen(false)} aria-label="Dismiss message">
+        ×
+      </button>
+    </div>
+  );
+}

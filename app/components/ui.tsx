@@ -1,0 +1,138 @@
+// Small building blocks of Diffractory's screens: page headers, fields, badges, empty states.
+import type { ReactNode } from "react";
+
+export function PageHeader({ title, subtitle, actions }: { title: string; subtitle?: ReactNode; actions?: ReactNode }) {
+  return (
+    <div className="mb-6 flex flex-wrap items-end justify-between gap-4">
+      <div>
+        <h1 className="text-2xl font-bold text-ink-900">{title}</h1>
+        {subtitle ? <p className="mt-1 text-sm text-ink-600">{subtitle}</p> : null}
+      </div>
+      {actions ? <div className="flex gap-2">{actions}</div> : null}
+    </div>
+  );
+}
+
+/** Field errors keep a fixed-height slot so buttons below never move while someone clicks. */
+export function FieldErrors({ id, errors }: { id: string; errors?: string[] | null }) {
+  return (
+    <div id={id} className="min-h-5 pt-1 text-xs text-danger-700" aria-live="polite">
+      {errors?.length ? errors.join(" ") : null}
+    </div>
+  );
+}
+
+export function Field({
+  label,
+  id,
+  errors,
+  hint,
+  children,
+}: {
+  label: string;
+  id: string;
+  errors?: string[] | null;
+  hint?: string;
+  children: ReactNode;
+}) {
+  return (
+    <div>
+      <label htmlFor={id} className="label">
+        {label}
+      </label>
+      {children}
+      {hint ? <p className="mt-1 text-xs text-ink-500">{hint}</p> : null}
+      <FieldErrors id={`${id}-error`} errors={errors} />
+    </div>
+  );
+}
+
+export function FormError({ errors }: { errors?: string[] | null }) {
+  return (
+    <div role={errors?.length ? "alert" : undefined} className="min-h-6 text-sm font-medium text-danger-700">
+      {errors?.length ? errors.join(" ") : null}
+    </div>
+  );
+}
+
+const BADGE_TONES = {
+  neutral: "bg-ink-100 text-ink-700 border-ink-200",
+  brand: "bg-beam-50 text-beam-700 border-beam-200",
+  ok: "bg-ok-50 text-ok-700 border-ok-600/30",
+  caution: "bg-caution-50 text-caution-700 border-caution-600/30",
+  danger: "bg-danger-50 text-danger-700 border-danger-600/30",
+} as const;
+const BADGE_SHAPES = { neutral: "○", brand: "◆", ok: "✓", caution: "!", danger: "✕" } as const;
+
+/** A state badge: a word, a shape and a colour, so colour never carries the meaning alone. */
+export function Badge({ tone = "neutral", children }: { tone?: keyof typeof BADGE_TONES; children: ReactNode }) {
+  return (
+    <span className={`inline-flex items-center gap-1 rounded-full border px-2 py-0.5 text-xs font-semibold ${BADGE_TONES[tone]}`}>
+      <span aria-hidden="true">{BADGE_SHAPES[tone]}</span>
+      {children}
+    </span>
+  );
+}
+
+export function EmptyState({ title, children, action }: { title: string; children?: ReactNode; action?: ReactNode }) {
+  return (
+    <div className="rounded-card border border-dashed border-ink-300 bg-white px-6 py-12 text-center">
+      <DiffractionRingsIcon className="mx-auto mb-4 h-12 w-12 text-beam-200" />
+      <h2 className="text-lg font-semibold text-ink-800">{title}</h2>
+      {children ? <div className="mx-auto mt-2 max-w-md text-sm text-ink-600">{children}</div> : null}
+      {action ? <div className="mt-6">{action}</div> : null}
+    </div>
+  );
+}
+
+/** Debye–Scherrer rings: the product's mark. */
+export function DiffractionRingsIcon({ className }: { className?: string }) {
+  return (
+    <svg viewBox="0 0 48 48" className={className} aria-hidden="true" fill="none" stroke="currentColor" strokeWidth="2.5">
+      <circle cx="24" cy="24" r="4" fill="currentColor" stroke="none" />
+      <circle cx="24" cy="24" r="10" />
+      <circle cx="24" cy="24" r="16" strokeDasharray="6 3" />
+      <circle cx="24" cy="24" r="22" strokeOpacity="0.6" />
+    </svg>
+  );
+}
+
+export function SafetyNotice({ className = "" }: { className?: string }) {
+  return (
+    <aside
+      className={`rounded-lg border border-caution-600/30 bg-caution-50 p-4 text-sm text-caution-700 ${className}`}
+      aria-label="Safety notice"
+    >
+      <p className="font-semibold">
+        <span aria-hidden="true">! </span>Safety
+      </p>
+      <p className="mt-1">
+        A hazard declaration informs the lab; it does not replace the safety data sheet, the carrier's dangerous-goods rules, local
+        regulations, or the approval of the lab's radiation and chemical safety officers. X-ray instruments are operated only by the lab's
+        trained staff under its licence. Diffractory defers to local codes and licensed practice and gives no safety advice of its own
+        beyond these cautions.
+      </p>
+    </aside>
+  );
+}
+
+/** A table in a card with column headings; rows come as children. */
+export function TableCard({ columns, children, caption }: { columns: string[]; children: ReactNode; caption?: string }) {
+  return (
+    <div className="card overflow-x-auto p-0">
+      <table className="table">
+        {caption ? <caption className="sr-only">{caption}</caption> : null}
+        <thead>
+          <tr>
+            {columns.map((c) => (
+              <th key={c} scope="col">
+                {c}
+              </th>
+            ))}
+          </tr>
+        </thead>
+        <tbody>{children}</tbody>
+      </table>
+    </div>
+  );
+}

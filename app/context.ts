@@ -1,0 +1,11 @@
+// What the Express server hands every loader and action besides the request.
+import "react-router";
+
+declare module "react-router" {
+  interface AppLoadContext {
+    /** The caller's address as the server saw it (used for sign-in limits and the audit log). */
+    clientAddress: string;
+  }
+}
+
+export {};

@@ -1,0 +1,18 @@
+// The shared PostgreSQL pool and Drizzle handle, created once per process (and kept across dev reloads).
+import { drizzle, type NodePgDatabase } from "drizzle-orm/node-postgres";
+import pg from "pg";
+import { config } from "~/config.server";
+import * as schema from "./schema";
+
+type Db = NodePgDatabase<typeof schema> & { $client: pg.Pool };
+const g = globalThis as unknown as { __diffractoryDb?: Db };
+
+function create(): Db {
+  const pool = new pg.Pool({ connectionString: config.databaseUrl, max: Number(process.env.PG_POOL_MAX ?? 10) });
+  // An idle client losing its connection (a database restart) must not crash the process.
+  pool.on("error", (err) => console.warn("postgres pool:", err.message));
+  return drizzle(pool, { schema }) as Db;
+}
+
+export const db: Db = (g.__diffractoryDb ??= create());
+export { schema };

@@ -1,0 +1,57 @@
+// The document shell: fonts and styles, the data client, toasts, and the one error boundary.
+import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
+import { useEffect, useState, type ReactNode } from "react";
+import { data, Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteLoaderData } from "react-router";
+import type { Route } from "./+types/root";
+import "./app.css";
+import { GeneralErrorBoundary } from "./components/error-boundary";
+import { ToastMessage } from "./components/toast";
+import { readToast } from "./utils/toast.server";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  // Public: the toast cookie is the only thing read here.
+  const { toast, headers } = await readToast(request);
+  return data({ toast }, { headers });
+}
+
+export function Layout({ children }: { children: ReactNode }) {
+  const root = useRouteLoaderData<typeof loader>("root");
+  return (
+    <html lang="en">
+      <head>
+        <meta charSet="utf-8" />
+        <meta name="viewport" content="width=device-width, initial-scale=1" />
+        <link rel="icon" href="/favicon.svg" type="image/svg+xml" />
+        <Meta />
+        <Links />
+      </head>
+      <body className="min-h-screen">
+        {children}
+        {root?.toast ? <ToastMessage toast={root.toast} /> : null}
+        <ScrollRestoration />
+        <Scripts />
+      </body>
+    </html>
+  );
+}
+
+export default function App() {
+  const [queryClient] = useState(() => new QueryClient({ defaultOptions: { queries: { staleTime: 30_000 } } }));
+  // Browser tests wait for this mark before they click.
+  useEffect(() => {
+    document.documentElement.dataset.hydrated = "true";
+  }, []);
+  return (
+    <QueryClientProvider client={queryClient}>
+      <Outlet />
+    </QueryClientProvider>
+  );
+}
+
+export function meta() {
+  return [{ title: "Diffractory — powder-diffraction measurements, bought and sold" }];
+}
+
+export function ErrorBoundary() {
+  return <GeneralErrorBoundary />;
+}

@@ -1,0 +1,40 @@
+// Every screen and resource route of Diffractory, grouped by who uses it.
+import { index, layout, prefix, route, type RouteConfig } from "@react-router/dev/routes";
+
+export default [
+  layout("routes/public/layout.tsx", [
+    index("routes/public/home.tsx"),
+    route("labs", "routes/public/labs.tsx"),
+    route("how-it-works", "routes/public/how-it-works.tsx"),
+    route("safety", "routes/public/safety.tsx"),
+    route("sign-in", "routes/public/sign-in.tsx"),
+    route("create-account", "routes/public/create-account.tsx"),
+  ]),
+  route("sign-out", "routes/account/sign-out.tsx"),
+  route("switch-organisation", "routes/account/switch-organisation.tsx"),
+
+  ...prefix("client", [
+    layout("routes/workspace-layout.tsx", { id: "client-layout" }, [
+      index("routes/client/home.tsx"),
+      route("members", "routes/client/members.tsx"),
+      route(":section", "routes/workspace-section.tsx", { id: "client-section" }),
+    ]),
+  ]),
+  ...prefix("lab", [
+    layout("routes/workspace-layout.tsx", { id: "lab-layout" }, [
+      index("routes/lab/home.tsx"),
+      route(":section", "routes/workspace-section.tsx", { id: "lab-section" }),
+    ]),
+  ]),
+  ...prefix("admin", [
+    layout("routes/workspace-layout.tsx", { id: "admin-layout" }, [
+      index("routes/admin/home.tsx"),
+      route("users", "routes/admin/users.tsx"),
+      route("audit-log", "routes/admin/audit-log.tsx"),
+      route(":section", "routes/workspace-section.tsx", { id: "admin-section" }),
+    ]),
+  ]),
+
+  ...prefix("api", [route("health", "routes/api/health.ts"), route("me", "routes/api/me.ts")]),
+  route("*", "routes/public/not-found.tsx"),
+] satisfies RouteConfig;

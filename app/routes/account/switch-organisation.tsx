@@ -1,0 +1,29 @@
+// POST /switch-organisation — a person in several organisations chooses which one they work in.
+import { parseWithZod } from "@conform-to/zod/v4";
+import { data, redirect } from "react-router";
+import { z } from "zod";
+import { requireUser, workspacePath } from "~/utils/permissions.server";
+import { setActiveOrganisation } from "~/utils/session.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import type { Route } from "./+types/switch-organisation";
+
+const SwitchSchema = z.object({ organisationId: z.uuid({ error: "Choose an organisation." }) });
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireUser(request);
+  return redirect("/");
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const actor = await requireUser(request);
+  const submission = parseWithZod(await request.formData(), { schema: SwitchSchema });
+  if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
+  const target = actor.memberships.find((m) => m.organisation.id === submission.value.organisationId);
+  // Someone else's organisation id looks the same as one that does not exist.
+  if (!target) return data({ result: submission.reply({ formErrors: ["You are not a member of that organisation."] }) }, { status: 404 });
+  await setActiveOrganisation(request, target.organisation.id);
+  return redirectWithToast(workspacePath({ user: actor.user, active: target }), {
+    kind: "info",
+    message: `You are now working in ${target.organisation.name}.`,
+  });
+}

@@ -1,0 +1,40 @@
+// GET /api/health — public liveness of the app and each service it depends on (503 naming the failing one).
+import { HeadBucketCommand } from "@aws-sdk/client-s3";
+import { sql } from "drizzle-orm";
+import { config } from "~/config.server";
+import { db } from "~/db/client.server";
+import { services } from "~/utils/services.server";
+import type { Route } from "./+types/health";
+
+type CheckResult = "ok" | string;
+
+async function timed(check: () => Promise<unknown>, ms = 3000): Promise<CheckResult> {
+  let timer: ReturnType<typeof setTimeout> | undefined;
+  try {
+    await Promise.race([
+      check(),
+      new Promise((_, reject) => (timer = setTimeout(() => reject(new Error(`no answer within ${ms} ms`)), ms))),
+    ]);
+    return "ok";
+  } catch (err) {
+    return `failing: ${(err as Error).message || (err as Error).name}`;
+  } finally {
+    clearTimeout(timer);
+  }
+}
+
+// Public by design: monitoring asks without signing in, and the answer names no secrets.
+export async function loader(_args: Route.LoaderArgs) {
+  const [database, storage, mail, payments] = await Promise.all([
+    timed(() => db.execute(sql`select 1`)),
+    timed(() => services.s3.send(new HeadBucketCommand({ Bucket: config.s3.bucket }))),
+    timed(async () => {
+      const { error } = await services.mail.domains.list();
+      if (error) throw new Error(error.message);
+    }),
+    timed(() => services.payments.balance.retrieve()),
+  ]);
+  const checks = { database, storage, mail, payments };
+  const ok = Object.values(checks).every((c) => c === "ok");
+  return Response.json({ status: ok ? "ok" : "degraded", checks }, { status: ok ? 200 : 503, headers: { "Cache-Control": "no-store" } });
+}

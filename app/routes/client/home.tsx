@@ -1,0 +1,39 @@
+// The client workspace's overview: where the organisation's requests, orders and data stand.
+import { Link, useLoaderData } from "react-router";
+import { EmptyState, PageHeader, SafetyNotice } from "~/components/ui";
+import { requireOrgRole } from "~/utils/permissions.server";
+import type { Route } from "./+types/home";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "client");
+  return { organisation: { name: membership.organisation.name }, role: membership.role };
+}
+
+export default function ClientHome() {
+  const { organisation, role } = useLoaderData<typeof loader>();
+  return (
+    <div>
+      <PageHeader title={organisation.name} subtitle={`Client organisation · you are ${role === "owner" ? "an owner" : "a member"}`} />
+      <div className="grid gap-6 lg:grid-cols-3">
+        <div className="lg:col-span-2">
+          <EmptyState
+            title="No requests yet"
+            action={
+              <Link to="/labs" className="btn-primary">
+                Find a lab
+              </Link>
+            }
+          >
+            Start by posting a measurement request: your samples, their declared phase and approximate cell, a hazard declaration for each,
+            and the measurement you need.
+          </EmptyState>
+        </div>
+        <SafetyNotice />
+      </div>
+    </div>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Client workspace — Diffractory" }];
+}

@@ -1,0 +1,53 @@
+// The Express app around React Router: security headers, the same-origin rule for writes, the load context.
+import "react-router";
+import { createRequestHandler } from "@react-router/express";
+import express from "express";
+import type { NextFunction, Request, Response } from "express";
+
+export const app = express();
+app.disable("x-powered-by");
+// Behind a proxy (production, or the two-server setup) the client address comes from X-Forwarded-For.
+if (process.env.TRUST_PROXY) app.set("trust proxy", process.env.TRUST_PROXY === "true" ? true : process.env.TRUST_PROXY);
+
+const local = process.env.NODE_ENV !== "production" || process.env.DIFFRACTORY_LOCAL === "1";
+
+app.use((_req: Request, res: Response, next: NextFunction) => {
+  res.setHeader("X-Content-Type-Options", "nosniff");
+  res.setHeader("Referrer-Policy", "strict-origin-when-cross-origin");
+  res.setHeader("X-Frame-Options", "DENY");
+  if (!local) res.setHeader("Strict-Transport-Security", "max-age=31536000; includeSubDomains");
+  next();
+});
+
+const SAFE_METHODS = new Set(["GET", "HEAD", "OPTIONS"]);
+
+/**
+ * Writes from another site are refused before any action runs. Browsers send Origin on every POST;
+ * clients without one (instrument computers with a token, provider webhooks) are not browsers.
+ */
+export function originAllowed(req: Pick<Request, "method" | "headers">) {
+  if (SAFE_METHODS.has(req.method)) return true;
+  const origin = req.headers.origin;
+  if (!origin) return req.headers["sec-fetch-site"] !== "cross-site";
+  if (origin === "null") return false;
+  try {
+    const allowed = new Set([req.headers.host, process.env.APP_URL && new URL(process.env.APP_URL).host].filter(Boolean));
+    return allowed.has(new URL(origin).host);
+  } catch {
+    return false;
+  }
+}
+
+app.use((req: Request, res: Response, next: NextFunction) => {
+  if (originAllowed(req)) return next();
+  res.status(403).type("text/plain").send("Refused: this request came from another site.");
+});
+
+app.use(
+  createRequestHandler({
+    build: () => import("virtual:react-router/server-build"),
+    getLoadContext(req) {
+      return { clientAddress: req.ip ?? req.socket.remoteAddress ?? "unknown" };
+    },
+  }),
+);

@@ -1,0 +1,43 @@
+// Starts Diffractory's web server: Vite middleware with hot reload in development, the built app otherwise.
+import express from "express";
+import compression from "compression";
+import path from "node:path";
+import { fileURLToPath, pathToFileURL } from "node:url";
+
+const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
+const port = Number(process.env.PORT ?? 3000);
+const host = process.env.HOST ?? "127.0.0.1";
+const dev = process.env.NODE_ENV !== "production";
+
+const server = express();
+server.disable("x-powered-by");
+server.use(compression());
+
+if (dev) {
+  const vite = await import("vite");
+  const viteDevServer = await vite.createServer({ root, server: { middlewareMode: true } });
+  server.use(viteDevServer.middlewares);
+  server.use(async (req, res, next) => {
+    try {
+      const source = (await viteDevServer.ssrLoadModule(path.join(root, "server/app.ts"))) as { app: express.Express };
+      return source.app(req, res, next);
+    } catch (error) {
+      if (error instanceof Error) viteDevServer.ssrFixStacktrace(error);
+      next(error);
+    }
+  });
+} else {
+  const clientDir = path.join(root, "build/client");
+  // Fingerprinted assets never change; everything else is revalidated.
+  server.use("/assets", express.static(path.join(clientDir, "assets"), { immutable: true, maxAge: "1y" }));
+  server.use(express.static(clientDir, { maxAge: "1h" }));
+  const built = (await import(pathToFileURL(path.join(root, "build/server/index.js")).href)) as { app: express.Express };
+  server.use(built.app);
+}
+
+const listener = server.listen(port, host, () => {
+  console.log(`Diffractory is serving on http://${host}:${port}`);
+});
+for (const signal of ["SIGTERM", "SIGINT"] as const) {
+  process.on(signal, () => listener.close(() => process.exit(0)));
+}
