@@ -1,7 +1,8 @@
-// Cell geometry, Bragg's law, wavelengths and reflection lists against hand calculations and REFERENCE.md.
+// Cell geometry, Bragg's law, wavelengths and reflection lists against hand calculations, REFERENCE.md and gemmi.
 import { describe, expect, it } from "vitest";
 import {
   type Cell,
+  type Centering,
   type CrystalSystem,
   cellFromMetricParams,
   cellJacobian,
@@ -25,6 +26,7 @@ import {
   primaryWavelength,
   radiationLines,
 } from "~/diffraction/wavelengths";
+import { runReference } from "./python-reference";
 
 const RAD = Math.PI / 180;
 const cubic = (a: number): Cell => ({ a, b: a, c: a, alpha: 90, beta: 90, gamma: 90 });
@@ -272,5 +274,50 @@ describe("allowed reflections", () => {
     );
     expect(cubicMs).toBeLessThan(0.5);
     expect(monoMs).toBeLessThan(5);
+  });
+});
+
+describe("allowed reflections against gemmi for every lattice (lib: gemmi 0.5.7 space-group machinery)", () => {
+  const cases: { system: CrystalSystem; centering: Centering; spaceGroup: string; cell: Cell }[] = [
+    { system: "cubic", centering: "P", spaceGroup: "P m -3 m", cell: cubic(4.1568) },
+    { system: "cubic", centering: "I", spaceGroup: "I m -3 m", cell: cubic(3.1652) },
+    { system: "cubic", centering: "F", spaceGroup: "F m -3 m", cell: cubic(5.6402) },
+    { system: "tetragonal", centering: "P", spaceGroup: "P 4/m m m", cell: { a: 4.5939, b: 4.5939, c: 2.9589, alpha: 90, beta: 90, gamma: 90 } },
+    { system: "tetragonal", centering: "I", spaceGroup: "I 4/m m m", cell: { a: 3.7845, b: 3.7845, c: 9.5143, alpha: 90, beta: 90, gamma: 90 } },
+    { system: "hexagonal", centering: "P", spaceGroup: "P 6/m m m", cell: hexagonal(3.2499, 5.2065) },
+    { system: "trigonal", centering: "P", spaceGroup: "P -3 m 1", cell: hexagonal(4.9134, 5.4052) },
+    { system: "trigonal", centering: "R", spaceGroup: "R -3 m:H", cell: hexagonal(4.7591, 12.9918) },
+    { system: "orthorhombic", centering: "P", spaceGroup: "P m m m", cell: { a: 10.332, b: 6.01, c: 4.692, alpha: 90, beta: 90, gamma: 90 } },
+    { system: "orthorhombic", centering: "I", spaceGroup: "I m m m", cell: { a: 5.1, b: 7.3, c: 9.2, alpha: 90, beta: 90, gamma: 90 } },
+    { system: "orthorhombic", centering: "F", spaceGroup: "F m m m", cell: { a: 5.1, b: 7.3, c: 9.2, alpha: 90, beta: 90, gamma: 90 } },
+    { system: "orthorhombic", centering: "A", spaceGroup: "A m m m", cell: { a: 5.1, b: 7.3, c: 9.2, alpha: 90, beta: 90, gamma: 90 } },
+    { system: "orthorhombic", centering: "B", spaceGroup: "B m m m", cell: { a: 5.1, b: 7.3, c: 9.2, alpha: 90, beta: 90, gamma: 90 } },
+    { system: "orthorhombic", centering: "C", spaceGroup: "C m m m", cell: { a: 5.1, b: 7.3, c: 9.2, alpha: 90, beta: 90, gamma: 90 } },
+    { system: "monoclinic", centering: "P", spaceGroup: "P 1 2/m 1", cell: { a: 5.1505, b: 5.2116, c: 5.3173, alpha: 90, beta: 99.23, gamma: 90 } },
+    { system: "monoclinic", centering: "C", spaceGroup: "C 1 2/m 1", cell: { a: 9.7, b: 8.9, c: 5.3, alpha: 90, beta: 105.2, gamma: 90 } },
+    { system: "monoclinic", centering: "A", spaceGroup: "A 1 2/m 1", cell: { a: 9.7, b: 8.9, c: 5.3, alpha: 90, beta: 105.2, gamma: 90 } },
+    { system: "monoclinic", centering: "I", spaceGroup: "I 1 2/m 1", cell: { a: 9.7, b: 8.9, c: 5.3, alpha: 90, beta: 105.2, gamma: 90 } },
+    { system: "triclinic", centering: "P", spaceGroup: "P -1", cell: { a: 5.1, b: 6.3, c: 7.7, alpha: 81, beta: 97, gamma: 103 } },
+  ];
+  const dMin = 1.1;
+
+  it("same reflections, d-spacings and multiplicities, accidental coincidences kept apart", () => {
+    const theirs = runReference<{ hkl: number[]; d: number; multiplicity: number }[][]>(
+      "lattice_reflections.py",
+      cases.map((c) => ({ spaceGroup: c.spaceGroup, cell: [c.cell.a, c.cell.b, c.cell.c, c.cell.alpha, c.cell.beta, c.cell.gamma], dMin })),
+    );
+    cases.forEach((c, i) => {
+      const label = `${c.system} ${c.centering}`;
+      const ours = allowedReflections(c.cell, c.system, c.centering, { dMin, equivalents: true });
+      const reference = theirs[i];
+      expect(ours.length, label).toBe(reference.length);
+      // Each gemmi reflection is one of ours: same d, and its hkl among our representative's equivalents.
+      for (const r of reference) {
+        const match = ours.find((o) => o.equivalents?.some((e) => e.h === r.hkl[0] && e.k === r.hkl[1] && e.l === r.hkl[2]));
+        expect(match, `${label} ${r.hkl.join(" ")}`).toBeDefined();
+        expect(match?.multiplicity, `${label} ${r.hkl.join(" ")}`).toBe(r.multiplicity);
+        expect(Math.abs((match?.d ?? 0) - r.d), `${label} ${r.hkl.join(" ")}`).toBeLessThan(1e-9);
+      }
+    });
   });
 });
