@@ -144,6 +144,17 @@ export function cellVolume(cell: Cell): number {
   return cell.a * cell.b * cell.c * Math.sqrt(Math.max(root, 0));
 }
 
+/**
+ * The hexagonal-axes cell (obverse, centering R) of a rhombohedral cell given on rhombohedral axes:
+ * a_h = 2 a_r sin(α/2), c_h = a_r √(3 (1 + 2 cos α)) (International Tables Vol. A, common practice).
+ */
+export function rhombohedralToHexagonal(aRhombohedral: number, alphaDegrees: number): Cell {
+  const alpha = alphaDegrees * RAD;
+  const a = 2 * aRhombohedral * Math.sin(alpha / 2);
+  const c = aRhombohedral * Math.sqrt(3 * (1 + 2 * Math.cos(alpha)));
+  return { a, b: a, c, alpha: 90, beta: 90, gamma: 120 };
+}
+
 // Tolerances for "equal" lengths and "right" angles in a declared cell: loose enough for values
 // typed with a few decimals or produced by refinement, tight enough to catch a real distortion.
 const LENGTH_TOLERANCE = 1e-5;
@@ -176,6 +187,8 @@ export function checkCellForSystem(system: CrystalSystem, cell: Cell): string | 
       break;
     case "hexagonal":
     case "trigonal":
+      if (system === "trigonal" && sameLength(a, b) && sameLength(a, c) && isAngle(alpha, beta) && isAngle(alpha, gamma) && !right(alpha))
+        return `This looks like a rhombohedral cell on rhombohedral axes (${lengths}, ${angles}); give it on hexagonal axes with centering R.`;
       if (!sameLength(a, b)) return `A ${system} cell (hexagonal axes) needs a = b; got ${lengths}.`;
       if (!right(alpha) || !right(beta) || !isAngle(gamma, 120))
         return `A ${system} cell (hexagonal axes) needs alpha = beta = 90° and gamma = 120°; got ${angles}.`;

@@ -195,11 +195,16 @@ describe("seeded counting noise", () => {
 
 describe("speed", () => {
   it("a 70k-point scan takes well under a second", () => {
+    // Warm, best of three: other test files share the machine.
     const timed = (options: SimulationOptions) => {
-      simulatePattern(options);
-      const t0 = performance.now();
-      const sim = simulatePattern(options);
-      return { ms: performance.now() - t0, n: sim.twoTheta.length };
+      let n = simulatePattern(options).twoTheta.length;
+      let ms = Number.POSITIVE_INFINITY;
+      for (let i = 0; i < 3; i++) {
+        const t0 = performance.now();
+        n = simulatePattern(options).twoTheta.length;
+        ms = Math.min(ms, performance.now() - t0);
+      }
+      return { ms, n };
     };
     const common = { radiation: CU_DOUBLET, twoThetaMin: 5, twoThetaMax: 145, step: 0.002, noise: { seed: 3 }, background: { constant: 100 } };
     const olivine = timed({ structure: STRUCTURES.lithiumIronPhosphate, ...common });
