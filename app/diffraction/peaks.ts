@@ -1,0 +1,462 @@
+// Peak search and pseudo-Voigt profile fits of a powder scan, with the Kα2 line tied to Kα1 by Bragg's law.
+
+import { estimateBackground } from "./background";
+import { levenbergMarquardt, type NonlinearProblem } from "./least-squares";
+import { lowerBound, median } from "./sorted";
+
+const RAD = Math.PI / 180;
+const LN2 = Math.LN2;
+// Area of a unit-height pseudo-Voigt of unit FWHM: Lorentzian π/2, Gaussian √(π / 4 ln 2).
+const LORENTZ_AREA = Math.PI / 2;
+const GAUSS_AREA = Math.sqrt(Math.PI / (4 * LN2));
+
+/** A diffracting line: wavelength in Å and intensity relative to the first (Kα1) line. */
+export interface EmissionLine {
+  wavelength: number;
+  weight: number;
+}
+
+export interface FittedPeak {
+  /** Kα1 (or single-line) position, degrees 2θ. */
+  twoTheta: number;
+  /** Standard uncertainty of the position from the fit, degrees 2θ. */
+  twoThetaEsd: number;
+  /** Kα1 peak height above the background, counts. */
+  height: number;
+  heightEsd: number;
+  /** Integrated intensity of the Kα1 component, counts × degrees. */
+  area: number;
+  /** Full width at half maximum, degrees 2θ. */
+  fwhm: number;
+  /** Lorentzian fraction of the pseudo-Voigt, 0 (Gaussian) … 1 (Lorentzian). */
+  eta: number;
+  /** Bragg's law with the first line's wavelength, Å. */
+  d: number;
+}
+
+export interface PeakSearchOptions {
+  lines: EmissionLine[];
+  /** Intensity standard uncertainties; without them a Poisson-like σ² = g·I is assumed and g estimated. */
+  esd?: Float64Array;
+  /** Detection threshold in standard deviations of the second-derivative filter. */
+  threshold?: number;
+}
+
+export interface PeakAnalysis {
+  peaks: FittedPeak[];
+  background: Float64Array;
+  /** Background plus every fitted peak, on the scan's points (for the plot). */
+  fittedProfile: Float64Array;
+  /** Typical FWHM found before fitting, degrees 2θ. */
+  typicalFwhm: number;
+  /** Variance of each intensity used as the weight's inverse. */
+  variance: Float64Array;
+}
+
+// ——— Profile ———
+
+/** Pseudo-Voigt of height h and FWHM H at x0, and the derivatives the fit needs. */
+function pseudoVoigt(x: number, x0: number, h: number, H: number, eta: number, out: Float64Array | null): number {
+  const u = (x - x0) / H;
+  const u2 = u * u;
+  const L = 1 / (1 + 4 * u2);
+  const G = Math.exp(-4 * LN2 * u2);
+  const shape = eta * L + (1 - eta) * G;
+  if (out) {
+    const dfdu = h * (eta * (-8 * u * L * L) + (1 - eta) * (-8 * LN2 * u * G));
+    out[0] = -dfdu / H; // ∂/∂x0
+    out[1] = shape; // ∂/∂h
+    out[2] = (-dfdu * u) / H; // ∂/∂H
+    out[3] = h * (L - G); // ∂/∂η
+  }
+  return h * shape;
+}
+
+/** Position of a satellite line from the main line's position (Bragg's law at fixed d). */
+function satellitePosition(twoTheta: number, ratio: number): { x: number; slope: number } {
+  const s = ratio * Math.sin((twoTheta * RAD) / 2);
+  if (s >= 1) return { x: NaN, slope: 0 };
+  const x = (2 * Math.asin(s)) / RAD;
+  const slope = (ratio * Math.cos((twoTheta * RAD) / 2)) / Math.cos((x * RAD) / 2);
+  return { x, slope };
+}
+
+export function pseudoVoigtArea(height: number, fwhm: number, eta: number): number {
+  return height * fwhm * (eta * LORENTZ_AREA + (1 - eta) * GAUSS_AREA);
+}
+
+// ——— Noise and width estimates ———
+
+/**
+ * Variance of each point. Whole, non-negative counts get counting statistics, σ² = max(I, 1). Scaled or
+ * converted data get σ² = g·I with an unknown gain g, estimated from the scatter of each point about its
+ * neighbours' mean, whose variance is 1.5 σ² on a smooth curve; the median of a χ²(1) variable is 0.455
+ * (common practice).
+ */
+export function intensityVariance(intensity: Float64Array, esd?: Float64Array): Float64Array {
+  const n = intensity.length;
+  const variance = new Float64Array(n);
+  if (esd) {
+    for (let i = 0; i < n; i++) variance[i] = Math.max(esd[i] * esd[i], 1e-300);
+    return variance;
+  }
+  let counts = true;
+  for (let i = 0; i < n && counts; i++) counts = intensity[i] >= 0 && Number.isInteger(intensity[i]);
+  if (counts) {
+    for (let i = 0; i < n; i++) variance[i] = Math.max(intensity[i], 1);
+    return variance;
+  }
+  const floor = Math.max(median(Float64Array.from(intensity, Math.abs)) * 0.05, 1e-12);
+  const ratios = new Float64Array(n - 2);
+  for (let i = 1; i < n - 1; i++) {
+    const r = intensity[i] - 0.5 * (intensity[i - 1] + intensity[i + 1]);
+    ratios[i - 1] = (r * r) / (1.5 * Math.max(intensity[i], floor));
+  }
+  let gain = median(ratios) / 0.455;
+  if (!(gain > 0)) gain = ratios.reduce((a, b) => a + b, 0) / Math.max(ratios.length, 1) || 1;
+  for (let i = 0; i < n; i++) variance[i] = gain * Math.max(intensity[i], floor);
+  return variance;
+}
+
+/**
+ * Typical FWHM (degrees) of the strongest peaks, measured directly at half height above the local
+ * minimum; it sets the background window and the search filter before any fit.
+ */
+export function estimatePeakWidth(twoTheta: Float64Array, intensity: Float64Array): number {
+  const n = twoTheta.length;
+  const step = (twoTheta[n - 1] - twoTheta[0]) / (n - 1);
+  const smooth = boxSmooth(intensity, 1);
+  const maxima: number[] = [];
+  for (let i = 2; i < n - 2; i++) {
+    if (smooth[i] > smooth[i - 1] && smooth[i] >= smooth[i + 1]) maxima.push(i);
+  }
+  maxima.sort((a, b) => smooth[b] - smooth[a]);
+  const widths: number[] = [];
+  const reach = Math.max(20, Math.round(3 / step));
+  const taken: number[] = [];
+  for (const i of maxima) {
+    if (widths.length >= 9) break;
+    if (taken.some((j) => Math.abs(j - i) < 10)) continue;
+    taken.push(i);
+    let lo = i;
+    let hi = i;
+    let base = smooth[i];
+    for (let j = Math.max(0, i - reach); j <= Math.min(n - 1, i + reach); j++) base = Math.min(base, smooth[j]);
+    const half = base + 0.5 * (smooth[i] - base);
+    while (lo > 0 && smooth[lo] > half) lo--;
+    while (hi < n - 1 && smooth[hi] > half) hi++;
+    // Only one side of a Kα doublet or a shoulder may be clean; the narrower half-width is the safer one.
+    const left = twoTheta[i] - twoTheta[lo];
+    const right = twoTheta[hi] - twoTheta[i];
+    widths.push(2 * Math.min(left, right));
+  }
+  const w = median(widths);
+  return Number.isFinite(w) && w > 0 ? Math.max(w, 2 * step) : 10 * step;
+}
+
+function boxSmooth(y: Float64Array, half: number): Float64Array {
+  const n = y.length;
+  const out = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    let s = 0;
+    let c = 0;
+    for (let j = Math.max(0, i - half); j <= Math.min(n - 1, i + half); j++) {
+      s += y[j];
+      c++;
+    }
+    out[i] = s / c;
+  }
+  return out;
+}
+
+// ——— Search ———
+
+interface Candidate {
+  index: number;
+  twoTheta: number;
+  strength: number;
+}
+
+/**
+ * Peak candidates: local maxima of the negated second derivative of a Gaussian matched to the peak width,
+ * kept when the filter output exceeds `threshold` of its own standard deviation, propagated from the
+ * intensity variances (the usual second-derivative search, noise-aware through counting statistics).
+ */
+export function searchPeaks(
+  twoTheta: Float64Array,
+  intensity: Float64Array,
+  variance: Float64Array,
+  fwhm: number,
+  threshold: number,
+): Candidate[] {
+  const n = twoTheta.length;
+  const step = (twoTheta[n - 1] - twoTheta[0]) / (n - 1);
+  const sigma = Math.max(fwhm / (2 * Math.sqrt(2 * LN2)) / step, 0.7);
+  const half = Math.max(2, Math.ceil(3 * sigma));
+  const kernel = new Float64Array(2 * half + 1);
+  let mean = 0;
+  for (let j = -half; j <= half; j++) {
+    const t = j / sigma;
+    kernel[j + half] = (1 - t * t) * Math.exp(-0.5 * t * t);
+    mean += kernel[j + half];
+  }
+  mean /= kernel.length;
+  // Zero sum: a constant or linear background gives no response.
+  for (let j = 0; j < kernel.length; j++) kernel[j] -= mean;
+  const response = new Float64Array(n);
+  const score = new Float64Array(n);
+  for (let i = half; i < n - half; i++) {
+    let s = 0;
+    let v = 0;
+    for (let j = -half; j <= half; j++) {
+      const c = kernel[j + half];
+      s += c * intensity[i + j];
+      v += c * c * variance[i + j];
+    }
+    response[i] = s;
+    score[i] = v > 0 ? s / Math.sqrt(v) : 0;
+  }
+  const found: Candidate[] = [];
+  for (let i = half + 1; i < n - half - 1; i++) {
+    if (score[i] > threshold && response[i] > response[i - 1] && response[i] >= response[i + 1]) {
+      // Parabolic interpolation of the filter maximum.
+      const a = response[i - 1];
+      const b = response[i];
+      const c = response[i + 1];
+      const denom = a - 2 * b + c;
+      const offset = denom < 0 ? Math.max(-0.5, Math.min(0.5, (0.5 * (a - c)) / denom)) : 0;
+      found.push({ index: i, twoTheta: twoTheta[i] + offset * step, strength: score[i] });
+    }
+  }
+  return found;
+}
+
+// ——— Fits ———
+
+interface PeakStart {
+  twoTheta: number;
+  height: number;
+  fwhm: number;
+}
+
+interface ClusterFit {
+  peaks: FittedPeak[];
+  start: number;
+  end: number;
+  params: Float64Array;
+}
+
+/** Finds peaks and fits them; overlapping peaks (including Kα2 satellites) are fitted together. */
+export function analysePeaks(twoTheta: Float64Array, intensity: Float64Array, options: PeakSearchOptions): PeakAnalysis {
+  const n = twoTheta.length;
+  const variance = intensityVariance(intensity, options.esd);
+  const typicalFwhm = estimatePeakWidth(twoTheta, intensity);
+  const background = estimateBackground(twoTheta, intensity, { peakFwhm: typicalFwhm });
+  const candidates = searchPeaks(twoTheta, intensity, variance, typicalFwhm, options.threshold ?? 4);
+  const lines = options.lines;
+  const starts = dropSatellites(candidates, lines, typicalFwhm).map((c): PeakStart => {
+    const net = intensity[c.index] - background[c.index];
+    return { twoTheta: c.twoTheta, height: Math.max(net, 0), fwhm: typicalFwhm };
+  });
+  const net = new Float64Array(n);
+  for (let i = 0; i < n; i++) net[i] = intensity[i] - background[i];
+  const fittedProfile = Float64Array.from(background);
+  const peaks: FittedPeak[] = [];
+  let claimed = 0;
+  for (const cluster of groupClusters(starts, lines, typicalFwhm)) {
+    const fit = fitCluster(twoTheta, net, variance, cluster, lines, typicalFwhm);
+    if (!fit) continue;
+    addProfile(fittedProfile, twoTheta, fit, lines, claimed);
+    claimed = fit.end;
+    peaks.push(...fit.peaks);
+  }
+  peaks.sort((a, b) => a.twoTheta - b.twoTheta);
+  return { peaks, background, fittedProfile, typicalFwhm, variance };
+}
+
+/**
+ * Removes candidates that sit where a stronger candidate's satellite line falls (a resolved Kα2): the
+ * satellite is part of the stronger peak's model, not a reflection of its own.
+ */
+function dropSatellites(candidates: Candidate[], lines: EmissionLine[], fwhm: number): Candidate[] {
+  if (lines.length < 2) return candidates;
+  const byStrength = [...candidates].sort((a, b) => b.strength - a.strength);
+  const dropped = new Set<Candidate>();
+  for (const c of byStrength) {
+    if (dropped.has(c)) continue;
+    for (const line of lines.slice(1)) {
+      const sat = satellitePosition(c.twoTheta, line.wavelength / lines[0].wavelength).x;
+      for (const other of candidates) {
+        if (other === c || dropped.has(other)) continue;
+        if (Math.abs(other.twoTheta - sat) < 0.4 * fwhm && other.strength < c.strength * Math.max(0.9, line.weight * 1.6)) {
+          dropped.add(other);
+        }
+      }
+    }
+  }
+  return candidates.filter((c) => !dropped.has(c));
+}
+
+const MAX_CLUSTER = 6;
+
+function groupClusters(starts: PeakStart[], lines: EmissionLine[], fwhm: number): PeakStart[][] {
+  const sorted = [...starts].sort((a, b) => a.twoTheta - b.twoTheta);
+  const clusters: PeakStart[][] = [];
+  let current: PeakStart[] = [];
+  let reachEnd = -Infinity;
+  for (const p of sorted) {
+    const lo = p.twoTheta - 2.5 * fwhm;
+    if (current.length > 0 && lo > reachEnd) {
+      clusters.push(current);
+      current = [];
+    }
+    current.push(p);
+    reachEnd = Math.max(reachEnd, lastLinePosition(p.twoTheta, lines) + 2.5 * fwhm);
+  }
+  if (current.length > 0) clusters.push(current);
+  return clusters.flatMap(splitLargeCluster);
+}
+
+function splitLargeCluster(cluster: PeakStart[]): PeakStart[][] {
+  if (cluster.length <= MAX_CLUSTER) return [cluster];
+  let cut = 1;
+  let widest = -Infinity;
+  // Cut at the widest gap away from the ends so both halves keep a few peaks.
+  for (let i = 2; i < cluster.length - 1; i++) {
+    const gap = cluster[i].twoTheta - cluster[i - 1].twoTheta;
+    if (gap > widest) [widest, cut] = [gap, i];
+  }
+  return [...splitLargeCluster(cluster.slice(0, cut)), ...splitLargeCluster(cluster.slice(cut))];
+}
+
+function lastLinePosition(twoTheta: number, lines: EmissionLine[]): number {
+  let x = twoTheta;
+  for (const line of lines.slice(1)) {
+    const sat = satellitePosition(twoTheta, line.wavelength / lines[0].wavelength).x;
+    if (Number.isFinite(sat)) x = Math.max(x, sat);
+  }
+  return x;
+}
+
+const PER_PEAK = 4;
+
+function fitCluster(
+  twoTheta: Float64Array,
+  net: Float64Array,
+  variance: Float64Array,
+  cluster: PeakStart[],
+  lines: EmissionLine[],
+  fwhm: number,
+): ClusterFit | null {
+  const first = cluster[0].twoTheta;
+  const last = lastLinePosition(cluster[cluster.length - 1].twoTheta, lines);
+  const start = lowerBound(twoTheta, first - 3 * fwhm);
+  const end = Math.min(twoTheta.length, lowerBound(twoTheta, last + 3 * fwhm));
+  const m = end - start;
+  const k = cluster.length;
+  const nParams = PER_PEAK * k + 2;
+  if (m < nParams + 3) return null;
+  const centre = 0.5 * (twoTheta[start] + twoTheta[end - 1]);
+  const weights = new Float64Array(m);
+  for (let i = 0; i < m; i++) weights[i] = 1 / Math.sqrt(Math.max(variance[start + i], 1e-300));
+  const p0 = new Float64Array(nParams);
+  const lower = new Float64Array(nParams);
+  const upper = new Float64Array(nParams);
+  cluster.forEach((p, j) => {
+    const o = PER_PEAK * j;
+    p0.set([p.twoTheta, p.height, p.fwhm, 0.5], o);
+    lower.set([p.twoTheta - 0.75 * fwhm, 0, 0.25 * fwhm, 0], o);
+    upper.set([p.twoTheta + 0.75 * fwhm, Infinity, 6 * fwhm, 1], o);
+  });
+  lower[nParams - 2] = -Infinity;
+  upper[nParams - 2] = Infinity;
+  lower[nParams - 1] = -Infinity;
+  upper[nParams - 1] = Infinity;
+  const ratios = lines.slice(1).map((l) => ({ ratio: l.wavelength / lines[0].wavelength, weight: l.weight / lines[0].weight }));
+  const d = new Float64Array(4);
+  const problem: NonlinearProblem = {
+    nParams,
+    nPoints: m,
+    evaluate(p, residuals, jacobian) {
+      const sats = cluster.map((_, j) => ratios.map((r) => satellitePosition(p[PER_PEAK * j], r.ratio)));
+      if (jacobian) jacobian.fill(0);
+      for (let i = 0; i < m; i++) {
+        const x = twoTheta[start + i];
+        const w = weights[i];
+        let f = p[nParams - 2] + p[nParams - 1] * (x - centre);
+        const row = i * nParams;
+        for (let j = 0; j < k; j++) {
+          const o = PER_PEAK * j;
+          const h = p[o + 1];
+          const H = p[o + 2];
+          const eta = p[o + 3];
+          f += pseudoVoigt(x, p[o], h, H, eta, jacobian ? d : null);
+          if (jacobian) for (let q = 0; q < 4; q++) jacobian[row + o + q] += d[q] * w;
+          for (let s = 0; s < ratios.length; s++) {
+            const sat = sats[j][s];
+            if (!Number.isFinite(sat.x)) continue;
+            const wr = ratios[s].weight;
+            f += pseudoVoigt(x, sat.x, wr * h, H, eta, jacobian ? d : null);
+            if (jacobian) {
+              jacobian[row + o] += d[0] * sat.slope * w;
+              jacobian[row + o + 1] += d[1] * wr * w;
+              jacobian[row + o + 2] += d[2] * w;
+              jacobian[row + o + 3] += d[3] * w;
+            }
+          }
+        }
+        if (jacobian) {
+          jacobian[row + nParams - 2] = w;
+          jacobian[row + nParams - 1] = (x - centre) * w;
+        }
+        residuals[i] = (net[start + i] - f) * w;
+      }
+    },
+  };
+  const result = levenbergMarquardt(problem, p0, { lower, upper, maxIterations: 60, relativeTolerance: 1e-6 });
+  const scale = result.dof > 0 ? Math.max(result.chi2 / result.dof, 1e-12) : 1;
+  const cov = result.covariance;
+  const peaks: FittedPeak[] = [];
+  for (let j = 0; j < k; j++) {
+    const o = PER_PEAK * j;
+    const [x0, h, H, eta] = [result.params[o], result.params[o + 1], result.params[o + 2], result.params[o + 3]];
+    const positionEsd = cov ? Math.sqrt(Math.max(cov.data[o * nParams + o], 0) * scale) : NaN;
+    const heightEsd = cov ? Math.sqrt(Math.max(cov.data[(o + 1) * nParams + o + 1], 0) * scale) : NaN;
+    // A peak whose height is not three standard uncertainties above zero is noise (common practice).
+    if (!(h > 3 * heightEsd) || !Number.isFinite(positionEsd)) continue;
+    // A position pinned on its bound means the fit slid onto a neighbour: not a measured peak.
+    if (x0 <= lower[o] + 1e-9 || x0 >= upper[o] - 1e-9) continue;
+    peaks.push({
+      twoTheta: x0,
+      twoThetaEsd: positionEsd,
+      height: h,
+      heightEsd,
+      area: pseudoVoigtArea(h, H, eta),
+      fwhm: H,
+      eta,
+      d: lines[0].wavelength / (2 * Math.sin((x0 * RAD) / 2)),
+    });
+  }
+  return { peaks, start, end, params: result.params };
+}
+
+/** Adds a cluster's peaks to the plotted profile; its local background only where no earlier window added one. */
+function addProfile(profile: Float64Array, twoTheta: Float64Array, fit: ClusterFit, lines: EmissionLine[], claimed: number): void {
+  const p = fit.params;
+  const nParams = p.length;
+  const k = (nParams - 2) / PER_PEAK;
+  const centre = 0.5 * (twoTheta[fit.start] + twoTheta[fit.end - 1]);
+  for (let i = fit.start; i < fit.end; i++) {
+    const x = twoTheta[i];
+    let f = i >= claimed ? p[nParams - 2] + p[nParams - 1] * (x - centre) : 0;
+    for (let j = 0; j < k; j++) {
+      const o = PER_PEAK * j;
+      f += pseudoVoigt(x, p[o], p[o + 1], p[o + 2], p[o + 3], null);
+      for (const line of lines.slice(1)) {
+        const sat = satellitePosition(p[o], line.wavelength / lines[0].wavelength).x;
+        if (Number.isFinite(sat)) f += pseudoVoigt(x, sat, (line.weight / lines[0].weight) * p[o + 1], p[o + 2], p[o + 3], null);
+      }
+    }
+    profile[i] += f;
+  }
+}

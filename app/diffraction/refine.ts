@@ -1,0 +1,485 @@
+// Indexing of observed peaks against a declared cell and least-squares refinement of that cell with a
+// zero shift or a specimen displacement.
+//
+// Model, 2θ in degrees: 2θ_obs = 2θ(Q(p)) + Z  (zero shift), or 2θ_obs = 2θ(Q(p)) − (360/π)·s·cos θ / R
+// (specimen displacement s on a goniometer of radius R; REFERENCE.md, common practice). Q = 1/d² is linear
+// in the system's free reciprocal-metric parameters p, so each Gauss–Newton step is a small weighted
+// linear fit; the weights are the peak-position uncertainties from the profile fits.
+
+import {
+  type Cell,
+  type Centering,
+  type CrystalSystem,
+  cellFromMetricParams,
+  freeParameters,
+  metricParamsFromCell,
+  qDesignRow,
+} from "./cell";
+import { invertSymmetric, matVec, squareMatrix, type SquareMatrix } from "./least-squares";
+import type { IndexedLine } from "./merit";
+import { allowedReflections, type Reflection } from "./reflections";
+import { lowerBound, median, nearestIndex } from "./sorted";
+
+const RAD = Math.PI / 180;
+const DEG = 180 / Math.PI;
+
+export type CorrectionKind = "zero_shift" | "displacement";
+
+/** An observed peak as refinement needs it. */
+export interface ObservedPeak {
+  twoTheta: number;
+  twoThetaEsd: number;
+  fwhm: number;
+  intensity: number;
+}
+
+export interface RefineOptions {
+  wavelength: number;
+  system: CrystalSystem;
+  centering: Centering;
+  start: Cell;
+  correction?: CorrectionKind;
+  /** Goniometer radius for the displacement model, mm; 240 mm is a usual lab radius (common practice). */
+  goniometerRadiusMm?: number;
+  /** Largest 2θ of the scan, degrees: reflections beyond it are not listed. */
+  twoThetaMax: number;
+  /** Relative change of the cell lengths searched for the first assignment (default ±2 %). */
+  searchRange?: number;
+}
+
+export interface Assignment {
+  peak: number;
+  reflection: Reflection;
+  /** Calculated 2θ in the observed frame (with the zero or displacement correction), degrees. */
+  twoThetaCalc: number;
+  /** Used in the least squares (false when another reflection lies too close to tell them apart). */
+  used: boolean;
+}
+
+export interface Refinement {
+  cell: Cell;
+  esd: Cell | null;
+  /** Degrees 2θ (zero-shift model), else 0. */
+  zeroShift: number;
+  zeroShiftEsd: number | null;
+  /** mm (displacement model), else 0. */
+  displacement: number;
+  displacementEsd: number | null;
+  assignments: Assignment[];
+  /** Indices of observed peaks no reflection claimed. */
+  unindexed: number[];
+  /** Reflections of the refined cell up to the scan's end. */
+  reflections: Reflection[];
+  reducedChi2: number;
+  /** Peaks used in the least squares, and the degrees of freedom. */
+  used: number;
+  dof: number;
+  converged: boolean;
+  /** Free metric parameters and their scaled covariance (for reporting and tests). */
+  metricParams: number[];
+  iterations: number;
+  /** Goniometer radius the displacement refers to, mm. */
+  radiusMm: number;
+}
+
+interface State {
+  p: number[];
+  shift: number;
+}
+
+/** Calculated 2θ (degrees, observed frame) of a Q for the current state; NaN beyond the Bragg limit. */
+function predict(q: number, shift: number, options: RefineOptions, radius: number): number {
+  const s = (options.wavelength * Math.sqrt(q)) / 2;
+  if (!(s < 1)) return NaN;
+  const twoTheta = 2 * Math.asin(s) * DEG;
+  return twoTheta + correction(twoTheta, shift, options, radius);
+}
+
+function correction(twoTheta: number, shift: number, options: RefineOptions, radius: number): number {
+  if ((options.correction ?? "zero_shift") === "zero_shift") return shift;
+  return (-2 * shift * Math.cos((twoTheta * RAD) / 2) * DEG) / radius;
+}
+
+function qOf(system: CrystalSystem, p: number[], r: Reflection): number {
+  const row = qDesignRow(system, r);
+  let q = 0;
+  for (let i = 0; i < row.length; i++) q += row[i] * p[i];
+  return q;
+}
+
+function listReflections(system: CrystalSystem, centering: Centering, p: number[], options: RefineOptions): Reflection[] {
+  const { cell } = cellFromMetricParams(system, p);
+  const thetaMax = Math.min(options.twoThetaMax + 2, 179) / 2;
+  const dMin = options.wavelength / (2 * Math.sin(thetaMax * RAD));
+  return allowedReflections(cell, system, centering, { dMin });
+}
+
+/**
+ * Indexes and refines; see the module comment for the model. The indexing window of each reflection is
+ * the peak's own resolution plus three standard uncertainties of the reflection's predicted position,
+ * propagated from the covariance of the cell (at first a prior of ±0.5 % on the lengths around the
+ * coarse search's cell, then the refinement's own), so it narrows as the cell converges. While a
+ * window holds reflections of more than one Q-expression the peak waits for a later pass.
+ */
+export function refineCell(peaks: readonly ObservedPeak[], options: RefineOptions): Refinement {
+  const { system, centering } = options;
+  const radius = options.goniometerRadiusMm ?? 240;
+  const nFree = freeParameters(system).length;
+  const startP = metricParamsFromCell(system, options.start);
+  const search = options.searchRange ?? 0.02;
+  let state = coarseSearch(peaks, startP, options, radius, search);
+  let covariance = priorCovariance(system, state.p, options);
+  let assignments: Assignment[] = [];
+  let fit: LinearStep | null = null;
+  let converged = false;
+  let iterations = 0;
+  let previous = "";
+  for (let pass = 0; pass < 12; pass++) {
+    const s = fit ? Math.sqrt(Math.max(fit.reducedChi2, 1)) : 1;
+    const next = assign(peaks, listReflections(system, centering, state.p, options), state, covariance, options, radius, s);
+    const key = next.map((a) => `${a.peak}:${a.reflection.h},${a.reflection.k},${a.reflection.l},${a.used}`).join(";");
+    if (key === previous && fit) {
+      converged = true;
+      break;
+    }
+    previous = key;
+    const result = iterateLeastSquares(peaks, next, state, options, radius, nFree);
+    iterations += result.iterations;
+    if (!result.fit) break;
+    assignments = next;
+    fit = result.fit;
+    state = result.state;
+    covariance = scaledCovariance(fit) ?? fit.covariance;
+  }
+  for (const a of assignments) a.twoThetaCalc = predict(qOf(system, state.p, a.reflection), state.shift, options, radius);
+  const claimed = new Set(assignments.map((a) => a.peak));
+  const unindexed = peaks.map((_, i) => i).filter((i) => !claimed.has(i));
+  const finalCovariance = fit ? scaledCovariance(fit) : null;
+  const cellCov = finalCovariance ? leadingBlock(finalCovariance, nFree) : undefined;
+  const { cell, esd } = cellFromMetricParams(system, state.p, cellCov);
+  const shiftEsd = finalCovariance ? Math.sqrt(Math.max(finalCovariance.data[nFree * (nFree + 1) + nFree], 0)) : null;
+  const zeroModel = (options.correction ?? "zero_shift") === "zero_shift";
+  return {
+    cell,
+    esd,
+    zeroShift: zeroModel ? state.shift : 0,
+    zeroShiftEsd: zeroModel ? shiftEsd : null,
+    displacement: zeroModel ? 0 : state.shift,
+    displacementEsd: zeroModel ? null : shiftEsd,
+    assignments,
+    unindexed,
+    reflections: listReflections(system, centering, state.p, options),
+    reducedChi2: fit ? fit.reducedChi2 : NaN,
+    used: fit ? fit.used : 0,
+    dof: fit ? fit.dof : 0,
+    converged: converged && fit !== null,
+    metricParams: state.p,
+    iterations,
+    radiusMm: radius,
+  };
+}
+
+// Prior uncertainty of the cell before any fit: ±0.5 % on the lengths (±1 % on Q), the cross terms of
+// Q scaled alike from the diagonal ones they couple, and ±0.05° 2θ of zero (or its displacement equivalent).
+const PRIOR_LENGTH = 0.005;
+const PRIOR_ZERO = 0.05;
+
+function priorCovariance(system: CrystalSystem, p: number[], options: RefineOptions): SquareMatrix {
+  const names = freeParameters(system);
+  const n = names.length + 1;
+  const cov = squareMatrix(n);
+  const diagonal: Record<string, number> = {};
+  names.forEach((name, j) => {
+    if (name === "A" || name === "B" || name === "C") diagonal[name] = Math.abs(p[j]);
+  });
+  diagonal.B ??= diagonal.A;
+  diagonal.C ??= diagonal.A;
+  const couples: Record<string, [string, string]> = { D: ["B", "C"], E: ["A", "C"], F: ["A", "B"] };
+  names.forEach((name, j) => {
+    const scale = couples[name] ? Math.sqrt(diagonal[couples[name][0]] * diagonal[couples[name][1]]) : Math.abs(p[j]);
+    cov.data[j * n + j] = (2 * PRIOR_LENGTH * scale) ** 2;
+  });
+  const zeroModel = (options.correction ?? "zero_shift") === "zero_shift";
+  const shiftSigma = zeroModel ? PRIOR_ZERO : (PRIOR_ZERO * (options.goniometerRadiusMm ?? 240) * RAD) / 2;
+  cov.data[n * n - 1] = shiftSigma ** 2;
+  return cov;
+}
+
+// A floor of 0.5 % of the FWHM on each position's uncertainty keeps one very strong peak from carrying
+// the whole fit on a statistical esd far below what the profile model can deliver (common practice).
+function positionSigma(peak: ObservedPeak): number {
+  const esd = Number.isFinite(peak.twoThetaEsd) ? peak.twoThetaEsd : 0.1 * peak.fwhm;
+  return Math.sqrt(esd * esd + (0.005 * peak.fwhm) ** 2);
+}
+
+/**
+ * The uniform change of the cell lengths (within ±range) and the zero offset (±0.2°) that bring most of
+ * the strongest peaks within half a FWHM of a reflection: the start of the indexing, so that a declared
+ * cell a little off (thermal expansion, a solid solution) still indexes.
+ */
+function coarseSearch(peaks: readonly ObservedPeak[], startP: number[], options: RefineOptions, radius: number, range: number): State {
+  const { system, centering, wavelength } = options;
+  const wide = listReflections(
+    system,
+    centering,
+    startP.map((x) => x / (1 + range) ** 2),
+    options,
+  );
+  const qCalc = Float64Array.from(wide.map((r) => qOf(system, startP, r))).sort();
+  const strong = [...peaks.keys()].sort((a, b) => peaks[b].intensity - peaks[a].intensity).slice(0, 20);
+  const zeroOnly = (options.correction ?? "zero_shift") === "zero_shift";
+  const fallback: State = { p: startP, shift: 0 };
+  if (strong.length === 0 || qCalc.length === 0) return fallback;
+  const fwhm = median(strong.map((i) => peaks[i].fwhm));
+  const thetas = strong.map((i) => (peaks[i].twoTheta * RAD) / 2).sort((a, b) => a - b);
+  const thetaHigh = thetas[Math.floor(0.75 * (thetas.length - 1))];
+  const scaleStep = Math.max((0.25 * fwhm * RAD) / (2 * Math.tan(thetaHigh)), 1e-5);
+  const zeroStep = Math.max(0.25 * fwhm, 0.002);
+  const zeroRange = 0.2;
+  let best = { score: -Infinity, scale: 0, zero: 0 };
+  for (let zero = -zeroRange; zero <= zeroRange + 1e-12; zero += zeroStep) {
+    const qObs = strong.map((i) => {
+      const s = Math.sin(((peaks[i].twoTheta - zero) * RAD) / 2);
+      return (4 * s * s) / (wavelength * wavelength);
+    });
+    for (let scale = -range; scale <= range + 1e-12; scale += scaleStep) {
+      const f = (1 + scale) ** 2;
+      let score = 0;
+      for (let j = 0; j < strong.length; j++) {
+        const peak = peaks[strong[j]];
+        const q = qObs[j] * f;
+        const theta = ((peak.twoTheta - zero) * RAD) / 2;
+        // |Δ2θ| from |ΔQ|: dQ = Q cot θ d(2θ) (2θ in radians).
+        const tolerance = q * (Math.cos(theta) / Math.sin(theta)) * 0.5 * peak.fwhm * RAD;
+        const nearest = qCalc[nearestIndex(qCalc, q)];
+        const miss = Math.abs(nearest - q) / tolerance;
+        if (miss < 1) score += 1 - miss * miss;
+      }
+      // Prefer the declared cell and no offset when scores tie.
+      score -= 0.01 * (Math.abs(scale) / range + Math.abs(zero) / zeroRange);
+      if (score > best.score) best = { score, scale, zero };
+    }
+  }
+  const p = startP.map((x) => x / (1 + best.scale) ** 2);
+  if (zeroOnly) return { p, shift: best.zero };
+  // Displacement start equal to the zero offset at the strong peaks' median angle.
+  const thetaMid = thetas[Math.floor(0.5 * (thetas.length - 1))];
+  return { p, shift: (-best.zero * radius * RAD) / (2 * Math.cos(thetaMid)) };
+}
+
+/**
+ * Each peak takes the nearest reflection within its window (see refineCell); a reflection goes to one
+ * peak only, the closer. A peak whose window holds reflections of different Q-expressions waits while
+ * their predicted positions are still uncertain; once they are known to a small fraction of the FWHM it
+ * is indexed to the nearest but kept out of the least squares, as is any peak with another unclaimed
+ * reflection within half a FWHM: its fitted position is a blend.
+ */
+function assign(
+  peaks: readonly ObservedPeak[],
+  reflections: Reflection[],
+  state: State,
+  covariance: SquareMatrix,
+  options: RefineOptions,
+  radius: number,
+  chiScale: number,
+): Assignment[] {
+  const n = covariance.n;
+  const calc = reflections
+    .map((r) => {
+      const q = qOf(options.system, state.p, r);
+      const x = predict(q, state.shift, options, radius);
+      const g = Number.isFinite(x) ? positionGradient(options, r, q, radius) : null;
+      let variance = 0;
+      if (g) for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) variance += g[i] * covariance.data[i * n + j] * g[j];
+      return { r, x, sigma: Math.sqrt(Math.max(variance, 0)), row: qDesignRow(options.system, r).join(",") };
+    })
+    .filter((c) => Number.isFinite(c.x))
+    .sort((a, b) => a.x - b.x);
+  const xs = Float64Array.from(calc.map((c) => c.x));
+  let widest = 0;
+  for (const c of calc) widest = Math.max(widest, c.sigma);
+  const best = new Map<number, { peak: number; miss: number; blend: boolean }>();
+  peaks.forEach((peak, i) => {
+    const base = Math.min(0.5 * peak.fwhm, Math.max(0.25 * peak.fwhm, 4 * chiScale * positionSigma(peak)));
+    const reach = base + 3 * widest;
+    let j = lowerBound(xs, peak.twoTheta - reach);
+    const inside: number[] = [];
+    for (; j < xs.length && xs[j] <= peak.twoTheta + reach; j++) {
+      if (Math.abs(xs[j] - peak.twoTheta) <= base + 3 * calc[j].sigma) inside.push(j);
+    }
+    if (inside.length === 0) return;
+    const rows = new Set(inside.map((k) => calc[k].row));
+    const uncertain = inside.some((k) => calc[k].sigma > 0.15 * peak.fwhm);
+    if (rows.size > 1 && uncertain) return;
+    let nearest = inside[0];
+    for (const k of inside) if (Math.abs(xs[k] - peak.twoTheta) < Math.abs(xs[nearest] - peak.twoTheta)) nearest = k;
+    const miss = Math.abs(xs[nearest] - peak.twoTheta);
+    const holder = best.get(nearest);
+    if (!holder || miss < holder.miss) best.set(nearest, { peak: i, miss, blend: rows.size > 1 });
+  });
+  const claimedReflections = new Set(best.keys());
+  const out: Assignment[] = [];
+  for (const [j, { peak, blend }] of best) {
+    const fwhm = peaks[peak].fwhm;
+    let crowded = blend;
+    for (let k = j - 1; k >= 0 && calc[j].x - calc[k].x < 0.5 * fwhm; k--) {
+      if (!claimedReflections.has(k) && calc[k].row !== calc[j].row) crowded = true;
+    }
+    for (let k = j + 1; k < calc.length && calc[k].x - calc[j].x < 0.5 * fwhm; k++) {
+      if (!claimedReflections.has(k) && calc[k].row !== calc[j].row) crowded = true;
+    }
+    out.push({ peak, reflection: calc[j].r, twoThetaCalc: calc[j].x, used: !crowded });
+  }
+  return out.sort((a, b) => a.peak - b.peak);
+}
+
+/** ∂(2θ_calc)/∂(p, shift) of a reflection, degrees per unit of each parameter. */
+function positionGradient(options: RefineOptions, r: Reflection, q: number, radius: number): number[] {
+  const theta = Math.asin((options.wavelength * Math.sqrt(q)) / 2);
+  const slope = (options.wavelength / (2 * Math.sqrt(q) * Math.cos(theta))) * DEG;
+  const zeroModel = (options.correction ?? "zero_shift") === "zero_shift";
+  return [...qDesignRow(options.system, r).map((x) => x * slope), zeroModel ? 1 : (-2 * Math.cos(theta) * DEG) / radius];
+}
+
+interface LinearStep {
+  covariance: SquareMatrix;
+  chi2: number;
+  dof: number;
+  reducedChi2: number;
+  used: number;
+}
+
+/**
+ * Gauss–Newton on the used assignments, then removal from the fit (not from the indexing) of positions
+ * more than five robust standard deviations off, repeated until none is removed.
+ */
+function iterateLeastSquares(
+  peaks: readonly ObservedPeak[],
+  assignments: Assignment[],
+  start: State,
+  options: RefineOptions,
+  radius: number,
+  nFree: number,
+): { fit: LinearStep | null; state: State; iterations: number } {
+  let state = start;
+  let iterations = 0;
+  for (let round = 0; round < 4; round++) {
+    const used = assignments.filter((a) => a.used);
+    if (used.length < nFree + 2) return { fit: null, state, iterations };
+    let fit: LinearStep | null = null;
+    for (let it = 0; it < 20; it++) {
+      iterations++;
+      const step = gaussNewtonStep(peaks, used, state, options, radius);
+      if (!step) return { fit: null, state, iterations };
+      state = step.state;
+      fit = step.fit;
+      if (step.small) break;
+    }
+    if (!fit) return { fit: null, state, iterations };
+    const normalised = used.map((a) => {
+      const calc = predict(qOf(options.system, state.p, a.reflection), state.shift, options, radius);
+      return (peaks[a.peak].twoTheta - calc) / positionSigma(peaks[a.peak]);
+    });
+    const spread = 1.4826 * median(normalised.map((r) => Math.abs(r - median(normalised))));
+    const limit = 5 * Math.max(spread, 1);
+    let removed = 0;
+    used.forEach((a, i) => {
+      if (Math.abs(normalised[i]) > limit && used.length - removed > nFree + 2) {
+        a.used = false;
+        removed++;
+      }
+    });
+    if (removed === 0) return { fit, state, iterations };
+  }
+  return { fit: null, state, iterations };
+}
+
+function gaussNewtonStep(
+  peaks: readonly ObservedPeak[],
+  used: Assignment[],
+  state: State,
+  options: RefineOptions,
+  radius: number,
+): { state: State; fit: LinearStep; small: boolean } | null {
+  const { system, wavelength } = options;
+  const rows: number[][] = [];
+  const residuals: number[] = [];
+  const weights: number[] = [];
+  for (const a of used) {
+    const q = qOf(system, state.p, a.reflection);
+    const sinTheta = (wavelength * Math.sqrt(q)) / 2;
+    if (!(sinTheta < 1) || !(q > 0)) return null;
+    rows.push(positionGradient(options, a.reflection, q, radius));
+    residuals.push(peaks[a.peak].twoTheta - 2 * Math.asin(sinTheta) * DEG);
+    weights.push(1 / positionSigma(peaks[a.peak]) ** 2);
+  }
+  const n = rows[0].length;
+  const normal = squareMatrix(n);
+  const rhs = new Float64Array(n);
+  rows.forEach((row, i) => {
+    for (let j = 0; j < n; j++) {
+      rhs[j] += weights[i] * row[j] * residuals[i];
+      for (let k = 0; k < n; k++) normal.data[j * n + k] += weights[i] * row[j] * row[k];
+    }
+  });
+  const covariance = invertSymmetric(normal);
+  if (!covariance) return null;
+  // Unknowns: the step of the metric parameters and the correction itself (it enters linearly).
+  const delta = matVec(covariance, rhs);
+  const p = state.p.map((x, j) => x + delta[j]);
+  const shift = delta[n - 1];
+  let chi2 = 0;
+  rows.forEach((row, i) => {
+    let f = 0;
+    for (let j = 0; j < n; j++) f += row[j] * delta[j];
+    chi2 += weights[i] * (residuals[i] - f) ** 2;
+  });
+  const dof = used.length - n;
+  const small = delta.slice(0, n - 1).every((d, j) => Math.abs(d) <= 1e-10 * Math.abs(p[j])) && Math.abs(shift - state.shift) < 1e-7;
+  return {
+    state: { p, shift },
+    fit: { covariance, chi2, dof, reducedChi2: dof > 0 ? chi2 / dof : NaN, used: used.length },
+    small,
+  };
+}
+
+function scaledCovariance(fit: LinearStep): SquareMatrix | null {
+  if (!(fit.dof > 0)) return null;
+  const out = squareMatrix(fit.covariance.n);
+  for (let i = 0; i < out.data.length; i++) out.data[i] = fit.covariance.data[i] * fit.reducedChi2;
+  return out;
+}
+
+function leadingBlock(m: SquareMatrix, size: number): number[][] {
+  return Array.from({ length: size }, (_, i) => Array.from({ length: size }, (_, j) => m.data[i * m.n + j]));
+}
+
+/**
+ * The indexed lines and calculated line lists of a refinement, as the figures of merit take them:
+ * observed Q after removing the refined zero shift or displacement, calculated 2θ in the observed frame.
+ */
+export function figuresOfMeritLines(
+  peaks: readonly ObservedPeak[],
+  refinement: Refinement,
+  wavelength: number,
+): { lines: IndexedLine[]; calculatedQ: number[]; calculatedTwoTheta: number[] } {
+  const offset = (twoThetaBragg: number) =>
+    refinement.displacement !== 0
+      ? (-2 * refinement.displacement * Math.cos((twoThetaBragg * RAD) / 2) * DEG) / (refinement.radiusMm ?? 240)
+      : refinement.zeroShift;
+  const bragg = (d: number) => 2 * Math.asin(Math.min(wavelength / (2 * d), 1)) * DEG;
+  const lines = refinement.assignments.map((a): IndexedLine => {
+    const d = a.reflection.d;
+    const corrected = peaks[a.peak].twoTheta - offset(bragg(d));
+    const s = Math.sin((corrected * RAD) / 2);
+    return {
+      qObs: (4 * s * s) / (wavelength * wavelength),
+      qCalc: 1 / (d * d),
+      twoThetaObs: peaks[a.peak].twoTheta,
+      twoThetaCalc: a.twoThetaCalc,
+    };
+  });
+  const calculatedQ = refinement.reflections.map((r) => 1 / (r.d * r.d));
+  const calculatedTwoTheta = refinement.reflections.filter((r) => wavelength / (2 * r.d) < 1).map((r) => bragg(r.d) + offset(bragg(r.d)));
+  return { lines, calculatedQ, calculatedTwoTheta };
+}

@@ -1,0 +1,150 @@
+// The verdict of a lattice check — consistent, review or inconsistent — by a fixed, documented rule.
+//
+// The rule (also in docs/decisions/lattice-check-verdict.md). "Strong peaks" are the ten observed peaks
+// of largest integrated intensity (all of them when there are fewer).
+//
+// inconsistent, when any of:
+//   1. the refinement could not be made (fewer indexed peaks than free parameters + 2);
+//   2. fewer than half of the strong peaks are indexed;
+//   3. a cell length differs from the declared one by more than 2 %, or an angle by more than 2°.
+// consistent, when all of:
+//   4. at least 80 % of the strong peaks are indexed;
+//   5. M20 > 10 with at most two unindexed lines among the twenty strongest (International Tables
+//      Vol. H §3.4.2.1: the usual threshold for trusting an indexing);
+//   6. no unindexed peak is stronger than 10 % of the strongest peak (a possible impurity phase);
+//   7. every cell length is within 0.5 % of the declared one and every angle within 0.5°;
+//   8. every refined length has a relative standard uncertainty below 10⁻³ (the refinement is precise
+//      enough to judge 7; lab instruments reproduce cells to about ±0.001 Å, REFERENCE.md).
+// review otherwise. Each reason is one plain sentence. Thresholds 2, 4, 6, 7 and 8 are Diffractory's own
+// choices (common practice for routine phase checks), not published values.
+
+import type { Cell } from "./cell";
+
+export type Verdict = "consistent" | "review" | "inconsistent";
+
+export interface VerdictInput {
+  refined: boolean;
+  /** Observed peaks sorted by descending intensity, each marked indexed or not, with its relative height. */
+  strongest: { indexed: boolean; relativeIntensity: number; twoTheta: number }[];
+  /** All unindexed peaks with intensity relative to the strongest peak (0…1). */
+  unindexed: { twoTheta: number; relativeIntensity: number }[];
+  m20: number | null;
+  declared: Cell | null;
+  refinedCell: Cell | null;
+  esd: Cell | null;
+}
+
+export interface VerdictResult {
+  verdict: Verdict;
+  reasons: string[];
+}
+
+export const VERDICT_RULE = {
+  strongPeaks: 10,
+  inconsistentIndexedShare: 0.5,
+  consistentIndexedShare: 0.8,
+  m20Trusted: 10,
+  maxUnindexedAmongTwenty: 2,
+  impurityRelativeIntensity: 0.1,
+  consistentLengthDeviation: 0.005,
+  consistentAngleDeviation: 0.5,
+  inconsistentLengthDeviation: 0.02,
+  inconsistentAngleDeviation: 2,
+  maxRelativeEsd: 1e-3,
+} as const;
+
+const LENGTHS = ["a", "b", "c"] as const;
+const ANGLES = ["alpha", "beta", "gamma"] as const;
+
+const pct = (x: number) => `${(100 * x).toFixed(2)} %`;
+
+export function decideVerdict(input: VerdictInput): VerdictResult {
+  const rule = VERDICT_RULE;
+  const fatal: string[] = [];
+  const doubts: string[] = [];
+  const notes: string[] = [];
+  const strong = input.strongest.slice(0, rule.strongPeaks);
+  const indexedStrong = strong.filter((p) => p.indexed).length;
+  const share = strong.length > 0 ? indexedStrong / strong.length : 0;
+
+  if (!input.refined) {
+    fatal.push("Too few peaks match reflections of the declared cell to refine it.");
+  }
+  if (strong.length === 0) {
+    fatal.push("No peaks were found in the scan.");
+  } else if (share < rule.inconsistentIndexedShare) {
+    fatal.push(`Only ${indexedStrong} of the ${strong.length} strongest peaks match reflections of the declared cell.`);
+  } else if (share < rule.consistentIndexedShare) {
+    doubts.push(`${strong.length - indexedStrong} of the ${strong.length} strongest peaks match no reflection of the cell.`);
+  } else {
+    notes.push(`${indexedStrong} of the ${strong.length} strongest peaks are indexed.`);
+  }
+
+  if (input.refined && input.declared && input.refinedCell) {
+    let worstLength = { key: "a", rel: 0 };
+    for (const key of LENGTHS) {
+      const rel = Math.abs(input.refinedCell[key] - input.declared[key]) / input.declared[key];
+      if (rel > worstLength.rel) worstLength = { key, rel };
+    }
+    let worstAngle = { key: "alpha", diff: 0 };
+    for (const key of ANGLES) {
+      const diff = Math.abs(input.refinedCell[key] - input.declared[key]);
+      if (diff > worstAngle.diff) worstAngle = { key, diff };
+    }
+    const lengthText = `The refined ${worstLength.key} differs from the declared value by ${pct(worstLength.rel)}`;
+    const angleText = `The refined ${worstAngle.key} differs from the declared value by ${worstAngle.diff.toFixed(2)}°`;
+    if (worstLength.rel > rule.inconsistentLengthDeviation)
+      fatal.push(`${lengthText}, more than ${pct(rule.inconsistentLengthDeviation)}.`);
+    else if (worstLength.rel > rule.consistentLengthDeviation)
+      doubts.push(`${lengthText}, more than ${pct(rule.consistentLengthDeviation)}.`);
+    if (worstAngle.diff > rule.inconsistentAngleDeviation) fatal.push(`${angleText}, more than ${rule.inconsistentAngleDeviation}°.`);
+    else if (worstAngle.diff > rule.consistentAngleDeviation) doubts.push(`${angleText}, more than ${rule.consistentAngleDeviation}°.`);
+    if (worstLength.rel <= rule.consistentLengthDeviation && worstAngle.diff <= rule.consistentAngleDeviation) {
+      notes.push(
+        `The refined cell is within ${pct(rule.consistentLengthDeviation)} of the declared one (largest change: ${worstLength.key}, ${pct(worstLength.rel)}).`,
+      );
+    }
+  } else if (input.refined && !input.declared) {
+    doubts.push("No cell was declared, so the refined cell cannot be compared with the sample's declaration.");
+  }
+
+  if (input.refined) {
+    const twenty = input.strongest.slice(0, 20);
+    const unindexedTwenty = twenty.filter((p) => !p.indexed).length;
+    if (input.m20 === null || !(input.m20 > rule.m20Trusted)) {
+      doubts.push(`M20 is ${input.m20 === null ? "not defined" : input.m20.toFixed(1)}; an indexing is trusted above ${rule.m20Trusted}.`);
+    } else if (unindexedTwenty > rule.maxUnindexedAmongTwenty) {
+      doubts.push(
+        `${unindexedTwenty} of the ${twenty.length} strongest peaks are unindexed; at most ${rule.maxUnindexedAmongTwenty} are allowed for a trusted indexing.`,
+      );
+    } else {
+      notes.push(`M20 is ${input.m20 > 1000 ? "above 1000" : input.m20.toFixed(1)}, above the threshold of ${rule.m20Trusted}.`);
+    }
+    const impurities = input.unindexed.filter((p) => p.relativeIntensity >= rule.impurityRelativeIntensity);
+    if (impurities.length > 0) {
+      const where = impurities
+        .slice(0, 5)
+        .map((p) => `${p.twoTheta.toFixed(2)}°`)
+        .join(", ");
+      doubts.push(
+        `${impurities.length} unindexed peak${impurities.length > 1 ? "s" : ""} stronger than ${pct(rule.impurityRelativeIntensity)} of the strongest (at ${where} 2θ) may belong to another phase.`,
+      );
+    } else if (input.unindexed.length > 0) {
+      notes.push(`${input.unindexed.length} weak peak${input.unindexed.length > 1 ? "s are" : " is"} unindexed.`);
+    }
+    if (input.esd && input.refinedCell) {
+      const worst = Math.max(...LENGTHS.map((k) => input.esd![k] / input.refinedCell![k]));
+      if (!(worst < rule.maxRelativeEsd)) {
+        doubts.push(
+          `The refined cell is imprecise (relative standard uncertainty ${worst.toExponential(1)}, above ${rule.maxRelativeEsd}).`,
+        );
+      }
+    } else {
+      doubts.push("The refinement has no degrees of freedom left for standard uncertainties.");
+    }
+  }
+
+  if (fatal.length > 0) return { verdict: "inconsistent", reasons: [...fatal, ...doubts] };
+  if (doubts.length > 0) return { verdict: "review", reasons: [...doubts, ...notes] };
+  return { verdict: "consistent", reasons: notes };
+}

@@ -1,0 +1,98 @@
+// The whole check on simulated scans: verdicts for the right phase, a wrong phase, an off cell and an impurity.
+import { describe, expect, it } from "vitest";
+import type { Cell } from "~/diffraction/cell";
+import { checkScanText, runLatticeCheck, type LatticeCheckOptions } from "~/diffraction/check";
+import { formatScanAsXy, simulatePattern, type SimulationOptions } from "~/diffraction/simulate";
+import { HALITE, RUTILE, SILICON, ZINCITE, type CrystalStructure } from "~/diffraction/structures";
+import type { Radiation } from "~/diffraction/wavelengths";
+
+const CU: Radiation = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" };
+
+function scanOf(structure: CrystalStructure, extra: Partial<SimulationOptions> = {}) {
+  const sim = simulatePattern({
+    structure,
+    radiation: CU,
+    twoThetaMin: 10,
+    twoThetaMax: 130,
+    step: 0.02,
+    background: { constant: 150, slope: -0.4 },
+    noise: { seed: 11 },
+    ...extra,
+  });
+  return { twoTheta: sim.twoTheta, intensity: sim.intensity, format: "xy" as const, warnings: [] };
+}
+
+const declare = (s: CrystalStructure, cell: Cell = s.cell): LatticeCheckOptions => ({
+  radiation: CU,
+  system: s.system,
+  centering: s.centering,
+  cell,
+});
+
+describe("verdicts", () => {
+  it("a silicon scan checked against silicon is consistent", () => {
+    const result = runLatticeCheck(scanOf(SILICON, { zeroShift: 0.04 }), declare(SILICON));
+    expect(result.verdict).toBe("consistent");
+    expect(result.reasons.length).toBeGreaterThan(0);
+    expect(result.zeroShift).toBeCloseTo(0.04, 2);
+    expect(result.peaks.every((p) => p.hkl !== null)).toBe(true);
+    expect(result.figuresOfMerit.M20).toBeGreaterThan(10);
+    expect(result.fittedProfile.length).toBe(result.background.length);
+    expect(result.reflections.length).toBeGreaterThan(5);
+  });
+
+  it("a rutile scan checked against a declared NaCl cell is inconsistent", () => {
+    const result = runLatticeCheck(scanOf(RUTILE), declare(HALITE));
+    expect(result.verdict).toBe("inconsistent");
+  });
+
+  it("a NaCl scan checked against rutile is inconsistent", () => {
+    const result = runLatticeCheck(scanOf(HALITE), declare(RUTILE));
+    expect(result.verdict).toBe("inconsistent");
+  });
+
+  it("a declared cell 3 % off the sample's is inconsistent", () => {
+    const a = SILICON.cell.a * 1.03;
+    const result = runLatticeCheck(scanOf(SILICON), declare(SILICON, { ...SILICON.cell, a, b: a, c: a }));
+    expect(result.verdict).toBe("inconsistent");
+    const z = ZINCITE.cell;
+    const off = runLatticeCheck(scanOf(ZINCITE), declare(ZINCITE, { ...z, a: z.a * 0.97, b: z.b * 0.97, c: z.c * 0.97 }));
+    expect(off.verdict).toBe("inconsistent");
+  });
+
+  it("a declared cell 0.3 % off is refined onto the sample's cell", () => {
+    const a = SILICON.cell.a * 1.003;
+    const result = runLatticeCheck(scanOf(SILICON), declare(SILICON, { ...SILICON.cell, a, b: a, c: a }));
+    expect(result.verdict).toBe("consistent");
+    expect(Math.abs(result.cell!.a - SILICON.cell.a)).toBeLessThan(2e-4);
+    expect(result.deviation!.relative.a).toBeCloseTo(-0.003, 3);
+  });
+
+  it("an impurity phase mixed in gives review with unindexed peaks", () => {
+    const main = scanOf(ZINCITE);
+    const impurity = scanOf(HALITE, { scale: 2500, background: { constant: 0 }, noise: { seed: 5 } });
+    const mixed = { ...main, intensity: main.intensity.map((v, i) => v + impurity.intensity[i]) };
+    const result = runLatticeCheck(mixed, declare(ZINCITE));
+    expect(result.verdict).toBe("review");
+    expect(result.unindexed.length).toBeGreaterThan(0);
+    expect(result.reasons.join(" ")).toMatch(/another phase/);
+  });
+});
+
+describe("checkScanText", () => {
+  it("parses and checks, or returns one sentence", () => {
+    const sim = simulatePattern({ structure: SILICON, radiation: CU, twoThetaMin: 20, twoThetaMax: 100, step: 0.02, noise: { seed: 3 } });
+    const good = checkScanText(formatScanAsXy(sim), declare(SILICON));
+    expect(good.ok && good.result.verdict).toBe("consistent");
+    const bad = checkScanText("", declare(SILICON));
+    expect(bad).toEqual({ ok: false, error: "The file is empty." });
+    const flat = checkScanText(
+      Array.from({ length: 500 }, (_, i) => `${10 + i * 0.02} ${100 + ((i * 7919) % 13) - 6}`).join("\n"),
+      declare(SILICON),
+    );
+    expect(flat.ok).toBe(false);
+    if (!flat.ok) expect(flat.error).toMatch(/flat line/);
+    const badCell = checkScanText(formatScanAsXy(sim), { ...declare(SILICON), cell: { ...SILICON.cell, b: 6 } });
+    expect(badCell.ok).toBe(false);
+  });
+});
