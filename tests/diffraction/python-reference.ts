@@ -12,7 +12,13 @@ export function runReference<T>(script: string, input: unknown, args: string[] =
   const key = `${script} ${args.join(" ")}\n${stdin}`;
   if (!cache.has(key)) {
     const path = fileURLToPath(new URL(`../reference/${script}`, import.meta.url));
-    const out = execFileSync(PYTHON, [path, ...args], { input: stdin, encoding: "utf8", maxBuffer: 64 * 1024 * 1024 });
+    // stderr is captured (library warnings stay out of the test output); a failure carries it in its message.
+    const out = execFileSync(PYTHON, [path, ...args], {
+      input: stdin,
+      encoding: "utf8",
+      maxBuffer: 64 * 1024 * 1024,
+      stdio: ["pipe", "pipe", "pipe"],
+    });
     cache.set(key, JSON.parse(out));
   }
   return cache.get(key) as T;
