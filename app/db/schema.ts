@@ -1,6 +1,24 @@
 // The one Drizzle schema of Diffractory; drizzle-kit generates the SQL migrations in drizzle/ from it.
 import { sql } from "drizzle-orm";
-import { bigserial, boolean, index, jsonb, pgEnum, pgTable, primaryKey, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  bigserial,
+  boolean,
+  date,
+  doublePrecision,
+  index,
+  integer,
+  jsonb,
+  numeric,
+  pgEnum,
+  pgTable,
+  primaryKey,
+  real,
+  text,
+  timestamp,
+  unique,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 
 export const organisationKind = pgEnum("organisation_kind", ["client", "lab"]);
 /** Client organisations have owners and members; labs have managers and operators (DESIGN.md). */
@@ -99,3 +117,345 @@ export type Organisation = typeof organisations.$inferSelect;
 export type Membership = typeof memberships.$inferSelect;
 export type MembershipRole = (typeof membershipRole.enumValues)[number];
 export type OrganisationKind = (typeof organisationKind.enumValues)[number];
+
+// ───────────────────────── Marketplace: labs, capabilities, requests, samples, quotes, orders ─────────────────────────
+
+export const vettingState = pgEnum("vetting_state", ["applied", "in_review", "approved", "rejected", "suspended"]);
+export const technique = pgEnum("technique", [
+  "powder_reflection",
+  "powder_transmission",
+  "thin_film",
+  "single_crystal",
+  "total_scattering",
+  "neutron_powder",
+]);
+export const anode = pgEnum("anode", ["Cr", "Fe", "Co", "Cu", "Mo", "Ag"]);
+export const monochromation = pgEnum("monochromation", ["k_alpha_doublet", "k_alpha1_only", "k_beta_filtered"]);
+export const detectorKind = pgEnum("detector_kind", ["point", "strip_1d", "area_2d"]);
+export const labDocumentKind = pgEnum("lab_document_kind", ["accreditation_certificate", "radiation_licence", "calibration_scan", "other"]);
+export const requestState = pgEnum("request_state", ["draft", "open", "awarded", "expired", "withdrawn"]);
+export const requestVisibility = pgEnum("request_visibility", ["open", "invited"]);
+export const qualityLevel = pgEnum("quality_level", ["screening", "standard", "high_resolution"]);
+export const quoteState = pgEnum("quote_state", ["sent", "accepted", "declined", "withdrawn", "lapsed"]);
+export const orderState = pgEnum("order_state", [
+  "awaiting_payment",
+  "funds_held",
+  "samples_in_transit",
+  "samples_received",
+  "measuring",
+  "data_delivered",
+  "accepted",
+  "paid_out",
+  "cancelled",
+  "refused_on_arrival",
+  "disputed",
+  "resolved",
+]);
+
+const updatedAt = () => timestamp("updated_at", { withTimezone: true }).notNull().defaultNow();
+
+/** A lab organisation's marketplace profile and vetting record (one per lab organisation). */
+export const labs = pgTable(
+  "labs",
+  {
+    organisationId: uuid("organisation_id")
+      .primaryKey()
+      .references(() => organisations.id, { onDelete: "cascade" }),
+    description: text("description").notNull().default(""),
+    vettingState: vettingState("vetting_state").notNull().default("applied"),
+    accreditationNumber: text("accreditation_number"),
+    accreditationExpiry: date("accreditation_expiry"),
+    licenceAttestation: text("licence_attestation"),
+    licenceAttestedBy: uuid("licence_attested_by").references(() => users.id, { onDelete: "set null" }),
+    licenceAttestedAt: timestamp("licence_attested_at", { withTimezone: true }),
+    calibrationStandard: text("calibration_standard"),
+    calibrationCheck: jsonb("calibration_check").$type<Record<string, unknown>>(),
+    reviewedBy: uuid("reviewed_by").references(() => users.id, { onDelete: "set null" }),
+    reviewedAt: timestamp("reviewed_at", { withTimezone: true }),
+    reviewNote: text("review_note"),
+    payoutAccountId: text("payout_account_id"),
+    payoutsEnabled: boolean("payouts_enabled").notNull().default(false),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("labs_vetting_state_idx").on(t.vettingState)],
+);
+
+/** Files a lab hands in for vetting; the bytes live in S3 under `storageKey`. */
+export const labDocuments = pgTable(
+  "lab_documents",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "cascade" }),
+    kind: labDocumentKind("kind").notNull(),
+    fileName: text("file_name").notNull(),
+    contentType: text("content_type").notNull(),
+    sizeBytes: integer("size_bytes").notNull(),
+    storageKey: text("storage_key").notNull(),
+    sha256: text("sha256"),
+    uploadedBy: uuid("uploaded_by").references(() => users.id, { onDelete: "set null" }),
+    uploadedAt: createdAt(),
+  },
+  (t) => [index("lab_documents_lab_idx").on(t.labId)],
+);
+
+export const instruments = pgTable(
+  "instruments",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "cascade" }),
+    name: text("name").notNull(),
+    technique: technique("technique").notNull(),
+    /** An anode of the reference table, or null with a custom wavelength (synchrotron, neutron). */
+    anode: anode("anode"),
+    customWavelength: doublePrecision("custom_wavelength"),
+    monochromation: monochromation("monochromation").notNull().default("k_alpha_doublet"),
+    twoThetaMin: doublePrecision("two_theta_min").notNull(),
+    twoThetaMax: doublePrecision("two_theta_max").notNull(),
+    smallestStep: doublePrecision("smallest_step").notNull(),
+    detector: detectorKind("detector").notNull(),
+    energyDiscrimination: boolean("energy_discrimination").notNull().default(false),
+    sampleForms: text("sample_forms").array().notNull().default(sql`'{}'::text[]`),
+    active: boolean("active").notNull().default(true),
+    createdAt: createdAt(),
+  },
+  (t) => [index("instruments_lab_idx").on(t.labId), index("instruments_anode_idx").on(t.anode)],
+);
+
+export const sampleStages = pgTable(
+  "sample_stages",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    instrumentId: uuid("instrument_id")
+      .notNull()
+      .references(() => instruments.id, { onDelete: "cascade" }),
+    name: text("name").notNull(),
+    minTemperatureK: real("min_temperature_k").notNull(),
+    maxTemperatureK: real("max_temperature_k").notNull(),
+    atmospheres: text("atmospheres").array().notNull().default(sql`'{}'::text[]`),
+  },
+  (t) => [index("sample_stages_instrument_idx").on(t.instrumentId)],
+);
+
+/** Per-lab prices in integer minor units of `currency`. */
+export const priceLists = pgTable("price_lists", {
+  labId: uuid("lab_id")
+    .primaryKey()
+    .references(() => labs.organisationId, { onDelete: "cascade" }),
+  currency: text("currency").notNull().default("EUR"),
+  perSampleMinor: jsonb("per_sample_minor").$type<Partial<Record<string, number>>>().notNull().default({}),
+  perExtraTemperaturePointMinor: integer("per_extra_temperature_point_minor").notNull().default(0),
+  perInstrumentHourMinor: integer("per_instrument_hour_minor").notNull().default(0),
+  samplePreparationMinor: integer("sample_preparation_minor").notNull().default(0),
+  hazardousHandlingMinor: integer("hazardous_handling_minor").notNull().default(0),
+  rushMultiplier: numeric("rush_multiplier", { precision: 4, scale: 2 }).notNull().default("1.50"),
+  turnaroundDays: integer("turnaround_days").notNull().default(10),
+  updatedAt: updatedAt(),
+});
+
+export const hazardAcceptance = pgTable("hazard_acceptance", {
+  labId: uuid("lab_id")
+    .primaryKey()
+    .references(() => labs.organisationId, { onDelete: "cascade" }),
+  pictograms: text("pictograms").array().notNull().default(sql`'{}'::text[]`),
+  specialCategories: text("special_categories").array().notNull().default(sql`'{}'::text[]`),
+  updatedAt: updatedAt(),
+});
+
+export const requests = pgTable(
+  "requests",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    organisationId: uuid("organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "cascade" }),
+    createdBy: uuid("created_by").references(() => users.id, { onDelete: "set null" }),
+    title: text("title").notNull(),
+    technique: technique("technique").notNull().default("powder_reflection"),
+    state: requestState("state").notNull().default("draft"),
+    /** The wizard step the draft was last saved at (samples, hazards, measurement, labs, review). */
+    draftStep: text("draft_step").notNull().default("samples"),
+    rangeKind: text("range_kind").notNull().default("two_theta"),
+    rangeMin: doublePrecision("range_min"),
+    rangeMax: doublePrecision("range_max"),
+    preferredSource: text("preferred_source").notNull().default("any"),
+    temperaturePointsK: doublePrecision("temperature_points_k").array().notNull().default(sql`'{}'::double precision[]`),
+    atmosphere: text("atmosphere").notNull().default("air"),
+    quality: qualityLevel("quality").notNull().default("standard"),
+    deadline: date("deadline"),
+    budgetMinor: integer("budget_minor"),
+    currency: text("currency").notNull().default("EUR"),
+    visibility: requestVisibility("visibility").notNull().default("open"),
+    openedAt: timestamp("opened_at", { withTimezone: true }),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [index("requests_org_state_idx").on(t.organisationId, t.state), index("requests_state_idx").on(t.state)],
+);
+
+export const requestInvitations = pgTable(
+  "request_invitations",
+  {
+    requestId: uuid("request_id")
+      .notNull()
+      .references(() => requests.id, { onDelete: "cascade" }),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "cascade" }),
+    createdAt: createdAt(),
+  },
+  (t) => [primaryKey({ columns: [t.requestId, t.labId] })],
+);
+
+export interface SpecialHazard {
+  category: string;
+  details: string;
+  activityBq?: number | null;
+}
+
+export const samples = pgTable(
+  "samples",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    requestId: uuid("request_id")
+      .notNull()
+      .references(() => requests.id, { onDelete: "cascade" }),
+    position: integer("position").notNull().default(0),
+    label: text("label").notNull(),
+    formula: text("formula").notNull(),
+    elements: text("elements").array().notNull().default(sql`'{}'::text[]`),
+    form: text("form").notNull().default("powder"),
+    massMg: doublePrecision("mass_mg"),
+    expectedPhase: text("expected_phase"),
+    crystalSystem: text("crystal_system"),
+    centering: text("centering"),
+    cellA: doublePrecision("cell_a"),
+    cellB: doublePrecision("cell_b"),
+    cellC: doublePrecision("cell_c"),
+    cellAlpha: doublePrecision("cell_alpha"),
+    cellBeta: doublePrecision("cell_beta"),
+    cellGamma: doublePrecision("cell_gamma"),
+    ghsPictograms: text("ghs_pictograms").array().notNull().default(sql`'{}'::text[]`),
+    hStatements: text("h_statements").array().notNull().default(sql`'{}'::text[]`),
+    specialHazards: jsonb("special_hazards").$type<SpecialHazard[]>().notNull().default([]),
+    handlingNotes: text("handling_notes"),
+    afterMeasurement: text("after_measurement").notNull().default("return"),
+    sdsFileName: text("sds_file_name"),
+    sdsStorageKey: text("sds_storage_key"),
+    sdsSizeBytes: integer("sds_size_bytes"),
+    createdAt: createdAt(),
+  },
+  (t) => [index("samples_request_idx").on(t.requestId)],
+);
+
+/** A lab member's acknowledgement of a request's hazard declaration; required before quoting. */
+export const hazardAcknowledgements = pgTable(
+  "hazard_acknowledgements",
+  {
+    requestId: uuid("request_id")
+      .notNull()
+      .references(() => requests.id, { onDelete: "cascade" }),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "cascade" }),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    acknowledgedAt: createdAt(),
+  },
+  (t) => [primaryKey({ columns: [t.requestId, t.labId] })],
+);
+
+export interface QuoteLineItem {
+  description: string;
+  quantity: number;
+  unitMinor: number;
+  totalMinor: number;
+}
+
+export const quotes = pgTable(
+  "quotes",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    requestId: uuid("request_id")
+      .notNull()
+      .references(() => requests.id, { onDelete: "cascade" }),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "cascade" }),
+    instrumentId: uuid("instrument_id").references(() => instruments.id, { onDelete: "set null" }),
+    state: quoteState("state").notNull().default("sent"),
+    lineItems: jsonb("line_items").$type<QuoteLineItem[]>().notNull(),
+    totalMinor: integer("total_minor").notNull(),
+    currency: text("currency").notNull(),
+    validUntil: timestamp("valid_until", { withTimezone: true }).notNull(),
+    turnaroundDays: integer("turnaround_days").notNull(),
+    notes: text("notes").notNull().default(""),
+    createdBy: uuid("created_by").references(() => users.id, { onDelete: "set null" }),
+    sentAt: createdAt(),
+    decidedAt: timestamp("decided_at", { withTimezone: true }),
+  },
+  (t) => [index("quotes_request_idx").on(t.requestId), index("quotes_lab_idx").on(t.labId, t.state)],
+);
+
+/** An accepted quote. One order per request and per quote, enforced by unique keys. */
+export const orders = pgTable(
+  "orders",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    requestId: uuid("request_id")
+      .notNull()
+      .references(() => requests.id, { onDelete: "restrict" }),
+    quoteId: uuid("quote_id")
+      .notNull()
+      .references(() => quotes.id, { onDelete: "restrict" }),
+    clientOrganisationId: uuid("client_organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "restrict" }),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "restrict" }),
+    state: orderState("state").notNull().default("awaiting_payment"),
+    amountMinor: integer("amount_minor").notNull(),
+    currency: text("currency").notNull(),
+    reviewWindowDays: integer("review_window_days").notNull().default(7),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [
+    unique("orders_request_unique").on(t.requestId),
+    unique("orders_quote_unique").on(t.quoteId),
+    index("orders_client_idx").on(t.clientOrganisationId, t.state),
+    index("orders_lab_idx").on(t.labId, t.state),
+  ],
+);
+
+/** The order's timeline: one row per state change, with who and why. */
+export const orderEvents = pgTable(
+  "order_events",
+  {
+    id: bigserial("id", { mode: "number" }).primaryKey(),
+    orderId: uuid("order_id")
+      .notNull()
+      .references(() => orders.id, { onDelete: "cascade" }),
+    fromState: orderState("from_state"),
+    toState: orderState("to_state").notNull(),
+    actorUserId: uuid("actor_user_id").references(() => users.id, { onDelete: "set null" }),
+    note: text("note").notNull().default(""),
+    at: createdAt(),
+  },
+  (t) => [index("order_events_order_idx").on(t.orderId, t.at)],
+);
+
+export type Lab = typeof labs.$inferSelect;
+export type Instrument = typeof instruments.$inferSelect;
+export type SampleStage = typeof sampleStages.$inferSelect;
+export type PriceList = typeof priceLists.$inferSelect;
+export type MarketRequest = typeof requests.$inferSelect;
+export type Sample = typeof samples.$inferSelect;
+export type Quote = typeof quotes.$inferSelect;
+export type Order = typeof orders.$inferSelect;
