@@ -1,0 +1,76 @@
+// Reads a chemical formula (LiFePO4, Ca10(PO4)6(OH)2, CuSO4·5H2O, Li0.5CoO2) into its element symbols.
+
+/** The element symbols of the periodic table, H to Og. */
+export const ELEMENT_SYMBOLS: readonly string[] = (
+  "H He Li Be B C N O F Ne Na Mg Al Si P S Cl Ar K Ca Sc Ti V Cr Mn Fe Co Ni Cu Zn Ga Ge As Se Br Kr " +
+  "Rb Sr Y Zr Nb Mo Tc Ru Rh Pd Ag Cd In Sn Sb Te I Xe Cs Ba La Ce Pr Nd Pm Sm Eu Gd Tb Dy Ho Er Tm Yb Lu " +
+  "Hf Ta W Re Os Ir Pt Au Hg Tl Pb Bi Po At Rn Fr Ra Ac Th Pa U Np Pu Am Cm Bk Cf Es Fm Md No Lr " +
+  "Rf Db Sg Bh Hs Mt Ds Rg Cn Nh Fl Mc Lv Ts Og"
+).split(" ");
+
+const KNOWN = new Set(ELEMENT_SYMBOLS);
+const OPEN: Record<string, string> = { "(": ")", "[": "]", "{": "}" };
+const CLOSE = new Set([")", "]", "}"]);
+// Separators of hydrates and adducts: middle dot, bullet, asterisk, a plain full stop between parts.
+const ADDUCT = new Set(["·", "•", "∙", "*", "⋅"]);
+
+export type FormulaResult = { elements: string[] } | { error: string };
+
+/**
+ * Element symbols of a formula, in order of first appearance. Brackets, multipliers (integers or decimals
+ * for partial occupancy) and hydrate parts (`·5H2O`) are understood; anything else is an error sentence.
+ */
+export function parseFormula(text: string): FormulaResult {
+  const s = text.trim().replace(/\s+/g, "");
+  if (!s) return { error: "Enter the chemical formula, e.g. LiFePO4." };
+  if (s.length > 200) return { error: "A formula has at most 200 characters." };
+  const elements: string[] = [];
+  const stack: string[] = [];
+  let i = 0;
+  let sawAtom = false;
+  while (i < s.length) {
+    const ch = s[i];
+    if (/[A-Z]/.test(ch)) {
+      let symbol = ch;
+      if (i + 1 < s.length && /[a-z]/.test(s[i + 1])) symbol += s[i + 1];
+      if (!KNOWN.has(symbol)) return { error: `“${symbol}” in ${text.trim()} is not an element symbol.` };
+      i += symbol.length;
+      if (!elements.includes(symbol)) elements.push(symbol);
+      sawAtom = true;
+      i = skipNumber(s, i);
+      if (i < 0) return { error: `The number after ${symbol} in ${text.trim()} is not a valid count.` };
+    } else if (ch in OPEN) {
+      stack.push(OPEN[ch]);
+      i += 1;
+    } else if (CLOSE.has(ch)) {
+      const expected = stack.pop();
+      if (expected !== ch) return { error: `The brackets in ${text.trim()} do not balance (an extra or mismatched “${ch}”).` };
+      i = skipNumber(s, i + 1);
+      if (i < 0) return { error: `The number after “${ch}” in ${text.trim()} is not a valid count.` };
+    } else if (ADDUCT.has(ch) || (ch === "." && i > 0 && !/\d/.test(s[i - 1]))) {
+      if (stack.length) return { error: `The brackets in ${text.trim()} do not balance before “${ch}”.` };
+      i = skipNumber(s, i + 1); // the part's multiplier, as in ·5H2O
+      if (i < 0) return { error: `The multiplier in ${text.trim()} is not a valid count.` };
+    } else if (/[a-z]/.test(ch)) {
+      return { error: `Element symbols start with a capital letter; “${ch}” in ${text.trim()} does not.` };
+    } else if (/\d/.test(ch) && i === 0) {
+      i = skipNumber(s, i);
+      if (i < 0) return { error: `The number at the start of ${text.trim()} is not a valid count.` };
+    } else {
+      return { error: `“${ch}” is not allowed in a chemical formula.` };
+    }
+  }
+  if (stack.length) return { error: `The brackets in ${text.trim()} do not balance (a “${stack[stack.length - 1]}” is missing).` };
+  if (!sawAtom) return { error: `${text.trim()} contains no element symbols.` };
+  return { elements };
+}
+
+/** Skips an optional count (5, 0.5, .5); returns the new index, or −1 for a malformed number like 1.2.3. */
+function skipNumber(s: string, i: number) {
+  const match = /^(\d+(\.\d+)?|\.\d+)/.exec(s.slice(i));
+  if (!match) return i;
+  const next = i + match[0].length;
+  if (s[next] === "." && /\d/.test(s[next + 1] ?? "")) return -1;
+  if (Number(match[0]) === 0) return -1;
+  return next;
+}
