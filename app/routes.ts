@@ -5,6 +5,7 @@ export default [
   layout("routes/public/layout.tsx", [
     index("routes/public/home.tsx"),
     route("labs", "routes/public/labs.tsx"),
+    route("labs/:slug", "routes/public/lab-profile.tsx"),
     route("how-it-works", "routes/public/how-it-works.tsx"),
     route("safety", "routes/public/safety.tsx"),
     route("sign-in", "routes/public/sign-in.tsx"),
@@ -35,6 +36,11 @@ export default [
     ]),
   ]),
 
-  ...prefix("api", [route("health", "routes/api/health.ts"), route("me", "routes/api/me.ts")]),
+  ...prefix("api", [
+    route("health", "routes/api/health.ts"),
+    route("me", "routes/api/me.ts"),
+    route("labs", "routes/api/labs.ts"),
+    route("requests/:id/matches", "routes/api/request-matches.ts"),
+  ]),
   route("*", "routes/public/not-found.tsx"),
 ] satisfies RouteConfig;

@@ -1,0 +1,159 @@
+// The public lab directory: approved labs filtered by what their instruments, stages, hazards and prices allow.
+import { sql, type SQL } from "drizzle-orm";
+import { z } from "zod";
+import { db } from "~/db/client.server";
+import { ANODE_LINES, ANODES } from "~/diffraction/wavelengths";
+
+export const TECHNIQUES = ["powder_reflection", "powder_transmission", "thin_film", "single_crystal", "total_scattering", "neutron_powder"] as const;
+export const GHS_CODES = ["GHS01", "GHS02", "GHS03", "GHS04", "GHS05", "GHS06", "GHS07", "GHS08", "GHS09"] as const;
+export const SPECIAL_CATEGORIES = ["radioactive", "beryllium", "nanomaterial", "biological", "air_sensitive", "pyrophoric", "export_controlled"] as const;
+export const PAGE_SIZE = 20;
+
+const optionalNumber = (what: string, min: number, max: number) =>
+  z.coerce
+    .number({ error: `${what} must be a number.` })
+    .refine((n) => Number.isFinite(n) && n > min && n <= max, `${what} must be greater than ${min} and at most ${max}.`)
+    .optional();
+
+/** The query parameters of GET /api/labs; empty parameters count as absent. */
+export const DirectoryQuery = z.object({
+  technique: z.enum(TECHNIQUES, { error: `technique must be one of ${TECHNIQUES.join(", ")}.` }).optional(),
+  source: z.enum(ANODES as [string, ...string[]], { error: `source must be one of ${ANODES.join(", ")}.` }).optional(),
+  dMin: optionalNumber("dMin (Å)", 0, 100),
+  temperatureK: optionalNumber("temperatureK", 0, 5000),
+  hazard: z.array(z.enum([...GHS_CODES, ...SPECIAL_CATEGORIES], { error: "hazard must be a GHS pictogram code (GHS01–GHS09) or a special category." })).max(16).default([]),
+  maxPrice: optionalNumber("maxPrice (per sample, major units)", 0, 1_000_000),
+  turnaroundDays: z.coerce.number({ error: "turnaroundDays must be a whole number." }).int("turnaroundDays must be a whole number.").min(1).max(365).optional(),
+  q: z.string().trim().max(100, "q has at most 100 characters.").optional(),
+  page: z.coerce.number({ error: "page must be a whole number." }).int("page must be a whole number.").min(1, "page starts at 1.").max(10_000).default(1),
+});
+export type DirectoryFilters = z.infer<typeof DirectoryQuery>;
+
+/** Reads the URL's parameters; `{ error, field }` names the first bad one. */
+export function parseDirectoryQuery(params: URLSearchParams): { ok: true; filters: DirectoryFilters } | { ok: false; error: string; field: string } {
+  const raw: Record<string, unknown> = {};
+  for (const key of ["technique", "source", "dMin", "temperatureK", "maxPrice", "turnaroundDays", "q", "page"]) {
+    const v = params.get(key);
+    if (v !== null && v !== "") raw[key] = v;
+  }
+  raw.hazard = params.getAll("hazard").filter((h) => h !== "");
+  const known = new Set([...Object.keys(DirectoryQuery.shape)]);
+  const unknown = [...params.keys()].find((k) => !known.has(k));
+  if (unknown) return { ok: false, error: `Unknown parameter "${unknown.slice(0, 40)}".`, field: unknown.slice(0, 40) };
+  const parsed = DirectoryQuery.safeParse(raw);
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0];
+    return { ok: false, error: issue.message, field: String(issue.path[0] ?? "query") };
+  }
+  return { ok: true, filters: parsed.data };
+}
+
+/** Kα1 of the instrument's anode, or its custom wavelength (Å). */
+const wavelengthSql = sql.raw(
+  `(case i.anode ${ANODES.map((a) => `when '${a}' then ${ANODE_LINES[a].kAlpha1}`).join(" ")} else i.custom_wavelength end)`,
+);
+/** Bragg's law: the smallest d an instrument reaches is λ / (2 sin θmax). */
+const minDSql = sql`(${wavelengthSql} / (2 * sin(radians(i.two_theta_max / 2))))`;
+
+export interface DirectoryLab {
+  slug: string;
+  name: string;
+  city: string | null;
+  country: string | null;
+  techniques: string[];
+  sources: string[];
+  minD: number | null;
+  temperatureRangeK: [number, number] | null;
+  priceFrom: number | null;
+  currency: string | null;
+  turnaroundDays: number | null;
+}
+
+export async function searchDirectory(f: DirectoryFilters): Promise<{ labs: DirectoryLab[]; total: number; page: number }> {
+  const where: SQL[] = [sql`l.vetting_state = 'approved'`];
+  const instrumentConditions: SQL[] = [sql`i.lab_id = l.organisation_id`, sql`i.active`];
+  if (f.technique) instrumentConditions.push(sql`i.technique = ${f.technique}`);
+  if (f.source) instrumentConditions.push(sql`i.anode = ${f.source}`);
+  if (f.dMin !== undefined) instrumentConditions.push(sql`${minDSql} <= ${f.dMin}`);
+  if (f.temperatureK !== undefined) {
+    instrumentConditions.push(
+      sql`exists (select 1 from sample_stages s where s.instrument_id = i.id and ${f.temperatureK} between s.min_temperature_k and s.max_temperature_k)`,
+    );
+  }
+  // One instrument must satisfy every instrument filter at once.
+  if (instrumentConditions.length > 2) where.push(sql`exists (select 1 from instruments i where ${sql.join(instrumentConditions, sql` and `)})`);
+  const pictograms = f.hazard.filter((h) => h.startsWith("GHS"));
+  const categories = f.hazard.filter((h) => !h.startsWith("GHS"));
+  if (pictograms.length) where.push(sql`h.pictograms @> ${`{${pictograms.join(",")}}`}::text[]`);
+  if (categories.length) where.push(sql`h.special_categories @> ${`{${categories.join(",")}}`}::text[]`);
+  const priceExpr = f.technique
+    ? sql`(p.per_sample_minor ->> ${f.technique})::int`
+    : sql`(select min(value::int) from jsonb_each_text(p.per_sample_minor))`;
+  if (f.maxPrice !== undefined) where.push(sql`${priceExpr} <= ${Math.round(f.maxPrice * 100)}`);
+  if (f.turnaroundDays !== undefined) where.push(sql`p.turnaround_days <= ${f.turnaroundDays}`);
+  if (f.q) {
+    const like = `%${f.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
+    where.push(sql`(o.name ilike ${like} or o.city ilike ${like} or o.country ilike ${like} or l.description ilike ${like})`);
+  }
+  const offset = (f.page - 1) * PAGE_SIZE;
+  const result = await db.execute<{
+    slug: string;
+    name: string;
+    city: string | null;
+    country: string | null;
+    techniques: string[] | null;
+    sources: string[] | null;
+    min_d: number | null;
+    t_min: number | null;
+    t_max: number | null;
+    price_from: number | null;
+    currency: string | null;
+    turnaround_days: number | null;
+    total: string;
+  }>(sql`
+    select o.slug, o.name, o.city, o.country,
+      (select array_agg(distinct i.technique::text order by i.technique::text) from instruments i where i.lab_id = l.organisation_id and i.active) as techniques,
+      (select array_agg(distinct coalesce(i.anode::text, 'custom') order by coalesce(i.anode::text, 'custom')) from instruments i where i.lab_id = l.organisation_id and i.active) as sources,
+      (select min(${minDSql}) from instruments i where i.lab_id = l.organisation_id and i.active) as min_d,
+      (select min(s.min_temperature_k) from sample_stages s join instruments i on i.id = s.instrument_id where i.lab_id = l.organisation_id and i.active) as t_min,
+      (select max(s.max_temperature_k) from sample_stages s join instruments i on i.id = s.instrument_id where i.lab_id = l.organisation_id and i.active) as t_max,
+      ${priceExpr} as price_from, p.currency, p.turnaround_days,
+      count(*) over () as total
+    from labs l
+    join organisations o on o.id = l.organisation_id
+    left join price_lists p on p.lab_id = l.organisation_id
+    left join hazard_acceptance h on h.lab_id = l.organisation_id
+    where ${sql.join(where, sql` and `)}
+    order by o.name
+    limit ${PAGE_SIZE} offset ${offset}
+  `);
+  const rows = result.rows;
+  return {
+    page: f.page,
+    total: rows.length ? Number(rows[0].total) : offset === 0 ? 0 : await countDirectory(where),
+    labs: rows.map((r) => ({
+      slug: r.slug,
+      name: r.name,
+      city: r.city,
+      country: r.country,
+      techniques: r.techniques ?? [],
+      sources: r.sources ?? [],
+      minD: r.min_d === null ? null : Math.round(Number(r.min_d) * 10_000) / 10_000,
+      temperatureRangeK: r.t_min === null || r.t_max === null ? null : [Number(r.t_min), Number(r.t_max)],
+      priceFrom: r.price_from === null ? null : Number(r.price_from),
+      currency: r.currency,
+      turnaroundDays: r.turnaround_days,
+    })),
+  };
+}
+
+/** Total matches when the requested page lies past the end. */
+async function countDirectory(where: SQL[]) {
+  const r = await db.execute<{ n: string }>(sql`
+    select count(*) as n from labs l
+    join organisations o on o.id = l.organisation_id
+    left join price_lists p on p.lab_id = l.organisation_id
+    left join hazard_acceptance h on h.lab_id = l.organisation_id
+    where ${sql.join(where, sql` and `)}`);
+  return Number(r.rows[0].n);
+}

@@ -1,0 +1,105 @@
+// A lab's public profile: instruments with the d-spacings they reach, stages, hazards accepted, prices.
+import { eq } from "drizzle-orm";
+import { Link, useLoaderData } from "react-router";
+import { Badge, PageHeader, SafetyNotice, TableCard } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { dSpacingCoverage } from "~/models/coverage";
+import { loadMatchLabs } from "~/models/matching.server";
+import { instrumentWavelength, labelOf, sourceLabel } from "~/models/matching";
+import { notFound } from "~/utils/permissions.server";
+import { formatMoney } from "~/utils/format";
+import type { Route } from "./+types/lab-profile";
+
+// Public by design: only approved labs are shown; any other slug is a 404.
+export async function loader({ params }: Route.LoaderArgs) {
+  const [row] = await db
+    .select({ id: schema.labs.organisationId, state: schema.labs.vettingState, description: schema.labs.description, city: schema.organisations.city, country: schema.organisations.country })
+    .from(schema.labs)
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.labs.organisationId))
+    .where(eq(schema.organisations.slug, params.slug));
+  if (!row || row.state !== "approved") notFound("No approved lab is listed at this address.");
+  const [lab] = await loadMatchLabs([row.id]);
+  return {
+    lab: {
+      name: lab.name,
+      description: row.description,
+      city: row.city,
+      country: row.country,
+      acceptance: lab.acceptance,
+      priceList: lab.priceList,
+      instruments: lab.instruments.map((i) => {
+        const wavelength = instrumentWavelength(i);
+        const cover = wavelength ? dSpacingCoverage(wavelength, i.twoThetaMin, i.twoThetaMax) : null;
+        return { ...i, source: sourceLabel(i), dMin: cover?.dMin ?? null, dMax: cover?.dMax ?? null };
+      }),
+    },
+  };
+}
+
+export default function LabProfile() {
+  const { lab } = useLoaderData<typeof loader>();
+  const prices = lab.priceList;
+  return (
+    <div className="mx-auto max-w-6xl px-4 py-10 sm:px-6">
+      <p className="mb-2 text-sm">
+        <Link to="/labs" className="text-beam-700 underline">
+          ← Lab directory
+        </Link>
+      </p>
+      <PageHeader title={lab.name} subtitle={[lab.city, lab.country].filter(Boolean).join(", ")} actions={<Badge tone="ok">Vetted lab</Badge>} />
+      {lab.description ? <p className="mb-8 max-w-3xl text-ink-700">{lab.description}</p> : null}
+      <h2 className="mb-3 text-lg font-semibold">Instruments</h2>
+      <TableCard columns={["Instrument", "Technique", "Source", "2θ range", "d reached (Å)", "Stages"]} caption="Instruments">
+        {lab.instruments.map((i) => (
+          <tr key={i.id}>
+            <td className="font-medium">{i.name}</td>
+            <td>{labelOf(i.technique)}</td>
+            <td>
+              {i.source}
+              {i.energyDiscrimination ? <span className="block text-xs text-ink-500">energy-discriminating detector</span> : null}
+            </td>
+            <td>
+              {i.twoThetaMin}–{i.twoThetaMax}°
+            </td>
+            <td>{i.dMin !== null ? `${i.dMin.toFixed(3)}–${Number.isFinite(i.dMax) ? i.dMax!.toFixed(1) : "∞"}` : "—"}</td>
+            <td>{i.stages.map((s) => `${s.name} ${s.minTemperatureK}–${s.maxTemperatureK} K (${s.atmospheres.join(", ")})`).join("; ") || "ambient only"}</td>
+          </tr>
+        ))}
+      </TableCard>
+      <div className="mt-8 grid gap-6 md:grid-cols-2">
+        <div className="card">
+          <h2 className="text-lg font-semibold">Hazards accepted</h2>
+          <p className="mt-2 text-sm text-ink-700">
+            {[...lab.acceptance.pictograms, ...lab.acceptance.specialCategories.map(labelOf)].join(", ") || "No hazardous samples."}
+          </p>
+          <SafetyNotice className="mt-4" />
+        </div>
+        <div className="card">
+          <h2 className="text-lg font-semibold">Prices</h2>
+          {prices ? (
+            <dl className="mt-2 grid grid-cols-2 gap-x-4 gap-y-1 text-sm">
+              {Object.entries(prices.perSampleMinor).map(([technique, minor]) => (
+                <div key={technique} className="contents">
+                  <dt className="text-ink-600">Per sample, {labelOf(technique)}</dt>
+                  <dd className="text-right font-medium">{formatMoney(minor ?? 0, prices.currency)}</dd>
+                </div>
+              ))}
+              <dt className="text-ink-600">Per extra temperature point</dt>
+              <dd className="text-right">{formatMoney(prices.perExtraTemperaturePointMinor, prices.currency)}</dd>
+              <dt className="text-ink-600">Hazardous handling</dt>
+              <dd className="text-right">{formatMoney(prices.hazardousHandlingMinor, prices.currency)}</dd>
+              <dt className="text-ink-600">Turnaround</dt>
+              <dd className="text-right">{prices.turnaroundDays} days</dd>
+            </dl>
+          ) : (
+            <p className="mt-2 text-sm text-ink-600">No price list published yet.</p>
+          )}
+        </div>
+      </div>
+    </div>
+  );
+}
+
+export function meta({ data }: Route.MetaArgs) {
+  return [{ title: `${data?.lab.name ?? "Lab"} — Diffractory` }];
+}
