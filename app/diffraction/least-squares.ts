@@ -240,6 +240,10 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
     const trial = new Float64Array(n);
     for (let j = 0; j < n; j++) trial[j] = p[j] + step[j];
     clamp(trial);
+    // A step (after the bounds) below 1 % of every parameter's standard uncertainty, σ_j ≈ 1/√N_jj,
+    // changes nothing that matters.
+    let negligible = true;
+    for (let j = 0; j < n && negligible; j++) negligible = (trial[j] - p[j]) ** 2 * normal.data[j * n + j] < 1e-4;
     problem.evaluate(trial, trialR, null);
     const trialChi2 = sumSquares(trialR);
     if (Number.isFinite(trialChi2) && trialChi2 <= chi2) {
@@ -249,7 +253,7 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
       chi2 = sumSquares(r);
       needNormal = true;
       lambda = Math.max(lambda / 10, 1e-10);
-      if (improvement < tolerance) {
+      if (improvement < tolerance || negligible) {
         converged = true;
         break;
       }
@@ -266,18 +270,27 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
   return { params: p, chi2, dof: m - n, covariance: invertSymmetric(normal), iterations, converged };
 }
 
+// Rows of a peak-cluster Jacobian are mostly zeros (a peak far from a point leaves no derivative), so
+// each row's non-zero columns are gathered first and only their products accumulated.
 function buildNormal(J: Float64Array, r: Float64Array, m: number, n: number, normal: SquareMatrix, gradient: Float64Array): void {
   normal.data.fill(0);
   gradient.fill(0);
   const N = normal.data;
+  const nonzero = new Int32Array(n);
   for (let i = 0; i < m; i++) {
     const o = i * n;
     const ri = r[i];
-    for (let j = 0; j < n; j++) {
+    let count = 0;
+    for (let j = 0; j < n; j++) if (J[o + j] !== 0) nonzero[count++] = j;
+    for (let a = 0; a < count; a++) {
+      const j = nonzero[a];
       const jj = J[o + j];
-      if (jj === 0) continue;
       gradient[j] += jj * ri;
-      for (let k = 0; k <= j; k++) N[j * n + k] += jj * J[o + k];
+      const row = j * n;
+      for (let b = 0; b <= a; b++) {
+        const k = nonzero[b];
+        N[row + k] += jj * J[o + k];
+      }
     }
   }
   symmetrizeLower(normal);

@@ -121,44 +121,112 @@ function splitLines(text: string): string[] {
   return text.split(/\r\n|\r|\n/);
 }
 
+/**
+ * A decimal number in plain or exponent notation, else NaN. Number() alone would also take "0x1f",
+ * "0b1" and "Infinity"; the first two characters rule those out, and Number() rejects the rest.
+ */
+function plainNumber(field: string): number {
+  const c0 = field.charCodeAt(0);
+  const lead = (c0 >= 48 && c0 <= 57) || c0 === 43 || c0 === 45 || c0 === 46; // digit + - .
+  if (!lead || field.length === 0) return NaN;
+  const c1 = field.charCodeAt(1) | 32;
+  if (c1 === 120 || c1 === 98 || c1 === 111 || c1 === 105) return NaN; // x b o i (hex, binary, octal, Infinity)
+  const last = field.charCodeAt(field.length - 1);
+  if (!((last >= 48 && last <= 57) || last === 46)) return NaN;
+  return Number(field);
+}
+
+/** Whether a character code separates fields in a dialect: blanks and tabs, semicolons, commas. */
+function separates(c: number, dialect: Dialect): boolean {
+  if (c === 59 || c === 9) return true; // ; and tab, in every dialect
+  if (c === 32) return dialect !== DIALECTS[0];
+  if (c === 44) return !dialect.decimalComma;
+  return false;
+}
+
+/**
+ * Reads one line's fields as numbers into `out` (NaN for a missing value) without building strings per
+ * token where it can; returns the number of fields, or −1 when a field is text. Same reading as tokenize.
+ */
+function scanLine(line: string, dialect: Dialect, out: number[]): number {
+  let count = 0;
+  let i = 0;
+  const n = line.length;
+  while (i < n) {
+    while (i < n && (separates(line.charCodeAt(i), dialect) || line.charCodeAt(i) === 32)) i++;
+    if (i >= n) break;
+    let j = i;
+    while (j < n && !separates(line.charCodeAt(j), dialect)) j++;
+    let end = j;
+    while (end > i && line.charCodeAt(end - 1) === 32) end--;
+    let field = line.slice(i, end);
+    if (dialect.decimalComma) field = field.replace(",", ".");
+    const value = plainNumber(field);
+    if (!Number.isNaN(value)) out[count++] = value;
+    else if (MISSING.test(field)) out[count++] = NaN;
+    else return -1;
+    i = j;
+  }
+  return count;
+}
+
+/** Not blank and not a comment; a line that starts with a digit is data, decided without a regex. */
+function isContentLine(line: string): boolean {
+  const c = line.charCodeAt(0);
+  if (c >= 48 && c <= 57) return true;
+  return line.trim().length > 0 && !COMMENT.test(line);
+}
+
 function readDelimited(text: string): Columns | { error: string } {
-  const lines = splitLines(text).filter((l) => l.trim().length > 0 && !COMMENT.test(l));
+  const lines = splitLines(text).filter(isContentLine);
   if (lines.length === 0) return { error: "The file has only comments and no data rows." };
   const dialect = chooseDialect(lines);
   if (!dialect) return { error: "The file has no numeric columns of 2θ and intensity." };
   const warnings: string[] = [];
-  const rows: Token[][] = [];
+  // Rows are kept flat: up to MAX_FIELDS numbers per row, with their field count.
+  const MAX_FIELDS = 8;
+  const values = new Float64Array(lines.length * MAX_FIELDS);
+  const widths = new Int16Array(lines.length);
+  const fields: number[] = new Array(64);
+  let nRows = 0;
   let headerLine: string | null = null;
   let textLines = 0;
   for (const line of lines) {
-    const tokens = tokenize(line, dialect);
-    if (isDataLine(tokens)) rows.push(tokens);
-    else {
-      if (rows.length === 0) headerLine = line;
+    const count = scanLine(line, dialect, fields);
+    let numbers = false;
+    for (let f = 0; f < count && !numbers; f++) numbers = !Number.isNaN(fields[f]);
+    numbers &&= count >= 2;
+    if (numbers && count <= MAX_FIELDS) {
+      for (let f = 0; f < count; f++) values[nRows * MAX_FIELDS + f] = fields[f];
+      widths[nRows++] = count;
+    } else {
+      if (nRows === 0) headerLine = line;
       textLines++;
     }
   }
-  const width = mostCommonWidth(rows);
+  const width = mostCommonWidth(widths.subarray(0, nRows));
   const mapping = headerLine ? columnsFromHeader(headerLine, width) : null;
   const iTheta = mapping?.twoTheta ?? 0;
   const iIntensity = mapping?.intensity ?? 1;
   let iEsd = mapping ? mapping.esd : width >= 3 ? 2 : null;
   if (!mapping && width > 3) warnings.push(`Columns after the third were ignored (${width} columns found).`);
-  const irregular = rows.filter((r) => r.length !== width).length;
-  const kept = rows.filter((r) => r.length === width);
-  if (irregular > 0) warnings.push(`${irregular} rows with a different number of columns were skipped.`);
-  if (textLines > 0 && rows.length > 0 && textLines > rows.length) {
+  let kept = 0;
+  for (let r = 0; r < nRows; r++) if (widths[r] === width) kept++;
+  if (nRows - kept > 0) warnings.push(`${nRows - kept} rows with a different number of columns were skipped.`);
+  if (textLines > 0 && nRows > 0 && textLines > nRows) {
     return { error: "Most lines of the file are text, not numeric columns of 2θ and intensity." };
   }
   const twoTheta: number[] = [];
   const intensity: number[] = [];
   const esd: number[] = [];
   let missing = 0;
-  for (const r of kept) {
-    const t = r[iTheta];
-    const y = r[iIntensity];
-    const s = iEsd === null ? 1 : r[iEsd];
-    if (typeof t !== "number" || typeof y !== "number" || typeof s !== "number") {
+  for (let r = 0; r < nRows; r++) {
+    if (widths[r] !== width) continue;
+    const o = r * MAX_FIELDS;
+    const t = values[o + iTheta];
+    const y = values[o + iIntensity];
+    const s = iEsd === null ? 1 : values[o + iEsd];
+    if (Number.isNaN(t) || Number.isNaN(y) || Number.isNaN(s)) {
       missing++;
       continue;
     }
@@ -166,8 +234,8 @@ function readDelimited(text: string): Columns | { error: string } {
     intensity.push(y);
     esd.push(s);
   }
-  if (kept.length > 0 && missing > kept.length * MAX_MISSING_SHARE) {
-    return { error: `${Math.round((100 * missing) / kept.length)}% of the rows have a missing number (NaN); the scan is unusable.` };
+  if (kept > 0 && missing > kept * MAX_MISSING_SHARE) {
+    return { error: `${Math.round((100 * missing) / kept)}% of the rows have a missing number (NaN); the scan is unusable.` };
   }
   if (missing > 0) warnings.push(`${missing} rows with a missing number were dropped.`);
   if (iEsd !== null && !esd.every((s) => s > 0 && Number.isFinite(s))) {
@@ -195,7 +263,7 @@ function chooseDialect(lines: string[]): Dialect | null {
   for (const dialect of DIALECTS) {
     const rows = sample.map((l) => tokenize(l, dialect)).filter(isDataLine);
     if (rows.length === 0) continue;
-    const width = mostCommonWidth(rows);
+    const width = mostCommonWidth(rows.map((r) => r.length));
     const steady = rows.filter((r) => r.length === width).length;
     // A reading that splits "12,5" into two numbers repeats the integer part as 2θ; penalise it.
     const firsts = rows.filter((r) => r.length === width).map((r) => r[0]);
@@ -216,9 +284,9 @@ function sampleLines(lines: string[], n: number): string[] {
   return head.concat(spread);
 }
 
-function mostCommonWidth(rows: Token[][]): number {
+function mostCommonWidth(widths: ArrayLike<number>): number {
   const counts = new Map<number, number>();
-  for (const r of rows) counts.set(r.length, (counts.get(r.length) ?? 0) + 1);
+  for (let i = 0; i < widths.length; i++) counts.set(widths[i], (counts.get(widths[i]) ?? 0) + 1);
   let width = 0;
   let most = -1;
   for (const [w, c] of counts) if (c > most || (c === most && w < width)) [width, most] = [w, c];

@@ -127,29 +127,38 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
   const nFree = freeParameters(system).length;
   const startP = metricParamsFromCell(system, options.start);
   const search = options.searchRange ?? 0.02;
-  let state = coarseSearch(peaks, startP, options, radius, search);
-  let covariance = priorCovariance(system, state.p, options);
+  const coarse = coarseSearch(peaks, startP, options, radius, search);
+  let state = coarse;
   let assignments: Assignment[] = [];
   let fit: LinearStep | null = null;
   let converged = false;
   let iterations = 0;
-  let previous = "";
-  for (let pass = 0; pass < 12; pass++) {
-    const s = fit ? Math.sqrt(Math.max(fit.reducedChi2, 1)) : 1;
-    const next = assign(peaks, listReflections(system, centering, state.p, options), state, covariance, options, radius, s);
-    const key = next.map((a) => `${a.peak}:${a.reflection.h},${a.reflection.k},${a.reflection.l},${a.used}`).join(";");
-    if (key === previous && fit) {
-      converged = true;
-      break;
+  // A dense pattern (low symmetry, short wavelength) may leave too few unambiguous peaks under the widest
+  // prior; the declared cell is then trusted more closely, down to ±0.05 %.
+  for (const prior of PRIOR_LENGTHS) {
+    state = coarse;
+    let covariance = priorCovariance(system, state.p, options, prior);
+    fit = null;
+    assignments = [];
+    let previous = "";
+    for (let pass = 0; pass < 12; pass++) {
+      const s = fit ? Math.sqrt(Math.max(fit.reducedChi2, 1)) : 1;
+      const next = assign(peaks, listReflections(system, centering, state.p, options), state, covariance, options, radius, s);
+      const key = next.map((a) => `${a.peak}:${a.reflection.h},${a.reflection.k},${a.reflection.l},${a.used}`).join(";");
+      if (key === previous && fit) {
+        converged = true;
+        break;
+      }
+      previous = key;
+      const result = iterateLeastSquares(peaks, next, state, options, radius, nFree);
+      iterations += result.iterations;
+      if (!result.fit) break;
+      assignments = next;
+      fit = result.fit;
+      state = result.state;
+      covariance = scaledCovariance(fit) ?? fit.covariance;
     }
-    previous = key;
-    const result = iterateLeastSquares(peaks, next, state, options, radius, nFree);
-    iterations += result.iterations;
-    if (!result.fit) break;
-    assignments = next;
-    fit = result.fit;
-    state = result.state;
-    covariance = scaledCovariance(fit) ?? fit.covariance;
+    if (fit) break;
   }
   for (const a of assignments) a.twoThetaCalc = predict(qOf(system, state.p, a.reflection), state.shift, options, radius);
   const claimed = new Set(assignments.map((a) => a.peak));
@@ -179,12 +188,13 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
   };
 }
 
-// Prior uncertainty of the cell before any fit: ±0.5 % on the lengths (±1 % on Q), the cross terms of
-// Q scaled alike from the diagonal ones they couple, and ±0.05° 2θ of zero (or its displacement equivalent).
-const PRIOR_LENGTH = 0.005;
+// Prior uncertainty of the cell before any fit: ±0.5 % on the lengths (±1 % on Q) at first, the cross
+// terms of Q scaled alike from the diagonal ones they couple, and ±0.05° 2θ of zero (or its displacement
+// equivalent).
+const PRIOR_LENGTHS = [0.005, 0.002, 0.001, 0.0005];
 const PRIOR_ZERO = 0.05;
 
-function priorCovariance(system: CrystalSystem, p: number[], options: RefineOptions): SquareMatrix {
+function priorCovariance(system: CrystalSystem, p: number[], options: RefineOptions, priorLength: number): SquareMatrix {
   const names = freeParameters(system);
   const n = names.length + 1;
   const cov = squareMatrix(n);
@@ -197,7 +207,7 @@ function priorCovariance(system: CrystalSystem, p: number[], options: RefineOpti
   const couples: Record<string, [string, string]> = { D: ["B", "C"], E: ["A", "C"], F: ["A", "B"] };
   names.forEach((name, j) => {
     const scale = couples[name] ? Math.sqrt(diagonal[couples[name][0]] * diagonal[couples[name][1]]) : Math.abs(p[j]);
-    cov.data[j * n + j] = (2 * PRIOR_LENGTH * scale) ** 2;
+    cov.data[j * n + j] = (2 * priorLength * scale) ** 2;
   });
   const zeroModel = (options.correction ?? "zero_shift") === "zero_shift";
   const shiftSigma = zeroModel ? PRIOR_ZERO : (PRIOR_ZERO * (options.goniometerRadiusMm ?? 240) * RAD) / 2;
@@ -233,8 +243,9 @@ function coarseSearch(peaks: readonly ObservedPeak[], startP: number[], options:
   const fwhm = median(strong.map((i) => peaks[i].fwhm));
   const thetas = strong.map((i) => (peaks[i].twoTheta * RAD) / 2).sort((a, b) => a - b);
   const thetaHigh = thetas[Math.floor(0.75 * (thetas.length - 1))];
-  const scaleStep = Math.max((0.25 * fwhm * RAD) / (2 * Math.tan(thetaHigh)), 1e-5);
-  const zeroStep = Math.max(0.25 * fwhm, 0.002);
+  // Steps of a third of the half-FWHM tolerance keep every peak's score smooth across the grid.
+  const scaleStep = Math.max((0.35 * fwhm * RAD) / (2 * Math.tan(thetaHigh)), 1e-5);
+  const zeroStep = Math.max(0.35 * fwhm, 0.002);
   const zeroRange = 0.2;
   let best = { score: -Infinity, scale: 0, zero: 0 };
   for (let zero = -zeroRange; zero <= zeroRange + 1e-12; zero += zeroStep) {
