@@ -77,7 +77,9 @@ export interface LabMatch {
   labSlug: string;
   fits: boolean;
   reasons: Reason[];
+  /** Fluorescence and similar warnings of the fitting instruments, each prefixed with the instrument's name. */
   warnings: string[];
+  instruments: { instrumentId: string; name: string; source: string; fits: boolean; reasons: Reason[]; warnings: string[] }[];
   bestInstrumentId: string | null;
   instrumentName: string | null;
   source: string | null;
@@ -216,23 +218,28 @@ export function estimatePrice(req: MatchRequest, priceList: MatchPriceList | nul
 
 export function matchLab(req: MatchRequest, lab: MatchLab): LabMatch {
   const fits = lab.instruments.map((i) => evaluateInstrument(req, i));
-  // The best instrument fits and, among those, has no fluorescence warning; otherwise the one closest to fitting.
-  const ranked = [...fits].sort(
-    (a, b) => Number(b.fits) - Number(a.fits) || a.warnings.length - b.warnings.length || b.reasons.filter((r) => r.ok).length - a.reasons.filter((r) => r.ok).length,
-  );
-  const best = ranked[0];
-  const hazards = hazardReasons(req, lab);
-  const reasons = [...(best?.reasons ?? [{ ok: false, text: "No instruments published" }]), ...hazards];
-  const warnings = [...(best?.warnings ?? [])];
-  if (best && warnings.length > 0) {
-    const glowing = best.instrument ? fluorescingElements(req.samples.flatMap((s) => s.elements), instrumentWavelength(best.instrument) ?? 1) : [];
-    const better = fits.find((f) => f !== best && f.fits && f.warnings.length === 0);
-    warnings.push(
+  const elements = req.samples.flatMap((s) => s.elements);
+  // An instrument whose source makes the samples fluoresce names the lab's better one, if it has any.
+  for (const f of fits) {
+    if (f.warnings.length === 0) continue;
+    const glowing = fluorescingElements(elements, instrumentWavelength(f.instrument) ?? 1);
+    const better = fits.find((o) => o !== f && o.fits && o.warnings.length === 0);
+    f.warnings.push(
       better
         ? `Better: ${lab.name}'s ${better.instrument.name} (${sourceLabel(better.instrument)}) avoids the fluorescence of ${glowing.join(", ")}.`
         : `${lab.name} has no other source that avoids it; ask for energy discrimination or a different anode.`,
     );
   }
+  // The best instrument fits and, among those, has no warning; otherwise the one closest to fitting.
+  const ranked = [...fits].sort(
+    (a, b) =>
+      Number(b.fits) - Number(a.fits) ||
+      a.warnings.length - b.warnings.length ||
+      b.reasons.filter((r) => r.ok).length - a.reasons.filter((r) => r.ok).length,
+  );
+  const best = ranked[0];
+  const hazards = hazardReasons(req, lab);
+  const reasons = [...(best?.reasons ?? [{ ok: false, text: "No instruments published" }]), ...hazards];
   const labFits = Boolean(best?.fits) && hazards.every((r) => r.ok);
   return {
     labId: lab.id,
@@ -240,7 +247,15 @@ export function matchLab(req: MatchRequest, lab: MatchLab): LabMatch {
     labSlug: lab.slug,
     fits: labFits,
     reasons,
-    warnings,
+    warnings: fits.filter((f) => f.fits).flatMap((f) => f.warnings.map((w) => `${f.instrument.name}: ${w}`)),
+    instruments: fits.map((f) => ({
+      instrumentId: f.instrument.id,
+      name: f.instrument.name,
+      source: sourceLabel(f.instrument),
+      fits: f.fits,
+      reasons: f.reasons,
+      warnings: f.warnings,
+    })),
     bestInstrumentId: best?.instrument.id ?? null,
     instrumentName: best?.instrument.name ?? null,
     source: best ? sourceLabel(best.instrument) : null,
