@@ -74,6 +74,8 @@ export async function createAccount(input: {
         organisationId: organisation.id,
         role: input.kind === "client" ? "owner" : "manager",
       });
+      // A lab's marketplace row starts in the "applied" vetting state.
+      if (input.kind === "lab") await tx.insert(schema.labs).values({ organisationId: organisation.id });
       return { user, organisation };
     });
   } catch (err) {

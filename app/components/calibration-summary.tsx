@@ -1,0 +1,77 @@
+// The calibration check of a lab's vetting application: refined cell against the certified one, the verdict and the plot.
+import { ScanPlot } from "./scan-plot";
+import { Badge } from "./ui";
+import { APPROVAL_TOLERANCE_A, APPROVAL_TOLERANCE_REASON, CALIBRATION_STANDARDS, withinTolerance, type CalibrationCheck } from "~/models/vetting";
+import { MONOCHROMATION_LABELS } from "~/models/capabilities";
+
+const VERDICT_BADGES = {
+  consistent: { tone: "ok", label: "Consistent" },
+  review: { tone: "caution", label: "Review" },
+  inconsistent: { tone: "danger", label: "Inconsistent" },
+} as const;
+
+const signed = (v: number, digits: number) => `${v >= 0 ? "+" : "−"}${Math.abs(v).toFixed(digits)}`;
+
+export function VerdictBadge({ verdict }: { verdict: CalibrationCheck["verdict"] }) {
+  const b = VERDICT_BADGES[verdict];
+  return <Badge tone={b.tone}>{b.label}</Badge>;
+}
+
+export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
+  const standard = CALIBRATION_STANDARDS[check.standard];
+  const ok = withinTolerance(check);
+  const rows: [string, string][] = [
+    ["Standard", standard.label],
+    ["Measured on", `${check.instrument.name} · ${check.instrument.anode} Kα1 ${check.instrument.wavelength} Å · ${MONOCHROMATION_LABELS[check.instrument.monochromation as keyof typeof MONOCHROMATION_LABELS] ?? check.instrument.monochromation}`],
+    ["Refined a", check.refinedA === null ? "not refined" : `${check.refinedA.toFixed(6)} ± ${(check.esdA ?? 0).toFixed(6)} Å`],
+    ["Certified a", `${check.certifiedA.toFixed(7)} ± ${check.certifiedUncertainty} Å`],
+    [
+      "Deviation",
+      check.deviationA === null ? "—" : `${signed(check.deviationA, 6)} Å (${signed(check.deviationPpm ?? 0, 1)} ppm)`,
+    ],
+    ["Zero shift", `${signed(check.zeroShift, 4)}°${check.zeroShiftEsd !== null ? ` ± ${check.zeroShiftEsd.toFixed(4)}°` : ""} 2θ`],
+    ["Peaks", `${check.peaksIndexed} of ${check.peaksFound} indexed · M20 ${check.m20?.toFixed(0) ?? "—"} · F_N ${check.fn?.toFixed(0) ?? "—"}`],
+  ];
+  return (
+    <section className="card space-y-4" aria-labelledby="calibration-check-heading">
+      <div className="flex flex-wrap items-center justify-between gap-3">
+        <h2 id="calibration-check-heading" className="text-lg font-semibold">
+          Calibration check
+        </h2>
+        <div className="flex gap-2">
+          <VerdictBadge verdict={check.verdict} />
+          {ok ? <Badge tone="ok">Within tolerance</Badge> : <Badge tone="danger">Outside tolerance</Badge>}
+        </div>
+      </div>
+      <dl className="grid gap-x-6 gap-y-2 text-sm sm:grid-cols-[10rem_1fr]">
+        {rows.map(([k, v]) => (
+          <div key={k} className="contents">
+            <dt className="text-ink-500">{k}</dt>
+            <dd className="font-mono text-ink-900">{v}</dd>
+          </div>
+        ))}
+      </dl>
+      <p className="text-xs text-ink-600">
+        Tolerance for approval: |deviation| ≤ {APPROVAL_TOLERANCE_A} Å. {APPROVAL_TOLERANCE_REASON}
+      </p>
+      {check.reasons.length ? (
+        <ul className="list-disc pl-5 text-sm text-ink-700">
+          {check.reasons.map((r) => (
+            <li key={r}>{r}</li>
+          ))}
+        </ul>
+      ) : null}
+      <ScanPlot
+        title={`Calibration scan of ${standard.label}: observed, fitted, reflections and difference`}
+        twoTheta={check.plot.twoTheta}
+        observed={check.plot.observed}
+        fitted={check.plot.fitted}
+        background={check.plot.background}
+        ticks={check.plot.ticks}
+      />
+      <p className="text-xs text-ink-500">
+        {check.scanFileName} · checked {check.checkedAt.slice(0, 16).replace("T", " ")} UTC
+      </p>
+    </section>
+  );
+}

@@ -1,0 +1,27 @@
+// Money as integer minor units with a currency code: parsing what people type and showing it back.
+
+/** Currencies a lab may price in; all have two decimal places (ISO 4217 minor unit 2). */
+export const CURRENCIES = ["EUR", "USD", "GBP", "CHF", "NOK", "SEK", "DKK", "CAD", "AUD"] as const;
+export type Currency = (typeof CURRENCIES)[number];
+
+const MAJOR = /^\d{1,9}(?:[.,]\d{1,2})?$/;
+
+/** "180.00" or "180,5" → 18000 / 18050 minor units; null when the text is not a plain amount. */
+export function toMinorUnits(text: string): number | null {
+  const t = text.trim();
+  if (!MAJOR.test(t)) return null;
+  const [whole, fraction = ""] = t.split(/[.,]/);
+  // Integer arithmetic only: 0.1 + 0.2 must never reach the ledger.
+  return Number(whole) * 100 + Number(fraction.padEnd(2, "0"));
+}
+
+/** 18000 → "180.00", for form fields. */
+export function toMajorText(minor: number): string {
+  return `${Math.trunc(minor / 100)}.${String(Math.abs(minor) % 100).padStart(2, "0")}`;
+}
+
+/** 18000, "EUR" → "EUR 180.00", for display. */
+export function formatMoney(minor: number, currency: string): string {
+  const amount = new Intl.NumberFormat("en-GB", { minimumFractionDigits: 2, maximumFractionDigits: 2 }).format(minor / 100);
+  return `${currency} ${amount}`;
+}
