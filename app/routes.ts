@@ -24,14 +24,20 @@ export default [
   ...prefix("lab", [
     layout("routes/workspace-layout.tsx", { id: "lab-layout" }, [
       index("routes/lab/home.tsx"),
+      route("vetting", "routes/lab/vetting.tsx"),
+      route("capabilities", "routes/lab/capabilities.tsx"),
+      route("price-list", "routes/lab/price-list.tsx"),
       route(":section", "routes/workspace-section.tsx", { id: "lab-section" }),
     ]),
+    route("vetting/upload", "routes/lab/vetting-upload.ts"),
   ]),
   ...prefix("admin", [
     layout("routes/workspace-layout.tsx", { id: "admin-layout" }, [
       index("routes/admin/home.tsx"),
       route("users", "routes/admin/users.tsx"),
       route("audit-log", "routes/admin/audit-log.tsx"),
+      route("vetting-queue", "routes/admin/vetting-queue.tsx"),
+      route("labs/:labId", "routes/admin/lab-review.tsx"),
       route(":section", "routes/workspace-section.tsx", { id: "admin-section" }),
     ]),
   ]),

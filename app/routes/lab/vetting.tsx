@@ -1,0 +1,313 @@
+// The lab's vetting application: accreditation evidence, radiation-licence attestation and a calibration scan of a standard.
+import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { useState } from "react";
+import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { CalibrationSummary } from "~/components/calibration-summary";
+import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
+import { Field, FieldErrors, FormError, PageHeader } from "~/components/ui";
+import { VettingBadge } from "~/components/vetting-badge";
+import { checkCalibrationScan } from "~/models/calibration-check";
+import { ANODE_CHOICES, MONOCHROMATION_CHOICES, MONOCHROMATION_LABELS } from "~/models/capabilities";
+import { getOrCreateLab, latestDocuments, submitApplication, VettingConflict, vettingPrefix } from "~/models/labs.server";
+import {
+  CALIBRATION_STANDARD_KEYS,
+  CALIBRATION_STANDARDS,
+  LICENCE_STATEMENT,
+  SUBMITTABLE_STATES,
+  VettingApplicationSchema,
+  type CalibrationCheck,
+  type VettingState,
+} from "~/models/vetting";
+import { requireOrgRole } from "~/utils/permissions.server";
+import { contentTypeFor, DOCUMENT_RULE, readStoredText, SCAN_RULE, verifyStoredObject } from "~/utils/storage.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import type { Route } from "./+types/vetting";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "lab");
+  const lab = await getOrCreateLab(membership.organisation.id);
+  const docs = await latestDocuments(lab.organisationId);
+  const state = lab.vettingState as VettingState;
+  return {
+    labName: membership.organisation.name,
+    isManager: membership.role === "manager",
+    canSubmit: membership.role === "manager" && SUBMITTABLE_STATES.includes(state),
+    state,
+    reviewNote: state === "rejected" || state === "suspended" ? lab.reviewNote : null,
+    application: {
+      description: lab.description,
+      accreditationNumber: lab.accreditationNumber ?? "",
+      accreditationExpiry: lab.accreditationExpiry ?? "",
+      attestation: lab.licenceAttestation,
+      attestedAt: lab.licenceAttestedAt?.toISOString() ?? null,
+      standard: lab.calibrationStandard,
+      certificate: docs.get("accreditation_certificate")?.fileName ?? null,
+      scan: docs.get("calibration_scan")?.fileName ?? null,
+    },
+    check: (lab.calibrationCheck as CalibrationCheck | null) ?? null,
+  };
+}
+
+export async function action({ request, context }: Route.ActionArgs) {
+  const { user, membership } = await requireOrgRole(request, "lab", ["manager"]);
+  const lab = await getOrCreateLab(membership.organisation.id);
+  const submission = parseWithZod(await request.formData(), { schema: VettingApplicationSchema });
+  if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
+  const v = submission.value;
+  const refuse = (fieldErrors: Record<string, string[]>, formErrors?: string[]) =>
+    data({ result: submission.reply({ fieldErrors, formErrors }) }, { status: 400 });
+  if (!SUBMITTABLE_STATES.includes(lab.vettingState)) {
+    return refuse({}, ["This lab's application has been decided; it can no longer be changed here."]);
+  }
+  // Only files uploaded for this lab's application may be referenced.
+  const prefix = `${vettingPrefix(lab.organisationId)}/`;
+  if (!v.certificateKey.startsWith(prefix)) return refuse({ certificateKey: ["Upload the accreditation certificate again."] });
+  if (!v.scanKey.startsWith(prefix)) return refuse({ scanKey: ["Upload the calibration scan again."] });
+  const certificate = await verifyStoredObject(v.certificateKey, DOCUMENT_RULE, v.certificateSha256);
+  if (!certificate.ok) return refuse({ certificateKey: [certificate.error] });
+  const scanFile = await verifyStoredObject(v.scanKey, SCAN_RULE, v.scanSha256);
+  if (!scanFile.ok) return refuse({ scanKey: [scanFile.error] });
+  const outcome = checkCalibrationScan(await readStoredText(v.scanKey), {
+    standard: v.standard,
+    instrumentName: v.instrumentName,
+    anode: v.anode,
+    monochromation: v.monochromation,
+    fileName: v.scanName,
+  });
+  if (!outcome.ok) return refuse({ scanKey: [`The calibration scan could not be checked: ${outcome.error}`] });
+  try {
+    await submitApplication({
+      labId: lab.organisationId,
+      actorUserId: user.id,
+      clientAddress: context.clientAddress,
+      description: v.description,
+      accreditationNumber: v.accreditationNumber,
+      accreditationExpiry: v.accreditationExpiry,
+      attestation: LICENCE_STATEMENT,
+      attestedName: v.attestedName,
+      standard: v.standard,
+      certificate: {
+        storageKey: v.certificateKey,
+        fileName: v.certificateName,
+        contentType: contentTypeFor(DOCUMENT_RULE, v.certificateName),
+        sizeBytes: certificate.size,
+        sha256: certificate.sha256,
+      },
+      scan: { storageKey: v.scanKey, fileName: v.scanName, contentType: "text/plain", sizeBytes: scanFile.size, sha256: scanFile.sha256 },
+      check: outcome.check,
+    });
+  } catch (err) {
+    if (err instanceof VettingConflict) return refuse({}, [err.message]);
+    throw err;
+  }
+  return redirectWithToast("/lab/vetting", { kind: "success", message: "Application handed in. An admin will review it." });
+}
+
+const STATE_TEXT: Record<VettingState, string> = {
+  applied: "Hand in the application below. Your lab is listed for clients only after an admin has approved it.",
+  in_review: "An admin is reviewing the application. You may still correct it and hand it in again.",
+  approved: "Your lab is approved and listed in the lab directory.",
+  rejected: "The application was not approved. Read the admin's note, correct the application and hand it in again.",
+  suspended: "Your lab is suspended and hidden from clients. Read the admin's note; an admin can reinstate the lab.",
+};
+
+export default function Vetting() {
+  const { labName, isManager, canSubmit, state, reviewNote, application, check } = useLoaderData<typeof loader>();
+  return (
+    <div className="space-y-6">
+      <PageHeader
+        title="Vetting application"
+        subtitle={`${labName}: ISO/IEC 17025 accreditation, radiation licence and a calibration scan`}
+        actions={<VettingBadge state={state} />}
+      />
+      <div className="card text-sm text-ink-700" role="status" aria-label="Vetting state">
+        <p>{STATE_TEXT[state]}</p>
+        {reviewNote ? <p className="mt-2 font-medium">Admin's note: {reviewNote}</p> : null}
+      </div>
+      {canSubmit ? (
+        <ApplicationForm application={application} />
+      ) : (
+        <ApplicationSummary application={application} note={isManager ? null : "Only a lab manager can hand in the application."} />
+      )}
+      {check ? <CalibrationSummary check={check} /> : null}
+    </div>
+  );
+}
+
+type ApplicationView = ReturnType<typeof useLoaderData<typeof loader>>["application"];
+
+function ApplicationSummary({ application, note }: { application: ApplicationView; note: string | null }) {
+  const standard = application.standard ? CALIBRATION_STANDARDS[application.standard as keyof typeof CALIBRATION_STANDARDS] : null;
+  const rows: [string, string][] = [
+    ["Description", application.description || "—"],
+    ["Accreditation number", application.accreditationNumber || "—"],
+    ["Accreditation expiry", application.accreditationExpiry || "—"],
+    ["Certificate", application.certificate ?? "—"],
+    ["Radiation licence", application.attestation ?? "not yet attested"],
+    ["Calibration standard", standard?.label ?? "—"],
+    ["Calibration scan", application.scan ?? "—"],
+  ];
+  return (
+    <section className="card" aria-label="Application as handed in">
+      {note ? <p className="mb-4 text-sm text-ink-600">{note}</p> : null}
+      <dl className="grid gap-x-6 gap-y-2 text-sm sm:grid-cols-[12rem_1fr]">
+        {rows.map(([k, v]) => (
+          <div key={k} className="contents">
+            <dt className="text-ink-500">{k}</dt>
+            <dd>{v}</dd>
+          </div>
+        ))}
+      </dl>
+    </section>
+  );
+}
+
+function ApplicationForm({ application }: { application: ApplicationView }) {
+  const actionData = useActionData<typeof action>();
+  const navigation = useNavigation();
+  const [form, fields] = useForm({
+    id: "vetting-application",
+    lastResult: actionData?.result,
+    defaultValue: {
+      description: application.description,
+      accreditationNumber: application.accreditationNumber,
+      accreditationExpiry: application.accreditationExpiry,
+      standard: application.standard ?? "si_srm640c",
+      anode: "Cu",
+      monochromation: "k_alpha_doublet",
+    },
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: VettingApplicationSchema }),
+    shouldValidate: "onSubmit",
+    shouldRevalidate: "onInput",
+  });
+  const busy = navigation.state !== "idle" && navigation.formAction === "/lab/vetting";
+  return (
+    <Form method="post" className="space-y-6" {...getFormProps(form)}>
+      <section className="card space-y-2">
+        <h2 className="mb-2 text-lg font-semibold">About the lab</h2>
+        <Field label="Description" id={fields.description.id} errors={fields.description.errors} hint="What you measure, for whom, and how.">
+          <textarea className="input min-h-28" {...getTextareaProps(fields.description)} />
+        </Field>
+      </section>
+
+      <section className="card space-y-2">
+        <h2 className="mb-2 text-lg font-semibold">ISO/IEC 17025 accreditation</h2>
+        <div className="grid gap-3 sm:grid-cols-2">
+          <Field label="Accreditation number" id={fields.accreditationNumber.id} errors={fields.accreditationNumber.errors}>
+            <input className="input" {...getInputProps(fields.accreditationNumber, { type: "text" })} />
+          </Field>
+          <Field label="Accreditation expires on" id={fields.accreditationExpiry.id} errors={fields.accreditationExpiry.errors}>
+            <input className="input" {...getInputProps(fields.accreditationExpiry, { type: "date" })} />
+          </Field>
+        </div>
+        <UploadedFileField
+          id="certificate-file"
+          label="Accreditation certificate (PDF, PNG or JPEG, up to 20 MB)"
+          accept=".pdf,.png,.jpg,.jpeg,application/pdf,image/png,image/jpeg"
+          purpose="accreditation_certificate"
+          names={{ key: fields.certificateKey.name, fileName: fields.certificateName.name, sha256: fields.certificateSha256.name }}
+          errorId={fields.certificateKey.errorId}
+          errors={fields.certificateKey.errors}
+        />
+      </section>
+
+      <section className="card space-y-2">
+        <h2 className="mb-2 text-lg font-semibold">Radiation licence</h2>
+        <label className="flex gap-3 text-sm">
+          <input className="mt-1" {...getInputProps(fields.attest, { type: "checkbox" })} />
+          <span>{LICENCE_STATEMENT}</span>
+        </label>
+        <FieldErrors id={fields.attest.errorId} errors={fields.attest.errors} />
+        <Field label="Your full name, as signature" id={fields.attestedName.id} errors={fields.attestedName.errors}>
+          <input className="input" autoComplete="name" {...getInputProps(fields.attestedName, { type: "text" })} />
+        </Field>
+      </section>
+
+      <section className="card space-y-2">
+        <h2 className="mb-2 text-lg font-semibold">Calibration scan</h2>
+        <fieldset>
+          <legend className="label">Line-position standard</legend>
+          <div className="grid gap-3 sm:grid-cols-2">
+            {CALIBRATION_STANDARD_KEYS.map((key) => (
+              <label
+                key={key}
+                className="flex cursor-pointer gap-3 rounded-lg border border-ink-300 p-3 text-sm has-[:checked]:border-beam-500 has-[:checked]:bg-beam-50"
+              >
+                <input type="radio" name={fields.standard.name} value={key} defaultChecked={fields.standard.initialValue === key} className="mt-1" />
+                <span>
+                  <span className="block font-semibold">{CALIBRATION_STANDARDS[key].label}</span>
+                  <span className="block text-xs text-ink-600">certified a = {CALIBRATION_STANDARDS[key].a} Å</span>
+                </span>
+              </label>
+            ))}
+          </div>
+          <FieldErrors id={fields.standard.errorId} errors={fields.standard.errors} />
+        </fieldset>
+        <div className="grid gap-3 sm:grid-cols-3">
+          <Field label="Instrument" id={fields.instrumentName.id} errors={fields.instrumentName.errors}>
+            <input className="input" {...getInputProps(fields.instrumentName, { type: "text" })} />
+          </Field>
+          <Field label="Anode" id={fields.anode.id} errors={fields.anode.errors}>
+            <select className="input" {...getSelectProps(fields.anode)}>
+              {ANODE_CHOICES.map((a) => (
+                <option key={a} value={a}>
+                  {a}
+                </option>
+              ))}
+            </select>
+          </Field>
+          <Field label="Monochromation" id={fields.monochromation.id} errors={fields.monochromation.errors}>
+            <select className="input" {...getSelectProps(fields.monochromation)}>
+              {MONOCHROMATION_CHOICES.map((m) => (
+                <option key={m} value={m}>
+                  {MONOCHROMATION_LABELS[m]}
+                </option>
+              ))}
+            </select>
+          </Field>
+        </div>
+        <UploadedFileField
+          id="scan-file"
+          label="Calibration scan (two-column xy, CSV or pdCIF text)"
+          accept=".xy,.xye,.csv,.txt,.dat,.cif"
+          purpose="calibration_scan"
+          names={{ key: fields.scanKey.name, fileName: fields.scanName.name, sha256: fields.scanSha256.name }}
+          errorId={fields.scanKey.errorId}
+          errors={fields.scanKey.errors}
+        />
+      </section>
+
+      <FormError errors={form.errors} />
+      <button type="submit" className="btn-primary" disabled={busy}>
+        {busy ? "Checking the calibration scan…" : "Hand in for review"}
+      </button>
+    </Form>
+  );
+}
+
+/** A direct upload whose stored file travels with the form as hidden fields. */
+function UploadedFileField(props: {
+  id: string;
+  label: string;
+  accept: string;
+  purpose: string;
+  names: { key: string; fileName: string; sha256: string };
+  errorId: string;
+  errors?: string[];
+}) {
+  const [file, setFile] = useState<UploadedFile | null>(null);
+  return (
+    <div>
+      <DirectUpload id={props.id} label={props.label} accept={props.accept} targetAction="/lab/vetting/upload" purpose={props.purpose} onUploaded={setFile} />
+      <input type="hidden" name={props.names.key} value={file?.storageKey ?? ""} />
+      <input type="hidden" name={props.names.fileName} value={file?.fileName ?? ""} />
+      <input type="hidden" name={props.names.sha256} value={file?.sha256 ?? ""} />
+      <FieldErrors id={props.errorId} errors={props.errors} />
+    </div>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Vetting application — Diffractory" }];
+}
