@@ -23,7 +23,8 @@ describe("lab directory", () => {
     await b.page.waitForURL(`${BASE_URL}/labs?source=Mo`);
     await b.page.getByRole("status").filter({ hasText: "1 lab" }).waitFor();
     expect(await b.page.getByRole("heading", { level: 2 }).allTextContents()).toEqual(["Lakeside Institute X-ray Core"]);
-    await b.page.getByLabel("Source (anode)").selectOption("");
+    await b.page.getByLabel("Source (anode)").selectOption({ label: "Any source" });
+    await b.page.waitForURL(`${BASE_URL}/labs`);
     await b.page.getByLabel("Temperature (K)").fill("1300");
     await b.page.waitForURL(`${BASE_URL}/labs?temperatureK=1300`);
     await b.page.getByRole("status").filter({ hasText: "1 lab" }).waitFor();
