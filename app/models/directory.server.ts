@@ -67,21 +67,27 @@ export async function searchDirectory(f: DirectoryFilters): Promise<{ labs: Dire
     turnaround_days: number | null;
     total: string;
   }>(sql`
-    select o.slug, o.name, o.city, o.country,
-      (select array_agg(distinct i.technique::text order by i.technique::text) from instruments i where i.lab_id = l.organisation_id and i.active) as techniques,
-      (select array_agg(distinct coalesce(i.anode::text, 'custom') order by coalesce(i.anode::text, 'custom')) from instruments i where i.lab_id = l.organisation_id and i.active) as sources,
-      (select min(${minDSql}) from instruments i where i.lab_id = l.organisation_id and i.active) as min_d,
-      (select min(s.min_temperature_k) from sample_stages s join instruments i on i.id = s.instrument_id where i.lab_id = l.organisation_id and i.active) as t_min,
-      (select max(s.max_temperature_k) from sample_stages s join instruments i on i.id = s.instrument_id where i.lab_id = l.organisation_id and i.active) as t_max,
-      ${priceExpr} as price_from, p.currency, p.turnaround_days,
-      count(*) over () as total
-    from labs l
-    join organisations o on o.id = l.organisation_id
-    left join price_lists p on p.lab_id = l.organisation_id
-    left join hazard_acceptance h on h.lab_id = l.organisation_id
-    where ${sql.join(where, sql` and `)}
-    order by o.name
-    limit ${PAGE_SIZE} offset ${offset}
+    with page as (
+      select l.organisation_id as id, o.slug, o.name, o.city, o.country,
+        ${priceExpr} as price_from, p.currency, p.turnaround_days,
+        count(*) over () as total
+      from labs l
+      join organisations o on o.id = l.organisation_id
+      left join price_lists p on p.lab_id = l.organisation_id
+      left join hazard_acceptance h on h.lab_id = l.organisation_id
+      where ${sql.join(where, sql` and `)}
+      order by o.name
+      limit ${PAGE_SIZE} offset ${offset}
+    )
+    -- The summaries are computed for the page's labs only, after the limit.
+    select page.slug, page.name, page.city, page.country, page.price_from, page.currency, page.turnaround_days, page.total,
+      (select array_agg(distinct i.technique::text order by i.technique::text) from instruments i where i.lab_id = page.id and i.active) as techniques,
+      (select array_agg(distinct coalesce(i.anode::text, 'custom') order by coalesce(i.anode::text, 'custom')) from instruments i where i.lab_id = page.id and i.active) as sources,
+      (select min(${minDSql}) from instruments i where i.lab_id = page.id and i.active) as min_d,
+      (select min(s.min_temperature_k) from sample_stages s join instruments i on i.id = s.instrument_id where i.lab_id = page.id and i.active) as t_min,
+      (select max(s.max_temperature_k) from sample_stages s join instruments i on i.id = s.instrument_id where i.lab_id = page.id and i.active) as t_max
+    from page
+    order by page.name
   `);
   const rows = result.rows;
   return {
