@@ -18,12 +18,23 @@ export default [
     layout("routes/workspace-layout.tsx", { id: "client-layout" }, [
       index("routes/client/home.tsx"),
       route("members", "routes/client/members.tsx"),
+      route("requests", "routes/client/requests.tsx"),
+      route("requests/new", "routes/client/request-samples.tsx", { id: "client-request-new" }),
+      route("requests/:id", "routes/client/request.tsx"),
+      route("requests/:id/edit/samples", "routes/client/request-samples.tsx", { id: "client-request-samples" }),
+      route("requests/:id/edit/hazards", "routes/client/request-hazards.tsx"),
+      route("requests/:id/edit/measurement", "routes/client/request-measurement.tsx"),
+      route("requests/:id/edit/labs", "routes/client/request-labs.tsx"),
+      route("requests/:id/edit/review", "routes/client/request-review.tsx"),
       route(":section", "routes/workspace-section.tsx", { id: "client-section" }),
     ]),
   ]),
   ...prefix("lab", [
     layout("routes/workspace-layout.tsx", { id: "lab-layout" }, [
       index("routes/lab/home.tsx"),
+      route("inbox", "routes/lab/inbox.tsx"),
+      route("requests/:id", "routes/lab/request.tsx"),
+      route("quotes", "routes/lab/quotes.tsx"),
       route("vetting", "routes/lab/vetting.tsx"),
       route("capabilities", "routes/lab/capabilities.tsx"),
       route("price-list", "routes/lab/price-list.tsx"),

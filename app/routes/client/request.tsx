@@ -1,0 +1,142 @@
+// A client's request: its samples and hazards, the labs' quotes side by side, and accepting one of them.
+import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { MatchReasons } from "~/components/match-reasons";
+import { formatDate, OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from "~/components/request-parts";
+import { EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
+import { matchLabsForRequest } from "~/models/matching.server";
+import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/quotes.server";
+import { requireOwnRequest, samplesOf, sdsLinks } from "~/models/requests.server";
+import { formatMoney } from "~/models/money";
+import { requireOrgRole } from "~/utils/permissions.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import type { Route } from "./+types/request";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "client");
+  const row = await requireOwnRequest(params.id, membership.organisation.id);
+  if (row.state === "draft") throw redirect(`/client/requests/${row.id}/edit/${row.draftStep}`);
+  const [samples, quotes, matches, order] = await Promise.all([samplesOf(row.id), quotesForRequest(row.id), matchLabsForRequest(row.id), orderForRequest(row.id)]);
+  return { request: row, samples, quotes, matches, order, sds: await sdsLinks(samples) };
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const { user, membership } = await requireOrgRole(request, "client");
+  const row = await requireOwnRequest(params.id, membership.organisation.id);
+  const form = await request.formData();
+  if (form.get("intent") !== "accept") return data({ error: "Choose what to do." }, { status: 400 });
+  const result = await acceptQuote(row.id, String(form.get("quoteId") ?? ""), membership.organisation.id, user.id);
+  if (!result.ok) return data({ error: result.error }, { status: 400 });
+  return redirectWithToast(`/client/requests/${row.id}`, { kind: "success", message: "Quote accepted. The order is awaiting payment." });
+}
+
+export default function ClientRequest() {
+  const { request: r, samples, quotes, matches, order, sds } = useLoaderData<typeof loader>();
+  const actionData = useActionData<typeof action>();
+  const navigation = useNavigation();
+  const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
+  const past = quotes.filter((q) => !(q.state === "sent" || q.state === "accepted"));
+  return (
+    <div>
+      <PageHeader
+        title={r.title}
+        subtitle={
+          <span className="inline-flex items-center gap-2">
+            <RequestStateBadge state={r.state} /> {samples.length} sample{samples.length === 1 ? "" : "s"}
+            {r.deadline ? ` · deadline ${formatDate(r.deadline)}` : ""}
+          </span>
+        }
+        actions={
+          <Link to="/client/requests" className="btn-secondary">
+            All requests
+          </Link>
+        }
+      />
+      {order ? (
+        <section className="card mb-6" aria-label="Order">
+          <div className="flex flex-wrap items-center justify-between gap-3">
+            <h2 className="text-lg font-semibold">Order</h2>
+            <OrderStateBadge state={order.state} />
+          </div>
+          <p className="mt-1 text-sm text-ink-600">
+            {formatMoney(order.amountMinor, order.currency)} · payment is the next step; the funds are then held until the data is delivered.
+          </p>
+          <ol className="mt-3 space-y-1 text-sm">
+            {order.events.map((e) => (
+              <li key={e.id}>
+                <span className="text-ink-500">{formatDate(e.at)}</span> — {e.toState.replace(/_/g, " ")}
+                {e.note ? `: ${e.note}` : ""}
+              </li>
+            ))}
+          </ol>
+        </section>
+      ) : null}
+
+      <h2 className="mb-3 text-lg font-semibold">Quotes</h2>
+      <FormError errors={actionData?.error ? [actionData.error] : null} />
+      {live.length === 0 ? (
+        <EmptyState title="No quotes yet">Matching labs see your request in their inbox; their quotes appear here side by side.</EmptyState>
+      ) : (
+        <div className="grid gap-4 md:grid-cols-2 xl:grid-cols-3" aria-label="Quotes side by side">
+          {live.map((q) => {
+            const match = matches.find((m) => m.labId === q.labId);
+            return (
+              <article key={q.id} className={`card flex flex-col ${q.state === "accepted" ? "border-ok-600" : ""}`} aria-label={`Quote from ${q.labName}`}>
+                <div className="flex items-start justify-between gap-2">
+                  <h3 className="font-semibold">{q.labName}</h3>
+                  <QuoteStateBadge state={q.state} />
+                </div>
+                <p className="mt-2 text-2xl font-bold">{formatMoney(q.totalMinor, q.currency)}</p>
+                <dl className="mt-2 grid grid-cols-[auto_1fr] gap-x-3 gap-y-0.5 text-sm">
+                  <dt className="text-ink-500">Turnaround</dt>
+                  <dd>{q.turnaroundDays} days</dd>
+                  <dt className="text-ink-500">Instrument</dt>
+                  <dd>{q.instrumentName ?? "—"}</dd>
+                  <dt className="text-ink-500">Source</dt>
+                  <dd>{q.source ?? "—"}</dd>
+                  <dt className="text-ink-500">Valid until</dt>
+                  <dd>{formatDate(q.validUntil)}</dd>
+                </dl>
+                <table className="mt-3 w-full text-xs">
+                  <tbody>
+                    {q.lineItems.map((i, n) => (
+                      <tr key={n} className="border-t border-ink-100">
+                        <td className="py-1">
+                          {i.quantity} × {i.description}
+                        </td>
+                        <td className="py-1 text-right">{formatMoney(i.totalMinor, q.currency)}</td>
+                      </tr>
+                    ))}
+                  </tbody>
+                </table>
+                {q.notes ? <p className="mt-2 text-sm text-ink-700">{q.notes}</p> : null}
+                {match ? <MatchReasons reasons={match.reasons} warnings={match.warnings} /> : null}
+                {r.state === "open" && q.state === "sent" ? (
+                  <Form method="post" className="mt-auto pt-4">
+                    <input type="hidden" name="intent" value="accept" />
+                    <input type="hidden" name="quoteId" value={q.id} />
+                    <button type="submit" className="btn-primary w-full" disabled={navigation.state !== "idle"}>
+                      Accept {q.labName}'s quote
+                    </button>
+                  </Form>
+                ) : null}
+              </article>
+            );
+          })}
+        </div>
+      )}
+      {past.length ? (
+        <p className="mt-3 text-sm text-ink-600">
+          Also received: {past.map((q) => `${q.labName} (${q.state}, ${formatMoney(q.totalMinor, q.currency)})`).join("; ")}.
+        </p>
+      ) : null}
+
+      <h2 className="mt-8 mb-3 text-lg font-semibold">Samples and hazard declaration</h2>
+      <SafetyNotice className="mb-4" />
+      <SampleCards samples={samples} sds={sds} />
+    </div>
+  );
+}
+
+export function meta({ data }: Route.MetaArgs) {
+  return [{ title: `${data?.request.title ?? "Request"} — Diffractory` }];
+}

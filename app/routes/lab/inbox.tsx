@@ -1,0 +1,84 @@
+// The lab's inbox: open requests its instruments and hazard acceptance fit, and requests it was invited to.
+import { inArray, eq } from "drizzle-orm";
+import { Link, useLoaderData } from "react-router";
+import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { requestsMatchingLab } from "~/models/matching.server";
+import { vettingStateOf } from "~/models/quotes.server";
+import { formatMoney } from "~/models/money";
+import { formatDate } from "~/components/request-parts";
+import { requireOrgRole } from "~/utils/permissions.server";
+import type { Route } from "./+types/inbox";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "lab");
+  const labId = membership.organisation.id;
+  const vetting = await vettingStateOf(labId);
+  if (vetting !== "approved") return { vetting, items: [] };
+  const found = await requestsMatchingLab(labId);
+  const ids = found.map((f) => f.requestId);
+  const rows = ids.length
+    ? await db
+        .select({ id: schema.requests.id, title: schema.requests.title, deadline: schema.requests.deadline, openedAt: schema.requests.openedAt, client: schema.organisations.name })
+        .from(schema.requests)
+        .innerJoin(schema.organisations, eq(schema.organisations.id, schema.requests.organisationId))
+        .where(inArray(schema.requests.id, ids))
+    : [];
+  const quoted = ids.length
+    ? await db.select({ requestId: schema.quotes.requestId, state: schema.quotes.state }).from(schema.quotes).where(inArray(schema.quotes.requestId, ids))
+    : [];
+  const items = found.flatMap((f) => {
+    const row = rows.find((r) => r.id === f.requestId);
+    if (!row) return [];
+    return [{ ...row, invited: f.invited, fits: f.match.fits, estimate: f.match.estimatedPriceMinor, currency: f.match.currency, warnings: f.match.warnings.length, quoted: quoted.some((q) => q.requestId === row.id && q.state === "sent") }];
+  });
+  return { vetting, items };
+}
+
+export default function LabInbox() {
+  const { vetting, items } = useLoaderData<typeof loader>();
+  if (vetting !== "approved") {
+    return (
+      <div>
+        <PageHeader title="Inbox" />
+        <EmptyState title="Not approved yet">Requests arrive here once an admin has approved your lab; only approved labs can quote.</EmptyState>
+      </div>
+    );
+  }
+  return (
+    <div>
+      <PageHeader title="Inbox" subtitle="Open requests your lab can serve, and invitations." />
+      {items.length === 0 ? (
+        <EmptyState title="No matching requests">Open requests that your instruments and hazard acceptance can serve, and invitations, arrive here.</EmptyState>
+      ) : (
+        <TableCard columns={["Request", "Client", "Fit", "Estimate", "Deadline", "Opened"]} caption="Matching requests">
+          {items.map((i) => (
+            <tr key={i.id}>
+              <td className="font-medium">
+                <Link to={`/lab/requests/${i.id}`} className="text-beam-700 underline">
+                  {i.title}
+                </Link>
+                <div className="mt-1 flex gap-1">
+                  {i.invited ? <Badge tone="brand">invited</Badge> : null}
+                  {i.quoted ? <Badge tone="ok">quoted</Badge> : null}
+                </div>
+              </td>
+              <td>{i.client}</td>
+              <td>
+                {i.fits ? <Badge tone="ok">fits</Badge> : <Badge tone="danger">does not fit</Badge>}
+                {i.warnings ? <span className="ml-1 text-xs text-caution-700">! {i.warnings} warning{i.warnings === 1 ? "" : "s"}</span> : null}
+              </td>
+              <td>{i.estimate !== null && i.currency ? formatMoney(i.estimate, i.currency) : "—"}</td>
+              <td>{i.deadline ? formatDate(i.deadline) : "—"}</td>
+              <td>{i.openedAt ? formatDate(i.openedAt) : "—"}</td>
+            </tr>
+          ))}
+        </TableCard>
+      )}
+    </div>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Inbox — Diffractory" }];
+}

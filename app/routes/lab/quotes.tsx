@@ -1,0 +1,51 @@
+// The lab's quotes with their state; lapsed ones are marked before the list is read.
+import { Link, useLoaderData } from "react-router";
+import { formatDate, QuoteStateBadge } from "~/components/request-parts";
+import { EmptyState, PageHeader, TableCard } from "~/components/ui";
+import { quotesForLab } from "~/models/quotes.server";
+import { formatMoney } from "~/models/money";
+import { requireOrgRole } from "~/utils/permissions.server";
+import type { Route } from "./+types/quotes";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "lab");
+  return { quotes: await quotesForLab(membership.organisation.id) };
+}
+
+export default function LabQuotes() {
+  const { quotes } = useLoaderData<typeof loader>();
+  return (
+    <div>
+      <PageHeader title="Quotes" subtitle="Quotes your lab has sent, and what became of them." />
+      {quotes.length === 0 ? (
+        <EmptyState title="No quotes sent">Quotes you send on requests from your inbox are listed here with their state.</EmptyState>
+      ) : (
+        <TableCard columns={["Request", "Total", "Instrument", "Turnaround", "Valid until", "State"]} caption="Quotes">
+          {quotes.map((q) => (
+            <tr key={q.id}>
+              <td className="font-medium">
+                <Link to={`/lab/requests/${q.requestId}`} className="text-beam-700 underline">
+                  {q.requestTitle}
+                </Link>
+              </td>
+              <td>{formatMoney(q.totalMinor, q.currency)}</td>
+              <td>
+                {q.instrumentName ?? "—"}
+                {q.source ? <span className="text-ink-500"> · {q.source}</span> : null}
+              </td>
+              <td>{q.turnaroundDays} days</td>
+              <td>{formatDate(q.validUntil)}</td>
+              <td>
+                <QuoteStateBadge state={q.state} />
+              </td>
+            </tr>
+          ))}
+        </TableCard>
+      )}
+    </div>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Quotes — Diffractory" }];
+}

@@ -1,0 +1,249 @@
+// A request as a lab sees it: the hazard declaration to acknowledge, then the quote builder; the lab's own quotes.
+import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { eq } from "drizzle-orm";
+import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { MatchReasons } from "~/components/match-reasons";
+import { formatDate, QuoteStateBadge, SampleCards } from "~/components/request-parts";
+import { Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { labelOf, matchLab, sourceLabel } from "~/models/matching";
+import { loadMatchLabs, loadMatchRequest } from "~/models/matching.server";
+import { formatMoney, toMajorText } from "~/models/money";
+import { QuoteSchema } from "~/models/quote-forms";
+import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, requireLabQuote, sendQuote, vettingStateOf, withdrawQuote } from "~/models/quotes.server";
+import { acknowledgeHazards, acknowledgementOf, requireRequestForLab, samplesOf, sdsLinks } from "~/models/requests.server";
+import { requireOrgRole } from "~/utils/permissions.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import type { Route } from "./+types/request";
+
+const isoInDays = (days: number) => new Date(Date.now() + days * 86_400_000).toISOString().slice(0, 10);
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "lab");
+  const labId = membership.organisation.id;
+  const row = await requireRequestForLab(params.id, labId);
+  const [samples, acknowledgement, vetting, prices, instruments, ownQuotes, [client], matchRequest, [lab]] = await Promise.all([
+    samplesOf(row.id),
+    acknowledgementOf(row.id, labId),
+    vettingStateOf(labId),
+    priceListOf(labId),
+    instrumentsOf(labId),
+    quotesForLab(labId),
+    db.select({ name: schema.organisations.name }).from(schema.organisations).where(eq(schema.organisations.id, row.organisationId)),
+    loadMatchRequest(row.id),
+    loadMatchLabs([labId]),
+  ]);
+  const match = matchRequest && lab ? matchLab(matchRequest, lab) : null;
+  const quotes = ownQuotes.filter((q) => q.requestId === row.id);
+  const draft = draftLineItems(row, samples, prices);
+  return {
+    request: row,
+    client: client?.name ?? "",
+    samples,
+    sds: await sdsLinks(samples),
+    acknowledgement,
+    approved: vetting === "approved",
+    match,
+    quotes,
+    instruments: instruments.map((i) => ({ id: i.id, label: `${i.name} (${sourceLabel(i)})` })),
+    currency: prices?.currency ?? row.currency,
+    defaults: {
+      items: draft.length ? draft.map((i) => ({ description: i.description, quantity: String(i.quantity), unitPrice: toMajorText(i.unitMinor) })) : [{ description: "", quantity: "1", unitPrice: "" }],
+      validUntil: isoInDays(14),
+      turnaroundDays: String(prices?.turnaroundDays ?? 10),
+      instrumentId: match?.bestInstrumentId ?? instruments[0]?.id ?? "",
+      notes: "",
+    },
+  };
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const { user, membership } = await requireOrgRole(request, "lab");
+  const labId = membership.organisation.id;
+  const row = await requireRequestForLab(params.id, labId);
+  const formData = await request.formData();
+  const intent = formData.get("intent");
+  if (intent === "acknowledge") {
+    if ((await vettingStateOf(labId)) !== "approved") return data({ error: "Only approved labs can acknowledge and quote." }, { status: 400 });
+    await acknowledgeHazards(row.id, labId, user.id);
+    return redirectWithToast(`/lab/requests/${row.id}`, { kind: "success", message: "Hazard declaration acknowledged." });
+  }
+  if (intent === "withdraw") {
+    const quote = await requireLabQuote(String(formData.get("quoteId") ?? ""), labId);
+    const done = await withdrawQuote(quote.id, labId, user.id);
+    if (done.error) return data({ error: done.error }, { status: 400 });
+    return redirectWithToast(`/lab/requests/${row.id}`, { kind: "success", message: "Quote withdrawn." });
+  }
+  const submission = parseWithZod(formData, { schema: QuoteSchema });
+  if (submission.status !== "success") return data({ result: submission.reply() }, { status: submission.status === "error" ? 400 : 200 });
+  const sent = await sendQuote(row, labId, user.id, submission.value);
+  if (!sent.ok) {
+    return data({ result: submission.reply({ formErrors: sent.formError ? [sent.formError] : undefined, fieldErrors: sent.fieldErrors }) }, { status: 400 });
+  }
+  return redirectWithToast(`/lab/requests/${row.id}`, { kind: "success", message: "Quote sent to the client." });
+}
+
+export default function LabRequest() {
+  const { request: r, client, samples, sds, acknowledgement, approved, match, quotes } = useLoaderData<typeof loader>();
+  const actionData = useActionData<typeof action>();
+  const navigation = useNavigation();
+  const live = quotes.find((q) => q.state === "sent" || q.state === "accepted");
+  const range = r.rangeMin === null ? "—" : `${r.rangeMin}–${r.rangeMax} ${r.rangeKind === "d_spacing" ? "Å (d-spacing)" : "° 2θ"}`;
+  return (
+    <div>
+      <PageHeader title={r.title} subtitle={`${client} · ${labelOf(r.technique)} · ${samples.length} sample${samples.length === 1 ? "" : "s"}${r.deadline ? ` · deadline ${formatDate(r.deadline)}` : ""}`} />
+      <section className="card mb-4 text-sm" aria-label="Measurement needs">
+        <p>
+          Range {range}; source {r.preferredSource === "any" ? "any" : `${r.preferredSource} Kα`}; {r.temperaturePointsK.length ? `${r.temperaturePointsK.join(", ")} K` : "room temperature"} in{" "}
+          {r.atmosphere}; {r.quality.replace(/_/g, " ")} quality.
+        </p>
+        {match ? <MatchReasons reasons={match.reasons} warnings={match.warnings} /> : null}
+      </section>
+
+      <h2 className="mb-3 text-lg font-semibold">Hazard declaration</h2>
+      <SafetyNotice className="mb-4" />
+      <SampleCards samples={samples} sds={sds} />
+      <div className="card mt-4">
+        {acknowledgement ? (
+          <p className="text-sm text-ok-700">
+            <span aria-hidden="true">✓ </span>Hazard declaration acknowledged by {acknowledgement.name} on {formatDate(acknowledgement.at)}.
+          </p>
+        ) : (
+          <Form method="post" className="flex flex-wrap items-center justify-between gap-3">
+            <p className="text-sm text-ink-700">A member of your lab must acknowledge the declaration above before any quote can be sent.</p>
+            <input type="hidden" name="intent" value="acknowledge" />
+            <button type="submit" className="btn-primary" disabled={!approved || navigation.state !== "idle"}>
+              Acknowledge hazard declaration
+            </button>
+          </Form>
+        )}
+        {actionData && "error" in actionData ? <FormError errors={[actionData.error]} /> : null}
+      </div>
+
+      {quotes.length ? (
+        <section className="mt-6" aria-label="Your quotes">
+          <h2 className="mb-3 text-lg font-semibold">Your quotes</h2>
+          <ul className="space-y-2">
+            {quotes.map((q) => (
+              <li key={q.id} className="card flex flex-wrap items-center justify-between gap-3 text-sm">
+                <span>
+                  <QuoteStateBadge state={q.state} /> {formatMoney(q.totalMinor, q.currency)} · {q.turnaroundDays} days · valid until {formatDate(q.validUntil)}
+                </span>
+                {q.state === "sent" ? (
+                  <Form method="post">
+                    <input type="hidden" name="intent" value="withdraw" />
+                    <input type="hidden" name="quoteId" value={q.id} />
+                    <button type="submit" className="btn-secondary">
+                      Withdraw quote
+                    </button>
+                  </Form>
+                ) : null}
+              </li>
+            ))}
+          </ul>
+        </section>
+      ) : null}
+
+      {acknowledgement && approved && r.state === "open" && !live ? <QuoteBuilder /> : null}
+    </div>
+  );
+}
+
+function QuoteBuilder() {
+  const { instruments, currency, defaults } = useLoaderData<typeof loader>();
+  const actionData = useActionData<typeof action>();
+  const navigation = useNavigation();
+  const [form, fields] = useForm({
+    lastResult: actionData && "result" in actionData ? actionData.result : undefined,
+    defaultValue: defaults,
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: QuoteSchema }),
+    shouldValidate: "onBlur",
+    shouldRevalidate: "onInput",
+  });
+  const items = fields.items.getFieldList();
+  return (
+    <section className="card mt-6" aria-label="Quote builder">
+      <h2 className="text-lg font-semibold">Quote</h2>
+      <p className="mb-4 text-sm text-ink-600">Drafted from your price list; edit the items as needed. Prices in {currency}; the total is added up when you send.</p>
+      <Form method="post" {...getFormProps(form)} className="space-y-2">
+        <input type="hidden" name="intent" value="send" />
+        <table className="table">
+          <thead>
+            <tr>
+              <th scope="col">Description</th>
+              <th scope="col">Quantity</th>
+              <th scope="col">Unit price ({currency})</th>
+              <th scope="col">
+                <span className="sr-only">Remove</span>
+              </th>
+            </tr>
+          </thead>
+          <tbody>
+            {items.map((item, index) => {
+              const f = item.getFieldset();
+              return (
+                <tr key={item.key}>
+                  <td>
+                    <input className="input" aria-label={`Item ${index + 1} description`} {...getInputProps(f.description, { type: "text", ariaAttributes: true })} />
+                    <FieldErrors id={`${f.description.id}-error`} errors={f.description.errors} />
+                  </td>
+                  <td className="w-28">
+                    <input className="input" inputMode="numeric" aria-label={`Item ${index + 1} quantity`} {...getInputProps(f.quantity, { type: "text" })} />
+                    <FieldErrors id={`${f.quantity.id}-error`} errors={f.quantity.errors} />
+                  </td>
+                  <td className="w-40">
+                    <input className="input" inputMode="decimal" aria-label={`Item ${index + 1} unit price`} {...getInputProps(f.unitPrice, { type: "text" })} />
+                    <FieldErrors id={`${f.unitPrice.id}-error`} errors={f.unitPrice.errors} />
+                  </td>
+                  <td className="w-24">
+                    {items.length > 1 ? (
+                      <button type="submit" className="btn-quiet" {...form.remove.getButtonProps({ name: fields.items.name, index })}>
+                        Remove
+                      </button>
+                    ) : null}
+                  </td>
+                </tr>
+              );
+            })}
+          </tbody>
+        </table>
+        <FieldErrors id={`${fields.items.id}-error`} errors={fields.items.errors} />
+        <button type="submit" className="btn-secondary" {...form.insert.getButtonProps({ name: fields.items.name, defaultValue: { description: "", quantity: "1", unitPrice: "" } })}>
+          Add an item
+        </button>
+        <div className="grid gap-4 sm:grid-cols-3">
+          <Field label="Valid until" id={fields.validUntil.id} errors={fields.validUntil.errors}>
+            <input className="input" {...getInputProps(fields.validUntil, { type: "date" })} />
+          </Field>
+          <Field label="Turnaround (days)" id={fields.turnaroundDays.id} errors={fields.turnaroundDays.errors}>
+            <input className="input" inputMode="numeric" {...getInputProps(fields.turnaroundDays, { type: "text" })} />
+          </Field>
+          <Field label="Instrument" id={fields.instrumentId.id} errors={fields.instrumentId.errors}>
+            <select className="input" {...getSelectProps(fields.instrumentId)}>
+              <option value="">Choose…</option>
+              {instruments.map((i) => (
+                <option key={i.id} value={i.id}>
+                  {i.label}
+                </option>
+              ))}
+            </select>
+          </Field>
+        </div>
+        <Field label="Notes for the client" id={fields.notes.id} errors={fields.notes.errors}>
+          <textarea className="input" rows={3} {...getTextareaProps(fields.notes)} />
+        </Field>
+        <FormError errors={form.errors} />
+        <div className="flex justify-end">
+          <button type="submit" className="btn-primary" disabled={navigation.state !== "idle"}>
+            Send quote
+          </button>
+        </div>
+      </Form>
+    </section>
+  );
+}
+
+export function meta({ data }: Route.MetaArgs) {
+  return [{ title: `${data?.request.title ?? "Request"} — Diffractory` }];
+}
