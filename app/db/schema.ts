@@ -459,3 +459,100 @@ export type MarketRequest = typeof requests.$inferSelect;
 export type Sample = typeof samples.$inferSelect;
 export type Quote = typeof quotes.$inferSelect;
 export type Order = typeof orders.$inferSelect;
+
+// ───────────────────────── Money: payments, ledger, webhooks, disputes ─────────────────────────
+
+export const paymentStatus = pgEnum("payment_status", ["open", "paid", "failed", "expired"]);
+export const ledgerKind = pgEnum("ledger_kind", ["payment_held", "payout", "platform_fee", "refund"]);
+export const disputeState = pgEnum("dispute_state", ["open", "resolved"]);
+
+/** One checkout attempt for an order at the payment provider. */
+export const payments = pgTable(
+  "payments",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    orderId: uuid("order_id")
+      .notNull()
+      .references(() => orders.id, { onDelete: "restrict" }),
+    checkoutSessionId: text("checkout_session_id").notNull(),
+    paymentIntentId: text("payment_intent_id"),
+    chargeId: text("charge_id"),
+    status: paymentStatus("status").notNull().default("open"),
+    amountMinor: integer("amount_minor").notNull(),
+    currency: text("currency").notNull(),
+    lastError: text("last_error"),
+    createdBy: uuid("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [uniqueIndex("payments_session_idx").on(t.checkoutSessionId), index("payments_order_idx").on(t.orderId)],
+);
+
+/**
+ * A balanced set of ledger entries for one money movement. The provider object behind it (charge,
+ * transfer, refund) is unique per kind, so processing the same event twice cannot post twice.
+ */
+export const ledgerTransactions = pgTable(
+  "ledger_transactions",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    kind: ledgerKind("kind").notNull(),
+    orderId: uuid("order_id").references(() => orders.id, { onDelete: "restrict" }),
+    currency: text("currency").notNull(),
+    providerObjectId: text("provider_object_id").notNull(),
+    memo: text("memo").notNull().default(""),
+    createdAt: createdAt(),
+  },
+  (t) => [
+    uniqueIndex("ledger_transactions_provider_idx").on(t.kind, t.providerObjectId),
+    index("ledger_transactions_order_idx").on(t.orderId),
+    index("ledger_transactions_created_idx").on(t.createdAt),
+  ],
+);
+
+/** One side of a ledger transaction: a signed amount (debit positive, credit negative) on an account. */
+export const ledgerEntries = pgTable(
+  "ledger_entries",
+  {
+    id: bigserial("id", { mode: "number" }).primaryKey(),
+    transactionId: uuid("transaction_id")
+      .notNull()
+      .references(() => ledgerTransactions.id, { onDelete: "restrict" }),
+    account: text("account").notNull(),
+    amountMinor: integer("amount_minor").notNull(),
+    currency: text("currency").notNull(),
+  },
+  (t) => [index("ledger_entries_transaction_idx").on(t.transactionId), index("ledger_entries_account_idx").on(t.account)],
+);
+
+/** Provider webhook events by id: stored once, processed once. */
+export const webhookEvents = pgTable("webhook_events", {
+  id: text("id").primaryKey(),
+  type: text("type").notNull(),
+  payload: jsonb("payload").$type<Record<string, unknown>>().notNull(),
+  receivedAt: timestamp("received_at", { withTimezone: true }).notNull().defaultNow(),
+  processedAt: timestamp("processed_at", { withTimezone: true }),
+});
+
+export const disputes = pgTable(
+  "disputes",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    orderId: uuid("order_id")
+      .notNull()
+      .references(() => orders.id, { onDelete: "restrict" }),
+    state: disputeState("state").notNull().default("open"),
+    openedBy: uuid("opened_by").references(() => users.id, { onDelete: "set null" }),
+    reason: text("reason").notNull(),
+    openedAt: createdAt(),
+    refundMinor: integer("refund_minor"),
+    payoutMinor: integer("payout_minor"),
+    decidedBy: uuid("decided_by").references(() => users.id, { onDelete: "set null" }),
+    decidedAt: timestamp("decided_at", { withTimezone: true }),
+    decisionReason: text("decision_reason"),
+  },
+  (t) => [uniqueIndex("disputes_order_idx").on(t.orderId)],
+);
+
+export type Payment = typeof payments.$inferSelect;
+export type Dispute = typeof disputes.$inferSelect;
