@@ -423,6 +423,10 @@ export const orders = pgTable(
     amountMinor: integer("amount_minor").notNull(),
     currency: text("currency").notNull(),
     reviewWindowDays: integer("review_window_days").notNull().default(7),
+    /** The platform fee in basis points, fixed when the order is made (default 800 = 8 %). */
+    platformFeeBps: integer("platform_fee_bps").notNull().default(800),
+    /** When the data was delivered; the review window runs from here. */
+    deliveredAt: timestamp("delivered_at", { withTimezone: true }),
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
