@@ -8,11 +8,15 @@
 // clipped away; a hump wider than it survives. The scan is first averaged into bins of about a third of
 // a peak width, so m stays a fixed number of bins whatever the step: O(n) in all.
 
+import { median } from "./sorted";
+
 export interface BackgroundOptions {
   /** Typical peak FWHM in degrees 2θ (from estimatePeakWidth). */
   peakFwhm: number;
   /** Clipping half-window in FWHMs; wide enough to clear a cluster of three overlapping peaks. */
   windowInFwhm?: number;
+  /** Variance of each intensity; with it the clipping's bias toward the noise's lower edge is removed. */
+  variance?: Float64Array;
 }
 
 const BINS_PER_FWHM = 3;
@@ -39,7 +43,26 @@ export function estimateBackground(twoTheta: Float64Array, intensity: Float64Arr
   }
   const windowBins = Math.max(2, Math.round(((options.windowInFwhm ?? 4) * pointsPerFwhm) / binSize));
   const clipped = snip(binY, windowBins);
-  return interpolate(binX, clipped, twoTheta);
+  const background = interpolate(binX, clipped, twoTheta);
+  if (options.variance) removeClippingBias(intensity, background, options.variance);
+  return background;
+}
+
+/**
+ * Clipping follows the lower edge of the noise, so the raw SNIP background sits about one standard
+ * deviation low. Points within 2.5 σ of it are background; the median of their normalised residuals is
+ * that bias, added back in units of each point's σ.
+ */
+function removeClippingBias(intensity: Float64Array, background: Float64Array, variance: Float64Array): void {
+  const n = intensity.length;
+  const residuals: number[] = [];
+  for (let i = 0; i < n; i += Math.max(1, Math.floor(n / 20000))) {
+    const z = (intensity[i] - background[i]) / Math.sqrt(variance[i]);
+    if (z < 2.5) residuals.push(z);
+  }
+  const bias = median(residuals);
+  if (!(bias > 0)) return;
+  for (let i = 0; i < n; i++) background[i] += bias * Math.sqrt(variance[i]);
 }
 
 // The transform compresses the dynamic range so strong and weak peaks are clipped alike.

@@ -120,9 +120,11 @@ export function intensityVariance(intensity: Float64Array, esd?: Float64Array): 
 
 /**
  * Typical FWHM (degrees) of the strongest peaks, measured directly at half height above the local
- * minimum; it sets the background window and the search filter before any fit.
+ * minimum; it sets the background window and the search filter before any fit. Only maxima standing well
+ * clear of the noise count, so noise spikes on a weak pattern do not pass for narrow peaks; without any,
+ * ten steps (scans are sampled with at least five points across a FWHM, REFERENCE.md).
  */
-export function estimatePeakWidth(twoTheta: Float64Array, intensity: Float64Array): number {
+export function estimatePeakWidth(twoTheta: Float64Array, intensity: Float64Array, variance?: Float64Array): number {
   const n = twoTheta.length;
   const step = (twoTheta[n - 1] - twoTheta[0]) / (n - 1);
   const smooth = boxSmooth(intensity, 1);
@@ -134,21 +136,25 @@ export function estimatePeakWidth(twoTheta: Float64Array, intensity: Float64Arra
   const widths: number[] = [];
   const reach = Math.max(20, Math.round(3 / step));
   const taken: number[] = [];
-  for (const i of maxima) {
+  for (const i of maxima.slice(0, 400)) {
     if (widths.length >= 9) break;
-    if (taken.some((j) => Math.abs(j - i) < 10)) continue;
+    if (taken.some((j) => Math.abs(twoTheta[j] - twoTheta[i]) < 0.5)) continue;
+    let base = smooth[i];
+    for (let j = Math.max(0, i - reach); j <= Math.min(n - 1, i + reach); j++) base = Math.min(base, smooth[j]);
+    // The three-point mean has a third of a point's variance; the minimum over ±3° lies some three
+    // standard deviations below the mean, so twelve above it is about nine above the noise.
+    if (variance && smooth[i] - base < 12 * Math.sqrt(variance[i] / 3)) continue;
     taken.push(i);
     let lo = i;
     let hi = i;
-    let base = smooth[i];
-    for (let j = Math.max(0, i - reach); j <= Math.min(n - 1, i + reach); j++) base = Math.min(base, smooth[j]);
     const half = base + 0.5 * (smooth[i] - base);
     while (lo > 0 && smooth[lo] > half) lo--;
     while (hi < n - 1 && smooth[hi] > half) hi++;
-    // Only one side of a Kα doublet or a shoulder may be clean; the narrower half-width is the safer one.
+    // Only one side of a Kα doublet or a shoulder may be clean: when the half-widths disagree by more
+    // than a third, the narrower one is the safer.
     const left = twoTheta[i] - twoTheta[lo];
     const right = twoTheta[hi] - twoTheta[i];
-    widths.push(2 * Math.min(left, right));
+    widths.push(Math.abs(left - right) < 0.33 * Math.max(left, right) ? left + right : 2 * Math.min(left, right));
   }
   const w = median(widths);
   return Number.isFinite(w) && w > 0 ? Math.max(w, 2 * step) : 10 * step;
@@ -178,9 +184,11 @@ interface Candidate {
 }
 
 /**
- * Peak candidates: local maxima of the negated second derivative of a Gaussian matched to the peak width,
- * kept when the filter output exceeds `threshold` of its own standard deviation, propagated from the
- * intensity variances (the usual second-derivative search, noise-aware through counting statistics).
+ * Peak candidates: local maxima of the negated second derivative of a Gaussian matched to the peak width
+ * (it separates overlapping peaks and ignores a smooth background), kept when that filter's output exceeds
+ * `threshold` standard deviations, propagated from the intensity variances — or, for weak isolated peaks,
+ * when the Gaussian-weighted net intensity above the background exceeds `threshold` + 1 of its own
+ * (the more sensitive matched filter; common practice).
  */
 export function searchPeaks(
   twoTheta: Float64Array,
@@ -188,6 +196,7 @@ export function searchPeaks(
   variance: Float64Array,
   fwhm: number,
   threshold: number,
+  net?: Float64Array,
 ): Candidate[] {
   const n = twoTheta.length;
   const step = (twoTheta[n - 1] - twoTheta[0]) / (n - 1);
@@ -203,22 +212,38 @@ export function searchPeaks(
   mean /= kernel.length;
   // Zero sum: a constant or linear background gives no response.
   for (let j = 0; j < kernel.length; j++) kernel[j] -= mean;
+  const gauss = new Float64Array(2 * half + 1);
+  for (let j = -half; j <= half; j++) gauss[j + half] = Math.exp(-0.5 * (j / sigma) ** 2);
   const response = new Float64Array(n);
   const score = new Float64Array(n);
+  const matched = new Float64Array(n);
   for (let i = half; i < n - half; i++) {
     let s = 0;
     let v = 0;
+    let g = 0;
+    let gv = 0;
     for (let j = -half; j <= half; j++) {
       const c = kernel[j + half];
+      const vij = variance[i + j];
       s += c * intensity[i + j];
-      v += c * c * variance[i + j];
+      v += c * c * vij;
+      if (net) {
+        const w = gauss[j + half];
+        g += w * net[i + j];
+        gv += w * w * vij;
+      }
     }
     response[i] = s;
     score[i] = v > 0 ? s / Math.sqrt(v) : 0;
+    matched[i] = gv > 0 ? g / Math.sqrt(gv) : 0;
   }
+  // A matched-filter detection must be that filter's own maximum within a FWHM: on the tail of a strong
+  // peak the net intensity is high but falls monotonically.
+  const reach = Math.max(1, Math.round(fwhm / step));
   const found: Candidate[] = [];
   for (let i = half + 1; i < n - half - 1; i++) {
-    if (score[i] > threshold && response[i] > response[i - 1] && response[i] >= response[i + 1]) {
+    const significant = score[i] > threshold || (score[i] > 0 && matched[i] > threshold + 1 && isPeakOf(matched, i, reach));
+    if (significant && response[i] > response[i - 1] && response[i] >= response[i + 1]) {
       // Parabolic interpolation of the filter maximum.
       const a = response[i - 1];
       const b = response[i];
@@ -231,6 +256,12 @@ export function searchPeaks(
   return found;
 }
 
+// Within 10 % of the largest value nearby: the two filters' maxima may sit a point or two apart.
+function isPeakOf(values: Float64Array, i: number, reach: number): boolean {
+  for (let j = Math.max(0, i - reach); j <= Math.min(values.length - 1, i + reach); j++) if (0.9 * values[j] > values[i]) return false;
+  return true;
+}
+
 /**
  * The search on bins of about a fifth of a FWHM when the scan is stepped more finely than ten points per
  * FWHM: the filter sees the same peaks and its cost stops growing with the number of points.
@@ -239,15 +270,17 @@ function searchBinned(
   twoTheta: Float64Array,
   intensity: Float64Array,
   variance: Float64Array,
+  net: Float64Array,
   fwhm: number,
   threshold: number,
 ): Candidate[] {
   const n = twoTheta.length;
   const step = (twoTheta[n - 1] - twoTheta[0]) / (n - 1);
   const bin = Math.floor(fwhm / step / 5);
-  if (bin < 2) return searchPeaks(twoTheta, intensity, variance, fwhm, threshold);
+  if (bin < 2) return searchPeaks(twoTheta, intensity, variance, fwhm, threshold, net);
   const { x, y, variance: v } = binScan(twoTheta, intensity, variance, 0, Math.floor(n / bin), bin);
-  return searchPeaks(x, y, v, fwhm, threshold).map((c) => ({ ...c, index: Math.min(n - 1, c.index * bin + (bin >> 1)) }));
+  const binnedNet = binScan(twoTheta, net, variance, 0, Math.floor(n / bin), bin).y;
+  return searchPeaks(x, y, v, fwhm, threshold, binnedNet).map((c) => ({ ...c, index: Math.min(n - 1, c.index * bin + (bin >> 1)) }));
 }
 
 /** Means of `count` bins of `bin` points from `start`: angle, intensity, and the variance of the mean. */
@@ -297,16 +330,15 @@ interface ClusterFit {
 export function analysePeaks(twoTheta: Float64Array, intensity: Float64Array, options: PeakSearchOptions): PeakAnalysis {
   const n = twoTheta.length;
   const variance = intensityVariance(intensity, options.esd);
-  const typicalFwhm = estimatePeakWidth(twoTheta, intensity);
-  const background = estimateBackground(twoTheta, intensity, { peakFwhm: typicalFwhm });
-  const candidates = searchBinned(twoTheta, intensity, variance, typicalFwhm, options.threshold ?? 4);
-  const lines = options.lines;
-  const starts = dropSatellites(candidates, lines, typicalFwhm).map((c): PeakStart => {
-    const net = intensity[c.index] - background[c.index];
-    return { twoTheta: c.twoTheta, height: Math.max(net, 0), fwhm: typicalFwhm };
-  });
+  const typicalFwhm = estimatePeakWidth(twoTheta, intensity, variance);
+  const background = estimateBackground(twoTheta, intensity, { peakFwhm: typicalFwhm, variance });
   const net = new Float64Array(n);
   for (let i = 0; i < n; i++) net[i] = intensity[i] - background[i];
+  const candidates = searchBinned(twoTheta, intensity, variance, net, typicalFwhm, options.threshold ?? 4);
+  const lines = options.lines;
+  const starts = dropSatellites(candidates, lines, typicalFwhm).map(
+    (c): PeakStart => ({ twoTheta: c.twoTheta, height: Math.max(net[c.index], 0), fwhm: typicalFwhm }),
+  );
   const fittedProfile = Float64Array.from(background);
   const peaks: FittedPeak[] = [];
   let claimed = 0;
@@ -398,8 +430,9 @@ function fitCluster(
 ): ClusterFit | null {
   const first = cluster[0].twoTheta;
   const last = lastLinePosition(cluster[cluster.length - 1].twoTheta, lines);
-  const start = lowerBound(twoTheta, first - 2.5 * fwhm);
-  const end = Math.min(twoTheta.length, lowerBound(twoTheta, last + 2.5 * fwhm));
+  // Three FWHMs of margin: enough baseline on each side to tell the local background from the peak.
+  const start = lowerBound(twoTheta, first - 3 * fwhm);
+  const end = Math.min(twoTheta.length, lowerBound(twoTheta, last + 3 * fwhm));
   // Finely stepped scans are fitted on bins of about a sixth of a FWHM: the profile hardly changes
   // across a bin, the mean of a symmetric bin moves no centre, and the cost no longer grows with the
   // number of points per peak.

@@ -160,7 +160,12 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
     }
     if (fit) break;
   }
-  for (const a of assignments) a.twoThetaCalc = predict(qOf(system, state.p, a.reflection), state.shift, options, radius);
+  // The assigned reflections were listed before the last step; give them the final cell's d and position.
+  for (const a of assignments) {
+    const q = qOf(system, state.p, a.reflection);
+    a.reflection = { ...a.reflection, d: 1 / Math.sqrt(q) };
+    a.twoThetaCalc = predict(q, state.shift, options, radius);
+  }
   const claimed = new Set(assignments.map((a) => a.peak));
   const unindexed = peaks.map((_, i) => i).filter((i) => !claimed.has(i));
   const finalCovariance = fit ? scaledCovariance(fit) : null;
