@@ -29,6 +29,8 @@ export const MONOCHROMATION_LABELS: Record<Monochromation, string> = {
   k_beta_filtered: "Kβ filter (Kα doublet remains)",
 };
 
+export const MONOCHROMATION_OPTIONS = MONOCHROMATION_CHOICES.map((m) => ({ value: m, label: MONOCHROMATION_LABELS[m] }));
+
 export const DETECTOR_KINDS = ["point", "strip_1d", "area_2d"] as const;
 export const DETECTOR_LABELS: Record<(typeof DETECTOR_KINDS)[number], string> = {
   point: "Point detector",

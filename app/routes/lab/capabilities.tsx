@@ -1,9 +1,10 @@
 // The capabilities editor: instruments with their sources, ranges and stages, and the hazards the lab accepts.
-import { getCollectionProps, getFormProps, getInputProps, getSelectProps, useForm, type SubmissionResult } from "@conform-to/react";
+import { getCollectionProps, getFormProps, getInputProps, useForm, type SubmissionResult } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useActionData, useLoaderData, useNavigation, useSearchParams } from "react-router";
 import type { z } from "zod";
 import { GhsIcon } from "~/components/ghs-icon";
+import { SelectField } from "~/components/select-field";
 import { Badge, EmptyState, Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import type { Instrument, SampleStage } from "~/db/schema";
 import { ANODE_LINES } from "~/diffraction/wavelengths";
@@ -16,8 +17,8 @@ import {
   HazardAcceptanceSchema,
   InstrumentSchema,
   instrumentWavelength,
-  MONOCHROMATION_CHOICES,
   MONOCHROMATION_LABELS,
+  MONOCHROMATION_OPTIONS,
   RemoveSchema,
   SAMPLE_FORM_LABELS,
   SAMPLE_FORMS,
@@ -248,15 +249,7 @@ function InstrumentForm({ instrument }: { instrument?: InstrumentView }) {
         <Field label="Instrument name" id={fields.name.id} errors={fields.name.errors}>
           <input className="input" {...getInputProps(fields.name, { type: "text" })} />
         </Field>
-        <Field label="Technique" id={fields.technique.id} errors={fields.technique.errors}>
-          <select className="input" {...getSelectProps(fields.technique)}>
-            {TECHNIQUES.map((t) => (
-              <option key={t} value={t}>
-                {TECHNIQUE_LABELS[t]}
-              </option>
-            ))}
-          </select>
-        </Field>
+        <SelectField label="Technique" meta={fields.technique} options={TECHNIQUES.map((t) => ({ value: t, label: TECHNIQUE_LABELS[t] }))} />
       </div>
       <fieldset>
         <legend className="label">Radiation source</legend>
@@ -276,25 +269,9 @@ function InstrumentForm({ instrument }: { instrument?: InstrumentView }) {
             <input className="input" inputMode="decimal" {...getInputProps(fields.customWavelength, { type: "text" })} />
           </Field>
         ) : (
-          <Field label="Anode" id={fields.anode.id} errors={fields.anode.errors}>
-            <select className="input" {...getSelectProps(fields.anode)}>
-              {ANODE_CHOICES.map((a) => (
-                <option key={a} value={a}>
-                  {a} (Kα1 {ANODE_LINES[a].kAlpha1} Å)
-                </option>
-              ))}
-            </select>
-          </Field>
+          <SelectField label="Anode" meta={fields.anode} options={ANODE_CHOICES.map((a) => ({ value: a, label: `${a} (Kα1 ${ANODE_LINES[a].kAlpha1} Å)` }))} />
         )}
-        <Field label="Monochromation" id={fields.monochromation.id} errors={fields.monochromation.errors}>
-          <select className="input" {...getSelectProps(fields.monochromation)}>
-            {MONOCHROMATION_CHOICES.map((m) => (
-              <option key={m} value={m}>
-                {MONOCHROMATION_LABELS[m]}
-              </option>
-            ))}
-          </select>
-        </Field>
+        <SelectField label="Monochromation" meta={fields.monochromation} options={MONOCHROMATION_OPTIONS} />
       </div>
       <div className="grid gap-3 sm:grid-cols-3">
         <Field label="Smallest 2θ (°)" id={fields.twoThetaMin.id} errors={fields.twoThetaMin.errors}>
@@ -308,15 +285,7 @@ function InstrumentForm({ instrument }: { instrument?: InstrumentView }) {
         </Field>
       </div>
       <div className="grid gap-3 sm:grid-cols-2">
-        <Field label="Detector" id={fields.detector.id} errors={fields.detector.errors}>
-          <select className="input" {...getSelectProps(fields.detector)}>
-            {DETECTOR_KINDS.map((d) => (
-              <option key={d} value={d}>
-                {DETECTOR_LABELS[d]}
-              </option>
-            ))}
-          </select>
-        </Field>
+        <SelectField label="Detector" meta={fields.detector} options={DETECTOR_KINDS.map((d) => ({ value: d, label: DETECTOR_LABELS[d] }))} />
         <div className="pt-7">
           <label className="flex items-center gap-2 text-sm">
             <input {...getInputProps(fields.energyDiscrimination, { type: "checkbox" })} />

@@ -1,7 +1,8 @@
 // The lab's price list: per-sample prices by technique, surcharges, rush multiplier and turnaround, in the lab's currency.
-import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
+import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { SelectField } from "~/components/select-field";
 import { Field, FormError, PageHeader } from "~/components/ui";
 import { TECHNIQUE_LABELS, TECHNIQUES } from "~/models/capabilities";
 import { getPriceList, savePriceList } from "~/models/capabilities.server";
@@ -84,15 +85,7 @@ export default function PriceList() {
       <Form method="post" className="space-y-6" {...getFormProps(form)}>
         <fieldset disabled={!canEdit} className="space-y-6">
           <section className="card space-y-2">
-            <Field label="Currency" id={fields.currency.id} errors={fields.currency.errors}>
-              <select className="input max-w-40" {...getSelectProps(fields.currency)}>
-                {CURRENCIES.map((c) => (
-                  <option key={c} value={c}>
-                    {c}
-                  </option>
-                ))}
-              </select>
-            </Field>
+            <SelectField label="Currency" meta={fields.currency} className="input max-w-40" options={CURRENCIES.map((c) => ({ value: c, label: c }))} />
           </section>
           <section className="card space-y-2" aria-labelledby="per-sample-heading">
             <h2 id="per-sample-heading" className="text-lg font-semibold">

@@ -1,14 +1,15 @@
 // The lab's vetting application: accreditation evidence, radiation-licence attestation and a calibration scan of a standard.
-import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
+import { getFormProps, getInputProps, getTextareaProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useState } from "react";
 import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
 import { CalibrationSummary } from "~/components/calibration-summary";
 import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
+import { SelectField } from "~/components/select-field";
 import { Field, FieldErrors, FormError, PageHeader } from "~/components/ui";
 import { VettingBadge } from "~/components/vetting-badge";
 import { checkCalibrationScan } from "~/models/calibration-check";
-import { ANODE_CHOICES, MONOCHROMATION_CHOICES, MONOCHROMATION_LABELS } from "~/models/capabilities";
+import { ANODE_CHOICES, MONOCHROMATION_OPTIONS } from "~/models/capabilities";
 import { getOrCreateLab, latestDocuments, submitApplication, VettingConflict, vettingPrefix } from "~/models/labs.server";
 import {
   CALIBRATION_STANDARD_KEYS,
@@ -248,24 +249,8 @@ function ApplicationForm({ application }: { application: ApplicationView }) {
           <Field label="Instrument" id={fields.instrumentName.id} errors={fields.instrumentName.errors}>
             <input className="input" {...getInputProps(fields.instrumentName, { type: "text" })} />
           </Field>
-          <Field label="Anode" id={fields.anode.id} errors={fields.anode.errors}>
-            <select className="input" {...getSelectProps(fields.anode)}>
-              {ANODE_CHOICES.map((a) => (
-                <option key={a} value={a}>
-                  {a}
-                </option>
-              ))}
-            </select>
-          </Field>
-          <Field label="Monochromation" id={fields.monochromation.id} errors={fields.monochromation.errors}>
-            <select className="input" {...getSelectProps(fields.monochromation)}>
-              {MONOCHROMATION_CHOICES.map((m) => (
-                <option key={m} value={m}>
-                  {MONOCHROMATION_LABELS[m]}
-                </option>
-              ))}
-            </select>
-          </Field>
+          <SelectField label="Anode" meta={fields.anode} options={ANODE_CHOICES.map((a) => ({ value: a, label: a }))} />
+          <SelectField label="Monochromation" meta={fields.monochromation} options={MONOCHROMATION_OPTIONS} />
         </div>
         <UploadedFileField
           id="scan-file"
