@@ -134,14 +134,16 @@ export function estimatePeakWidth(twoTheta: Float64Array, intensity: Float64Arra
   }
   maxima.sort((a, b) => smooth[b] - smooth[a]);
   const widths: number[] = [];
-  const reach = Math.max(20, Math.round(3 / step));
+  // The base is the minimum within ±1°: wide enough for peaks up to about a degree broad, narrow enough
+  // that an amorphous hump (several degrees) does not stand out from it.
+  const reach = Math.max(20, Math.round(1 / step));
   const taken: number[] = [];
   for (const i of maxima.slice(0, 400)) {
     if (widths.length >= 9) break;
     if (taken.some((j) => Math.abs(twoTheta[j] - twoTheta[i]) < 0.5)) continue;
     let base = smooth[i];
     for (let j = Math.max(0, i - reach); j <= Math.min(n - 1, i + reach); j++) base = Math.min(base, smooth[j]);
-    // The three-point mean has a third of a point's variance; the minimum over ±3° lies some three
+    // The three-point mean has a third of a point's variance; the minimum over ±1° lies some three
     // standard deviations below the mean, so twelve above it is about nine above the noise.
     if (variance && smooth[i] - base < 12 * Math.sqrt(variance[i] / 3)) continue;
     taken.push(i);

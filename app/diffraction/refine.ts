@@ -119,7 +119,7 @@ function listReflections(system: CrystalSystem, centering: Centering, p: number[
  * the peak's own resolution plus three standard uncertainties of the reflection's predicted position,
  * propagated from the covariance of the cell (at first a prior of ±0.5 % on the lengths around the
  * coarse search's cell, then the refinement's own), so it narrows as the cell converges. While a
- * window holds reflections of more than one Q-expression the peak waits for a later pass.
+ * window holds reflections of more than one Q-expression the peak waits for a later pass (see assign).
  */
 export function refineCell(peaks: readonly ObservedPeak[], options: RefineOptions): Refinement {
   const { system, centering } = options;
@@ -135,7 +135,8 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
   let iterations = 0;
   // A dense pattern (low symmetry, short wavelength) may leave too few unambiguous peaks under the widest
   // prior; the declared cell is then trusted more closely, down to ±0.05 %.
-  for (const prior of PRIOR_LENGTHS) {
+  const schedule = [...PRIOR_LENGTHS.map((prior) => ({ prior, lenient: false })), { prior: PRIOR_LENGTHS[1], lenient: true }];
+  for (const { prior, lenient } of schedule) {
     state = coarse;
     let covariance = priorCovariance(system, state.p, options, prior);
     fit = null;
@@ -143,7 +144,7 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
     let previous = "";
     for (let pass = 0; pass < 12; pass++) {
       const s = fit ? Math.sqrt(Math.max(fit.reducedChi2, 1)) : 1;
-      const next = assign(peaks, listReflections(system, centering, state.p, options), state, covariance, options, radius, s);
+      const next = assign(peaks, listReflections(system, centering, state.p, options), state, covariance, options, radius, s, lenient);
       const key = next.map((a) => `${a.peak}:${a.reflection.h},${a.reflection.k},${a.reflection.l},${a.used}`).join(";");
       if (key === previous && fit) {
         converged = true;
@@ -285,10 +286,10 @@ function coarseSearch(peaks: readonly ObservedPeak[], startP: number[], options:
 
 /**
  * Each peak takes the nearest reflection within its window (see refineCell); a reflection goes to one
- * peak only, the closer. A peak whose window holds reflections of different Q-expressions waits while
- * their predicted positions are still uncertain; once they are known to a small fraction of the FWHM it
- * is indexed to the nearest but kept out of the least squares, as is any peak with another unclaimed
- * reflection within half a FWHM: its fitted position is a blend.
+ * peak only, the closer. When the window also holds a reflection of another Q-expression, resolved from
+ * the nearest, the peak waits while the candidates' positions are uncertain; once they are known to a
+ * small part of the FWHM it is indexed to the nearest but kept out of the least squares, as is any peak
+ * with another unclaimed reflection within half a FWHM: its fitted position is a blend.
  */
 function assign(
   peaks: readonly ObservedPeak[],
@@ -298,6 +299,7 @@ function assign(
   options: RefineOptions,
   radius: number,
   chiScale: number,
+  lenient: boolean,
 ): Assignment[] {
   const n = covariance.n;
   const calc = reflections
@@ -324,14 +326,22 @@ function assign(
       if (Math.abs(xs[j] - peak.twoTheta) <= base + 3 * calc[j].sigma) inside.push(j);
     }
     if (inside.length === 0) return;
-    const rows = new Set(inside.map((k) => calc[k].row));
-    const uncertain = inside.some((k) => calc[k].sigma > 0.15 * peak.fwhm);
-    if (rows.size > 1 && uncertain) return;
+    // Distance in units of each reflection's own window.
+    const distance = (k: number) => Math.abs(xs[k] - peak.twoTheta) / (base + 3 * calc[k].sigma);
     let nearest = inside[0];
-    for (const k of inside) if (Math.abs(xs[k] - peak.twoTheta) < Math.abs(xs[nearest] - peak.twoTheta)) nearest = k;
+    for (const k of inside) if (distance(k) < distance(nearest)) nearest = k;
+    const rivals = inside.filter((k) => calc[k].row !== calc[nearest].row);
+    const blend = rivals.length > 0;
+    if (blend) {
+      const uncertain = inside.some((k) => calc[k].sigma > 0.15 * peak.fwhm);
+      // Strict: wait until every candidate's position is known to a small part of the FWHM. Lenient (when
+      // strict leaves too few peaks to refine at all): take the nearest if every rival is at least
+      // twice as far in units of its window.
+      if (uncertain && (!lenient || rivals.some((k) => distance(k) < 2 * distance(nearest)))) return;
+    }
     const miss = Math.abs(xs[nearest] - peak.twoTheta);
     const holder = best.get(nearest);
-    if (!holder || miss < holder.miss) best.set(nearest, { peak: i, miss, blend: rows.size > 1 });
+    if (!holder || miss < holder.miss) best.set(nearest, { peak: i, miss, blend });
   });
   const claimedReflections = new Set(best.keys());
   const out: Assignment[] = [];
