@@ -42,6 +42,10 @@ export const config = {
     host: env.STRIPE_API_HOST ?? "127.0.0.1",
     port: num("STRIPE_API_PORT", ports.payments),
     protocol: (env.STRIPE_API_PROTOCOL ?? "http") as "http" | "https",
+    /** The platform's share of an accepted order, in basis points (800 = 8 %, DESIGN.md). */
+    platformFeeBps: num("PLATFORM_FEE_BPS", 800),
+    /** Kept from the refund when a lab refuses a parcel on arrival, and paid to the lab for handling it. */
+    refusalHandlingFeeMinor: num("REFUSAL_HANDLING_FEE_MINOR", 2500),
   },
   signIn: { maxFailures: 5, windowMinutes: 10 },
   sessionDays: 14,

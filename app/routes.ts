@@ -26,8 +26,11 @@ export default [
       route("requests/:id/edit/measurement", "routes/client/request-measurement.tsx"),
       route("requests/:id/edit/labs", "routes/client/request-labs.tsx"),
       route("requests/:id/edit/review", "routes/client/request-review.tsx"),
+      route("orders/:id", "routes/client/order.tsx"),
+      route("orders/:id/payment", "routes/client/order-payment.tsx"),
       route(":section", "routes/workspace-section.tsx", { id: "client-section" }),
     ]),
+    route("requests/:id/sds-upload", "routes/client/request-sds-upload.ts"),
   ]),
   ...prefix("lab", [
     layout("routes/workspace-layout.tsx", { id: "lab-layout" }, [
@@ -38,6 +41,7 @@ export default [
       route("vetting", "routes/lab/vetting.tsx"),
       route("capabilities", "routes/lab/capabilities.tsx"),
       route("price-list", "routes/lab/price-list.tsx"),
+      route("payouts", "routes/lab/payouts.tsx"),
       route(":section", "routes/workspace-section.tsx", { id: "lab-section" }),
     ]),
     route("vetting/upload", "routes/lab/vetting-upload.ts"),
@@ -49,15 +53,22 @@ export default [
       route("audit-log", "routes/admin/audit-log.tsx"),
       route("vetting-queue", "routes/admin/vetting-queue.tsx"),
       route("labs/:labId", "routes/admin/lab-review.tsx"),
+      route("ledger", "routes/admin/ledger.tsx"),
+      route("disputes", "routes/admin/disputes.tsx"),
       route(":section", "routes/workspace-section.tsx", { id: "admin-section" }),
     ]),
   ]),
+
+  route("admin/ledger/export", "routes/admin/ledger-export.ts"),
 
   ...prefix("api", [
     route("health", "routes/api/health.ts"),
     route("me", "routes/api/me.ts"),
     route("labs", "routes/api/labs.ts"),
     route("requests/:id/matches", "routes/api/request-matches.ts"),
+    route("orders/:id", "routes/api/order.ts"),
+    route("admin/ledger/summary", "routes/api/admin/ledger-summary.ts"),
+    route("webhooks/payments", "routes/api/webhooks-payments.ts"),
   ]),
   route("*", "routes/public/not-found.tsx"),
 ] satisfies RouteConfig;

@@ -27,8 +27,16 @@ const app = spawn(process.execPath, ["--import", "tsx", "server/main.ts"], {
   stdio: "inherit",
   env: { ...env, NODE_ENV: "production", DIFFRACTORY_LOCAL: "1", PORT: String(port) },
 });
-for (const s of ["SIGINT", "SIGTERM"] as const) process.on(s, () => app.kill(s));
-app.on("exit", (code) => process.exit(code ?? 0));
+const worker = spawn(process.execPath, ["--import", "tsx", "services/worker.ts"], { cwd: root, stdio: "inherit", env });
+for (const s of ["SIGINT", "SIGTERM"] as const)
+  process.on(s, () => {
+    app.kill(s);
+    worker.kill(s);
+  });
+app.on("exit", (code) => {
+  worker.kill("SIGTERM");
+  process.exit(code ?? 0);
+});
 await waitForPort(port, "the app", 60_000);
 
 console.log(`

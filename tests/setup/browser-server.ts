@@ -8,22 +8,34 @@ import { root } from "../../services/paths";
 
 export const BROWSER_APP_PORT = Number(process.env.TEST_APP_PORT ?? 3100);
 let server: ChildProcess | undefined;
+let worker: ChildProcess | undefined;
 
 export async function setup() {
   if (!fs.existsSync(path.join(root, "build/server/index.js"))) {
     throw new Error("The app is not built; run the tests with `npm test`, which builds it first.");
   }
   const db = await cloneTemplate("diffractory_browser");
-  const env = { ...process.env, DATABASE_URL: db.url, NODE_ENV: "production", DIFFRACTORY_LOCAL: "1", PORT: String(BROWSER_APP_PORT) };
+  const env = {
+    ...process.env,
+    DATABASE_URL: db.url,
+    NODE_ENV: "production",
+    DIFFRACTORY_LOCAL: "1",
+    PORT: String(BROWSER_APP_PORT),
+    APP_URL: `http://127.0.0.1:${BROWSER_APP_PORT}`,
+  };
   execFileSync(process.execPath, ["--import", "tsx", "scripts/seed-demo.ts"], { cwd: root, env, stdio: "inherit" });
   const log = fs.openSync(path.join(root, ".data/logs/browser-app.log"), "w");
   server = spawn(process.execPath, ["--import", "tsx", "server/main.ts"], { cwd: root, env, stdio: ["ignore", log, log] });
+  const workerLog = fs.openSync(path.join(root, ".data/logs/browser-worker.log"), "w");
+  worker = spawn(process.execPath, ["--import", "tsx", "services/worker.ts"], { cwd: root, env, stdio: ["ignore", workerLog, workerLog] });
   await waitForPort(BROWSER_APP_PORT, "the app under test");
 }
 
 export async function teardown() {
-  if (server && server.exitCode === null) {
-    server.kill("SIGTERM");
-    await new Promise((r) => server!.once("exit", r));
+  for (const child of [server, worker]) {
+    if (child && child.exitCode === null) {
+      child.kill("SIGTERM");
+      await new Promise((r) => child.once("exit", r));
+    }
   }
 }

@@ -1,0 +1,39 @@
+// The job queue (pg-boss on the app's PostgreSQL): queue names, the shared client, and the worker's handlers.
+import PgBoss from "pg-boss";
+import { config } from "~/config.server";
+
+export const QUEUES = {
+  /** Every few minutes: accept deliveries whose review window has lapsed, and pay the labs. */
+  reviewWindow: "review-window",
+} as const;
+
+const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };
+
+/** A started pg-boss client for sending jobs (created once per process). */
+export function getBoss(): Promise<PgBoss> {
+  g.__diffractoryBoss ??= (async () => {
+    const boss = new PgBoss({ connectionString: config.databaseUrl, schema: "pgboss", max: 4 });
+    boss.on("error", (err) => console.warn("job queue:", err.message));
+    await boss.start();
+    for (const name of Object.values(QUEUES)) await boss.createQueue(name);
+    return boss;
+  })();
+  return g.__diffractoryBoss;
+}
+
+export async function stopBoss() {
+  if (!g.__diffractoryBoss) return;
+  const boss = await g.__diffractoryBoss;
+  delete g.__diffractoryBoss;
+  await boss.stop({ graceful: true, wait: true });
+}
+
+/** Registers every queue's handler and the schedules; the worker process calls this once. */
+export async function startWorkers(boss: PgBoss, { reviewWindowCron = "*/5 * * * *" } = {}) {
+  const { acceptLapsedDeliveries } = await import("~/models/payments.server");
+  await boss.schedule(QUEUES.reviewWindow, reviewWindowCron);
+  await boss.work(QUEUES.reviewWindow, async () => {
+    const accepted = await acceptLapsedDeliveries();
+    if (accepted > 0) console.log(`review window: ${accepted} deliveries accepted automatically`);
+  });
+}

@@ -1,0 +1,116 @@
+// /admin/ledger — every money movement as balanced double-entry rows, with filters and totals.
+import { Form, Link, useLoaderData, useSearchParams } from "react-router";
+import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
+import { LEDGER_KINDS, parseLedgerFilter } from "~/models/ledger-filter";
+import { ledgerRows, ledgerSummary } from "~/models/ledger.server";
+import { formatMoney } from "~/utils/format";
+import { requireAdmin } from "~/utils/permissions.server";
+import type { Route } from "./+types/ledger";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireAdmin(request);
+  const parsed = parseLedgerFilter(new URL(request.url).searchParams);
+  const [summary, rows] = await Promise.all([ledgerSummary(), parsed.ok ? ledgerRows(parsed.filter) : Promise.resolve([])]);
+  return { summary, rows, error: parsed.ok ? null : parsed.error };
+}
+
+export default function Ledger() {
+  const { summary, rows, error } = useLoaderData<typeof loader>();
+  const [params] = useSearchParams();
+  return (
+    <div>
+      <PageHeader
+        title="Ledger"
+        subtitle={`${summary.transactions} transactions`}
+        actions={
+          <>
+            <Badge tone={summary.balanced ? "ok" : "danger"}>{summary.balanced ? "Every transaction balances" : "Unbalanced transactions!"}</Badge>
+            <Link to={`/admin/ledger/export?${params.toString()}`} reloadDocument className="btn-secondary">
+              Download CSV
+            </Link>
+          </>
+        }
+      />
+      <div className="mb-6 grid gap-4 sm:grid-cols-2 lg:grid-cols-4">
+        {Object.entries(summary.byCurrency).flatMap(([currency, t]) =>
+          (
+            [
+              ["Held", t.heldMinor],
+              ["Paid to labs", t.paidOutMinor],
+              ["Platform fees", t.feesMinor],
+              ["Refunded", t.refundedMinor],
+            ] as const
+          ).map(([label, v]) => (
+            <div key={`${currency}-${label}`} className="card py-4">
+              <p className="text-xs text-ink-500">
+                {label} ({currency})
+              </p>
+              <p className="text-xl font-bold">{formatMoney(v, currency)}</p>
+            </div>
+          )),
+        )}
+      </div>
+      <Form method="get" className="card mb-6 grid gap-3 sm:grid-cols-5" aria-label="Filter the ledger">
+        <div>
+          <label className="label" htmlFor="kind">
+            Movement
+          </label>
+          <select id="kind" name="kind" className="input" defaultValue={params.get("kind") ?? ""}>
+            <option value="">All</option>
+            {LEDGER_KINDS.map((k) => (
+              <option key={k} value={k}>
+                {k.replace("_", " ")}
+              </option>
+            ))}
+          </select>
+        </div>
+        <div>
+          <label className="label" htmlFor="currency">
+            Currency
+          </label>
+          <input id="currency" name="currency" className="input" defaultValue={params.get("currency") ?? ""} placeholder="EUR" />
+        </div>
+        <div>
+          <label className="label" htmlFor="from">
+            From
+          </label>
+          <input id="from" name="from" type="date" className="input" defaultValue={params.get("from") ?? ""} />
+        </div>
+        <div>
+          <label className="label" htmlFor="to">
+            To
+          </label>
+          <input id="to" name="to" type="date" className="input" defaultValue={params.get("to") ?? ""} />
+        </div>
+        <div className="flex items-end">
+          <button type="submit" className="btn-primary w-full">
+            Filter
+          </button>
+        </div>
+        <p className="min-h-5 text-sm text-danger-700 sm:col-span-5" role={error ? "alert" : undefined}>
+          {error}
+        </p>
+      </Form>
+      {rows.length === 0 ? (
+        <EmptyState title="No movements">Money movements appear here as clients pay, labs are paid and refunds go out.</EmptyState>
+      ) : (
+        <TableCard columns={["When", "Movement", "Order", "Account", "Amount", "Provider object"]} caption="Ledger entries">
+          {rows.map((r, i) => (
+            <tr key={`${r.id}-${i}`}>
+              <td className="whitespace-nowrap">{new Date(r.created_at).toLocaleString()}</td>
+              <td>{r.kind.replace("_", " ")}</td>
+              <td className="font-mono text-xs">{r.order_id?.slice(0, 8) ?? "—"}</td>
+              <td className="font-mono text-xs">{r.account}</td>
+              <td className={`text-right font-mono ${r.amount_minor < 0 ? "text-danger-700" : ""}`}>{formatMoney(r.amount_minor, r.currency)}</td>
+              <td className="font-mono text-xs">{r.provider_object_id}</td>
+            </tr>
+          ))}
+        </TableCard>
+      )}
+    </div>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Ledger — Diffractory" }];
+}

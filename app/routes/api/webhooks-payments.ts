@@ -1,0 +1,24 @@
+// POST /api/webhooks/payments — signed events from the payment provider; a bad signature changes nothing.
+import { BadSignature, PaymentProblem, receiveWebhook } from "~/models/payments.server";
+import type { Route } from "./+types/webhooks-payments";
+
+export async function loader(_: Route.LoaderArgs) {
+  return Response.json({ error: "Send provider events with POST." }, { status: 405, headers: { Allow: "POST" } });
+}
+
+// The caller is the payment provider; the signature over the raw body is its credential.
+export async function action({ request }: Route.ActionArgs) {
+  if (request.method !== "POST") return Response.json({ error: "Send provider events with POST." }, { status: 405 });
+  const length = Number(request.headers.get("content-length") ?? 0);
+  if (length > 1_000_000) return Response.json({ error: "Event too large." }, { status: 413 });
+  const raw = await request.text();
+  try {
+    const result = await receiveWebhook(raw, request.headers.get("stripe-signature"));
+    return Response.json({ received: true, duplicate: result.duplicate });
+  } catch (err) {
+    if (err instanceof BadSignature) return Response.json({ error: err.message }, { status: 400 });
+    // The provider retries on 5xx; a provider outage while we re-read the object is such a case.
+    if (err instanceof PaymentProblem) return Response.json({ error: err.message }, { status: 503 });
+    throw err;
+  }
+}

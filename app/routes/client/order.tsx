@@ -1,0 +1,171 @@
+// /client/orders/:id — the client's view of an order: payment, timeline, cancel, accept or dispute.
+import { parseWithZod } from "@conform-to/zod/v4";
+import { and, desc, eq } from "drizzle-orm";
+import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { z } from "zod";
+import { OrderTimeline } from "~/components/order-timeline";
+import { Badge, FormError, PageHeader } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
+import { orderForOrganisation, orderTimeline, OrderMoveRefused } from "~/models/orders.server";
+import { acceptDelivery, cancelOrder, openDispute, PaymentProblem, startCheckout } from "~/models/payments.server";
+import { formatMoney } from "~/utils/format";
+import { notFound, requireOrgRole } from "~/utils/permissions.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import type { Route } from "./+types/order";
+
+async function clientOrder(request: Request, orderId: string) {
+  const actor = await requireOrgRole(request, "client");
+  const found = await orderForOrganisation(orderId, actor.membership.organisation.id);
+  if (!found || found.side !== "client") notFound("No such order in your organisation.");
+  return { actor, order: found.order };
+}
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { order } = await clientOrder(request, params.id);
+  const [[request_], [lab], [payment], timeline] = await Promise.all([
+    db.select({ id: schema.requests.id, title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId)),
+    db.select({ name: schema.organisations.name }).from(schema.organisations).where(eq(schema.organisations.id, order.labId)),
+    db.select().from(schema.payments).where(eq(schema.payments.orderId, order.id)).orderBy(desc(schema.payments.createdAt)).limit(1),
+    orderTimeline(order.id),
+  ]);
+  const [dispute] = await db.select().from(schema.disputes).where(and(eq(schema.disputes.orderId, order.id)));
+  return {
+    order: { id: order.id, state: order.state, amountMinor: order.amountMinor, currency: order.currency, reviewWindowDays: order.reviewWindowDays, deliveredAt: order.deliveredAt },
+    request: request_,
+    labName: lab?.name ?? "",
+    declined: order.state === "awaiting_payment" && payment?.lastError ? payment.lastError : null,
+    dispute: dispute ? { state: dispute.state, reason: dispute.reason, decisionReason: dispute.decisionReason } : null,
+    cancelledPayment: new URL(request.url).searchParams.get("payment") === "cancelled",
+    timeline,
+  };
+}
+
+const OrderAction = z.discriminatedUnion("intent", [
+  z.object({ intent: z.literal("pay") }),
+  z.object({ intent: z.literal("cancel"), reason: z.string().trim().max(500).optional() }),
+  z.object({ intent: z.literal("accept") }),
+  z.object({ intent: z.literal("dispute"), reason: z.string({ error: "Say what is wrong with the delivery." }).trim().min(10, "Say in a sentence or two what is wrong (at least 10 characters).").max(2000) }),
+]);
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const { actor, order } = await clientOrder(request, params.id);
+  const submission = parseWithZod(await request.formData(), { schema: OrderAction });
+  if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
+  const v = submission.value;
+  try {
+    if (v.intent === "pay") return redirect(await startCheckout(order.id, { userId: actor.user.id, email: actor.user.email }));
+    if (v.intent === "cancel") {
+      await cancelOrder(order.id, "client", actor.user.id, v.reason || "Cancelled by the client.");
+      return redirectWithToast(`/client/orders/${order.id}`, { kind: "info", message: "The order is cancelled; anything paid is refunded in full." });
+    }
+    if (v.intent === "accept") {
+      await acceptDelivery(order.id, "client", actor.user.id);
+      return redirectWithToast(`/client/orders/${order.id}`, { kind: "success", message: "Delivery accepted; the lab is being paid." });
+    }
+    await openDispute(order.id, actor.user.id, v.reason);
+    return redirectWithToast(`/client/orders/${order.id}`, { kind: "info", message: "Dispute opened. The money stays held until an admin decides." });
+  } catch (err) {
+    if (err instanceof PaymentProblem || err instanceof OrderMoveRefused) {
+      return data({ result: submission.reply({ formErrors: [err.message] }) }, { status: err.status === 503 ? 503 : 409 });
+    }
+    throw err;
+  }
+}
+
+export default function ClientOrder() {
+  const { order, request, labName, declined, dispute, cancelledPayment, timeline } = useLoaderData<typeof loader>();
+  const actionData = useActionData<typeof action>();
+  const navigation = useNavigation();
+  const busy = navigation.state !== "idle";
+  const canCancel = ["awaiting_payment", "funds_held", "samples_in_transit"].includes(order.state);
+  return (
+    <div>
+      <p className="mb-2 text-sm">
+        <Link to={`/client/requests/${request?.id}`} className="text-beam-700 underline">
+          ← {request?.title}
+        </Link>
+      </p>
+      <PageHeader
+        title={`Order with ${labName}`}
+        subtitle={`${formatMoney(order.amountMinor, order.currency)} · order ${order.id.slice(0, 8)}`}
+        actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
+      />
+      <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
+      <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
+        <section className="card" aria-labelledby="next-step">
+          <h2 id="next-step" className="text-lg font-semibold">
+            Next step
+          </h2>
+          {order.state === "awaiting_payment" ? (
+            <div className="mt-3 space-y-3">
+              <p className="text-sm text-ink-700">
+                Pay the quote total. Diffractory holds it until you accept the delivered data; the lab is paid only then.
+              </p>
+              {declined ? (
+                <p role="alert" className="rounded-lg border border-danger-600/30 bg-danger-50 p-3 text-sm text-danger-700">
+                  The last payment attempt was declined: {declined}
+                </p>
+              ) : null}
+              {cancelledPayment ? <p className="text-sm text-ink-600">You left the payment page; nothing was charged.</p> : null}
+              <Form method="post">
+                <button type="submit" name="intent" value="pay" className="btn-primary" disabled={busy}>
+                  {busy && navigation.formData?.get("intent") === "pay" ? "Opening the payment page…" : `Pay ${formatMoney(order.amountMinor, order.currency)}`}
+                </button>
+              </Form>
+            </div>
+          ) : order.state === "data_delivered" ? (
+            <div className="mt-3 space-y-4">
+              <p className="text-sm text-ink-700">
+                The data is in your data room. Accept the delivery to pay the lab, or open a dispute. Without either,
+                the delivery is accepted automatically {order.reviewWindowDays} days after it arrived.
+              </p>
+              <Form method="post">
+                <button type="submit" name="intent" value="accept" className="btn-primary" disabled={busy}>
+                  Accept delivery
+                </button>
+              </Form>
+              <Form method="post" className="space-y-2">
+                <label htmlFor="dispute-reason" className="label">
+                  What is wrong with the delivery?
+                </label>
+                <textarea id="dispute-reason" name="reason" rows={3} className="input" />
+                <button type="submit" name="intent" value="dispute" className="btn-secondary" disabled={busy}>
+                  Open a dispute
+                </button>
+              </Form>
+            </div>
+          ) : (
+            <p className="mt-3 text-sm text-ink-700">
+              {order.state === "funds_held" && "The money is held. Ship the samples to the lab and mark them shipped."}
+              {order.state === "disputed" && `In dispute: ${dispute?.reason ?? ""}. An admin will decide.`}
+              {order.state === "resolved" && `The dispute was decided: ${dispute?.decisionReason ?? ""}`}
+              {order.state === "paid_out" && "Delivery accepted and the lab paid. The data stays in your data room."}
+              {order.state === "cancelled" && "This order is cancelled."}
+              {order.state === "refused_on_arrival" && "The lab refused the parcel on arrival; the payment was refunded minus the handling fee."}
+              {["samples_in_transit", "samples_received", "measuring", "accepted"].includes(order.state) && "The lab is working on it; the timeline shows each step."}
+            </p>
+          )}
+          {canCancel ? (
+            <Form method="post" className="mt-6 border-t border-ink-100 pt-4">
+              <input type="hidden" name="reason" value="Cancelled by the client before the samples arrived." />
+              <button type="submit" name="intent" value="cancel" className="btn-quiet text-danger-700" disabled={busy}>
+                Cancel the order{order.state !== "awaiting_payment" ? " (full refund)" : ""}
+              </button>
+            </Form>
+          ) : null}
+        </section>
+        <section className="card" aria-labelledby="timeline-heading">
+          <h2 id="timeline-heading" className="mb-4 text-lg font-semibold">
+            Timeline
+          </h2>
+          <OrderTimeline rows={timeline} />
+        </section>
+      </div>
+    </div>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Order — Diffractory" }];
+}

@@ -1,0 +1,91 @@
+// /lab/payouts — the lab's payout account (onboarding at the payment provider) and the payouts it received.
+import { and, desc, eq, inArray } from "drizzle-orm";
+import { data, Form, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { payoutOnboardingUrl, PaymentProblem, syncPayoutAccount } from "~/models/payments.server";
+import { formatMoney } from "~/utils/format";
+import { requireOrgRole } from "~/utils/permissions.server";
+import type { Route } from "./+types/payouts";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "lab");
+  const labId = membership.organisation.id;
+  let [lab] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, labId));
+  // Back from onboarding: read the account's state now rather than wait for the provider's event.
+  if (lab?.payoutAccountId && !lab.payoutsEnabled && new URL(request.url).searchParams.get("onboarding") === "done") {
+    await syncPayoutAccount(lab.payoutAccountId).catch(() => null);
+    [lab] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, labId));
+  }
+  const orders = await db.select({ id: schema.orders.id }).from(schema.orders).where(eq(schema.orders.labId, labId));
+  const payouts = orders.length
+    ? await db
+        .select({ id: schema.ledgerTransactions.id, orderId: schema.ledgerTransactions.orderId, memo: schema.ledgerTransactions.memo, transferId: schema.ledgerTransactions.providerObjectId, at: schema.ledgerTransactions.createdAt, currency: schema.ledgerTransactions.currency, amount: schema.ledgerEntries.amountMinor })
+        .from(schema.ledgerTransactions)
+        .innerJoin(schema.ledgerEntries, and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")))
+        .where(and(eq(schema.ledgerTransactions.kind, "payout"), inArray(schema.ledgerTransactions.orderId, orders.map((o) => o.id))))
+        .orderBy(desc(schema.ledgerTransactions.createdAt))
+    : [];
+  return { account: { id: lab?.payoutAccountId ?? null, ready: lab?.payoutsEnabled ?? false }, canManage: membership.role === "manager", payouts };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const { membership, user } = await requireOrgRole(request, "lab", ["manager"]);
+  try {
+    return redirect(await payoutOnboardingUrl(membership.organisation.id, user.email));
+  } catch (err) {
+    if (err instanceof PaymentProblem) return data({ error: err.message }, { status: err.status === 503 ? 503 : 409 });
+    throw err;
+  }
+}
+
+export default function Payouts() {
+  const { account, canManage, payouts } = useLoaderData<typeof loader>();
+  const actionData = useActionData<typeof action>();
+  const busy = useNavigation().state !== "idle";
+  return (
+    <div>
+      <PageHeader title="Payouts" subtitle="Accepted orders are paid to your payout account: the quote total minus the platform fee." />
+      <section className="card mb-6">
+        <h2 className="text-lg font-semibold">Payout account</h2>
+        <p className="mt-2 text-sm text-ink-700">
+          {account.ready ? (
+            <Badge tone="ok">Ready for payouts</Badge>
+          ) : account.id ? (
+            <Badge tone="caution">Onboarding not finished</Badge>
+          ) : (
+            <Badge tone="neutral">Not connected</Badge>
+          )}{" "}
+          {account.ready ? "Payouts go to this account." : "A lab connects its payout account before it can send quotes."}
+        </p>
+        <FormError errors={actionData?.error ? [actionData.error] : null} />
+        {canManage && !account.ready ? (
+          <Form method="post">
+            <button type="submit" className="btn-primary" disabled={busy}>
+              {busy ? "Opening onboarding…" : account.id ? "Continue onboarding" : "Connect a payout account"}
+            </button>
+          </Form>
+        ) : null}
+        {!canManage && !account.ready ? <p className="text-sm text-ink-600">A lab manager connects the payout account.</p> : null}
+      </section>
+      {payouts.length === 0 ? (
+        <EmptyState title="No payouts yet">Payouts appear here when clients accept your deliveries.</EmptyState>
+      ) : (
+        <TableCard columns={["When", "Order", "Amount", "Transfer"]} caption="Payouts">
+          {payouts.map((p) => (
+            <tr key={p.id}>
+              <td>{new Date(p.at).toLocaleString()}</td>
+              <td className="font-mono text-xs">{p.orderId?.slice(0, 8)}</td>
+              <td className="font-medium">{formatMoney(p.amount, p.currency)}</td>
+              <td className="font-mono text-xs">{p.transferId}</td>
+            </tr>
+          ))}
+        </TableCard>
+      )}
+    </div>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Payouts — Diffractory" }];
+}
