@@ -99,4 +99,41 @@ describe("lab vetting", () => {
     await screenshot(page, "admin-lab-approved");
     expect(b.consoleErrors, "console errors in the browser").toEqual([]);
   });
+
+  it("a lab manager adds an instrument with its d-spacing coverage and saves the price list", async () => {
+    const page = b.page;
+    await b.context.clearCookies();
+    await signIn(page, "lab@graniteridge.example");
+    await page.waitForURL(`${BASE_URL}/lab`);
+    await visit(page, "/lab/capabilities");
+    const form = page.locator("form#instrument-new");
+    await form.getByLabel("Instrument name").fill("Transmission capillary diffractometer");
+    await form.getByLabel("Technique").selectOption("powder_transmission");
+    await form.getByLabel("Anode", { exact: true }).selectOption("Mo");
+    await form.getByLabel("Smallest 2θ (°)").fill("2");
+    await form.getByLabel("Largest 2θ (°)").fill("190");
+    await form.getByLabel("Smallest step (° 2θ)").fill("0.01");
+    await form.getByLabel("Sealed capillary").check();
+    await form.getByRole("button", { name: "Add instrument" }).click();
+    await form.getByText("2θ lies between 0° and 180°.").waitFor();
+    await form.getByLabel("Largest 2θ (°)").fill("145");
+    await form.getByRole("button", { name: "Add instrument" }).click();
+    await page.getByText("Instrument saved.").waitFor();
+    // Bragg's law by hand: Mo Kα1 0.709317 Å over 2θ 2–145° → d 0.3719–20.32 Å.
+    const card = page.getByRole("article", { name: "Instrument Transmission capillary diffractometer" });
+    await card.getByText("d 0.3719–20.32 Å", { exact: false }).waitFor();
+    await screenshot(page, "lab-capabilities");
+
+    await visit(page, "/lab/price-list");
+    await page.getByLabel("Currency").selectOption("CAD");
+    await page.getByLabel("Powder, transmission (CAD)").fill("-20");
+    await page.getByRole("button", { name: "Save price list" }).click();
+    await page.getByText("Prices cannot be negative.").waitFor();
+    await page.getByLabel("Powder, transmission (CAD)").fill("210.00");
+    await page.getByRole("button", { name: "Save price list" }).click();
+    await page.getByText("Price list saved.").waitFor();
+    expect(await page.getByLabel("Powder, transmission (CAD)").inputValue()).toBe("210.00");
+    await screenshot(page, "lab-price-list");
+    expect(b.consoleErrors, "console errors in the browser").toEqual([]);
+  });
 });

@@ -110,7 +110,7 @@ export default function Capabilities() {
           instruments.map((i) => <InstrumentCard key={i.id} instrument={i} canEdit={canEdit} editStage={params.get("stage")} />)
         )}
         {canEdit ? (
-          <InstrumentForm key={editingInstrument?.id ?? "new"} instrument={editingInstrument} />
+          <InstrumentForm key={editingInstrument?.id ?? `new-${instruments.length}`} instrument={editingInstrument} />
         ) : null}
       </section>
       <HazardForm hazards={hazards} canEdit={canEdit} />
@@ -146,6 +146,7 @@ function InstrumentCard({ instrument: i, canEdit, editStage }: { instrument: Ins
     ["Sample forms", i.sampleForms.map((f) => SAMPLE_FORM_LABELS[f as keyof typeof SAMPLE_FORM_LABELS] ?? f).join(", ") || "—"],
   ];
   const stageBeingEdited = i.stages.find((s) => s.id === editStage);
+  const newStageResult = useFormResult(`stage-new-${i.id}`);
   return (
     <article className="card space-y-4" aria-label={`Instrument ${i.name}`}>
       <div className="flex flex-wrap items-start justify-between gap-3">
@@ -205,7 +206,13 @@ function InstrumentCard({ instrument: i, canEdit, editStage }: { instrument: Ins
             </li>
           ))}
         </ul>
-        {canEdit ? <StageForm key={stageBeingEdited?.id ?? "new"} instrument={i} stage={stageBeingEdited} /> : null}
+        {canEdit && stageBeingEdited ? <StageForm key={stageBeingEdited.id} instrument={i} stage={stageBeingEdited} /> : null}
+        {canEdit && !stageBeingEdited ? (
+          <details className="mt-3" open={!!newStageResult}>
+            <summary className="cursor-pointer text-sm font-semibold text-beam-700">Add a sample stage</summary>
+            <StageForm key={`new-${i.stages.length}`} instrument={i} />
+          </details>
+        ) : null}
       </div>
     </article>
   );
@@ -360,7 +367,7 @@ function StageForm({ instrument, stage }: { instrument: InstrumentView; stage?: 
   });
   return (
     <Form method="post" className="mt-3 space-y-2 rounded-lg border border-ink-200 p-4" aria-label={stage ? `Edit stage ${stage.name}` : `Add a stage to ${instrument.name}`} {...getFormProps(form)}>
-      <p className="text-sm font-semibold">{stage ? `Edit stage ${stage.name}` : "Add a sample stage"}</p>
+      {stage ? <p className="text-sm font-semibold">Edit stage {stage.name}</p> : null}
       <input type="hidden" name="intent" value="save-stage" />
       <input type="hidden" name="formId" value={formId} />
       <input type="hidden" name={fields.instrumentId.name} value={instrument.id} />
