@@ -1,89 +1,235 @@
-// msw handlers that answer the payment provider's REST API (form-encoded bodies, Idempotency-Key on POSTs).
+// msw handlers that answer the payment provider's REST API (form-encoded bodies, Idempotency-Key on
+// POSTs, Stripe-Account for Connect) and serve the fake's hosted card and onboarding pages.
 import { createHash } from "node:crypto";
 import { http, HttpResponse } from "msw";
 import qs from "qs";
-import type { FakeState, ProviderObject } from "./state";
+import Stripe from "stripe";
+import { type Body, ApiError, currencyOf, expand, expandParam, listObject, metadataOf, noSuch, now, positiveInt, str } from "./api";
+import { balanceObject, createAccount, createAccountLink, createTransfer, finishOnboarding, onboardingLink, updateAccount, accountOrThrow } from "./connect";
+import {
+  type Ctx, type PayOutcome, createCheckoutSession, createPaymentIntent, createRefund, expireSession, getSession, lineItemsList, payCheckoutSession, sessionUrl,
+} from "./payments";
+import { cardPage, expiredPage, htmlResponse, notFoundPage, onboardingPage, paidPage, redirect } from "./pages";
+import type { ProviderObject } from "./state";
+import { requestContext } from "./webhooks";
 
-const now = () => Math.floor(Date.now() / 1000);
+const parse = (text: string) => qs.parse(text, { depth: 10, arrayLimit: 100 }) as Body;
 
-function providerError(status: number, type: string, message: string, extra: Record<string, unknown> = {}) {
-  return HttpResponse.json({ error: { type, message, ...extra } }, { status });
+interface Call {
+  body: Body;
+  query: Body;
+  params: Record<string, string>;
+  account: string | null;
 }
 
-async function formBody(request: Request): Promise<Record<string, unknown>> {
-  const text = await request.text();
-  return qs.parse(text, { depth: 10, arrayLimit: 100 }) as Record<string, unknown>;
-}
+type ApiHandler = (call: Call) => unknown;
 
-type Handler = (body: Record<string, unknown>, params: Record<string, string>, request: Request) => Response | Promise<Response>;
+type MswArgs = { request: Request; params: Record<string, string | readonly string[] | undefined> };
+
+const IDEMPOTENCY_MISMATCH =
+  "Keys for idempotent requests can only be used with the same parameters they were first used with. Try using a key other than '%KEY%' if you meant to execute a different request.";
+
+function errorResponse(status: number, error: Record<string, unknown>, headers: Record<string, string>) {
+  return HttpResponse.json({ error }, { status, headers });
+}
 
 /**
- * Wraps a POST handler with the provider's idempotency rules: the same key and body replay the first
- * answer; the same key with another body is refused.
+ * One API route: checks the API key, applies `expand[]`, and follows the provider's idempotency rules —
+ * keys are scoped to the account (Stripe-Account) they were used with; the same key and body replay
+ * the first answer; another body or another endpoint is refused. Everything after the body is read
+ * runs synchronously, so concurrent duplicates (a double click) are serialised by the event loop.
  */
-function idempotent(state: FakeState, handler: Handler) {
-  return async ({ request, params }: { request: Request; params: Record<string, string | readonly string[] | undefined> }) => {
-    const raw = await request.clone().text();
-    const body = qs.parse(raw, { depth: 10, arrayLimit: 100 }) as Record<string, unknown>;
-    const key = request.headers.get("idempotency-key");
-    const scope = `${request.method} ${new URL(request.url).pathname} ${key}`;
+function api(ctx: Ctx, handler: ApiHandler, virtual?: (o: ProviderObject, field: string) => unknown) {
+  return async ({ request, params }: MswArgs) => {
+    const url = new URL(request.url);
+    const raw = request.method === "POST" ? await request.text() : "";
+    const requestId = ctx.state.newId("req");
+    const headers: Record<string, string> = { "request-id": requestId, "stripe-version": request.headers.get("stripe-version") ?? Stripe.API_VERSION };
+
+    const auth = request.headers.get("authorization") ?? "";
+    const key = /^Bearer\s+(\S+)$/i.exec(auth)?.[1] ?? "";
+    if (!key) return errorResponse(401, { type: "invalid_request_error", message: "You did not provide an API key. Provide it in the Authorization header as a Bearer token." }, headers);
+    if (!/^(sk|rk)_test_/.test(key)) return errorResponse(401, { type: "invalid_request_error", code: "api_key_invalid", message: "Invalid API Key provided: this local fake accepts test-mode secret keys only." }, headers);
+
+    const account = request.headers.get("stripe-account");
+    if (account && !ctx.state.get(account, "account")) {
+      return errorResponse(403, { type: "invalid_request_error", code: "account_invalid",
+        message: `The provided key does not have access to account '${account}' (or that account does not exist).` }, headers);
+    }
+
+    const body = parse(raw);
+    const query = parse(url.search.slice(1));
+    const idemKey = request.method === "POST" ? request.headers.get("idempotency-key") : null;
+    const scope = `${account ?? "platform"} ${idemKey}`;
+    const endpoint = `${request.method} ${url.pathname}`;
     const bodyHash = createHash("sha256").update(raw).digest("hex");
-    if (key) {
-      const seen = state.idempotency.get(scope);
+    if (idemKey) {
+      headers["idempotency-key"] = idemKey;
+      const seen = ctx.state.idempotency.get(scope);
       if (seen) {
-        if (seen.bodyHash !== bodyHash) {
-          return providerError(400, "idempotency_error",
-            "Keys for idempotent requests can only be used with the same parameters they were first used with.");
+        if (`${seen.method} ${seen.path}` !== endpoint) {
+          return errorResponse(400, { type: "idempotency_error",
+            message: `Keys for idempotent requests can only be used for the same endpoint they were first used for ('${seen.method} ${seen.path}' vs '${endpoint}'). Try using a key other than '${idemKey}' if you meant to execute a different request.` }, headers);
         }
-        return HttpResponse.json(seen.response as object, { status: seen.status, headers: { "idempotent-replayed": "true" } });
+        if (seen.bodyHash !== bodyHash) return errorResponse(400, { type: "idempotency_error", message: IDEMPOTENCY_MISMATCH.replace("%KEY%", idemKey) }, headers);
+        return HttpResponse.json(seen.response as object, { status: seen.status, headers: { ...headers, "idempotent-replayed": "true" } });
       }
     }
-    const response = await handler(body, params as Record<string, string>, request);
-    if (key && response.status < 500) {
-      state.idempotency.set(scope, { bodyHash, status: response.status, response: await response.clone().json() });
-      state.save();
+
+    let status = 200;
+    let response: unknown;
+    let store = true;
+    requestContext.id = requestId;
+    requestContext.idempotencyKey = idemKey;
+    try {
+      const result = handler({ body, query, params: params as Record<string, string>, account });
+      const paths = expandParam(request.method === "POST" ? body : query);
+      response = expand(ctx.state, result, paths, virtual);
+    } catch (err) {
+      if (!(err instanceof ApiError)) throw err;
+      status = err.status;
+      store = err.stored;
+      response = { error: { ...err.body, request_log_url: null } };
+    } finally {
+      requestContext.id = null;
+      requestContext.idempotencyKey = null;
     }
-    return response;
+    if (idemKey && store) {
+      ctx.state.idempotency.set(scope, { method: request.method, path: url.pathname, bodyHash, status, response });
+      ctx.state.save();
+    }
+    return HttpResponse.json(response as object, { status, headers });
   };
 }
 
-function metadataOf(body: Record<string, unknown>) {
-  return (body.metadata as Record<string, string> | undefined) ?? {};
+function getter(ctx: Ctx, object: string, what = object) {
+  return api(ctx, ({ params }) => {
+    const o = ctx.state.get(params.id, object);
+    if (!o) throw noSuch(what, params.id);
+    return o;
+  });
 }
 
-export function paymentHandlers(state: FakeState) {
-  const base = "*/v1";
-  return [
-    http.get(`${base}/balance`, () =>
-      HttpResponse.json({ object: "balance", livemode: false, available: [{ amount: 0, currency: "eur" }], pending: [] })),
+/** A list route: `filters` are query parameters compared with the field of the same name. */
+function lister(ctx: Ctx, object: string, path: string, filters: string[]) {
+  return api(ctx, ({ query }) => {
+    const items = ctx.state.list(object).filter((o) => filters.every((f) => query[f] === undefined || o[f] === query[f]));
+    return listObject(items, query, `/v1/${path}`);
+  });
+}
 
-    http.post(`${base}/customers`, idempotent(state, (body) => {
-      const c = state.put({ id: state.newId("cus"), object: "customer", created: now(), livemode: false,
-        email: body.email ?? null, name: body.name ?? null, metadata: metadataOf(body) });
-      return HttpResponse.json(c);
+function formOf(text: string) {
+  return Object.fromEntries(new URLSearchParams(text)) as Record<string, string>;
+}
+
+export function paymentHandlers(ctx: Ctx) {
+  const v1 = "*/v1";
+  const { state } = ctx;
+  const sessionVirtual = (o: ProviderObject, field: string) =>
+    o.object === "checkout.session" && field === "line_items" ? listObject(lineItemsList(ctx, o.id), {}, `/v1/checkout/sessions/${o.id}/line_items`) : undefined;
+
+  return [
+    http.get(`${v1}/balance`, api(ctx, ({ account }) => balanceObject(ctx, account))),
+    http.get(`${v1}/balance_transactions/:id`, getter(ctx, "balance_transaction")),
+    http.get(`${v1}/balance_transactions`, lister(ctx, "balance_transaction", "balance_transactions", ["type", "source", "currency"])),
+
+    http.get(`${v1}/account`, api(ctx, ({ account }) => account ? accountOrThrow(ctx, account) : {
+      id: "acct_local_platform", object: "account", charges_enabled: true, payouts_enabled: true, details_submitted: true,
+      country: "DE", default_currency: "eur", email: null, type: "standard", metadata: {},
     })),
-    http.get(`${base}/customers/:id`, ({ params }) => {
-      const c = state.get(String(params.id), "customer");
-      return c ? HttpResponse.json(c) : providerError(404, "invalid_request_error", `No such customer: '${params.id}'`, { code: "resource_missing" });
+
+    http.post(`${v1}/customers`, api(ctx, ({ body }) => state.put({
+      id: state.newId("cus"), object: "customer", address: null, balance: 0, created: now(), currency: null,
+      default_source: null, delinquent: false, description: str(body, "description"), email: str(body, "email"),
+      invoice_prefix: null, livemode: false, metadata: metadataOf(body), name: str(body, "name"), phone: null,
+      preferred_locales: [], shipping: null, tax_exempt: "none",
+    }))),
+    http.get(`${v1}/customers/:id`, getter(ctx, "customer")),
+    http.get(`${v1}/customers`, lister(ctx, "customer", "customers", ["email"])),
+
+    http.post(`${v1}/payment_intents`, api(ctx, ({ body }) => {
+      return createPaymentIntent(ctx, {
+        amount: positiveInt(body.amount, "amount"), currency: currencyOf(body.currency), customer: str(body, "customer"),
+        description: str(body, "description"), metadata: metadataOf(body), transfer_group: str(body, "transfer_group"),
+        receipt_email: str(body, "receipt_email"),
+      });
+    })),
+    http.get(`${v1}/payment_intents/:id`, getter(ctx, "payment_intent")),
+    http.get(`${v1}/payment_intents`, lister(ctx, "payment_intent", "payment_intents", ["customer"])),
+
+    http.get(`${v1}/charges/:id`, getter(ctx, "charge")),
+    http.get(`${v1}/charges`, lister(ctx, "charge", "charges", ["payment_intent", "customer", "transfer_group"])),
+
+    http.post(`${v1}/checkout/sessions`, api(ctx, ({ body }) => createCheckoutSession(ctx, body), sessionVirtual)),
+    http.get(`${v1}/checkout/sessions/:id/line_items`, api(ctx, ({ params, query }) => {
+      getSession(ctx, params.id);
+      return listObject(lineItemsList(ctx, params.id), query, `/v1/checkout/sessions/${params.id}/line_items`);
+    })),
+    http.post(`${v1}/checkout/sessions/:id/expire`, api(ctx, ({ params }) => expireSession(ctx, params.id), sessionVirtual)),
+    http.get(`${v1}/checkout/sessions/:id`, api(ctx, ({ params }) => getSession(ctx, params.id), sessionVirtual)),
+    http.get(`${v1}/checkout/sessions`, lister(ctx, "checkout.session", "checkout/sessions", ["payment_intent", "customer", "status"])),
+
+    http.post(`${v1}/refunds`, api(ctx, ({ body }) => createRefund(ctx, body))),
+    http.get(`${v1}/refunds/:id`, getter(ctx, "refund")),
+    http.get(`${v1}/refunds`, lister(ctx, "refund", "refunds", ["payment_intent", "charge"])),
+
+    http.post(`${v1}/accounts`, api(ctx, ({ body }) => createAccount(ctx, body))),
+    http.post(`${v1}/accounts/:id`, api(ctx, ({ params, body }) => updateAccount(ctx, params.id, body))),
+    http.get(`${v1}/accounts/:id`, api(ctx, ({ params }) => accountOrThrow(ctx, params.id))),
+    http.get(`${v1}/accounts`, lister(ctx, "account", "accounts", [])),
+    http.post(`${v1}/account_links`, api(ctx, ({ body }) => createAccountLink(ctx, body))),
+
+    http.post(`${v1}/transfers`, api(ctx, ({ body }) => createTransfer(ctx, body))),
+    http.get(`${v1}/transfers/:id`, getter(ctx, "transfer")),
+    http.get(`${v1}/transfers`, lister(ctx, "transfer", "transfers", ["transfer_group", "destination"])),
+
+    http.get(`${v1}/events/:id`, getter(ctx, "event")),
+    http.get(`${v1}/events`, api(ctx, ({ query }) => {
+      const types = [str(query, "type"), ...(Array.isArray(query.types) ? query.types.map(String) : [])].filter(Boolean) as string[];
+      const match = (t: string) => types.some((p) => (p.endsWith(".*") ? t.startsWith(p.slice(0, -1)) : t === p));
+      const items = state.list("event").filter((e) => types.length === 0 || match(String(e.type)));
+      return listObject(items, query, "/v1/events");
+    })),
+
+    http.all(`${v1}/*`, ({ request }) => HttpResponse.json({ error: {
+      type: "invalid_request_error",
+      message: `Unrecognized request URL (${request.method}: ${new URL(request.url).pathname}). This local fake implements only part of the API.`,
+    } }, { status: 404 })),
+
+    // The hosted card page the Checkout Session's `url` points at.
+    http.get("*/pay/:id", ({ params }) => {
+      let s: ProviderObject;
+      try { s = getSession(ctx, String(params.id)); } catch { return htmlResponse(notFoundPage("checkout session"), 404); }
+      if (s.status === "complete") return htmlResponse(paidPage(sessionUrl(s, "success_url")));
+      if (s.status !== "open") return htmlResponse(expiredPage(sessionUrl(s, "cancel_url")));
+      return htmlResponse(cardPage(s, lineItemsList(ctx, s.id)));
+    }),
+    http.post("*/pay/:id", async ({ request, params }) => {
+      const form = formOf(await request.text());
+      let result: PayOutcome;
+      try {
+        result = payCheckoutSession(ctx, String(params.id), { number: form.card ?? "", exp: form.exp, cvc: form.cvc, name: form.name });
+      } catch { return htmlResponse(notFoundPage("checkout session"), 404); }
+      if (result.outcome === "succeeded") return redirect(result.redirect!);
+      if (result.outcome === "already_paid") return htmlResponse(paidPage(result.redirect));
+      if (result.outcome === "expired") return htmlResponse(expiredPage(result.redirect));
+      const { card: _omitNumber, ...keep } = form;
+      return htmlResponse(cardPage(result.session, lineItemsList(ctx, result.session.id), { error: result.error.message, values: keep }), 402);
     }),
 
-    http.post(`${base}/payment_intents`, idempotent(state, (body) => {
-      const amount = Number(body.amount);
-      if (!Number.isInteger(amount) || amount <= 0) return providerError(400, "invalid_request_error", "Invalid positive integer", { param: "amount" });
-      if (typeof body.currency !== "string" || !/^[a-z]{3}$/.test(body.currency)) {
-        return providerError(400, "invalid_request_error", "Invalid currency", { param: "currency" });
-      }
-      const pi: ProviderObject = { id: state.newId("pi"), object: "payment_intent", created: now(), livemode: false,
-        amount, currency: body.currency, customer: body.customer ?? null, status: "requires_payment_method",
-        amount_received: 0, latest_charge: null, transfer_group: body.transfer_group ?? null, metadata: metadataOf(body) };
-      pi.client_secret = `${pi.id}_secret_${state.newId("s")}`;
-      return HttpResponse.json(state.put(pi));
-    })),
-    http.get(`${base}/payment_intents/:id`, ({ params }) => {
-      const pi = state.get(String(params.id), "payment_intent");
-      return pi ? HttpResponse.json(pi) : providerError(404, "invalid_request_error", `No such payment_intent: '${params.id}'`, { code: "resource_missing" });
+    // The onboarding page an account link points at.
+    http.get("*/connect/onboard/:token", ({ params }) => {
+      const st = onboardingLink(ctx, String(params.token));
+      if (st.kind === "unknown") return htmlResponse(notFoundPage("onboarding link"), 404);
+      if (st.kind === "stale") return redirect(st.link.refresh_url);
+      return htmlResponse(onboardingPage(String(params.token), st.account));
+    }),
+    http.post("*/connect/onboard/:token", async ({ request, params }) => {
+      const form = formOf(await request.text());
+      const st = finishOnboarding(ctx, String(params.token), form.action !== "leave");
+      if (st.kind === "unknown") return htmlResponse(notFoundPage("onboarding link"), 404);
+      if (st.kind === "stale") return redirect(st.link.refresh_url);
+      return redirect(st.link.return_url);
     }),
   ];
 }
-
-export { formBody };
