@@ -155,6 +155,18 @@ export async function syncCheckout(sessionId: string) {
 
 export class BadSignature extends Error {}
 
+/** JSON with object keys sorted at every level, so equal documents compare equal whatever their key order. */
+function canonicalJson(value: unknown): string {
+  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(",")}]`;
+  if (value && typeof value === "object") {
+    return `{${Object.keys(value)
+      .sort()
+      .map((k) => `${JSON.stringify(k)}:${canonicalJson((value as Record<string, unknown>)[k])}`)
+      .join(",")}}`;
+  }
+  return JSON.stringify(value);
+}
+
 /**
  * Verifies and stores a provider event, then brings the object it is about up to date. Events are kept by
  * id, so a repeat is recognised; the object is re-read from the provider, so late or reordered events
@@ -167,15 +179,11 @@ export async function receiveWebhook(rawBody: string, signature: string | null) 
   } catch {
     throw new BadSignature("The webhook signature does not verify.");
   }
-  const [existing] = await db.select().from(schema.webhookEvents).where(eq(schema.webhookEvents.id, event.id));
-  if (!existing) {
-    await db.insert(schema.webhookEvents).values({ id: event.id, type: event.type, payload: event as unknown as Record<string, unknown> }).onConflictDoNothing();
-  } else if (existing.processedAt) {
-    return { duplicate: true };
-  } else if (JSON.stringify(existing.payload) !== JSON.stringify(event)) {
-    // Same id, other content: a replay with a changed body is refused.
-    throw new BadSignature("An event with this id but other content was already received.");
-  }
+  await db.insert(schema.webhookEvents).values({ id: event.id, type: event.type, payload: event as unknown as Record<string, unknown> }).onConflictDoNothing();
+  const [stored] = await db.select().from(schema.webhookEvents).where(eq(schema.webhookEvents.id, event.id));
+  // Same id, other content: a replay with a changed body is refused. (jsonb reorders keys, so compare canonically.)
+  if (canonicalJson(stored.payload) !== canonicalJson(event)) throw new BadSignature("An event with this id but other content was already received.");
+  if (stored.processedAt) return { duplicate: true };
   const object = event.data.object as { id: string; object: string; metadata?: Record<string, string> };
   if (object.object === "checkout.session") await syncCheckout(object.id);
   else if (object.object === "payment_intent") {
