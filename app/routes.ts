@@ -31,6 +31,7 @@ export default [
       route(":section", "routes/workspace-section.tsx", { id: "client-section" }),
     ]),
     route("requests/:id/sds-upload", "routes/client/request-sds-upload.ts"),
+    route("requests/:id/sds-upload", "routes/client/request-sds-upload.ts"),
   ]),
   ...prefix("lab", [
     layout("routes/workspace-layout.tsx", { id: "lab-layout" }, [

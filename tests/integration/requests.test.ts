@@ -12,6 +12,7 @@ import { action as labsAction } from "~/routes/client/request-labs";
 import { action as measurementAction } from "~/routes/client/request-measurement";
 import { action as reviewAction } from "~/routes/client/request-review";
 import { action as samplesAction } from "~/routes/client/request-samples";
+import { action as sdsUploadAction } from "~/routes/client/request-sds-upload";
 import { loader as requestsList } from "~/routes/client/requests";
 import { action as signInAction } from "~/routes/public/sign-in";
 import { putObject } from "~/utils/storage.server";
@@ -189,6 +190,20 @@ describe("the new-request wizard", () => {
     expect(answer.status).toBe(400);
     expect((answer.body as { errors: string[] }).errors.join(" ")).toMatch(/LFP-12 declares hazards: upload its safety data sheet/);
     expect((await load(requestId)).row.state).toBe("draft");
+  });
+
+  it("hands out upload targets for PDFs only, under the request's own folder", async () => {
+    const cookie = await as(CLIENT);
+    const target = (fields: Record<string, string>, who = cookie) =>
+      callRoute(sdsUploadAction, formRequest(`/client/requests/${requestId}/sds-upload`, { intent: "upload-target", purpose: "sds", ...fields }, who), { id: requestId });
+    const ok = await target({ fileName: "sds.pdf", size: "2048", type: "application/pdf" });
+    expect(ok.status).toBe(200);
+    const { row } = await load(requestId);
+    expect((ok.body as { target: { storageKey: string } }).target.storageKey.startsWith(`${sdsPrefix(row)}/`)).toBe(true);
+    const image = await target({ fileName: "sds.png", size: "2048", type: "image/png" });
+    expect(image.status).toBe(400);
+    expect((image.body as { error: string }).error).toMatch(/Upload a PDF/);
+    expect((await target({ fileName: "sds.pdf", size: "2048", type: "application/pdf" }, await as(OTHER))).status).toBe(404);
   });
 
   it("refuses a stored file whose checksum differs, or one outside the request's own folder", async () => {

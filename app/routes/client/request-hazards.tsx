@@ -10,8 +10,7 @@ import { Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/compo
 import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/models/hazard-codes";
 import { AFTER_MEASUREMENT } from "~/models/hazards";
 import { HazardsStepSchema, type SampleHazardForm, type SampleHazardInput } from "~/models/request-forms";
-import { notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveHazards, SDS_RULE, sdsPrefix } from "~/models/requests.server";
-import { uploadTargetResponse } from "~/utils/storage.server";
+import { notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveHazards } from "~/models/requests.server";
 import type { Route } from "./+types/request-hazards";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -41,13 +40,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { row } = await requireOwnDraft(request, params.id);
-  const formData = await request.formData();
+  const submission = parseWithZod(await request.formData(), { schema: HazardsStepSchema });
   const locked = notEditable(row);
-  if (formData.get("intent") === "upload-target") {
-    if (locked) return Response.json({ error: locked }, { status: 400 });
-    return uploadTargetResponse(formData, SDS_RULE, sdsPrefix(row));
-  }
-  const submission = parseWithZod(formData, { schema: HazardsStepSchema });
   if (locked) return data({ result: submission.reply({ formErrors: [locked] }) }, { status: 400 });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const saved = await saveHazards(row, submission.value.samples);
@@ -60,7 +54,7 @@ export default function RequestHazards() {
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
   const [form, fields] = useForm<{ samples: SampleHazardForm[] }, { samples: SampleHazardInput[] }>({
-    lastResult: actionData && "result" in actionData ? actionData.result : undefined,
+    lastResult: actionData?.result,
     defaultValue: defaults,
     onValidate: ({ formData }) => parseWithZod(formData, { schema: HazardsStepSchema }),
     shouldValidate: "onSubmit",
@@ -173,7 +167,7 @@ function SampleHazards({
           id={`sds-${sample.id}`}
           label={`Safety data sheet of ${sample.label} (PDF)`}
           accept="application/pdf,.pdf"
-          targetAction={`/client/requests/${requestId}/edit/hazards`}
+          targetAction={`/client/requests/${requestId}/sds-upload`}
           purpose="sds"
           onUploaded={setUploaded}
         />
