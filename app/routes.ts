@@ -31,7 +31,6 @@ export default [
       route(":section", "routes/workspace-section.tsx", { id: "client-section" }),
     ]),
     route("requests/:id/sds-upload", "routes/client/request-sds-upload.ts"),
-    route("requests/:id/sds-upload", "routes/client/request-sds-upload.ts"),
   ]),
   ...prefix("lab", [
     layout("routes/workspace-layout.tsx", { id: "lab-layout" }, [
