@@ -86,10 +86,11 @@ function api(ctx: Ctx, handler: ApiHandler, virtual?: (o: ProviderObject, field:
       const paths = expandParam(request.method === "POST" ? body : query);
       response = expand(ctx.state, result, paths, virtual);
     } catch (err) {
-      if (!(err instanceof ApiError)) throw err;
-      status = err.status;
-      store = err.stored;
-      response = { error: { ...err.body, request_log_url: null } };
+      // A bug in the fake answers like a provider outage (not stored), rather than killing the request.
+      const e = err instanceof ApiError ? err : new ApiError(500, { type: "api_error", message: `Local payment fake failed: ${(err as Error).message}` }, false);
+      status = e.status;
+      store = e.stored;
+      response = { error: { ...e.body, request_log_url: null } };
     } finally {
       requestContext.id = null;
       requestContext.idempotencyKey = null;

@@ -69,7 +69,7 @@ if (isMain(import.meta.url)) {
   const port = Number(process.env.PAYMENTS_FAKE_PORT ?? 54332);
   const fake = await startPaymentFake({
     port,
-    file: path.join(dataDir, "payments", "state.json"),
+    file: process.env.PAYMENTS_FAKE_STATE_FILE || path.join(dataDir, "payments", "state.json"),
     webhookUrls: process.env.PAYMENTS_WEBHOOK_URLS?.split(",").map((u) => u.trim()).filter(Boolean),
     webhookSecret: process.env.STRIPE_WEBHOOK_SECRET || undefined,
   });

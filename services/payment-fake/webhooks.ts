@@ -109,8 +109,8 @@ export class Webhooks {
       d.lastError = res.ok ? null : `HTTP ${res.status}`;
     } catch (err) {
       d.lastStatusCode = null;
-      const cause = (err as { cause?: { code?: string } }).cause;
-      d.lastError = cause?.code ?? (err as Error).name ?? String(err);
+      const cause = (err as { cause?: { code?: string; message?: string } }).cause;
+      d.lastError = cause?.code ?? cause?.message ?? (err as Error).message ?? String(err);
     }
     if (this.closed) return;
     if (d.lastError === null) {

@@ -170,6 +170,13 @@ describe("checkout through the hosted card page", () => {
     expect((await stripe.paymentIntents.retrieve(String(s.payment_intent))).last_payment_error).toBeNull();
   });
 
+  it("charges once when the card form is submitted twice at the same time", async () => {
+    const s = await newSession();
+    const [a, b] = await Promise.all([submitCard(s.id, "4242424242424242"), submitCard(s.id, "4242424242424242")]);
+    expect([a.status, b.status].sort()).toEqual([200, 303]);
+    expect(fake.controls.snapshot().objects.charge).toHaveLength(1);
+  });
+
   it("expires an open session and cancels its payment intent", async () => {
     const s = await newSession();
     const expired = await stripe.checkout.sessions.expire(s.id);
@@ -306,6 +313,23 @@ describe("webhook delivery controls", () => {
     const r = await control("release", { order: "reversed" });
     expect(r.released).toBe(5);
     expect(types()).toEqual(["charge.refunded", "refund.created", "checkout.session.completed", "payment_intent.succeeded", "charge.succeeded"]);
+  });
+
+  it("releases held events in a shuffled order that depends only on the seed", async () => {
+    const orderFor = async (seed: number) => {
+      fake.controls.reset();
+      received = [];
+      fake.controls.setDelivery({ mode: "hold" });
+      const accounts = await Promise.all([1, 2, 3, 4, 5].map(() => stripe.accounts.create({ type: "express" })));
+      for (const a of accounts) fake.controls.completeOnboarding(a.id);
+      const created = accounts.map((a) => a.id);
+      await control("release", { order: "shuffled", seed });
+      return { created, delivered: received.map((r) => (r.event.data.object as { id: string }).id) };
+    };
+    const one = await orderFor(7);
+    expect([...one.delivered].sort()).toEqual([...one.created].sort());
+    const positions = (o: { created: string[]; delivered: string[] }) => o.delivered.map((id) => o.created.indexOf(id));
+    expect(positions(await orderFor(7))).toEqual(positions(one));
   });
 
   it("delivers late, and retries a failed delivery", async () => {
