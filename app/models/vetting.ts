@@ -92,7 +92,9 @@ export const VettingApplicationSchema = z.object({
     .trim()
     .min(3, "Enter the ISO/IEC 17025 accreditation number.")
     .max(60, "At most 60 characters."),
-  accreditationExpiry: z.iso.date({ error: "Enter the expiry date as YYYY-MM-DD." }),
+  accreditationExpiry: z.iso
+    .date({ error: "Enter the expiry date as YYYY-MM-DD." })
+    .refine((d) => d > new Date().toISOString().slice(0, 10), "The accreditation has expired; hand in the current certificate."),
   certificateKey: z.string({ error: "Upload the accreditation certificate." }).min(1, "Upload the accreditation certificate."),
   certificateName: z.string().max(200).default("certificate"),
   certificateSha256: z.string().regex(/^[0-9a-f]{64}$/i).optional(),

@@ -121,13 +121,14 @@ describe("applying for vetting", () => {
 
   it("refuses an incomplete application with field errors and changes nothing", async () => {
     const keys = await uploadFiles(good.labId, siliconScan(SI_640C_A, 1), "incomplete");
-    const fields: Record<string, string> = applicationFields(keys, { attestedName: "" });
+    const fields: Record<string, string> = applicationFields(keys, { attestedName: "", accreditationExpiry: "2001-01-31" });
     delete fields.attest;
     const answer = await callRoute(vettingAction, formRequest("/lab/vetting", fields, good.cookie));
     expect(answer.status).toBe(400);
     const errors = (answer.body as { result: { error: Record<string, string[]> } }).result.error;
     expect(errors.attest).toEqual(["Confirm the radiation-licence statement."]);
     expect(errors.attestedName).toEqual(["Sign the statement with your full name."]);
+    expect(errors.accreditationExpiry).toEqual(["The accreditation has expired; hand in the current certificate."]);
     expect((await labRow(good.labId)).vettingState).toBe("applied");
   });
 
