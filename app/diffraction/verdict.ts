@@ -5,17 +5,20 @@
 //
 // inconsistent, when any of:
 //   1. the refinement could not be made (fewer indexed peaks than free parameters + 2);
-//   2. fewer than half of the strong peaks are indexed;
-//   3. a cell length differs from the declared one by more than 2 %, or an angle by more than 2°.
+//   2. at most half of the strong peaks are indexed, or fewer than half of the twenty strongest;
+//   3. fewer than 80 % of the strong peaks are indexed and M20 ≤ 10: the declared cell explains neither
+//      the whole pattern nor, convincingly, a part of it (an impurity beside a well-indexed phase keeps a
+//      high M20 and is a matter for review);
+//   4. a cell length differs from the declared one by more than 2 %, or an angle by more than 2°.
 // consistent, when all of:
-//   4. at least 80 % of the strong peaks are indexed;
-//   5. M20 > 10 with at most two unindexed lines among the twenty strongest (International Tables
+//   5. at least 80 % of the strong peaks are indexed;
+//   6. M20 > 10 with at most two unindexed lines among the twenty strongest (International Tables
 //      Vol. H §3.4.2.1: the usual threshold for trusting an indexing);
-//   6. no unindexed peak is stronger than 10 % of the strongest peak (a possible impurity phase);
-//   7. every cell length is within 0.5 % of the declared one and every angle within 0.5°;
-//   8. every refined length has a relative standard uncertainty below 10⁻³ (the refinement is precise
-//      enough to judge 7; lab instruments reproduce cells to about ±0.001 Å, REFERENCE.md).
-// review otherwise. Each reason is one plain sentence. Thresholds 2, 4, 6, 7 and 8 are Diffractory's own
+//   7. no unindexed peak is stronger than 10 % of the strongest peak (a possible impurity phase);
+//   8. every cell length is within 0.5 % of the declared one and every angle within 0.5°;
+//   9. every refined length has a relative standard uncertainty below 10⁻³ (the refinement is precise
+//      enough to judge 8; lab instruments reproduce cells to about ±0.001 Å, REFERENCE.md).
+// review otherwise. Each reason is one plain sentence. Thresholds other than M20's are Diffractory's own
 // choices (common practice for routine phase checks), not published values.
 
 import type { Cell } from "./cell";
@@ -72,7 +75,7 @@ export function decideVerdict(input: VerdictInput): VerdictResult {
   }
   if (strong.length === 0) {
     fatal.push("No peaks were found in the scan.");
-  } else if (share < rule.inconsistentIndexedShare) {
+  } else if (share <= rule.inconsistentIndexedShare) {
     fatal.push(`Only ${indexedStrong} of the ${strong.length} strongest peaks match reflections of the declared cell.`);
   } else if (share < rule.consistentIndexedShare) {
     doubts.push(`${strong.length - indexedStrong} of the ${strong.length} strongest peaks match no reflection of the cell.`);
@@ -111,6 +114,15 @@ export function decideVerdict(input: VerdictInput): VerdictResult {
   if (input.refined) {
     const twenty = input.strongest.slice(0, 20);
     const unindexedTwenty = twenty.filter((p) => !p.indexed).length;
+    if (twenty.length > strong.length && unindexedTwenty > twenty.length / 2) {
+      fatal.push(`Only ${twenty.length - unindexedTwenty} of the ${twenty.length} strongest peaks match reflections of the declared cell.`);
+    }
+    const trusted = input.m20 !== null && input.m20 > rule.m20Trusted;
+    if (share < rule.consistentIndexedShare && share > rule.inconsistentIndexedShare && !trusted) {
+      fatal.push(
+        `The declared cell leaves ${strong.length - indexedStrong} of the ${strong.length} strongest peaks unexplained and indexes the rest poorly (M20 ${input.m20 === null ? "not defined" : input.m20.toFixed(1)}, at most ${rule.m20Trusted}).`,
+      );
+    }
     if (input.m20 === null || !(input.m20 > rule.m20Trusted)) {
       doubts.push(`M20 is ${input.m20 === null ? "not defined" : input.m20.toFixed(1)}; an indexing is trusted above ${rule.m20Trusted}.`);
     } else if (unindexedTwenty > rule.maxUnindexedAmongTwenty) {

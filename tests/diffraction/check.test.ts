@@ -3,7 +3,7 @@ import { describe, expect, it } from "vitest";
 import type { Cell } from "~/diffraction/cell";
 import { checkScanText, runLatticeCheck, type LatticeCheckOptions } from "~/diffraction/check";
 import { formatScanAsXy, simulatePattern, type SimulationOptions } from "~/diffraction/simulate";
-import { HALITE, RUTILE, SILICON, ZINCITE, type CrystalStructure } from "~/diffraction/structures";
+import { HALITE, RUTILE, SILICON, STRUCTURES, ZINCITE, type CrystalStructure } from "~/diffraction/structures";
 import type { Radiation } from "~/diffraction/wavelengths";
 
 const CU: Radiation = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" };
@@ -77,6 +77,26 @@ describe("verdicts", () => {
     expect(result.unindexed.length).toBeGreaterThan(0);
     expect(result.reasons.join(" ")).toMatch(/another phase/);
   });
+});
+
+describe("every phase checked against every other phase's declaration", () => {
+  const all = Object.values(STRUCTURES);
+  // Same lattice type and cells within 1 % (silicon and ceria, both F-cubic near 5.42 Å) are the same
+  // lattice to a lattice check; those pairs are left out.
+  const sameLattice = (x: CrystalStructure, y: CrystalStructure) =>
+    x.system === y.system &&
+    x.centering === y.centering &&
+    (["a", "b", "c"] as const).every((k) => Math.abs(x.cell[k] - y.cell[k]) / y.cell[k] < 0.01);
+  for (const sample of all) {
+    it(`a ${sample.formula} scan is inconsistent with every other declared phase`, () => {
+      const scan = scanOf(sample, { noise: { seed: sample.formula.length } });
+      for (const declared of all) {
+        if (declared === sample || sameLattice(sample, declared)) continue;
+        const result = runLatticeCheck(scan, declare(declared));
+        expect(result.verdict, `${sample.formula} declared as ${declared.formula}: ${result.reasons.join(" ")}`).toBe("inconsistent");
+      }
+    });
+  }
 });
 
 describe("checkScanText", () => {
