@@ -26,6 +26,7 @@ export default [
       route("requests/:id/edit/measurement", "routes/client/request-measurement.tsx"),
       route("requests/:id/edit/labs", "routes/client/request-labs.tsx"),
       route("requests/:id/edit/review", "routes/client/request-review.tsx"),
+      route("orders", "routes/client/orders.tsx"),
       route("orders/:id", "routes/client/order.tsx"),
       route("orders/:id/payment", "routes/client/order-payment.tsx"),
       route(":section", "routes/workspace-section.tsx", { id: "client-section" }),
