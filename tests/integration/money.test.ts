@@ -208,3 +208,16 @@ describe("the ledger as a whole", () => {
     expect(eur.heldMinor + eur.paidOutMinor + eur.feesMinor + eur.refundedMinor).toBe(totals.charged.eur ?? 0);
   });
 });
+
+describe("provider faults", () => {
+  it("a provider answering 500 gives the client a clear message and records nothing", async () => {
+    const orderId = await w.makeOrder(8_000);
+    w.fake.controls.setFaults({ mode: "error_500", count: 5, pathPrefix: "/v1/checkout" });
+    await expect(w.app.payments.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email })).rejects.toThrow(/not answering right now. Nothing was charged/);
+    w.fake.controls.setFaults({ mode: "none" });
+    expect(await w.db.select().from(w.schema.payments).where(w.eq(w.schema.payments.orderId, orderId))).toEqual([]);
+    expect(await w.orderState(orderId)).toBe("awaiting_payment");
+    // After the outage the same click works.
+    expect((await w.pay(orderId)).synced.state).toBe("paid");
+  });
+});
