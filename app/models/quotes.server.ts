@@ -16,7 +16,10 @@ export function draftLineItems(request: Pick<MarketRequest, "technique" | "tempe
   const item = (description: string, quantity: number, unitMinor: number): QuoteLineItem => ({ description, quantity, unitMinor, totalMinor: quantity * unitMinor });
   const items: QuoteLineItem[] = [];
   const perSample = prices.perSampleMinor[request.technique];
-  if (perSample !== undefined) items.push(item(`${labelOf(request.technique)} measurement, per sample`, n, perSample));
+  if (perSample !== undefined) {
+    const technique = labelOf(request.technique);
+    items.push(item(`${technique[0].toUpperCase()}${technique.slice(1)} measurement, per sample`, n, perSample));
+  }
   const extraPoints = Math.max(request.temperaturePointsK.length - 1, 0);
   if (extraPoints > 0 && prices.perExtraTemperaturePointMinor > 0) {
     items.push(item(`Extra temperature points (${extraPoints} per sample)`, n * extraPoints, prices.perExtraTemperaturePointMinor));

@@ -103,7 +103,7 @@ export default function ClientRequest() {
                         <td className="py-1">
                           {i.quantity} × {i.description}
                         </td>
-                        <td className="py-1 text-right">{formatMoney(i.totalMinor, q.currency)}</td>
+                        <td className="py-1 text-right whitespace-nowrap">{formatMoney(i.totalMinor, q.currency)}</td>
                       </tr>
                     ))}
                   </tbody>

@@ -1,5 +1,5 @@
 // The lab's inbox: open requests its instruments and hazard acceptance fit, and requests it was invited to.
-import { inArray, eq } from "drizzle-orm";
+import { and, eq, inArray } from "drizzle-orm";
 import { Link, useLoaderData } from "react-router";
 import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
@@ -25,7 +25,7 @@ export async function loader({ request }: Route.LoaderArgs) {
         .where(inArray(schema.requests.id, ids))
     : [];
   const quoted = ids.length
-    ? await db.select({ requestId: schema.quotes.requestId, state: schema.quotes.state }).from(schema.quotes).where(inArray(schema.quotes.requestId, ids))
+    ? await db.select({ requestId: schema.quotes.requestId, state: schema.quotes.state }).from(schema.quotes).where(and(eq(schema.quotes.labId, labId), inArray(schema.quotes.requestId, ids)))
     : [];
   const items = found.flatMap((f) => {
     const row = rows.find((r) => r.id === f.requestId);
