@@ -27,6 +27,8 @@ export default [
       route("requests/:id/edit/labs", "routes/client/request-labs.tsx"),
       route("requests/:id/edit/review", "routes/client/request-review.tsx"),
       route("orders", "routes/client/orders.tsx"),
+      route("payments", "routes/client/payments.tsx"),
+      route("payments/:id/receipt", "routes/client/payment-receipt.tsx"),
       route("orders/:id", "routes/client/order.tsx"),
       route("orders/:id/payment", "routes/client/order-payment.tsx"),
       route(":section", "routes/workspace-section.tsx", { id: "client-section" }),

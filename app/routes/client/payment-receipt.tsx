@@ -1,0 +1,82 @@
+// /client/payments/:id/receipt — a printable receipt for one payment of the organisation.
+import { and, eq } from "drizzle-orm";
+import { useLoaderData } from "react-router";
+import { DiffractionRingsIcon } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { formatMoney } from "~/utils/format";
+import { notFound, requireOrgRole } from "~/utils/permissions.server";
+import type { Route } from "./+types/payment-receipt";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "client");
+  if (!/^[0-9a-f-]{36}$/i.test(params.id)) notFound("No such payment.");
+  const [row] = await db
+    .select({ payment: schema.payments, title: schema.requests.title, lab: schema.organisations.name, quote: schema.quotes })
+    .from(schema.payments)
+    .innerJoin(schema.orders, eq(schema.orders.id, schema.payments.orderId))
+    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
+    .innerJoin(schema.quotes, eq(schema.quotes.id, schema.orders.quoteId))
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.labId))
+    .where(and(eq(schema.payments.id, params.id), eq(schema.orders.clientOrganisationId, membership.organisation.id), eq(schema.payments.status, "paid")));
+  if (!row) notFound("No such payment in your organisation.");
+  return { receipt: { id: row.payment.id, chargeId: row.payment.chargeId, at: row.payment.updatedAt, amountMinor: row.payment.amountMinor, currency: row.payment.currency, title: row.title, lab: row.lab, lines: row.quote.lineItems, client: membership.organisation.name } };
+}
+
+export default function Receipt() {
+  const { receipt } = useLoaderData<typeof loader>();
+  return (
+    <article className="card mx-auto max-w-2xl print:border-0 print:shadow-none">
+      <header className="flex items-center justify-between">
+        <div className="flex items-center gap-2 font-bold">
+          <DiffractionRingsIcon className="h-7 w-7 text-beam-600" /> Diffractory
+        </div>
+        <button type="button" className="btn-secondary print:hidden" onClick={() => window.print()}>
+          Print
+        </button>
+      </header>
+      <h1 className="mt-6 text-2xl font-bold">Receipt</h1>
+      <dl className="mt-4 grid grid-cols-2 gap-y-1 text-sm">
+        <dt className="text-ink-600">Paid by</dt>
+        <dd>{receipt.client}</dd>
+        <dt className="text-ink-600">For</dt>
+        <dd>
+          {receipt.title} — {receipt.lab}
+        </dd>
+        <dt className="text-ink-600">Date</dt>
+        <dd>{new Date(receipt.at).toLocaleString()}</dd>
+        <dt className="text-ink-600">Payment reference</dt>
+        <dd className="font-mono text-xs">{receipt.chargeId}</dd>
+      </dl>
+      <table className="table mt-6">
+        <thead>
+          <tr>
+            <th scope="col">Item</th>
+            <th scope="col">Qty</th>
+            <th scope="col" className="text-right">
+              Amount
+            </th>
+          </tr>
+        </thead>
+        <tbody>
+          {receipt.lines.map((l, i) => (
+            <tr key={i}>
+              <td>{l.description}</td>
+              <td>{l.quantity}</td>
+              <td className="text-right">{formatMoney(l.totalMinor, receipt.currency)}</td>
+            </tr>
+          ))}
+          <tr>
+            <td colSpan={2} className="font-semibold">
+              Total paid (held until delivery is accepted)
+            </td>
+            <td className="text-right font-semibold">{formatMoney(receipt.amountMinor, receipt.currency)}</td>
+          </tr>
+        </tbody>
+      </table>
+    </article>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Receipt — Diffractory" }];
+}
