@@ -55,7 +55,12 @@ export default function ClientRequest() {
         <section className="card mb-6" aria-label="Order">
           <div className="flex flex-wrap items-center justify-between gap-3">
             <h2 className="text-lg font-semibold">Order</h2>
-            <OrderStateBadge state={order.state} />
+            <span className="flex items-center gap-3">
+              <OrderStateBadge state={order.state} />
+              <Link to={`/client/orders/${order.id}`} className="btn-secondary">
+                Open the order
+              </Link>
+            </span>
           </div>
           <p className="mt-1 text-sm text-ink-600">
             {formatMoney(order.amountMinor, order.currency)} · payment is the next step; the funds are then held until the data is delivered.
