@@ -560,3 +560,145 @@ export const disputes = pgTable(
 
 export type Payment = typeof payments.$inferSelect;
 export type Dispute = typeof disputes.$inferSelect;
+
+// ───────────────────────── Delivery: shipments, files, checks, data room, tokens ─────────────────────────
+
+export const orderFileKind = pgEnum("order_file_kind", ["scan", "report", "other"]);
+export const orderFileState = pgEnum("order_file_state", ["uploading", "stored", "rejected"]);
+export const checkStatus = pgEnum("check_status", ["queued", "running", "done", "failed"]);
+
+/** The client's shipment of an order's samples. */
+export const shipments = pgTable("shipments", {
+  orderId: uuid("order_id")
+    .primaryKey()
+    .references(() => orders.id, { onDelete: "cascade" }),
+  carrier: text("carrier").notNull(),
+  trackingNumber: text("tracking_number").notNull(),
+  shippedBy: uuid("shipped_by").references(() => users.id, { onDelete: "set null" }),
+  shippedAt: createdAt(),
+});
+
+/**
+ * A file of an order's data room. Uploading the same name again makes a new version; nothing is
+ * overwritten. Deletion is soft (`deletedAt`); the bytes stay for the retention period.
+ */
+export const orderFiles = pgTable(
+  "order_files",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    orderId: uuid("order_id")
+      .notNull()
+      .references(() => orders.id, { onDelete: "restrict" }),
+    sampleId: uuid("sample_id").references(() => samples.id, { onDelete: "set null" }),
+    kind: orderFileKind("kind").notNull().default("scan"),
+    name: text("name").notNull(),
+    version: integer("version").notNull(),
+    sizeBytes: doublePrecision("size_bytes").notNull(),
+    contentType: text("content_type").notNull(),
+    /** SHA-256 the uploader computed; verified against the stored object before the file counts. */
+    sha256: text("sha256").notNull(),
+    storageKey: text("storage_key").notNull(),
+    state: orderFileState("state").notNull().default("uploading"),
+    multipartUploadId: text("multipart_upload_id"),
+    rejectReason: text("reject_reason"),
+    uploadedBy: uuid("uploaded_by").references(() => users.id, { onDelete: "set null" }),
+    uploadedVia: text("uploaded_via").notNull().default("browser"),
+    createdAt: createdAt(),
+    storedAt: timestamp("stored_at", { withTimezone: true }),
+    deletedAt: timestamp("deleted_at", { withTimezone: true }),
+    deletedBy: uuid("deleted_by").references(() => users.id, { onDelete: "set null" }),
+  },
+  (t) => [uniqueIndex("order_files_version_idx").on(t.orderId, t.name, t.version), index("order_files_order_idx").on(t.orderId)],
+);
+
+/** The automatic lattice check of one stored scan. */
+export const scanChecks = pgTable(
+  "scan_checks",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    fileId: uuid("file_id")
+      .notNull()
+      .references(() => orderFiles.id, { onDelete: "cascade" }),
+    status: checkStatus("status").notNull().default("queued"),
+    verdict: text("verdict"),
+    /** The engine's one sentence when it could not read the scan. */
+    error: text("error"),
+    result: jsonb("result").$type<Record<string, unknown>>(),
+    attempts: integer("attempts").notNull().default(0),
+    queuedAt: createdAt(),
+    startedAt: timestamp("started_at", { withTimezone: true }),
+    finishedAt: timestamp("finished_at", { withTimezone: true }),
+  },
+  (t) => [uniqueIndex("scan_checks_file_idx").on(t.fileId)],
+);
+
+/** Read-only links to an order's data room for a colleague outside the organisation. */
+export const shareLinks = pgTable(
+  "share_links",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    orderId: uuid("order_id")
+      .notNull()
+      .references(() => orders.id, { onDelete: "cascade" }),
+    organisationId: uuid("organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "cascade" }),
+    tokenHash: text("token_hash").notNull(),
+    label: text("label").notNull(),
+    createdBy: uuid("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    expiresAt: timestamp("expires_at", { withTimezone: true }).notNull(),
+    revokedAt: timestamp("revoked_at", { withTimezone: true }),
+  },
+  (t) => [uniqueIndex("share_links_token_idx").on(t.tokenHash), index("share_links_order_idx").on(t.orderId)],
+);
+
+/** Who downloaded which file, when, from where — through a signed-in session or a share link. */
+export const fileAccessLog = pgTable(
+  "file_access_log",
+  {
+    id: bigserial("id", { mode: "number" }).primaryKey(),
+    fileId: uuid("file_id")
+      .notNull()
+      .references(() => orderFiles.id, { onDelete: "cascade" }),
+    userId: uuid("user_id").references(() => users.id, { onDelete: "set null" }),
+    shareLinkId: uuid("share_link_id").references(() => shareLinks.id, { onDelete: "set null" }),
+    clientAddress: text("client_address"),
+    at: createdAt(),
+  },
+  (t) => [index("file_access_log_file_idx").on(t.fileId, t.at)],
+);
+
+/** Tokens for uploads straight from an instrument computer; only the SHA-256 of the token is kept. */
+export const apiTokens = pgTable(
+  "api_tokens",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "cascade" }),
+    name: text("name").notNull(),
+    tokenHash: text("token_hash").notNull(),
+    /** The first characters, shown so people can tell their tokens apart. */
+    prefix: text("prefix").notNull(),
+    createdBy: uuid("created_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    lastUsedAt: timestamp("last_used_at", { withTimezone: true }),
+    revokedAt: timestamp("revoked_at", { withTimezone: true }),
+  },
+  (t) => [uniqueIndex("api_tokens_hash_idx").on(t.tokenHash), index("api_tokens_lab_idx").on(t.labId)],
+);
+
+/** Fixed-window request counters shared by every app server (rate limits). */
+export const rateLimitBuckets = pgTable(
+  "rate_limit_buckets",
+  {
+    key: text("key").notNull(),
+    windowStart: timestamp("window_start", { withTimezone: true }).notNull(),
+    count: integer("count").notNull().default(0),
+  },
+  (t) => [primaryKey({ columns: [t.key, t.windowStart] })],
+);
+
+export type OrderFile = typeof orderFiles.$inferSelect;
+export type ScanCheck = typeof scanChecks.$inferSelect;
