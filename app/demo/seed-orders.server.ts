@@ -47,12 +47,13 @@ export async function seedDemoOrders() {
   const [pinecrest] = await db.select().from(schema.users).where(eq(schema.users.email, "owner@pinecrest.example"));
   const [admin] = await db.select().from(schema.users).where(eq(schema.users.email, "admin@diffractory.example"));
   const [labManager] = await db.select().from(schema.users).where(eq(schema.users.email, "lab@graniteridge.example"));
-  // Granite Ridge has finished payout onboarding; Lakeside has not (it can be shown connecting).
-  const granite = await orgBySlugName("Granite Ridge Characterisation");
-  const [graniteLab] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, granite.id));
-  if (!graniteLab.payoutsEnabled) {
-    await payoutOnboardingUrl(granite.id, labManager.email);
-    const [lab] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, granite.id));
+  // Both approved labs have finished payout onboarding, so they can quote and be paid.
+  for (const name of ["Granite Ridge Characterisation", "Lakeside Institute X-ray Core"]) {
+    const org = await orgBySlugName(name);
+    const [row] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, org.id));
+    if (row.payoutsEnabled) continue;
+    await payoutOnboardingUrl(org.id, labManager.email);
+    const [lab] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, org.id));
     await fakeControl(`accounts/${lab.payoutAccountId}/complete-onboarding`, {});
     await syncPayoutAccount(lab.payoutAccountId!);
   }

@@ -1,5 +1,6 @@
 // Quotes: drafted from the lab's price list, sent after the hazard acknowledgement, withdrawn, lapsed, accepted.
 import { and, asc, desc, eq, lt, ne } from "drizzle-orm";
+import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
 import type { MarketRequest, PriceList, QuoteLineItem, Sample } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
@@ -70,6 +71,9 @@ export type SendQuoteResult = { ok: true; quoteId: string } | { ok: false; formE
  */
 export async function sendQuote(request: MarketRequest, labId: string, userId: string, input: QuoteInput): Promise<SendQuoteResult> {
   if ((await vettingStateOf(labId)) !== "approved") return { ok: false, formError: "Only approved labs can send quotes." };
+  // The money of an accepted quote is paid out to the lab's account, so it must exist first (DESIGN.md).
+  const [payout] = await db.select({ ready: schema.labs.payoutsEnabled }).from(schema.labs).where(eq(schema.labs.organisationId, labId));
+  if (!payout?.ready) return { ok: false, formError: "Connect your lab's payout account (Payouts) before sending quotes." };
   if (!(await acknowledgementOf(request.id, labId))) {
     return { ok: false, formError: "Acknowledge the hazard declaration before sending a quote." };
   }
@@ -213,7 +217,7 @@ export async function acceptQuote(requestId: string, quoteId: string, organisati
       await tx.update(schema.requests).set({ state: "awarded", updatedAt: now }).where(eq(schema.requests.id, request.id));
       const [order] = await tx
         .insert(schema.orders)
-        .values({ requestId: request.id, quoteId: quote.id, clientOrganisationId: organisationId, labId: quote.labId, amountMinor: quote.totalMinor, currency: quote.currency })
+        .values({ requestId: request.id, quoteId: quote.id, clientOrganisationId: organisationId, labId: quote.labId, amountMinor: quote.totalMinor, currency: quote.currency, platformFeeBps: config.payments.platformFeeBps })
         .returning({ id: schema.orders.id });
       await tx.insert(schema.orderEvents).values({ orderId: order.id, fromState: null, toState: "awaiting_payment", actorUserId: userId, note: "Quote accepted" });
       await audit({ actorUserId: userId, organisationId, action: "quote_accepted", subjectType: "quote", subjectId: quote.id, details: { orderId: order.id } }, tx);

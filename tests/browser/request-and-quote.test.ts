@@ -152,7 +152,11 @@ describe("request and quote", () => {
     for (const part of ["EUR 245.00", "8 days", "Reflection diffractometer", "Cu Kα", "Valid until", "Accepts the declared hazards (GHS07)"]) expect(offer).toContain(part);
     await screenshot(page, "client-quotes-side-by-side");
     await page.getByRole("button", { name: "Accept Granite Ridge Characterisation's quote" }).click();
-    await page.getByText("Quote accepted. The order is awaiting payment.").waitFor();
+    // Accepting leads to the order, ready for checkout.
+    await page.waitForURL(/\/client\/orders\/[0-9a-f-]+$/);
+    await page.getByText("Quote accepted. The order is awaiting payment").waitFor();
+    await page.getByRole("button", { name: /^Pay EUR 245\.00|^Pay €245\.00/ }).waitFor();
+    await visit(page, requestPath);
     await page.getByRole("region", { name: "Order" }).getByText("awaiting payment").first().waitFor();
     expect(await page.getByRole("button", { name: /^Accept / }).count()).toBe(0);
     await screenshot(page, "client-quote-accepted");

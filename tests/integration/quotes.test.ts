@@ -1,6 +1,6 @@
 // Quotes on the real PostgreSQL: the hazard acknowledgement before quoting, totals added up by the server,
 // labs isolated from each other's quotes, the concurrent-accept race, and lapsing after the validity date.
-import { and, eq } from "drizzle-orm";
+import { and, eq, inArray } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { db, schema } from "~/db/client.server";
 import { seedDemo } from "~/demo/seed.server";
@@ -88,6 +88,8 @@ beforeAll(async () => {
   await seedDemo();
   graniteId = await orgId("Granite Ridge Characterisation");
   lakesideId = await orgId("Lakeside Institute X-ray Core");
+  // Both approved labs have finished payout onboarding (a lab without it cannot quote: tested below).
+  await db.update(schema.labs).set({ payoutAccountId: "acct_fixture", payoutsEnabled: true }).where(inArray(schema.labs.organisationId, [graniteId, lakesideId]));
   requestId = await openRequest("Layered oxide NMC-3 lattice check");
 });
 
@@ -126,6 +128,15 @@ describe("quoting", () => {
     const answer = await acknowledge(MERIDIAN);
     expect(answer.status).toBe(400);
     expect((answer.body as { error: string }).error).toMatch(/Only approved labs/);
+  });
+
+  it("refuses a quote from a lab whose payout account is not connected yet", async () => {
+    await db.update(schema.labs).set({ payoutsEnabled: false }).where(eq(schema.labs.organisationId, graniteId));
+    const answer = await sendQuote(GRANITE, quoteFields(await instrumentOf("Granite Ridge Characterisation")));
+    await db.update(schema.labs).set({ payoutsEnabled: true }).where(eq(schema.labs.organisationId, graniteId));
+    expect(answer.status).toBe(400);
+    expect(JSON.stringify(answer.body)).toContain("Connect your lab's payout account");
+    expect(await quotesOf(requestId)).toEqual([]);
   });
 
   it("adds the total up on the server and ignores a tampered total", async () => {

@@ -26,7 +26,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (form.get("intent") !== "accept") return data({ error: "Choose what to do." }, { status: 400 });
   const result = await acceptQuote(row.id, String(form.get("quoteId") ?? ""), membership.organisation.id, user.id);
   if (!result.ok) return data({ error: result.error }, { status: 400 });
-  return redirectWithToast(`/client/requests/${row.id}`, { kind: "success", message: "Quote accepted. The order is awaiting payment." });
+  // Accepting leads straight to the order, where the client pays into holding.
+  return redirectWithToast(`/client/orders/${result.orderId}`, { kind: "success", message: "Quote accepted. The order is awaiting payment: pay the total to have it held until delivery." });
 }
 
 export default function ClientRequest() {
