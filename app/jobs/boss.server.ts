@@ -5,6 +5,8 @@ import { config } from "~/config.server";
 export const QUEUES = {
   /** Every few minutes: accept deliveries whose review window has lapsed, and pay the labs. */
   reviewWindow: "review-window",
+  /** The lattice check of one stored scan (`{ fileId }`). */
+  scanCheck: "scan-check",
 } as const;
 
 const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };
@@ -35,5 +37,9 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = "*/5 * * *
   await boss.work(QUEUES.reviewWindow, async () => {
     const accepted = await acceptLapsedDeliveries();
     if (accepted > 0) console.log(`review window: ${accepted} deliveries accepted automatically`);
+  });
+  const { runScanCheck } = await import("./scan-check.server");
+  await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true }, async ([job]) => {
+    await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });
   });
 }
