@@ -8,7 +8,7 @@ import { db, schema } from "~/db/client.server";
 import { heldForOrder } from "~/models/ledger.server";
 import { toMinorUnits } from "~/models/money";
 import { PaymentProblem, platformFee, resolveDispute } from "~/models/payments.server";
-import { formatMoney } from "~/utils/format";
+import { formatMoney } from "~/models/money";
 import { requireAdmin } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/disputes";

@@ -3,7 +3,7 @@ import { Form, Link, useLoaderData, useSearchParams } from "react-router";
 import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { LEDGER_KINDS, parseLedgerFilter } from "~/models/ledger-filter";
 import { ledgerRows, ledgerSummary } from "~/models/ledger.server";
-import { formatMoney } from "~/utils/format";
+import { formatMoney } from "~/models/money";
 import { requireAdmin } from "~/utils/permissions.server";
 import type { Route } from "./+types/ledger";
 

@@ -9,7 +9,7 @@ import { db, schema } from "~/db/client.server";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
 import { orderForOrganisation, orderTimeline, OrderMoveRefused } from "~/models/orders.server";
 import { acceptDelivery, cancelOrder, openDispute, PaymentProblem, startCheckout } from "~/models/payments.server";
-import { formatMoney } from "~/utils/format";
+import { formatMoney } from "~/models/money";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/order";

@@ -4,7 +4,7 @@ import { Link, useLoaderData } from "react-router";
 import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
-import { formatMoney } from "~/utils/format";
+import { formatMoney } from "~/models/money";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/orders";
 

@@ -3,7 +3,7 @@ import { and, eq } from "drizzle-orm";
 import { useLoaderData } from "react-router";
 import { DiffractionRingsIcon } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { formatMoney } from "~/utils/format";
+import { formatMoney } from "~/models/money";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payment-receipt";
 

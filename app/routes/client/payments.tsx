@@ -3,7 +3,7 @@ import { and, desc, eq, inArray } from "drizzle-orm";
 import { Link, useLoaderData } from "react-router";
 import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { formatMoney } from "~/utils/format";
+import { formatMoney } from "~/models/money";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payments";
 

@@ -4,7 +4,7 @@ import { data, Form, redirect, useActionData, useLoaderData, useNavigation } fro
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { payoutOnboardingUrl, PaymentProblem, syncPayoutAccount } from "~/models/payments.server";
-import { formatMoney } from "~/utils/format";
+import { formatMoney } from "~/models/money";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payouts";
 

@@ -7,7 +7,7 @@ import { dSpacingCoverage } from "~/models/coverage";
 import { loadMatchLabs } from "~/models/matching.server";
 import { instrumentWavelength, labelOf, sourceLabel } from "~/models/matching";
 import { notFound } from "~/utils/permissions.server";
-import { formatMoney } from "~/utils/format";
+import { formatMoney } from "~/models/money";
 import type { Route } from "./+types/lab-profile";
 
 // Public by design: only approved labs are shown; any other slug is a 404.

@@ -7,7 +7,7 @@ import { searchDirectory, type DirectoryLab } from "~/models/directory.server";
 import { GHS_CODES, SPECIAL_CATEGORY_CODES, ghsName } from "~/models/hazard-codes";
 import { labelOf } from "~/models/matching";
 import { ANODES } from "~/diffraction/wavelengths";
-import { formatMoney } from "~/utils/format";
+import { formatMoney } from "~/models/money";
 import type { Route } from "./+types/labs";
 
 type DirectoryResult = { labs: DirectoryLab[]; total: number; page: number };
