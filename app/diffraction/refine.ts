@@ -114,6 +114,30 @@ function listReflections(system: CrystalSystem, centering: Centering, p: number[
   return allowedReflections(cell, system, centering, { dMin });
 }
 
+/** A reflection with its design row ∂Q/∂p and a key that is equal for reflections of equal Q-expression. */
+interface PoolEntry {
+  r: Reflection;
+  row: number[];
+  key: string;
+}
+
+/**
+ * Every reflection any cell the refinement can reach may show in the scan: those of the start cell
+ * enlarged by the search range plus a margin, listed once per refinement.
+ */
+function reflectionPool(system: CrystalSystem, centering: Centering, p: number[], options: RefineOptions, range: number): PoolEntry[] {
+  return listReflections(system, centering, p.map((x) => x / (1 + range + 0.005) ** 2), options).map((r) => {
+    const row = qDesignRow(system, r);
+    return { r, row, key: row.join(",") };
+  });
+}
+
+function qOfRow(row: number[], p: number[]): number {
+  let q = 0;
+  for (let i = 0; i < row.length; i++) q += row[i] * p[i];
+  return q;
+}
+
 /**
  * Indexes and refines; see the module comment for the model. The indexing window of each reflection is
  * the peak's own resolution plus three standard uncertainties of the reflection's predicted position,
@@ -127,7 +151,8 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
   const nFree = freeParameters(system).length;
   const startP = metricParamsFromCell(system, options.start);
   const search = options.searchRange ?? 0.02;
-  const coarse = coarseSearch(peaks, startP, options, radius, search);
+  const pool = reflectionPool(system, centering, startP, options, search);
+  const coarse = coarseSearch(peaks, pool, startP, options, radius, search);
   let state = coarse;
   let assignments: Assignment[] = [];
   let fit: LinearStep | null = null;
@@ -144,7 +169,7 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
     let previous = "";
     for (let pass = 0; pass < 12; pass++) {
       const s = fit ? Math.sqrt(Math.max(fit.reducedChi2, 1)) : 1;
-      const next = assign(peaks, listReflections(system, centering, state.p, options), state, covariance, options, radius, s, lenient);
+      const next = assign(peaks, pool, state, covariance, options, radius, s, lenient);
       const key = next.map((a) => `${a.peak}:${a.reflection.h},${a.reflection.k},${a.reflection.l},${a.used}`).join(";");
       if (key === previous && fit) {
         converged = true;
@@ -233,15 +258,16 @@ function positionSigma(peak: ObservedPeak): number {
  * the strongest peaks within half a FWHM of a reflection: the start of the indexing, so that a declared
  * cell a little off (thermal expansion, a solid solution) still indexes.
  */
-function coarseSearch(peaks: readonly ObservedPeak[], startP: number[], options: RefineOptions, radius: number, range: number): State {
-  const { system, centering, wavelength } = options;
-  const wide = listReflections(
-    system,
-    centering,
-    startP.map((x) => x / (1 + range) ** 2),
-    options,
-  );
-  const qCalc = Float64Array.from(wide.map((r) => qOf(system, startP, r))).sort();
+function coarseSearch(
+  peaks: readonly ObservedPeak[],
+  pool: PoolEntry[],
+  startP: number[],
+  options: RefineOptions,
+  radius: number,
+  range: number,
+): State {
+  const { wavelength } = options;
+  const qCalc = Float64Array.from(pool.map((e) => qOfRow(e.row, startP))).sort();
   const strong = [...peaks.keys()].sort((a, b) => peaks[b].intensity - peaks[a].intensity).slice(0, 20);
   const zeroOnly = (options.correction ?? "zero_shift") === "zero_shift";
   const fallback: State = { p: startP, shift: 0 };
@@ -293,7 +319,7 @@ function coarseSearch(peaks: readonly ObservedPeak[], startP: number[], options:
  */
 function assign(
   peaks: readonly ObservedPeak[],
-  reflections: Reflection[],
+  pool: PoolEntry[],
   state: State,
   covariance: SquareMatrix,
   options: RefineOptions,
@@ -302,16 +328,18 @@ function assign(
   lenient: boolean,
 ): Assignment[] {
   const n = covariance.n;
-  const calc = reflections
-    .map((r) => {
-      const q = qOf(options.system, state.p, r);
+  const xMax = options.twoThetaMax + 2;
+  const calc = pool
+    .map(({ r, row, key }) => {
+      const q = qOfRow(row, state.p);
       const x = predict(q, state.shift, options, radius);
-      const g = Number.isFinite(x) ? positionGradient(options, r, q, radius) : null;
+      if (!(x <= xMax)) return null;
+      const g = positionGradient(options, r, q, radius);
       let variance = 0;
-      if (g) for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) variance += g[i] * covariance.data[i * n + j] * g[j];
-      return { r, x, sigma: Math.sqrt(Math.max(variance, 0)), row: qDesignRow(options.system, r).join(",") };
+      for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) variance += g[i] * covariance.data[i * n + j] * g[j];
+      return { r, x, sigma: Math.sqrt(Math.max(variance, 0)), row: key };
     })
-    .filter((c) => Number.isFinite(c.x))
+    .filter((c) => c !== null)
     .sort((a, b) => a.x - b.x);
   const xs = Float64Array.from(calc.map((c) => c.x));
   let widest = 0;
@@ -406,7 +434,8 @@ function iterateLeastSquares(
       const calc = predict(qOf(options.system, state.p, a.reflection), state.shift, options, radius);
       return (peaks[a.peak].twoTheta - calc) / positionSigma(peaks[a.peak]);
     });
-    const spread = 1.4826 * median(normalised.map((r) => Math.abs(r - median(normalised))));
+    const centre = median(normalised);
+    const spread = 1.4826 * median(normalised.map((r) => Math.abs(r - centre)));
     const limit = 5 * Math.max(spread, 1);
     let removed = 0;
     used.forEach((a, i) => {
