@@ -313,6 +313,23 @@ function binScan(
   return { x, y, variance: v };
 }
 
+/**
+ * FWHM of the net peak at `index` from its half-height points (the narrower side, for a doublet), or
+ * `fallback` when they are not found within a few typical widths: a start for the fit that already
+ * follows the widths' growth with angle.
+ */
+function localFwhm(twoTheta: Float64Array, net: Float64Array, index: number, fallback: number): number {
+  const half = 0.5 * net[index];
+  if (!(half > 0)) return fallback;
+  const limit = 4 * fallback;
+  let lo = index;
+  let hi = index;
+  while (lo > 0 && net[lo] > half && twoTheta[index] - twoTheta[lo] < limit) lo--;
+  while (hi < net.length - 1 && net[hi] > half && twoTheta[hi] - twoTheta[index] < limit) hi++;
+  const width = 2 * Math.min(twoTheta[index] - twoTheta[lo], twoTheta[hi] - twoTheta[index]);
+  return width > 0.5 * fallback && width < limit ? width : fallback;
+}
+
 // ——— Fits ———
 
 interface PeakStart {
@@ -339,7 +356,7 @@ export function analysePeaks(twoTheta: Float64Array, intensity: Float64Array, op
   const candidates = searchBinned(twoTheta, intensity, variance, net, typicalFwhm, options.threshold ?? 4);
   const lines = options.lines;
   const starts = dropSatellites(candidates, lines, typicalFwhm).map(
-    (c): PeakStart => ({ twoTheta: c.twoTheta, height: Math.max(net[c.index], 0), fwhm: typicalFwhm }),
+    (c): PeakStart => ({ twoTheta: c.twoTheta, height: Math.max(net[c.index], 0), fwhm: localFwhm(twoTheta, net, c.index, typicalFwhm) }),
   );
   const fittedProfile = Float64Array.from(background);
   const peaks: FittedPeak[] = [];
@@ -378,7 +395,7 @@ function dropSatellites(candidates: Candidate[], lines: EmissionLine[], fwhm: nu
   return candidates.filter((c) => !dropped.has(c));
 }
 
-const MAX_CLUSTER = 6;
+const MAX_CLUSTER = 4;
 
 function groupClusters(starts: PeakStart[], lines: EmissionLine[], fwhm: number): PeakStart[][] {
   const sorted = [...starts].sort((a, b) => a.twoTheta - b.twoTheta);
