@@ -8,6 +8,7 @@ import { Badge, FormError, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
 import { orderForOrganisation, orderTimeline, OrderMoveRefused } from "~/models/orders.server";
+import { markShipped, shipmentOf } from "~/models/fulfilment.server";
 import { acceptDelivery, cancelOrder, openDispute, PaymentProblem, startCheckout } from "~/models/payments.server";
 import { formatMoney } from "~/models/money";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
@@ -30,6 +31,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     orderTimeline(order.id),
   ]);
   const [dispute] = await db.select().from(schema.disputes).where(and(eq(schema.disputes.orderId, order.id)));
+  const shipment = await shipmentOf(order.id);
   return {
     order: { id: order.id, state: order.state, amountMinor: order.amountMinor, currency: order.currency, reviewWindowDays: order.reviewWindowDays, deliveredAt: order.deliveredAt },
     request: request_,
@@ -37,6 +39,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     declined: order.state === "awaiting_payment" && payment?.lastError ? payment.lastError : null,
     dispute: dispute ? { state: dispute.state, reason: dispute.reason, decisionReason: dispute.decisionReason } : null,
     cancelledPayment: new URL(request.url).searchParams.get("payment") === "cancelled",
+    shipment: shipment ? { carrier: shipment.carrier, trackingNumber: shipment.trackingNumber } : null,
     timeline,
   };
 }
@@ -45,6 +48,14 @@ const OrderAction = z.discriminatedUnion("intent", [
   z.object({ intent: z.literal("pay") }),
   z.object({ intent: z.literal("cancel"), reason: z.string().trim().max(500).optional() }),
   z.object({ intent: z.literal("accept") }),
+  z.object({
+    intent: z.literal("ship"),
+    carrier: z.string({ error: "Name the carrier." }).trim().min(2, "Name the carrier.").max(80),
+    trackingNumber: z
+      .string({ error: "Give the tracking number." })
+      .trim()
+      .regex(/^[A-Za-z0-9][A-Za-z0-9 -]{3,40}$/, "A tracking number has 4–40 letters, digits, spaces or dashes."),
+  }),
   z.object({ intent: z.literal("dispute"), reason: z.string({ error: "Say what is wrong with the delivery." }).trim().min(10, "Say in a sentence or two what is wrong (at least 10 characters).").max(2000) }),
 ]);
 
@@ -58,6 +69,10 @@ export async function action({ request, params }: Route.ActionArgs) {
     if (v.intent === "cancel") {
       await cancelOrder(order.id, "client", actor.user.id, v.reason || "Cancelled by the client.");
       return redirectWithToast(`/client/orders/${order.id}`, { kind: "info", message: "The order is cancelled; anything paid is refunded in full." });
+    }
+    if (v.intent === "ship") {
+      await markShipped(order.id, actor.user.id, v.carrier, v.trackingNumber);
+      return redirectWithToast(`/client/orders/${order.id}`, { kind: "success", message: "Marked shipped. The lab checks the parcel against its declaration on arrival." });
     }
     if (v.intent === "accept") {
       await acceptDelivery(order.id, "client", actor.user.id);
@@ -74,7 +89,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function ClientOrder() {
-  const { order, request, labName, declined, dispute, cancelledPayment, timeline } = useLoaderData<typeof loader>();
+  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
@@ -114,6 +129,35 @@ export default function ClientOrder() {
                 </button>
               </Form>
             </div>
+          ) : order.state === "funds_held" ? (
+            <div className="mt-3 space-y-3">
+              <p className="text-sm text-ink-700">
+                The money is held. Print the packing slip, put it in the parcel, ship the samples to the lab and mark them shipped.
+              </p>
+              <Link to={`/client/orders/${order.id}/packing-slip`} className="btn-secondary">
+                Packing slip
+              </Link>
+              <Form method="post" className="grid gap-3 sm:grid-cols-[1fr_1fr_auto] sm:items-end">
+                <div>
+                  <label htmlFor="carrier" className="label">
+                    Carrier
+                  </label>
+                  <input id="carrier" name="carrier" className="input" aria-describedby="ship-errors" />
+                </div>
+                <div>
+                  <label htmlFor="trackingNumber" className="label">
+                    Tracking number
+                  </label>
+                  <input id="trackingNumber" name="trackingNumber" className="input" aria-describedby="ship-errors" />
+                </div>
+                <button type="submit" name="intent" value="ship" className="btn-primary" disabled={busy}>
+                  Mark samples shipped
+                </button>
+                <p id="ship-errors" className="min-h-5 text-xs text-danger-700 sm:col-span-3">
+                  {[...((actionData?.result?.error?.carrier as string[] | undefined) ?? []), ...((actionData?.result?.error?.trackingNumber as string[] | undefined) ?? [])].join(" ")}
+                </p>
+              </Form>
+            </div>
           ) : order.state === "data_delivered" ? (
             <div className="mt-3 space-y-4">
               <p className="text-sm text-ink-700">
@@ -137,15 +181,22 @@ export default function ClientOrder() {
             </div>
           ) : (
             <p className="mt-3 text-sm text-ink-700">
-              {order.state === "funds_held" && "The money is held. Ship the samples to the lab and mark them shipped."}
               {order.state === "disputed" && `In dispute: ${dispute?.reason ?? ""}. An admin will decide.`}
               {order.state === "resolved" && `The dispute was decided: ${dispute?.decisionReason ?? ""}`}
               {order.state === "paid_out" && "Delivery accepted and the lab paid. The data stays in your data room."}
               {order.state === "cancelled" && "This order is cancelled."}
               {order.state === "refused_on_arrival" && "The lab refused the parcel on arrival; the payment was refunded minus the handling fee."}
               {["samples_in_transit", "samples_received", "measuring", "accepted"].includes(order.state) && "The lab is working on it; the timeline shows each step."}
+              {shipment ? ` Shipped with ${shipment.carrier}, tracking ${shipment.trackingNumber}.` : ""}
             </p>
           )}
+          {["data_delivered", "accepted", "paid_out", "disputed", "resolved"].includes(order.state) ? (
+            <p className="mt-4 text-sm">
+              <Link to={`/client/data-room/${order.id}`} className="font-semibold text-beam-700 underline">
+                Open the data room
+              </Link>
+            </p>
+          ) : null}
           {canCancel ? (
             <Form method="post" className="mt-6 border-t border-ink-100 pt-4">
               <input type="hidden" name="reason" value="Cancelled by the client before the samples arrived." />

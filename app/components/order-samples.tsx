@@ -1,0 +1,22 @@
+// The samples of an order with their declared phase and hazards, for the lab's order page and the packing slip.
+import type { Sample } from "~/db/schema";
+import { HazardDeclaration, SampleFacts } from "./request-parts";
+import { SafetyNotice } from "./ui";
+
+export function OrderSamples({ samples }: { samples: Pick<Sample, "id" | "label" | "formula" | "form" | "massMg" | "expectedPhase" | "crystalSystem" | "centering" | "cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma" | "ghsPictograms" | "hStatements" | "specialHazards" | "handlingNotes" | "afterMeasurement" | "sdsFileName">[] }) {
+  const anyHazard = samples.some((s) => s.ghsPictograms.length || s.hStatements.length || s.specialHazards.length);
+  return (
+    <div className="space-y-4">
+      {samples.map((s) => (
+        <article key={s.id} className="rounded-lg border border-ink-200 p-4" aria-label={`Sample ${s.label}`}>
+          <h3 className="font-semibold">{s.label}</h3>
+          <SampleFacts sample={s} />
+          <div className="mt-3">
+            <HazardDeclaration hazards={s} />
+          </div>
+        </article>
+      ))}
+      {anyHazard ? <SafetyNotice /> : null}
+    </div>
+  );
+}

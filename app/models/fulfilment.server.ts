@@ -1,0 +1,61 @@
+// The physical side of an order: shipping the samples, receiving them, measuring, and delivering the data.
+import { and, asc, eq, isNull } from "drizzle-orm";
+import { db, schema } from "~/db/client.server";
+import { lockOrder, moveOrder, OrderMoveRefused } from "./orders.server";
+
+/** The client marks the samples shipped, with the carrier and tracking number. */
+export async function markShipped(orderId: string, userId: string, carrier: string, trackingNumber: string) {
+  return db.transaction(async (tx) => {
+    const order = await moveOrder(tx, await lockOrder(tx, orderId), "samples_in_transit", "client", userId, `Shipped with ${carrier}, tracking ${trackingNumber}.`);
+    await tx.insert(schema.shipments).values({ orderId, carrier, trackingNumber, shippedBy: userId }).onConflictDoUpdate({
+      target: schema.shipments.orderId,
+      set: { carrier, trackingNumber, shippedBy: userId, shippedAt: new Date() },
+    });
+    return order;
+  });
+}
+
+export async function markReceived(orderId: string, userId: string, note: string) {
+  return db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "samples_received", "lab", userId, note || "Samples received; the parcel matches its declaration."));
+}
+
+export async function startMeasuring(orderId: string, userId: string, note: string) {
+  return db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "measuring", "lab", userId, note || "Measurement started."));
+}
+
+/** Labels of the order's samples that have no completed lattice check of a stored, undeleted scan. */
+export async function samplesWithoutCompletedCheck(orderId: string): Promise<string[]> {
+  const [order] = await db.select({ requestId: schema.orders.requestId }).from(schema.orders).where(eq(schema.orders.id, orderId));
+  if (!order) return [];
+  const samples = await db.select({ id: schema.samples.id, label: schema.samples.label }).from(schema.samples).where(eq(schema.samples.requestId, order.requestId)).orderBy(asc(schema.samples.position));
+  const checked = await db
+    .selectDistinct({ sampleId: schema.orderFiles.sampleId })
+    .from(schema.orderFiles)
+    .innerJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))
+    .where(and(eq(schema.orderFiles.orderId, orderId), eq(schema.orderFiles.state, "stored"), isNull(schema.orderFiles.deletedAt), eq(schema.scanChecks.status, "done")));
+  const done = new Set(checked.map((c) => c.sampleId));
+  return samples.filter((s) => !done.has(s.id)).map((s) => s.label);
+}
+
+/** The lab marks the data delivered; every sample needs at least one completed check first. */
+export async function markDelivered(orderId: string, userId: string, note: string) {
+  const missing = await samplesWithoutCompletedCheck(orderId);
+  if (missing.length > 0) {
+    throw new OrderMoveRefused(`Every sample needs at least one scan with a completed lattice check first; missing: ${missing.join(", ")}.`);
+  }
+  return db.transaction(async (tx) =>
+    moveOrder(tx, await lockOrder(tx, orderId), "data_delivered", "lab", userId, note || "Data delivered to the client's data room.", { deliveredAt: new Date() }),
+  );
+}
+
+/** Samples of an order with their hazard declarations, for the lab's order page and the packing slip. */
+export async function orderSamples(orderId: string) {
+  const [order] = await db.select({ requestId: schema.orders.requestId }).from(schema.orders).where(eq(schema.orders.id, orderId));
+  if (!order) return [];
+  return db.select().from(schema.samples).where(eq(schema.samples.requestId, order.requestId)).orderBy(asc(schema.samples.position));
+}
+
+export async function shipmentOf(orderId: string) {
+  const [row] = await db.select().from(schema.shipments).where(eq(schema.shipments.orderId, orderId));
+  return row ?? null;
+}

@@ -1,0 +1,61 @@
+// /client/orders/:id/packing-slip — a printable list of the parcel's samples with their declared hazards.
+import { eq } from "drizzle-orm";
+import { useLoaderData } from "react-router";
+import { OrderSamples } from "~/components/order-samples";
+import { DiffractionRingsIcon } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { orderSamples } from "~/models/fulfilment.server";
+import { orderForOrganisation } from "~/models/orders.server";
+import { notFound, requireOrgRole } from "~/utils/permissions.server";
+import type { Route } from "./+types/packing-slip";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "client");
+  const found = await orderForOrganisation(params.id, membership.organisation.id);
+  if (!found || found.side !== "client") notFound("No such order in your organisation.");
+  const { order } = found;
+  const [[req], [lab], samples] = await Promise.all([
+    db.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId)),
+    db.select({ name: schema.organisations.name, city: schema.organisations.city, country: schema.organisations.country }).from(schema.organisations).where(eq(schema.organisations.id, order.labId)),
+    orderSamples(order.id),
+  ]);
+  return { orderId: order.id, title: req?.title ?? "", lab, from: membership.organisation.name, samples };
+}
+
+export default function PackingSlip() {
+  const { orderId, title, lab, from, samples } = useLoaderData<typeof loader>();
+  return (
+    <article className="card mx-auto max-w-3xl print:border-0 print:shadow-none">
+      <header className="flex items-center justify-between">
+        <div className="flex items-center gap-2 font-bold">
+          <DiffractionRingsIcon className="h-7 w-7 text-beam-600" /> Diffractory packing slip
+        </div>
+        <button type="button" className="btn-secondary print:hidden" onClick={() => window.print()}>
+          Print
+        </button>
+      </header>
+      <dl className="mt-6 grid grid-cols-2 gap-y-1 text-sm">
+        <dt className="text-ink-600">Order</dt>
+        <dd className="font-mono">{orderId}</dd>
+        <dt className="text-ink-600">Request</dt>
+        <dd>{title}</dd>
+        <dt className="text-ink-600">From</dt>
+        <dd>{from}</dd>
+        <dt className="text-ink-600">To</dt>
+        <dd>{[lab?.name, lab?.city, lab?.country].filter(Boolean).join(", ")}</dd>
+        <dt className="text-ink-600">Samples</dt>
+        <dd>{samples.length}</dd>
+      </dl>
+      <h1 className="mt-6 mb-3 text-lg font-semibold">Samples and declared hazards</h1>
+      <OrderSamples samples={samples} />
+      <p className="mt-6 text-xs text-ink-600">
+        The carrier's dangerous-goods rules and the applicable transport regulations decide how hazardous samples are
+        packed, labelled and shipped; this slip does not classify goods for transport.
+      </p>
+    </article>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Packing slip — Diffractory" }];
+}

@@ -1,0 +1,182 @@
+// /lab/orders/:id — the lab's view of an order: the samples and hazards, the shipment, and the lab's moves.
+import { parseWithZod } from "@conform-to/zod/v4";
+import { eq } from "drizzle-orm";
+import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
+import { z } from "zod";
+import { OrderSamples } from "~/components/order-samples";
+import { OrderTimeline } from "~/components/order-timeline";
+import { Badge, FormError, PageHeader } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { markDelivered, markReceived, orderSamples, samplesWithoutCompletedCheck, shipmentOf, startMeasuring } from "~/models/fulfilment.server";
+import { formatMoney } from "~/models/money";
+import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
+import { orderForOrganisation, orderTimeline, OrderMoveRefused } from "~/models/orders.server";
+import { PaymentProblem, refuseOnArrival } from "~/models/payments.server";
+import { notFound, requireOrgRole } from "~/utils/permissions.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import type { Route } from "./+types/order";
+
+async function labOrder(request: Request, orderId: string) {
+  const actor = await requireOrgRole(request, "lab");
+  const found = await orderForOrganisation(orderId, actor.membership.organisation.id);
+  if (!found || found.side !== "lab") notFound("No such order for your lab.");
+  return { actor, order: found.order };
+}
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { order } = await labOrder(request, params.id);
+  const [[req], [client], samples, shipment, timeline, missingChecks] = await Promise.all([
+    db.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId)),
+    db.select({ name: schema.organisations.name }).from(schema.organisations).where(eq(schema.organisations.id, order.clientOrganisationId)),
+    orderSamples(order.id),
+    shipmentOf(order.id),
+    orderTimeline(order.id),
+    order.state === "measuring" ? samplesWithoutCompletedCheck(order.id) : Promise.resolve([]),
+  ]);
+  return {
+    order: { id: order.id, state: order.state, amountMinor: order.amountMinor, currency: order.currency },
+    title: req?.title ?? "",
+    clientName: client?.name ?? "",
+    samples,
+    shipment,
+    timeline,
+    missingChecks,
+  };
+}
+
+const LabMove = z.discriminatedUnion("intent", [
+  z.object({ intent: z.literal("received"), note: z.string().trim().max(1000).optional() }),
+  z.object({
+    intent: z.literal("refuse"),
+    reason: z.string({ error: "Say why the parcel is refused." }).trim().min(10, "Say in a sentence why the parcel is refused (at least 10 characters).").max(2000),
+  }),
+  z.object({ intent: z.literal("measuring"), note: z.string().trim().max(1000).optional() }),
+  z.object({ intent: z.literal("delivered"), note: z.string().trim().max(1000).optional() }),
+]);
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const { actor, order } = await labOrder(request, params.id);
+  const submission = parseWithZod(await request.formData(), { schema: LabMove });
+  if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
+  const v = submission.value;
+  const back = `/lab/orders/${order.id}`;
+  try {
+    if (v.intent === "received") await markReceived(order.id, actor.user.id, v.note ?? "");
+    if (v.intent === "measuring") await startMeasuring(order.id, actor.user.id, v.note ?? "");
+    if (v.intent === "delivered") await markDelivered(order.id, actor.user.id, v.note ?? "");
+    if (v.intent === "refuse") {
+      await refuseOnArrival(order.id, actor.user.id, v.reason);
+      return redirectWithToast(back, { kind: "info", message: "Parcel refused. The client is refunded minus the handling fee." });
+    }
+  } catch (err) {
+    if (err instanceof OrderMoveRefused || err instanceof PaymentProblem) return data({ result: submission.reply({ formErrors: [err.message] }) }, { status: 409 });
+    throw err;
+  }
+  return redirectWithToast(back, { kind: "success", message: "Order updated." });
+}
+
+export default function LabOrder() {
+  const { order, title, clientName, samples, shipment, timeline, missingChecks } = useLoaderData<typeof loader>();
+  const actionData = useActionData<typeof action>();
+  const busy = useNavigation().state !== "idle";
+  return (
+    <div>
+      <p className="mb-2 text-sm">
+        <Link to="/lab/work-queue" className="text-beam-700 underline">
+          ← Work queue
+        </Link>
+      </p>
+      <PageHeader
+        title={title}
+        subtitle={`For ${clientName} · ${formatMoney(order.amountMinor, order.currency)}`}
+        actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
+      />
+      <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
+      <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
+        <div className="space-y-6">
+          <section className="card" aria-labelledby="lab-next">
+            <h2 id="lab-next" className="text-lg font-semibold">
+              Next step
+            </h2>
+            {order.state === "samples_in_transit" ? (
+              <div className="mt-3 space-y-4">
+                <p className="text-sm text-ink-700">
+                  {shipment ? `Shipped with ${shipment.carrier}, tracking ${shipment.trackingNumber}. ` : ""}When the parcel arrives, check it against the
+                  declaration below before accepting it.
+                </p>
+                <Form method="post">
+                  <button type="submit" name="intent" value="received" className="btn-primary" disabled={busy}>
+                    Mark samples received
+                  </button>
+                </Form>
+                <Form method="post" className="space-y-2 border-t border-ink-100 pt-4">
+                  <label htmlFor="refuse-reason" className="label">
+                    Refuse on arrival — why does the parcel not match its declaration?
+                  </label>
+                  <textarea id="refuse-reason" name="reason" rows={2} className="input" />
+                  <button type="submit" name="intent" value="refuse" className="btn-danger" disabled={busy}>
+                    Refuse the parcel
+                  </button>
+                </Form>
+              </div>
+            ) : order.state === "samples_received" ? (
+              <Form method="post" className="mt-3">
+                <button type="submit" name="intent" value="measuring" className="btn-primary" disabled={busy}>
+                  Start measuring
+                </button>
+              </Form>
+            ) : order.state === "measuring" ? (
+              <div className="mt-3 space-y-3">
+                <p className="text-sm text-ink-700">
+                  Upload the scans (one or more per sample) and your report. Each scan is checked automatically; the data
+                  can be delivered once every sample has a completed check.
+                </p>
+                <Link to={`/lab/orders/${order.id}/files`} className="btn-secondary">
+                  Upload delivery files
+                </Link>
+                {missingChecks.length ? <p className="text-sm text-caution-700">Still without a completed check: {missingChecks.join(", ")}.</p> : null}
+                <Form method="post">
+                  <button type="submit" name="intent" value="delivered" className="btn-primary" disabled={busy || missingChecks.length > 0}>
+                    Mark data delivered
+                  </button>
+                </Form>
+              </div>
+            ) : (
+              <p className="mt-3 text-sm text-ink-700">
+                {order.state === "awaiting_payment" && "Waiting for the client's payment."}
+                {order.state === "funds_held" && "The client has paid; the money is held. Waiting for the samples to be shipped."}
+                {order.state === "data_delivered" && "Delivered. The client reviews the data; you are paid when they accept or the review window lapses."}
+                {["accepted", "paid_out"].includes(order.state) && "Accepted by the client; see Payouts."}
+                {order.state === "disputed" && "The client opened a dispute; an admin will decide."}
+                {["cancelled", "refused_on_arrival", "resolved"].includes(order.state) && "This order is closed."}
+              </p>
+            )}
+            {["measuring", "data_delivered", "accepted", "paid_out", "disputed", "resolved", "samples_received"].includes(order.state) ? (
+              <p className="mt-4 text-sm">
+                <Link to={`/lab/orders/${order.id}/files`} className="text-beam-700 underline">
+                  Delivery files and checks
+                </Link>
+              </p>
+            ) : null}
+          </section>
+          <section className="card" aria-labelledby="lab-samples">
+            <h2 id="lab-samples" className="mb-3 text-lg font-semibold">
+              Samples and their hazard declarations
+            </h2>
+            <OrderSamples samples={samples} />
+          </section>
+        </div>
+        <section className="card" aria-labelledby="lab-timeline">
+          <h2 id="lab-timeline" className="mb-4 text-lg font-semibold">
+            Timeline
+          </h2>
+          <OrderTimeline rows={timeline} />
+        </section>
+      </div>
+    </div>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Order — Diffractory" }];
+}
