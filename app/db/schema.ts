@@ -702,3 +702,62 @@ export const rateLimitBuckets = pgTable(
 
 export type OrderFile = typeof orderFiles.$inferSelect;
 export type ScanCheck = typeof scanChecks.$inferSelect;
+
+// Notifications: the transactional e-mail outbox, the in-app list and each person's e-mail choices.
+export const outboxStatus = pgEnum("outbox_status", ["queued", "sent", "parked"]);
+
+/** One e-mail to one recipient, written in the same transaction as the milestone it reports. */
+export const outboxMessages = pgTable(
+  "outbox_messages",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    kind: text("kind").notNull(),
+    to: text("to").notNull(),
+    subject: text("subject").notNull(),
+    html: text("html").notNull(),
+    text: text("text").notNull(),
+    orderId: uuid("order_id").references(() => orders.id, { onDelete: "set null" }),
+    userId: uuid("user_id").references(() => users.id, { onDelete: "set null" }),
+    status: outboxStatus("status").notNull().default("queued"),
+    attempts: integer("attempts").notNull().default(0),
+    lastError: text("last_error"),
+    /** Payment, dispute and safety messages go out whatever the person's preferences say. */
+    essential: boolean("essential").notNull().default(false),
+    createdAt: createdAt(),
+    sentAt: timestamp("sent_at", { withTimezone: true }),
+  },
+  (t) => [index("outbox_messages_status_idx").on(t.status, t.createdAt), index("outbox_messages_order_idx").on(t.orderId)],
+);
+
+export const notifications = pgTable(
+  "notifications",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    kind: text("kind").notNull(),
+    orderId: uuid("order_id").references(() => orders.id, { onDelete: "set null" }),
+    title: text("title").notNull(),
+    /** Where the notification leads inside the app (a path). */
+    href: text("href").notNull().default(""),
+    createdAt: createdAt(),
+    readAt: timestamp("read_at", { withTimezone: true }),
+  },
+  (t) => [index("notifications_user_idx").on(t.userId, t.createdAt)],
+);
+
+/** A row only where a person has changed the default (every e-mail on). */
+export const notificationPreferences = pgTable(
+  "notification_preferences",
+  {
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    kind: text("kind").notNull(),
+    emailEnabled: boolean("email_enabled").notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.userId, t.kind] })],
+);
+
+export type OutboxMessage = typeof outboxMessages.$inferSelect;
