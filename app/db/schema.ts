@@ -723,10 +723,12 @@ export const outboxMessages = pgTable(
     lastError: text("last_error"),
     /** Payment, dispute and safety messages go out whatever the person's preferences say. */
     essential: boolean("essential").notNull().default(false),
+    /** The mail-send job carrying this row; null until the dispatcher has handed it to the queue. */
+    jobId: uuid("job_id"),
     createdAt: createdAt(),
     sentAt: timestamp("sent_at", { withTimezone: true }),
   },
-  (t) => [index("outbox_messages_status_idx").on(t.status, t.createdAt), index("outbox_messages_order_idx").on(t.orderId)],
+  (t) => [index("outbox_messages_status_idx").on(t.status, t.createdAt), index("outbox_messages_order_idx").on(t.orderId), index("outbox_messages_undispatched_idx").on(t.createdAt).where(sql`${t.jobId} is null and ${t.status} = 'queued'`)],
 );
 
 export const notifications = pgTable(

@@ -1,0 +1,2 @@
+ALTER TABLE "outbox_messages" ADD COLUMN "job_id" uuid;--> statement-breakpoint
+CREATE INDEX "outbox_messages_undispatched_idx" ON "outbox_messages" USING btree ("created_at") WHERE "outbox_messages"."job_id" is null and "outbox_messages"."status" = 'queued';
