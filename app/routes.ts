@@ -66,6 +66,9 @@ export default [
   ]),
 
   route("admin/ledger/export", "routes/admin/ledger-export.ts"),
+  route("checks/:id", "routes/check.tsx"),
+  route("checks/:id/peaks.csv", "routes/check-peaks-csv.ts"),
+  route("checks/:id/result.json", "routes/check-result-json.ts"),
 
   ...prefix("api", [
     route("health", "routes/api/health.ts"),
@@ -73,6 +76,7 @@ export default [
     route("labs", "routes/api/labs.ts"),
     route("requests/:id/matches", "routes/api/request-matches.ts"),
     route("orders/:id", "routes/api/order.ts"),
+    route("checks/:id", "routes/api/check.ts"),
     route("admin/ledger/summary", "routes/api/admin/ledger-summary.ts"),
     route("webhooks/payments", "routes/api/webhooks-payments.ts"),
   ]),

@@ -39,7 +39,7 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = "*/5 * * *
     if (accepted > 0) console.log(`review window: ${accepted} deliveries accepted automatically`);
   });
   const { runScanCheck } = await import("./scan-check.server");
-  await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true }, async ([job]) => {
+  await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
     await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });
   });
 }

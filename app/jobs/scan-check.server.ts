@@ -4,6 +4,7 @@ import { db, schema } from "~/db/client.server";
 import type { Instrument, Sample } from "~/db/schema";
 import { checkScanText, CENTERINGS, CRYSTAL_SYSTEMS } from "~/diffraction";
 import type { Cell, Centering, CheckedPeak, CrystalSystem, LatticeCheckResult, Radiation } from "~/diffraction";
+import type { StoredCheckResult, StoredProfile } from "~/models/check-result";
 import { readStoredText } from "~/utils/storage.server";
 import { getBoss, QUEUES } from "./boss.server";
 
@@ -13,28 +14,7 @@ export const SCAN_CHECK_JOB = { retryLimit: 3, retryDelay: 2, expireInSeconds: 1
 /** Above this many points the plotted arrays are thinned (extremes kept) before they are stored. */
 export const STORED_PROFILE_POINTS = 20_000;
 
-export interface StoredProfile {
-  /** Points in the scan file, and whether the arrays below are a thinned selection of them. */
-  points: number;
-  thinned: boolean;
-  twoTheta: number[];
-  observed: number[];
-  background: number[];
-  fitted: number[];
-}
-
-/** What is kept of a check in `scan_checks.result`: the engine's result without typed arrays, plus the source. */
-export type StoredCheckResult = Omit<
-  LatticeCheckResult,
-  "twoTheta" | "observed" | "background" | "fittedProfile" | "unindexed"
-> & {
-  version: 1;
-  radiation: Radiation;
-  /** Where the declared cell and radiation came from, in words. */
-  declaredFrom: { sampleLabel: string | null; expectedPhase: string | null; instrumentName: string | null };
-  profile: StoredProfile;
-};
-
+export type { StoredCheckResult, StoredProfile };
 export type CheckStatus = "queued" | "running" | "done" | "failed";
 
 /** Puts a stored file's check in the queue (a new row, or the existing one reset) and sends the job. */

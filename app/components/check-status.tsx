@@ -1,0 +1,89 @@
+// A lattice check's live status: a polling hook on /api/checks/:id and a badge for file lists.
+import { useQuery } from "@tanstack/react-query";
+import { Link } from "react-router";
+import { Badge } from "./ui";
+
+export type CheckStatusValue = "queued" | "running" | "done" | "failed";
+export type CheckVerdict = "consistent" | "review" | "inconsistent";
+
+/** What GET /api/checks/:id answers. */
+export interface CheckStatusJson {
+  id: string;
+  fileId: string;
+  status: CheckStatusValue;
+  verdict: string | null;
+  error: string | null;
+  finishedAt: string | null;
+}
+
+/** How often the status is asked again while the check is queued or running. */
+export const CHECK_POLL_MS = 1000;
+
+const isOpen = (s: CheckStatusValue | undefined) => s === "queued" || s === "running";
+
+/** The check's status, asked again every second while it is queued or running; stops when done or failed. */
+export function useCheckStatus(checkId: string, initial?: CheckStatusJson) {
+  return useQuery<CheckStatusJson>({
+    queryKey: ["scan-check", checkId],
+    queryFn: async ({ signal }) => {
+      const res = await fetch(`/api/checks/${encodeURIComponent(checkId)}`, { signal, headers: { Accept: "application/json" } });
+      if (!res.ok) throw new Error(res.status === 404 ? "There is no such check." : `The check's status could not be read (${res.status}).`);
+      return (await res.json()) as CheckStatusJson;
+    },
+    initialData: initial,
+    // Fresh initial data of a check still in the queue is asked again at once; finished ones never.
+    staleTime: (q) => (isOpen(q.state.data?.status) ? 0 : Infinity),
+    refetchInterval: (q) => (isOpen(q.state.data?.status) || !q.state.data ? CHECK_POLL_MS : false),
+    refetchOnWindowFocus: (q) => isOpen(q.state.data?.status),
+    retry: 2,
+  });
+}
+
+export const VERDICT_WORDS: Record<CheckVerdict, { tone: "ok" | "caution" | "danger"; label: string; meaning: string }> = {
+  consistent: { tone: "ok", label: "Consistent", meaning: "The scan confirms the declared cell." },
+  review: { tone: "caution", label: "Review", meaning: "The scan mostly fits the declared cell, but something needs a person's look." },
+  inconsistent: { tone: "danger", label: "Inconsistent", meaning: "The scan does not fit the declared cell." },
+};
+
+/** A status or verdict as a badge with a word and a shape. */
+export function CheckStateBadge({ status, verdict }: { status: CheckStatusValue; verdict: string | null }) {
+  if (status === "queued") return <Badge tone="neutral">Check queued</Badge>;
+  if (status === "running")
+    return (
+      <Badge tone="brand">
+        <span className="motion-safe:animate-pulse">Checking</span>
+      </Badge>
+    );
+  if (status === "failed") return <Badge tone="danger">Unreadable scan</Badge>;
+  const v = VERDICT_WORDS[verdict as CheckVerdict];
+  return v ? <Badge tone={v.tone}>{v.label}</Badge> : <Badge tone="neutral">Checked</Badge>;
+}
+
+/**
+ * The live status of one check for a file list: polls while the check is queued or running, links to the
+ * check screen when it is done, and shows the engine's sentence when the scan could not be read.
+ */
+export function CheckStatusBadge({ checkId, initial, link = true }: { checkId: string; initial?: CheckStatusJson; link?: boolean }) {
+  const { data, error } = useCheckStatus(checkId, initial);
+  if (!data) {
+    return (
+      <span className="text-xs text-ink-600" role="status">
+        {error ? "Check status unavailable" : "Reading check status…"}
+      </span>
+    );
+  }
+  const badge = <CheckStateBadge status={data.status} verdict={data.verdict} />;
+  return (
+    <span className="inline-flex flex-wrap items-center gap-2" role="status" aria-live="polite" data-testid="check-status" data-status={data.status}>
+      {link && data.status === "done" ? (
+        <Link to={`/checks/${data.id}`} className="inline-flex items-center gap-1 underline-offset-2 hover:underline" aria-label={`Open the check: ${VERDICT_WORDS[data.verdict as CheckVerdict]?.label ?? "checked"}`}>
+          {badge}
+          <span className="text-xs font-medium text-beam-700">Open check</span>
+        </Link>
+      ) : (
+        badge
+      )}
+      {data.status === "failed" && data.error ? <span className="text-xs text-danger-700">{data.error}</span> : null}
+    </span>
+  );
+}

@@ -1,0 +1,103 @@
+// The stored form of a lattice check's result and the words and tables made from it (server and browser).
+import type { Cell, LatticeCheckResult, Radiation } from "~/diffraction";
+
+export interface StoredProfile {
+  /** Points in the scan file, and whether the arrays below are a thinned selection of them. */
+  points: number;
+  thinned: boolean;
+  twoTheta: number[];
+  observed: number[];
+  background: number[];
+  fitted: number[];
+}
+
+/** What is kept of a check in `scan_checks.result`: the engine's result without typed arrays, plus its inputs. */
+export type StoredCheckResult = Omit<LatticeCheckResult, "twoTheta" | "observed" | "background" | "fittedProfile" | "unindexed"> & {
+  version: 1;
+  radiation: Radiation;
+  /** Where the declared cell and the radiation came from. */
+  declaredFrom: { sampleLabel: string | null; expectedPhase: string | null; instrumentName: string | null };
+  profile: StoredProfile;
+};
+
+export const signed = (v: number, digits: number) => `${v >= 0 ? "+" : "−"}${Math.abs(v).toFixed(digits)}`;
+
+export const formatHkl = (hkl: [number, number, number]) => hkl.map((i) => (i < 0 ? `${Math.abs(i)}̄` : String(i))).join(" ");
+
+const MONOCHROMATION_WORDS = { k_alpha_doublet: "Kα1 + Kα2", k_alpha1_only: "Kα1 only", k_beta_filtered: "Kβ filtered" } as const;
+
+export function radiationWords(r: Radiation) {
+  return r.kind === "anode" ? `${r.anode} ${MONOCHROMATION_WORDS[r.monochromation]}` : `Wavelength ${r.wavelength} Å`;
+}
+
+const CELL_PARAMS: { key: keyof Cell; name: string; unit: string; digits: number }[] = [
+  { key: "a", name: "a", unit: "Å", digits: 5 },
+  { key: "b", name: "b", unit: "Å", digits: 5 },
+  { key: "c", name: "c", unit: "Å", digits: 5 },
+  { key: "alpha", name: "α", unit: "°", digits: 3 },
+  { key: "beta", name: "β", unit: "°", digits: 3 },
+  { key: "gamma", name: "γ", unit: "°", digits: 3 },
+];
+
+/** Rows of the declared-versus-refined cell table, with standard uncertainties and the deviation. */
+export function cellRows(result: Pick<StoredCheckResult, "cell" | "esd" | "declaredCell" | "deviation">) {
+  return CELL_PARAMS.map(({ key, name, unit, digits }) => {
+    const refined = result.cell?.[key];
+    const esd = result.esd?.[key];
+    const declared = result.declaredCell?.[key];
+    const abs = result.deviation?.absolute[key];
+    const rel = result.deviation?.relative[key];
+    return {
+      name,
+      declared: declared != null ? `${declared.toFixed(digits)} ${unit}` : "—",
+      refined: refined != null ? `${refined.toFixed(digits + 1)}${esd ? ` ± ${esd.toFixed(digits + 1)}` : ""} ${unit}` : "not refined",
+      deviation: abs != null && rel != null ? `${signed(abs, digits + 1)} ${unit} (${signed(rel * 100, 3)} %)` : "—",
+    };
+  });
+}
+
+const csvCell = (v: unknown) => {
+  if (v == null) return "";
+  const s = typeof v === "number" ? String(v) : String(v);
+  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+};
+
+/** The peaks table as CSV (one row per fitted peak; empty cells where a peak has no value). */
+export function peaksCsv(result: Pick<StoredCheckResult, "peaks">): string {
+  const header = [
+    "peak",
+    "h",
+    "k",
+    "l",
+    "d_angstrom",
+    "two_theta_obs_deg",
+    "two_theta_obs_su_deg",
+    "two_theta_calc_deg",
+    "delta_two_theta_deg",
+    "intensity",
+    "relative_intensity_percent",
+    "fwhm_deg",
+    "eta",
+    "used_in_refinement",
+    "crystallite_size_nm",
+  ];
+  const rows = result.peaks.map((p, i) => [
+    i + 1,
+    p.hkl?.[0],
+    p.hkl?.[1],
+    p.hkl?.[2],
+    p.d,
+    p.twoTheta,
+    p.twoThetaEsd,
+    p.twoThetaCalc,
+    p.delta,
+    p.intensity,
+    p.relativeIntensity,
+    p.fwhm,
+    p.eta,
+    p.usedInRefinement ? "yes" : "no",
+    p.crystalliteSizeNm,
+  ]);
+  return [header, ...rows].map((r) => r.map(csvCell).join(",")).join("\r\n") + "\r\n";
+}
+

@@ -1,0 +1,9 @@
+// GET /api/checks/:id — a lattice check's live status, for the order's client organisation and its lab.
+import { checkStatusJson } from "~/jobs/scan-check.server";
+import { requireCheckAccess } from "~/models/checks.server";
+import type { Route } from "./+types/check";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { check } = await requireCheckAccess(request, params.id);
+  return Response.json(checkStatusJson(check), { headers: { "Cache-Control": "private, no-store" } });
+}

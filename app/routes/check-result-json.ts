@@ -1,0 +1,24 @@
+// GET /checks/:id/result.json — the whole check (status, file, result) as JSON, for the order's client and its lab.
+import { checkStatusJson } from "~/jobs/scan-check.server";
+import { requireCheckAccess, sampleOfFile } from "~/models/checks.server";
+import type { Route } from "./+types/check-result-json";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { check, file, order } = await requireCheckAccess(request, params.id);
+  const sample = await sampleOfFile(file.sampleId);
+  const body = {
+    check: checkStatusJson(check),
+    order: { id: order.id },
+    file: { id: file.id, name: file.name, version: file.version, sizeBytes: file.sizeBytes, sha256: file.sha256 },
+    sample: sample ? { label: sample.label, formula: sample.formula, expectedPhase: sample.expectedPhase } : null,
+    result: check.status === "done" ? check.result : null,
+  };
+  const base = file.name.replace(/\.[^.]+$/, "").replace(/[^A-Za-z0-9._-]+/g, "_") || "scan";
+  return new Response(JSON.stringify(body, null, 1), {
+    headers: {
+      "Content-Type": "application/json; charset=utf-8",
+      "Content-Disposition": `attachment; filename="${base}-v${file.version}-check.json"`,
+      "Cache-Control": "private, no-store",
+    },
+  });
+}
