@@ -521,7 +521,7 @@ function fitCluster(
       }
     },
   };
-  const result = levenbergMarquardt(problem, p0, { lower, upper, maxIterations: 40, relativeTolerance: 1e-5 });
+  const result = levenbergMarquardt(problem, p0, { lower, upper, maxIterations: 25, relativeTolerance: 1e-5 });
   const scale = result.dof > 0 ? Math.max(result.chi2 / result.dof, 1e-12) : 1;
   const cov = result.covariance;
   const peaks: FittedPeak[] = [];

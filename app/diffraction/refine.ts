@@ -18,7 +18,7 @@ import {
 import { invertSymmetric, matVec, squareMatrix, type SquareMatrix } from "./least-squares";
 import type { IndexedLine } from "./merit";
 import { allowedReflections, type Reflection } from "./reflections";
-import { lowerBound, median, nearestIndex } from "./sorted";
+import { lowerBound, median } from "./sorted";
 
 const RAD = Math.PI / 180;
 const DEG = 180 / Math.PI;
@@ -279,27 +279,31 @@ function coarseSearch(
   const scaleStep = Math.max((0.35 * fwhm * RAD) / (2 * Math.tan(thetaHigh)), 1e-5);
   const zeroStep = Math.max(0.35 * fwhm, 0.002);
   const zeroRange = 0.2;
+  const nScale = Math.floor((2 * range) / scaleStep + 1e-9) + 1;
+  const scores = new Float64Array(nScale);
   let best = { score: -Infinity, scale: 0, zero: 0 };
   for (let zero = -zeroRange; zero <= zeroRange + 1e-12; zero += zeroStep) {
-    const qObs = strong.map((i) => {
-      const s = Math.sin(((peaks[i].twoTheta - zero) * RAD) / 2);
-      return (4 * s * s) / (wavelength * wavelength);
-    });
-    for (let scale = -range; scale <= range + 1e-12; scale += scaleStep) {
-      const f = (1 + scale) ** 2;
-      let score = 0;
-      for (let j = 0; j < strong.length; j++) {
-        const peak = peaks[strong[j]];
-        const q = qObs[j] * f;
-        const theta = ((peak.twoTheta - zero) * RAD) / 2;
-        // |Δ2θ| from |ΔQ|: dQ = Q cot θ d(2θ) (2θ in radians).
-        const tolerance = q * (Math.cos(theta) / Math.sin(theta)) * 0.5 * peak.fwhm * RAD;
-        const nearest = qCalc[nearestIndex(qCalc, q)];
-        const miss = Math.abs(nearest - q) / tolerance;
-        if (miss < 1) score += 1 - miss * miss;
+    scores.fill(0);
+    for (const i of strong) {
+      const peak = peaks[i];
+      const theta = ((peak.twoTheta - zero) * RAD) / 2;
+      const qObs = (4 * Math.sin(theta) ** 2) / (wavelength * wavelength);
+      // |Δ2θ| from |ΔQ|: dQ = Q cot θ d(2θ) (2θ in radians); the tolerance is half a FWHM.
+      const relativeTolerance = (Math.cos(theta) / Math.sin(theta)) * 0.5 * peak.fwhm * RAD;
+      // Q rises with the scale, so one pass with a moving pointer finds every nearest reflection.
+      let j = 0;
+      for (let k = 0; k < nScale; k++) {
+        const q = qObs * (1 - range + k * scaleStep) ** 2;
+        while (j < qCalc.length - 1 && qCalc[j + 1] <= q) j++;
+        const nearest = j < qCalc.length - 1 && qCalc[j + 1] - q < q - qCalc[j] ? qCalc[j + 1] : qCalc[j];
+        const miss = Math.abs(nearest - q) / (q * relativeTolerance);
+        if (miss < 1) scores[k] += 1 - miss * miss;
       }
+    }
+    for (let k = 0; k < nScale; k++) {
+      const scale = -range + k * scaleStep;
       // Prefer the declared cell and no offset when scores tie.
-      score -= 0.01 * (Math.abs(scale) / range + Math.abs(zero) / zeroRange);
+      const score = scores[k] - 0.01 * (Math.abs(scale) / range + Math.abs(zero) / zeroRange);
       if (score > best.score) best = { score, scale, zero };
     }
   }

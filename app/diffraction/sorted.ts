@@ -1,4 +1,4 @@
-// Searches in sorted arrays and the median, shared by peak fitting and refinement.
+// A search in sorted arrays and the median, shared by peak fitting and refinement.
 
 /** First index whose value is ≥ v in an ascending array (its length when none is). */
 export function lowerBound(sorted: ArrayLike<number>, v: number): number {
@@ -10,15 +10,6 @@ export function lowerBound(sorted: ArrayLike<number>, v: number): number {
     else hi = mid;
   }
   return lo;
-}
-
-/** Index of the value nearest v in an ascending array, −1 when it is empty. */
-export function nearestIndex(sorted: ArrayLike<number>, v: number): number {
-  if (sorted.length === 0) return -1;
-  const j = lowerBound(sorted, v);
-  if (j === 0) return 0;
-  if (j === sorted.length) return j - 1;
-  return v - sorted[j - 1] <= sorted[j] - v ? j - 1 : j;
 }
 
 /** Median of a list of numbers (NaN when empty). */
