@@ -10,15 +10,20 @@ export default [
     route("safety", "routes/public/safety.tsx"),
     route("sign-in", "routes/public/sign-in.tsx"),
     route("create-account", "routes/public/create-account.tsx"),
+    route("shared/:token", "routes/public/shared.tsx"),
   ]),
   route("sign-out", "routes/account/sign-out.tsx"),
   route("switch-organisation", "routes/account/switch-organisation.tsx"),
+  route("files/:fileId/download", "routes/account/file-download.ts"),
+  route("shared/:token/files/:fileId", "routes/public/shared-download.ts"),
 
   ...prefix("client", [
     layout("routes/workspace-layout.tsx", { id: "client-layout" }, [
       index("routes/client/home.tsx"),
       route("members", "routes/client/members.tsx"),
       route("requests", "routes/client/requests.tsx"),
+      route("data-room", "routes/client/data-room.tsx"),
+      route("data-room/:orderId", "routes/client/data-room-order.tsx"),
       route("requests/new", "routes/client/request-samples.tsx", { id: "client-request-new" }),
       route("requests/:id", "routes/client/request.tsx"),
       route("requests/:id/edit/samples", "routes/client/request-samples.tsx", { id: "client-request-samples" }),
@@ -40,6 +45,8 @@ export default [
     layout("routes/workspace-layout.tsx", { id: "lab-layout" }, [
       index("routes/lab/home.tsx"),
       route("inbox", "routes/lab/inbox.tsx"),
+      route("api-tokens", "routes/lab/api-tokens.tsx"),
+      route("orders/:id/files", "routes/lab/order-files.tsx"),
       route("requests/:id", "routes/lab/request.tsx"),
       route("quotes", "routes/lab/quotes.tsx"),
       route("vetting", "routes/lab/vetting.tsx"),
@@ -51,6 +58,8 @@ export default [
       route(":section", "routes/workspace-section.tsx", { id: "lab-section" }),
     ]),
     route("vetting/upload", "routes/lab/vetting-upload.ts"),
+    route("orders/:id/uploads", "routes/lab/order-uploads.ts"),
+    route("orders/:id/uploads/:fileId", "routes/lab/order-upload.ts"),
   ]),
   ...prefix("admin", [
     layout("routes/workspace-layout.tsx", { id: "admin-layout" }, [
@@ -74,6 +83,10 @@ export default [
     route("health", "routes/api/health.ts"),
     route("me", "routes/api/me.ts"),
     route("labs", "routes/api/labs.ts"),
+    route("orders", "routes/api/orders.ts"),
+    route("orders/:id/files", "routes/api/order-files.ts"),
+    route("v1/orders/:id/files", "routes/api/v1/order-files.ts"),
+    route("v1/orders/:id/files/:fileId/complete", "routes/api/v1/order-file-complete.ts"),
     route("requests/:id/matches", "routes/api/request-matches.ts"),
     route("orders/:id", "routes/api/order.ts"),
     route("checks/:id", "routes/api/check.ts"),

@@ -1,0 +1,227 @@
+// /client/data-room/:orderId — one order's files with versions and checks, share links, and who downloaded what.
+import { getFormProps, getInputProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { eq } from "drizzle-orm";
+import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
+import { z } from "zod";
+import { OrderFilesTable, useLiveChecks } from "~/components/order-files-table";
+import { RevokeButton, ShownOnce } from "~/components/shown-once";
+import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { DOWNLOAD_URL_SECONDS, RETENTION_YEARS, SHARE_LINK_MAX_DAYS } from "~/models/files";
+import { fileOfOrder, orderAccessLog, orderFileList, softDeleteFile } from "~/models/files.server";
+import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
+import { orderForOrganisation } from "~/models/orders.server";
+import { createShareLink, listShareLinks, revokeShareLink } from "~/models/share-links.server";
+import { audit } from "~/utils/audit.server";
+import { config } from "~/config.server";
+import { notFound, requireOrgRole } from "~/utils/permissions.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import type { Route } from "./+types/data-room-order";
+
+async function clientOrder(request: Request, orderId: string) {
+  const actor = await requireOrgRole(request, "client");
+  const found = await orderForOrganisation(orderId, actor.membership.organisation.id);
+  if (found?.side !== "client") notFound("No such order in your organisation's data room.");
+  return { actor, order: found.order };
+}
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { actor, order } = await clientOrder(request, params.orderId);
+  const [meta] = await db
+    .select({ title: schema.requests.title, lab: schema.organisations.name })
+    .from(schema.requests)
+    .innerJoin(schema.organisations, eq(schema.organisations.id, order.labId))
+    .where(eq(schema.requests.id, order.requestId));
+  return {
+    order: { id: order.id, state: order.state, title: meta.title, lab: meta.lab },
+    files: await orderFileList(order.id, { side: "client" }),
+    shareLinks: await listShareLinks(order.id),
+    accessLog: await orderAccessLog(order.id),
+    canDelete: actor.membership.role === "owner",
+  };
+}
+
+const ShareSchema = z.object({
+  intent: z.literal("share"),
+  label: z.string({ error: "Say who the link is for." }).trim().min(2, "Say who the link is for.").max(120),
+  days: z.coerce
+    .number({ error: "Give the number of days." })
+    .int("Give a whole number of days.")
+    .min(1, "At least one day.")
+    .max(SHARE_LINK_MAX_DAYS, `At most ${SHARE_LINK_MAX_DAYS} days.`),
+});
+const ActionSchema = z.discriminatedUnion("intent", [
+  ShareSchema,
+  z.object({ intent: z.literal("revoke"), linkId: z.uuid({ error: "Choose a link." }) }),
+  z.object({ intent: z.literal("delete"), fileId: z.uuid({ error: "Choose a file." }) }),
+]);
+
+export async function action({ request, params, context }: Route.ActionArgs) {
+  const { actor, order } = await clientOrder(request, params.orderId);
+  const submission = parseWithZod(await request.formData(), { schema: ActionSchema });
+  if (submission.status !== "success") return data({ result: submission.reply(), shared: null }, { status: 400 });
+  const value = submission.value;
+  const organisationId = actor.membership.organisation.id;
+  const here = `/client/data-room/${order.id}`;
+  if (value.intent === "share") {
+    const expiresAt = new Date(Date.now() + value.days * 86_400_000);
+    const { link, token } = await createShareLink({ orderId: order.id, organisationId, userId: actor.user.id, label: value.label, expiresAt });
+    await audit({ actorUserId: actor.user.id, organisationId, action: "share_link_created", subjectType: "share_link", subjectId: link.id, details: { orderId: order.id, label: value.label, expiresAt }, clientAddress: context.clientAddress });
+    // The token is shown this once; only its SHA-256 is stored.
+    return data({ result: submission.reply({ resetForm: true }), shared: { url: `${config.appUrl}/shared/${token}`, label: link.label, expiresAt: link.expiresAt.toISOString() } });
+  }
+  if (value.intent === "revoke") {
+    if (!(await revokeShareLink(order.id, value.linkId))) {
+      return data({ result: submission.reply({ formErrors: ["That link is already revoked or is not one of this order's."] }), shared: null }, { status: 400 });
+    }
+    await audit({ actorUserId: actor.user.id, organisationId, action: "share_link_revoked", subjectType: "share_link", subjectId: value.linkId, details: { orderId: order.id }, clientAddress: context.clientAddress });
+    return redirectWithToast(here, { kind: "success", message: "Share link revoked; it no longer opens this data room." });
+  }
+  if (actor.membership.role !== "owner") {
+    return data({ result: submission.reply({ formErrors: ["Only an owner of the organisation can delete files."] }), shared: null }, { status: 403 });
+  }
+  const file = await fileOfOrder(order.id, value.fileId);
+  if (!file || file.state !== "stored" || file.deletedAt) {
+    return data({ result: submission.reply({ formErrors: ["That file is not in this data room."] }), shared: null }, { status: 400 });
+  }
+  await softDeleteFile(file, actor.user.id);
+  await audit({ actorUserId: actor.user.id, organisationId, action: "order_file_deleted", subjectType: "order_file", subjectId: file.id, details: { orderId: order.id, name: file.name, version: file.version }, clientAddress: context.clientAddress });
+  return redirectWithToast(here, { kind: "success", message: `${file.name} v${file.version} deleted from the data room; the lab's copy is kept for ${RETENTION_YEARS} years.` });
+}
+
+export default function DataRoomOrder() {
+  const { order, files, shareLinks, accessLog, canDelete } = useLoaderData<typeof loader>();
+  const actionData = useActionData<typeof action>();
+  const busy = useNavigation().state !== "idle";
+  const rows = useLiveChecks(order.id, files);
+  const [form, fields] = useForm({
+    id: "share-link",
+    lastResult: actionData?.result,
+    defaultValue: { days: "14" },
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: ShareSchema }),
+    shouldValidate: "onBlur",
+    shouldRevalidate: "onInput",
+  });
+  return (
+    <div className="space-y-8">
+      <PageHeader
+        title={order.title}
+        subtitle={
+          <>
+            {order.lab} · <Link to="/client/data-room" className="underline">Data room</Link> ·{" "}
+            <Link to={`/client/orders/${order.id}`} className="underline">Order</Link>
+          </>
+        }
+        actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
+      />
+      <FormError errors={form.errors} />
+
+      <section aria-labelledby="files-heading" className="space-y-2">
+        <h2 id="files-heading" className="text-lg font-semibold">Files</h2>
+        <p className="text-xs text-ink-600">
+          Every version is kept. A download link is valid for {Math.round(DOWNLOAD_URL_SECONDS / 60)} minutes and each download is logged.
+          Deleting hides a file here; the bytes are kept for {RETENTION_YEARS} years.
+        </p>
+        {rows.length === 0 ? (
+          <EmptyState title="No files delivered yet">The lab's scans and report appear here as soon as they are uploaded and verified.</EmptyState>
+        ) : (
+          <OrderFilesTable
+            rows={rows}
+            caption="Delivered files"
+            actions={(row) => (
+              <span className="inline-flex items-center gap-3">
+                <a href={`/files/${row.id}/download`} className="font-semibold text-beam-700 underline" aria-label={`Download ${row.name} v${row.version}`}>
+                  Download
+                </a>
+                {canDelete ? (
+                  <Form method="post" onSubmit={(e) => !confirm(`Delete ${row.name} v${row.version} from the data room?`) && e.preventDefault()}>
+                    <input type="hidden" name="intent" value="delete" />
+                    <input type="hidden" name="fileId" value={row.id} />
+                    <button type="submit" className="text-xs text-danger-700 underline" disabled={busy} aria-label={`Delete ${row.name} v${row.version}`}>
+                      Delete
+                    </button>
+                  </Form>
+                ) : null}
+              </span>
+            )}
+          />
+        )}
+      </section>
+
+      <section aria-labelledby="share-heading" className="space-y-3">
+        <h2 id="share-heading" className="text-lg font-semibold">Share links</h2>
+        <p className="text-sm text-ink-600">
+          A read-only link for a colleague outside the organisation: they see this order's files and can download them, without signing in,
+          until the link expires or you revoke it. Every use is logged below.
+        </p>
+        <Form method="post" className="card grid gap-4 sm:grid-cols-[1fr_10rem_auto] sm:items-start" {...getFormProps(form)}>
+          <input type="hidden" name="intent" value="share" />
+          <Field label="Who it is for" id={fields.label.id} errors={fields.label.errors} hint="e.g. Dr. Aino Kettunen, external auditor">
+            <input className="input" {...getInputProps(fields.label, { type: "text" })} />
+          </Field>
+          <Field label="Valid for (days)" id={fields.days.id} errors={fields.days.errors}>
+            <input className="input" {...getInputProps(fields.days, { type: "number" })} min={1} max={SHARE_LINK_MAX_DAYS} />
+          </Field>
+          <button type="submit" className="btn-primary sm:mt-6" disabled={busy}>
+            Create share link
+          </button>
+        </Form>
+        {actionData?.shared ? (
+          <ShownOnce
+            title={`Share link for ${actionData.shared.label}`}
+            label="New share link"
+            value={actionData.shared.url}
+            note={`Valid until ${new Date(actionData.shared.expiresAt).toLocaleString()}.`}
+          />
+        ) : null}
+        {shareLinks.length ? (
+          <TableCard columns={["For", "Created", "Valid until", "State", ""]} caption="Share links">
+            {shareLinks.map((l) => (
+              <tr key={l.id}>
+                <td className="font-medium">{l.label}</td>
+                <td className="text-xs">
+                  {l.createdBy ?? "—"}
+                  <span className="block">{new Date(l.createdAt).toLocaleString()}</span>
+                </td>
+                <td className="text-xs">{new Date(l.expiresAt).toLocaleString()}</td>
+                <td>
+                  <Badge tone={l.status === "active" ? "ok" : "neutral"}>{l.status === "active" ? "Active" : l.status === "expired" ? "Expired" : "Revoked"}</Badge>
+                </td>
+                <td className="text-right">
+                  {l.status === "active" ? (
+                    <RevokeButton field="linkId" id={l.id} label={`Revoke the link for ${l.label}`} busy={busy} />
+                  ) : null}
+                </td>
+              </tr>
+            ))}
+          </TableCard>
+        ) : null}
+      </section>
+
+      <section aria-labelledby="log-heading" className="space-y-2">
+        <h2 id="log-heading" className="text-lg font-semibold">Access log</h2>
+        {accessLog.length === 0 ? (
+          <p className="text-sm text-ink-600">Nobody has downloaded a file of this order yet.</p>
+        ) : (
+          <TableCard columns={["When", "File", "Who", "From"]} caption="Access log">
+            {accessLog.map((a) => (
+              <tr key={a.id}>
+                <td className="text-xs">{new Date(a.at).toLocaleString()}</td>
+                <td>
+                  {a.fileName} <span className="font-mono text-xs text-ink-500">v{a.version}</span>
+                </td>
+                <td>{a.person ?? (a.shareLabel ? `Share link: ${a.shareLabel}` : "—")}</td>
+                <td className="font-mono text-xs">{a.clientAddress ?? "—"}</td>
+              </tr>
+            ))}
+          </TableCard>
+        )}
+      </section>
+    </div>
+  );
+}
+
+export function meta({ data }: Route.MetaArgs) {
+  return [{ title: `${data?.order.title ?? "Data room"} — Diffractory` }];
+}

@@ -1,0 +1,112 @@
+// /lab/orders/:id/files — the lab's delivery screen: upload scans and reports straight to storage, see every
+// version with its state and live check, and replace a file the engine could not read.
+import { eq } from "drizzle-orm";
+import { Link, useLoaderData, useRevalidator } from "react-router";
+import { DeliveryUploader, useDeliveryQueue } from "~/components/delivery-uploader";
+import { OrderFilesTable, useLiveChecks, type FileRow } from "~/components/order-files-table";
+import { Badge, EmptyState, PageHeader } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { UPLOAD_ORDER_STATES } from "~/models/files";
+import { orderFileList, orderSamples } from "~/models/files.server";
+import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
+import { orderForOrganisation } from "~/models/orders.server";
+import { notFound, requireOrgRole } from "~/utils/permissions.server";
+import type { Route } from "./+types/order-files";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { membership } = await requireOrgRole(request, "lab");
+  const found = await orderForOrganisation(params.id, membership.organisation.id);
+  if (found?.side !== "lab") notFound("No such order for your lab.");
+  const { order } = found;
+  const [meta] = await db
+    .select({ title: schema.requests.title, client: schema.organisations.name })
+    .from(schema.requests)
+    .innerJoin(schema.organisations, eq(schema.organisations.id, order.clientOrganisationId))
+    .where(eq(schema.requests.id, order.requestId));
+  return {
+    order: { id: order.id, state: order.state, title: meta.title, client: meta.client },
+    samples: (await orderSamples(order)).map((s) => ({ id: s.id, label: s.label })),
+    files: await orderFileList(order.id, { side: "lab" }),
+    canUpload: UPLOAD_ORDER_STATES.includes(order.state),
+  };
+}
+
+/** A stored scan the engine could not read, or a refused upload, is replaced by a new version of the same name. */
+const replaceable = (row: FileRow) => (row.state === "rejected" || row.check?.status === "failed") && !row.deletedAt;
+
+export default function LabOrderFiles() {
+  const { order, samples, files, canUpload } = useLoaderData<typeof loader>();
+  const revalidator = useRevalidator();
+  const queue = useDeliveryQueue(order.id, samples, () => void revalidator.revalidate());
+  const rows = useLiveChecks(order.id, files);
+  return (
+    <div className="space-y-8">
+      <PageHeader
+        title={order.title}
+        subtitle={
+          <>
+            Delivery for {order.client} · <Link to="/lab" className="underline">Lab workspace</Link>
+          </>
+        }
+        actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
+      />
+      {canUpload ? (
+        <DeliveryUploader
+          queue={queue}
+          samples={samples}
+          // The in-browser check preview (engine in a Web Worker) renders here for each queued scan.
+          preview={() => null}
+        />
+      ) : (
+        <p className="card text-sm text-ink-700">
+          Files are delivered once the samples have arrived (samples received, measuring or data delivered); this order is "
+          {ORDER_STATE_LABELS[order.state]}".
+        </p>
+      )}
+      <section aria-labelledby="delivered-heading" className="space-y-2">
+        <h2 id="delivered-heading" className="text-lg font-semibold">Delivered files</h2>
+        <p className="text-xs text-ink-600">
+          Every version is kept; uploading a file of the same name adds the next version. Only stored files — verified by content and SHA-256 —
+          count as delivered; each stored scan is checked against its sample's declared cell.
+        </p>
+        {rows.length === 0 ? (
+          <EmptyState title="No files yet">Drop the scans of each sample and your report above.</EmptyState>
+        ) : (
+          <OrderFilesTable
+            rows={rows}
+            caption="Files of this order"
+            showState
+            actions={(row) => (
+              <span className="inline-flex items-center gap-3">
+                {row.state === "stored" ? (
+                  <a href={`/files/${row.id}/download`} className="font-semibold text-beam-700 underline" aria-label={`Download ${row.name} v${row.version}`}>
+                    Download
+                  </a>
+                ) : null}
+                {canUpload && replaceable(row) ? (
+                  <label className="btn-secondary cursor-pointer py-1">
+                    Replace
+                    <input
+                      type="file"
+                      className="sr-only"
+                      aria-label={`Replace ${row.name} v${row.version}`}
+                      onChange={(e) => {
+                        const file = e.currentTarget.files?.[0];
+                        if (file) queue.add([file], { name: row.name, kind: row.kind, sampleId: row.sampleId ?? null });
+                        e.currentTarget.value = "";
+                      }}
+                    />
+                  </label>
+                ) : null}
+              </span>
+            )}
+          />
+        )}
+      </section>
+    </div>
+  );
+}
+
+export function meta({ data }: Route.MetaArgs) {
+  return [{ title: `Delivery: ${data?.order.title ?? "order"} — Diffractory` }];
+}

@@ -1,0 +1,77 @@
+// /shared/:token — the read-only data room of one order, opened through a share link without signing in.
+import { eq } from "drizzle-orm";
+import { data, useLoaderData } from "react-router";
+import { OrderFilesTable } from "~/components/order-files-table";
+import { EmptyState, PageHeader } from "~/components/ui";
+import { db, schema } from "~/db/client.server";
+import { DOWNLOAD_URL_SECONDS } from "~/models/files";
+import { orderFileList } from "~/models/files.server";
+import { resolveShareLink } from "~/models/share-links.server";
+import { audit } from "~/utils/audit.server";
+import { notFound } from "~/utils/permissions.server";
+import type { Route } from "./+types/shared";
+
+export async function loader({ params, context }: Route.LoaderArgs) {
+  // The share link's token is this page's only credential; no session is asked for.
+  const resolved = await resolveShareLink(params.token);
+  if (!resolved) notFound("This share link does not exist. Ask the person who sent it for a new one.");
+  if (resolved.status !== "active") {
+    return data({ gone: resolved.status, shared: null }, { status: 410, headers: { "Cache-Control": "no-store" } });
+  }
+  const { link } = resolved;
+  const [order] = await db
+    .select({ id: schema.orders.id, title: schema.requests.title, client: schema.organisations.name })
+    .from(schema.orders)
+    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.clientOrganisationId))
+    .where(eq(schema.orders.id, link.orderId));
+  await audit({ organisationId: link.organisationId, action: "share_link_opened", subjectType: "share_link", subjectId: link.id, clientAddress: context.clientAddress });
+  return data(
+    {
+      gone: null,
+      shared: { token: params.token, label: link.label, expiresAt: link.expiresAt.toISOString(), order, files: await orderFileList(link.orderId, { side: "shared" }) },
+    },
+    { headers: { "Cache-Control": "no-store" } },
+  );
+}
+
+export default function SharedDataRoom() {
+  const { gone, shared } = useLoaderData<typeof loader>();
+  if (!shared) {
+    return (
+      <div className="mx-auto max-w-xl px-6 py-24 text-center" data-status={410}>
+        <p className="font-mono text-sm text-beam-600">Error 410</p>
+        <h1 className="mt-2 text-3xl font-bold">This share link no longer opens the data room</h1>
+        <p className="mt-4 text-ink-600">
+          {gone === "revoked" ? "The organisation that shared it has revoked it." : "It has expired."} Ask the person who sent it for a new one.
+        </p>
+      </div>
+    );
+  }
+  return (
+    <div className="mx-auto max-w-6xl px-6 py-10">
+      <PageHeader
+        title={shared.order.title}
+        subtitle={`Shared read-only by ${shared.order.client} for ${shared.label}, until ${new Date(shared.expiresAt).toLocaleString()}. Downloads are logged.`}
+      />
+      {shared.files.length === 0 ? (
+        <EmptyState title="No files yet">The lab has not delivered any files for this order yet.</EmptyState>
+      ) : (
+        <OrderFilesTable
+          rows={shared.files}
+          caption="Shared files"
+          actions={(row) => (
+            <a href={`/shared/${shared.token}/files/${row.id}`} className="font-semibold text-beam-700 underline" aria-label={`Download ${row.name} v${row.version}`}>
+              Download
+            </a>
+          )}
+        />
+      )}
+      <p className="mt-3 text-xs text-ink-600">Each download link is valid for {Math.round(DOWNLOAD_URL_SECONDS / 60)} minutes.</p>
+    </div>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Shared data room — Diffractory" }, { name: "robots", content: "noindex" }];
+}
