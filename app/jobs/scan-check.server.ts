@@ -2,9 +2,9 @@
 import { and, eq, isNull, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Instrument, Sample } from "~/db/schema";
-import { checkScanText, CENTERINGS, CRYSTAL_SYSTEMS } from "~/diffraction";
+import { checkScanText } from "~/diffraction";
 import type { Cell, Centering, CheckedPeak, CrystalSystem, LatticeCheckResult, Radiation } from "~/diffraction";
-import type { StoredCheckResult, StoredProfile } from "~/models/check-result";
+import { declaredCheckOptions, type StoredCheckResult, type StoredProfile } from "~/models/check-result";
 import { readStoredText } from "~/utils/storage.server";
 import { getBoss, QUEUES } from "./boss.server";
 
@@ -144,22 +144,11 @@ export function radiationOf(instrument: Pick<Instrument, "anode" | "customWavele
 export function declaredOf(
   sample: Pick<Sample, "crystalSystem" | "centering" | "cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma">,
 ): CheckContext["declared"] {
-  const system = CRYSTAL_SYSTEMS.includes(sample.crystalSystem as CrystalSystem) ? (sample.crystalSystem as CrystalSystem) : undefined;
-  const centering = CENTERINGS.includes(sample.centering as Centering) ? (sample.centering as Centering) : undefined;
-  const a = sample.cellA;
-  if (!a || a <= 0) return { system, centering };
-  const hexagonal = system === "hexagonal" || system === "trigonal";
-  const cell: Cell = {
-    a,
-    b: sample.cellB ?? a,
-    c: sample.cellC ?? a,
-    alpha: sample.cellAlpha ?? 90,
-    beta: sample.cellBeta ?? 90,
-    gamma: sample.cellGamma ?? (hexagonal ? 120 : 90),
-  };
-  if (system === "cubic") Object.assign(cell, { b: a, c: a });
-  if (system === "tetragonal" || hexagonal) cell.b = a;
-  return { system, centering, cell };
+  return declaredCheckOptions({
+    system: sample.crystalSystem,
+    centering: sample.centering,
+    cell: { a: sample.cellA, b: sample.cellB, c: sample.cellC, alpha: sample.cellAlpha, beta: sample.cellBeta, gamma: sample.cellGamma },
+  });
 }
 
 const round = (x: number, digits: number) => {

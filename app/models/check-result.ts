@@ -1,5 +1,6 @@
 // The stored form of a lattice check's result and the words and tables made from it (server and browser).
-import type { Cell, LatticeCheckResult, Radiation } from "~/diffraction";
+import { CENTERINGS, CRYSTAL_SYSTEMS } from "~/diffraction/cell";
+import type { Cell, Centering, CrystalSystem, LatticeCheckResult, Radiation } from "~/diffraction";
 
 export interface StoredProfile {
   /** Points in the scan file, and whether the arrays below are a thinned selection of them. */
@@ -101,3 +102,30 @@ export function peaksCsv(result: Pick<StoredCheckResult, "peaks">): string {
   return [header, ...rows].map((r) => r.map(csvCell).join(",")).join("\r\n") + "\r\n";
 }
 
+
+/** A sample's declaration as the app stores it: text fields and a cell whose parts may be missing. */
+export interface SampleDeclaration {
+  system?: string | null;
+  centering?: string | null;
+  cell?: Partial<Record<keyof Cell, number | null>> | null;
+}
+
+/** The declaration as engine options; missing lengths and angles follow from the crystal system. */
+export function declaredCheckOptions(d: SampleDeclaration): { system?: CrystalSystem; centering?: Centering; cell?: Cell } {
+  const system = CRYSTAL_SYSTEMS.includes(d.system as CrystalSystem) ? (d.system as CrystalSystem) : undefined;
+  const centering = CENTERINGS.includes(d.centering as Centering) ? (d.centering as Centering) : undefined;
+  const a = d.cell?.a;
+  if (!a || a <= 0) return { system, centering };
+  const hexagonal = system === "hexagonal" || system === "trigonal";
+  const cell: Cell = {
+    a,
+    b: d.cell?.b ?? a,
+    c: d.cell?.c ?? a,
+    alpha: d.cell?.alpha ?? 90,
+    beta: d.cell?.beta ?? 90,
+    gamma: d.cell?.gamma ?? (hexagonal ? 120 : 90),
+  };
+  if (system === "cubic") Object.assign(cell, { b: a, c: a });
+  if (system === "tetragonal" || hexagonal) cell.b = a;
+  return { system, centering, cell };
+}
