@@ -34,6 +34,14 @@ export const config = {
     apiKey: env.RESEND_API_KEY ?? "re_local_fake",
     baseUrl: env.RESEND_BASE_URL ?? `http://127.0.0.1:${ports.mail}`,
     from: env.MAIL_FROM ?? "Diffractory <notices@diffractory.example>",
+    /** `resend` (the e-mail API) or `smtp` (nodemailer to `SMTP_URL`, for self-hosted deployments). */
+    transport: (env.MAIL_TRANSPORT ?? "resend") as "resend" | "smtp",
+    smtpUrl: env.SMTP_URL ?? "smtp://127.0.0.1:2525",
+    /** pg-boss retries of one message: delays grow 1, 2, 4… × the base delay with backoff on. */
+    retryLimit: num("MAIL_RETRY_LIMIT", 10),
+    retryDelaySeconds: num("MAIL_RETRY_DELAY_SECONDS", 30),
+    retryBackoff: (env.MAIL_RETRY_BACKOFF ?? "true") === "true",
+    sendTimeoutMs: num("MAIL_SEND_TIMEOUT_MS", 15_000),
   },
   payments: {
     secretKey: env.STRIPE_SECRET_KEY ?? "sk_test_local_fake",

@@ -7,6 +7,10 @@ export const QUEUES = {
   reviewWindow: "review-window",
   /** The lattice check of one stored scan (`{ fileId }`). */
   scanCheck: "scan-check",
+  /** One outbox e-mail (`{ messageId }`), retried with growing delays, parked after the last try. */
+  mailSend: "mail-send",
+  /** Every quarter hour: "review window ends tomorrow" reminders. */
+  reviewReminder: "review-reminder",
 } as const;
 
 const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };
@@ -42,4 +46,6 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = "*/5 * * *
   await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
     await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });
   });
+  const { startMailWorkers } = await import("~/notifications/sending.server");
+  await startMailWorkers(boss);
 }

@@ -2,6 +2,7 @@
 import { and, asc, desc, eq, inArray } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Lab } from "~/db/schema";
+import { notify } from "~/notifications/outbox.server";
 import { audit } from "~/utils/audit.server";
 import { notFound } from "~/utils/permissions.server";
 import {
@@ -108,6 +109,7 @@ export async function submitApplication(app: Application) {
       },
       tx,
     );
+    await notify(tx, { kind: "lab_application_received", labId: app.labId });
   });
 }
 
@@ -158,6 +160,7 @@ export async function decideVetting(input: {
       { ...base, action: `lab_${rule.to === "approved" && current.vettingState === "suspended" ? "reinstated" : rule.to}`, details: { from: current.vettingState, to: rule.to, note: input.note, override } },
       tx,
     );
+    await notify(tx, { kind: "lab_decided", labId: input.labId, to: rule.to, note: input.note });
     return { from: current.vettingState, to: rule.to, override };
   });
 }

@@ -2,6 +2,7 @@
 import { asc, eq } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Order } from "~/db/schema";
+import { notify } from "~/notifications/outbox.server";
 import { moveProblem, type Mover, type OrderState } from "./order-states";
 
 export type Tx = Parameters<Parameters<typeof db.transaction>[0]>[0];
@@ -43,7 +44,7 @@ export async function moveOrder(
     .where(eq(schema.orders.id, order.id))
     .returning();
   await tx.insert(schema.orderEvents).values({ orderId: order.id, fromState: order.state, toState: to, actorUserId, note });
-  // e-mail: each milestone notifies the order's people (the notifications issue adds the outbox here).
+  await notify(tx, { kind: "order_moved", order: updated, from: order.state, note });
   return updated;
 }
 

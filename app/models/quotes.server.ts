@@ -3,6 +3,7 @@ import { and, asc, desc, eq, lt, ne } from "drizzle-orm";
 import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
 import type { MarketRequest, PriceList, QuoteLineItem, Sample } from "~/db/schema";
+import { notify } from "~/notifications/outbox.server";
 import { audit } from "~/utils/audit.server";
 import { notFound } from "~/utils/permissions.server";
 import { declaresHazard } from "./hazards";
@@ -91,23 +92,26 @@ export async function sendQuote(request: MarketRequest, labId: string, userId: s
     .from(schema.quotes)
     .where(and(eq(schema.quotes.requestId, request.id), eq(schema.quotes.labId, labId), eq(schema.quotes.state, "sent")));
   if (live) return { ok: false, formError: "Your lab already has a quote on this request; withdraw it to send a new one." };
-  const [quote] = await db
-    .insert(schema.quotes)
-    .values({
-      requestId: request.id,
-      labId,
-      instrumentId: instrument.id,
-      lineItems,
-      totalMinor,
-      currency: prices?.currency ?? request.currency,
-      validUntil: endOfDay(input.validUntil),
-      turnaroundDays: input.turnaroundDays,
-      notes: input.notes ?? "",
-      createdBy: userId,
-    })
-    .returning({ id: schema.quotes.id });
-  await audit({ actorUserId: userId, organisationId: labId, action: "quote_sent", subjectType: "quote", subjectId: quote.id, details: { requestId: request.id, totalMinor } });
-  // e-mail: quote received — to the requesting organisation (a later issue adds the outbox message here).
+  const quote = await db.transaction(async (tx) => {
+    const [row] = await tx
+      .insert(schema.quotes)
+      .values({
+        requestId: request.id,
+        labId,
+        instrumentId: instrument.id,
+        lineItems,
+        totalMinor,
+        currency: prices?.currency ?? request.currency,
+        validUntil: endOfDay(input.validUntil),
+        turnaroundDays: input.turnaroundDays,
+        notes: input.notes ?? "",
+        createdBy: userId,
+      })
+      .returning({ id: schema.quotes.id });
+    await audit({ actorUserId: userId, organisationId: labId, action: "quote_sent", subjectType: "quote", subjectId: row.id, details: { requestId: request.id, totalMinor } }, tx);
+    await notify(tx, { kind: "quote_received", quoteId: row.id });
+    return row;
+  });
   return { ok: true, quoteId: quote.id };
 }
 
@@ -221,7 +225,7 @@ export async function acceptQuote(requestId: string, quoteId: string, organisati
         .returning({ id: schema.orders.id });
       await tx.insert(schema.orderEvents).values({ orderId: order.id, fromState: null, toState: "awaiting_payment", actorUserId: userId, note: "Quote accepted" });
       await audit({ actorUserId: userId, organisationId, action: "quote_accepted", subjectType: "quote", subjectId: quote.id, details: { orderId: order.id } }, tx);
-      // e-mail: quote accepted — to the lab, and "quote declined" to the other labs (a later issue adds the outbox messages here).
+      await notify(tx, { kind: "quote_decided", acceptedQuoteId: quote.id, orderId: order.id });
       return { ok: true, orderId: order.id } as const;
     });
   } catch (err) {

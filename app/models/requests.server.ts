@@ -4,9 +4,11 @@ import { redirect } from "react-router";
 import { db, schema } from "~/db/client.server";
 import type { MarketRequest, Sample, SpecialHazard } from "~/db/schema";
 import { DOCUMENT_RULE, presignDownload, verifyStoredObject, type UploadRule } from "~/utils/storage.server";
+import { notify } from "~/notifications/outbox.server";
 import { audit } from "~/utils/audit.server";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import { parseFormula } from "./formula";
+import { labsMatchingRequest } from "./matching.server";
 import { declaresHazard } from "./hazards";
 import { WIZARD_STEPS, type MeasurementStep, type SamplesStep, type SampleHazardInput, type WizardStep } from "./request-forms";
 
@@ -237,15 +239,27 @@ export function publishProblems(request: MarketRequest, samples: Sample[]): stri
 export async function publishRequest(request: MarketRequest, userId: string): Promise<{ problems: string[] }> {
   const problems = publishProblems(request, await samplesOf(request.id));
   if (problems.length) return { problems };
-  const published = await db
-    .update(schema.requests)
-    .set({ state: "open", openedAt: new Date(), draftStep: "review", updatedAt: new Date() })
-    .where(and(eq(schema.requests.id, request.id), eq(schema.requests.state, "draft")))
-    .returning({ id: schema.requests.id });
-  if (published.length === 0) return { problems: ["This request has already been published."] };
-  await audit({ actorUserId: userId, organisationId: request.organisationId, action: "request_published", subjectType: "request", subjectId: request.id });
-  // e-mail: request open — to the matching labs (a later issue adds the outbox message here).
+  const labIds = await labsToTell(request);
+  const published = await db.transaction(async (tx) => {
+    const rows = await tx
+      .update(schema.requests)
+      .set({ state: "open", openedAt: new Date(), draftStep: "review", updatedAt: new Date() })
+      .where(and(eq(schema.requests.id, request.id), eq(schema.requests.state, "draft")))
+      .returning({ id: schema.requests.id });
+    if (rows.length === 0) return false;
+    await audit({ actorUserId: userId, organisationId: request.organisationId, action: "request_published", subjectType: "request", subjectId: request.id }, tx);
+    await notify(tx, { kind: "request_open", requestId: request.id, labIds });
+    return true;
+  });
+  if (!published) return { problems: ["This request has already been published."] };
   return { problems: [] };
+}
+
+/** Who hears of a newly open request: the invited labs of an invited-only request, else every matching lab. */
+async function labsToTell(request: MarketRequest): Promise<string[]> {
+  if (request.visibility !== "invited") return labsMatchingRequest(request.id);
+  const invited = await db.select({ labId: schema.requestInvitations.labId }).from(schema.requestInvitations).where(eq(schema.requestInvitations.requestId, request.id));
+  return invited.map((i) => i.labId);
 }
 
 // ───────────── The lab's side ─────────────
