@@ -1,7 +1,10 @@
 // The physical side of an order: shipping the samples, receiving them, measuring, and delivering the data.
-import { and, asc, eq, isNull } from "drizzle-orm";
+import { asc, eq } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
+import { samplesWithoutCompletedCheck } from "~/jobs/scan-check.server";
 import { lockOrder, moveOrder, OrderMoveRefused } from "./orders.server";
+
+export { samplesWithoutCompletedCheck };
 
 /** The client marks the samples shipped, with the carrier and tracking number. */
 export async function markShipped(orderId: string, userId: string, carrier: string, trackingNumber: string) {
@@ -21,20 +24,6 @@ export async function markReceived(orderId: string, userId: string, note: string
 
 export async function startMeasuring(orderId: string, userId: string, note: string) {
   return db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "measuring", "lab", userId, note || "Measurement started."));
-}
-
-/** Labels of the order's samples that have no completed lattice check of a stored, undeleted scan. */
-export async function samplesWithoutCompletedCheck(orderId: string): Promise<string[]> {
-  const [order] = await db.select({ requestId: schema.orders.requestId }).from(schema.orders).where(eq(schema.orders.id, orderId));
-  if (!order) return [];
-  const samples = await db.select({ id: schema.samples.id, label: schema.samples.label }).from(schema.samples).where(eq(schema.samples.requestId, order.requestId)).orderBy(asc(schema.samples.position));
-  const checked = await db
-    .selectDistinct({ sampleId: schema.orderFiles.sampleId })
-    .from(schema.orderFiles)
-    .innerJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))
-    .where(and(eq(schema.orderFiles.orderId, orderId), eq(schema.orderFiles.state, "stored"), isNull(schema.orderFiles.deletedAt), eq(schema.scanChecks.status, "done")));
-  const done = new Set(checked.map((c) => c.sampleId));
-  return samples.filter((s) => !done.has(s.id)).map((s) => s.label);
 }
 
 /** The lab marks the data delivered; every sample needs at least one completed check first. */
