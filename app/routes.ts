@@ -14,6 +14,8 @@ export default [
   ]),
   route("sign-out", "routes/account/sign-out.tsx"),
   route("switch-organisation", "routes/account/switch-organisation.tsx"),
+  route("account/notifications", "routes/account/notifications.tsx"),
+  route("dev/mail", "routes/dev/mail.tsx"),
   route("files/:fileId/download", "routes/account/file-download.ts"),
   route("shared/:token/files/:fileId", "routes/public/shared-download.ts"),
 
@@ -70,6 +72,7 @@ export default [
       route("labs/:labId", "routes/admin/lab-review.tsx"),
       route("ledger", "routes/admin/ledger.tsx"),
       route("disputes", "routes/admin/disputes.tsx"),
+      route("outbox", "routes/admin/outbox.tsx"),
       route(":section", "routes/workspace-section.tsx", { id: "admin-section" }),
     ]),
   ]),
@@ -82,6 +85,7 @@ export default [
   ...prefix("api", [
     route("health", "routes/api/health.ts"),
     route("me", "routes/api/me.ts"),
+    route("notifications", "routes/api/notifications.ts"),
     route("labs", "routes/api/labs.ts"),
     route("orders", "routes/api/orders.ts"),
     route("orders/:id/files", "routes/api/order-files.ts"),

@@ -3,6 +3,7 @@ import type { ReactNode } from "react";
 import { Form, NavLink } from "react-router";
 import type { MeSummary } from "~/models/me.server";
 import { Brand } from "./brand";
+import { NotificationBell } from "./notification-bell";
 import { SignOutButton } from "./sign-out-button";
 
 export interface NavItem {
@@ -58,6 +59,7 @@ export function WorkspaceShell({ me, title, nav, children }: { me: MeSummary; ti
           ) : active ? (
             <span className="text-sm text-ink-600">{active.name}</span>
           ) : null}
+          <NotificationBell />
           <span className="text-sm font-medium text-ink-800" data-testid="signed-in-as">
             {me.user.name}
           </span>

@@ -11,6 +11,7 @@ const EXTRA_NAV: Record<string, NavItem[]> = {
   admin: [
     { to: "/admin/users", label: "Users" },
     { to: "/admin/audit-log", label: "Audit log" },
+    { to: "/admin/outbox", label: "Outbox" },
   ],
 };
 

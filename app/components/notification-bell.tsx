@@ -1,0 +1,91 @@
+// The bell in the workspace header: unread count and the latest notifications, read through TanStack Query.
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { useEffect, useRef, useState } from "react";
+import { Link } from "react-router";
+
+interface NotificationsJson {
+  unread: number;
+  items: { id: string; kind: string; orderId: string | null; title: string; href: string; createdAt: string; read: boolean }[];
+}
+
+const KEY = ["notifications"];
+
+async function fetchNotifications(): Promise<NotificationsJson> {
+  const res = await fetch("/api/notifications", { headers: { accept: "application/json" } });
+  if (!res.ok) throw new Error(`Notifications could not be loaded (${res.status}).`);
+  return res.json();
+}
+
+export function NotificationBell() {
+  const client = useQueryClient();
+  const [open, setOpen] = useState(false);
+  const box = useRef<HTMLDivElement>(null);
+  const { data } = useQuery({ queryKey: KEY, queryFn: fetchNotifications, refetchInterval: 60_000 });
+  const markRead = useMutation({
+    mutationFn: async (body: { all: true } | { ids: string[] }) => {
+      const res = await fetch("/api/notifications", { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body) });
+      if (!res.ok) throw new Error("Could not mark read.");
+    },
+    onSettled: () => client.invalidateQueries({ queryKey: KEY }),
+  });
+  useEffect(() => {
+    if (!open) return;
+    const close = (e: MouseEvent) => {
+      if (box.current && !box.current.contains(e.target as Node)) setOpen(false);
+    };
+    document.addEventListener("mousedown", close);
+    return () => document.removeEventListener("mousedown", close);
+  }, [open]);
+  const unread = data?.unread ?? 0;
+  return (
+    <div className="relative" ref={box}>
+      <button
+        type="button"
+        className="relative rounded-md px-2 py-1 text-sm text-ink-700 hover:bg-ink-100"
+        aria-expanded={open}
+        aria-label={unread ? `Notifications, ${unread} unread` : "Notifications"}
+        onClick={() => setOpen((o) => !o)}
+      >
+        <svg aria-hidden="true" viewBox="0 0 20 20" className="inline h-5 w-5" fill="currentColor">
+          <path d="M10 2a5 5 0 0 0-5 5v3.2L3.3 13a.8.8 0 0 0 .7 1.2h12a.8.8 0 0 0 .7-1.2L15 10.2V7a5 5 0 0 0-5-5Zm-2 13.5a2 2 0 0 0 4 0H8Z" />
+        </svg>
+        {unread > 0 ? (
+          <span data-testid="unread-count" className="absolute -top-1 -right-1 min-w-5 rounded-full bg-beam-600 px-1 text-center text-xs font-semibold text-white">
+            {unread > 99 ? "99+" : unread}
+          </span>
+        ) : null}
+      </button>
+      {open ? (
+        <div className="absolute right-0 z-20 mt-2 w-80 rounded-md border border-ink-200 bg-white shadow-lg">
+          <div className="flex items-center justify-between border-b border-ink-100 px-3 py-2">
+            <span className="text-sm font-semibold">Notifications</span>
+            <button type="button" className="text-xs text-beam-700 hover:underline disabled:text-ink-400" disabled={unread === 0} onClick={() => markRead.mutate({ all: true })}>
+              Mark all read
+            </button>
+          </div>
+          <ul className="max-h-96 overflow-y-auto">
+            {(data?.items ?? []).length === 0 ? <li className="px-3 py-4 text-sm text-ink-500">Nothing yet.</li> : null}
+            {(data?.items ?? []).map((n) => (
+              <li key={n.id} className={`border-b border-ink-100 last:border-0 ${n.read ? "" : "bg-beam-50"}`}>
+                <Link
+                  to={n.href || "/account/notifications"}
+                  className="block px-3 py-2 text-sm hover:bg-ink-50"
+                  onClick={() => {
+                    if (!n.read) markRead.mutate({ ids: [n.id] });
+                    setOpen(false);
+                  }}
+                >
+                  <span className={n.read ? "text-ink-700" : "font-medium text-ink-900"}>{n.title}</span>
+                  <span className="block text-xs text-ink-500">{new Date(n.createdAt).toLocaleString("en-GB")}</span>
+                </Link>
+              </li>
+            ))}
+          </ul>
+          <Link to="/account/notifications" className="block border-t border-ink-100 px-3 py-2 text-xs text-beam-700 hover:underline" onClick={() => setOpen(false)}>
+            E-mail settings
+          </Link>
+        </div>
+      ) : null}
+    </div>
+  );
+}

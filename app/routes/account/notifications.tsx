@@ -1,0 +1,95 @@
+// /account/notifications — which milestone e-mails a person receives, and their notification list.
+import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { Badge, FormError, PageHeader } from "~/components/ui";
+import { notificationsOf, preferencesOf, savePreferences } from "~/notifications/inbox.server";
+import { isMilestoneKind, MILESTONES, type MilestoneKind } from "~/notifications/milestones";
+import { requireUser, workspacePath } from "~/utils/permissions.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import type { Route } from "./+types/notifications";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const actor = await requireUser(request);
+  const [preferences, list] = await Promise.all([preferencesOf(actor.user.id), notificationsOf(actor.user.id, 50)]);
+  return { preferences, list, back: workspacePath(actor), email: actor.user.email };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const actor = await requireUser(request);
+  const form = await request.formData();
+  if (form.get("intent") !== "save") return data({ error: "Unknown request." }, { status: 400 });
+  const chosen = form.getAll("email").map(String);
+  const unknown = chosen.filter((k) => !isMilestoneKind(k));
+  if (unknown.length) return data({ error: `Unknown kind of message: ${unknown.slice(0, 3).join(", ")}.` }, { status: 400 });
+  await savePreferences(actor.user.id, new Set(chosen as MilestoneKind[]));
+  return redirectWithToast("/account/notifications", { kind: "success", message: "Your e-mail settings are saved." });
+}
+
+export default function NotificationSettings() {
+  const { preferences, list, back, email } = useLoaderData<typeof loader>();
+  const actionData = useActionData<typeof action>();
+  const busy = useNavigation().state !== "idle";
+  return (
+    <main id="main" className="mx-auto w-full max-w-3xl px-4 py-8 sm:px-6">
+      <p className="mb-4 text-sm">
+        <a href={back} className="text-beam-700 hover:underline">
+          ← Back to your workspace
+        </a>
+      </p>
+      <PageHeader title="Notifications" subtitle={`E-mails go to ${email}. Messages about payments, disputes and safety always go out.`} />
+      <Form method="post" className="card">
+        <input type="hidden" name="intent" value="save" />
+        <fieldset>
+          <legend className="mb-3 font-semibold">E-mail me when…</legend>
+          <ul className="grid gap-2 sm:grid-cols-2">
+            {preferences.map((p) => (
+              <li key={p.kind}>
+                <label className="flex items-start gap-2 text-sm">
+                  {p.essential ? (
+                    <input type="checkbox" checked disabled aria-describedby="essential-note" className="mt-1" />
+                  ) : (
+                    <input type="checkbox" name="email" value={p.kind} defaultChecked={p.emailEnabled} className="mt-1" />
+                  )}
+                  <span>
+                    {MILESTONES[p.kind].label} {p.essential ? <Badge tone="neutral">always</Badge> : null}
+                  </span>
+                </label>
+              </li>
+            ))}
+          </ul>
+        </fieldset>
+        <p id="essential-note" className="mt-3 text-xs text-ink-500">
+          Messages marked “always” concern money, disputes or the safe handling of samples and cannot be turned off. Every message also appears in the list below.
+        </p>
+        <div className="mt-4 h-6">
+          <FormError errors={actionData?.error ? [actionData.error] : undefined} />
+        </div>
+        <button type="submit" className="btn-primary" disabled={busy}>
+          Save e-mail settings
+        </button>
+      </Form>
+      <section className="mt-8">
+        <h2 className="mb-3 text-lg font-semibold">
+          Recent notifications {list.unread ? <Badge tone="brand">{list.unread} unread</Badge> : null}
+        </h2>
+        {list.items.length === 0 ? (
+          <p className="text-sm text-ink-500">Nothing yet.</p>
+        ) : (
+          <ul className="card divide-y divide-ink-100 p-0">
+            {list.items.map((n) => (
+              <li key={n.id} className="px-4 py-3 text-sm">
+                <a href={n.href || "#"} className={n.read ? "text-ink-700" : "font-medium text-ink-900"}>
+                  {n.title}
+                </a>
+                <span className="block text-xs text-ink-500">{new Date(n.createdAt).toLocaleString("en-GB")}</span>
+              </li>
+            ))}
+          </ul>
+        )}
+      </section>
+    </main>
+  );
+}
+
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Notifications — Diffractory" }];
+}
