@@ -186,6 +186,7 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
     }
     if (fit) break;
   }
+  if (fit) addStraddledBlends(peaks, pool, state, assignments, options, radius);
   // The assigned reflections were listed before the last step; give them the final cell's d and position.
   for (const a of assignments) {
     const q = qOf(system, state.p, a.reflection);
@@ -389,6 +390,41 @@ function assign(
     out.push({ peak, reflection: calc[j].r, twoThetaCalc: calc[j].x, used: !crowded });
   }
   return out.sort((a, b) => a.peak - b.peak);
+}
+
+/**
+ * After the refinement, an unindexed peak that lies between two unclaimed reflections less than 0.8 FWHM
+ * apart is their unresolved blend: its fitted position is an intensity-weighted mean of the two, so it
+ * sits outside both windows. It is indexed to the nearer, kept out of the least squares.
+ */
+function addStraddledBlends(
+  peaks: readonly ObservedPeak[],
+  pool: PoolEntry[],
+  state: State,
+  assignments: Assignment[],
+  options: RefineOptions,
+  radius: number,
+): void {
+  const claimedPeaks = new Set(assignments.map((a) => a.peak));
+  const claimed = new Set(assignments.map((a) => a.reflection));
+  const calc = pool
+    .filter((e) => !claimed.has(e.r))
+    .map((e) => ({ r: e.r, x: predict(qOfRow(e.row, state.p), state.shift, options, radius) }))
+    .filter((c) => Number.isFinite(c.x))
+    .sort((a, b) => a.x - b.x);
+  const xs = Float64Array.from(calc.map((c) => c.x));
+  peaks.forEach((peak, i) => {
+    if (claimedPeaks.has(i)) return;
+    const j = lowerBound(xs, peak.twoTheta);
+    if (j === 0 || j === xs.length) return;
+    const [below, above] = [calc[j - 1], calc[j]];
+    if (above.x - below.x >= 0.8 * peak.fwhm) return;
+    const nearer = peak.twoTheta - below.x <= above.x - peak.twoTheta ? below : above;
+    if (claimed.has(nearer.r)) return;
+    claimed.add(nearer.r);
+    assignments.push({ peak: i, reflection: nearer.r, twoThetaCalc: nearer.x, used: false });
+  });
+  assignments.sort((a, b) => a.peak - b.peak);
 }
 
 /** ∂(2θ_calc)/∂(p, shift) of a reflection, degrees per unit of each parameter. */
