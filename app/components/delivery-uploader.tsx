@@ -238,11 +238,11 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
               );
             })}
           </ul>
-          <div className="flex items-center gap-3">
-            <button type="button" className="btn-primary" disabled={busy || ready.length === 0} onClick={() => void uploadAll()}>
+          {busy || ready.length ? (
+            <button type="button" className="btn-primary" disabled={busy} onClick={() => void uploadAll()}>
               {busy ? "Uploading…" : `Upload ${ready.length} ${ready.length === 1 ? "file" : "files"}`}
             </button>
-          </div>
+          ) : null}
         </div>
       ) : null}
     </section>

@@ -1,14 +1,16 @@
-// An order's delivered files as a table (versions, size, SHA-256, uploader, check), with the check status kept live.
-import { useQuery } from "@tanstack/react-query";
+// An order's delivered files as a table: versions, size, SHA-256, uploader, state and the live lattice check.
 import type { ReactNode } from "react";
+import { CheckStateBadge, CheckStatusBadge } from "./check-status";
 import { FILE_KIND_LABELS, formatBytes, type FileKind } from "~/models/files";
 import { Badge, TableCard } from "./ui";
 
 export interface FileCheck {
-  id?: string | null;
-  status: "queued" | "running" | "done" | "failed" | null;
+  id: string;
+  fileId: string;
+  status: "queued" | "running" | "done" | "failed";
   verdict: string | null;
-  error?: string | null;
+  error: string | null;
+  finishedAt: string | null;
 }
 
 export interface FileRow {
@@ -28,53 +30,20 @@ export interface FileRow {
   check: FileCheck | null;
 }
 
-const PENDING = new Set(["queued", "running"]);
-
 /**
- * Keeps the checks of the rows current: while any check is queued or running, asks the files API every two
- * seconds and takes each file's check from its answer (the rows themselves come from the page's loader).
+ * The check of one file: for signed-in people a live badge (asked again while queued or running, linking to
+ * the check screen); for a share link's visitor the state as it was when the page loaded.
  */
-export function useLiveChecks<T extends FileRow>(orderId: string, rows: T[], enabled = true): T[] {
-  const pending = rows.some((r) => r.check?.status && PENDING.has(r.check.status));
-  const query = useQuery({
-    queryKey: ["order-file-checks", orderId],
-    enabled,
-    queryFn: async () => {
-      const res = await fetch(`/api/orders/${orderId}/files`, { headers: { Accept: "application/json" } });
-      if (!res.ok) throw new Error(`The file list answered ${res.status}.`);
-      return ((await res.json()) as { files: { id: string; check: FileCheck }[] }).files;
-    },
-    refetchInterval: (q) => {
-      const latest = q.state.data;
-      const stillPending = latest ? latest.some((f) => f.check.status && PENDING.has(f.check.status)) : pending;
-      return stillPending || pending ? 2000 : false;
-    },
-    staleTime: 0,
-  });
-  const fresh = new Map((query.data ?? []).map((f) => [f.id, f.check]));
-  return rows.map((r) => {
-    const check = fresh.get(r.id);
-    return check?.status ? { ...r, check: { ...r.check, ...check } } : r;
-  });
-}
-
-const VERDICT_TONES: Record<string, Parameters<typeof Badge>[0]["tone"]> = { consistent: "ok", review: "caution", inconsistent: "danger" };
-
-/** The check of one file in words: queued, running, the verdict, or that the engine could not read it. */
-export function CheckStatus({ check, kind }: { check: FileCheck | null; kind: FileKind }) {
+export function FileCheckCell({ check, kind, live }: { check: FileCheck | null; kind: FileKind; live: boolean }) {
   if (kind !== "scan") return <span className="text-xs text-ink-500">not a scan</span>;
-  if (!check?.status) return <span className="text-xs text-ink-500">no check</span>;
-  if (check.status === "queued") return <Badge tone="neutral">Check queued</Badge>;
-  if (check.status === "running") return <Badge tone="brand">Check running</Badge>;
-  if (check.status === "failed") {
-    return (
-      <span>
-        <Badge tone="danger">Could not be read</Badge>
-        {check.error ? <span className="mt-1 block max-w-xs text-xs text-danger-700">{check.error}</span> : null}
-      </span>
-    );
-  }
-  return <Badge tone={VERDICT_TONES[check.verdict ?? ""] ?? "neutral"}>{check.verdict ? `Check: ${check.verdict}` : "Check done"}</Badge>;
+  if (!check) return <span className="text-xs text-ink-500">no check</span>;
+  if (live) return <CheckStatusBadge checkId={check.id} initial={check} />;
+  return (
+    <span className="inline-flex flex-wrap items-center gap-2">
+      <CheckStateBadge status={check.status} verdict={check.verdict} />
+      {check.status === "failed" && check.error ? <span className="text-xs text-danger-700">{check.error}</span> : null}
+    </span>
+  );
 }
 
 function StateBadge({ row }: { row: FileRow }) {
@@ -89,11 +58,14 @@ export function OrderFilesTable({
   rows,
   caption,
   showState = false,
+  live = true,
   actions,
 }: {
   rows: FileRow[];
   caption: string;
   showState?: boolean;
+  /** Live check badges need a signed-in person (the status API); share-link pages pass false. */
+  live?: boolean;
   actions?: (row: FileRow) => ReactNode;
 }) {
   const columns = ["File", "Sample", "Size", "SHA-256", "Uploaded", ...(showState ? ["State"] : []), "Check", ...(actions ? [""] : [])];
@@ -123,7 +95,7 @@ export function OrderFilesTable({
             </td>
           ) : null}
           <td>
-            <CheckStatus check={row.check} kind={row.kind} />
+            <FileCheckCell check={row.check} kind={row.kind} live={live} />
           </td>
           {actions ? <td className="whitespace-nowrap text-right">{actions(row)}</td> : null}
         </tr>

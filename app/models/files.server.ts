@@ -296,7 +296,14 @@ export async function orderFileList(orderId: string, { side }: { side: "client" 
       file: schema.orderFiles,
       uploader: schema.users.name,
       sampleLabel: schema.samples.label,
-      check: { id: schema.scanChecks.id, status: schema.scanChecks.status, verdict: schema.scanChecks.verdict, error: schema.scanChecks.error },
+      check: {
+        id: schema.scanChecks.id,
+        fileId: schema.scanChecks.fileId,
+        status: schema.scanChecks.status,
+        verdict: schema.scanChecks.verdict,
+        error: schema.scanChecks.error,
+        finishedAt: schema.scanChecks.finishedAt,
+      },
     })
     .from(schema.orderFiles)
     .leftJoin(schema.users, eq(schema.users.id, schema.orderFiles.uploadedBy))
@@ -319,7 +326,7 @@ export async function orderFileList(orderId: string, { side }: { side: "client" 
     uploadedVia: file.uploadedVia,
     uploadedAt: (file.storedAt ?? file.createdAt).toISOString(),
     deletedAt: file.deletedAt?.toISOString() ?? null,
-    check: check?.id ? check : null,
+    check: check?.id ? { ...check, finishedAt: check.finishedAt?.toISOString() ?? null } : null,
   }));
 }
 

@@ -4,7 +4,7 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { eq } from "drizzle-orm";
 import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
 import { z } from "zod";
-import { OrderFilesTable, useLiveChecks } from "~/components/order-files-table";
+import { OrderFilesTable } from "~/components/order-files-table";
 import { RevokeButton, ShownOnce } from "~/components/shown-once";
 import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
@@ -94,7 +94,6 @@ export default function DataRoomOrder() {
   const { order, files, shareLinks, accessLog, canDelete } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
-  const rows = useLiveChecks(order.id, files);
   const [form, fields] = useForm({
     id: "share-link",
     lastResult: actionData?.result,
@@ -123,11 +122,11 @@ export default function DataRoomOrder() {
           Every version is kept. A download link is valid for {Math.round(DOWNLOAD_URL_SECONDS / 60)} minutes and each download is logged.
           Deleting hides a file here; the bytes are kept for {RETENTION_YEARS} years.
         </p>
-        {rows.length === 0 ? (
+        {files.length === 0 ? (
           <EmptyState title="No files delivered yet">The lab's scans and report appear here as soon as they are uploaded and verified.</EmptyState>
         ) : (
           <OrderFilesTable
-            rows={rows}
+            rows={files}
             caption="Delivered files"
             actions={(row) => (
               <span className="inline-flex items-center gap-3">

@@ -1,7 +1,7 @@
 // /client/data-room — every delivered file of the organisation's orders, grouped by order.
 import { desc, eq } from "drizzle-orm";
 import { Link, useLoaderData } from "react-router";
-import { CheckStatus } from "~/components/order-files-table";
+import { FileCheckCell } from "~/components/order-files-table";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { formatBytes, RETENTION_YEARS } from "~/models/files";
@@ -61,7 +61,7 @@ export default function DataRoom() {
                         <span className="font-medium">{f.name}</span> <span className="font-mono text-xs text-ink-500">v{f.version}</span>{" "}
                         <span className="text-ink-500">· {formatBytes(f.size)}</span>
                       </span>
-                      <CheckStatus check={f.check} kind={f.kind} />
+                      <FileCheckCell check={f.check} kind={f.kind} live />
                     </li>
                   ))}
                 </ul>

@@ -3,7 +3,7 @@
 import { eq } from "drizzle-orm";
 import { Link, useLoaderData, useRevalidator } from "react-router";
 import { DeliveryUploader, useDeliveryQueue } from "~/components/delivery-uploader";
-import { OrderFilesTable, useLiveChecks, type FileRow } from "~/components/order-files-table";
+import { OrderFilesTable, type FileRow } from "~/components/order-files-table";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { UPLOAD_ORDER_STATES } from "~/models/files";
@@ -38,7 +38,6 @@ export default function LabOrderFiles() {
   const { order, samples, files, canUpload } = useLoaderData<typeof loader>();
   const revalidator = useRevalidator();
   const queue = useDeliveryQueue(order.id, samples, () => void revalidator.revalidate());
-  const rows = useLiveChecks(order.id, files);
   return (
     <div className="space-y-8">
       <PageHeader
@@ -69,11 +68,11 @@ export default function LabOrderFiles() {
           Every version is kept; uploading a file of the same name adds the next version. Only stored files — verified by content and SHA-256 —
           count as delivered; each stored scan is checked against its sample's declared cell.
         </p>
-        {rows.length === 0 ? (
+        {files.length === 0 ? (
           <EmptyState title="No files yet">Drop the scans of each sample and your report above.</EmptyState>
         ) : (
           <OrderFilesTable
-            rows={rows}
+            rows={files}
             caption="Files of this order"
             showState
             actions={(row) => (

@@ -60,6 +60,7 @@ export default function SharedDataRoom() {
         <OrderFilesTable
           rows={shared.files}
           caption="Shared files"
+          live={false}
           actions={(row) => (
             <a href={`/shared/${shared.token}/files/${row.id}`} className="font-semibold text-beam-700 underline" aria-label={`Download ${row.name} v${row.version}`}>
               Download
