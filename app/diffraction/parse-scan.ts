@@ -136,6 +136,39 @@ function plainNumber(field: string): number {
   return Number(field);
 }
 
+// 10^k for k ≤ 22 is exact in binary64, so integer / 10^k is the correctly rounded decimal, the same
+// number Number() would give.
+const POWERS_OF_TEN = Array.from({ length: 23 }, (_, k) => 10 ** k);
+
+/**
+ * The common case read without building a string: [sign] digits [point digits] with at most 15
+ * significant digits; NaN for anything else (exponents, long mantissas, text), which then goes the slow way.
+ */
+function simpleDecimal(line: string, start: number, end: number, point: number): number {
+  let i = start;
+  let negative = false;
+  const first = line.charCodeAt(i);
+  if (first === 45 || first === 43) {
+    negative = first === 45;
+    i++;
+  }
+  let mantissa = 0;
+  let digits = 0;
+  let decimals = -1;
+  for (; i < end; i++) {
+    const c = line.charCodeAt(i);
+    if (c >= 48 && c <= 57) {
+      mantissa = mantissa * 10 + (c - 48);
+      digits++;
+      if (decimals >= 0) decimals++;
+    } else if (c === point && decimals < 0) decimals = 0;
+    else return NaN;
+  }
+  if (digits === 0 || digits > 15) return NaN;
+  const value = decimals > 0 ? mantissa / POWERS_OF_TEN[decimals] : mantissa;
+  return negative ? -value : value;
+}
+
 /** Whether a character code separates fields in a dialect: blanks and tabs, semicolons, commas. */
 function separates(c: number, dialect: Dialect): boolean {
   if (c === 59 || c === 9) return true; // ; and tab, in every dialect
@@ -159,6 +192,12 @@ function scanLine(line: string, dialect: Dialect, out: number[]): number {
     while (j < n && !separates(line.charCodeAt(j), dialect)) j++;
     let end = j;
     while (end > i && line.charCodeAt(end - 1) === 32) end--;
+    const quick = simpleDecimal(line, i, end, dialect.decimalComma ? 44 : 46);
+    if (!Number.isNaN(quick)) {
+      out[count++] = quick;
+      i = j;
+      continue;
+    }
     let field = line.slice(i, end);
     if (dialect.decimalComma) field = field.replace(",", ".");
     const value = plainNumber(field);

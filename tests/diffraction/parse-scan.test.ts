@@ -1,4 +1,5 @@
 // Reading scans: every accepted layout and every refusal of the issue, each refusal one sentence.
+import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { cifNumber, MIN_POINTS, parseScan } from "~/diffraction/parse-scan";
 
@@ -72,6 +73,36 @@ describe("two- and three-column text", () => {
     const scan = ok(rows.join("\n"));
     expect(scan.twoTheta.length).toBe(x.length - 8);
     expect(scan.warnings.join(" ")).toMatch(/missing/);
+  });
+});
+
+describe("number reading", () => {
+  it("reads every decimal exactly as Number() does (property)", () => {
+    fc.assert(
+      fc.property(
+        fc.integer({ min: 2, max: 6 }),
+        fc.array(fc.tuple(fc.integer({ min: 1, max: 200 }), fc.integer({ min: -(10 ** 12), max: 10 ** 12 }), fc.integer({ min: 0, max: 6 })), {
+          minLength: MIN_POINTS,
+          maxLength: MIN_POINTS + 20,
+        }),
+        (angleDecimals, rows) => {
+          // Angles 10° upward in steps of 1–200 units of the last decimal place (strictly ascending,
+          // below 180°); intensities any signed decimal of up to 6 places.
+          let units = 10 * 10 ** angleDecimals;
+          const lines = rows.map(([step, y, yDecimals]) => {
+            units += step;
+            return `${(units / 10 ** angleDecimals).toFixed(angleDecimals)} ${(y / 10 ** yDecimals).toFixed(yDecimals)}`;
+          });
+          const r = parseScan(lines.join("\n"));
+          if (!r.ok) return /no peaks/.test(r.error);
+          return lines.every((line, i) => {
+            const [t, v] = line.split(" ");
+            return r.scan.twoTheta[i] === Number(t) && r.scan.intensity[i] === Number(v);
+          });
+        },
+      ),
+      { numRuns: 80 },
+    );
   });
 });
 
