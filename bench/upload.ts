@@ -66,7 +66,7 @@ function writeScan(file: string, size: number) {
 }
 
 const fetchPut: PutBytes = async (url, body, headers, onSent) => {
-  const res = await fetch(url, { method: "PUT", body, headers });
+  const res = await fetch(url, { method: "PUT", body: body as Uint8Array<ArrayBuffer>, headers });
   if (!res.ok) throw new Error(`storage answered ${res.status}`);
   await res.arrayBuffer();
   onSent(body.length);
