@@ -5,6 +5,7 @@
 // (plus typed-array buffers) retained by one result after a forced collection, per point; it should stay
 // flat as the points grow (the result holds the scan, background and fitted profile: 4 × 8 bytes a point).
 
+import { loadavg } from "node:os";
 import { setFlagsFromString } from "node:v8";
 import { runInNewContext } from "node:vm";
 import { runLatticeCheck } from "../app/diffraction/check";
@@ -107,3 +108,5 @@ for (const c of CASES) {
   console.log(rows[rows.length - 1]);
 }
 console.log(failures === 0 ? "all targets met" : `${failures} target(s) missed`);
+// Wall-clock medians: other processes on the machine slow them; the load says how busy it was.
+console.log(`load average during the run: ${loadavg().map((l) => l.toFixed(2)).join(", ")}`);
