@@ -151,6 +151,8 @@ describe("uploads straight to storage", () => {
     expect(big.status).toBe(413);
     expect((big.body as { error: string }).error).toMatch(/limit is 2 GB/);
     expect((await start({ name: "x.xy", size: 10, kind: "spectrum" })).status).toBe(400);
+    expect((await start({ name: "x.xy", size: "ten" })).body).toEqual({ error: "Give the file's size in bytes, as a whole number." });
+    expect((await start({ name: "x.xy", size: 0 })).body).toEqual({ error: "The file is empty." });
     const unpaid = await w.makeOrder();
     const early = await start({ name: "early.xy", size: 10, kind: "scan" }, unpaid);
     expect(early.status).toBe(409);
