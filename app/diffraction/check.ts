@@ -14,6 +14,7 @@ import { type CubicIndexing, indexCubic } from "./index-cubic";
 import { deWolffM20, smithSnyderFN } from "./merit";
 import { type ParseScanOptions, type Scan, parseScan } from "./parse-scan";
 import { analysePeaks, type FittedPeak } from "./peaks";
+import { median } from "./sorted";
 import { type CorrectionKind, figuresOfMeritLines, type ObservedPeak, type Refinement, refineCell } from "./refine";
 import { type InstrumentProfile, SCHERRER_CAUTION, scherrerSize } from "./scherrer";
 import { decideVerdict, type Verdict } from "./verdict";
@@ -242,6 +243,7 @@ export function runLatticeCheck(scan: Scan, options: LatticeCheckOptions): Latti
     strongest: byIntensity.map((p) => ({ indexed: p.hkl !== null, relativeIntensity: p.relativeIntensity / 100, twoTheta: p.twoTheta })),
     unindexed: unindexed.map((p) => ({ twoTheta: p.twoTheta, relativeIntensity: p.relativeIntensity / 100 })),
     m20: m20 ? m20.value : null,
+    meanMissInFwhm: fn ? fn.meanDelta / median(peaks.filter((p) => p.hkl !== null).map((p) => p.fwhm)) : null,
     declared,
     refinedCell: cell,
     esd: refined ? refinement!.esd : null,

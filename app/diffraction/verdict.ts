@@ -5,10 +5,13 @@
 //
 // inconsistent, when any of:
 //   1. the refinement could not be made (fewer indexed peaks than free parameters + 2);
-//   2. at most half of the strong peaks are indexed, or fewer than half of the twenty strongest;
-//   3. fewer than 80 % of the strong peaks are indexed and M20 ≤ 10: the declared cell explains neither
-//      the whole pattern nor, convincingly, a part of it (an impurity beside a well-indexed phase keeps a
-//      high M20 and is a matter for review);
+//   2. at most half of the strong peaks are indexed;
+//   3. fewer than 80 % of the strong peaks are indexed, and either M20 ≤ 10 or the indexed lines miss
+//      their reflections by more than a tenth of a FWHM on average (⟨|Δ2θ|⟩ of F_N over the median
+//      FWHM): the declared cell explains neither the whole pattern nor, convincingly, a part of it. An
+//      impurity beside a well-indexed phase keeps a high M20 and lines on their reflections to a few
+//      hundredths of a FWHM, and is a matter for review; chance matches of another phase scatter across
+//      the window;
 //   4. a cell length differs from the declared one by more than 2 %, or an angle by more than 2°.
 // consistent, when all of:
 //   5. at least 80 % of the strong peaks are indexed;
@@ -32,6 +35,8 @@ export interface VerdictInput {
   /** All unindexed peaks with intensity relative to the strongest peak (0…1). */
   unindexed: { twoTheta: number; relativeIntensity: number }[];
   m20: number | null;
+  /** ⟨|Δ2θ|⟩ of the indexed lines divided by their median FWHM, or null without indexed lines. */
+  meanMissInFwhm: number | null;
   declared: Cell | null;
   refinedCell: Cell | null;
   esd: Cell | null;
@@ -54,6 +59,7 @@ export const VERDICT_RULE = {
   inconsistentLengthDeviation: 0.02,
   inconsistentAngleDeviation: 2,
   maxRelativeEsd: 1e-3,
+  partialIndexingMeanMiss: 0.1,
 } as const;
 
 const LENGTHS = ["a", "b", "c"] as const;
@@ -114,13 +120,14 @@ export function decideVerdict(input: VerdictInput): VerdictResult {
   if (input.refined) {
     const twenty = input.strongest.slice(0, 20);
     const unindexedTwenty = twenty.filter((p) => !p.indexed).length;
-    if (twenty.length > strong.length && unindexedTwenty > twenty.length / 2) {
-      fatal.push(`Only ${twenty.length - unindexedTwenty} of the ${twenty.length} strongest peaks match reflections of the declared cell.`);
-    }
     const trusted = input.m20 !== null && input.m20 > rule.m20Trusted;
-    if (share < rule.consistentIndexedShare && share > rule.inconsistentIndexedShare && !trusted) {
+    const onTheirLines = input.meanMissInFwhm !== null && input.meanMissInFwhm <= rule.partialIndexingMeanMiss;
+    if (share < rule.consistentIndexedShare && share > rule.inconsistentIndexedShare && !(trusted && onTheirLines)) {
+      const how = !trusted
+        ? `M20 ${input.m20 === null ? "not defined" : input.m20.toFixed(1)}, at most ${rule.m20Trusted}`
+        : `its lines miss their reflections by ${input.meanMissInFwhm!.toFixed(2)} FWHM on average, more than ${rule.partialIndexingMeanMiss}`;
       fatal.push(
-        `The declared cell leaves ${strong.length - indexedStrong} of the ${strong.length} strongest peaks unexplained and indexes the rest poorly (M20 ${input.m20 === null ? "not defined" : input.m20.toFixed(1)}, at most ${rule.m20Trusted}).`,
+        `The declared cell leaves ${strong.length - indexedStrong} of the ${strong.length} strongest peaks unexplained and indexes the rest poorly (${how}).`,
       );
     }
     if (input.m20 === null || !(input.m20 > rule.m20Trusted)) {
