@@ -77,6 +77,16 @@ describe("verdicts", () => {
     expect(result.unindexed.length).toBeGreaterThan(0);
     expect(result.reasons.join(" ")).toMatch(/another phase/);
   });
+
+  it("a silicon scan with 15 % rutile is review, not forced and not rejected", () => {
+    const main = scanOf(SILICON, { noise: { seed: 21 } });
+    const impurity = scanOf(RUTILE, { scale: 1500, background: { constant: 0 }, noise: { seed: 22 } });
+    const mixed = { ...main, intensity: main.intensity.map((v, i) => v + impurity.intensity[i]) };
+    const result = runLatticeCheck(mixed, declare(SILICON));
+    expect(result.verdict).toBe("review");
+    expect(Math.abs(result.cell!.a - SILICON.cell.a)).toBeLessThan(2e-4);
+    expect(result.unindexed.length).toBeGreaterThanOrEqual(3);
+  });
 });
 
 describe("every phase checked against every other phase's declaration", () => {
