@@ -76,9 +76,10 @@ const SHA256_HEX = /^[0-9a-f]{64}$/i;
 const UUID = /^[0-9a-f-]{36}$/i;
 
 /** The samples of the order's request, in their order on the request. */
+/** The samples of an order's request with their declarations and hazards, in the client's order. */
 export async function orderSamples(order: Pick<Order, "requestId">) {
   return db
-    .select({ id: schema.samples.id, label: schema.samples.label, formula: schema.samples.formula })
+    .select()
     .from(schema.samples)
     .where(eq(schema.samples.requestId, order.requestId))
     .orderBy(asc(schema.samples.position), asc(schema.samples.label));

@@ -1,5 +1,5 @@
 // The physical side of an order: shipping the samples, receiving them, measuring, and delivering the data.
-import { asc, eq } from "drizzle-orm";
+import { eq } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import { samplesWithoutCompletedCheck } from "~/jobs/scan-check.server";
 import { lockOrder, moveOrder, OrderMoveRefused } from "./orders.server";
@@ -35,13 +35,6 @@ export async function markDelivered(orderId: string, userId: string, note: strin
   return db.transaction(async (tx) =>
     moveOrder(tx, await lockOrder(tx, orderId), "data_delivered", "lab", userId, note || "Data delivered to the client's data room.", { deliveredAt: new Date() }),
   );
-}
-
-/** Samples of an order with their hazard declarations, for the lab's order page and the packing slip. */
-export async function orderSamples(orderId: string) {
-  const [order] = await db.select({ requestId: schema.orders.requestId }).from(schema.orders).where(eq(schema.orders.id, orderId));
-  if (!order) return [];
-  return db.select().from(schema.samples).where(eq(schema.samples.requestId, order.requestId)).orderBy(asc(schema.samples.position));
 }
 
 export async function shipmentOf(orderId: string) {

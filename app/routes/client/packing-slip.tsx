@@ -4,7 +4,7 @@ import { useLoaderData } from "react-router";
 import { OrderSamples } from "~/components/order-samples";
 import { DiffractionRingsIcon } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { orderSamples } from "~/models/fulfilment.server";
+import { orderSamples } from "~/models/files.server";
 import { orderForOrganisation } from "~/models/orders.server";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/packing-slip";
@@ -17,7 +17,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const [[req], [lab], samples] = await Promise.all([
     db.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId)),
     db.select({ name: schema.organisations.name, city: schema.organisations.city, country: schema.organisations.country }).from(schema.organisations).where(eq(schema.organisations.id, order.labId)),
-    orderSamples(order.id),
+    orderSamples(order),
   ]);
   return { orderId: order.id, title: req?.title ?? "", lab, from: membership.organisation.name, samples };
 }

@@ -2,6 +2,7 @@
 // version with its state and live check, and replace a file the engine could not read.
 import { eq } from "drizzle-orm";
 import { Link, useLoaderData, useRevalidator } from "react-router";
+import { CheckPreview } from "~/components/check-preview";
 import { DeliveryUploader, useDeliveryQueue } from "~/components/delivery-uploader";
 import { OrderFilesTable, type FileRow } from "~/components/order-files-table";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
@@ -10,6 +11,7 @@ import { UPLOAD_ORDER_STATES } from "~/models/files";
 import { orderFileList, orderSamples } from "~/models/files.server";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
 import { orderForOrganisation } from "~/models/orders.server";
+import { radiationOf } from "~/jobs/scan-check.server";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/order-files";
 
@@ -23,9 +25,20 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     .from(schema.requests)
     .innerJoin(schema.organisations, eq(schema.organisations.id, order.clientOrganisationId))
     .where(eq(schema.requests.id, order.requestId));
+  const [instrument] = await db
+    .select({ anode: schema.instruments.anode, customWavelength: schema.instruments.customWavelength, monochromation: schema.instruments.monochromation })
+    .from(schema.quotes)
+    .innerJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
+    .where(eq(schema.quotes.id, order.quoteId));
+  const samples = await orderSamples(order);
   return {
     order: { id: order.id, state: order.state, title: meta.title, client: meta.client },
-    samples: (await orderSamples(order)).map((s) => ({ id: s.id, label: s.label })),
+    samples: samples.map((s) => ({ id: s.id, label: s.label })),
+    // What the preview checks a scan against before it is uploaded: the sample's declaration and the quote's source.
+    declarations: Object.fromEntries(
+      samples.map((s) => [s.id, { system: s.crystalSystem, centering: s.centering, cell: { a: s.cellA, b: s.cellB, c: s.cellC, alpha: s.cellAlpha, beta: s.cellBeta, gamma: s.cellGamma } }]),
+    ),
+    radiation: (instrument && radiationOf(instrument)) ?? ({ kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" } as const),
     files: await orderFileList(order.id, { side: "lab" }),
     canUpload: UPLOAD_ORDER_STATES.includes(order.state),
   };
@@ -35,7 +48,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 const replaceable = (row: FileRow) => (row.state === "rejected" || row.check?.status === "failed") && !row.deletedAt;
 
 export default function LabOrderFiles() {
-  const { order, samples, files, canUpload } = useLoaderData<typeof loader>();
+  const { order, samples, declarations, radiation, files, canUpload } = useLoaderData<typeof loader>();
   const revalidator = useRevalidator();
   const queue = useDeliveryQueue(order.id, samples, () => void revalidator.revalidate());
   return (
@@ -54,7 +67,11 @@ export default function LabOrderFiles() {
           queue={queue}
           samples={samples}
           // The in-browser check preview (engine in a Web Worker) renders here for each queued scan.
-          preview={() => null}
+          preview={(item) =>
+            item.kind === "scan" && item.status === "ready" && declarations[item.sampleId] ? (
+              <CheckPreview file={item.file} sample={declarations[item.sampleId]} radiation={radiation} />
+            ) : null
+          }
         />
       ) : (
         <p className="card text-sm text-ink-700">

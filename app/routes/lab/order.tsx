@@ -7,7 +7,8 @@ import { OrderSamples } from "~/components/order-samples";
 import { OrderTimeline } from "~/components/order-timeline";
 import { Badge, FormError, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { markDelivered, markReceived, orderSamples, samplesWithoutCompletedCheck, shipmentOf, startMeasuring } from "~/models/fulfilment.server";
+import { orderSamples } from "~/models/files.server";
+import { markDelivered, markReceived, samplesWithoutCompletedCheck, shipmentOf, startMeasuring } from "~/models/fulfilment.server";
 import { formatMoney } from "~/models/money";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
 import { orderForOrganisation, orderTimeline, OrderMoveRefused } from "~/models/orders.server";
@@ -28,7 +29,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const [[req], [client], samples, shipment, timeline, missingChecks] = await Promise.all([
     db.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId)),
     db.select({ name: schema.organisations.name }).from(schema.organisations).where(eq(schema.organisations.id, order.clientOrganisationId)),
-    orderSamples(order.id),
+    orderSamples(order),
     shipmentOf(order.id),
     orderTimeline(order.id),
     order.state === "measuring" ? samplesWithoutCompletedCheck(order.id) : Promise.resolve([]),
