@@ -69,6 +69,26 @@ export const memberships = pgTable(
   (t) => [primaryKey({ columns: [t.userId, t.organisationId] }), index("memberships_org_idx").on(t.organisationId)],
 );
 
+/** An invitation to join an organisation, sent by e-mail; the link carries a random token, the table keeps only its SHA-256. */
+export const organisationInvitations = pgTable(
+  "organisation_invitations",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    organisationId: uuid("organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "cascade" }),
+    email: text("email").notNull(),
+    role: membershipRole("role").notNull(),
+    tokenHash: text("token_hash").notNull(),
+    invitedBy: uuid("invited_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    expiresAt: timestamp("expires_at", { withTimezone: true }).notNull(),
+    acceptedAt: timestamp("accepted_at", { withTimezone: true }),
+    revokedAt: timestamp("revoked_at", { withTimezone: true }),
+  },
+  (t) => [uniqueIndex("organisation_invitations_token_idx").on(t.tokenHash), index("organisation_invitations_org_idx").on(t.organisationId)],
+);
+
 /** Server-side sessions: the cookie carries a random token, the table keeps only its SHA-256. */
 export const sessions = pgTable(
   "sessions",
@@ -115,6 +135,7 @@ export const auditLog = pgTable(
 export type User = typeof users.$inferSelect;
 export type Organisation = typeof organisations.$inferSelect;
 export type Membership = typeof memberships.$inferSelect;
+export type OrganisationInvitation = typeof organisationInvitations.$inferSelect;
 export type MembershipRole = (typeof membershipRole.enumValues)[number];
 export type OrganisationKind = (typeof organisationKind.enumValues)[number];
 
