@@ -27,3 +27,15 @@ export function OrderTimeline({ rows }: { rows: TimelineRow[] }) {
     </ol>
   );
 }
+
+/** The timeline in its own card beside an order page's main column. */
+export function OrderTimelineCard({ rows }: { rows: TimelineRow[] }) {
+  return (
+    <section className="card" aria-labelledby="timeline-heading">
+      <h2 id="timeline-heading" className="mb-4 text-lg font-semibold">
+        Timeline
+      </h2>
+      <OrderTimeline rows={rows} />
+    </section>
+  );
+}

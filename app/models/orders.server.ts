@@ -1,5 +1,5 @@
 // Orders: state moves under a row lock, each written to the order's timeline.
-import { asc, eq } from "drizzle-orm";
+import { asc, desc, eq } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Order } from "~/db/schema";
 import { notify } from "~/notifications/outbox.server";
@@ -75,4 +75,18 @@ export async function orderForOrganisation(orderId: string, organisationId: stri
   if (order.clientOrganisationId === organisationId) return { order, side: "client" as const };
   if (order.labId === organisationId) return { order, side: "lab" as const };
   return null;
+}
+
+/** An organisation's orders, newest change first, with the other party's name: the lab for a client, the client for a lab. */
+export async function ordersOf(side: "client" | "lab", organisationId: string, limit = 200) {
+  const own = side === "client" ? schema.orders.clientOrganisationId : schema.orders.labId;
+  const other = side === "client" ? schema.orders.labId : schema.orders.clientOrganisationId;
+  return db
+    .select({ id: schema.orders.id, state: schema.orders.state, amountMinor: schema.orders.amountMinor, currency: schema.orders.currency, updatedAt: schema.orders.updatedAt, title: schema.requests.title, counterpart: schema.organisations.name })
+    .from(schema.orders)
+    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
+    .innerJoin(schema.organisations, eq(schema.organisations.id, other))
+    .where(eq(own, organisationId))
+    .orderBy(desc(schema.orders.updatedAt))
+    .limit(limit);
 }

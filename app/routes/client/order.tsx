@@ -3,7 +3,7 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { and, desc, eq } from "drizzle-orm";
 import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
 import { z } from "zod";
-import { OrderTimeline } from "~/components/order-timeline";
+import { OrderTimelineCard } from "~/components/order-timeline";
 import { Badge, FormError, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
@@ -206,12 +206,7 @@ export default function ClientOrder() {
             </Form>
           ) : null}
         </section>
-        <section className="card" aria-labelledby="timeline-heading">
-          <h2 id="timeline-heading" className="mb-4 text-lg font-semibold">
-            Timeline
-          </h2>
-          <OrderTimeline rows={timeline} />
-        </section>
+        <OrderTimelineCard rows={timeline} />
       </div>
     </div>
   );

@@ -1,24 +1,14 @@
 // /client/orders — the organisation's orders with their state, lab and amount.
-import { desc, eq } from "drizzle-orm";
-import { Link, useLoaderData } from "react-router";
-import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
-import { formatMoney } from "~/models/money";
+import { useLoaderData } from "react-router";
+import { OrdersTable } from "~/components/orders-table";
+import { EmptyState, PageHeader } from "~/components/ui";
+import { ordersOf } from "~/models/orders.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/orders";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
-  const orders = await db
-    .select({ id: schema.orders.id, state: schema.orders.state, amountMinor: schema.orders.amountMinor, currency: schema.orders.currency, updatedAt: schema.orders.updatedAt, title: schema.requests.title, lab: schema.organisations.name })
-    .from(schema.orders)
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.labId))
-    .where(eq(schema.orders.clientOrganisationId, membership.organisation.id))
-    .orderBy(desc(schema.orders.updatedAt))
-    .limit(200);
-  return { orders };
+  return { orders: await ordersOf("client", membership.organisation.id) };
 }
 
 export default function ClientOrders() {
@@ -29,23 +19,7 @@ export default function ClientOrders() {
       {orders.length === 0 ? (
         <EmptyState title="No orders yet">An order appears here when you accept a lab's quote on one of your requests.</EmptyState>
       ) : (
-        <TableCard columns={["Request", "Lab", "Amount", "State", "Updated"]} caption="Orders">
-          {orders.map((o) => (
-            <tr key={o.id}>
-              <td>
-                <Link to={`/client/orders/${o.id}`} className="font-medium text-beam-700 hover:underline">
-                  {o.title}
-                </Link>
-              </td>
-              <td>{o.lab}</td>
-              <td>{formatMoney(o.amountMinor, o.currency)}</td>
-              <td>
-                <Badge tone={ORDER_STATE_TONES[o.state]}>{ORDER_STATE_LABELS[o.state]}</Badge>
-              </td>
-              <td>{new Date(o.updatedAt).toLocaleDateString()}</td>
-            </tr>
-          ))}
-        </TableCard>
+        <OrdersTable orders={orders} hrefBase="/client/orders" counterpart="Lab" />
       )}
     </div>
   );

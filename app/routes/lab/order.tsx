@@ -4,7 +4,7 @@ import { eq } from "drizzle-orm";
 import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
 import { z } from "zod";
 import { OrderSamples } from "~/components/order-samples";
-import { OrderTimeline } from "~/components/order-timeline";
+import { OrderTimelineCard } from "~/components/order-timeline";
 import { Badge, FormError, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { orderSamples } from "~/models/files.server";
@@ -167,12 +167,7 @@ export default function LabOrder() {
             <OrderSamples samples={samples} />
           </section>
         </div>
-        <section className="card" aria-labelledby="lab-timeline">
-          <h2 id="lab-timeline" className="mb-4 text-lg font-semibold">
-            Timeline
-          </h2>
-          <OrderTimeline rows={timeline} />
-        </section>
+        <OrderTimelineCard rows={timeline} />
       </div>
     </div>
   );
