@@ -213,9 +213,13 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
   const normal = squareMatrix(n);
   const damped = squareMatrix(n);
   const gradient = new Float64Array(n);
+  const freeGradient = new Float64Array(n);
+  const frozen = new Uint8Array(n);
   problem.evaluate(p, r, J);
   let chi2 = sumSquares(r);
   let lambda = 1e-3;
+  // Growth factor of λ after a rejected step; doubles with each rejection in a row (Nielsen 1999).
+  let growth = 2;
   let iterations = 0;
   let converged = false;
   let needNormal = true;
@@ -225,18 +229,23 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
       buildNormal(J, r, m, n, normal, gradient);
       needNormal = false;
     }
-    for (let i = 0; i < n * n; i++) damped.data[i] = normal.data[i];
-    for (let j = 0; j < n; j++) {
-      const d = normal.data[j * n + j];
-      damped.data[j * n + j] = d + lambda * (d > 0 ? d : 1e-12);
-    }
-    const l = choleskyFactor(damped);
-    if (!l) {
+    let step = dampedStep(normal, gradient, lambda, null, damped, freeGradient);
+    if (!step) {
       lambda *= 10;
       if (lambda > 1e12) break;
       continue;
     }
-    const step = choleskySolve(l, gradient);
+    // A parameter sitting on a bound that the step would push through is held there and the step
+    // solved for the others: clamping it afterwards would leave the others compensating for a move that
+    // never happens, and the fit would then stall, rejecting step after step.
+    let held = 0;
+    for (let j = 0; j < n; j++) {
+      const atLower = options.lower !== undefined && p[j] <= options.lower[j] && step[j] < 0;
+      const atUpper = options.upper !== undefined && p[j] >= options.upper[j] && step[j] > 0;
+      frozen[j] = atLower || atUpper ? 1 : 0;
+      held += frozen[j];
+    }
+    if (held > 0 && held < n) step = dampedStep(normal, gradient, lambda, frozen, damped, freeGradient) ?? step;
     const trial = new Float64Array(n);
     for (let j = 0; j < n; j++) trial[j] = p[j] + step[j];
     clamp(trial);
@@ -248,17 +257,30 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
     const trialChi2 = sumSquares(trialR);
     if (Number.isFinite(trialChi2) && trialChi2 <= chi2) {
       const improvement = (chi2 - trialChi2) / Math.max(chi2, 1e-300);
+      // Gain ratio: the actual fall of χ² over the one the linearised model predicts for the step taken
+      // (after the bounds), 2δᵀg − δᵀNδ. λ shrinks by up to 3 when the model is good and barely when it
+      // is poor, instead of a fixed tenth that swings it back and forth across the right damping.
+      let predicted = 0;
+      for (let j = 0; j < n; j++) {
+        const dj = trial[j] - p[j];
+        let nd = 0;
+        for (let k = 0; k < n; k++) nd += normal.data[j * n + k] * (trial[k] - p[k]);
+        predicted += dj * (2 * gradient[j] - nd);
+      }
+      const rho = predicted > 0 ? (chi2 - trialChi2) / predicted : 0;
       p = trial;
       problem.evaluate(p, r, J);
       chi2 = sumSquares(r);
       needNormal = true;
-      lambda = Math.max(lambda / 10, 1e-10);
+      lambda = Math.max(lambda * Math.max(1 / 3, 1 - (2 * rho - 1) ** 3), 1e-10);
+      growth = 2;
       if (improvement < tolerance || negligible) {
         converged = true;
         break;
       }
     } else {
-      lambda *= 10;
+      lambda *= growth;
+      growth *= 2;
       if (lambda > 1e10) {
         // No downhill step at any damping: p is a minimum to working precision.
         converged = true;
@@ -268,6 +290,31 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
   }
   if (needNormal) buildNormal(J, r, m, n, normal, gradient);
   return { params: p, chi2, dof: m - n, covariance: invertSymmetric(normal), iterations, converged };
+}
+
+/**
+ * The Marquardt step (N + λ diag N) δ = g, with the `frozen` parameters (when given) held fixed: their
+ * rows and columns are replaced by the identity and their gradient by zero, so their step is zero.
+ */
+function dampedStep(
+  normal: SquareMatrix,
+  gradient: Float64Array,
+  lambda: number,
+  frozen: Uint8Array | null,
+  damped: SquareMatrix,
+  freeGradient: Float64Array,
+): Float64Array | null {
+  const { n } = normal;
+  const N = normal.data;
+  const D = damped.data;
+  for (let j = 0; j < n; j++) {
+    for (let k = 0; k < n; k++) D[j * n + k] = frozen && (frozen[j] || frozen[k]) ? 0 : N[j * n + k];
+    const d = N[j * n + j];
+    D[j * n + j] = frozen && frozen[j] ? 1 : d + lambda * (d > 0 ? d : 1e-12);
+    freeGradient[j] = frozen && frozen[j] ? 0 : gradient[j];
+  }
+  const l = choleskyFactor(damped);
+  return l ? choleskySolve(l, freeGradient) : null;
 }
 
 // Rows of a peak-cluster Jacobian are mostly zeros (a peak far from a point leaves no derivative), so
