@@ -154,3 +154,15 @@ export function labDecisionLetter(approved: boolean, l: { labName: string; note:
     link: { path: "/lab/vetting", label: "Open vetting" },
   };
 }
+
+export function invitationLetter(i: { token: string; organisationName: string; role: string; inviterName: string | null; expiresAt: Date }): Letter {
+  const who = i.inviterName ? `${i.inviterName} invited you` : "You are invited";
+  return {
+    subject: `Invitation to join ${i.organisationName} on Diffractory`,
+    heading: `Join ${i.organisationName}`,
+    paragraphs: [`${who} to join ${i.organisationName} on Diffractory as ${i.role === "operator" || i.role === "owner" ? "an" : "a"} ${i.role}.`],
+    facts: [["Organisation", i.organisationName], ["Role", i.role], ["Link valid until", day(i.expiresAt)]],
+    nextStep: "Open the link, sign in or create an account with this e-mail address, then accept the invitation.",
+    link: { path: `/invitations/${i.token}`, label: "Open the invitation" },
+  };
+}

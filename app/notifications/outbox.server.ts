@@ -5,7 +5,7 @@ import type { Order } from "~/db/schema";
 import type { VettingState } from "~/models/vetting";
 import type { OrderState } from "~/models/order-states";
 import type { Tx } from "~/models/orders.server";
-import { labApplicationLetter, labDecisionLetter, orderLetter, quoteDecisionLetter, quoteReceivedLetter, requestOpenLetter, type Audience, type OrderContext } from "./compose.server";
+import { invitationLetter, labApplicationLetter, labDecisionLetter, orderLetter, quoteDecisionLetter, quoteReceivedLetter, requestOpenLetter, type Audience, type OrderContext } from "./compose.server";
 import { renderLetter, type Letter } from "./letters.server";
 import { isEssential, type MilestoneKind } from "./milestones";
 
@@ -20,7 +20,9 @@ export type Milestone =
   | { kind: "quote_received"; quoteId: string }
   | { kind: "quote_decided"; acceptedQuoteId: string; orderId: string }
   | { kind: "lab_application_received"; labId: string }
-  | { kind: "lab_decided"; labId: string; to: VettingState; note: string };
+  | { kind: "lab_decided"; labId: string; to: VettingState; note: string }
+  /** The token travels only in the e-mail's link; the table keeps its hash. */
+  | { kind: "organisation_invitation"; invitationId: string; token: string };
 
 /** Which milestone each order state reports, and to whom (the order's two organisations, and admins). */
 export const ORDER_MILESTONES: Partial<Record<OrderState, { kind: MilestoneKind; to: Audience[] }>> = {
@@ -38,7 +40,8 @@ export const ORDER_MILESTONES: Partial<Record<OrderState, { kind: MilestoneKind;
 };
 
 interface Person {
-  userId: string;
+  /** Null for an address without an account yet (an invitation): e-mail only, no in-app notification. */
+  userId: string | null;
   email: string;
   name: string;
 }
@@ -148,6 +151,15 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       const kind = m.to === "approved" ? ("lab_approved" as const) : ("lab_rejected" as const);
       return (await membersOf(tx, [m.labId])).map((person) => ({ kind, person, letter, orderId: null }));
     }
+    case "organisation_invitation": {
+      const [inv] = await tx.select().from(schema.organisationInvitations).where(eq(schema.organisationInvitations.id, m.invitationId));
+      if (!inv) return [];
+      const [inviter] = inv.invitedBy ? await tx.select({ name: schema.users.name }).from(schema.users).where(eq(schema.users.id, inv.invitedBy)) : [];
+      const [account] = await tx.select({ id: schema.users.id, name: schema.users.name }).from(schema.users).where(sql`lower(${schema.users.email}) = lower(${inv.email})`);
+      const letter = invitationLetter({ token: m.token, organisationName: (await orgName(tx, inv.organisationId)).name, role: inv.role, inviterName: inviter?.name ?? null, expiresAt: inv.expiresAt });
+      const person: Person = { userId: account?.id ?? null, email: inv.email, name: account?.name ?? "there" };
+      return [{ kind: "organisation_invitation" as const, person, letter, orderId: null }];
+    }
   }
 }
 
@@ -161,26 +173,25 @@ export async function notify(tx: Tx, milestone: Milestone): Promise<number> {
   // One message per person and kind, even when someone belongs to both sides or is also an admin.
   const seen = new Set<string>();
   const outgoing = all.filter((o) => {
-    const key = `${o.kind}:${o.person.userId}`;
+    const key = `${o.kind}:${o.person.userId ?? o.person.email.toLowerCase()}`;
     if (seen.has(key)) return false;
     seen.add(key);
     return true;
   });
   if (outgoing.length === 0) return 0;
 
-  const optional = outgoing.filter((o) => !isEssential(o.kind));
+  const optional = outgoing.filter((o) => !isEssential(o.kind) && o.person.userId);
   const optedOut = new Set<string>();
   if (optional.length) {
     const rows = await tx
       .select({ userId: schema.notificationPreferences.userId, kind: schema.notificationPreferences.kind })
       .from(schema.notificationPreferences)
-      .where(and(inArray(schema.notificationPreferences.userId, optional.map((o) => o.person.userId)), eq(schema.notificationPreferences.emailEnabled, false)));
+      .where(and(inArray(schema.notificationPreferences.userId, optional.map((o) => o.person.userId!)), eq(schema.notificationPreferences.emailEnabled, false)));
     for (const r of rows) optedOut.add(`${r.kind}:${r.userId}`);
   }
 
-  await tx.insert(schema.notifications).values(
-    outgoing.map((o) => ({ userId: o.person.userId, kind: o.kind, orderId: o.orderId, title: o.letter.subject, href: o.letter.link.path })),
-  );
+  const inApp = outgoing.flatMap((o) => (o.person.userId ? [{ userId: o.person.userId, kind: o.kind, orderId: o.orderId, title: o.letter.subject, href: o.letter.link.path }] : []));
+  if (inApp.length) await tx.insert(schema.notifications).values(inApp);
   const mails = outgoing.filter((o) => !optedOut.has(`${o.kind}:${o.person.userId}`));
   if (mails.length === 0) return 0;
   await tx.insert(schema.outboxMessages).values(

@@ -7,7 +7,7 @@ import type { Route } from "./+types/workspace-layout";
 
 const EXTRA_NAV: Record<string, NavItem[]> = {
   client: [{ to: "/client/members", label: "Members" }],
-  lab: [],
+  lab: [{ to: "/lab/members", label: "Members" }],
   admin: [
     { to: "/admin/users", label: "Users" },
     { to: "/admin/audit-log", label: "Audit log" },

@@ -1,7 +1,7 @@
 // Create an account: a person starts a client organisation, or applies on behalf of a lab.
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { data, Form, Link, useActionData, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import { Field, FormError } from "~/components/ui";
 import { audit } from "~/utils/audit.server";
@@ -30,6 +30,7 @@ const CreateAccountSchema = z
     organisationName: text("the organisation's name", 160),
     city: z.string().trim().max(120).optional(),
     country: z.string().trim().max(120).optional(),
+    redirectTo: z.string().optional(),
   })
   // Checked even when other fields fail, so a lab sees every missing field at once.
   .refine((v) => v.kind !== "lab" || !!v.city, {
@@ -42,6 +43,9 @@ const CreateAccountSchema = z
     message: "Labs give their country.",
     when: (p) => (p.value as { kind?: string })?.kind === "lab",
   });
+
+/** Someone following an invitation link comes back to it once the account exists; no other redirect is followed. */
+const invitationReturn = (to: string | undefined) => (to && /^\/invitations\/[A-Za-z0-9_-]{1,100}$/.test(to) ? to : null);
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAnonymous(request);
@@ -69,6 +73,8 @@ export async function action({ request, context }: Route.ActionArgs) {
       organisation.kind === "lab"
         ? `Welcome. ${organisation.name}'s application has been received; an admin will review it.`
         : `Welcome to Diffractory. ${organisation.name} is ready for its first request.`;
+    const back = invitationReturn(submission.value.redirectTo);
+    if (back) return redirectWithToast(back, { kind: "success", message: "Your account is ready. Accept the invitation to join." }, { headers: [["Set-Cookie", cookie]] });
     return redirectWithToast(
       organisation.kind === "lab" ? "/lab" : "/client",
       { kind: "success", message },
@@ -85,9 +91,10 @@ export async function action({ request, context }: Route.ActionArgs) {
 export default function CreateAccount() {
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
+  const [params] = useSearchParams();
   const [form, fields] = useForm({
     lastResult: actionData?.result,
-    defaultValue: { kind: "client" },
+    defaultValue: { kind: "client", email: params.get("email") ?? undefined },
     onValidate: ({ formData }) => parseWithZod(formData, { schema: CreateAccountSchema }),
     shouldValidate: "onSubmit",
     shouldRevalidate: "onInput",
@@ -99,6 +106,7 @@ export default function CreateAccount() {
       <div className="card">
         <h1 className="text-2xl font-bold">Create an account</h1>
         <Form method="post" className="mt-6 space-y-2" {...getFormProps(form)}>
+          <input type="hidden" name="redirectTo" value={params.get("redirectTo") ?? ""} />
           <fieldset>
             <legend className="label">I am joining as</legend>
             <div className="grid gap-3 sm:grid-cols-2">
