@@ -333,6 +333,17 @@ function buildNormal(J: Float64Array, r: Float64Array, m: number, n: number, nor
     const ri = r[i];
     let count = 0;
     for (let j = 0; j < n; j++) if (J[o + j] !== 0) nonzero[count++] = j;
+    if (count === n) {
+      // A row with every column set (every peak of a small cluster near the point): the plain loops,
+      // without going through the index list.
+      for (let j = 0; j < n; j++) {
+        const jj = J[o + j];
+        gradient[j] += jj * ri;
+        const row = j * n;
+        for (let k = 0; k <= j; k++) N[row + k] += jj * J[o + k];
+      }
+      continue;
+    }
     for (let a = 0; a < count; a++) {
       const j = nonzero[a];
       const jj = J[o + j];

@@ -557,15 +557,21 @@ function addProfile(profile: Float64Array, twoTheta: Float64Array, fit: ClusterF
   const nParams = p.length;
   const k = (nParams - 2) / PER_PEAK;
   const centre = 0.5 * (twoTheta[fit.start] + twoTheta[fit.end - 1]);
+  // The satellites' positions and heights once per peak, not once per point of a fine scan.
+  const satellites = Array.from({ length: k }, (_, j) =>
+    lines.slice(1).map((line) => ({
+      x: satellitePosition(p[PER_PEAK * j], line.wavelength / lines[0].wavelength).x,
+      height: (line.weight / lines[0].weight) * p[PER_PEAK * j + 1],
+    })),
+  );
   for (let i = fit.start; i < fit.end; i++) {
     const x = twoTheta[i];
     let f = i >= claimed ? p[nParams - 2] + p[nParams - 1] * (x - centre) : 0;
     for (let j = 0; j < k; j++) {
       const o = PER_PEAK * j;
       f += pseudoVoigt(x, p[o], p[o + 1], p[o + 2], p[o + 3], null);
-      for (const line of lines.slice(1)) {
-        const sat = satellitePosition(p[o], line.wavelength / lines[0].wavelength).x;
-        if (Number.isFinite(sat)) f += pseudoVoigt(x, sat, (line.weight / lines[0].weight) * p[o + 1], p[o + 2], p[o + 3], null);
+      for (const sat of satellites[j]) {
+        if (Number.isFinite(sat.x)) f += pseudoVoigt(x, sat.x, sat.height, p[o + 2], p[o + 3], null);
       }
     }
     profile[i] += f;
