@@ -13,7 +13,7 @@ import { formatMoney, toMajorText } from "~/models/money";
 import { QuoteSchema } from "~/models/quote-forms";
 import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, requireLabQuote, sendQuote, vettingStateOf, withdrawQuote } from "~/models/quotes.server";
 import { acknowledgeHazards, acknowledgementOf, requireRequestForLab, samplesOf, sdsLinks } from "~/models/requests.server";
-import { requireOrgRole } from "~/utils/permissions.server";
+import { forbidden, requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/request";
 
@@ -44,6 +44,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     sds: await sdsLinks(samples),
     acknowledgement,
     approved: vetting === "approved",
+    canQuote: membership.role === "manager",
     match,
     quotes,
     instruments: instruments.map((i) => ({ id: i.id, label: `${i.name} (${sourceLabel(i)})` })),
@@ -69,6 +70,8 @@ export async function action({ request, params }: Route.ActionArgs) {
     await acknowledgeHazards(row.id, labId, user.id);
     return redirectWithToast(`/lab/requests/${row.id}`, { kind: "success", message: "Hazard declaration acknowledged." });
   }
+  // A quote commits the lab to a price, like the price list only its managers may change; any staff acknowledges.
+  if (membership.role !== "manager") forbidden("Only the lab's managers send and withdraw quotes.");
   if (intent === "withdraw") {
     const quote = await requireLabQuote(String(formData.get("quoteId") ?? ""), labId);
     const done = await withdrawQuote(quote.id, labId, user.id);
@@ -85,7 +88,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function LabRequest() {
-  const { request: r, client, samples, sds, acknowledgement, approved, match, quotes } = useLoaderData<typeof loader>();
+  const { request: r, client, samples, sds, acknowledgement, approved, canQuote, match, quotes } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
   const live = quotes.find((q) => q.state === "sent" || q.state === "accepted");
@@ -130,7 +133,7 @@ export default function LabRequest() {
                 <span>
                   <QuoteStateBadge state={q.state} /> {formatMoney(q.totalMinor, q.currency)} · {q.turnaroundDays} days · valid until {formatDate(q.validUntil)}
                 </span>
-                {q.state === "sent" ? (
+                {q.state === "sent" && canQuote ? (
                   <Form method="post">
                     <input type="hidden" name="intent" value="withdraw" />
                     <input type="hidden" name="quoteId" value={q.id} />
@@ -145,7 +148,7 @@ export default function LabRequest() {
         </section>
       ) : null}
 
-      {acknowledgement && approved && r.state === "open" && !live ? <QuoteBuilder /> : null}
+      {acknowledgement && approved && canQuote && r.state === "open" && !live ? <QuoteBuilder /> : null}
     </div>
   );
 }

@@ -1,0 +1,335 @@
+// Every route in app/routes.ts, its loader and action, against every kind of actor, compared with what each
+// may see: one demo order between Halvorsen (client A) and Granite Ridge (the lab) fills the parameters.
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { moneyWorld, type MoneyWorld } from "./money-fixtures";
+import { callRoute, cookieFrom, formRequest, getRequest, type RouteAnswer } from "./route-call";
+
+const PASSWORD = "diffractory-demo";
+const ACTORS = {
+  signedOut: null,
+  ownerA: "owner@halvorsen.example",
+  memberA: "member@halvorsen.example",
+  clientB: "owner@pinecrest.example",
+  labManager: "lab@graniteridge.example",
+  labOperator: "operator@graniteridge.example",
+  otherLab: "lab@lakeside.example",
+  admin: "admin@diffractory.example",
+} as const;
+type Actor = keyof typeof ACTORS;
+type RouteFn = Parameters<typeof callRoute>[0];
+const ACTOR_NAMES = Object.keys(ACTORS) as Actor[];
+
+type Outcome = "ok" | "signin" | "forbidden" | "notFound" | "bad";
+type PerActor = Record<Actor, Outcome>;
+/** A route's expectation: per actor, for whichever of loader and action it exports; "public" means ok for everyone. */
+type Expect = { loader?: PerActor | "public"; action?: PerActor | "public" };
+
+/** The same outcome for everyone, with exceptions. */
+const all = (outcome: Outcome, except: Partial<PerActor> = {}): PerActor => ({ ...Object.fromEntries(ACTOR_NAMES.map((a) => [a, outcome])), ...except }) as PerActor;
+// Shapes that recur: signed out goes to sign-in; the rest as given.
+const signedIn = (outcome: Outcome, except: Partial<PerActor> = {}) => all(outcome, { signedOut: "signin", ...except });
+const clientA = (a: Outcome, others: Outcome, except: Partial<PerActor> = {}) => signedIn(others, { ownerA: a, memberA: a, ...except });
+const labA = (a: Outcome, others: Outcome, except: Partial<PerActor> = {}) => signedIn(others, { labManager: a, labOperator: a, ...except });
+const adminOnly = (others: Outcome, adminOutcome: Outcome = "ok") => signedIn(others, { admin: adminOutcome });
+
+// Columns: signedOut, ownerA, memberA, clientB, labManager, labOperator, otherLab, admin.
+const orderClient = clientA("ok", "forbidden", { clientB: "notFound" }); // another client's order does not exist for them
+const orderClientAction = clientA("bad", "forbidden", { clientB: "notFound" });
+const clientWorkspace = signedIn("forbidden", { ownerA: "ok", memberA: "ok", clientB: "ok" });
+const labWorkspace = signedIn("forbidden", { labManager: "ok", labOperator: "ok", otherLab: "ok" });
+// Manager-only lab settings: each manager changes their own lab (an empty form is refused), operators may not.
+const labManagerAction = signedIn("forbidden", { labManager: "bad", otherLab: "bad" });
+const orderLab = labA("ok", "forbidden", { otherLab: "notFound" });
+const orderLabAction = labA("bad", "forbidden", { otherLab: "notFound" });
+// Both sides of the order read it; everyone else, admins included, is told it does not exist.
+const orderParties = signedIn("notFound", { ownerA: "ok", memberA: "ok", labManager: "ok", labOperator: "ok" });
+const adminPage = adminOnly("forbidden");
+const adminAction = adminOnly("forbidden", "bad");
+
+const EXPECTED: Record<string, Expect> = {
+  // Marketing pages, the directory and the account forms are open to anyone by design.
+  "routes/public/layout": { loader: "public" },
+  "routes/public/home": { loader: "public" },
+  "routes/public/labs": { loader: "public" },
+  "routes/public/lab-profile": { loader: "public" },
+  "routes/public/how-it-works": { loader: "public" },
+  "routes/public/safety": { loader: "public" },
+  // Signed-in people posting the account forms are sent to their workspace.
+  "routes/public/sign-in": { loader: "public", action: all("ok", { signedOut: "bad" }) },
+  "routes/public/create-account": { loader: "public", action: all("ok", { signedOut: "bad" }) },
+  // The share link is a bearer capability: whoever holds the token reads the shared files, signed in or not.
+  "routes/public/shared": { loader: "public" },
+  "routes/public/shared-download": { loader: "public" },
+  // The invitation page is read by the invited address before it has an account; only that address accepts.
+  "routes/public/invitation": { loader: "public", action: signedIn("forbidden") },
+  "routes/public/not-found": { loader: all("notFound"), action: all("notFound") },
+
+  // Sign-out needs no fields: posting it is the whole request.
+  "routes/account/sign-out": { loader: "public", action: signedIn("ok") },
+  "routes/account/switch-organisation": { loader: signedIn("ok"), action: signedIn("bad") },
+  "routes/account/notifications": { loader: signedIn("ok"), action: signedIn("bad") },
+  // The development mail viewer: admins only, and nobody else learns it exists.
+  "routes/dev/mail": { loader: signedIn("notFound", { admin: "ok" }) },
+  "routes/account/file-download": { loader: orderParties },
+
+  "client-layout": { loader: clientWorkspace },
+  "routes/client/home": { loader: clientWorkspace },
+  "routes/client/members": { loader: clientWorkspace, action: signedIn("forbidden", { ownerA: "bad", clientB: "bad" }) },
+  "routes/client/requests": { loader: clientWorkspace },
+  "routes/client/data-room": { loader: clientWorkspace },
+  "routes/client/data-room-order": { loader: orderClient, action: orderClientAction },
+  "client-request-new": { loader: clientWorkspace, action: signedIn("forbidden", { ownerA: "bad", memberA: "bad", clientB: "bad" }) },
+  "routes/client/request": { loader: orderClient, action: orderClientAction },
+  "client-request-samples": { loader: orderClient, action: orderClientAction },
+  "routes/client/request-hazards": { loader: orderClient, action: orderClientAction },
+  "routes/client/request-measurement": { loader: orderClient, action: orderClientAction },
+  "routes/client/request-labs": { loader: orderClient, action: orderClientAction },
+  "routes/client/request-review": { loader: orderClient, action: orderClientAction },
+  "routes/client/orders": { loader: clientWorkspace },
+  "routes/client/payments": { loader: clientWorkspace },
+  "routes/client/payment-receipt": { loader: orderClient },
+  "routes/client/order": { loader: orderClient, action: orderClientAction },
+  "routes/client/order-payment": { loader: orderClient },
+  "routes/client/packing-slip": { loader: orderClient },
+  "client-section": { loader: clientWorkspace },
+  "routes/client/request-sds-upload": { action: orderClientAction },
+
+  "lab-layout": { loader: labWorkspace },
+  "routes/lab/home": { loader: labWorkspace },
+  "routes/lab/inbox": { loader: labWorkspace },
+  "routes/lab/api-tokens": { loader: labWorkspace, action: labManagerAction },
+  "routes/lab/members": { loader: labWorkspace, action: labManagerAction },
+  "routes/lab/order-files": { loader: orderLab },
+  // Any staff acknowledges a hazard declaration; only managers send or withdraw a quote (the empty form is a quote).
+  "routes/lab/request": { loader: orderLab, action: { ...orderLabAction, labOperator: "forbidden" } },
+  "routes/lab/quotes": { loader: labWorkspace },
+  "routes/lab/vetting": { loader: labWorkspace, action: labManagerAction },
+  "routes/lab/capabilities": { loader: labWorkspace, action: labManagerAction },
+  "routes/lab/price-list": { loader: labWorkspace, action: labManagerAction },
+  // Posting payouts takes a manager to their own lab's payout onboarding; it needs no fields.
+  "routes/lab/payouts": { loader: labWorkspace, action: signedIn("forbidden", { labManager: "ok", otherLab: "ok" }) },
+  "routes/lab/work-queue": { loader: labWorkspace },
+  "routes/lab/order": { loader: orderLab, action: orderLabAction },
+  "lab-section": { loader: labWorkspace },
+  "routes/lab/vetting-upload": { action: labManagerAction },
+  "routes/lab/order-uploads": { action: orderLabAction },
+  "routes/lab/order-upload": { action: orderLabAction },
+
+  "admin-layout": { loader: adminPage },
+  "routes/admin/home": { loader: adminPage },
+  "routes/admin/users": { loader: adminPage },
+  "routes/admin/audit-log": { loader: adminPage },
+  "routes/admin/vetting-queue": { loader: adminPage },
+  "routes/admin/lab-review": { loader: adminPage, action: adminAction },
+  "routes/admin/ledger": { loader: adminPage },
+  "routes/admin/disputes": { loader: adminPage, action: adminAction },
+  "routes/admin/outbox": { loader: adminPage, action: adminAction },
+  "admin-section": { loader: adminPage },
+  "routes/admin/ledger-export": { loader: adminPage },
+
+  "routes/check": { loader: orderParties },
+  // The check row here has no result yet, so its parties get 409 "no peaks table yet".
+  "routes/check-peaks-csv": { loader: signedIn("notFound", { ownerA: "bad", memberA: "bad", labManager: "bad", labOperator: "bad" }) },
+  "routes/check-result-json": { loader: orderParties },
+
+  "routes/api/health": { loader: "public" },
+  "routes/api/me": { loader: signedIn("ok") },
+  "routes/api/notifications": { loader: signedIn("ok"), action: signedIn("bad") },
+  // The public directory's JSON twin.
+  "routes/api/labs": { loader: "public" },
+  "routes/api/orders": { loader: signedIn("ok", { admin: "forbidden" }) },
+  "routes/api/order-files": { loader: orderParties },
+  // The instrument-computer API takes a bearer token only; a browser session is not one.
+  "routes/api/v1/order-files": { action: all("signin") },
+  "routes/api/v1/order-file-complete": { action: all("signin") },
+  "routes/api/request-matches": { loader: orderClient },
+  "routes/api/order": { loader: orderParties },
+  "routes/api/check": { loader: orderParties },
+  "routes/api/admin/ledger-summary": { loader: adminPage },
+  // Only the payment provider's signed POST is accepted: no signature is 400, a GET is 405.
+  "routes/api/webhooks-payments": { loader: all("bad"), action: all("bad") },
+};
+
+interface Walked {
+  id: string;
+  path: string;
+  file: string;
+}
+
+/** Walks the route config, joining prefixes, as React Router derives ids (the file without extension unless given). */
+function walk(entries: { id?: string; path?: string; index?: boolean; file: string; children?: unknown[] }[], parent = ""): Walked[] {
+  return entries.flatMap((r) => {
+    const path = r.path ? `${parent.replace(/\/$/, "")}/${r.path}` : parent || "/";
+    const id = r.id ?? r.file.replace(/\.[jt]sx?$/, "");
+    const below = walk((r.children ?? []) as never, path);
+    // A pathless layout answers at its children's URLs: the segments they all share.
+    const own = !r.path && !r.index && below.length ? commonPrefix(below.map((b) => b.path)) : path;
+    return [{ id, path: own, file: r.file }, ...below];
+  });
+}
+
+function commonPrefix(paths: string[]) {
+  const split = paths.map((p) => p.split("/").filter(Boolean));
+  const shared: string[] = [];
+  for (let i = 0; split.every((s) => i < s.length && s[i] === split[0][i]); i++) shared.push(split[0][i]);
+  return `/${shared.join("/")}`;
+}
+
+let w: MoneyWorld;
+let walked: Walked[] = [];
+const params: Record<string, string> = {};
+const requestIds: Record<string, string> = {};
+const cookies: Partial<Record<Actor, string>> = {};
+let signInAction: RouteFn;
+
+async function signIn(actor: Actor) {
+  const email = ACTORS[actor];
+  if (!email) return undefined;
+  const answer = await callRoute(signInAction, formRequest("/sign-in", { email, password: PASSWORD }), {}, `198.51.100.${ACTOR_NAMES.indexOf(actor) + 1}`);
+  cookies[actor] = cookieFrom(answer);
+  expect(cookies[actor], `${email} signs in`).toBeTruthy();
+  return cookies[actor];
+}
+
+function classify(answer: RouteAnswer): string {
+  const { status } = answer;
+  if (status === 401) return "signin";
+  if (status >= 300 && status < 400) {
+    const location = answer.headers.get("location") ?? "";
+    return new URL(location, "http://127.0.0.1:3000").pathname === "/sign-in" ? "signin" : "ok";
+  }
+  if (status >= 200 && status < 300) return "ok";
+  if (status === 403) return "forbidden";
+  if (status === 404) return "notFound";
+  if ([400, 405, 409, 410, 413, 422].includes(status)) return "bad";
+  return `status ${status}`;
+}
+
+function fill(path: string) {
+  return path.replace(/:(\w+)/g, (_, name: string) => {
+    const value = params[name];
+    if (!value) throw new Error(`no value for :${name} in ${path}`);
+    return value;
+  }).replace(/\*$/, "no-such-page");
+}
+
+function routeParams(path: string) {
+  const out: Record<string, string> = {};
+  for (const [, name] of path.matchAll(/:(\w+)/g)) out[name] = params[name];
+  if (path.endsWith("*")) out["*"] = "no-such-page";
+  return out;
+}
+
+async function orderStates() {
+  const rows = await w.db.select({ id: w.schema.orders.id, state: w.schema.orders.state, updatedAt: w.schema.orders.updatedAt }).from(w.schema.orders);
+  return Object.fromEntries(rows.map((r) => [r.id, `${r.state}@${r.updatedAt?.toISOString()}`]));
+}
+
+beforeAll(async () => {
+  w = await moneyWorld();
+  await w.onboardLab();
+  signInAction = (await import("~/routes/public/sign-in")).action;
+  walked = walk((await import("~/routes")).default as never);
+
+  // One delivered order of Halvorsen at Granite Ridge with a sample, its scan file and a finished check.
+  const orderId = await w.makeOrder();
+  await w.pay(orderId);
+  const [order] = await w.db.select().from(w.schema.orders).where(w.eq(w.schema.orders.id, orderId));
+  const [sample] = await w.db.insert(w.schema.samples).values({ requestId: order.requestId, label: "LFP lot 7", formula: "LiFePO4" }).returning();
+  const [file] = await w.db
+    .insert(w.schema.orderFiles)
+    .values({ orderId, sampleId: sample.id, name: "lot7.xy", version: 1, sizeBytes: 10, contentType: "text/plain", sha256: "0".repeat(64), storageKey: `k/${sample.id}`, state: "stored" })
+    .returning();
+  const [check] = await w.db.insert(w.schema.scanChecks).values({ fileId: file.id, status: "done", verdict: "consistent" }).returning();
+  await w.deliver(orderId);
+  const [payment] = await w.db.select().from(w.schema.payments).where(w.eq(w.schema.payments.orderId, orderId));
+
+  const owner = await signIn("ownerA");
+  const dataRoom = (await import("~/routes/client/data-room-order")).action;
+  const shared = await callRoute(dataRoom, formRequest(`/client/data-room/${orderId}`, { intent: "share", label: "Matrix reader", days: "7" }, owner), { orderId });
+  const token = new URL((shared.body as { shared: { url: string } }).shared.url).pathname.split("/").pop()!;
+  const members = (await import("~/routes/client/members")).action;
+  expect((await callRoute(members, formRequest("/client/members", { intent: "invite", email: "matrix-invitee@halvorsen.example", role: "member" }, owner))).status).toBe(302);
+  const [mail] = await w.db.select().from(w.schema.outboxMessages).where(w.eq(w.schema.outboxMessages.to, "matrix-invitee@halvorsen.example"));
+  const invitation = mail.text.match(/\/invitations\/([A-Za-z0-9_-]+)/)![1];
+
+  Object.assign(params, {
+    id: orderId,
+    orderId,
+    fileId: file.id,
+    labId: w.granite.id,
+    slug: w.granite.slug,
+    section: "orders",
+    token,
+  });
+  // Routes whose :id is not an order.
+  Object.assign(requestIds, { request: order.requestId, check: check.id, payment: payment.id, invitation });
+  for (const actor of ACTOR_NAMES) await signIn(actor);
+});
+
+/** :id and :token mean different records on different routes. */
+function paramsFor(route: Walked) {
+  const p = { ...params };
+  if (/requests\/:id/.test(route.path)) p.id = requestIds.request;
+  if (/checks\/:id/.test(route.path)) p.id = requestIds.check;
+  if (/payments\/:id/.test(route.path)) p.id = requestIds.payment;
+  if (/invitations\/:token/.test(route.path)) p.token = requestIds.invitation;
+  // A section that exists in each workspace.
+  if (route.path === "/lab/:section") p.section = "quotes";
+  if (route.path === "/admin/:section") p.section = "ledger";
+  return p;
+}
+
+afterAll(async () => {
+  await w?.close();
+});
+
+describe("authorisation matrix", () => {
+  it("has an expectation for every route in app/routes.ts, and none for a route that is gone", () => {
+    expect([...new Set(walked.map((r) => r.id))].sort()).toEqual(Object.keys(EXPECTED).sort());
+  });
+
+  it("answers every actor as expected on every loader and action, and an empty form changes no order", async () => {
+    const before = await orderStates();
+    const actual: Record<string, Expect> = {};
+    const mismatches: string[] = [];
+    const seen = new Set<string>();
+    for (const route of walked) {
+      if (seen.has(route.id)) continue;
+      seen.add(route.id);
+      const mod = (await import(/* @vite-ignore */ `~/${route.file.replace(/\.[jt]sx?$/, "")}`)) as { loader?: RouteFn; action?: RouteFn };
+      const saved = { ...params };
+      Object.assign(params, paramsFor(route));
+      const path = fill(route.path);
+      const p = routeParams(route.path);
+      Object.assign(params, saved);
+      for (const kind of ["loader", "action"] as const) {
+        const fn = mod[kind];
+        if (!fn) continue;
+        const row = {} as Record<Actor, string>;
+        for (const actor of ACTOR_NAMES) {
+          const cookie = cookies[actor];
+          const request = kind === "loader" ? getRequest(path, cookie) : formRequest(path, {}, cookie);
+          let outcome: string;
+          try {
+            outcome = classify(await callRoute(fn, request, p, `203.0.113.${ACTOR_NAMES.indexOf(actor) + 1}`));
+          } catch (error) {
+            outcome = `threw ${String(error).slice(0, 120)}`;
+          }
+          row[actor] = outcome;
+          // Signing out ends the session the next routes need.
+          if (route.id === "routes/account/sign-out" && kind === "action" && ACTORS[actor]) await signIn(actor);
+        }
+        (actual[route.id] ??= {})[kind] = row as PerActor;
+        const expected = EXPECTED[route.id]?.[kind];
+        const want = expected === "public" ? all("ok") : expected;
+        for (const actor of ACTOR_NAMES) {
+          if (want?.[actor] !== row[actor]) mismatches.push(`${route.id} ${route.path} ${kind} ${actor}: expected ${want?.[actor]}, got ${row[actor]}`);
+        }
+      }
+    }
+    if (process.env.MATRIX_DUMP) (await import("node:fs")).writeFileSync(process.env.MATRIX_DUMP, JSON.stringify(actual, null, 1));
+    expect(mismatches).toEqual([]);
+    expect(await orderStates()).toEqual(before);
+  });
+});
