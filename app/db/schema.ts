@@ -1,5 +1,7 @@
 // The one Drizzle schema of Diffractory; drizzle-kit generates the SQL migrations in drizzle/ from it.
 import { sql } from "drizzle-orm";
+// The order states are defined once, with the state machine that moves between them.
+import { ORDER_STATES } from "../models/order-states";
 import {
   bigserial,
   boolean,
@@ -158,20 +160,7 @@ export const requestState = pgEnum("request_state", ["draft", "open", "awarded",
 export const requestVisibility = pgEnum("request_visibility", ["open", "invited"]);
 export const qualityLevel = pgEnum("quality_level", ["screening", "standard", "high_resolution"]);
 export const quoteState = pgEnum("quote_state", ["sent", "accepted", "declined", "withdrawn", "lapsed"]);
-export const orderState = pgEnum("order_state", [
-  "awaiting_payment",
-  "funds_held",
-  "samples_in_transit",
-  "samples_received",
-  "measuring",
-  "data_delivered",
-  "accepted",
-  "paid_out",
-  "cancelled",
-  "refused_on_arrival",
-  "disputed",
-  "resolved",
-]);
+export const orderState = pgEnum("order_state", ORDER_STATES);
 
 const updatedAt = () => timestamp("updated_at", { withTimezone: true }).notNull().defaultNow();
 
