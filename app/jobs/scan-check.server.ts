@@ -1,4 +1,5 @@
 // The automatic lattice check of a stored scan: queued through pg-boss, run by the worker, one row per file.
+import { isUuid } from "~/utils/ids";
 import { and, eq, isNull, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Instrument, Sample } from "~/db/schema";
@@ -243,7 +244,7 @@ export async function samplesWithoutCompletedCheck(orderId: string): Promise<str
 
 /** A check with the order it belongs to, for access checks (null when there is no such check). */
 export async function checkWithOrder(checkId: string) {
-  if (!/^[0-9a-f-]{36}$/i.test(checkId)) return null;
+  if (!isUuid(checkId)) return null;
   const [row] = await db
     .select({ check: schema.scanChecks, file: schema.orderFiles })
     .from(schema.scanChecks)

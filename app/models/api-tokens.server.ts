@@ -1,4 +1,5 @@
 // API tokens for uploads straight from a lab's instrument computers: shown once, kept as a SHA-256, revocable.
+import { isUuid } from "~/utils/ids";
 import { createHash, randomBytes } from "node:crypto";
 import { and, desc, eq, isNull } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
@@ -38,7 +39,7 @@ export async function listApiTokens(labId: string) {
 }
 
 export async function revokeApiToken(labId: string, tokenId: string) {
-  if (!/^[0-9a-f-]{36}$/i.test(tokenId)) return false;
+  if (!isUuid(tokenId)) return false;
   const rows = await db
     .update(schema.apiTokens)
     .set({ revokedAt: new Date() })

@@ -1,5 +1,6 @@
 // An order's delivered files: uploads straight to storage (one PUT or presigned parts), verification of the
 // stored bytes, versions, downloads with an access log, and soft deletion.
+import { isUuid } from "~/utils/ids";
 import {
   AbortMultipartUploadCommand,
   CompleteMultipartUploadCommand,
@@ -73,7 +74,6 @@ export interface Uploader {
 }
 
 const SHA256_HEX = /^[0-9a-f]{64}$/i;
-const UUID = /^[0-9a-f-]{36}$/i;
 
 /** The samples of the order's request, in their order on the request. */
 /** The samples of an order's request with their declarations and hazards, in the client's order. */
@@ -193,7 +193,7 @@ async function deleteObject(key: string) {
 
 /** A file of the given order, or null (wrong order, malformed id). */
 export async function fileOfOrder(orderId: string, fileId: string) {
-  if (!UUID.test(fileId)) return null;
+  if (!isUuid(fileId)) return null;
   const [file] = await db
     .select()
     .from(schema.orderFiles)
@@ -336,7 +336,7 @@ export type OrderFileRow = Awaited<ReturnType<typeof orderFileList>>[number];
 
 /** A file with its order, if one of the given organisations is on the order (client or lab). */
 export async function fileForOrganisations(fileId: string, organisationIds: string[]) {
-  if (!UUID.test(fileId) || organisationIds.length === 0) return null;
+  if (!isUuid(fileId) || organisationIds.length === 0) return null;
   const [row] = await db
     .select({ file: schema.orderFiles, order: schema.orders })
     .from(schema.orderFiles)

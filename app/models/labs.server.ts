@@ -1,4 +1,5 @@
 // Labs on the marketplace: their profile row, the vetting application and the admin's decisions, each audit-logged.
+import { isUuid } from "~/utils/ids";
 import { and, asc, desc, eq, inArray } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Lab } from "~/db/schema";
@@ -15,9 +16,7 @@ import {
   type VettingState,
 } from "./vetting";
 
-/** Ids in URLs are checked before they reach a uuid column, so a mangled one is a 404, not a database error. */
-export const isUuid = (value: string | undefined): value is string =>
-  !!value && /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i.test(value);
+export { isUuid };
 
 type Tx = Parameters<Parameters<typeof db.transaction>[0]>[0];
 type Db = typeof db | Tx;

@@ -1,4 +1,5 @@
 // Orders: state moves under a row lock, each written to the order's timeline.
+import { isUuid } from "~/utils/ids";
 import { asc, desc, eq } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Order } from "~/db/schema";
@@ -69,7 +70,7 @@ export async function orderTimeline(orderId: string) {
  * measures it. Anyone else — including other organisations — gets the same 404 as for a missing order.
  */
 export async function orderForOrganisation(orderId: string, organisationId: string) {
-  if (!/^[0-9a-f-]{36}$/i.test(orderId)) return null;
+  if (!isUuid(orderId)) return null;
   const [order] = await db.select().from(schema.orders).where(eq(schema.orders.id, orderId));
   if (!order) return null;
   if (order.clientOrganisationId === organisationId) return { order, side: "client" as const };

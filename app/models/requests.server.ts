@@ -1,4 +1,5 @@
 // Measurement requests: drafts saved step by step, publishing, who may see a request, hazard acknowledgements.
+import { isUuid } from "~/utils/ids";
 import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { redirect } from "react-router";
 import { db, schema } from "~/db/client.server";
@@ -12,8 +13,7 @@ import { labsMatchingRequest } from "./matching.server";
 import { declaresHazard } from "./hazards";
 import { WIZARD_STEPS, type MeasurementStep, type SamplesStep, type SampleHazardInput, type WizardStep } from "./request-forms";
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
-export const isUuid = (id: string | undefined): id is string => !!id && UUID.test(id);
+export { isUuid };
 
 type FieldErrors = Record<string, string[]>;
 

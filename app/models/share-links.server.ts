@@ -1,4 +1,5 @@
 // Read-only links to one order's data room for a colleague outside the client organisation.
+import { isUuid } from "~/utils/ids";
 import { createHash, randomBytes } from "node:crypto";
 import { and, desc, eq, isNull } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
@@ -36,7 +37,7 @@ export async function listShareLinks(orderId: string) {
 
 /** Revokes one of the order's links; false when there is no such active link. */
 export async function revokeShareLink(orderId: string, linkId: string) {
-  if (!/^[0-9a-f-]{36}$/i.test(linkId)) return false;
+  if (!isUuid(linkId)) return false;
   const rows = await db
     .update(schema.shareLinks)
     .set({ revokedAt: new Date() })

@@ -1,4 +1,5 @@
 // GET /api/requests/:id/matches — for the requesting organisation: every approved lab, whether it fits and why.
+import { isUuid } from "~/utils/ids";
 import { matchLabsForRequest, loadMatchRequest } from "~/models/matching.server";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/request-matches";
@@ -7,7 +8,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
   const id = params.id;
   // Another organisation's request looks exactly like a missing one.
-  const found = /^[0-9a-f-]{36}$/i.test(id) ? await loadMatchRequest(id) : null;
+  const found = isUuid(id) ? await loadMatchRequest(id) : null;
   if (!found || found.organisationId !== membership.organisation.id) notFound("No such request in your organisation.");
   const matches = await matchLabsForRequest(id);
   return Response.json({ requestId: id, matches }, { headers: { "Cache-Control": "private, no-store" } });

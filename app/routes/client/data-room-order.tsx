@@ -1,4 +1,5 @@
 // /client/data-room/:orderId — one order's files with versions and checks, share links, and who downloaded what.
+import { requireOrderSide } from "~/models/order-access.server";
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { eq } from "drizzle-orm";
@@ -11,20 +12,13 @@ import { db, schema } from "~/db/client.server";
 import { DOWNLOAD_URL_SECONDS, RETENTION_YEARS, SHARE_LINK_MAX_DAYS } from "~/models/files";
 import { fileOfOrder, orderAccessLog, orderFileList, softDeleteFile } from "~/models/files.server";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
-import { orderForOrganisation } from "~/models/orders.server";
 import { createShareLink, listShareLinks, revokeShareLink } from "~/models/share-links.server";
 import { audit } from "~/utils/audit.server";
 import { config } from "~/config.server";
-import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/data-room-order";
 
-async function clientOrder(request: Request, orderId: string) {
-  const actor = await requireOrgRole(request, "client");
-  const found = await orderForOrganisation(orderId, actor.membership.organisation.id);
-  if (found?.side !== "client") notFound("No such order in your organisation's data room.");
-  return { actor, order: found.order };
-}
+const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { actor, order } = await clientOrder(request, params.orderId);

@@ -1,14 +1,11 @@
 // /client/orders/:id/payment — where the payment page sends the client back; asks the provider what happened.
-import { orderForOrganisation } from "~/models/orders.server";
+import { requireOrderSide } from "~/models/order-access.server";
 import { PaymentProblem, syncCheckout } from "~/models/payments.server";
-import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/order-payment";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { membership } = await requireOrgRole(request, "client");
-  const found = await orderForOrganisation(params.id, membership.organisation.id);
-  if (!found || found.side !== "client") notFound("No such order in your organisation.");
+  await requireOrderSide(request, "client", params.id);
   const sessionId = new URL(request.url).searchParams.get("session_id") ?? "";
   const back = `/client/orders/${params.id}`;
   if (!/^cs_[A-Za-z0-9_]+$/.test(sessionId)) return redirectWithToast(back, { kind: "error", message: "That payment link is not complete." });

@@ -1,4 +1,5 @@
 // /client/orders/:id — the client's view of an order: payment, timeline, cancel, accept or dispute.
+import { requireOrderSide } from "~/models/order-access.server";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { and, desc, eq } from "drizzle-orm";
 import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
@@ -7,20 +8,14 @@ import { OrderTimelineCard } from "~/components/order-timeline";
 import { Badge, FormError, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
-import { orderForOrganisation, orderTimeline, OrderMoveRefused } from "~/models/orders.server";
+import { orderTimeline, OrderMoveRefused } from "~/models/orders.server";
 import { markShipped, shipmentOf } from "~/models/fulfilment.server";
 import { acceptDelivery, cancelOrder, openDispute, PaymentProblem, startCheckout } from "~/models/payments.server";
 import { formatMoney } from "~/models/money";
-import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/order";
 
-async function clientOrder(request: Request, orderId: string) {
-  const actor = await requireOrgRole(request, "client");
-  const found = await orderForOrganisation(orderId, actor.membership.organisation.id);
-  if (!found || found.side !== "client") notFound("No such order in your organisation.");
-  return { actor, order: found.order };
-}
+const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await clientOrder(request, params.id);

@@ -1,19 +1,16 @@
 // /client/orders/:id/packing-slip — a printable list of the parcel's samples with their declared hazards.
+import { requireOrderSide } from "~/models/order-access.server";
 import { eq } from "drizzle-orm";
 import { useLoaderData } from "react-router";
 import { OrderSamples } from "~/components/order-samples";
 import { DiffractionRingsIcon } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { orderSamples } from "~/models/files.server";
-import { orderForOrganisation } from "~/models/orders.server";
-import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/packing-slip";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { membership } = await requireOrgRole(request, "client");
-  const found = await orderForOrganisation(params.id, membership.organisation.id);
-  if (!found || found.side !== "client") notFound("No such order in your organisation.");
-  const { order } = found;
+  const { actor, order } = await requireOrderSide(request, "client", params.id);
+  const { membership } = actor;
   const [[req], [lab], samples] = await Promise.all([
     db.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId)),
     db.select({ name: schema.organisations.name, city: schema.organisations.city, country: schema.organisations.country }).from(schema.organisations).where(eq(schema.organisations.id, order.labId)),

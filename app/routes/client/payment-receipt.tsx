@@ -1,4 +1,5 @@
 // /client/payments/:id/receipt — a printable receipt for one payment of the organisation.
+import { isUuid } from "~/utils/ids";
 import { and, eq } from "drizzle-orm";
 import { useLoaderData } from "react-router";
 import { DiffractionRingsIcon } from "~/components/ui";
@@ -9,7 +10,7 @@ import type { Route } from "./+types/payment-receipt";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
-  if (!/^[0-9a-f-]{36}$/i.test(params.id)) notFound("No such payment.");
+  if (!isUuid(params.id)) notFound("No such payment.");
   const [row] = await db
     .select({ payment: schema.payments, title: schema.requests.title, lab: schema.organisations.name, quote: schema.quotes })
     .from(schema.payments)

@@ -1,5 +1,6 @@
 // /lab/orders/:id/files — the lab's delivery screen: upload scans and reports straight to storage, see every
 // version with its state and live check, and replace a file the engine could not read.
+import { requireOrderSide } from "~/models/order-access.server";
 import { eq } from "drizzle-orm";
 import { Link, useLoaderData, useRevalidator } from "react-router";
 import { CheckPreview } from "~/components/check-preview";
@@ -10,16 +11,11 @@ import { db, schema } from "~/db/client.server";
 import { UPLOAD_ORDER_STATES } from "~/models/files";
 import { orderFileList, orderSamples } from "~/models/files.server";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
-import { orderForOrganisation } from "~/models/orders.server";
 import { radiationOf } from "~/jobs/scan-check.server";
-import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/order-files";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { membership } = await requireOrgRole(request, "lab");
-  const found = await orderForOrganisation(params.id, membership.organisation.id);
-  if (found?.side !== "lab") notFound("No such order for your lab.");
-  const { order } = found;
+  const { order } = await requireOrderSide(request, "lab", params.id);
   const [meta] = await db
     .select({ title: schema.requests.title, client: schema.organisations.name })
     .from(schema.requests)

@@ -1,4 +1,5 @@
 // /lab/orders/:id — the lab's view of an order: the samples and hazards, the shipment, and the lab's moves.
+import { requireOrderSide } from "~/models/order-access.server";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { eq } from "drizzle-orm";
 import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
@@ -11,18 +12,12 @@ import { orderSamples } from "~/models/files.server";
 import { markDelivered, markReceived, samplesWithoutCompletedCheck, shipmentOf, startMeasuring } from "~/models/fulfilment.server";
 import { formatMoney } from "~/models/money";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
-import { orderForOrganisation, orderTimeline, OrderMoveRefused } from "~/models/orders.server";
+import { orderTimeline, OrderMoveRefused } from "~/models/orders.server";
 import { PaymentProblem, refuseOnArrival } from "~/models/payments.server";
-import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/order";
 
-async function labOrder(request: Request, orderId: string) {
-  const actor = await requireOrgRole(request, "lab");
-  const found = await orderForOrganisation(orderId, actor.membership.organisation.id);
-  if (!found || found.side !== "lab") notFound("No such order for your lab.");
-  return { actor, order: found.order };
-}
+const labOrder = (request: Request, orderId: string) => requireOrderSide(request, "lab", orderId);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await labOrder(request, params.id);
