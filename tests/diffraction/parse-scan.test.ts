@@ -1,4 +1,6 @@
 // Reading scans: every accepted layout and every refusal of the issue, each refusal one sentence.
+// Sources: each expected value is a number written in the test's own input text (hand-made files), so the
+// checks are of reading, not of computation; pdCIF data names follow the pdCIF dictionary (common practice).
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { cifNumber, MIN_POINTS, parseScan } from "~/diffraction/parse-scan";

@@ -1,4 +1,5 @@
 // Chemical formulas read into element symbols; the expected lists are worked out by hand from each formula.
+// Sources: every expected element list is a hand check of the formula as written (hand calculation).
 import { describe, expect, it } from "vitest";
 import { parseFormula } from "~/models/formula";
 
