@@ -37,6 +37,11 @@ export const users = pgTable(
     passwordHash: text("password_hash").notNull(),
     isAdmin: boolean("is_admin").notNull().default(false),
     passwordChangedAt: timestamp("password_changed_at", { withTimezone: true }).notNull().defaultNow(),
+    /** Base32 TOTP secret (RFC 6238); set while enrolling, in force once totpEnabledAt is set. */
+    totpSecret: text("totp_secret"),
+    totpEnabledAt: timestamp("totp_enabled_at", { withTimezone: true }),
+    /** The last accepted time step: a code of that step or an earlier one is refused (RFC 6238 §5.2). */
+    totpLastStep: integer("totp_last_step"),
     createdAt: createdAt(),
   },
   (t) => [uniqueIndex("users_email_lower_idx").on(sql`lower(${t.email})`)],
@@ -101,9 +106,28 @@ export const sessions = pgTable(
       .references(() => users.id, { onDelete: "cascade" }),
     activeOrganisationId: uuid("active_organisation_id").references(() => organisations.id, { onDelete: "set null" }),
     expiresAt: timestamp("expires_at", { withTimezone: true }).notNull(),
+    /** Password accepted, second-factor code not yet: only the code screen accepts such a session. */
+    awaitingSecondFactor: boolean("awaiting_second_factor").notNull().default(false),
+    secondFactorFailures: integer("second_factor_failures").notNull().default(0),
     createdAt: createdAt(),
   },
   (t) => [index("sessions_user_idx").on(t.userId)],
+);
+
+/** A password-reset link sent by e-mail: the link carries a random token, the table keeps only its SHA-256. */
+export const passwordResetTokens = pgTable(
+  "password_reset_tokens",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    tokenHash: text("token_hash").notNull(),
+    createdAt: createdAt(),
+    expiresAt: timestamp("expires_at", { withTimezone: true }).notNull(),
+    usedAt: timestamp("used_at", { withTimezone: true }),
+  },
+  (t) => [uniqueIndex("password_reset_tokens_token_idx").on(t.tokenHash), index("password_reset_tokens_user_idx").on(t.userId)],
 );
 
 export const signInAttempts = pgTable(
@@ -138,6 +162,7 @@ export type User = typeof users.$inferSelect;
 export type Organisation = typeof organisations.$inferSelect;
 export type Membership = typeof memberships.$inferSelect;
 export type OrganisationInvitation = typeof organisationInvitations.$inferSelect;
+export type PasswordResetToken = typeof passwordResetTokens.$inferSelect;
 export type MembershipRole = (typeof membershipRole.enumValues)[number];
 export type OrganisationKind = (typeof organisationKind.enumValues)[number];
 
