@@ -6,8 +6,16 @@ import type { NextFunction, Request, Response } from "express";
 
 export const app = express();
 app.disable("x-powered-by");
-// Behind a proxy (production, or the two-server setup) the client address comes from X-Forwarded-For.
-if (process.env.TRUST_PROXY) app.set("trust proxy", process.env.TRUST_PROXY === "true" ? true : process.env.TRUST_PROXY);
+// Behind a proxy (production, or the two-server setup) the client address, scheme and host come from the
+// X-Forwarded-* headers; without it every client would share the proxy's address (and its sign-in limit).
+if (process.env.TRUST_PROXY) app.set("trust proxy", trustProxySetting(process.env.TRUST_PROXY));
+
+/** `TRUST_PROXY`: `true`, a hop count (`1`), or addresses/subnets/names Express knows (`loopback`, `10.0.0.0/8`). */
+export function trustProxySetting(value: string): boolean | number | string {
+  if (value === "true") return true;
+  if (/^\d+$/.test(value)) return Number(value);
+  return value;
+}
 
 const local = process.env.NODE_ENV !== "production" || process.env.DIFFRACTORY_LOCAL === "1";
 
