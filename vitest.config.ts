@@ -1,5 +1,7 @@
-// Vitest runs without the React Router plugin. Three projects: pure unit tests, integration tests on a
-// fresh PostgreSQL database per file, and browser tests against the built app in Debian's Chromium.
+// Vitest runs without the React Router plugin. Four projects: pure unit tests, integration tests on a
+// fresh PostgreSQL database per file, browser tests against the built app in Debian's Chromium, and system
+// tests (whole stacks with their own fakes, faults such as a PostgreSQL restart). scripts/test.ts runs
+// "system" alone after the others, because it restarts the PostgreSQL cluster they share.
 import { defineConfig } from "vitest/config";
 
 export default defineConfig({
@@ -29,6 +31,16 @@ export default defineConfig({
           globalSetup: ["tests/setup/browser-server.ts"],
           fileParallelism: false,
           testTimeout: 60_000,
+        },
+      },
+      {
+        extends: true,
+        test: {
+          name: "system",
+          include: ["tests/system/**/*.test.ts"],
+          fileParallelism: false,
+          testTimeout: 120_000,
+          hookTimeout: 180_000,
         },
       },
     ],

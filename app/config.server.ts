@@ -52,8 +52,16 @@ export const config = {
     protocol: (env.STRIPE_API_PROTOCOL ?? "http") as "http" | "https",
     /** The platform's share of an accepted order, in basis points (800 = 8 %, DESIGN.md). */
     platformFeeBps: num("PLATFORM_FEE_BPS", 800),
+    /** How long one provider call may take before the SDK gives up (it then retries once). */
+    timeoutMs: num("STRIPE_TIMEOUT_MS", 10_000),
     /** Kept from the refund when a lab refuses a parcel on arrival, and paid to the lab for handling it. */
     refusalHandlingFeeMinor: num("REFUSAL_HANDLING_FEE_MINOR", 2500),
+  },
+  /** pg-boss timings: how often expired jobs (a killed worker's) are failed and retried, and the scan check's limits. */
+  jobs: {
+    maintenanceIntervalSeconds: num("JOB_MAINTENANCE_SECONDS", 120),
+    scanCheckExpireSeconds: num("SCAN_CHECK_EXPIRE_SECONDS", 180),
+    scanCheckRetryDelaySeconds: num("SCAN_CHECK_RETRY_DELAY_SECONDS", 2),
   },
   signIn: { maxFailures: 5, windowMinutes: 10 },
   sessionDays: 14,

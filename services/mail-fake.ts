@@ -145,6 +145,7 @@ export async function startMailFake(opts: MailFakeOptions) {
 
 if (isMain(import.meta.url)) {
   const port = Number(process.env.MAIL_FAKE_PORT ?? 54331);
-  await startMailFake({ port, apiKey: process.env.RESEND_API_KEY ?? "re_local_fake" });
+  // MAIL_FAKE_FILE lets a test run its own instance, with its own listing, beside the shared one.
+  await startMailFake({ port, apiKey: process.env.RESEND_API_KEY ?? "re_local_fake", file: process.env.MAIL_FAKE_FILE || undefined });
   console.log(`mail fake listening on 127.0.0.1:${port}`);
 }

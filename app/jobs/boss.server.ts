@@ -18,7 +18,13 @@ const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };
 /** A started pg-boss client for sending jobs (created once per process). */
 export function getBoss(): Promise<PgBoss> {
   g.__diffractoryBoss ??= (async () => {
-    const boss = new PgBoss({ connectionString: config.databaseUrl, schema: "pgboss", max: 4 });
+    const boss = new PgBoss({
+      connectionString: config.databaseUrl,
+      schema: "pgboss",
+      max: 4,
+      // Maintenance fails jobs whose worker died (expired) so they are retried; tests shorten it.
+      maintenanceIntervalSeconds: config.jobs.maintenanceIntervalSeconds,
+    });
     boss.on("error", (err) => console.warn("job queue:", err.message));
     await boss.start();
     for (const name of Object.values(QUEUES)) await boss.createQueue(name);

@@ -7,10 +7,15 @@ import { checkScanText } from "~/diffraction";
 import type { Cell, Centering, CheckedPeak, CrystalSystem, LatticeCheckResult, Radiation } from "~/diffraction";
 import { declaredCheckOptions, type StoredCheckResult, type StoredProfile } from "~/models/check-result";
 import { readStoredText } from "~/utils/storage.server";
+import { config } from "~/config.server";
 import { getBoss, QUEUES } from "./boss.server";
 
 /** How often pg-boss runs a check again after a failure or a killed worker, and when an active job counts as lost. */
-export const SCAN_CHECK_JOB = { retryLimit: 3, retryDelay: 2, expireInSeconds: 180 } as const;
+export const SCAN_CHECK_JOB = {
+  retryLimit: 3,
+  retryDelay: config.jobs.scanCheckRetryDelaySeconds,
+  expireInSeconds: config.jobs.scanCheckExpireSeconds,
+} as const;
 
 /** Above this many points the plotted arrays are thinned (extremes kept) before they are stored. */
 export const STORED_PROFILE_POINTS = 20_000;

@@ -22,7 +22,7 @@ function create() {
     port: config.payments.port,
     protocol: config.payments.protocol,
     maxNetworkRetries: 1,
-    timeout: 10_000,
+    timeout: config.payments.timeoutMs,
   });
   return { s3, mail, payments };
 }
