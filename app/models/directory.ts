@@ -21,7 +21,7 @@ export const DirectoryQuery = z.object({
   hazard: z.array(z.enum([...GHS_CODES, ...SPECIAL_CATEGORY_CODES], { error: "hazard must be a GHS pictogram code (GHS01–GHS09) or a special category." })).max(16).default([]),
   maxPrice: optionalNumber("maxPrice (per sample, major units)", 0, 1_000_000),
   turnaroundDays: z.coerce.number({ error: "turnaroundDays must be a whole number." }).int("turnaroundDays must be a whole number.").min(1).max(365).optional(),
-  q: z.string().trim().max(100, "q has at most 100 characters.").optional(),
+  q: z.string().trim().max(100, "q has at most 100 characters.").refine((v) => !v.includes("\u0000"), "q cannot contain a NUL character.").optional(),
   page: z.coerce.number({ error: "page must be a whole number." }).int("page must be a whole number.").min(1, "page starts at 1.").max(10_000).default(1),
 });
 export type DirectoryFilters = z.infer<typeof DirectoryQuery>;

@@ -22,6 +22,8 @@ import {
   presignUpload,
   storageKeyFor,
   verifyStoredObject,
+  isStorageUnreachable,
+  StorageUnavailable,
   type UploadRule,
 } from "~/utils/storage.server";
 import {
@@ -38,6 +40,7 @@ import {
   type StartedUpload,
 } from "./files";
 import { ORDER_STATE_LABELS } from "./order-states";
+import { hasNul, NUL_REFUSAL } from "~/utils/form.server";
 
 /** A refused upload step, with the sentence for the uploader and the HTTP status to answer with. */
 export class UploadProblem extends Error {
@@ -142,7 +145,11 @@ export async function startOrderUpload(order: Order, input: StartUploadInput, up
   const multipart = input.size > SINGLE_PUT_MAX_BYTES;
   let uploadId: string | null = null;
   if (multipart) {
-    const created = await services.s3.send(new CreateMultipartUploadCommand({ Bucket: config.s3.bucket, Key: storageKey, ContentType: contentType }));
+    const created = await services.s3
+      .send(new CreateMultipartUploadCommand({ Bucket: config.s3.bucket, Key: storageKey, ContentType: contentType }))
+      .catch((err) => {
+        throw isStorageUnreachable(err) ? new StorageUnavailable() : err;
+      });
     uploadId = created.UploadId ?? null;
     if (!uploadId) throw new Error("Storage did not start the multipart upload.");
   }
@@ -255,6 +262,8 @@ export async function completeOrderUpload(file: OrderFile, input: { parts?: unkn
         }),
       );
     } catch (err) {
+      // Unreachable storage leaves the parts where they are, so the same upload can be finished later.
+      if (isStorageUnreachable(err)) throw new StorageUnavailable();
       await abortMultipart(file.storageKey, file.multipartUploadId);
       return reject(file, `Storage could not put the parts together (${(err as Error).name || "error"}); upload the file again.`);
     }
@@ -408,7 +417,7 @@ export async function answerUploadStep(step: () => Promise<Response>): Promise<R
   try {
     return await step();
   } catch (err) {
-    if (err instanceof UploadProblem) return Response.json({ error: err.message }, { status: err.status });
+    if (err instanceof UploadProblem || err instanceof StorageUnavailable) return Response.json({ error: err.message }, { status: err.status });
     throw err;
   }
 }
@@ -424,6 +433,7 @@ export async function readJsonObject(request: Request, { emptyIsObject = false }
     body = null;
   }
   if (!body || typeof body !== "object" || Array.isArray(body)) throw new UploadProblem("Send a JSON object.");
+  if (hasNul(body)) throw new UploadProblem(NUL_REFUSAL);
   return body as Record<string, unknown>;
 }
 

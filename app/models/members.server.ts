@@ -7,6 +7,7 @@ import { db, schema } from "~/db/client.server";
 import type { MembershipRole, Organisation, User } from "~/db/schema";
 import { redirectWithToast } from "~/utils/toast.server";
 import { INVITABLE_ROLES, INVITATION_DAYS, INVITING_ROLE, InviteSchema, RevokeSchema, inviteToOrganisation, listPendingInvitations, revokeInvitation } from "./invitations.server";
+import { readForm } from "~/utils/form.server";
 
 const MembersActionSchema = z.discriminatedUnion("intent", [InviteSchema, RevokeSchema]);
 
@@ -33,7 +34,7 @@ export async function membersPageData(membership: { organisation: Organisation; 
 
 /** Invite or revoke; the caller has already required the inviting role. Bad input answers 400, someone else's invitation 404. */
 export async function membersAction(input: { request: Request; organisation: Organisation; user: User; clientAddress?: string | null; path: string }) {
-  const submission = parseWithZod(await input.request.formData(), { schema: MembersActionSchema });
+  const submission = parseWithZod(await readForm(input.request), { schema: MembersActionSchema });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   if (submission.value.intent === "invite") {
     const result = await inviteToOrganisation({ organisation: input.organisation, invitedBy: input.user, email: submission.value.email, role: submission.value.role, clientAddress: input.clientAddress });

@@ -6,6 +6,10 @@ export type Currency = (typeof CURRENCIES)[number];
 
 const MAJOR = /^\d{1,9}(?:[.,]\d{1,2})?$/;
 
+/** The largest single amount a person may type (10,000,000.00): money columns are 32-bit integers of minor units. */
+export const MAX_AMOUNT_MINOR = 1_000_000_000;
+export const MAX_AMOUNT_TEXT = "10,000,000.00";
+
 /** "180.00" or "180,5" → 18000 / 18050 minor units; null when the text is not a plain amount. */
 export function toMinorUnits(text: string): number | null {
   const t = text.trim();

@@ -9,6 +9,7 @@ import { services } from "~/utils/services.server";
 import { ACCOUNTS, heldForOrder, postLedger } from "./ledger.server";
 import { lockOrder, moveOrder, OrderMoveRefused, type Tx } from "./orders.server";
 import type { Mover } from "./order-states";
+import { hasNul, NUL_REFUSAL } from "~/utils/form.server";
 
 const provider = () => services.payments;
 const lower = (c: string) => c.toLowerCase();
@@ -153,7 +154,12 @@ export async function syncCheckout(sessionId: string) {
 
 // ─── Webhooks ───
 
-export class BadSignature extends Error {}
+/** A provider event that is refused (400): the provider shows the sentence in its delivery log. */
+export class BadWebhook extends Error {}
+export class BadSignature extends BadWebhook {}
+
+/** The provider objects whose events Diffractory acts on; events about anything else are acknowledged and ignored. */
+const HANDLED_OBJECTS = new Set(["checkout.session", "payment_intent", "account"]);
 
 /** JSON with object keys sorted at every level, so equal documents compare equal whatever their key order. */
 function canonicalJson(value: unknown): string {
@@ -176,15 +182,26 @@ export async function receiveWebhook(rawBody: string, signature: string | null) 
   let event: Stripe.Event;
   try {
     event = provider().webhooks.constructEvent(rawBody, signature ?? "", config.payments.webhookSecret);
-  } catch {
+  } catch (err) {
+    // The SDK checks the signature first, then parses: a signed body that is not JSON is not a signature problem.
+    if (err instanceof SyntaxError) throw new BadWebhook("The event is signed but its body is not JSON.");
     throw new BadSignature("The webhook signature does not verify.");
   }
+  const data = (event as { data?: { object?: unknown } }).data;
+  if (typeof event.id !== "string" || !event.id || event.id.length > 255 || typeof event.type !== "string" || !data?.object || typeof data.object !== "object") {
+    throw new BadWebhook("The event has no id, type or data object.");
+  }
+  if (hasNul(event)) throw new BadWebhook(NUL_REFUSAL);
   await db.insert(schema.webhookEvents).values({ id: event.id, type: event.type, payload: event as unknown as Record<string, unknown> }).onConflictDoNothing();
   const [stored] = await db.select().from(schema.webhookEvents).where(eq(schema.webhookEvents.id, event.id));
   // Same id, other content: a replay with a changed body is refused. (jsonb reorders keys, so compare canonically.)
   if (canonicalJson(stored.payload) !== canonicalJson(event)) throw new BadSignature("An event with this id but other content was already received.");
   if (stored.processedAt) return { duplicate: true };
   const object = event.data.object as { id: string; object: string; metadata?: Record<string, string> };
+  if (!HANDLED_OBJECTS.has(object.object) || typeof object.id !== "string") {
+    await db.update(schema.webhookEvents).set({ processedAt: new Date() }).where(eq(schema.webhookEvents.id, event.id));
+    return { duplicate: false, ignored: `Event type ${event.type.slice(0, 100)} is not used by Diffractory.` };
+  }
   if (object.object === "checkout.session") await syncCheckout(object.id);
   else if (object.object === "payment_intent") {
     const [payment] = await db.select().from(schema.payments).where(eq(schema.payments.paymentIntentId, object.id));

@@ -1,7 +1,7 @@
 // The price-list form: amounts typed in major units ("180.00"), checked and turned into integer minor units.
 import { z } from "zod";
 import { TECHNIQUES, type Technique } from "./capabilities";
-import { CURRENCIES, toMinorUnits } from "./money";
+import { CURRENCIES, MAX_AMOUNT_MINOR, MAX_AMOUNT_TEXT, toMinorUnits } from "./money";
 
 /** An amount in major units; `positive` refuses 0 as well as negative values. */
 function amount(what: string, { positive }: { positive: boolean }) {
@@ -16,6 +16,10 @@ function amount(what: string, { positive }: { positive: boolean }) {
       const minor = toMinorUnits(text);
       if (minor === null) {
         ctx.issues.push({ code: "custom", input: text, message: "Write an amount like 180.00 (digits, at most two decimals)." });
+        return z.NEVER;
+      }
+      if (minor > MAX_AMOUNT_MINOR) {
+        ctx.issues.push({ code: "custom", input: text, message: `${what[0].toUpperCase()}${what.slice(1)} is at most ${MAX_AMOUNT_TEXT}.` });
         return z.NEVER;
       }
       if (positive && minor === 0) {

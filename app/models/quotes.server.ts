@@ -208,6 +208,7 @@ export async function acceptQuote(requestId: string, quoteId: string, organisati
         .where(and(eq(schema.requests.id, quote.requestId), eq(schema.requests.organisationId, organisationId)))
         .for("update");
       if (!request) return { ok: false, error: "That quote is not on this request." } as const;
+      if (quote.state === "accepted") return { ok: false, error: "You have already accepted this quote; its order is under Orders." } as const;
       if (request.state === "awarded") return { ok: false, error: "This request has already been awarded; another quote was accepted." } as const;
       if (request.state !== "open") return { ok: false, error: "This request is not open, so no quote can be accepted." } as const;
       if (quote.state !== "sent") return { ok: false, error: `This quote is ${quote.state} and can no longer be accepted.` } as const;

@@ -4,7 +4,7 @@ import { CENTERINGS, CRYSTAL_SYSTEMS, checkCellForSystem, checkCentering, type C
 import { parseFormula } from "./formula";
 import { GHS_CODES, SPECIAL_CATEGORY_CODES } from "./hazard-codes";
 import { checkHStatement, splitHStatements } from "./hazards";
-import { CURRENCIES, toMinorUnits } from "./money";
+import { CURRENCIES, MAX_AMOUNT_MINOR, MAX_AMOUNT_TEXT, toMinorUnits } from "./money";
 
 export const WIZARD_STEPS = [
   { slug: "samples", label: "Samples" },
@@ -186,6 +186,7 @@ export const MeasurementStepSchema = z
         if (!v?.trim()) return null;
         const minor = toMinorUnits(v);
         if (minor === null || minor <= 0) ctx.addIssue({ code: "custom", message: "Enter the budget as an amount such as 1200 or 1200.50." });
+        else if (minor > MAX_AMOUNT_MINOR) ctx.addIssue({ code: "custom", message: `A budget is at most ${MAX_AMOUNT_TEXT}.` });
         return minor;
       }),
     currency: z.enum(CURRENCIES, { error: "Choose a currency." }),

@@ -33,7 +33,8 @@ const mb = (n: number) => `${Math.round(n / 1024 / 1024)} MB`;
 /** Checks what the browser says about a file before any upload URL is issued; returns a sentence or null. */
 export function checkDeclaredFile(rule: UploadRule, file: { name: string; size: number; type: string }): string | null {
   if (!file.name || file.name.length > 200) return "Give the file a name of at most 200 characters.";
-  if (!Number.isInteger(file.size) || file.size <= 0) return "The file is empty.";
+  if (!Number.isSafeInteger(file.size) || file.size < 0) return "Give the file's size in bytes, as a whole number.";
+  if (file.size === 0) return "The file is empty.";
   if (file.size > rule.maxBytes) return `The file is ${mb(file.size)}; the limit is ${mb(rule.maxBytes)}.`;
   const type = rule.types.find((t) => EXTENSIONS[t].some((ext) => file.name.toLowerCase().endsWith(ext)));
   if (!type) return `Upload ${rule.label}.`;
@@ -77,6 +78,20 @@ function sniff(bytes: Uint8Array): UploadRule["types"][number] | "binary" | null
 
 export type StoredObjectCheck = { ok: true; size: number; sha256: string } | { ok: false; error: string };
 
+/** Storage gave no answer (connection refused, reset, timed out) or a server error: nothing is known, try later. */
+export class StorageUnavailable extends Error {
+  readonly status = 503;
+  constructor() {
+    super("File storage cannot be reached just now, so nothing was stored. Please try again in a few minutes; the upload can be finished then.");
+  }
+}
+
+/** True for a storage call that failed without a client-side answer (no HTTP status, or 5xx). */
+export function isStorageUnreachable(err: unknown) {
+  const status = (err as { $metadata?: { httpStatusCode?: number } } | null)?.$metadata?.httpStatusCode;
+  return status === undefined || status >= 500;
+}
+
 /**
  * Verifies an uploaded object: it exists, is within the size limit, its first bytes match an accepted
  * type, and (when given) its SHA-256 equals what the browser computed. Streams the object once.
@@ -86,17 +101,24 @@ export async function verifyStoredObject(key: string, rule: UploadRule, expected
   try {
     const head = await services.s3.send(new HeadObjectCommand({ Bucket: config.s3.bucket, Key: key }));
     size = head.ContentLength ?? 0;
-  } catch {
+  } catch (err) {
+    // Storage that does not answer says nothing about the upload: the caller answers 503 and keeps it open.
+    if (isStorageUnreachable(err)) throw new StorageUnavailable();
     return { ok: false, error: "The upload did not arrive in storage; please upload the file again." };
   }
   if (size > rule.maxBytes) return { ok: false, error: `The file is ${mb(size)}; the limit is ${mb(rule.maxBytes)}.` };
   if (size === 0) return { ok: false, error: "The file is empty." };
-  const object = await services.s3.send(new GetObjectCommand({ Bucket: config.s3.bucket, Key: key }));
   const hash = createHash("sha256");
   let head: Uint8Array | null = null;
-  for await (const chunk of object.Body as AsyncIterable<Uint8Array>) {
-    if (!head) head = chunk.subarray(0, 512);
-    hash.update(chunk);
+  try {
+    const object = await services.s3.send(new GetObjectCommand({ Bucket: config.s3.bucket, Key: key }));
+    for await (const chunk of object.Body as AsyncIterable<Uint8Array>) {
+      if (!head) head = chunk.subarray(0, 512);
+      hash.update(chunk);
+    }
+  } catch (err) {
+    if (isStorageUnreachable(err)) throw new StorageUnavailable();
+    throw err;
   }
   const kind = sniff(head ?? new Uint8Array());
   if (!kind || kind === "binary" || !rule.types.includes(kind)) {

@@ -7,6 +7,7 @@ import { getOrCreateLab } from "~/models/labs.server";
 import { action as capabilitiesAction, loader as capabilitiesLoader } from "~/routes/lab/capabilities";
 import { action as priceListAction } from "~/routes/lab/price-list";
 import { action as signInAction } from "~/routes/public/sign-in";
+import { INSTRUMENT_FIELDS } from "./form-fixtures";
 import { callRoute, cookieFrom, formRequest, getRequest, type RouteAnswer } from "./route-call";
 
 const MANAGER = "lab@graniteridge.example";
@@ -27,19 +28,7 @@ function post(path: string, fields: [string, string][], cookie: string) {
 }
 
 const instrument = (overrides: Record<string, string> = {}, forms = ["powder", "pellet"]): [string, string][] => [
-  ...Object.entries({
-    intent: "save-instrument",
-    name: NAME,
-    technique: "powder_reflection",
-    sourceKind: "anode",
-    anode: "Cu",
-    monochromation: "k_alpha_doublet",
-    twoThetaMin: "5",
-    twoThetaMax: "150",
-    smallestStep: "0.01",
-    detector: "strip_1d",
-    ...overrides,
-  }),
+  ...Object.entries({ ...INSTRUMENT_FIELDS, name: NAME, ...overrides }),
   ...forms.map((f) => ["sampleForms", f] as [string, string]),
 ];
 

@@ -16,6 +16,7 @@ import { action as sdsUploadAction } from "~/routes/client/request-sds-upload";
 import { loader as requestsList } from "~/routes/client/requests";
 import { action as signInAction } from "~/routes/public/sign-in";
 import { putObject } from "~/utils/storage.server";
+import { SAMPLE_FIELDS } from "./form-fixtures";
 import { callRoute, cookieFrom, formRequest, getRequest, type RouteAnswer } from "./route-call";
 
 const cookies: Record<string, string> = {};
@@ -27,21 +28,7 @@ const CLIENT = "owner@halvorsen.example";
 const MEMBER = "member@halvorsen.example";
 const OTHER = "owner@pinecrest.example";
 
-const SAMPLE = {
-  "samples[0].label": "LFP-12",
-  "samples[0].formula": "LiFePO4",
-  "samples[0].form": "powder",
-  "samples[0].massMg": "400",
-  "samples[0].expectedPhase": "olivine LiFePO4",
-  "samples[0].crystalSystem": "orthorhombic",
-  "samples[0].centering": "P",
-  "samples[0].cellA": "10.33",
-  "samples[0].cellB": "6.01",
-  "samples[0].cellC": "4.69",
-  "samples[0].cellAlpha": "90",
-  "samples[0].cellBeta": "90",
-  "samples[0].cellGamma": "90",
-};
+const SAMPLE = SAMPLE_FIELDS;
 const NEW = { title: "Cathode batch 12", technique: "powder_reflection", ...SAMPLE };
 
 function fieldErrors(answer: RouteAnswer) {

@@ -5,6 +5,7 @@ import { notificationsOf, preferencesOf, savePreferences } from "~/notifications
 import { isMilestoneKind, MILESTONES, type MilestoneKind } from "~/notifications/milestones";
 import { requireUser, workspacePath } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/notifications";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -15,7 +16,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const actor = await requireUser(request);
-  const form = await request.formData();
+  const form = await readForm(request);
   if (form.get("intent") !== "save") return data({ error: "Unknown request." }, { status: 400 });
   const chosen = form.getAll("email").map(String);
   const unknown = chosen.filter((k) => !isMilestoneKind(k));

@@ -5,6 +5,7 @@ import { z } from "zod";
 import { requireUser, workspacePath } from "~/utils/permissions.server";
 import { setActiveOrganisation } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/switch-organisation";
 
 const SwitchSchema = z.object({ organisationId: z.uuid({ error: "Choose an organisation." }) });
@@ -16,7 +17,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const actor = await requireUser(request);
-  const submission = parseWithZod(await request.formData(), { schema: SwitchSchema });
+  const submission = parseWithZod(await readForm(request), { schema: SwitchSchema });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const target = actor.memberships.find((m) => m.organisation.id === submission.value.organisationId);
   // Someone else's organisation id looks the same as one that does not exist.

@@ -11,6 +11,7 @@ import { PaymentProblem, platformFee, resolveDispute } from "~/models/payments.s
 import { formatMoney } from "~/models/money";
 import { requireAdmin } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/disputes";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -54,7 +55,7 @@ const Decision = z.object({
 
 export async function action({ request, context }: Route.ActionArgs) {
   const admin = await requireAdmin(request);
-  const submission = parseWithZod(await request.formData(), { schema: Decision });
+  const submission = parseWithZod(await readForm(request), { schema: Decision });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const { orderId, refund, reason } = submission.value;
   try {

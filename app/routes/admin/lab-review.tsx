@@ -11,6 +11,7 @@ import { APPROVAL_TOLERANCE_A, DECISIONS, withinTolerance, type CalibrationCheck
 import { requireAdmin } from "~/utils/permissions.server";
 import { presignDownload } from "~/utils/storage.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/lab-review";
 
 const DOWNLOAD_MINUTES = 5;
@@ -74,7 +75,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params, context }: Route.ActionArgs) {
   const { user } = await requireAdmin(request);
   const { lab } = await labForReview(params.labId);
-  const submission = parseWithZod(await request.formData(), { schema: DecisionSchema });
+  const submission = parseWithZod(await readForm(request), { schema: DecisionSchema });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const { intent, note, override, overrideReason } = submission.value;
   try {

@@ -6,6 +6,7 @@ import { outboxForAdmins } from "~/notifications/inbox.server";
 import { retryParkedMessage } from "~/notifications/sending.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/outbox";
 
 const STATUSES = ["parked", "queued", "sent", "all"] as const;
@@ -22,7 +23,7 @@ const Retry = z.object({ intent: z.literal("retry"), id: z.uuid() });
 
 export async function action({ request }: Route.ActionArgs) {
   await requireAdmin(request);
-  const parsed = Retry.safeParse(Object.fromEntries(await request.formData()));
+  const parsed = Retry.safeParse(Object.fromEntries(await readForm(request)));
   if (!parsed.success) return data({ error: "Choose a parked message to retry." }, { status: 400 });
   if (!(await retryParkedMessage(parsed.data.id))) return data({ error: "That message is not parked any more." }, { status: 409 });
   return redirectWithToast("/admin/outbox", { kind: "success", message: "The message is back in the queue." });

@@ -1,5 +1,5 @@
 // POST /api/webhooks/payments — signed events from the payment provider; a bad signature changes nothing.
-import { BadSignature, PaymentProblem, receiveWebhook } from "~/models/payments.server";
+import { BadWebhook, PaymentProblem, receiveWebhook } from "~/models/payments.server";
 import type { Route } from "./+types/webhooks-payments";
 
 export async function loader(_: Route.LoaderArgs) {
@@ -14,9 +14,9 @@ export async function action({ request }: Route.ActionArgs) {
   const raw = await request.text();
   try {
     const result = await receiveWebhook(raw, request.headers.get("stripe-signature"));
-    return Response.json({ received: true, duplicate: result.duplicate });
+    return Response.json({ received: true, duplicate: result.duplicate, ...("ignored" in result ? { ignored: result.ignored } : {}) });
   } catch (err) {
-    if (err instanceof BadSignature) return Response.json({ error: err.message }, { status: 400 });
+    if (err instanceof BadWebhook) return Response.json({ error: err.message }, { status: 400 });
     // The provider retries on 5xx; a provider outage while we re-read the object is such a case.
     if (err instanceof PaymentProblem) return Response.json({ error: err.message }, { status: 503 });
     throw err;

@@ -16,6 +16,7 @@ import { createShareLink, listShareLinks, revokeShareLink } from "~/models/share
 import { audit } from "~/utils/audit.server";
 import { config } from "~/config.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/data-room-order";
 
 const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
@@ -53,7 +54,7 @@ const ActionSchema = z.discriminatedUnion("intent", [
 
 export async function action({ request, params, context }: Route.ActionArgs) {
   const { actor, order } = await clientOrder(request, params.orderId);
-  const submission = parseWithZod(await request.formData(), { schema: ActionSchema });
+  const submission = parseWithZod(await readForm(request), { schema: ActionSchema });
   if (submission.status !== "success") return data({ result: submission.reply(), shared: null }, { status: 400 });
   const value = submission.value;
   const organisationId = actor.membership.organisation.id;

@@ -13,6 +13,7 @@ import { markShipped, shipmentOf } from "~/models/fulfilment.server";
 import { acceptDelivery, cancelOrder, openDispute, PaymentProblem, startCheckout } from "~/models/payments.server";
 import { formatMoney } from "~/models/money";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
 
 const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
@@ -56,7 +57,7 @@ const OrderAction = z.discriminatedUnion("intent", [
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { actor, order } = await clientOrder(request, params.id);
-  const submission = parseWithZod(await request.formData(), { schema: OrderAction });
+  const submission = parseWithZod(await readForm(request), { schema: OrderAction });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const v = submission.value;
   try {

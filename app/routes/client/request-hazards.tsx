@@ -11,6 +11,7 @@ import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/models/hazard-codes";
 import { AFTER_MEASUREMENT } from "~/models/hazards";
 import { HazardsStepSchema, type SampleHazardForm, type SampleHazardInput } from "~/models/request-forms";
 import { notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveHazards } from "~/models/requests.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-hazards";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -40,7 +41,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { row } = await requireOwnDraft(request, params.id);
-  const submission = parseWithZod(await request.formData(), { schema: HazardsStepSchema });
+  const submission = parseWithZod(await readForm(request), { schema: HazardsStepSchema });
   const locked = notEditable(row);
   if (locked) return data({ result: submission.reply({ formErrors: [locked] }) }, { status: 400 });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });

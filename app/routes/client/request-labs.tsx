@@ -9,6 +9,7 @@ import { matchLabsForRequest } from "~/models/matching.server";
 import { LabsStepSchema } from "~/models/request-forms";
 import { invitedLabIds, notEditable, redirectIfPublished, requireOwnDraft, saveVisibility } from "~/models/requests.server";
 import { formatMoney } from "~/models/money";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-labs";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -20,7 +21,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { row } = await requireOwnDraft(request, params.id);
-  const submission = parseWithZod(await request.formData(), { schema: LabsStepSchema });
+  const submission = parseWithZod(await readForm(request), { schema: LabsStepSchema });
   const locked = notEditable(row);
   if (locked) return data({ result: submission.reply({ formErrors: [locked] }) }, { status: 400 });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });

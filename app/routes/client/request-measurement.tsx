@@ -7,6 +7,7 @@ import { Field, FormError, PageHeader } from "~/components/ui";
 import { CURRENCIES, toMajorText } from "~/models/money";
 import { ATMOSPHERES, MeasurementStepSchema, QUALITY_LEVELS, SOURCES } from "~/models/request-forms";
 import { notEditable, redirectIfPublished, requireOwnDraft, saveMeasurement } from "~/models/requests.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-measurement";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -32,7 +33,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { row } = await requireOwnDraft(request, params.id);
-  const submission = parseWithZod(await request.formData(), { schema: MeasurementStepSchema });
+  const submission = parseWithZod(await readForm(request), { schema: MeasurementStepSchema });
   const locked = notEditable(row);
   if (locked) return data({ result: submission.reply({ formErrors: [locked] }) }, { status: 400 });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });

@@ -8,6 +8,7 @@ import { CENTERINGS, CRYSTAL_SYSTEMS } from "~/diffraction/cell";
 import { SAMPLE_FORMS, SamplesStepSchema, TECHNIQUES, type SamplesStep } from "~/models/request-forms";
 import { createDraft, notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveSamples } from "~/models/requests.server";
 import { requireOrgRole } from "~/utils/permissions.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-samples";
 
 type SampleDefaults = Partial<Record<keyof SamplesStep["samples"][number], string>>;
@@ -49,7 +50,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const formData = await request.formData();
+  const formData = await readForm(request);
   const submission = parseWithZod(formData, { schema: SamplesStepSchema });
   if (!params.id) {
     const { user, membership } = await requireOrgRole(request, "client");

@@ -1,6 +1,7 @@
 // POST /client/requests/:id/sds-upload — presigned upload targets for a draft's safety data sheets (PDF).
 import { notEditable, requireOwnDraft, SDS_RULE, sdsPrefix } from "~/models/requests.server";
 import { uploadTargetResponse } from "~/utils/storage.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-sds-upload";
 
 // A resource route: a document POST to the hazards screen's action would answer with the page's HTML, not JSON.
@@ -8,7 +9,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   const { row } = await requireOwnDraft(request, params.id);
   const locked = notEditable(row);
   if (locked) return Response.json({ error: locked }, { status: 400 });
-  const formData = await request.formData();
+  const formData = await readForm(request);
   if (formData.get("intent") !== "upload-target") return Response.json({ error: "This upload is not a safety data sheet." }, { status: 400 });
   return uploadTargetResponse(formData, SDS_RULE, sdsPrefix(row));
 }

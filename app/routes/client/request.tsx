@@ -9,6 +9,7 @@ import { requireOwnRequest, samplesOf, sdsLinks } from "~/models/requests.server
 import { formatMoney } from "~/models/money";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -22,7 +23,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   const { user, membership } = await requireOrgRole(request, "client");
   const row = await requireOwnRequest(params.id, membership.organisation.id);
-  const form = await request.formData();
+  const form = await readForm(request);
   if (form.get("intent") !== "accept") return data({ error: "Choose what to do." }, { status: 400 });
   const result = await acceptQuote(row.id, String(form.get("quoteId") ?? ""), membership.organisation.id, user.id);
   if (!result.ok) return data({ error: result.error }, { status: 400 });

@@ -11,6 +11,7 @@ import { MAX_FILE_BYTES, formatBytes } from "~/models/files";
 import { audit } from "~/utils/audit.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/api-tokens";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -32,7 +33,7 @@ const ActionSchema = z.discriminatedUnion("intent", [CreateSchema, z.object({ in
 export async function action({ request, context }: Route.ActionArgs) {
   const { membership, user } = await requireOrgRole(request, "lab", ["manager"]);
   const labId = membership.organisation.id;
-  const submission = parseWithZod(await request.formData(), { schema: ActionSchema });
+  const submission = parseWithZod(await readForm(request), { schema: ActionSchema });
   if (submission.status !== "success") return data({ result: submission.reply(), created: null }, { status: 400 });
   if (submission.value.intent === "create") {
     const { token, row } = await createApiToken(labId, submission.value.name, user.id);

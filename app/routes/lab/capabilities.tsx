@@ -40,6 +40,7 @@ import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/models/hazard-codes";
 import { getOrCreateLab } from "~/models/labs.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/capabilities";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -59,7 +60,7 @@ export async function action({ request, context }: Route.ActionArgs) {
   const lab = await getOrCreateLab(membership.organisation.id);
   const labId = lab.organisationId;
   const actor = { userId: user.id, clientAddress: context.clientAddress };
-  const formData = await request.formData();
+  const formData = await readForm(request);
   const intent = String(formData.get("intent") ?? "") as Intent;
   // Each form on the page has its own id, so an answer goes back to the form that was sent.
   const formId = String(formData.get("formId") ?? intent);

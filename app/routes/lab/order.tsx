@@ -15,6 +15,7 @@ import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
 import { orderTimeline, OrderMoveRefused } from "~/models/orders.server";
 import { PaymentProblem, refuseOnArrival } from "~/models/payments.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
 
 const labOrder = (request: Request, orderId: string) => requireOrderSide(request, "lab", orderId);
@@ -52,7 +53,7 @@ const LabMove = z.discriminatedUnion("intent", [
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { actor, order } = await labOrder(request, params.id);
-  const submission = parseWithZod(await request.formData(), { schema: LabMove });
+  const submission = parseWithZod(await readForm(request), { schema: LabMove });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const v = submission.value;
   const back = `/lab/orders/${order.id}`;

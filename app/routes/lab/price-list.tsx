@@ -11,6 +11,7 @@ import { CURRENCIES, toMajorText } from "~/models/money";
 import { PriceListSchema } from "~/models/price-list";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/price-list";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -48,7 +49,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 export async function action({ request, context }: Route.ActionArgs) {
   const { user, membership } = await requireOrgRole(request, "lab", ["manager"]);
   const lab = await getOrCreateLab(membership.organisation.id);
-  const submission = parseWithZod(await request.formData(), { schema: PriceListSchema });
+  const submission = parseWithZod(await readForm(request), { schema: PriceListSchema });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   await savePriceList(lab.organisationId, submission.value, { userId: user.id, clientAddress: context.clientAddress });
   return redirectWithToast("/lab/price-list", { kind: "success", message: "Price list saved." });

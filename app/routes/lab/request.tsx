@@ -15,6 +15,7 @@ import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, requireLabQuo
 import { acknowledgeHazards, acknowledgementOf, requireRequestForLab, samplesOf, sdsLinks } from "~/models/requests.server";
 import { forbidden, requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request";
 
 const isoInDays = (days: number) => new Date(Date.now() + days * 86_400_000).toISOString().slice(0, 10);
@@ -63,7 +64,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   const { user, membership } = await requireOrgRole(request, "lab");
   const labId = membership.organisation.id;
   const row = await requireRequestForLab(params.id, labId);
-  const formData = await request.formData();
+  const formData = await readForm(request);
   const intent = formData.get("intent");
   if (intent === "acknowledge") {
     if ((await vettingStateOf(labId)) !== "approved") return data({ error: "Only approved labs can acknowledge and quote." }, { status: 400 });

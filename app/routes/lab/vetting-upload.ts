@@ -2,6 +2,7 @@
 import { getOrCreateLab, vettingPrefix } from "~/models/labs.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { DOCUMENT_RULE, SCAN_RULE, uploadTargetResponse } from "~/utils/storage.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/vetting-upload";
 
 const RULES = { accreditation_certificate: DOCUMENT_RULE, calibration_scan: SCAN_RULE } as const;
@@ -10,7 +11,7 @@ const RULES = { accreditation_certificate: DOCUMENT_RULE, calibration_scan: SCAN
 export async function action({ request }: Route.ActionArgs) {
   const { membership } = await requireOrgRole(request, "lab", ["manager"]);
   const lab = await getOrCreateLab(membership.organisation.id);
-  const formData = await request.formData();
+  const formData = await readForm(request);
   const purpose = String(formData.get("purpose") ?? "");
   if (formData.get("intent") !== "upload-target" || !(purpose in RULES)) {
     return Response.json({ error: "This upload is not part of a vetting application." }, { status: 400 });

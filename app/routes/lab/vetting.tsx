@@ -23,6 +23,7 @@ import {
 import { requireOrgRole } from "~/utils/permissions.server";
 import { contentTypeFor, DOCUMENT_RULE, readStoredText, SCAN_RULE, verifyStoredObject } from "~/utils/storage.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/vetting";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -53,7 +54,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 export async function action({ request, context }: Route.ActionArgs) {
   const { user, membership } = await requireOrgRole(request, "lab", ["manager"]);
   const lab = await getOrCreateLab(membership.organisation.id);
-  const submission = parseWithZod(await request.formData(), { schema: VettingApplicationSchema });
+  const submission = parseWithZod(await readForm(request), { schema: VettingApplicationSchema });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const v = submission.value;
   const refuse = (fieldErrors: Record<string, string[]>, formErrors?: string[]) =>
