@@ -329,7 +329,8 @@ export const requests = pgTable(
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
-  (t) => [index("requests_org_state_idx").on(t.organisationId, t.state), index("requests_state_idx").on(t.state)],
+  // The client's requests list pages through (organisation, state, newest first).
+  (t) => [index("requests_org_state_created_idx").on(t.organisationId, t.state, t.createdAt.desc()), index("requests_state_idx").on(t.state)],
 );
 
 export const requestInvitations = pgTable(
