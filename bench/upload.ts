@@ -12,7 +12,7 @@ import { root } from "../services/paths";
 import { waitForPort } from "../services/process";
 import { buildTemplate, cloneTemplate } from "../services/test-db";
 import { servicesUp } from "../services/up";
-import { uploadFile, type PutBytes } from "../app/utils/order-upload";
+import { fetchPut, uploadFile } from "../app/utils/order-upload";
 
 const PORT = 3191;
 const BASE = `http://127.0.0.1:${PORT}`;
@@ -64,14 +64,6 @@ function writeScan(file: string, size: number) {
   fs.writeSync(fd, data);
   fs.closeSync(fd);
 }
-
-const fetchPut: PutBytes = async (url, body, headers, onSent) => {
-  const res = await fetch(url, { method: "PUT", body: body as Uint8Array<ArrayBuffer>, headers });
-  if (!res.ok) throw new Error(`storage answered ${res.status}`);
-  await res.arrayBuffer();
-  onSent(body.length);
-  return res.headers.get("etag") ?? "";
-};
 
 if (!fs.existsSync(path.join(root, "build/server/index.js"))) {
   console.error("Build the app first: npm run build");

@@ -44,6 +44,9 @@ export function AccountMenu() {
       <span className="hidden text-sm text-ink-600 sm:inline" data-testid="signed-in-as">
         {me.user.name}
       </span>
+      <Link to="/account/security" className="hidden text-sm text-ink-600 hover:text-beam-700 hover:underline sm:inline">
+        Security
+      </Link>
       <SignOutButton />
     </div>
   );

@@ -1,6 +1,6 @@
 // The frame of the client, lab and admin workspaces: navigation, organisation switcher, account area.
 import type { ReactNode } from "react";
-import { Form, NavLink } from "react-router";
+import { Form, Link, NavLink } from "react-router";
 import type { MeSummary } from "~/models/me.server";
 import { Brand } from "./brand";
 import { NotificationBell } from "./notification-bell";
@@ -63,6 +63,9 @@ export function WorkspaceShell({ me, title, nav, children }: { me: MeSummary; ti
           <span className="text-sm font-medium text-ink-800" data-testid="signed-in-as">
             {me.user.name}
           </span>
+          <Link to="/account/security" className="text-sm text-ink-600 hover:text-beam-700 hover:underline">
+            Security
+          </Link>
           <SignOutButton />
         </header>
         <main id="main" className="mx-auto w-full max-w-6xl flex-1 px-4 py-8 sm:px-6">

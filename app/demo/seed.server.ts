@@ -4,8 +4,9 @@ import { db, schema } from "~/db/client.server";
 import type { MembershipRole, OrganisationKind } from "~/db/schema";
 import { slugify } from "~/utils/auth.server";
 import { hashPassword } from "~/utils/password.server";
+import { DEMO_ADMIN_TOTP_SECRET, DEMO_PASSWORD } from "./demo-secrets";
 
-export const DEMO_PASSWORD = "diffractory-demo";
+export { DEMO_PASSWORD };
 
 interface DemoOrg {
   name: string;
@@ -70,6 +71,10 @@ export async function seedDemo() {
       .select()
       .from(schema.users)
       .where(sql`lower(${schema.users.email}) = ${person.email}`);
+    // Admins must have a second factor; the demo admin's key is the published demo one.
+    if (person.isAdmin && !user.totpEnabledAt) {
+      await db.update(schema.users).set({ totpSecret: DEMO_ADMIN_TOTP_SECRET, totpEnabledAt: new Date() }).where(eq(schema.users.id, user.id));
+    }
     for (const [orgName, role] of person.memberships) {
       const organisationId = orgIds.get(orgName)!;
       const existing = await db

@@ -166,3 +166,18 @@ export function invitationLetter(i: { token: string; organisationName: string; r
     link: { path: `/invitations/${i.token}`, label: "Open the invitation" },
   };
 }
+
+export function passwordResetLetter(r: { token: string; expiresAt: Date }): Letter {
+  const time = r.expiresAt.toLocaleTimeString("en-GB", { hour: "2-digit", minute: "2-digit", timeZone: "UTC" });
+  return {
+    subject: "Choose a new Diffractory password",
+    heading: "Choose a new password",
+    paragraphs: [
+      "Someone — hopefully you — asked to reset the password of the Diffractory account with this e-mail address.",
+      "If it was not you, ignore this message: your password stays as it is.",
+    ],
+    facts: [["Link valid until", `${day(r.expiresAt)}, ${time} UTC`], ["Use", "once"]],
+    nextStep: "Open the link and choose a new password. Every device signed in to the account is signed out.",
+    link: { path: `/reset-password/${r.token}`, label: "Choose a new password" },
+  };
+}

@@ -22,6 +22,7 @@ export const MILESTONES = {
   lab_approved: { label: "Lab approved", essential: false },
   lab_rejected: { label: "Lab application declined", essential: false },
   organisation_invitation: { label: "Invitation to an organisation", essential: false },
+  password_reset: { label: "Password reset link (only when you ask for one)", essential: true },
 } as const satisfies Record<string, { label: string; essential: boolean }>;
 
 export type MilestoneKind = keyof typeof MILESTONES;

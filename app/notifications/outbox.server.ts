@@ -5,7 +5,7 @@ import type { Order } from "~/db/schema";
 import type { VettingState } from "~/models/vetting";
 import type { OrderState } from "~/models/order-states";
 import type { Tx } from "~/models/orders.server";
-import { invitationLetter, labApplicationLetter, labDecisionLetter, orderLetter, quoteDecisionLetter, quoteReceivedLetter, requestOpenLetter, type Audience, type OrderContext } from "./compose.server";
+import { invitationLetter, labApplicationLetter, passwordResetLetter, labDecisionLetter, orderLetter, quoteDecisionLetter, quoteReceivedLetter, requestOpenLetter, type Audience, type OrderContext } from "./compose.server";
 import { renderLetter, type Letter } from "./letters.server";
 import { isEssential, type MilestoneKind } from "./milestones";
 
@@ -22,7 +22,9 @@ export type Milestone =
   | { kind: "lab_application_received"; labId: string }
   | { kind: "lab_decided"; labId: string; to: VettingState; note: string }
   /** The token travels only in the e-mail's link; the table keeps its hash. */
-  | { kind: "organisation_invitation"; invitationId: string; token: string };
+  | { kind: "organisation_invitation"; invitationId: string; token: string }
+  /** Likewise: the reset link's token is only in the e-mail. */
+  | { kind: "password_reset"; tokenId: string; token: string };
 
 /** Which milestone each order state reports, and to whom (the order's two organisations, and admins). */
 export const ORDER_MILESTONES: Partial<Record<OrderState, { kind: MilestoneKind; to: Audience[] }>> = {
@@ -159,6 +161,14 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       const letter = invitationLetter({ token: m.token, organisationName: (await orgName(tx, inv.organisationId)).name, role: inv.role, inviterName: inviter?.name ?? null, expiresAt: inv.expiresAt });
       const person: Person = { userId: account?.id ?? null, email: inv.email, name: account?.name ?? "there" };
       return [{ kind: "organisation_invitation" as const, person, letter, orderId: null }];
+    }
+    case "password_reset": {
+      const [row] = await tx.select().from(schema.passwordResetTokens).where(eq(schema.passwordResetTokens.id, m.tokenId));
+      const [user] = row ? await tx.select({ email: schema.users.email, name: schema.users.name }).from(schema.users).where(eq(schema.users.id, row.userId)) : [];
+      if (!row || !user) return [];
+      // E-mail only: an in-app notification would keep the working link in the notification list.
+      const person: Person = { userId: null, email: user.email, name: user.name };
+      return [{ kind: "password_reset" as const, person, letter: passwordResetLetter({ token: m.token, expiresAt: row.expiresAt }), orderId: null }];
     }
   }
 }

@@ -29,9 +29,21 @@ export function notFound(message = "There is nothing here."): never {
 
 async function loadActor(request: Request): Promise<Actor | null> {
   const found = await getSession(request);
-  if (!found) return null;
+  // Password given but not yet the second-factor code: signed in for nothing but the code screen.
+  if (!found || found.session.awaitingSecondFactor) return null;
   return actorFor(found.user, found.session.activeOrganisationId);
 }
+
+/** The code screen of sign-in: only a session that has passed the password and waits for its code. */
+export async function requireSecondFactorPending(request: Request) {
+  const found = await getSession(request);
+  if (found?.session.awaitingSecondFactor && found.user.totpEnabledAt && found.user.totpSecret) return found;
+  if (found) throw redirect(workspacePath(await actorFor(found.user, found.session.activeOrganisationId)));
+  throw redirect("/sign-in");
+}
+
+/** Where admins without a second factor are sent before any admin screen works. */
+export const ENROL_PATH = "/account/security?enrol=required";
 
 /** A person with their memberships; the active organisation is the given one, else their first. */
 export async function actorFor(user: User, activeOrganisationId: string | null): Promise<Actor> {
@@ -81,6 +93,10 @@ export async function requireOrgRole(request: Request, kind: OrganisationKind, r
 export async function requireAdmin(request: Request) {
   const actor = await requireUser(request);
   if (!actor.user.isAdmin) forbidden("This page is for platform admins.");
+  if (!actor.user.totpEnabledAt) {
+    if (isApiRequest(request)) throw data({ error: "Admins set up a second factor at /account/security first." }, { status: 403 });
+    throw redirect(ENROL_PATH);
+  }
   return actor;
 }
 

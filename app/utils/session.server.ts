@@ -1,6 +1,6 @@
 // Server-side sessions: a random token in an httpOnly cookie, its SHA-256 as the row id in PostgreSQL.
 import { createHash, randomBytes } from "node:crypto";
-import { and, eq, gt } from "drizzle-orm";
+import { and, eq, gt, sql } from "drizzle-orm";
 import { createCookie } from "react-router";
 import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
@@ -14,14 +14,17 @@ export const sessionCookie = createCookie("diffractory_session", {
   maxAge: config.sessionDays * 24 * 3600,
 });
 
-const tokenHash = (token: string) => createHash("sha256").update(token).digest("hex");
+export const tokenHash = (token: string) => createHash("sha256").update(token).digest("hex");
 
 export async function readSessionToken(request: Request): Promise<string | null> {
   const value = await sessionCookie.parse(request.headers.get("Cookie"));
   return typeof value === "string" && value.length > 20 ? value : null;
 }
 
-/** Loads the live session of a request with its user, or null. */
+/**
+ * Loads the live session of a request with its user, or null. A session still waiting for its
+ * second-factor code comes back too (`session.awaitingSecondFactor`); the permission checks refuse it.
+ */
 export async function getSession(request: Request) {
   const token = await readSessionToken(request);
   if (!token) return null;
@@ -36,18 +39,38 @@ export async function getSession(request: Request) {
 
 /**
  * Starts a new session (a fresh token, so a session id known before sign-in is worthless after it)
- * and returns the Set-Cookie header. Any session the request carried is ended.
+ * and returns the Set-Cookie header. Any session the request carried is ended. A session started after
+ * the password of someone with a second factor is `awaitingSecondFactor` until the code is given.
  */
-export async function startSession(request: Request, userId: string, activeOrganisationId: string | null) {
+export async function startSession(request: Request, userId: string, activeOrganisationId: string | null, options: { awaitingSecondFactor?: boolean } = {}) {
   await endSession(request);
   const token = randomBytes(32).toString("base64url");
   await db.insert(schema.sessions).values({
     id: tokenHash(token),
     userId,
     activeOrganisationId,
+    awaitingSecondFactor: options.awaitingSecondFactor ?? false,
     expiresAt: new Date(Date.now() + config.sessionDays * 24 * 3600 * 1000),
   });
   return sessionCookie.serialize(token);
+}
+
+/** Ends every session of a person (after a password change or reset); returns how many there were. */
+export async function endAllSessionsOf(userId: string, tx: Pick<typeof db, "delete"> = db) {
+  const gone = await tx.delete(schema.sessions).where(eq(schema.sessions.userId, userId)).returning({ id: schema.sessions.id });
+  return gone.length;
+}
+
+/** Counts one wrong second-factor code against the request's waiting session; returns the count so far. */
+export async function countSecondFactorFailure(request: Request) {
+  const token = await readSessionToken(request);
+  if (!token) return 0;
+  const [row] = await db
+    .update(schema.sessions)
+    .set({ secondFactorFailures: sql`${schema.sessions.secondFactorFailures} + 1` })
+    .where(and(eq(schema.sessions.id, tokenHash(token)), eq(schema.sessions.awaitingSecondFactor, true)))
+    .returning({ failures: schema.sessions.secondFactorFailures });
+  return row?.failures ?? 0;
 }
 
 export async function endSession(request: Request) {

@@ -9,7 +9,7 @@ import { action as signOutAction } from "~/routes/account/sign-out";
 import { action as switchAction } from "~/routes/account/switch-organisation";
 import { loader as meLoader } from "~/routes/api/me";
 import { startSession } from "~/utils/session.server";
-import { callRoute, cookieFrom, formRequest, getRequest } from "./route-call";
+import { callRoute, cookieFrom, formRequest, getRequest, signInAs } from "./route-call";
 
 const PASSWORD = "diffractory-demo";
 
@@ -39,7 +39,9 @@ describe("sign-in", () => {
 
   it("sends the lab manager to the lab workspace and the admin to admin", async () => {
     expect((await signIn("lab@graniteridge.example")).headers.get("location")).toBe("/lab");
-    expect((await signIn("admin@diffractory.example")).headers.get("location")).toBe("/admin");
+    // The admin has a second factor: the password leads to the code screen, the code to admin.
+    expect((await signIn("admin@diffractory.example")).headers.get("location")).toBe("/sign-in/code");
+    expect((await signInAs("admin@diffractory.example")).answer.headers.get("location")).toBe("/admin");
   });
 
   it("answers a wrong password with a field error and no session", async () => {

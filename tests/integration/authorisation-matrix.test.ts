@@ -2,7 +2,7 @@
 // may see: one demo order between Halvorsen (client A) and Granite Ridge (the lab) fills the parameters.
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
-import { callRoute, cookieFrom, formRequest, getRequest, type RouteAnswer } from "./route-call";
+import { callRoute, cookieFrom, formRequest, getRequest, signInAs, type RouteAnswer } from "./route-call";
 
 const PASSWORD = "diffractory-demo";
 const ACTORS = {
@@ -14,6 +14,8 @@ const ACTORS = {
   labOperator: "operator@graniteridge.example",
   otherLab: "lab@lakeside.example",
   admin: "admin@diffractory.example",
+  // The admin after the password but before the second-factor code: a session that opens nothing yet.
+  halfSignedIn: "admin@diffractory.example",
 } as const;
 type Actor = keyof typeof ACTORS;
 type RouteFn = Parameters<typeof callRoute>[0];
@@ -26,13 +28,13 @@ type Expect = { loader?: PerActor | "public"; action?: PerActor | "public" };
 
 /** The same outcome for everyone, with exceptions. */
 const all = (outcome: Outcome, except: Partial<PerActor> = {}): PerActor => ({ ...Object.fromEntries(ACTOR_NAMES.map((a) => [a, outcome])), ...except }) as PerActor;
-// Shapes that recur: signed out goes to sign-in; the rest as given.
-const signedIn = (outcome: Outcome, except: Partial<PerActor> = {}) => all(outcome, { signedOut: "signin", ...except });
+// Shapes that recur: signed out (and half signed in) goes to sign-in; the rest as given.
+const signedIn = (outcome: Outcome, except: Partial<PerActor> = {}) => all(outcome, { signedOut: "signin", halfSignedIn: "signin", ...except });
 const clientA = (a: Outcome, others: Outcome, except: Partial<PerActor> = {}) => signedIn(others, { ownerA: a, memberA: a, ...except });
 const labA = (a: Outcome, others: Outcome, except: Partial<PerActor> = {}) => signedIn(others, { labManager: a, labOperator: a, ...except });
 const adminOnly = (others: Outcome, adminOutcome: Outcome = "ok") => signedIn(others, { admin: adminOutcome });
 
-// Columns: signedOut, ownerA, memberA, clientB, labManager, labOperator, otherLab, admin.
+// Columns: signedOut, ownerA, memberA, clientB, labManager, labOperator, otherLab, admin, halfSignedIn.
 const orderClient = clientA("ok", "forbidden", { clientB: "notFound" }); // another client's order does not exist for them
 const orderClientAction = clientA("bad", "forbidden", { clientB: "notFound" });
 const clientWorkspace = signedIn("forbidden", { ownerA: "ok", memberA: "ok", clientB: "ok" });
@@ -54,9 +56,14 @@ const EXPECTED: Record<string, Expect> = {
   "routes/public/lab-profile": { loader: "public" },
   "routes/public/how-it-works": { loader: "public" },
   "routes/public/safety": { loader: "public" },
-  // Signed-in people posting the account forms are sent to their workspace.
-  "routes/public/sign-in": { loader: "public", action: all("ok", { signedOut: "bad" }) },
-  "routes/public/create-account": { loader: "public", action: all("ok", { signedOut: "bad" }) },
+  // Signed-in people posting the account forms are sent to their workspace; a half signed-in session may start over.
+  "routes/public/sign-in": { loader: "public", action: all("ok", { signedOut: "bad", halfSignedIn: "bad" }) },
+  "routes/public/create-account": { loader: "public", action: all("ok", { signedOut: "bad", halfSignedIn: "bad" }) },
+  "routes/public/forgot-password": { loader: "public", action: all("ok", { signedOut: "bad", halfSignedIn: "bad" }) },
+  // The code screen: only the half signed-in session uses it (an empty form is refused); others are sent on.
+  "routes/public/sign-in-code": { loader: all("ok", { signedOut: "signin" }), action: all("ok", { signedOut: "signin", halfSignedIn: "bad" }) },
+  // The reset link is the permission: anyone holding it sees the form; an empty form is refused and uses nothing.
+  "routes/public/reset-password": { loader: "public", action: all("bad") },
   // The share link is a bearer capability: whoever holds the token reads the shared files, signed in or not.
   "routes/public/shared": { loader: "public" },
   "routes/public/shared-download": { loader: "public" },
@@ -68,6 +75,7 @@ const EXPECTED: Record<string, Expect> = {
   "routes/account/sign-out": { loader: "public", action: signedIn("ok") },
   "routes/account/switch-organisation": { loader: signedIn("ok"), action: signedIn("bad") },
   "routes/account/notifications": { loader: signedIn("ok"), action: signedIn("bad") },
+  "routes/account/security": { loader: signedIn("ok"), action: signedIn("bad") },
   // The development mail viewer: admins only, and nobody else learns it exists.
   "routes/dev/mail": { loader: signedIn("notFound", { admin: "ok" }) },
   "routes/account/file-download": { loader: orderParties },
@@ -185,8 +193,12 @@ let signInAction: RouteFn;
 async function signIn(actor: Actor) {
   const email = ACTORS[actor];
   if (!email) return undefined;
-  const answer = await callRoute(signInAction, formRequest("/sign-in", { email, password: PASSWORD }), {}, `198.51.100.${ACTOR_NAMES.indexOf(actor) + 1}`);
-  cookies[actor] = cookieFrom(answer);
+  const address = `198.51.100.${ACTOR_NAMES.indexOf(actor) + 1}`;
+  // The half signed-in actor stops after the password; everyone else signs in fully (the admin with a code).
+  cookies[actor] =
+    actor === "halfSignedIn"
+      ? cookieFrom(await callRoute(signInAction, formRequest("/sign-in", { email, password: PASSWORD }), {}, address))
+      : (await signInAs(email, { password: PASSWORD, address })).cookie;
   expect(cookies[actor], `${email} signs in`).toBeTruthy();
   return cookies[actor];
 }
@@ -252,6 +264,11 @@ beforeAll(async () => {
   expect((await callRoute(members, formRequest("/client/members", { intent: "invite", email: "matrix-invitee@halvorsen.example", role: "member" }, owner))).status).toBe(302);
   const [mail] = await w.db.select().from(w.schema.outboxMessages).where(w.eq(w.schema.outboxMessages.to, "matrix-invitee@halvorsen.example"));
   const invitation = mail.text.match(/\/invitations\/([A-Za-z0-9_-]+)/)![1];
+  // A live reset link of someone who is not an actor here.
+  const { requestPasswordReset } = await import("~/models/password-reset.server");
+  await requestPasswordReset({ email: "member@pinecrest.example", clientAddress: "198.51.100.99" });
+  const [resetMail] = await w.db.select().from(w.schema.outboxMessages).where(w.eq(w.schema.outboxMessages.to, "member@pinecrest.example"));
+  const passwordReset = resetMail.text.match(/\/reset-password\/([A-Za-z0-9_-]+)/)![1];
 
   Object.assign(params, {
     id: orderId,
@@ -263,7 +280,7 @@ beforeAll(async () => {
     token,
   });
   // Routes whose :id is not an order.
-  Object.assign(requestIds, { request: order.requestId, check: check.id, payment: payment.id, invitation });
+  Object.assign(requestIds, { request: order.requestId, check: check.id, payment: payment.id, invitation, passwordReset });
   for (const actor of ACTOR_NAMES) await signIn(actor);
 });
 
@@ -274,6 +291,7 @@ function paramsFor(route: Walked) {
   if (/checks\/:id/.test(route.path)) p.id = requestIds.check;
   if (/payments\/:id/.test(route.path)) p.id = requestIds.payment;
   if (/invitations\/:token/.test(route.path)) p.token = requestIds.invitation;
+  if (/reset-password\/:token/.test(route.path)) p.token = requestIds.passwordReset;
   // A section that exists in each workspace.
   if (route.path === "/lab/:section") p.section = "quotes";
   if (route.path === "/admin/:section") p.section = "ledger";

@@ -58,3 +58,44 @@ export function cookieFrom(answer: RouteAnswer, name = "diffractory_session") {
   const line = all.find((c) => c.startsWith(`${name}=`));
   return line ? line.split(";")[0] : undefined;
 }
+
+const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+
+/**
+ * A 6-digit code for the person's second factor that the server has not seen yet: the current time step,
+ * or the next one when the current was used (the server accepts ±1 step), or — when both were — the code
+ * after waiting for the clock. A used step is refused (RFC 6238 §5.2), so fast repeated sign-ins need this.
+ */
+export async function freshTotpCode(secret: string, lastUsedStep: number | null) {
+  const { timeStep, totpCodeAt, TOTP_PERIOD } = await import("~/utils/totp.server");
+  const step = Math.max(timeStep(), (lastUsedStep ?? -1) + 1);
+  // The server takes step s while its clock is in s-1, s or s+1.
+  const opensAt = (step - 1) * TOTP_PERIOD * 1000;
+  if (Date.now() < opensAt) await sleep(opensAt - Date.now() + 50);
+  return { step, code: totpCodeAt(secret, step) };
+}
+
+/**
+ * Signs in through the real sign-in action and, for someone with a second factor, the code screen with a
+ * code computed from their key (read from the test database); returns the last answer and the session cookie.
+ */
+export async function signInAs(email: string, { password = "diffractory-demo", address = "192.0.2.10" } = {}) {
+  const { action: signIn } = await import("~/routes/public/sign-in");
+  const first = await callRoute(signIn, formRequest("/sign-in", { email, password }), {}, address);
+  const waiting = cookieFrom(first);
+  if (!(first.headers.get("location") ?? "").startsWith("/sign-in/code") || !waiting) return { answer: first, cookie: waiting };
+  const { db, schema } = await import("~/db/client.server");
+  const { sql } = await import("drizzle-orm");
+  const [user] = await db.select().from(schema.users).where(sql`lower(${schema.users.email}) = lower(${email})`);
+  const { code } = await freshTotpCode(user.totpSecret!, user.totpLastStep);
+  const { action: enterCode } = await import("~/routes/public/sign-in-code");
+  const second = await callRoute(enterCode, formRequest("/sign-in/code", { intent: "verify", code }, waiting), {}, address);
+  return { answer: second, cookie: cookieFrom(second) };
+}
+
+/** The session cookie of a full sign-in (password, and the code when the person has a second factor). */
+export async function sessionCookieFor(email: string, options: { password?: string; address?: string } = {}) {
+  const { cookie } = await signInAs(email, options);
+  if (!cookie) throw new Error(`${email} could not sign in`);
+  return cookie;
+}

@@ -1,4 +1,5 @@
-// GET /api/health — public liveness of the app and each service it depends on (503 naming the failing one).
+// GET /api/health — public liveness of the app and each service it depends on (503 naming the failing one);
+// GET /api/health?scope=app — this server and its database only (the load balancer's probe).
 import { HeadBucketCommand } from "@aws-sdk/client-s3";
 import { sql } from "drizzle-orm";
 import { config } from "~/config.server";
@@ -24,7 +25,12 @@ async function timed(check: () => Promise<unknown>, ms = 3000): Promise<CheckRes
 }
 
 // Public by design: monitoring asks without signing in, and the answer names no secrets.
-export async function loader(_args: Route.LoaderArgs) {
+// `?scope=app` is the load balancer's probe: this server and its database only, so an outage of a provider
+// that every server shares (storage, e-mail, payments) does not take every server out of rotation at once.
+export async function loader({ request }: Route.LoaderArgs) {
+  if (new URL(request.url).searchParams.get("scope") === "app") {
+    return answer({ database: await timed(() => db.execute(sql`select 1`)) });
+  }
   const [database, storage, mail, payments] = await Promise.all([
     timed(() => db.execute(sql`select 1`)),
     timed(() => services.s3.send(new HeadBucketCommand({ Bucket: config.s3.bucket }))),
@@ -34,7 +40,10 @@ export async function loader(_args: Route.LoaderArgs) {
     }),
     timed(() => services.payments.balance.retrieve()),
   ]);
-  const checks = { database, storage, mail, payments };
+  return answer({ database, storage, mail, payments });
+}
+
+function answer(checks: Record<string, CheckResult>) {
   const ok = Object.values(checks).every((c) => c === "ok");
   return Response.json({ status: ok ? "ok" : "degraded", checks }, { status: ok ? 200 : 503, headers: { "Cache-Control": "no-store" } });
 }

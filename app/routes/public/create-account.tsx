@@ -4,6 +4,7 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useActionData, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import { Field, FormError } from "~/components/ui";
+import { newPasswordField } from "~/models/password-rules";
 import { audit } from "~/utils/audit.server";
 import { createAccount, EmailTaken } from "~/utils/auth.server";
 import { requireAnonymous } from "~/utils/permissions.server";
@@ -23,10 +24,7 @@ const CreateAccountSchema = z
     kind: z.enum(["client", "lab"], { error: "Choose whether you buy measurements or run a lab." }),
     name: text("your name", 120),
     email: z.email({ error: (i) => (i.input === undefined ? "Enter your e-mail address." : "Enter a valid e-mail address.") }).max(254),
-    password: z
-      .string({ error: "Choose a password." })
-      .min(12, "Use at least 12 characters.")
-      .max(200, "A password has at most 200 characters."),
+    password: newPasswordField(),
     organisationName: text("the organisation's name", 160),
     city: z.string().trim().max(120).optional(),
     country: z.string().trim().max(120).optional(),

@@ -1,12 +1,15 @@
-// Sign in with e-mail and password; failed attempts are limited per e-mail and per address.
+// Sign in with e-mail and password; failed attempts are limited per e-mail and per address. Someone with a
+// second factor gets a session that waits for the code (/sign-in/code) and opens nothing else.
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, redirect, useActionData, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
+import { AuthCard } from "~/components/auth-card";
 import { Field, FormError } from "~/components/ui";
 import { audit } from "~/utils/audit.server";
 import { authenticator, normaliseEmail, WrongCredentials } from "~/utils/auth.server";
 import { actorFor, requireAnonymous, workspacePath } from "~/utils/permissions.server";
+import { safeRedirect } from "~/utils/safe-redirect";
 import { startSession } from "~/utils/session.server";
 import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/utils/sign-in-limit.server";
 import type { Route } from "./+types/sign-in";
@@ -16,11 +19,6 @@ const SignInSchema = z.object({
   password: z.string({ error: "Enter your password." }).max(200, "A password has at most 200 characters."),
   redirectTo: z.string().optional(),
 });
-
-/** Only paths on this site are followed after sign-in. */
-function safeRedirect(to: string | undefined, fallback: string) {
-  return to && to.startsWith("/") && !to.startsWith("//") && !to.startsWith("/\\") ? to : fallback;
-}
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAnonymous(request);
@@ -48,8 +46,14 @@ export async function action({ request, context }: Route.ActionArgs) {
     await recordSignInAttempt(email, address, false);
     return data({ result: submission.reply({ fieldErrors: { password: [err.message] }, hideFields: ["password"] }) }, { status: 400 });
   }
-  await recordSignInAttempt(email, address, true);
   const actor = await actorFor(user, null);
+  if (user.totpEnabledAt && user.totpSecret) {
+    const waiting = await startSession(request, user.id, actor.active?.organisation.id ?? null, { awaitingSecondFactor: true });
+    const then = safeRedirect(submission.value.redirectTo, "");
+    const next = then ? `?${new URLSearchParams({ redirectTo: then })}` : "";
+    return redirect(`/sign-in/code${next}`, { headers: { "Set-Cookie": waiting } });
+  }
+  await recordSignInAttempt(email, address, true);
   const cookie = await startSession(request, user.id, actor.active?.organisation.id ?? null);
   await audit({ actorUserId: user.id, action: "signed_in", subjectType: "user", subjectId: user.id, clientAddress: address });
   return redirect(safeRedirect(submission.value.redirectTo, workspacePath(actor)), { headers: { "Set-Cookie": cookie } });
@@ -67,31 +71,26 @@ export default function SignIn() {
   });
   const busy = navigation.state !== "idle" && navigation.formAction?.startsWith("/sign-in");
   return (
-    <div className="mx-auto max-w-md px-4 py-16">
-      <div className="card">
-        <h1 className="text-2xl font-bold">Sign in</h1>
-        <p className="mt-1 text-sm text-ink-600">Clients, lab staff and admins sign in here.</p>
-        <Form method="post" className="mt-6 space-y-2" {...getFormProps(form)}>
-          <input type="hidden" name="redirectTo" value={params.get("redirectTo") ?? ""} />
-          <Field label="E-mail" id={fields.email.id} errors={fields.email.errors}>
-            <input className="input" autoComplete="email" {...getInputProps(fields.email, { type: "email" })} />
-          </Field>
-          <Field label="Password" id={fields.password.id} errors={fields.password.errors}>
-            <input className="input" autoComplete="current-password" {...getInputProps(fields.password, { type: "password" })} />
-          </Field>
-          <FormError errors={form.errors} />
-          <button type="submit" className="btn-primary w-full" disabled={busy}>
-            {busy ? "Signing in…" : "Sign in"}
-          </button>
-        </Form>
-        <p className="mt-6 text-center text-sm text-ink-600">
-          New here?{" "}
-          <Link to="/create-account" className="font-semibold text-beam-700 underline">
-            Create an account
-          </Link>
-        </p>
-      </div>
-    </div>
+    <AuthCard title="Sign in" intro="Clients, lab staff and admins sign in here." footer={{ question: "New here?", to: "/create-account", label: "Create an account" }}>
+      <Form method="post" className="mt-6 space-y-2" {...getFormProps(form)}>
+        <input type="hidden" name="redirectTo" value={params.get("redirectTo") ?? ""} />
+        <Field label="E-mail" id={fields.email.id} errors={fields.email.errors}>
+          <input className="input" autoComplete="email" {...getInputProps(fields.email, { type: "email" })} />
+        </Field>
+        <Field label="Password" id={fields.password.id} errors={fields.password.errors}>
+          <input className="input" autoComplete="current-password" {...getInputProps(fields.password, { type: "password" })} />
+        </Field>
+        <FormError errors={form.errors} />
+        <button type="submit" className="btn-primary w-full" disabled={busy}>
+          {busy ? "Signing in…" : "Sign in"}
+        </button>
+      </Form>
+      <p className="mt-4 text-center text-sm">
+        <Link to="/forgot-password" className="text-beam-700 underline">
+          Forgot your password?
+        </Link>
+      </p>
+    </AuthCard>
   );
 }
 
