@@ -3,6 +3,7 @@ import "react-router";
 import { createRequestHandler } from "@react-router/express";
 import express from "express";
 import type { NextFunction, Request, Response } from "express";
+import { databaseGate } from "~/utils/database-gate.server";
 
 export const app = express();
 app.disable("x-powered-by");
@@ -50,6 +51,9 @@ app.use((req: Request, res: Response, next: NextFunction) => {
   if (originAllowed(req)) return next();
   res.status(403).type("text/plain").send("Refused: this request came from another site.");
 });
+
+// While PostgreSQL is unreachable, a clear 503 page or JSON instead of an error from deep inside a loader.
+app.use(databaseGate);
 
 app.use(
   createRequestHandler({

@@ -41,12 +41,15 @@ export async function stopBoss() {
 }
 
 /** Registers every queue's handler and the schedules; the worker process calls this once. */
-export async function startWorkers(boss: PgBoss, { reviewWindowCron = "*/5 * * * *" } = {}) {
-  const { acceptLapsedDeliveries } = await import("~/models/payments.server");
+export async function startWorkers(boss: PgBoss, { reviewWindowCron = process.env.REVIEW_WINDOW_CRON || "*/5 * * * *" } = {}) {
+  const { acceptLapsedDeliveries, releasePendingPayouts } = await import("~/models/payments.server");
   await boss.schedule(QUEUES.reviewWindow, reviewWindowCron);
   await boss.work(QUEUES.reviewWindow, async () => {
     const accepted = await acceptLapsedDeliveries();
     if (accepted > 0) console.log(`review window: ${accepted} deliveries accepted automatically`);
+    // Payouts the provider failed to make after an acceptance are tried again on the same schedule.
+    const paid = await releasePendingPayouts();
+    if (paid > 0) console.log(`payouts: ${paid} delayed payouts released`);
   });
   const { runScanCheck } = await import("./scan-check.server");
   await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {

@@ -368,6 +368,10 @@ export async function refuseOnArrival(orderId: string, actorUserId: string, reas
   return order;
 }
 
+/** What the client is told when the acceptance is recorded but the provider did not answer the payout. */
+export const PAYOUT_DELAYED =
+  "Delivery accepted. The payment provider is not answering just now, so the lab's payout has not gone out yet; it is sent automatically within minutes, once.";
+
 /** The client accepts the delivered data (or the review window lapses): the lab is paid. */
 export async function acceptDelivery(orderId: string, mover: "client" | "system", actorUserId: string | null) {
   await db.transaction(async (tx) => {
@@ -395,6 +399,25 @@ export async function acceptLapsedDeliveries(now = new Date()) {
     }
   }
   return accepted;
+}
+
+/**
+ * Pays out accepted orders whose payout did not go through (the provider failed after the acceptance was
+ * recorded). The transfer's idempotency key is the order's, so a payout the provider did make is not repeated.
+ */
+export async function releasePendingPayouts(): Promise<number> {
+  const pending = await db.select({ id: schema.orders.id }).from(schema.orders).where(eq(schema.orders.state, "accepted"));
+  let paid = 0;
+  for (const { id } of pending) {
+    try {
+      await releasePayout(id);
+      paid++;
+    } catch (err) {
+      if (!(err instanceof PaymentProblem) && !(err instanceof OrderMoveRefused)) throw err;
+      console.warn(`payouts: order ${id} not paid out yet: ${(err as Error).message}`);
+    }
+  }
+  return paid;
 }
 
 /** The client opens a dispute on delivered data; the money stays frozen until an admin decides. */

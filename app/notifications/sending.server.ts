@@ -216,13 +216,26 @@ export async function startOutboxDispatcher(boss: PgBoss, { sweepMs = 5000 } = {
     client.on("notification", () => void run());
     client.on("error", (err) => {
       console.warn("mail dispatcher listener:", err.message);
+      // A client that never finished listening is retried by listen()'s own failure below.
+      const wasListening = listener === client;
       listener = null;
       client.end().catch(() => undefined);
-      if (!stopped) setTimeout(() => void listen().catch(() => undefined), 1000);
+      if (wasListening) relisten();
     });
     await client.connect();
     await client.query(`listen ${OUTBOX_CHANNEL}`);
     listener = client;
+  };
+  // After a lost connection (a database restart) keep trying every second until LISTEN is back, then sweep
+  // once for rows committed while nobody listened.
+  const relisten = () => {
+    if (stopped) return;
+    setTimeout(() => {
+      listen().then(() => void run(), (err) => {
+        console.warn("mail dispatcher listener:", (err as Error).message);
+        relisten();
+      });
+    }, 1000);
   };
   await listen();
   const timer = setInterval(() => void run(), sweepMs);

@@ -11,8 +11,8 @@
 //   stack.startWorker()            starts one more worker and resolves once it is consuming jobs
 //   stack.killWorker(w, signal?)   SIGKILL by default; resolves when the process has exited
 //   stack.startApp(port?) / stack.stopApp(app)   for multi-server tests
-//   stack.restartPostgres()        pg_ctl restart of the SHARED cluster: only from the "system" project,
-//                                  which runs after every other project
+//   stack.restartPostgres({ downMs }) restart of the SHARED cluster (stopped downMs between): only from the
+//                                  "system" project, which runs after every other project
 //   stack.stop()                   stops everything it started and drops the database
 // Logs go to .data/logs/system-<name>-*.log; the app must be built first (npm test builds it).
 import { spawn, execFileSync, type ChildProcess } from "node:child_process";
@@ -22,7 +22,6 @@ import path from "node:path";
 import pg from "pg";
 import { logDir, dataDir, root } from "../../services/paths";
 import { portOpen, waitForPort } from "../../services/process";
-import * as postgres from "../../services/postgres";
 import { cloneTemplate } from "../../services/test-db";
 
 export interface StackOptions {
@@ -84,6 +83,15 @@ async function kill(child: ChildProcess, signal: NodeJS.Signals) {
 }
 
 const FAKE_SCRIPTS = { s3: "services/s3-fake.ts", mail: "services/mail-fake.ts", payments: "services/payment-fake/index.ts" } as const;
+
+async function restartPostgres(downMs: number) {
+  const script = downMs > 0
+    ? `import("./services/postgres.ts").then(async (m) => { m.stop(); await new Promise((r) => setTimeout(r, ${downMs})); m.start(); })`
+    : `import("./services/postgres.ts").then((m) => m.restart())`;
+  const child = spawn(process.execPath, ["--import", "tsx", "--input-type=module", "-e", script], { cwd: root, stdio: ["ignore", "ignore", "inherit"] });
+  const code = await new Promise<number | null>((r) => child.once("exit", r));
+  if (code !== 0) throw new Error(`restarting PostgreSQL failed (exit ${code})`);
+}
 
 export async function startStack(opts: StackOptions) {
   if (!fs.existsSync(path.join(root, "build/server/index.js"))) {
@@ -258,8 +266,11 @@ export async function startStack(opts: StackOptions) {
     stopApp,
     startWorker,
     killWorker,
-    /** Restarts the shared PostgreSQL cluster in place (pg_ctl restart -m fast): every connection is cut. */
-    restartPostgres: () => postgres.restart(),
+    /**
+     * Restarts the shared PostgreSQL cluster (pg_ctl, fast mode: every connection is cut), in a child process
+     * so this one keeps running requests meanwhile; `downMs` keeps it stopped that long between stop and start.
+     */
+    restartPostgres: ({ downMs = 0 } = {}) => restartPostgres(downMs),
     stop,
   };
 }

@@ -18,7 +18,9 @@ async function timed(check: () => Promise<unknown>, ms = 3000): Promise<CheckRes
     ]);
     return "ok";
   } catch (err) {
-    return `failing: ${(err as Error).message || (err as Error).name}`;
+    // Drizzle wraps the driver's error ("Failed query: …"); the cause says what is wrong (refused, shutting down).
+    const e = ((err as { cause?: unknown }).cause ?? err) as Error;
+    return `failing: ${e.message || e.name}`;
   } finally {
     clearTimeout(timer);
   }

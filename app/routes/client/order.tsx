@@ -10,7 +10,7 @@ import { db, schema } from "~/db/client.server";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
 import { orderTimeline, OrderMoveRefused } from "~/models/orders.server";
 import { markShipped, shipmentOf } from "~/models/fulfilment.server";
-import { acceptDelivery, cancelOrder, openDispute, PaymentProblem, startCheckout } from "~/models/payments.server";
+import { acceptDelivery, cancelOrder, openDispute, PAYOUT_DELAYED, PaymentProblem, startCheckout } from "~/models/payments.server";
 import { formatMoney } from "~/models/money";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
@@ -71,7 +71,15 @@ export async function action({ request, params }: Route.ActionArgs) {
       return redirectWithToast(`/client/orders/${order.id}`, { kind: "success", message: "Marked shipped. The lab checks the parcel against its declaration on arrival." });
     }
     if (v.intent === "accept") {
-      await acceptDelivery(order.id, "client", actor.user.id);
+      try {
+        await acceptDelivery(order.id, "client", actor.user.id);
+      } catch (err) {
+        // The acceptance is committed before the payout is asked for; when only the payout failed, say so.
+        if (!(err instanceof PaymentProblem) || err.status !== 503) throw err;
+        const [now] = await db.select({ state: schema.orders.state }).from(schema.orders).where(eq(schema.orders.id, order.id));
+        if (now?.state !== "accepted") throw err;
+        return redirectWithToast(`/client/orders/${order.id}`, { kind: "info", message: PAYOUT_DELAYED });
+      }
       return redirectWithToast(`/client/orders/${order.id}`, { kind: "success", message: "Delivery accepted; the lab is being paid." });
     }
     await openDispute(order.id, actor.user.id, v.reason);
