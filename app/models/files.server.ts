@@ -40,7 +40,7 @@ import {
   type StartedUpload,
 } from "./files";
 import { ORDER_STATE_LABELS } from "./order-states";
-import { hasNul, NUL_REFUSAL } from "~/utils/form.server";
+import { hasNul, NUL_REFUSAL, readBodyText } from "~/utils/form.server";
 
 /** A refused upload step, with the sentence for the uploader and the HTTP status to answer with. */
 export class UploadProblem extends Error {
@@ -424,7 +424,7 @@ export async function answerUploadStep(step: () => Promise<Response>): Promise<R
 
 /** The JSON object a request carries; anything else is a 400 refusal. */
 export async function readJsonObject(request: Request, { emptyIsObject = false } = {}): Promise<Record<string, unknown>> {
-  const text = await request.text().catch(() => "");
+  const text = await readBodyText(request);
   if (!text.trim() && emptyIsObject) return {};
   let body: unknown = null;
   try {

@@ -1,0 +1,213 @@
+// Bad input that only exists on the wire: oversized and cut-off bodies, wrong Content-Types, bytes that are
+// not UTF-8, very long URLs, and markup that must come back escaped. The built app (server/main.ts) runs on a
+// spare port against this file's own database; each refusal is a 4xx with a sentence and changes no table.
+import { spawn, type ChildProcess } from "node:child_process";
+import fs from "node:fs";
+import net from "node:net";
+import path from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { waitForPort } from "../../services/process";
+import { root } from "../../services/paths";
+import { changedTables, snapshot } from "./db-snapshot";
+import { SAMPLE_FIELDS } from "./form-fixtures";
+
+const PASSWORD = "diffractory-demo";
+let server: ChildProcess | undefined;
+let base = "";
+let port = 0;
+let serverLog = "";
+let client = "";
+let draftId = "";
+
+async function freePort() {
+  return new Promise<number>((resolve) => {
+    const probe = net.createServer().listen(0, "127.0.0.1", () => {
+      const { port: p } = probe.address() as net.AddressInfo;
+      probe.close(() => resolve(p));
+    });
+  });
+}
+
+interface Answer {
+  status: number;
+  type: string;
+  body: string;
+  location: string | null;
+}
+
+async function send(pathname: string, init: RequestInit & { duplex?: "half" } = {}, cookie = client): Promise<Answer> {
+  const headers = new Headers(init.headers);
+  if (!headers.has("Origin") && init.method === "POST") headers.set("Origin", base);
+  if (cookie) headers.set("Cookie", cookie);
+  const res = await fetch(`${base}${pathname}`, { ...init, headers, redirect: "manual" });
+  return { status: res.status, type: res.headers.get("content-type") ?? "", body: await res.text(), location: res.headers.get("location") };
+}
+
+const post = (pathname: string, body: BodyInit, contentType: string, cookie = client) =>
+  send(pathname, { method: "POST", body, headers: { "Content-Type": contentType }, duplex: "half" }, cookie);
+
+/** Writes raw bytes to the server and reads whatever comes back until it closes (or 5 s pass). */
+async function rawExchange(bytes: Buffer, { halfClose = false } = {}) {
+  return new Promise<{ status: number | null; text: string }>((resolve) => {
+    const socket = net.connect(port, "127.0.0.1");
+    let text = "";
+    const done = () => {
+      const m = text.match(/^HTTP\/1\.1 (\d{3})/);
+      resolve({ status: m ? Number(m[1]) : null, text });
+    };
+    socket.on("data", (d) => (text += d.toString("latin1")));
+    socket.on("close", done);
+    socket.on("error", () => socket.destroy());
+    socket.setTimeout(5000, () => socket.destroy());
+    socket.write(bytes, () => {
+      if (halfClose) socket.end();
+    });
+  });
+}
+
+/** The sentence a page or JSON answer shows: the error page's paragraph, or the JSON's error. */
+function sentence(answer: Answer) {
+  if (answer.type.includes("json")) return (JSON.parse(answer.body) as { error?: string }).error ?? answer.body;
+  return answer.body
+    .replace(/<script[\s\S]*?<\/script>/g, "")
+    .replace(/<[^>]+>/g, " ")
+    .replace(/\s+/g, " ");
+}
+
+beforeAll(async () => {
+  if (!fs.existsSync(path.join(root, "build/server/index.js"))) {
+    throw new Error("The app is not built; run `npx react-router build` (npm test builds it first).");
+  }
+  const { seedDemo } = await import("~/demo/seed.server");
+  await seedDemo();
+  port = await freePort();
+  base = `http://127.0.0.1:${port}`;
+  server = spawn(process.execPath, ["--import", "tsx", "server/main.ts"], {
+    cwd: root,
+    env: { ...process.env, NODE_ENV: "production", DIFFRACTORY_LOCAL: "1", PORT: String(port), APP_URL: base },
+    stdio: ["ignore", "pipe", "pipe"],
+  });
+  server.stdout?.on("data", (d) => (serverLog += d));
+  server.stderr?.on("data", (d) => (serverLog += d));
+  await waitForPort(port, "the app under test");
+
+  const res = await fetch(`${base}/sign-in`, {
+    method: "POST",
+    body: new URLSearchParams({ email: "owner@halvorsen.example", password: PASSWORD }),
+    headers: { Origin: base, "Content-Type": "application/x-www-form-urlencoded" },
+    redirect: "manual",
+  });
+  expect(res.status).toBe(302);
+  client = res.headers.getSetCookie().find((c) => c.startsWith("diffractory_session="))!.split(";")[0];
+  const made = await post("/client/requests/new", new URLSearchParams({ title: "Cathode batch 12", technique: "powder_reflection", ...SAMPLE_FIELDS }), "application/x-www-form-urlencoded");
+  expect(made.status, made.body.slice(0, 300)).toBe(302);
+  draftId = made.location!.split("/")[3];
+}, 120_000);
+
+afterAll(async () => {
+  if (server && server.exitCode === null) {
+    server.kill("SIGTERM");
+    await new Promise((r) => server!.once("exit", r));
+  }
+});
+
+const FORM = "application/x-www-form-urlencoded";
+const samplesForm = (extra: Record<string, string> = {}) => new URLSearchParams({ title: "Cathode batch 13", technique: "powder_reflection", ...SAMPLE_FIELDS, ...extra }).toString();
+
+interface WireCase {
+  kind: string;
+  what: string;
+  send: () => Promise<Answer>;
+  status: number;
+  says: RegExp;
+}
+
+const BOUNDARY = "----diffractory-test-boundary";
+const CASES: WireCase[] = [
+  { kind: "oversized body", what: "a 2 MB form with its length declared", send: () => post("/client/requests/new", `${samplesForm()}&notes=${"x".repeat(2_000_000)}`, FORM), status: 413, says: /The request is too large: forms and API bodies are at most 1 MB/ },
+  {
+    kind: "oversized body",
+    what: "a 2 MB form sent in chunks without a declared length",
+    send: () => {
+      const chunk = new TextEncoder().encode(`a=${"x".repeat(64 * 1024)}&`);
+      let sent = 0;
+      const body = new ReadableStream<Uint8Array>({
+        pull(controller) {
+          if (sent++ >= 32) controller.close();
+          else controller.enqueue(chunk);
+        },
+      });
+      return post("/client/requests/new", body, FORM);
+    },
+    status: 413,
+    says: /at most 1 MB/,
+  },
+  { kind: "oversized body", what: "a 2 MB provider event", send: () => post("/api/webhooks/payments", JSON.stringify({ id: "evt_big", pad: "x".repeat(2_000_000) }), "application/json", ""), status: 413, says: /at most 1 MB/ },
+  {
+    kind: "truncated body",
+    what: "a multipart form cut off before its closing boundary",
+    send: () => post("/client/requests/new", `--${BOUNDARY}\r\nContent-Disposition: form-data; name="title"\r\n\r\nCathode batch 14\r\n--${BOUNDARY}\r\nContent-Disposition: form-data; name="technique"\r\n\r\npowder_refl`, `multipart/form-data; boundary=${BOUNDARY}`),
+    status: 400,
+    says: /The request could not be read; it may have been cut off on the way\./,
+  },
+  { kind: "wrong Content-Type", what: "the samples form sent as JSON", send: () => post("/client/requests/new", JSON.stringify({ title: "Cathode batch 15" }), "application/json"), status: 415, says: /This address takes a form/ },
+  { kind: "wrong Content-Type", what: "the samples form sent as plain text", send: () => post("/client/requests/new", samplesForm(), "text/plain"), status: 415, says: /This address takes a form/ },
+  { kind: "wrong Content-Type", what: "the hazards form with multipart but no boundary", send: () => post(`/client/requests/${draftId}/edit/hazards`, "samples[0].afterMeasurement=return", "multipart/form-data"), status: 415, says: /This address takes a form/ },
+  { kind: "wrong Content-Type", what: "marking notifications read with a CSV body", send: () => post("/api/notifications", "all=maybe", "text/csv"), status: 400, says: /Send \{"all": true\}/ },
+  { kind: "invalid UTF-8", what: "a form whose title bytes are Latin-1", send: () => post("/client/requests/new", Buffer.concat([Buffer.from(`${samplesForm()}&title=Kathodencharge `), Buffer.from([0xe4, 0xfc, 0xff])]), FORM), status: 400, says: /The form is not UTF-8 text/ },
+  { kind: "invalid UTF-8", what: "a form whose percent-escapes are not UTF-8", send: () => post("/client/requests/new", `${samplesForm()}&title=%FF%FEbatch`, FORM), status: 400, says: /The form is not UTF-8 text/ },
+  { kind: "invalid UTF-8", what: "a provider event whose bytes are not UTF-8", send: () => post("/api/webhooks/payments", Buffer.concat([Buffer.from('{"id": "evt_'), Buffer.from([0xc3, 0x28]), Buffer.from('"}')]), "application/json", ""), status: 400, says: /The request body is not UTF-8 text\./ },
+  { kind: "NUL byte in text", what: "a form field with %00", send: () => post("/client/requests/new", `${samplesForm()}&title=batch%00one`, FORM), status: 400, says: /NUL character/ },
+  { kind: "very long URL", what: "a 10,000-character directory search in the URL", send: () => send(`/api/labs?q=${"a".repeat(10_000)}`), status: 400, says: /q has at most 100 characters\./ },
+  { kind: "very long URL", what: "a 12,000-character order id in the path", send: () => send(`/client/orders/${"9".repeat(12_000)}`), status: 404, says: /No such order|not found|Not found/i },
+  { kind: "SQL metacharacters", what: "an order id that is an injection", send: () => send(`/client/orders/${encodeURIComponent("1' OR '1'='1")}`), status: 404, says: /No such order|not found|Not found/i },
+  { kind: "cross-site form", what: "a form posted from another site", send: () => send("/client/requests/new", { method: "POST", body: samplesForm(), headers: { "Content-Type": FORM, Origin: "https://evil.example" } }), status: 403, says: /Refused: this request came from another site\./ },
+];
+
+describe("bad input on the wire is refused with a sentence and changes nothing", () => {
+  for (const c of CASES) {
+    it(`${c.kind}: ${c.what}`, async () => {
+      const before = await snapshot();
+      const answer = await c.send();
+      const after = await snapshot();
+      expect(answer.status, answer.body.slice(0, 400)).toBe(c.status);
+      expect(sentence(answer)).toMatch(c.says);
+      expect(changedTables(before, after)).toEqual([]);
+    });
+  }
+
+  it("a URL longer than the server reads (40,000 characters) is 431 with a sentence", async () => {
+    const answer = await rawExchange(Buffer.from(`GET /labs?q=${"a".repeat(40_000)} HTTP/1.1\r\nHost: 127.0.0.1\r\n\r\n`));
+    expect(answer.status).toBe(431);
+    expect(answer.text).toMatch(/The address or headers are too long/);
+  });
+
+  it("a body that stops before its declared length gets no 500, changes nothing, and the server carries on", async () => {
+    const before = await snapshot();
+    const body = samplesForm().slice(0, 120);
+    const head = `POST /client/requests/new HTTP/1.1\r\nHost: 127.0.0.1:${port}\r\nOrigin: ${base}\r\nCookie: ${client}\r\nContent-Type: ${FORM}\r\nContent-Length: 5000\r\n\r\n`;
+    const answer = await rawExchange(Buffer.from(head + body), { halfClose: true });
+    // The client has stopped sending: the server either answers 400 or simply closes; never 5xx.
+    if (answer.status !== null) expect(answer.status).toBe(400);
+    expect(changedTables(before, await snapshot())).toEqual([]);
+    expect((await send("/api/health", {}, "")).status).toBe(200);
+  });
+
+  it("markup and script in a title and a label are stored as text and shown escaped", async () => {
+    const script = '<script>alert("owned")</script>';
+    const img = "<img src=x onerror=alert(1)>";
+    const made = await post("/client/requests/new", samplesForm({ title: `Batch ${script}`, "samples[0].label": `LFP ${img}` }), FORM);
+    expect(made.status, made.body.slice(0, 300)).toBe(302);
+    const id = made.location!.split("/")[3];
+    for (const page of [`/client/requests/${id}/edit/samples`, "/client/requests"]) {
+      const html = (await send(page)).body;
+      expect(html, page).toContain("Batch &lt;script&gt;");
+      expect(html, page).not.toContain(script);
+      expect(html, page).not.toContain(img);
+    }
+  });
+
+  it("logged no unexpected server error while refusing all of the above", () => {
+    expect(serverLog).not.toMatch(/TypeError|SyntaxError|ReferenceError|Unhandled|error: (null value|invalid byte|value out of range)/);
+  });
+});
