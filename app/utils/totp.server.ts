@@ -2,6 +2,7 @@
 // and the enrolment QR code rendered on the server (qrcode) so no script is needed to show it.
 import * as OTPAuth from "otpauth";
 import QRCode from "qrcode";
+import type { TotpRefusal } from "./totp-messages";
 
 export const TOTP_PERIOD = 30;
 export const TOTP_DIGITS = 6;
@@ -26,7 +27,7 @@ export function totpCodeAt(secretBase32: string, step: number) {
   return totp(secretBase32).generate({ timestamp: step * TOTP_PERIOD * 1000 });
 }
 
-export type TotpCheck = { ok: true; step: number } | { ok: false; reason: "malformed" | "wrong" | "replayed" };
+export type TotpCheck = { ok: true; step: number } | { ok: false; reason: TotpRefusal };
 
 export const normaliseCode = (code: string) => code.replace(/[\s-]/g, "");
 
@@ -44,11 +45,7 @@ export function checkTotpCode(secretBase32: string, code: string, lastStep: numb
   return { ok: true, step };
 }
 
-export const TOTP_MESSAGES: Record<Exclude<TotpCheck, { ok: true }>["reason"], string> = {
-  malformed: "Enter the 6-digit code from your authenticator app.",
-  wrong: "That code is not right. Check the clock of the device and try the current code.",
-  replayed: "That code was already used. Wait for the next code and enter it.",
-};
+export { TOTP_MESSAGES } from "./totp-messages";
 
 /** The otpauth:// URI an authenticator app reads, and the same as a QR code in an SVG data URL. */
 export async function enrolmentPicture(secretBase32: string, email: string) {

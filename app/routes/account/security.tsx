@@ -9,6 +9,7 @@ import { TotpCodeField } from "~/components/totp-code-field";
 import { Badge, Field, FormError, PageHeader } from "~/components/ui";
 import { changePassword, confirmTotpEnrolment, disableTotp, startTotpEnrolment } from "~/models/account-security.server";
 import { currentPasswordField, newPasswordPair } from "~/models/password-rules";
+import { readForm } from "~/utils/form.server";
 import { requireUser, workspacePath } from "~/utils/permissions.server";
 import { startSession } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -46,7 +47,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 export async function action({ request, context }: Route.ActionArgs) {
   const actor = await requireUser(request);
   const { user } = actor;
-  const form = await request.formData();
+  const form = await readForm(request);
   const intent = form.get("intent");
   if (!isIntent(intent)) return data({ intent: null, result: null, error: "Unknown request." }, { status: 400 });
   const submission = parseWithZod(form, { schema: SCHEMAS[intent] });

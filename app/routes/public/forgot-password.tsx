@@ -7,6 +7,7 @@ import { z } from "zod";
 import { AuthCard } from "~/components/auth-card";
 import { Field, FormError } from "~/components/ui";
 import { requestPasswordReset, RESET_REQUESTED, RESET_TOO_MANY } from "~/models/password-reset.server";
+import { readForm } from "~/utils/form.server";
 import { requireAnonymous } from "~/utils/permissions.server";
 import type { Route } from "./+types/forgot-password";
 
@@ -23,13 +24,13 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request, context }: Route.ActionArgs) {
   await requireAnonymous(request);
-  const submission = parseWithZod(await request.formData(), { schema: ForgotSchema });
+  const submission = parseWithZod(await readForm(request), { schema: ForgotSchema });
   if (submission.status !== "success") return data({ result: submission.reply(), sent: false }, { status: 400 });
   const result = await requestPasswordReset({ email: submission.value.email, clientAddress: context.clientAddress });
   if (!result.ok) {
     return data({ result: submission.reply({ formErrors: [RESET_TOO_MANY] }), sent: false }, { status: 429, headers: { "Retry-After": String(result.retryAfterSeconds) } });
   }
-  return { result: submission.reply({ resetForm: true }), sent: true };
+  return { result: submission.reply({ resetForm: true }), sent: true, message: RESET_REQUESTED };
 }
 
 export default function ForgotPassword() {
@@ -43,9 +44,9 @@ export default function ForgotPassword() {
   });
   return (
     <AuthCard title="Forgot your password?" intro="Enter the e-mail address of your account. We send it a link to choose a new password." footer={{ question: "Remembered it?", to: "/sign-in", label: "Sign in" }}>
-      {actionData?.sent ? (
+      {actionData && "message" in actionData ? (
         <p role="status" className="mt-4 rounded-md bg-beam-50 px-3 py-2 text-sm text-beam-700">
-          {RESET_REQUESTED}
+          {actionData.message}
         </p>
       ) : null}
       <Form method="post" className="mt-6 space-y-2" {...getFormProps(form)}>

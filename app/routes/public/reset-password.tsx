@@ -8,6 +8,7 @@ import { NewPasswordFields } from "~/components/new-password-fields";
 import { FormError } from "~/components/ui";
 import { newPasswordPair } from "~/models/password-rules";
 import { resetPassword, resolveResetToken, RESET_PROBLEMS } from "~/models/password-reset.server";
+import { readForm } from "~/utils/form.server";
 import { sessionCookie } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/reset-password";
@@ -26,7 +27,7 @@ export async function loader({ params }: Route.LoaderArgs) {
 export async function action({ request, params, context }: Route.ActionArgs) {
   const found = await resolveResetToken(params.token);
   if (found.status !== "valid") return data({ result: null, problem: RESET_PROBLEMS[found.status] }, { status: problemStatus(found.status) });
-  const submission = parseWithZod(await request.formData(), { schema: ResetSchema });
+  const submission = parseWithZod(await readForm(request), { schema: ResetSchema });
   if (submission.status !== "success") return data({ result: submission.reply({ hideFields: ["password", "confirm"] }), problem: null }, { status: 400 });
   const result = await resetPassword({ token: params.token, password: submission.value.password, clientAddress: context.clientAddress });
   if (!result.ok) return data({ result: submission.reply({ hideFields: ["password", "confirm"] }), problem: RESET_PROBLEMS[result.status] }, { status: problemStatus(result.status) });

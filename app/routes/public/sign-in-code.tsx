@@ -10,12 +10,13 @@ import { TotpCodeField } from "~/components/totp-code-field";
 import { FormError } from "~/components/ui";
 import { acceptTotpCode, SECOND_FACTOR_TRIES } from "~/models/account-security.server";
 import { audit } from "~/utils/audit.server";
+import { readForm } from "~/utils/form.server";
 import { actorFor, requireSecondFactorPending, workspacePath } from "~/utils/permissions.server";
 import { safeRedirect } from "~/utils/safe-redirect";
 import { countSecondFactorFailure, endSession, startSession } from "~/utils/session.server";
 import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/utils/sign-in-limit.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { TOTP_MESSAGES } from "~/utils/totp.server";
+import { TOTP_MESSAGES } from "~/utils/totp-messages";
 import type { Route } from "./+types/sign-in-code";
 
 const CodeSchema = z.object({
@@ -31,7 +32,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request, context }: Route.ActionArgs) {
   const { user, session } = await requireSecondFactorPending(request);
-  const form = await request.formData();
+  const form = await readForm(request);
   if (form.get("intent") === "cancel") {
     return redirect("/sign-in", { headers: { "Set-Cookie": await endSession(request) } });
   }

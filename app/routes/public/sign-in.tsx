@@ -8,6 +8,7 @@ import { AuthCard } from "~/components/auth-card";
 import { Field, FormError } from "~/components/ui";
 import { audit } from "~/utils/audit.server";
 import { authenticator, normaliseEmail, WrongCredentials } from "~/utils/auth.server";
+import { readForm } from "~/utils/form.server";
 import { actorFor, requireAnonymous, workspacePath } from "~/utils/permissions.server";
 import { safeRedirect } from "~/utils/safe-redirect";
 import { startSession } from "~/utils/session.server";
@@ -28,7 +29,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 export async function action({ request, context }: Route.ActionArgs) {
   await requireAnonymous(request);
   // The form strategy reads the body itself, so validation reads a clone.
-  const formData = await request.clone().formData();
+  const formData = await readForm(request.clone());
   const submission = parseWithZod(formData, { schema: SignInSchema });
   if (submission.status !== "success") {
     return data({ result: submission.reply({ hideFields: ["password"] }) }, { status: 400 });
