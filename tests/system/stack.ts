@@ -233,7 +233,10 @@ export async function startStack(opts: StackOptions) {
   }
 
   async function stop() {
-    await Promise.all([...children].map((c) => kill(c, "SIGTERM").catch(() => undefined)));
+    // SIGTERM, then at most 10 s of grace: once, with the cluster restarted during teardown, a child never
+    // exited on SIGTERM and the hook hung until its 180 s timeout.
+    const grace = () => new Promise((r) => setTimeout(r, 10_000).unref());
+    await Promise.all([...children].map((c) => Promise.race([kill(c, "SIGTERM"), grace()]).catch(() => undefined)));
     // Anything that ignored SIGTERM within the grace period is killed.
     await Promise.all([...children].map((c) => kill(c, "SIGKILL").catch(() => undefined)));
     await db.drop().catch(() => undefined);
