@@ -30,7 +30,12 @@ export function getBoss(): Promise<PgBoss> {
     for (const name of Object.values(QUEUES)) await boss.createQueue(name);
     return boss;
   })();
-  return g.__diffractoryBoss;
+  // A start that failed (the database was unreachable) is not kept: the next caller tries again.
+  const started = g.__diffractoryBoss;
+  started.catch(() => {
+    if (g.__diffractoryBoss === started) delete g.__diffractoryBoss;
+  });
+  return started;
 }
 
 export async function stopBoss() {
