@@ -5,6 +5,8 @@ declare module "react-router" {
   interface AppLoadContext {
     /** The caller's address as the server saw it (used for sign-in limits and the audit log). */
     clientAddress: string;
+    /** This response's Content-Security-Policy nonce (server/app.ts); absent outside the HTTP server. */
+    cspNonce?: string;
   }
 }
 

@@ -5,6 +5,7 @@ import { data, Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteLoaderDa
 import type { Route } from "./+types/root";
 import "./app.css";
 import { GeneralErrorBoundary } from "./components/error-boundary";
+import { useNonce } from "./nonce";
 import { ToastMessage } from "./components/toast";
 import { readToast } from "./utils/toast.server";
 
@@ -16,6 +17,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export function Layout({ children }: { children: ReactNode }) {
   const root = useRouteLoaderData<typeof loader>("root");
+  const nonce = useNonce();
   return (
     <html lang="en">
       <head>
@@ -28,8 +30,8 @@ export function Layout({ children }: { children: ReactNode }) {
       <body className="min-h-screen">
         {children}
         {root?.toast ? <ToastMessage toast={root.toast} /> : null}
-        <ScrollRestoration />
-        <Scripts />
+        <ScrollRestoration nonce={nonce} />
+        <Scripts nonce={nonce} />
       </body>
     </html>
   );

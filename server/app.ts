@@ -4,6 +4,7 @@ import { createRequestHandler } from "@react-router/express";
 import express from "express";
 import type { NextFunction, Request, Response } from "express";
 import { databaseGate } from "~/utils/database-gate.server";
+import { contentSecurityPolicy, newNonce } from "~/utils/csp.server";
 
 export const app = express();
 app.disable("x-powered-by");
@@ -19,8 +20,13 @@ export function trustProxySetting(value: string): boolean | number | string {
 }
 
 const local = process.env.NODE_ENV !== "production" || process.env.DIFFRACTORY_LOCAL === "1";
+const development = process.env.NODE_ENV !== "production";
 
 app.use((_req: Request, res: Response, next: NextFunction) => {
+  // A fresh nonce per response; React Router's own inline scripts carry it (app/entry.server.tsx, root.tsx).
+  const nonce = newNonce();
+  res.locals.cspNonce = nonce;
+  res.setHeader("Content-Security-Policy", contentSecurityPolicy(nonce, { development }));
   res.setHeader("X-Content-Type-Options", "nosniff");
   res.setHeader("Referrer-Policy", "strict-origin-when-cross-origin");
   res.setHeader("X-Frame-Options", "DENY");
@@ -58,8 +64,8 @@ app.use(databaseGate);
 app.use(
   createRequestHandler({
     build: () => import("virtual:react-router/server-build"),
-    getLoadContext(req) {
-      return { clientAddress: req.ip ?? req.socket.remoteAddress ?? "unknown" };
+    getLoadContext(req, res) {
+      return { clientAddress: req.ip ?? req.socket.remoteAddress ?? "unknown", cspNonce: String(res.locals.cspNonce ?? "") };
     },
   }),
 );

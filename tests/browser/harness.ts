@@ -4,6 +4,8 @@ import os from "node:os";
 import path from "node:path";
 import { chromium, type BrowserContext, type Page } from "playwright-core";
 import { root } from "../../services/paths";
+import { DEMO_ADMIN_TOTP_SECRET } from "../../app/demo/demo-secrets";
+import { freshTotpCode } from "../integration/route-call";
 
 export const BASE_URL = `http://127.0.0.1:${process.env.TEST_APP_PORT ?? 3100}`;
 export const SCREENSHOT_DIR = path.join(root, "test-results", "screenshots");
@@ -59,11 +61,35 @@ export async function waitForHydration(page: Page) {
   await page.waitForFunction(() => document.documentElement.dataset.hydrated === "true");
 }
 
-export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
+/** Second-factor keys of the seeded accounts that have one. */
+const TOTP_KEYS: Record<string, string> = { "admin@diffractory.example": DEMO_ADMIN_TOTP_SECRET };
+// The last time step each key's code was used in, across the browser test files (they share one database).
+const STEPS_FILE = path.join(root, ".data", "browser-totp-steps.json");
+
+/** A code the app has not accepted yet: a used time step is refused (RFC 6238 §5.2), so this waits when it must. */
+export async function nextTotpCode(key: string) {
+  const used: Record<string, number> = fs.existsSync(STEPS_FILE) ? JSON.parse(fs.readFileSync(STEPS_FILE, "utf8")) : {};
+  const { step, code } = await freshTotpCode(key, used[key] ?? null);
+  fs.mkdirSync(path.dirname(STEPS_FILE), { recursive: true });
+  fs.writeFileSync(STEPS_FILE, JSON.stringify({ ...used, [key]: step }));
+  return code;
+}
+
+/** Types the code of the key on the sign-in code screen. */
+export async function enterTotpCode(page: Page, key: string) {
+  await page.waitForURL(/\/sign-in\/code/);
+  await waitForHydration(page);
+  await page.getByLabel("Code").fill(await nextTotpCode(key));
+  await page.getByRole("button", { name: "Verify and sign in" }).click();
+}
+
+/** Signs in on the sign-in screen; someone with a second factor also gets the code screen filled in. */
+export async function signIn(page: Page, email: string, password = DEMO_PASSWORD, totpKey: string | undefined = TOTP_KEYS[email]) {
   await visit(page, "/sign-in");
   await page.getByLabel("E-mail").fill(email);
   await page.getByLabel("Password").fill(password);
   await page.getByRole("button", { name: "Sign in" }).click();
+  if (totpKey) await enterTotpCode(page, totpKey);
 }
 
 export async function signOut(page: Page) {

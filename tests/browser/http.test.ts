@@ -40,6 +40,41 @@ describe("HTTP surface", () => {
     expect(res.headers.get("x-content-type-options")).toBe("nosniff");
     expect(res.headers.get("referrer-policy")).toBe("strict-origin-when-cross-origin");
     expect(res.headers.get("x-frame-options")).toBe("DENY");
+    // Local runs (DIFFRACTORY_LOCAL=1) are plain HTTP: no HSTS, which would pin the browser to HTTPS here.
+    expect(res.headers.get("strict-transport-security")).toBeNull();
+  });
+
+  it("sends a Content-Security-Policy whose per-response nonce is on every script tag, and no inline script without it", async () => {
+    const policyOf = (res: Response) =>
+      Object.fromEntries((res.headers.get("content-security-policy") ?? "").split(";").map((d) => d.trim().split(/\s+/)).map(([name, ...values]) => [name, values]));
+    const pages = await Promise.all(["/", "/sign-in", "/labs"].map((p) => fetch(`${BASE_URL}${p}`)));
+    const nonces = new Set<string>();
+    for (const res of pages) {
+      const policy = policyOf(res);
+      expect(policy["default-src"]).toEqual(["'self'"]);
+      expect(policy["frame-ancestors"]).toEqual(["'none'"]);
+      expect(policy["object-src"]).toEqual(["'none'"]);
+      expect(policy["base-uri"]).toEqual(["'self'"]);
+      expect(policy["form-action"]).toEqual(["'self'"]);
+      expect(policy["img-src"]).toEqual(["'self'", "data:", "blob:"]);
+      // Uploads go from the browser straight to the object store (the S3 fake here).
+      expect(policy["connect-src"]).toEqual(["'self'", "http://127.0.0.1:54330"]);
+      expect(policy["style-src-elem"]).toEqual(["'self'"]);
+      const scriptSrc = policy["script-src"];
+      expect(scriptSrc).not.toContain("'unsafe-inline'");
+      expect(scriptSrc).not.toContain("'unsafe-eval'");
+      const nonce = scriptSrc.find((v: string) => v.startsWith("'nonce-"))?.slice(7, -1);
+      expect(nonce).toMatch(/^[A-Za-z0-9+/]{24}$/);
+      nonces.add(nonce!);
+      const html = await res.text();
+      const scripts = [...html.matchAll(/<script\b[^>]*>/g)].map((m) => m[0]);
+      expect(scripts.length).toBeGreaterThan(0);
+      for (const tag of scripts) expect(tag, tag).toContain(`nonce="${nonce}"`);
+      expect(html).not.toMatch(/\son[a-z]+="/);
+    }
+    expect(nonces.size).toBe(pages.length);
+    // JSON and resource answers carry the policy too.
+    expect(policyOf(await fetch(`${BASE_URL}/api/health`))["frame-ancestors"]).toEqual(["'none'"]);
   });
 
   it("serves the shipped DM Sans font from the app's own assets", async () => {
