@@ -2,7 +2,7 @@
 import { data, useLoaderData } from "react-router";
 import { EmptyState, PageHeader } from "~/components/ui";
 import { config } from "~/config.server";
-import { notFound, requireUser } from "~/utils/permissions.server";
+import { notFound, requireAdmin, requireUser } from "~/utils/permissions.server";
 import type { Route } from "./+types/mail";
 
 interface FakeMessage {
@@ -17,6 +17,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   if (config.isProduction) notFound();
   const actor = await requireUser(request);
   if (!actor.user.isAdmin) notFound();
+  // Reset links pass through here: an admin needs the second factor, as on every admin screen.
+  await requireAdmin(request);
   try {
     const res = await fetch(new URL("/_fake/messages", config.mail.baseUrl), { signal: AbortSignal.timeout(3000) });
     if (!res.ok) throw new Error(`status ${res.status}`);
