@@ -3,6 +3,7 @@ import "react-router";
 import { createRequestHandler } from "@react-router/express";
 import express from "express";
 import type { NextFunction, Request, Response } from "express";
+import { publicCache } from "~/utils/public-cache.server";
 import { databaseGate } from "~/utils/database-gate.server";
 import { contentSecurityPolicy, newNonce } from "~/utils/csp.server";
 
@@ -61,9 +62,13 @@ app.use((req: Request, res: Response, next: NextFunction) => {
 // While PostgreSQL is unreachable, a clear 503 page or JSON instead of an error from deep inside a loader.
 app.use(databaseGate);
 
+// Answers marked public (the directory API) are served from memory for a few seconds.
+app.use(publicCache);
+
 app.use(
   createRequestHandler({
-    build: () => import("virtual:react-router/server-build"),
+    // Built once in production; in development Vite hands over the current build on every request.
+    build: process.env.NODE_ENV === "production" ? await import("virtual:react-router/server-build") : () => import("virtual:react-router/server-build"),
     getLoadContext(req, res) {
       return { clientAddress: req.ip ?? req.socket.remoteAddress ?? "unknown", cspNonce: String(res.locals.cspNonce ?? "") };
     },

@@ -1,6 +1,7 @@
 // Starts Diffractory's web server: Vite middleware with hot reload in development, the built app otherwise.
 import express from "express";
 import compression from "compression";
+import fs from "node:fs";
 import path from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
 
@@ -30,7 +31,17 @@ if (dev) {
   const clientDir = path.join(root, "build/client");
   // Fingerprinted assets never change; everything else is revalidated.
   server.use("/assets", express.static(path.join(clientDir, "assets"), { immutable: true, maxAge: "1y" }));
-  server.use(express.static(clientDir, { maxAge: "1h" }));
+  // The few other public files are known at start, so only their paths reach the disk; every other request
+  // would otherwise cost a failed stat() (and an Error) before the app sees it.
+  const publicFiles = new Set(
+    fs
+      .readdirSync(clientDir, { recursive: true, withFileTypes: true })
+      .filter((e) => e.isFile())
+      .map((e) => "/" + path.relative(clientDir, path.join(e.parentPath, e.name)).split(path.sep).join("/"))
+      .filter((p) => !p.startsWith("/assets/")),
+  );
+  const publicStatic = express.static(clientDir, { maxAge: "1h", index: false });
+  server.use((req, res, next) => (publicFiles.has(req.path) ? publicStatic(req, res, next) : next()));
   const built = (await import(pathToFileURL(path.join(root, "build/server/index.js")).href)) as { app: express.Express };
   server.use(built.app);
 }

@@ -2,6 +2,7 @@
 import { and, asc, eq, inArray } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import { audit } from "~/utils/audit.server";
+import { invalidateDirectory } from "./directory.server";
 import { notFound } from "~/utils/permissions.server";
 import type { InstrumentInput, StageInput } from "./capabilities";
 import type { PriceListInput } from "./price-list";
@@ -11,8 +12,11 @@ export interface Actor {
   clientAddress?: string;
 }
 
-const record = (labId: string, actor: Actor, action: string, subjectType: string, subjectId: string, details: Record<string, unknown> = {}) =>
-  audit({ actorUserId: actor.userId, organisationId: labId, action, subjectType, subjectId, clientAddress: actor.clientAddress, details });
+/** Every change here is audited, and changes what the public directory shows, so its cache is cleared. */
+const record = (labId: string, actor: Actor, action: string, subjectType: string, subjectId: string, details: Record<string, unknown> = {}) => {
+  invalidateDirectory();
+  return audit({ actorUserId: actor.userId, organisationId: labId, action, subjectType, subjectId, clientAddress: actor.clientAddress, details });
+};
 
 /** The lab's instruments, oldest first, each with its sample stages. */
 export async function listInstruments(labId: string) {

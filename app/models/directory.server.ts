@@ -1,6 +1,8 @@
 // The public lab directory: approved labs filtered by what their instruments, stages, hazards and prices allow.
+import { createHash } from "node:crypto";
 import { sql, type SQL } from "drizzle-orm";
 import { db } from "~/db/client.server";
+import { purgePublicCache } from "~/utils/public-cache.server";
 import { ANODE_LINES, ANODES } from "~/diffraction/wavelengths";
 import { PAGE_SIZE, type DirectoryFilters } from "./directory";
 
@@ -24,6 +26,23 @@ export interface DirectoryLab {
   currency: string | null;
   turnaroundDays: number | null;
 }
+
+/** A row of the directory query. */
+export type DirectoryRow = {
+  slug: string;
+  name: string;
+  city: string | null;
+  country: string | null;
+  techniques: string[] | null;
+  sources: string[] | null;
+  min_d: number | null;
+  t_min: number | null;
+  t_max: number | null;
+  price_from: number | null;
+  currency: string | null;
+  turnaround_days: number | null;
+  total: string;
+};
 
 export async function searchDirectory(f: DirectoryFilters): Promise<{ labs: DirectoryLab[]; total: number; page: number }> {
   const where: SQL[] = [sql`l.vetting_state = 'approved'`];
@@ -52,21 +71,7 @@ export async function searchDirectory(f: DirectoryFilters): Promise<{ labs: Dire
     where.push(sql`(o.name ilike ${like} or o.city ilike ${like} or o.country ilike ${like} or l.description ilike ${like})`);
   }
   const offset = (f.page - 1) * PAGE_SIZE;
-  const result = await db.execute<{
-    slug: string;
-    name: string;
-    city: string | null;
-    country: string | null;
-    techniques: string[] | null;
-    sources: string[] | null;
-    min_d: number | null;
-    t_min: number | null;
-    t_max: number | null;
-    price_from: number | null;
-    currency: string | null;
-    turnaround_days: number | null;
-    total: string;
-  }>(sql`
+  const result = await db.execute<DirectoryRow>(sql`
     with page as (
       select l.organisation_id as id, o.slug, o.name, o.city, o.country,
         ${priceExpr} as price_from, p.currency, p.turnaround_days,
@@ -93,19 +98,24 @@ export async function searchDirectory(f: DirectoryFilters): Promise<{ labs: Dire
   return {
     page: f.page,
     total: rows.length ? Number(rows[0].total) : offset === 0 ? 0 : await countDirectory(where),
-    labs: rows.map((r) => ({
-      slug: r.slug,
-      name: r.name,
-      city: r.city,
-      country: r.country,
-      techniques: r.techniques ?? [],
-      sources: r.sources ?? [],
-      minD: r.min_d === null ? null : Math.round(Number(r.min_d) * 10_000) / 10_000,
-      temperatureRangeK: r.t_min === null || r.t_max === null ? null : [Number(r.t_min), Number(r.t_max)],
-      priceFrom: r.price_from === null ? null : Number(r.price_from),
-      currency: r.currency,
-      turnaroundDays: r.turnaround_days,
-    })),
+    labs: rows.map(directoryLab),
+  };
+}
+
+/** A directory row as the API answers it (the load benchmark's bare handler maps its rows with this too). */
+export function directoryLab(r: DirectoryRow): DirectoryLab {
+  return {
+    slug: r.slug,
+    name: r.name,
+    city: r.city,
+    country: r.country,
+    techniques: r.techniques ?? [],
+    sources: r.sources ?? [],
+    minD: r.min_d === null ? null : Math.round(Number(r.min_d) * 10_000) / 10_000,
+    temperatureRangeK: r.t_min === null || r.t_max === null ? null : [Number(r.t_min), Number(r.t_max)],
+    priceFrom: r.price_from === null ? null : Number(r.price_from),
+    currency: r.currency,
+    turnaroundDays: r.turnaround_days,
   };
 }
 
@@ -118,4 +128,48 @@ async function countDirectory(where: SQL[]) {
     left join hazard_acceptance h on h.lab_id = l.organisation_id
     where ${sql.join(where, sql` and `)}`);
   return Number(r.rows[0].n);
+}
+
+// ───────────── A short-lived cache of directory answers ─────────────
+// Every visitor's filter change asks /api/labs; under load most asks repeat a few filters. Answers are kept
+// for DIRECTORY_CACHE_MS (5 s; 0 turns the cache off) per filter set, at most MAX_ENTRIES of them. A change to
+// a lab's capabilities, prices, hazards or vetting on this server clears the cache at once
+// (invalidateDirectory); another app server's change shows here within the TTL, well inside the 30 s the
+// API already lets browsers and proxies keep an answer.
+
+export interface CachedDirectory {
+  result: Awaited<ReturnType<typeof searchDirectory>>;
+  /** The JSON body of the API answer, and its entity tag (RFC 9110 §8.8.3). */
+  body: string;
+  etag: string;
+}
+
+const CACHE_TTL_MS = Number(process.env.DIRECTORY_CACHE_MS ?? 5000);
+const MAX_ENTRIES = 500;
+const cache = new Map<string, { at: number; value: Promise<CachedDirectory> }>();
+
+/** Forgets every cached directory answer; called after any change that the directory shows. */
+export function invalidateDirectory() {
+  cache.clear();
+  purgePublicCache("/api/labs");
+}
+
+/** The directory answer for the filters, from the cache when it is fresh; concurrent misses share one query. */
+export function cachedDirectory(f: DirectoryFilters): Promise<CachedDirectory> {
+  const key = JSON.stringify(f);
+  const now = Date.now();
+  const hit = cache.get(key);
+  if (hit && now - hit.at < CACHE_TTL_MS) return hit.value;
+  const value = searchDirectory(f).then((result) => {
+    const body = JSON.stringify(result);
+    return { result, body, etag: `"${createHash("sha1").update(body).digest("base64url")}"` };
+  });
+  if (CACHE_TTL_MS > 0) {
+    cache.delete(key);
+    cache.set(key, { at: now, value });
+    if (cache.size > MAX_ENTRIES) cache.delete(cache.keys().next().value!);
+    // A failed query is not remembered.
+    value.catch(() => cache.get(key)?.value === value && cache.delete(key));
+  }
+  return value;
 }

@@ -5,6 +5,7 @@ import { db, schema } from "~/db/client.server";
 import type { Lab } from "~/db/schema";
 import { notify } from "~/notifications/outbox.server";
 import { audit } from "~/utils/audit.server";
+import { invalidateDirectory } from "./directory.server";
 import { notFound } from "~/utils/permissions.server";
 import {
   DECISIONS,
@@ -128,7 +129,7 @@ export async function decideVetting(input: {
   overrideReason?: string;
 }) {
   const rule = DECISIONS[input.decision];
-  return db.transaction(async (tx) => {
+  const decided = await db.transaction(async (tx) => {
     const [current] = await tx.select().from(schema.labs).where(eq(schema.labs.organisationId, input.labId)).for("update");
     if (!current) notFound("There is no such lab.");
     if (!(rule.from as readonly VettingState[]).includes(current.vettingState)) {
@@ -162,6 +163,9 @@ export async function decideVetting(input: {
     await notify(tx, { kind: "lab_decided", labId: input.labId, to: rule.to, note: input.note });
     return { from: current.vettingState, to: rule.to, override };
   });
+  // Approval, suspension and reinstatement change who the public directory lists.
+  invalidateDirectory();
+  return decided;
 }
 
 /** Every lab with its organisation, for the vetting queue; in_review first, then by last change. */

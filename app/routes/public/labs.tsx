@@ -3,7 +3,7 @@ import { keepPreviousData, useQuery } from "@tanstack/react-query";
 import { Link, useLoaderData, useSearchParams } from "react-router";
 import { EmptyState, PageHeader } from "~/components/ui";
 import { PAGE_SIZE, TECHNIQUES, parseDirectoryQuery } from "~/models/directory";
-import { searchDirectory, type DirectoryLab } from "~/models/directory.server";
+import { cachedDirectory, type DirectoryLab } from "~/models/directory.server";
 import { GHS_CODES, SPECIAL_CATEGORY_CODES, ghsName } from "~/models/hazard-codes";
 import { labelOf } from "~/models/matching";
 import { ANODES } from "~/diffraction/wavelengths";
@@ -16,7 +16,7 @@ type DirectoryResult = { labs: DirectoryLab[]; total: number; page: number };
 export async function loader({ request }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const parsed = parseDirectoryQuery(url.searchParams);
-  const initial = parsed.ok ? await searchDirectory(parsed.filters) : null;
+  const initial = parsed.ok ? (await cachedDirectory(parsed.filters)).result : null;
   return {
     initial,
     initialQuery: url.searchParams.toString(),
