@@ -37,9 +37,23 @@ export async function invitedLabIds(requestId: string) {
   return rows.map((r) => r.labId);
 }
 
-/** The organisation's requests, newest first, with their sample and quote counts. */
-export async function listOrganisationRequests(organisationId: string) {
-  return db
+export const REQUESTS_PAGE_SIZE = 50;
+
+/**
+ * One page of the organisation's requests, grouped by state in the order of the request states (draft,
+ * open, awarded, expired, withdrawn) and newest first within a state, with their sample and quote counts;
+ * and how many requests are in each state. The (organisation, state, created_at) index serves the order.
+ */
+export async function listOrganisationRequests(organisationId: string, page = 1) {
+  const byState = await db
+    .select({ state: schema.requests.state, n: sql<number>`count(*)::int` })
+    .from(schema.requests)
+    .where(eq(schema.requests.organisationId, organisationId))
+    .groupBy(schema.requests.state);
+  const total = byState.reduce((sum, s) => sum + s.n, 0);
+  const pageCount = Math.max(1, Math.ceil(total / REQUESTS_PAGE_SIZE));
+  const current = Math.min(Math.max(1, page), pageCount);
+  const requests = await db
     .select({
       id: schema.requests.id,
       title: schema.requests.title,
@@ -48,12 +62,16 @@ export async function listOrganisationRequests(organisationId: string) {
       deadline: schema.requests.deadline,
       createdAt: schema.requests.createdAt,
       openedAt: schema.requests.openedAt,
-      samples: sql<number>`(select count(*)::int from ${schema.samples} where ${schema.samples.requestId} = ${schema.requests.id})`,
-      quotes: sql<number>`(select count(*)::int from ${schema.quotes} where ${schema.quotes.requestId} = ${schema.requests.id} and ${schema.quotes.state} in ('sent', 'accepted'))`,
+      // Qualified by hand: inside the subquery an unqualified "id" would be the sample's or quote's own.
+      samples: sql<number>`(select count(*)::int from ${schema.samples} s where s.request_id = "requests"."id")`,
+      quotes: sql<number>`(select count(*)::int from ${schema.quotes} q where q.request_id = "requests"."id" and q.state in ('sent', 'accepted'))`,
     })
     .from(schema.requests)
     .where(eq(schema.requests.organisationId, organisationId))
-    .orderBy(desc(schema.requests.createdAt));
+    .orderBy(asc(schema.requests.state), desc(schema.requests.createdAt))
+    .limit(REQUESTS_PAGE_SIZE)
+    .offset((current - 1) * REQUESTS_PAGE_SIZE);
+  return { requests, page: current, pageCount, total, countByState: Object.fromEntries(byState.map((s) => [s.state, s.n])) as Partial<Record<MarketRequest["state"], number>> };
 }
 
 /** A sentence when the request can no longer be changed through the wizard, else null. */

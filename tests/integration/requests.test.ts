@@ -258,3 +258,40 @@ describe("the new-request wizard", () => {
     expect((await load(requestId)).samples[0].ghsPictograms).toEqual(["GHS07"]);
   });
 });
+
+describe("the requests list", () => {
+  type Listed = { requests: { id: string; title: string; state: string; samples: number; quotes: number }[]; page: number; pageCount: number; total: number; countByState: Record<string, number> };
+
+  it("counts each request's own samples and quotes", async () => {
+    const list = (await callRoute(requestsList, getRequest("/client/requests", await as(CLIENT)))).body as Listed;
+    for (const r of list.requests) {
+      const [{ n }] = await db.select({ n: count() }).from(schema.samples).where(eq(schema.samples.requestId, r.id));
+      expect(r.samples, r.title).toBe(n);
+    }
+    expect(list.requests.find((r) => r.title === "Cathode batch 12")?.samples).toBe(1);
+  });
+
+  it("pages 50 at a time in state order, newest first within a state, with the counts per state", async () => {
+    const cookie = await as(CLIENT);
+    const [{ organisationId }] = await db.select({ organisationId: schema.requests.organisationId }).from(schema.requests).where(eq(schema.requests.id, requestId));
+    await db.insert(schema.requests).values(
+      Array.from({ length: 60 }, (_, i) => ({ organisationId, title: `Paging draft ${i}`, createdAt: new Date(Date.UTC(2026, 0, 1, 0, i)) })),
+    );
+    const first = (await callRoute(requestsList, getRequest("/client/requests", cookie))).body as Listed;
+    expect(first.requests).toHaveLength(50);
+    expect(first.total).toBeGreaterThan(60);
+    expect(first.pageCount).toBe(Math.ceil(first.total / 50));
+    expect(first.countByState.draft).toBeGreaterThanOrEqual(60);
+    expect(first.requests[0].title).toBe("Paging draft 59");
+    const states = ["draft", "open", "awarded", "expired", "withdrawn"];
+    const all: Listed["requests"] = [];
+    for (let page = 1; page <= first.pageCount; page++) all.push(...((await callRoute(requestsList, getRequest(`/client/requests?page=${page}`, cookie))).body as Listed).requests);
+    expect(all.map((r) => states.indexOf(r.state))).toEqual([...all.map((r) => states.indexOf(r.state))].sort((a, b) => a - b));
+    expect(new Set(all.map((r) => r.id)).size).toBe(first.total);
+    // A page past the end shows the last one; a page that is not a whole number is refused.
+    expect(((await callRoute(requestsList, getRequest("/client/requests?page=999", cookie))).body as Listed).page).toBe(first.pageCount);
+    for (const bad of ["0", "-1", "1.5", "abc", "1e3"]) {
+      expect((await callRoute(requestsList, getRequest(`/client/requests?page=${bad}`, cookie))).status, bad).toBe(400);
+    }
+  });
+});

@@ -1,8 +1,8 @@
-// The client organisation's requests, grouped by state, with the way to start a new one.
-import { Link, useLoaderData } from "react-router";
+// The client organisation's requests, grouped by state, a page of 50 at a time, with the way to start a new one.
+import { data, Link, useLoaderData } from "react-router";
 import { formatDate, RequestStateBadge } from "~/components/request-parts";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
-import { listOrganisationRequests } from "~/models/requests.server";
+import { listOrganisationRequests, REQUESTS_PAGE_SIZE } from "~/models/requests.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/requests";
 
@@ -10,11 +10,36 @@ const STATE_ORDER = ["draft", "open", "awarded", "expired", "withdrawn"] as cons
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
-  return { organisation: membership.organisation.name, requests: await listOrganisationRequests(membership.organisation.id) };
+  const pageParam = new URL(request.url).searchParams.get("page") ?? "1";
+  if (!/^[1-9][0-9]{0,5}$/.test(pageParam)) throw data({ message: "The page number must be a whole number from 1." }, { status: 400 });
+  // A page past the end shows the last one.
+  const list = await listOrganisationRequests(membership.organisation.id, Number(pageParam));
+  return { organisation: membership.organisation.name, pageSize: REQUESTS_PAGE_SIZE, ...list };
+}
+
+function PageLinks({ page, pageCount }: { page: number; pageCount: number }) {
+  if (pageCount <= 1) return null;
+  return (
+    <nav aria-label="Pages" className="mt-6 flex items-center gap-3 text-sm">
+      {page > 1 ? (
+        <Link to={`?page=${page - 1}`} className="btn-secondary" rel="prev">
+          Previous
+        </Link>
+      ) : null}
+      <span>
+        Page {page} of {pageCount}
+      </span>
+      {page < pageCount ? (
+        <Link to={`?page=${page + 1}`} className="btn-secondary" rel="next">
+          Next
+        </Link>
+      ) : null}
+    </nav>
+  );
 }
 
 export default function Requests() {
-  const { organisation, requests } = useLoaderData<typeof loader>();
+  const { organisation, requests, page, pageCount, pageSize, total, countByState } = useLoaderData<typeof loader>();
   const newButton = (
     <Link to="/client/requests/new" className="btn-primary">
       New request
@@ -33,13 +58,20 @@ export default function Requests() {
   return (
     <div>
       <PageHeader title="Requests" subtitle={organisation} actions={newButton} />
+      {pageCount > 1 ? (
+        <p className="mb-4 text-sm text-ink-600">
+          {total} requests; {(page - 1) * pageSize + 1}–{Math.min(total, page * pageSize)} shown.
+        </p>
+      ) : null}
       <div className="space-y-6">
         {STATE_ORDER.map((state) => {
           const rows = requests.filter((r) => r.state === state);
           if (rows.length === 0) return null;
           return (
             <section key={state} aria-label={`${state} requests`}>
-              <h2 className="mb-2 text-sm font-semibold tracking-wide text-ink-500 uppercase">{state}</h2>
+              <h2 className="mb-2 text-sm font-semibold tracking-wide text-ink-500 uppercase">
+                {state} <span className="font-normal normal-case">({countByState[state] ?? rows.length})</span>
+              </h2>
               <TableCard columns={["Title", "State", "Samples", "Quotes", "Deadline", "Created"]} caption={`${state} requests`}>
                 {rows.map((r) => (
                   <tr key={r.id}>
@@ -62,6 +94,7 @@ export default function Requests() {
           );
         })}
       </div>
+      <PageLinks page={page} pageCount={pageCount} />
     </div>
   );
 }
