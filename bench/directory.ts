@@ -8,43 +8,10 @@ import { root } from "../services/paths";
 import { waitForPort } from "../services/process";
 import { servicesUp } from "../services/up";
 import { buildTemplate, cloneTemplate } from "../services/test-db";
-import { ANODES } from "../app/diffraction/wavelengths";
+import { seedSyntheticLabs } from "./seed-load";
 
 const PORT = 3190;
 const QUERIES = ["", "?source=Mo", "?temperatureK=1300", "?dMin=0.5", "?hazard=GHS06&hazard=nanomaterial", "?technique=powder_reflection&maxPrice=200", "?q=lab", "?page=3"];
-
-async function seedSyntheticLabs(url: string, n: number) {
-  const c = new pg.Client({ connectionString: url });
-  await c.connect();
-  // Invented labs for load only: names are numbered, nothing resembles a real organisation.
-  await c.query(`
-    with o as (
-      insert into organisations (kind, name, slug, city, country)
-      select 'lab', 'Bench Lab ' || g, 'bench-lab-' || g, 'Town ' || (g % 97), 'Country ' || (g % 23)
-      from generate_series(1, $1) g returning id, slug
-    ), l as (
-      insert into labs (organisation_id, description, vetting_state)
-      select id, 'Synthetic lab for the directory benchmark', case when right(slug, 1) = '7' then 'applied'::vetting_state else 'approved'::vetting_state end from o
-      returning organisation_id
-    ), i as (
-      insert into instruments (lab_id, name, technique, anode, monochromation, two_theta_min, two_theta_max, smallest_step, detector, energy_discrimination, sample_forms)
-      select organisation_id, 'Instrument ' || k,
-        (array['powder_reflection','powder_transmission','thin_film'])[1 + (k % 3)]::technique,
-        (array[${ANODES.map((a) => `'${a}'`).join(",")}])[1 + ((hashtext(organisation_id::text) + k) & 5)]::anode,
-        'k_alpha_doublet', 5, 120 + (k * 10), 0.01, 'strip_1d', k % 2 = 0, '{powder}'
-      from l, generate_series(1, 2) k
-      returning id
-    )
-    insert into sample_stages (instrument_id, name, min_temperature_k, max_temperature_k, atmospheres)
-    select id, 'Stage', 80 + (hashtext(id::text) & 200), 400 + (hashtext(id::text) & 1023), '{air,nitrogen}' from i`, [n]);
-  await c.query(`insert into price_lists (lab_id, currency, per_sample_minor, turnaround_days)
-    select organisation_id, 'EUR', jsonb_build_object('powder_reflection', 9000 + (hashtext(organisation_id::text) & 16383)), 3 + (hashtext(organisation_id::text) & 15)
-    from labs where description like 'Synthetic%'`);
-  await c.query(`insert into hazard_acceptance (lab_id, pictograms, special_categories)
-    select organisation_id, '{GHS06,GHS07,GHS08}', '{nanomaterial}' from labs where description like 'Synthetic%' and (hashtext(organisation_id::text) & 3) = 0`);
-  await c.query("analyze");
-  await c.end();
-}
 
 async function measure(label: string, rounds = 60, concurrency = 8) {
   const times: number[] = [];
@@ -93,6 +60,12 @@ const env = { ...process.env, DATABASE_URL: demo.url };
 const { execFileSync } = await import("node:child_process");
 execFileSync(process.execPath, ["--import", "tsx", "scripts/seed-demo.ts"], { cwd: root, env, stdio: "ignore" });
 await withServer(demo.url, () => measure("demo data (2 approved labs)"));
-await seedSyntheticLabs(demo.url, 5000);
+{
+  const c = new pg.Client({ connectionString: demo.url });
+  await c.connect();
+  await seedSyntheticLabs(c, 5000, { someApplied: true });
+  await c.query("analyze");
+  await c.end();
+}
 await withServer(demo.url, () => measure("5,000 seeded labs"));
 await demo.drop();

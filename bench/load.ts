@@ -1,0 +1,258 @@
+// Load run: autocannon, 100 connections for 30 s each, on the directory API, a signed-in client's requests
+// page and the sign-in action, against the production build on a database with 5,000 labs, 50,000 requests
+// and 20,000 orders (bench/seed-load.ts); then the same against a bare node:http server running the SQL
+// the app ran (bench/bare-server.ts). Prints a table and writes JSON to bench/results/.
+// `npm run bench:load`; LOAD_SECONDS shortens the runs, LOAD_ONLY=directory,requests,sign-in picks some,
+// LOAD_SKIP_BARE=1 skips the bare server, WEB_CONCURRENCY=n runs n app processes (server/cluster.ts).
+import autocannon from "autocannon";
+import { execFileSync, spawn, type ChildProcess } from "node:child_process";
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
+import { root } from "../services/paths";
+import { waitForPort } from "../services/process";
+import { servicesUp } from "../services/up";
+import type { BareSql, CapturedQuery } from "./bare-server";
+import { ensureLoadDatabase, LOAD } from "./seed-load";
+
+const APP_PORT = 3290;
+const BARE_PORT = 3291;
+const SECONDS = Number(process.env.LOAD_SECONDS ?? 30);
+const CONNECTIONS = Number(process.env.LOAD_CONNECTIONS ?? 100);
+const ONLY = process.env.LOAD_ONLY?.split(",");
+const DIRECTORY_QUERY = "?technique=powder_reflection&source=Cu&maxPrice=200";
+const SIGN_IN_BODY = new URLSearchParams({ email: LOAD.ownerEmail(1), password: LOAD.password }).toString();
+const logDir = path.join(root, ".data/logs");
+
+interface Endpoint {
+  name: string;
+  path: string;
+  method: "GET" | "POST";
+  expect: number;
+  headers?: Record<string, string>;
+  body?: string;
+}
+
+function newestMtime(dir: string): number {
+  let newest = 0;
+  for (const entry of fs.readdirSync(dir, { withFileTypes: true })) {
+    const p = path.join(dir, entry.name);
+    newest = Math.max(newest, entry.isDirectory() ? newestMtime(p) : fs.statSync(p).mtimeMs);
+  }
+  return newest;
+}
+
+function buildIfNeeded() {
+  const built = path.join(root, "build/server/index.js");
+  const sources = Math.max(newestMtime(path.join(root, "app")), newestMtime(path.join(root, "server")));
+  if (fs.existsSync(built) && fs.statSync(built).mtimeMs >= sources) return;
+  console.log("building the app (sources are newer than build/)…");
+  execFileSync("npx", ["react-router", "build"], { cwd: root, stdio: "ignore" });
+}
+
+async function start(label: string, args: string[], env: NodeJS.ProcessEnv, port: number) {
+  const logFile = path.join(logDir, `load-${label}.log`);
+  const log = fs.openSync(logFile, "w");
+  const child = spawn(process.execPath, ["--import", "tsx", ...args], { cwd: root, env: { ...process.env, ...env, PORT: String(port) }, stdio: ["ignore", log, log] });
+  await waitForPort(port, label, 60_000);
+  return { child, logFile };
+}
+
+async function stop(child: ChildProcess) {
+  if (child.exitCode !== null) return;
+  child.kill("SIGTERM");
+  await new Promise((r) => child.once("exit", r));
+}
+
+const appEnv = (dbUrl: string, extra: NodeJS.ProcessEnv = {}) => ({
+  DATABASE_URL: dbUrl,
+  NODE_ENV: "production",
+  DIFFRACTORY_LOCAL: "1",
+  APP_URL: `http://127.0.0.1:${APP_PORT}`,
+  ...extra,
+});
+
+async function signIn(base: string) {
+  const res = await fetch(`${base}/sign-in`, {
+    method: "POST",
+    redirect: "manual",
+    headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: base },
+    body: SIGN_IN_BODY,
+  });
+  const cookie = res.headers.get("set-cookie")?.split(";")[0];
+  if (res.status !== 302 || !cookie) throw new Error(`sign-in answered ${res.status} without a session cookie`);
+  return cookie;
+}
+
+/** Runs each request once against an app that logs its SQL, and returns the queries each one ran. */
+async function captureSql(dbUrl: string): Promise<{ sql: BareSql; cookie: string }> {
+  const { child, logFile } = await start("capture", ["server/main.ts"], appEnv(dbUrl, { DIFFRACTORY_LOG_SQL: "1" }), APP_PORT);
+  const base = `http://127.0.0.1:${APP_PORT}`;
+  let offset = 0;
+  const queriesSince = () => {
+    const text = fs.readFileSync(logFile, "utf8");
+    const lines = text.slice(offset).split("\n").filter((l) => l.startsWith("SQL "));
+    offset = text.length;
+    return lines.map((l) => JSON.parse(l.slice(4)) as CapturedQuery);
+  };
+  try {
+    queriesSince();
+    const cookie = await signIn(base);
+    await new Promise((r) => setTimeout(r, 200));
+    const signInQueries = queriesSince();
+    const res1 = await fetch(`${base}/api/labs${DIRECTORY_QUERY}`);
+    if (!res1.ok) throw new Error(`directory answered ${res1.status}`);
+    await res1.arrayBuffer();
+    await new Promise((r) => setTimeout(r, 200));
+    const directory = queriesSince();
+    const res2 = await fetch(`${base}/client/requests`, { headers: { Cookie: cookie } });
+    if (!res2.ok) throw new Error(`requests page answered ${res2.status}`);
+    await res2.arrayBuffer();
+    await new Promise((r) => setTimeout(r, 200));
+    // The same query with the same parameters runs once in the bare handler.
+    const seen = new Set<string>();
+    const requestsPage = queriesSince().filter((q) => {
+      // Timestamps (the session's "not expired yet" bound) differ by a millisecond between the two lookups.
+      const key = JSON.stringify(q).replace(/\d{4}-\d\d-\d\dT[\d:.]+Z/g, "t");
+      return seen.has(key) ? false : (seen.add(key), true);
+    });
+    const userLookup = signInQueries.find((q) => /from "users" where lower\(/.test(q.query));
+    const sessionInsert = signInQueries.find((q) => /^insert into "sessions"/.test(q.query));
+    if (!userLookup || !sessionInsert) throw new Error("the sign-in queries were not found in the app's SQL log");
+    const sql: BareSql = { directory, requestsPage, userLookup, sessionInsert };
+    fs.writeFileSync(path.join(logDir, "load-sql.json"), JSON.stringify(sql, null, 2));
+    return { sql, cookie };
+  } finally {
+    await stop(child);
+  }
+}
+
+interface Row {
+  target: "app" | "bare";
+  endpoint: string;
+  requests: number;
+  rps: number;
+  medianMs: number;
+  p95Ms: number;
+  p97_5Ms: number;
+  p99Ms: number;
+  errors: number;
+  timeouts: number;
+  non2xx: number;
+  unexpectedStatus: number;
+  statusCodes: Record<string, number>;
+  bytesPerResponse: number;
+  /** The 1-minute load average before and after the run (2 would be both cores busy). */
+  loadAverage: [number, number];
+}
+
+async function hammer(base: string, e: Endpoint, seconds: number, connections: number, record = true) {
+  const times: number[] = [];
+  const instance = autocannon({
+    url: base + e.path,
+    method: e.method,
+    headers: e.headers,
+    body: e.body,
+    connections,
+    duration: seconds,
+  });
+  if (record) instance.on("response", (_c: unknown, _status: number, _bytes: number, ms: number) => times.push(ms));
+  const result = await instance;
+  times.sort((a, b) => a - b);
+  const pct = (p: number) => (times.length ? times[Math.min(times.length - 1, Math.floor((p / 100) * times.length))] : NaN);
+  const statusCodes = Object.fromEntries(Object.entries(result.statusCodeStats ?? {}).map(([k, v]) => [k, (v as { count: number }).count]));
+  const total = Object.values(statusCodes).reduce((a, b) => a + b, 0);
+  return {
+    requests: total,
+    rps: total / seconds,
+    medianMs: pct(50),
+    p95Ms: pct(95),
+    p97_5Ms: result.latency.p97_5,
+    p99Ms: result.latency.p99,
+    errors: result.errors,
+    timeouts: result.timeouts,
+    non2xx: result.non2xx,
+    unexpectedStatus: total - (statusCodes[String(e.expect)] ?? 0),
+    statusCodes,
+    bytesPerResponse: total ? Math.round(result.throughput.total / total) : 0,
+  };
+}
+
+async function runAll(target: "app" | "bare", base: string, endpoints: Endpoint[]): Promise<Row[]> {
+  const rows: Row[] = [];
+  for (const e of endpoints) {
+    await hammer(base, e, 3, 10, false); // warm-up
+    // Other work on the machine skews the figures: the 1-minute load average is kept beside each run.
+    const loadBefore = os.loadavg()[0];
+    const r = await hammer(base, e, SECONDS, CONNECTIONS);
+    const row = { target, endpoint: e.name, ...r, loadAverage: [loadBefore, os.loadavg()[0]] as [number, number] };
+    rows.push(row);
+    console.log(
+      `  ${target.padEnd(4)} ${e.name.padEnd(16)} ${r.rps.toFixed(0).padStart(6)} req/s  median ${r.medianMs.toFixed(1)} ms  p95 ${r.p95Ms.toFixed(1)} ms  errors ${r.errors + r.timeouts}  unexpected status ${r.unexpectedStatus}  load ${row.loadAverage.map((l) => l.toFixed(1)).join("→")}`,
+    );
+  }
+  return rows;
+}
+
+await servicesUp({ quiet: true });
+const dbUrl = await ensureLoadDatabase();
+buildIfNeeded();
+const { sql } = await captureSql(dbUrl);
+
+const endpointsFor = (base: string, cookie: string) =>
+  (
+    [
+      { name: "directory", path: `/api/labs${DIRECTORY_QUERY}`, method: "GET", expect: 200 },
+      { name: "requests", path: "/client/requests", method: "GET", expect: 200, headers: { Cookie: cookie } },
+      {
+        name: "sign-in",
+        path: "/sign-in",
+        method: "POST",
+        expect: 302,
+        headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: base },
+        body: SIGN_IN_BODY,
+      },
+    ] satisfies Endpoint[] as Endpoint[]
+  ).filter((e) => !ONLY || ONLY.includes(e.name));
+
+const rows: Row[] = [];
+const workers = Number(process.env.WEB_CONCURRENCY ?? 1);
+console.log(`app: ${workers} process(es), ${CONNECTIONS} connections × ${SECONDS} s per endpoint, on ${os.cpus().length} cores`);
+{
+  const { child } = await start("app", [workers > 1 ? "server/cluster.ts" : "server/main.ts"], appEnv(dbUrl, { WEB_CONCURRENCY: String(workers) }), APP_PORT);
+  try {
+    const base = `http://127.0.0.1:${APP_PORT}`;
+    const cookie = await signIn(base);
+    rows.push(...(await runAll("app", base, endpointsFor(base, cookie))));
+  } finally {
+    await stop(child);
+  }
+}
+if (!process.env.LOAD_SKIP_BARE) {
+  const sqlFile = path.join(logDir, "load-sql.json");
+  fs.writeFileSync(sqlFile, JSON.stringify(sql));
+  const { child } = await start("bare", ["bench/bare-server.ts"], { DATABASE_URL: dbUrl, BARE_SQL: sqlFile }, BARE_PORT);
+  try {
+    const base = `http://127.0.0.1:${BARE_PORT}`;
+    rows.push(...(await runAll("bare", base, endpointsFor(base, "diffractory_session=bare"))));
+  } finally {
+    await stop(child);
+  }
+}
+
+console.log(`\nendpoint          target    req/s  median ms  p95 ms  p97.5 ms  p99 ms  errors  non-2xx  unexpected  app/bare req/s`);
+for (const r of rows) {
+  const bare = rows.find((b) => b.target === "bare" && b.endpoint === r.endpoint);
+  const ratio = r.target === "app" && bare ? (r.rps / bare.rps).toFixed(2) : "";
+  console.log(
+    `${r.endpoint.padEnd(17)} ${r.target.padEnd(6)} ${r.rps.toFixed(0).padStart(7)} ${r.medianMs.toFixed(1).padStart(10)} ${r.p95Ms.toFixed(1).padStart(7)} ${r.p97_5Ms.toFixed(1).padStart(9)} ${r.p99Ms.toFixed(1).padStart(7)} ${String(r.errors + r.timeouts).padStart(7)} ${String(r.non2xx).padStart(8)} ${String(r.unexpectedStatus).padStart(11)} ${ratio.padStart(15)}`,
+  );
+}
+console.log("median and p95: from every response time autocannon reported; p97.5 and p99: autocannon's own histogram. 'unexpected' counts answers other than 200 (302 for sign-in).");
+const out = path.join(root, "bench/results", `load-${new Date().toISOString().replace(/[:.]/g, "-")}.json`);
+fs.mkdirSync(path.dirname(out), { recursive: true });
+fs.writeFileSync(
+  out,
+  JSON.stringify({ at: new Date().toISOString(), cores: os.cpus().length, appProcesses: workers, connections: CONNECTIONS, seconds: SECONDS, directoryQuery: DIRECTORY_QUERY, seeded: LOAD, rows }, null, 2),
+);
+console.log(`written to ${path.relative(root, out)}`);
