@@ -1,4 +1,5 @@
-// The admin overview: how many people and organisations the platform has, and what waits for review.
+// The admin overview: what waits for a decision (applications, disputes, undeliverable e-mail), then how many
+// people and organisations the platform has.
 import { count, eq } from "drizzle-orm";
 import { Link, useLoaderData } from "react-router";
 import { PageHeader } from "~/components/ui";
@@ -8,32 +9,67 @@ import type { Route } from "./+types/home";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
-  const [[people], [clients], [labs]] = await Promise.all([
+  const [[people], [clients], [labs], [inReview], [openDisputes], [parked]] = await Promise.all([
     db.select({ n: count() }).from(schema.users),
     db.select({ n: count() }).from(schema.organisations).where(eq(schema.organisations.kind, "client")),
     db.select({ n: count() }).from(schema.organisations).where(eq(schema.organisations.kind, "lab")),
+    db.select({ n: count() }).from(schema.labs).where(eq(schema.labs.vettingState, "in_review")),
+    db.select({ n: count() }).from(schema.disputes).where(eq(schema.disputes.state, "open")),
+    db.select({ n: count() }).from(schema.outboxMessages).where(eq(schema.outboxMessages.status, "parked")),
   ]);
-  return { people: people.n, clients: clients.n, labs: labs.n };
+  return { people: people.n, clients: clients.n, labs: labs.n, inReview: inReview.n, openDisputes: openDisputes.n, parked: parked.n };
+}
+
+interface Tile {
+  label: string;
+  value: number;
+  to: string;
+  /** Said when nothing waits; a tile with it is marked (a bar and "!") while something does. */
+  none?: string;
+}
+
+function TileSection({ id, heading, tiles }: { id: string; heading: string; tiles: Tile[] }) {
+  return (
+    <section aria-labelledby={`${id}-heading`}>
+      <h2 id={`${id}-heading`} className="mb-3 text-lg font-semibold">
+        {heading}
+      </h2>
+      <div className="grid gap-4 sm:grid-cols-3">
+        {tiles.map((t) => {
+          const waits = t.none !== undefined && t.value > 0;
+          return (
+            <Link key={t.label} to={t.to} className={`card hover:border-beam-200 ${waits ? "border-l-4 border-l-caution-600" : ""}`}>
+              <p className="text-sm text-ink-600">{t.label}</p>
+              <p className="mt-1 text-3xl font-bold">
+                {waits ? <span aria-hidden="true">! </span> : null}
+                {t.value}
+              </p>
+              {t.none !== undefined && t.value === 0 ? <p className="mt-1 text-xs text-ink-600">{t.none}</p> : null}
+            </Link>
+          );
+        })}
+      </div>
+    </section>
+  );
 }
 
 export default function AdminHome() {
   const stats = useLoaderData<typeof loader>();
-  const tiles = [
+  const waiting: Tile[] = [
+    { label: "Applications in review", value: stats.inReview, to: "/admin/vetting-queue?state=in_review", none: "No lab waits for vetting." },
+    { label: "Open disputes", value: stats.openDisputes, to: "/admin/disputes", none: "No dispute waits for a decision." },
+    { label: "Parked e-mails", value: stats.parked, to: "/admin/outbox", none: "Every e-mail went out or is being retried." },
+  ];
+  const tiles: Tile[] = [
     { label: "People", value: stats.people, to: "/admin/users" },
     { label: "Client organisations", value: stats.clients, to: "/admin/users" },
     { label: "Labs", value: stats.labs, to: "/admin/vetting-queue" },
   ];
   return (
-    <div>
+    <div className="space-y-8">
       <PageHeader title="Platform overview" subtitle="Vet labs, settle disputes, read the ledger and the audit log." />
-      <div className="grid gap-4 sm:grid-cols-3">
-        {tiles.map((t) => (
-          <Link key={t.label} to={t.to} className="card hover:border-beam-200">
-            <p className="text-sm text-ink-600">{t.label}</p>
-            <p className="mt-1 text-3xl font-bold">{t.value}</p>
-          </Link>
-        ))}
-      </div>
+      <TileSection id="waiting" heading="Waiting for you" tiles={waiting} />
+      <TileSection id="platform" heading="On the platform" tiles={tiles} />
     </div>
   );
 }
