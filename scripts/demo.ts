@@ -59,14 +59,10 @@ if (scale) {
   console.log(`round-robin proxy on ${publicUrl} → app servers on ${appPorts.join(" and ")}, two workers`);
 }
 
+const tour = spawnSync(process.execPath, ["--import", "tsx", "scripts/demo-tour.ts"], { cwd: root, env: { ...env, APP_URL: publicUrl }, encoding: "utf8" });
 console.log(`
 Diffractory demo is ready in ${((Date.now() - t0) / 1000).toFixed(0)} s: ${publicUrl}/sign-in
-Every demo account has the password  diffractory-demo
-  owner@halvorsen.example      client owner, Halvorsen Cathode Works
-  owner@pinecrest.example      client owner, Pinecrest Solid Forms
-  lab@graniteridge.example     lab manager, Granite Ridge Characterisation
-  admin@diffractory.example    platform admin, second factor required: add the key
-                               ${DEMO_ADMIN_TOTP_SECRET} to an authenticator app (TOTP, 6 digits,
-                               30 s) or print the current code with  npx tsx scripts/demo-code.ts
+${tour.status === 0 ? tour.stdout.trim() : `(the tour could not be printed: ${tour.stderr.trim().split("\n").pop()})`}
+The admin's TOTP key is ${DEMO_ADMIN_TOTP_SECRET} (RFC 6238, 6 digits, 30 s) for an authenticator app.
 Stop with Ctrl-C; \`npm run services:down\` stops PostgreSQL and the fakes.
 `);

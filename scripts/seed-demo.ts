@@ -3,10 +3,15 @@
 import { seedDemo } from "~/demo/seed.server";
 import { seedDemoOrders } from "~/demo/seed-orders.server";
 import { seedDemoScans } from "~/demo/seed-scans.server";
+import { seedDemoScenario } from "~/demo/seed-scenario.server";
 import { db } from "~/db/client.server";
 
+const t0 = Date.now();
 const result = await seedDemo();
 await seedDemoOrders();
 const scans = await seedDemoScans();
-console.log(`demo scenario seeded: ${result.organisations} organisations, ${result.people} people, orders in every money state, ${scans.length} checked demo scans`);
+const scenario = await seedDemoScenario();
+console.log(
+  `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
+);
 await db.$client.end();

@@ -8,7 +8,7 @@ import { acceptDelivery, cancelOrder, openDispute, payoutOnboardingUrl, resolveD
 /** The fake's own test controls (never present at the real provider; the demo runs only against the fake). */
 const fakeBase = () => `${config.payments.protocol}://${config.payments.host}:${config.payments.port}`;
 
-async function fakeControl(path: string, body: unknown) {
+export async function fakeControl(path: string, body: unknown) {
   const res = await fetch(`${fakeBase()}/_fake/${path}`, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body) });
   if (!res.ok) throw new Error(`payment fake ${path}: ${res.status} ${await res.text()}`);
   return res.json();
@@ -32,6 +32,14 @@ const ORDERS: DemoOrder[] = [
   { title: "Phase identification of precursor HC-2602", client: "Halvorsen Cathode Works", lab: "Granite Ridge Characterisation", amountMinor: 21_000, currency: "EUR", to: "awaiting_payment" },
   { title: "Cryostat scan of hydrate PSF-131", client: "Pinecrest Solid Forms", lab: "Lakeside Institute X-ray Core", amountMinor: 23_000, currency: "USD", to: "awaiting_payment" },
 ];
+
+/** Pays an order awaiting payment on the fake's card page with its success card, as the client would. */
+export async function payOrder(orderId: string, person: { id: string; email: string }) {
+  const url = await startCheckout(orderId, { userId: person.id, email: person.email });
+  const sessionId = new URL(url).pathname.split("/").pop()!;
+  await fakeControl(`pay/${sessionId}`, { card: "4242424242424242" });
+  await syncCheckout(sessionId);
+}
 
 async function orgBySlugName(name: string) {
   const [org] = await db.select().from(schema.organisations).where(eq(schema.organisations.name, name));
@@ -88,10 +96,7 @@ export async function seedDemoOrders() {
       .returning();
     await db.insert(schema.orderEvents).values({ orderId: order.id, toState: "awaiting_payment", actorUserId: person.id, note: "Quote accepted" });
     if (o.to === "awaiting_payment") continue;
-    const url = await startCheckout(order.id, { userId: person.id, email: person.email });
-    const sessionId = new URL(url).pathname.split("/").pop()!;
-    await fakeControl(`pay/${sessionId}`, { card: "4242424242424242" });
-    await syncCheckout(sessionId);
+    await payOrder(order.id, person);
     if (o.to === "cancelled") {
       await cancelOrder(order.id, "client", person.id, "The trial batch was withdrawn before shipping.");
       continue;

@@ -9,8 +9,8 @@ import { LITHIUM_IRON_PHOSPHATE, RUTILE } from "~/diffraction/structures";
 import { runScanCheck } from "~/jobs/scan-check.server";
 import { putObject } from "~/utils/storage.server";
 
-const CO: Radiation = { kind: "anode", anode: "Co", monochromation: "k_alpha_doublet" };
-const CU: Radiation = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" };
+export const CO: Radiation = { kind: "anode", anode: "Co", monochromation: "k_alpha_doublet" };
+export const CU: Radiation = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" };
 
 interface DemoSample {
   label: string;
@@ -33,10 +33,10 @@ interface DemoScan {
 }
 
 // Approximate olivine cell as a client would declare it (rounded literature values, from memory).
-const LFP_DECLARED: Cell = { a: 10.33, b: 6.01, c: 4.69, alpha: 90, beta: 90, gamma: 90 };
+export const LFP_DECLARED: Cell = { a: 10.33, b: 6.01, c: 4.69, alpha: 90, beta: 90, gamma: 90 };
 // The "true" cell of the demo lot: invented, a little off the declaration as a real batch would be.
-const LFP_LOT: Cell = { a: 10.326, b: 6.006, c: 4.695, alpha: 90, beta: 90, gamma: 90 };
-const LFP_SCAN = { twoThetaMin: 15, twoThetaMax: 110, step: 0.02, radiation: CO, background: { constant: 120, slope: -0.4 }, scale: 8000, zeroShift: 0.03 };
+export const LFP_LOT: Cell = { a: 10.326, b: 6.006, c: 4.695, alpha: 90, beta: 90, gamma: 90 };
+export const LFP_SCAN = { twoThetaMin: 15, twoThetaMax: 110, step: 0.02, radiation: CO, background: { constant: 120, slope: -0.4 }, scale: 8000, zeroShift: 0.03 };
 
 const lfpSample = (label: string, phase = "LiFePO4, olivine (triphylite)"): DemoSample => ({
   label,
@@ -141,6 +141,35 @@ async function ensureSample(requestId: string, s: DemoSample, position: number) 
 }
 
 /**
+ * Stores a demo scan as a delivered file of the order (as a finished upload would leave it) and runs its
+ * lattice check in-process, so no worker is needed and the verdict is there when the seed returns.
+ */
+export async function storeCheckedScan(input: { orderId: string; sampleId: string; fileName: string; text: string; uploadedBy: string | null; storedAt?: Date }) {
+  const bytes = new TextEncoder().encode(input.text);
+  const storageKey = `orders/${input.orderId}/demo/${input.fileName}`;
+  await putObject(storageKey, bytes, "text/plain");
+  const [file] = await db
+    .insert(schema.orderFiles)
+    .values({
+      orderId: input.orderId,
+      sampleId: input.sampleId,
+      kind: "scan",
+      name: input.fileName,
+      version: 1,
+      sizeBytes: bytes.byteLength,
+      contentType: "text/plain",
+      sha256: createHash("sha256").update(bytes).digest("hex"),
+      storageKey,
+      state: "stored",
+      uploadedBy: input.uploadedBy,
+      uploadedVia: "browser",
+      storedAt: input.storedAt ?? new Date(),
+    })
+    .returning();
+  return runScanCheck(file.id, { finalAttempt: true });
+}
+
+/**
  * Stores the demo scans of the delivered demo orders and checks them in-process (no worker needed).
  * Idempotent: a scan already stored for its order is left as it is. Returns the checks' verdicts.
  */
@@ -172,29 +201,14 @@ export async function seedDemoScans() {
       continue;
     }
     const sim = scan.simulate();
-    const text = formatScanAsXy(sim, `Diffractory demo scan ${scan.fileName} (simulated, invented sample)`);
-    const bytes = new TextEncoder().encode(text);
-    const storageKey = `orders/${order.id}/demo/${scan.fileName}`;
-    await putObject(storageKey, bytes, "text/plain");
-    const [file] = await db
-      .insert(schema.orderFiles)
-      .values({
-        orderId: order.id,
-        sampleId: sample.id,
-        kind: "scan",
-        name: scan.fileName,
-        version: 1,
-        sizeBytes: bytes.byteLength,
-        contentType: "text/plain",
-        sha256: createHash("sha256").update(bytes).digest("hex"),
-        storageKey,
-        state: "stored",
-        uploadedBy: labUser?.id ?? null,
-        uploadedVia: "browser",
-        storedAt: order.deliveredAt ?? new Date(),
-      })
-      .returning();
-    const outcome = await runScanCheck(file.id, { finalAttempt: true });
+    const outcome = await storeCheckedScan({
+      orderId: order.id,
+      sampleId: sample.id,
+      fileName: scan.fileName,
+      text: formatScanAsXy(sim, `Diffractory demo scan ${scan.fileName} (simulated, invented sample)`),
+      uploadedBy: labUser?.id ?? null,
+      storedAt: order.deliveredAt ?? new Date(),
+    });
     outcomes.push({
       fileName: scan.fileName,
       checkId: outcome.status === "skipped" ? null : outcome.checkId,

@@ -1,0 +1,54 @@
+// The short tour `npm run demo` prints at the end: per demo account, what to look at and where, with the
+// seeded rows' own URLs (README "Demo tour" has the same tour without the ids).
+import { and, eq } from "drizzle-orm";
+import { db, schema } from "~/db/client.server";
+
+async function requestId(title: string) {
+  const [row] = await db.select({ id: schema.requests.id }).from(schema.requests).where(eq(schema.requests.title, title));
+  return row?.id ?? "";
+}
+
+async function orderId(title: string) {
+  const [row] = await db
+    .select({ id: schema.orders.id })
+    .from(schema.orders)
+    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
+    .where(eq(schema.requests.title, title));
+  return row?.id ?? "";
+}
+
+/** The check of the order's scan with this file name. */
+async function checkId(fileName: string) {
+  const [row] = await db
+    .select({ id: schema.scanChecks.id })
+    .from(schema.scanChecks)
+    .innerJoin(schema.orderFiles, eq(schema.orderFiles.id, schema.scanChecks.fileId))
+    .where(and(eq(schema.orderFiles.name, fileName), eq(schema.orderFiles.version, 1)));
+  return row?.id ?? "";
+}
+
+export async function demoTour(base: string) {
+  const [meridian] = await db.select({ id: schema.organisations.id }).from(schema.organisations).where(eq(schema.organisations.slug, "meridian-analytical"));
+  const u = (path: string) => `${base}${path}`;
+  const lines = [
+    "Tour (password diffractory-demo for every account):",
+    "owner@halvorsen.example — Ingrid, client owner",
+    `  fluorescence warning on an iron phosphate under copper: ${u(`/client/requests/${await requestId("Phase check of LFP cathode batch HC-2611")}`)}`,
+    `  two quotes side by side (Granite Ridge, Lakeside), accept one and pay: ${u(`/client/requests/${await requestId("Phase purity of NMC811 lot HC-2634")}`)}`,
+    `  data delivered, review window open — open the review check's plot, then accept: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}`)}  (check ${u(`/checks/${await checkId("HC-2645-2_Co_15-110.xy")}`)})`,
+    `  open dispute: ${u(`/client/orders/${await orderId("Impurity check of NMC lot HC-2655")}`)}; every request state: ${u("/client/requests")}`,
+    "owner@pinecrest.example — Amara, client owner (member@pinecrest.example and consultant@fieldnotes.example are members too)",
+    `  nanomaterial and toxic samples with their safety data sheets, in transit: ${u(`/client/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
+    `  refused on arrival, with the lab's reason and the refund: ${u(`/client/orders/${await orderId("Capillary series of solvate PSF-127")}`)}; inconsistent check of the resolved dispute: ${u(`/checks/${await checkId("PSF-118-B_Cu_5-60.xy")}`)}`,
+    "lab@graniteridge.example — Marcus, lab manager (operator@graniteridge.example measures)",
+    `  work queue: ${u("/lab/work-queue")}; the hazardous parcel on its way: ${u(`/lab/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
+    `  measuring — upload scans and watch their checks: ${u(`/lab/orders/${await orderId("Form screen of salt candidates PSF-144")}/files`)}; payouts: ${u("/lab/payouts")}`,
+    "lab@lakeside.example — Dana, lab manager",
+    `  quotes sent, declined and lapsed: ${u("/lab/quotes")}; samples received, to measure: ${u(`/lab/orders/${await orderId("Transmission scan of LFP coating trial HC-2624")}`)}`,
+    `lab@meridian.example — Tiago, awaiting vetting: the application and its checked calibration scan: ${u("/lab/vetting")}`,
+    "admin@diffractory.example — platform admin; the sign-in code: npx tsx scripts/demo-code.ts",
+    `  Meridian's application with its calibration check: ${u(`/admin/labs/${meridian?.id ?? ""}`)}; disputes (one open, one resolved): ${u("/admin/disputes")}`,
+    `  ledger: ${u("/admin/ledger")}; audit log: ${u("/admin/audit-log")}; outbox: ${u("/admin/outbox")}; e-mail sent: ${u("/dev/mail")} (raw: http://127.0.0.1:54331/_fake/messages)`,
+  ];
+  return lines.join("\n");
+}
