@@ -8,11 +8,13 @@ import { GeneralErrorBoundary } from "./components/error-boundary";
 import { useNonce } from "./nonce";
 import { ToastMessage } from "./components/toast";
 import { readToast } from "./utils/toast.server";
+import { LocaleProvider } from "./components/locale";
+import { negotiateLocale, supportedLocale } from "./utils/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
-  // Public: the toast cookie is the only thing read here.
+  // Public: the toast cookie and the viewer's Accept-Language are the only things read here.
   const { toast, headers } = await readToast(request);
-  return data({ toast }, { headers });
+  return data({ toast, locale: negotiateLocale(request.headers.get("accept-language")) }, { headers });
 }
 
 export function Layout({ children }: { children: ReactNode }) {
@@ -28,7 +30,7 @@ export function Layout({ children }: { children: ReactNode }) {
         <Links nonce={nonce} />
       </head>
       <body className="min-h-screen">
-        {children}
+        <LocaleProvider locale={supportedLocale(root?.locale)}>{children}</LocaleProvider>
         {root?.toast ? <ToastMessage toast={root.toast} /> : null}
         <ScrollRestoration nonce={nonce} />
         <Scripts nonce={nonce} />

@@ -4,6 +4,7 @@
 import { useEffect, useRef, useState } from "react";
 import type uPlotType from "uplot";
 import "uplot/dist/uPlot.min.css";
+import { useFormat } from "~/components/locale";
 
 export interface CheckPlotTick {
   twoTheta: number;
@@ -55,6 +56,7 @@ function toColumns(data: CheckPlotData, diffZero: number): uPlotType.AlignedData
 }
 
 export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { data: CheckPlotData; height?: number; label?: string }) {
+  const fmt = useFormat();
   const host = useRef<HTMLDivElement>(null);
   const plot = useRef<uPlotType | null>(null);
   const [range, setRange] = useState<[number, number] | null>(null);
@@ -197,7 +199,7 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
         <p data-testid="plot-range">
           {range && zoomed
             ? `Showing 2θ ${range[0].toFixed(2)}°–${range[1].toFixed(2)}° of ${full[0].toFixed(2)}°–${full[1].toFixed(2)}°`
-            : `Whole scan, 2θ ${full[0].toFixed(2)}°–${full[1].toFixed(2)}° (${n.toLocaleString("en")} points)`}
+            : `Whole scan, 2θ ${full[0].toFixed(2)}°–${full[1].toFixed(2)}° (${fmt.number(n)} points)`}
         </p>
         <div className="flex gap-1">
           <button type="button" className="btn-secondary px-2 py-1 text-xs" onClick={() => pan(-1)} disabled={!zoomed} aria-label="Pan to lower 2θ">

@@ -6,6 +6,7 @@ import { cellRows, declaredCheckOptions, type SampleDeclaration } from "~/models
 import { CheckPlot, type CheckPlotData } from "./check-plot";
 import { CheckStateBadge, VERDICT_WORDS, type CheckVerdict } from "./check-status";
 import { Badge } from "./ui";
+import { useFormat } from "~/components/locale";
 
 /** Larger files are checked on the server after the upload only. */
 export const PREVIEW_MAX_BYTES = 50 * 1024 * 1024;
@@ -90,6 +91,7 @@ export function CheckPreview({ file, sample, radiation }: { file: File; sample: 
 }
 
 function PreviewResult({ result, ms }: { result: LatticeCheckResult; ms: number }) {
+  const fmt = useFormat();
   const plot: CheckPlotData = useMemo(
     () => ({
       twoTheta: result.twoTheta,
@@ -134,7 +136,7 @@ function PreviewResult({ result, ms }: { result: LatticeCheckResult; ms: number 
       ) : null}
       <p className="text-xs text-ink-600">
         M20 {result.figuresOfMerit.M20?.toFixed(1) ?? "—"} · F_N {result.figuresOfMerit.FN?.toFixed(1) ?? "—"} · {result.peaks.length} peaks ·{" "}
-        {result.twoTheta.length.toLocaleString("en")} points · {(ms / 1000).toFixed(2)} s
+        {fmt.number(result.twoTheta.length)} points · {(ms / 1000).toFixed(2)} s
       </p>
       <CheckPlot data={plot} height={220} label={`Preview pattern`} />
     </div>

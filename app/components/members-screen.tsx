@@ -2,6 +2,7 @@
 import { getFormProps, getInputProps, getSelectProps, useForm, type SubmissionResult } from "@conform-to/react";
 import { Form, useNavigation } from "react-router";
 import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
+import { useFormat } from "~/components/locale";
 
 interface MembersScreenProps {
   organisation: string;
@@ -16,6 +17,7 @@ interface MembersScreenProps {
 }
 
 export function MembersScreen(p: MembersScreenProps) {
+  const fmt = useFormat();
   const busy = useNavigation().state !== "idle";
   const [form, fields] = useForm<{ email: string; role: string }>({ id: "invite", lastResult: p.lastResult, defaultValue: { email: "", role: p.roles[p.roles.length - 1] }, shouldRevalidate: "onInput" });
   return (
@@ -29,7 +31,7 @@ export function MembersScreen(p: MembersScreenProps) {
             <td>
               <Badge tone={m.role === p.leadRole ? "brand" : "neutral"}>{m.role}</Badge>
             </td>
-            <td>{new Date(m.since).toLocaleDateString()}</td>
+            <td>{fmt.date(m.since)}</td>
           </tr>
         ))}
       </TableCard>
@@ -69,7 +71,7 @@ export function MembersScreen(p: MembersScreenProps) {
                       <Badge>{i.role}</Badge>
                     </td>
                     <td>{i.invitedBy ?? "—"}</td>
-                    <td>{new Date(i.expiresAt).toLocaleDateString()}</td>
+                    <td>{fmt.date(i.expiresAt)}</td>
                     <td className="text-right">
                       <Form method="post">
                         <input type="hidden" name="intent" value="revoke" />

@@ -2,6 +2,7 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useEffect, useRef, useState } from "react";
 import { Link } from "react-router";
+import { useFormat } from "~/components/locale";
 
 interface NotificationsJson {
   unread: number;
@@ -17,6 +18,7 @@ async function fetchNotifications(): Promise<NotificationsJson> {
 }
 
 export function NotificationBell() {
+  const fmt = useFormat();
   const client = useQueryClient();
   const [open, setOpen] = useState(false);
   const box = useRef<HTMLDivElement>(null);
@@ -76,7 +78,7 @@ export function NotificationBell() {
                   }}
                 >
                   <span className={n.read ? "text-ink-700" : "font-medium text-ink-900"}>{n.title}</span>
-                  <span className="block text-xs text-ink-500">{new Date(n.createdAt).toLocaleString("en-GB")}</span>
+                  <span className="block text-xs text-ink-500">{fmt.dateTime(n.createdAt)}</span>
                 </Link>
               </li>
             ))}

@@ -3,6 +3,7 @@ import type { ReactNode } from "react";
 import { CheckStateBadge, CheckStatusBadge } from "./check-status";
 import { FILE_KIND_LABELS, formatBytes, type FileKind } from "~/models/files";
 import { Badge, TableCard } from "./ui";
+import { useFormat } from "~/components/locale";
 
 export interface FileCheck {
   id: string;
@@ -68,6 +69,7 @@ export function OrderFilesTable({
   live?: boolean;
   actions?: (row: FileRow) => ReactNode;
 }) {
+  const fmt = useFormat();
   const columns = ["File", "Sample", "Size", "SHA-256", "Uploaded", ...(showState ? ["State"] : []), "Check", ...(actions ? [""] : [])];
   return (
     <TableCard columns={columns} caption={caption}>
@@ -86,7 +88,7 @@ export function OrderFilesTable({
           </td>
           <td className="text-xs text-ink-600">
             {row.uploader ?? "—"}
-            <span className="block">{new Date(row.uploadedAt).toLocaleString()}</span>
+            <span className="block">{fmt.dateTime(row.uploadedAt)}</span>
           </td>
           {showState ? (
             <td>

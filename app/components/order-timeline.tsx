@@ -1,5 +1,6 @@
 // An order's timeline: every state it passed through, with who moved it, when and why.
 import { ORDER_STATE_LABELS, type OrderState } from "~/models/order-states";
+import { useFormat } from "~/components/locale";
 
 export interface TimelineRow {
   id: number;
@@ -11,6 +12,7 @@ export interface TimelineRow {
 }
 
 export function OrderTimeline({ rows }: { rows: TimelineRow[] }) {
+  const fmt = useFormat();
   if (rows.length === 0) return <p className="text-sm text-ink-600">Nothing has happened yet.</p>;
   return (
     <ol className="relative space-y-4 border-l-2 border-beam-100 pl-5" aria-label="Order timeline">
@@ -19,7 +21,7 @@ export function OrderTimeline({ rows }: { rows: TimelineRow[] }) {
           <span aria-hidden="true" className="absolute top-1.5 -left-[27px] h-3 w-3 rounded-full border-2 border-white bg-beam-500" />
           <p className="text-sm font-semibold text-ink-900">{ORDER_STATE_LABELS[r.toState]}</p>
           <p className="text-xs text-ink-500">
-            <time dateTime={new Date(r.at).toISOString()}>{new Date(r.at).toLocaleString()}</time> · {r.actor ?? "Diffractory"}
+            <time dateTime={new Date(r.at).toISOString()}>{fmt.dateTime(r.at)}</time> · {r.actor ?? "Diffractory"}
           </p>
           {r.note ? <p className="mt-1 text-sm text-ink-700">{r.note}</p> : null}
         </li>

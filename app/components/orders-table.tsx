@@ -1,8 +1,8 @@
 // A list of orders with the other party, the amount and the state, for the client's and the lab's screens.
 import { Link } from "react-router";
-import { formatMoney } from "~/models/money";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES, type OrderState } from "~/models/order-states";
 import { Badge, TableCard } from "./ui";
+import { useFormat } from "~/components/locale";
 
 export interface OrderRow {
   id: string;
@@ -15,6 +15,7 @@ export interface OrderRow {
 }
 
 export function OrdersTable({ orders, hrefBase, counterpart }: { orders: OrderRow[]; hrefBase: string; counterpart: string }) {
+  const fmt = useFormat();
   return (
     <TableCard columns={["Request", counterpart, "Amount", "State", "Updated"]} caption="Orders">
       {orders.map((o) => (
@@ -25,11 +26,11 @@ export function OrdersTable({ orders, hrefBase, counterpart }: { orders: OrderRo
             </Link>
           </td>
           <td>{o.counterpart}</td>
-          <td>{formatMoney(o.amountMinor, o.currency)}</td>
+          <td>{fmt.money(o.amountMinor, o.currency)}</td>
           <td>
             <Badge tone={ORDER_STATE_TONES[o.state]}>{ORDER_STATE_LABELS[o.state]}</Badge>
           </td>
-          <td>{new Date(o.updatedAt).toLocaleDateString()}</td>
+          <td>{fmt.date(o.updatedAt)}</td>
         </tr>
       ))}
     </TableCard>

@@ -5,14 +5,7 @@ import { Badge } from "~/components/ui";
 import { GHS_CODES, type GhsCode } from "~/models/hazard-codes";
 import { specialLabel } from "~/models/hazards";
 import { WIZARD_STEPS, type WizardStep } from "~/models/request-forms";
-
-// A fixed locale and time zone, so the server's text and the browser's hydration agree.
-const DAY = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeZone: "UTC" });
-
-/** A calendar day for display ("12 May 2026"). */
-export function formatDate(value: string | Date) {
-  return DAY.format(new Date(value));
-}
+import { useFormat } from "~/components/locale";
 
 /** The five steps; steps up to the furthest one reached are links. */
 export function WizardSteps({ requestId, current, reached }: { requestId: string | null; current: WizardStep; reached: string }) {
@@ -129,6 +122,7 @@ const isGhs = (code: string): code is GhsCode => (GHS_CODES as string[]).include
 
 /** A sample's hazard declaration as the client reviews it and the lab reads it; `sdsUrl` links the safety data sheet. */
 export function HazardDeclaration({ hazards, sdsUrl }: { hazards: HazardView; sdsUrl?: string | null }) {
+  const fmt = useFormat();
   const none = hazards.ghsPictograms.length === 0 && hazards.hStatements.length === 0 && hazards.specialHazards.length === 0;
   return (
     <div className="space-y-3 text-sm">
@@ -153,7 +147,7 @@ export function HazardDeclaration({ hazards, sdsUrl }: { hazards: HazardView; sd
           {hazards.specialHazards.map((h) => (
             <li key={h.category}>
               <Badge tone="caution">{specialLabel(h.category)}</Badge> {h.details}
-              {h.activityBq ? <span className="ml-1 text-ink-600">({h.activityBq.toLocaleString()} Bq)</span> : null}
+              {h.activityBq ? <span className="ml-1 text-ink-600">({fmt.number(h.activityBq)} Bq)</span> : null}
             </li>
           ))}
         </ul>

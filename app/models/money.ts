@@ -1,4 +1,5 @@
 // Money as integer minor units with a currency code: parsing what people type and showing it back.
+import { DEFAULT_LOCALE, formatterFor, type SupportedLocale } from "~/utils/locale";
 
 /** Currencies a lab may price in; all have two decimal places (ISO 4217 minor unit 2). */
 export const CURRENCIES = ["EUR", "USD", "GBP", "CHF", "NOK", "SEK", "DKK", "CAD", "AUD"] as const;
@@ -24,8 +25,7 @@ export function toMajorText(minor: number): string {
   return `${Math.trunc(minor / 100)}.${String(Math.abs(minor) % 100).padStart(2, "0")}`;
 }
 
-/** 18000, "EUR" → "EUR 180.00", for display. */
-export function formatMoney(minor: number, currency: string): string {
-  const amount = new Intl.NumberFormat("en-GB", { minimumFractionDigits: 2, maximumFractionDigits: 2 }).format(minor / 100);
-  return `${currency} ${amount}`;
+/** 18000, "EUR" → "€180.00": text without a viewer (e-mails, exports) in the default locale; screens use useFormat(). */
+export function formatMoney(minor: number, currency: string, locale: SupportedLocale = DEFAULT_LOCALE): string {
+  return formatterFor(locale).money(minor, currency);
 }

@@ -9,6 +9,7 @@ import { checkStatusJson } from "~/jobs/scan-check.server";
 import { requestTitle, requireCheckAccess, sampleOfFile } from "~/models/checks.server";
 import { cellRows, formatHkl, radiationWords, signed, type StoredCheckResult } from "~/models/check-result";
 import type { Route } from "./+types/check";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { check, file, order, side, organisation } = await requireCheckAccess(request, params.id);
@@ -93,6 +94,7 @@ function PendingCheck({ status }: { status: ReturnType<typeof useLoaderData<type
 }
 
 function CheckResultView({ result }: { result: StoredCheckResult }) {
+  const fmt = useFormat();
   const verdict = VERDICT_WORDS[result.verdict as CheckVerdict];
   const plotData: CheckPlotData = useMemo(
     () => ({
@@ -140,7 +142,7 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
         <CheckPlot data={plotData} label="Observed, background, fitted profile, reflection marks and difference curve" />
         {result.profile.thinned ? (
           <p className="text-xs text-ink-600">
-            The scan has {result.profile.points.toLocaleString("en")} points; the plot shows {result.profile.twoTheta.length.toLocaleString("en")} of them, keeping
+            The scan has {fmt.number(result.profile.points)} points; the plot shows {fmt.number(result.profile.twoTheta.length)} of them, keeping
             each stretch&apos;s lowest and highest count so no peak top is lost. The original file in the data room has every point.
           </p>
         ) : null}

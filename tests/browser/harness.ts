@@ -18,12 +18,14 @@ export interface Browser {
   close(): Promise<void>;
 }
 
-export async function openBrowser(): Promise<Browser> {
+/** locale sets the browser's language (and so its Accept-Language); viewport defaults to a 1280 × 860 desktop. */
+export async function openBrowser(options: { locale?: string; viewport?: { width: number; height: number } } = {}): Promise<Browser> {
   const profile = fs.mkdtempSync(path.join(os.tmpdir(), "diffractory-chromium-"));
   const context = await chromium.launchPersistentContext(profile, {
     executablePath: "/usr/bin/chromium",
     baseURL: BASE_URL,
-    viewport: { width: 1280, height: 860 },
+    viewport: options.viewport ?? { width: 1280, height: 860 },
+    ...(options.locale ? { locale: options.locale } : {}),
     args: ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
       "--disable-background-networking", "--disable-component-update", "--disable-sync"],
   });

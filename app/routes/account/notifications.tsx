@@ -7,6 +7,7 @@ import { requireUser, workspacePath } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/notifications";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const actor = await requireUser(request);
@@ -26,6 +27,7 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function NotificationSettings() {
+  const fmt = useFormat();
   const { preferences, list, back, email } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
@@ -81,7 +83,7 @@ export default function NotificationSettings() {
                 <a href={n.href || "#"} className={n.read ? "text-ink-700" : "font-medium text-ink-900"}>
                   {n.title}
                 </a>
-                <span className="block text-xs text-ink-500">{new Date(n.createdAt).toLocaleString("en-GB")}</span>
+                <span className="block text-xs text-ink-500">{fmt.dateTime(n.createdAt)}</span>
               </li>
             ))}
           </ul>

@@ -15,6 +15,7 @@ import { startSession } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { enrolmentPicture, groupedSecret } from "~/utils/totp.server";
 import type { Route } from "./+types/security";
+import { useFormat } from "~/components/locale";
 
 const codeField = () => z.string({ error: "Enter the 6-digit code from your authenticator app." }).trim().max(20, "Enter the 6-digit code from your authenticator app.");
 
@@ -148,6 +149,7 @@ function DisableForm({ actionData, busy }: { actionData: ActionData; busy: boole
 }
 
 export default function AccountSecurity() {
+  const fmt = useFormat();
   const page = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>() as ActionData;
   const busy = useNavigation().state !== "idle";
@@ -177,7 +179,7 @@ export default function AccountSecurity() {
           Password
         </h2>
         <p className="mt-1 mb-4 text-sm text-ink-600">
-          Last changed {new Date(page.passwordChangedAt).toLocaleDateString("en-GB")}. Changing it signs out every other device; this one stays signed in.
+          Last changed {fmt.date(page.passwordChangedAt)}. Changing it signs out every other device; this one stays signed in.
         </p>
         <ChangePasswordForm actionData={actionData} busy={busy} />
       </section>
@@ -189,7 +191,7 @@ export default function AccountSecurity() {
         {page.totp.state === "on" ? (
           <div className="mt-2 space-y-4">
             <p className="text-sm text-ink-600">
-              Since {new Date(page.totp.since).toLocaleDateString("en-GB")}, sign-in asks for the 6-digit code of your authenticator app after the password.
+              Since {fmt.date(page.totp.since)}, sign-in asks for the 6-digit code of your authenticator app after the password.
             </p>
             {page.isAdmin ? (
               <p className="text-sm text-ink-600">Platform admins keep their second factor; it cannot be turned off.</p>

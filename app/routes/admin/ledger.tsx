@@ -3,9 +3,9 @@ import { Form, Link, useLoaderData, useSearchParams } from "react-router";
 import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { LEDGER_KINDS, parseLedgerFilter } from "~/models/ledger-filter";
 import { ledgerRows, ledgerSummary } from "~/models/ledger.server";
-import { formatMoney } from "~/models/money";
 import { requireAdmin } from "~/utils/permissions.server";
 import type { Route } from "./+types/ledger";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
@@ -15,6 +15,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export default function Ledger() {
+  const fmt = useFormat();
   const { summary, rows, error } = useLoaderData<typeof loader>();
   const [params] = useSearchParams();
   return (
@@ -31,25 +32,36 @@ export default function Ledger() {
           </>
         }
       />
-      <div className="mb-6 grid gap-4 sm:grid-cols-2 lg:grid-cols-4">
-        {Object.entries(summary.byCurrency).flatMap(([currency, t]) =>
-          (
-            [
-              ["Held", t.heldMinor],
-              ["Paid to labs", t.paidOutMinor],
-              ["Platform fees", t.feesMinor],
-              ["Refunded", t.refundedMinor],
-            ] as const
-          ).map(([label, v]) => (
-            <div key={`${currency}-${label}`} className="card py-4">
-              <p className="text-xs text-ink-500">
-                {label} ({currency})
-              </p>
-              <p className="text-xl font-bold">{formatMoney(v, currency)}</p>
+      {Object.entries(summary.byCurrency).map(([currency, t]) => {
+        const figures = [
+          ["taken-in", "Taken in from clients", t.takenInMinor],
+          ["paid-out", "Paid to labs", t.paidOutMinor],
+          ["fees", "Platform fees", t.feesMinor],
+          ["refunded", "Refunded", t.refundedMinor],
+          ["held", "Still held", t.heldMinor],
+        ] as const;
+        const addsUp = t.takenInMinor === t.paidOutMinor + t.feesMinor + t.refundedMinor + t.heldMinor;
+        return (
+          <section key={currency} className="card mb-6 py-4" aria-labelledby={`totals-${currency}`}>
+            <div className="mb-3 flex flex-wrap items-baseline justify-between gap-2">
+              <h2 id={`totals-${currency}`} className="text-sm font-semibold text-ink-800">
+                Totals in {currency}
+              </h2>
+              <Badge tone={addsUp ? "ok" : "danger"}>{addsUp ? "Taken in = paid to labs + fees + refunded + still held" : "Totals do not add up!"}</Badge>
             </div>
-          )),
-        )}
-      </div>
+            <dl className="grid gap-4 sm:grid-cols-3 lg:grid-cols-5">
+              {figures.map(([key, label, v]) => (
+                <div key={key}>
+                  <dt className="text-xs text-ink-600">{label}</dt>
+                  <dd className="text-xl font-bold" data-total={key}>
+                    {fmt.money(v, currency)}
+                  </dd>
+                </div>
+              ))}
+            </dl>
+          </section>
+        );
+      })}
       <Form method="get" className="card mb-6 grid gap-3 sm:grid-cols-5" aria-label="Filter the ledger">
         <div>
           <label className="label" htmlFor="kind">
@@ -97,11 +109,11 @@ export default function Ledger() {
         <TableCard columns={["When", "Movement", "Order", "Account", "Amount", "Provider object"]} caption="Ledger entries">
           {rows.map((r, i) => (
             <tr key={`${r.id}-${i}`}>
-              <td className="whitespace-nowrap">{new Date(r.created_at).toLocaleString()}</td>
+              <td className="whitespace-nowrap">{fmt.dateTime(r.created_at)}</td>
               <td>{r.kind.replace("_", " ")}</td>
               <td className="font-mono text-xs">{r.order_id?.slice(0, 8) ?? "—"}</td>
               <td className="font-mono text-xs">{r.account}</td>
-              <td className={`text-right font-mono ${r.amount_minor < 0 ? "text-danger-700" : ""}`}>{formatMoney(r.amount_minor, r.currency)}</td>
+              <td className={`text-right font-mono ${r.amount_minor < 0 ? "text-danger-700" : ""}`}>{fmt.money(r.amount_minor, r.currency)}</td>
               <td className="font-mono text-xs">{r.provider_object_id}</td>
             </tr>
           ))}

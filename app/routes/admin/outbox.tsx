@@ -8,6 +8,7 @@ import { requireAdmin } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/outbox";
+import { useFormat } from "~/components/locale";
 
 const STATUSES = ["parked", "queued", "sent", "all"] as const;
 
@@ -32,6 +33,7 @@ export async function action({ request }: Route.ActionArgs) {
 const TONES = { parked: "danger", queued: "caution", sent: "ok" } as const;
 
 export default function Outbox() {
+  const fmt = useFormat();
   const { status, counts, rows } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
@@ -54,7 +56,7 @@ export default function Outbox() {
         <TableCard columns={["Written", "To", "Subject", "Status", "Attempts", "Last error", ""]}>
           {rows.map((m) => (
             <tr key={m.id}>
-              <td className="text-xs whitespace-nowrap">{new Date(m.createdAt).toLocaleString("en-GB")}</td>
+              <td className="text-xs whitespace-nowrap">{fmt.dateTime(m.createdAt)}</td>
               <td className="text-sm">{m.to}</td>
               <td className="text-sm">{m.subject}</td>
               <td>

@@ -6,6 +6,7 @@ import { eq } from "drizzle-orm";
 import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
 import { z } from "zod";
 import { OrderFilesTable } from "~/components/order-files-table";
+import { useRefreshWhile } from "~/components/refresh-while";
 import { RevokeButton, ShownOnce } from "~/components/shown-once";
 import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
@@ -18,6 +19,7 @@ import { config } from "~/config.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/data-room-order";
+import { useFormat } from "~/components/locale";
 
 const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
 
@@ -86,9 +88,12 @@ export async function action({ request, params, context }: Route.ActionArgs) {
 }
 
 export default function DataRoomOrder() {
+  const fmt = useFormat();
   const { order, files, shareLinks, accessLog, canDelete } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
+  // While the lab has the samples, new files and the order's next state show up without a reload.
+  useRefreshWhile(order.state === "samples_received" || order.state === "measuring");
   const [form, fields] = useForm({
     id: "share-link",
     lastResult: actionData?.result,
@@ -166,7 +171,7 @@ export default function DataRoomOrder() {
             title={`Share link for ${actionData.shared.label}`}
             label="New share link"
             value={actionData.shared.url}
-            note={`Valid until ${new Date(actionData.shared.expiresAt).toLocaleString()}.`}
+            note={`Valid until ${fmt.dateTime(actionData.shared.expiresAt)}.`}
           />
         ) : null}
         {shareLinks.length ? (
@@ -176,9 +181,9 @@ export default function DataRoomOrder() {
                 <td className="font-medium">{l.label}</td>
                 <td className="text-xs">
                   {l.createdBy ?? "—"}
-                  <span className="block">{new Date(l.createdAt).toLocaleString()}</span>
+                  <span className="block">{fmt.dateTime(l.createdAt)}</span>
                 </td>
-                <td className="text-xs">{new Date(l.expiresAt).toLocaleString()}</td>
+                <td className="text-xs">{fmt.dateTime(l.expiresAt)}</td>
                 <td>
                   <Badge tone={l.status === "active" ? "ok" : "neutral"}>{l.status === "active" ? "Active" : l.status === "expired" ? "Expired" : "Revoked"}</Badge>
                 </td>
@@ -201,7 +206,7 @@ export default function DataRoomOrder() {
           <TableCard columns={["When", "File", "Who", "From"]} caption="Access log">
             {accessLog.map((a) => (
               <tr key={a.id}>
-                <td className="text-xs">{new Date(a.at).toLocaleString()}</td>
+                <td className="text-xs">{fmt.dateTime(a.at)}</td>
                 <td>
                   {a.fileName} <span className="font-mono text-xs text-ink-500">v{a.version}</span>
                 </td>

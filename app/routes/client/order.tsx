@@ -11,10 +11,10 @@ import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
 import { orderTimeline, OrderMoveRefused } from "~/models/orders.server";
 import { markShipped, shipmentOf } from "~/models/fulfilment.server";
 import { acceptDelivery, cancelOrder, openDispute, PAYOUT_DELAYED, PaymentProblem, startCheckout } from "~/models/payments.server";
-import { formatMoney } from "~/models/money";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
+import { useFormat } from "~/components/locale";
 
 const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
 
@@ -93,6 +93,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function ClientOrder() {
+  const fmt = useFormat();
   const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
@@ -107,7 +108,7 @@ export default function ClientOrder() {
       </p>
       <PageHeader
         title={`Order with ${labName}`}
-        subtitle={`${formatMoney(order.amountMinor, order.currency)} · order ${order.id.slice(0, 8)}`}
+        subtitle={`${fmt.money(order.amountMinor, order.currency)} · order ${order.id.slice(0, 8)}`}
         actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
       />
       <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
@@ -129,7 +130,7 @@ export default function ClientOrder() {
               {cancelledPayment ? <p className="text-sm text-ink-600">You left the payment page; nothing was charged.</p> : null}
               <Form method="post">
                 <button type="submit" name="intent" value="pay" className="btn-primary" disabled={busy}>
-                  {busy && navigation.formData?.get("intent") === "pay" ? "Opening the payment page…" : `Pay ${formatMoney(order.amountMinor, order.currency)}`}
+                  {busy && navigation.formData?.get("intent") === "pay" ? "Opening the payment page…" : `Pay ${fmt.money(order.amountMinor, order.currency)}`}
                 </button>
               </Form>
             </div>

@@ -4,9 +4,9 @@ import { and, eq } from "drizzle-orm";
 import { useLoaderData } from "react-router";
 import { DiffractionRingsIcon } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { formatMoney } from "~/models/money";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payment-receipt";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
@@ -24,6 +24,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export default function Receipt() {
+  const fmt = useFormat();
   const { receipt } = useLoaderData<typeof loader>();
   return (
     <article className="card mx-auto max-w-2xl print:border-0 print:shadow-none">
@@ -44,7 +45,7 @@ export default function Receipt() {
           {receipt.title} — {receipt.lab}
         </dd>
         <dt className="text-ink-600">Date</dt>
-        <dd>{new Date(receipt.at).toLocaleString()}</dd>
+        <dd>{fmt.dateTime(receipt.at)}</dd>
         <dt className="text-ink-600">Payment reference</dt>
         <dd className="font-mono text-xs">{receipt.chargeId}</dd>
       </dl>
@@ -63,14 +64,14 @@ export default function Receipt() {
             <tr key={i}>
               <td>{l.description}</td>
               <td>{l.quantity}</td>
-              <td className="text-right">{formatMoney(l.totalMinor, receipt.currency)}</td>
+              <td className="text-right">{fmt.money(l.totalMinor, receipt.currency)}</td>
             </tr>
           ))}
           <tr>
             <td colSpan={2} className="font-semibold">
               Total paid (held until delivery is accepted)
             </td>
-            <td className="text-right font-semibold">{formatMoney(receipt.amountMinor, receipt.currency)}</td>
+            <td className="text-right font-semibold">{fmt.money(receipt.amountMinor, receipt.currency)}</td>
           </tr>
         </tbody>
       </table>

@@ -3,9 +3,9 @@ import { and, desc, eq, inArray } from "drizzle-orm";
 import { Link, useLoaderData } from "react-router";
 import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { formatMoney } from "~/models/money";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payments";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
@@ -31,6 +31,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export default function ClientPayments() {
+  const fmt = useFormat();
   const { payments } = useLoaderData<typeof loader>();
   return (
     <div>
@@ -41,15 +42,15 @@ export default function ClientPayments() {
         <TableCard columns={["Date", "Order", "Lab", "Paid", "Refunded", "Status", ""]} caption="Payments">
           {payments.map((p) => (
             <tr key={p.id}>
-              <td>{new Date(p.at).toLocaleDateString()}</td>
+              <td>{fmt.date(p.at)}</td>
               <td>
                 <Link to={`/client/orders/${p.orderId}`} className="text-beam-700 hover:underline">
                   {p.title}
                 </Link>
               </td>
               <td>{p.lab}</td>
-              <td>{p.status === "paid" ? formatMoney(p.amountMinor, p.currency) : "—"}</td>
-              <td>{p.refundedMinor ? formatMoney(p.refundedMinor, p.currency) : "—"}</td>
+              <td>{p.status === "paid" ? fmt.money(p.amountMinor, p.currency) : "—"}</td>
+              <td>{p.refundedMinor ? fmt.money(p.refundedMinor, p.currency) : "—"}</td>
               <td>{p.status === "paid" ? <Badge tone="ok">Paid</Badge> : <Badge tone="caution">Not completed</Badge>}</td>
               <td>
                 {p.status === "paid" ? (

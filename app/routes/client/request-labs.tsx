@@ -8,9 +8,9 @@ import { Badge, EmptyState, FieldErrors, FormError, PageHeader } from "~/compone
 import { matchLabsForRequest } from "~/models/matching.server";
 import { LabsStepSchema } from "~/models/request-forms";
 import { invitedLabIds, notEditable, redirectIfPublished, requireOwnDraft, saveVisibility } from "~/models/requests.server";
-import { formatMoney } from "~/models/money";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-labs";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { row } = await requireOwnDraft(request, params.id);
@@ -31,6 +31,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function RequestLabs() {
+  const fmt = useFormat();
   const { requestId, reached, matches, defaults } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
@@ -78,7 +79,7 @@ export default function RequestLabs() {
                     <p className="text-sm text-ink-600">
                       {m.instrumentName ?? "No instrument"}
                       {m.source ? ` · ${m.source}` : ""}
-                      {m.estimatedPriceMinor !== null && m.currency ? ` · about ${formatMoney(m.estimatedPriceMinor, m.currency)}` : ""}
+                      {m.estimatedPriceMinor !== null && m.currency ? ` · about ${fmt.money(m.estimatedPriceMinor, m.currency)}` : ""}
                       {m.turnaroundDays ? ` · ${m.turnaroundDays} days` : ""}
                     </p>
                   </div>

@@ -4,9 +4,9 @@ import { HazardDeclaration, SampleFacts, WizardSteps } from "~/components/reques
 import { FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import { labelOf } from "~/models/matching";
 import { invitedLabIds, notEditable, publishProblems, publishRequest, redirectIfPublished, requireOwnDraft, samplesOf } from "~/models/requests.server";
-import { formatMoney } from "~/models/money";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/request-review";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { row } = await requireOwnDraft(request, params.id);
@@ -25,6 +25,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function RequestReview() {
+  const fmt = useFormat();
   const { request: r, samples, invitedCount, problems } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
@@ -73,7 +74,7 @@ export default function RequestReview() {
           <dt className="text-ink-500">Deadline</dt>
           <dd>{r.deadline ?? "—"}</dd>
           <dt className="text-ink-500">Budget</dt>
-          <dd>{r.budgetMinor === null ? "not stated" : formatMoney(r.budgetMinor, r.currency)}</dd>
+          <dd>{r.budgetMinor === null ? "not stated" : fmt.money(r.budgetMinor, r.currency)}</dd>
           <dt className="text-ink-500">Who may quote</dt>
           <dd>{r.visibility === "open" ? "every matching lab" : `${invitedCount} invited lab${invitedCount === 1 ? "" : "s"}`}</dd>
         </dl>

@@ -1,16 +1,16 @@
 // A client's request: its samples and hazards, the labs' quotes side by side, and accepting one of them.
 import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
-import { formatDate, OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from "~/components/request-parts";
+import { OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from "~/components/request-parts";
 import { EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import { matchLabsForRequest } from "~/models/matching.server";
 import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/quotes.server";
 import { requireOwnRequest, samplesOf, sdsLinks } from "~/models/requests.server";
-import { formatMoney } from "~/models/money";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
@@ -32,6 +32,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function ClientRequest() {
+  const fmt = useFormat();
   const { request: r, samples, quotes, matches, order, sds } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
@@ -44,7 +45,7 @@ export default function ClientRequest() {
         subtitle={
           <span className="inline-flex items-center gap-2">
             <RequestStateBadge state={r.state} /> {samples.length} sample{samples.length === 1 ? "" : "s"}
-            {r.deadline ? ` · deadline ${formatDate(r.deadline)}` : ""}
+            {r.deadline ? ` · deadline ${fmt.date(r.deadline)}` : ""}
           </span>
         }
         actions={
@@ -65,12 +66,12 @@ export default function ClientRequest() {
             </span>
           </div>
           <p className="mt-1 text-sm text-ink-600">
-            {formatMoney(order.amountMinor, order.currency)} · payment is the next step; the funds are then held until the data is delivered.
+            {fmt.money(order.amountMinor, order.currency)} · payment is the next step; the funds are then held until the data is delivered.
           </p>
           <ol className="mt-3 space-y-1 text-sm">
             {order.events.map((e) => (
               <li key={e.id}>
-                <span className="text-ink-500">{formatDate(e.at)}</span> — {e.toState.replace(/_/g, " ")}
+                <span className="text-ink-500">{fmt.date(e.at)}</span> — {e.toState.replace(/_/g, " ")}
                 {e.note ? `: ${e.note}` : ""}
               </li>
             ))}
@@ -92,7 +93,7 @@ export default function ClientRequest() {
                   <h3 className="font-semibold">{q.labName}</h3>
                   <QuoteStateBadge state={q.state} />
                 </div>
-                <p className="mt-2 text-2xl font-bold">{formatMoney(q.totalMinor, q.currency)}</p>
+                <p className="mt-2 text-2xl font-bold">{fmt.money(q.totalMinor, q.currency)}</p>
                 <dl className="mt-2 grid grid-cols-[auto_1fr] gap-x-3 gap-y-0.5 text-sm">
                   <dt className="text-ink-500">Turnaround</dt>
                   <dd>{q.turnaroundDays} days</dd>
@@ -101,7 +102,7 @@ export default function ClientRequest() {
                   <dt className="text-ink-500">Source</dt>
                   <dd>{q.source ?? "—"}</dd>
                   <dt className="text-ink-500">Valid until</dt>
-                  <dd>{formatDate(q.validUntil)}</dd>
+                  <dd>{fmt.date(q.validUntil)}</dd>
                 </dl>
                 <table className="mt-3 w-full text-xs">
                   <tbody>
@@ -110,7 +111,7 @@ export default function ClientRequest() {
                         <td className="py-1">
                           {i.quantity} × {i.description}
                         </td>
-                        <td className="py-1 text-right whitespace-nowrap">{formatMoney(i.totalMinor, q.currency)}</td>
+                        <td className="py-1 text-right whitespace-nowrap">{fmt.money(i.totalMinor, q.currency)}</td>
                       </tr>
                     ))}
                   </tbody>
@@ -133,7 +134,7 @@ export default function ClientRequest() {
       )}
       {past.length ? (
         <p className="mt-3 text-sm text-ink-600">
-          Also received: {past.map((q) => `${q.labName} (${q.state}, ${formatMoney(q.totalMinor, q.currency)})`).join("; ")}.
+          Also received: {past.map((q) => `${q.labName} (${q.state}, ${fmt.money(q.totalMinor, q.currency)})`).join("; ")}.
         </p>
       ) : null}
 

@@ -1,10 +1,11 @@
 // The client organisation's requests, grouped by state, a page of 50 at a time, with the way to start a new one.
 import { data, Link, useLoaderData } from "react-router";
-import { formatDate, RequestStateBadge } from "~/components/request-parts";
+import { RequestStateBadge } from "~/components/request-parts";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { listOrganisationRequests, REQUESTS_PAGE_SIZE } from "~/models/requests.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/requests";
+import { useFormat } from "~/components/locale";
 
 const STATE_ORDER = ["draft", "open", "awarded", "expired", "withdrawn"] as const;
 
@@ -39,6 +40,7 @@ function PageLinks({ page, pageCount }: { page: number; pageCount: number }) {
 }
 
 export default function Requests() {
+  const fmt = useFormat();
   const { organisation, requests, page, pageCount, pageSize, total, countByState } = useLoaderData<typeof loader>();
   const newButton = (
     <Link to="/client/requests/new" className="btn-primary">
@@ -85,8 +87,8 @@ export default function Requests() {
                     </td>
                     <td>{r.samples}</td>
                     <td>{r.quotes}</td>
-                    <td>{r.deadline ? formatDate(r.deadline) : "—"}</td>
-                    <td>{formatDate(r.createdAt)}</td>
+                    <td>{r.deadline ? fmt.date(r.deadline) : "—"}</td>
+                    <td>{fmt.date(r.createdAt)}</td>
                   </tr>
                 ))}
               </TableCard>

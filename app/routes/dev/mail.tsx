@@ -4,6 +4,7 @@ import { EmptyState, PageHeader } from "~/components/ui";
 import { config } from "~/config.server";
 import { notFound, requireAdmin, requireUser } from "~/utils/permissions.server";
 import type { Route } from "./+types/mail";
+import { useFormat } from "~/components/locale";
 
 interface FakeMessage {
   id: string;
@@ -30,6 +31,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export default function DevMail() {
+  const fmt = useFormat();
   const { messages, sendAttempts, problem } = useLoaderData<typeof loader>();
   return (
     <main id="main" className="mx-auto w-full max-w-4xl px-4 py-8 sm:px-6">
@@ -44,7 +46,7 @@ export default function DevMail() {
                 <summary className="cursor-pointer">
                   <span className="font-medium">{m.subject}</span>
                   <span className="block text-xs text-ink-500">
-                    to {m.to.join(", ")} · {new Date(m.receivedAt).toLocaleString("en-GB")}
+                    to {m.to.join(", ")} · {fmt.dateTime(m.receivedAt)}
                   </span>
                 </summary>
                 <pre className="mt-3 text-xs whitespace-pre-wrap text-ink-700">{m.text ?? "(no plain-text part)"}</pre>

@@ -13,6 +13,7 @@ import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/api-tokens";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
@@ -49,6 +50,7 @@ export async function action({ request, context }: Route.ActionArgs) {
 }
 
 export default function ApiTokens() {
+  const fmt = useFormat();
   const { tokens, canManage, appUrl, limit } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
@@ -90,9 +92,9 @@ export default function ApiTokens() {
               <td className="font-mono text-xs">{t.prefix}…</td>
               <td className="text-xs">
                 {t.createdBy ?? "—"}
-                <span className="block">{new Date(t.createdAt).toLocaleString()}</span>
+                <span className="block">{fmt.dateTime(t.createdAt)}</span>
               </td>
-              <td className="text-xs">{t.lastUsedAt ? new Date(t.lastUsedAt).toLocaleString() : "never"}</td>
+              <td className="text-xs">{t.lastUsedAt ? fmt.dateTime(t.lastUsedAt) : "never"}</td>
               <td>{t.revokedAt ? <Badge tone="neutral">Revoked</Badge> : <Badge tone="ok">Active</Badge>}</td>
               <td className="text-right">
                 {canManage && !t.revokedAt ? (

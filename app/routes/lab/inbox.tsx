@@ -5,10 +5,9 @@ import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { requestsMatchingLab } from "~/models/matching.server";
 import { vettingStateOf } from "~/models/quotes.server";
-import { formatMoney } from "~/models/money";
-import { formatDate } from "~/components/request-parts";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/inbox";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
@@ -36,6 +35,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export default function LabInbox() {
+  const fmt = useFormat();
   const { vetting, items } = useLoaderData<typeof loader>();
   if (vetting !== "approved") {
     return (
@@ -68,9 +68,9 @@ export default function LabInbox() {
                 {i.fits ? <Badge tone="ok">fits</Badge> : <Badge tone="danger">does not fit</Badge>}
                 {i.warnings ? <span className="ml-1 text-xs text-caution-700">! {i.warnings} warning{i.warnings === 1 ? "" : "s"}</span> : null}
               </td>
-              <td>{i.estimate !== null && i.currency ? formatMoney(i.estimate, i.currency) : "—"}</td>
-              <td>{i.deadline ? formatDate(i.deadline) : "—"}</td>
-              <td>{i.openedAt ? formatDate(i.openedAt) : "—"}</td>
+              <td>{i.estimate !== null && i.currency ? fmt.money(i.estimate, i.currency) : "—"}</td>
+              <td>{i.deadline ? fmt.date(i.deadline) : "—"}</td>
+              <td>{i.openedAt ? fmt.date(i.openedAt) : "—"}</td>
             </tr>
           ))}
         </TableCard>

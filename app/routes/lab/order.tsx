@@ -10,13 +10,13 @@ import { Badge, FormError, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { orderSamples } from "~/models/files.server";
 import { markDelivered, markReceived, samplesWithoutCompletedCheck, shipmentOf, startMeasuring } from "~/models/fulfilment.server";
-import { formatMoney } from "~/models/money";
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
 import { orderTimeline, OrderMoveRefused } from "~/models/orders.server";
 import { PaymentProblem, refuseOnArrival } from "~/models/payments.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
+import { useFormat } from "~/components/locale";
 
 const labOrder = (request: Request, orderId: string) => requireOrderSide(request, "lab", orderId);
 
@@ -73,6 +73,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function LabOrder() {
+  const fmt = useFormat();
   const { order, title, clientName, samples, shipment, timeline, missingChecks } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
@@ -85,7 +86,7 @@ export default function LabOrder() {
       </p>
       <PageHeader
         title={title}
-        subtitle={`For ${clientName} · ${formatMoney(order.amountMinor, order.currency)}`}
+        subtitle={`For ${clientName} · ${fmt.money(order.amountMinor, order.currency)}`}
         actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
       />
       <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />

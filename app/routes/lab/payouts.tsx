@@ -4,9 +4,9 @@ import { data, Form, redirect, useActionData, useLoaderData, useNavigation } fro
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { payoutOnboardingUrl, PaymentProblem, syncPayoutAccount } from "~/models/payments.server";
-import { formatMoney } from "~/models/money";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payouts";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
@@ -40,6 +40,7 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function Payouts() {
+  const fmt = useFormat();
   const { account, canManage, payouts } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
@@ -74,9 +75,9 @@ export default function Payouts() {
         <TableCard columns={["When", "Order", "Amount", "Transfer"]} caption="Payouts">
           {payouts.map((p) => (
             <tr key={p.id}>
-              <td>{new Date(p.at).toLocaleString()}</td>
+              <td>{fmt.dateTime(p.at)}</td>
               <td className="font-mono text-xs">{p.orderId?.slice(0, 8)}</td>
-              <td className="font-medium">{formatMoney(p.amount, p.currency)}</td>
+              <td className="font-medium">{fmt.money(p.amount, p.currency)}</td>
               <td className="font-mono text-xs">{p.transferId}</td>
             </tr>
           ))}

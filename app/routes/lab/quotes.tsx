@@ -1,11 +1,11 @@
 // The lab's quotes with their state; lapsed ones are marked before the list is read.
 import { Link, useLoaderData } from "react-router";
-import { formatDate, QuoteStateBadge } from "~/components/request-parts";
+import { QuoteStateBadge } from "~/components/request-parts";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { quotesForLab } from "~/models/quotes.server";
-import { formatMoney } from "~/models/money";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/quotes";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
@@ -13,6 +13,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export default function LabQuotes() {
+  const fmt = useFormat();
   const { quotes } = useLoaderData<typeof loader>();
   return (
     <div>
@@ -28,13 +29,13 @@ export default function LabQuotes() {
                   {q.requestTitle}
                 </Link>
               </td>
-              <td>{formatMoney(q.totalMinor, q.currency)}</td>
+              <td>{fmt.money(q.totalMinor, q.currency)}</td>
               <td>
                 {q.instrumentName ?? "—"}
                 {q.source ? <span className="text-ink-500"> · {q.source}</span> : null}
               </td>
               <td>{q.turnaroundDays} days</td>
-              <td>{formatDate(q.validUntil)}</td>
+              <td>{fmt.date(q.validUntil)}</td>
               <td>
                 <QuoteStateBadge state={q.state} />
               </td>

@@ -4,12 +4,12 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { eq } from "drizzle-orm";
 import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
-import { formatDate, QuoteStateBadge, SampleCards } from "~/components/request-parts";
+import { QuoteStateBadge, SampleCards } from "~/components/request-parts";
 import { Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { labelOf, matchLab, sourceLabel } from "~/models/matching";
 import { loadMatchLabs, loadMatchRequest } from "~/models/matching.server";
-import { formatMoney, toMajorText } from "~/models/money";
+import { toMajorText } from "~/models/money";
 import { QuoteSchema } from "~/models/quote-forms";
 import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, requireLabQuote, sendQuote, vettingStateOf, withdrawQuote } from "~/models/quotes.server";
 import { acknowledgeHazards, acknowledgementOf, requireRequestForLab, samplesOf, sdsLinks } from "~/models/requests.server";
@@ -17,6 +17,7 @@ import { forbidden, requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request";
+import { useFormat } from "~/components/locale";
 
 const isoInDays = (days: number) => new Date(Date.now() + days * 86_400_000).toISOString().slice(0, 10);
 
@@ -89,6 +90,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function LabRequest() {
+  const fmt = useFormat();
   const { request: r, client, samples, sds, acknowledgement, approved, canQuote, match, quotes } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const navigation = useNavigation();
@@ -96,7 +98,7 @@ export default function LabRequest() {
   const range = r.rangeMin === null ? "—" : `${r.rangeMin}–${r.rangeMax} ${r.rangeKind === "d_spacing" ? "Å (d-spacing)" : "° 2θ"}`;
   return (
     <div>
-      <PageHeader title={r.title} subtitle={`${client} · ${labelOf(r.technique)} · ${samples.length} sample${samples.length === 1 ? "" : "s"}${r.deadline ? ` · deadline ${formatDate(r.deadline)}` : ""}`} />
+      <PageHeader title={r.title} subtitle={`${client} · ${labelOf(r.technique)} · ${samples.length} sample${samples.length === 1 ? "" : "s"}${r.deadline ? ` · deadline ${fmt.date(r.deadline)}` : ""}`} />
       <section className="card mb-4 text-sm" aria-label="Measurement needs">
         <p>
           Range {range}; source {r.preferredSource === "any" ? "any" : `${r.preferredSource} Kα`}; {r.temperaturePointsK.length ? `${r.temperaturePointsK.join(", ")} K` : "room temperature"} in{" "}
@@ -111,7 +113,7 @@ export default function LabRequest() {
       <div className="card mt-4">
         {acknowledgement ? (
           <p className="text-sm text-ok-700">
-            <span aria-hidden="true">✓ </span>Hazard declaration acknowledged by {acknowledgement.name} on {formatDate(acknowledgement.at)}.
+            <span aria-hidden="true">✓ </span>Hazard declaration acknowledged by {acknowledgement.name} on {fmt.date(acknowledgement.at)}.
           </p>
         ) : (
           <Form method="post" className="flex flex-wrap items-center justify-between gap-3">
@@ -132,7 +134,7 @@ export default function LabRequest() {
             {quotes.map((q) => (
               <li key={q.id} className="card flex flex-wrap items-center justify-between gap-3 text-sm">
                 <span>
-                  <QuoteStateBadge state={q.state} /> {formatMoney(q.totalMinor, q.currency)} · {q.turnaroundDays} days · valid until {formatDate(q.validUntil)}
+                  <QuoteStateBadge state={q.state} /> {fmt.money(q.totalMinor, q.currency)} · {q.turnaroundDays} days · valid until {fmt.date(q.validUntil)}
                 </span>
                 {q.state === "sent" && canQuote ? (
                   <Form method="post">

@@ -6,6 +6,7 @@ import { getOptionalActor, notFound, requireUser, workspacePath } from "~/utils/
 import { setActiveOrganisation } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/invitation";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const found = await resolveInvitation(params.token);
@@ -39,6 +40,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
 }
 
 export default function Invitation() {
+  const fmt = useFormat();
   const page = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
@@ -86,7 +88,7 @@ export default function Invitation() {
             </Form>
           </div>
         )}
-        <p className="text-xs text-ink-500">The link is valid until {new Date(page.expiresAt).toLocaleDateString()}.</p>
+        <p className="text-xs text-ink-500">The link is valid until {fmt.date(page.expiresAt)}.</p>
       </div>
     </div>
   );

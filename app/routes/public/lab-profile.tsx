@@ -7,8 +7,8 @@ import { dSpacingCoverage } from "~/models/coverage";
 import { loadMatchLabs } from "~/models/matching.server";
 import { instrumentWavelength, labelOf, sourceLabel } from "~/models/matching";
 import { notFound } from "~/utils/permissions.server";
-import { formatMoney } from "~/models/money";
 import type { Route } from "./+types/lab-profile";
+import { useFormat } from "~/components/locale";
 
 // Public by design: only approved labs are shown; any other slug is a 404.
 export async function loader({ params }: Route.LoaderArgs) {
@@ -37,6 +37,7 @@ export async function loader({ params }: Route.LoaderArgs) {
 }
 
 export default function LabProfile() {
+  const fmt = useFormat();
   const { lab } = useLoaderData<typeof loader>();
   const prices = lab.priceList;
   return (
@@ -81,13 +82,13 @@ export default function LabProfile() {
               {Object.entries(prices.perSampleMinor).map(([technique, minor]) => (
                 <div key={technique} className="contents">
                   <dt className="text-ink-600">Per sample, {labelOf(technique)}</dt>
-                  <dd className="text-right font-medium">{formatMoney(minor ?? 0, prices.currency)}</dd>
+                  <dd className="text-right font-medium">{fmt.money(minor ?? 0, prices.currency)}</dd>
                 </div>
               ))}
               <dt className="text-ink-600">Per extra temperature point</dt>
-              <dd className="text-right">{formatMoney(prices.perExtraTemperaturePointMinor, prices.currency)}</dd>
+              <dd className="text-right">{fmt.money(prices.perExtraTemperaturePointMinor, prices.currency)}</dd>
               <dt className="text-ink-600">Hazardous handling</dt>
-              <dd className="text-right">{formatMoney(prices.hazardousHandlingMinor, prices.currency)}</dd>
+              <dd className="text-right">{fmt.money(prices.hazardousHandlingMinor, prices.currency)}</dd>
               <dt className="text-ink-600">Turnaround</dt>
               <dd className="text-right">{prices.turnaroundDays} days</dd>
             </dl>

@@ -7,8 +7,8 @@ import { cachedDirectory, type DirectoryLab } from "~/models/directory.server";
 import { GHS_CODES, SPECIAL_CATEGORY_CODES, ghsName } from "~/models/hazard-codes";
 import { labelOf } from "~/models/matching";
 import { ANODES } from "~/diffraction/wavelengths";
-import { formatMoney } from "~/models/money";
 import type { Route } from "./+types/labs";
+import { useFormat } from "~/components/locale";
 
 type DirectoryResult = { labs: DirectoryLab[]; total: number; page: number };
 
@@ -37,6 +37,7 @@ async function fetchLabs(query: string): Promise<DirectoryResult> {
 
 
 export default function LabDirectory() {
+  const fmt = useFormat();
   const { initial, initialQuery, options } = useLoaderData<typeof loader>();
   const [params, setParams] = useSearchParams();
   const query = params.toString();
@@ -179,7 +180,7 @@ export default function LabDirectory() {
                     </div>
                     <div>
                       <dt className="text-ink-500">From</dt>
-                      <dd>{lab.priceFrom !== null && lab.currency ? `${formatMoney(lab.priceFrom, lab.currency)} per sample` : "—"}</dd>
+                      <dd>{lab.priceFrom !== null && lab.currency ? `${fmt.money(lab.priceFrom, lab.currency)} per sample` : "—"}</dd>
                     </div>
                     <div>
                       <dt className="text-ink-500">Turnaround</dt>

@@ -10,6 +10,7 @@ import { resolveShareLink } from "~/models/share-links.server";
 import { audit } from "~/utils/audit.server";
 import { notFound } from "~/utils/permissions.server";
 import type { Route } from "./+types/shared";
+import { useFormat } from "~/components/locale";
 
 export async function loader({ params, context }: Route.LoaderArgs) {
   // The share link's token is this page's only credential; no session is asked for.
@@ -36,6 +37,7 @@ export async function loader({ params, context }: Route.LoaderArgs) {
 }
 
 export default function SharedDataRoom() {
+  const fmt = useFormat();
   const { gone, shared } = useLoaderData<typeof loader>();
   if (!shared) {
     return (
@@ -52,7 +54,7 @@ export default function SharedDataRoom() {
     <div className="mx-auto max-w-6xl px-6 py-10">
       <PageHeader
         title={shared.order.title}
-        subtitle={`Shared read-only by ${shared.order.client} for ${shared.label}, until ${new Date(shared.expiresAt).toLocaleString()}. Downloads are logged.`}
+        subtitle={`Shared read-only by ${shared.order.client} for ${shared.label}, until ${fmt.dateTime(shared.expiresAt)}. Downloads are logged.`}
       />
       {shared.files.length === 0 ? (
         <EmptyState title="No files yet">The lab has not delivered any files for this order yet.</EmptyState>

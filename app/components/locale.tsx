@@ -1,0 +1,26 @@
+// The viewer's formatters for every screen: the root layout provides the locale from its loader data, so the
+// server's render and the browser's hydration produce the same text.
+import { createContext, useContext, type ReactNode } from "react";
+import { DEFAULT_LOCALE, formatterFor, type Formatter, type SupportedLocale } from "~/utils/locale";
+
+const LocaleContext = createContext<SupportedLocale>(DEFAULT_LOCALE);
+
+export function LocaleProvider({ locale, children }: { locale: SupportedLocale; children: ReactNode }) {
+  return <LocaleContext.Provider value={locale}>{children}</LocaleContext.Provider>;
+}
+
+/** Money, dates and counts in the viewer's locale; times in UTC. */
+export function useFormat(): Formatter {
+  return formatterFor(useContext(LocaleContext));
+}
+
+/** A <time> element with the machine-readable moment and the viewer's text. */
+export function When({ value, withTime = false, className }: { value: string | Date | number; withTime?: boolean; className?: string }) {
+  const f = useFormat();
+  const d = new Date(value);
+  return (
+    <time dateTime={d.toISOString()} className={className}>
+      {withTime ? f.dateTime(d) : f.date(d)}
+    </time>
+  );
+}
