@@ -62,13 +62,39 @@ const BADGE_TONES = {
   caution: "bg-caution-50 text-caution-700 border-caution-600/30",
   danger: "bg-danger-50 text-danger-700 border-danger-600/30",
 } as const;
-const BADGE_SHAPES = { neutral: "○", brand: "◆", ok: "✓", caution: "!", danger: "✕" } as const;
+/** A shape per tone, drawn at text size: a ring, a diamond, a tick in a circle, a triangle with a bar, a crossed octagon. */
+const BADGE_SHAPES: Record<keyof typeof BADGE_TONES, ReactNode> = {
+  neutral: <circle cx="8" cy="8" r="5" fill="none" stroke="currentColor" strokeWidth="2" />,
+  brand: <path d="M8 2.5 13.5 8 8 13.5 2.5 8Z" fill="currentColor" />,
+  ok: (
+    <>
+      <circle cx="8" cy="8" r="6.5" fill="currentColor" />
+      <path d="m5 8.2 2 2 4-4.4" fill="none" stroke="white" strokeWidth="1.8" strokeLinecap="round" strokeLinejoin="round" />
+    </>
+  ),
+  caution: (
+    <>
+      <path d="M8 1.8 14.6 13.6H1.4Z" fill="currentColor" strokeLinejoin="round" />
+      <path d="M8 6v3.6M8 11.4v.1" stroke="white" strokeWidth="1.7" strokeLinecap="round" />
+    </>
+  ),
+  danger: (
+    <>
+      <path d="M5.3 1.5h5.4l3.8 3.8v5.4l-3.8 3.8H5.3l-3.8-3.8V5.3Z" fill="currentColor" />
+      <path d="m5.8 5.8 4.4 4.4m0-4.4-4.4 4.4" stroke="white" strokeWidth="1.7" strokeLinecap="round" />
+    </>
+  ),
+};
+
+export type BadgeTone = keyof typeof BADGE_TONES;
 
 /** A state badge: a word, a shape and a colour, so colour never carries the meaning alone. */
-export function Badge({ tone = "neutral", children }: { tone?: keyof typeof BADGE_TONES; children: ReactNode }) {
+export function Badge({ tone = "neutral", children }: { tone?: BadgeTone; children: ReactNode }) {
   return (
-    <span className={`inline-flex items-center gap-1 rounded-full border px-2 py-0.5 text-xs font-semibold ${BADGE_TONES[tone]}`}>
-      <span aria-hidden="true">{BADGE_SHAPES[tone]}</span>
+    <span className={`inline-flex items-center gap-1 rounded-full border px-2 py-0.5 text-xs font-semibold whitespace-nowrap ${BADGE_TONES[tone]}`}>
+      <svg viewBox="0 0 16 16" className="h-3.5 w-3.5 shrink-0" aria-hidden="true" focusable="false" data-shape={tone}>
+        {BADGE_SHAPES[tone]}
+      </svg>
       {children}
     </span>
   );
