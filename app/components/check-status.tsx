@@ -76,7 +76,8 @@ export function CheckStatusBadge({ checkId, initial, link = true }: { checkId: s
   return (
     <span className="inline-flex flex-wrap items-center gap-2" role="status" aria-live="polite" data-testid="check-status" data-status={data.status}>
       {link && data.status === "done" ? (
-        <Link to={`/checks/${data.id}`} className="inline-flex items-center gap-1 underline-offset-2 hover:underline" aria-label={`Open the check: ${VERDICT_WORDS[data.verdict as CheckVerdict]?.label ?? "checked"}`}>
+        // The link's name is its visible text ("Consistent Open check"), so speech users can say what they see (WCAG 2.5.3).
+        <Link to={`/checks/${data.id}`} className="inline-flex items-center gap-1 underline-offset-2 hover:underline">
           {badge}
           <span className="text-xs font-medium text-beam-700">Open check</span>
         </Link>
