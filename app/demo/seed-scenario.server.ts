@@ -223,7 +223,7 @@ export const SCENARIO: ScenarioRequest[] = [
         hazards: {
           ghs: ["GHS06"],
           hStatements: "H301, H331",
-          handlingNotes: "Toxic if swallowed or inhaled. Sealed capillary inside a screw-top tube; weigh only in a fume hood.",
+          handlingNotes: "Toxic if swallowed or inhaled. Sealed vial inside a screw-top tube; weigh only in a fume hood.",
           afterMeasurement: "return",
         },
       },
