@@ -1,8 +1,11 @@
-// A list of orders with the other party, the amount and the state, for the client's and the lab's screens.
+// A list of orders with the other party, the amount and the state, for the client's and the lab's screens:
+// sortable by any column but the party, 50 a page (ordersOf reads them all; an organisation has hundreds at most).
 import { Link } from "react-router";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES, type OrderState } from "~/models/order-states";
-import { Badge, TableCard } from "./ui";
-import { useFormat } from "~/components/locale";
+import { ORDER_STATE_LABELS, ORDER_STATE_TONES, ORDER_STATES, type OrderState } from "~/models/order-states";
+import { sortAndPage, type PageInfo, type SortDir, type TableQuery, type TableSpec } from "~/utils/table";
+import { PageNav, SortableTable } from "./data-table";
+import { useFormat } from "./locale";
+import { Badge } from "./ui";
 
 export interface OrderRow {
   id: string;
@@ -14,25 +17,72 @@ export interface OrderRow {
   updatedAt: string | Date;
 }
 
-export function OrdersTable({ orders, hrefBase, counterpart }: { orders: OrderRow[]; hrefBase: string; counterpart: string }) {
+type OrderSort = "title" | "amount" | "state" | "updated";
+export const ORDERS_TABLE: TableSpec<OrderSort> = {
+  sorts: ["title", "amount", "state", "updated"],
+  defaultSort: "updated",
+  firstDir: { updated: "desc", amount: "desc" },
+  pageSize: 50,
+};
+
+/** One page of orders in the asked order; states sort in the order an order moves through them. */
+export function pageOfOrders<T extends OrderRow>(orders: T[], q: TableQuery<OrderSort>) {
+  return sortAndPage(orders, q, {
+    title: (o) => o.title,
+    // Amounts in different currencies are not compared by value: currency first, then amount.
+    amount: (o) => `${o.currency}${String(o.amountMinor).padStart(12, "0")}`,
+    state: (o) => ORDER_STATES.indexOf(o.state),
+    updated: (o) => new Date(o.updatedAt).getTime(),
+  });
+}
+
+export function OrdersTable({
+  orders,
+  hrefBase,
+  counterpart,
+  sort,
+  dir,
+  info,
+}: {
+  orders: OrderRow[];
+  hrefBase: string;
+  counterpart: string;
+  sort: string;
+  dir: SortDir;
+  info: PageInfo;
+}) {
   const fmt = useFormat();
   return (
-    <TableCard columns={["Request", counterpart, "Amount", "State", "Updated"]} caption="Orders">
-      {orders.map((o) => (
-        <tr key={o.id}>
-          <td>
-            <Link to={`${hrefBase}/${o.id}`} className="font-medium text-beam-700 hover:underline">
-              {o.title}
-            </Link>
-          </td>
-          <td>{o.counterpart}</td>
-          <td>{fmt.money(o.amountMinor, o.currency)}</td>
-          <td>
-            <Badge tone={ORDER_STATE_TONES[o.state]}>{ORDER_STATE_LABELS[o.state]}</Badge>
-          </td>
-          <td>{fmt.date(o.updatedAt)}</td>
-        </tr>
-      ))}
-    </TableCard>
+    <>
+      <SortableTable
+        columns={[
+          { label: "Request", sort: "title" },
+          { label: counterpart },
+          { label: "Amount", sort: "amount", firstDir: "desc" },
+          { label: "State", sort: "state" },
+          { label: "Updated", sort: "updated", firstDir: "desc" },
+        ]}
+        sort={sort}
+        dir={dir}
+        caption="Orders"
+      >
+        {orders.map((o) => (
+          <tr key={o.id}>
+            <td>
+              <Link to={`${hrefBase}/${o.id}`} className="font-medium text-beam-700 hover:underline">
+                {o.title}
+              </Link>
+            </td>
+            <td>{o.counterpart}</td>
+            <td className="whitespace-nowrap">{fmt.money(o.amountMinor, o.currency)}</td>
+            <td>
+              <Badge tone={ORDER_STATE_TONES[o.state]}>{ORDER_STATE_LABELS[o.state]}</Badge>
+            </td>
+            <td className="whitespace-nowrap">{fmt.date(o.updatedAt)}</td>
+          </tr>
+        ))}
+      </SortableTable>
+      <PageNav info={info} noun={["order", "orders"]} />
+    </>
   );
 }

@@ -1,14 +1,24 @@
-// The audit log: who did what, when, from where (admins only), newest first.
-import { desc, eq } from "drizzle-orm";
+// The audit log: who did what, when, from where (admins only), newest first, 50 a page, sortable by time, person and action.
+import { asc, count, desc, eq, sql } from "drizzle-orm";
 import { useLoaderData } from "react-router";
-import { EmptyState, PageHeader, TableCard } from "~/components/ui";
+import { PageNav, SortableTable } from "~/components/data-table";
+import { EmptyState, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import type { Route } from "./+types/audit-log";
 import { useFormat } from "~/components/locale";
+import { pageOf, readTableQuery, type TableSpec } from "~/utils/table";
+
+const TABLE: TableSpec<"at" | "who" | "action"> = { sorts: ["at", "who", "action"], defaultSort: "at", firstDir: { at: "desc" }, pageSize: 50 };
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
+  const q = readTableQuery(request, TABLE);
+  const [{ total }] = await db.select({ total: count() }).from(schema.auditLog);
+  const info = pageOf(total, q);
+  const by = q.dir === "asc" ? asc : desc;
+  // The id breaks ties in the order entries were written.
+  const order = { at: [by(schema.auditLog.at), by(schema.auditLog.id)], who: [by(sql`coalesce(${schema.users.email}, '')`), desc(schema.auditLog.id)], action: [by(schema.auditLog.action), desc(schema.auditLog.id)] }[q.sort];
   const entries = await db
     .select({
       id: schema.auditLog.id,
@@ -23,21 +33,34 @@ export async function loader({ request }: Route.LoaderArgs) {
     .from(schema.auditLog)
     .leftJoin(schema.users, eq(schema.users.id, schema.auditLog.actorUserId))
     .leftJoin(schema.organisations, eq(schema.organisations.id, schema.auditLog.organisationId))
-    .orderBy(desc(schema.auditLog.id))
-    .limit(200);
-  return { entries };
+    .orderBy(...order)
+    .limit(info.pageSize)
+    .offset(info.offset);
+  return { entries, info, sort: q.sort, dir: q.dir };
 }
 
 export default function AuditLog() {
   const fmt = useFormat();
-  const { entries } = useLoaderData<typeof loader>();
+  const { entries, info, sort, dir } = useLoaderData<typeof loader>();
   return (
     <div>
-      <PageHeader title="Audit log" subtitle="The newest 200 entries." />
+      <PageHeader title="Audit log" subtitle="Sign-ins, vetting decisions, payments, refunds and every other change, with who made it and from where." />
       {entries.length === 0 ? (
-        <EmptyState title="Nothing recorded yet" />
+        <EmptyState title="Nothing recorded yet">Entries appear as people sign in and work; nothing needs doing here.</EmptyState>
       ) : (
-        <TableCard columns={["When", "Who", "What", "Organisation", "From"]}>
+        <>
+        <SortableTable
+          columns={[
+            { label: "When", sort: "at", firstDir: "desc" },
+            { label: "Who", sort: "who" },
+            { label: "What", sort: "action" },
+            { label: "Organisation" },
+            { label: "From" },
+          ]}
+          sort={sort}
+          dir={dir}
+          caption="Audit log entries"
+        >
           {entries.map((e) => (
             <tr key={e.id}>
               <td className="whitespace-nowrap">{fmt.dateTime(e.at)}</td>
@@ -47,7 +70,9 @@ export default function AuditLog() {
               <td className="font-mono text-xs">{e.clientAddress ?? "—"}</td>
             </tr>
           ))}
-        </TableCard>
+        </SortableTable>
+        <PageNav info={info} noun={["entry", "entries"]} />
+        </>
       )}
     </div>
   );

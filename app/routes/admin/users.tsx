@@ -1,53 +1,74 @@
-// Every person on the platform with their organisations (admins only).
-import { asc, eq } from "drizzle-orm";
+// Every person on the platform with their organisations (admins only), 50 a page, sortable by name, e-mail and joining date.
+import { asc, count, desc, eq, inArray } from "drizzle-orm";
 import { useLoaderData } from "react-router";
-import { Badge, PageHeader, TableCard } from "~/components/ui";
+import { PageNav, SortableTable } from "~/components/data-table";
+import { useFormat } from "~/components/locale";
+import { Badge, EmptyState, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { requireAdmin } from "~/utils/permissions.server";
+import { pageOf, readTableQuery, type TableSpec } from "~/utils/table";
 import type { Route } from "./+types/users";
+
+const TABLE: TableSpec<"name" | "email" | "joined"> = { sorts: ["name", "email", "joined"], defaultSort: "email", firstDir: { joined: "desc" }, pageSize: 50 };
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
-  const rows = await db
-    .select({
-      id: schema.users.id,
-      name: schema.users.name,
-      email: schema.users.email,
-      isAdmin: schema.users.isAdmin,
-      organisation: schema.organisations.name,
-      kind: schema.organisations.kind,
-      role: schema.memberships.role,
-    })
+  const q = readTableQuery(request, TABLE);
+  const [{ total }] = await db.select({ total: count() }).from(schema.users);
+  const info = pageOf(total, q);
+  const by = q.dir === "asc" ? asc : desc;
+  const column = { name: schema.users.name, email: schema.users.email, joined: schema.users.createdAt }[q.sort];
+  const users = await db
+    .select({ id: schema.users.id, name: schema.users.name, email: schema.users.email, isAdmin: schema.users.isAdmin, joined: schema.users.createdAt })
     .from(schema.users)
-    .leftJoin(schema.memberships, eq(schema.memberships.userId, schema.users.id))
-    .leftJoin(schema.organisations, eq(schema.organisations.id, schema.memberships.organisationId))
-    .orderBy(asc(schema.users.email))
-    .limit(500);
-  const people = new Map<string, { name: string; email: string; isAdmin: boolean; orgs: string[] }>();
-  for (const r of rows) {
-    const p = people.get(r.id) ?? { name: r.name, email: r.email, isAdmin: r.isAdmin, orgs: [] };
-    if (r.organisation) p.orgs.push(`${r.organisation} (${r.kind}, ${r.role})`);
-    people.set(r.id, p);
-  }
-  return { people: [...people.values()] };
+    .orderBy(by(column), asc(schema.users.email))
+    .limit(info.pageSize)
+    .offset(info.offset);
+  const memberships = users.length
+    ? await db
+        .select({ userId: schema.memberships.userId, organisation: schema.organisations.name, kind: schema.organisations.kind, role: schema.memberships.role })
+        .from(schema.memberships)
+        .innerJoin(schema.organisations, eq(schema.organisations.id, schema.memberships.organisationId))
+        .where(inArray(schema.memberships.userId, users.map((u) => u.id)))
+        .orderBy(asc(schema.organisations.name))
+    : [];
+  const people = users.map((u) => ({
+    ...u,
+    orgs: memberships.filter((m) => m.userId === u.id).map((m) => `${m.organisation} (${m.kind}, ${m.role})`),
+  }));
+  return { people, info, sort: q.sort, dir: q.dir };
 }
 
 export default function Users() {
-  const { people } = useLoaderData<typeof loader>();
+  const fmt = useFormat();
+  const { people, info, sort, dir } = useLoaderData<typeof loader>();
   return (
     <div>
-      <PageHeader title="Users" subtitle={`${people.length} people`} />
-      <TableCard columns={["Name", "E-mail", "Organisations"]}>
-        {people.map((p) => (
-          <tr key={p.email}>
-            <td className="font-medium">
-              {p.name} {p.isAdmin ? <Badge tone="brand">admin</Badge> : null}
-            </td>
-            <td>{p.email}</td>
-            <td>{p.orgs.join("; ") || "—"}</td>
-          </tr>
-        ))}
-      </TableCard>
+      <PageHeader title="Users" subtitle="Everyone with an account, with the organisations they belong to." />
+      {people.length === 0 ? (
+        <EmptyState title="No accounts yet">People appear here when they create an account at /create-account or accept an invitation.</EmptyState>
+      ) : (
+        <>
+          <SortableTable
+            columns={[{ label: "Name", sort: "name" }, { label: "E-mail", sort: "email" }, { label: "Organisations" }, { label: "Joined", sort: "joined", firstDir: "desc" }]}
+            sort={sort}
+            dir={dir}
+            caption="People"
+          >
+            {people.map((p) => (
+              <tr key={p.id}>
+                <td className="font-medium">
+                  {p.name} {p.isAdmin ? <Badge tone="brand">admin</Badge> : null}
+                </td>
+                <td className="break-all">{p.email}</td>
+                <td>{p.orgs.join("; ") || "—"}</td>
+                <td className="whitespace-nowrap">{fmt.date(p.joined)}</td>
+              </tr>
+            ))}
+          </SortableTable>
+          <PageNav info={info} noun={["person", "people"]} />
+        </>
+      )}
     </div>
   );
 }

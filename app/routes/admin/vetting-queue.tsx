@@ -1,24 +1,37 @@
 // The admins' vetting queue: every lab by vetting state, applications in review first.
 import { Link, useLoaderData, useSearchParams } from "react-router";
 import { VerdictBadge } from "~/components/calibration-summary";
-import { EmptyState, PageHeader, TableCard } from "~/components/ui";
+import { PageNav, SortableTable } from "~/components/data-table";
+import { useFormat } from "~/components/locale";
+import { EmptyState, PageHeader } from "~/components/ui";
 import { VettingBadge } from "~/components/vetting-badge";
 import { listLabsForVetting } from "~/models/labs.server";
 import { VETTING_STATE_BADGES, VETTING_STATES, type VettingState } from "~/models/vetting";
 import { requireAdmin } from "~/utils/permissions.server";
+import { readTableQuery, sortAndPage, type TableSpec } from "~/utils/table";
 import type { Route } from "./+types/vetting-queue";
+
+const TABLE: TableSpec<"name" | "location" | "updated"> = { sorts: ["name", "location", "updated"], defaultSort: "updated", firstDir: { updated: "asc" }, pageSize: 50 };
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
+  const q = readTableQuery(request, TABLE);
   const asked = new URL(request.url).searchParams.get("state");
   const state = VETTING_STATES.find((s) => s === asked) ?? "in_review";
   const all = await listLabsForVetting();
   const counts = Object.fromEntries(VETTING_STATES.map((s) => [s, all.filter((l) => l.state === s).length])) as Record<VettingState, number>;
-  return { state, counts, labs: all.filter((l) => l.state === state) };
+  // The oldest change first by default: who has waited longest is reviewed first.
+  const { rows, sort, dir, ...info } = sortAndPage(
+    all.filter((l) => l.state === state),
+    q,
+    { name: (l) => l.name, location: (l) => [l.country, l.city].filter(Boolean).join(" ") || null, updated: (l) => l.updatedAt },
+  );
+  return { state, counts, labs: rows, sort, dir, info };
 }
 
 export default function VettingQueue() {
-  const { state, counts, labs } = useLoaderData<typeof loader>();
+  const fmt = useFormat();
+  const { state, counts, labs, sort, dir, info } = useLoaderData<typeof loader>();
   const [params] = useSearchParams();
   return (
     <div>
@@ -27,6 +40,7 @@ export default function VettingQueue() {
         {VETTING_STATES.map((s) => {
           const next = new URLSearchParams(params);
           next.set("state", s);
+          next.delete("page");
           return (
             <Link
               key={s}
@@ -44,7 +58,20 @@ export default function VettingQueue() {
           Labs appear here when their vetting state is {VETTING_STATE_BADGES[state].label.toLowerCase()}.
         </EmptyState>
       ) : (
-        <TableCard caption={`Labs ${VETTING_STATE_BADGES[state].label}`} columns={["Lab", "Location", "State", "Calibration", "Last change", ""]}>
+        <>
+        <SortableTable
+          caption={`Labs ${VETTING_STATE_BADGES[state].label}`}
+          columns={[
+            { label: "Lab", sort: "name" },
+            { label: "Location", sort: "location" },
+            { label: "State" },
+            { label: "Calibration" },
+            { label: "Last change", sort: "updated" },
+            { label: "Review" },
+          ]}
+          sort={sort}
+          dir={dir}
+        >
           {labs.map((lab) => (
             <tr key={lab.id}>
               <td className="font-medium">{lab.name}</td>
@@ -62,7 +89,7 @@ export default function VettingQueue() {
                   "no scan yet"
                 )}
               </td>
-              <td>{lab.updatedAt.slice(0, 10)}</td>
+              <td className="whitespace-nowrap">{fmt.date(lab.updatedAt)}</td>
               <td>
                 <Link to={`/admin/labs/${lab.id}`} className="font-semibold text-beam-700 underline">
                   Review {lab.name}
@@ -70,7 +97,9 @@ export default function VettingQueue() {
               </td>
             </tr>
           ))}
-        </TableCard>
+        </SortableTable>
+        <PageNav info={info} noun={["lab", "labs"]} />
+        </>
       )}
     </div>
   );

@@ -1,25 +1,37 @@
 // /client/orders — the organisation's orders with their state, lab and amount.
-import { useLoaderData } from "react-router";
-import { OrdersTable } from "~/components/orders-table";
+import { Link, useLoaderData } from "react-router";
+import { ORDERS_TABLE, OrdersTable, pageOfOrders } from "~/components/orders-table";
 import { EmptyState, PageHeader } from "~/components/ui";
 import { ordersOf } from "~/models/orders.server";
 import { requireOrgRole } from "~/utils/permissions.server";
+import { readTableQuery } from "~/utils/table";
 import type { Route } from "./+types/orders";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
-  return { orders: await ordersOf("client", membership.organisation.id) };
+  const q = readTableQuery(request, ORDERS_TABLE);
+  const { rows, sort, dir, ...info } = pageOfOrders(await ordersOf("client", membership.organisation.id), q);
+  return { orders: rows, sort, dir, info };
 }
 
 export default function ClientOrders() {
-  const { orders } = useLoaderData<typeof loader>();
+  const { orders, sort, dir, info } = useLoaderData<typeof loader>();
   return (
     <div>
       <PageHeader title="Orders" subtitle="Accepted quotes, from payment to delivered data." />
       {orders.length === 0 ? (
-        <EmptyState title="No orders yet">An order appears here when you accept a lab's quote on one of your requests.</EmptyState>
+        <EmptyState
+          title="No orders yet"
+          action={
+            <Link to="/client/requests" className="btn-primary">
+              Go to your requests
+            </Link>
+          }
+        >
+          An order appears here when you accept a lab's quote on one of your requests.
+        </EmptyState>
       ) : (
-        <OrdersTable orders={orders} hrefBase="/client/orders" counterpart="Lab" />
+        <OrdersTable orders={orders} hrefBase="/client/orders" counterpart="Lab" sort={sort} dir={dir} info={info} />
       )}
     </div>
   );

@@ -1,6 +1,7 @@
 // The client organisation's requests, grouped by state, a page of 50 at a time, with the way to start a new one.
 import { data, Link, useLoaderData } from "react-router";
 import { RequestStateBadge } from "~/components/request-parts";
+import { PageNav } from "~/components/data-table";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { listOrganisationRequests, REQUESTS_PAGE_SIZE } from "~/models/requests.server";
 import { requireOrgRole } from "~/utils/permissions.server";
@@ -16,27 +17,6 @@ export async function loader({ request }: Route.LoaderArgs) {
   // A page past the end shows the last one.
   const list = await listOrganisationRequests(membership.organisation.id, Number(pageParam));
   return { organisation: membership.organisation.name, pageSize: REQUESTS_PAGE_SIZE, ...list };
-}
-
-function PageLinks({ page, pageCount }: { page: number; pageCount: number }) {
-  if (pageCount <= 1) return null;
-  return (
-    <nav aria-label="Pages" className="mt-6 flex items-center gap-3 text-sm">
-      {page > 1 ? (
-        <Link to={`?page=${page - 1}`} className="btn-secondary" rel="prev">
-          Previous
-        </Link>
-      ) : null}
-      <span>
-        Page {page} of {pageCount}
-      </span>
-      {page < pageCount ? (
-        <Link to={`?page=${page + 1}`} className="btn-secondary" rel="next">
-          Next
-        </Link>
-      ) : null}
-    </nav>
-  );
 }
 
 export default function Requests() {
@@ -60,11 +40,6 @@ export default function Requests() {
   return (
     <div>
       <PageHeader title="Requests" subtitle={organisation} actions={newButton} />
-      {pageCount > 1 ? (
-        <p className="mb-4 text-sm text-ink-600">
-          {total} requests; {(page - 1) * pageSize + 1}–{Math.min(total, page * pageSize)} shown.
-        </p>
-      ) : null}
       <div className="space-y-6">
         {STATE_ORDER.map((state) => {
           const rows = requests.filter((r) => r.state === state);
@@ -96,7 +71,7 @@ export default function Requests() {
           );
         })}
       </div>
-      <PageLinks page={page} pageCount={pageCount} />
+      <PageNav info={{ page, pageCount, pageSize, total, offset: (page - 1) * pageSize }} noun={["request", "requests"]} />
     </div>
   );
 }

@@ -1,19 +1,29 @@
 // The lab's inbox: open requests its instruments and hazard acceptance fit, and requests it was invited to.
 import { and, eq, inArray } from "drizzle-orm";
 import { Link, useLoaderData } from "react-router";
-import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
+import { PageNav, SortableTable } from "~/components/data-table";
+import { Badge, EmptyState, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { requestsMatchingLab } from "~/models/matching.server";
 import { vettingStateOf } from "~/models/quotes.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/inbox";
 import { useFormat } from "~/components/locale";
+import { pageOf, readTableQuery, sortAndPage, type TableSpec } from "~/utils/table";
+
+const TABLE: TableSpec<"title" | "client" | "estimate" | "deadline" | "opened"> = {
+  sorts: ["title", "client", "estimate", "deadline", "opened"],
+  defaultSort: "opened",
+  firstDir: { opened: "desc" },
+  pageSize: 50,
+};
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
   const labId = membership.organisation.id;
+  const q = readTableQuery(request, TABLE);
   const vetting = await vettingStateOf(labId);
-  if (vetting !== "approved") return { vetting, items: [] };
+  if (vetting !== "approved") return { vetting, items: [], sort: q.sort, dir: q.dir, info: pageOf(0, q) };
   const found = await requestsMatchingLab(labId);
   const ids = found.map((f) => f.requestId);
   const rows = ids.length
@@ -31,17 +41,34 @@ export async function loader({ request }: Route.LoaderArgs) {
     if (!row) return [];
     return [{ ...row, invited: f.invited, fits: f.match.fits, estimate: f.match.estimatedPriceMinor, currency: f.match.currency, warnings: f.match.warnings.length, quoted: quoted.some((q) => q.requestId === row.id && q.state === "sent") }];
   });
-  return { vetting, items };
+  // Matching is computed per request, so the list is sorted and paged here rather than in SQL.
+  const { rows: page, sort, dir, ...info } = sortAndPage(items, q, {
+    title: (i) => i.title,
+    client: (i) => i.client,
+    estimate: (i) => (i.estimate === null ? null : `${i.currency}${String(i.estimate).padStart(12, "0")}`),
+    deadline: (i) => i.deadline,
+    opened: (i) => i.openedAt,
+  });
+  return { vetting, items: page, sort, dir, info };
 }
 
 export default function LabInbox() {
   const fmt = useFormat();
-  const { vetting, items } = useLoaderData<typeof loader>();
+  const { vetting, items, sort, dir, info } = useLoaderData<typeof loader>();
   if (vetting !== "approved") {
     return (
       <div>
         <PageHeader title="Inbox" />
-        <EmptyState title="Not approved yet">Requests arrive here once an admin has approved your lab; only approved labs can quote.</EmptyState>
+        <EmptyState
+          title="Not approved yet"
+          action={
+            <Link to="/lab/vetting" className="btn-primary">
+              See your vetting application
+            </Link>
+          }
+        >
+          Requests arrive here once an admin has approved your lab; only approved labs can quote.
+        </EmptyState>
       </div>
     );
   }
@@ -49,9 +76,31 @@ export default function LabInbox() {
     <div>
       <PageHeader title="Inbox" subtitle="Open requests your lab can serve, and invitations." />
       {items.length === 0 ? (
-        <EmptyState title="No matching requests">Open requests that your instruments and hazard acceptance can serve, and invitations, arrive here.</EmptyState>
+        <EmptyState
+          title="No matching requests"
+          action={
+            <Link to="/lab/capabilities" className="btn-secondary">
+              Review your instruments and hazard acceptance
+            </Link>
+          }
+        >
+          Open requests that your instruments and hazard acceptance can serve, and invitations, arrive here.
+        </EmptyState>
       ) : (
-        <TableCard columns={["Request", "Client", "Fit", "Estimate", "Deadline", "Opened"]} caption="Matching requests">
+        <>
+        <SortableTable
+          columns={[
+            { label: "Request", sort: "title" },
+            { label: "Client", sort: "client" },
+            { label: "Fit" },
+            { label: "Estimate", sort: "estimate" },
+            { label: "Deadline", sort: "deadline" },
+            { label: "Opened", sort: "opened", firstDir: "desc" },
+          ]}
+          sort={sort}
+          dir={dir}
+          caption="Matching requests"
+        >
           {items.map((i) => (
             <tr key={i.id}>
               <td className="font-medium">
@@ -73,7 +122,9 @@ export default function LabInbox() {
               <td>{i.openedAt ? fmt.date(i.openedAt) : "—"}</td>
             </tr>
           ))}
-        </TableCard>
+        </SortableTable>
+        <PageNav info={info} noun={["request", "requests"]} />
+        </>
       )}
     </div>
   );

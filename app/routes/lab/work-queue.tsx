@@ -1,25 +1,37 @@
 // /lab/work-queue — the lab's orders, from paid and waiting for samples to delivered, most recent first.
-import { useLoaderData } from "react-router";
-import { OrdersTable } from "~/components/orders-table";
+import { Link, useLoaderData } from "react-router";
+import { ORDERS_TABLE, OrdersTable, pageOfOrders } from "~/components/orders-table";
 import { EmptyState, PageHeader } from "~/components/ui";
 import { ordersOf } from "~/models/orders.server";
 import { requireOrgRole } from "~/utils/permissions.server";
+import { readTableQuery } from "~/utils/table";
 import type { Route } from "./+types/work-queue";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
-  return { orders: await ordersOf("lab", membership.organisation.id) };
+  const q = readTableQuery(request, ORDERS_TABLE);
+  const { rows, sort, dir, ...info } = pageOfOrders(await ordersOf("lab", membership.organisation.id), q);
+  return { orders: rows, sort, dir, info };
 }
 
 export default function WorkQueue() {
-  const { orders } = useLoaderData<typeof loader>();
+  const { orders, sort, dir, info } = useLoaderData<typeof loader>();
   return (
     <div>
       <PageHeader title="Work queue" subtitle="Orders of your lab and where each one stands." />
       {orders.length === 0 ? (
-        <EmptyState title="No orders to work on">Accepted and paid orders appear here, from samples in transit to data delivered.</EmptyState>
+        <EmptyState
+          title="No orders to work on"
+          action={
+            <Link to="/lab/inbox" className="btn-primary">
+              Find requests to quote in the inbox
+            </Link>
+          }
+        >
+          Accepted and paid orders appear here, from samples in transit to data delivered.
+        </EmptyState>
       ) : (
-        <OrdersTable orders={orders} hrefBase="/lab/orders" counterpart="Client" />
+        <OrdersTable orders={orders} hrefBase="/lab/orders" counterpart="Client" sort={sort} dir={dir} info={info} />
       )}
     </div>
   );
