@@ -49,6 +49,9 @@ export async function heldForOrder(tx: Tx | typeof db, orderId: string): Promise
 }
 
 export interface LedgerTotals {
+  /** Paid in by clients (the provider's charges), before anything left again. */
+  takenInMinor: number;
+  /** Still held: taken in minus paid to labs, platform fees and refunds. */
   heldMinor: number;
   paidOutMinor: number;
   feesMinor: number;
@@ -62,8 +65,9 @@ export async function ledgerSummary() {
     select count(*) as n from (
       select e.transaction_id from ledger_entries e group by e.transaction_id, e.currency having sum(e.amount_minor) <> 0
     ) x`);
-  const rows = await db.execute<{ currency: string; held: string; paid_out: string; fees: string; refunded: string }>(sql`
+  const rows = await db.execute<{ currency: string; taken_in: string; held: string; paid_out: string; fees: string; refunded: string }>(sql`
     select e.currency,
+      coalesce(sum(e.amount_minor) filter (where e.account = ${ACCOUNTS.cash} and t.kind = 'payment_held'), 0) as taken_in,
       coalesce(-sum(e.amount_minor) filter (where e.account = ${ACCOUNTS.held}), 0) as held,
       coalesce(-sum(e.amount_minor) filter (where e.account = ${ACCOUNTS.cash} and t.kind = 'payout'), 0) as paid_out,
       coalesce(-sum(e.amount_minor) filter (where e.account = ${ACCOUNTS.fees}), 0) as fees,
@@ -72,12 +76,13 @@ export async function ledgerSummary() {
     group by e.currency order by e.currency`);
   const byCurrency: Record<string, LedgerTotals> = {};
   for (const r of rows.rows) {
-    byCurrency[r.currency] = { heldMinor: Number(r.held), paidOutMinor: Number(r.paid_out), feesMinor: Number(r.fees), refundedMinor: Number(r.refunded) };
+    byCurrency[r.currency] = { takenInMinor: Number(r.taken_in), heldMinor: Number(r.held), paidOutMinor: Number(r.paid_out), feesMinor: Number(r.fees), refundedMinor: Number(r.refunded) };
   }
   const sum = (k: keyof LedgerTotals) => Object.values(byCurrency).reduce((s, t) => s + t[k], 0);
   return {
     transactions: Number(counts.n),
     balanced: Number(unbalanced.rows[0].n) === 0,
+    takenInMinor: sum("takenInMinor"),
     heldMinor: sum("heldMinor"),
     paidOutMinor: sum("paidOutMinor"),
     feesMinor: sum("feesMinor"),

@@ -3,15 +3,10 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import pg from "pg";
-import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
-import { SILICON } from "~/diffraction/structures";
 import { databaseUrl } from "../../services/postgres";
 import { BASE_URL, openBrowser, screenshot, signIn, signOut, visit, type Browser } from "./harness";
-
-/** A state badge (shape + word) by its word. */
-const badge = (page: Page, word: string) => page.locator("span.rounded-full", { hasText: new RegExp(`^\\W*${word}$`) }).first();
+import { badge, fillVettingApplication, handInVettingApplication } from "./vetting-applicant";
 
 const LAB_NAME = "Thornbury Powder Lab";
 let b: Browser;
@@ -20,18 +15,6 @@ let dir: string;
 beforeAll(async () => {
   b = await openBrowser();
   dir = fs.mkdtempSync(path.join(os.tmpdir(), "diffractory-vetting-"));
-  fs.writeFileSync(path.join(dir, "accreditation.pdf"), "%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer << /Root 1 0 R >>\n%%EOF\n");
-  // A silicon scan simulated from the NIST SRM 640c cell (REFERENCE.md) on Cu Kα1+Kα2.
-  const sim = simulatePattern({
-    structure: SILICON,
-    radiation: { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" },
-    twoThetaMin: 15,
-    twoThetaMax: 140,
-    step: 0.02,
-    background: { constant: 120, slope: -0.3 },
-    noise: { seed: 21 },
-  });
-  fs.writeFileSync(path.join(dir, "si-640c.xy"), formatScanAsXy(sim, "Silicon SRM 640c calibration"));
 });
 
 afterAll(async () => {
@@ -47,36 +30,24 @@ afterAll(async () => {
 describe("lab vetting", () => {
   it("a new lab applies, the admin reviews the calibration check and approves", async () => {
     const page = b.page;
-    await visit(page, "/create-account");
-    await page.getByLabel("A lab").check();
-    await page.getByLabel("Your name").fill("Idris Pemberton-Lowe");
-    await page.getByLabel("E-mail").fill("manager@thornbury-powder.example");
-    await page.getByLabel("Password").fill("thornbury-powder-2026");
-    await page.getByLabel("Lab name").fill(LAB_NAME);
-    await page.getByLabel("City").fill("Thornbury Wells");
-    await page.getByLabel("Country").fill("New Zealand");
-    await page.getByRole("button", { name: "Create account" }).click();
-    await page.waitForURL(`${BASE_URL}/lab`);
-
-    await visit(page, "/lab/vetting");
-    await badge(page, "Applied").waitFor();
-    await page.getByLabel("Description").fill("Contract powder diffraction for ceramics and cement producers, one reflection instrument.");
-    await page.getByLabel("Accreditation number").fill("NZ-17025-0815");
-    await page.getByLabel("Accreditation expires on").fill("2028-09-30");
-    await page.getByLabel(/Accreditation certificate/).setInputFiles(path.join(dir, "accreditation.pdf"));
-    await page.getByText("✓ accreditation.pdf uploaded").waitFor();
-    await page.getByRole("checkbox", { name: /radiation licence/ }).check();
-    await page.getByLabel("Your full name, as signature").fill("Idris Pemberton-Lowe");
-    await page.getByLabel("Silicon, NIST SRM 640c").check();
-    await page.getByLabel("Instrument", { exact: true }).fill("Reflection diffractometer A");
-    await page.getByLabel("Anode").selectOption("Cu");
-    await page.getByLabel(/Calibration scan/).setInputFiles(path.join(dir, "si-640c.xy"));
-    await page.getByText("✓ si-640c.xy uploaded").waitFor();
+    await fillVettingApplication(
+      page,
+      {
+        labName: LAB_NAME,
+        person: "Idris Pemberton-Lowe",
+        email: "manager@thornbury-powder.example",
+        password: "thornbury-powder-2026",
+        city: "Thornbury Wells",
+        country: "New Zealand",
+        description: "Contract powder diffraction for ceramics and cement producers, one reflection instrument.",
+        accreditation: "NZ-17025-0815",
+        instrument: "Reflection diffractometer A",
+        seed: 21,
+      },
+      dir,
+    );
     await screenshot(page, "lab-vetting-application");
-    await page.getByRole("button", { name: "Hand in for review" }).click();
-    await page.getByText("Application handed in. An admin will review it.").waitFor();
-    await badge(page, "In review").waitFor();
-    await page.getByRole("heading", { name: "Calibration check" }).waitFor();
+    await handInVettingApplication(page);
     await screenshot(page, "lab-vetting-in-review");
     await signOut(page);
 

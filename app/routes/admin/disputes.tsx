@@ -1,11 +1,16 @@
 // /admin/disputes — open and settled disputes, and the decision form for one: a split of the held money.
 import { parseWithZod } from "@conform-to/zod/v4";
-import { desc, eq } from "drizzle-orm";
+import { alias } from "drizzle-orm/pg-core";
+import { desc, eq, inArray } from "drizzle-orm";
+import { useEffect } from "react";
 import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
 import { z } from "zod";
+import { VerdictBadge } from "~/components/calibration-summary";
+import { OrderTimeline } from "~/components/order-timeline";
 import { Badge, EmptyState, Field, FormError, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { heldForOrder } from "~/models/ledger.server";
+import { orderTimeline } from "~/models/orders.server";
 import { toMinorUnits } from "~/models/money";
 import { PaymentProblem, platformFee, resolveDispute } from "~/models/payments.server";
 import { requireAdmin } from "~/utils/permissions.server";
@@ -16,13 +21,24 @@ import { useFormat } from "~/components/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
+  const labOrg = alias(schema.organisations, "lab_org");
   const rows = await db
-    .select({ dispute: schema.disputes, order: schema.orders, title: schema.requests.title, client: schema.organisations.name })
+    .select({ dispute: schema.disputes, order: schema.orders, title: schema.requests.title, client: schema.organisations.name, lab: labOrg.name, openedBy: schema.users.name })
     .from(schema.disputes)
     .innerJoin(schema.orders, eq(schema.orders.id, schema.disputes.orderId))
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
     .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.clientOrganisationId))
+    .innerJoin(labOrg, eq(labOrg.id, schema.orders.labId))
+    .leftJoin(schema.users, eq(schema.users.id, schema.disputes.openedBy))
     .orderBy(desc(schema.disputes.openedAt));
+  // The lab's side: what it delivered, with each scan's check verdict, and its notes on the order's timeline.
+  const files = rows.length
+    ? await db
+        .select({ orderId: schema.orderFiles.orderId, name: schema.orderFiles.name, version: schema.orderFiles.version, verdict: schema.scanChecks.verdict })
+        .from(schema.orderFiles)
+        .leftJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))
+        .where(inArray(schema.orderFiles.orderId, rows.map((r) => r.order.id)))
+    : [];
   const disputes = await Promise.all(
     rows.map(async (r) => {
       const heldMinor = await heldForOrder(db, r.order.id);
@@ -31,6 +47,10 @@ export async function loader({ request }: Route.LoaderArgs) {
         orderId: r.order.id,
         title: r.title,
         client: r.client,
+        lab: r.lab,
+        openedBy: r.openedBy,
+        files: files.filter((f) => f.orderId === r.order.id).map((f) => ({ name: f.name, version: f.version, verdict: f.verdict as "consistent" | "review" | "inconsistent" | null })),
+        timeline: (await orderTimeline(r.order.id)).map((e) => ({ ...e, at: e.at.toISOString() })),
         state: r.dispute.state,
         reason: r.dispute.reason,
         openedAt: r.dispute.openedAt,
@@ -56,12 +76,12 @@ const Decision = z.object({
 export async function action({ request, context }: Route.ActionArgs) {
   const admin = await requireAdmin(request);
   const submission = parseWithZod(await readForm(request), { schema: Decision });
-  if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
+  if (submission.status !== "success") return data({ orderId: String(submission.payload.orderId ?? ""), result: submission.reply() }, { status: 400 });
   const { orderId, refund, reason } = submission.value;
   try {
     await resolveDispute(orderId, { userId: admin.user.id, clientAddress: context.clientAddress }, toMinorUnits(refund)!, reason);
   } catch (err) {
-    if (err instanceof PaymentProblem) return data({ result: submission.reply({ formErrors: [err.message] }) }, { status: err.status === 400 ? 400 : 409 });
+    if (err instanceof PaymentProblem) return data({ orderId, result: submission.reply({ formErrors: [err.message] }) }, { status: err.status === 400 ? 400 : 409 });
     throw err;
   }
   return redirectWithToast("/admin/disputes", { kind: "success", message: "Dispute decided; the refund and payout are under way." });
@@ -71,7 +91,15 @@ export default function Disputes() {
   const fmt = useFormat();
   const { disputes } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
-  const busy = useNavigation().state !== "idle";
+  const navigation = useNavigation();
+  const busy = navigation.state !== "idle";
+  const settling = busy ? navigation.formData?.get("orderId") : null;
+  // Errors belong to the dispute whose form was sent.
+  const errorsFor = (orderId: string) => (actionData?.orderId === orderId ? (actionData.result.error ?? {}) : {});
+  // A refused decision puts the keyboard on the first field to correct.
+  useEffect(() => {
+    if (actionData?.orderId) document.getElementById(`decide-${actionData.orderId}`)?.querySelector<HTMLElement>('[aria-invalid="true"]')?.focus();
+  }, [actionData]);
   return (
     <div>
       <PageHeader title="Disputes" subtitle="The money of a disputed order stays held until you decide how to split it." />
@@ -80,14 +108,47 @@ export default function Disputes() {
       ) : (
         <ul className="space-y-4">
           {disputes.map((d) => (
-            <li key={d.orderId} className="card">
+            <li key={d.orderId} className="card" aria-labelledby={`dispute-${d.orderId}`}>
               <div className="flex flex-wrap items-baseline justify-between gap-2">
-                <h2 className="font-semibold">
-                  {d.title} — {d.client}
+                <h2 id={`dispute-${d.orderId}`} className="font-semibold">
+                  {d.title} — {d.client} and {d.lab}
                 </h2>
                 <Badge tone={d.state === "open" ? "danger" : "neutral"}>{d.state === "open" ? "Open" : "Decided"}</Badge>
               </div>
-              <p className="mt-2 text-sm text-ink-700">“{d.reason}”</p>
+              <div className="mt-3 grid gap-4 md:grid-cols-2">
+                <section aria-labelledby={`client-side-${d.orderId}`} className="rounded-lg border border-ink-200 p-4">
+                  <h3 id={`client-side-${d.orderId}`} className="text-sm font-semibold text-ink-800">
+                    Client: {d.client}
+                  </h3>
+                  <blockquote className="mt-2 border-l-4 border-ink-200 pl-3 text-sm text-ink-700">{d.reason}</blockquote>
+                  <p className="mt-1 text-xs text-ink-600">Opened by {d.openedBy ?? "a former member"}</p>
+                </section>
+                <section aria-labelledby={`lab-side-${d.orderId}`} className="rounded-lg border border-ink-200 p-4">
+                  <h3 id={`lab-side-${d.orderId}`} className="text-sm font-semibold text-ink-800">
+                    Lab: {d.lab}
+                  </h3>
+                  {d.files.length ? (
+                    <ul className="mt-2 space-y-1 text-sm" aria-label="Delivered files and their checks">
+                      {d.files.map((f) => (
+                        <li key={`${f.name}-${f.version}`} className="flex flex-wrap items-center gap-2">
+                          <span className="font-mono text-xs">
+                            {f.name} v{f.version}
+                          </span>
+                          {f.verdict ? <VerdictBadge verdict={f.verdict} /> : <span className="text-xs text-ink-600">not checked</span>}
+                        </li>
+                      ))}
+                    </ul>
+                  ) : (
+                    <p className="mt-2 text-sm text-ink-600">No files delivered.</p>
+                  )}
+                  <details className="mt-3 text-sm">
+                    <summary className="cursor-pointer font-medium text-beam-700">The order's timeline, with the lab's notes</summary>
+                    <div className="mt-3">
+                      <OrderTimeline rows={d.timeline} />
+                    </div>
+                  </details>
+                </section>
+              </div>
               <p className="mt-1 text-xs text-ink-500">
                 Opened {fmt.dateTime(d.openedAt)} · order total {fmt.money(d.amountMinor, d.currency)} · held {fmt.money(d.heldMinor, d.currency)}
               </p>
@@ -96,18 +157,32 @@ export default function Disputes() {
                   Refunded {fmt.money(d.decision.refundMinor ?? 0, d.currency)}, paid to the lab {fmt.money(d.decision.payoutMinor ?? 0, d.currency)}. {d.decision.reason}
                 </p>
               ) : (
-                <Form method="post" className="mt-4 grid gap-3 sm:grid-cols-[12rem_1fr]">
+                <Form method="post" id={`decide-${d.orderId}`} aria-label={`Decision on ${d.title}`} className="mt-4 grid gap-3 sm:grid-cols-[12rem_1fr]">
                   <input type="hidden" name="orderId" value={d.orderId} />
-                  <Field label={`Refund to the client (${d.currency})`} id={`refund-${d.orderId}`} hint={`The rest goes to the lab minus the ${d.feeBps / 100} % fee, e.g. a 50/50 split pays the lab ${fmt.money(d.halfSplitPayoutMinor, d.currency)}.`}>
-                    <input id={`refund-${d.orderId}`} name="refund" className="input" inputMode="decimal" />
+                  <Field label={`Refund to the client (${d.currency})`} id={`refund-${d.orderId}`} errors={errorsFor(d.orderId).refund} hint={`The rest goes to the lab minus the ${d.feeBps / 100} % fee, e.g. a 50/50 split pays the lab ${fmt.money(d.halfSplitPayoutMinor, d.currency)}.`}>
+                    <input
+                      id={`refund-${d.orderId}`}
+                      name="refund"
+                      className="input"
+                      inputMode="decimal"
+                      aria-invalid={errorsFor(d.orderId).refund ? true : undefined}
+                      aria-describedby={`refund-${d.orderId}-error`}
+                    />
                   </Field>
-                  <Field label="Reason for the decision" id={`reason-${d.orderId}`}>
-                    <textarea id={`reason-${d.orderId}`} name="reason" rows={2} className="input" />
+                  <Field label="Reason for the decision" id={`reason-${d.orderId}`} errors={errorsFor(d.orderId).reason}>
+                    <textarea
+                      id={`reason-${d.orderId}`}
+                      name="reason"
+                      rows={2}
+                      className="input"
+                      aria-invalid={errorsFor(d.orderId).reason ? true : undefined}
+                      aria-describedby={`reason-${d.orderId}-error`}
+                    />
                   </Field>
                   <div className="sm:col-span-2">
-                    <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
+                    <FormError errors={errorsFor(d.orderId)[""]} />
                     <button type="submit" className="btn-primary" disabled={busy}>
-                      Decide and settle
+                      {settling === d.orderId ? "Settling…" : "Decide and settle"}
                     </button>
                   </div>
                 </Form>

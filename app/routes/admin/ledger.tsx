@@ -32,25 +32,36 @@ export default function Ledger() {
           </>
         }
       />
-      <div className="mb-6 grid gap-4 sm:grid-cols-2 lg:grid-cols-4">
-        {Object.entries(summary.byCurrency).flatMap(([currency, t]) =>
-          (
-            [
-              ["Held", t.heldMinor],
-              ["Paid to labs", t.paidOutMinor],
-              ["Platform fees", t.feesMinor],
-              ["Refunded", t.refundedMinor],
-            ] as const
-          ).map(([label, v]) => (
-            <div key={`${currency}-${label}`} className="card py-4">
-              <p className="text-xs text-ink-500">
-                {label} ({currency})
-              </p>
-              <p className="text-xl font-bold">{fmt.money(v, currency)}</p>
+      {Object.entries(summary.byCurrency).map(([currency, t]) => {
+        const figures = [
+          ["taken-in", "Taken in from clients", t.takenInMinor],
+          ["paid-out", "Paid to labs", t.paidOutMinor],
+          ["fees", "Platform fees", t.feesMinor],
+          ["refunded", "Refunded", t.refundedMinor],
+          ["held", "Still held", t.heldMinor],
+        ] as const;
+        const addsUp = t.takenInMinor === t.paidOutMinor + t.feesMinor + t.refundedMinor + t.heldMinor;
+        return (
+          <section key={currency} className="card mb-6 py-4" aria-labelledby={`totals-${currency}`}>
+            <div className="mb-3 flex flex-wrap items-baseline justify-between gap-2">
+              <h2 id={`totals-${currency}`} className="text-sm font-semibold text-ink-800">
+                Totals in {currency}
+              </h2>
+              <Badge tone={addsUp ? "ok" : "danger"}>{addsUp ? "Taken in = paid to labs + fees + refunded + still held" : "Totals do not add up!"}</Badge>
             </div>
-          )),
-        )}
-      </div>
+            <dl className="grid gap-4 sm:grid-cols-3 lg:grid-cols-5">
+              {figures.map(([key, label, v]) => (
+                <div key={key}>
+                  <dt className="text-xs text-ink-600">{label}</dt>
+                  <dd className="text-xl font-bold" data-total={key}>
+                    {fmt.money(v, currency)}
+                  </dd>
+                </div>
+              ))}
+            </dl>
+          </section>
+        );
+      })}
       <Form method="get" className="card mb-6 grid gap-3 sm:grid-cols-5" aria-label="Filter the ledger">
         <div>
           <label className="label" htmlFor="kind">
