@@ -6,6 +6,7 @@ import { eq } from "drizzle-orm";
 import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
 import { z } from "zod";
 import { OrderFilesTable } from "~/components/order-files-table";
+import { useRefreshWhile } from "~/components/refresh-while";
 import { RevokeButton, ShownOnce } from "~/components/shown-once";
 import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
@@ -91,6 +92,8 @@ export default function DataRoomOrder() {
   const { order, files, shareLinks, accessLog, canDelete } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
+  // While the lab has the samples, new files and the order's next state show up without a reload.
+  useRefreshWhile(order.state === "samples_received" || order.state === "measuring");
   const [form, fields] = useForm({
     id: "share-link",
     lastResult: actionData?.result,

@@ -195,7 +195,8 @@ export default function ClientOrder() {
               {shipment ? ` Shipped with ${shipment.carrier}, tracking ${shipment.trackingNumber}.` : ""}
             </p>
           )}
-          {["data_delivered", "accepted", "paid_out", "disputed", "resolved"].includes(order.state) ? (
+          {/* From the samples' arrival on: files and their checks show up in the data room as the lab uploads them. */}
+          {["samples_received", "measuring", "data_delivered", "accepted", "paid_out", "disputed", "resolved"].includes(order.state) ? (
             <p className="mt-4 text-sm">
               <Link to={`/client/data-room/${order.id}`} className="font-semibold text-beam-700 underline">
                 Open the data room
