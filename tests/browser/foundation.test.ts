@@ -1,18 +1,8 @@
 // The foundation in a real browser: create an account, sign in as each demo role, the 403 page, sign out.
-import pg from "pg";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
-import { databaseUrl } from "../../services/postgres";
-import { BASE_URL, openBrowser, screenshot, signIn, signOut, visit, waitForHydration, type Browser } from "./harness";
+import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, signOut, visit, waitForHydration, type Browser } from "./harness";
 
 let b: Browser;
-
-// Sign-in failures are counted per address, and every test here signs in from 127.0.0.1.
-async function clearSignInAttempts() {
-  const c = new pg.Client({ connectionString: databaseUrl("diffractory_browser") });
-  await c.connect();
-  await c.query("delete from sign_in_attempts");
-  await c.end();
-}
 
 beforeAll(async () => {
   b = await openBrowser();

@@ -2,8 +2,10 @@
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
+import pg from "pg";
 import { chromium, type BrowserContext, type Page } from "playwright-core";
 import { root } from "../../services/paths";
+import { databaseUrl } from "../../services/postgres";
 import { DEMO_ADMIN_TOTP_SECRET } from "../../app/demo/demo-secrets";
 import { freshTotpCode } from "../integration/route-call";
 
@@ -102,4 +104,15 @@ export async function signOut(page: Page) {
 export async function screenshot(page: Page, name: string) {
   fs.mkdirSync(SCREENSHOT_DIR, { recursive: true });
   await page.screenshot({ path: path.join(SCREENSHOT_DIR, `${name}.png`), fullPage: true });
+}
+
+/** Sign-in failures are counted per address and every browser test signs in from 127.0.0.1: a file leaves none behind. */
+export async function clearSignInAttempts() {
+  const c = new pg.Client({ connectionString: databaseUrl("diffractory_browser") });
+  await c.connect();
+  try {
+    await c.query("delete from sign_in_attempts");
+  } finally {
+    await c.end();
+  }
 }

@@ -3,22 +3,13 @@
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
-import pg from "pg";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
-import { databaseUrl } from "../../services/postgres";
-import { BASE_URL, openBrowser, screenshot, signIn, signOut, visit, waitForHydration, type Browser } from "./harness";
+import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, signOut, visit, waitForHydration, type Browser } from "./harness";
 
 const TITLE = "Cobalt-doped LFP batch B7";
 let b: Browser;
 let dir: string;
 let requestPath: string;
-
-async function clearSignInAttempts() {
-  const c = new pg.Client({ connectionString: databaseUrl("diffractory_browser") });
-  await c.connect();
-  await c.query("delete from sign_in_attempts");
-  await c.end();
-}
 
 beforeAll(async () => {
   b = await openBrowser();
