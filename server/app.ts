@@ -6,6 +6,7 @@ import type { NextFunction, Request, Response } from "express";
 import { publicCache } from "~/utils/public-cache.server";
 import { databaseGate } from "~/utils/database-gate.server";
 import { contentSecurityPolicy, newNonce } from "~/utils/csp.server";
+import { withRequestScope } from "~/utils/request-scope.server";
 
 export const app = express();
 app.disable("x-powered-by");
@@ -65,12 +66,15 @@ app.use(databaseGate);
 // Answers marked public (the directory API) are served from memory for a few seconds.
 app.use(publicCache);
 
-app.use(
-  createRequestHandler({
-    // Built once in production; in development Vite hands over the current build on every request.
-    build: process.env.NODE_ENV === "production" ? await import("virtual:react-router/server-build") : () => import("virtual:react-router/server-build"),
-    getLoadContext(req, res) {
-      return { clientAddress: req.ip ?? req.socket.remoteAddress ?? "unknown", cspNonce: String(res.locals.cspNonce ?? "") };
-    },
-  }),
+const handleRequest = createRequestHandler({
+  // Built once in production; in development Vite hands over the current build on every request.
+  build: process.env.NODE_ENV === "production" ? await import("virtual:react-router/server-build") : () => import("virtual:react-router/server-build"),
+  getLoadContext(req, res) {
+    return { clientAddress: req.ip ?? req.socket.remoteAddress ?? "unknown", cspNonce: String(res.locals.cspNonce ?? "") };
+  },
+});
+// The loaders of one GET request share their session lookup (app/utils/request-scope.server.ts); requests
+// that run an action do not, so a loader after it reads what the action changed.
+app.use((req: Request, res: Response, next: NextFunction) =>
+  SAFE_METHODS.has(req.method) ? withRequestScope(() => handleRequest(req, res, next)) : handleRequest(req, res, next),
 );

@@ -1,8 +1,9 @@
 // Who may use a loader or action: every protected route calls one of these itself.
-import { asc, eq } from "drizzle-orm";
+import { asc, eq, sql } from "drizzle-orm";
 import { data, redirect } from "react-router";
 import { db, schema } from "~/db/client.server";
 import type { MembershipRole, Organisation, OrganisationKind, User } from "~/db/schema";
+import { oncePerRequest } from "./request-scope.server";
 import { getSession } from "./session.server";
 
 export interface OrgMembership {
@@ -27,7 +28,15 @@ export function notFound(message = "There is nothing here."): never {
   throw data({ message }, { status: 404 });
 }
 
-async function loadActor(request: Request): Promise<Actor | null> {
+/**
+ * The request's person with their memberships, looked up once per GET request however many of its loaders
+ * ask (app/utils/request-scope.server.ts); each caller still makes its own checks on the answer.
+ */
+function loadActor(request: Request): Promise<Actor | null> {
+  return oncePerRequest(`actor ${request.headers.get("Cookie") ?? ""}`, () => lookUpActor(request));
+}
+
+async function lookUpActor(request: Request): Promise<Actor | null> {
   const found = await getSession(request);
   // Password given but not yet the second-factor code: signed in for nothing but the code screen.
   if (!found || found.session.awaitingSecondFactor) return null;
@@ -45,14 +54,18 @@ export async function requireSecondFactorPending(request: Request) {
 /** Where admins without a second factor are sent before any admin screen works. */
 export const ENROL_PATH = "/account/security?enrol=required";
 
+// Read on every signed-in page: a named prepared statement, built once and planned once per connection.
+const membershipsOf = db
+  .select({ organisation: schema.organisations, role: schema.memberships.role })
+  .from(schema.memberships)
+  .innerJoin(schema.organisations, eq(schema.organisations.id, schema.memberships.organisationId))
+  .where(eq(schema.memberships.userId, sql.placeholder("userId")))
+  .orderBy(asc(schema.memberships.createdAt))
+  .prepare("memberships_of_user");
+
 /** A person with their memberships; the active organisation is the given one, else their first. */
 export async function actorFor(user: User, activeOrganisationId: string | null): Promise<Actor> {
-  const rows = await db
-    .select({ organisation: schema.organisations, role: schema.memberships.role })
-    .from(schema.memberships)
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.memberships.organisationId))
-    .where(eq(schema.memberships.userId, user.id))
-    .orderBy(asc(schema.memberships.createdAt));
+  const rows = await membershipsOf.execute({ userId: user.id });
   const active = rows.find((m) => m.organisation.id === activeOrganisationId) ?? rows[0] ?? null;
   return { user, memberships: rows, active };
 }
