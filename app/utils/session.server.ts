@@ -16,9 +16,25 @@ export const sessionCookie = createCookie("diffractory_session", {
 
 export const tokenHash = (token: string) => createHash("sha256").update(token).digest("hex");
 
+// Checking the cookie's signature (WebCrypto: a key import and an HMAC each time) was the dearest part of
+// reading a session. A given Cookie header always checks out the same way, so recent answers are kept, by
+// header, in a small map that forgets its oldest entry when full; the session row is still read every time.
+const checkedHeaders = new Map<string, string | null>();
+const CHECKED_HEADERS_KEPT = 500;
+const CHECKED_HEADER_MAX_LENGTH = 2048;
+
 export async function readSessionToken(request: Request): Promise<string | null> {
-  const value = await sessionCookie.parse(request.headers.get("Cookie"));
-  return typeof value === "string" && value.length > 20 ? value : null;
+  const header = request.headers.get("Cookie");
+  if (!header) return null;
+  const kept = checkedHeaders.get(header);
+  if (kept !== undefined) return kept;
+  const value = await sessionCookie.parse(header);
+  const token = typeof value === "string" && value.length > 20 ? value : null;
+  if (header.length <= CHECKED_HEADER_MAX_LENGTH) {
+    if (checkedHeaders.size >= CHECKED_HEADERS_KEPT) checkedHeaders.delete(checkedHeaders.keys().next().value!);
+    checkedHeaders.set(header, token);
+  }
+  return token;
 }
 
 /**
@@ -28,14 +44,18 @@ export async function readSessionToken(request: Request): Promise<string | null>
 export async function getSession(request: Request) {
   const token = await readSessionToken(request);
   if (!token) return null;
-  const rows = await db
-    .select({ session: schema.sessions, user: schema.users })
-    .from(schema.sessions)
-    .innerJoin(schema.users, eq(schema.users.id, schema.sessions.userId))
-    .where(and(eq(schema.sessions.id, tokenHash(token)), gt(schema.sessions.expiresAt, new Date())))
-    .limit(1);
+  const rows = await sessionByToken.execute({ id: tokenHash(token), now: new Date() });
   return rows[0] ?? null;
 }
+
+// Every page reads it: a named prepared statement, built once here and planned once per connection.
+const sessionByToken = db
+  .select({ session: schema.sessions, user: schema.users })
+  .from(schema.sessions)
+  .innerJoin(schema.users, eq(schema.users.id, schema.sessions.userId))
+  .where(and(eq(schema.sessions.id, sql.placeholder("id")), gt(schema.sessions.expiresAt, sql.placeholder("now"))))
+  .limit(1)
+  .prepare("session_by_token");
 
 /**
  * Starts a new session (a fresh token, so a session id known before sign-in is worthless after it)
