@@ -7,6 +7,8 @@ declare module "autocannon" {
     body?: string;
     connections?: number;
     duration?: number;
+    /** Stop after this many requests in all (instead of a duration). */
+    amount?: number;
   }
   interface Histogram {
     p50: number;
