@@ -244,7 +244,7 @@ describe("the client's journey", () => {
     await page.getByRole("button", { name: "Publish request" }).click();
     await page.waitForURL(`${BASE_URL}${requestPath}`);
     await waitForHydration(page);
-    expect(await page.getByRole("status").first().textContent()).toContain("is open");
+    await page.getByRole("status").filter({ hasText: "is open" }).first().waitFor();
     await page.getByText("No quotes yet").waitFor();
     await checkAccessibility(page, "client-request-open");
     await shot(page, "request-published");

@@ -92,8 +92,9 @@ export default function DataRoomOrder() {
   const { order, files, shareLinks, accessLog, canDelete } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
-  // While the lab has the samples, new files and the order's next state show up without a reload.
-  useRefreshWhile(order.state === "samples_received" || order.state === "measuring");
+  // While the lab has the samples, new files and the order's next state show up without a reload; not after an
+  // action, whose answer (a share link shown once, a form error) a refresh would clear.
+  useRefreshWhile((order.state === "samples_received" || order.state === "measuring") && !actionData);
   const [form, fields] = useForm({
     id: "share-link",
     lastResult: actionData?.result,
