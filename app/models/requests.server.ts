@@ -37,7 +37,8 @@ export async function invitedLabIds(requestId: string) {
   return rows.map((r) => r.labId);
 }
 
-export const REQUESTS_PAGE_SIZE = 50;
+/** Rows per page of the client's requests list: a screenful or two, and half the rendering of 50. */
+export const REQUESTS_PAGE_SIZE = 25;
 
 /**
  * One page of the organisation's requests, grouped by state in the order of the request states (draft,

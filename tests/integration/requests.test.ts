@@ -5,7 +5,7 @@ import { count, eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { db, schema } from "~/db/client.server";
 import { seedDemo } from "~/demo/seed.server";
-import { sdsPrefix } from "~/models/requests.server";
+import { REQUESTS_PAGE_SIZE, sdsPrefix } from "~/models/requests.server";
 import { loader as requestPage } from "~/routes/client/request";
 import { action as hazardsAction, loader as hazardsLoader } from "~/routes/client/request-hazards";
 import { action as labsAction } from "~/routes/client/request-labs";
@@ -271,16 +271,16 @@ describe("the requests list", () => {
     expect(list.requests.find((r) => r.title === "Cathode batch 12")?.samples).toBe(1);
   });
 
-  it("pages 50 at a time in state order, newest first within a state, with the counts per state", async () => {
+  it("pages REQUESTS_PAGE_SIZE at a time in state order, newest first within a state, with the counts per state", async () => {
     const cookie = await as(CLIENT);
     const [{ organisationId }] = await db.select({ organisationId: schema.requests.organisationId }).from(schema.requests).where(eq(schema.requests.id, requestId));
     await db.insert(schema.requests).values(
       Array.from({ length: 60 }, (_, i) => ({ organisationId, title: `Paging draft ${i}`, createdAt: new Date(Date.UTC(2026, 0, 1, 0, i)) })),
     );
     const first = (await callRoute(requestsList, getRequest("/client/requests", cookie))).body as Listed;
-    expect(first.requests).toHaveLength(50);
+    expect(first.requests).toHaveLength(REQUESTS_PAGE_SIZE);
     expect(first.total).toBeGreaterThan(60);
-    expect(first.pageCount).toBe(Math.ceil(first.total / 50));
+    expect(first.pageCount).toBe(Math.ceil(first.total / REQUESTS_PAGE_SIZE));
     expect(first.countByState.draft).toBeGreaterThanOrEqual(60);
     expect(first.requests[0].title).toBe("Paging draft 59");
     const states = ["draft", "open", "awarded", "expired", "withdrawn"];

@@ -1,4 +1,4 @@
-// The client organisation's requests, grouped by state, a page of 50 at a time, with the way to start a new one.
+// The client organisation's requests, grouped by state, REQUESTS_PAGE_SIZE (25) to a page, with the way to start a new one.
 import { data, Link, useLoaderData } from "react-router";
 import { RequestStateBadge } from "~/components/request-parts";
 import { PageNav } from "~/components/data-table";
