@@ -339,6 +339,13 @@ describe("lab journey", () => {
     expect(await builder.getByLabel("Item 2 unit price").inputValue()).toBe("15.00");
     expect(await builder.getByLabel("Item 3 unit price").inputValue()).toBe("25.00");
     expect(await builder.getByLabel("Turnaround (days)").inputValue()).toBe("6");
+    // The running total follows the items as they are typed: 160.00 + 15.00 + 25.00.
+    const total = builder.getByRole("status", { name: "Quote total" });
+    await total.getByText(/200\.00/).waitFor();
+    await builder.getByLabel("Item 1 quantity").fill("2");
+    await total.getByText(/360\.00/).waitFor();
+    await builder.getByLabel("Item 1 quantity").fill("1");
+    await total.getByText(/200\.00/).waitFor();
     await builder.getByLabel("Notes for the client").fill("Measured on K1 with Cu Kα; the remainder of the powder is returned.");
     await step(page, "quote-builder", "quote-builder");
     await builder.getByRole("button", { name: "Send quote" }).click();
@@ -407,7 +414,9 @@ describe("lab journey", () => {
     await fileRow.locator('[data-testid="check-status"][data-status="done"]').waitFor({ timeout: 45_000 });
     await step(page, "delivery-checked", "delivery-checked");
 
-    await visit(page, orderPath.replace("/client/", "/lab/"));
+    await page.getByRole("link", { name: "Back to the order, to mark the data delivered" }).click();
+    await page.waitForURL(`${BASE_URL}${orderPath.replace("/client/", "/lab/")}`);
+    await waitForHydration(page);
     await page.getByRole("button", { name: "Mark data delivered" }).click();
     await page.getByText(/Delivered\. The client reviews the data/).waitFor();
     await step(page, "order-delivered", "order-delivered");
@@ -430,6 +439,9 @@ describe("lab journey", () => {
       await new Promise((r) => setTimeout(r, 1500));
       await visit(payouts, "/lab/payouts");
     }
+    const paid = table.getByRole("row").filter({ hasText: /184\.00/ });
+    await paid.getByRole("link", { name: TITLE }).waitFor();
+    await paid.getByRole("cell", { name: /16\.00/ }).waitFor();
     await step(payouts, "payouts-paid", "payouts-paid");
     await visit(payouts, orderPath.replace("/client/", "/lab/"));
     await payouts.getByText("Accepted by the client; see Payouts.").waitFor();

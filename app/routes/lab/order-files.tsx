@@ -53,7 +53,10 @@ export default function LabOrderFiles() {
         title={order.title}
         subtitle={
           <>
-            Delivery for {order.client} · <Link to="/lab" className="underline">Lab workspace</Link>
+            Delivery for {order.client} ·{" "}
+            <Link to={`/lab/orders/${order.id}`} className="underline">
+              Back to the order, to mark the data delivered
+            </Link>
           </>
         }
         actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}

@@ -1,6 +1,6 @@
 // /lab/payouts — the lab's payout account (onboarding at the payment provider) and the payouts it received.
 import { and, desc, eq, inArray } from "drizzle-orm";
-import { data, Form, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
 import { payoutOnboardingUrl, PaymentProblem, syncPayoutAccount } from "~/models/payments.server";
@@ -17,15 +17,26 @@ export async function loader({ request }: Route.LoaderArgs) {
     await syncPayoutAccount(lab.payoutAccountId).catch(() => null);
     [lab] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, labId));
   }
-  const orders = await db.select({ id: schema.orders.id }).from(schema.orders).where(eq(schema.orders.labId, labId));
-  const payouts = orders.length
-    ? await db
-        .select({ id: schema.ledgerTransactions.id, orderId: schema.ledgerTransactions.orderId, memo: schema.ledgerTransactions.memo, transferId: schema.ledgerTransactions.providerObjectId, at: schema.ledgerTransactions.createdAt, currency: schema.ledgerTransactions.currency, amount: schema.ledgerEntries.amountMinor })
-        .from(schema.ledgerTransactions)
-        .innerJoin(schema.ledgerEntries, and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")))
-        .where(and(eq(schema.ledgerTransactions.kind, "payout"), inArray(schema.ledgerTransactions.orderId, orders.map((o) => o.id))))
-        .orderBy(desc(schema.ledgerTransactions.createdAt))
-    : [];
+  const orders = await db
+    .select({ id: schema.orders.id, title: schema.requests.title })
+    .from(schema.orders)
+    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
+    .where(eq(schema.orders.labId, labId));
+  // Payouts and the platform fees kept from them, each read from its side of the funds-held account.
+  const ledgerOf = (kind: "payout" | "platform_fee") =>
+    db
+      .select({ id: schema.ledgerTransactions.id, orderId: schema.ledgerTransactions.orderId, transferId: schema.ledgerTransactions.providerObjectId, at: schema.ledgerTransactions.createdAt, currency: schema.ledgerTransactions.currency, amount: schema.ledgerEntries.amountMinor })
+      .from(schema.ledgerTransactions)
+      .innerJoin(schema.ledgerEntries, and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")))
+      .where(and(eq(schema.ledgerTransactions.kind, kind), inArray(schema.ledgerTransactions.orderId, orders.map((o) => o.id))))
+      .orderBy(desc(schema.ledgerTransactions.createdAt));
+  const [paid, fees] = orders.length ? await Promise.all([ledgerOf("payout"), ledgerOf("platform_fee")]) : [[], []];
+  // A fee belongs to the transfer it was kept from: its provider id is "fee:" and the transfer's id.
+  const payouts = paid.map((p) => ({
+    ...p,
+    title: orders.find((o) => o.id === p.orderId)?.title ?? "",
+    feeMinor: fees.find((f) => f.transferId === `fee:${p.transferId}`)?.amount ?? null,
+  }));
   return { account: { id: lab?.payoutAccountId ?? null, ready: lab?.payoutsEnabled ?? false }, canManage: membership.role === "manager", payouts };
 }
 
@@ -72,12 +83,21 @@ export default function Payouts() {
       {payouts.length === 0 ? (
         <EmptyState title="No payouts yet">Payouts appear here when clients accept your deliveries.</EmptyState>
       ) : (
-        <TableCard columns={["When", "Order", "Amount", "Transfer"]} caption="Payouts">
+        <TableCard columns={["When", "Order", "Paid to you", "Platform fee", "Transfer"]} caption="Payouts">
           {payouts.map((p) => (
             <tr key={p.id}>
               <td>{fmt.dateTime(p.at)}</td>
-              <td className="font-mono text-xs">{p.orderId?.slice(0, 8)}</td>
+              <td>
+                {p.orderId ? (
+                  <Link to={`/lab/orders/${p.orderId}`} className="text-beam-700 underline">
+                    {p.title || `Order ${p.orderId.slice(0, 8)}`}
+                  </Link>
+                ) : (
+                  "—"
+                )}
+              </td>
               <td className="font-medium">{fmt.money(p.amount, p.currency)}</td>
+              <td>{p.feeMinor === null ? "—" : fmt.money(p.feeMinor, p.currency)}</td>
               <td className="font-mono text-xs">{p.transferId}</td>
             </tr>
           ))}

@@ -9,7 +9,7 @@ import { Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/compo
 import { db, schema } from "~/db/client.server";
 import { labelOf, matchLab, sourceLabel } from "~/models/matching";
 import { loadMatchLabs, loadMatchRequest } from "~/models/matching.server";
-import { toMajorText } from "~/models/money";
+import { toMajorText, toMinorUnits } from "~/models/money";
 import { QuoteSchema } from "~/models/quote-forms";
 import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, requireLabQuote, sendQuote, vettingStateOf, withdrawQuote } from "~/models/quotes.server";
 import { acknowledgeHazards, acknowledgementOf, requireRequestForLab, samplesOf, sdsLinks } from "~/models/requests.server";
@@ -168,10 +168,18 @@ function QuoteBuilder() {
     shouldRevalidate: "onInput",
   });
   const items = fields.items.getFieldList();
+  const fmt = useFormat();
+  // The running total as the lab types, added up as the server will add it (whole quantities, integer minor units).
+  const total = items.reduce<number | null>((sum, item) => {
+    const f = item.getFieldset();
+    const quantity = Number(f.quantity.value ?? "");
+    const unit = toMinorUnits(String(f.unitPrice.value ?? ""));
+    return sum === null || !Number.isInteger(quantity) || quantity < 1 || unit === null ? null : sum + quantity * unit;
+  }, 0);
   return (
     <section className="card mt-6" aria-label="Quote builder">
       <h2 className="text-lg font-semibold">Quote</h2>
-      <p className="mb-4 text-sm text-ink-600">Drafted from your price list; edit the items as needed. Prices in {currency}; the total is added up when you send.</p>
+      <p className="mb-4 text-sm text-ink-600">Drafted from your price list; edit the items as needed. Prices in {currency}; the total below adds up as you type.</p>
       <Form method="post" {...getFormProps(form)} className="space-y-2">
         <input type="hidden" name="intent" value="send" />
         <table className="table">
@@ -215,6 +223,11 @@ function QuoteBuilder() {
           </tbody>
         </table>
         <FieldErrors id={`${fields.items.id}-error`} errors={fields.items.errors} />
+        <p role="status" className="text-right text-sm" aria-label="Quote total">
+          Total{" "}
+          <strong className="text-base">{total === null ? "—" : fmt.money(total, currency)}</strong>
+          {total === null ? <span className="block text-xs text-ink-600">Give every item a whole quantity and a unit price to see the total.</span> : null}
+        </p>
         <button type="submit" className="btn-secondary" {...form.insert.getButtonProps({ name: fields.items.name, defaultValue: { description: "", quantity: "1", unitPrice: "" } })}>
           Add an item
         </button>
