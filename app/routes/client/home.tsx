@@ -1,21 +1,35 @@
 // The client workspace's overview: where the organisation's requests, orders and data stand.
 import { Link, useLoaderData } from "react-router";
+import { OrdersByState, WaitingPanel } from "~/components/overview";
 import { EmptyState, PageHeader, SafetyNotice } from "~/components/ui";
+import { clientOverview } from "~/models/overview.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/home";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
-  return { organisation: { name: membership.organisation.name }, role: membership.role };
+  return { organisation: { name: membership.organisation.name }, role: membership.role, overview: await clientOverview(membership.organisation.id) };
 }
 
 export default function ClientHome() {
-  const { organisation, role } = useLoaderData<typeof loader>();
+  const { organisation, role, overview } = useLoaderData<typeof loader>();
+  const started = overview.requestCount > 0 || overview.orders.length > 0;
   return (
     <div>
       <PageHeader title={organisation.name} subtitle={`Client organisation · you are ${role === "owner" ? "an owner" : "a member"}`} />
       <div className="grid gap-6 lg:grid-cols-3">
-        <div className="lg:col-span-2">
+        <div className="space-y-6 lg:col-span-2">
+          {started ? (
+            <>
+              <WaitingPanel items={overview.waiting} />
+              {overview.orders.length > 0 ? <OrdersByState orders={overview.orders} to="/client/orders" /> : null}
+              <p className="text-sm">
+                <Link to="/client/requests/new" className="btn-primary">
+                  New request
+                </Link>
+              </p>
+            </>
+          ) : (
           <EmptyState
             title="No requests yet"
             action={
@@ -27,6 +41,7 @@ export default function ClientHome() {
             Start by posting a measurement request: your samples, their declared phase and approximate cell, a hazard declaration for each,
             and the measurement you need.
           </EmptyState>
+          )}
         </div>
         <SafetyNotice />
       </div>

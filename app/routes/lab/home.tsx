@@ -1,16 +1,18 @@
 // The lab workspace's overview: vetting state, matching requests and work in progress.
 import { Link, useLoaderData } from "react-router";
+import { OrdersByState, WaitingPanel } from "~/components/overview";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
+import { labOverview } from "~/models/overview.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/home";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
-  return { lab: { name: membership.organisation.name, city: membership.organisation.city }, role: membership.role };
+  return { lab: { name: membership.organisation.name, city: membership.organisation.city }, role: membership.role, overview: await labOverview(membership.organisation.id) };
 }
 
 export default function LabHome() {
-  const { lab, role } = useLoaderData<typeof loader>();
+  const { lab, role, overview } = useLoaderData<typeof loader>();
   return (
     <div>
       <PageHeader
@@ -22,6 +24,12 @@ export default function LabHome() {
         }
         actions={<Badge tone="brand">Lab</Badge>}
       />
+      {overview.orders.length > 0 || overview.waiting.length > 0 ? (
+        <div className="grid gap-6 lg:grid-cols-2">
+          <WaitingPanel items={overview.waiting} />
+          {overview.orders.length > 0 ? <OrdersByState orders={overview.orders} to="/lab/work-queue" /> : null}
+        </div>
+      ) : (
       <EmptyState
         title="Nothing in the inbox yet"
         action={
@@ -32,6 +40,7 @@ export default function LabHome() {
       >
         Requests that your instruments, stages and hazard acceptance can serve arrive here once your lab is approved.
       </EmptyState>
+      )}
     </div>
   );
 }
