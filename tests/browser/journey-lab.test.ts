@@ -271,6 +271,8 @@ describe("lab journey", () => {
 
   it("a client posts a request with a hazardous sample and invites the new lab", async () => {
     const page = client.page;
+    await visit(page, "/sign-in");
+    await step(page, "client-sign-in", "sign-in");
     await signIn(page, "owner@pinecrest.example");
     await page.waitForURL(`${BASE_URL}/client`);
     await visit(page, "/client/requests/new");
@@ -285,6 +287,7 @@ describe("lab journey", () => {
     await page.getByLabel("b (Å)").fill("3.250");
     await page.getByLabel("c (Å)").fill("5.207");
     await page.getByLabel("γ (°)").fill("120");
+    await step(page, "client-request-samples", "client-request-samples");
     await page.getByRole("button", { name: "Save and continue to hazards" }).click();
     await page.waitForURL(/\/edit\/hazards$/);
     requestId = new URL(page.url()).pathname.split("/")[3];
@@ -296,19 +299,23 @@ describe("lab journey", () => {
     await page.getByLabel(`Nanomaterial details (${SAMPLE})`).fill("Primary particles about 40 nm; handle in a ventilated enclosure.");
     await page.getByLabel(`Safety data sheet of ${SAMPLE} (PDF)`).setInputFiles(path.join(dir, "zno-sds.pdf"));
     await page.getByText("✓ zno-sds.pdf uploaded").waitFor();
+    await step(page, "client-request-hazards", "client-request-hazards");
     await page.getByRole("button", { name: "Save and continue to measurement" }).click();
     await page.waitForURL(/\/edit\/measurement$/);
     await waitForHydration(page);
     await page.getByLabel("Deadline").fill("2099-05-31");
+    await step(page, "client-request-measurement", "client-request-measurement");
     await page.getByRole("button", { name: "Save and continue to labs" }).click();
     await page.waitForURL(/\/edit\/labs$/);
     await waitForHydration(page);
     // Only the new lab is invited, so the request reaches no other lab's inbox.
     await page.getByRole("radio", { name: /Invited labs only/ }).check();
     await page.getByRole("checkbox", { name: `Invite ${LAB_NAME}` }).check();
+    await step(page, "client-request-labs", "client-request-labs");
     await page.getByRole("button", { name: "Save and continue to review" }).click();
     await page.waitForURL(/\/edit\/review$/);
     await waitForHydration(page);
+    await step(page, "client-request-review", "client-request-review");
     await page.getByRole("button", { name: "Publish request" }).click();
     await page.waitForURL(`${BASE_URL}/client/requests/${requestId}`);
     await page.getByText("No quotes yet").waitFor();
@@ -361,10 +368,12 @@ describe("lab journey", () => {
     const page = client.page;
     await visit(page, `/client/requests/${requestId}`);
     await page.getByRole("article", { name: `Quote from ${LAB_NAME}` }).waitFor();
+    await step(page, "client-quote", "client-quote");
     await page.getByRole("button", { name: `Accept ${LAB_NAME}'s quote` }).click();
     await page.waitForURL(/\/client\/orders\/[0-9a-f-]+$/);
     orderPath = new URL(page.url()).pathname;
     await waitForHydration(page);
+    await step(page, "client-order-awaiting-payment", "client-order-awaiting-payment");
     await page.getByRole("button", { name: /^Pay / }).click();
     await page.waitForURL(/127\.0\.0\.1:54332\/pay\//);
     await page.getByLabel("Card number").fill("4242424242424242");
