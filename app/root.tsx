@@ -9,6 +9,7 @@ import { useNonce } from "./nonce";
 import { ToastMessage } from "./components/toast";
 import { readToast } from "./utils/toast.server";
 import { LocaleProvider } from "./components/locale";
+import { NavigationProgress } from "./components/pending";
 import { negotiateLocale, supportedLocale } from "./utils/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -47,6 +48,7 @@ export default function App() {
   }, []);
   return (
     <QueryClientProvider client={queryClient}>
+      <NavigationProgress />
       <Outlet />
     </QueryClientProvider>
   );

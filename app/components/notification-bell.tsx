@@ -22,7 +22,7 @@ export function NotificationBell() {
   const client = useQueryClient();
   const [open, setOpen] = useState(false);
   const box = useRef<HTMLDivElement>(null);
-  const { data } = useQuery({ queryKey: KEY, queryFn: fetchNotifications, refetchInterval: 60_000 });
+  const { data, isPending, isError, refetch } = useQuery({ queryKey: KEY, queryFn: fetchNotifications, refetchInterval: 60_000 });
   const markRead = useMutation({
     mutationFn: async (body: { all: true } | { ids: string[] }) => {
       const res = await fetch("/api/notifications", { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body) });
@@ -61,12 +61,35 @@ export function NotificationBell() {
         <div className="absolute right-0 z-20 mt-2 w-80 rounded-md border border-ink-200 bg-white shadow-lg">
           <div className="flex items-center justify-between border-b border-ink-100 px-3 py-2">
             <span className="text-sm font-semibold">Notifications</span>
-            <button type="button" className="text-xs text-beam-700 hover:underline disabled:text-ink-400" disabled={unread === 0} onClick={() => markRead.mutate({ all: true })}>
-              Mark all read
+            <button
+              type="button"
+              className="text-xs text-beam-700 hover:underline disabled:text-ink-400"
+              disabled={unread === 0 || markRead.isPending}
+              onClick={() => markRead.mutate({ all: true })}
+            >
+              {markRead.isPending ? "Marking read…" : "Mark all read"}
             </button>
           </div>
-          <ul className="max-h-96 overflow-y-auto">
-            {(data?.items ?? []).length === 0 ? <li className="px-3 py-4 text-sm text-ink-500">Nothing yet.</li> : null}
+          {markRead.isError ? (
+            <p role="alert" className="border-b border-ink-100 px-3 py-2 text-xs text-danger-700">
+              Could not mark them read; try again.
+            </p>
+          ) : null}
+          <ul className="max-h-96 overflow-y-auto" aria-busy={isPending}>
+            {isPending ? (
+              <li className="px-3 py-4 text-sm text-ink-500" role="status">
+                Loading notifications…
+              </li>
+            ) : isError ? (
+              <li className="px-3 py-4 text-sm text-danger-700" role="alert">
+                Notifications could not be loaded.{" "}
+                <button type="button" className="text-beam-700 underline" onClick={() => void refetch()}>
+                  Try again
+                </button>
+              </li>
+            ) : (data?.items ?? []).length === 0 ? (
+              <li className="px-3 py-4 text-sm text-ink-500">Nothing yet. Orders, quotes and checks you follow will be announced here.</li>
+            ) : null}
             {(data?.items ?? []).map((n) => (
               <li key={n.id} className={`border-b border-ink-100 last:border-0 ${n.read ? "" : "bg-beam-50"}`}>
                 <Link
@@ -77,6 +100,14 @@ export function NotificationBell() {
                     setOpen(false);
                   }}
                 >
+                  {n.read ? null : (
+                    <span className="mr-1 inline-flex items-center gap-1 text-xs font-semibold text-beam-700">
+                      <svg viewBox="0 0 8 8" className="h-2 w-2" aria-hidden="true" focusable="false">
+                        <circle cx="4" cy="4" r="4" fill="currentColor" />
+                      </svg>
+                      New
+                    </span>
+                  )}
                   <span className={n.read ? "text-ink-700" : "font-medium text-ink-900"}>{n.title}</span>
                   <span className="block text-xs text-ink-500">{fmt.dateTime(n.createdAt)}</span>
                 </Link>

@@ -1,12 +1,13 @@
 // Signing out is a POST to /sign-out (never a link), from any header.
 import { Form } from "react-router";
+import { SubmitButton } from "./pending";
 
 export function SignOutButton() {
   return (
     <Form method="post" action="/sign-out">
-      <button type="submit" className="btn-quiet">
+      <SubmitButton className="btn-quiet" pendingText="Signing out…">
         Sign out
-      </button>
+      </SubmitButton>
     </Form>
   );
 }

@@ -8,6 +8,7 @@ import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/notifications";
 import { useFormat } from "~/components/locale";
+import { SubmitButton } from "~/components/pending";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const actor = await requireUser(request);
@@ -66,20 +67,23 @@ export default function NotificationSettings() {
         <div className="mt-4 h-6">
           <FormError errors={actionData?.error ? [actionData.error] : undefined} />
         </div>
-        <button type="submit" className="btn-primary" disabled={busy}>
-          Save e-mail settings
-        </button>
+        <SubmitButton pendingText="Saving…">Save e-mail settings</SubmitButton>
       </Form>
       <section className="mt-8">
         <h2 className="mb-3 text-lg font-semibold">
           Recent notifications {list.unread ? <Badge tone="brand">{list.unread} unread</Badge> : null}
         </h2>
         {list.items.length === 0 ? (
-          <p className="text-sm text-ink-500">Nothing yet.</p>
+          <p className="text-sm text-ink-500">Nothing yet. Quotes, orders, payments and scan checks that concern you are announced here and, as set above, by e-mail.</p>
         ) : (
           <ul className="card divide-y divide-ink-100 p-0">
             {list.items.map((n) => (
               <li key={n.id} className="px-4 py-3 text-sm">
+                {n.read ? null : (
+                  <span className="mr-2">
+                    <Badge tone="brand">New</Badge>
+                  </span>
+                )}
                 <a href={n.href || "#"} className={n.read ? "text-ink-700" : "font-medium text-ink-900"}>
                   {n.title}
                 </a>
