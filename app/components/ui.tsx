@@ -91,7 +91,7 @@ export type BadgeTone = keyof typeof BADGE_TONES;
 /** A state badge: a word, a shape and a colour, so colour never carries the meaning alone. */
 export function Badge({ tone = "neutral", children }: { tone?: BadgeTone; children: ReactNode }) {
   return (
-    <span className={`inline-flex items-center gap-1 rounded-full border px-2 py-0.5 text-xs font-semibold whitespace-nowrap ${BADGE_TONES[tone]}`}>
+    <span className={`inline-flex items-center gap-1 rounded-full border px-2 py-0.5 text-xs font-semibold ${BADGE_TONES[tone]}`}>
       <svg viewBox="0 0 16 16" className="h-3.5 w-3.5 shrink-0" aria-hidden="true" focusable="false" data-shape={tone}>
         {BADGE_SHAPES[tone]}
       </svg>

@@ -1,6 +1,6 @@
 // The frame of the client, lab and admin workspaces: navigation, organisation switcher, account area.
-import type { ReactNode } from "react";
-import { Form, Link, NavLink } from "react-router";
+import { useEffect, useState, type ReactNode } from "react";
+import { Form, Link, NavLink, useLocation } from "react-router";
 import type { MeSummary } from "~/models/me.server";
 import { Brand } from "./brand";
 import { NotificationBell } from "./notification-bell";
@@ -14,23 +14,48 @@ export interface NavItem {
 
 export function WorkspaceShell({ me, title, nav, children }: { me: MeSummary; title: string; nav: NavItem[]; children: ReactNode }) {
   const active = me.organisations.find((o) => o.id === me.activeOrganisationId);
+  // On a phone the section links fold behind a Menu button; from md up they are always shown down the side.
+  const [menuOpen, setMenuOpen] = useState(false);
+  const { pathname } = useLocation();
+  useEffect(() => setMenuOpen(false), [pathname]);
+  const navId = `${title.toLowerCase().replace(/\W+/g, "-")}-nav`;
   return (
     <div className="flex min-h-screen flex-col md:flex-row">
       <aside className="border-b border-ink-200 bg-white md:w-64 md:shrink-0 md:border-r md:border-b-0">
-        <div className="flex items-center justify-between px-4 py-4 md:block">
+        <div className="flex items-center justify-between gap-3 px-4 py-3 md:block md:py-4">
           <Brand />
-          <p className="mt-0 text-xs font-semibold tracking-wide text-ink-500 uppercase md:mt-4" data-testid="workspace-title">
+          <p className="ml-auto text-xs font-semibold tracking-wide text-ink-500 uppercase md:mt-4 md:ml-0" data-testid="workspace-title">
             {title}
           </p>
+          <button
+            type="button"
+            className="btn-secondary px-3 py-1.5 md:hidden"
+            aria-expanded={menuOpen}
+            aria-controls={navId}
+            onClick={() => setMenuOpen((o) => !o)}
+          >
+            <svg viewBox="0 0 16 16" className="h-4 w-4" aria-hidden="true" focusable="false">
+              {menuOpen ? (
+                <path d="m3.5 3.5 9 9m0-9-9 9" stroke="currentColor" strokeWidth="1.8" strokeLinecap="round" />
+              ) : (
+                <path d="M2.5 4h11M2.5 8h11M2.5 12h11" stroke="currentColor" strokeWidth="1.8" strokeLinecap="round" />
+              )}
+            </svg>
+            Menu
+          </button>
         </div>
-        <nav aria-label={`${title} navigation`} className="flex gap-1 overflow-x-auto px-2 pb-3 md:flex-col md:overflow-visible">
+        <nav
+          id={navId}
+          aria-label={`${title} navigation`}
+          className={`${menuOpen ? "flex" : "hidden"} flex-col gap-1 px-2 pb-3 md:flex`}
+        >
           {nav.map((n) => (
             <NavLink
               key={n.to}
               to={n.to}
               end={n.end}
               className={({ isActive }) =>
-                `rounded-md px-3 py-2 text-sm font-medium whitespace-nowrap ${isActive ? "bg-beam-50 text-beam-700" : "text-ink-700 hover:bg-ink-100"}`
+                `rounded-md px-3 py-2 text-sm font-medium ${isActive ? "bg-beam-50 text-beam-700" : "text-ink-700 hover:bg-ink-100"}`
               }
             >
               {n.label}
