@@ -51,8 +51,9 @@ export function SortableTable({
   children: ReactNode;
 }) {
   const href = useHref();
+  // relative: the sort links' visually hidden words are positioned inside this scroller, not out past the page's edge.
   return (
-    <div className="card overflow-x-auto p-0">
+    <div className="card relative overflow-x-auto p-0">
       <table className="table">
         <caption className="sr-only">
           {caption}
@@ -76,9 +77,10 @@ export function SortableTable({
                     to={href({ sort: c.sort, dir: nextDir, page: null })}
                     preventScrollReset
                     className={`inline-flex items-center gap-1 rounded hover:text-ink-900 ${active ? "text-ink-900" : ""}`}
-                    aria-label={`${c.label}: sort ${nextDir === "asc" ? "ascending" : "descending"}`}
                   >
                     {c.label}
+                    {/* Words, not an aria-label, so the column's name stays the heading's text and never labels a form field. */}
+                    <span className="sr-only">, sort {nextDir === "asc" ? "ascending" : "descending"}</span>
                     <SortArrow dir={active ? dir : null} />
                   </Link>
                 </th>

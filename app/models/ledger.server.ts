@@ -99,18 +99,32 @@ export interface LedgerFilter {
   to?: Date;
 }
 
-/** Ledger transactions with their entries, newest first, for the admin screen and CSV export. */
-export async function ledgerRows(f: LedgerFilter, limit = 500) {
+/** Ledger transactions with their entries, newest first (or by kind), a page at a time, for the admin screen and CSV export. */
+export async function ledgerRows(f: LedgerFilter, limit = 500, page: { offset?: number; sort?: "at" | "kind"; dir?: "asc" | "desc" } = {}) {
+  const where = ledgerWhere(f);
+  const dir = page.dir === "asc" ? sql`asc` : sql`desc`;
+  const order = page.sort === "kind" ? sql`t.kind ${dir}, t.created_at desc, t.id` : sql`t.created_at ${dir}, t.id`;
+  const result = await db.execute<{ id: string; kind: string; order_id: string | null; currency: string; provider_object_id: string; memo: string; created_at: string; account: string; amount_minor: number }>(sql`
+    select t.id, t.kind, t.order_id, t.currency, t.provider_object_id, t.memo, t.created_at, e.account, e.amount_minor
+    from (select * from ledger_transactions t ${where.length ? sql`where ${sql.join(where, sql` and `)}` : sql``} order by ${order} limit ${limit} offset ${page.offset ?? 0}) t
+    join ledger_entries e on e.transaction_id = t.id
+    order by ${order}, e.id`);
+  return result.rows;
+}
+
+/** How many transactions the filter matches (the ledger screen pages by transaction, each with all its entries). */
+export async function ledgerTransactionCount(f: LedgerFilter) {
+  const where = ledgerWhere(f);
+  const result = await db.execute<{ n: string }>(sql`select count(*) as n from ledger_transactions t ${where.length ? sql`where ${sql.join(where, sql` and `)}` : sql``}`);
+  return Number(result.rows[0].n);
+}
+
+function ledgerWhere(f: LedgerFilter) {
   const where: SQL[] = [];
   if (f.kind) where.push(sql`t.kind = ${f.kind}`);
   if (f.currency) where.push(sql`t.currency = ${f.currency}`);
   if (f.orderId) where.push(sql`t.order_id = ${f.orderId}`);
   if (f.from) where.push(sql`t.created_at >= ${f.from.toISOString()}`);
   if (f.to) where.push(sql`t.created_at < ${f.to.toISOString()}`);
-  const result = await db.execute<{ id: string; kind: string; order_id: string | null; currency: string; provider_object_id: string; memo: string; created_at: string; account: string; amount_minor: number }>(sql`
-    select t.id, t.kind, t.order_id, t.currency, t.provider_object_id, t.memo, t.created_at, e.account, e.amount_minor
-    from (select * from ledger_transactions t ${where.length ? sql`where ${sql.join(where, sql` and `)}` : sql``} order by t.created_at desc, t.id limit ${limit}) t
-    join ledger_entries e on e.transaction_id = t.id
-    order by t.created_at desc, t.id, e.id`);
-  return result.rows;
+  return where;
 }

@@ -1,22 +1,36 @@
 // /admin/ledger — every money movement as balanced double-entry rows, with filters and totals.
 import { Form, Link, useLoaderData, useSearchParams } from "react-router";
-import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
+import { PageNav, SortableTable } from "~/components/data-table";
+import { SubmitButton } from "~/components/pending";
+import { Badge, EmptyState, PageHeader } from "~/components/ui";
 import { LEDGER_KINDS, parseLedgerFilter } from "~/models/ledger-filter";
-import { ledgerRows, ledgerSummary } from "~/models/ledger.server";
+import { ledgerRows, ledgerSummary, ledgerTransactionCount } from "~/models/ledger.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import type { Route } from "./+types/ledger";
 import { useFormat } from "~/components/locale";
+import { pageOf, readTableQuery, type TableSpec } from "~/utils/table";
+
+const TABLE: TableSpec<"at" | "kind"> = { sorts: ["at", "kind"], defaultSort: "at", firstDir: { at: "desc" }, pageSize: 50 };
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
-  const parsed = parseLedgerFilter(new URL(request.url).searchParams);
-  const [summary, rows] = await Promise.all([ledgerSummary(), parsed.ok ? ledgerRows(parsed.filter) : Promise.resolve([])]);
-  return { summary, rows, error: parsed.ok ? null : parsed.error };
+  const params = new URL(request.url).searchParams;
+  const q = readTableQuery(params, TABLE);
+  // The table's own parameters are not filters.
+  const filters = new URLSearchParams([...params].filter(([k]) => !["sort", "dir", "page"].includes(k)));
+  const parsed = parseLedgerFilter(filters);
+  const total = parsed.ok ? await ledgerTransactionCount(parsed.filter) : 0;
+  const info = pageOf(total, q);
+  const [summary, rows] = await Promise.all([
+    ledgerSummary(),
+    parsed.ok ? ledgerRows(parsed.filter, info.pageSize, { offset: info.offset, sort: q.sort, dir: q.dir }) : Promise.resolve([]),
+  ]);
+  return { summary, rows, info, sort: q.sort, dir: q.dir, error: parsed.ok ? null : parsed.error };
 }
 
 export default function Ledger() {
   const fmt = useFormat();
-  const { summary, rows, error } = useLoaderData<typeof loader>();
+  const { summary, rows, info, sort, dir, error } = useLoaderData<typeof loader>();
   const [params] = useSearchParams();
   return (
     <div>
@@ -95,9 +109,9 @@ export default function Ledger() {
           <input id="to" name="to" type="date" className="input" defaultValue={params.get("to") ?? ""} />
         </div>
         <div className="flex items-end">
-          <button type="submit" className="btn-primary w-full">
+          <SubmitButton className="btn-primary w-full" pendingText="Filtering…">
             Filter
-          </button>
+          </SubmitButton>
         </div>
         <p className="min-h-5 text-sm text-danger-700 sm:col-span-5" role={error ? "alert" : undefined}>
           {error}
@@ -106,7 +120,20 @@ export default function Ledger() {
       {rows.length === 0 ? (
         <EmptyState title="No movements">Money movements appear here as clients pay, labs are paid and refunds go out.</EmptyState>
       ) : (
-        <TableCard columns={["When", "Movement", "Order", "Account", "Amount", "Provider object"]} caption="Ledger entries">
+        <>
+        <SortableTable
+          columns={[
+            { label: "When", sort: "at", firstDir: "desc" },
+            { label: "Movement", sort: "kind" },
+            { label: "Order" },
+            { label: "Account" },
+            { label: "Amount", className: "text-right" },
+            { label: "Provider object" },
+          ]}
+          sort={sort}
+          dir={dir}
+          caption="Ledger entries"
+        >
           {rows.map((r, i) => (
             <tr key={`${r.id}-${i}`}>
               <td className="whitespace-nowrap">{fmt.dateTime(r.created_at)}</td>
@@ -117,7 +144,9 @@ export default function Ledger() {
               <td className="font-mono text-xs">{r.provider_object_id}</td>
             </tr>
           ))}
-        </TableCard>
+        </SortableTable>
+        <PageNav info={info} noun={["transaction", "transactions"]} />
+        </>
       )}
     </div>
   );
