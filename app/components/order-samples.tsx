@@ -3,7 +3,8 @@ import type { Sample } from "~/db/schema";
 import { HazardDeclaration, SampleFacts } from "./request-parts";
 import { SafetyNotice } from "./ui";
 
-export function OrderSamples({ samples }: { samples: Pick<Sample, "id" | "label" | "formula" | "form" | "massMg" | "expectedPhase" | "crystalSystem" | "centering" | "cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma" | "ghsPictograms" | "hStatements" | "specialHazards" | "handlingNotes" | "afterMeasurement" | "sdsFileName">[] }) {
+/** `sds` maps sample ids to download links of their safety data sheets (the lab's order page); without it the name shows. */
+export function OrderSamples({ samples, sds }: { sds?: Record<string, string>; samples: Pick<Sample, "id" | "label" | "formula" | "form" | "massMg" | "expectedPhase" | "crystalSystem" | "centering" | "cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma" | "ghsPictograms" | "hStatements" | "specialHazards" | "handlingNotes" | "afterMeasurement" | "sdsFileName">[] }) {
   const anyHazard = samples.some((s) => s.ghsPictograms.length || s.hStatements.length || s.specialHazards.length);
   return (
     <div className="space-y-4">
@@ -12,7 +13,7 @@ export function OrderSamples({ samples }: { samples: Pick<Sample, "id" | "label"
           <h3 className="font-semibold">{s.label}</h3>
           <SampleFacts sample={s} />
           <div className="mt-3">
-            <HazardDeclaration hazards={s} />
+            <HazardDeclaration hazards={s} sdsUrl={sds?.[s.id]} />
           </div>
         </article>
       ))}

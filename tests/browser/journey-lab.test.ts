@@ -400,6 +400,8 @@ describe("lab journey", () => {
     await waitForHydration(page);
     expect(new URL(page.url()).pathname).toBe(orderPath.replace("/client/", "/lab/"));
     await page.getByText(/Shipped with Skylark Couriers/).first().waitFor();
+    // The parcel is checked against its declaration and safety data sheet, which opens from the order.
+    expect(await page.getByRole("link", { name: "zno-sds.pdf" }).getAttribute("href")).toContain("X-Amz-Signature=");
     await step(page, "order-in-transit", "order-in-transit");
     await page.getByRole("button", { name: "Mark samples received" }).click();
     await page.getByRole("button", { name: "Start measuring" }).waitFor();

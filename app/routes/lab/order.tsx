@@ -13,6 +13,7 @@ import { markDelivered, markReceived, samplesWithoutCompletedCheck, shipmentOf, 
 import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
 import { orderTimeline, OrderMoveRefused } from "~/models/orders.server";
 import { PaymentProblem, refuseOnArrival } from "~/models/payments.server";
+import { sdsLinks } from "~/models/requests.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
@@ -35,6 +36,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     title: req?.title ?? "",
     clientName: client?.name ?? "",
     samples,
+    // The safety data sheets open from the order too: the lab checks the parcel against them on arrival.
+    sds: await sdsLinks(samples),
     shipment,
     timeline,
     missingChecks,
@@ -74,7 +77,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function LabOrder() {
   const fmt = useFormat();
-  const { order, title, clientName, samples, shipment, timeline, missingChecks } = useLoaderData<typeof loader>();
+  const { order, title, clientName, samples, sds, shipment, timeline, missingChecks } = useLoaderData<typeof loader>();
   const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
   return (
@@ -161,7 +164,7 @@ export default function LabOrder() {
             <h2 id="lab-samples" className="mb-3 text-lg font-semibold">
               Samples and their hazard declarations
             </h2>
-            <OrderSamples samples={samples} />
+            <OrderSamples samples={samples} sds={sds} />
           </section>
         </div>
         <OrderTimelineCard rows={timeline} />
