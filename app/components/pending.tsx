@@ -13,8 +13,10 @@ export function Spinner({ className = "h-4 w-4" }: { className?: string }) {
 }
 
 /**
- * A submit button that is disabled while any form of the page is submitting and, when its own submission (same
- * name and value, or any when it has no name) is the one in flight, shows a spinner and `pendingText`.
+ * A submit button that is disabled while any form of the page is submitting and, when its own submission is the
+ * one in flight, shows a spinner and `pendingText`. Its own: the submitted form data holds every field of `match`
+ * (the form's hidden intent and id), the button's own name and value, and the form's `action` path when given
+ * (header forms: sign-out, switch organisation); with none of them, any submission counts.
  */
 export function SubmitButton({
   children,
@@ -22,12 +24,16 @@ export function SubmitButton({
   className = "btn-primary",
   name,
   value,
+  match,
+  action,
   ...rest
-}: { children: ReactNode; pendingText?: ReactNode } & Omit<ButtonHTMLAttributes<HTMLButtonElement>, "type" | "children">) {
+}: { children: ReactNode; pendingText?: ReactNode; match?: Record<string, string>; action?: string } & Omit<ButtonHTMLAttributes<HTMLButtonElement>, "type" | "children">) {
   const navigation = useNavigation();
   // A form submission of any method (a GET filter form too); plain link navigations leave the buttons alone.
   const busy = navigation.state !== "idle" && navigation.formMethod !== undefined;
-  const mine = busy && (name === undefined || navigation.formData?.get(name) === String(value));
+  const fields = { ...match, ...(name === undefined ? {} : { [name]: String(value) }) };
+  const toAction = action === undefined || navigation.formAction?.split("?")[0] === action;
+  const mine = busy && toAction && Object.entries(fields).every(([k, v]) => navigation.formData?.get(k) === v);
   return (
     <button {...rest} type="submit" name={name} value={value} className={className} disabled={busy || rest.disabled} aria-busy={mine || undefined}>
       {mine ? <Spinner /> : null}
@@ -55,7 +61,8 @@ export function NavigationProgress() {
         aria-hidden="true"
         className={`pointer-events-none fixed inset-x-0 top-0 z-50 h-1 origin-left bg-beam-500 transition-transform duration-700 ease-out ${shown ? "scale-x-75" : "scale-x-0 opacity-0"}`}
       />
-      <p className="sr-only" role="status" aria-live="polite">
+      {/* A live region without the status role: the page's toasts and counts are the page's "status". */}
+      <p className="sr-only" aria-live="polite">
         {shown ? (navigation.state === "submitting" ? "Sending…" : "Loading…") : ""}
       </p>
     </>

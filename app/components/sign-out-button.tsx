@@ -5,7 +5,7 @@ import { SubmitButton } from "./pending";
 export function SignOutButton() {
   return (
     <Form method="post" action="/sign-out">
-      <SubmitButton className="btn-quiet" pendingText="Signing out…">
+      <SubmitButton className="btn-quiet" action="/sign-out" pendingText="Signing out…">
         Sign out
       </SubmitButton>
     </Form>

@@ -4,6 +4,7 @@ import { Form, Link, NavLink, useLocation } from "react-router";
 import type { MeSummary } from "~/models/me.server";
 import { Brand } from "./brand";
 import { NotificationBell } from "./notification-bell";
+import { SubmitButton } from "./pending";
 import { SignOutButton } from "./sign-out-button";
 
 export interface NavItem {
@@ -77,9 +78,9 @@ export function WorkspaceShell({ me, title, nav, children }: { me: MeSummary; ti
                   </option>
                 ))}
               </select>
-              <button type="submit" className="btn-secondary py-1">
+              <SubmitButton className="btn-secondary py-1" action="/switch-organisation" pendingText="Switching…">
                 Switch
-              </button>
+              </SubmitButton>
             </Form>
           ) : active ? (
             <span className="text-sm text-ink-600">{active.name}</span>

@@ -42,6 +42,7 @@ import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/capabilities";
+import { SubmitButton } from "~/components/pending";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
@@ -160,9 +161,9 @@ function InstrumentCard({ instrument: i, canEdit, editStage }: { instrument: Ins
             <Form method="post">
               <input type="hidden" name="intent" value="remove-instrument" />
               <input type="hidden" name="id" value={i.id} />
-              <button type="submit" className="btn-quiet" aria-label={`Remove ${i.name}`}>
+              <SubmitButton className="btn-quiet" aria-label={`Remove ${i.name}`} match={{ intent: "remove-instrument", id: i.id }} pendingText="Removing…">
                 Remove
-              </button>
+              </SubmitButton>
             </Form>
           </div>
         ) : null}
@@ -198,9 +199,9 @@ function InstrumentCard({ instrument: i, canEdit, editStage }: { instrument: Ins
                   <Form method="post">
                     <input type="hidden" name="intent" value="remove-stage" />
                     <input type="hidden" name="id" value={s.id} />
-                    <button type="submit" className="btn-quiet" aria-label={`Remove stage ${s.name}`}>
+                    <SubmitButton className="btn-quiet" aria-label={`Remove stage ${s.name}`} match={{ intent: "remove-stage", id: s.id }} pendingText="Removing…">
                       Remove
-                    </button>
+                    </SubmitButton>
                   </Form>
                 </span>
               ) : null}
@@ -387,9 +388,9 @@ function StageForm({ instrument, stage }: { instrument: InstrumentView; stage?: 
       <CheckboxGroup legend="Atmospheres" field={fields.atmospheres} options={ATMOSPHERES.map((a) => ({ value: a, label: ATMOSPHERE_LABELS[a] }))} />
       <FormError errors={form.errors} />
       <div className="flex gap-2">
-        <button type="submit" className="btn-secondary">
+        <SubmitButton className="btn-secondary" match={{ intent: "save-stage" }} pendingText="Saving…">
           {stage ? "Save stage" : "Add stage"}
-        </button>
+        </SubmitButton>
         {stage ? (
           <Link to="." className="btn-quiet">
             Cancel
@@ -450,9 +451,9 @@ function HazardForm({ hazards, canEdit }: { hazards: { pictograms: string[]; spe
         />
         <FormError errors={form.errors} />
         {canEdit ? (
-          <button type="submit" className="btn-primary">
+          <SubmitButton match={{ intent: "save-hazards" }} pendingText="Saving…">
             Save hazard acceptance
-          </button>
+          </SubmitButton>
         ) : null}
       </Form>
     </section>

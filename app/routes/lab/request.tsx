@@ -18,6 +18,7 @@ import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request";
 import { useFormat } from "~/components/locale";
+import { SubmitButton } from "~/components/pending";
 
 const isoInDays = (days: number) => new Date(Date.now() + days * 86_400_000).toISOString().slice(0, 10);
 
@@ -140,9 +141,9 @@ export default function LabRequest() {
                   <Form method="post">
                     <input type="hidden" name="intent" value="withdraw" />
                     <input type="hidden" name="quoteId" value={q.id} />
-                    <button type="submit" className="btn-secondary">
+                    <SubmitButton className="btn-secondary" match={{ intent: "withdraw", quoteId: q.id }} pendingText="Withdrawing…">
                       Withdraw quote
-                    </button>
+                    </SubmitButton>
                   </Form>
                 ) : null}
               </li>
