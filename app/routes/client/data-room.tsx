@@ -33,7 +33,16 @@ export default function DataRoom() {
         subtitle={`Delivered scans and reports of ${organisation}, each with its SHA-256 and its lattice check. Files are kept for ${RETENTION_YEARS} years.`}
       />
       {orders.length === 0 ? (
-        <EmptyState title="The data room is empty">Delivered scans, lab reports and lattice-check results of your orders are kept here.</EmptyState>
+        <EmptyState
+          title="The data room is empty"
+          action={
+            <Link to="/client/orders" className="btn-secondary">
+              Follow your orders
+            </Link>
+          }
+        >
+          Delivered scans, lab reports and lattice-check results of your orders are kept here.
+        </EmptyState>
       ) : (
         <div className="space-y-6">
           {orders.map((o) => {

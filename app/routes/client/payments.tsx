@@ -37,7 +37,16 @@ export default function ClientPayments() {
     <div>
       <PageHeader title="Payments" subtitle="Payments are held by Diffractory until you accept the delivered data." />
       {payments.length === 0 ? (
-        <EmptyState title="No payments yet">When you pay for an accepted quote, the payment and its receipt appear here.</EmptyState>
+        <EmptyState
+          title="No payments yet"
+          action={
+            <Link to="/client/orders" className="btn-secondary">
+              See your orders
+            </Link>
+          }
+        >
+          When you pay for an accepted quote, the payment and its receipt appear here.
+        </EmptyState>
       ) : (
         <TableCard columns={["Date", "Order", "Lab", "Paid", "Refunded", "Status", ""]} caption="Payments">
           {payments.map((p) => (

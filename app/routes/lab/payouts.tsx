@@ -81,7 +81,16 @@ export default function Payouts() {
         {!canManage && !account.ready ? <p className="text-sm text-ink-600">A lab manager connects the payout account.</p> : null}
       </section>
       {payouts.length === 0 ? (
-        <EmptyState title="No payouts yet">Payouts appear here when clients accept your deliveries.</EmptyState>
+        <EmptyState
+          title="No payouts yet"
+          action={
+            <Link to="/lab/work-queue" className="btn-secondary">
+              See the work queue
+            </Link>
+          }
+        >
+          Payouts appear here when clients accept your deliveries.
+        </EmptyState>
       ) : (
         <TableCard columns={["When", "Order", "Paid to you", "Platform fee", "Transfer"]} caption="Payouts">
           {payouts.map((p) => (

@@ -19,7 +19,16 @@ export default function LabQuotes() {
     <div>
       <PageHeader title="Quotes" subtitle="Quotes your lab has sent, and what became of them." />
       {quotes.length === 0 ? (
-        <EmptyState title="No quotes sent">Quotes you send on requests from your inbox are listed here with their state.</EmptyState>
+        <EmptyState
+          title="No quotes sent"
+          action={
+            <Link to="/lab/inbox" className="btn-primary">
+              Open the inbox
+            </Link>
+          }
+        >
+          Quotes you send on requests from your inbox are listed here with their state.
+        </EmptyState>
       ) : (
         <TableCard columns={["Request", "Total", "Instrument", "Turnaround", "Valid until", "State"]} caption="Quotes">
           {quotes.map((q) => (

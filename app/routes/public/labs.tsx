@@ -148,7 +148,16 @@ export default function LabDirectory() {
               {(labs.error as Error).message}
             </p>
           ) : data && data.labs.length === 0 ? (
-            <EmptyState title="No lab matches these filters">Loosen a filter — a larger smallest d, another source, or fewer hazards.</EmptyState>
+            <EmptyState
+              title="No lab matches these filters"
+              action={
+                <Link to="/labs" className="btn-secondary">
+                  Clear all filters
+                </Link>
+              }
+            >
+              Loosen a filter — a larger smallest d, another source, or fewer hazards.
+            </EmptyState>
           ) : (
             <ul className="space-y-3">
               {data?.labs.map((lab) => (
