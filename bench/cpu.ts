@@ -3,8 +3,8 @@
 // /proc/<pid>/stat over a fixed number of requests at a few connections, after a warm-up.
 // `npx tsx bench/cpu.ts`; CPU_REQUESTS (default 2000), CPU_CONNECTIONS (default 2), CPU_PATH (default
 // /client/requests), CPU_BARE=1 also measures bench/bare-server.ts, CPU_PROF=dir writes a --cpu-prof profile,
-// CPU_ROOT runs the server of another checkout (its build/ must be current). Needs `npm run bench:load` once
-// (the load database and the SQL the bare server runs).
+// CPU_ENCODING=gzip|br asks for compressed answers, CPU_ROOT runs the server of another checkout (its build/
+// must be current). Needs `npm run bench:load` once (the load database and the SQL the bare server runs).
 import autocannon from "autocannon";
 import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
@@ -20,6 +20,8 @@ const PORT = 3292;
 const REQUESTS = Number(process.env.CPU_REQUESTS ?? 2000);
 const CONNECTIONS = Number(process.env.CPU_CONNECTIONS ?? 2);
 const PAGE = process.env.CPU_PATH ?? "/client/requests";
+/** CPU_ENCODING=gzip (or br) asks for a compressed answer, as browsers do; autocannon asks for none by default. */
+const ENCODING = process.env.CPU_ENCODING;
 const TICK_MS = 1000 / 100; // USER_HZ is 100 on Linux
 
 function cpuMs(pid: number) {
@@ -48,7 +50,7 @@ async function stop(child: ChildProcess) {
 
 async function run(url: string, cookie: string, amount: number) {
   const times: number[] = [];
-  const instance = autocannon({ url, headers: { Cookie: cookie }, connections: CONNECTIONS, amount });
+  const instance = autocannon({ url, headers: { Cookie: cookie, ...(ENCODING ? { "Accept-Encoding": ENCODING } : {}) }, connections: CONNECTIONS, amount });
   instance.on("response", (_c: unknown, _s: number, _b: number, ms: number) => times.push(ms));
   const r = await instance;
   times.sort((a, b) => a - b);
