@@ -23,9 +23,12 @@ export default function ClientHome() {
             <>
               <WaitingPanel items={overview.waiting} />
               {overview.orders.length > 0 ? <OrdersByState orders={overview.orders} to="/client/orders" /> : null}
-              <p className="text-sm">
+              <p className="flex flex-wrap gap-3 text-sm">
                 <Link to="/client/requests/new" className="btn-primary">
                   New request
+                </Link>
+                <Link to="/labs" className="btn-secondary">
+                  Find a lab
                 </Link>
               </p>
             </>
