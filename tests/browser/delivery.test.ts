@@ -6,7 +6,7 @@ import os from "node:os";
 import path from "node:path";
 import pg from "pg";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
-import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
+import { simulatedXy } from "./test-files";
 import { SILICON } from "~/diffraction/structures";
 import { databaseUrl } from "../../services/postgres";
 import { BASE_URL, openBrowser, screenshot, signIn, visit, type Browser } from "./harness";
@@ -55,17 +55,11 @@ async function measuringOrder() {
 
 /** A simulated silicon scan padded with comment lines to about `bytes`. */
 function writeScan(name: string, bytes: number, seed: number) {
-  const sim = simulatePattern({
+  const body = simulatedXy(`Silicon reference BT-7, run ${seed} (simulated)`, {
     structure: SILICON,
     cell: { a: 5.431, b: 5.431, c: 5.431, alpha: 90, beta: 90, gamma: 90 },
-    radiation: { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" },
-    twoThetaMin: 20,
-    twoThetaMax: 120,
-    step: 0.02,
-    background: { constant: 150, slope: -0.4 },
-    noise: { seed },
+    from: 20, to: 120, background: 150, slope: -0.4, seed,
   });
-  const body = formatScanAsXy(sim, `Silicon reference BT-7, run ${seed} (simulated)`);
   const line = "# detector log: counts stable, generator 40 kV 40 mA, no interruptions during this step\n";
   const text = line.repeat(Math.max(0, Math.ceil((bytes - body.length) / line.length))) + body;
   const file = path.join(dir, name);

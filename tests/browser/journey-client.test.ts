@@ -11,7 +11,7 @@ import path from "node:path";
 import pg from "pg";
 import type { Page } from "playwright-core";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
-import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
+import { MINIMAL_PDF, simulatedXy } from "./test-files";
 import { ZINCITE } from "~/diffraction/structures";
 import type { Radiation } from "~/diffraction";
 import { databaseUrl } from "../../services/postgres";
@@ -80,24 +80,17 @@ async function signInAs(b: Browser, email: string, landing: string) {
 
 /** A simulated zinc-oxide scan for the quote's instrument, as the lab's diffractometer would write it. */
 function writeScan(radiation: Radiation) {
-  const sim = simulatePattern({
-    structure: ZINCITE,
-    cell: { a: 3.2501, b: 3.2501, c: 5.2071, alpha: 90, beta: 90, gamma: 120 },
-    radiation,
-    twoThetaMin: 20,
-    twoThetaMax: 120,
-    step: 0.02,
-    background: { constant: 140, slope: -0.3 },
-    noise: { seed: 12 },
-  });
   const file = path.join(dir, SCAN);
-  fs.writeFileSync(file, formatScanAsXy(sim, "Zinc oxide lot ZO-12 (simulated)"));
+  fs.writeFileSync(
+    file,
+    simulatedXy("Zinc oxide lot ZO-12 (simulated)", { structure: ZINCITE, cell: { a: 3.2501, b: 3.2501, c: 5.2071, alpha: 90, beta: 90, gamma: 120 }, radiation, from: 20, to: 120, background: 140, slope: -0.3, seed: 12 }),
+  );
   return file;
 }
 
 beforeAll(async () => {
   dir = fs.mkdtempSync(path.join(os.tmpdir(), "diffractory-journey-client-"));
-  fs.writeFileSync(path.join(dir, SDS), "%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer << /Root 1 0 R >>\n%%EOF\n");
+  fs.writeFileSync(path.join(dir, SDS), MINIMAL_PDF);
   [client, lab] = await Promise.all([openBrowser(), openBrowser()]);
   // Name the screen a page error came from, next to the harness's list of messages.
   for (const [who, b] of [["client", client], ["lab", lab]] as const) b.page.on("pageerror", (e) => console.info(`${who} page error on ${b.page.url()}: ${e.message.slice(0, 120)}`));

@@ -8,7 +8,7 @@ import os from "node:os";
 import path from "node:path";
 import type { Page } from "playwright-core";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
-import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
+import { MINIMAL_PDF, simulatedXy } from "./test-files";
 import { SILICON, ZINCITE } from "~/diffraction/structures";
 import { checkAccessibility, focusedElement, tabTo } from "./a11y";
 import { BASE_URL, clearSignInAttempts, openBrowser, SCREENSHOT_DIR, screenshot, signIn, visit, waitForHydration, type Browser } from "./harness";
@@ -65,33 +65,16 @@ beforeAll(async () => {
   fs.rmSync(SHOTS, { recursive: true, force: true });
   fs.mkdirSync(SHOTS, { recursive: true });
   dir = fs.mkdtempSync(path.join(os.tmpdir(), "diffractory-journey-lab-"));
-  const pdf = "%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer << /Root 1 0 R >>\n%%EOF\n";
-  fs.writeFileSync(path.join(dir, "iso17025-certificate.pdf"), pdf);
-  fs.writeFileSync(path.join(dir, "zno-sds.pdf"), pdf);
+  fs.writeFileSync(path.join(dir, "iso17025-certificate.pdf"), MINIMAL_PDF);
+  fs.writeFileSync(path.join(dir, "zno-sds.pdf"), MINIMAL_PDF);
   // The calibration scan: silicon simulated from the NIST SRM 640c cell (REFERENCE.md) on Cu Kα1+Kα2.
-  const si = simulatePattern({
-    structure: SILICON,
-    radiation: { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" },
-    twoThetaMin: 15,
-    twoThetaMax: 140,
-    step: 0.02,
-    background: { constant: 110, slope: -0.3 },
-    noise: { seed: 640 },
-  });
-  fs.writeFileSync(path.join(dir, "k1-si640c.xy"), formatScanAsXy(si, "Silicon SRM 640c calibration, instrument K1"));
+  fs.writeFileSync(path.join(dir, "k1-si640c.xy"), simulatedXy("Silicon SRM 640c calibration, instrument K1", { structure: SILICON, from: 15, to: 140, background: 110, slope: -0.3, seed: 640 }));
   // The delivered scan: zincite simulated by the engine on the lab's Cu instrument, a lot slightly off the
   // cell of NIST SRM 674b (REFERENCE.md) as a real batch would be.
-  const zno = simulatePattern({
-    structure: ZINCITE,
-    cell: { a: 3.2503, b: 3.2503, c: 5.2071, alpha: 90, beta: 90, gamma: 120 },
-    radiation: { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" },
-    twoThetaMin: 20,
-    twoThetaMax: 120,
-    step: 0.02,
-    background: { constant: 140, slope: -0.4 },
-    noise: { seed: 674 },
-  });
-  fs.writeFileSync(path.join(dir, `${SAMPLE}_Cu_20-120.xy`), formatScanAsXy(zno, `${SAMPLE} zinc oxide (simulated)`));
+  fs.writeFileSync(
+    path.join(dir, `${SAMPLE}_Cu_20-120.xy`),
+    simulatedXy(`${SAMPLE} zinc oxide (simulated)`, { structure: ZINCITE, cell: { a: 3.2503, b: 3.2503, c: 5.2071, alpha: 90, beta: 90, gamma: 120 }, from: 20, to: 120, background: 140, slope: -0.4, seed: 674 }),
+  );
   [lab, admin, client] = await Promise.all([openBrowser(), openBrowser(), openBrowser()]);
 });
 

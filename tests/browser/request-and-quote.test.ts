@@ -5,6 +5,7 @@ import os from "node:os";
 import path from "node:path";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, signOut, visit, waitForHydration, type Browser } from "./harness";
+import { MINIMAL_PDF } from "./test-files";
 
 const TITLE = "Cobalt-doped LFP batch B7";
 let b: Browser;
@@ -14,7 +15,7 @@ let requestPath: string;
 beforeAll(async () => {
   b = await openBrowser();
   dir = fs.mkdtempSync(path.join(os.tmpdir(), "diffractory-sds-"));
-  fs.writeFileSync(path.join(dir, "lfp-b7-sds.pdf"), "%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer << /Root 1 0 R >>\n%%EOF\n");
+  fs.writeFileSync(path.join(dir, "lfp-b7-sds.pdf"), MINIMAL_PDF);
 });
 afterEach(() => {
   expect(b.consoleErrors, "console errors in the browser").toEqual([]);

@@ -3,7 +3,7 @@
 import fs from "node:fs";
 import path from "node:path";
 import type { Page } from "playwright-core";
-import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
+import { MINIMAL_PDF, simulatedXy } from "./test-files";
 import { SILICON } from "~/diffraction/structures";
 import { BASE_URL, visit } from "./harness";
 
@@ -26,17 +26,8 @@ export interface Applicant {
 
 /** Writes accreditation.pdf and si-640c.xy (a silicon scan from the NIST SRM 640c cell, REFERENCE.md, on Cu Kα1+Kα2) into `dir`. */
 export function writeVettingFiles(dir: string, seed: number) {
-  fs.writeFileSync(path.join(dir, "accreditation.pdf"), "%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer << /Root 1 0 R >>\n%%EOF\n");
-  const sim = simulatePattern({
-    structure: SILICON,
-    radiation: { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" },
-    twoThetaMin: 15,
-    twoThetaMax: 140,
-    step: 0.02,
-    background: { constant: 120, slope: -0.3 },
-    noise: { seed },
-  });
-  fs.writeFileSync(path.join(dir, "si-640c.xy"), formatScanAsXy(sim, "Silicon SRM 640c calibration"));
+  fs.writeFileSync(path.join(dir, "accreditation.pdf"), MINIMAL_PDF);
+  fs.writeFileSync(path.join(dir, "si-640c.xy"), simulatedXy("Silicon SRM 640c calibration", { structure: SILICON, from: 15, to: 140, background: 120, slope: -0.3, seed }));
 }
 
 /** Creates the lab's account and fills in its vetting application, up to (not including) handing it in. */
