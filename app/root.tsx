@@ -10,7 +10,7 @@ import { ToastMessage } from "./components/toast";
 import { readToast } from "./utils/toast.server";
 import { LocaleProvider } from "./components/locale";
 import { NavigationProgress } from "./components/pending";
-import { negotiateLocale, supportedLocale } from "./utils/locale";
+import { negotiateLocale, supportedLocale } from "~/domain/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   // Public: the toast cookie and the viewer's Accept-Language are the only things read here.

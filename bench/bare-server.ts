@@ -6,7 +6,7 @@ import fs from "node:fs";
 import http from "node:http";
 import { verify } from "@node-rs/argon2";
 import pg from "pg";
-import { directoryLab, type DirectoryRow } from "../app/models/directory.server";
+import { directoryLab, type DirectoryRow } from "../app/models/labs/directory.server";
 
 export interface CapturedQuery {
   query: string;

@@ -3,9 +3,9 @@
 // organisation or person. Run alone with `npx tsx bench/seed-load.ts` to (re)create the load database.
 import pg from "pg";
 import { ANODES } from "../app/diffraction/wavelengths";
-import { ORDER_STATES } from "../app/models/order-states";
-import { hashPassword } from "../app/utils/password.server";
-import { migrateDatabase } from "../services/migrate";
+import { ORDER_STATES } from "../app/domain/order-states";
+import { hashPassword } from "../app/models/accounts/password.server";
+import { migrateDatabase } from "../server/migrate";
 import { databaseUrl } from "../services/postgres";
 import { isMain } from "../services/process";
 import { TEMPLATE_DB } from "../services/test-db";

@@ -12,7 +12,7 @@ import { root } from "../services/paths";
 import { waitForPort } from "../services/process";
 import { buildTemplate, cloneTemplate } from "../services/test-db";
 import { servicesUp } from "../services/up";
-import { fetchPut, uploadFile } from "../app/utils/order-upload";
+import { fetchPut, uploadFile } from "../app/components/order-upload";
 
 const PORT = 3191;
 const BASE = `http://127.0.0.1:${PORT}`;

@@ -4,7 +4,7 @@ import { spawn, spawnSync, type ChildProcess } from "node:child_process";
 import { DEMO_ADMIN_TOTP_SECRET } from "../app/demo/demo-secrets";
 import { root } from "../services/paths";
 import { servicesUp } from "../services/up";
-import { migrateDatabase } from "../services/migrate";
+import { migrateDatabase } from "../server/migrate";
 import { databaseUrl } from "../services/postgres";
 import { waitForPort } from "../services/process";
 import { startProxy } from "../services/proxy";
@@ -44,7 +44,7 @@ const apps = appPorts.map((p) =>
     ...(scale ? { TRUST_PROXY: "loopback" } : {}),
   }),
 );
-for (let i = 0; i < (scale ? 2 : 1); i++) start("services/worker.ts");
+for (let i = 0; i < (scale ? 2 : 1); i++) start("server/worker.ts");
 const stopAll = (signal: NodeJS.Signals) => children.forEach((c) => c.exitCode === null && c.kill(signal));
 for (const s of ["SIGINT", "SIGTERM"] as const) process.on(s, () => stopAll(s));
 for (const app of apps) {

@@ -4,7 +4,7 @@ import { root } from "../services/paths";
 
 const children = [
   spawn(process.execPath, ["--import", "tsx", "server/main.ts"], { cwd: root, stdio: "inherit", env: process.env }),
-  spawn(process.execPath, ["--import", "tsx", "services/worker.ts"], { cwd: root, stdio: "inherit", env: process.env }),
+  spawn(process.execPath, ["--import", "tsx", "server/worker.ts"], { cwd: root, stdio: "inherit", env: process.env }),
 ];
 const stop = (signal: NodeJS.Signals) => children.forEach((c) => c.kill(signal));
 process.on("SIGINT", () => stop("SIGINT"));

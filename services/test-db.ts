@@ -1,6 +1,6 @@
 // Builds the template database the tests copy: a fresh database with every migration applied.
 import pg from "pg";
-import { migrateDatabase } from "./migrate";
+import { migrateDatabase } from "../server/migrate";
 import { databaseUrl } from "./postgres";
 import { isMain } from "./process";
 

@@ -2,7 +2,7 @@
 import { useQuery } from "@tanstack/react-query";
 import { Link } from "react-router";
 import { SignOutButton } from "./sign-out-button";
-import type { MeSummary } from "~/models/me.server";
+import type { MeSummary } from "~/models/accounts/me.server";
 
 async function fetchMe(): Promise<MeSummary | null> {
   const res = await fetch("/api/me", { headers: { Accept: "application/json" } });

@@ -1,8 +1,8 @@
 // The calibration check of a lab's vetting application: refined cell against the certified one, the verdict and the plot.
 import { ScanPlot } from "./scan-plot";
 import { Badge } from "./ui";
-import { APPROVAL_TOLERANCE_A, APPROVAL_TOLERANCE_REASON, CALIBRATION_STANDARDS, withinTolerance, type CalibrationCheck } from "~/models/vetting";
-import { MONOCHROMATION_LABELS } from "~/models/capabilities";
+import { APPROVAL_TOLERANCE_A, APPROVAL_TOLERANCE_REASON, CALIBRATION_STANDARDS, withinTolerance, type CalibrationCheck } from "~/domain/vetting";
+import { MONOCHROMATION_LABELS } from "~/domain/capabilities";
 
 const VERDICT_BADGES = {
   consistent: { tone: "ok", label: "Consistent" },

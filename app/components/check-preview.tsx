@@ -2,7 +2,7 @@
 import { useEffect, useMemo, useState } from "react";
 import type { LatticeCheckResult, Radiation } from "~/diffraction";
 import type { CheckWorkerRequest, CheckWorkerResponse } from "~/diffraction/check-worker";
-import { cellRows, declaredCheckOptions, type SampleDeclaration } from "~/models/check-result";
+import { cellRows, declaredCheckOptions, type SampleDeclaration } from "~/domain/check-result";
 import { CheckPlot, type CheckPlotData } from "./check-plot";
 import { CheckStateBadge, VERDICT_WORDS, type CheckVerdict } from "./check-status";
 import { Badge } from "./ui";

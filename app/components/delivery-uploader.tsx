@@ -12,8 +12,8 @@ import {
   type CompletedPart,
   type FileKind,
   type StartedUpload,
-} from "~/models/files";
-import { UploadCancelled, uploadFile } from "~/utils/order-upload";
+} from "~/domain/order-files";
+import { UploadCancelled, uploadFile } from "~/components/order-upload";
 
 export interface QueuedFile {
   key: string;

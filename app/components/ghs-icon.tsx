@@ -1,6 +1,6 @@
 // GHS hazard pictograms drawn as Diffractory's own icons: the red-bordered diamond of the UN GHS with a plain symbol inside.
 import type { ReactNode } from "react";
-import { ghsName, type GhsCode } from "~/models/hazard-codes";
+import { ghsName, type GhsCode } from "~/domain/hazard-codes";
 
 const INK = "#161a22";
 

@@ -1,7 +1,7 @@
 // An order's delivered files as a table: versions, size, SHA-256, uploader, state and the live lattice check.
 import type { ReactNode } from "react";
 import { CheckStateBadge, CheckStatusBadge } from "./check-status";
-import { FILE_KIND_LABELS, formatBytes, type FileKind } from "~/models/files";
+import { FILE_KIND_LABELS, formatBytes, type FileKind } from "~/domain/order-files";
 import { Badge, TableCard } from "./ui";
 import { useFormat } from "~/components/locale";
 

@@ -1,5 +1,5 @@
 // An order's timeline: every state it passed through, with who moved it, when and why.
-import { ORDER_STATE_LABELS, type OrderState } from "~/models/order-states";
+import { ORDER_STATE_LABELS, type OrderState } from "~/domain/order-states";
 import { useFormat } from "~/components/locale";
 
 export interface TimelineRow {

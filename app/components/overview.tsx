@@ -1,7 +1,7 @@
 // A workspace overview's two panels: what waits for someone, and the organisation's orders by state.
 import { Link } from "react-router";
 import { Badge } from "~/components/ui";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES, type OrderState } from "~/models/order-states";
+import { ORDER_STATE_LABELS, ORDER_STATE_TONES, type OrderState } from "~/domain/order-states";
 
 export function WaitingPanel({ items }: { items: { count: number; label: string; to: string }[] }) {
   return (

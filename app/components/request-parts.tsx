@@ -2,9 +2,9 @@
 import { Link } from "react-router";
 import { GhsIcon } from "~/components/ghs-icon";
 import { Badge } from "~/components/ui";
-import { GHS_CODES, type GhsCode } from "~/models/hazard-codes";
-import { specialLabel } from "~/models/hazards";
-import { WIZARD_STEPS, type WizardStep } from "~/models/request-forms";
+import { GHS_CODES, type GhsCode } from "~/domain/hazard-codes";
+import { specialLabel } from "~/domain/hazards";
+import { WIZARD_STEPS, type WizardStep } from "~/domain/request-forms";
 import { useFormat } from "~/components/locale";
 
 /** The five steps; steps up to the furthest one reached are links. */

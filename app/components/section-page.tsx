@@ -1,6 +1,6 @@
 // A workspace screen that has no records yet: its title and an empty state saying what comes next.
 import { EmptyState, PageHeader } from "./ui";
-import type { Section } from "~/models/workspaces";
+import type { Section } from "~/domain/workspaces";
 
 export function SectionPage({ section }: { section: Section }) {
   return (

@@ -1,7 +1,7 @@
 // The frame of the client, lab and admin workspaces: navigation, organisation switcher, account area.
 import { useEffect, useState, type ReactNode } from "react";
 import { Form, Link, NavLink, useLocation } from "react-router";
-import type { MeSummary } from "~/models/me.server";
+import type { MeSummary } from "~/models/accounts/me.server";
 import { Brand } from "./brand";
 import { NotificationBell } from "./notification-bell";
 import { SubmitButton } from "./pending";

@@ -1,7 +1,7 @@
 // The one Drizzle schema of Diffractory; drizzle-kit generates the SQL migrations in drizzle/ from it.
 import { sql } from "drizzle-orm";
 // The order states are defined once, with the state machine that moves between them.
-import { ORDER_STATES } from "../models/order-states";
+import { ORDER_STATES } from "~/domain/order-states";
 import {
   bigserial,
   boolean,

@@ -6,8 +6,8 @@ import { db, schema } from "~/db/client.server";
 import type { Cell, CrystalSystem, Centering, Radiation } from "~/diffraction";
 import { formatScanAsXy, simulatePattern, type SimulatedScan } from "~/diffraction/simulate";
 import { LITHIUM_IRON_PHOSPHATE, RUTILE } from "~/diffraction/structures";
-import { runScanCheck } from "~/jobs/scan-check.server";
-import { putObject } from "~/utils/storage.server";
+import { runScanCheck } from "~/models/checks/scan-check.server";
+import { putObject } from "~/models/files/storage.server";
 
 export const CO: Radiation = { kind: "anode", anode: "Co", monochromation: "k_alpha_doublet" };
 export const CU: Radiation = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" };

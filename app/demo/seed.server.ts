@@ -3,7 +3,7 @@ import { and, eq, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { MembershipRole, OrganisationKind } from "~/db/schema";
 import { slugify } from "~/utils/auth.server";
-import { hashPassword } from "~/utils/password.server";
+import { hashPassword } from "~/models/accounts/password.server";
 import { DEMO_ADMIN_TOTP_SECRET, DEMO_PASSWORD } from "./demo-secrets";
 
 export { DEMO_PASSWORD };

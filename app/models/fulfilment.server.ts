@@ -1,8 +1,8 @@
 // The physical side of an order: shipping the samples, receiving them, measuring, and delivering the data.
 import { eq } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
-import { samplesWithoutCompletedCheck } from "~/jobs/scan-check.server";
-import { lockOrder, moveOrder, OrderMoveRefused } from "./orders.server";
+import { samplesWithoutCompletedCheck } from "~/models/checks/scan-check.server";
+import { lockOrder, moveOrder, OrderMoveRefused } from "~/models/orders/lifecycle.server";
 
 export { samplesWithoutCompletedCheck };
 

@@ -1,6 +1,6 @@
 // The check every order screen makes: the signed-in person works for this order's client (or lab) organisation.
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
-import { orderForOrganisation } from "./orders.server";
+import { orderForOrganisation } from "~/models/orders/lifecycle.server";
 
 /**
  * The order as seen from one side, with the actor. Other organisations' orders, and ids that are no order,

@@ -1,6 +1,6 @@
 // Which workspace a URL belongs to and the check its loaders and actions make.
-import type { Section } from "~/models/workspaces";
-import { ADMIN_SECTIONS, CLIENT_SECTIONS, LAB_SECTIONS } from "~/models/workspaces";
+import type { Section } from "~/domain/workspaces";
+import { ADMIN_SECTIONS, CLIENT_SECTIONS, LAB_SECTIONS } from "~/domain/workspaces";
 import { notFound, requireAdmin, requireOrgRole } from "~/utils/permissions.server";
 
 export type WorkspaceKind = "client" | "lab" | "admin";

@@ -1,6 +1,6 @@
 // GET /checks/:id/peaks.csv — the check's peaks table as CSV, for the order's client organisation and its lab.
-import { peaksCsv, type StoredCheckResult } from "~/models/check-result";
-import { requireCheckAccess } from "~/models/checks.server";
+import { peaksCsv, type StoredCheckResult } from "~/domain/check-result";
+import { requireCheckAccess } from "~/models/checks/queries.server";
 import type { Route } from "./+types/check-peaks-csv";
 
 export async function loader({ request, params }: Route.LoaderArgs) {

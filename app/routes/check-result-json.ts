@@ -1,6 +1,6 @@
 // GET /checks/:id/result.json — the whole check (status, file, result) as JSON, for the order's client and its lab.
-import { checkStatusJson } from "~/jobs/scan-check.server";
-import { requireCheckAccess, sampleOfFile } from "~/models/checks.server";
+import { checkStatusJson } from "~/models/checks/scan-check.server";
+import { requireCheckAccess, sampleOfFile } from "~/models/checks/queries.server";
 import type { Route } from "./+types/check-result-json";
 
 export async function loader({ request, params }: Route.LoaderArgs) {

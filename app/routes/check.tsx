@@ -5,9 +5,9 @@ import { Brand } from "~/components/brand";
 import { CheckPlot, type CheckPlotData } from "~/components/check-plot";
 import { CheckStateBadge, CheckStatusBadge, useCheckStatus, VERDICT_WORDS, type CheckVerdict } from "~/components/check-status";
 import { Badge, PageHeader, TableCard } from "~/components/ui";
-import { checkStatusJson } from "~/jobs/scan-check.server";
-import { requestTitle, requireCheckAccess, sampleOfFile } from "~/models/checks.server";
-import { cellRows, formatHkl, radiationWords, signed, type StoredCheckResult } from "~/models/check-result";
+import { checkStatusJson } from "~/models/checks/scan-check.server";
+import { requestTitle, requireCheckAccess, sampleOfFile } from "~/models/checks/queries.server";
+import { cellRows, formatHkl, radiationWords, signed, type StoredCheckResult } from "~/domain/check-result";
 import type { Route } from "./+types/check";
 import { useFormat } from "~/components/locale";
 

@@ -1,7 +1,7 @@
 // The layout of the client, lab and admin workspaces; each screen below still checks access itself.
 import { Outlet, useLoaderData } from "react-router";
 import { WorkspaceShell, type NavItem } from "~/components/workspace-shell";
-import { summariseActor } from "~/models/me.server";
+import { summariseActor } from "~/models/accounts/me.server";
 import { requireWorkspace } from "~/models/workspace-access.server";
 import type { Route } from "./+types/workspace-layout";
 

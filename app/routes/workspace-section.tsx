@@ -1,7 +1,7 @@
 // /client/:section, /lab/:section, /admin/:section — a workspace screen that has no records yet.
 import { useLoaderData } from "react-router";
 import { SectionPage } from "~/components/section-page";
-import { findSection } from "~/models/workspaces";
+import { findSection } from "~/domain/workspaces";
 import { requireWorkspace } from "~/models/workspace-access.server";
 import { notFound } from "~/utils/permissions.server";
 import type { Route } from "./+types/workspace-section";

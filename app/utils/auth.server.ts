@@ -4,7 +4,7 @@ import { Authenticator } from "remix-auth";
 import { FormStrategy } from "remix-auth-form";
 import { db, schema } from "~/db/client.server";
 import type { OrganisationKind, User } from "~/db/schema";
-import { hashPassword, verifyPassword } from "./password.server";
+import { hashPassword, verifyPassword } from "~/models/accounts/password.server";
 
 export class WrongCredentials extends Error {}
 

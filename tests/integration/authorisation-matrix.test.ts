@@ -265,7 +265,7 @@ beforeAll(async () => {
   const [mail] = await w.db.select().from(w.schema.outboxMessages).where(w.eq(w.schema.outboxMessages.to, "matrix-invitee@halvorsen.example"));
   const invitation = mail.text.match(/\/invitations\/([A-Za-z0-9_-]+)/)![1];
   // A live reset link of someone who is not an actor here.
-  const { requestPasswordReset } = await import("~/models/password-reset.server");
+  const { requestPasswordReset } = await import("~/models/accounts/password-reset.server");
   await requestPasswordReset({ email: "member@pinecrest.example", clientAddress: "198.51.100.99" });
   const [resetMail] = await w.db.select().from(w.schema.outboxMessages).where(w.eq(w.schema.outboxMessages.to, "member@pinecrest.example"));
   const passwordReset = resetMail.text.match(/\/reset-password\/([A-Za-z0-9_-]+)/)![1];

@@ -47,12 +47,12 @@ async function loadApp() {
     notifications: await import("~/routes/api/notifications"),
     webhook: await import("~/routes/api/webhooks-payments"),
     config: (await import("~/config.server")).config,
-    labs: await import("~/models/labs.server"),
-    storage: await import("~/utils/storage.server"),
-    scanCheck: await import("~/jobs/scan-check.server"),
+    labs: await import("~/models/labs/vetting.server"),
+    storage: await import("~/models/files/storage.server"),
+    scanCheck: await import("~/models/checks/scan-check.server"),
     simulate: await import("~/diffraction/simulate"),
     structures: await import("~/diffraction/structures"),
-    boss: await import("~/jobs/boss.server"),
+    boss: await import("~/jobs/queues.server"),
   };
 }
 

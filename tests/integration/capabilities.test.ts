@@ -3,7 +3,7 @@ import { eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { db, schema } from "~/db/client.server";
 import { seedDemo } from "~/demo/seed.server";
-import { getOrCreateLab } from "~/models/labs.server";
+import { getOrCreateLab } from "~/models/labs/vetting.server";
 import { action as capabilitiesAction, loader as capabilitiesLoader } from "~/routes/lab/capabilities";
 import { action as priceListAction } from "~/routes/lab/price-list";
 import { action as signInAction } from "~/routes/public/sign-in";

@@ -28,12 +28,12 @@ async function loadApp() {
     download: await import("~/routes/account/file-download"),
     shared: await import("~/routes/public/shared"),
     sharedDownload: await import("~/routes/public/shared-download"),
-    files: await import("~/models/files.server"),
-    apiTokens: await import("~/models/api-tokens.server"),
-    uploader: await import("~/utils/order-upload"),
+    files: await import("~/models/files/files.server"),
+    apiTokens: await import("~/models/accounts/api-tokens.server"),
+    uploader: await import("~/components/order-upload"),
     simulate: await import("~/diffraction/simulate"),
     structures: await import("~/diffraction/structures"),
-    boss: await import("~/jobs/boss.server"),
+    boss: await import("~/jobs/queues.server"),
   };
 }
 

@@ -5,14 +5,14 @@ import { db, schema } from "~/db/client.server";
 import { seedDemo } from "~/demo/seed.server";
 import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
 import { SILICON } from "~/diffraction/structures";
-import { vettingPrefix } from "~/models/labs.server";
-import { APPROVAL_TOLERANCE_A, type CalibrationCheck } from "~/models/vetting";
+import { vettingPrefix } from "~/models/labs/vetting.server";
+import { APPROVAL_TOLERANCE_A, type CalibrationCheck } from "~/domain/vetting";
 import { action as reviewAction, loader as reviewLoader } from "~/routes/admin/lab-review";
 import { loader as queueLoader } from "~/routes/admin/vetting-queue";
 import { action as uploadAction } from "~/routes/lab/vetting-upload";
 import { action as vettingAction, loader as vettingLoader } from "~/routes/lab/vetting";
 import { action as createAccountAction } from "~/routes/public/create-account";
-import { putObject } from "~/utils/storage.server";
+import { putObject } from "~/models/files/storage.server";
 import { callRoute, cookieFrom, formRequest, getRequest, sessionCookieFor } from "./route-call";
 
 const PASSWORD = "diffractory-demo";

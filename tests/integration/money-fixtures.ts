@@ -13,9 +13,9 @@ export async function moneyWorld() {
   const app = {
     db: await import("~/db/client.server"),
     seed: await import("~/demo/seed.server"),
-    payments: await import("~/models/payments.server"),
-    orders: await import("~/models/orders.server"),
-    ledger: await import("~/models/ledger.server"),
+    payments: await import("~/models/payments/provider.server"),
+    orders: await import("~/models/orders/lifecycle.server"),
+    ledger: await import("~/models/payments/ledger.server"),
     webhook: await import("~/routes/api/webhooks-payments"),
   };
   const { db, schema } = app.db;

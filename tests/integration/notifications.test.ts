@@ -24,10 +24,10 @@ const fake = await startMailFake({ port: fakePort, apiKey: "re_test_notification
 const mailBase = `http://127.0.0.1:${fakePort}`;
 
 let w: MoneyWorld;
-let outbox: typeof import("~/notifications/outbox.server");
-let sending: typeof import("~/notifications/sending.server");
-let boss: typeof import("~/jobs/boss.server");
-let models: { quotes: typeof import("~/models/quotes.server"); matching: typeof import("~/models/matching.server"); session: typeof import("~/utils/session.server") };
+let outbox: typeof import("~/models/notifications/outbox.server");
+let sending: typeof import("~/models/notifications/delivery.server");
+let boss: typeof import("~/jobs/queues.server");
+let models: { quotes: typeof import("~/models/requests/quotes.server"); matching: typeof import("~/models/labs/matching.server"); session: typeof import("~/utils/session.server") };
 let stopMail: (() => Promise<void>) | null = null;
 let clientEmails: string[] = [];
 let labEmails: string[] = [];
@@ -68,10 +68,10 @@ beforeAll(async () => {
   process.env.MAIL_RETRY_BACKOFF = "false";
   process.env.MAIL_SEND_TIMEOUT_MS = "3000";
   w = await moneyWorld();
-  outbox = await import("~/notifications/outbox.server");
-  sending = await import("~/notifications/sending.server");
-  boss = await import("~/jobs/boss.server");
-  models = { quotes: await import("~/models/quotes.server"), matching: await import("~/models/matching.server"), session: await import("~/utils/session.server") };
+  outbox = await import("~/models/notifications/outbox.server");
+  sending = await import("~/models/notifications/delivery.server");
+  boss = await import("~/jobs/queues.server");
+  models = { quotes: await import("~/models/requests/quotes.server"), matching: await import("~/models/labs/matching.server"), session: await import("~/utils/session.server") };
   await w.onboardLab();
   clientEmails = await membersOf(w.halvorsen.id);
   labEmails = await membersOf(w.granite.id);
@@ -99,7 +99,7 @@ describe("each milestone of the order flow", () => {
 
     await w.pay(orderId);
     await w.deliver(orderId);
-    const payments = await import("~/models/payments.server");
+    const payments = await import("~/models/payments/provider.server");
     await payments.acceptDelivery(orderId, "client", w.owner.id);
 
     const expected: Record<string, string[]> = {
@@ -158,7 +158,7 @@ describe("each milestone of the order flow", () => {
   it("respects a person's choice for optional messages, never for payment ones", async () => {
     const { db, schema, eq } = w;
     const member = (await db.select().from(schema.users).where(eq(schema.users.email, "member@halvorsen.example")))[0];
-    const inbox = await import("~/notifications/inbox.server");
+    const inbox = await import("~/models/notifications/inbox.server");
     await inbox.savePreferences(member.id, new Set());
     const orderId = await w.makeOrder();
     await w.pay(orderId);

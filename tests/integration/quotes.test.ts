@@ -4,7 +4,7 @@ import { and, eq, inArray } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { db, schema } from "~/db/client.server";
 import { seedDemo } from "~/demo/seed.server";
-import { lapseExpiredQuotes } from "~/models/quotes.server";
+import { lapseExpiredQuotes } from "~/models/requests/quotes.server";
 import { action as clientRequestAction, loader as clientRequestLoader } from "~/routes/client/request";
 import { loader as inboxLoader } from "~/routes/lab/inbox";
 import { loader as labQuotesLoader } from "~/routes/lab/quotes";

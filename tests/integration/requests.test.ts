@@ -5,7 +5,7 @@ import { count, eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { db, schema } from "~/db/client.server";
 import { seedDemo } from "~/demo/seed.server";
-import { REQUESTS_PAGE_SIZE, sdsPrefix } from "~/models/requests.server";
+import { REQUESTS_PAGE_SIZE, sdsPrefix } from "~/models/requests/requests.server";
 import { loader as requestPage } from "~/routes/client/request";
 import { action as hazardsAction, loader as hazardsLoader } from "~/routes/client/request-hazards";
 import { action as labsAction } from "~/routes/client/request-labs";
@@ -15,7 +15,7 @@ import { action as samplesAction } from "~/routes/client/request-samples";
 import { action as sdsUploadAction } from "~/routes/client/request-sds-upload";
 import { loader as requestsList } from "~/routes/client/requests";
 import { action as signInAction } from "~/routes/public/sign-in";
-import { putObject } from "~/utils/storage.server";
+import { putObject } from "~/models/files/storage.server";
 import { SAMPLE_FIELDS } from "./form-fixtures";
 import { callRoute, cookieFrom, formRequest, getRequest, type RouteAnswer } from "./route-call";
 

@@ -67,7 +67,7 @@ const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
  * after waiting for the clock. A used step is refused (RFC 6238 §5.2), so fast repeated sign-ins need this.
  */
 export async function freshTotpCode(secret: string, lastUsedStep: number | null) {
-  const { timeStep, totpCodeAt, TOTP_PERIOD } = await import("~/utils/totp.server");
+  const { timeStep, totpCodeAt, TOTP_PERIOD } = await import("~/models/accounts/totp.server");
   const step = Math.max(timeStep(), (lastUsedStep ?? -1) + 1);
   // The server takes step s while its clock is in s-1, s or s+1.
   const opensAt = (step - 1) * TOTP_PERIOD * 1000;

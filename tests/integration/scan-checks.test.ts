@@ -8,14 +8,14 @@ import { seedDemo } from "~/demo/seed.server";
 import { parseScan } from "~/diffraction";
 import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
 import { LITHIUM_IRON_PHOSPHATE, SILICON } from "~/diffraction/structures";
-import { getBoss, startWorkers, stopBoss } from "~/jobs/boss.server";
-import { enqueueScanCheck, runScanCheck, samplesWithoutCompletedCheck, STORED_PROFILE_POINTS } from "~/jobs/scan-check.server";
-import type { StoredCheckResult } from "~/models/check-result";
+import { getBoss, startWorkers, stopBoss } from "~/jobs/queues.server";
+import { enqueueScanCheck, runScanCheck, samplesWithoutCompletedCheck, STORED_PROFILE_POINTS } from "~/models/checks/scan-check.server";
+import type { StoredCheckResult } from "~/domain/check-result";
 import { loader as checkApi } from "~/routes/api/check";
 import { loader as peaksCsv } from "~/routes/check-peaks-csv";
 import { loader as resultJson } from "~/routes/check-result-json";
 import { loader as checkScreen } from "~/routes/check";
-import { putObject } from "~/utils/storage.server";
+import { putObject } from "~/models/files/storage.server";
 import { callRoute, getRequest, sessionCookieFor } from "./route-call";
 
 const CU = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" } as const;

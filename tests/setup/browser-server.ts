@@ -27,7 +27,7 @@ export async function setup() {
   const log = fs.openSync(path.join(root, ".data/logs/browser-app.log"), "w");
   server = spawn(process.execPath, ["--import", "tsx", "server/main.ts"], { cwd: root, env, stdio: ["ignore", log, log] });
   const workerLog = fs.openSync(path.join(root, ".data/logs/browser-worker.log"), "w");
-  worker = spawn(process.execPath, ["--import", "tsx", "services/worker.ts"], { cwd: root, env, stdio: ["ignore", workerLog, workerLog] });
+  worker = spawn(process.execPath, ["--import", "tsx", "server/worker.ts"], { cwd: root, env, stdio: ["ignore", workerLog, workerLog] });
   await waitForPort(BROWSER_APP_PORT, "the app under test");
 }
 

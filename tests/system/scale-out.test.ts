@@ -4,8 +4,8 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
 import { SILICON } from "~/diffraction/structures";
-import type { StartedUpload } from "~/models/files";
-import { fetchPut, uploadFile } from "~/utils/order-upload";
+import type { StartedUpload } from "~/domain/order-files";
+import { fetchPut, uploadFile } from "~/components/order-upload";
 import { startProxy, type RoundRobinProxy } from "../../services/proxy";
 import { sparePort, startStack, type Stack } from "./stack";
 

@@ -195,7 +195,7 @@ export async function startStack(opts: StackOptions) {
     const id = ++workerCount;
     const logPath = path.join(logDir, `system-${name}-worker-${id}.log`);
     const log = fs.openSync(logPath, "w");
-    const child = spawnTracked("services/worker.ts", { ...baseEnv, PORT: String(appPorts[0]) }, log);
+    const child = spawnTracked("server/worker.ts", { ...baseEnv, PORT: String(appPorts[0]) }, log);
     await new Promise<void>((resolve, reject) => {
       let seen = "";
       const timer = setTimeout(() => reject(new Error(`worker ${id} did not start within 60 s; see ${logPath}`)), 60_000);

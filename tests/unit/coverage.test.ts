@@ -1,6 +1,6 @@
 // d-spacing coverage of an instrument, checked against hand calculations with Bragg's law (λ = 2 d sin θ).
 import { describe, expect, it } from "vitest";
-import { dSpacingCoverage } from "~/models/coverage";
+import { dSpacingCoverage } from "~/domain/coverage";
 
 describe("dSpacingCoverage", () => {
   it("gives d 0.7975–17.66 Å for Cu Kα1 over 2θ 5–150°", () => {

@@ -1,7 +1,7 @@
 // Chemical formulas read into element symbols; the expected lists are worked out by hand from each formula.
 // Sources: every expected element list is a hand check of the formula as written (hand calculation).
 import { describe, expect, it } from "vitest";
-import { parseFormula } from "~/models/formula";
+import { parseFormula } from "~/domain/formula";
 
 describe("parseFormula", () => {
   const good: [string, string[]][] = [

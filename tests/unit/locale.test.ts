@@ -1,7 +1,7 @@
 // The viewer's locale from Accept-Language (RFC 9110 §12.5.4 q-values) and the text of money and dates in it.
 // Expected strings are the CLDR conventions as Node's ICU renders them (the browser tests check Chromium agrees).
 import { describe, expect, it } from "vitest";
-import { formatterFor, negotiateLocale, supportedLocale } from "~/utils/locale";
+import { formatterFor, negotiateLocale, supportedLocale } from "~/domain/locale";
 
 describe("negotiateLocale", () => {
   it("takes an exact supported tag, case-insensitively", () => {

@@ -1,7 +1,7 @@
 // The matching rules against published values: Kα1 energies and K edges (REFERENCE.md), Bragg's law.
 import { describe, expect, it } from "vitest";
 import { ANODE_LINES, photonEnergyKeV } from "~/diffraction/wavelengths";
-import { dSpacingCoverage, qMax, twoThetaForD } from "~/models/coverage";
+import { dSpacingCoverage, qMax, twoThetaForD } from "~/domain/coverage";
 import {
   estimatePrice,
   evaluateInstrument,
@@ -11,7 +11,7 @@ import {
   type MatchInstrument,
   type MatchLab,
   type MatchRequest,
-} from "~/models/matching";
+} from "~/domain/matching";
 
 const cu: MatchInstrument = {
   id: "cu",

@@ -1,5 +1,5 @@
 // GET /files/:fileId/download — logs the download and redirects to a presigned storage URL valid for minutes.
-import { downloadable, downloadUrl, fileForOrganisations } from "~/models/files.server";
+import { downloadable, downloadUrl, fileForOrganisations } from "~/models/files/files.server";
 import { notFound, requireUser } from "~/utils/permissions.server";
 import type { Route } from "./+types/file-download";
 

@@ -1,8 +1,8 @@
 // /account/notifications — which milestone e-mails a person receives, and their notification list.
 import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
 import { Badge, FormError, PageHeader } from "~/components/ui";
-import { notificationsOf, preferencesOf, savePreferences } from "~/notifications/inbox.server";
-import { isMilestoneKind, MILESTONES, type MilestoneKind } from "~/notifications/milestones";
+import { notificationsOf, preferencesOf, savePreferences } from "~/models/notifications/inbox.server";
+import { isMilestoneKind, MILESTONES, type MilestoneKind } from "~/domain/milestones";
 import { requireUser, workspacePath } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";

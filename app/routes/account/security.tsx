@@ -7,13 +7,13 @@ import { z } from "zod";
 import { NewPasswordFields } from "~/components/new-password-fields";
 import { TotpCodeField } from "~/components/totp-code-field";
 import { Badge, Field, FormError, PageHeader } from "~/components/ui";
-import { changePassword, confirmTotpEnrolment, disableTotp, startTotpEnrolment } from "~/models/account-security.server";
-import { currentPasswordField, newPasswordPair } from "~/models/password-rules";
+import { changePassword, confirmTotpEnrolment, disableTotp, startTotpEnrolment } from "~/models/accounts/security.server";
+import { currentPasswordField, newPasswordPair } from "~/domain/password-rules";
 import { readForm } from "~/utils/form.server";
 import { requireUser, workspacePath } from "~/utils/permissions.server";
 import { startSession } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { enrolmentPicture, groupedSecret } from "~/utils/totp.server";
+import { enrolmentPicture, groupedSecret } from "~/models/accounts/totp.server";
 import type { Route } from "./+types/security";
 import { useFormat } from "~/components/locale";
 

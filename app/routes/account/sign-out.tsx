@@ -1,6 +1,6 @@
 // POST /sign-out ends the session; a GET only redirects home (mutations happen in actions).
 import { redirect } from "react-router";
-import { audit } from "~/utils/audit.server";
+import { audit } from "~/models/audit.server";
 import { requireUser } from "~/utils/permissions.server";
 import { endSession } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";

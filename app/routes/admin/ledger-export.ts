@@ -1,6 +1,6 @@
 // GET /admin/ledger/export — the filtered ledger as CSV (admins only).
-import { parseLedgerFilter } from "~/models/ledger-filter";
-import { ledgerRows } from "~/models/ledger.server";
+import { parseLedgerFilter } from "~/domain/ledger-filter";
+import { ledgerRows } from "~/models/payments/ledger.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import type { Route } from "./+types/ledger-export";
 

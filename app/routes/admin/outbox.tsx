@@ -2,8 +2,8 @@
 import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
 import { z } from "zod";
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
-import { outboxForAdmins } from "~/notifications/inbox.server";
-import { retryParkedMessage } from "~/notifications/sending.server";
+import { outboxForAdmins } from "~/models/notifications/inbox.server";
+import { retryParkedMessage } from "~/models/notifications/delivery.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";

@@ -1,6 +1,6 @@
 // GET /api/labs — the public directory of approved labs, filtered by the query; anonymous callers allowed.
-import { parseDirectoryQuery } from "~/models/directory";
-import { cachedDirectory } from "~/models/directory.server";
+import { parseDirectoryQuery } from "~/domain/directory-query";
+import { cachedDirectory } from "~/models/labs/directory.server";
 import type { Route } from "./+types/labs";
 
 // Public by design: the directory is what a visitor browses before creating an account.

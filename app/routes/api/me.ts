@@ -1,5 +1,5 @@
 // GET /api/me — the signed-in person, their organisations and roles (401 when signed out).
-import { summariseActor } from "~/models/me.server";
+import { summariseActor } from "~/models/accounts/me.server";
 import { requireUser } from "~/utils/permissions.server";
 import type { Route } from "./+types/me";
 

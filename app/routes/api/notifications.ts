@@ -1,6 +1,6 @@
 // GET /api/notifications — the signed-in person's notifications and unread count; POST marks some or all read.
 import { z } from "zod";
-import { markRead, notificationsOf } from "~/notifications/inbox.server";
+import { markRead, notificationsOf } from "~/models/notifications/inbox.server";
 import { requireUser } from "~/utils/permissions.server";
 import type { Route } from "./+types/notifications";
 

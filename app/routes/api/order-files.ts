@@ -1,6 +1,6 @@
 // GET /api/orders/:id/files — the order's files with their check, for the client organisation and the lab on it.
-import { orderFileList } from "~/models/files.server";
-import { orderForOrganisation } from "~/models/orders.server";
+import { orderFileList } from "~/models/files/files.server";
+import { orderForOrganisation } from "~/models/orders/lifecycle.server";
 import { notFound, requireUser } from "~/utils/permissions.server";
 import type { Route } from "./+types/order-files";
 

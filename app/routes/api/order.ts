@@ -1,5 +1,5 @@
 // GET /api/orders/:id — the order's state, amount and timeline, for the client organisation and the lab on it.
-import { orderForOrganisation, orderTimeline } from "~/models/orders.server";
+import { orderForOrganisation, orderTimeline } from "~/models/orders/lifecycle.server";
 import { notFound, requireUser } from "~/utils/permissions.server";
 import type { Route } from "./+types/order";
 

@@ -2,7 +2,7 @@
 import { and, desc, eq, inArray } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { db, schema } from "~/db/client.server";
-import { ORDER_STATES, type OrderState } from "~/models/order-states";
+import { ORDER_STATES, type OrderState } from "~/domain/order-states";
 import { requireUser } from "~/utils/permissions.server";
 import type { Route } from "./+types/orders";
 

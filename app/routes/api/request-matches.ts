@@ -1,6 +1,6 @@
 // GET /api/requests/:id/matches — for the requesting organisation: every approved lab, whether it fits and why.
-import { isUuid } from "~/utils/ids";
-import { matchLabsForRequest, loadMatchRequest } from "~/models/matching.server";
+import { isUuid } from "~/domain/ids";
+import { matchLabsForRequest, loadMatchRequest } from "~/models/labs/matching.server";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/request-matches";
 

@@ -4,9 +4,9 @@ import { Link, useLoaderData } from "react-router";
 import { FileCheckCell } from "~/components/order-files-table";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { formatBytes, RETENTION_YEARS } from "~/models/files";
-import { orderFileList } from "~/models/files.server";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
+import { formatBytes, RETENTION_YEARS } from "~/domain/order-files";
+import { orderFileList } from "~/models/files/files.server";
+import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/domain/order-states";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/data-room";
 

@@ -2,7 +2,7 @@
 import { Link, useLoaderData } from "react-router";
 import { OrdersByState, WaitingPanel } from "~/components/overview";
 import { EmptyState, PageHeader, SafetyNotice } from "~/components/ui";
-import { clientOverview } from "~/models/overview.server";
+import { clientOverview } from "~/models/orders/overview.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/home";
 

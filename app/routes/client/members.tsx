@@ -1,7 +1,7 @@
 // The client organisation's members and their roles; owners invite people and withdraw pending invitations.
 import { useActionData, useLoaderData } from "react-router";
 import { MembersScreen } from "~/components/members-screen";
-import { membersAction, membersPageData } from "~/models/members.server";
+import { membersAction, membersPageData } from "~/models/accounts/members.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/members";
 

@@ -1,6 +1,6 @@
 // /client/orders/:id/payment — where the payment page sends the client back; asks the provider what happened.
 import { requireOrderSide } from "~/models/order-access.server";
-import { PaymentProblem, syncCheckout } from "~/models/payments.server";
+import { PaymentProblem, syncCheckout } from "~/models/payments/provider.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/order-payment";
 

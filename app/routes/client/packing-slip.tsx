@@ -5,7 +5,7 @@ import { useLoaderData } from "react-router";
 import { OrderSamples } from "~/components/order-samples";
 import { DiffractionRingsIcon } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { orderSamples } from "~/models/files.server";
+import { orderSamples } from "~/models/files/files.server";
 import type { Route } from "./+types/packing-slip";
 
 export async function loader({ request, params }: Route.LoaderArgs) {

@@ -1,5 +1,5 @@
 // /client/payments/:id/receipt — a printable receipt for one payment of the organisation.
-import { isUuid } from "~/utils/ids";
+import { isUuid } from "~/domain/ids";
 import { and, eq } from "drizzle-orm";
 import { useLoaderData } from "react-router";
 import { DiffractionRingsIcon } from "~/components/ui";

@@ -7,10 +7,10 @@ import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
 import { GhsIcon } from "~/components/ghs-icon";
 import { WizardSteps } from "~/components/request-parts";
 import { Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
-import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/models/hazard-codes";
-import { AFTER_MEASUREMENT } from "~/models/hazards";
-import { HazardsStepSchema, type SampleHazardForm, type SampleHazardInput } from "~/models/request-forms";
-import { notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveHazards } from "~/models/requests.server";
+import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/domain/hazard-codes";
+import { AFTER_MEASUREMENT } from "~/domain/hazards";
+import { HazardsStepSchema, type SampleHazardForm, type SampleHazardInput } from "~/domain/request-forms";
+import { notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveHazards } from "~/models/requests/requests.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-hazards";
 

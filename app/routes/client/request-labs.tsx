@@ -5,9 +5,9 @@ import { data, Form, redirect, useActionData, useLoaderData, useNavigation } fro
 import { MatchReasons } from "~/components/match-reasons";
 import { WizardSteps } from "~/components/request-parts";
 import { Badge, EmptyState, FieldErrors, FormError, PageHeader } from "~/components/ui";
-import { matchLabsForRequest } from "~/models/matching.server";
-import { LabsStepSchema } from "~/models/request-forms";
-import { invitedLabIds, notEditable, redirectIfPublished, requireOwnDraft, saveVisibility } from "~/models/requests.server";
+import { matchLabsForRequest } from "~/models/labs/matching.server";
+import { LabsStepSchema } from "~/domain/request-forms";
+import { invitedLabIds, notEditable, redirectIfPublished, requireOwnDraft, saveVisibility } from "~/models/requests/requests.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-labs";
 import { useFormat } from "~/components/locale";

@@ -4,9 +4,9 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
 import { Options, WizardSteps } from "~/components/request-parts";
 import { Field, FormError, PageHeader } from "~/components/ui";
-import { CURRENCIES, toMajorText } from "~/models/money";
-import { ATMOSPHERES, MeasurementStepSchema, QUALITY_LEVELS, SOURCES } from "~/models/request-forms";
-import { notEditable, redirectIfPublished, requireOwnDraft, saveMeasurement } from "~/models/requests.server";
+import { CURRENCIES, toMajorText } from "~/domain/money";
+import { ATMOSPHERES, MeasurementStepSchema, QUALITY_LEVELS, SOURCES } from "~/domain/request-forms";
+import { notEditable, redirectIfPublished, requireOwnDraft, saveMeasurement } from "~/models/requests/requests.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-measurement";
 

@@ -2,8 +2,8 @@
 import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
 import { HazardDeclaration, SampleFacts, WizardSteps } from "~/components/request-parts";
 import { FormError, PageHeader, SafetyNotice } from "~/components/ui";
-import { labelOf } from "~/models/matching";
-import { invitedLabIds, notEditable, publishProblems, publishRequest, redirectIfPublished, requireOwnDraft, samplesOf } from "~/models/requests.server";
+import { labelOf } from "~/domain/matching";
+import { invitedLabIds, notEditable, publishProblems, publishRequest, redirectIfPublished, requireOwnDraft, samplesOf } from "~/models/requests/requests.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/request-review";
 import { useFormat } from "~/components/locale";

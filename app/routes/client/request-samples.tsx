@@ -5,8 +5,8 @@ import { data, Form, redirect, useActionData, useLoaderData, useNavigation } fro
 import { Options, WizardSteps } from "~/components/request-parts";
 import { Field, FieldErrors, FormError, PageHeader } from "~/components/ui";
 import { CENTERINGS, CRYSTAL_SYSTEMS } from "~/diffraction/cell";
-import { SAMPLE_FORMS, SamplesStepSchema, TECHNIQUES, type SamplesStep } from "~/models/request-forms";
-import { createDraft, notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveSamples } from "~/models/requests.server";
+import { SAMPLE_FORMS, SamplesStepSchema, TECHNIQUES, type SamplesStep } from "~/domain/request-forms";
+import { createDraft, notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveSamples } from "~/models/requests/requests.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-samples";

@@ -1,6 +1,6 @@
 // POST /client/requests/:id/sds-upload — presigned upload targets for a draft's safety data sheets (PDF).
-import { notEditable, requireOwnDraft, SDS_RULE, sdsPrefix } from "~/models/requests.server";
-import { uploadTargetResponse } from "~/utils/storage.server";
+import { notEditable, requireOwnDraft, SDS_RULE, sdsPrefix } from "~/models/requests/requests.server";
+import { uploadTargetResponse } from "~/models/files/storage.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-sds-upload";
 

@@ -3,9 +3,9 @@ import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation
 import { MatchReasons } from "~/components/match-reasons";
 import { OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from "~/components/request-parts";
 import { EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
-import { matchLabsForRequest } from "~/models/matching.server";
-import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/quotes.server";
-import { requireOwnRequest, samplesOf, sdsLinks } from "~/models/requests.server";
+import { matchLabsForRequest } from "~/models/labs/matching.server";
+import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/requests/quotes.server";
+import { requireOwnRequest, samplesOf, sdsLinks } from "~/models/requests/requests.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";

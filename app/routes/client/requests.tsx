@@ -3,7 +3,7 @@ import { data, Link, useLoaderData } from "react-router";
 import { RequestStateBadge } from "~/components/request-parts";
 import { PageNav } from "~/components/data-table";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
-import { listOrganisationRequests, REQUESTS_PAGE_SIZE } from "~/models/requests.server";
+import { listOrganisationRequests, REQUESTS_PAGE_SIZE } from "~/models/requests/requests.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/requests";
 import { useFormat } from "~/components/locale";

@@ -25,7 +25,7 @@ import {
   StageSchema,
   TECHNIQUE_LABELS,
   TECHNIQUES,
-} from "~/models/capabilities";
+} from "~/domain/capabilities";
 import {
   getHazardAcceptance,
   listInstruments,
@@ -34,10 +34,10 @@ import {
   saveHazardAcceptance,
   saveInstrument,
   saveStage,
-} from "~/models/capabilities.server";
-import { dSpacingCoverage } from "~/models/coverage";
-import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/models/hazard-codes";
-import { getOrCreateLab } from "~/models/labs.server";
+} from "~/models/labs/capabilities.server";
+import { dSpacingCoverage } from "~/domain/coverage";
+import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/domain/hazard-codes";
+import { getOrCreateLab } from "~/models/labs/vetting.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";

@@ -2,7 +2,7 @@
 import { Link, useLoaderData } from "react-router";
 import { OrdersByState, WaitingPanel } from "~/components/overview";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
-import { labOverview } from "~/models/overview.server";
+import { labOverview } from "~/models/orders/overview.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/home";
 

@@ -8,10 +8,10 @@ import { DeliveryUploader, useDeliveryQueue } from "~/components/delivery-upload
 import { OrderFilesTable, type FileRow } from "~/components/order-files-table";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { UPLOAD_ORDER_STATES } from "~/models/files";
-import { orderFileList, orderSamples } from "~/models/files.server";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/models/order-states";
-import { radiationOf } from "~/jobs/scan-check.server";
+import { UPLOAD_ORDER_STATES } from "~/domain/order-files";
+import { orderFileList, orderSamples } from "~/models/files/files.server";
+import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/domain/order-states";
+import { radiationOf } from "~/models/checks/scan-check.server";
 import type { Route } from "./+types/order-files";
 
 export async function loader({ request, params }: Route.LoaderArgs) {

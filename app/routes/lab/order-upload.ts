@@ -1,6 +1,6 @@
 // POST /lab/orders/:id/uploads/:fileId — `{ intent: "complete", parts?, sha256 }` verifies and stores; `{ intent: "abort" }` cancels.
-import { abortOrderUpload, answerUploadStep, completedUploadResponse, completeOrderUpload, fileOfOrder, readJsonObject } from "~/models/files.server";
-import { orderForOrganisation } from "~/models/orders.server";
+import { abortOrderUpload, answerUploadStep, completedUploadResponse, completeOrderUpload, fileOfOrder, readJsonObject } from "~/models/files/files.server";
+import { orderForOrganisation } from "~/models/orders/lifecycle.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/order-upload";
 

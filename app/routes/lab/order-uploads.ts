@@ -1,6 +1,6 @@
 // POST /lab/orders/:id/uploads — starts the upload of one delivered file; answers with presigned targets.
-import { answerUploadStep, readJsonObject, startInputFrom, startOrderUpload } from "~/models/files.server";
-import { orderForOrganisation } from "~/models/orders.server";
+import { answerUploadStep, readJsonObject, startInputFrom, startOrderUpload } from "~/models/files/files.server";
+import { orderForOrganisation } from "~/models/orders/lifecycle.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/order-uploads";
 

@@ -3,7 +3,7 @@ import { and, desc, eq, inArray } from "drizzle-orm";
 import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
 import { db, schema } from "~/db/client.server";
-import { payoutOnboardingUrl, PaymentProblem, syncPayoutAccount } from "~/models/payments.server";
+import { payoutOnboardingUrl, PaymentProblem, syncPayoutAccount } from "~/models/payments/provider.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payouts";
 import { useFormat } from "~/components/locale";

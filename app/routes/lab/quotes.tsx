@@ -2,7 +2,7 @@
 import { Link, useLoaderData } from "react-router";
 import { QuoteStateBadge } from "~/components/request-parts";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
-import { quotesForLab } from "~/models/quotes.server";
+import { quotesForLab } from "~/models/requests/quotes.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/quotes";
 import { useFormat } from "~/components/locale";

@@ -8,9 +8,9 @@ import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
 import { SelectField } from "~/components/select-field";
 import { Field, FieldErrors, FormError, PageHeader } from "~/components/ui";
 import { VettingBadge } from "~/components/vetting-badge";
-import { checkCalibrationScan } from "~/models/calibration-check";
-import { ANODE_CHOICES, MONOCHROMATION_OPTIONS } from "~/models/capabilities";
-import { getOrCreateLab, latestDocuments, submitApplication, VettingConflict, vettingPrefix } from "~/models/labs.server";
+import { checkCalibrationScan } from "~/domain/calibration-check";
+import { ANODE_CHOICES, MONOCHROMATION_OPTIONS } from "~/domain/capabilities";
+import { getOrCreateLab, latestDocuments, submitApplication, VettingConflict, vettingPrefix } from "~/models/labs/vetting.server";
 import {
   CALIBRATION_STANDARD_KEYS,
   CALIBRATION_STANDARDS,
@@ -19,9 +19,9 @@ import {
   VettingApplicationSchema,
   type CalibrationCheck,
   type VettingState,
-} from "~/models/vetting";
+} from "~/domain/vetting";
 import { requireOrgRole } from "~/utils/permissions.server";
-import { contentTypeFor, DOCUMENT_RULE, readStoredText, SCAN_RULE, verifyStoredObject } from "~/utils/storage.server";
+import { contentTypeFor, DOCUMENT_RULE, readStoredText, SCAN_RULE, verifyStoredObject } from "~/models/files/storage.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/vetting";

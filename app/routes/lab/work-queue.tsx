@@ -2,7 +2,7 @@
 import { Link, useLoaderData } from "react-router";
 import { ORDERS_TABLE, OrdersTable, pageOfOrders } from "~/components/orders-table";
 import { EmptyState, PageHeader } from "~/components/ui";
-import { ordersOf } from "~/models/orders.server";
+import { ordersOf } from "~/models/orders/lifecycle.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { readTableQuery } from "~/utils/table";
 import type { Route } from "./+types/work-queue";

@@ -6,7 +6,7 @@ import { data, Form, useActionData, useNavigation } from "react-router";
 import { z } from "zod";
 import { AuthCard } from "~/components/auth-card";
 import { Field, FormError } from "~/components/ui";
-import { requestPasswordReset, RESET_REQUESTED, RESET_TOO_MANY } from "~/models/password-reset.server";
+import { requestPasswordReset, RESET_REQUESTED, RESET_TOO_MANY } from "~/models/accounts/password-reset.server";
 import { readForm } from "~/utils/form.server";
 import { requireAnonymous } from "~/utils/permissions.server";
 import type { Route } from "./+types/forgot-password";

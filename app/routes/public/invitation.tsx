@@ -1,7 +1,7 @@
 // /invitations/:token — the page an invitation e-mail links to: which organisation, then sign in or create an account with the invited address, and accept.
 import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
 import { Badge, FormError } from "~/components/ui";
-import { acceptInvitation, emailsMatch, resolveInvitation, STATUS_MESSAGES } from "~/models/invitations.server";
+import { acceptInvitation, emailsMatch, resolveInvitation, STATUS_MESSAGES } from "~/models/accounts/invitations.server";
 import { getOptionalActor, notFound, requireUser, workspacePath } from "~/utils/permissions.server";
 import { setActiveOrganisation } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";

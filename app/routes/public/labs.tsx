@@ -2,10 +2,10 @@
 import { keepPreviousData, useQuery } from "@tanstack/react-query";
 import { Link, useLoaderData, useSearchParams } from "react-router";
 import { EmptyState, PageHeader } from "~/components/ui";
-import { PAGE_SIZE, TECHNIQUES, parseDirectoryQuery } from "~/models/directory";
-import { cachedDirectory, type DirectoryLab } from "~/models/directory.server";
-import { GHS_CODES, SPECIAL_CATEGORY_CODES, ghsName } from "~/models/hazard-codes";
-import { labelOf } from "~/models/matching";
+import { PAGE_SIZE, TECHNIQUES, parseDirectoryQuery } from "~/domain/directory-query";
+import { cachedDirectory, type DirectoryLab } from "~/models/labs/directory.server";
+import { GHS_CODES, SPECIAL_CATEGORY_CODES, ghsName } from "~/domain/hazard-codes";
+import { labelOf } from "~/domain/matching";
 import { ANODES } from "~/diffraction/wavelengths";
 import type { Route } from "./+types/labs";
 import { useFormat } from "~/components/locale";

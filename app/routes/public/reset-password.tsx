@@ -6,8 +6,8 @@ import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "r
 import { AuthCard } from "~/components/auth-card";
 import { NewPasswordFields } from "~/components/new-password-fields";
 import { FormError } from "~/components/ui";
-import { newPasswordPair } from "~/models/password-rules";
-import { resetPassword, resolveResetToken, RESET_PROBLEMS } from "~/models/password-reset.server";
+import { newPasswordPair } from "~/domain/password-rules";
+import { resetPassword, resolveResetToken, RESET_PROBLEMS } from "~/models/accounts/password-reset.server";
 import { readForm } from "~/utils/form.server";
 import { sessionCookie } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";

@@ -1,6 +1,6 @@
 // GET /shared/:token/files/:fileId — a download through a share link: logged with the link, then a presigned URL.
-import { downloadable, downloadUrl, fileOfOrder } from "~/models/files.server";
-import { resolveShareLink } from "~/models/share-links.server";
+import { downloadable, downloadUrl, fileOfOrder } from "~/models/files/files.server";
+import { resolveShareLink } from "~/models/files/share-links.server";
 import { notFound } from "~/utils/permissions.server";
 import type { Route } from "./+types/shared-download";
 

@@ -8,15 +8,15 @@ import { z } from "zod";
 import { AuthCard } from "~/components/auth-card";
 import { TotpCodeField } from "~/components/totp-code-field";
 import { FormError } from "~/components/ui";
-import { acceptTotpCode, SECOND_FACTOR_TRIES } from "~/models/account-security.server";
-import { audit } from "~/utils/audit.server";
+import { acceptTotpCode, SECOND_FACTOR_TRIES } from "~/models/accounts/security.server";
+import { audit } from "~/models/audit.server";
 import { readForm } from "~/utils/form.server";
 import { actorFor, requireSecondFactorPending, workspacePath } from "~/utils/permissions.server";
 import { safeRedirect } from "~/utils/safe-redirect";
 import { countSecondFactorFailure, endSession, startSession } from "~/utils/session.server";
-import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/utils/sign-in-limit.server";
+import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/models/accounts/sign-in-limit.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { TOTP_MESSAGES } from "~/utils/totp-messages";
+import { TOTP_MESSAGES } from "~/domain/totp-messages";
 import type { Route } from "./+types/sign-in-code";
 
 const CodeSchema = z.object({

@@ -6,13 +6,13 @@ import { data, Form, Link, redirect, useActionData, useNavigation, useSearchPara
 import { z } from "zod";
 import { AuthCard } from "~/components/auth-card";
 import { Field, FormError } from "~/components/ui";
-import { audit } from "~/utils/audit.server";
+import { audit } from "~/models/audit.server";
 import { authenticator, normaliseEmail, WrongCredentials } from "~/utils/auth.server";
 import { readForm } from "~/utils/form.server";
 import { actorFor, requireAnonymous, workspacePath } from "~/utils/permissions.server";
 import { safeRedirect } from "~/utils/safe-redirect";
 import { startSession } from "~/utils/session.server";
-import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/utils/sign-in-limit.server";
+import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/models/accounts/sign-in-limit.server";
 import type { Route } from "./+types/sign-in";
 
 const SignInSchema = z.object({

@@ -1,5 +1,5 @@
 // GET /api/admin/ledger/summary — ledger totals and whether every transaction balances (admins only).
-import { ledgerSummary } from "~/models/ledger.server";
+import { ledgerSummary } from "~/models/payments/ledger.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import type { Route } from "./+types/ledger-summary";
 

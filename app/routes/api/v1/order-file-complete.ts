@@ -1,7 +1,7 @@
 // POST /api/v1/orders/:id/files/:fileId/complete — `{ parts? }`: storage puts the parts together and the file is verified.
-import { requireApiToken } from "~/models/api-tokens.server";
-import { answerUploadStep, completedUploadResponse, completeOrderUpload, fileOfOrder, readJsonObject } from "~/models/files.server";
-import { orderForOrganisation } from "~/models/orders.server";
+import { requireApiToken } from "~/models/accounts/api-tokens.server";
+import { answerUploadStep, completedUploadResponse, completeOrderUpload, fileOfOrder, readJsonObject } from "~/models/files/files.server";
+import { orderForOrganisation } from "~/models/orders/lifecycle.server";
 import type { Route } from "./+types/order-file-complete";
 
 export async function action({ request, params }: Route.ActionArgs) {

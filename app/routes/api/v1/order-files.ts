@@ -1,7 +1,7 @@
 // POST /api/v1/orders/:id/files — an instrument computer starts an upload with its lab's bearer token.
-import { requireApiToken } from "~/models/api-tokens.server";
-import { answerUploadStep, readJsonObject, startInputFrom, startOrderUpload } from "~/models/files.server";
-import { orderForOrganisation } from "~/models/orders.server";
+import { requireApiToken } from "~/models/accounts/api-tokens.server";
+import { answerUploadStep, readJsonObject, startInputFrom, startOrderUpload } from "~/models/files/files.server";
+import { orderForOrganisation } from "~/models/orders/lifecycle.server";
 import type { Route } from "./+types/order-files";
 
 export async function action({ request, params }: Route.ActionArgs) {

@@ -1,0 +1,77 @@
+// Delivered files of an order: kinds, accepted formats, size limits and upload sizes (browser-safe).
+import type { OrderState } from "~/domain/order-states";
+
+export const FILE_KINDS = ["scan", "report", "other"] as const;
+export type FileKind = (typeof FILE_KINDS)[number];
+
+export const FILE_KIND_LABELS: Record<FileKind, string> = { scan: "Scan", report: "Lab report", other: "Other" };
+
+const MiB = 1024 * 1024;
+/** Every delivered file may be up to 2 GB. */
+export const MAX_FILE_BYTES = 2_000_000_000;
+/** Up to this size a file goes up in one PUT; above it, in parts. */
+export const SINGLE_PUT_MAX_BYTES = 16 * MiB;
+/** The size of each part of a multipart upload (the last one is smaller); S3 wants at least 5 MiB. */
+export const PART_BYTES = 8 * MiB;
+
+/** The file names each kind accepts; the stored bytes are checked too (text for scans, %PDF for reports). */
+export const KIND_EXTENSIONS: Record<FileKind, string[]> = {
+  scan: [".xy", ".xye", ".csv", ".txt", ".dat", ".cif"],
+  report: [".pdf"],
+  other: [".pdf", ".png", ".jpg", ".jpeg", ".xy", ".xye", ".csv", ".txt", ".dat", ".cif"],
+};
+
+/** The states in which the lab delivers files: from the samples' arrival until the client has accepted. */
+export const UPLOAD_ORDER_STATES: OrderState[] = ["samples_received", "measuring", "data_delivered"];
+
+/** How long delivered files are kept after the order, deleted or not (README, "Data retention"). */
+export const RETENTION_YEARS = 5;
+
+/** The longest a share link may stay valid (days). */
+export const SHARE_LINK_MAX_DAYS = 90;
+
+/** A download link from the data room is valid this long (seconds). */
+export const DOWNLOAD_URL_SECONDS = 300;
+
+/** The kind a file's name suggests: PDFs are reports, text formats scans. */
+export function kindForName(name: string): FileKind {
+  const lower = name.toLowerCase();
+  if (lower.endsWith(".pdf")) return "report";
+  if (KIND_EXTENSIONS.scan.some((ext) => lower.endsWith(ext))) return "scan";
+  return "other";
+}
+
+export function partCount(size: number) {
+  return size <= SINGLE_PUT_MAX_BYTES ? 1 : Math.ceil(size / PART_BYTES);
+}
+
+/** Bytes for people: 1.5 MB, 820 kB, 312 B (decimal units, as file managers show them). */
+export function formatBytes(bytes: number) {
+  if (bytes >= 1e9) return `${+(bytes / 1e9).toFixed(2)} GB`;
+  if (bytes >= 1e6) return `${+(bytes / 1e6).toFixed(1)} MB`;
+  if (bytes >= 1e3) return `${(bytes / 1e3).toFixed(0)} kB`;
+  return `${bytes} B`;
+}
+
+/** The upload target the server hands out: one PUT, or one PUT per part. */
+export type UploadTarget =
+  | { method: "PUT"; url: string; headers: Record<string, string> }
+  | { method: "PUT"; partSize: number; parts: { partNumber: number; url: string }[] };
+
+export interface StartedUpload {
+  fileId: string;
+  name: string;
+  version: number;
+  upload: UploadTarget;
+}
+
+export interface CompletedPart {
+  partNumber: number;
+  etag: string;
+}
+
+/** What the status API says about a file's check. */
+export interface FileCheckJson {
+  status: "queued" | "running" | "done" | "failed" | null;
+  verdict: string | null;
+}

@@ -1,0 +1,210 @@
+// The new-request wizard's steps and the zod schemas of each step's form (shared by the browser and the server).
+import { z } from "zod";
+import { CENTERINGS, CRYSTAL_SYSTEMS, checkCellForSystem, checkCentering, type Centering, type CrystalSystem } from "~/diffraction/cell";
+import { parseFormula } from "~/domain/formula";
+import { GHS_CODES, SPECIAL_CATEGORY_CODES } from "~/domain/hazard-codes";
+import { checkHStatement, splitHStatements } from "~/domain/hazards";
+import { CURRENCIES, MAX_AMOUNT_MINOR, MAX_AMOUNT_TEXT, toMinorUnits } from "~/domain/money";
+
+export const WIZARD_STEPS = [
+  { slug: "samples", label: "Samples" },
+  { slug: "hazards", label: "Hazards" },
+  { slug: "measurement", label: "Measurement" },
+  { slug: "labs", label: "Labs" },
+  { slug: "review", label: "Review" },
+] as const;
+export type WizardStep = (typeof WIZARD_STEPS)[number]["slug"];
+
+export function nextStep(step: WizardStep): WizardStep {
+  const i = WIZARD_STEPS.findIndex((s) => s.slug === step);
+  return WIZARD_STEPS[Math.min(i + 1, WIZARD_STEPS.length - 1)].slug;
+}
+
+export const SAMPLE_FORMS = [
+  { value: "powder", label: "Powder" },
+  { value: "pellet", label: "Pressed pellet" },
+  { value: "thin_film", label: "Thin film on substrate" },
+  { value: "bulk", label: "Bulk piece" },
+  { value: "capillary", label: "Sealed capillary" },
+  { value: "slurry", label: "Slurry or paste" },
+] as const;
+export const TECHNIQUES = [
+  { value: "powder_reflection", label: "Powder reflection" },
+  { value: "powder_transmission", label: "Powder transmission" },
+  { value: "thin_film", label: "Thin film" },
+  { value: "single_crystal", label: "Single crystal" },
+  { value: "total_scattering", label: "Total scattering" },
+  { value: "neutron_powder", label: "Neutron powder" },
+] as const;
+export const SOURCES = ["any", "Cu", "Co", "Mo", "Cr", "Fe", "Ag"] as const;
+export const ATMOSPHERES = ["air", "nitrogen", "argon", "vacuum", "reducing"] as const;
+export const QUALITY_LEVELS = [
+  { value: "screening", label: "Screening" },
+  { value: "standard", label: "Standard" },
+  { value: "high_resolution", label: "High resolution" },
+] as const;
+
+const values = <T extends readonly { value: string }[]>(list: T) => list.map((o) => o.value) as [T[number]["value"], ...T[number]["value"][]];
+
+const text = (what: string, max: number) =>
+  z
+    .string({ error: `Enter ${what}.` })
+    .trim()
+    .min(1, `Enter ${what}.`)
+    .max(max, `At most ${max} characters.`);
+const positive = (what: string, unit: string) =>
+  z.number({ error: `Enter ${what} as a number (${unit}).` }).positive(`${what[0].toUpperCase()}${what.slice(1)} must be positive.`);
+
+// ───────────── Step 1: samples ─────────────
+
+export const SampleSchema = z
+  .object({
+    id: z.uuid().optional(),
+    label: text("the sample's label", 80),
+    formula: text("the chemical formula", 200).superRefine((v, ctx) => {
+      const parsed = parseFormula(v);
+      if ("error" in parsed) ctx.addIssue({ code: "custom", message: parsed.error });
+    }),
+    form: z.enum(values(SAMPLE_FORMS), { error: "Choose the sample's form." }),
+    massMg: positive("the mass", "mg").max(1_000_000, "At most 1 kg (1,000,000 mg)."),
+    expectedPhase: text("the expected phase", 120),
+    crystalSystem: z.enum(CRYSTAL_SYSTEMS as [CrystalSystem, ...CrystalSystem[]], { error: "Choose the crystal system." }),
+    centering: z.enum(CENTERINGS as [Centering, ...Centering[]], { error: "Choose the lattice centering." }),
+    cellA: positive("a", "Å"),
+    cellB: positive("b", "Å"),
+    cellC: positive("c", "Å"),
+    cellAlpha: positive("alpha", "°"),
+    cellBeta: positive("beta", "°"),
+    cellGamma: positive("gamma", "°"),
+  })
+  // Runs once every field of the sample parsed; the sentence comes from the lattice engine's own check.
+  .superRefine((s, ctx) => {
+    const centering = checkCentering(s.crystalSystem, s.centering);
+    if (centering) ctx.addIssue({ code: "custom", path: ["centering"], message: centering });
+    const cell = checkCellForSystem(s.crystalSystem, {
+      a: s.cellA,
+      b: s.cellB,
+      c: s.cellC,
+      alpha: s.cellAlpha,
+      beta: s.cellBeta,
+      gamma: s.cellGamma,
+    });
+    if (cell) ctx.addIssue({ code: "custom", path: ["cellA"], message: cell });
+  });
+
+export const SamplesStepSchema = z.object({
+  title: text("a title for the request", 160),
+  technique: z.enum(values(TECHNIQUES), { error: "Choose the technique." }),
+  samples: z.array(SampleSchema, { error: "Add at least one sample." }).min(1, "Add at least one sample.").max(20, "At most 20 samples per request."),
+});
+export type SamplesStep = z.infer<typeof SamplesStepSchema>;
+
+// ───────────── Step 2: hazards ─────────────
+
+const SpecialEntry = z.object({
+  declared: z.boolean().optional().default(false),
+  details: z.string().trim().max(500, "At most 500 characters.").optional(),
+  activityBq: z
+    .number({ error: "Give the activity as a number of becquerels (Bq)." })
+    .positive("The activity must be a positive number of becquerels.")
+    .optional(),
+});
+
+const SpecialHazardsSchema = z
+  .object(Object.fromEntries(SPECIAL_CATEGORY_CODES.map((c) => [c, SpecialEntry.optional()])) as Record<(typeof SPECIAL_CATEGORY_CODES)[number], z.ZodOptional<typeof SpecialEntry>>)
+  .superRefine((entries, ctx) => {
+    for (const [category, entry] of Object.entries(entries)) {
+      if (!entry?.declared) continue;
+      if (!entry.details) ctx.addIssue({ code: "custom", path: [category, "details"], message: "Describe this hazard for the lab." });
+      if (category === "radioactive" && entry.activityBq === undefined) {
+        ctx.addIssue({ code: "custom", path: [category, "activityBq"], message: "A radioactive sample needs its activity in becquerels (Bq)." });
+      }
+    }
+  });
+
+export const SampleHazardSchema = z.object({
+  id: z.uuid({ error: "This sample is not part of the request." }),
+  ghs: z.array(z.enum(GHS_CODES, { error: "Choose pictograms from GHS01 to GHS09." })).optional().default([]),
+  hStatements: z
+    .string()
+    .max(300, "At most 300 characters.")
+    .optional()
+    .transform((v, ctx) => {
+      const codes = splitHStatements(v ?? "");
+      for (const code of codes) {
+        const problem = checkHStatement(code);
+        if (problem) ctx.addIssue({ code: "custom", message: problem });
+      }
+      return [...new Set(codes)];
+    }),
+  special: SpecialHazardsSchema.optional().default({}),
+  handlingNotes: z.string().trim().max(2000, "At most 2,000 characters.").optional(),
+  afterMeasurement: z.enum(["return", "lab_disposes"], { error: "Say whether the sample comes back or the lab disposes of it." }),
+  sdsStorageKey: z.string().max(400).optional(),
+  sdsFileName: z.string().max(200).optional(),
+  sdsSha256: z
+    .string()
+    .regex(/^[0-9a-f]{64}$/i, "The file's checksum is missing; upload it again.")
+    .optional(),
+});
+export const HazardsStepSchema = z.object({ samples: z.array(SampleHazardSchema).min(1, "Add a sample first.") });
+export type SampleHazardInput = z.infer<typeof SampleHazardSchema>;
+/** What the hazards form holds before parsing (H-statements are still one text). */
+export type SampleHazardForm = z.input<typeof SampleHazardSchema>;
+
+// ───────────── Step 3: measurement ─────────────
+
+function todayIso() {
+  return new Date().toISOString().slice(0, 10);
+}
+
+export const MeasurementStepSchema = z
+  .object({
+    rangeKind: z.enum(["two_theta", "d_spacing"], { error: "Choose 2θ or d-spacing." }),
+    rangeMin: z.number({ error: "Enter the lower end as a number." }).positive("The lower end must be positive."),
+    rangeMax: z.number({ error: "Enter the upper end as a number." }).positive("The upper end must be positive."),
+    preferredSource: z.enum(SOURCES, { error: "Choose a source or any." }),
+    temperaturePoints: z
+      .string()
+      .max(300)
+      .optional()
+      .transform((v, ctx) => {
+        const parts = (v ?? "").split(/[\s,;]+/).filter(Boolean);
+        const points = parts.map(Number);
+        const bad = parts.filter((p, i) => !Number.isFinite(points[i]) || points[i] <= 0 || points[i] > 3000);
+        if (bad.length) ctx.addIssue({ code: "custom", message: `Temperatures are kelvin between 0 and 3000; “${bad.join(", ")}” is not.` });
+        if (points.length > 20) ctx.addIssue({ code: "custom", message: "At most 20 temperature points." });
+        return [...new Set(points)].sort((a, b) => a - b);
+      }),
+    atmosphere: z.enum(ATMOSPHERES, { error: "Choose the atmosphere." }),
+    quality: z.enum(values(QUALITY_LEVELS), { error: "Choose the quality level." }),
+    deadline: z.iso.date({ error: "Enter the deadline as a date." }).refine((d) => d > todayIso(), "The deadline must be in the future."),
+    budget: z
+      .string()
+      .optional()
+      .transform((v, ctx) => {
+        if (!v?.trim()) return null;
+        const minor = toMinorUnits(v);
+        if (minor === null || minor <= 0) ctx.addIssue({ code: "custom", message: "Enter the budget as an amount such as 1200 or 1200.50." });
+        else if (minor > MAX_AMOUNT_MINOR) ctx.addIssue({ code: "custom", message: `A budget is at most ${MAX_AMOUNT_TEXT}.` });
+        return minor;
+      }),
+    currency: z.enum(CURRENCIES, { error: "Choose a currency." }),
+  })
+  .superRefine((m, ctx) => {
+    if (m.rangeMin >= m.rangeMax) ctx.addIssue({ code: "custom", path: ["rangeMax"], message: "The upper end must be above the lower end." });
+    if (m.rangeKind === "two_theta" && m.rangeMax >= 180) ctx.addIssue({ code: "custom", path: ["rangeMax"], message: "2θ lies below 180°." });
+  });
+export type MeasurementStep = z.infer<typeof MeasurementStepSchema>;
+
+// ───────────── Step 4: labs ─────────────
+
+export const LabsStepSchema = z
+  .object({
+    visibility: z.enum(["open", "invited"], { error: "Choose who may quote." }),
+    invitedLabIds: z.array(z.uuid()).optional().default([]),
+  })
+  .refine((v) => v.visibility === "open" || v.invitedLabIds.length > 0, {
+    path: ["invitedLabIds"],
+    message: "Choose at least one lab to invite, or open the request to every matching lab.",
+  });

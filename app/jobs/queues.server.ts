@@ -1,0 +1,65 @@
+// The job queue (pg-boss on the app's PostgreSQL): queue names, the shared client, and the worker's handlers.
+import PgBoss from "pg-boss";
+import { config } from "~/config.server";
+
+export const QUEUES = {
+  /** Every few minutes: accept deliveries whose review window has lapsed, and pay the labs. */
+  reviewWindow: "review-window",
+  /** The lattice check of one stored scan (`{ fileId }`). */
+  scanCheck: "scan-check",
+  /** One outbox e-mail (`{ messageId }`), retried with growing delays, parked after the last try. */
+  mailSend: "mail-send",
+  /** Every quarter hour: "review window ends tomorrow" reminders. */
+  reviewReminder: "review-reminder",
+} as const;
+
+const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };
+
+/** A started pg-boss client for sending jobs (created once per process). */
+export function getBoss(): Promise<PgBoss> {
+  g.__diffractoryBoss ??= (async () => {
+    const boss = new PgBoss({
+      connectionString: config.databaseUrl,
+      schema: "pgboss",
+      max: 4,
+      // Maintenance fails jobs whose worker died (expired) so they are retried; tests shorten it.
+      maintenanceIntervalSeconds: config.jobs.maintenanceIntervalSeconds,
+    });
+    boss.on("error", (err) => console.warn("job queue:", err.message));
+    await boss.start();
+    for (const name of Object.values(QUEUES)) await boss.createQueue(name);
+    return boss;
+  })();
+  // A start that failed (the database was unreachable) is not kept: the next caller tries again.
+  const started = g.__diffractoryBoss;
+  started.catch(() => {
+    if (g.__diffractoryBoss === started) delete g.__diffractoryBoss;
+  });
+  return started;
+}
+
+export async function stopBoss() {
+  if (!g.__diffractoryBoss) return;
+  const boss = await g.__diffractoryBoss;
+  delete g.__diffractoryBoss;
+  await boss.stop({ graceful: true, wait: true });
+}
+
+/** Registers every queue's handler and the schedules; the worker process calls this once. */
+export async function startWorkers(boss: PgBoss, { reviewWindowCron = process.env.REVIEW_WINDOW_CRON || "*/5 * * * *" } = {}) {
+  const { acceptLapsedDeliveries, releasePendingPayouts } = await import("~/models/payments/provider.server");
+  await boss.schedule(QUEUES.reviewWindow, reviewWindowCron);
+  await boss.work(QUEUES.reviewWindow, async () => {
+    const accepted = await acceptLapsedDeliveries();
+    if (accepted > 0) console.log(`review window: ${accepted} deliveries accepted automatically`);
+    // Payouts the provider failed to make after an acceptance are tried again on the same schedule.
+    const paid = await releasePendingPayouts();
+    if (paid > 0) console.log(`payouts: ${paid} delayed payouts released`);
+  });
+  const { runScanCheck } = await import("~/models/checks/scan-check.server");
+  await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
+    await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });
+  });
+  const { startMailWorkers } = await import("~/models/notifications/delivery.server");
+  await startMailWorkers(boss);
+}

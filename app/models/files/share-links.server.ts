@@ -1,0 +1,62 @@
+// Read-only links to one order's data room for a colleague outside the client organisation.
+import { isUuid } from "~/domain/ids";
+import { createHash, randomBytes } from "node:crypto";
+import { and, desc, eq, isNull } from "drizzle-orm";
+import { db, schema } from "~/db/client.server";
+
+const hashToken = (token: string) => createHash("sha256").update(token).digest("hex");
+
+/** Creates a link; the token is returned once and only its SHA-256 is kept. */
+export async function createShareLink(input: { orderId: string; organisationId: string; userId: string; label: string; expiresAt: Date }) {
+  const token = randomBytes(24).toString("base64url");
+  const [link] = await db
+    .insert(schema.shareLinks)
+    .values({ orderId: input.orderId, organisationId: input.organisationId, createdBy: input.userId, label: input.label, expiresAt: input.expiresAt, tokenHash: hashToken(token) })
+    .returning();
+  return { link, token };
+}
+
+export async function listShareLinks(orderId: string) {
+  const rows = await db
+    .select({ link: schema.shareLinks, createdBy: schema.users.name })
+    .from(schema.shareLinks)
+    .leftJoin(schema.users, eq(schema.users.id, schema.shareLinks.createdBy))
+    .where(eq(schema.shareLinks.orderId, orderId))
+    .orderBy(desc(schema.shareLinks.createdAt));
+  const now = Date.now();
+  return rows.map(({ link, createdBy }) => ({
+    id: link.id,
+    label: link.label,
+    createdBy,
+    createdAt: link.createdAt.toISOString(),
+    expiresAt: link.expiresAt.toISOString(),
+    revokedAt: link.revokedAt?.toISOString() ?? null,
+    status: link.revokedAt ? ("revoked" as const) : link.expiresAt.getTime() <= now ? ("expired" as const) : ("active" as const),
+  }));
+}
+
+/** Revokes one of the order's links; false when there is no such active link. */
+export async function revokeShareLink(orderId: string, linkId: string) {
+  if (!isUuid(linkId)) return false;
+  const rows = await db
+    .update(schema.shareLinks)
+    .set({ revokedAt: new Date() })
+    .where(and(eq(schema.shareLinks.id, linkId), eq(schema.shareLinks.orderId, orderId), isNull(schema.shareLinks.revokedAt)))
+    .returning({ id: schema.shareLinks.id });
+  return rows.length > 0;
+}
+
+export type ResolvedShareLink =
+  | { status: "active"; link: typeof schema.shareLinks.$inferSelect }
+  | { status: "expired" | "revoked"; link: typeof schema.shareLinks.$inferSelect }
+  | null;
+
+/** The link a token names, and whether it still opens the data room; null for an unknown token. */
+export async function resolveShareLink(token: string): Promise<ResolvedShareLink> {
+  if (!token || token.length > 100) return null;
+  const [link] = await db.select().from(schema.shareLinks).where(eq(schema.shareLinks.tokenHash, hashToken(token)));
+  if (!link) return null;
+  if (link.revokedAt) return { status: "revoked", link };
+  if (link.expiresAt.getTime() <= Date.now()) return { status: "expired", link };
+  return { status: "active", link };
+}

@@ -1,0 +1,163 @@
+// A lab's capabilities and prices in the database: instruments, sample stages, hazard acceptance and the price list.
+import { and, asc, eq, inArray } from "drizzle-orm";
+import { db, schema } from "~/db/client.server";
+import { audit } from "~/models/audit.server";
+import { invalidateDirectory } from "~/models/labs/directory.server";
+import { notFound } from "~/utils/permissions.server";
+import type { InstrumentInput, StageInput } from "~/domain/capabilities";
+import type { PriceListInput } from "~/domain/price-list";
+
+export interface Actor {
+  userId: string;
+  clientAddress?: string;
+}
+
+/** Every change here is audited, and changes what the public directory shows, so its cache is cleared. */
+const record = (labId: string, actor: Actor, action: string, subjectType: string, subjectId: string, details: Record<string, unknown> = {}) => {
+  invalidateDirectory();
+  return audit({ actorUserId: actor.userId, organisationId: labId, action, subjectType, subjectId, clientAddress: actor.clientAddress, details });
+};
+
+/** The lab's instruments, oldest first, each with its sample stages. */
+export async function listInstruments(labId: string) {
+  const instruments = await db
+    .select()
+    .from(schema.instruments)
+    .where(eq(schema.instruments.labId, labId))
+    .orderBy(asc(schema.instruments.createdAt));
+  const stages = instruments.length
+    ? await db
+        .select()
+        .from(schema.sampleStages)
+        .where(
+          inArray(
+            schema.sampleStages.instrumentId,
+            instruments.map((i) => i.id),
+          ),
+        )
+        .orderBy(asc(schema.sampleStages.minTemperatureK))
+    : [];
+  return instruments.map((i) => ({ ...i, stages: stages.filter((s) => s.instrumentId === i.id) }));
+}
+
+/** Adds an instrument, or updates one of this lab's; another lab's id is a 404. */
+export async function saveInstrument(labId: string, input: InstrumentInput, actor: Actor) {
+  const values = {
+    name: input.name,
+    technique: input.technique,
+    anode: input.sourceKind === "anode" ? input.anode! : null,
+    customWavelength: input.sourceKind === "custom" ? input.customWavelength! : null,
+    monochromation: input.monochromation,
+    twoThetaMin: input.twoThetaMin,
+    twoThetaMax: input.twoThetaMax,
+    smallestStep: input.smallestStep,
+    detector: input.detector,
+    energyDiscrimination: input.energyDiscrimination,
+    sampleForms: input.sampleForms,
+  };
+  let id = input.id;
+  if (id) {
+    const updated = await db
+      .update(schema.instruments)
+      .set(values)
+      .where(and(eq(schema.instruments.id, id), eq(schema.instruments.labId, labId)))
+      .returning({ id: schema.instruments.id });
+    if (updated.length === 0) notFound("This lab has no such instrument.");
+  } else {
+    [{ id }] = await db.insert(schema.instruments).values({ labId, ...values }).returning({ id: schema.instruments.id });
+  }
+  await record(labId, actor, input.id ? "instrument_updated" : "instrument_added", "instrument", id!, { name: input.name });
+  return id!;
+}
+
+export async function removeInstrument(labId: string, id: string, actor: Actor) {
+  const removed = await db
+    .delete(schema.instruments)
+    .where(and(eq(schema.instruments.id, id), eq(schema.instruments.labId, labId)))
+    .returning({ name: schema.instruments.name });
+  if (removed.length === 0) notFound("This lab has no such instrument.");
+  await record(labId, actor, "instrument_removed", "instrument", id, { name: removed[0].name });
+}
+
+async function requireOwnInstrument(labId: string, instrumentId: string) {
+  const [row] = await db
+    .select({ id: schema.instruments.id })
+    .from(schema.instruments)
+    .where(and(eq(schema.instruments.id, instrumentId), eq(schema.instruments.labId, labId)));
+  if (!row) notFound("This lab has no such instrument.");
+}
+
+async function requireOwnStage(labId: string, stageId: string) {
+  const [row] = await db
+    .select({ id: schema.sampleStages.id })
+    .from(schema.sampleStages)
+    .innerJoin(schema.instruments, eq(schema.instruments.id, schema.sampleStages.instrumentId))
+    .where(and(eq(schema.sampleStages.id, stageId), eq(schema.instruments.labId, labId)));
+  if (!row) notFound("This lab has no such sample stage.");
+}
+
+/** Adds a stage to one of this lab's instruments, or updates one of its stages. */
+export async function saveStage(labId: string, input: StageInput, actor: Actor) {
+  await requireOwnInstrument(labId, input.instrumentId);
+  const values = {
+    instrumentId: input.instrumentId,
+    name: input.name,
+    minTemperatureK: input.minTemperatureK,
+    maxTemperatureK: input.maxTemperatureK,
+    atmospheres: input.atmospheres,
+  };
+  let id = input.id;
+  if (id) {
+    await requireOwnStage(labId, id);
+    await db.update(schema.sampleStages).set(values).where(eq(schema.sampleStages.id, id));
+  } else {
+    [{ id }] = await db.insert(schema.sampleStages).values(values).returning({ id: schema.sampleStages.id });
+  }
+  await record(labId, actor, input.id ? "stage_updated" : "stage_added", "sample_stage", id!, { name: input.name });
+  return id!;
+}
+
+export async function removeStage(labId: string, id: string, actor: Actor) {
+  await requireOwnStage(labId, id);
+  await db.delete(schema.sampleStages).where(eq(schema.sampleStages.id, id));
+  await record(labId, actor, "stage_removed", "sample_stage", id);
+}
+
+export async function getHazardAcceptance(labId: string) {
+  const [row] = await db.select().from(schema.hazardAcceptance).where(eq(schema.hazardAcceptance.labId, labId));
+  return { pictograms: row?.pictograms ?? [], specialCategories: row?.specialCategories ?? [] };
+}
+
+export async function saveHazardAcceptance(labId: string, input: { pictograms: string[]; specialCategories: string[] }, actor: Actor) {
+  const values = { pictograms: input.pictograms, specialCategories: input.specialCategories, updatedAt: new Date() };
+  await db
+    .insert(schema.hazardAcceptance)
+    .values({ labId, ...values })
+    .onConflictDoUpdate({ target: schema.hazardAcceptance.labId, set: values });
+  await record(labId, actor, "hazard_acceptance_saved", "lab", labId, values);
+}
+
+export async function getPriceList(labId: string) {
+  const [row] = await db.select().from(schema.priceLists).where(eq(schema.priceLists.labId, labId));
+  return row ?? null;
+}
+
+export async function savePriceList(labId: string, input: PriceListInput, actor: Actor) {
+  const perSampleMinor = Object.fromEntries(Object.entries(input.perSample).filter(([, v]) => v !== undefined)) as Record<string, number>;
+  const values = {
+    currency: input.currency,
+    perSampleMinor,
+    perExtraTemperaturePointMinor: input.perExtraTemperaturePoint,
+    perInstrumentHourMinor: input.perInstrumentHour,
+    samplePreparationMinor: input.samplePreparation,
+    hazardousHandlingMinor: input.hazardousHandling,
+    rushMultiplier: input.rushMultiplier.toFixed(2),
+    turnaroundDays: input.turnaroundDays,
+    updatedAt: new Date(),
+  };
+  await db
+    .insert(schema.priceLists)
+    .values({ labId, ...values })
+    .onConflictDoUpdate({ target: schema.priceLists.labId, set: values });
+  await record(labId, actor, "price_list_saved", "lab", labId, { currency: input.currency, perSampleMinor });
+}

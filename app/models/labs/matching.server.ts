@@ -1,0 +1,119 @@
+// Loads labs and requests from PostgreSQL into the matching rules of app/domain/matching.ts.
+import { and, asc, eq, inArray } from "drizzle-orm";
+import { db, schema } from "~/db/client.server";
+import type { Anode } from "~/diffraction/wavelengths";
+import { matchLab, type LabMatch, type MatchLab, type MatchRequest } from "~/domain/matching";
+
+/** Approved labs (or the given ones, whatever their state) with instruments, stages, hazards and prices. */
+export async function loadMatchLabs(labIds?: string[]): Promise<MatchLab[]> {
+  const labs = await db
+    .select({ id: schema.labs.organisationId, name: schema.organisations.name, slug: schema.organisations.slug })
+    .from(schema.labs)
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.labs.organisationId))
+    .where(labIds ? inArray(schema.labs.organisationId, labIds) : eq(schema.labs.vettingState, "approved"))
+    .orderBy(asc(schema.organisations.name));
+  if (labs.length === 0) return [];
+  const ids = labs.map((l) => l.id);
+  const [instruments, acceptance, prices] = await Promise.all([
+    db.select().from(schema.instruments).where(and(inArray(schema.instruments.labId, ids), eq(schema.instruments.active, true))).orderBy(asc(schema.instruments.createdAt)),
+    db.select().from(schema.hazardAcceptance).where(inArray(schema.hazardAcceptance.labId, ids)),
+    db.select().from(schema.priceLists).where(inArray(schema.priceLists.labId, ids)),
+  ]);
+  const stages = instruments.length
+    ? await db.select().from(schema.sampleStages).where(inArray(schema.sampleStages.instrumentId, instruments.map((i) => i.id)))
+    : [];
+  return labs.map((lab) => {
+    const acc = acceptance.find((a) => a.labId === lab.id);
+    const price = prices.find((p) => p.labId === lab.id);
+    return {
+      ...lab,
+      instruments: instruments
+        .filter((i) => i.labId === lab.id)
+        .map((i) => ({
+          id: i.id,
+          name: i.name,
+          technique: i.technique,
+          anode: i.anode as Anode | null,
+          customWavelength: i.customWavelength,
+          twoThetaMin: i.twoThetaMin,
+          twoThetaMax: i.twoThetaMax,
+          energyDiscrimination: i.energyDiscrimination,
+          sampleForms: i.sampleForms,
+          stages: stages.filter((s) => s.instrumentId === i.id),
+        })),
+      acceptance: { pictograms: acc?.pictograms ?? [], specialCategories: acc?.specialCategories ?? [] },
+      priceList: price
+        ? {
+            currency: price.currency,
+            perSampleMinor: price.perSampleMinor,
+            perExtraTemperaturePointMinor: price.perExtraTemperaturePointMinor,
+            hazardousHandlingMinor: price.hazardousHandlingMinor,
+            samplePreparationMinor: price.samplePreparationMinor,
+            turnaroundDays: price.turnaroundDays,
+          }
+        : null,
+    };
+  });
+}
+
+/** A request with its samples in the shape the matching rules read; null when it does not exist. */
+export async function loadMatchRequest(requestId: string): Promise<(MatchRequest & { id: string; organisationId: string; visibility: string; state: string }) | null> {
+  const [request] = await db.select().from(schema.requests).where(eq(schema.requests.id, requestId));
+  if (!request) return null;
+  const samples = await db.select().from(schema.samples).where(eq(schema.samples.requestId, requestId)).orderBy(asc(schema.samples.position));
+  return {
+    id: request.id,
+    organisationId: request.organisationId,
+    visibility: request.visibility,
+    state: request.state,
+    technique: request.technique,
+    rangeKind: request.rangeKind,
+    rangeMin: request.rangeMin,
+    rangeMax: request.rangeMax,
+    preferredSource: request.preferredSource,
+    temperaturePointsK: request.temperaturePointsK,
+    atmosphere: request.atmosphere,
+    samples: samples.map((s) => ({
+      label: s.label,
+      elements: s.elements,
+      form: s.form,
+      ghsPictograms: s.ghsPictograms,
+      specialHazards: s.specialHazards,
+    })),
+  };
+}
+
+/** Every approved lab against the request, fitting labs first, with reasons for each. */
+export async function matchLabsForRequest(requestId: string): Promise<LabMatch[]> {
+  const request = await loadMatchRequest(requestId);
+  if (!request) return [];
+  const labs = await loadMatchLabs();
+  return labs.map((lab) => matchLab(request, lab)).sort((a, b) => Number(b.fits) - Number(a.fits) || a.labName.localeCompare(b.labName));
+}
+
+/** The ids of approved labs that fit a request. */
+export async function labsMatchingRequest(requestId: string): Promise<string[]> {
+  return (await matchLabsForRequest(requestId)).filter((m) => m.fits).map((m) => m.labId);
+}
+
+/**
+ * A lab's inbox: open requests it fits (visibility `open`) and every open request it was invited to,
+ * each with the lab's match.
+ */
+export async function requestsMatchingLab(labId: string) {
+  const [lab] = await loadMatchLabs([labId]);
+  if (!lab) return [];
+  const invited = await db.select({ requestId: schema.requestInvitations.requestId }).from(schema.requestInvitations).where(eq(schema.requestInvitations.labId, labId));
+  const invitedIds = new Set(invited.map((i) => i.requestId));
+  const open = await db.select({ id: schema.requests.id }).from(schema.requests).where(eq(schema.requests.state, "open")).orderBy(asc(schema.requests.openedAt));
+  const out: { requestId: string; invited: boolean; match: LabMatch }[] = [];
+  for (const { id } of open) {
+    const request = await loadMatchRequest(id);
+    if (!request) continue;
+    const isInvited = invitedIds.has(id);
+    if (request.visibility === "invited" && !isInvited) continue;
+    const match = matchLab(request, lab);
+    if (match.fits || isInvited) out.push({ requestId: id, invited: isInvited, match });
+  }
+  return out;
+}

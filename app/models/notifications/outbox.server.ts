@@ -1,0 +1,215 @@
+// The transactional outbox: a milestone's e-mails and in-app notifications, written inside the state change's transaction.
+import { and, asc, eq, inArray, isNull, sql } from "drizzle-orm";
+import { schema } from "~/db/client.server";
+import type { Order } from "~/db/schema";
+import type { VettingState } from "~/domain/vetting";
+import type { OrderState } from "~/domain/order-states";
+import type { Tx } from "~/models/orders/lifecycle.server";
+import { invitationLetter, labApplicationLetter, passwordResetLetter, labDecisionLetter, orderLetter, quoteDecisionLetter, quoteReceivedLetter, requestOpenLetter, type Audience, type OrderContext } from "~/models/notifications/compose.server";
+import { renderLetter, type Letter } from "~/models/notifications/letters.server";
+import { isEssential, type MilestoneKind } from "~/domain/milestones";
+
+/** The channel the mail worker listens on; NOTIFY is delivered only when the writing transaction commits. */
+export const OUTBOX_CHANNEL = "diffractory_outbox";
+
+/** Something that happened and notifies people. */
+export type Milestone =
+  | { kind: "order_moved"; order: Order; from: OrderState; note: string }
+  | { kind: "review_window_ending"; order: Order }
+  | { kind: "request_open"; requestId: string; labIds: string[] }
+  | { kind: "quote_received"; quoteId: string }
+  | { kind: "quote_decided"; acceptedQuoteId: string; orderId: string }
+  | { kind: "lab_application_received"; labId: string }
+  | { kind: "lab_decided"; labId: string; to: VettingState; note: string }
+  /** The token travels only in the e-mail's link; the table keeps its hash. */
+  | { kind: "organisation_invitation"; invitationId: string; token: string }
+  /** Likewise: the reset link's token is only in the e-mail. */
+  | { kind: "password_reset"; tokenId: string; token: string };
+
+/** Which milestone each order state reports, and to whom (the order's two organisations, and admins). */
+export const ORDER_MILESTONES: Partial<Record<OrderState, { kind: MilestoneKind; to: Audience[] }>> = {
+  funds_held: { kind: "funds_held", to: ["client", "lab"] },
+  samples_in_transit: { kind: "samples_shipped", to: ["lab"] },
+  samples_received: { kind: "samples_received", to: ["client"] },
+  refused_on_arrival: { kind: "refused_on_arrival", to: ["client"] },
+  measuring: { kind: "measuring_started", to: ["client"] },
+  data_delivered: { kind: "data_delivered", to: ["client"] },
+  accepted: { kind: "delivery_accepted", to: ["client", "lab"] },
+  paid_out: { kind: "payout_sent", to: ["lab"] },
+  cancelled: { kind: "order_cancelled", to: ["client", "lab"] },
+  disputed: { kind: "dispute_opened", to: ["client", "lab", "admin"] },
+  resolved: { kind: "dispute_resolved", to: ["client", "lab"] },
+};
+
+interface Person {
+  /** Null for an address without an account yet (an invitation): e-mail only, no in-app notification. */
+  userId: string | null;
+  email: string;
+  name: string;
+}
+
+interface Outgoing {
+  kind: MilestoneKind;
+  person: Person;
+  letter: Letter;
+  orderId: string | null;
+}
+
+async function membersOf(tx: Tx, organisationIds: string[]): Promise<Person[]> {
+  if (organisationIds.length === 0) return [];
+  return tx
+    .selectDistinct({ userId: schema.users.id, email: schema.users.email, name: schema.users.name })
+    .from(schema.memberships)
+    .innerJoin(schema.users, eq(schema.users.id, schema.memberships.userId))
+    .where(inArray(schema.memberships.organisationId, organisationIds))
+    .orderBy(asc(schema.users.email));
+}
+
+async function admins(tx: Tx): Promise<Person[]> {
+  return tx
+    .select({ userId: schema.users.id, email: schema.users.email, name: schema.users.name })
+    .from(schema.users)
+    .where(eq(schema.users.isAdmin, true))
+    .orderBy(asc(schema.users.email));
+}
+
+async function orgName(tx: Tx, id: string) {
+  const [row] = await tx.select({ name: schema.organisations.name, city: schema.organisations.city, country: schema.organisations.country }).from(schema.organisations).where(eq(schema.organisations.id, id));
+  return row ?? { name: "—", city: null, country: null };
+}
+
+async function orderContext(tx: Tx, order: Order, note: string, withVerdicts: boolean): Promise<OrderContext> {
+  const [request] = await tx.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId));
+  const context: OrderContext = { order, requestTitle: request?.title ?? "—", clientName: (await orgName(tx, order.clientOrganisationId)).name, labName: (await orgName(tx, order.labId)).name, note };
+  if (withVerdicts) {
+    context.verdicts = await tx
+      .select({ sample: sql<string>`coalesce(${schema.samples.label}, '—')`, file: schema.orderFiles.name, verdict: sql<string>`coalesce(${schema.scanChecks.verdict}, ${schema.scanChecks.status}::text)` })
+      .from(schema.orderFiles)
+      .innerJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))
+      .leftJoin(schema.samples, eq(schema.samples.id, schema.orderFiles.sampleId))
+      .where(and(eq(schema.orderFiles.orderId, order.id), eq(schema.orderFiles.state, "stored"), isNull(schema.orderFiles.deletedAt)))
+      .orderBy(asc(schema.samples.position), asc(schema.orderFiles.name), asc(schema.orderFiles.version));
+  }
+  return context;
+}
+
+async function orderOutgoing(tx: Tx, order: Order, kind: MilestoneKind, audiences: Audience[], note: string): Promise<Outgoing[]> {
+  const context = await orderContext(tx, order, note, kind === "data_delivered");
+  const out: Outgoing[] = [];
+  for (const side of audiences) {
+    const people = side === "admin" ? await admins(tx) : await membersOf(tx, [side === "client" ? order.clientOrganisationId : order.labId]);
+    const letter = orderLetter(kind, context, side);
+    for (const person of people) out.push({ kind, person, letter, orderId: order.id });
+  }
+  return out;
+}
+
+async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
+  switch (m.kind) {
+    case "order_moved": {
+      const rule = ORDER_MILESTONES[m.order.state];
+      return rule ? orderOutgoing(tx, m.order, rule.kind, rule.to, m.note) : [];
+    }
+    case "review_window_ending":
+      return orderOutgoing(tx, m.order, "review_window_ending", ["client"], "");
+    case "request_open": {
+      const [r] = await tx.select().from(schema.requests).where(eq(schema.requests.id, m.requestId));
+      if (!r) return [];
+      const letter = requestOpenLetter({ id: r.id, title: r.title, clientName: (await orgName(tx, r.organisationId)).name, technique: r.technique, deadline: r.deadline ? String(r.deadline) : null });
+      return (await membersOf(tx, m.labIds)).map((person) => ({ kind: "request_open" as const, person, letter, orderId: null }));
+    }
+    case "quote_received": {
+      const [q] = await tx.select().from(schema.quotes).where(eq(schema.quotes.id, m.quoteId));
+      const [r] = q ? await tx.select().from(schema.requests).where(eq(schema.requests.id, q.requestId)) : [];
+      if (!q || !r) return [];
+      const letter = quoteReceivedLetter({ requestId: r.id, requestTitle: r.title, labName: (await orgName(tx, q.labId)).name, totalMinor: q.totalMinor, currency: q.currency, turnaroundDays: q.turnaroundDays, validUntil: q.validUntil });
+      return (await membersOf(tx, [r.organisationId])).map((person) => ({ kind: "quote_received" as const, person, letter, orderId: null }));
+    }
+    case "quote_decided": {
+      const [accepted] = await tx.select().from(schema.quotes).where(eq(schema.quotes.id, m.acceptedQuoteId));
+      const [r] = accepted ? await tx.select().from(schema.requests).where(eq(schema.requests.id, accepted.requestId)) : [];
+      if (!accepted || !r) return [];
+      const clientName = (await orgName(tx, r.organisationId)).name;
+      const declined = await tx
+        .select()
+        .from(schema.quotes)
+        .where(and(eq(schema.quotes.requestId, r.id), eq(schema.quotes.state, "declined"), sql`${schema.quotes.decidedAt} = ${accepted.decidedAt}`));
+      const out: Outgoing[] = [];
+      for (const q of [accepted, ...declined]) {
+        const isAccepted = q.id === accepted.id;
+        const letter = quoteDecisionLetter(isAccepted, { orderId: m.orderId, requestTitle: r.title, clientName, totalMinor: q.totalMinor, currency: q.currency });
+        for (const person of await membersOf(tx, [q.labId])) out.push({ kind: isAccepted ? "quote_accepted" : "quote_declined", person, letter, orderId: isAccepted ? m.orderId : null });
+      }
+      return out;
+    }
+    case "lab_application_received": {
+      const lab = await orgName(tx, m.labId);
+      const letter = labApplicationLetter({ labId: m.labId, labName: lab.name, city: lab.city, country: lab.country });
+      return (await admins(tx)).map((person) => ({ kind: "lab_application_received" as const, person, letter, orderId: null }));
+    }
+    case "lab_decided": {
+      if (m.to !== "approved" && m.to !== "rejected") return [];
+      const letter = labDecisionLetter(m.to === "approved", { labName: (await orgName(tx, m.labId)).name, note: m.note });
+      const kind = m.to === "approved" ? ("lab_approved" as const) : ("lab_rejected" as const);
+      return (await membersOf(tx, [m.labId])).map((person) => ({ kind, person, letter, orderId: null }));
+    }
+    case "organisation_invitation": {
+      const [inv] = await tx.select().from(schema.organisationInvitations).where(eq(schema.organisationInvitations.id, m.invitationId));
+      if (!inv) return [];
+      const [inviter] = inv.invitedBy ? await tx.select({ name: schema.users.name }).from(schema.users).where(eq(schema.users.id, inv.invitedBy)) : [];
+      const [account] = await tx.select({ id: schema.users.id, name: schema.users.name }).from(schema.users).where(sql`lower(${schema.users.email}) = lower(${inv.email})`);
+      const letter = invitationLetter({ token: m.token, organisationName: (await orgName(tx, inv.organisationId)).name, role: inv.role, inviterName: inviter?.name ?? null, expiresAt: inv.expiresAt });
+      const person: Person = { userId: account?.id ?? null, email: inv.email, name: account?.name ?? "there" };
+      return [{ kind: "organisation_invitation" as const, person, letter, orderId: null }];
+    }
+    case "password_reset": {
+      const [row] = await tx.select().from(schema.passwordResetTokens).where(eq(schema.passwordResetTokens.id, m.tokenId));
+      const [user] = row ? await tx.select({ email: schema.users.email, name: schema.users.name }).from(schema.users).where(eq(schema.users.id, row.userId)) : [];
+      if (!row || !user) return [];
+      // E-mail only: an in-app notification would keep the working link in the notification list.
+      const person: Person = { userId: null, email: user.email, name: user.name };
+      return [{ kind: "password_reset" as const, person, letter: passwordResetLetter({ token: m.token, expiresAt: row.expiresAt }), orderId: null }];
+    }
+  }
+}
+
+/**
+ * Writes a milestone's messages — one outbox row per recipient, and an in-app notification each — in the
+ * caller's transaction, so a rolled-back change leaves nothing behind and a committed one is sent by the
+ * mail worker even if this process stops right after the commit. Returns how many e-mails were queued.
+ */
+export async function notify(tx: Tx, milestone: Milestone): Promise<number> {
+  const all = await outgoingFor(tx, milestone);
+  // One message per person and kind, even when someone belongs to both sides or is also an admin.
+  const seen = new Set<string>();
+  const outgoing = all.filter((o) => {
+    const key = `${o.kind}:${o.person.userId ?? o.person.email.toLowerCase()}`;
+    if (seen.has(key)) return false;
+    seen.add(key);
+    return true;
+  });
+  if (outgoing.length === 0) return 0;
+
+  const optional = outgoing.filter((o) => !isEssential(o.kind) && o.person.userId);
+  const optedOut = new Set<string>();
+  if (optional.length) {
+    const rows = await tx
+      .select({ userId: schema.notificationPreferences.userId, kind: schema.notificationPreferences.kind })
+      .from(schema.notificationPreferences)
+      .where(and(inArray(schema.notificationPreferences.userId, optional.map((o) => o.person.userId!)), eq(schema.notificationPreferences.emailEnabled, false)));
+    for (const r of rows) optedOut.add(`${r.kind}:${r.userId}`);
+  }
+
+  const inApp = outgoing.flatMap((o) => (o.person.userId ? [{ userId: o.person.userId, kind: o.kind, orderId: o.orderId, title: o.letter.subject, href: o.letter.link.path }] : []));
+  if (inApp.length) await tx.insert(schema.notifications).values(inApp);
+  const mails = outgoing.filter((o) => !optedOut.has(`${o.kind}:${o.person.userId}`));
+  if (mails.length === 0) return 0;
+  await tx.insert(schema.outboxMessages).values(
+    mails.map((o) => {
+      const rendered = renderLetter(o.letter, o.person.name);
+      return { kind: o.kind, to: o.person.email, subject: rendered.subject, html: rendered.html, text: rendered.text, orderId: o.orderId, userId: o.person.userId, essential: isEssential(o.kind) };
+    }),
+  );
+  await tx.execute(sql`select pg_notify(${OUTBOX_CHANNEL}, '')`);
+  return mails.length;
+}

@@ -1,0 +1,353 @@
+// Measurement requests: drafts saved step by step, publishing, who may see a request, hazard acknowledgements.
+import { isUuid } from "~/domain/ids";
+import { and, asc, eq, inArray, sql } from "drizzle-orm";
+import { redirect } from "react-router";
+import { db, schema } from "~/db/client.server";
+import type { MarketRequest, Sample, SpecialHazard } from "~/db/schema";
+import { DOCUMENT_RULE, presignDownload, verifyStoredObject, type UploadRule } from "~/models/files/storage.server";
+import { notify } from "~/models/notifications/outbox.server";
+import { audit } from "~/models/audit.server";
+import { notFound, requireOrgRole } from "~/utils/permissions.server";
+import { parseFormula } from "~/domain/formula";
+import { labsMatchingRequest } from "~/models/labs/matching.server";
+import { declaresHazard } from "~/domain/hazards";
+import { WIZARD_STEPS, type MeasurementStep, type SamplesStep, type SampleHazardInput, type WizardStep } from "~/domain/request-forms";
+
+export { isUuid };
+
+type FieldErrors = Record<string, string[]>;
+
+/** The organisation's own request; anything else (another organisation's, a malformed id) is a thrown 404. */
+export async function requireOwnRequest(requestId: string | undefined, organisationId: string): Promise<MarketRequest> {
+  if (!isUuid(requestId)) notFound("No such request in your organisation.");
+  const [row] = await db
+    .select()
+    .from(schema.requests)
+    .where(and(eq(schema.requests.id, requestId), eq(schema.requests.organisationId, organisationId)));
+  if (!row) notFound("No such request in your organisation.");
+  return row;
+}
+
+export async function samplesOf(requestId: string): Promise<Sample[]> {
+  return db.select().from(schema.samples).where(eq(schema.samples.requestId, requestId)).orderBy(asc(schema.samples.position));
+}
+
+export async function invitedLabIds(requestId: string) {
+  const rows = await db.select({ labId: schema.requestInvitations.labId }).from(schema.requestInvitations).where(eq(schema.requestInvitations.requestId, requestId));
+  return rows.map((r) => r.labId);
+}
+
+/** Rows per page of the client's requests list: a screenful or two, and half the rendering of 50. */
+export const REQUESTS_PAGE_SIZE = 25;
+
+/**
+ * One page of the organisation's requests, grouped by state in the order of the request states (draft,
+ * open, awarded, expired, withdrawn) and newest first within a state, with their sample and quote counts;
+ * and how many requests are in each state. The (organisation, state, created_at) index serves the order.
+ */
+export async function listOrganisationRequests(organisationId: string, page = 1) {
+  const byState = await requestCountsByState.execute({ organisationId });
+  const total = byState.reduce((sum, s) => sum + s.n, 0);
+  const pageCount = Math.max(1, Math.ceil(total / REQUESTS_PAGE_SIZE));
+  const current = Math.min(Math.max(1, page), pageCount);
+  const requests = await requestsPage.execute({ organisationId, limit: REQUESTS_PAGE_SIZE, offset: (current - 1) * REQUESTS_PAGE_SIZE });
+  return { requests, page: current, pageCount, total, countByState: Object.fromEntries(byState.map((s) => [s.state, s.n])) as Partial<Record<MarketRequest["state"], number>> };
+}
+
+// The requests list is a client's most visited screen: both of its queries are named prepared statements.
+const requestCountsByState = db
+  .select({ state: schema.requests.state, n: sql<number>`count(*)::int` })
+  .from(schema.requests)
+  .where(eq(schema.requests.organisationId, sql.placeholder("organisationId")))
+  .groupBy(schema.requests.state)
+  .prepare("request_counts_by_state");
+
+const requestsPage = db
+  .select({
+    id: schema.requests.id,
+    title: schema.requests.title,
+    state: schema.requests.state,
+    draftStep: schema.requests.draftStep,
+    deadline: schema.requests.deadline,
+    createdAt: schema.requests.createdAt,
+    // Qualified by hand: inside the subquery an unqualified "id" would be the sample's or quote's own.
+    samples: sql<number>`(select count(*)::int from ${schema.samples} s where s.request_id = "requests"."id")`,
+    quotes: sql<number>`(select count(*)::int from ${schema.quotes} q where q.request_id = "requests"."id" and q.state in ('sent', 'accepted'))`,
+  })
+  .from(schema.requests)
+  .where(eq(schema.requests.organisationId, sql.placeholder("organisationId")))
+  // "nulls last" as in the index (created_at is never null): with the index's exact order PostgreSQL reads
+  // just the page's rows instead of sorting the organisation's.
+  .orderBy(asc(schema.requests.state), sql`${schema.requests.createdAt} desc nulls last`)
+  .limit(sql.placeholder("limit"))
+  .offset(sql.placeholder("offset"))
+  .prepare("requests_page");
+
+/** A sentence when the request can no longer be changed through the wizard, else null. */
+export function notEditable(request: MarketRequest): string | null {
+  return request.state === "draft" ? null : "This request has been published; its samples and needs can no longer be changed.";
+}
+
+const stepIndex = (step: string) => WIZARD_STEPS.findIndex((s) => s.slug === step);
+/** The step a draft resumes at: the furthest one reached. */
+const furthest = (current: string, next: WizardStep) => (stepIndex(next) > stepIndex(current) ? next : current);
+
+function sampleColumns(s: SamplesStep["samples"][number], position: number) {
+  const parsed = parseFormula(s.formula);
+  return {
+    position,
+    label: s.label,
+    formula: s.formula,
+    elements: "elements" in parsed ? parsed.elements : [],
+    form: s.form,
+    massMg: s.massMg,
+    expectedPhase: s.expectedPhase,
+    crystalSystem: s.crystalSystem,
+    centering: s.centering,
+    cellA: s.cellA,
+    cellB: s.cellB,
+    cellC: s.cellC,
+    cellAlpha: s.cellAlpha,
+    cellBeta: s.cellBeta,
+    cellGamma: s.cellGamma,
+  };
+}
+
+/** Starts a draft from the samples step. */
+export async function createDraft(organisationId: string, userId: string, input: SamplesStep) {
+  return db.transaction(async (tx) => {
+    const [request] = await tx
+      .insert(schema.requests)
+      .values({ organisationId, createdBy: userId, title: input.title, technique: input.technique, draftStep: "hazards" })
+      .returning();
+    await tx.insert(schema.samples).values(input.samples.map((s, i) => ({ requestId: request.id, ...sampleColumns(s, i) })));
+    await audit({ actorUserId: userId, organisationId, action: "request_draft_created", subjectType: "request", subjectId: request.id }, tx);
+    return request;
+  });
+}
+
+/**
+ * Saves the samples step of an existing draft: samples keep their id (and so their hazard declaration),
+ * new ones are added, the ones left out are removed. Ids that are not this request's are refused.
+ */
+export async function saveSamples(request: MarketRequest, input: SamplesStep): Promise<{ fieldErrors?: FieldErrors }> {
+  const existing = await samplesOf(request.id);
+  const known = new Set(existing.map((s) => s.id));
+  const foreign = input.samples.findIndex((s) => s.id && !known.has(s.id));
+  if (foreign >= 0) return { fieldErrors: { [`samples[${foreign}]`]: ["This sample is not part of the request; reload the page."] } };
+  await db.transaction(async (tx) => {
+    await tx
+      .update(schema.requests)
+      .set({ title: input.title, technique: input.technique, draftStep: furthest(request.draftStep, "hazards"), updatedAt: new Date() })
+      .where(eq(schema.requests.id, request.id));
+    const kept = input.samples.map((s) => s.id).filter((id): id is string => !!id);
+    const removed = existing.filter((s) => !kept.includes(s.id)).map((s) => s.id);
+    if (removed.length) await tx.delete(schema.samples).where(inArray(schema.samples.id, removed));
+    for (const [i, s] of input.samples.entries()) {
+      if (s.id) await tx.update(schema.samples).set(sampleColumns(s, i)).where(eq(schema.samples.id, s.id));
+      else await tx.insert(schema.samples).values({ requestId: request.id, ...sampleColumns(s, i) });
+    }
+  });
+  return {};
+}
+
+/** Safety data sheets are PDFs, within the document size limit. */
+export const SDS_RULE: UploadRule = { label: "a PDF", maxBytes: DOCUMENT_RULE.maxBytes, types: ["application/pdf"] };
+
+/** Storage keys of a request's safety data sheets start here, so a form cannot point at someone else's file. */
+export function sdsPrefix(request: Pick<MarketRequest, "id" | "organisationId">) {
+  return `requests/${request.organisationId}/${request.id}/sds`;
+}
+
+/**
+ * Saves every sample's hazard declaration. A newly uploaded safety data sheet is checked in storage first
+ * (exists, is a PDF or image, matches the browser's SHA-256); a failed check is a field error and nothing is saved.
+ */
+export async function saveHazards(request: MarketRequest, input: SampleHazardInput[]): Promise<{ fieldErrors?: FieldErrors }> {
+  const existing = await samplesOf(request.id);
+  const errors: FieldErrors = {};
+  const updates: { id: string; values: Partial<Sample> }[] = [];
+  for (const [i, h] of input.entries()) {
+    const sample = existing.find((s) => s.id === h.id);
+    if (!sample) {
+      errors[`samples[${i}].id`] = ["This sample is not part of the request; reload the page."];
+      continue;
+    }
+    const specialHazards: SpecialHazard[] = Object.entries(h.special)
+      .filter(([, e]) => e?.declared)
+      .map(([category, e]) => ({ category, details: e!.details ?? "", activityBq: category === "radioactive" ? (e!.activityBq ?? null) : null }));
+    const values: Partial<Sample> = {
+      ghsPictograms: h.ghs,
+      hStatements: h.hStatements,
+      specialHazards,
+      handlingNotes: h.handlingNotes || null,
+      afterMeasurement: h.afterMeasurement,
+    };
+    if (h.sdsStorageKey && h.sdsStorageKey !== sample.sdsStorageKey) {
+      if (!h.sdsStorageKey.startsWith(`${sdsPrefix(request)}/`)) {
+        errors[`samples[${i}].sds`] = ["Upload the safety data sheet on this page."];
+        continue;
+      }
+      const check = await verifyStoredObject(h.sdsStorageKey, SDS_RULE, h.sdsSha256);
+      if (!check.ok) {
+        errors[`samples[${i}].sds`] = [check.error];
+        continue;
+      }
+      Object.assign(values, { sdsStorageKey: h.sdsStorageKey, sdsFileName: h.sdsFileName || "safety-data-sheet.pdf", sdsSizeBytes: check.size });
+    }
+    updates.push({ id: sample.id, values });
+  }
+  if (Object.keys(errors).length) return { fieldErrors: errors };
+  await db.transaction(async (tx) => {
+    for (const u of updates) await tx.update(schema.samples).set(u.values).where(eq(schema.samples.id, u.id));
+    await tx
+      .update(schema.requests)
+      .set({ draftStep: furthest(request.draftStep, "measurement"), updatedAt: new Date() })
+      .where(eq(schema.requests.id, request.id));
+  });
+  return {};
+}
+
+export async function saveMeasurement(request: MarketRequest, m: MeasurementStep) {
+  await db
+    .update(schema.requests)
+    .set({
+      rangeKind: m.rangeKind,
+      rangeMin: m.rangeMin,
+      rangeMax: m.rangeMax,
+      preferredSource: m.preferredSource,
+      temperaturePointsK: m.temperaturePoints,
+      atmosphere: m.atmosphere,
+      quality: m.quality,
+      deadline: m.deadline,
+      budgetMinor: m.budget,
+      currency: m.currency,
+      draftStep: furthest(request.draftStep, "labs"),
+      updatedAt: new Date(),
+    })
+    .where(eq(schema.requests.id, request.id));
+}
+
+/** Saves who may quote; invited labs must be approved labs. */
+export async function saveVisibility(request: MarketRequest, visibility: "open" | "invited", labIds: string[]): Promise<{ fieldErrors?: FieldErrors }> {
+  const chosen = visibility === "invited" ? [...new Set(labIds)] : [];
+  if (chosen.length) {
+    const approved = await db
+      .select({ id: schema.labs.organisationId })
+      .from(schema.labs)
+      .where(and(inArray(schema.labs.organisationId, chosen), eq(schema.labs.vettingState, "approved")));
+    if (approved.length !== chosen.length) return { fieldErrors: { invitedLabIds: ["Only approved labs can be invited."] } };
+  }
+  await db.transaction(async (tx) => {
+    await tx
+      .update(schema.requests)
+      .set({ visibility, draftStep: furthest(request.draftStep, "review"), updatedAt: new Date() })
+      .where(eq(schema.requests.id, request.id));
+    await tx.delete(schema.requestInvitations).where(eq(schema.requestInvitations.requestId, request.id));
+    if (chosen.length) await tx.insert(schema.requestInvitations).values(chosen.map((labId) => ({ requestId: request.id, labId })));
+  });
+  return {};
+}
+
+/** What still stops a draft from being published, as sentences (empty when it is ready). */
+export function publishProblems(request: MarketRequest, samples: Sample[]): string[] {
+  const problems: string[] = [];
+  if (samples.length === 0) problems.push("Add at least one sample.");
+  for (const s of samples) {
+    if (declaresHazard(s) && !s.sdsStorageKey) {
+      problems.push(`Sample ${s.label} declares hazards: upload its safety data sheet on the hazards step before publishing.`);
+    }
+  }
+  if (request.rangeMin === null || request.rangeMax === null || !request.deadline) problems.push("Complete the measurement step (range and deadline).");
+  return problems;
+}
+
+/** Moves a complete draft to open; returns the problems instead when it is not complete. */
+export async function publishRequest(request: MarketRequest, userId: string): Promise<{ problems: string[] }> {
+  const problems = publishProblems(request, await samplesOf(request.id));
+  if (problems.length) return { problems };
+  const labIds = await labsToTell(request);
+  const published = await db.transaction(async (tx) => {
+    const rows = await tx
+      .update(schema.requests)
+      .set({ state: "open", openedAt: new Date(), draftStep: "review", updatedAt: new Date() })
+      .where(and(eq(schema.requests.id, request.id), eq(schema.requests.state, "draft")))
+      .returning({ id: schema.requests.id });
+    if (rows.length === 0) return false;
+    await audit({ actorUserId: userId, organisationId: request.organisationId, action: "request_published", subjectType: "request", subjectId: request.id }, tx);
+    await notify(tx, { kind: "request_open", requestId: request.id, labIds });
+    return true;
+  });
+  if (!published) return { problems: ["This request has already been published."] };
+  return { problems: [] };
+}
+
+/** Who hears of a newly open request: the invited labs of an invited-only request, else every matching lab. */
+async function labsToTell(request: MarketRequest): Promise<string[]> {
+  if (request.visibility !== "invited") return labsMatchingRequest(request.id);
+  const invited = await db.select({ labId: schema.requestInvitations.labId }).from(schema.requestInvitations).where(eq(schema.requestInvitations.requestId, request.id));
+  return invited.map((i) => i.labId);
+}
+
+// ───────────── The lab's side ─────────────
+
+/**
+ * A request as a lab may see it: open and visible to the lab (open to all, or invited), or one the lab has
+ * quoted on. Anything else is a thrown 404, so a lab cannot tell another's invitation from a missing request.
+ */
+export async function requireRequestForLab(requestId: string | undefined, labId: string): Promise<MarketRequest> {
+  if (!isUuid(requestId)) notFound("No such request.");
+  const [row] = await db
+    .select()
+    .from(schema.requests)
+    .where(
+      and(
+        eq(schema.requests.id, requestId),
+        sql`(
+          (${schema.requests.state} = 'open' and (${schema.requests.visibility} = 'open' or exists (
+            select 1 from ${schema.requestInvitations} i where i.request_id = ${schema.requests.id} and i.lab_id = ${labId})))
+          or exists (select 1 from ${schema.quotes} q where q.request_id = ${schema.requests.id} and q.lab_id = ${labId})
+        )`,
+      ),
+    );
+  if (!row) notFound("No such request.");
+  return row;
+}
+
+export async function acknowledgementOf(requestId: string, labId: string) {
+  const [row] = await db
+    .select({ userId: schema.hazardAcknowledgements.userId, name: schema.users.name, at: schema.hazardAcknowledgements.acknowledgedAt })
+    .from(schema.hazardAcknowledgements)
+    .innerJoin(schema.users, eq(schema.users.id, schema.hazardAcknowledgements.userId))
+    .where(and(eq(schema.hazardAcknowledgements.requestId, requestId), eq(schema.hazardAcknowledgements.labId, labId)));
+  return row ?? null;
+}
+
+/** Records that a lab member has read the hazard declaration; the first acknowledgement per lab stands. */
+export async function acknowledgeHazards(requestId: string, labId: string, userId: string) {
+  await db.insert(schema.hazardAcknowledgements).values({ requestId, labId, userId }).onConflictDoNothing();
+  await audit({ actorUserId: userId, organisationId: labId, action: "hazards_acknowledged", subjectType: "request", subjectId: requestId });
+  return acknowledgementOf(requestId, labId);
+}
+
+/**
+ * A wizard step's access check, called by each step's loader and action: a client member and the
+ * organisation's own request.
+ */
+export async function requireOwnDraft(request: Request, requestId: string | undefined) {
+  const actor = await requireOrgRole(request, "client");
+  const row = await requireOwnRequest(requestId, actor.membership.organisation.id);
+  return { actor, row };
+}
+
+/** Loaders of wizard steps send a published request to its own page. */
+export function redirectIfPublished(row: MarketRequest) {
+  if (row.state !== "draft") throw redirect(`/client/requests/${row.id}`);
+}
+
+/** Short-lived download links of the samples' safety data sheets, by sample id. */
+export async function sdsLinks(samples: Sample[]) {
+  const links: Record<string, string> = {};
+  for (const s of samples) if (s.sdsStorageKey) links[s.id] = await presignDownload(s.sdsStorageKey, s.sdsFileName ?? undefined);
+  return links;
+}

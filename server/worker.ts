@@ -1,0 +1,24 @@
+// The job worker process: runs the queue handlers (review-window payouts, and later scan checks and e-mail).
+import { getBoss, startWorkers, stopBoss } from "~/jobs/queues.server";
+
+// A worker started while PostgreSQL is unreachable (restarting, or not up yet) waits for it instead of exiting.
+async function startWhenReachable() {
+  for (let attempt = 1; ; attempt++) {
+    try {
+      return await getBoss();
+    } catch (err) {
+      console.warn(`worker: the database cannot be reached (${(err as Error).message}); trying again in 2 s (attempt ${attempt})`);
+      await new Promise((r) => setTimeout(r, 2000));
+    }
+  }
+}
+
+const boss = await startWhenReachable();
+await startWorkers(boss);
+console.log("Diffractory worker is running");
+for (const signal of ["SIGTERM", "SIGINT"] as const) {
+  process.on(signal, async () => {
+    await stopBoss();
+    process.exit(0);
+  });
+}
