@@ -44,7 +44,6 @@ export default [
       route("orders/:id", "routes/client/order.tsx"),
       route("orders/:id/payment", "routes/client/order-payment.tsx"),
       route("orders/:id/packing-slip", "routes/client/packing-slip.tsx"),
-      route(":section", "routes/workspace-section.tsx", { id: "client-section" }),
     ]),
     route("requests/:id/sds-upload", "routes/client/request-sds-upload.ts"),
   ]),
@@ -63,7 +62,6 @@ export default [
       route("payouts", "routes/lab/payouts.tsx"),
       route("work-queue", "routes/lab/work-queue.tsx"),
       route("orders/:id", "routes/lab/order.tsx"),
-      route(":section", "routes/workspace-section.tsx", { id: "lab-section" }),
     ]),
     route("vetting/upload", "routes/lab/vetting-upload.ts"),
     route("orders/:id/uploads", "routes/lab/order-uploads.ts"),
@@ -79,7 +77,6 @@ export default [
       route("ledger", "routes/admin/ledger.tsx"),
       route("disputes", "routes/admin/disputes.tsx"),
       route("outbox", "routes/admin/outbox.tsx"),
-      route(":section", "routes/workspace-section.tsx", { id: "admin-section" }),
     ]),
   ]),
 

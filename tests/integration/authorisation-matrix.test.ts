@@ -99,7 +99,6 @@ const EXPECTED: Record<string, Expect> = {
   "routes/client/order": { loader: orderClient, action: orderClientAction },
   "routes/client/order-payment": { loader: orderClient },
   "routes/client/packing-slip": { loader: orderClient },
-  "client-section": { loader: clientWorkspace },
   "routes/client/request-sds-upload": { action: orderClientAction },
 
   "lab-layout": { loader: labWorkspace },
@@ -118,7 +117,6 @@ const EXPECTED: Record<string, Expect> = {
   "routes/lab/payouts": { loader: labWorkspace, action: signedIn("forbidden", { labManager: "ok", otherLab: "ok" }) },
   "routes/lab/work-queue": { loader: labWorkspace },
   "routes/lab/order": { loader: orderLab, action: orderLabAction },
-  "lab-section": { loader: labWorkspace },
   "routes/lab/vetting-upload": { action: labManagerAction },
   "routes/lab/order-uploads": { action: orderLabAction },
   "routes/lab/order-upload": { action: orderLabAction },
@@ -132,7 +130,6 @@ const EXPECTED: Record<string, Expect> = {
   "routes/admin/ledger": { loader: adminPage },
   "routes/admin/disputes": { loader: adminPage, action: adminAction },
   "routes/admin/outbox": { loader: adminPage, action: adminAction },
-  "admin-section": { loader: adminPage },
   "routes/admin/ledger-export": { loader: adminPage },
 
   "routes/check": { loader: orderParties },
@@ -276,7 +273,6 @@ beforeAll(async () => {
     fileId: file.id,
     labId: w.granite.id,
     slug: w.granite.slug,
-    section: "orders",
     token,
   });
   // Routes whose :id is not an order.
@@ -292,9 +288,6 @@ function paramsFor(route: Walked) {
   if (/payments\/:id/.test(route.path)) p.id = requestIds.payment;
   if (/invitations\/:token/.test(route.path)) p.token = requestIds.invitation;
   if (/reset-password\/:token/.test(route.path)) p.token = requestIds.passwordReset;
-  // A section that exists in each workspace.
-  if (route.path === "/lab/:section") p.section = "quotes";
-  if (route.path === "/admin/:section") p.section = "ledger";
   return p;
 }
 
