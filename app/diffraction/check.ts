@@ -11,6 +11,7 @@ import {
   twoThetaFromD,
 } from "./cell";
 import { type CubicIndexing, indexCubic } from "./index-cubic";
+import { refinedLineShift } from "./line-shifts";
 import { deWolffM20, smithSnyderFN } from "./merit";
 import { type ParseScanOptions, type Scan, parseScan } from "./parse-scan";
 import { analysePeaks, type FittedPeak } from "./peaks";
@@ -339,10 +340,7 @@ function checkedPeak(
 
 function observedPosition(d: number, wavelength: number, refinement: Refinement): number {
   const bragg = twoThetaFromD(d, wavelength);
-  if (refinement.displacement !== 0) {
-    return bragg + (-2 * refinement.displacement * Math.cos((bragg * Math.PI) / 360) * 180) / (Math.PI * refinement.radiusMm);
-  }
-  return bragg + refinement.zeroShift;
+  return bragg + refinedLineShift(bragg, refinement);
 }
 
 function cellDeviation(cell: Cell, declared: Cell): CellDeviation {

@@ -2,7 +2,7 @@
 // zero shift or a specimen displacement.
 //
 // Model, 2θ in degrees: 2θ_obs = 2θ(Q(p)) + Z  (zero shift), or 2θ_obs = 2θ(Q(p)) − (360/π)·s·cos θ / R
-// (specimen displacement s on a goniometer of radius R; REFERENCE.md, common practice). Q = 1/d² is linear
+// (specimen displacement s on a goniometer of radius R; line-shifts.ts). Q = 1/d² is linear
 // in the system's free reciprocal-metric parameters p, so each Gauss–Newton step is a small weighted
 // linear fit; the weights are the peak-position uncertainties from the profile fits.
 
@@ -16,6 +16,7 @@ import {
   qDesignRow,
 } from "./cell";
 import { invertSymmetric, matVec, squareMatrix, type SquareMatrix } from "./least-squares";
+import { displacementShift, displacementShiftAtTheta, refinedLineShift } from "./line-shifts";
 import type { IndexedLine } from "./merit";
 import { allowedReflections, type Reflection } from "./reflections";
 import { lowerBound, median } from "./sorted";
@@ -97,7 +98,7 @@ function predict(q: number, shift: number, options: RefineOptions, radius: numbe
 
 function correction(twoTheta: number, shift: number, options: RefineOptions, radius: number): number {
   if ((options.correction ?? "zero_shift") === "zero_shift") return shift;
-  return (-2 * shift * Math.cos((twoTheta * RAD) / 2) * DEG) / radius;
+  return displacementShift(twoTheta, shift, radius);
 }
 
 function qOf(system: CrystalSystem, p: number[], r: Reflection): number {
@@ -310,7 +311,7 @@ function coarseSearch(
   }
   const p = startP.map((x) => x / (1 + best.scale) ** 2);
   if (zeroOnly) return { p, shift: best.zero };
-  // Displacement start equal to the zero offset at the strong peaks' median angle.
+  // Displacement start equal to the zero offset at the strong peaks' median angle (displacementShiftAtTheta solved for s).
   const thetaMid = thetas[Math.floor(0.5 * (thetas.length - 1))];
   return { p, shift: (-best.zero * radius * RAD) / (2 * Math.cos(thetaMid)) };
 }
@@ -432,7 +433,7 @@ function positionGradient(options: RefineOptions, r: Reflection, q: number, radi
   const theta = Math.asin((options.wavelength * Math.sqrt(q)) / 2);
   const slope = (options.wavelength / (2 * Math.sqrt(q) * Math.cos(theta))) * DEG;
   const zeroModel = (options.correction ?? "zero_shift") === "zero_shift";
-  return [...qDesignRow(options.system, r).map((x) => x * slope), zeroModel ? 1 : (-2 * Math.cos(theta) * DEG) / radius];
+  return [...qDesignRow(options.system, r).map((x) => x * slope), zeroModel ? 1 : displacementShiftAtTheta(theta, 1, radius)];
 }
 
 interface LinearStep {
@@ -558,10 +559,7 @@ export function figuresOfMeritLines(
   refinement: Refinement,
   wavelength: number,
 ): { lines: IndexedLine[]; calculatedQ: number[]; calculatedTwoTheta: number[] } {
-  const offset = (twoThetaBragg: number) =>
-    refinement.displacement !== 0
-      ? (-2 * refinement.displacement * Math.cos((twoThetaBragg * RAD) / 2) * DEG) / (refinement.radiusMm ?? 240)
-      : refinement.zeroShift;
+  const offset = (twoThetaBragg: number) => refinedLineShift(twoThetaBragg, refinement);
   const bragg = (d: number) => 2 * Math.asin(Math.min(wavelength / (2 * d), 1)) * DEG;
   const lines = refinement.assignments.map((a): IndexedLine => {
     const d = a.reflection.d;

@@ -3,6 +3,7 @@
 
 import { type Cell, type Centering, type CrystalSystem, twoThetaFromD } from "./cell";
 import { formFactor } from "./form-factors";
+import { displacementShift } from "./line-shifts";
 import { allowedReflections } from "./reflections";
 import type { AtomSite, CrystalStructure } from "./structures";
 import { type Radiation, radiationLines } from "./wavelengths";
@@ -167,10 +168,8 @@ export function scherrerBroadening(twoTheta: number, wavelength: number, sizeNm:
   return ((0.9 * wavelength) / (sizeNm * 10 * Math.cos((twoTheta / 2) * RAD))) / RAD;
 }
 
-/** Peak shift (degrees 2θ) of a specimen displaced by s from the focusing circle: Δ2θ = −2 s cos θ / R rad (common practice). */
-export function displacementShift(twoTheta: number, displacement: number, radius: number): number {
-  return ((-2 * displacement * Math.cos((twoTheta / 2) * RAD)) / radius) / RAD;
-}
+// Re-exported so that callers and tests take the shift from the simulator with its other line-position pieces.
+export { displacementShift };
 
 function isotropicB(site: AtomSite, defaultB: number): number {
   if (site.bIso !== undefined) return site.bIso;
