@@ -50,7 +50,7 @@ export const config = {
     host: env.STRIPE_API_HOST ?? "127.0.0.1",
     port: num("STRIPE_API_PORT", ports.payments),
     protocol: (env.STRIPE_API_PROTOCOL ?? "http") as "http" | "https",
-    /** The platform's share of an accepted order, in basis points (800 = 8 %, DESIGN.md). */
+    /** The platform's share of an accepted order, in basis points (800 = 8 %, docs/design.md#money-flow). */
     platformFeeBps: num("PLATFORM_FEE_BPS", 800),
     /** How long one provider call may take before the SDK gives up (it then retries once). */
     timeoutMs: num("STRIPE_TIMEOUT_MS", 10_000),

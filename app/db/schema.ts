@@ -23,7 +23,7 @@ import {
 } from "drizzle-orm/pg-core";
 
 export const organisationKind = pgEnum("organisation_kind", ["client", "lab"]);
-/** Client organisations have owners and members; labs have managers and operators (DESIGN.md). */
+/** Client organisations have owners and members; labs have managers and operators (docs/design.md#roles). */
 export const membershipRole = pgEnum("membership_role", ["owner", "member", "manager", "operator"]);
 
 const createdAt = () => timestamp("created_at", { withTimezone: true }).notNull().defaultNow();

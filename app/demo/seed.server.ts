@@ -1,4 +1,4 @@
-// Seeds the invented demo scenario of DESIGN.md; running it again changes nothing that is already there.
+// Seeds the invented demo scenario of docs/design.md#demo-scenario; running it again changes nothing that is already there.
 import { and, eq, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { MembershipRole, OrganisationKind } from "~/db/schema";

@@ -125,7 +125,7 @@ export function intensityVariance(intensity: Float64Array, esd?: Float64Array): 
  * Typical FWHM (degrees) of the strongest peaks, measured directly at half height above the local
  * minimum; it sets the background window and the search filter before any fit. Only maxima standing well
  * clear of the noise count, so noise spikes on a weak pattern do not pass for narrow peaks; without any,
- * ten steps (scans are sampled with at least five points across a FWHM, REFERENCE.md).
+ * ten steps (scans are sampled with at least five points across a FWHM, docs/reference-values.md#facts-of-the-trade).
  */
 export function estimatePeakWidth(twoTheta: Float64Array, intensity: Float64Array, variance?: Float64Array): number {
   const n = twoTheta.length;

@@ -32,7 +32,7 @@ export interface CrystalStructure {
 // `atoms` were expanded from `sites` once with gemmi's space-group operators
 // (tests/reference/expand_sites.py); tests/diffraction/structures.test.ts repeats the expansion.
 
-/** Silicon, F d -3 m:1. Si on 8a, origin choice 1 (common textbook value); cell: NIST SRM 640c certificate (REFERENCE.md). */
+/** Silicon, F d -3 m:1. Si on 8a, origin choice 1 (common textbook value); cell: NIST SRM 640c certificate (docs/reference-values.md#certified-lattice-parameters). */
 export const SILICON: CrystalStructure = {
   name: "Silicon",
   formula: "Si",
@@ -55,7 +55,7 @@ export const SILICON: CrystalStructure = {
   ],
 };
 
-/** Lanthanum hexaboride, P m -3 m. La on 1a, B on 6f with x = 0.1996 (from memory, common textbook value); cell: NIST SRM 660c certificate (REFERENCE.md). */
+/** Lanthanum hexaboride, P m -3 m. La on 1a, B on 6f with x = 0.1996 (from memory, common textbook value); cell: NIST SRM 660c certificate (docs/reference-values.md#certified-lattice-parameters). */
 export const LANTHANUM_HEXABORIDE: CrystalStructure = {
   name: "Lanthanum hexaboride",
   formula: "LaB6",
@@ -102,7 +102,7 @@ export const HALITE: CrystalStructure = {
   ],
 };
 
-/** Cerium dioxide, F m -3 m. Ce on 4a, O on 8c (fluorite type, common textbook value); cell: NIST SRM 674b (REFERENCE.md). */
+/** Cerium dioxide, F m -3 m. Ce on 4a, O on 8c (fluorite type, common textbook value); cell: NIST SRM 674b (docs/reference-values.md#certified-lattice-parameters). */
 export const CERIA: CrystalStructure = {
   name: "Cerium dioxide",
   formula: "CeO2",
@@ -130,7 +130,7 @@ export const CERIA: CrystalStructure = {
   ],
 };
 
-/** Titanium dioxide (rutile), P 42/m n m. Ti on 2a, O on 4f with x = 0.3049 (from memory, common textbook value); cell: NIST SRM 674b (REFERENCE.md). */
+/** Titanium dioxide (rutile), P 42/m n m. Ti on 2a, O on 4f with x = 0.3049 (from memory, common textbook value); cell: NIST SRM 674b (docs/reference-values.md#certified-lattice-parameters). */
 export const RUTILE: CrystalStructure = {
   name: "Titanium dioxide (rutile)",
   formula: "TiO2",
@@ -152,7 +152,7 @@ export const RUTILE: CrystalStructure = {
   ],
 };
 
-/** Zinc oxide (zincite), P 63 m c. Zn and O on 2b, O at z = 0.3825 (from memory, common textbook value); cell: NIST SRM 674b (REFERENCE.md). */
+/** Zinc oxide (zincite), P 63 m c. Zn and O on 2b, O at z = 0.3825 (from memory, common textbook value); cell: NIST SRM 674b (docs/reference-values.md#certified-lattice-parameters). */
 export const ZINCITE: CrystalStructure = {
   name: "Zinc oxide (zincite)",
   formula: "ZnO",
@@ -172,7 +172,7 @@ export const ZINCITE: CrystalStructure = {
   ],
 };
 
-/** Aluminium oxide (corundum), R -3 c:H. Al on 12c with z = 0.35216, O on 18e with x = 0.30624 (from memory, common textbook values); cell: NIST SRM 676a (REFERENCE.md). */
+/** Aluminium oxide (corundum), R -3 c:H. Al on 12c with z = 0.35216, O on 18e with x = 0.30624 (from memory, common textbook values); cell: NIST SRM 676a (docs/reference-values.md#certified-lattice-parameters). */
 export const CORUNDUM: CrystalStructure = {
   name: "Aluminium oxide (corundum)",
   formula: "Al2O3",

@@ -1,6 +1,6 @@
 // The verdict of a lattice check — consistent, review or inconsistent — by a fixed, documented rule.
 //
-// The rule (also in docs/decisions/lattice-check-verdict.md). "Strong peaks" are the ten observed peaks
+// The rule (also in docs/decisions/007-lattice-check-verdict.md). "Strong peaks" are the ten observed peaks
 // of largest integrated intensity (all of them when there are fewer).
 //
 // inconsistent, when any of:
@@ -20,7 +20,7 @@
 //   7. no unindexed peak is stronger than 10 % of the strongest peak (a possible impurity phase);
 //   8. every cell length is within 0.5 % of the declared one and every angle within 0.5°;
 //   9. every refined length has a relative standard uncertainty below 10⁻³ (the refinement is precise
-//      enough to judge 8; lab instruments reproduce cells to about ±0.001 Å, REFERENCE.md).
+//      enough to judge 8; lab instruments reproduce cells to about ±0.001 Å, docs/reference-values.md#facts-of-the-trade).
 // review otherwise. Each reason is one plain sentence. Thresholds other than M20's are Diffractory's own
 // choices (common practice for routine phase checks), not published values.
 

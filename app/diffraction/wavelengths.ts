@@ -8,7 +8,7 @@ export const ANODES: readonly Anode[] = ["Cr", "Fe", "Co", "Cu", "Mo", "Ag"];
 /**
  * Kα1, Kα2 and Kβ wavelengths in Å. λ = 12398.41857 eV·Å / E (International Tables for
  * Crystallography Vol. C §4.2.2.14), E from the NIST X-ray Transition Energies Database
- * (Deslattes et al. 2003, Rev. Mod. Phys. 75, 35); values as tabulated in REFERENCE.md.
+ * (Deslattes et al. 2003, Rev. Mod. Phys. 75, 35); values as tabulated in docs/reference-values.md#x-ray-wavelengths.
  */
 export const ANODE_LINES: Record<Anode, { kAlpha1: number; kAlpha2: number; kBeta: number }> = {
   Cr: { kAlpha1: 2.289726, kAlpha2: 2.293651, kBeta: 2.084881 },
@@ -77,7 +77,7 @@ export function wavelengthFromKeV(energyKeV: number): number {
 }
 
 /**
- * K absorption edge energies in keV (lib: xraylib 4.0.0 EdgeEnergy(Z, K_SHELL)); REFERENCE.md lists
+ * K absorption edge energies in keV (lib: xraylib 4.0.0 EdgeEnergy(Z, K_SHELL)); docs/reference-values.md#k-absorption-edges lists
  * V, Cr, Mn, Fe, Co, Ni, Zr, Rh, Pd. An element whose edge lies just below a source's Kα energy
  * fluoresces under it (iron under copper radiation is the classic case).
  */

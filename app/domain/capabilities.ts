@@ -1,4 +1,4 @@
-// What a lab's instruments can do: the vocabularies of DESIGN.md and the validated forms of the capabilities editor.
+// What a lab's instruments can do: the vocabularies of docs/design.md#instruments-and-capabilities and the validated forms of the capabilities editor.
 import { z } from "zod";
 import { ANODE_LINES, type Anode, type Monochromation } from "~/diffraction/wavelengths";
 import { SPECIAL_CATEGORY_CODES, GHS_CODES } from "~/domain/hazard-codes";

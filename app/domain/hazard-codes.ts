@@ -1,6 +1,6 @@
 // The hazard vocabularies labs accept and clients declare: UN GHS pictograms and Diffractory's special categories.
 
-/** UN GHS pictograms with their names and what they cover (REFERENCE.md "Hazard vocabularies"). */
+/** UN GHS pictograms with their names and what they cover (docs/reference-values.md#hazard-vocabularies). */
 export const GHS_PICTOGRAMS = [
   { code: "GHS01", name: "Exploding bomb", covers: "explosives, self-reactives, organic peroxides" },
   { code: "GHS02", name: "Flame", covers: "flammables, pyrophorics, self-heating, water-reactive" },
@@ -20,7 +20,7 @@ export function ghsName(code: string) {
   return GHS_PICTOGRAMS.find((p) => p.code === code)?.name ?? code;
 }
 
-/** Hazards outside GHS that a lab must accept explicitly (DESIGN.md). */
+/** Hazards outside GHS that a lab must accept explicitly (docs/design.md#hazard-declarations). */
 export const SPECIAL_CATEGORIES = [
   { code: "radioactive", label: "Radioactive" },
   { code: "beryllium", label: "Beryllium-containing" },

@@ -1,4 +1,4 @@
-// Can this lab do this request? The matching rules of DESIGN.md as pure functions, with reasons in words.
+// Can this lab do this request? The matching rules of docs/design.md#matching as pure functions, with reasons in words.
 import { ANODE_LINES, K_EDGE_KEV, photonEnergyKeV, type Anode } from "~/diffraction/wavelengths";
 import { dSpacingCoverage, qMax } from "~/domain/coverage";
 

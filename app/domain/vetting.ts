@@ -26,7 +26,7 @@ export const DECISIONS = {
 } as const satisfies Record<string, { from: VettingState[]; to: VettingState }>;
 export type Decision = keyof typeof DECISIONS;
 
-/** Line-position standards with their certified cells (REFERENCE.md, from the NIST certificates). */
+/** Line-position standards with their certified cells (docs/reference-values.md#certified-lattice-parameters, from the NIST certificates). */
 export const CALIBRATION_STANDARDS = {
   si_srm640c: { label: "Silicon, NIST SRM 640c", a: 5.4311946, uncertainty: 0.0000092, centering: "F" },
   lab6_srm660c: { label: "LaB6, NIST SRM 660c", a: 4.156826, uncertainty: 0.00008, centering: "P" },
@@ -36,7 +36,7 @@ export const CALIBRATION_STANDARD_KEYS = Object.keys(CALIBRATION_STANDARDS) as [
 
 /**
  * An approval needs |refined a − certified a| at most this, in Å. Lab instruments reproduce lattice
- * parameters to about ±0.001 Å without an internal standard (REFERENCE.md, facts of the trade); a
+ * parameters to about ±0.001 Å without an internal standard (docs/reference-values.md#facts-of-the-trade); a
  * calibration scan of the standard itself should do better, and the certificates' own uncertainties
  * (≤ 0.00008 Å) are far smaller, so half that reproducibility is the bar.
  */

@@ -116,7 +116,7 @@ describe("admin journey", () => {
     await check.getByText("Within tolerance").waitFor();
     await check.getByRole("img", { name: /Calibration scan of Silicon, NIST SRM 640c/ }).waitFor();
     // The refined cell against the certified one: NIST SRM 640c, a = 5.4311946 ± 0.0000092 Å (its certificate,
-    // REFERENCE.md); approval needs |Δa| ≤ 0.0005 Å.
+    // docs/reference-values.md#certified-lattice-parameters); approval needs |Δa| ≤ 0.0005 Å.
     const refined = Number((await check.getByRole("definition").nth(2).textContent())!.match(/^\s*(\d+\.\d+)/)![1]);
     const certified = Number((await check.getByRole("definition").nth(3).textContent())!.match(/^\s*(\d+\.\d+)/)![1]);
     expect(certified).toBeCloseTo(5.4311946, 6);
@@ -157,7 +157,7 @@ describe("admin journey", () => {
     await checkAccessibility(page, "admin-disputes");
     await step(page, "disputes-open");
 
-    // A split: 30 % back to the client, the rest to the lab minus the 8 % platform fee (DESIGN.md).
+    // A split: 30 % back to the client, the rest to the lab minus the 8 % platform fee (docs/design.md#money-flow).
     refundMinor = Math.round(heldMinor * 0.3);
     const payoutPart = heldMinor - refundMinor;
     payoutMinor = payoutPart - Math.round((payoutPart * 800) / 10_000);

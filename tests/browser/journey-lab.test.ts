@@ -67,10 +67,10 @@ beforeAll(async () => {
   dir = fs.mkdtempSync(path.join(os.tmpdir(), "diffractory-journey-lab-"));
   fs.writeFileSync(path.join(dir, "iso17025-certificate.pdf"), MINIMAL_PDF);
   fs.writeFileSync(path.join(dir, "zno-sds.pdf"), MINIMAL_PDF);
-  // The calibration scan: silicon simulated from the NIST SRM 640c cell (REFERENCE.md) on Cu Kα1+Kα2.
+  // The calibration scan: silicon simulated from the NIST SRM 640c cell (docs/reference-values.md#certified-lattice-parameters) on Cu Kα1+Kα2.
   fs.writeFileSync(path.join(dir, "k1-si640c.xy"), simulatedXy("Silicon SRM 640c calibration, instrument K1", { structure: SILICON, from: 15, to: 140, background: 110, slope: -0.3, seed: 640 }));
   // The delivered scan: zincite simulated by the engine on the lab's Cu instrument, a lot slightly off the
-  // cell of NIST SRM 674b (REFERENCE.md) as a real batch would be.
+  // cell of NIST SRM 674b (docs/reference-values.md#certified-lattice-parameters) as a real batch would be.
   fs.writeFileSync(
     path.join(dir, `${SAMPLE}_Cu_20-120.xy`),
     simulatedXy(`${SAMPLE} zinc oxide (simulated)`, { structure: ZINCITE, cell: { a: 3.2503, b: 3.2503, c: 5.2071, alpha: 90, beta: 90, gamma: 120 }, from: 20, to: 120, background: 140, slope: -0.4, seed: 674 }),
@@ -423,7 +423,7 @@ describe("lab journey", () => {
     await page.getByText(/Delivery accepted/).first().waitFor();
     await step(page, "client-delivery-accepted", "client-delivery-accepted");
 
-    // The payout: the quote total 200.00 minus the 8 % platform fee (DESIGN.md) = 184.00, shown once it exists.
+    // The payout: the quote total 200.00 minus the 8 % platform fee (docs/design.md#money-flow) = 184.00, shown once it exists.
     const payouts = lab.page;
     await visit(payouts, "/lab/payouts");
     const table = payouts.getByRole("table", { name: "Payouts" });

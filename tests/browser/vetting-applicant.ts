@@ -24,7 +24,7 @@ export interface Applicant {
   seed: number;
 }
 
-/** Writes accreditation.pdf and si-640c.xy (a silicon scan from the NIST SRM 640c cell, REFERENCE.md, on Cu Kα1+Kα2) into `dir`. */
+/** Writes accreditation.pdf and si-640c.xy (a silicon scan from the NIST SRM 640c cell, docs/reference-values.md#certified-lattice-parameters, on Cu Kα1+Kα2) into `dir`. */
 export function writeVettingFiles(dir: string, seed: number) {
   fs.writeFileSync(path.join(dir, "accreditation.pdf"), MINIMAL_PDF);
   fs.writeFileSync(path.join(dir, "si-640c.xy"), simulatedXy("Silicon SRM 640c calibration", { structure: SILICON, from: 15, to: 140, background: 120, slope: -0.3, seed }));

@@ -1,4 +1,4 @@
-// Cell geometry, Bragg's law, wavelengths and reflection lists against hand calculations, REFERENCE.md and gemmi.
+// Cell geometry, Bragg's law, wavelengths and reflection lists against hand calculations, docs/reference-values.md and gemmi.
 import { describe, expect, it } from "vitest";
 import {
   type Cell,
@@ -53,10 +53,10 @@ function textbookD(cell: Cell, h: number, k: number, l: number): number {
 }
 
 describe("Bragg's law", () => {
-  it("gives Si 111 at 28.442° for a = 5.431 Å with Cu Kα1 (REFERENCE.md silicon table)", () => {
+  it("gives Si 111 at 28.442° for a = 5.431 Å with Cu Kα1 (docs/reference-values.md#silicon-reflections)", () => {
     const d = dSpacing(cubic(5.431), { h: 1, k: 1, l: 1 });
-    expect(d).toBeCloseTo(3.1356, 4); // REFERENCE.md
-    expect(twoThetaFromD(d, 1.5405929)).toBeCloseTo(28.442, 3); // REFERENCE.md
+    expect(d).toBeCloseTo(3.1356, 4); // docs/reference-values.md#silicon-reflections
+    expect(twoThetaFromD(d, 1.5405929)).toBeCloseTo(28.442, 3); // docs/reference-values.md#silicon-reflections
   });
 
   it("inverts: d = λ / (2 sin θ) (hand calculation)", () => {
@@ -74,17 +74,17 @@ describe("Bragg's law", () => {
 });
 
 describe("d-spacing formulas (hand calculation)", () => {
-  it("cubic 1/d² = (h² + k² + l²)/a² (REFERENCE.md)", () => {
+  it("cubic 1/d² = (h² + k² + l²)/a² (docs/reference-values.md#cell-geometry)", () => {
     expect(dSpacing(cubic(4.156826), { h: 2, k: 1, l: 0 })).toBeCloseTo(4.156826 / Math.sqrt(5), 12);
   });
 
-  it("tetragonal 1/d² = (h² + k²)/a² + l²/c² (hand calculation, rutile cell of REFERENCE.md)", () => {
+  it("tetragonal 1/d² = (h² + k²)/a² + l²/c² (hand calculation, rutile cell of docs/reference-values.md#certified-lattice-parameters)", () => {
     const rutile: Cell = { a: 4.593927, b: 4.593927, c: 2.958875, alpha: 90, beta: 90, gamma: 90 };
     expect(dSpacing(rutile, { h: 1, k: 1, l: 0 })).toBeCloseTo(4.593927 / Math.SQRT2, 12);
     expect(dSpacing(rutile, { h: 1, k: 0, l: 1 })).toBeCloseTo(1 / Math.sqrt(1 / 4.593927 ** 2 + 1 / 2.958875 ** 2), 12);
   });
 
-  it("hexagonal 1/d² = 4(h² + hk + k²)/(3a²) + l²/c² (hand calculation, ZnO cell of REFERENCE.md)", () => {
+  it("hexagonal 1/d² = 4(h² + hk + k²)/(3a²) + l²/c² (hand calculation, ZnO cell of docs/reference-values.md#certified-lattice-parameters)", () => {
     const zno = hexagonal(3.249897, 5.20653);
     expect(dSpacing(zno, { h: 1, k: 0, l: 0 })).toBeCloseTo((3.249897 * Math.sqrt(3)) / 2, 12);
     expect(dSpacing(zno, { h: 0, k: 0, l: 2 })).toBeCloseTo(5.20653 / 2, 12);
@@ -200,12 +200,12 @@ describe("free reciprocal-metric parameters", () => {
   });
 });
 
-describe("wavelengths (REFERENCE.md anode table)", () => {
-  it("holds the REFERENCE.md values and the International Tables Kα1 lines", () => {
+describe("wavelengths (docs/reference-values.md#x-ray-wavelengths)", () => {
+  it("holds the reference table's values and the International Tables Kα1 lines", () => {
     expect(ANODE_LINES.Cu.kAlpha1).toBeCloseTo(1.54059292, 6); // International Tables Vol. C Table 4.2.2.6
     expect(ANODE_LINES.Mo.kAlpha1).toBeCloseTo(0.70931713, 6); // International Tables Vol. C Table 4.2.2.6
-    expect(ANODE_LINES.Co.kBeta).toBe(1.620826); // REFERENCE.md (not pymatgen's mistyped 1.63079)
-    expect(ANODE_LINES.Ag.kAlpha2).toBe(0.563813); // REFERENCE.md
+    expect(ANODE_LINES.Co.kBeta).toBe(1.620826); // docs/reference-values.md#x-ray-wavelengths (not pymatgen's mistyped 1.63079)
+    expect(ANODE_LINES.Ag.kAlpha2).toBe(0.563813); // docs/reference-values.md#x-ray-wavelengths
   });
 
   it("lists Kα1 then Kα2 at the conventional 0.5 ratio (common practice)", () => {
@@ -220,28 +220,28 @@ describe("wavelengths (REFERENCE.md anode table)", () => {
     expect(primaryWavelength({ kind: "anode", anode: "Fe", monochromation: "k_alpha_doublet" })).toBe(1.936041);
   });
 
-  it("Cu Kα1 is 8.048 keV and iron's K edge lies below it (REFERENCE.md)", () => {
-    expect(photonEnergyKeV(ANODE_LINES.Cu.kAlpha1)).toBeCloseTo(8.048, 3); // REFERENCE.md
-    for (const el of ["Cr", "Mn", "Fe", "Co"]) expect(K_EDGE_KEV[el]).toBeLessThan(8.048); // REFERENCE.md
-    for (const el of ["Ni", "Cu", "Zn"]) expect(K_EDGE_KEV[el]).toBeGreaterThan(8.048); // REFERENCE.md
-    // REFERENCE.md (lib: xraylib EdgeEnergy)
+  it("Cu Kα1 is 8.048 keV and iron's K edge lies below it (docs/reference-values.md#k-absorption-edges)", () => {
+    expect(photonEnergyKeV(ANODE_LINES.Cu.kAlpha1)).toBeCloseTo(8.048, 3); // docs/reference-values.md#x-ray-wavelengths
+    for (const el of ["Cr", "Mn", "Fe", "Co"]) expect(K_EDGE_KEV[el]).toBeLessThan(8.048); // docs/reference-values.md#k-absorption-edges
+    for (const el of ["Ni", "Cu", "Zn"]) expect(K_EDGE_KEV[el]).toBeGreaterThan(8.048); // docs/reference-values.md#k-absorption-edges
+    // docs/reference-values.md#k-absorption-edges (lib: xraylib EdgeEnergy)
     const reference = { V: 5.465, Cr: 5.989, Mn: 6.539, Fe: 7.112, Co: 7.709, Ni: 8.333, Zr: 17.998, Rh: 23.22, Pd: 24.35 };
     for (const [el, e] of Object.entries(reference)) expect(K_EDGE_KEV[el]).toBeCloseTo(e, 3);
   });
 });
 
 describe("allowed reflections", () => {
-  it("silicon (F-centred cubic): the REFERENCE.md list with powder multiplicities", () => {
+  it("silicon (F-centred cubic): the reference list with powder multiplicities", () => {
     const list = allowedReflections(cubic(5.431), "cubic", "F", { dMin: 0.95 });
     // Lattice absences only: 222 stays (its zero comes from the structure factor), 200 goes.
     const names = list.map((r) => `${r.h}${r.k}${r.l}`);
     expect(names).toEqual(["111", "200", "220", "311", "222", "400", "331", "420", "422", "511", "333", "440"]);
     // Multiplicities of m-3m (International Tables Vol. A; common practice).
     expect(list.map((r) => r.multiplicity)).toEqual([8, 6, 12, 24, 8, 6, 24, 24, 24, 24, 8, 12]);
-    // 511 and 333 coincide by accident and stay separate with the same d (REFERENCE.md: 511+333 at 1.0452 Å).
+    // 511 and 333 coincide by accident and stay separate with the same d (docs/reference-values.md#silicon-reflections: 511+333 at 1.0452 Å).
     expect(list[9].d).toBeCloseTo(list[10].d, 12);
     expect(list[9].d).toBeCloseTo(1.0452, 4);
-    expect(twoThetaOf(list[2], 1.5405929)).toBeCloseTo(47.302, 3); // REFERENCE.md
+    expect(twoThetaOf(list[2], 1.5405929)).toBeCloseTo(47.302, 3); // docs/reference-values.md#silicon-reflections
   });
 
   it("applies I, A, B, C and R conditions (International Tables Vol. A)", () => {

@@ -1,6 +1,6 @@
 // The whole check on simulated scans: verdicts for the right phase, a wrong phase, an off cell and an impurity.
 // Sources: the true cells are those of app/diffraction/structures.ts — silicon is NIST SRM 640c's certified
-// a = 5.4311946 Å (REFERENCE.md, certificate); rutile and ZnO cells are NIST SRM 674b values (REFERENCE.md); the NaCl
+// a = 5.4311946 Å (docs/reference-values.md#certified-lattice-parameters, certificate); rutile and ZnO cells are NIST SRM 674b values (same section); the NaCl
 // cell (5.6402 Å) and all atom positions are from memory (common textbook values).
 // The 2e-4 Å tolerance is the project's accuracy target for cubic cells; the 0.3 % / 3 % offsets are our own cases.
 import { describe, expect, it } from "vitest";

@@ -1,4 +1,4 @@
-// Cromer–Mann atomic scattering factors against gemmi's IT92 table, xraylib and REFERENCE.md.
+// Cromer–Mann atomic scattering factors against gemmi's IT92 table, xraylib and docs/reference-values.md#atomic-scattering-factors.
 import { describe, expect, it } from "vitest";
 import { CROMER_MANN, elementSymbol, formFactor, hasFormFactor } from "~/diffraction/form-factors";
 import { runReference } from "./python-reference";
@@ -6,10 +6,10 @@ import { runReference } from "./python-reference";
 const REQUIRED = "H Li B C N O F Na Mg Al Si P S Cl K Ca Ti V Cr Mn Fe Co Ni Cu Zn Ga Ge Sr Y Zr Mo Ag Sn Ba La Ce Gd W Pt Au Pb".split(" ");
 
 describe("form factors", () => {
-  it("Si has the REFERENCE.md coefficients and f0(Si, 0.25 Å⁻¹) = 8.861 (REFERENCE.md, lib: gemmi)", () => {
+  it("Si has the tabulated coefficients and f0(Si, 0.25 Å⁻¹) = 8.861 (docs/reference-values.md#atomic-scattering-factors, lib: gemmi)", () => {
     expect(CROMER_MANN.Si).toEqual({ a: [6.2915, 3.0353, 1.9891, 1.541], b: [2.4386, 32.3337, 0.6785, 81.6937], c: 1.1407 });
-    expect(formFactor("Si", 0.25)).toBeCloseTo(8.861, 3); // REFERENCE.md (gemmi)
-    // REFERENCE.md gives 8.852 from xraylib, a different fit: the two agree to 0.01 electrons.
+    expect(formFactor("Si", 0.25)).toBeCloseTo(8.861, 3); // docs/reference-values.md#atomic-scattering-factors (gemmi)
+    // docs/reference-values.md#atomic-scattering-factors gives 8.852 from xraylib, a different fit: the two agree to 0.01 electrons.
     expect(Math.abs(formFactor("Si", 0.25) - 8.852)).toBeLessThan(0.01);
   });
 

@@ -45,7 +45,7 @@ describe("lattice command line", () => {
       expect(typeof out.cell[key]).toBe("number");
       expect(typeof out.esd[key]).toBe("number");
     }
-    // SILICON's cell is the NIST SRM 640c value (REFERENCE.md), rounded to 5.431195 Å in the structure.
+    // SILICON's cell is the NIST SRM 640c value (docs/reference-values.md#certified-lattice-parameters), rounded to 5.431195 Å in the structure.
     expect(Math.abs(out.cell.a - 5.431195)).toBeLessThan(2e-4);
     expect(out.zeroShift).toBeCloseTo(0.03, 2);
     expect(out.figuresOfMerit.M20).toBeGreaterThan(10);
@@ -57,7 +57,7 @@ describe("lattice command line", () => {
       for (const key of ["twoTheta", "d", "intensity", "fwhm"]) expect(typeof p[key]).toBe("number");
       expect(p.hkl === null || (Array.isArray(p.hkl) && p.hkl.length === 3)).toBe(true);
     }
-    // Bragg's law on the strongest line, Si 111 at d = 3.1356 Å (REFERENCE.md table, a = 5.431 Å).
+    // Bragg's law on the strongest line, Si 111 at d = 3.1356 Å (docs/reference-values.md#silicon-reflections, a = 5.431 Å).
     expect(out.peaks[0].hkl).toEqual([1, 1, 1]);
     expect(out.peaks[0].d).toBeCloseTo(3.1356, 2);
   });
@@ -73,7 +73,7 @@ describe("lattice command line", () => {
     const mono = lattice(join(dir, "si-mo.xy"), "--source", "Mo", "--monochromatic", "--system", "cubic", "--centering", "F", "--cell", SI_CELL, "--json");
     expect(mono.code).toBe(0);
     expect(JSON.parse(mono.stdout).verdict).toBe("consistent");
-    // REFERENCE.md: Mo Kα1 = 0.709317 Å.
+    // docs/reference-values.md#x-ray-wavelengths: Mo Kα1 = 0.709317 Å.
     const custom = lattice(join(dir, "si-mo.xy"), "--source", "Cu", "--wavelength", "0.709317", "--system", "cubic", "--centering", "F", "--cell", SI_CELL, "--json");
     expect(custom.code).toBe(0);
     const out = JSON.parse(custom.stdout);

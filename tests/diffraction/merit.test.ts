@@ -1,5 +1,5 @@
 // Figures of merit against a worked example: hand calculation from the published definitions
-// (de Wolff, J. Appl. Cryst. 1968, 1, 108; Smith & Snyder, J. Appl. Cryst. 1979, 12, 60; as stated in REFERENCE.md).
+// (de Wolff, J. Appl. Cryst. 1968, 1, 108; Smith & Snyder, J. Appl. Cryst. 1979, 12, 60; as stated in docs/reference-values.md#figures-of-merit).
 import { describe, expect, it } from "vitest";
 import { deWolffM20, smithSnyderFN, type IndexedLine } from "~/diffraction/merit";
 

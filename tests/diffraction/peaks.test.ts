@@ -47,7 +47,7 @@ function scan(lines: Line[], background: (x: number) => number, options: { step?
 }
 
 describe("Bragg's law (hand calculation)", () => {
-  it("d = λ / (2 sin θ): Si 111 at 28.442° with Cu Kα1 is 3.1356 Å (REFERENCE.md Si table)", () => {
+  it("d = λ / (2 sin θ): Si 111 at 28.442° with Cu Kα1 is 3.1356 Å (docs/reference-values.md#silicon-reflections)", () => {
     expect(dFromTwoTheta(28.442, 1.5405929)).toBeCloseTo(3.1356, 4);
     // 2θ = 2 asin(λ / 2d): d = 2 Å, λ = 1.540593 Å → sin θ = 0.38514825, θ = 22.6527°, 2θ = 45.3054°.
     expect(twoThetaFromD(2, 1.540593)).toBeCloseTo(45.3054, 3);

@@ -2,7 +2,7 @@
 import { execFileSync } from "node:child_process";
 import { fileURLToPath } from "node:url";
 
-// Debian's interpreter, where python3-gemmi, python3-pymatgen and python3-xraylib are installed (REFERENCE.md).
+// Debian's interpreter, where python3-gemmi, python3-pymatgen and python3-xraylib are installed (docs/reference-values.md#reference-libraries).
 const PYTHON = "/usr/bin/python3";
 const cache = new Map<string, unknown>();
 

@@ -112,7 +112,7 @@ describe("refined cells on simulated noisy scans, every system but triclinic × 
 });
 
 describe("certified cells of line-position standards recovered from simulated noisy scans", () => {
-  // REFERENCE.md: Si NIST SRM 640c 5.4311946 Å (certificate), LaB6 NIST SRM 660c 4.156826 Å (certificate),
+  // docs/reference-values.md#certified-lattice-parameters: Si NIST SRM 640c 5.4311946 Å (certificate), LaB6 NIST SRM 660c 4.156826 Å (certificate),
   // CeO2 NIST SRM 674b 5.411651 Å (derived from tabulated d-spacings, pyFAI calibrant files).
   const standards: [string, CrystalStructure, number][] = [
     ["Si SRM 640c", STRUCTURES.silicon, 5.4311946],

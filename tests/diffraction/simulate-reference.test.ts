@@ -1,4 +1,4 @@
-// Simulated reflection lists, d-spacings and relative intensities against gemmi, pymatgen and REFERENCE.md.
+// Simulated reflection lists, d-spacings and relative intensities against gemmi, pymatgen and docs/reference-values.md#silicon-reflections.
 import { describe, expect, it } from "vitest";
 import { type SimulatedReflection, simulatePattern } from "~/diffraction/simulate";
 import { type CrystalStructure, STRUCTURES } from "~/diffraction/structures";
@@ -12,7 +12,7 @@ interface ReferenceLine {
   intensity: number;
 }
 
-const CU_KALPHA1 = 1.540593; // REFERENCE.md; passed as a number because pymatgen's "CuKa" is the weighted mean
+const CU_KALPHA1 = 1.540593; // docs/reference-values.md#x-ray-wavelengths; passed as a number because pymatgen's "CuKa" is the weighted mean
 const TWO_THETA_MAX = 140;
 const REQUIRED = ["silicon", "lanthanumHexaboride", "halite", "rutile", "zincite", "corundum"] as const;
 const EXTRA = ["ceria", "lithiumIronPhosphate", "baddeleyite"] as const;
@@ -115,8 +115,8 @@ describe("simulated reflections against pymatgen XRDCalculator (lib: pymatgen 20
   }
 });
 
-describe("silicon against the REFERENCE.md table (a = 5.431 Å, λ = 1.5405929 Å, no thermal factor)", () => {
-  // REFERENCE.md (lib: pymatgen and gemmi agree): hkl, d, 2θ, relative intensity.
+describe("silicon against the reference table (a = 5.431 Å, λ = 1.5405929 Å, no thermal factor)", () => {
+  // docs/reference-values.md#silicon-reflections (lib: pymatgen and gemmi agree): hkl, d, 2θ, relative intensity.
   const table: [string, number, number, number][] = [
     ["111", 3.1356, 28.442, 100],
     ["220", 1.9201, 47.302, 67],

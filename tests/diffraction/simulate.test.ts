@@ -52,7 +52,7 @@ describe("formulas (hand calculation)", () => {
     expect(cagliotiFwhm({ U: 0.004, V: -0.002, W: 0.002, eta: 0.5 }, 90)).toBeCloseTo(Math.sqrt(0.004), 12);
   });
 
-  it("displacement Δ2θ = −2 s cosθ / R in radians, shown in degrees (REFERENCE.md, common practice)", () => {
+  it("displacement Δ2θ = −2 s cosθ / R in radians, shown in degrees (docs/reference-values.md#peak-positions-and-widths, common practice)", () => {
     // Hand calculation: s = 0.1 mm, R = 240 mm, 2θ = 28.442° → −2 · 0.1 · cos 14.221° / 240 rad = −0.04630°.
     expect(displacementShift(28.442, 0.1, 240)).toBeCloseTo(-0.0463, 4);
     expect(displacementShift(180, 0.1, 240)).toBeCloseTo(0, 12);
@@ -69,7 +69,7 @@ describe("peak positions", () => {
     }
   });
 
-  it("Kα2 sits where Bragg's law puts λ(Kα2) and carries half the Kα1 area (REFERENCE.md, common practice)", () => {
+  it("Kα2 sits where Bragg's law puts λ(Kα2) and carries half the Kα1 area (docs/reference-values.md#x-ray-wavelengths, common practice)", () => {
     const alpha1 = simulatePattern(silicon());
     const doublet = simulatePattern(silicon({ radiation: CU_DOUBLET }));
     const kAlpha2 = doublet.intensity.map((v, i) => v - alpha1.intensity[i]);
@@ -89,7 +89,7 @@ describe("peak positions", () => {
     }
   });
 
-  it("specimen displacement moves lines by −2 s cosθ / R (REFERENCE.md, common practice)", () => {
+  it("specimen displacement moves lines by −2 s cosθ / R (docs/reference-values.md#peak-positions-and-widths, common practice)", () => {
     const sim = simulatePattern(silicon({ specimenDisplacement: 0.2, goniometerRadius: 240 }));
     for (const r of sim.reflections) {
       const shift = ((-2 * 0.2 * Math.cos((r.twoThetaBragg / 2) * RAD)) / 240) / RAD;

@@ -33,10 +33,10 @@ describe("structures", () => {
     }
   });
 
-  it("standards carry their certified cells (REFERENCE.md)", () => {
+  it("standards carry their certified cells (docs/reference-values.md#certified-lattice-parameters)", () => {
     expect(STRUCTURES.silicon.cell.a).toBe(5.4311946); // NIST SRM 640c certificate
     expect(STRUCTURES.lanthanumHexaboride.cell.a).toBe(4.156826); // NIST SRM 660c certificate
-    expect(STRUCTURES.ceria.cell.a).toBe(5.411651); // SRM 674b (REFERENCE.md)
-    expect(STRUCTURES.corundum.cell).toMatchObject({ a: 4.759091, c: 12.991779 }); // SRM 676a (REFERENCE.md)
+    expect(STRUCTURES.ceria.cell.a).toBe(5.411651); // SRM 674b (docs/reference-values.md#certified-lattice-parameters)
+    expect(STRUCTURES.corundum.cell).toMatchObject({ a: 4.759091, c: 12.991779 }); // SRM 676a (docs/reference-values.md#certified-lattice-parameters)
   });
 });

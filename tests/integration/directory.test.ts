@@ -41,7 +41,7 @@ describe("GET /api/labs", () => {
     expect(names(await directory("?dMin=0.5"))).toEqual(["Lakeside Institute X-ray Core"]);
   });
 
-  it("reports minD = λ / (2 sin θmax) by Bragg's law (hand calculation with REFERENCE.md's Kα1 values)", async () => {
+  it("reports minD = λ / (2 sin θmax) by Bragg's law (hand calculation with the Kα1 values of docs/reference-values.md#x-ray-wavelengths)", async () => {
     const labs = (await directory("")).body as DirectoryAnswer;
     const granite = labs.labs.find((l) => l.name.startsWith("Granite"))!;
     const lakeside = labs.labs.find((l) => l.name.startsWith("Lakeside"))!;

@@ -20,7 +20,7 @@ const ADMIN = "admin@diffractory.example";
 const OPERATOR = "operator@graniteridge.example";
 const CLIENT = "owner@halvorsen.example";
 const LAB_MANAGER = "lab@graniteridge.example";
-// NIST SRM 640c certificate value (REFERENCE.md, certified lattice parameters).
+// NIST SRM 640c certificate value (docs/reference-values.md#certified-lattice-parameters).
 const SI_640C_A = 5.4311946;
 
 const cookies: Record<string, string> = {};
@@ -154,7 +154,7 @@ describe("applying for vetting", () => {
     expect(lab.licenceAttestation).toContain("Oona Vasquez-Hart");
     expect(lab.licenceAttestedAt).toBeInstanceOf(Date);
     const check = lab.calibrationCheck as unknown as CalibrationCheck;
-    // Certified a of NIST SRM 640c (REFERENCE.md); the refined a must recover it within the approval tolerance.
+    // Certified a of NIST SRM 640c (docs/reference-values.md#certified-lattice-parameters); the refined a must recover it within the approval tolerance.
     expect(check.certifiedA).toBe(SI_640C_A);
     expect(Math.abs(check.refinedA! - SI_640C_A)).toBeLessThan(APPROVAL_TOLERANCE_A);
     expect(Math.abs(check.deviationA!)).toBeLessThan(1e-4);
@@ -233,7 +233,7 @@ describe("the admin's review", () => {
   });
 
   it("does not approve a scan from a 0.3 % wrong cell without an override; rejects it; approves with an override and a reason", async () => {
-    // 0.3 % off the NIST SRM 640c cell (REFERENCE.md): Δa ≈ 0.0163 Å, far outside the tolerance.
+    // 0.3 % off the NIST SRM 640c cell (docs/reference-values.md#certified-lattice-parameters): Δa ≈ 0.0163 Å, far outside the tolerance.
     const keys = await uploadFiles(off.labId, siliconScan(SI_640C_A * 1.003, 9), "off");
     expect((await callRoute(vettingAction, formRequest("/lab/vetting", applicationFields(keys), off.cookie))).status).toBe(302);
     const check = (await labRow(off.labId)).calibrationCheck as unknown as CalibrationCheck;

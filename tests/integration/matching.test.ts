@@ -29,7 +29,7 @@ describe("the demo's iron phosphate request", () => {
     expect(granite.fits).toBe(true);
     expect(granite.instrumentName).toBe("Reflection diffractometer B (Co)");
     const cu = granite.instruments.find((i) => i.source === "Cu Kα")!;
-    // Fe K edge 7.112 keV lies just below Cu Kα1 8.048 keV (REFERENCE.md, lib xraylib)
+    // Fe K edge 7.112 keV lies just below Cu Kα1 8.048 keV (docs/reference-values.md#k-absorption-edges, lib xraylib)
     expect(cu.warnings.join(" ")).toMatch(/Fluorescence: Fe/);
     expect(cu.warnings.join(" ")).toMatch(/Reflection diffractometer B \(Co\)/);
     expect(lakeside.fits).toBe(false);

@@ -1,4 +1,4 @@
-// The matching rules against published values: Kα1 energies and K edges (REFERENCE.md), Bragg's law.
+// The matching rules against published values: Kα1 energies (docs/reference-values.md#x-ray-wavelengths) and K edges (docs/reference-values.md#k-absorption-edges), Bragg's law.
 import { describe, expect, it } from "vitest";
 import { ANODE_LINES, photonEnergyKeV } from "~/diffraction/wavelengths";
 import { dSpacingCoverage, qMax, twoThetaForD } from "~/domain/coverage";
@@ -45,7 +45,7 @@ const lfp: MatchRequest = {
   samples: [{ label: "LFP", elements: ["Li", "Fe", "P", "O"], form: "powder", ghsPictograms: [], specialHazards: [] }],
 };
 
-describe("fluorescence (K edges: REFERENCE.md, lib xraylib EdgeEnergy)", () => {
+describe("fluorescence (K edges: docs/reference-values.md#k-absorption-edges, lib xraylib EdgeEnergy)", () => {
   it("flags Cr, Mn, Fe and Co under Cu Kα1 (8.048 keV) but not Ni, Cu or Zn", () => {
     // Cu Kα1 energy: 12398.41857 / 1.540593 eV = 8.0478 keV (International Tables Vol. C §4.2.2.14)
     expect(photonEnergyKeV(ANODE_LINES.Cu.kAlpha1)).toBeCloseTo(8.0478, 3);
@@ -68,7 +68,7 @@ describe("d coverage by Bragg's law (hand calculation)", () => {
     expect(c.dMin).toBeCloseTo(0.79747, 5);
     expect(c.dMax).toBeCloseTo(17.6595, 3);
   });
-  it("Si 111 (d = 3.1356 Å) appears at 2θ = 28.442° under Cu Kα1 (REFERENCE.md silicon table)", () => {
+  it("Si 111 (d = 3.1356 Å) appears at 2θ = 28.442° under Cu Kα1 (docs/reference-values.md#silicon-reflections)", () => {
     expect(twoThetaForD(1.5405929, 3.1356)).toBeCloseTo(28.442, 2);
   });
   it("Q_max = 4π sin θmax / λ: Mo Kα1 to 145° gives 16.90 Å⁻¹", () => {

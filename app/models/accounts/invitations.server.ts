@@ -11,7 +11,7 @@ const hashToken = (token: string) => createHash("sha256").update(token).digest("
 
 export const INVITATION_DAYS = 7;
 
-/** Who may be invited to each kind of organisation, and which role may invite (DESIGN.md, people and roles). */
+/** Who may be invited to each kind of organisation, and which role may invite (docs/design.md#roles). */
 export const INVITABLE_ROLES: Record<OrganisationKind, MembershipRole[]> = { client: ["owner", "member"], lab: ["manager", "operator"] };
 export const INVITING_ROLE: Record<OrganisationKind, MembershipRole> = { client: "owner", lab: "manager" };
 
