@@ -3,17 +3,12 @@ import { ScanPlot } from "./scan-plot";
 import { Badge } from "./ui";
 import { APPROVAL_TOLERANCE_A, APPROVAL_TOLERANCE_REASON, CALIBRATION_STANDARDS, withinTolerance, type CalibrationCheck } from "~/domain/vetting";
 import { MONOCHROMATION_LABELS } from "~/domain/capabilities";
-
-const VERDICT_BADGES = {
-  consistent: { tone: "ok", label: "Consistent" },
-  review: { tone: "caution", label: "Review" },
-  inconsistent: { tone: "danger", label: "Inconsistent" },
-} as const;
+import { VERDICT_WORDS } from "~/domain/check-result";
 
 const signed = (v: number, digits: number) => `${v >= 0 ? "+" : "−"}${Math.abs(v).toFixed(digits)}`;
 
 export function VerdictBadge({ verdict }: { verdict: CalibrationCheck["verdict"] }) {
-  const b = VERDICT_BADGES[verdict];
+  const b = VERDICT_WORDS[verdict];
   return <Badge tone={b.tone}>{b.label}</Badge>;
 }
 

@@ -2,9 +2,10 @@
 import { useEffect, useMemo, useState } from "react";
 import type { LatticeCheckResult, Radiation } from "~/diffraction";
 import type { CheckWorkerRequest, CheckWorkerResponse } from "~/diffraction/check-worker";
-import { cellRows, declaredCheckOptions, type SampleDeclaration } from "~/domain/check-result";
+import type { Verdict } from "~/diffraction/verdict";
+import { cellRows, declaredCheckOptions, type SampleDeclaration, VERDICT_WORDS } from "~/domain/check-result";
 import { CheckPlot, type CheckPlotData } from "./check-plot";
-import { CheckStateBadge, VERDICT_WORDS, type CheckVerdict } from "./check-status";
+import { CheckStateBadge } from "./check-status";
 import { Badge } from "./ui";
 import { useFormat } from "~/components/locale";
 
@@ -105,7 +106,7 @@ function PreviewResult({ result, ms }: { result: LatticeCheckResult; ms: number 
   const rows = cellRows(result).filter((r) => r.refined !== "not refined");
   return (
     <div className="space-y-3">
-      <p className="text-sm text-ink-800">{VERDICT_WORDS[result.verdict as CheckVerdict]?.meaning}</p>
+      <p className="text-sm text-ink-800">{VERDICT_WORDS[result.verdict as Verdict]?.meaning}</p>
       <ul className="list-disc pl-5 text-xs text-ink-700">
         {result.reasons.slice(0, 4).map((r) => (
           <li key={r}>{r}</li>

@@ -1,10 +1,11 @@
 // A lattice check's live status: a polling hook on /api/checks/:id and a badge for file lists.
 import { useQuery } from "@tanstack/react-query";
 import { Link } from "react-router";
+import type { Verdict } from "~/diffraction/verdict";
+import { VERDICT_WORDS } from "~/domain/check-result";
 import { Badge } from "./ui";
 
 export type CheckStatusValue = "queued" | "running" | "done" | "failed";
-export type CheckVerdict = "consistent" | "review" | "inconsistent";
 
 /** What GET /api/checks/:id answers. */
 export interface CheckStatusJson {
@@ -39,12 +40,6 @@ export function useCheckStatus(checkId: string, initial?: CheckStatusJson) {
   });
 }
 
-export const VERDICT_WORDS: Record<CheckVerdict, { tone: "ok" | "caution" | "danger"; label: string; meaning: string }> = {
-  consistent: { tone: "ok", label: "Consistent", meaning: "The scan confirms the declared cell." },
-  review: { tone: "caution", label: "Review", meaning: "The scan mostly fits the declared cell, but something needs a person's look." },
-  inconsistent: { tone: "danger", label: "Inconsistent", meaning: "The scan does not fit the declared cell." },
-};
-
 /** A status or verdict as a badge with a word and a shape. */
 export function CheckStateBadge({ status, verdict }: { status: CheckStatusValue; verdict: string | null }) {
   if (status === "queued") return <Badge tone="neutral">Check queued</Badge>;
@@ -55,7 +50,7 @@ export function CheckStateBadge({ status, verdict }: { status: CheckStatusValue;
       </Badge>
     );
   if (status === "failed") return <Badge tone="danger">Unreadable scan</Badge>;
-  const v = VERDICT_WORDS[verdict as CheckVerdict];
+  const v = VERDICT_WORDS[verdict as Verdict];
   return v ? <Badge tone={v.tone}>{v.label}</Badge> : <Badge tone="neutral">Checked</Badge>;
 }
 

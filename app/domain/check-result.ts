@@ -1,6 +1,7 @@
 // The stored form of a lattice check's result and the words and tables made from it (server and browser).
 import { CENTERINGS, CRYSTAL_SYSTEMS } from "~/diffraction/cell";
 import type { Cell, Centering, CrystalSystem, LatticeCheckResult, Radiation } from "~/diffraction";
+import type { Verdict } from "~/diffraction/verdict";
 
 export interface StoredProfile {
   /** Points in the scan file, and whether the arrays below are a thinned selection of them. */
@@ -19,6 +20,13 @@ export type StoredCheckResult = Omit<LatticeCheckResult, "twoTheta" | "observed"
   /** Where the declared cell and the radiation came from. */
   declaredFrom: { sampleLabel: string | null; expectedPhase: string | null; instrumentName: string | null };
   profile: StoredProfile;
+};
+
+/** How each verdict is shown wherever one appears: the badge's tone and word, and what the verdict means. */
+export const VERDICT_WORDS: Record<Verdict, { tone: "ok" | "caution" | "danger"; label: string; meaning: string }> = {
+  consistent: { tone: "ok", label: "Consistent", meaning: "The scan confirms the declared cell." },
+  review: { tone: "caution", label: "Review", meaning: "The scan mostly fits the declared cell, but something needs a person's look." },
+  inconsistent: { tone: "danger", label: "Inconsistent", meaning: "The scan does not fit the declared cell." },
 };
 
 export const signed = (v: number, digits: number) => `${v >= 0 ? "+" : "−"}${Math.abs(v).toFixed(digits)}`;
@@ -57,14 +65,8 @@ export function cellRows(result: Pick<StoredCheckResult, "cell" | "esd" | "decla
   });
 }
 
-const csvCell = (v: unknown) => {
-  if (v == null) return "";
-  const s = typeof v === "number" ? String(v) : String(v);
-  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-};
-
-/** The peaks table as CSV (one row per fitted peak; empty cells where a peak has no value). */
-export function peaksCsv(result: Pick<StoredCheckResult, "peaks">): string {
+/** The peaks table for the CSV download: the header, then one row per fitted peak (null or undefined where a peak has no value). */
+export function peaksTable(result: Pick<StoredCheckResult, "peaks">): (string | number | null | undefined)[][] {
   const header = [
     "peak",
     "h",
@@ -99,7 +101,7 @@ export function peaksCsv(result: Pick<StoredCheckResult, "peaks">): string {
     p.usedInRefinement ? "yes" : "no",
     p.crystalliteSizeNm,
   ]);
-  return [header, ...rows].map((r) => r.map(csvCell).join(",")).join("\r\n") + "\r\n";
+  return [header, ...rows];
 }
 
 
