@@ -1,5 +1,6 @@
-// The job worker process: runs the queue handlers (review-window payouts, and later scan checks and e-mail).
-import { getBoss, startWorkers, stopBoss } from "~/jobs/queues.server";
+// The job worker process: runs every queue handler (review-window payouts, scan checks, e-mail) until stopped.
+import { getBoss, stopBoss } from "~/jobs/queues.server";
+import { startWorkers } from "~/jobs/worker.server";
 
 // A worker started while PostgreSQL is unreachable (restarting, or not up yet) waits for it instead of exiting.
 async function startWhenReachable() {

@@ -1,7 +1,8 @@
 // A list of orders with the other party, the amount and the state, for the client's and the lab's screens:
 // sortable by any column but the party, 50 a page (ordersOf reads them all; an organisation has hundreds at most).
 import { Link } from "react-router";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES, ORDER_STATES, type OrderState } from "~/domain/order-states";
+import { ORDER_STATES, type OrderState } from "~/domain/order-states";
+import { OrderStateBadge } from "./order-state-badge";
 import { sortAndPage, type PageInfo, type SortDir, type TableQuery, type TableSpec } from "~/utils/table";
 import { PageNav, SortableTable } from "./data-table";
 import { useFormat } from "./locale";
@@ -76,7 +77,7 @@ export function OrdersTable({
             <td>{o.counterpart}</td>
             <td className="whitespace-nowrap">{fmt.money(o.amountMinor, o.currency)}</td>
             <td>
-              <Badge tone={ORDER_STATE_TONES[o.state]}>{ORDER_STATE_LABELS[o.state]}</Badge>
+              <OrderStateBadge state={o.state} />
             </td>
             <td className="whitespace-nowrap">{fmt.date(o.updatedAt)}</td>
           </tr>

@@ -1,7 +1,8 @@
 // A workspace overview's two panels: what waits for someone, and the organisation's orders by state.
 import { Link } from "react-router";
 import { Badge } from "~/components/ui";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES, type OrderState } from "~/domain/order-states";
+import { type OrderState } from "~/domain/order-states";
+import { OrderStateBadge } from "./order-state-badge";
 
 export function WaitingPanel({ items }: { items: { count: number; label: string; to: string }[] }) {
   return (
@@ -38,7 +39,7 @@ export function OrdersByState({ orders, to }: { orders: { state: OrderState; cou
       <ul className="mt-3 space-y-2">
         {orders.map((o) => (
           <li key={o.state} className="flex items-center justify-between gap-3 text-sm">
-            <Badge tone={ORDER_STATE_TONES[o.state]}>{ORDER_STATE_LABELS[o.state]}</Badge>
+            <OrderStateBadge state={o.state} />
             <span className="tabular-nums text-ink-700">{o.count}</span>
           </li>
         ))}

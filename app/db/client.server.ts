@@ -18,3 +18,6 @@ function create(): Db {
 
 export const db: Db = (g.__diffractoryDb ??= create());
 export { schema };
+
+/** A transaction handle, as Drizzle passes it to `db.transaction`'s callback. */
+export type Tx = Parameters<Parameters<Db["transaction"]>[0]>[0];

@@ -3,7 +3,9 @@ import { and, eq } from "drizzle-orm";
 import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
 import { lockOrder, moveOrder } from "~/models/orders/lifecycle.server";
-import { acceptDelivery, cancelOrder, openDispute, payoutOnboardingUrl, resolveDispute, startCheckout, syncCheckout, syncPayoutAccount } from "~/models/payments/provider.server";
+import { acceptDelivery, cancelOrder, openDispute, resolveDispute } from "~/models/orders/lifecycle.server";
+import { payoutOnboardingUrl, syncPayoutAccount } from "~/models/payments/provider.server";
+import { startCheckout, syncCheckout } from "~/models/payments/checkout.server";
 
 /** The fake's own test controls (never present at the real provider; the demo runs only against the fake). */
 const fakeBase = () => `${config.payments.protocol}://${config.payments.host}:${config.payments.port}`;

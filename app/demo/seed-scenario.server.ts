@@ -1,4 +1,4 @@
-// The rest of the invented demo scenario (DESIGN.md), made through the app's own model functions so every
+// The rest of the invented demo scenario (docs/design.md#demo-scenario), made through the app's own model functions so every
 // row, ledger posting, timeline event, audit entry, outbox letter and in-app notification is the real one:
 // requests in every state, quotes sent, declined, withdrawn and lapsed side by side, orders in the physical
 // states (in transit, received, measuring, delivered with checked scans), a refusal on arrival, an open
@@ -12,12 +12,12 @@ import type { Centering, CrystalSystem, Radiation } from "~/diffraction";
 import { formatScanAsXy, simulatePattern, type SimulatedScan } from "~/diffraction/simulate";
 import { LANTHANUM_HEXABORIDE, LITHIUM_IRON_PHOSPHATE, RUTILE } from "~/diffraction/structures";
 import { checkCalibrationScan } from "~/domain/calibration-check";
-import { markDelivered, markReceived, markShipped, startMeasuring } from "~/models/fulfilment.server";
+import { markDelivered, markReceived, markShipped, startMeasuring } from "~/models/orders/lifecycle.server";
 import { submitApplication, vettingPrefix } from "~/models/labs/vetting.server";
-import { openDispute, refuseOnArrival } from "~/models/payments/provider.server";
+import { openDispute, refuseOnArrival } from "~/models/orders/lifecycle.server";
 import { acceptQuote, draftLineItems, instrumentsOf, lapseExpiredQuotes, priceListOf, sendQuote, withdrawQuote, type SendQuoteResult } from "~/models/requests/quotes.server";
 import { MeasurementStepSchema, SampleHazardSchema, SamplesStepSchema, type SampleSchema } from "~/domain/request-forms";
-import { acknowledgeHazards, createDraft, publishRequest, requireOwnRequest, samplesOf, saveHazards, saveMeasurement, saveVisibility, sdsPrefix } from "~/models/requests/requests.server";
+import { acknowledgeHazards, createDraft, ownRequestOf, publishRequest, samplesOf, saveHazards, saveMeasurement, saveVisibility, sdsPrefix } from "~/models/requests/requests.server";
 import { LICENCE_STATEMENT } from "~/domain/vetting";
 import { audit } from "~/models/audit.server";
 import { putObject, storageKeyFor } from "~/models/files/storage.server";
@@ -331,6 +331,13 @@ async function person(email: string) {
   return user;
 }
 
+/** The client's request as it is now in the database, after a step of the scenario has changed it. */
+async function ownRequest(requestId: string, clientId: string) {
+  const request = await ownRequestOf(requestId, clientId);
+  if (!request) throw new Error(`demo scenario: request ${requestId} of organisation ${clientId} is missing`);
+  return request;
+}
+
 const sha256 = (bytes: Uint8Array) => createHash("sha256").update(bytes).digest("hex");
 
 function must<T extends { ok: boolean }>(what: string, result: T): Extract<T, { ok: true }> {
@@ -376,8 +383,8 @@ async function postRequest(spec: ScenarioRequest, clientId: string, userId: stri
   }
   const saved = await saveHazards(request, hazards);
   if (saved.fieldErrors) throw new Error(`demo scenario: hazards of ${spec.title}: ${JSON.stringify(saved.fieldErrors)}`);
-  if (spec.end === "draft") return requireOwnRequest(request.id, clientId);
-  request = await requireOwnRequest(request.id, clientId);
+  if (spec.end === "draft") return ownRequest(request.id, clientId);
+  request = await ownRequest(request.id, clientId);
   await saveMeasurement(
     request,
     MeasurementStepSchema.parse({
@@ -393,13 +400,13 @@ async function postRequest(spec: ScenarioRequest, clientId: string, userId: stri
       currency: spec.currency,
     }),
   );
-  request = await requireOwnRequest(request.id, clientId);
+  request = await ownRequest(request.id, clientId);
   const visibility = await saveVisibility(request, "open", []);
   if (visibility.fieldErrors) throw new Error(`demo scenario: visibility of ${spec.title}`);
-  request = await requireOwnRequest(request.id, clientId);
+  request = await ownRequest(request.id, clientId);
   const published = await publishRequest(request, userId);
   if (published.problems.length) throw new Error(`demo scenario: ${spec.title} could not be published: ${published.problems.join(" ")}`);
-  return requireOwnRequest(request.id, clientId);
+  return ownRequest(request.id, clientId);
 }
 
 /** The lab reads the hazard declaration, acknowledges it, and sends a quote drafted from its price list. */
@@ -407,7 +414,7 @@ async function quoteAs(spec: QuoteSpec, requestId: string, clientId: string) {
   const labId = await orgId(spec.lab);
   const manager = await person(LAB_PEOPLE[spec.lab].manager);
   await acknowledgeHazards(requestId, labId, manager.id);
-  const request = await requireOwnRequest(requestId, clientId);
+  const request = await ownRequest(requestId, clientId);
   const samples = await samplesOf(requestId);
   const instrument = (await instrumentsOf(labId)).find((i) => i.name === spec.instrument);
   if (!instrument) throw new Error(`demo scenario: ${spec.lab} has no instrument ${spec.instrument}`);

@@ -29,3 +29,8 @@ export function toMajorText(minor: number): string {
 export function formatMoney(minor: number, currency: string, locale: SupportedLocale = DEFAULT_LOCALE): string {
   return formatterFor(locale).money(minor, currency);
 }
+
+/** The platform fee of an amount: basis points of the order, rounded to the nearest minor unit. */
+export function platformFee(amountMinor: number, bps: number) {
+  return Math.round((amountMinor * bps) / 10_000);
+}

@@ -1,4 +1,4 @@
-// The order state machine of DESIGN.md: who may move an order from one state to the next (browser-safe).
+// The order state machine of docs/design.md#order-states: who may move an order from one state to the next (browser-safe).
 import type { Badge } from "~/components/ui";
 
 export const ORDER_STATES = [
@@ -50,25 +50,23 @@ export const ORDER_STATE_LABELS: Record<OrderState, string> = {
   resolved: "Dispute resolved",
 };
 
-export const ORDER_STATE_TONES: Record<OrderState, Parameters<typeof Badge>[0]["tone"]> = {
-  awaiting_payment: "caution",
-  funds_held: "brand",
-  samples_in_transit: "brand",
-  samples_received: "brand",
-  measuring: "brand",
-  data_delivered: "caution",
-  accepted: "ok",
-  paid_out: "ok",
-  cancelled: "neutral",
-  refused_on_arrival: "danger",
-  disputed: "danger",
-  resolved: "neutral",
-};
-
 /** null when the move is allowed, otherwise the sentence that explains why not. */
 export function moveProblem(from: OrderState, to: OrderState, mover: Mover): string | null {
   const allowed = TRANSITIONS[from][to];
   if (!allowed) return `An order that is "${ORDER_STATE_LABELS[from]}" cannot become "${ORDER_STATE_LABELS[to]}".`;
   if (!allowed.includes(mover)) return `Only ${allowed.map((m) => (m === "system" ? "the platform" : `the ${m}`)).join(" or ")} can mark an order "${ORDER_STATE_LABELS[to]}".`;
   return null;
+}
+
+/** Whether `mover` may move an order from `from` to `to`: screens offer an action only when this holds. */
+export function canMove(from: OrderState, to: OrderState, mover: Mover): boolean {
+  return moveProblem(from, to, mover) === null;
+}
+
+/** The states the samples have reached the lab in (or passed through on the way to an outcome). */
+const SAMPLES_AT_LAB: ReadonlySet<OrderState> = new Set(["samples_received", "measuring", "data_delivered", "accepted", "paid_out", "disputed", "resolved"]);
+
+/** Whether the lab has the samples (or had them): the data room and the measurement history exist from then on. */
+export function samplesAtLab(state: OrderState): boolean {
+  return SAMPLES_AT_LAB.has(state);
 }

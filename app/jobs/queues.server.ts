@@ -1,4 +1,5 @@
-// The job queue (pg-boss on the app's PostgreSQL): queue names, the shared client, and the worker's handlers.
+// The job queue (pg-boss on the app's PostgreSQL): queue names and the shared client. It imports no handler:
+// app/jobs/worker.server.ts registers those, and only the worker process loads it.
 import PgBoss from "pg-boss";
 import { config } from "~/config.server";
 
@@ -43,23 +44,4 @@ export async function stopBoss() {
   const boss = await g.__diffractoryBoss;
   delete g.__diffractoryBoss;
   await boss.stop({ graceful: true, wait: true });
-}
-
-/** Registers every queue's handler and the schedules; the worker process calls this once. */
-export async function startWorkers(boss: PgBoss, { reviewWindowCron = process.env.REVIEW_WINDOW_CRON || "*/5 * * * *" } = {}) {
-  const { acceptLapsedDeliveries, releasePendingPayouts } = await import("~/models/payments/provider.server");
-  await boss.schedule(QUEUES.reviewWindow, reviewWindowCron);
-  await boss.work(QUEUES.reviewWindow, async () => {
-    const accepted = await acceptLapsedDeliveries();
-    if (accepted > 0) console.log(`review window: ${accepted} deliveries accepted automatically`);
-    // Payouts the provider failed to make after an acceptance are tried again on the same schedule.
-    const paid = await releasePendingPayouts();
-    if (paid > 0) console.log(`payouts: ${paid} delayed payouts released`);
-  });
-  const { runScanCheck } = await import("~/models/checks/scan-check.server");
-  await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
-    await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });
-  });
-  const { startMailWorkers } = await import("~/models/notifications/delivery.server");
-  await startMailWorkers(boss);
 }

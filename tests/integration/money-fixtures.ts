@@ -14,6 +14,7 @@ export async function moneyWorld() {
     db: await import("~/db/client.server"),
     seed: await import("~/demo/seed.server"),
     payments: await import("~/models/payments/provider.server"),
+    checkout: await import("~/models/payments/checkout.server"),
     orders: await import("~/models/orders/lifecycle.server"),
     ledger: await import("~/models/payments/ledger.server"),
     webhook: await import("~/routes/api/webhooks-payments"),
@@ -78,10 +79,10 @@ export async function moneyWorld() {
 
   /** Opens checkout and pays on the fake's card page with the given test card; then the return page's sync. */
   async function pay(orderId: string, card = "4242424242424242") {
-    const url = await app.payments.startCheckout(orderId, { userId: owner.id, email: owner.email });
+    const url = await app.checkout.startCheckout(orderId, { userId: owner.id, email: owner.email });
     const sessionId = sessionIdOf(url);
     const result = fake.controls.pay(sessionId, { number: card, exp: "12/34", cvc: "123", name: "Ingrid Halvorsen-Lund" });
-    const synced = await app.payments.syncCheckout(sessionId);
+    const synced = await app.checkout.syncCheckout(sessionId);
     return { url, sessionId, result, synced };
   }
 

@@ -37,13 +37,13 @@ async function apply(orderId: string, step: Step, refundShare: number) {
         if (state === "awaiting_payment") await w.pay(orderId, "4000000000000002");
         break;
       case "cancel":
-        await app.payments.cancelOrder(orderId, "client", owner.id, "property test");
+        await app.orders.cancelOrder(orderId, "client", owner.id, "property test");
         break;
       case "ship":
         await move("samples_in_transit", "client");
         break;
       case "refuse":
-        await app.payments.refuseOnArrival(orderId, labManager.id, "property test");
+        await app.orders.refuseOnArrival(orderId, labManager.id, "property test");
         break;
       case "deliver":
         await move("samples_received", "lab").catch(() => null);
@@ -51,18 +51,18 @@ async function apply(orderId: string, step: Step, refundShare: number) {
         await move("data_delivered", "lab", { deliveredAt: new Date(Date.now() - 10 * 86_400_000) });
         break;
       case "accept":
-        await app.payments.acceptDelivery(orderId, "client", owner.id);
+        await app.orders.acceptDelivery(orderId, "client", owner.id);
         break;
       case "dispute":
-        await app.payments.openDispute(orderId, owner.id, "property test dispute");
+        await app.orders.openDispute(orderId, owner.id, "property test dispute");
         break;
       case "resolve": {
         const held = await app.ledger.heldForOrder(w.db, orderId);
-        await app.payments.resolveDispute(orderId, { userId: admin.id }, Math.round(held * refundShare), "property test decision");
+        await app.orders.resolveDispute(orderId, { userId: admin.id }, Math.round(held * refundShare), "property test decision");
         break;
       }
       case "lapse":
-        await app.payments.acceptLapsedDeliveries();
+        await app.orders.acceptLapsedDeliveries();
         break;
     }
   } catch (err) {

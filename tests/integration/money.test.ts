@@ -52,14 +52,14 @@ describe("paying into holding", () => {
   it("a double click on pay opens one checkout and charges once", async () => {
     const orderId = await w.makeOrder(12_000);
     const actor = { userId: w.owner.id, email: w.owner.email };
-    const [a, b] = await Promise.all([w.app.payments.startCheckout(orderId, actor), w.app.payments.startCheckout(orderId, actor)]);
+    const [a, b] = await Promise.all([w.app.checkout.startCheckout(orderId, actor), w.app.checkout.startCheckout(orderId, actor)]);
     expect(a).toBe(b);
     const payments = await w.db.select().from(w.schema.payments).where(w.eq(w.schema.payments.orderId, orderId));
     expect(payments).toHaveLength(1);
     w.fake.controls.pay(w.sessionIdOf(a), { number: "4242424242424242" });
     w.fake.controls.pay(w.sessionIdOf(a), { number: "4242424242424242" });
-    await w.app.payments.syncCheckout(w.sessionIdOf(a));
-    await w.app.payments.syncCheckout(w.sessionIdOf(a));
+    await w.app.checkout.syncCheckout(w.sessionIdOf(a));
+    await w.app.checkout.syncCheckout(w.sessionIdOf(a));
     const charges = (w.fake.controls.snapshot().objects.charge as { payment_intent: string; status: string }[]).filter((c) => c.payment_intent === payments[0].paymentIntentId);
     expect(charges).toHaveLength(1);
     expect((await ledgerFor(orderId)).filter((r) => r.kind === "payment_held")).toHaveLength(2); // two entries, one transaction
@@ -71,11 +71,11 @@ describe("releasing, refunding and disputes", () => {
     const orderId = await w.makeOrder(20_000);
     await w.pay(orderId);
     await w.deliver(orderId);
-    await w.app.payments.acceptDelivery(orderId, "client", w.owner.id);
+    await w.app.orders.acceptDelivery(orderId, "client", w.owner.id);
     expect(await w.orderState(orderId)).toBe("paid_out");
     const rows = await ledgerFor(orderId);
     expect(sum(rows, "funds_held")).toBe(0);
-    expect(sum(rows, "platform_fees")).toBe(-1_600); // 8 % of 200.00 (DESIGN.md default fee)
+    expect(sum(rows, "platform_fees")).toBe(-1_600); // 8 % of 200.00 (default fee, docs/design.md#money-flow)
     expect(sum(rows, "platform_cash")).toBe(20_000 - 18_400);
     const transfers = (w.fake.controls.snapshot().objects.transfer as { transfer_group: string; amount: number }[]).filter((t) => t.transfer_group === `order_${orderId}`);
     expect(transfers.map((t) => t.amount)).toEqual([18_400]);
@@ -85,7 +85,7 @@ describe("releasing, refunding and disputes", () => {
     const orderId = await w.makeOrder(10_000);
     await w.pay(orderId);
     await w.deliver(orderId);
-    await Promise.allSettled([w.app.payments.acceptDelivery(orderId, "client", w.owner.id), w.app.payments.acceptDelivery(orderId, "client", w.owner.id)]);
+    await Promise.allSettled([w.app.orders.acceptDelivery(orderId, "client", w.owner.id), w.app.orders.acceptDelivery(orderId, "client", w.owner.id)]);
     expect(await w.orderState(orderId)).toBe("paid_out");
     const transfers = (w.fake.controls.snapshot().objects.transfer as { transfer_group: string }[]).filter((t) => t.transfer_group === `order_${orderId}`);
     expect(transfers).toHaveLength(1);
@@ -94,7 +94,7 @@ describe("releasing, refunding and disputes", () => {
   it("cancellation before the samples arrive refunds in full", async () => {
     const orderId = await w.makeOrder(15_000);
     await w.pay(orderId);
-    await w.app.payments.cancelOrder(orderId, "client", w.owner.id, "Batch withdrawn");
+    await w.app.orders.cancelOrder(orderId, "client", w.owner.id, "Batch withdrawn");
     expect(await w.orderState(orderId)).toBe("cancelled");
     expect(await w.app.ledger.heldForOrder(w.db, orderId)).toBe(0);
     const refunds = (w.fake.controls.snapshot().objects.refund as { amount: number; metadata: { orderId: string } }[]).filter((r) => r.metadata.orderId === orderId);
@@ -105,7 +105,7 @@ describe("releasing, refunding and disputes", () => {
     const orderId = await w.makeOrder();
     await w.pay(orderId);
     await w.deliver(orderId);
-    await expect(w.app.payments.cancelOrder(orderId, "client", w.owner.id, "late")).rejects.toThrow(/cannot become "Cancelled"/);
+    await expect(w.app.orders.cancelOrder(orderId, "client", w.owner.id, "late")).rejects.toThrow(/cannot become "Cancelled"/);
     expect(await w.app.ledger.heldForOrder(w.db, orderId)).toBe(19_500);
   });
 
@@ -113,7 +113,7 @@ describe("releasing, refunding and disputes", () => {
     const orderId = await w.makeOrder(19_500);
     await w.pay(orderId);
     await w.db.transaction(async (tx) => w.app.orders.moveOrder(tx, await w.app.orders.lockOrder(tx, orderId), "samples_in_transit", "client", w.owner.id));
-    await w.app.payments.refuseOnArrival(orderId, w.labManager.id, "The parcel held a liquid, not the declared powder.");
+    await w.app.orders.refuseOnArrival(orderId, w.labManager.id, "The parcel held a liquid, not the declared powder.");
     expect(await w.orderState(orderId)).toBe("refused_on_arrival");
     const rows = await ledgerFor(orderId);
     expect(sum(rows, "funds_held")).toBe(0);
@@ -126,12 +126,12 @@ describe("releasing, refunding and disputes", () => {
     const orderId = await w.makeOrder(30_000);
     await w.pay(orderId);
     await w.deliver(orderId, new Date(Date.now() - 30 * 86_400_000));
-    await w.app.payments.openDispute(orderId, w.owner.id, "Two of the three scans are of the wrong sample.");
+    await w.app.orders.openDispute(orderId, w.owner.id, "Two of the three scans are of the wrong sample.");
     // Frozen: the review window cannot accept it even though it lapsed long ago.
-    await w.app.payments.acceptLapsedDeliveries();
+    await w.app.orders.acceptLapsedDeliveries();
     expect(await w.orderState(orderId)).toBe("disputed");
-    await expect(w.app.payments.resolveDispute(orderId, { userId: w.admin.id }, 40_000, "Too much")).rejects.toThrow(/between 0 and the 30000/);
-    await w.app.payments.resolveDispute(orderId, { userId: w.admin.id }, 20_000, "Two thirds of the data unusable; refund two thirds.");
+    await expect(w.app.orders.resolveDispute(orderId, { userId: w.admin.id }, 40_000, "Too much")).rejects.toThrow(/between 0 and the 30000/);
+    await w.app.orders.resolveDispute(orderId, { userId: w.admin.id }, 20_000, "Two thirds of the data unusable; refund two thirds.");
     expect(await w.orderState(orderId)).toBe("resolved");
     const rows = await ledgerFor(orderId);
     expect(sum(rows, "funds_held")).toBe(0);
@@ -149,7 +149,7 @@ describe("releasing, refunding and disputes", () => {
     const lapsed = await w.makeOrder(11_000);
     await w.pay(lapsed);
     await w.deliver(lapsed, new Date(Date.now() - 8 * 86_400_000));
-    await w.app.payments.acceptLapsedDeliveries();
+    await w.app.orders.acceptLapsedDeliveries();
     expect(await w.orderState(fresh)).toBe("data_delivered");
     expect(await w.orderState(lapsed)).toBe("paid_out");
   });
@@ -159,7 +159,7 @@ describe("webhooks", () => {
   it("events pushed twice, late and out of order end in the same state and ledger as once", async () => {
     w.fake.controls.setDelivery({ mode: "hold" });
     const orderId = await w.makeOrder(14_000);
-    const url = await w.app.payments.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email });
+    const url = await w.app.checkout.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email });
     w.fake.controls.pay(w.sessionIdOf(url), { number: "4242424242424242" });
     expect(await w.orderState(orderId)).toBe("awaiting_payment");
     // Out of order, then every event again.
@@ -172,14 +172,14 @@ describe("webhooks", () => {
     expect(rows).toHaveLength(2);
     expect(sum(rows, "funds_held")).toBe(-14_000);
     // The return page arriving after the webhooks changes nothing.
-    await w.app.payments.syncCheckout(w.sessionIdOf(url));
+    await w.app.checkout.syncCheckout(w.sessionIdOf(url));
     expect(await ledgerFor(orderId)).toHaveLength(2);
   });
 
   it("a bad signature is answered 400 and changes nothing; a replay with another body too", async () => {
     const Stripe = (await import("stripe")).default;
     const orderId = await w.makeOrder(9_000);
-    const url = await w.app.payments.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email });
+    const url = await w.app.checkout.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email });
     const session = { id: w.sessionIdOf(url), object: "checkout.session", metadata: { orderId } };
     const event = { id: "evt_forged_1", object: "event", type: "checkout.session.completed", data: { object: session }, created: 1, api_version: "2025-01-01", livemode: false };
     const payload = JSON.stringify(event);
@@ -213,7 +213,7 @@ describe("provider faults", () => {
   it("a provider answering 500 gives the client a clear message and records nothing", async () => {
     const orderId = await w.makeOrder(8_000);
     w.fake.controls.setFaults({ mode: "error_500", count: 5, pathPrefix: "/v1/checkout" });
-    await expect(w.app.payments.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email })).rejects.toThrow(/not answering right now. Nothing was charged/);
+    await expect(w.app.checkout.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email })).rejects.toThrow(/not answering right now. Nothing was charged/);
     w.fake.controls.setFaults({ mode: "none" });
     expect(await w.db.select().from(w.schema.payments).where(w.eq(w.schema.payments.orderId, orderId))).toEqual([]);
     expect(await w.orderState(orderId)).toBe("awaiting_payment");

@@ -26,6 +26,7 @@ const mailBase = `http://127.0.0.1:${fakePort}`;
 let w: MoneyWorld;
 let outbox: typeof import("~/models/notifications/outbox.server");
 let sending: typeof import("~/models/notifications/delivery.server");
+let worker: typeof import("~/jobs/worker.server");
 let boss: typeof import("~/jobs/queues.server");
 let models: { quotes: typeof import("~/models/requests/quotes.server"); matching: typeof import("~/models/labs/matching.server"); session: typeof import("~/utils/session.server") };
 let stopMail: (() => Promise<void>) | null = null;
@@ -71,6 +72,7 @@ beforeAll(async () => {
   outbox = await import("~/models/notifications/outbox.server");
   sending = await import("~/models/notifications/delivery.server");
   boss = await import("~/jobs/queues.server");
+  worker = await import("~/jobs/worker.server");
   models = { quotes: await import("~/models/requests/quotes.server"), matching: await import("~/models/labs/matching.server"), session: await import("~/utils/session.server") };
   await w.onboardLab();
   clientEmails = await membersOf(w.halvorsen.id);
@@ -99,8 +101,8 @@ describe("each milestone of the order flow", () => {
 
     await w.pay(orderId);
     await w.deliver(orderId);
-    const payments = await import("~/models/payments/provider.server");
-    await payments.acceptDelivery(orderId, "client", w.owner.id);
+    const orders = await import("~/models/orders/lifecycle.server");
+    await orders.acceptDelivery(orderId, "client", w.owner.id);
 
     const expected: Record<string, string[]> = {
       funds_held: [...clientEmails, ...labEmails].sort(),
@@ -198,7 +200,7 @@ describe("sending", () => {
     // Everything written so far counts as sent already; this test looks at the burst only.
     await db.update(schema.outboxMessages).set({ status: "sent" });
     const b = await boss.getBoss();
-    stopMail = await sending.startMailWorkers(b, { sweepMs: 500, workers: 2 });
+    stopMail = await worker.startMailWorkers(b, { sweepMs: 500, workers: 2 });
 
     await fetch(`${mailBase}/_fake/outage?seconds=30`, { method: "POST" });
     const outageEnds = Date.now() + 30_000;
@@ -242,7 +244,7 @@ describe("sending", () => {
   it("parks a message after the last attempt, lists it for admins, and an admin's retry sends it", { timeout: 30_000 }, async () => {
     const { db } = w;
     // The running workers meet a broken service and keep retrying; this direct attempt is the last one.
-    sending.useMailTransport({ name: "broken", send: async () => Promise.reject(new Error("connection refused by the mail service")) });
+    sending.setMailTransport({ name: "broken", send: async () => Promise.reject(new Error("connection refused by the mail service")) });
     const orderId = await w.makeOrder();
     await db.transaction(async (tx) => {
       const o = await w.app.orders.lockOrder(tx, orderId);
@@ -251,7 +253,7 @@ describe("sending", () => {
     const [row] = await rows({ orderId, kind: "order_cancelled" });
     expect(await sending.deliverOutboxMessage(row.id, { finalAttempt: true })).toBe("parked");
     expect((await rows({ orderId, kind: "order_cancelled" })).find((r) => r.id === row.id)?.status).toBe("parked");
-    sending.useMailTransport(undefined);
+    sending.setMailTransport(undefined);
 
     const adminPage = await import("~/routes/admin/outbox");
     const cookie = (await models.session.startSession(getRequest("/"), w.admin.id, null)).split(";")[0];

@@ -8,7 +8,8 @@ import { seedDemo } from "~/demo/seed.server";
 import { parseScan } from "~/diffraction";
 import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
 import { LITHIUM_IRON_PHOSPHATE, SILICON } from "~/diffraction/structures";
-import { getBoss, startWorkers, stopBoss } from "~/jobs/queues.server";
+import { getBoss, stopBoss } from "~/jobs/queues.server";
+import { startWorkers } from "~/jobs/worker.server";
 import { enqueueScanCheck, runScanCheck, samplesWithoutCompletedCheck, STORED_PROFILE_POINTS } from "~/models/checks/scan-check.server";
 import type { StoredCheckResult } from "~/domain/check-result";
 import { loader as checkApi } from "~/routes/api/check";
@@ -19,7 +20,7 @@ import { putObject } from "~/models/files/storage.server";
 import { callRoute, getRequest, sessionCookieFor } from "./route-call";
 
 const CU = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" } as const;
-// Certified lattice parameter of silicon, NIST SRM 640c: a = 5.4311946 ± 0.0000092 Å (REFERENCE.md, certificate).
+// Certified lattice parameter of silicon, NIST SRM 640c: a = 5.4311946 ± 0.0000092 Å (docs/reference-values.md#certified-lattice-parameters, certificate).
 const SI_CERTIFIED_A = 5.4311946;
 
 const cookies: Record<string, string> = {};
@@ -122,12 +123,12 @@ describe("runScanCheck", () => {
     expect(check.verdict).toBe("consistent");
     expect(check.finishedAt).toBeInstanceOf(Date);
     const result = check.result as unknown as StoredCheckResult;
-    // Simulated from SRM 640c's certified a (REFERENCE.md); the check must find it again, the zero shift too.
+    // Simulated from SRM 640c's certified a (docs/reference-values.md#certified-lattice-parameters); the check must find it again, the zero shift too.
     expect(Math.abs(result.cell!.a - SI_CERTIFIED_A)).toBeLessThan(2e-4);
     expect(result.zeroShift).toBeCloseTo(-0.02, 2);
     expect(result.radiation).toMatchObject({ kind: "anode", anode: "Cu" });
     expect(result.declaredFrom.sampleLabel).toBe("SI-640");
-    // Si 111 at 28.442° 2θ for a = 5.431 Å, Cu Kα1 (REFERENCE.md, pymatgen and gemmi agree); shifted by the zero shift.
+    // Si 111 at 28.442° 2θ for a = 5.431 Å, Cu Kα1 (docs/reference-values.md#silicon-reflections, pymatgen and gemmi agree); shifted by the zero shift.
     const p111 = result.peaks.find((p) => p.hkl?.join("") === "111")!;
     expect(p111.twoTheta).toBeCloseTo(28.442 - 0.02, 1);
     expect(result.profile.thinned).toBe(false);

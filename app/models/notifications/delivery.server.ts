@@ -73,7 +73,8 @@ export function mailTransport(): MailTransport {
   return g.__diffractoryMailTransport;
 }
 
-export function useMailTransport(transport: MailTransport | undefined) {
+/** Replaces the configured transport (tests use a broken one); `undefined` goes back to the configured one. */
+export function setMailTransport(transport: MailTransport | undefined) {
   g.__diffractoryMailTransport = transport;
 }
 
@@ -246,34 +247,6 @@ export async function startOutboxDispatcher(boss: PgBoss, { sweepMs = 5000 } = {
     while (running) await new Promise((r) => setTimeout(r, 20));
     await listener?.end().catch(() => undefined);
   };
-}
-
-/** The mail workers: the dispatcher, the mail-send handlers and the review-window reminder schedule. */
-export async function startMailWorkers(boss: PgBoss, { sweepMs = 5000, reminderCron = "*/15 * * * *", workers = 2 } = {}) {
-  await boss.schedule(QUEUES.reviewReminder, reminderCron);
-  await boss.work(QUEUES.reviewReminder, async () => {
-    const reminded = await remindReviewWindows();
-    if (reminded > 0) console.log(`review window: ${reminded} reminders written`);
-  });
-  for (let i = 0; i < workers; i++) {
-    await boss.work<{ messageId: string }>(QUEUES.mailSend, { batchSize: 10, includeMetadata: true, pollingIntervalSeconds: 1 }, async (jobs) => {
-      // Each job of the batch succeeds or fails on its own: failed ones are failed by id (pg-boss then
-      // retries them after their delay) and the rest are completed when this handler returns.
-      await Promise.all(
-        jobs.map(async (job) => {
-          try {
-            await deliverOutboxMessage(job.data.messageId, { finalAttempt: job.retryCount >= job.retryLimit });
-          } catch (err) {
-            await boss.fail(QUEUES.mailSend, job.id, { message: (err as Error).message });
-          }
-        }),
-      );
-    });
-  }
-  const stop = await startOutboxDispatcher(boss, { sweepMs });
-  // The dispatcher's own connection closes with the queue (the worker's shutdown, a test's stopBoss).
-  boss.once("stopped", () => void stop());
-  return stop;
 }
 
 /** Puts every queued row in the queue now (for scripts and tests that run no dispatcher). */

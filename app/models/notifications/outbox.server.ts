@@ -4,7 +4,7 @@ import { schema } from "~/db/client.server";
 import type { Order } from "~/db/schema";
 import type { VettingState } from "~/domain/vetting";
 import type { OrderState } from "~/domain/order-states";
-import type { Tx } from "~/models/orders/lifecycle.server";
+import type { Tx } from "~/db/client.server";
 import { invitationLetter, labApplicationLetter, passwordResetLetter, labDecisionLetter, orderLetter, quoteDecisionLetter, quoteReceivedLetter, requestOpenLetter, type Audience, type OrderContext } from "~/models/notifications/compose.server";
 import { renderLetter, type Letter } from "~/models/notifications/letters.server";
 import { isEssential, type MilestoneKind } from "~/domain/milestones";

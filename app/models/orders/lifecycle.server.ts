@@ -1,12 +1,17 @@
-// Orders: state moves under a row lock, each written to the order's timeline.
-import { isUuid } from "~/domain/ids";
-import { asc, desc, eq } from "drizzle-orm";
-import { db, schema } from "~/db/client.server";
+// Every move of an order from one state to the next, in one place: each runs under a row lock, is allowed by the
+// transition table of app/domain/order-states.ts, is written to the order's timeline and notifies through the
+// outbox in the same transaction. Money that a move releases goes through app/models/payments/provider.server.ts.
+import { eq, sql } from "drizzle-orm";
+import { config } from "~/config.server";
+import { db, schema, type Tx } from "~/db/client.server";
 import type { Order } from "~/db/schema";
-import { notify } from "~/models/notifications/outbox.server";
+import { platformFee } from "~/domain/money";
 import { moveProblem, type Mover, type OrderState } from "~/domain/order-states";
-
-export type Tx = Parameters<Parameters<typeof db.transaction>[0]>[0];
+import { audit } from "~/models/audit.server";
+import { samplesWithoutCompletedCheck } from "~/models/checks/scan-check.server";
+import { notify } from "~/models/notifications/outbox.server";
+import { ACCOUNTS, heldForOrder, postLedger } from "~/models/payments/ledger.server";
+import { PaymentProblem, postPayout, refund, refundHeld, transferToLab } from "~/models/payments/provider.server";
 
 export class OrderMoveRefused extends Error {
   constructor(
@@ -49,45 +54,191 @@ export async function moveOrder(
   return updated;
 }
 
-export async function orderTimeline(orderId: string) {
-  return db
-    .select({
-      id: schema.orderEvents.id,
-      fromState: schema.orderEvents.fromState,
-      toState: schema.orderEvents.toState,
-      note: schema.orderEvents.note,
-      at: schema.orderEvents.at,
-      actor: schema.users.name,
-    })
-    .from(schema.orderEvents)
-    .leftJoin(schema.users, eq(schema.users.id, schema.orderEvents.actorUserId))
-    .where(eq(schema.orderEvents.orderId, orderId))
-    .orderBy(asc(schema.orderEvents.id));
+// ─── The physical side: shipping, receiving, measuring, delivering ───
+
+/** The client marks the samples shipped, with the carrier and tracking number. */
+export async function markShipped(orderId: string, userId: string, carrier: string, trackingNumber: string) {
+  return db.transaction(async (tx) => {
+    const order = await moveOrder(tx, await lockOrder(tx, orderId), "samples_in_transit", "client", userId, `Shipped with ${carrier}, tracking ${trackingNumber}.`);
+    await tx.insert(schema.shipments).values({ orderId, carrier, trackingNumber, shippedBy: userId }).onConflictDoUpdate({
+      target: schema.shipments.orderId,
+      set: { carrier, trackingNumber, shippedBy: userId, shippedAt: new Date() },
+    });
+    return order;
+  });
+}
+
+export async function markReceived(orderId: string, userId: string, note: string) {
+  return db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "samples_received", "lab", userId, note || "Samples received; the parcel matches its declaration."));
+}
+
+export async function startMeasuring(orderId: string, userId: string, note: string) {
+  return db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "measuring", "lab", userId, note || "Measurement started."));
+}
+
+/** The lab marks the data delivered; every sample needs at least one completed check first. */
+export async function markDelivered(orderId: string, userId: string, note: string) {
+  const missing = await samplesWithoutCompletedCheck(orderId);
+  if (missing.length > 0) {
+    throw new OrderMoveRefused(`Every sample needs at least one scan with a completed lattice check first; missing: ${missing.join(", ")}.`);
+  }
+  return db.transaction(async (tx) =>
+    moveOrder(tx, await lockOrder(tx, orderId), "data_delivered", "lab", userId, note || "Data delivered to the client's data room.", { deliveredAt: new Date() }),
+  );
+}
+
+// ─── Money moves: holding, cancelling, accepting, paying out, disputes ───
+
+/**
+ * A paid checkout: the payment row marked paid, the money posted as held, and the order moved to funds held.
+ * A repeated call posts nothing (the ledger posting is keyed by the charge) and moves nothing.
+ */
+export async function holdFunds(orderId: string, paid: { paymentId: string; paymentIntentId: string; chargeId: string; amountMinor: number }) {
+await db.transaction(async (tx) => {
+  const order = await lockOrder(tx, orderId);
+  await tx.update(schema.payments).set({ status: "paid", chargeId: paid.chargeId, paymentIntentId: paid.paymentIntentId, lastError: null, updatedAt: new Date() }).where(eq(schema.payments.id, paid.paymentId));
+  const posted = await postLedger(tx, {
+    kind: "payment_held",
+    orderId,
+    currency: order.currency,
+    providerObjectId: paid.chargeId,
+    memo: `Payment held for order ${orderId}`,
+    entries: [
+      { account: ACCOUNTS.cash, amountMinor: paid.amountMinor },
+      { account: ACCOUNTS.held, amountMinor: -paid.amountMinor },
+    ],
+  });
+  if (posted && order.state === "awaiting_payment") await moveOrder(tx, order, "funds_held", "system", null, "Payment received and held.");
+});
+}
+
+/** Pays an accepted order out: total minus the platform fee to the lab, the fee to the platform. */
+export async function releasePayout(orderId: string) {
+  const [order] = await db.select().from(schema.orders).where(eq(schema.orders.id, orderId));
+  if (!order) throw new PaymentProblem("No such order.", 404);
+  if (order.state === "paid_out") return order;
+  if (order.state !== "accepted") throw new PaymentProblem("Only an accepted delivery is paid out.");
+  const fee = platformFee(order.amountMinor, order.platformFeeBps);
+  const transfer = await transferToLab(order, order.amountMinor - fee, `payout:${order.id}`);
+  return db.transaction(async (tx) => {
+    const locked = await lockOrder(tx, orderId);
+    await postPayout(tx, locked, transfer.id, order.amountMinor - fee, fee, "Payout on accepted delivery");
+    return locked.state === "accepted" ? moveOrder(tx, locked, "paid_out", "system", null, `Paid to the lab: ${order.amountMinor - fee} minor units after the platform fee of ${fee}.`) : locked;
+  });
 }
 
 /**
- * The signed-in person's side of an order: the client organisation that placed it or the lab that
- * measures it. Anyone else — including other organisations — gets the same 404 as for a missing order.
+ * Cancels an order before its samples arrive. Money already held is refunded in full; the state moves
+ * first so no shipment can start while the refund is under way.
  */
-export async function orderForOrganisation(orderId: string, organisationId: string) {
-  if (!isUuid(orderId)) return null;
-  const [order] = await db.select().from(schema.orders).where(eq(schema.orders.id, orderId));
-  if (!order) return null;
-  if (order.clientOrganisationId === organisationId) return { order, side: "client" as const };
-  if (order.labId === organisationId) return { order, side: "lab" as const };
-  return null;
+export async function cancelOrder(orderId: string, mover: Mover, actorUserId: string, reason: string) {
+  const order = await db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "cancelled", mover, actorUserId, reason || "Cancelled."));
+  await refundHeld(order, `Refund on cancellation: ${reason}`, `refund:${orderId}:cancel`);
+  return order;
 }
 
-/** An organisation's orders, newest change first, with the other party's name: the lab for a client, the client for a lab. */
-export async function ordersOf(side: "client" | "lab", organisationId: string, limit = 200) {
-  const own = side === "client" ? schema.orders.clientOrganisationId : schema.orders.labId;
-  const other = side === "client" ? schema.orders.labId : schema.orders.clientOrganisationId;
-  return db
-    .select({ id: schema.orders.id, state: schema.orders.state, amountMinor: schema.orders.amountMinor, currency: schema.orders.currency, updatedAt: schema.orders.updatedAt, title: schema.requests.title, counterpart: schema.organisations.name })
-    .from(schema.orders)
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
-    .innerJoin(schema.organisations, eq(schema.organisations.id, other))
-    .where(eq(own, organisationId))
-    .orderBy(desc(schema.orders.updatedAt))
-    .limit(limit);
+/** The lab refuses a parcel that does not match its declaration: refund minus the handling fee, which goes to the lab. */
+export async function refuseOnArrival(orderId: string, actorUserId: string, reason: string) {
+  const order = await db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "refused_on_arrival", "lab", actorUserId, reason));
+  const held = await heldForOrder(db, orderId);
+  const handling = Math.min(config.payments.refusalHandlingFeeMinor, held);
+  await refund(order, held - handling, `Refund after refusal on arrival (handling fee ${handling} kept)`, `refund:${orderId}:refusal`);
+  if (handling > 0) {
+    const transfer = await transferToLab(order, handling, `payout:${orderId}:handling`);
+    await db.transaction((tx) => postPayout(tx, order, transfer.id, handling, 0, "Handling fee for a parcel refused on arrival"));
+  }
+  return order;
+}
+
+/** What the client is told when the acceptance is recorded but the provider did not answer the payout. */
+export const PAYOUT_DELAYED =
+  "Delivery accepted. The payment provider is not answering just now, so the lab's payout has not gone out yet; it is sent automatically within minutes, once.";
+
+/** The client accepts the delivered data (or the review window lapses): the lab is paid. */
+export async function acceptDelivery(orderId: string, mover: "client" | "system", actorUserId: string | null) {
+  await db.transaction(async (tx) => {
+    const order = await lockOrder(tx, orderId);
+    if (order.state === "accepted" || order.state === "paid_out") return;
+    await moveOrder(tx, order, "accepted", mover, actorUserId, mover === "system" ? "The review window lapsed; delivery accepted automatically." : "Delivery accepted.");
+  });
+  return releasePayout(orderId);
+}
+
+/** Accepts every delivery whose review window has lapsed; returns how many. */
+export async function acceptLapsedDeliveries(now = new Date()) {
+  // The review window runs from delivery; orders in dispute are frozen and not touched.
+  const due = await db.execute<{ id: string }>(
+    sql`select id from orders where state = 'data_delivered' and delivered_at + make_interval(days => review_window_days) <= ${now.toISOString()}`,
+  );
+  let accepted = 0;
+  for (const { id } of due.rows) {
+    try {
+      await acceptDelivery(id, "system", null);
+      accepted++;
+    } catch (err) {
+      if (!(err instanceof PaymentProblem) && !(err instanceof OrderMoveRefused)) throw err;
+      console.warn(`review window: order ${id} not paid out yet: ${(err as Error).message}`);
+    }
+  }
+  return accepted;
+}
+
+/**
+ * Pays out accepted orders whose payout did not go through (the provider failed after the acceptance was
+ * recorded). The transfer's idempotency key is the order's, so a payout the provider did make is not repeated.
+ */
+export async function releasePendingPayouts(): Promise<number> {
+  const pending = await db.select({ id: schema.orders.id }).from(schema.orders).where(eq(schema.orders.state, "accepted"));
+  let paid = 0;
+  for (const { id } of pending) {
+    try {
+      await releasePayout(id);
+      paid++;
+    } catch (err) {
+      if (!(err instanceof PaymentProblem) && !(err instanceof OrderMoveRefused)) throw err;
+      console.warn(`payouts: order ${id} not paid out yet: ${(err as Error).message}`);
+    }
+  }
+  return paid;
+}
+
+/** The client opens a dispute on delivered data; the money stays frozen until an admin decides. */
+export async function openDispute(orderId: string, actorUserId: string, reason: string) {
+  return db.transaction(async (tx) => {
+    const order = await moveOrder(tx, await lockOrder(tx, orderId), "disputed", "client", actorUserId, reason);
+    await tx.insert(schema.disputes).values({ orderId, openedBy: actorUserId, reason });
+    return order;
+  });
+}
+
+/**
+ * An admin settles a dispute: `refundMinor` back to the client, the rest to the lab minus the platform
+ * fee on that part. The decision and its reason are recorded and audit-logged.
+ */
+export async function resolveDispute(orderId: string, admin: { userId: string; clientAddress?: string }, refundMinor: number, reason: string) {
+  const [order] = await db.select().from(schema.orders).where(eq(schema.orders.id, orderId));
+  if (!order) throw new PaymentProblem("No such order.", 404);
+  if (order.state !== "disputed") throw new PaymentProblem("This order is not in dispute.");
+  const held = await heldForOrder(db, orderId);
+  if (!Number.isInteger(refundMinor) || refundMinor < 0 || refundMinor > held) {
+    throw new PaymentProblem(`The refund must be a whole amount between 0 and the ${held} minor units held.`, 400);
+  }
+  const payoutPart = held - refundMinor;
+  const fee = platformFee(payoutPart, order.platformFeeBps);
+  await refund(order, refundMinor, `Dispute decision: refund. ${reason}`, `refund:${orderId}:dispute`);
+  const transfer = payoutPart - fee > 0 ? await transferToLab(order, payoutPart - fee, `payout:${orderId}:dispute`) : null;
+  await db.transaction(async (tx) => {
+    const locked = await lockOrder(tx, orderId);
+    if (transfer) await postPayout(tx, locked, transfer.id, payoutPart - fee, fee, `Dispute decision: payout. ${reason}`);
+    else if (fee > 0) await postPayout(tx, locked, `dispute:${orderId}`, 0, fee, "Dispute decision: fee");
+    await tx
+      .update(schema.disputes)
+      .set({ state: "resolved", refundMinor, payoutMinor: payoutPart - fee, decidedBy: admin.userId, decidedAt: new Date(), decisionReason: reason })
+      .where(eq(schema.disputes.orderId, orderId));
+    if (locked.state === "disputed") await moveOrder(tx, locked, "resolved", "admin", admin.userId, `Refund ${refundMinor}, payout ${payoutPart - fee}, fee ${fee}. ${reason}`);
+    await audit(
+      { actorUserId: admin.userId, organisationId: order.clientOrganisationId, action: "dispute_resolved", subjectType: "order", subjectId: orderId, details: { refundMinor, payoutMinor: payoutPart - fee, feeMinor: fee, reason }, clientAddress: admin.clientAddress },
+      tx,
+    );
+  });
 }

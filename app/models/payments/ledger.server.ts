@@ -1,7 +1,7 @@
 // The double-entry ledger: every money movement is a transaction whose entries sum to zero per currency.
 import { and, eq, sql, type SQL } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
-import type { Tx } from "~/models/orders/lifecycle.server";
+import type { Tx } from "~/db/client.server";
 
 /**
  * Accounts, with signed amounts (debit +, credit −):

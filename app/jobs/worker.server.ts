@@ -1,0 +1,52 @@
+// Every queue handler and schedule of the job worker, registered in one place; only server/worker.ts (and the
+// tests that run a worker in-process) import this module, so the app server never loads a handler.
+import type PgBoss from "pg-boss";
+import { runScanCheck } from "~/models/checks/scan-check.server";
+import { deliverOutboxMessage, remindReviewWindows, startOutboxDispatcher } from "~/models/notifications/delivery.server";
+import { acceptLapsedDeliveries, releasePendingPayouts } from "~/models/orders/lifecycle.server";
+import { QUEUES } from "./queues.server";
+
+/** Registers every queue's handler and the schedules; the worker process calls this once. */
+export async function startWorkers(boss: PgBoss, { reviewWindowCron = process.env.REVIEW_WINDOW_CRON || "*/5 * * * *" } = {}) {
+  await boss.schedule(QUEUES.reviewWindow, reviewWindowCron);
+  await boss.work(QUEUES.reviewWindow, async () => {
+    const accepted = await acceptLapsedDeliveries();
+    if (accepted > 0) console.log(`review window: ${accepted} deliveries accepted automatically`);
+    // Payouts the provider failed to make after an acceptance are tried again on the same schedule.
+    const paid = await releasePendingPayouts();
+    if (paid > 0) console.log(`payouts: ${paid} delayed payouts released`);
+  });
+  await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
+    await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });
+  });
+  await startMailWorkers(boss);
+}
+
+/** The mail workers: the dispatcher, the mail-send handlers and the review-window reminder schedule. */
+export async function startMailWorkers(boss: PgBoss, { sweepMs = 5000, reminderCron = "*/15 * * * *", workers = 2 } = {}) {
+  await boss.schedule(QUEUES.reviewReminder, reminderCron);
+  await boss.work(QUEUES.reviewReminder, async () => {
+    const reminded = await remindReviewWindows();
+    if (reminded > 0) console.log(`review window: ${reminded} reminders written`);
+  });
+  for (let i = 0; i < workers; i++) {
+    await boss.work<{ messageId: string }>(QUEUES.mailSend, { batchSize: 10, includeMetadata: true, pollingIntervalSeconds: 1 }, async (jobs) => {
+      // Each job of the batch succeeds or fails on its own: failed ones are failed by id (pg-boss then
+      // retries them after their delay) and the rest are completed when this handler returns.
+      await Promise.all(
+        jobs.map(async (job) => {
+          try {
+            await deliverOutboxMessage(job.data.messageId, { finalAttempt: job.retryCount >= job.retryLimit });
+          } catch (err) {
+            await boss.fail(QUEUES.mailSend, job.id, { message: (err as Error).message });
+          }
+        }),
+      );
+    });
+  }
+  const stop = await startOutboxDispatcher(boss, { sweepMs });
+  // The dispatcher's own connection closes with the queue (the worker's shutdown, a test's stopBoss).
+  boss.once("stopped", () => void stop());
+  return stop;
+}
+
