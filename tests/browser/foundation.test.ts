@@ -1,4 +1,4 @@
-// The foundation in a real browser: create an account, sign in as each demo role, the 403 page, sign out.
+// The foundation in a real browser: create an account, sign in as each demo role, the 403 page, a 404 inside a workspace, sign out.
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, signOut, visit, waitForHydration, type Browser } from "./harness";
 
@@ -77,6 +77,22 @@ describe("foundation journeys", () => {
     await b.page.getByRole("heading", { name: "No access" }).waitFor();
     expect(await b.page.textContent("main")).toContain("This page is for platform admins.");
     await screenshot(b.page, "forbidden-admin-for-lab");
+  });
+
+  it("answers an order that is not there inside the client workspace, with its navigation", async () => {
+    await signIn(b.page, "owner@halvorsen.example");
+    await b.page.waitForURL(`${BASE_URL}/client`);
+    const response = await b.page.goto("/client/orders/00000000-0000-4000-8000-000000000000");
+    expect(response?.status()).toBe(404);
+    await waitForHydration(b.page);
+    await b.page.getByRole("heading", { name: "Not found" }).waitFor();
+    expect(await b.page.textContent("main")).toContain("No such order in your organisation.");
+    expect(await b.page.getByTestId("workspace-title").textContent()).toBe("Client workspace");
+    await screenshot(b.page, "not-found-order-in-client-workspace");
+    const nav = b.page.getByRole("navigation", { name: "Client workspace navigation" });
+    await nav.getByRole("link", { name: "Orders", exact: true }).click();
+    await b.page.waitForURL(`${BASE_URL}/client/orders`);
+    await b.page.getByRole("heading", { name: "Orders", exact: true }).waitFor();
   });
 
   it("keeps a wrong password out with a field error and no session, and stops the sixth failure", async () => {
