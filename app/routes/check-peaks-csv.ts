@@ -1,6 +1,7 @@
 // GET /checks/:id/peaks.csv — the check's peaks table as CSV, for the order's client organisation and its lab.
-import { peaksCsv, type StoredCheckResult } from "~/domain/check-result";
-import { requireCheckAccess } from "~/models/checks/queries.server";
+import { peaksTable, type StoredCheckResult } from "~/domain/check-result";
+import { requireCheckAccess } from "~/utils/permissions.server";
+import { csvText } from "~/utils/csv.server";
 import type { Route } from "./+types/check-peaks-csv";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -9,7 +10,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     return new Response("The check has not finished, so there is no peaks table yet.\n", { status: 409, headers: { "Content-Type": "text/plain; charset=utf-8" } });
   }
   const base = file.name.replace(/\.[^.]+$/, "").replace(/[^A-Za-z0-9._-]+/g, "_") || "scan";
-  return new Response(peaksCsv(check.result as unknown as StoredCheckResult), {
+  return new Response(csvText(peaksTable(check.result as unknown as StoredCheckResult)), {
     headers: {
       "Content-Type": "text/csv; charset=utf-8",
       "Content-Disposition": `attachment; filename="${base}-v${file.version}-peaks.csv"`,

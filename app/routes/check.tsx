@@ -1,19 +1,22 @@
 // /checks/:id — one scan's lattice check for the order's client and its lab: verdict, plot, cells, peaks, downloads.
 import { useEffect, useMemo } from "react";
-import { Link, useLoaderData, useRevalidator } from "react-router";
+import { Link, useRevalidator } from "react-router";
 import { Brand } from "~/components/brand";
 import { CheckPlot, type CheckPlotData } from "~/components/check-plot";
-import { CheckStateBadge, CheckStatusBadge, useCheckStatus, VERDICT_WORDS, type CheckVerdict } from "~/components/check-status";
+import { CheckStateBadge, CheckStatusBadge, useCheckStatus } from "~/components/check-status";
 import { Badge, PageHeader, TableCard } from "~/components/ui";
 import { checkStatusJson } from "~/models/checks/scan-check.server";
-import { requestTitle, requireCheckAccess, sampleOfFile } from "~/models/checks/queries.server";
-import { cellRows, formatHkl, radiationWords, signed, type StoredCheckResult } from "~/domain/check-result";
+import { sampleOfFile } from "~/models/checks/queries.server";
+import { requireCheckAccess } from "~/utils/permissions.server";
+import { requestTitleOf } from "~/models/requests/requests.server";
+import { cellRows, formatHkl, radiationWords, signed, type StoredCheckResult, VERDICT_WORDS } from "~/domain/check-result";
+import type { Verdict } from "~/diffraction/verdict";
 import type { Route } from "./+types/check";
 import { useFormat } from "~/components/locale";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { check, file, order, side, organisation } = await requireCheckAccess(request, params.id);
-  const [sample, title] = await Promise.all([sampleOfFile(file.sampleId), requestTitle(order.requestId)]);
+  const [sample, title] = await Promise.all([sampleOfFile(file.sampleId), requestTitleOf(order.requestId).then((t) => t ?? "Order")]);
   return {
     status: checkStatusJson(check),
     side,
@@ -30,8 +33,7 @@ export function meta({ data }: Route.MetaArgs) {
   return [{ title: data ? `Lattice check · ${data.file.name} — Diffractory` : "Lattice check — Diffractory" }];
 }
 
-export default function CheckScreen() {
-  const d = useLoaderData<typeof loader>();
+export default function CheckScreen({ loaderData: d }: Route.ComponentProps) {
   const back = d.side === "client" ? `/client/data-room/${d.orderId}` : `/lab/orders/${d.orderId}/files`;
   return (
     <div className="min-h-screen">
@@ -69,7 +71,7 @@ export default function CheckScreen() {
 }
 
 /** A check still queued or running (the page loads its result when it is done), or one that failed. */
-function PendingCheck({ status }: { status: ReturnType<typeof useLoaderData<typeof loader>>["status"] }) {
+function PendingCheck({ status }: { status: Route.ComponentProps["loaderData"]["status"] }) {
   const { data } = useCheckStatus(status.id, status);
   const revalidator = useRevalidator();
   const finished = data?.status === "done";
@@ -95,7 +97,7 @@ function PendingCheck({ status }: { status: ReturnType<typeof useLoaderData<type
 
 function CheckResultView({ result }: { result: StoredCheckResult }) {
   const fmt = useFormat();
-  const verdict = VERDICT_WORDS[result.verdict as CheckVerdict];
+  const verdict = VERDICT_WORDS[result.verdict as Verdict];
   const plotData: CheckPlotData = useMemo(
     () => ({
       twoTheta: result.profile.twoTheta,

@@ -1,8 +1,10 @@
-// The layout of the client, lab and admin workspaces; each screen below still checks access itself.
-import { Outlet, useLoaderData } from "react-router";
+// The layout of the client, lab and admin workspaces; a screen's 403 or 404 is answered inside it.
+// Each screen below still checks access itself.
+import { isRouteErrorResponse, Outlet } from "react-router";
+import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { WorkspaceShell, type NavItem } from "~/components/workspace-shell";
 import { summariseActor } from "~/models/accounts/me.server";
-import { requireWorkspace } from "~/models/workspace-access.server";
+import { requireWorkspace } from "~/utils/permissions.server";
 import type { Route } from "./+types/workspace-layout";
 
 const EXTRA_NAV: Record<string, NavItem[]> = {
@@ -25,11 +27,28 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { me: summariseActor(actor), title, nav };
 }
 
-export default function WorkspaceLayout() {
-  const { me, title, nav } = useLoaderData<typeof loader>();
+export default function WorkspaceLayout({ loaderData }: Route.ComponentProps) {
+  const { me, title, nav } = loaderData;
   return (
     <WorkspaceShell me={me} title={title} nav={nav}>
       <Outlet />
+    </WorkspaceShell>
+  );
+}
+
+/**
+ * A screen that refuses (403) or finds nothing (404) answers inside the workspace, so its navigation stays and the
+ * person goes on from there. When the workspace itself refused, there is no shell to draw (no loader data), and any
+ * other error is a fault rather than an answer: both get the plain error page.
+ */
+export function ErrorBoundary({ error, loaderData }: Route.ErrorBoundaryProps) {
+  const answered = isRouteErrorResponse(error) && (error.status === 403 || error.status === 404);
+  if (!loaderData || !answered) return <GeneralErrorBoundary />;
+  const { me, title, nav } = loaderData;
+  return (
+    <WorkspaceShell me={me} title={title} nav={nav}>
+      {/* The loader lists the overview first. */}
+      <GeneralErrorBoundary workspace={{ overview: nav[0].to }} />
     </WorkspaceShell>
   );
 }

@@ -1,22 +1,19 @@
-// Who may use a loader or action: every protected route calls one of these itself.
-import { asc, eq, sql } from "drizzle-orm";
+// Who may use a loader or action: every protected route calls one of these itself. Each guard reads the request,
+// asks the models, and answers a refusal as HTTP (a redirect to sign-in, a 401, 403 or 404) for React Router to send.
 import { data, redirect } from "react-router";
-import { db, schema } from "~/db/client.server";
-import type { MembershipRole, Organisation, OrganisationKind, User } from "~/db/schema";
+import type { MembershipRole, OrganisationKind } from "~/db/schema";
+import type { Section } from "~/domain/workspaces";
+import { ADMIN_SECTIONS, CLIENT_SECTIONS, LAB_SECTIONS } from "~/domain/workspaces";
+import { actorFor, type Actor } from "~/models/accounts/actors.server";
+import { API_TOKEN_RATE_LIMIT, apiTokenBySecret, markApiTokenUsed } from "~/models/accounts/api-tokens.server";
+import { checkWithOrder } from "~/models/checks/scan-check.server";
+import { orderForOrganisation } from "~/models/orders/queries.server";
+import { NoSuchRecord } from "~/models/errors";
+import { labQuoteOf } from "~/models/requests/quotes.server";
+import { ownRequestOf, requestVisibleToLab } from "~/models/requests/requests.server";
+import { hitRateLimit, rateLimitedResponse } from "./rate-limit.server";
 import { oncePerRequest } from "./request-scope.server";
 import { getSession } from "./session.server";
-
-export interface OrgMembership {
-  organisation: Organisation;
-  role: MembershipRole;
-}
-
-export interface Actor {
-  user: User;
-  memberships: OrgMembership[];
-  /** The organisation the person is working in now (they switch between them). */
-  active: OrgMembership | null;
-}
 
 const isApiRequest = (request: Request) => new URL(request.url).pathname.startsWith("/api/");
 
@@ -26,6 +23,19 @@ export function forbidden(message = "You do not have access to this page."): nev
 
 export function notFound(message = "There is nothing here."): never {
   throw data({ message }, { status: 404 });
+}
+
+/**
+ * Runs a model operation and answers its NoSuchRecord (a row the request named that is missing or not the
+ * caller's) as a 404 with the model's sentence; any other error passes through untouched.
+ */
+export async function orNotFound<T>(work: Promise<T>): Promise<T> {
+  try {
+    return await work;
+  } catch (err) {
+    if (err instanceof NoSuchRecord) notFound(err.message);
+    throw err;
+  }
 }
 
 /**
@@ -53,22 +63,6 @@ export async function requireSecondFactorPending(request: Request) {
 
 /** Where admins without a second factor are sent before any admin screen works. */
 export const ENROL_PATH = "/account/security?enrol=required";
-
-// Read on every signed-in page: a named prepared statement, built once and planned once per connection.
-const membershipsOf = db
-  .select({ organisation: schema.organisations, role: schema.memberships.role })
-  .from(schema.memberships)
-  .innerJoin(schema.organisations, eq(schema.organisations.id, schema.memberships.organisationId))
-  .where(eq(schema.memberships.userId, sql.placeholder("userId")))
-  .orderBy(asc(schema.memberships.createdAt))
-  .prepare("memberships_of_user");
-
-/** A person with their memberships; the active organisation is the given one, else their first. */
-export async function actorFor(user: User, activeOrganisationId: string | null): Promise<Actor> {
-  const rows = await membershipsOf.execute({ userId: user.id });
-  const active = rows.find((m) => m.organisation.id === activeOrganisationId) ?? rows[0] ?? null;
-  return { user, memberships: rows, active };
-}
 
 /** The signed-in person, or null; for pages that look different when signed in. */
 export function getOptionalActor(request: Request) {
@@ -119,4 +113,142 @@ export function workspacePath(actor: Pick<Actor, "user" | "active">) {
   if (actor.active?.organisation.kind === "client") return "/client";
   if (actor.user.isAdmin) return "/admin";
   return "/";
+}
+
+// ───────────── Workspaces ─────────────
+
+export type WorkspaceKind = "client" | "lab" | "admin";
+
+const WORKSPACES: Record<WorkspaceKind, { title: string; sections: Section[] }> = {
+  client: { title: "Client workspace", sections: CLIENT_SECTIONS },
+  lab: { title: "Lab workspace", sections: LAB_SECTIONS },
+  admin: { title: "Admin", sections: ADMIN_SECTIONS },
+};
+
+export function workspaceOf(request: Request): WorkspaceKind {
+  const first = new URL(request.url).pathname.split("/")[1];
+  if (first === "client" || first === "lab" || first === "admin") return first;
+  notFound();
+}
+
+/** Admits only the people of this workspace: members of a client or lab organisation, or admins. */
+export async function requireWorkspace(request: Request) {
+  const kind = workspaceOf(request);
+  const actor = kind === "admin" ? await requireAdmin(request) : await requireOrgRole(request, kind);
+  return { kind, actor, ...WORKSPACES[kind] };
+}
+
+// ───────────── Orders and their checks ─────────────
+
+/**
+ * The order as seen from one side, with the actor. Other organisations' orders, and ids that are no order,
+ * are the same 404; a person of the other kind of organisation, or without one of `roles`, gets requireOrgRole's
+ * 403. Resource routes that a fetch calls give `jsonNotFound`, the sentence of a JSON `{ error }` 404, since
+ * the error page's 404 would mean nothing to their callers.
+ */
+export async function requireOrderSide(
+  request: Request,
+  side: "client" | "lab",
+  orderId: string,
+  { roles, jsonNotFound }: { roles?: MembershipRole[]; jsonNotFound?: string } = {},
+) {
+  const actor = await requireOrgRole(request, side, roles);
+  const found = await orderForOrganisation(orderId, actor.membership.organisation.id);
+  if (found?.side !== side) {
+    if (jsonNotFound) throw Response.json({ error: jsonNotFound }, { status: 404 });
+    notFound(side === "client" ? "No such order in your organisation." : "No such order for your lab.");
+  }
+  return { actor, order: found.order };
+}
+
+/**
+ * The order with the side of the first of the person's organisations that is on it, or null. The active
+ * organisation is tried first, so a person on both sides of an order sees their current side.
+ */
+async function partyTo(actor: Actor, orderId: string) {
+  const ordered = [...actor.memberships].sort((a, b) => Number(b.organisation.id === actor.active?.organisation.id) - Number(a.organisation.id === actor.active?.organisation.id));
+  for (const m of ordered) {
+    const found = await orderForOrganisation(orderId, m.organisation.id);
+    if (found) return { ...found, organisation: m.organisation };
+  }
+  return null;
+}
+
+/** The order for anyone on either side of it (the API's order routes); everyone else gets the same 404. */
+export async function requireOrderParty(request: Request, orderId: string) {
+  const actor = await requireUser(request);
+  const found = await partyTo(actor, orderId);
+  if (!found) notFound("No such order for your organisations.");
+  return { actor, ...found };
+}
+
+/**
+ * A lattice check with its file, order and the viewer's side, for the order's client organisation and its lab;
+ * a check of anyone else's order is the same 404 as a missing one.
+ */
+export async function requireCheckAccess(request: Request, checkId: string) {
+  const actor = await requireUser(request);
+  const found = await checkWithOrder(checkId);
+  if (!found) notFound("There is no such check.");
+  const party = await partyTo(actor, found.file.orderId);
+  if (!party) notFound("There is no such check.");
+  return { actor, ...found, order: party.order, side: party.side, organisation: party.organisation };
+}
+
+// ───────────── Requests ─────────────
+
+/** The organisation's own request; another organisation's, and an id that is no request, are the same 404. */
+export async function requireOwnRequest(requestId: string | undefined, organisationId: string) {
+  const row = await ownRequestOf(requestId, organisationId);
+  if (!row) notFound("No such request in your organisation.");
+  return row;
+}
+
+/**
+ * A request the lab may see (open to it, or one it has quoted on); anything else is the same 404, so a lab
+ * cannot tell another's invitation from a missing request.
+ */
+export async function requireRequestForLab(requestId: string | undefined, labId: string) {
+  const row = await requestVisibleToLab(requestId, labId);
+  if (!row) notFound("No such request.");
+  return row;
+}
+
+/** The lab's own quote; another lab's, and an id that is no quote, are the same 404. */
+export async function requireLabQuote(quoteId: string | undefined, labId: string) {
+  const row = await labQuoteOf(quoteId, labId);
+  if (!row) notFound("No such quote.");
+  return row;
+}
+
+/**
+ * A wizard step's access check, called by each step's loader and action: a client member and the
+ * organisation's own request.
+ */
+export async function requireOwnDraft(request: Request, requestId: string | undefined) {
+  const actor = await requireOrgRole(request, "client");
+  const row = await requireOwnRequest(requestId, actor.membership.organisation.id);
+  return { actor, row };
+}
+
+// ───────────── Instrument computers ─────────────
+
+const unauthorized = (error: string) =>
+  Response.json({ error }, { status: 401, headers: { "WWW-Authenticate": 'Bearer realm="diffractory"' } });
+
+/**
+ * The upload API's own "require" step: a valid, unrevoked bearer token, counted against its rate limit.
+ * Throws the 401 or 429 answer; returns the token row (its `labId` scopes every lookup).
+ */
+export async function requireApiToken(request: Request) {
+  const header = request.headers.get("Authorization") ?? "";
+  const match = /^Bearer\s+(\S+)$/i.exec(header);
+  if (!match) throw unauthorized("Send an API token as `Authorization: Bearer <token>`.");
+  const token = await apiTokenBySecret(match[1]);
+  if (!token) throw unauthorized("This API token is not known.");
+  if (token.revokedAt) throw unauthorized("This API token has been revoked.");
+  const limit = await hitRateLimit(`api-token:${token.id}`, API_TOKEN_RATE_LIMIT);
+  if (!limit.ok) throw rateLimitedResponse(limit);
+  await markApiTokenUsed(token.id);
+  return token;
 }

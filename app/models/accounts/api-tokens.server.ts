@@ -3,7 +3,7 @@ import { isUuid } from "~/domain/ids";
 import { createHash, randomBytes } from "node:crypto";
 import { and, desc, eq, isNull } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
-import { hitRateLimit, rateLimitedResponse, type RateLimit } from "~/utils/rate-limit.server";
+import type { RateLimit } from "~/utils/rate-limit.server";
 
 /** Requests per token and minute on the upload API. */
 export const API_TOKEN_RATE_LIMIT: RateLimit = { limit: 60, windowSeconds: 60 };
@@ -48,22 +48,13 @@ export async function revokeApiToken(labId: string, tokenId: string) {
   return rows.length > 0;
 }
 
-const unauthorized = (error: string) =>
-  Response.json({ error }, { status: 401, headers: { "WWW-Authenticate": 'Bearer realm="diffractory"' } });
-
-/**
- * The API's own "require" step: a valid, unrevoked bearer token, counted against its rate limit.
- * Throws the 401 or 429 answer; returns the token row (its `labId` scopes every lookup).
- */
-export async function requireApiToken(request: Request) {
-  const header = request.headers.get("Authorization") ?? "";
-  const match = /^Bearer\s+(\S+)$/i.exec(header);
-  if (!match) throw unauthorized("Send an API token as `Authorization: Bearer <token>`.");
-  const [token] = await db.select().from(schema.apiTokens).where(eq(schema.apiTokens.tokenHash, hashToken(match[1])));
-  if (!token) throw unauthorized("This API token is not known.");
-  if (token.revokedAt) throw unauthorized("This API token has been revoked.");
-  const limit = await hitRateLimit(`api-token:${token.id}`, API_TOKEN_RATE_LIMIT);
-  if (!limit.ok) throw rateLimitedResponse(limit);
-  await db.update(schema.apiTokens).set({ lastUsedAt: new Date() }).where(eq(schema.apiTokens.id, token.id));
+/** The token a presented secret is, revoked or not; undefined when no token has that secret. */
+export async function apiTokenBySecret(secret: string) {
+  const [token] = await db.select().from(schema.apiTokens).where(eq(schema.apiTokens.tokenHash, hashToken(secret)));
   return token;
+}
+
+/** Notes that the token was just used, so the lab's list shows which instrument computers still upload. */
+export async function markApiTokenUsed(tokenId: string) {
+  await db.update(schema.apiTokens).set({ lastUsedAt: new Date() }).where(eq(schema.apiTokens.id, tokenId));
 }

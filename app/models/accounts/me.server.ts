@@ -1,5 +1,5 @@
 // The signed-in person as the app's screens and /api/me see them.
-import type { Actor } from "~/utils/permissions.server";
+import type { Actor } from "~/models/accounts/actors.server";
 
 export interface MeSummary {
   user: { id: string; name: string; email: string; isAdmin: boolean };

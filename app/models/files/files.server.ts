@@ -40,7 +40,6 @@ import {
   type StartedUpload,
 } from "~/domain/order-files";
 import { ORDER_STATE_LABELS } from "~/domain/order-states";
-import { hasNul, NUL_REFUSAL, readBodyText } from "~/utils/form.server";
 
 /** A refused upload step, with the sentence for the uploader and the HTTP status to answer with. */
 export class UploadProblem extends Error {
@@ -343,6 +342,16 @@ export async function orderFileList(orderId: string, { side }: { side: "client" 
 
 export type OrderFileRow = Awaited<ReturnType<typeof orderFileList>>[number];
 
+/** Every file version delivered on the given orders with its scan check's verdict, for weighing a dispute. */
+export async function filesWithVerdicts(orderIds: string[]) {
+  if (orderIds.length === 0) return [];
+  return db
+    .select({ orderId: schema.orderFiles.orderId, name: schema.orderFiles.name, version: schema.orderFiles.version, verdict: schema.scanChecks.verdict })
+    .from(schema.orderFiles)
+    .leftJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))
+    .where(inArray(schema.orderFiles.orderId, orderIds));
+}
+
 /** A file with its order, if one of the given organisations is on the order (client or lab). */
 export async function fileForOrganisations(fileId: string, organisationIds: string[]) {
   if (!isUuid(fileId) || organisationIds.length === 0) return null;
@@ -410,48 +419,4 @@ export async function softDeleteFile(file: OrderFile, userId: string) {
   if (file.deletedAt) return file;
   const [row] = await db.update(schema.orderFiles).set({ deletedAt: new Date(), deletedBy: userId }).where(eq(schema.orderFiles.id, file.id)).returning();
   return row;
-}
-
-/** Runs an upload step and turns a refusal into a JSON `{ error }` answer with its status. */
-export async function answerUploadStep(step: () => Promise<Response>): Promise<Response> {
-  try {
-    return await step();
-  } catch (err) {
-    if (err instanceof UploadProblem || err instanceof StorageUnavailable) return Response.json({ error: err.message }, { status: err.status });
-    throw err;
-  }
-}
-
-/** The JSON object a request carries; anything else is a 400 refusal. */
-export async function readJsonObject(request: Request, { emptyIsObject = false } = {}): Promise<Record<string, unknown>> {
-  const text = await readBodyText(request);
-  if (!text.trim() && emptyIsObject) return {};
-  let body: unknown = null;
-  try {
-    body = JSON.parse(text);
-  } catch {
-    body = null;
-  }
-  if (!body || typeof body !== "object" || Array.isArray(body)) throw new UploadProblem("Send a JSON object.");
-  if (hasNul(body)) throw new UploadProblem(NUL_REFUSAL);
-  return body as Record<string, unknown>;
-}
-
-/** The start fields from a JSON body: `{ name, size, sha256?, sampleId?, kind? }`. */
-export function startInputFrom(body: Record<string, unknown>): StartUploadInput {
-  const text = (v: unknown) => (typeof v === "string" ? v : v == null ? null : String(v));
-  return {
-    name: text(body.name) ?? "",
-    size: typeof body.size === "number" ? body.size : Number(body.size ?? NaN),
-    sha256: text(body.sha256),
-    sampleId: text(body.sampleId),
-    kind: (text(body.kind) ?? undefined) as FileKind | undefined,
-  };
-}
-
-/** The answer to `complete`: 200 with the stored file, or 422 with the reason it was refused. */
-export function completedUploadResponse(result: CompletedUpload) {
-  const { file } = result;
-  if (result.stored) return Response.json({ fileId: file.id, name: file.name, version: file.version, state: "stored", sha256: file.sha256 });
-  return Response.json({ fileId: file.id, name: file.name, version: file.version, state: "rejected", error: result.reason }, { status: 422 });
 }

@@ -46,6 +46,17 @@ export async function revokeShareLink(orderId: string, linkId: string) {
   return rows.length > 0;
 }
 
+/** What heads a shared data room: the order's id, its request's title and the client organisation's name. */
+export async function sharedOrderHeading(orderId: string) {
+  const [row] = await db
+    .select({ id: schema.orders.id, title: schema.requests.title, client: schema.organisations.name })
+    .from(schema.orders)
+    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.clientOrganisationId))
+    .where(eq(schema.orders.id, orderId));
+  return row;
+}
+
 export type ResolvedShareLink =
   | { status: "active"; link: typeof schema.shareLinks.$inferSelect }
   | { status: "expired" | "revoked"; link: typeof schema.shareLinks.$inferSelect }

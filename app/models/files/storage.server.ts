@@ -142,19 +142,16 @@ export async function putObject(key: string, body: string | Uint8Array, contentT
   await services.s3.send(new PutObjectCommand({ Bucket: config.s3.bucket, Key: key, Body: body, ContentType: contentType }));
 }
 
+export type UploadTarget = { ok: true; target: { uploadUrl: string; storageKey: string; contentType: string } } | { ok: false; error: string };
+
 /**
- * Answers a DirectUpload component's "upload-target" request: checks the declared file against the rule
- * and returns `{ target }` (200) or `{ error }` (400). The caller has already checked who may upload.
+ * Where a declared file goes: a presigned PUT under the prefix, or the sentence saying why the file does not
+ * fit the rule. The caller has already checked who may upload.
  */
-export async function uploadTargetResponse(formData: FormData, rule: UploadRule, prefix: string) {
-  const file = {
-    name: String(formData.get("fileName") ?? ""),
-    size: Number(formData.get("size") ?? NaN),
-    type: String(formData.get("type") ?? ""),
-  };
+export async function uploadTargetFor(file: { name: string; size: number; type: string }, rule: UploadRule, prefix: string): Promise<UploadTarget> {
   const problem = checkDeclaredFile(rule, file);
-  if (problem) return Response.json({ error: problem }, { status: 400 });
+  if (problem) return { ok: false, error: problem };
   const storageKey = storageKeyFor(prefix, file.name);
   const contentType = contentTypeFor(rule, file.name);
-  return Response.json({ target: { uploadUrl: await presignUpload(storageKey, contentType), storageKey, contentType } });
+  return { ok: true, target: { uploadUrl: await presignUpload(storageKey, contentType), storageKey, contentType } };
 }

@@ -3,7 +3,7 @@ import { and, asc, eq, inArray } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import { audit } from "~/models/audit.server";
 import { invalidateDirectory } from "~/models/labs/directory.server";
-import { notFound } from "~/utils/permissions.server";
+import { NoSuchRecord } from "~/models/errors";
 import type { InstrumentInput, StageInput } from "~/domain/capabilities";
 import type { PriceListInput } from "~/domain/price-list";
 
@@ -40,7 +40,7 @@ export async function listInstruments(labId: string) {
   return instruments.map((i) => ({ ...i, stages: stages.filter((s) => s.instrumentId === i.id) }));
 }
 
-/** Adds an instrument, or updates one of this lab's; another lab's id is a 404. */
+/** Adds an instrument, or updates one of this lab's; another lab's id raises NoSuchRecord. */
 export async function saveInstrument(labId: string, input: InstrumentInput, actor: Actor) {
   const values = {
     name: input.name,
@@ -62,7 +62,7 @@ export async function saveInstrument(labId: string, input: InstrumentInput, acto
       .set(values)
       .where(and(eq(schema.instruments.id, id), eq(schema.instruments.labId, labId)))
       .returning({ id: schema.instruments.id });
-    if (updated.length === 0) notFound("This lab has no such instrument.");
+    if (updated.length === 0) throw new NoSuchRecord("This lab has no such instrument.");
   } else {
     [{ id }] = await db.insert(schema.instruments).values({ labId, ...values }).returning({ id: schema.instruments.id });
   }
@@ -75,7 +75,7 @@ export async function removeInstrument(labId: string, id: string, actor: Actor) 
     .delete(schema.instruments)
     .where(and(eq(schema.instruments.id, id), eq(schema.instruments.labId, labId)))
     .returning({ name: schema.instruments.name });
-  if (removed.length === 0) notFound("This lab has no such instrument.");
+  if (removed.length === 0) throw new NoSuchRecord("This lab has no such instrument.");
   await record(labId, actor, "instrument_removed", "instrument", id, { name: removed[0].name });
 }
 
@@ -84,7 +84,7 @@ async function requireOwnInstrument(labId: string, instrumentId: string) {
     .select({ id: schema.instruments.id })
     .from(schema.instruments)
     .where(and(eq(schema.instruments.id, instrumentId), eq(schema.instruments.labId, labId)));
-  if (!row) notFound("This lab has no such instrument.");
+  if (!row) throw new NoSuchRecord("This lab has no such instrument.");
 }
 
 async function requireOwnStage(labId: string, stageId: string) {
@@ -93,7 +93,7 @@ async function requireOwnStage(labId: string, stageId: string) {
     .from(schema.sampleStages)
     .innerJoin(schema.instruments, eq(schema.instruments.id, schema.sampleStages.instrumentId))
     .where(and(eq(schema.sampleStages.id, stageId), eq(schema.instruments.labId, labId)));
-  if (!row) notFound("This lab has no such sample stage.");
+  if (!row) throw new NoSuchRecord("This lab has no such sample stage.");
 }
 
 /** Adds a stage to one of this lab's instruments, or updates one of its stages. */

@@ -1,7 +1,7 @@
 // The public lab directory: approved labs filtered by what their instruments, stages, hazards and prices allow.
 import { createHash } from "node:crypto";
-import { sql, type SQL } from "drizzle-orm";
-import { db } from "~/db/client.server";
+import { eq, sql, type SQL } from "drizzle-orm";
+import { db, schema } from "~/db/client.server";
 import { purgePublicCache } from "~/utils/public-cache.server";
 import { ANODE_LINES, ANODES } from "~/diffraction/wavelengths";
 import { PAGE_SIZE, type DirectoryFilters } from "~/domain/directory-query";
@@ -100,6 +100,16 @@ export async function searchDirectory(f: DirectoryFilters): Promise<{ labs: Dire
     total: rows.length ? Number(rows[0].total) : offset === 0 ? 0 : await countDirectory(where),
     labs: rows.map(directoryLab),
   };
+}
+
+/** The lab at a profile address (its organisation's slug) with its vetting state and where it is; undefined when none. */
+export async function labBySlug(slug: string) {
+  const [row] = await db
+    .select({ id: schema.labs.organisationId, state: schema.labs.vettingState, description: schema.labs.description, city: schema.organisations.city, country: schema.organisations.country })
+    .from(schema.labs)
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.labs.organisationId))
+    .where(eq(schema.organisations.slug, slug));
+  return row;
 }
 
 /** A directory row as the API answers it (the load benchmark's bare handler maps its rows with this too). */

@@ -1,12 +1,12 @@
 // Labs on the marketplace: their profile row, the vetting application and the admin's decisions, each audit-logged.
 import { isUuid } from "~/domain/ids";
 import { and, asc, desc, eq, inArray } from "drizzle-orm";
-import { db, schema } from "~/db/client.server";
+import { db, schema, type Tx } from "~/db/client.server";
 import type { Lab } from "~/db/schema";
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
 import { invalidateDirectory } from "~/models/labs/directory.server";
-import { notFound } from "~/utils/permissions.server";
+import { NoSuchRecord } from "~/models/errors";
 import {
   DECISIONS,
   SUBMITTABLE_STATES,
@@ -19,7 +19,6 @@ import {
 
 export { isUuid };
 
-type Tx = Parameters<Parameters<typeof db.transaction>[0]>[0];
 type Db = typeof db | Tx;
 
 /** Raised when a lab's state no longer allows the step (someone else moved it first, or it never could). */
@@ -29,6 +28,12 @@ export class VettingConflict extends Error {}
 export async function getOrCreateLab(organisationId: string, tx: Db = db): Promise<Lab> {
   await tx.insert(schema.labs).values({ organisationId }).onConflictDoNothing();
   const [lab] = await tx.select().from(schema.labs).where(eq(schema.labs.organisationId, organisationId));
+  return lab;
+}
+
+/** The lab's marketplace row as it is now, or undefined when the organisation has none yet. */
+export async function findLab(organisationId: string): Promise<Lab | undefined> {
+  const [lab] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, organisationId));
   return lab;
 }
 
@@ -62,7 +67,7 @@ export interface Application {
 export async function submitApplication(app: Application) {
   return db.transaction(async (tx) => {
     const [current] = await tx.select().from(schema.labs).where(eq(schema.labs.organisationId, app.labId)).for("update");
-    if (!current) notFound("There is no such lab.");
+    if (!current) throw new NoSuchRecord("There is no such lab.");
     if (!SUBMITTABLE_STATES.includes(current.vettingState)) {
       throw new VettingConflict(`The lab is ${current.vettingState.replace("_", " ")}; its application can no longer be changed.`);
     }
@@ -131,7 +136,7 @@ export async function decideVetting(input: {
   const rule = DECISIONS[input.decision];
   const decided = await db.transaction(async (tx) => {
     const [current] = await tx.select().from(schema.labs).where(eq(schema.labs.organisationId, input.labId)).for("update");
-    if (!current) notFound("There is no such lab.");
+    if (!current) throw new NoSuchRecord("There is no such lab.");
     if (!(rule.from as readonly VettingState[]).includes(current.vettingState)) {
       throw new VettingConflict(`A lab that is ${current.vettingState.replace("_", " ")} cannot be given "${input.decision}".`);
     }
@@ -199,16 +204,16 @@ export async function listLabsForVetting(states: readonly VettingState[] = VETTI
   });
 }
 
-/** A lab with its organisation and vetting documents, for the admin's review; 404 when there is none. */
+/** A lab with its organisation and vetting documents, for the admin's review; null when there is none. */
 export async function labForReview(labId: string) {
-  if (!isUuid(labId)) notFound("There is no such lab.");
+  if (!isUuid(labId)) return null;
   const [row] = await db
     .select({ lab: schema.labs, organisation: schema.organisations, attestedBy: schema.users.name })
     .from(schema.labs)
     .innerJoin(schema.organisations, eq(schema.organisations.id, schema.labs.organisationId))
     .leftJoin(schema.users, eq(schema.users.id, schema.labs.licenceAttestedBy))
     .where(eq(schema.labs.organisationId, labId));
-  if (!row) notFound("There is no such lab.");
+  if (!row) return null;
   const documents = await db
     .select()
     .from(schema.labDocuments)

@@ -1,11 +1,10 @@
 // Quotes: drafted from the lab's price list, sent after the hazard acknowledgement, withdrawn, lapsed, accepted.
-import { and, asc, desc, eq, lt, ne } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, lt, ne } from "drizzle-orm";
 import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
 import type { MarketRequest, PriceList, QuoteLineItem, Sample } from "~/db/schema";
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
-import { notFound } from "~/utils/permissions.server";
 import { declaresHazard } from "~/domain/hazards";
 import { labelOf, sourceLabel } from "~/domain/matching";
 import type { QuoteInput } from "~/domain/quote-forms";
@@ -45,6 +44,25 @@ export async function instrumentsOf(labId: string) {
     .orderBy(asc(schema.instruments.createdAt));
 }
 
+/** The state of each of the lab's quotes on the given requests. */
+export async function quoteStatesOfLab(labId: string, requestIds: string[]) {
+  if (requestIds.length === 0) return [];
+  return db
+    .select({ requestId: schema.quotes.requestId, state: schema.quotes.state })
+    .from(schema.quotes)
+    .where(and(eq(schema.quotes.labId, labId), inArray(schema.quotes.requestId, requestIds)));
+}
+
+/** The source of the instrument a quote named (anode or custom wavelength, monochromation), if it still exists. */
+export async function quotedInstrumentOf(quoteId: string) {
+  const [row] = await db
+    .select({ anode: schema.instruments.anode, customWavelength: schema.instruments.customWavelength, monochromation: schema.instruments.monochromation })
+    .from(schema.quotes)
+    .innerJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
+    .where(eq(schema.quotes.id, quoteId));
+  return row;
+}
+
 /** The lab's vetting state, or null when the organisation has no lab profile yet. */
 export async function vettingStateOf(labId: string) {
   const [row] = await db.select({ state: schema.labs.vettingState }).from(schema.labs).where(eq(schema.labs.organisationId, labId));
@@ -72,7 +90,7 @@ export type SendQuoteResult = { ok: true; quoteId: string } | { ok: false; formE
  */
 export async function sendQuote(request: MarketRequest, labId: string, userId: string, input: QuoteInput): Promise<SendQuoteResult> {
   if ((await vettingStateOf(labId)) !== "approved") return { ok: false, formError: "Only approved labs can send quotes." };
-  // The money of an accepted quote is paid out to the lab's account, so it must exist first (DESIGN.md).
+  // The money of an accepted quote is paid out to the lab's account, so it must exist first (docs/design.md#quotes).
   const [payout] = await db.select({ ready: schema.labs.payoutsEnabled }).from(schema.labs).where(eq(schema.labs.organisationId, labId));
   if (!payout?.ready) return { ok: false, formError: "Connect your lab's payout account (Payouts) before sending quotes." };
   if (!(await acknowledgementOf(request.id, labId))) {
@@ -115,13 +133,12 @@ export async function sendQuote(request: MarketRequest, labId: string, userId: s
   return { ok: true, quoteId: quote.id };
 }
 
-/** A lab's own quote; another lab's (or a malformed id) is a thrown 404. */
-export async function requireLabQuote(quoteId: string | undefined, labId: string) {
-  if (!isUuid(quoteId)) notFound("No such quote.");
+/** A lab's own quote, lapsed first if its validity has run out; null for another lab's or a malformed id. */
+export async function labQuoteOf(quoteId: string | undefined, labId: string) {
+  if (!isUuid(quoteId)) return null;
   await lapseExpiredQuotes();
   const [row] = await db.select().from(schema.quotes).where(and(eq(schema.quotes.id, quoteId), eq(schema.quotes.labId, labId)));
-  if (!row) notFound("No such quote.");
-  return row;
+  return row ?? null;
 }
 
 export async function withdrawQuote(quoteId: string, labId: string, userId: string): Promise<{ error?: string }> {

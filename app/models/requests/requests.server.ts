@@ -1,13 +1,11 @@
 // Measurement requests: drafts saved step by step, publishing, who may see a request, hazard acknowledgements.
 import { isUuid } from "~/domain/ids";
 import { and, asc, eq, inArray, sql } from "drizzle-orm";
-import { redirect } from "react-router";
 import { db, schema } from "~/db/client.server";
 import type { MarketRequest, Sample, SpecialHazard } from "~/db/schema";
 import { DOCUMENT_RULE, presignDownload, verifyStoredObject, type UploadRule } from "~/models/files/storage.server";
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
-import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import { parseFormula } from "~/domain/formula";
 import { labsMatchingRequest } from "~/models/labs/matching.server";
 import { declaresHazard } from "~/domain/hazards";
@@ -17,15 +15,30 @@ export { isUuid };
 
 type FieldErrors = Record<string, string[]>;
 
-/** The organisation's own request; anything else (another organisation's, a malformed id) is a thrown 404. */
-export async function requireOwnRequest(requestId: string | undefined, organisationId: string): Promise<MarketRequest> {
-  if (!isUuid(requestId)) notFound("No such request in your organisation.");
+/** The organisation's own request, or null for anything else (another organisation's, a malformed id). */
+export async function ownRequestOf(requestId: string | undefined, organisationId: string): Promise<MarketRequest | null> {
+  if (!isUuid(requestId)) return null;
   const [row] = await db
     .select()
     .from(schema.requests)
     .where(and(eq(schema.requests.id, requestId), eq(schema.requests.organisationId, organisationId)));
-  if (!row) notFound("No such request in your organisation.");
-  return row;
+  return row ?? null;
+}
+
+/** A request's title, or null when there is no such request; order screens head with it. */
+export async function requestTitleOf(requestId: string): Promise<string | null> {
+  const [row] = await db.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, requestId));
+  return row?.title ?? null;
+}
+
+/** The given requests with their deadline, opening date and client organisation's name, in no set order. */
+export async function requestsWithClients(requestIds: string[]) {
+  if (requestIds.length === 0) return [];
+  return db
+    .select({ id: schema.requests.id, title: schema.requests.title, deadline: schema.requests.deadline, openedAt: schema.requests.openedAt, client: schema.organisations.name })
+    .from(schema.requests)
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.requests.organisationId))
+    .where(inArray(schema.requests.id, requestIds));
 }
 
 export async function samplesOf(requestId: string): Promise<Sample[]> {
@@ -293,10 +306,10 @@ async function labsToTell(request: MarketRequest): Promise<string[]> {
 
 /**
  * A request as a lab may see it: open and visible to the lab (open to all, or invited), or one the lab has
- * quoted on. Anything else is a thrown 404, so a lab cannot tell another's invitation from a missing request.
+ * quoted on. Anything else is null, so a lab cannot tell another's invitation from a missing request.
  */
-export async function requireRequestForLab(requestId: string | undefined, labId: string): Promise<MarketRequest> {
-  if (!isUuid(requestId)) notFound("No such request.");
+export async function requestVisibleToLab(requestId: string | undefined, labId: string): Promise<MarketRequest | null> {
+  if (!isUuid(requestId)) return null;
   const [row] = await db
     .select()
     .from(schema.requests)
@@ -310,8 +323,7 @@ export async function requireRequestForLab(requestId: string | undefined, labId:
         )`,
       ),
     );
-  if (!row) notFound("No such request.");
-  return row;
+  return row ?? null;
 }
 
 export async function acknowledgementOf(requestId: string, labId: string) {
@@ -328,21 +340,6 @@ export async function acknowledgeHazards(requestId: string, labId: string, userI
   await db.insert(schema.hazardAcknowledgements).values({ requestId, labId, userId }).onConflictDoNothing();
   await audit({ actorUserId: userId, organisationId: labId, action: "hazards_acknowledged", subjectType: "request", subjectId: requestId });
   return acknowledgementOf(requestId, labId);
-}
-
-/**
- * A wizard step's access check, called by each step's loader and action: a client member and the
- * organisation's own request.
- */
-export async function requireOwnDraft(request: Request, requestId: string | undefined) {
-  const actor = await requireOrgRole(request, "client");
-  const row = await requireOwnRequest(requestId, actor.membership.organisation.id);
-  return { actor, row };
-}
-
-/** Loaders of wizard steps send a published request to its own page. */
-export function redirectIfPublished(row: MarketRequest) {
-  if (row.state !== "draft") throw redirect(`/client/requests/${row.id}`);
 }
 
 /** Short-lived download links of the samples' safety data sheets, by sample id. */

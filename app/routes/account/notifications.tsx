@@ -1,5 +1,5 @@
 // /account/notifications — which milestone e-mails a person receives, and their notification list.
-import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { Badge, FormError, PageHeader } from "~/components/ui";
 import { notificationsOf, preferencesOf, savePreferences } from "~/models/notifications/inbox.server";
 import { isMilestoneKind, MILESTONES, type MilestoneKind } from "~/domain/milestones";
@@ -27,10 +27,9 @@ export async function action({ request }: Route.ActionArgs) {
   return redirectWithToast("/account/notifications", { kind: "success", message: "Your e-mail settings are saved." });
 }
 
-export default function NotificationSettings() {
+export default function NotificationSettings({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { preferences, list, back, email } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { preferences, list, back, email } = loaderData;
   const busy = useNavigation().state !== "idle";
   return (
     <main id="main" className="mx-auto w-full max-w-3xl px-4 py-8 sm:px-6">

@@ -2,7 +2,7 @@
 // device; the second factor is an authenticator app (TOTP), required for platform admins.
 import { getFormProps, getInputProps, useForm, type SubmissionResult } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, useActionData, useLoaderData, useNavigation, useSearchParams } from "react-router";
+import { data, Form, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import { NewPasswordFields } from "~/components/new-password-fields";
 import { TotpCodeField } from "~/components/totp-code-field";
@@ -148,10 +148,9 @@ function DisableForm({ actionData, busy }: { actionData: ActionData; busy: boole
   );
 }
 
-export default function AccountSecurity() {
+export default function AccountSecurity({ loaderData: page, actionData: answer }: Route.ComponentProps) {
   const fmt = useFormat();
-  const page = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>() as ActionData;
+  const actionData = answer as ActionData;
   const busy = useNavigation().state !== "idle";
   const [params] = useSearchParams();
   const required = page.isAdmin && page.totp.state !== "on";

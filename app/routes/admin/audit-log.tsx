@@ -1,9 +1,7 @@
 // The audit log: who did what, when, from where (admins only), newest first, 50 a page, sortable by time, person and action.
-import { and, asc, count, desc, eq, sql } from "drizzle-orm";
-import { useLoaderData } from "react-router";
 import { PageNav, SortableTable } from "~/components/data-table";
 import { EmptyState, PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
+import { auditLogCount, auditLogEntries } from "~/models/platform/audit-log.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import type { Route } from "./+types/audit-log";
 import { useFormat } from "~/components/locale";
@@ -27,37 +25,14 @@ function describeDetails(details: Record<string, unknown>, currency: string | nu
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
   const q = readTableQuery(request, TABLE);
-  const [{ total }] = await db.select({ total: count() }).from(schema.auditLog);
-  const info = pageOf(total, q);
-  const by = q.dir === "asc" ? asc : desc;
-  // The id breaks ties in the order entries were written.
-  const order = { at: [by(schema.auditLog.at), by(schema.auditLog.id)], who: [by(sql`coalesce(${schema.users.email}, '')`), desc(schema.auditLog.id)], action: [by(schema.auditLog.action), desc(schema.auditLog.id)] }[q.sort];
-  const entries = await db
-    .select({
-      id: schema.auditLog.id,
-      at: schema.auditLog.at,
-      action: schema.auditLog.action,
-      subjectType: schema.auditLog.subjectType,
-      subjectId: schema.auditLog.subjectId,
-      clientAddress: schema.auditLog.clientAddress,
-      actor: schema.users.email,
-      organisation: schema.organisations.name,
-      details: schema.auditLog.details,
-      currency: schema.orders.currency,
-    })
-    .from(schema.auditLog)
-    .leftJoin(schema.users, eq(schema.users.id, schema.auditLog.actorUserId))
-    .leftJoin(schema.organisations, eq(schema.organisations.id, schema.auditLog.organisationId))
-    .leftJoin(schema.orders, and(eq(schema.auditLog.subjectType, "order"), eq(sql`${schema.orders.id}::text`, schema.auditLog.subjectId)))
-    .orderBy(...order)
-    .limit(info.pageSize)
-    .offset(info.offset);
+  const info = pageOf(await auditLogCount(), q);
+  const entries = await auditLogEntries({ sort: q.sort, dir: q.dir, limit: info.pageSize, offset: info.offset });
   return { info, sort: q.sort, dir: q.dir, entries: entries.map(({ details, currency, ...e }) => ({ ...e, details: describeDetails(details, currency) })) };
 }
 
-export default function AuditLog() {
+export default function AuditLog({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { entries, info, sort, dir } = useLoaderData<typeof loader>();
+  const { entries, info, sort, dir } = loaderData;
   return (
     <div>
       <PageHeader title="Audit log" subtitle="Sign-ins, vetting decisions, payments, refunds and every other change, with who made it and from where." />

@@ -1,18 +1,18 @@
 // /admin/disputes — open and settled disputes, and the decision form for one: a split of the held money.
 import { parseWithZod } from "@conform-to/zod/v4";
-import { alias } from "drizzle-orm/pg-core";
-import { desc, eq, inArray } from "drizzle-orm";
 import { useEffect } from "react";
-import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import { VerdictBadge } from "~/components/calibration-summary";
+import type { Verdict } from "~/diffraction/verdict";
 import { OrderTimeline } from "~/components/order-timeline";
 import { Badge, EmptyState, Field, FormError, PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
-import { heldForOrder } from "~/models/payments/ledger.server";
-import { orderTimeline } from "~/models/orders/lifecycle.server";
+import { filesWithVerdicts } from "~/models/files/files.server";
+import { disputesWithOrders, heldMoneyOf, orderTimeline } from "~/models/orders/queries.server";
 import { toMinorUnits } from "~/domain/money";
-import { PaymentProblem, platformFee, resolveDispute } from "~/models/payments/provider.server";
+import { PaymentProblem } from "~/models/payments/provider.server";
+import { platformFee } from "~/domain/money";
+import { resolveDispute } from "~/models/orders/lifecycle.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
@@ -21,27 +21,12 @@ import { useFormat } from "~/components/locale";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
-  const labOrg = alias(schema.organisations, "lab_org");
-  const rows = await db
-    .select({ dispute: schema.disputes, order: schema.orders, title: schema.requests.title, client: schema.organisations.name, lab: labOrg.name, openedBy: schema.users.name })
-    .from(schema.disputes)
-    .innerJoin(schema.orders, eq(schema.orders.id, schema.disputes.orderId))
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.clientOrganisationId))
-    .innerJoin(labOrg, eq(labOrg.id, schema.orders.labId))
-    .leftJoin(schema.users, eq(schema.users.id, schema.disputes.openedBy))
-    .orderBy(desc(schema.disputes.openedAt));
+  const rows = await disputesWithOrders();
   // The lab's side: what it delivered, with each scan's check verdict, and its notes on the order's timeline.
-  const files = rows.length
-    ? await db
-        .select({ orderId: schema.orderFiles.orderId, name: schema.orderFiles.name, version: schema.orderFiles.version, verdict: schema.scanChecks.verdict })
-        .from(schema.orderFiles)
-        .leftJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))
-        .where(inArray(schema.orderFiles.orderId, rows.map((r) => r.order.id)))
-    : [];
+  const files = await filesWithVerdicts(rows.map((r) => r.order.id));
   const disputes = await Promise.all(
     rows.map(async (r) => {
-      const heldMinor = await heldForOrder(db, r.order.id);
+      const heldMinor = await heldMoneyOf(r.order.id);
       const refundHalf = Math.round(heldMinor / 2);
       return {
         orderId: r.order.id,
@@ -49,7 +34,7 @@ export async function loader({ request }: Route.LoaderArgs) {
         client: r.client,
         lab: r.lab,
         openedBy: r.openedBy,
-        files: files.filter((f) => f.orderId === r.order.id).map((f) => ({ name: f.name, version: f.version, verdict: f.verdict as "consistent" | "review" | "inconsistent" | null })),
+        files: files.filter((f) => f.orderId === r.order.id).map((f) => ({ name: f.name, version: f.version, verdict: f.verdict as Verdict | null })),
         timeline: (await orderTimeline(r.order.id)).map((e) => ({ ...e, at: e.at.toISOString() })),
         state: r.dispute.state,
         reason: r.dispute.reason,
@@ -87,10 +72,9 @@ export async function action({ request, context }: Route.ActionArgs) {
   return redirectWithToast("/admin/disputes", { kind: "success", message: "Dispute decided; the refund and payout are under way." });
 }
 
-export default function Disputes() {
+export default function Disputes({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { disputes } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { disputes } = loaderData;
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
   const settling = busy ? navigation.formData?.get("orderId") : null;

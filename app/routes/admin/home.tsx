@@ -1,23 +1,14 @@
 // The admin overview: what waits for a decision (applications, disputes, undeliverable e-mail), then how many
 // people and organisations the platform has.
-import { count, eq } from "drizzle-orm";
-import { Link, useLoaderData } from "react-router";
+import { Link } from "react-router";
 import { PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
+import { platformTallies } from "~/models/platform/overview.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import type { Route } from "./+types/home";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
-  const [[people], [clients], [labs], [inReview], [openDisputes], [parked]] = await Promise.all([
-    db.select({ n: count() }).from(schema.users),
-    db.select({ n: count() }).from(schema.organisations).where(eq(schema.organisations.kind, "client")),
-    db.select({ n: count() }).from(schema.organisations).where(eq(schema.organisations.kind, "lab")),
-    db.select({ n: count() }).from(schema.labs).where(eq(schema.labs.vettingState, "in_review")),
-    db.select({ n: count() }).from(schema.disputes).where(eq(schema.disputes.state, "open")),
-    db.select({ n: count() }).from(schema.outboxMessages).where(eq(schema.outboxMessages.status, "parked")),
-  ]);
-  return { people: people.n, clients: clients.n, labs: labs.n, inReview: inReview.n, openDisputes: openDisputes.n, parked: parked.n };
+  return platformTallies();
 }
 
 interface Tile {
@@ -53,8 +44,7 @@ function TileSection({ id, heading, tiles }: { id: string; heading: string; tile
   );
 }
 
-export default function AdminHome() {
-  const stats = useLoaderData<typeof loader>();
+export default function AdminHome({ loaderData: stats }: Route.ComponentProps) {
   const waiting: Tile[] = [
     { label: "Applications in review", value: stats.inReview, to: "/admin/vetting-queue?state=in_review", none: "No lab waits for vetting." },
     { label: "Open disputes", value: stats.openDisputes, to: "/admin/disputes", none: "No dispute waits for a decision." },

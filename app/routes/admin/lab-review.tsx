@@ -1,14 +1,14 @@
 // An admin's review of one lab: documents, radiation-licence attestation, the calibration check, and the decision.
 import { getFormProps, getInputProps, getTextareaProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { CalibrationSummary } from "~/components/calibration-summary";
 import { Field, FieldErrors, FormError, PageHeader, TableCard } from "~/components/ui";
 import { VettingBadge } from "~/components/vetting-badge";
 import { ApprovalRefused, decideVetting, labForReview, VettingConflict } from "~/models/labs/vetting.server";
 import { APPROVAL_TOLERANCE_A, DECISIONS, withinTolerance, type CalibrationCheck, type Decision, type VettingState } from "~/domain/vetting";
-import { requireAdmin } from "~/utils/permissions.server";
+import { notFound, orNotFound, requireAdmin } from "~/utils/permissions.server";
 import { presignDownload } from "~/models/files/storage.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
@@ -35,9 +35,16 @@ const DecisionSchema = z
 
 const DECISION_LABELS: Record<Decision, string> = { approve: "Approve", reject: "Reject", suspend: "Suspend", reinstate: "Reinstate" };
 
+/** The lab under review; an id that is no lab is the page's 404. */
+async function reviewedLab(labId: string) {
+  const found = await labForReview(labId);
+  if (!found) notFound("There is no such lab.");
+  return found;
+}
+
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireAdmin(request);
-  const { lab, organisation, attestedBy, documents } = await labForReview(params.labId);
+  const { lab, organisation, attestedBy, documents } = await reviewedLab(params.labId);
   const state = lab.vettingState as VettingState;
   const check = (lab.calibrationCheck as CalibrationCheck | null) ?? null;
   return {
@@ -74,19 +81,21 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export async function action({ request, params, context }: Route.ActionArgs) {
   const { user } = await requireAdmin(request);
-  const { lab } = await labForReview(params.labId);
+  const { lab } = await reviewedLab(params.labId);
   const submission = parseWithZod(await readForm(request), { schema: DecisionSchema });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const { intent, note, override, overrideReason } = submission.value;
   try {
-    const done = await decideVetting({
-      labId: lab.organisationId,
-      decision: intent,
-      note,
-      actorUserId: user.id,
-      clientAddress: context.clientAddress,
-      overrideReason: override ? overrideReason : undefined,
-    });
+    const done = await orNotFound(
+      decideVetting({
+        labId: lab.organisationId,
+        decision: intent,
+        note,
+        actorUserId: user.id,
+        clientAddress: context.clientAddress,
+        overrideReason: override ? overrideReason : undefined,
+      }),
+    );
     return redirectWithToast(`/admin/labs/${lab.organisationId}`, {
       kind: "success",
       message: `Lab ${done.to.replace("_", " ")}${done.override ? " with an override of the calibration tolerance" : ""}.`,
@@ -105,9 +114,8 @@ const KIND_LABELS: Record<string, string> = {
   other: "Other",
 };
 
-export default function LabReview() {
-  const { lab, documents, check, withinTolerance: inTolerance, decisions } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+export default function LabReview({ loaderData, actionData }: Route.ComponentProps) {
+  const { lab, documents, check, withinTolerance: inTolerance, decisions } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     id: "vetting-decision",

@@ -1,5 +1,5 @@
 // /admin/ledger — every money movement as balanced double-entry rows, with filters and totals.
-import { Form, Link, useLoaderData, useSearchParams } from "react-router";
+import { Form, Link, useSearchParams } from "react-router";
 import { PageNav, SortableTable } from "~/components/data-table";
 import { SubmitButton } from "~/components/pending";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
@@ -28,9 +28,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { summary, rows, info, sort: q.sort, dir: q.dir, error: parsed.ok ? null : parsed.error };
 }
 
-export default function Ledger() {
+export default function Ledger({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { summary, rows, info, sort, dir, error } = useLoaderData<typeof loader>();
+  const { summary, rows, info, sort, dir, error } = loaderData;
   const [params] = useSearchParams();
   return (
     <div>

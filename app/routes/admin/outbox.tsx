@@ -1,5 +1,5 @@
 // /admin/outbox — e-mails that could not be delivered after every retry, with the error and a retry.
-import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
 import { outboxForAdmins } from "~/models/notifications/inbox.server";
@@ -32,10 +32,9 @@ export async function action({ request }: Route.ActionArgs) {
 
 const TONES = { parked: "danger", queued: "caution", sent: "ok" } as const;
 
-export default function Outbox() {
+export default function Outbox({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { status, counts, rows } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { status, counts, rows } = loaderData;
   const busy = useNavigation().state !== "idle";
   return (
     <div>

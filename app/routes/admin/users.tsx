@@ -1,10 +1,8 @@
 // Every person on the platform with their organisations (admins only), 50 a page, sortable by name, e-mail and joining date.
-import { asc, count, desc, eq, inArray } from "drizzle-orm";
-import { useLoaderData } from "react-router";
 import { PageNav, SortableTable } from "~/components/data-table";
 import { useFormat } from "~/components/locale";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
+import { membershipsOfPeople, peopleCount, peoplePage } from "~/models/accounts/people.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import { pageOf, readTableQuery, type TableSpec } from "~/utils/table";
 import type { Route } from "./+types/users";
@@ -14,24 +12,9 @@ const TABLE: TableSpec<"name" | "email" | "joined"> = { sorts: ["name", "email",
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
   const q = readTableQuery(request, TABLE);
-  const [{ total }] = await db.select({ total: count() }).from(schema.users);
-  const info = pageOf(total, q);
-  const by = q.dir === "asc" ? asc : desc;
-  const column = { name: schema.users.name, email: schema.users.email, joined: schema.users.createdAt }[q.sort];
-  const users = await db
-    .select({ id: schema.users.id, name: schema.users.name, email: schema.users.email, isAdmin: schema.users.isAdmin, joined: schema.users.createdAt })
-    .from(schema.users)
-    .orderBy(by(column), asc(schema.users.email))
-    .limit(info.pageSize)
-    .offset(info.offset);
-  const memberships = users.length
-    ? await db
-        .select({ userId: schema.memberships.userId, organisation: schema.organisations.name, kind: schema.organisations.kind, role: schema.memberships.role })
-        .from(schema.memberships)
-        .innerJoin(schema.organisations, eq(schema.organisations.id, schema.memberships.organisationId))
-        .where(inArray(schema.memberships.userId, users.map((u) => u.id)))
-        .orderBy(asc(schema.organisations.name))
-    : [];
+  const info = pageOf(await peopleCount(), q);
+  const users = await peoplePage({ sort: q.sort, dir: q.dir, limit: info.pageSize, offset: info.offset });
+  const memberships = await membershipsOfPeople(users.map((u) => u.id));
   const people = users.map((u) => ({
     ...u,
     orgs: memberships.filter((m) => m.userId === u.id).map((m) => `${m.organisation} (${m.kind}, ${m.role})`),
@@ -39,9 +22,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { people, info, sort: q.sort, dir: q.dir };
 }
 
-export default function Users() {
+export default function Users({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { people, info, sort, dir } = useLoaderData<typeof loader>();
+  const { people, info, sort, dir } = loaderData;
   return (
     <div>
       <PageHeader title="Users" subtitle="Everyone with an account, with the organisations they belong to." />

@@ -1,5 +1,5 @@
 // The admins' vetting queue: every lab by vetting state, applications in review first.
-import { Link, useLoaderData, useSearchParams } from "react-router";
+import { Link, useSearchParams } from "react-router";
 import { VerdictBadge } from "~/components/calibration-summary";
 import { PageNav, SortableTable } from "~/components/data-table";
 import { useFormat } from "~/components/locale";
@@ -29,9 +29,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { state, counts, labs: rows, sort, dir, info };
 }
 
-export default function VettingQueue() {
+export default function VettingQueue({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { state, counts, labs, sort, dir, info } = useLoaderData<typeof loader>();
+  const { state, counts, labs, sort, dir, info } = loaderData;
   const [params] = useSearchParams();
   return (
     <div>

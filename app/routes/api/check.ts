@@ -1,6 +1,6 @@
 // GET /api/checks/:id — a lattice check's live status, for the order's client organisation and its lab.
 import { checkStatusJson } from "~/models/checks/scan-check.server";
-import { requireCheckAccess } from "~/models/checks/queries.server";
+import { requireCheckAccess } from "~/utils/permissions.server";
 import type { Route } from "./+types/check";
 
 export async function loader({ request, params }: Route.LoaderArgs) {

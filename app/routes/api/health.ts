@@ -1,9 +1,8 @@
 // GET /api/health — public liveness of the app and each service it depends on (503 naming the failing one);
 // GET /api/health?scope=app — this server and its database only (the load balancer's probe).
 import { HeadBucketCommand } from "@aws-sdk/client-s3";
-import { sql } from "drizzle-orm";
 import { config } from "~/config.server";
-import { db } from "~/db/client.server";
+import { pingDatabase } from "~/models/platform/health.server";
 import { services } from "~/utils/services.server";
 import type { Route } from "./+types/health";
 
@@ -31,10 +30,10 @@ async function timed(check: () => Promise<unknown>, ms = 3000): Promise<CheckRes
 // that every server shares (storage, e-mail, payments) does not take every server out of rotation at once.
 export async function loader({ request }: Route.LoaderArgs) {
   if (new URL(request.url).searchParams.get("scope") === "app") {
-    return answer({ database: await timed(() => db.execute(sql`select 1`)) });
+    return answer({ database: await timed(pingDatabase) });
   }
   const [database, storage, mail, payments] = await Promise.all([
-    timed(() => db.execute(sql`select 1`)),
+    timed(pingDatabase),
     timed(() => services.s3.send(new HeadBucketCommand({ Bucket: config.s3.bucket }))),
     timed(async () => {
       const { error } = await services.mail.domains.list();

@@ -1,5 +1,6 @@
 // POST /api/webhooks/payments — signed events from the payment provider; a bad signature changes nothing.
-import { BadWebhook, PaymentProblem, receiveWebhook } from "~/models/payments/provider.server";
+import { BadWebhook, receiveWebhook } from "~/models/payments/webhooks.server";
+import { PaymentProblem } from "~/models/payments/provider.server";
 import { readBodyText } from "~/utils/form.server";
 import type { Route } from "./+types/webhooks-payments";
 

@@ -1,18 +1,18 @@
 // /client/data-room/:orderId — one order's files with versions and checks, share links, and who downloaded what.
-import { requireOrderSide } from "~/models/order-access.server";
+import { requireOrderSide } from "~/utils/permissions.server";
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
-import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { OrderFilesTable } from "~/components/order-files-table";
 import { useRefreshWhile } from "~/components/refresh-while";
 import { RevokeButton, ShownOnce } from "~/components/shown-once";
 import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
 import { DOWNLOAD_URL_SECONDS, RETENTION_YEARS, SHARE_LINK_MAX_DAYS } from "~/domain/order-files";
+import { organisationNameOf } from "~/models/accounts/organisations.server";
+import { requestTitleOf } from "~/models/requests/requests.server";
 import { fileOfOrder, orderAccessLog, orderFileList, softDeleteFile } from "~/models/files/files.server";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/domain/order-states";
+import { OrderStateBadge } from "~/components/order-state-badge";
 import { createShareLink, listShareLinks, revokeShareLink } from "~/models/files/share-links.server";
 import { audit } from "~/models/audit.server";
 import { config } from "~/config.server";
@@ -25,13 +25,9 @@ const clientOrder = (request: Request, orderId: string) => requireOrderSide(requ
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { actor, order } = await clientOrder(request, params.orderId);
-  const [meta] = await db
-    .select({ title: schema.requests.title, lab: schema.organisations.name })
-    .from(schema.requests)
-    .innerJoin(schema.organisations, eq(schema.organisations.id, order.labId))
-    .where(eq(schema.requests.id, order.requestId));
+  const [title, lab] = await Promise.all([requestTitleOf(order.requestId), organisationNameOf(order.labId)]);
   return {
-    order: { id: order.id, state: order.state, title: meta.title, lab: meta.lab },
+    order: { id: order.id, state: order.state, title: title ?? "", lab: lab ?? "" },
     files: await orderFileList(order.id, { side: "client" }),
     shareLinks: await listShareLinks(order.id),
     accessLog: await orderAccessLog(order.id),
@@ -87,10 +83,9 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   return redirectWithToast(here, { kind: "success", message: `${file.name} v${file.version} deleted from the data room; the lab's copy is kept for ${RETENTION_YEARS} years.` });
 }
 
-export default function DataRoomOrder() {
+export default function DataRoomOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, files, shareLinks, accessLog, canDelete } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { order, files, shareLinks, accessLog, canDelete } = loaderData;
   const busy = useNavigation().state !== "idle";
   // While the lab has the samples, new files and the order's next state show up without a reload; not after an
   // action, whose answer (a share link shown once, a form error) a refresh would clear.
@@ -113,7 +108,7 @@ export default function DataRoomOrder() {
             <Link to={`/client/orders/${order.id}`} className="underline">Order</Link>
           </>
         }
-        actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
+        actions={<OrderStateBadge state={order.state} />}
       />
       <FormError errors={form.errors} />
 

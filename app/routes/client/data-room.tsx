@@ -1,31 +1,25 @@
 // /client/data-room — every delivered file of the organisation's orders, grouped by order.
-import { desc, eq } from "drizzle-orm";
-import { Link, useLoaderData } from "react-router";
+import { Link } from "react-router";
 import { FileCheckCell } from "~/components/order-files-table";
-import { Badge, EmptyState, PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
+import { EmptyState, PageHeader } from "~/components/ui";
 import { formatBytes, RETENTION_YEARS } from "~/domain/order-files";
 import { orderFileList } from "~/models/files/files.server";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/domain/order-states";
+import { ordersOf } from "~/models/orders/queries.server";
+import { OrderStateBadge } from "~/components/order-state-badge";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/data-room";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
-  const orders = await db
-    .select({ id: schema.orders.id, state: schema.orders.state, title: schema.requests.title, lab: schema.organisations.name, updatedAt: schema.orders.updatedAt })
-    .from(schema.orders)
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.labId))
-    .where(eq(schema.orders.clientOrganisationId, membership.organisation.id))
-    .orderBy(desc(schema.orders.updatedAt))
-    .limit(200);
-  const withFiles = await Promise.all(orders.map(async (o) => ({ ...o, files: await orderFileList(o.id, { side: "client" }) })));
+  const orders = await ordersOf("client", membership.organisation.id, 200);
+  const withFiles = await Promise.all(
+    orders.map(async (o) => ({ id: o.id, state: o.state, title: o.title, lab: o.counterpart, updatedAt: o.updatedAt, files: await orderFileList(o.id, { side: "client" }) })),
+  );
   return { organisation: membership.organisation.name, orders: withFiles.filter((o) => o.files.length > 0) };
 }
 
-export default function DataRoom() {
-  const { organisation, orders } = useLoaderData<typeof loader>();
+export default function DataRoom({ loaderData }: Route.ComponentProps) {
+  const { organisation, orders } = loaderData;
   return (
     <div>
       <PageHeader
@@ -61,7 +55,7 @@ export default function DataRoom() {
                       {o.files.length > latest.length ? `, ${o.files.length} versions` : ""}
                     </p>
                   </div>
-                  <Badge tone={ORDER_STATE_TONES[o.state]}>{ORDER_STATE_LABELS[o.state]}</Badge>
+                  <OrderStateBadge state={o.state} />
                 </div>
                 <ul className="mt-3 divide-y divide-ink-100 text-sm">
                   {latest.map((f) => (

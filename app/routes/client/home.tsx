@@ -1,5 +1,5 @@
 // The client workspace's overview: where the organisation's requests, orders and data stand.
-import { Link, useLoaderData } from "react-router";
+import { Link } from "react-router";
 import { OrdersByState, WaitingPanel } from "~/components/overview";
 import { EmptyState, PageHeader, SafetyNotice } from "~/components/ui";
 import { clientOverview } from "~/models/orders/overview.server";
@@ -11,8 +11,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { organisation: { name: membership.organisation.name }, role: membership.role, overview: await clientOverview(membership.organisation.id) };
 }
 
-export default function ClientHome() {
-  const { organisation, role, overview } = useLoaderData<typeof loader>();
+export default function ClientHome({ loaderData }: Route.ComponentProps) {
+  const { organisation, role, overview } = loaderData;
   const started = overview.requestCount > 0 || overview.orders.length > 0;
   return (
     <div>

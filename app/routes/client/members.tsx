@@ -1,7 +1,7 @@
 // The client organisation's members and their roles; owners invite people and withdraw pending invitations.
-import { useActionData, useLoaderData } from "react-router";
 import { MembersScreen } from "~/components/members-screen";
-import { membersAction, membersPageData } from "~/models/accounts/members.server";
+import { membersPageData } from "~/models/accounts/members.server";
+import { membersAction } from "~/utils/members-action.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/members";
 
@@ -15,9 +15,7 @@ export async function action({ request, context }: Route.ActionArgs) {
   return membersAction({ request, organisation: membership.organisation, user, clientAddress: context.clientAddress, path: "/client/members" });
 }
 
-export default function Members() {
-  const page = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+export default function Members({ loaderData: page, actionData }: Route.ComponentProps) {
   return <MembersScreen {...page} lastResult={actionData?.result} leadRole="owner" />;
 }
 

@@ -1,6 +1,7 @@
 // /client/orders/:id/payment — where the payment page sends the client back; asks the provider what happened.
-import { requireOrderSide } from "~/models/order-access.server";
-import { PaymentProblem, syncCheckout } from "~/models/payments/provider.server";
+import { requireOrderSide } from "~/utils/permissions.server";
+import { PaymentProblem } from "~/models/payments/provider.server";
+import { syncCheckout } from "~/models/payments/checkout.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/order-payment";
 

@@ -1,16 +1,21 @@
 // /client/orders/:id — the client's view of an order: payment, timeline, cancel, accept or dispute.
-import { requireOrderSide } from "~/models/order-access.server";
+import { requireOrderSide } from "~/utils/permissions.server";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { and, desc, eq } from "drizzle-orm";
-import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import { OrderTimelineCard } from "~/components/order-timeline";
-import { Badge, FormError, PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/domain/order-states";
-import { orderTimeline, OrderMoveRefused } from "~/models/orders/lifecycle.server";
-import { markShipped, shipmentOf } from "~/models/fulfilment.server";
-import { acceptDelivery, cancelOrder, openDispute, PAYOUT_DELAYED, PaymentProblem, startCheckout } from "~/models/payments/provider.server";
+import { FormError, PageHeader } from "~/components/ui";
+import { canMove, samplesAtLab } from "~/domain/order-states";
+import { OrderStateBadge } from "~/components/order-state-badge";
+import { organisationNameOf } from "~/models/accounts/organisations.server";
+import { requestTitleOf } from "~/models/requests/requests.server";
+import { disputeOf, latestPaymentOf, orderStateOf, orderTimeline } from "~/models/orders/queries.server";
+import { OrderMoveRefused } from "~/models/orders/lifecycle.server";
+import { markShipped } from "~/models/orders/lifecycle.server";
+import { shipmentOf } from "~/models/orders/queries.server";
+import { acceptDelivery, cancelOrder, openDispute, PAYOUT_DELAYED } from "~/models/orders/lifecycle.server";
+import { PaymentProblem } from "~/models/payments/provider.server";
+import { startCheckout } from "~/models/payments/checkout.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
@@ -20,18 +25,13 @@ const clientOrder = (request: Request, orderId: string) => requireOrderSide(requ
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await clientOrder(request, params.id);
-  const [[request_], [lab], [payment], timeline] = await Promise.all([
-    db.select({ id: schema.requests.id, title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId)),
-    db.select({ name: schema.organisations.name }).from(schema.organisations).where(eq(schema.organisations.id, order.labId)),
-    db.select().from(schema.payments).where(eq(schema.payments.orderId, order.id)).orderBy(desc(schema.payments.createdAt)).limit(1),
-    orderTimeline(order.id),
-  ]);
-  const [dispute] = await db.select().from(schema.disputes).where(and(eq(schema.disputes.orderId, order.id)));
+  const [title, labName, payment, timeline] = await Promise.all([requestTitleOf(order.requestId), organisationNameOf(order.labId), latestPaymentOf(order.id), orderTimeline(order.id)]);
+  const dispute = await disputeOf(order.id);
   const shipment = await shipmentOf(order.id);
   return {
     order: { id: order.id, state: order.state, amountMinor: order.amountMinor, currency: order.currency, reviewWindowDays: order.reviewWindowDays, deliveredAt: order.deliveredAt },
-    request: request_,
-    labName: lab?.name ?? "",
+    request: title === null ? undefined : { id: order.requestId, title },
+    labName: labName ?? "",
     declined: order.state === "awaiting_payment" && payment?.lastError ? payment.lastError : null,
     dispute: dispute ? { state: dispute.state, reason: dispute.reason, decisionReason: dispute.decisionReason } : null,
     cancelledPayment: new URL(request.url).searchParams.get("payment") === "cancelled",
@@ -76,8 +76,7 @@ export async function action({ request, params }: Route.ActionArgs) {
       } catch (err) {
         // The acceptance is committed before the payout is asked for; when only the payout failed, say so.
         if (!(err instanceof PaymentProblem) || err.status !== 503) throw err;
-        const [now] = await db.select({ state: schema.orders.state }).from(schema.orders).where(eq(schema.orders.id, order.id));
-        if (now?.state !== "accepted") throw err;
+        if ((await orderStateOf(order.id)) !== "accepted") throw err;
         return redirectWithToast(`/client/orders/${order.id}`, { kind: "info", message: PAYOUT_DELAYED });
       }
       return redirectWithToast(`/client/orders/${order.id}`, { kind: "success", message: "Delivery accepted; the lab is being paid." });
@@ -92,13 +91,12 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
 }
 
-export default function ClientOrder() {
+export default function ClientOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline } = loaderData;
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
-  const canCancel = ["awaiting_payment", "funds_held", "samples_in_transit"].includes(order.state);
+  const canCancel = canMove(order.state, "cancelled", "client");
   return (
     <div>
       <p className="mb-2 text-sm">
@@ -109,7 +107,7 @@ export default function ClientOrder() {
       <PageHeader
         title={`Order with ${labName}`}
         subtitle={`${fmt.money(order.amountMinor, order.currency)} · order ${order.id.slice(0, 8)}`}
-        actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
+        actions={<OrderStateBadge state={order.state} />}
       />
       <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
       <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
@@ -134,7 +132,7 @@ export default function ClientOrder() {
                 </button>
               </Form>
             </div>
-          ) : order.state === "funds_held" ? (
+          ) : canMove(order.state, "samples_in_transit", "client") ? (
             <div className="mt-3 space-y-3">
               <p className="text-sm text-ink-700">
                 The money is held. Print the packing slip, put it in the parcel, ship the samples to the lab and mark them shipped.
@@ -163,7 +161,7 @@ export default function ClientOrder() {
                 </p>
               </Form>
             </div>
-          ) : order.state === "data_delivered" ? (
+          ) : canMove(order.state, "accepted", "client") ? (
             <div className="mt-3 space-y-4">
               <p className="text-sm text-ink-700">
                 The data is in your data room. Accept the delivery to pay the lab, or open a dispute. Without either,
@@ -196,7 +194,7 @@ export default function ClientOrder() {
             </p>
           )}
           {/* From the samples' arrival on: files and their checks show up in the data room as the lab uploads them. */}
-          {["samples_received", "measuring", "data_delivered", "accepted", "paid_out", "disputed", "resolved"].includes(order.state) ? (
+          {samplesAtLab(order.state) ? (
             <p className="mt-4 text-sm">
               <Link to={`/client/data-room/${order.id}`} className="font-semibold text-beam-700 underline">
                 Open the data room

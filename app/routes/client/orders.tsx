@@ -1,8 +1,8 @@
 // /client/orders — the organisation's orders with their state, lab and amount.
-import { Link, useLoaderData } from "react-router";
+import { Link } from "react-router";
 import { ORDERS_TABLE, OrdersTable, pageOfOrders } from "~/components/orders-table";
 import { EmptyState, PageHeader } from "~/components/ui";
-import { ordersOf } from "~/models/orders/lifecycle.server";
+import { ordersOf } from "~/models/orders/queries.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { readTableQuery } from "~/utils/table";
 import type { Route } from "./+types/orders";
@@ -14,8 +14,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { orders: rows, sort, dir, info };
 }
 
-export default function ClientOrders() {
-  const { orders, sort, dir, info } = useLoaderData<typeof loader>();
+export default function ClientOrders({ loaderData }: Route.ComponentProps) {
+  const { orders, sort, dir, info } = loaderData;
   return (
     <div>
       <PageHeader title="Orders" subtitle="Accepted quotes, from payment to delivered data." />

@@ -1,26 +1,21 @@
 // /client/orders/:id/packing-slip — a printable list of the parcel's samples with their declared hazards.
-import { requireOrderSide } from "~/models/order-access.server";
-import { eq } from "drizzle-orm";
-import { useLoaderData } from "react-router";
+import { requireOrderSide } from "~/utils/permissions.server";
 import { OrderSamples } from "~/components/order-samples";
 import { DiffractionRingsIcon } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
+import { organisationAddressOf } from "~/models/accounts/organisations.server";
 import { orderSamples } from "~/models/files/files.server";
+import { requestTitleOf } from "~/models/requests/requests.server";
 import type { Route } from "./+types/packing-slip";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { actor, order } = await requireOrderSide(request, "client", params.id);
   const { membership } = actor;
-  const [[req], [lab], samples] = await Promise.all([
-    db.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId)),
-    db.select({ name: schema.organisations.name, city: schema.organisations.city, country: schema.organisations.country }).from(schema.organisations).where(eq(schema.organisations.id, order.labId)),
-    orderSamples(order),
-  ]);
-  return { orderId: order.id, title: req?.title ?? "", lab, from: membership.organisation.name, samples };
+  const [title, lab, samples] = await Promise.all([requestTitleOf(order.requestId), organisationAddressOf(order.labId), orderSamples(order)]);
+  return { orderId: order.id, title: title ?? "", lab, from: membership.organisation.name, samples };
 }
 
-export default function PackingSlip() {
-  const { orderId, title, lab, from, samples } = useLoaderData<typeof loader>();
+export default function PackingSlip({ loaderData }: Route.ComponentProps) {
+  const { orderId, title, lab, from, samples } = loaderData;
   return (
     <article className="card mx-auto max-w-3xl print:border-0 print:shadow-none">
       <header className="flex items-center justify-between">

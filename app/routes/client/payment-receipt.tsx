@@ -1,9 +1,7 @@
 // /client/payments/:id/receipt — a printable receipt for one payment of the organisation.
 import { isUuid } from "~/domain/ids";
-import { and, eq } from "drizzle-orm";
-import { useLoaderData } from "react-router";
 import { DiffractionRingsIcon } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
+import { paidReceipt } from "~/models/orders/queries.server";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payment-receipt";
 import { useFormat } from "~/components/locale";
@@ -11,21 +9,14 @@ import { useFormat } from "~/components/locale";
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
   if (!isUuid(params.id)) notFound("No such payment.");
-  const [row] = await db
-    .select({ payment: schema.payments, title: schema.requests.title, lab: schema.organisations.name, quote: schema.quotes })
-    .from(schema.payments)
-    .innerJoin(schema.orders, eq(schema.orders.id, schema.payments.orderId))
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
-    .innerJoin(schema.quotes, eq(schema.quotes.id, schema.orders.quoteId))
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.labId))
-    .where(and(eq(schema.payments.id, params.id), eq(schema.orders.clientOrganisationId, membership.organisation.id), eq(schema.payments.status, "paid")));
+  const row = await paidReceipt(params.id, membership.organisation.id);
   if (!row) notFound("No such payment in your organisation.");
   return { receipt: { id: row.payment.id, chargeId: row.payment.chargeId, at: row.payment.updatedAt, amountMinor: row.payment.amountMinor, currency: row.payment.currency, title: row.title, lab: row.lab, lines: row.quote.lineItems, client: membership.organisation.name } };
 }
 
-export default function Receipt() {
+export default function Receipt({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { receipt } = useLoaderData<typeof loader>();
+  const { receipt } = loaderData;
   return (
     <article className="card mx-auto max-w-2xl print:border-0 print:shadow-none">
       <header className="flex items-center justify-between">

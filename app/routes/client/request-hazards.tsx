@@ -2,7 +2,7 @@
 import { getFormProps, getInputProps, getTextareaProps, useForm, type FieldMetadata } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useState } from "react";
-import { data, Form, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, redirect, useNavigation } from "react-router";
 import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
 import { GhsIcon } from "~/components/ghs-icon";
 import { WizardSteps } from "~/components/request-parts";
@@ -10,7 +10,9 @@ import { Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/compo
 import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/domain/hazard-codes";
 import { AFTER_MEASUREMENT } from "~/domain/hazards";
 import { HazardsStepSchema, type SampleHazardForm, type SampleHazardInput } from "~/domain/request-forms";
-import { notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveHazards } from "~/models/requests/requests.server";
+import { notEditable, samplesOf, saveHazards } from "~/models/requests/requests.server";
+import { requireOwnDraft } from "~/utils/permissions.server";
+import { redirectIfPublished } from "~/routes/client/request-wizard.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-hazards";
 
@@ -50,9 +52,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   return redirect(`/client/requests/${row.id}/edit/measurement`);
 }
 
-export default function RequestHazards() {
-  const { requestId, reached, samples, defaults } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+export default function RequestHazards({ loaderData, actionData }: Route.ComponentProps) {
+  const { requestId, reached, samples, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm<{ samples: SampleHazardForm[] }, { samples: SampleHazardInput[] }>({
     lastResult: actionData?.result,

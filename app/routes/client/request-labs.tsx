@@ -1,13 +1,15 @@
 // New request, step 4 (labs): which approved labs fit and why, and whether every matching lab or only invited ones may quote.
 import { getFormProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, redirect, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
 import { WizardSteps } from "~/components/request-parts";
 import { Badge, EmptyState, FieldErrors, FormError, PageHeader } from "~/components/ui";
 import { matchLabsForRequest } from "~/models/labs/matching.server";
 import { LabsStepSchema } from "~/domain/request-forms";
-import { invitedLabIds, notEditable, redirectIfPublished, requireOwnDraft, saveVisibility } from "~/models/requests/requests.server";
+import { invitedLabIds, notEditable, saveVisibility } from "~/models/requests/requests.server";
+import { requireOwnDraft } from "~/utils/permissions.server";
+import { redirectIfPublished } from "~/routes/client/request-wizard.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-labs";
 import { useFormat } from "~/components/locale";
@@ -30,10 +32,9 @@ export async function action({ request, params }: Route.ActionArgs) {
   return redirect(`/client/requests/${row.id}/edit/review`);
 }
 
-export default function RequestLabs() {
+export default function RequestLabs({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { requestId, reached, matches, defaults } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { requestId, reached, matches, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     lastResult: actionData?.result,

@@ -1,12 +1,14 @@
 // New request, step 3 (measurement): range of interest, source, temperatures, atmosphere, quality, deadline, budget.
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, redirect, useNavigation } from "react-router";
 import { Options, WizardSteps } from "~/components/request-parts";
 import { Field, FormError, PageHeader } from "~/components/ui";
 import { CURRENCIES, toMajorText } from "~/domain/money";
 import { ATMOSPHERES, MeasurementStepSchema, QUALITY_LEVELS, SOURCES } from "~/domain/request-forms";
-import { notEditable, redirectIfPublished, requireOwnDraft, saveMeasurement } from "~/models/requests/requests.server";
+import { notEditable, saveMeasurement } from "~/models/requests/requests.server";
+import { requireOwnDraft } from "~/utils/permissions.server";
+import { redirectIfPublished } from "~/routes/client/request-wizard.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-measurement";
 
@@ -41,9 +43,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   return redirect(`/client/requests/${row.id}/edit/labs`);
 }
 
-export default function RequestMeasurement() {
-  const { requestId, reached, defaults } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+export default function RequestMeasurement({ loaderData, actionData }: Route.ComponentProps) {
+  const { requestId, reached, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     lastResult: actionData?.result,

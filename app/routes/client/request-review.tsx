@@ -1,9 +1,11 @@
 // New request, step 5 (review): everything at a glance, what still blocks publishing, and "Publish request".
-import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { HazardDeclaration, SampleFacts, WizardSteps } from "~/components/request-parts";
 import { FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import { labelOf } from "~/domain/matching";
-import { invitedLabIds, notEditable, publishProblems, publishRequest, redirectIfPublished, requireOwnDraft, samplesOf } from "~/models/requests/requests.server";
+import { invitedLabIds, notEditable, publishProblems, publishRequest, samplesOf } from "~/models/requests/requests.server";
+import { requireOwnDraft } from "~/utils/permissions.server";
+import { redirectIfPublished } from "~/routes/client/request-wizard.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/request-review";
 import { useFormat } from "~/components/locale";
@@ -24,10 +26,9 @@ export async function action({ request, params }: Route.ActionArgs) {
   return redirectWithToast(`/client/requests/${row.id}`, { kind: "success", message: `“${row.title}” is open; matching labs can now quote.` });
 }
 
-export default function RequestReview() {
+export default function RequestReview({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, samples, invitedCount, problems } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { request: r, samples, invitedCount, problems } = loaderData;
   const navigation = useNavigation();
   const edit = (step: string) => `/client/requests/${r.id}/edit/${step}`;
   const range = r.rangeMin === null ? "—" : `${r.rangeMin}–${r.rangeMax} ${r.rangeKind === "d_spacing" ? "Å (d-spacing)" : "° 2θ"}`;

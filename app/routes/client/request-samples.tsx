@@ -1,13 +1,14 @@
 // New request, step 1 (samples): title, technique and each sample's formula, form, mass, phase and approximate cell.
 import { getFormProps, getInputProps, getSelectProps, useForm, type FieldMetadata } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, redirect, useNavigation } from "react-router";
 import { Options, WizardSteps } from "~/components/request-parts";
 import { Field, FieldErrors, FormError, PageHeader } from "~/components/ui";
 import { CENTERINGS, CRYSTAL_SYSTEMS } from "~/diffraction/cell";
 import { SAMPLE_FORMS, SamplesStepSchema, TECHNIQUES, type SamplesStep } from "~/domain/request-forms";
-import { createDraft, notEditable, redirectIfPublished, requireOwnDraft, samplesOf, saveSamples } from "~/models/requests/requests.server";
-import { requireOrgRole } from "~/utils/permissions.server";
+import { createDraft, notEditable, samplesOf, saveSamples } from "~/models/requests/requests.server";
+import { redirectIfPublished } from "~/routes/client/request-wizard.server";
+import { requireOrgRole, requireOwnDraft } from "~/utils/permissions.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-samples";
 
@@ -67,9 +68,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   return redirect(`/client/requests/${row.id}/edit/hazards`);
 }
 
-export default function RequestSamples() {
-  const { requestId, reached, defaults } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+export default function RequestSamples({ loaderData, actionData }: Route.ComponentProps) {
+  const { requestId, reached, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm<SamplesStep>({
     lastResult: actionData?.result,

@@ -1,6 +1,7 @@
 // POST /client/requests/:id/sds-upload — presigned upload targets for a draft's safety data sheets (PDF).
-import { notEditable, requireOwnDraft, SDS_RULE, sdsPrefix } from "~/models/requests/requests.server";
-import { uploadTargetResponse } from "~/models/files/storage.server";
+import { notEditable, SDS_RULE, sdsPrefix } from "~/models/requests/requests.server";
+import { requireOwnDraft } from "~/utils/permissions.server";
+import { uploadTargetResponse } from "~/utils/uploads.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-sds-upload";
 

@@ -1,12 +1,12 @@
 // A client's request: its samples and hazards, the labs' quotes side by side, and accepting one of them.
-import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
 import { OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from "~/components/request-parts";
 import { EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import { matchLabsForRequest } from "~/models/labs/matching.server";
 import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/requests/quotes.server";
-import { requireOwnRequest, samplesOf, sdsLinks } from "~/models/requests/requests.server";
-import { requireOrgRole } from "~/utils/permissions.server";
+import { samplesOf, sdsLinks } from "~/models/requests/requests.server";
+import { requireOrgRole, requireOwnRequest } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request";
@@ -31,10 +31,9 @@ export async function action({ request, params }: Route.ActionArgs) {
   return redirectWithToast(`/client/orders/${result.orderId}`, { kind: "success", message: "Quote accepted. The order is awaiting payment: pay the total to have it held until delivery." });
 }
 
-export default function ClientRequest() {
+export default function ClientRequest({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, samples, quotes, matches, order, sds } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { request: r, samples, quotes, matches, order, sds } = loaderData;
   const navigation = useNavigation();
   const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
   const past = quotes.filter((q) => !(q.state === "sent" || q.state === "accepted"));

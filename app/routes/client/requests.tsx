@@ -1,5 +1,5 @@
 // The client organisation's requests, grouped by state, REQUESTS_PAGE_SIZE (25) to a page, with the way to start a new one.
-import { data, Link, useLoaderData } from "react-router";
+import { data, Link } from "react-router";
 import { RequestStateBadge } from "~/components/request-parts";
 import { PageNav } from "~/components/data-table";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
@@ -19,9 +19,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { organisation: membership.organisation.name, pageSize: REQUESTS_PAGE_SIZE, ...list };
 }
 
-export default function Requests() {
+export default function Requests({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { organisation, requests, page, pageCount, pageSize, total, countByState } = useLoaderData<typeof loader>();
+  const { organisation, requests, page, pageCount, pageSize, total, countByState } = loaderData;
   const newButton = (
     <Link to="/client/requests/new" className="btn-primary">
       New request

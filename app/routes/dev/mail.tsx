@@ -1,5 +1,5 @@
 // /dev/mail — what the local e-mail fake received, for development; not served in production.
-import { data, useLoaderData } from "react-router";
+import { data } from "react-router";
 import { EmptyState, PageHeader } from "~/components/ui";
 import { config } from "~/config.server";
 import { notFound, requireAdmin, requireUser } from "~/utils/permissions.server";
@@ -30,9 +30,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   }
 }
 
-export default function DevMail() {
+export default function DevMail({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { messages, sendAttempts, problem } = useLoaderData<typeof loader>();
+  const { messages, sendAttempts, problem } = loaderData;
   return (
     <main id="main" className="mx-auto w-full max-w-4xl px-4 py-8 sm:px-6">
       <PageHeader title="Sent e-mail (development)" subtitle={problem ?? `${messages.length} messages received by the local e-mail fake, ${sendAttempts} send attempts.`} />

@@ -1,7 +1,7 @@
 // /lab/api-tokens — tokens for uploads straight from the lab's instrument computers: create (shown once), revoke, last use.
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import { RevokeButton, ShownOnce } from "~/components/shown-once";
 import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
@@ -49,10 +49,9 @@ export async function action({ request, context }: Route.ActionArgs) {
   return redirectWithToast("/lab/api-tokens", { kind: "success", message: "Token revoked; uploads with it are refused from now on." });
 }
 
-export default function ApiTokens() {
+export default function ApiTokens({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { tokens, canManage, appUrl, limit } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { tokens, canManage, appUrl, limit } = loaderData;
   const busy = useNavigation().state !== "idle";
   const [form, fields] = useForm({
     id: "api-token",

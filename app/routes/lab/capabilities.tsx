@@ -1,7 +1,7 @@
 // The capabilities editor: instruments with their sources, ranges and stages, and the hazards the lab accepts.
 import { getCollectionProps, getFormProps, getInputProps, useForm, type SubmissionResult } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, Link, useActionData, useLoaderData, useNavigation, useSearchParams } from "react-router";
+import { data, Form, Link, useActionData, useNavigation, useSearchParams } from "react-router";
 import type { z } from "zod";
 import { GhsIcon } from "~/components/ghs-icon";
 import { SelectField } from "~/components/select-field";
@@ -38,7 +38,7 @@ import {
 import { dSpacingCoverage } from "~/domain/coverage";
 import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/domain/hazard-codes";
 import { getOrCreateLab } from "~/models/labs/vetting.server";
-import { requireOrgRole } from "~/utils/permissions.server";
+import { orNotFound, requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/capabilities";
@@ -68,7 +68,8 @@ export async function action({ request, context }: Route.ActionArgs) {
   async function handle<S extends z.ZodType>(schema: S, run: (value: z.infer<S>) => Promise<unknown>, message: string) {
     const submission = parseWithZod(formData, { schema });
     if (submission.status !== "success") return data({ formId, result: submission.reply() }, { status: 400 });
-    await run(submission.value);
+    // An instrument or stage id that is not this lab's is the 404 of a missing page, not a form error.
+    await orNotFound(run(submission.value));
     return redirectWithToast("/lab/capabilities", { kind: "success", message });
   }
   switch (intent) {
@@ -89,8 +90,8 @@ export async function action({ request, context }: Route.ActionArgs) {
 
 type InstrumentView = Instrument & { stages: SampleStage[] };
 
-export default function Capabilities() {
-  const { canEdit, instruments, hazards } = useLoaderData<typeof loader>();
+export default function Capabilities({ loaderData }: Route.ComponentProps) {
+  const { canEdit, instruments, hazards } = loaderData;
   const [params] = useSearchParams();
   const editing = params.get("instrument");
   const editingInstrument = instruments.find((i) => i.id === editing);
@@ -133,6 +134,7 @@ function sourceText(i: Pick<Instrument, "anode" | "customWavelength" | "monochro
   return `Custom wavelength ${i.customWavelength} Å`;
 }
 
+// The page holds several forms, some nested two components deep; each picks its own answer out of the action's.
 function useFormResult(formId: string) {
   const actionData = useActionData<typeof action>();
   return actionData && "formId" in actionData && actionData.formId === formId ? actionData.result : undefined;

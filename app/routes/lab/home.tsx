@@ -1,5 +1,5 @@
 // The lab workspace's overview: vetting state, matching requests and work in progress.
-import { Link, useLoaderData } from "react-router";
+import { Link } from "react-router";
 import { OrdersByState, WaitingPanel } from "~/components/overview";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
 import { labOverview } from "~/models/orders/overview.server";
@@ -11,8 +11,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { lab: { name: membership.organisation.name, city: membership.organisation.city }, role: membership.role, overview: await labOverview(membership.organisation.id) };
 }
 
-export default function LabHome() {
-  const { lab, role, overview } = useLoaderData<typeof loader>();
+export default function LabHome({ loaderData }: Route.ComponentProps) {
+  const { lab, role, overview } = loaderData;
   return (
     <div>
       <PageHeader

@@ -1,11 +1,10 @@
 // The lab's inbox: open requests its instruments and hazard acceptance fit, and requests it was invited to.
-import { and, eq, inArray } from "drizzle-orm";
-import { Link, useLoaderData } from "react-router";
+import { Link } from "react-router";
 import { PageNav, SortableTable } from "~/components/data-table";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
 import { requestsMatchingLab } from "~/models/labs/matching.server";
-import { vettingStateOf } from "~/models/requests/quotes.server";
+import { quoteStatesOfLab, vettingStateOf } from "~/models/requests/quotes.server";
+import { requestsWithClients } from "~/models/requests/requests.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/inbox";
 import { useFormat } from "~/components/locale";
@@ -26,16 +25,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   if (vetting !== "approved") return { vetting, items: [], sort: q.sort, dir: q.dir, info: pageOf(0, q) };
   const found = await requestsMatchingLab(labId);
   const ids = found.map((f) => f.requestId);
-  const rows = ids.length
-    ? await db
-        .select({ id: schema.requests.id, title: schema.requests.title, deadline: schema.requests.deadline, openedAt: schema.requests.openedAt, client: schema.organisations.name })
-        .from(schema.requests)
-        .innerJoin(schema.organisations, eq(schema.organisations.id, schema.requests.organisationId))
-        .where(inArray(schema.requests.id, ids))
-    : [];
-  const quoted = ids.length
-    ? await db.select({ requestId: schema.quotes.requestId, state: schema.quotes.state }).from(schema.quotes).where(and(eq(schema.quotes.labId, labId), inArray(schema.quotes.requestId, ids)))
-    : [];
+  const rows = await requestsWithClients(ids);
+  const quoted = await quoteStatesOfLab(labId, ids);
   const items = found.flatMap((f) => {
     const row = rows.find((r) => r.id === f.requestId);
     if (!row) return [];
@@ -52,9 +43,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { vetting, items: page, sort, dir, info };
 }
 
-export default function LabInbox() {
+export default function LabInbox({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { vetting, items, sort, dir, info } = useLoaderData<typeof loader>();
+  const { vetting, items, sort, dir, info } = loaderData;
   if (vetting !== "approved") {
     return (
       <div>

@@ -1,34 +1,27 @@
 // /lab/orders/:id/files — the lab's delivery screen: upload scans and reports straight to storage, see every
 // version with its state and live check, and replace a file the engine could not read.
-import { requireOrderSide } from "~/models/order-access.server";
-import { eq } from "drizzle-orm";
-import { Link, useLoaderData, useRevalidator } from "react-router";
+import { requireOrderSide } from "~/utils/permissions.server";
+import { Link, useRevalidator } from "react-router";
 import { CheckPreview } from "~/components/check-preview";
 import { DeliveryUploader, useDeliveryQueue } from "~/components/delivery-uploader";
 import { OrderFilesTable, type FileRow } from "~/components/order-files-table";
-import { Badge, EmptyState, PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
+import { EmptyState, PageHeader } from "~/components/ui";
 import { UPLOAD_ORDER_STATES } from "~/domain/order-files";
+import { organisationNameOf } from "~/models/accounts/organisations.server";
+import { quotedInstrumentOf } from "~/models/requests/quotes.server";
+import { requestTitleOf } from "~/models/requests/requests.server";
 import { orderFileList, orderSamples } from "~/models/files/files.server";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/domain/order-states";
+import { ORDER_STATE_LABELS } from "~/domain/order-states";
+import { OrderStateBadge } from "~/components/order-state-badge";
 import { radiationOf } from "~/models/checks/scan-check.server";
 import type { Route } from "./+types/order-files";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await requireOrderSide(request, "lab", params.id);
-  const [meta] = await db
-    .select({ title: schema.requests.title, client: schema.organisations.name })
-    .from(schema.requests)
-    .innerJoin(schema.organisations, eq(schema.organisations.id, order.clientOrganisationId))
-    .where(eq(schema.requests.id, order.requestId));
-  const [instrument] = await db
-    .select({ anode: schema.instruments.anode, customWavelength: schema.instruments.customWavelength, monochromation: schema.instruments.monochromation })
-    .from(schema.quotes)
-    .innerJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
-    .where(eq(schema.quotes.id, order.quoteId));
+  const [title, client, instrument] = await Promise.all([requestTitleOf(order.requestId), organisationNameOf(order.clientOrganisationId), quotedInstrumentOf(order.quoteId)]);
   const samples = await orderSamples(order);
   return {
-    order: { id: order.id, state: order.state, title: meta.title, client: meta.client },
+    order: { id: order.id, state: order.state, title: title ?? "", client: client ?? "" },
     samples: samples.map((s) => ({ id: s.id, label: s.label })),
     // What the preview checks a scan against before it is uploaded: the sample's declaration and the quote's source.
     declarations: Object.fromEntries(
@@ -43,8 +36,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 /** A stored scan the engine could not read, or a refused upload, is replaced by a new version of the same name. */
 const replaceable = (row: FileRow) => (row.state === "rejected" || row.check?.status === "failed") && !row.deletedAt;
 
-export default function LabOrderFiles() {
-  const { order, samples, declarations, radiation, files, canUpload } = useLoaderData<typeof loader>();
+export default function LabOrderFiles({ loaderData }: Route.ComponentProps) {
+  const { order, samples, declarations, radiation, files, canUpload } = loaderData;
   const revalidator = useRevalidator();
   const queue = useDeliveryQueue(order.id, samples, () => void revalidator.revalidate());
   return (
@@ -59,7 +52,7 @@ export default function LabOrderFiles() {
             </Link>
           </>
         }
-        actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
+        actions={<OrderStateBadge state={order.state} />}
       />
       {canUpload ? (
         <DeliveryUploader

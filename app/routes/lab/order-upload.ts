@@ -1,14 +1,15 @@
 // POST /lab/orders/:id/uploads/:fileId — `{ intent: "complete", parts?, sha256 }` verifies and stores; `{ intent: "abort" }` cancels.
-import { abortOrderUpload, answerUploadStep, completedUploadResponse, completeOrderUpload, fileOfOrder, readJsonObject } from "~/models/files/files.server";
-import { orderForOrganisation } from "~/models/orders/lifecycle.server";
-import { requireOrgRole } from "~/utils/permissions.server";
+import { abortOrderUpload, completeOrderUpload, fileOfOrder } from "~/models/files/files.server";
+import { answerUploadStep, completedUploadResponse, readJsonObject } from "~/utils/uploads.server";
+import { requireOrderSide } from "~/utils/permissions.server";
 import type { Route } from "./+types/order-upload";
 
+const NO_SUCH_UPLOAD = "No such upload on this order.";
+
 export async function action({ request, params }: Route.ActionArgs) {
-  const { membership } = await requireOrgRole(request, "lab", ["manager", "operator"]);
-  const found = await orderForOrganisation(params.id, membership.organisation.id);
-  const file = found?.side === "lab" ? await fileOfOrder(found.order.id, params.fileId) : null;
-  if (!file) return Response.json({ error: "No such upload on this order." }, { status: 404 });
+  const { order } = await requireOrderSide(request, "lab", params.id, { roles: ["manager", "operator"], jsonNotFound: NO_SUCH_UPLOAD });
+  const file = await fileOfOrder(order.id, params.fileId);
+  if (!file) return Response.json({ error: NO_SUCH_UPLOAD }, { status: 404 });
   return answerUploadStep(async () => {
     const body = await readJsonObject(request);
     if (body.intent === "abort") {

@@ -1,19 +1,23 @@
 // /lab/orders/:id — the lab's view of an order: the samples and hazards, the shipment, and the lab's moves.
-import { requireOrderSide } from "~/models/order-access.server";
+import { requireOrderSide } from "~/utils/permissions.server";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
-import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { OrderSamples } from "~/components/order-samples";
 import { OrderTimelineCard } from "~/components/order-timeline";
-import { Badge, FormError, PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
+import { FormError, PageHeader } from "~/components/ui";
+import { organisationNameOf } from "~/models/accounts/organisations.server";
 import { orderSamples } from "~/models/files/files.server";
-import { markDelivered, markReceived, samplesWithoutCompletedCheck, shipmentOf, startMeasuring } from "~/models/fulfilment.server";
-import { ORDER_STATE_LABELS, ORDER_STATE_TONES } from "~/domain/order-states";
-import { orderTimeline, OrderMoveRefused } from "~/models/orders/lifecycle.server";
-import { PaymentProblem, refuseOnArrival } from "~/models/payments/provider.server";
-import { sdsLinks } from "~/models/requests/requests.server";
+import { markDelivered, markReceived, startMeasuring } from "~/models/orders/lifecycle.server";
+import { samplesWithoutCompletedCheck } from "~/models/checks/scan-check.server";
+import { shipmentOf } from "~/models/orders/queries.server";
+import { canMove, samplesAtLab } from "~/domain/order-states";
+import { OrderStateBadge } from "~/components/order-state-badge";
+import { orderTimeline } from "~/models/orders/queries.server";
+import { OrderMoveRefused } from "~/models/orders/lifecycle.server";
+import { PaymentProblem } from "~/models/payments/provider.server";
+import { refuseOnArrival } from "~/models/orders/lifecycle.server";
+import { requestTitleOf, sdsLinks } from "~/models/requests/requests.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
@@ -23,9 +27,9 @@ const labOrder = (request: Request, orderId: string) => requireOrderSide(request
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await labOrder(request, params.id);
-  const [[req], [client], samples, shipment, timeline, missingChecks] = await Promise.all([
-    db.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId)),
-    db.select({ name: schema.organisations.name }).from(schema.organisations).where(eq(schema.organisations.id, order.clientOrganisationId)),
+  const [title, clientName, samples, shipment, timeline, missingChecks] = await Promise.all([
+    requestTitleOf(order.requestId),
+    organisationNameOf(order.clientOrganisationId),
     orderSamples(order),
     shipmentOf(order.id),
     orderTimeline(order.id),
@@ -33,8 +37,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   ]);
   return {
     order: { id: order.id, state: order.state, amountMinor: order.amountMinor, currency: order.currency },
-    title: req?.title ?? "",
-    clientName: client?.name ?? "",
+    title: title ?? "",
+    clientName: clientName ?? "",
     samples,
     // The safety data sheets open from the order too: the lab checks the parcel against them on arrival.
     sds: await sdsLinks(samples),
@@ -75,10 +79,9 @@ export async function action({ request, params }: Route.ActionArgs) {
   return redirectWithToast(back, { kind: "success", message: "Order updated." });
 }
 
-export default function LabOrder() {
+export default function LabOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, title, clientName, samples, sds, shipment, timeline, missingChecks } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { order, title, clientName, samples, sds, shipment, timeline, missingChecks } = loaderData;
   const busy = useNavigation().state !== "idle";
   return (
     <div>
@@ -90,7 +93,7 @@ export default function LabOrder() {
       <PageHeader
         title={title}
         subtitle={`For ${clientName} · ${fmt.money(order.amountMinor, order.currency)}`}
-        actions={<Badge tone={ORDER_STATE_TONES[order.state]}>{ORDER_STATE_LABELS[order.state]}</Badge>}
+        actions={<OrderStateBadge state={order.state} />}
       />
       <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
       <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
@@ -99,7 +102,7 @@ export default function LabOrder() {
             <h2 id="lab-next" className="text-lg font-semibold">
               Next step
             </h2>
-            {order.state === "samples_in_transit" ? (
+            {canMove(order.state, "samples_received", "lab") ? (
               <div className="mt-3 space-y-4">
                 <p className="text-sm text-ink-700">
                   {shipment ? `Shipped with ${shipment.carrier}, tracking ${shipment.trackingNumber}. ` : ""}When the parcel arrives, check it against the
@@ -120,13 +123,13 @@ export default function LabOrder() {
                   </button>
                 </Form>
               </div>
-            ) : order.state === "samples_received" ? (
+            ) : canMove(order.state, "measuring", "lab") ? (
               <Form method="post" className="mt-3">
                 <button type="submit" name="intent" value="measuring" className="btn-primary" disabled={busy}>
                   Start measuring
                 </button>
               </Form>
-            ) : order.state === "measuring" ? (
+            ) : canMove(order.state, "data_delivered", "lab") ? (
               <div className="mt-3 space-y-3">
                 <p className="text-sm text-ink-700">
                   Upload the scans (one or more per sample) and your report. Each scan is checked automatically; the data
@@ -152,7 +155,7 @@ export default function LabOrder() {
                 {["cancelled", "refused_on_arrival", "resolved"].includes(order.state) && "This order is closed."}
               </p>
             )}
-            {["measuring", "data_delivered", "accepted", "paid_out", "disputed", "resolved", "samples_received"].includes(order.state) ? (
+            {samplesAtLab(order.state) ? (
               <p className="mt-4 text-sm">
                 <Link to={`/lab/orders/${order.id}/files`} className="text-beam-700 underline">
                   Delivery files and checks

@@ -1,8 +1,8 @@
 // /lab/payouts — the lab's payout account (onboarding at the payment provider) and the payouts it received.
-import { and, desc, eq, inArray } from "drizzle-orm";
-import { data, Form, Link, redirect, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
+import { findLab } from "~/models/labs/vetting.server";
+import { payoutsOfLab } from "~/models/orders/queries.server";
 import { payoutOnboardingUrl, PaymentProblem, syncPayoutAccount } from "~/models/payments/provider.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payouts";
@@ -11,32 +11,13 @@ import { useFormat } from "~/components/locale";
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
   const labId = membership.organisation.id;
-  let [lab] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, labId));
+  let lab = await findLab(labId);
   // Back from onboarding: read the account's state now rather than wait for the provider's event.
   if (lab?.payoutAccountId && !lab.payoutsEnabled && new URL(request.url).searchParams.get("onboarding") === "done") {
     await syncPayoutAccount(lab.payoutAccountId).catch(() => null);
-    [lab] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, labId));
+    lab = await findLab(labId);
   }
-  const orders = await db
-    .select({ id: schema.orders.id, title: schema.requests.title })
-    .from(schema.orders)
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
-    .where(eq(schema.orders.labId, labId));
-  // Payouts and the platform fees kept from them, each read from its side of the funds-held account.
-  const ledgerOf = (kind: "payout" | "platform_fee") =>
-    db
-      .select({ id: schema.ledgerTransactions.id, orderId: schema.ledgerTransactions.orderId, transferId: schema.ledgerTransactions.providerObjectId, at: schema.ledgerTransactions.createdAt, currency: schema.ledgerTransactions.currency, amount: schema.ledgerEntries.amountMinor })
-      .from(schema.ledgerTransactions)
-      .innerJoin(schema.ledgerEntries, and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")))
-      .where(and(eq(schema.ledgerTransactions.kind, kind), inArray(schema.ledgerTransactions.orderId, orders.map((o) => o.id))))
-      .orderBy(desc(schema.ledgerTransactions.createdAt));
-  const [paid, fees] = orders.length ? await Promise.all([ledgerOf("payout"), ledgerOf("platform_fee")]) : [[], []];
-  // A fee belongs to the transfer it was kept from: its provider id is "fee:" and the transfer's id.
-  const payouts = paid.map((p) => ({
-    ...p,
-    title: orders.find((o) => o.id === p.orderId)?.title ?? "",
-    feeMinor: fees.find((f) => f.transferId === `fee:${p.transferId}`)?.amount ?? null,
-  }));
+  const payouts = await payoutsOfLab(labId);
   return { account: { id: lab?.payoutAccountId ?? null, ready: lab?.payoutsEnabled ?? false }, canManage: membership.role === "manager", payouts };
 }
 
@@ -50,10 +31,9 @@ export async function action({ request }: Route.ActionArgs) {
   }
 }
 
-export default function Payouts() {
+export default function Payouts({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { account, canManage, payouts } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { account, canManage, payouts } = loaderData;
   const busy = useNavigation().state !== "idle";
   return (
     <div>

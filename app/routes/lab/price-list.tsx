@@ -1,7 +1,7 @@
 // The lab's price list: per-sample prices by technique, surcharges, rush multiplier and turnaround, in the lab's currency.
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { SelectField } from "~/components/select-field";
 import { Field, FormError, PageHeader } from "~/components/ui";
 import { TECHNIQUE_LABELS, TECHNIQUES } from "~/domain/capabilities";
@@ -55,9 +55,8 @@ export async function action({ request, context }: Route.ActionArgs) {
   return redirectWithToast("/lab/price-list", { kind: "success", message: "Price list saved." });
 }
 
-export default function PriceList() {
-  const { canEdit, saved, values } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+export default function PriceList({ loaderData, actionData }: Route.ComponentProps) {
+  const { canEdit, saved, values } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     id: "price-list",

@@ -1,5 +1,5 @@
 // The lab's quotes with their state; lapsed ones are marked before the list is read.
-import { Link, useLoaderData } from "react-router";
+import { Link } from "react-router";
 import { QuoteStateBadge } from "~/components/request-parts";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { quotesForLab } from "~/models/requests/quotes.server";
@@ -12,9 +12,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { quotes: await quotesForLab(membership.organisation.id) };
 }
 
-export default function LabQuotes() {
+export default function LabQuotes({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { quotes } = useLoaderData<typeof loader>();
+  const { quotes } = loaderData;
   return (
     <div>
       <PageHeader title="Quotes" subtitle="Quotes your lab has sent, and what became of them." />

@@ -1,19 +1,18 @@
 // A request as a lab sees it: the hazard declaration to acknowledge, then the quote builder; the lab's own quotes.
 import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
-import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
 import { QuoteStateBadge, SampleCards } from "~/components/request-parts";
 import { Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
 import { labelOf, matchLab, sourceLabel } from "~/domain/matching";
+import { organisationNameOf } from "~/models/accounts/organisations.server";
 import { loadMatchLabs, loadMatchRequest } from "~/models/labs/matching.server";
 import { toMajorText, toMinorUnits } from "~/domain/money";
 import { QuoteSchema } from "~/domain/quote-forms";
-import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, requireLabQuote, sendQuote, vettingStateOf, withdrawQuote } from "~/models/requests/quotes.server";
-import { acknowledgeHazards, acknowledgementOf, requireRequestForLab, samplesOf, sdsLinks } from "~/models/requests/requests.server";
-import { forbidden, requireOrgRole } from "~/utils/permissions.server";
+import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, sendQuote, vettingStateOf, withdrawQuote } from "~/models/requests/quotes.server";
+import { acknowledgeHazards, acknowledgementOf, samplesOf, sdsLinks } from "~/models/requests/requests.server";
+import { forbidden, requireLabQuote, requireOrgRole, requireRequestForLab } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request";
@@ -26,14 +25,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
   const labId = membership.organisation.id;
   const row = await requireRequestForLab(params.id, labId);
-  const [samples, acknowledgement, vetting, prices, instruments, ownQuotes, [client], matchRequest, [lab]] = await Promise.all([
+  const [samples, acknowledgement, vetting, prices, instruments, ownQuotes, client, matchRequest, [lab]] = await Promise.all([
     samplesOf(row.id),
     acknowledgementOf(row.id, labId),
     vettingStateOf(labId),
     priceListOf(labId),
     instrumentsOf(labId),
     quotesForLab(labId),
-    db.select({ name: schema.organisations.name }).from(schema.organisations).where(eq(schema.organisations.id, row.organisationId)),
+    organisationNameOf(row.organisationId),
     loadMatchRequest(row.id),
     loadMatchLabs([labId]),
   ]);
@@ -42,7 +41,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const draft = draftLineItems(row, samples, prices);
   return {
     request: row,
-    client: client?.name ?? "",
+    client: client ?? "",
     samples,
     sds: await sdsLinks(samples),
     acknowledgement,
@@ -90,10 +89,9 @@ export async function action({ request, params }: Route.ActionArgs) {
   return redirectWithToast(`/lab/requests/${row.id}`, { kind: "success", message: "Quote sent to the client." });
 }
 
-export default function LabRequest() {
+export default function LabRequest({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, client, samples, sds, acknowledgement, approved, canQuote, match, quotes } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+  const { request: r, client, samples, sds, acknowledgement, approved, canQuote, match, quotes } = loaderData;
   const navigation = useNavigation();
   const live = quotes.find((q) => q.state === "sent" || q.state === "accepted");
   const range = r.rangeMin === null ? "—" : `${r.rangeMin}–${r.rangeMax} ${r.rangeKind === "d_spacing" ? "Å (d-spacing)" : "° 2θ"}`;
@@ -152,14 +150,13 @@ export default function LabRequest() {
         </section>
       ) : null}
 
-      {acknowledgement && approved && canQuote && r.state === "open" && !live ? <QuoteBuilder /> : null}
+      {acknowledgement && approved && canQuote && r.state === "open" && !live ? <QuoteBuilder loaderData={loaderData} actionData={actionData} /> : null}
     </div>
   );
 }
 
-function QuoteBuilder() {
-  const { instruments, currency, defaults } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+function QuoteBuilder({ loaderData, actionData }: Pick<Route.ComponentProps, "loaderData" | "actionData">) {
+  const { instruments, currency, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     lastResult: actionData && "result" in actionData ? actionData.result : undefined,

@@ -1,7 +1,8 @@
 // POST /lab/vetting/upload — presigned upload targets for a vetting application's certificate and calibration scan.
 import { getOrCreateLab, vettingPrefix } from "~/models/labs/vetting.server";
 import { requireOrgRole } from "~/utils/permissions.server";
-import { DOCUMENT_RULE, SCAN_RULE, uploadTargetResponse } from "~/models/files/storage.server";
+import { DOCUMENT_RULE, SCAN_RULE } from "~/models/files/storage.server";
+import { uploadTargetResponse } from "~/utils/uploads.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/vetting-upload";
 

@@ -2,7 +2,7 @@
 import { getFormProps, getInputProps, getTextareaProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useState } from "react";
-import { data, Form, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { CalibrationSummary } from "~/components/calibration-summary";
 import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
 import { SelectField } from "~/components/select-field";
@@ -20,7 +20,7 @@ import {
   type CalibrationCheck,
   type VettingState,
 } from "~/domain/vetting";
-import { requireOrgRole } from "~/utils/permissions.server";
+import { orNotFound, requireOrgRole } from "~/utils/permissions.server";
 import { contentTypeFor, DOCUMENT_RULE, readStoredText, SCAN_RULE, verifyStoredObject } from "~/models/files/storage.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
@@ -79,26 +79,28 @@ export async function action({ request, context }: Route.ActionArgs) {
   });
   if (!outcome.ok) return refuse({ scanKey: [`The calibration scan could not be checked: ${outcome.error}`] });
   try {
-    await submitApplication({
-      labId: lab.organisationId,
-      actorUserId: user.id,
-      clientAddress: context.clientAddress,
-      description: v.description,
-      accreditationNumber: v.accreditationNumber,
-      accreditationExpiry: v.accreditationExpiry,
-      attestation: LICENCE_STATEMENT,
-      attestedName: v.attestedName,
-      standard: v.standard,
-      certificate: {
-        storageKey: v.certificateKey,
-        fileName: v.certificateName,
-        contentType: contentTypeFor(DOCUMENT_RULE, v.certificateName),
-        sizeBytes: certificate.size,
-        sha256: certificate.sha256,
-      },
-      scan: { storageKey: v.scanKey, fileName: v.scanName, contentType: "text/plain", sizeBytes: scanFile.size, sha256: scanFile.sha256 },
-      check: outcome.check,
-    });
+    await orNotFound(
+      submitApplication({
+        labId: lab.organisationId,
+        actorUserId: user.id,
+        clientAddress: context.clientAddress,
+        description: v.description,
+        accreditationNumber: v.accreditationNumber,
+        accreditationExpiry: v.accreditationExpiry,
+        attestation: LICENCE_STATEMENT,
+        attestedName: v.attestedName,
+        standard: v.standard,
+        certificate: {
+          storageKey: v.certificateKey,
+          fileName: v.certificateName,
+          contentType: contentTypeFor(DOCUMENT_RULE, v.certificateName),
+          sizeBytes: certificate.size,
+          sha256: certificate.sha256,
+        },
+        scan: { storageKey: v.scanKey, fileName: v.scanName, contentType: "text/plain", sizeBytes: scanFile.size, sha256: scanFile.sha256 },
+        check: outcome.check,
+      }),
+    );
   } catch (err) {
     if (err instanceof VettingConflict) return refuse({}, [err.message]);
     throw err;
@@ -114,8 +116,8 @@ const STATE_TEXT: Record<VettingState, string> = {
   suspended: "Your lab is suspended and hidden from clients. Read the admin's note; an admin can reinstate the lab.",
 };
 
-export default function Vetting() {
-  const { labName, isManager, canSubmit, state, reviewNote, application, check } = useLoaderData<typeof loader>();
+export default function Vetting({ loaderData, actionData }: Route.ComponentProps) {
+  const { labName, isManager, canSubmit, state, reviewNote, application, check } = loaderData;
   return (
     <div className="space-y-6">
       <PageHeader
@@ -128,7 +130,7 @@ export default function Vetting() {
         {reviewNote ? <p className="mt-2 font-medium">Admin's note: {reviewNote}</p> : null}
       </div>
       {canSubmit ? (
-        <ApplicationForm application={application} />
+        <ApplicationForm application={application} actionData={actionData} />
       ) : (
         <ApplicationSummary application={application} note={isManager ? null : "Only a lab manager can hand in the application."} />
       )}
@@ -137,7 +139,7 @@ export default function Vetting() {
   );
 }
 
-type ApplicationView = ReturnType<typeof useLoaderData<typeof loader>>["application"];
+type ApplicationView = Route.ComponentProps["loaderData"]["application"];
 
 function ApplicationSummary({ application, note }: { application: ApplicationView; note: string | null }) {
   const standard = application.standard ? CALIBRATION_STANDARDS[application.standard as keyof typeof CALIBRATION_STANDARDS] : null;
@@ -165,8 +167,7 @@ function ApplicationSummary({ application, note }: { application: ApplicationVie
   );
 }
 
-function ApplicationForm({ application }: { application: ApplicationView }) {
-  const actionData = useActionData<typeof action>();
+function ApplicationForm({ application, actionData }: { application: ApplicationView; actionData: Route.ComponentProps["actionData"] }) {
   const navigation = useNavigation();
   const [form, fields] = useForm({
     id: "vetting-application",

@@ -1,8 +1,8 @@
 // /lab/work-queue — the lab's orders, from paid and waiting for samples to delivered, most recent first.
-import { Link, useLoaderData } from "react-router";
+import { Link } from "react-router";
 import { ORDERS_TABLE, OrdersTable, pageOfOrders } from "~/components/orders-table";
 import { EmptyState, PageHeader } from "~/components/ui";
-import { ordersOf } from "~/models/orders/lifecycle.server";
+import { ordersOf } from "~/models/orders/queries.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { readTableQuery } from "~/utils/table";
 import type { Route } from "./+types/work-queue";
@@ -14,8 +14,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { orders: rows, sort, dir, info };
 }
 
-export default function WorkQueue() {
-  const { orders, sort, dir, info } = useLoaderData<typeof loader>();
+export default function WorkQueue({ loaderData }: Route.ComponentProps) {
+  const { orders, sort, dir, info } = loaderData;
   return (
     <div>
       <PageHeader title="Work queue" subtitle="Orders of your lab and where each one stands." />

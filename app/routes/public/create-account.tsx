@@ -1,7 +1,7 @@
 // Create an account: a person starts a client organisation, or applies on behalf of a lab.
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, Link, useActionData, useNavigation, useSearchParams } from "react-router";
+import { data, Form, Link, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import { Field, FormError } from "~/components/ui";
 import { newPasswordField } from "~/domain/password-rules";
@@ -86,8 +86,7 @@ export async function action({ request, context }: Route.ActionArgs) {
   }
 }
 
-export default function CreateAccount() {
-  const actionData = useActionData<typeof action>();
+export default function CreateAccount({ actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
   const [params] = useSearchParams();
   const [form, fields] = useForm({

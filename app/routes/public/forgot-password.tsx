@@ -2,7 +2,7 @@
 // an account uses the address. Requests are limited per address and per e-mail.
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, useActionData, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import { AuthCard } from "~/components/auth-card";
 import { Field, FormError } from "~/components/ui";
@@ -33,8 +33,7 @@ export async function action({ request, context }: Route.ActionArgs) {
   return { result: submission.reply({ resetForm: true }), sent: true, message: RESET_REQUESTED };
 }
 
-export default function ForgotPassword() {
-  const actionData = useActionData<typeof action>();
+export default function ForgotPassword({ actionData }: Route.ComponentProps) {
   const busy = useNavigation().state !== "idle";
   const [form, fields] = useForm({
     lastResult: actionData?.result,

@@ -1,5 +1,5 @@
 // /invitations/:token — the page an invitation e-mail links to: which organisation, then sign in or create an account with the invited address, and accept.
-import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { Badge, FormError } from "~/components/ui";
 import { acceptInvitation, emailsMatch, resolveInvitation, STATUS_MESSAGES } from "~/models/accounts/invitations.server";
 import { getOptionalActor, notFound, requireUser, workspacePath } from "~/utils/permissions.server";
@@ -39,10 +39,8 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   });
 }
 
-export default function Invitation() {
+export default function Invitation({ loaderData: page, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const page = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
   const busy = useNavigation().state !== "idle";
   const where = [page.organisation.city, page.organisation.country].filter(Boolean).join(", ");
   return (

@@ -1,9 +1,8 @@
 // A lab's public profile: instruments with the d-spacings they reach, stages, hazards accepted, prices.
-import { eq } from "drizzle-orm";
-import { Link, useLoaderData } from "react-router";
+import { Link } from "react-router";
 import { Badge, PageHeader, SafetyNotice, TableCard } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
 import { dSpacingCoverage } from "~/domain/coverage";
+import { labBySlug } from "~/models/labs/directory.server";
 import { loadMatchLabs } from "~/models/labs/matching.server";
 import { instrumentWavelength, labelOf, sourceLabel } from "~/domain/matching";
 import { notFound } from "~/utils/permissions.server";
@@ -12,11 +11,7 @@ import { useFormat } from "~/components/locale";
 
 // Public by design: only approved labs are shown; any other slug is a 404.
 export async function loader({ params }: Route.LoaderArgs) {
-  const [row] = await db
-    .select({ id: schema.labs.organisationId, state: schema.labs.vettingState, description: schema.labs.description, city: schema.organisations.city, country: schema.organisations.country })
-    .from(schema.labs)
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.labs.organisationId))
-    .where(eq(schema.organisations.slug, params.slug));
+  const row = await labBySlug(params.slug);
   if (!row || row.state !== "approved") notFound("No approved lab is listed at this address.");
   const [lab] = await loadMatchLabs([row.id]);
   return {
@@ -36,9 +31,9 @@ export async function loader({ params }: Route.LoaderArgs) {
   };
 }
 
-export default function LabProfile() {
+export default function LabProfile({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { lab } = useLoaderData<typeof loader>();
+  const { lab } = loaderData;
   const prices = lab.priceList;
   return (
     <div className="mx-auto max-w-6xl px-4 py-10 sm:px-6">

@@ -1,6 +1,6 @@
 // The public lab directory: filters kept in the URL, results fetched from /api/labs with TanStack Query.
 import { keepPreviousData, useQuery } from "@tanstack/react-query";
-import { Link, useLoaderData, useSearchParams } from "react-router";
+import { Link, useSearchParams } from "react-router";
 import { EmptyState, PageHeader } from "~/components/ui";
 import { PAGE_SIZE, TECHNIQUES, parseDirectoryQuery } from "~/domain/directory-query";
 import { cachedDirectory, type DirectoryLab } from "~/models/labs/directory.server";
@@ -36,9 +36,9 @@ async function fetchLabs(query: string): Promise<DirectoryResult> {
 }
 
 
-export default function LabDirectory() {
+export default function LabDirectory({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { initial, initialQuery, options } = useLoaderData<typeof loader>();
+  const { initial, initialQuery, options } = loaderData;
   const [params, setParams] = useSearchParams();
   const query = params.toString();
   const labs = useQuery({

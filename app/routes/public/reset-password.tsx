@@ -2,7 +2,7 @@
 // for an hour; using it signs the account out everywhere. A used, expired or unknown link changes nothing.
 import { getFormProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, Link, useActionData, useLoaderData, useNavigation } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { AuthCard } from "~/components/auth-card";
 import { NewPasswordFields } from "~/components/new-password-fields";
 import { FormError } from "~/components/ui";
@@ -38,9 +38,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   );
 }
 
-export default function ResetPassword() {
-  const page = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+export default function ResetPassword({ loaderData: page, actionData }: Route.ComponentProps) {
   const busy = useNavigation().state !== "idle";
   const [form, fields] = useForm({
     lastResult: actionData?.result,

@@ -1,12 +1,10 @@
 // /shared/:token — the read-only data room of one order, opened through a share link without signing in.
-import { eq } from "drizzle-orm";
-import { data, useLoaderData } from "react-router";
+import { data } from "react-router";
 import { OrderFilesTable } from "~/components/order-files-table";
 import { EmptyState, PageHeader } from "~/components/ui";
-import { db, schema } from "~/db/client.server";
 import { DOWNLOAD_URL_SECONDS } from "~/domain/order-files";
 import { orderFileList } from "~/models/files/files.server";
-import { resolveShareLink } from "~/models/files/share-links.server";
+import { resolveShareLink, sharedOrderHeading } from "~/models/files/share-links.server";
 import { audit } from "~/models/audit.server";
 import { notFound } from "~/utils/permissions.server";
 import type { Route } from "./+types/shared";
@@ -20,12 +18,7 @@ export async function loader({ params, context }: Route.LoaderArgs) {
     return data({ gone: resolved.status, shared: null }, { status: 410, headers: { "Cache-Control": "no-store" } });
   }
   const { link } = resolved;
-  const [order] = await db
-    .select({ id: schema.orders.id, title: schema.requests.title, client: schema.organisations.name })
-    .from(schema.orders)
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.clientOrganisationId))
-    .where(eq(schema.orders.id, link.orderId));
+  const order = await sharedOrderHeading(link.orderId);
   await audit({ organisationId: link.organisationId, action: "share_link_opened", subjectType: "share_link", subjectId: link.id, clientAddress: context.clientAddress });
   return data(
     {
@@ -36,9 +29,9 @@ export async function loader({ params, context }: Route.LoaderArgs) {
   );
 }
 
-export default function SharedDataRoom() {
+export default function SharedDataRoom({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { gone, shared } = useLoaderData<typeof loader>();
+  const { gone, shared } = loaderData;
   if (!shared) {
     return (
       <div className="mx-auto max-w-xl px-6 py-24 text-center" data-status={410}>

@@ -3,7 +3,7 @@
 // per session and count as failed sign-ins of the e-mail.
 import { getFormProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, redirect, useActionData, useLoaderData, useNavigation, useSearchParams } from "react-router";
+import { data, Form, redirect, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import { AuthCard } from "~/components/auth-card";
 import { TotpCodeField } from "~/components/totp-code-field";
@@ -11,7 +11,8 @@ import { FormError } from "~/components/ui";
 import { acceptTotpCode, SECOND_FACTOR_TRIES } from "~/models/accounts/security.server";
 import { audit } from "~/models/audit.server";
 import { readForm } from "~/utils/form.server";
-import { actorFor, requireSecondFactorPending, workspacePath } from "~/utils/permissions.server";
+import { actorFor } from "~/models/accounts/actors.server";
+import { requireSecondFactorPending, workspacePath } from "~/utils/permissions.server";
 import { safeRedirect } from "~/utils/safe-redirect";
 import { countSecondFactorFailure, endSession, startSession } from "~/utils/session.server";
 import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/models/accounts/sign-in-limit.server";
@@ -61,9 +62,8 @@ export async function action({ request, context }: Route.ActionArgs) {
   return redirect(safeRedirect(submission.value.redirectTo, workspacePath(actor)), { headers: { "Set-Cookie": cookie } });
 }
 
-export default function SignInCode() {
-  const { email } = useLoaderData<typeof loader>();
-  const actionData = useActionData<typeof action>();
+export default function SignInCode({ loaderData, actionData }: Route.ComponentProps) {
+  const { email } = loaderData;
   const [params] = useSearchParams();
   const navigation = useNavigation();
   const [form, fields] = useForm({

@@ -2,14 +2,15 @@
 // second factor gets a session that waits for the code (/sign-in/code) and opens nothing else.
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, Link, redirect, useActionData, useNavigation, useSearchParams } from "react-router";
+import { data, Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import { AuthCard } from "~/components/auth-card";
 import { Field, FormError } from "~/components/ui";
 import { audit } from "~/models/audit.server";
 import { authenticator, normaliseEmail, WrongCredentials } from "~/utils/auth.server";
 import { readForm } from "~/utils/form.server";
-import { actorFor, requireAnonymous, workspacePath } from "~/utils/permissions.server";
+import { actorFor } from "~/models/accounts/actors.server";
+import { requireAnonymous, workspacePath } from "~/utils/permissions.server";
 import { safeRedirect } from "~/utils/safe-redirect";
 import { startSession } from "~/utils/session.server";
 import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/models/accounts/sign-in-limit.server";
@@ -60,8 +61,7 @@ export async function action({ request, context }: Route.ActionArgs) {
   return redirect(safeRedirect(submission.value.redirectTo, workspacePath(actor)), { headers: { "Set-Cookie": cookie } });
 }
 
-export default function SignIn() {
-  const actionData = useActionData<typeof action>();
+export default function SignIn({ actionData }: Route.ComponentProps) {
   const [params] = useSearchParams();
   const navigation = useNavigation();
   const [form, fields] = useForm({

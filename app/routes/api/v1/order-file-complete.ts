@@ -1,7 +1,8 @@
 // POST /api/v1/orders/:id/files/:fileId/complete — `{ parts? }`: storage puts the parts together and the file is verified.
-import { requireApiToken } from "~/models/accounts/api-tokens.server";
-import { answerUploadStep, completedUploadResponse, completeOrderUpload, fileOfOrder, readJsonObject } from "~/models/files/files.server";
-import { orderForOrganisation } from "~/models/orders/lifecycle.server";
+import { requireApiToken } from "~/utils/permissions.server";
+import { completeOrderUpload, fileOfOrder } from "~/models/files/files.server";
+import { answerUploadStep, completedUploadResponse, readJsonObject } from "~/utils/uploads.server";
+import { orderForOrganisation } from "~/models/orders/queries.server";
 import type { Route } from "./+types/order-file-complete";
 
 export async function action({ request, params }: Route.ActionArgs) {

@@ -1,7 +1,8 @@
 // POST /api/v1/orders/:id/files — an instrument computer starts an upload with its lab's bearer token.
-import { requireApiToken } from "~/models/accounts/api-tokens.server";
-import { answerUploadStep, readJsonObject, startInputFrom, startOrderUpload } from "~/models/files/files.server";
-import { orderForOrganisation } from "~/models/orders/lifecycle.server";
+import { requireApiToken } from "~/utils/permissions.server";
+import { startOrderUpload } from "~/models/files/files.server";
+import { answerUploadStep, readJsonObject, startInputFrom } from "~/utils/uploads.server";
+import { orderForOrganisation } from "~/models/orders/queries.server";
 import type { Route } from "./+types/order-files";
 
 export async function action({ request, params }: Route.ActionArgs) {
