@@ -63,6 +63,7 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
   const n = data.twoTheta.length;
   const full: [number, number] = n > 0 ? [data.twoTheta[0], data.twoTheta[n - 1]] : [0, 1];
 
+  // biome-ignore lint/correctness/useExhaustiveDependencies: the plot is rebuilt only when the data object or height changes; zoom state lives in uPlot
   useEffect(() => {
     let disposed = false;
     let cleanup = () => {};
@@ -178,8 +179,6 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
       disposed = true;
       cleanup();
     };
-    // The plot is rebuilt only when the data object changes.
-    // eslint-disable-next-line react-hooks/exhaustive-deps
   }, [data, height]);
 
   const zoomed = range !== null && (range[0] > full[0] + 1e-9 || range[1] < full[1] - 1e-9);

@@ -45,9 +45,11 @@ export function checkInWorker(text: string, options: CheckWorkerRequest["options
 
 export function CheckPreview({ file, sample, radiation }: { file: File; sample: SampleDeclaration; radiation: Radiation }) {
   const [state, setState] = useState<PreviewState>({ kind: "reading" });
-  const declared = useMemo(() => declaredCheckOptions(sample), [sample.system, sample.centering, JSON.stringify(sample.cell ?? null)]); // eslint-disable-line react-hooks/exhaustive-deps
+  // biome-ignore lint/correctness/useExhaustiveDependencies: keyed on the declared values, not the object identity, so a re-render with an equal sample does not re-run the check
+  const declared = useMemo(() => declaredCheckOptions(sample), [sample.system, sample.centering, JSON.stringify(sample.cell ?? null)]);
   const radiationKey = JSON.stringify(radiation);
 
+  // biome-ignore lint/correctness/useExhaustiveDependencies: radiation is compared by value through radiationKey
   useEffect(() => {
     const abort = new AbortController();
     (async () => {
@@ -67,7 +69,6 @@ export function CheckPreview({ file, sample, radiation }: { file: File; sample: 
       if ((err as Error).name !== "AbortError") setState({ kind: "failed", error: String((err as Error).message ?? err) });
     });
     return () => abort.abort();
-    // eslint-disable-next-line react-hooks/exhaustive-deps
   }, [file, declared, radiationKey]);
 
   return (

@@ -4,6 +4,7 @@ import type { Toast } from "~/utils/toast.server";
 
 export function ToastMessage({ toast }: { toast: Toast }) {
   const [open, setOpen] = useState(true);
+  // biome-ignore lint/correctness/useExhaustiveDependencies: a new toast object reopens the message
   useEffect(() => setOpen(true), [toast]);
   if (!open) return null;
   const tone = toast.kind === "error" ? "border-danger-600 text-danger-700" : "border-beam-500 text-ink-800";

@@ -10,6 +10,7 @@ export function TotpCodeField({ field, label = "Code from the app", autoFocus = 
         inputMode="numeric"
         autoComplete="one-time-code"
         maxLength={8}
+        // biome-ignore lint/a11y/noAutofocus: only the second-factor page asks for it, where typing the code is the one thing to do
         autoFocus={autoFocus}
         {...getInputProps(field, { type: "text" })}
       />

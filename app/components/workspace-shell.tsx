@@ -18,6 +18,7 @@ export function WorkspaceShell({ me, title, nav, children }: { me: MeSummary; ti
   // On a phone the section links fold behind a Menu button; from md up they are always shown down the side.
   const [menuOpen, setMenuOpen] = useState(false);
   const { pathname } = useLocation();
+  // biome-ignore lint/correctness/useExhaustiveDependencies: navigating to another page closes the phone menu
   useEffect(() => setMenuOpen(false), [pathname]);
   const navId = `${title.toLowerCase().replace(/\W+/g, "-")}-nav`;
   return (

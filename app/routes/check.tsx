@@ -75,10 +75,9 @@ function PendingCheck({ status }: { status: Route.ComponentProps["loaderData"]["
   const { data } = useCheckStatus(status.id, status);
   const revalidator = useRevalidator();
   const finished = data?.status === "done";
+  // biome-ignore lint/correctness/useExhaustiveDependencies: reload the page data once, when the check finishes
   useEffect(() => {
     if (finished && revalidator.state === "idle") revalidator.revalidate();
-    // Reload the page's data once, when the check finishes.
-    // eslint-disable-next-line react-hooks/exhaustive-deps
   }, [finished]);
   return (
     <section className="card space-y-3" aria-labelledby="pending-heading">

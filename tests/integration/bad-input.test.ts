@@ -310,11 +310,11 @@ interface Case {
   /** Tables a refusal writes to on purpose, each with its reason in the case's comment. */
   writes?: string[];
   /** Checked after the answer, for cases whose refusal is recorded (a rejected upload). */
-  then?: () => Promise<void>;
+  afterwards?: () => Promise<void>;
 }
 
 const form = (fn: keyof typeof app, path: string, fields: Record<string, string>, who: string | null, params: Record<string, string> = {}) => async () =>
-  // eslint-disable-next-line @typescript-eslint/no-explicit-any
+  // biome-ignore lint/suspicious/noExplicitAny: the route table is indexed by a key union whose action types differ
   callRoute((app[fn] as any).action, formRequest(path, fields, who ? await as(who) : undefined), params);
 const samplesForm = (extra: Record<string, string>) => form("samples", "/client/requests/new", { ...NEW_REQUEST, ...extra }, CLIENT);
 const hazardsForm = (extra: Record<string, string>) => async () =>
@@ -336,7 +336,7 @@ const vettingTarget = (fields: Record<string, string>) => async () =>
 const vettingWith = (tag: string, scan: string | Uint8Array, scanName?: string) => async () =>
   callRoute(app.vetting.action, formRequest("/lab/vetting", await putVettingFiles(tag, scan, scanName), ids.vettingCookie));
 /** Completes an upload whose bytes are bad; the row is kept as `rejected` (the record of the refusal), nothing else changes. */
-const rejectedScan = (name: string, bytes: string | Uint8Array, says: RegExp): Pick<Case, "send" | "then" | "writes"> => {
+const rejectedScan = (name: string, bytes: string | Uint8Array, says: RegExp): Pick<Case, "send" | "afterwards" | "writes"> => {
   let fileId = "";
   return {
     writes: ["order_files"],
@@ -345,7 +345,7 @@ const rejectedScan = (name: string, bytes: string | Uint8Array, says: RegExp): P
       fileId = await startedUpload(name, bytes);
       return callRoute(app.upload.action, jsonRequest(`/lab/orders/${ids.measuring}/uploads/${fileId}`, JSON.stringify({ intent: "complete", sha256: sha256(bytes) }), { Cookie: await as(LAB) }), { id: ids.measuring, fileId });
     },
-    then: async () => {
+    afterwards: async () => {
       const [row] = await w.db.select().from(w.schema.orderFiles).where(w.eq(w.schema.orderFiles.id, fileId));
       expect(row).toMatchObject({ state: "rejected", rejectReason: expect.stringMatching(says) });
       expect(await w.orderState(ids.measuring)).toBe("measuring");
@@ -483,7 +483,7 @@ describe("bad input is refused with a sentence and changes nothing", () => {
       expect(answer.status, text.slice(0, 500)).toBe(c.status);
       expect(text).toMatch(c.says);
       expect(changedTables(before, after).filter((t) => !(c.writes ?? []).includes(t))).toEqual([]);
-      await c.then?.();
+      await c.afterwards?.();
     });
   }
 

@@ -7,8 +7,7 @@ export interface RouteAnswer {
   body: unknown;
 }
 
-// Route functions take their generated argument types; tests pass what React Router would.
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
+// biome-ignore lint/suspicious/noExplicitAny: route functions take their generated argument types; tests pass what React Router would
 type RouteFn = (args: any) => unknown;
 
 const ORIGIN = "http://127.0.0.1:3000";

@@ -46,6 +46,7 @@ export default function NotificationSettings({ loaderData, actionData }: Route.C
           <ul className="grid gap-2 sm:grid-cols-2">
             {preferences.map((p) => (
               <li key={p.kind}>
+                {/* biome-ignore lint/a11y/noLabelWithoutControl: the checkbox is inside the label, in either branch */}
                 <label className="flex items-start gap-2 text-sm">
                   {p.essential ? (
                     <input type="checkbox" checked disabled aria-describedby="essential-note" className="mt-1" />

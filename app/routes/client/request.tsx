@@ -83,7 +83,7 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
       {live.length === 0 ? (
         <EmptyState title="No quotes yet">Matching labs see your request in their inbox; their quotes appear here side by side.</EmptyState>
       ) : (
-        <div className="grid gap-4 md:grid-cols-2 xl:grid-cols-3" aria-label="Quotes side by side">
+        <section className="grid gap-4 md:grid-cols-2 xl:grid-cols-3" aria-label="Quotes side by side">
           {live.map((q) => {
             const match = matches.find((m) => m.labId === q.labId);
             return (
@@ -129,7 +129,7 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
               </article>
             );
           })}
-        </div>
+        </section>
       )}
       {past.length ? (
         <p className="mt-3 text-sm text-ink-600">

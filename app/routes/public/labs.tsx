@@ -63,6 +63,7 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
     <div className="mx-auto max-w-6xl px-4 py-10 sm:px-6">
       <PageHeader title="Lab directory" subtitle="Vetted labs, what their instruments reach, their stages, the hazards they accept and their prices." />
       <div className="grid gap-8 lg:grid-cols-[18rem_1fr]">
+        {/* biome-ignore lint/a11y/useSemanticElements: a form with the search role is announced as a search landmark everywhere the <search> element is not yet */}
         <form className="card space-y-4 self-start" role="search" aria-label="Filter labs" onSubmit={(e) => e.preventDefault()}>
           <div>
             <label className="label" htmlFor="q">
