@@ -14,13 +14,3 @@ export function useFormat(): Formatter {
   return formatterFor(useContext(LocaleContext));
 }
 
-/** A <time> element with the machine-readable moment and the viewer's text. */
-export function When({ value, withTime = false, className }: { value: string | Date | number; withTime?: boolean; className?: string }) {
-  const f = useFormat();
-  const d = new Date(value);
-  return (
-    <time dateTime={d.toISOString()} className={className}>
-      {withTime ? f.dateTime(d) : f.date(d)}
-    </time>
-  );
-}

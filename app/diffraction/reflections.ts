@@ -30,17 +30,6 @@ export interface ReflectionOptions {
   equivalents?: boolean;
 }
 
-/** Laue class of each crystal system (trigonal on hexagonal axes: −3m1, the class of R-3m and R-3c). */
-export const LAUE_CLASS: Readonly<Record<CrystalSystem, string>> = {
-  cubic: "m-3m",
-  tetragonal: "4/mmm",
-  hexagonal: "6/mmm",
-  trigonal: "-3m1",
-  orthorhombic: "mmm",
-  monoclinic: "2/m",
-  triclinic: "-1",
-};
-
 /** Whether the lattice centering lets hkl diffract (International Tables Vol. A reflection conditions). */
 export function centeringAllows(centering: Centering, h: number, k: number, l: number): boolean {
   switch (centering) {
@@ -105,11 +94,6 @@ function closeGroup(generators: Op[]): Int8Array {
 const LAUE_OPS: Record<CrystalSystem, Int8Array> = Object.fromEntries(
   (Object.keys(GENERATORS) as CrystalSystem[]).map((s) => [s, closeGroup(GENERATORS[s])]),
 ) as Record<CrystalSystem, Int8Array>;
-
-/** The Laue group of a system as integer matrices acting on hkl (row-major, nine numbers each). */
-export function laueOperations(system: CrystalSystem): Int8Array {
-  return LAUE_OPS[system];
-}
 
 // Integer key of an hkl for set membership; |index| < 512 is far beyond any powder pattern.
 const keyOf = (h: number, k: number, l: number) => ((h + 512) * 1024 + (k + 512)) * 1024 + (l + 512);

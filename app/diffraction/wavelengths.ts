@@ -27,12 +27,6 @@ export const ANODE_LINES: Record<Anode, { kAlpha1: number; kAlpha2: number; kBet
  */
 export type Monochromation = "k_alpha_doublet" | "k_alpha1_only" | "k_beta_filtered";
 
-export const MONOCHROMATIONS: readonly Monochromation[] = [
-  "k_alpha_doublet",
-  "k_alpha1_only",
-  "k_beta_filtered",
-];
-
 /** The radiation of an instrument: a laboratory anode, or one wavelength (synchrotron, neutron). */
 export type Radiation =
   | { kind: "anode"; anode: Anode; monochromation: Monochromation }
@@ -69,11 +63,6 @@ export function primaryWavelength(r: Radiation): number {
 /** Photon energy in keV of a wavelength in Å. */
 export function photonEnergyKeV(wavelength: number): number {
   return X_RAY_EV_ANGSTROM / wavelength / 1000;
-}
-
-/** Wavelength in Å of a photon energy in keV. */
-export function wavelengthFromKeV(energyKeV: number): number {
-  return X_RAY_EV_ANGSTROM / (energyKeV * 1000);
 }
 
 /**

@@ -3,7 +3,6 @@ import { DEFAULT_LOCALE, formatterFor, type SupportedLocale } from "~/domain/loc
 
 /** Currencies a lab may price in; all have two decimal places (ISO 4217 minor unit 2). */
 export const CURRENCIES = ["EUR", "USD", "GBP", "CHF", "NOK", "SEK", "DKK", "CAD", "AUD"] as const;
-export type Currency = (typeof CURRENCIES)[number];
 
 const MAJOR = /^\d{1,9}(?:[.,]\d{1,2})?$/;
 

@@ -69,9 +69,3 @@ export interface CompletedPart {
   partNumber: number;
   etag: string;
 }
-
-/** What the status API says about a file's check. */
-export interface FileCheckJson {
-  status: "queued" | "running" | "done" | "failed" | null;
-  verdict: string | null;
-}

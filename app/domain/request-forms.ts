@@ -15,11 +15,6 @@ export const WIZARD_STEPS = [
 ] as const;
 export type WizardStep = (typeof WIZARD_STEPS)[number]["slug"];
 
-export function nextStep(step: WizardStep): WizardStep {
-  const i = WIZARD_STEPS.findIndex((s) => s.slug === step);
-  return WIZARD_STEPS[Math.min(i + 1, WIZARD_STEPS.length - 1)].slug;
-}
-
 export const SAMPLE_FORMS = [
   { value: "powder", label: "Powder" },
   { value: "pellet", label: "Pressed pellet" },

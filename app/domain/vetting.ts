@@ -116,7 +116,6 @@ export const VettingApplicationSchema = z.object({
   scanName: z.string().max(200).default("scan.xy"),
   scanSha256: z.string().regex(/^[0-9a-f]{64}$/i).optional(),
 });
-export type VettingApplication = z.infer<typeof VettingApplicationSchema>;
 
 /** The statement a lab manager confirms; stored with their name, user and time. */
 export const LICENCE_STATEMENT =

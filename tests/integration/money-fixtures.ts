@@ -1,7 +1,7 @@
 // Money-test fixtures: a payment fake of the test file's own, app modules loaded after it, orders ready to pay.
 import http from "node:http";
 import type { AddressInfo } from "node:net";
-import { startPaymentFake, type PaymentFake } from "../../services/payment-fake/index";
+import { startPaymentFake } from "../../services/payment-fake/index";
 
 /**
  * Starts an in-process payment fake on a free port and points the app's SDK at it. App modules read their
@@ -116,4 +116,3 @@ export async function moneyWorld() {
 }
 
 export type MoneyWorld = Awaited<ReturnType<typeof moneyWorld>>;
-export type { PaymentFake };
