@@ -40,11 +40,16 @@ async function directory(res: http.ServerResponse) {
 
 async function requestsPage(req: http.IncomingMessage, res: http.ServerResponse) {
   // The token's hash is computed as the app does; the captured parameters already hold it.
-  createHash("sha256").update(req.headers.cookie ?? "").digest("hex");
+  createHash("sha256")
+    .update(req.headers.cookie ?? "")
+    .digest("hex");
   let rows: Record<string, unknown>[] = [];
   for (const q of sqlSet.requestsPage) rows = (await pool.query(q.query, q.params)).rows;
   const body = `<!DOCTYPE html><html lang="en"><head><meta charset="utf-8"><title>Requests</title></head><body><main><h1>Requests</h1><table>${rows
-    .map((r) => `<tr><td><a href="/client/requests/${escapeHtml(r.id)}">${escapeHtml(r.title)}</a></td><td>${escapeHtml(r.state)}</td><td>${escapeHtml(r.samples)}</td><td>${escapeHtml(r.quotes)}</td></tr>`)
+    .map(
+      (r) =>
+        `<tr><td><a href="/client/requests/${escapeHtml(r.id)}">${escapeHtml(r.title)}</a></td><td>${escapeHtml(r.state)}</td><td>${escapeHtml(r.samples)}</td><td>${escapeHtml(r.quotes)}</td></tr>`,
+    )
     .join("")}</table></main></body></html>`;
   res.writeHead(200, { "Content-Type": "text/html; charset=utf-8" });
   res.end(body);
@@ -54,9 +59,14 @@ async function signIn(req: http.IncomingMessage, res: http.ServerResponse) {
   const chunks: Buffer[] = [];
   for await (const c of req) chunks.push(c as Buffer);
   const form = new URLSearchParams(Buffer.concat(chunks).toString());
-  const email = String(form.get("email") ?? "").trim().toLowerCase();
+  const email = String(form.get("email") ?? "")
+    .trim()
+    .toLowerCase();
   const lookup = sqlSet.userLookup;
-  const { rows } = await pool.query(lookup.query, lookup.params.map((p) => (p === lookup.params[0] ? email : p)));
+  const { rows } = await pool.query(
+    lookup.query,
+    lookup.params.map((p) => (p === lookup.params[0] ? email : p)),
+  );
   const ok = rows[0] ? await verify(rows[0].password_hash, String(form.get("password") ?? "")) : false;
   if (!ok) {
     res.writeHead(400, { "Content-Type": "text/plain" });
@@ -66,7 +76,10 @@ async function signIn(req: http.IncomingMessage, res: http.ServerResponse) {
   const id = createHash("sha256").update(token).digest("hex");
   const insert = sqlSet.sessionInsert;
   // The captured insert's own session id (64 hex digits) is replaced by the new one.
-  await pool.query(insert.query, insert.params.map((p) => (typeof p === "string" && /^[0-9a-f]{64}$/.test(p) ? id : p)));
+  await pool.query(
+    insert.query,
+    insert.params.map((p) => (typeof p === "string" && /^[0-9a-f]{64}$/.test(p) ? id : p)),
+  );
   res.writeHead(302, { Location: "/client", "Set-Cookie": `diffractory_session=${token}; Path=/; HttpOnly; SameSite=Lax` });
   res.end();
 }
@@ -74,10 +87,13 @@ async function signIn(req: http.IncomingMessage, res: http.ServerResponse) {
 const server = http.createServer((req, res) => {
   const path = (req.url ?? "/").split("?")[0];
   const route =
-    req.method === "GET" && path === "/api/labs" ? directory(res)
-    : req.method === "GET" && path === "/client/requests" ? requestsPage(req, res)
-    : req.method === "POST" && path === "/sign-in" ? signIn(req, res)
-    : null;
+    req.method === "GET" && path === "/api/labs"
+      ? directory(res)
+      : req.method === "GET" && path === "/client/requests"
+        ? requestsPage(req, res)
+        : req.method === "POST" && path === "/sign-in"
+          ? signIn(req, res)
+          : null;
   if (!route) {
     res.writeHead(404).end();
     return;

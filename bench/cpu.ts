@@ -33,11 +33,15 @@ function cpuMs(pid: number) {
 
 async function start(args: string[], env: NodeJS.ProcessEnv) {
   const log = fs.openSync(path.join(repoRoot, ".data/logs/cpu-server.log"), "w");
-  const child = spawn(process.execPath, [...(process.env.CPU_PROF ? ["--cpu-prof", `--cpu-prof-dir=${process.env.CPU_PROF}`] : []), "--import", "tsx", ...args], {
-    cwd: ROOT,
-    env: { ...process.env, ...env, PORT: String(PORT) },
-    stdio: ["ignore", log, log],
-  });
+  const child = spawn(
+    process.execPath,
+    [...(process.env.CPU_PROF ? ["--cpu-prof", `--cpu-prof-dir=${process.env.CPU_PROF}`] : []), "--import", "tsx", ...args],
+    {
+      cwd: ROOT,
+      env: { ...process.env, ...env, PORT: String(PORT) },
+      stdio: ["ignore", log, log],
+    },
+  );
   await waitForPort(PORT, "server", 60_000);
   return child;
 }
@@ -55,7 +59,14 @@ async function run(url: string, cookie: string, amount: number) {
   const r = await instance;
   times.sort((a, b) => a - b);
   const pct = (p: number) => times[Math.min(times.length - 1, Math.floor((p / 100) * times.length))];
-  return { rps: r.requests.average, medianMs: pct(50), p95Ms: pct(95), non2xx: r.non2xx, errors: r.errors, bytes: Math.round(r.throughput.total / Math.max(1, times.length)) };
+  return {
+    rps: r.requests.average,
+    medianMs: pct(50),
+    p95Ms: pct(95),
+    non2xx: r.non2xx,
+    errors: r.errors,
+    bytes: Math.round(r.throughput.total / Math.max(1, times.length)),
+  };
 }
 
 async function measure(label: string, child: ChildProcess, url: string, cookie: string) {
@@ -79,7 +90,12 @@ const env = { DATABASE_URL: dbUrl, NODE_ENV: "production", DIFFRACTORY_LOCAL: "1
   try {
     const base = `http://127.0.0.1:${PORT}`;
     const body = new URLSearchParams({ email: LOAD.ownerEmail(1), password: LOAD.password }).toString();
-    const res = await fetch(`${base}/sign-in`, { method: "POST", redirect: "manual", headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: base }, body });
+    const res = await fetch(`${base}/sign-in`, {
+      method: "POST",
+      redirect: "manual",
+      headers: { "Content-Type": "application/x-www-form-urlencoded", Origin: base },
+      body,
+    });
     const cookie = res.headers.get("set-cookie")?.split(";")[0];
     if (!cookie) throw new Error(`sign-in answered ${res.status} without a cookie`);
     await measure("app", child, base + PAGE, cookie);

@@ -11,7 +11,16 @@ import { buildTemplate, cloneTemplate } from "../services/test-db";
 import { seedSyntheticLabs } from "./seed-load";
 
 const PORT = 3190;
-const QUERIES = ["", "?source=Mo", "?temperatureK=1300", "?dMin=0.5", "?hazard=GHS06&hazard=nanomaterial", "?technique=powder_reflection&maxPrice=200", "?q=lab", "?page=3"];
+const QUERIES = [
+  "",
+  "?source=Mo",
+  "?temperatureK=1300",
+  "?dMin=0.5",
+  "?hazard=GHS06&hazard=nanomaterial",
+  "?technique=powder_reflection&maxPrice=200",
+  "?q=lab",
+  "?page=3",
+];
 
 async function measure(label: string, rounds = 60, concurrency = 8) {
   const times: number[] = [];
@@ -31,7 +40,9 @@ async function measure(label: string, rounds = 60, concurrency = 8) {
   await Promise.all(Array.from({ length: concurrency }, worker));
   times.sort((a, b) => a - b);
   const pct = (p: number) => times[Math.min(times.length - 1, Math.floor((p / 100) * times.length))];
-  console.log(`${label.padEnd(28)} ${String(times.length).padStart(5)} requests, ${concurrency} at a time: median ${pct(50).toFixed(1)} ms, p95 ${pct(95).toFixed(1)} ms, errors ${errors}`);
+  console.log(
+    `${label.padEnd(28)} ${String(times.length).padStart(5)} requests, ${concurrency} at a time: median ${pct(50).toFixed(1)} ms, p95 ${pct(95).toFixed(1)} ms, errors ${errors}`,
+  );
 }
 
 async function withServer(dbUrl: string, fn: () => Promise<void>) {

@@ -53,7 +53,11 @@ function buildIfNeeded() {
 async function start(label: string, args: string[], env: NodeJS.ProcessEnv, port: number) {
   const logFile = path.join(logDir, `load-${label}.log`);
   const log = fs.openSync(logFile, "w");
-  const child = spawn(process.execPath, ["--import", "tsx", ...args], { cwd: root, env: { ...process.env, ...env, PORT: String(port) }, stdio: ["ignore", log, log] });
+  const child = spawn(process.execPath, ["--import", "tsx", ...args], {
+    cwd: root,
+    env: { ...process.env, ...env, PORT: String(port) },
+    stdio: ["ignore", log, log],
+  });
   await waitForPort(port, label, 60_000);
   return { child, logFile };
 }
@@ -91,7 +95,10 @@ async function captureSql(dbUrl: string): Promise<{ sql: BareSql; cookie: string
   let offset = 0;
   const queriesSince = () => {
     const text = fs.readFileSync(logFile, "utf8");
-    const lines = text.slice(offset).split("\n").filter((l) => l.startsWith("SQL "));
+    const lines = text
+      .slice(offset)
+      .split("\n")
+      .filter((l) => l.startsWith("SQL "));
     offset = text.length;
     return lines.map((l) => JSON.parse(l.slice(4)) as CapturedQuery);
   };
@@ -248,11 +255,26 @@ for (const r of rows) {
     `${r.endpoint.padEnd(17)} ${r.target.padEnd(6)} ${r.rps.toFixed(0).padStart(7)} ${r.medianMs.toFixed(1).padStart(10)} ${r.p95Ms.toFixed(1).padStart(7)} ${r.p97_5Ms.toFixed(1).padStart(9)} ${r.p99Ms.toFixed(1).padStart(7)} ${String(r.errors + r.timeouts).padStart(7)} ${String(r.non2xx).padStart(8)} ${String(r.unexpectedStatus).padStart(11)} ${ratio.padStart(15)}`,
   );
 }
-console.log("median and p95: from every response time autocannon reported; p97.5 and p99: autocannon's own histogram. 'unexpected' counts answers other than 200 (302 for sign-in).");
+console.log(
+  "median and p95: from every response time autocannon reported; p97.5 and p99: autocannon's own histogram. 'unexpected' counts answers other than 200 (302 for sign-in).",
+);
 const out = path.join(root, "bench/results", `load-${new Date().toISOString().replace(/[:.]/g, "-")}.json`);
 fs.mkdirSync(path.dirname(out), { recursive: true });
 fs.writeFileSync(
   out,
-  JSON.stringify({ at: new Date().toISOString(), cores: os.cpus().length, appProcesses: workers, connections: CONNECTIONS, seconds: SECONDS, directoryQuery: DIRECTORY_QUERY, seeded: LOAD, rows }, null, 2),
+  JSON.stringify(
+    {
+      at: new Date().toISOString(),
+      cores: os.cpus().length,
+      appProcesses: workers,
+      connections: CONNECTIONS,
+      seconds: SECONDS,
+      directoryQuery: DIRECTORY_QUERY,
+      seeded: LOAD,
+      rows,
+    },
+    null,
+    2,
+  ),
 );
 console.log(`written to ${path.relative(root, out)}`);

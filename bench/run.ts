@@ -109,4 +109,8 @@ for (const c of CASES) {
 }
 console.log(failures === 0 ? "all targets met" : `${failures} target(s) missed`);
 // Wall-clock medians: other processes on the machine slow them; the load says how busy it was.
-console.log(`load average during the run: ${loadavg().map((l) => l.toFixed(2)).join(", ")}`);
+console.log(
+  `load average during the run: ${loadavg()
+    .map((l) => l.toFixed(2))
+    .join(", ")}`,
+);

@@ -33,8 +33,14 @@ async function prepare(url: string) {
     const one = async (sql: string, values: unknown[] = []) => (await c.query(sql, values)).rows[0];
     const client = await one("select id from organisations where slug = 'halvorsen-cathode-works'");
     const lab = await one("select id from organisations where slug = 'granite-ridge-characterisation'");
-    const request = await one("insert into requests (organisation_id, title, state, range_min, range_max) values ($1, 'Upload benchmark', 'awarded', 10, 90) returning id", [client.id]);
-    const sample = await one("insert into samples (request_id, label, formula, crystal_system, centering, cell_a) values ($1, 'Bench sample', 'Si', 'cubic', 'F', 5.431) returning id", [request.id]);
+    const request = await one(
+      "insert into requests (organisation_id, title, state, range_min, range_max) values ($1, 'Upload benchmark', 'awarded', 10, 90) returning id",
+      [client.id],
+    );
+    const sample = await one(
+      "insert into samples (request_id, label, formula, crystal_system, centering, cell_a) values ($1, 'Bench sample', 'Si', 'cubic', 'F', 5.431) returning id",
+      [request.id],
+    );
     const quote = await one(
       "insert into quotes (request_id, lab_id, state, line_items, total_minor, currency, valid_until, turnaround_days) values ($1, $2, 'accepted', '[]', 10000, 'EUR', now() + interval '7 days', 5) returning id",
       [request.id, lab.id],
@@ -44,7 +50,11 @@ async function prepare(url: string) {
       [request.id, quote.id, client.id, lab.id],
     );
     const token = `dfy_${randomBytes(30).toString("base64url")}`;
-    await c.query("insert into api_tokens (lab_id, name, token_hash, prefix) values ($1, 'Upload benchmark', $2, $3)", [lab.id, createHash("sha256").update(token).digest("hex"), token.slice(0, 10)]);
+    await c.query("insert into api_tokens (lab_id, name, token_hash, prefix) values ($1, 'Upload benchmark', $2, $3)", [
+      lab.id,
+      createHash("sha256").update(token).digest("hex"),
+      token.slice(0, 10),
+    ]);
     return { orderId: order.id as string, sampleId: sample.id as string, token };
   } finally {
     await c.end();
@@ -55,7 +65,9 @@ async function prepare(url: string) {
 function writeScan(file: string, size: number) {
   const fd = fs.openSync(file, "w");
   const line = "# detector log: counts stable, generator 40 kV 40 mA, no interruptions during this step\n";
-  const data = Array.from({ length: 3501 }, (_, i) => `${(20 + i * 0.02).toFixed(3)} ${Math.round(120 + 80 * Math.exp(-(((i % 500) - 250) ** 2) / 200))}`).join("\n") + "\n";
+  const data =
+    Array.from({ length: 3501 }, (_, i) => `${(20 + i * 0.02).toFixed(3)} ${Math.round(120 + 80 * Math.exp(-(((i % 500) - 250) ** 2) / 200))}`).join("\n") +
+    "\n";
   const block = Buffer.from(line.repeat(Math.floor((1 << 20) / line.length)));
   let written = 0;
   while (written + block.length + data.length < size) written += fs.writeSync(fd, block);
@@ -123,9 +135,13 @@ try {
   if (answer.status !== 200) throw new Error(`complete: ${answer.status} ${JSON.stringify(answer.body)}`);
   const mb = SIZE / 1e6;
   const s = (ms: number) => ms / 1000;
-  console.log(`upload of ${SIZE / 1048576} MiB = ${mb.toFixed(0)} MB (${Math.ceil(SIZE / (8 * 1024 * 1024))} parts of 8 MiB, 4 at a time) through presigned URLs, then verified by the app:`);
+  console.log(
+    `upload of ${SIZE / 1048576} MiB = ${mb.toFixed(0)} MB (${Math.ceil(SIZE / (8 * 1024 * 1024))} parts of 8 MiB, 4 at a time) through presigned URLs, then verified by the app:`,
+  );
   console.log(`  parts PUT to storage: ${s(tUploaded - t0).toFixed(1)} s, ${(mb / s(tUploaded - t0)).toFixed(0)} MB/s (read, hashed and sent by the uploader)`);
-  console.log(`  complete + verify:    ${s(tDone - tUploaded).toFixed(1)} s, ${(mb / s(tDone - tUploaded)).toFixed(0)} MB/s (the app streams the stored object once)`);
+  console.log(
+    `  complete + verify:    ${s(tDone - tUploaded).toFixed(1)} s, ${(mb / s(tDone - tUploaded)).toFixed(0)} MB/s (the app streams the stored object once)`,
+  );
   console.log(`  end to end:           ${s(tDone - t0).toFixed(1)} s, ${(mb / s(tDone - t0)).toFixed(0)} MB/s`);
   console.log(`  app server RSS: idle ${idle.toFixed(0)} MiB, peak ${peak.toFixed(0)} MiB (+${(peak - idle).toFixed(0)} MiB for a ${mb.toFixed(0)} MB file)`);
 } finally {

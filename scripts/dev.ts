@@ -9,4 +9,8 @@ const children = [
 const stop = (signal: NodeJS.Signals) => children.forEach((c) => c.kill(signal));
 process.on("SIGINT", () => stop("SIGINT"));
 process.on("SIGTERM", () => stop("SIGTERM"));
-for (const c of children) c.on("exit", (code) => { stop("SIGTERM"); process.exit(code ?? 0); });
+for (const c of children)
+  c.on("exit", (code) => {
+    stop("SIGTERM");
+    process.exit(code ?? 0);
+  });

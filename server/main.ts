@@ -53,8 +53,11 @@ const listener = server.listen(port, host, () => {
 // get a sentence too, not an empty answer.
 listener.on("clientError", (err: NodeJS.ErrnoException, socket) => {
   if (!socket.writable || err.code === "ECONNRESET") return socket.destroy();
-  const [status, text] = err.code === "HPE_HEADER_OVERFLOW" ? [431, "The address or headers are too long; shorten the URL and try again."] : [400, "The request could not be read."];
-  socket.end(`HTTP/1.1 ${status} ${status === 431 ? "Request Header Fields Too Large" : "Bad Request"}\r\nContent-Type: text/plain; charset=utf-8\r\nConnection: close\r\nContent-Length: ${Buffer.byteLength(text)}\r\n\r\n${text}`);
+  const [status, text] =
+    err.code === "HPE_HEADER_OVERFLOW" ? [431, "The address or headers are too long; shorten the URL and try again."] : [400, "The request could not be read."];
+  socket.end(
+    `HTTP/1.1 ${status} ${status === 431 ? "Request Header Fields Too Large" : "Bad Request"}\r\nContent-Type: text/plain; charset=utf-8\r\nConnection: close\r\nContent-Length: ${Buffer.byteLength(text)}\r\n\r\n${text}`,
+  );
 });
 for (const signal of ["SIGTERM", "SIGINT"] as const) {
   process.on(signal, () => listener.close(() => process.exit(0)));

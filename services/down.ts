@@ -14,7 +14,11 @@ export async function servicesDown() {
       try {
         process.kill(-pid, "SIGTERM");
       } catch {
-        try { process.kill(pid, "SIGTERM"); } catch { /* already gone */ }
+        try {
+          process.kill(pid, "SIGTERM");
+        } catch {
+          /* already gone */
+        }
       }
       fs.rmSync(pidFile);
     }

@@ -50,8 +50,16 @@ function initCluster() {
   fs.writeFileSync(pwfile, "postgres-local\n");
   if (process.getuid?.() === 0) execFileSync("chown", ["postgres:postgres", pwfile]);
   asPostgres(path.join(BIN, "initdb"), [
-    "-D", pgDir, "-U", "postgres", "-E", "UTF8", "--locale=C.UTF-8",
-    "--auth-local=trust", "--auth-host=scram-sha-256", `--pwfile=${pwfile}`,
+    "-D",
+    pgDir,
+    "-U",
+    "postgres",
+    "-E",
+    "UTF8",
+    "--locale=C.UTF-8",
+    "--auth-local=trust",
+    "--auth-host=scram-sha-256",
+    `--pwfile=${pwfile}`,
   ]);
   fs.rmSync(pwfile);
   const conf = [

@@ -35,8 +35,15 @@ if (isMain(import.meta.url)) {
   // S3_FAKE_ORIGINS (comma-separated) and S3_FAKE_DIR let a test run its own instance beside the shared one.
   const appPorts = [process.env.PORT ?? "3000", process.env.TEST_APP_PORT ?? "3100"];
   const origins = process.env.S3_FAKE_ORIGINS
-    ? process.env.S3_FAKE_ORIGINS.split(",").map((o) => o.trim()).filter(Boolean)
+    ? process.env.S3_FAKE_ORIGINS.split(",")
+        .map((o) => o.trim())
+        .filter(Boolean)
     : appPorts.flatMap((p) => [`http://127.0.0.1:${p}`, `http://localhost:${p}`]);
-  await startS3Fake({ port: Number(process.env.S3_FAKE_PORT ?? 54330), bucket: process.env.S3_BUCKET, origins, directory: process.env.S3_FAKE_DIR || undefined });
+  await startS3Fake({
+    port: Number(process.env.S3_FAKE_PORT ?? 54330),
+    bucket: process.env.S3_BUCKET,
+    origins,
+    directory: process.env.S3_FAKE_DIR || undefined,
+  });
   console.log(`s3 fake listening on 127.0.0.1:${process.env.S3_FAKE_PORT ?? 54330}`);
 }

@@ -3,7 +3,17 @@
 import type { ReactNode } from "react";
 import { Link } from "react-router";
 
-export function AuthCard({ title, intro, children, footer }: { title: string; intro?: ReactNode; children: ReactNode; footer?: { question: string; to: string; label: string } }) {
+export function AuthCard({
+  title,
+  intro,
+  children,
+  footer,
+}: {
+  title: string;
+  intro?: ReactNode;
+  children: ReactNode;
+  footer?: { question: string; to: string; label: string };
+}) {
   return (
     <div className="mx-auto max-w-md px-4 py-16">
       <div className="card">

@@ -17,13 +17,13 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
   const ok = withinTolerance(check);
   const rows: [string, string][] = [
     ["Standard", standard.label],
-    ["Measured on", `${check.instrument.name} · ${check.instrument.anode} Kα1 ${check.instrument.wavelength} Å · ${MONOCHROMATION_LABELS[check.instrument.monochromation as keyof typeof MONOCHROMATION_LABELS] ?? check.instrument.monochromation}`],
+    [
+      "Measured on",
+      `${check.instrument.name} · ${check.instrument.anode} Kα1 ${check.instrument.wavelength} Å · ${MONOCHROMATION_LABELS[check.instrument.monochromation as keyof typeof MONOCHROMATION_LABELS] ?? check.instrument.monochromation}`,
+    ],
     ["Refined a", check.refinedA === null ? "not refined" : `${check.refinedA.toFixed(6)} ± ${(check.esdA ?? 0).toFixed(6)} Å`],
     ["Certified a", `${check.certifiedA.toFixed(7)} ± ${check.certifiedUncertainty} Å`],
-    [
-      "Deviation",
-      check.deviationA === null ? "—" : `${signed(check.deviationA, 6)} Å (${signed(check.deviationPpm ?? 0, 1)} ppm)`,
-    ],
+    ["Deviation", check.deviationA === null ? "—" : `${signed(check.deviationA, 6)} Å (${signed(check.deviationPpm ?? 0, 1)} ppm)`],
     ["Zero shift", `${signed(check.zeroShift, 4)}°${check.zeroShiftEsd !== null ? ` ± ${check.zeroShiftEsd.toFixed(4)}°` : ""} 2θ`],
     ["Peaks", `${check.peaksIndexed} of ${check.peaksFound} indexed · M20 ${check.m20?.toFixed(0) ?? "—"} · F_N ${check.fn?.toFixed(0) ?? "—"}`],
   ];

@@ -214,8 +214,8 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
       </div>
       <div ref={host} className="check-plot w-full overflow-hidden rounded-lg border border-ink-200 bg-white" data-testid="check-plot" />
       <figcaption className="text-xs text-ink-600">
-        Drag across the plot to zoom in 2θ, Shift + drag to pan, the mouse wheel zooms around the pointer, double-click resets. Short
-        vertical marks under the pattern are the refined cell&apos;s reflections; the green curve below is observed − fitted.
+        Drag across the plot to zoom in 2θ, Shift + drag to pan, the mouse wheel zooms around the pointer, double-click resets. Short vertical marks under the
+        pattern are the refined cell&apos;s reflections; the green curve below is observed − fitted.
       </figcaption>
     </figure>
   );

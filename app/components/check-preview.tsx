@@ -12,11 +12,7 @@ import { useFormat } from "~/components/locale";
 /** Larger files are checked on the server after the upload only. */
 export const PREVIEW_MAX_BYTES = 50 * 1024 * 1024;
 
-type PreviewState =
-  | { kind: "reading" }
-  | { kind: "checking" }
-  | { kind: "done"; result: LatticeCheckResult; ms: number }
-  | { kind: "failed"; error: string };
+type PreviewState = { kind: "reading" } | { kind: "checking" } | { kind: "done"; result: LatticeCheckResult; ms: number } | { kind: "failed"; error: string };
 
 let nextId = 1;
 

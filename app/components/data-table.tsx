@@ -57,7 +57,9 @@ export function SortableTable({
       <table className="table">
         <caption className="sr-only">
           {caption}
-          {columns.find((c) => c.sort === sort) ? `, sorted by ${columns.find((c) => c.sort === sort)!.label.toLowerCase()} ${dir === "asc" ? "ascending" : "descending"}` : ""}
+          {columns.find((c) => c.sort === sort)
+            ? `, sorted by ${columns.find((c) => c.sort === sort)!.label.toLowerCase()} ${dir === "asc" ? "ascending" : "descending"}`
+            : ""}
         </caption>
         <thead>
           <tr>

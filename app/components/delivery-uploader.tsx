@@ -43,7 +43,8 @@ async function postJson<T>(url: string, body: unknown): Promise<{ ok: boolean; s
 export function fileProblem(name: string, size: number, kind: FileKind): string | null {
   if (size <= 0) return "The file is empty.";
   if (size > MAX_FILE_BYTES) return `The file is ${formatBytes(size)}; the limit is ${formatBytes(MAX_FILE_BYTES)} per file.`;
-  if (!KIND_EXTENSIONS[kind].some((ext) => name.toLowerCase().endsWith(ext))) return `A ${FILE_KIND_LABELS[kind].toLowerCase()} must be ${KIND_EXTENSIONS[kind].join(", ")}.`;
+  if (!KIND_EXTENSIONS[kind].some((ext) => name.toLowerCase().endsWith(ext)))
+    return `A ${FILE_KIND_LABELS[kind].toLowerCase()} must be ${KIND_EXTENSIONS[kind].join(", ")}.`;
   return null;
 }
 
@@ -116,7 +117,8 @@ export function useDeliveryQueue(orderId: string, samples: Sample[], onStored: (
 
   /** Uploads every ready file, one after the other (each one's parts run a few at a time). */
   async function uploadAll() {
-    const uploadable = (i: QueuedFile) => i.status === "ready" && !fileProblem(i.name, i.file.size, i.kind) && (i.kind !== "scan" || i.sampleId || samples.length === 0);
+    const uploadable = (i: QueuedFile) =>
+      i.status === "ready" && !fileProblem(i.name, i.file.size, i.kind) && (i.kind !== "scan" || i.sampleId || samples.length === 0);
     for (const { key } of items.filter(uploadable)) {
       // Read the queue as it is now: a file may have been cancelled while the ones before it went up.
       const current = itemsRef.current.find((i) => i.key === key);
@@ -150,7 +152,9 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
 
   return (
     <section className="space-y-4" aria-labelledby="upload-heading">
-      <h2 id="upload-heading" className="text-lg font-semibold">Upload files</h2>
+      <h2 id="upload-heading" className="text-lg font-semibold">
+        Upload files
+      </h2>
       <div
         {...getRootProps({
           className: `card cursor-pointer border-2 border-dashed text-center ${isDragActive ? "border-beam-500 bg-beam-50" : "border-ink-300"}`,
@@ -159,8 +163,8 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
         <input {...getInputProps({ "aria-label": "Choose files to deliver" })} />
         <p className="font-medium text-ink-800">{isDragActive ? "Drop the files here" : "Drop scans and reports here, or click to choose files"}</p>
         <p className="mt-1 text-xs text-ink-600">
-          Scans: text files {KIND_EXTENSIONS.scan.join(", ")}. Reports: PDF. At most {formatBytes(MAX_FILE_BYTES)} per file. The bytes go straight
-          to storage; the server then checks the type by content and the SHA-256 your browser computes while reading the file.
+          Scans: text files {KIND_EXTENSIONS.scan.join(", ")}. Reports: PDF. At most {formatBytes(MAX_FILE_BYTES)} per file. The bytes go straight to storage;
+          the server then checks the type by content and the SHA-256 your browser computes while reading the file.
         </p>
       </div>
 
@@ -184,10 +188,16 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
                   <div className="flex flex-wrap items-center justify-between gap-3">
                     <div>
                       <span className="font-medium">{item.name}</span> <span className="text-xs text-ink-500">{formatBytes(item.file.size)}</span>
-                      {item.replaces ? <span className="block text-xs text-ink-600">New version of {item.replaces} (from {item.file.name})</span> : null}
+                      {item.replaces ? (
+                        <span className="block text-xs text-ink-600">
+                          New version of {item.replaces} (from {item.file.name})
+                        </span>
+                      ) : null}
                     </div>
                     <div className="flex flex-wrap items-center gap-2 text-sm">
-                      <label className="sr-only" htmlFor={`${item.key}-sample`}>Sample for {item.name}</label>
+                      <label className="sr-only" htmlFor={`${item.key}-sample`}>
+                        Sample for {item.name}
+                      </label>
                       <select
                         id={`${item.key}-sample`}
                         className="input w-auto py-1"
@@ -202,7 +212,9 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
                           </option>
                         ))}
                       </select>
-                      <label className="sr-only" htmlFor={`${item.key}-kind`}>Kind of {item.name}</label>
+                      <label className="sr-only" htmlFor={`${item.key}-kind`}>
+                        Kind of {item.name}
+                      </label>
                       <select
                         id={`${item.key}-kind`}
                         className="input w-auto py-1"
@@ -228,8 +240,18 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
                     </div>
                   </div>
                   <div className="flex items-center gap-3 text-xs">
-                    <progress className="h-2 w-64" value={item.status === "stored" ? item.file.size : item.sent} max={item.file.size} aria-label={`Upload progress of ${item.name}`} />
-                    <span aria-live="polite" className={item.status === "rejected" || item.status === "failed" ? "text-danger-700" : item.status === "stored" ? "text-ok-700" : "text-ink-600"}>
+                    <progress
+                      className="h-2 w-64"
+                      value={item.status === "stored" ? item.file.size : item.sent}
+                      max={item.file.size}
+                      aria-label={`Upload progress of ${item.name}`}
+                    />
+                    <span
+                      aria-live="polite"
+                      className={
+                        item.status === "rejected" || item.status === "failed" ? "text-danger-700" : item.status === "stored" ? "text-ok-700" : "text-ink-600"
+                      }
+                    >
                       {problem ?? (needsSample ? "Choose the sample this scan belongs to." : null) ?? item.message ?? STATUS_WORDS[item.status](item)}
                     </span>
                   </div>

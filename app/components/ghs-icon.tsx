@@ -26,10 +26,7 @@ const SYMBOLS: Record<GhsCode, ReactNode> = {
   // A flame sitting on a ring.
   GHS03: (
     <g>
-      <path
-        d="M50 22 C56 31 61 36 60 45 C59 51 55 54 50 54 C45 54 40 50 40 45 C40 40 44 37 45 32 C47 36 48 38 51 40 C52 34 51 28 50 22 Z"
-        fill={INK}
-      />
+      <path d="M50 22 C56 31 61 36 60 45 C59 51 55 54 50 54 C45 54 40 50 40 45 C40 40 44 37 45 32 C47 36 48 38 51 40 C52 34 51 28 50 22 Z" fill={INK} />
       <circle cx="50" cy="63" r="9" fill="none" stroke={INK} strokeWidth="5" />
       <rect x="32" y="76" width="36" height="4" fill={INK} />
     </g>

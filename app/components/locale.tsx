@@ -13,4 +13,3 @@ export function LocaleProvider({ locale, children }: { locale: SupportedLocale; 
 export function useFormat(): Formatter {
   return formatterFor(useContext(LocaleContext));
 }
-

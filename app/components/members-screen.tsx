@@ -19,7 +19,12 @@ interface MembersScreenProps {
 export function MembersScreen(p: MembersScreenProps) {
   const fmt = useFormat();
   const busy = useNavigation().state !== "idle";
-  const [form, fields] = useForm<{ email: string; role: string }>({ id: "invite", lastResult: p.lastResult, defaultValue: { email: "", role: p.roles[p.roles.length - 1] }, shouldRevalidate: "onInput" });
+  const [form, fields] = useForm<{ email: string; role: string }>({
+    id: "invite",
+    lastResult: p.lastResult,
+    defaultValue: { email: "", role: p.roles[p.roles.length - 1] },
+    shouldRevalidate: "onInput",
+  });
   return (
     <div className="space-y-6">
       <PageHeader title="Members" subtitle={`People of ${p.organisation}`} />
@@ -39,7 +44,12 @@ export function MembersScreen(p: MembersScreenProps) {
         <>
           <Form method="post" className="card grid gap-4 sm:grid-cols-[1fr_12rem_auto] sm:items-start" {...getFormProps(form)}>
             <input type="hidden" name="intent" value="invite" />
-            <Field label="E-mail to invite" id={fields.email.id} errors={fields.email.errors} hint={`The link in the e-mail is valid for ${p.invitationDays} days.`}>
+            <Field
+              label="E-mail to invite"
+              id={fields.email.id}
+              errors={fields.email.errors}
+              hint={`The link in the e-mail is valid for ${p.invitationDays} days.`}
+            >
               <input className="input" autoComplete="off" {...getInputProps(fields.email, { type: "email" })} />
             </Field>
             <Field label="Role" id={fields.role.id} errors={fields.role.errors}>

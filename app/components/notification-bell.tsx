@@ -52,7 +52,10 @@ export function NotificationBell() {
           <path d="M10 2a5 5 0 0 0-5 5v3.2L3.3 13a.8.8 0 0 0 .7 1.2h12a.8.8 0 0 0 .7-1.2L15 10.2V7a5 5 0 0 0-5-5Zm-2 13.5a2 2 0 0 0 4 0H8Z" />
         </svg>
         {unread > 0 ? (
-          <span data-testid="unread-count" className="absolute -top-1 -right-1 min-w-5 rounded-full bg-beam-600 px-1 text-center text-xs font-semibold text-white">
+          <span
+            data-testid="unread-count"
+            className="absolute -top-1 -right-1 min-w-5 rounded-full bg-beam-600 px-1 text-center text-xs font-semibold text-white"
+          >
             {unread > 99 ? "99+" : unread}
           </span>
         ) : null}
@@ -114,7 +117,11 @@ export function NotificationBell() {
               </li>
             ))}
           </ul>
-          <Link to="/account/notifications" className="block border-t border-ink-100 px-3 py-2 text-xs text-beam-700 hover:underline" onClick={() => setOpen(false)}>
+          <Link
+            to="/account/notifications"
+            className="block border-t border-ink-100 px-3 py-2 text-xs text-beam-700 hover:underline"
+            onClick={() => setOpen(false)}
+          >
             E-mail settings
           </Link>
         </div>

@@ -4,7 +4,35 @@ import { HazardDeclaration, SampleFacts } from "./request-parts";
 import { SafetyNotice } from "./ui";
 
 /** `sds` maps sample ids to download links of their safety data sheets (the lab's order page); without it the name shows. */
-export function OrderSamples({ samples, sds }: { sds?: Record<string, string>; samples: Pick<Sample, "id" | "label" | "formula" | "form" | "massMg" | "expectedPhase" | "crystalSystem" | "centering" | "cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma" | "ghsPictograms" | "hStatements" | "specialHazards" | "handlingNotes" | "afterMeasurement" | "sdsFileName">[] }) {
+export function OrderSamples({
+  samples,
+  sds,
+}: {
+  sds?: Record<string, string>;
+  samples: Pick<
+    Sample,
+    | "id"
+    | "label"
+    | "formula"
+    | "form"
+    | "massMg"
+    | "expectedPhase"
+    | "crystalSystem"
+    | "centering"
+    | "cellA"
+    | "cellB"
+    | "cellC"
+    | "cellAlpha"
+    | "cellBeta"
+    | "cellGamma"
+    | "ghsPictograms"
+    | "hStatements"
+    | "specialHazards"
+    | "handlingNotes"
+    | "afterMeasurement"
+    | "sdsFileName"
+  >[];
+}) {
   const anyHazard = samples.some((s) => s.ghsPictograms.length || s.hStatements.length || s.specialHazards.length);
   return (
     <div className="space-y-4">

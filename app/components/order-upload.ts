@@ -6,7 +6,13 @@ import { bytesToHex } from "@noble/hashes/utils.js";
 import type { CompletedPart, StartedUpload } from "~/domain/order-files";
 
 /** PUTs bytes to a URL and returns the answer's ETag; reports bytes sent so far. */
-export type PutBytes = (url: string, body: Uint8Array, headers: Record<string, string>, onSent: (bytes: number) => void, signal: AbortSignal) => Promise<string>;
+export type PutBytes = (
+  url: string,
+  body: Uint8Array,
+  headers: Record<string, string>,
+  onSent: (bytes: number) => void,
+  signal: AbortSignal,
+) => Promise<string>;
 
 export interface UploadProgress {
   phase: "starting" | "uploading" | "completing";

@@ -27,7 +27,10 @@ export function SubmitButton({
   match,
   action,
   ...rest
-}: { children: ReactNode; pendingText?: ReactNode; match?: Record<string, string>; action?: string } & Omit<ButtonHTMLAttributes<HTMLButtonElement>, "type" | "children">) {
+}: { children: ReactNode; pendingText?: ReactNode; match?: Record<string, string>; action?: string } & Omit<
+  ButtonHTMLAttributes<HTMLButtonElement>,
+  "type" | "children"
+>) {
   const navigation = useNavigation();
   // A form submission of any method (a GET filter form too); plain link navigations leave the buttons alone.
   const busy = navigation.state !== "idle" && navigation.formMethod !== undefined;

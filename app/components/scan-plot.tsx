@@ -78,13 +78,18 @@ export function ScanPlot({
         <text x={(LEFT + RIGHT) / 2} y={H - 4} textAnchor="middle" fontSize="12" fill="#3a4151">
           2θ (degrees)
         </text>
-        <text x={14} y={(MAIN_TOP + MAIN_BOTTOM) / 2} textAnchor="middle" fontSize="12" fill="#3a4151" transform={`rotate(-90 14 ${(MAIN_TOP + MAIN_BOTTOM) / 2})`}>
+        <text
+          x={14}
+          y={(MAIN_TOP + MAIN_BOTTOM) / 2}
+          textAnchor="middle"
+          fontSize="12"
+          fill="#3a4151"
+          transform={`rotate(-90 14 ${(MAIN_TOP + MAIN_BOTTOM) / 2})`}
+        >
           Counts
         </text>
         <rect x={LEFT} y={MAIN_TOP} width={RIGHT - LEFT} height={MAIN_BOTTOM - MAIN_TOP} fill="none" stroke="#d6dae2" />
-        {background ? (
-          <path d={path(twoTheta, background, x, y)} fill="none" stroke="#8690a3" strokeWidth="1" strokeDasharray="4 3" />
-        ) : null}
+        {background ? <path d={path(twoTheta, background, x, y)} fill="none" stroke="#8690a3" strokeWidth="1" strokeDasharray="4 3" /> : null}
         <path d={path(twoTheta, observed, x, y)} fill="none" stroke="#161a22" strokeWidth="1" />
         {fitted ? <path d={path(twoTheta, fitted, x, y)} fill="none" stroke="#5b4ee6" strokeWidth="1.2" strokeOpacity="0.85" /> : null}
         {ticks?.length ? (
@@ -119,7 +124,9 @@ export function ScanPlot({
         {background ? <span>- - Background</span> : null}
         {ticks?.length ? (
           <span>
-            <span aria-hidden="true" className="mr-1 text-ok-600">|</span>
+            <span aria-hidden="true" className="mr-1 text-ok-600">
+              |
+            </span>
             Reflections ({ticks.length})
           </span>
         ) : null}

@@ -9,10 +9,7 @@ export function ToastMessage({ toast }: { toast: Toast }) {
   if (!open) return null;
   const tone = toast.kind === "error" ? "border-danger-600 text-danger-700" : "border-beam-500 text-ink-800";
   return (
-    <div
-      role="status"
-      className={`fixed right-4 bottom-4 z-50 flex max-w-sm items-start gap-3 rounded-lg border-l-4 bg-white p-4 text-sm shadow-lg ${tone}`}
-    >
+    <div role="status" className={`fixed right-4 bottom-4 z-50 flex max-w-sm items-start gap-3 rounded-lg border-l-4 bg-white p-4 text-sm shadow-lg ${tone}`}>
       <p className="flex-1">{toast.message}</p>
       <button type="button" className="text-ink-500 hover:text-ink-800" onClick={() => setOpen(false)} aria-label="Dismiss message">
         ×

@@ -2,7 +2,15 @@
 import { getInputProps, type FieldMetadata } from "@conform-to/react";
 import { Field } from "./ui";
 
-export function TotpCodeField({ field, label = "Code from the app", autoFocus = false }: { field: FieldMetadata<string>; label?: string; autoFocus?: boolean }) {
+export function TotpCodeField({
+  field,
+  label = "Code from the app",
+  autoFocus = false,
+}: {
+  field: FieldMetadata<string>;
+  label?: string;
+  autoFocus?: boolean;
+}) {
   return (
     <Field label={label} id={field.id} errors={field.errors}>
       <input

@@ -22,19 +22,7 @@ export function FieldErrors({ id, errors }: { id: string; errors?: string[] | nu
   );
 }
 
-export function Field({
-  label,
-  id,
-  errors,
-  hint,
-  children,
-}: {
-  label: string;
-  id: string;
-  errors?: string[] | null;
-  hint?: string;
-  children: ReactNode;
-}) {
+export function Field({ label, id, errors, hint, children }: { label: string; id: string; errors?: string[] | null; hint?: string; children: ReactNode }) {
   return (
     <div>
       <label htmlFor={id} className="label">
@@ -125,18 +113,14 @@ export function DiffractionRingsIcon({ className }: { className?: string }) {
 
 export function SafetyNotice({ className = "" }: { className?: string }) {
   return (
-    <aside
-      className={`rounded-lg border border-caution-600/30 bg-caution-50 p-4 text-sm text-caution-700 ${className}`}
-      aria-label="Safety notice"
-    >
+    <aside className={`rounded-lg border border-caution-600/30 bg-caution-50 p-4 text-sm text-caution-700 ${className}`} aria-label="Safety notice">
       <p className="font-semibold">
         <span aria-hidden="true">! </span>Safety
       </p>
       <p className="mt-1">
-        A hazard declaration informs the lab; it does not replace the safety data sheet, the carrier's dangerous-goods rules, local
-        regulations, or the approval of the lab's radiation and chemical safety officers. X-ray instruments are operated only by the lab's
-        trained staff under its licence. Diffractory defers to local codes and licensed practice and gives no safety advice of its own
-        beyond these cautions.
+        A hazard declaration informs the lab; it does not replace the safety data sheet, the carrier's dangerous-goods rules, local regulations, or the approval
+        of the lab's radiation and chemical safety officers. X-ray instruments are operated only by the lab's trained staff under its licence. Diffractory
+        defers to local codes and licensed practice and gives no safety advice of its own beyond these cautions.
       </p>
     </aside>
   );

@@ -46,11 +46,7 @@ export function WorkspaceShell({ me, title, nav, children }: { me: MeSummary; ti
             Menu
           </button>
         </div>
-        <nav
-          id={navId}
-          aria-label={`${title} navigation`}
-          className={`${menuOpen ? "flex" : "hidden"} flex-col gap-1 px-2 pb-3 md:flex`}
-        >
+        <nav id={navId} aria-label={`${title} navigation`} className={`${menuOpen ? "flex" : "hidden"} flex-col gap-1 px-2 pb-3 md:flex`}>
           {nav.map((n) => (
             <NavLink
               key={n.to}

@@ -12,7 +12,10 @@ function create(): Db {
   // An idle client losing its connection (a database restart) must not crash the process.
   pool.on("error", (err) => console.warn("postgres pool:", err.message));
   // DIFFRACTORY_LOG_SQL=1 prints every query with its parameters (the load benchmark reads them from here).
-  const logger = process.env.DIFFRACTORY_LOG_SQL === "1" ? { logQuery: (query: string, params: unknown[]) => console.log(`SQL ${JSON.stringify({ query, params })}`) } : false;
+  const logger =
+    process.env.DIFFRACTORY_LOG_SQL === "1"
+      ? { logQuery: (query: string, params: unknown[]) => console.log(`SQL ${JSON.stringify({ query, params })}`) }
+      : false;
   return drizzle(pool, { schema, logger }) as Db;
 }
 

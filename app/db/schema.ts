@@ -169,14 +169,7 @@ export type OrganisationKind = (typeof organisationKind.enumValues)[number];
 // ───────────────────────── Marketplace: labs, capabilities, requests, samples, quotes, orders ─────────────────────────
 
 export const vettingState = pgEnum("vetting_state", ["applied", "in_review", "approved", "rejected", "suspended"]);
-export const technique = pgEnum("technique", [
-  "powder_reflection",
-  "powder_transmission",
-  "thin_film",
-  "single_crystal",
-  "total_scattering",
-  "neutron_powder",
-]);
+export const technique = pgEnum("technique", ["powder_reflection", "powder_transmission", "thin_film", "single_crystal", "total_scattering", "neutron_powder"]);
 export const anode = pgEnum("anode", ["Cr", "Fe", "Co", "Cu", "Mo", "Ag"]);
 export const monochromation = pgEnum("monochromation", ["k_alpha_doublet", "k_alpha1_only", "k_beta_filtered"]);
 export const detectorKind = pgEnum("detector_kind", ["point", "strip_1d", "area_2d"]);
@@ -764,7 +757,11 @@ export const outboxMessages = pgTable(
     createdAt: createdAt(),
     sentAt: timestamp("sent_at", { withTimezone: true }),
   },
-  (t) => [index("outbox_messages_status_idx").on(t.status, t.createdAt), index("outbox_messages_order_idx").on(t.orderId), index("outbox_messages_undispatched_idx").on(t.createdAt).where(sql`${t.jobId} is null and ${t.status} = 'queued'`)],
+  (t) => [
+    index("outbox_messages_status_idx").on(t.status, t.createdAt),
+    index("outbox_messages_order_idx").on(t.orderId),
+    index("outbox_messages_undispatched_idx").on(t.createdAt).where(sql`${t.jobId} is null and ${t.status} = 'queued'`),
+  ],
 );
 
 export const notifications = pgTable(

@@ -27,12 +27,54 @@ interface DemoOrder {
 }
 
 const ORDERS: DemoOrder[] = [
-  { title: "Hot-stage series of NMC cathode HC-2540", client: "Halvorsen Cathode Works", lab: "Granite Ridge Characterisation", amountMinor: 42_500, currency: "EUR", to: "funds_held" },
-  { title: "Lattice check of LFP reference lot HC-2398", client: "Halvorsen Cathode Works", lab: "Granite Ridge Characterisation", amountMinor: 19_500, currency: "EUR", to: "paid_out" },
-  { title: "Screening of spinel LMO trial HC-2477", client: "Halvorsen Cathode Works", lab: "Granite Ridge Characterisation", amountMinor: 18_000, currency: "EUR", to: "cancelled" },
-  { title: "Polymorph form II confirmation PSF-118", client: "Pinecrest Solid Forms", lab: "Granite Ridge Characterisation", amountMinor: 36_000, currency: "EUR", to: "resolved" },
-  { title: "Phase identification of precursor HC-2602", client: "Halvorsen Cathode Works", lab: "Granite Ridge Characterisation", amountMinor: 21_000, currency: "EUR", to: "awaiting_payment" },
-  { title: "Cryostat scan of hydrate PSF-131", client: "Pinecrest Solid Forms", lab: "Lakeside Institute X-ray Core", amountMinor: 23_000, currency: "USD", to: "awaiting_payment" },
+  {
+    title: "Hot-stage series of NMC cathode HC-2540",
+    client: "Halvorsen Cathode Works",
+    lab: "Granite Ridge Characterisation",
+    amountMinor: 42_500,
+    currency: "EUR",
+    to: "funds_held",
+  },
+  {
+    title: "Lattice check of LFP reference lot HC-2398",
+    client: "Halvorsen Cathode Works",
+    lab: "Granite Ridge Characterisation",
+    amountMinor: 19_500,
+    currency: "EUR",
+    to: "paid_out",
+  },
+  {
+    title: "Screening of spinel LMO trial HC-2477",
+    client: "Halvorsen Cathode Works",
+    lab: "Granite Ridge Characterisation",
+    amountMinor: 18_000,
+    currency: "EUR",
+    to: "cancelled",
+  },
+  {
+    title: "Polymorph form II confirmation PSF-118",
+    client: "Pinecrest Solid Forms",
+    lab: "Granite Ridge Characterisation",
+    amountMinor: 36_000,
+    currency: "EUR",
+    to: "resolved",
+  },
+  {
+    title: "Phase identification of precursor HC-2602",
+    client: "Halvorsen Cathode Works",
+    lab: "Granite Ridge Characterisation",
+    amountMinor: 21_000,
+    currency: "EUR",
+    to: "awaiting_payment",
+  },
+  {
+    title: "Cryostat scan of hydrate PSF-131",
+    client: "Pinecrest Solid Forms",
+    lab: "Lakeside Institute X-ray Core",
+    amountMinor: 23_000,
+    currency: "USD",
+    to: "awaiting_payment",
+  },
 ];
 
 /** Pays an order awaiting payment on the fake's card page with its success card, as the client would. */
@@ -48,7 +90,14 @@ async function orgBySlugName(name: string) {
   return org;
 }
 
-async function step(orderId: string, to: Parameters<typeof moveOrder>[2], mover: Parameters<typeof moveOrder>[3], actor: string | null, note: string, extra = {}) {
+async function step(
+  orderId: string,
+  to: Parameters<typeof moveOrder>[2],
+  mover: Parameters<typeof moveOrder>[3],
+  actor: string | null,
+  note: string,
+  extra = {},
+) {
   await db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), to, mover, actor, note, extra));
 }
 
@@ -70,12 +119,26 @@ export async function seedDemoOrders() {
   for (const o of ORDERS) {
     const client = await orgBySlugName(o.client);
     const lab = await orgBySlugName(o.lab);
-    const existing = await db.select().from(schema.requests).where(and(eq(schema.requests.organisationId, client.id), eq(schema.requests.title, o.title)));
+    const existing = await db
+      .select()
+      .from(schema.requests)
+      .where(and(eq(schema.requests.organisationId, client.id), eq(schema.requests.title, o.title)));
     if (existing.length > 0) continue;
     const person = o.client.startsWith("Pinecrest") ? pinecrest : owner;
     const [request] = await db
       .insert(schema.requests)
-      .values({ organisationId: client.id, createdBy: person.id, title: o.title, state: "awarded", draftStep: "review", rangeMin: 5, rangeMax: 90, openedAt: new Date(Date.now() - 20 * 86_400_000), currency: o.currency, technique: o.lab.startsWith("Lakeside") ? "powder_transmission" : "powder_reflection" })
+      .values({
+        organisationId: client.id,
+        createdBy: person.id,
+        title: o.title,
+        state: "awarded",
+        draftStep: "review",
+        rangeMin: 5,
+        rangeMax: 90,
+        openedAt: new Date(Date.now() - 20 * 86_400_000),
+        currency: o.currency,
+        technique: o.lab.startsWith("Lakeside") ? "powder_transmission" : "powder_reflection",
+      })
       .returning();
     const [quote] = await db
       .insert(schema.quotes)
@@ -94,7 +157,15 @@ export async function seedDemoOrders() {
       .returning();
     const [order] = await db
       .insert(schema.orders)
-      .values({ requestId: request.id, quoteId: quote.id, clientOrganisationId: client.id, labId: lab.id, amountMinor: o.amountMinor, currency: o.currency, platformFeeBps: config.payments.platformFeeBps })
+      .values({
+        requestId: request.id,
+        quoteId: quote.id,
+        clientOrganisationId: client.id,
+        labId: lab.id,
+        amountMinor: o.amountMinor,
+        currency: o.currency,
+        platformFeeBps: config.payments.platformFeeBps,
+      })
       .returning();
     await db.insert(schema.orderEvents).values({ orderId: order.id, toState: "awaiting_payment", actorUserId: person.id, note: "Quote accepted" });
     if (o.to === "awaiting_payment") continue;
@@ -113,6 +184,11 @@ export async function seedDemoOrders() {
       continue;
     }
     await openDispute(order.id, person.id, "Two of the three scans were measured on the wrong sample holder.");
-    await resolveDispute(order.id, { userId: admin.id }, Math.round(o.amountMinor / 3), "One of the three scans was unusable; a third of the total is refunded and the rest paid to the lab.");
+    await resolveDispute(
+      order.id,
+      { userId: admin.id },
+      Math.round(o.amountMinor / 3),
+      "One of the three scans was unusable; a third of the total is refunded and the rest paid to the lab.",
+    );
   }
 }

@@ -36,7 +36,15 @@ interface DemoScan {
 export const LFP_DECLARED: Cell = { a: 10.33, b: 6.01, c: 4.69, alpha: 90, beta: 90, gamma: 90 };
 // The "true" cell of the demo lot: invented, a little off the declaration as a real batch would be.
 export const LFP_LOT: Cell = { a: 10.326, b: 6.006, c: 4.695, alpha: 90, beta: 90, gamma: 90 };
-export const LFP_SCAN = { twoThetaMin: 15, twoThetaMax: 110, step: 0.02, radiation: CO, background: { constant: 120, slope: -0.4 }, scale: 8000, zeroShift: 0.03 };
+export const LFP_SCAN = {
+  twoThetaMin: 15,
+  twoThetaMax: 110,
+  step: 0.02,
+  radiation: CO,
+  background: { constant: 120, slope: -0.4 },
+  scale: 8000,
+  zeroShift: 0.03,
+};
 
 const lfpSample = (label: string, phase = "LiFePO4, olivine (triphylite)"): DemoSample => ({
   label,
@@ -114,7 +122,10 @@ async function orderByTitle(title: string) {
 
 /** The sample of the order's request with this label, added (with its declaration) when missing. */
 async function ensureSample(requestId: string, s: DemoSample, position: number) {
-  const [found] = await db.select().from(schema.samples).where(and(eq(schema.samples.requestId, requestId), eq(schema.samples.label, s.label)));
+  const [found] = await db
+    .select()
+    .from(schema.samples)
+    .where(and(eq(schema.samples.requestId, requestId), eq(schema.samples.label, s.label)));
   if (found) return found;
   const [created] = await db
     .insert(schema.samples)
@@ -144,7 +155,14 @@ async function ensureSample(requestId: string, s: DemoSample, position: number) 
  * Stores a demo scan as a delivered file of the order (as a finished upload would leave it) and runs its
  * lattice check in-process, so no worker is needed and the verdict is there when the seed returns.
  */
-export async function storeCheckedScan(input: { orderId: string; sampleId: string; fileName: string; text: string; uploadedBy: string | null; storedAt?: Date }) {
+export async function storeCheckedScan(input: {
+  orderId: string;
+  sampleId: string;
+  fileName: string;
+  text: string;
+  uploadedBy: string | null;
+  storedAt?: Date;
+}) {
   const bytes = new TextEncoder().encode(input.text);
   const storageKey = `orders/${input.orderId}/demo/${input.fileName}`;
   await putObject(storageKey, bytes, "text/plain");

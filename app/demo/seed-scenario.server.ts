@@ -15,9 +15,28 @@ import { checkCalibrationScan } from "~/domain/calibration-check";
 import { markDelivered, markReceived, markShipped, startMeasuring } from "~/models/orders/lifecycle.server";
 import { submitApplication, vettingPrefix } from "~/models/labs/vetting.server";
 import { openDispute, refuseOnArrival } from "~/models/orders/lifecycle.server";
-import { acceptQuote, draftLineItems, instrumentsOf, lapseExpiredQuotes, priceListOf, sendQuote, withdrawQuote, type SendQuoteResult } from "~/models/requests/quotes.server";
+import {
+  acceptQuote,
+  draftLineItems,
+  instrumentsOf,
+  lapseExpiredQuotes,
+  priceListOf,
+  sendQuote,
+  withdrawQuote,
+  type SendQuoteResult,
+} from "~/models/requests/quotes.server";
 import { MeasurementStepSchema, SampleHazardSchema, SamplesStepSchema, type SampleSchema } from "~/domain/request-forms";
-import { acknowledgeHazards, createDraft, ownRequestOf, publishRequest, samplesOf, saveHazards, saveMeasurement, saveVisibility, sdsPrefix } from "~/models/requests/requests.server";
+import {
+  acknowledgeHazards,
+  createDraft,
+  ownRequestOf,
+  publishRequest,
+  samplesOf,
+  saveHazards,
+  saveMeasurement,
+  saveVisibility,
+  sdsPrefix,
+} from "~/models/requests/requests.server";
 import { LICENCE_STATEMENT } from "~/domain/vetting";
 import { audit } from "~/models/audit.server";
 import { putObject, storageKeyFor } from "~/models/files/storage.server";
@@ -38,7 +57,13 @@ const LAB_PEOPLE: Record<string, { manager: string; operator: string }> = {
   [LAKESIDE]: { manager: "lab@lakeside.example", operator: "lab@lakeside.example" },
 };
 
-type Hazards = { ghs?: string[]; hStatements?: string; special?: Record<string, { declared: true; details: string }>; handlingNotes?: string; afterMeasurement?: "return" | "lab_disposes" };
+type Hazards = {
+  ghs?: string[];
+  hStatements?: string;
+  special?: Record<string, { declared: true; details: string }>;
+  handlingNotes?: string;
+  afterMeasurement?: "return" | "lab_disposes";
+};
 
 interface SampleSpec {
   fields: Omit<z.input<typeof SampleSchema>, "id">;
@@ -58,7 +83,17 @@ interface QuoteSpec {
   withdrawn?: boolean;
 }
 
-type End = "draft" | "open" | "expired" | "withdrawn" | "samples_in_transit" | "samples_received" | "measuring" | "data_delivered" | "refused_on_arrival" | "disputed";
+type End =
+  | "draft"
+  | "open"
+  | "expired"
+  | "withdrawn"
+  | "samples_in_transit"
+  | "samples_received"
+  | "measuring"
+  | "data_delivered"
+  | "refused_on_arrival"
+  | "disputed";
 
 interface ScenarioRequest {
   title: string;
@@ -116,7 +151,15 @@ const nmc = (label: string, formula: string, phase: string): SampleSpec["fields"
   cellGamma: 120,
 });
 
-const organic = (label: string, formula: string, phase: string, system: CrystalSystem, centering: Centering, cell: [number, number, number, number, number, number], form: "powder" | "capillary" = "powder"): SampleSpec["fields"] => ({
+const organic = (
+  label: string,
+  formula: string,
+  phase: string,
+  system: CrystalSystem,
+  centering: Centering,
+  cell: [number, number, number, number, number, number],
+  form: "powder" | "capillary" = "powder",
+): SampleSpec["fields"] => ({
   label,
   formula,
   form,
@@ -133,12 +176,14 @@ const organic = (label: string, formula: string, phase: string, system: CrystalS
 });
 
 /** The lot of the delivered LFP order: the olivine as declared, and a coated trial with rutile mixed in. */
-const lfpScan = (seed: number, rutileScale = 0) => () => {
-  const main = simulatePattern({ ...LFP_SCAN, structure: LITHIUM_IRON_PHOSPHATE, cell: LFP_LOT, noise: { seed } });
-  if (!rutileScale) return main;
-  const impurity = simulatePattern({ ...LFP_SCAN, structure: RUTILE, background: { constant: 0 }, scale: rutileScale, noise: { seed: seed + 1 } });
-  return { ...main, intensity: main.intensity.map((v, i) => v + impurity.intensity[i]) };
-};
+const lfpScan =
+  (seed: number, rutileScale = 0) =>
+  () => {
+    const main = simulatePattern({ ...LFP_SCAN, structure: LITHIUM_IRON_PHOSPHATE, cell: LFP_LOT, noise: { seed } });
+    if (!rutileScale) return main;
+    const impurity = simulatePattern({ ...LFP_SCAN, structure: RUTILE, background: { constant: 0 }, scale: rutileScale, noise: { seed: seed + 1 } });
+    return { ...main, intensity: main.intensity.map((v, i) => v + impurity.intensity[i]) };
+  };
 
 /**
  * The disputed NMC lot: the layered oxide close to its declaration, with the lines of lithium carbonate
@@ -146,12 +191,29 @@ const lfpScan = (seed: number, rutileScale = 0) => () => {
  */
 const nmcDisputedScan = () => {
   const scan = { twoThetaMin: 15, twoThetaMax: 120, step: 0.02, radiation: CO as Radiation, zeroShift: 0.02 };
-  const main = simulatePattern({ ...scan, cell: { a: 2.869, b: 2.869, c: 14.225, alpha: 90, beta: 90, gamma: 120 }, system: "trigonal", centering: "R", background: { constant: 140, slope: -0.5 }, scale: 7000, noise: { seed: 2655 } });
-  const carbonate = simulatePattern({ ...scan, cell: { a: 8.36, b: 4.97, c: 6.19, alpha: 90, beta: 114.7, gamma: 90 }, system: "monoclinic", centering: "C", background: { constant: 0 }, scale: 1200, noise: { seed: 2656 } });
+  const main = simulatePattern({
+    ...scan,
+    cell: { a: 2.869, b: 2.869, c: 14.225, alpha: 90, beta: 90, gamma: 120 },
+    system: "trigonal",
+    centering: "R",
+    background: { constant: 140, slope: -0.5 },
+    scale: 7000,
+    noise: { seed: 2655 },
+  });
+  const carbonate = simulatePattern({
+    ...scan,
+    cell: { a: 8.36, b: 4.97, c: 6.19, alpha: 90, beta: 114.7, gamma: 90 },
+    system: "monoclinic",
+    centering: "C",
+    background: { constant: 0 },
+    scale: 1200,
+    noise: { seed: 2656 },
+  });
   return { ...main, intensity: main.intensity.map((v, i) => v + carbonate.intensity[i]) };
 };
 
-const SDS_NOTE = "Invented demo document. A hazard declaration informs the lab; it does not replace this sheet, the carrier's rules or the lab's safety officers.";
+const SDS_NOTE =
+  "Invented demo document. A hazard declaration informs the lab; it does not replace this sheet, the carrier's rules or the lab's safety officers.";
 
 export const SCENARIO: ScenarioRequest[] = [
   {
@@ -170,13 +232,26 @@ export const SCENARIO: ScenarioRequest[] = [
     client: HALVORSEN,
     by: "owner@halvorsen.example",
     technique: "powder_reflection",
-    samples: [{ fields: nmc("HC-2634-A", "LiNi0.8Mn0.1Co0.1O2", "NMC811 layered oxide (R-3m)") }, { fields: nmc("HC-2634-B", "LiNi0.8Mn0.1Co0.1O2", "NMC811 layered oxide (R-3m)") }],
+    samples: [
+      { fields: nmc("HC-2634-A", "LiNi0.8Mn0.1Co0.1O2", "NMC811 layered oxide (R-3m)") },
+      { fields: nmc("HC-2634-B", "LiNi0.8Mn0.1Co0.1O2", "NMC811 layered oxide (R-3m)") },
+    ],
     range: [10, 120],
     currency: "EUR",
     budget: "900",
     quotes: [
-      { lab: GRANITE, instrument: "Reflection diffractometer B (Co)", turnaroundDays: 8, notes: "Measured on the cobalt tube to keep the manganese and cobalt fluorescence low." },
-      { lab: LAKESIDE, instrument: "Transmission diffractometer (Mo)", turnaroundDays: 12, notes: "Transmission in capillaries with an energy-discriminating detector; Mo radiation avoids fluorescence." },
+      {
+        lab: GRANITE,
+        instrument: "Reflection diffractometer B (Co)",
+        turnaroundDays: 8,
+        notes: "Measured on the cobalt tube to keep the manganese and cobalt fluorescence low.",
+      },
+      {
+        lab: LAKESIDE,
+        instrument: "Transmission diffractometer (Mo)",
+        turnaroundDays: 12,
+        notes: "Transmission in capillaries with an energy-discriminating detector; Mo radiation avoids fluorescence.",
+      },
     ],
     end: "open",
   },
@@ -188,7 +263,15 @@ export const SCENARIO: ScenarioRequest[] = [
     samples: [{ fields: organic("PSF-097", "C12H16N2O3", "PSF-097 dihydrate", "monoclinic", "P", [11.42, 7.18, 15.06, 90, 98.4, 90], "capillary") }],
     range: [3, 40],
     currency: "USD",
-    quotes: [{ lab: LAKESIDE, instrument: "Transmission diffractometer (Mo)", turnaroundDays: 12, notes: "Valid for two weeks; the cryostat is booked out after that.", lapsed: true }],
+    quotes: [
+      {
+        lab: LAKESIDE,
+        instrument: "Transmission diffractometer (Mo)",
+        turnaroundDays: 12,
+        notes: "Valid for two weeks; the cryostat is booked out after that.",
+        lapsed: true,
+      },
+    ],
     end: "expired",
   },
   {
@@ -199,7 +282,15 @@ export const SCENARIO: ScenarioRequest[] = [
     samples: [{ fields: organic("HC-2588-A", "LiMn2O4", "LiMn2O4 spinel", "cubic", "F", [8.24, 8.24, 8.24, 90, 90, 90]) }],
     range: [10, 90],
     currency: "EUR",
-    quotes: [{ lab: GRANITE, instrument: "Reflection diffractometer B (Co)", turnaroundDays: 8, notes: "Withdrawn: the cobalt tube is out for service this month.", withdrawn: true }],
+    quotes: [
+      {
+        lab: GRANITE,
+        instrument: "Reflection diffractometer B (Co)",
+        turnaroundDays: 8,
+        notes: "Withdrawn: the cobalt tube is out for service this month.",
+        withdrawn: true,
+      },
+    ],
     end: "withdrawn",
   },
   {
@@ -213,7 +304,12 @@ export const SCENARIO: ScenarioRequest[] = [
         hazards: {
           ghs: ["GHS08"],
           hStatements: "H373",
-          special: { nanomaterial: { declared: true, details: "Wet-milled to a median particle size of about 180 nm; dusty when dry. Open only in a ventilated enclosure." } },
+          special: {
+            nanomaterial: {
+              declared: true,
+              details: "Wet-milled to a median particle size of about 180 nm; dusty when dry. Open only in a ventilated enclosure.",
+            },
+          },
           handlingNotes: "Double-bagged vial. Wear a P3 mask when the vial is opened outside an enclosure.",
           afterMeasurement: "lab_disposes",
         },
@@ -232,8 +328,18 @@ export const SCENARIO: ScenarioRequest[] = [
     currency: "EUR",
     budget: "700",
     quotes: [
-      { lab: GRANITE, instrument: "Reflection diffractometer A (Cu)", turnaroundDays: 8, notes: "Both samples handled in our ventilated enclosure; the toxic sample goes back in its sealed tube." },
-      { lab: LAKESIDE, instrument: "Transmission diffractometer (Mo)", turnaroundDays: 12, notes: "We can take the nanomaterial; GHS06 samples need our safety officer's approval first." },
+      {
+        lab: GRANITE,
+        instrument: "Reflection diffractometer A (Cu)",
+        turnaroundDays: 8,
+        notes: "Both samples handled in our ventilated enclosure; the toxic sample goes back in its sealed tube.",
+      },
+      {
+        lab: LAKESIDE,
+        instrument: "Transmission diffractometer (Mo)",
+        turnaroundDays: 12,
+        notes: "We can take the nanomaterial; GHS06 samples need our safety officer's approval first.",
+      },
     ],
     accept: GRANITE,
     end: "samples_in_transit",
@@ -247,7 +353,14 @@ export const SCENARIO: ScenarioRequest[] = [
     samples: [{ fields: lfp("HC-2624-A", "LiFePO4, olivine, carbon-coated") }],
     range: [5, 60],
     currency: "USD",
-    quotes: [{ lab: LAKESIDE, instrument: "Transmission diffractometer (Mo)", turnaroundDays: 12, notes: "Capillary transmission on Mo, no fluorescence from the iron." }],
+    quotes: [
+      {
+        lab: LAKESIDE,
+        instrument: "Transmission diffractometer (Mo)",
+        turnaroundDays: 12,
+        notes: "Capillary transmission on Mo, no fluorescence from the iron.",
+      },
+    ],
     accept: LAKESIDE,
     end: "samples_received",
     shipping: ["Nordlys Freight", "NF-77310-2624"],
@@ -263,7 +376,9 @@ export const SCENARIO: ScenarioRequest[] = [
     ],
     range: [3, 45],
     currency: "EUR",
-    quotes: [{ lab: GRANITE, instrument: "Reflection diffractometer A (Cu)", turnaroundDays: 8, notes: "Zero-background silicon holders for the small amounts." }],
+    quotes: [
+      { lab: GRANITE, instrument: "Reflection diffractometer A (Cu)", turnaroundDays: 8, notes: "Zero-background silicon holders for the small amounts." },
+    ],
     accept: GRANITE,
     end: "measuring",
     shipping: ["Ashbourne Medical Couriers", "AMC-55087-PSF"],
@@ -275,7 +390,10 @@ export const SCENARIO: ScenarioRequest[] = [
     technique: "powder_reflection",
     samples: [
       { fields: lfp("HC-2645-1"), scan: { fileName: "HC-2645-1_Co_15-110.xy", simulate: lfpScan(2645_1) } },
-      { fields: lfp("HC-2645-2", "LiFePO4, olivine (triphylite), TiO2-coated trial"), scan: { fileName: "HC-2645-2_Co_15-110.xy", simulate: lfpScan(2645_3, 1200) } },
+      {
+        fields: lfp("HC-2645-2", "LiFePO4, olivine (triphylite), TiO2-coated trial"),
+        scan: { fileName: "HC-2645-2_Co_15-110.xy", simulate: lfpScan(2645_3, 1200) },
+      },
     ],
     range: [15, 110],
     currency: "EUR",
@@ -298,7 +416,8 @@ export const SCENARIO: ScenarioRequest[] = [
     quotes: [{ lab: LAKESIDE, instrument: "Transmission diffractometer (Mo)", turnaroundDays: 12, notes: "Sealed 0.7 mm capillaries, please." }],
     accept: LAKESIDE,
     end: "refused_on_arrival",
-    reason: "The parcel holds three unlabelled open vials instead of the two sealed capillaries declared (PSF-127-1 and -2). We cannot accept undeclared material; it goes back to the sender.",
+    reason:
+      "The parcel holds three unlabelled open vials instead of the two sealed capillaries declared (PSF-127-1 and -2). We cannot accept undeclared material; it goes back to the sender.",
     shipping: ["Ashbourne Medical Couriers", "AMC-55064-PSF"],
   },
   {
@@ -306,13 +425,19 @@ export const SCENARIO: ScenarioRequest[] = [
     client: HALVORSEN,
     by: "owner@halvorsen.example",
     technique: "powder_reflection",
-    samples: [{ fields: nmc("HC-2655-A", "LiNi0.6Mn0.2Co0.2O2", "NMC622 layered oxide (R-3m)"), scan: { fileName: "HC-2655-A_Co_15-120.xy", simulate: nmcDisputedScan } }],
+    samples: [
+      {
+        fields: nmc("HC-2655-A", "LiNi0.6Mn0.2Co0.2O2", "NMC622 layered oxide (R-3m)"),
+        scan: { fileName: "HC-2655-A_Co_15-120.xy", simulate: nmcDisputedScan },
+      },
+    ],
     range: [15, 120],
     currency: "EUR",
     quotes: [{ lab: GRANITE, instrument: "Reflection diffractometer B (Co)", turnaroundDays: 8, notes: "Report with phase identification included." }],
     accept: GRANITE,
     end: "disputed",
-    reason: "The lab's report calls lot HC-2655 single-phase, but the lattice check puts the scan under review: unindexed lines near 18°, 25° and 27° 2θ may belong to another phase, and the report does not mention them. We ask for the impurity to be identified or part of the price refunded.",
+    reason:
+      "The lab's report calls lot HC-2655 single-phase, but the lattice check puts the scan under review: unindexed lines near 18°, 25° and 27° 2θ may belong to another phase, and the report does not mention them. We ask for the impurity to be identified or part of the price refunded.",
     shipping: ["Nordlys Freight", "NF-77455-2655"],
   },
 ];
@@ -422,7 +547,14 @@ async function quoteAs(spec: QuoteSpec, requestId: string, clientId: string) {
   let items = draftLineItems(request, samples, prices).map((i) => ({ description: i.description, quantity: i.quantity, unitPrice: i.unitMinor }));
   // A lab quoting outside its listed technique prices the measurement by hand, as in the quote builder.
   if (!items.some((i) => i.description.includes("per sample") && !i.description.startsWith("Sample preparation"))) {
-    items = [{ description: "Capillary transmission measurement, per sample", quantity: samples.length, unitPrice: prices?.perSampleMinor.powder_transmission ?? 20_000 }, ...items];
+    items = [
+      {
+        description: "Capillary transmission measurement, per sample",
+        quantity: samples.length,
+        unitPrice: prices?.perSampleMinor.powder_transmission ?? 20_000,
+      },
+      ...items,
+    ];
   }
   const sent: SendQuoteResult = await sendQuote(request, labId, manager.id, {
     items,
@@ -492,7 +624,13 @@ async function seedRequest(spec: ScenarioRequest) {
         .set({ state: spec.end as "expired" | "withdrawn", updatedAt: now, ...(spec.end === "expired" ? { deadline: isoDate(-2) } : {}) })
         .where(eq(schema.requests.id, request.id));
       await audit(
-        { actorUserId: spec.end === "withdrawn" ? client.id : null, organisationId: clientId, action: spec.end === "withdrawn" ? "request_withdrawn" : "request_expired", subjectType: "request", subjectId: request.id },
+        {
+          actorUserId: spec.end === "withdrawn" ? client.id : null,
+          organisationId: clientId,
+          action: spec.end === "withdrawn" ? "request_withdrawn" : "request_expired",
+          subjectType: "request",
+          subjectId: request.id,
+        },
         tx,
       );
     });
@@ -539,7 +677,13 @@ async function seedMeridianApplication() {
   const scanBytes = new TextEncoder().encode(text);
   const scanKey = storageKeyFor(prefix, scanName);
   await putObject(scanKey, scanBytes, "text/plain");
-  const outcome = checkCalibrationScan(text, { standard: "lab6_srm660c", instrumentName: "Benchtop diffractometer (Cu)", anode: "Cu", monochromation: "k_beta_filtered", fileName: scanName });
+  const outcome = checkCalibrationScan(text, {
+    standard: "lab6_srm660c",
+    instrumentName: "Benchtop diffractometer (Cu)",
+    anode: "Cu",
+    monochromation: "k_beta_filtered",
+    fileName: scanName,
+  });
   if (!outcome.ok) throw new Error(`demo scenario: Meridian's calibration scan could not be checked: ${outcome.error}`);
   await submitApplication({
     labId,
@@ -550,7 +694,13 @@ async function seedMeridianApplication() {
     attestation: LICENCE_STATEMENT,
     attestedName: "Tiago Amaral Sousa",
     standard: "lab6_srm660c",
-    certificate: { storageKey: certificateKey, fileName: "accreditation-MA-17025-0098.pdf", contentType: "application/pdf", sizeBytes: certificateBytes.byteLength, sha256: sha256(certificateBytes) },
+    certificate: {
+      storageKey: certificateKey,
+      fileName: "accreditation-MA-17025-0098.pdf",
+      contentType: "application/pdf",
+      sizeBytes: certificateBytes.byteLength,
+      sha256: sha256(certificateBytes),
+    },
     scan: { storageKey: scanKey, fileName: scanName, contentType: "text/plain", sizeBytes: scanBytes.byteLength, sha256: sha256(scanBytes) },
     check: outcome.check,
   });

@@ -67,10 +67,7 @@ export async function seedDemo() {
       .insert(schema.users)
       .values({ email: person.email, name: person.name, passwordHash, isAdmin: person.isAdmin ?? false })
       .onConflictDoNothing();
-    const [user] = await db
-      .select()
-      .from(schema.users)
-      .where(sql`lower(${schema.users.email}) = ${person.email}`);
+    const [user] = await db.select().from(schema.users).where(sql`lower(${schema.users.email}) = ${person.email}`);
     // Admins must have a second factor; the demo admin's key is the published demo one.
     if (person.isAdmin && !user.totpEnabledAt) {
       await db.update(schema.users).set({ totpSecret: DEMO_ADMIN_TOTP_SECRET, totpEnabledAt: new Date() }).where(eq(schema.users.id, user.id));
@@ -110,7 +107,15 @@ interface DemoLab {
   description: string;
   accreditationNumber: string;
   instruments: DemoInstrument[];
-  prices: { currency: string; perSample: Partial<Record<Technique, number>>; extraPoint: number; hour: number; prep: number; hazardous: number; turnaround: number };
+  prices: {
+    currency: string;
+    perSample: Partial<Record<Technique, number>>;
+    extraPoint: number;
+    hour: number;
+    prep: number;
+    hazardous: number;
+    turnaround: number;
+  };
   acceptance: { pictograms: string[]; specialCategories: string[] };
 }
 
@@ -118,7 +123,8 @@ const LABS: DemoLab[] = [
   {
     name: "Granite Ridge Characterisation",
     state: "approved",
-    description: "Contract lab for battery and ceramic materials: two reflection diffractometers with copper and cobalt tubes, and a hot stage for in-situ phase work up to 1473 K.",
+    description:
+      "Contract lab for battery and ceramic materials: two reflection diffractometers with copper and cobalt tubes, and a hot stage for in-situ phase work up to 1473 K.",
     accreditationNumber: "GRC-17025-0412",
     instruments: [
       {
@@ -257,7 +263,10 @@ async function seedLabs(orgIds: Map<string, string>) {
 async function seedRequests(orgIds: Map<string, string>) {
   const organisationId = orgIds.get("Halvorsen Cathode Works")!;
   const title = "Phase check of LFP cathode batch HC-2611";
-  const existing = await db.select().from(schema.requests).where(and(eq(schema.requests.organisationId, organisationId), eq(schema.requests.title, title)));
+  const existing = await db
+    .select()
+    .from(schema.requests)
+    .where(and(eq(schema.requests.organisationId, organisationId), eq(schema.requests.title, title)));
   if (existing.length > 0) return;
   const [owner] = await db.select().from(schema.users).where(eq(schema.users.email, "owner@halvorsen.example"));
   const [request] = await db

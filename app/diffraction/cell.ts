@@ -2,24 +2,9 @@
 // systems, and the linear reciprocal-metric parameters that cell refinement works in.
 
 /** Crystal system of a declared cell; trigonal is on hexagonal axes, monoclinic has unique axis b. */
-export type CrystalSystem =
-  | "cubic"
-  | "tetragonal"
-  | "hexagonal"
-  | "trigonal"
-  | "orthorhombic"
-  | "monoclinic"
-  | "triclinic";
+export type CrystalSystem = "cubic" | "tetragonal" | "hexagonal" | "trigonal" | "orthorhombic" | "monoclinic" | "triclinic";
 
-export const CRYSTAL_SYSTEMS: readonly CrystalSystem[] = [
-  "cubic",
-  "tetragonal",
-  "hexagonal",
-  "trigonal",
-  "orthorhombic",
-  "monoclinic",
-  "triclinic",
-];
+export const CRYSTAL_SYSTEMS: readonly CrystalSystem[] = ["cubic", "tetragonal", "hexagonal", "trigonal", "orthorhombic", "monoclinic", "triclinic"];
 
 /** Lattice centering; R is rhombohedral obverse on hexagonal axes (−h + k + l = 3n). */
 export type Centering = "P" | "I" | "F" | "A" | "B" | "C" | "R";
@@ -167,10 +152,18 @@ const isAngle = (x: number, target: number) => Math.abs(x - target) <= ANGLE_TOL
 /** A sentence saying how the cell breaks the crystal system's constraints, or null if it fits. */
 export function checkCellForSystem(system: CrystalSystem, cell: Cell): string | null {
   const { a, b, c, alpha, beta, gamma } = cell;
-  for (const [name, v] of [["a", a], ["b", b], ["c", c]] as const) {
+  for (const [name, v] of [
+    ["a", a],
+    ["b", b],
+    ["c", c],
+  ] as const) {
     if (!Number.isFinite(v) || v <= 0) return `The cell length ${name} must be a positive number of ångström; got ${v}.`;
   }
-  for (const [name, v] of [["alpha", alpha], ["beta", beta], ["gamma", gamma]] as const) {
+  for (const [name, v] of [
+    ["alpha", alpha],
+    ["beta", beta],
+    ["gamma", gamma],
+  ] as const) {
     if (!Number.isFinite(v) || v <= 0 || v >= 180) return `The cell angle ${name} must lie between 0° and 180°; got ${v}.`;
   }
   const lengths = `a = ${fmt(a)}, b = ${fmt(b)}, c = ${fmt(c)} Å`;
@@ -197,8 +190,7 @@ export function checkCellForSystem(system: CrystalSystem, cell: Cell): string | 
       if (!right(alpha) || !right(beta) || !right(gamma)) return `An orthorhombic cell needs all angles 90°; got ${angles}.`;
       break;
     case "monoclinic":
-      if (!right(alpha) || !right(gamma))
-        return `A monoclinic cell (unique axis b) needs alpha = gamma = 90°; got ${angles}.`;
+      if (!right(alpha) || !right(gamma)) return `A monoclinic cell (unique axis b) needs alpha = gamma = 90°; got ${angles}.`;
       break;
     case "triclinic":
       break;
@@ -206,8 +198,7 @@ export function checkCellForSystem(system: CrystalSystem, cell: Cell): string | 
   const ca = Math.cos(alpha * RAD);
   const cb = Math.cos(beta * RAD);
   const cg = Math.cos(gamma * RAD);
-  if (1 - ca * ca - cb * cb - cg * cg + 2 * ca * cb * cg <= 0)
-    return `The angles ${angles} do not form a cell (its volume would be zero or imaginary).`;
+  if (1 - ca * ca - cb * cb - cg * cg + 2 * ca * cb * cg <= 0) return `The angles ${angles} do not form a cell (its volume would be zero or imaginary).`;
   return null;
 }
 
@@ -369,11 +360,7 @@ function multiply3(x: Matrix3, y: Matrix3): Matrix3 {
  * The direct cell of a system's free parameter vector, and its standard uncertainties propagated from
  * the covariance of the parameters (σ² = J C Jᵀ); `esd` is null when no covariance is given.
  */
-export function cellFromMetricParams(
-  system: CrystalSystem,
-  p: readonly number[],
-  cov?: readonly (readonly number[])[],
-): { cell: Cell; esd: Cell | null } {
+export function cellFromMetricParams(system: CrystalSystem, p: readonly number[], cov?: readonly (readonly number[])[]): { cell: Cell; esd: Cell | null } {
   const g = invertSymmetric3(reciprocalFromCoefficients(coefficientsFromMetricParams(system, p)));
   const cell = cellFromDirectMetric(g);
   // Constrained angles come out of acos at 90° or 120° up to rounding; state them exactly.

@@ -1,15 +1,6 @@
 // The automatic lattice-parameter check of a delivered scan: peaks, indexing, refinement, merit, verdict.
 
-import {
-  type Cell,
-  type Centering,
-  type CrystalSystem,
-  CENTERINGS,
-  CRYSTAL_SYSTEMS,
-  checkCellForSystem,
-  checkCentering,
-  twoThetaFromD,
-} from "./cell";
+import { type Cell, type Centering, type CrystalSystem, CENTERINGS, CRYSTAL_SYSTEMS, checkCellForSystem, checkCentering, twoThetaFromD } from "./cell";
 import { type CubicIndexing, indexCubic } from "./index-cubic";
 import { refinedLineShift } from "./line-shifts";
 import { deWolffM20, smithSnyderFN } from "./merit";
@@ -217,9 +208,7 @@ export function runLatticeCheck(scan: Scan, options: LatticeCheckOptions): Latti
     }
     extraReasons.push(cubicIndexing.message);
   } else if (fitted.length > 0) {
-    extraReasons.push(
-      `No cell was declared; indexing from scratch is done only for cubic lattices, so a ${system} sample needs its cell declared.`,
-    );
+    extraReasons.push(`No cell was declared; indexing from scratch is done only for cubic lattices, so a ${system} sample needs its cell declared.`);
   }
 
   const hklOf = new Map<number, Refinement["assignments"][number]>();

@@ -111,11 +111,5 @@ export function formFactor(element: string, s: number): number {
   const k = CROMER_MANN[elementSymbol(element)];
   if (!k) throw new RangeError(`No Cromer–Mann coefficients for element "${element}".`);
   const s2 = s * s;
-  return (
-    k.a[0] * Math.exp(-k.b[0] * s2) +
-    k.a[1] * Math.exp(-k.b[1] * s2) +
-    k.a[2] * Math.exp(-k.b[2] * s2) +
-    k.a[3] * Math.exp(-k.b[3] * s2) +
-    k.c
-  );
+  return k.a[0] * Math.exp(-k.b[0] * s2) + k.a[1] * Math.exp(-k.b[1] * s2) + k.a[2] * Math.exp(-k.b[2] * s2) + k.a[3] * Math.exp(-k.b[3] * s2) + k.c;
 }

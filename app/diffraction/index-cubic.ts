@@ -47,10 +47,7 @@ export function allowedSquareSums(centering: CubicCentering): number[] {
   return [...found].sort((x, y) => x - y);
 }
 
-export function indexCubic(
-  peaks: readonly ObservedPeak[],
-  options: { wavelength: number; twoThetaMax: number; maxCandidates?: number },
-): CubicIndexing {
+export function indexCubic(peaks: readonly ObservedPeak[], options: { wavelength: number; twoThetaMax: number; maxCandidates?: number }): CubicIndexing {
   const { wavelength } = options;
   const strongest = Math.max(0, ...peaks.map((p) => p.intensity));
   // Lines weaker than 1 % of the strongest are too uncertain to steer indexing (common practice).

@@ -32,7 +32,5 @@ export interface RefinedCorrection {
  * degrees 2θ: observed = 2θ_Bragg + offset.
  */
 export function refinedLineShift(twoThetaBragg: number, correction: RefinedCorrection): number {
-  return correction.displacement !== 0
-    ? displacementShift(twoThetaBragg, correction.displacement, correction.radiusMm)
-    : correction.zeroShift;
+  return correction.displacement !== 0 ? displacementShift(twoThetaBragg, correction.displacement, correction.radiusMm) : correction.zeroShift;
 }

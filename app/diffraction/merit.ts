@@ -82,7 +82,10 @@ export function smithSnyderFN(lines: readonly IndexedLine[], calculatedTwoTheta:
   let sum = 0;
   for (const line of used) sum += Math.abs(line.twoThetaObs - line.twoThetaCalc);
   const meanDelta = sum / used.length;
-  const possible = countDistinctUpTo([...calculatedTwoTheta].filter(Number.isFinite).sort((a, b) => a - b), last.twoThetaObs);
+  const possible = countDistinctUpTo(
+    [...calculatedTwoTheta].filter(Number.isFinite).sort((a, b) => a - b),
+    last.twoThetaObs,
+  );
   if (possible === 0) return null;
   return { value: used.length / (meanDelta * possible), lines: used.length, meanDelta, possible };
 }

@@ -431,9 +431,7 @@ function readPdCif(text: string): Columns | { error: string } {
     return { error: `${Math.round((100 * missing) / nRows)}% of the CIF's rows have no number; the scan is unusable.` };
   }
   if (missing > 0) warnings.push(`${missing} rows without a number were dropped.`);
-  const wavelength = cifNumber(
-    block.items.get("_diffrn_radiation_wavelength") ?? firstLoopValue(block, "_diffrn_radiation_wavelength") ?? "?",
-  ).value;
+  const wavelength = cifNumber(block.items.get("_diffrn_radiation_wavelength") ?? firstLoopValue(block, "_diffrn_radiation_wavelength") ?? "?").value;
   const hasEsd = withEsd === angles.length && angles.length > 0;
   return {
     twoTheta: angles,
@@ -558,9 +556,7 @@ function finishScan(columns: Columns): ParseScanResult {
       return fail(`The 2θ value ${twoTheta[i]}° appears twice; every angle must appear once.`);
     }
     if (twoTheta[i] < twoTheta[i - 1]) {
-      return fail(
-        `The 2θ values are out of order at row ${i + 1} (${twoTheta[i]}° after ${twoTheta[i - 1]}°); a scan must run in one direction.`,
-      );
+      return fail(`The 2θ values are out of order at row ${i + 1} (${twoTheta[i]}° after ${twoTheta[i - 1]}°); a scan must run in one direction.`);
     }
   }
   if (twoTheta[twoTheta.length - 1] >= 180 || twoTheta[twoTheta.length - 1] <= 0) {

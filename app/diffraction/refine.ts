@@ -6,15 +6,7 @@
 // in the system's free reciprocal-metric parameters p, so each Gauss–Newton step is a small weighted
 // linear fit; the weights are the peak-position uncertainties from the profile fits.
 
-import {
-  type Cell,
-  type Centering,
-  type CrystalSystem,
-  cellFromMetricParams,
-  freeParameters,
-  metricParamsFromCell,
-  qDesignRow,
-} from "./cell";
+import { type Cell, type Centering, type CrystalSystem, cellFromMetricParams, freeParameters, metricParamsFromCell, qDesignRow } from "./cell";
 import { invertSymmetric, matVec, squareMatrix, type SquareMatrix } from "./least-squares";
 import { displacementShift, displacementShiftAtTheta, refinedLineShift } from "./line-shifts";
 import type { IndexedLine } from "./merit";
@@ -127,7 +119,12 @@ interface PoolEntry {
  * enlarged by the search range plus a margin, listed once per refinement.
  */
 function reflectionPool(system: CrystalSystem, centering: Centering, p: number[], options: RefineOptions, range: number): PoolEntry[] {
-  return listReflections(system, centering, p.map((x) => x / (1 + range + 0.005) ** 2), options).map((r) => {
+  return listReflections(
+    system,
+    centering,
+    p.map((x) => x / (1 + range + 0.005) ** 2),
+    options,
+  ).map((r) => {
     const row = qDesignRow(system, r);
     return { r, row, key: row.join(",") };
   });
@@ -260,14 +257,7 @@ function positionSigma(peak: ObservedPeak): number {
  * the strongest peaks within half a FWHM of a reflection: the start of the indexing, so that a declared
  * cell a little off (thermal expansion, a solid solution) still indexes.
  */
-function coarseSearch(
-  peaks: readonly ObservedPeak[],
-  pool: PoolEntry[],
-  startP: number[],
-  options: RefineOptions,
-  radius: number,
-  range: number,
-): State {
+function coarseSearch(peaks: readonly ObservedPeak[], pool: PoolEntry[], startP: number[], options: RefineOptions, radius: number, range: number): State {
   const { wavelength } = options;
   const qCalc = Float64Array.from(pool.map((e) => qOfRow(e.row, startP))).sort();
   const strong = [...peaks.keys()].sort((a, b) => peaks[b].intensity - peaks[a].intensity).slice(0, 20);

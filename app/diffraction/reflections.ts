@@ -1,14 +1,7 @@
 // Allowed powder reflections of a cell: lattice-centering absences, Laue-equivalent planes merged with
 // their powder multiplicity, sorted by descending d-spacing.
 
-import {
-  type Cell,
-  type Centering,
-  type CrystalSystem,
-  type Hkl,
-  metricCoefficients,
-  twoThetaFromD,
-} from "./cell";
+import { type Cell, type Centering, type CrystalSystem, type Hkl, metricCoefficients, twoThetaFromD } from "./cell";
 
 /** One powder reflection: the representative hkl, d in Å, and how many planes share it by symmetry. */
 export interface Reflection {
@@ -70,8 +63,7 @@ const GENERATORS: Readonly<Record<CrystalSystem, Op[]>> = {
 
 function compose(x: Op, y: Op): Op {
   const out = new Array<number>(9);
-  for (let i = 0; i < 3; i++)
-    for (let j = 0; j < 3; j++) out[i * 3 + j] = x[i * 3] * y[j] + x[i * 3 + 1] * y[3 + j] + x[i * 3 + 2] * y[6 + j];
+  for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) out[i * 3 + j] = x[i * 3] * y[j] + x[i * 3 + 1] * y[3 + j] + x[i * 3 + 2] * y[6 + j];
   return out;
 }
 
@@ -128,12 +120,7 @@ const MAY_REPRESENT: Record<CrystalSystem, (h: number, k: number, l: number) => 
  * the powder multiplicity; centering absences applied; sorted by descending d. Accidental coincidences
  * (different planes at the same d, e.g. cubic 511 and 333) stay separate reflections.
  */
-export function allowedReflections(
-  cell: Cell,
-  system: CrystalSystem,
-  centering: Centering,
-  options: ReflectionOptions,
-): Reflection[] {
+export function allowedReflections(cell: Cell, system: CrystalSystem, centering: Centering, options: ReflectionOptions): Reflection[] {
   const { dMin, dMax = Number.POSITIVE_INFINITY, equivalents: withEquivalents = false } = options;
   if (!(dMin > 0)) throw new RangeError("dMin must be a positive d-spacing in Å");
   const m = metricCoefficients(cell);

@@ -165,7 +165,7 @@ export function cagliotiFwhm(shape: PeakShape, twoTheta: number): number {
 
 /** Scherrer broadening (degrees 2θ) of crystallites of size τ (nm): β = Kλ/(τ cosθ), K = 0.9 (Scherrer 1918). */
 export function scherrerBroadening(twoTheta: number, wavelength: number, sizeNm: number): number {
-  return ((0.9 * wavelength) / (sizeNm * 10 * Math.cos((twoTheta / 2) * RAD))) / RAD;
+  return (0.9 * wavelength) / (sizeNm * 10 * Math.cos((twoTheta / 2) * RAD)) / RAD;
 }
 
 // Re-exported so that callers and tests take the shift from the simulator with its other line-position pieces.
@@ -313,9 +313,7 @@ export function simulatePattern(options: SimulationOptions): SimulatedScan {
     if (r.twoTheta >= twoThetaMin && r.twoTheta <= twoThetaMax && (strongest < 0 || strengths[i] > strengths[strongest])) strongest = i;
   });
   const areaPerStrength =
-    strongest >= 0 && strengths[strongest] > 0
-      ? (scale / pseudoVoigtPeakHeight(reflections[strongest].fwhm, shape.eta)) / strengths[strongest]
-      : 0;
+    strongest >= 0 && strengths[strongest] > 0 ? scale / pseudoVoigtPeakHeight(reflections[strongest].fwhm, shape.eta) / strengths[strongest] : 0;
   for (let i = 0; i < planes.length; i++) {
     if (!(strengths[i] > 0)) continue;
     for (const line of lines) {
@@ -348,9 +346,7 @@ export function simulatePattern(options: SimulationOptions): SimulatedScan {
   // Relative intensities (strongest = 100) of the lines inside the scan; negligible ones (e.g. Si 222,
   // zero by the special position) are left out of the list.
   const top = strongest >= 0 ? strengths[strongest] : 0;
-  const listed = reflections.filter(
-    (r, i) => r.twoTheta >= twoThetaMin && r.twoTheta <= twoThetaMax && top > 0 && strengths[i] > top * 1e-9,
-  );
+  const listed = reflections.filter((r, i) => r.twoTheta >= twoThetaMin && r.twoTheta <= twoThetaMax && top > 0 && strengths[i] > top * 1e-9);
   for (const r of listed) r.intensity = (100 * r.intensity) / top;
 
   if (!options.noise) return { twoTheta: x, intensity: y, reflections: listed };
@@ -387,11 +383,7 @@ export function formatScanAsXy(sim: Pick<SimulatedScan, "twoTheta" | "intensity"
  * A pdCIF powder block: wavelengths (one, or Kα1 and Kα2 with weights), the 2θ range as
  * _pd_meas_2theta_range_min/_max/_inc and a _pd_meas_counts_total loop (pdCIF dictionary data names).
  */
-export function formatScanAsPdCif(
-  sim: Pick<SimulatedScan, "twoTheta" | "intensity">,
-  radiation: Radiation,
-  blockName = "simulated_scan",
-): string {
+export function formatScanAsPdCif(sim: Pick<SimulatedScan, "twoTheta" | "intensity">, radiation: Radiation, blockName = "simulated_scan"): string {
   const n = sim.twoTheta.length;
   const decimals = decimalsOfStep(sim.twoTheta);
   const inc = n > 1 ? (sim.twoTheta[n - 1] - sim.twoTheta[0]) / (n - 1) : 0;

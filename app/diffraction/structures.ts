@@ -40,9 +40,7 @@ export const SILICON: CrystalStructure = {
   system: "cubic",
   centering: "F",
   cell: { a: 5.4311946, b: 5.4311946, c: 5.4311946, alpha: 90, beta: 90, gamma: 90 },
-  sites: [
-    { element: "Si", x: 0, y: 0, z: 0 },
-  ],
+  sites: [{ element: "Si", x: 0, y: 0, z: 0 }],
   atoms: [
     { element: "Si", x: 0, y: 0, z: 0 },
     { element: "Si", x: 0.25, y: 0.25, z: 0.25 },

@@ -102,10 +102,8 @@ export function decideVerdict(input: VerdictInput): VerdictResult {
     }
     const lengthText = `The refined ${worstLength.key} differs from the declared value by ${pct(worstLength.rel)}`;
     const angleText = `The refined ${worstAngle.key} differs from the declared value by ${worstAngle.diff.toFixed(2)}°`;
-    if (worstLength.rel > rule.inconsistentLengthDeviation)
-      fatal.push(`${lengthText}, more than ${pct(rule.inconsistentLengthDeviation)}.`);
-    else if (worstLength.rel > rule.consistentLengthDeviation)
-      doubts.push(`${lengthText}, more than ${pct(rule.consistentLengthDeviation)}.`);
+    if (worstLength.rel > rule.inconsistentLengthDeviation) fatal.push(`${lengthText}, more than ${pct(rule.inconsistentLengthDeviation)}.`);
+    else if (worstLength.rel > rule.consistentLengthDeviation) doubts.push(`${lengthText}, more than ${pct(rule.consistentLengthDeviation)}.`);
     if (worstAngle.diff > rule.inconsistentAngleDeviation) fatal.push(`${angleText}, more than ${rule.inconsistentAngleDeviation}°.`);
     else if (worstAngle.diff > rule.consistentAngleDeviation) doubts.push(`${angleText}, more than ${rule.consistentAngleDeviation}°.`);
     if (worstLength.rel <= rule.consistentLengthDeviation && worstAngle.diff <= rule.consistentAngleDeviation) {
@@ -154,9 +152,7 @@ export function decideVerdict(input: VerdictInput): VerdictResult {
     if (input.esd && input.refinedCell) {
       const worst = Math.max(...LENGTHS.map((k) => input.esd![k] / input.refinedCell![k]));
       if (!(worst < rule.maxRelativeEsd)) {
-        doubts.push(
-          `The refined cell is imprecise (relative standard uncertainty ${worst.toExponential(1)}, above ${rule.maxRelativeEsd}).`,
-        );
+        doubts.push(`The refined cell is imprecise (relative standard uncertainty ${worst.toExponential(1)}, above ${rule.maxRelativeEsd}).`);
       }
     } else {
       doubts.push("The refinement has no degrees of freedom left for standard uncertainties.");

@@ -28,9 +28,7 @@ export const ANODE_LINES: Record<Anode, { kAlpha1: number; kAlpha2: number; kBet
 export type Monochromation = "k_alpha_doublet" | "k_alpha1_only" | "k_beta_filtered";
 
 /** The radiation of an instrument: a laboratory anode, or one wavelength (synchrotron, neutron). */
-export type Radiation =
-  | { kind: "anode"; anode: Anode; monochromation: Monochromation }
-  | { kind: "custom"; wavelength: number };
+export type Radiation = { kind: "anode"; anode: Anode; monochromation: Monochromation } | { kind: "custom"; wavelength: number };
 
 /** Kα2/Kα1 intensity ratio: 0.5 is the usual convention (common practice; xraylib's rates give 0.51–0.53). */
 export const KALPHA2_RATIO = 0.5;

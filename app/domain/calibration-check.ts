@@ -29,7 +29,13 @@ export type CalibrationOutcome = { ok: true; check: CalibrationCheck } | { ok: f
 /** Runs the lattice check on a calibration scan against the standard's certified cubic cell. */
 export function checkCalibrationScan(
   text: string,
-  input: { standard: CalibrationStandard; instrumentName: string; anode: (typeof ANODE_CHOICES)[number]; monochromation: (typeof MONOCHROMATION_CHOICES)[number]; fileName: string },
+  input: {
+    standard: CalibrationStandard;
+    instrumentName: string;
+    anode: (typeof ANODE_CHOICES)[number];
+    monochromation: (typeof MONOCHROMATION_CHOICES)[number];
+    fileName: string;
+  },
 ): CalibrationOutcome {
   const standard = CALIBRATION_STANDARDS[input.standard];
   const a = standard.a;

@@ -3,14 +3,7 @@ import { z } from "zod";
 import { ANODE_LINES, type Anode, type Monochromation } from "~/diffraction/wavelengths";
 import { SPECIAL_CATEGORY_CODES, GHS_CODES } from "~/domain/hazard-codes";
 
-export const TECHNIQUES = [
-  "powder_reflection",
-  "powder_transmission",
-  "thin_film",
-  "single_crystal",
-  "total_scattering",
-  "neutron_powder",
-] as const;
+export const TECHNIQUES = ["powder_reflection", "powder_transmission", "thin_film", "single_crystal", "total_scattering", "neutron_powder"] as const;
 export type Technique = (typeof TECHNIQUES)[number];
 export const TECHNIQUE_LABELS: Record<Technique, string> = {
   powder_reflection: "Powder, reflection",
@@ -66,8 +59,7 @@ export function instrumentWavelength(i: { anode: Anode | null; customWavelength:
 
 const finite = (v: unknown): v is number => typeof v === "number" && Number.isFinite(v);
 const num = (what: string) => z.number({ error: `Enter ${what} as a number.` });
-const twoTheta = (what: string) =>
-  num(what).min(0, "2θ lies between 0° and 180°.").max(180, "2θ lies between 0° and 180°.");
+const twoTheta = (what: string) => num(what).min(0, "2θ lies between 0° and 180°.").max(180, "2θ lies between 0° and 180°.");
 
 export const InstrumentSchema = z
   .object({
@@ -76,10 +68,7 @@ export const InstrumentSchema = z
     technique: z.enum(TECHNIQUES, { error: "Choose a technique from the list." }),
     sourceKind: z.enum(["anode", "custom"], { error: "Choose an anode or a custom wavelength." }),
     anode: z.enum(ANODE_CHOICES, { error: "Choose an anode from the list." }).optional(),
-    customWavelength: num("the wavelength in Å")
-      .gt(0, "The wavelength must be more than 0 Å.")
-      .max(20, "A diffraction wavelength is below 20 Å.")
-      .optional(),
+    customWavelength: num("the wavelength in Å").gt(0, "The wavelength must be more than 0 Å.").max(20, "A diffraction wavelength is below 20 Å.").optional(),
     monochromation: z.enum(MONOCHROMATION_CHOICES, { error: "Choose how the beam is monochromated." }),
     twoThetaMin: twoTheta("the smallest 2θ in degrees"),
     twoThetaMax: twoTheta("the largest 2θ in degrees"),

@@ -104,7 +104,6 @@ export function peaksTable(result: Pick<StoredCheckResult, "peaks">): (string | 
   return [header, ...rows];
 }
 
-
 /** A sample's declaration as the app stores it: text fields and a cell whose parts may be missing. */
 export interface SampleDeclaration {
   system?: string | null;

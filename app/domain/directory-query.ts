@@ -18,10 +18,18 @@ export const DirectoryQuery = z.object({
   source: z.enum(ANODES as [string, ...string[]], { error: `source must be one of ${ANODES.join(", ")}.` }).optional(),
   dMin: optionalNumber("dMin (Å)", 0, 100),
   temperatureK: optionalNumber("temperatureK", 0, 5000),
-  hazard: z.array(z.enum([...GHS_CODES, ...SPECIAL_CATEGORY_CODES], { error: "hazard must be a GHS pictogram code (GHS01–GHS09) or a special category." })).max(16).default([]),
+  hazard: z
+    .array(z.enum([...GHS_CODES, ...SPECIAL_CATEGORY_CODES], { error: "hazard must be a GHS pictogram code (GHS01–GHS09) or a special category." }))
+    .max(16)
+    .default([]),
   maxPrice: optionalNumber("maxPrice (per sample, major units)", 0, 1_000_000),
   turnaroundDays: z.coerce.number({ error: "turnaroundDays must be a whole number." }).int("turnaroundDays must be a whole number.").min(1).max(365).optional(),
-  q: z.string().trim().max(100, "q has at most 100 characters.").refine((v) => !v.includes("\u0000"), "q cannot contain a NUL character.").optional(),
+  q: z
+    .string()
+    .trim()
+    .max(100, "q has at most 100 characters.")
+    .refine((v) => !v.includes("\u0000"), "q cannot contain a NUL character.")
+    .optional(),
   page: z.coerce.number({ error: "page must be a whole number." }).int("page must be a whole number.").min(1, "page starts at 1.").max(10_000).default(1),
 });
 export type DirectoryFilters = z.infer<typeof DirectoryQuery>;
@@ -44,4 +52,3 @@ export function parseDirectoryQuery(params: URLSearchParams): { ok: true; filter
   }
   return { ok: true, filters: parsed.data };
 }
-

@@ -5,7 +5,10 @@ export const LEDGER_KINDS = ["payment_held", "payout", "platform_fee", "refund"]
 
 export const LedgerFilterSchema = z.object({
   kind: z.enum(LEDGER_KINDS, { error: "Choose a kind of movement." }).optional(),
-  currency: z.string().regex(/^[A-Z]{3}$/, "A currency is three capital letters, e.g. EUR.").optional(),
+  currency: z
+    .string()
+    .regex(/^[A-Z]{3}$/, "A currency is three capital letters, e.g. EUR.")
+    .optional(),
   orderId: z.uuid({ error: "An order id is a UUID." }).optional(),
   from: z.iso.date({ error: "Dates are YYYY-MM-DD." }).optional(),
   to: z.iso.date({ error: "Dates are YYYY-MM-DD." }).optional(),
@@ -19,6 +22,12 @@ export function parseLedgerFilter(params: URLSearchParams) {
   return {
     ok: true as const,
     raw: v,
-    filter: { kind: v.kind, currency: v.currency, orderId: v.orderId, from: v.from ? new Date(v.from) : undefined, to: v.to ? new Date(new Date(v.to).getTime() + 86_400_000) : undefined },
+    filter: {
+      kind: v.kind,
+      currency: v.currency,
+      orderId: v.orderId,
+      from: v.from ? new Date(v.from) : undefined,
+      to: v.to ? new Date(new Date(v.to).getTime() + 86_400_000) : undefined,
+    },
   };
 }

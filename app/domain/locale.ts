@@ -5,9 +5,29 @@
 
 /** Locales whose number and date conventions the screens follow; the words stay English. */
 export const SUPPORTED_LOCALES = [
-  "en-GB", "en-US", "en-CA", "en-AU", "en-IE",
-  "de-DE", "de-AT", "de-CH", "fr-FR", "fr-CH", "fr-BE", "it-IT", "it-CH", "es-ES", "nl-NL", "nl-BE",
-  "sv-SE", "da-DK", "nb-NO", "fi-FI", "pl-PL", "pt-PT", "cs-CZ",
+  "en-GB",
+  "en-US",
+  "en-CA",
+  "en-AU",
+  "en-IE",
+  "de-DE",
+  "de-AT",
+  "de-CH",
+  "fr-FR",
+  "fr-CH",
+  "fr-BE",
+  "it-IT",
+  "it-CH",
+  "es-ES",
+  "nl-NL",
+  "nl-BE",
+  "sv-SE",
+  "da-DK",
+  "nb-NO",
+  "fi-FI",
+  "pl-PL",
+  "pt-PT",
+  "cs-CZ",
 ] as const;
 export type SupportedLocale = (typeof SUPPORTED_LOCALES)[number];
 export const DEFAULT_LOCALE: SupportedLocale = "en-GB";
@@ -88,7 +108,13 @@ export function formatterFor(locale: SupportedLocale = DEFAULT_LOCALE): Formatte
   };
   const day = new Intl.DateTimeFormat(locale, { dateStyle: "medium", timeZone: DISPLAY_TIME_ZONE });
   const moment = new Intl.DateTimeFormat(locale, {
-    day: "numeric", month: "short", year: "numeric", hour: "numeric", minute: "2-digit", timeZone: DISPLAY_TIME_ZONE, timeZoneName: "short",
+    day: "numeric",
+    month: "short",
+    year: "numeric",
+    hour: "numeric",
+    minute: "2-digit",
+    timeZone: DISPLAY_TIME_ZONE,
+    timeZoneName: "short",
   });
   const count = new Intl.NumberFormat(locale);
   const formatter: Formatter = {

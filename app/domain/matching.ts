@@ -135,7 +135,10 @@ export function evaluateInstrument(req: MatchRequest, inst: MatchInstrument): In
   const warnings: string[] = [];
   const add = (ok: boolean, text: string) => reasons.push({ ok, text });
 
-  add(inst.technique === req.technique, inst.technique === req.technique ? `Technique ${labelOf(inst.technique)}` : `Technique is ${labelOf(inst.technique)}, not ${labelOf(req.technique)}`);
+  add(
+    inst.technique === req.technique,
+    inst.technique === req.technique ? `Technique ${labelOf(inst.technique)}` : `Technique is ${labelOf(inst.technique)}, not ${labelOf(req.technique)}`,
+  );
 
   if (req.preferredSource !== "any") {
     const ok = inst.anode === req.preferredSource;
@@ -169,9 +172,7 @@ export function evaluateInstrument(req: MatchRequest, inst: MatchInstrument): In
   const points = req.temperaturePointsK.length > 0 ? req.temperaturePointsK : [298];
   const ambientAir = req.atmosphere === "air" && points.every((t) => t >= AMBIENT_K[0] && t <= AMBIENT_K[1]);
   if (!ambientAir) {
-    const missing = points.filter(
-      (t) => !inst.stages.some((s) => t >= s.minTemperatureK && t <= s.maxTemperatureK && s.atmospheres.includes(req.atmosphere)),
-    );
+    const missing = points.filter((t) => !inst.stages.some((s) => t >= s.minTemperatureK && t <= s.maxTemperatureK && s.atmospheres.includes(req.atmosphere)));
     const stageText = inst.stages.map((s) => `${s.name} ${s.minTemperatureK}–${s.maxTemperatureK} K`).join(", ") || "no sample stages";
     add(
       missing.length === 0,
@@ -183,7 +184,12 @@ export function evaluateInstrument(req: MatchRequest, inst: MatchInstrument): In
 
   const forms = inst.sampleForms.length > 0 ? inst.sampleForms : ["powder"];
   const badForms = [...new Set(req.samples.map((s) => s.form))].filter((f) => !forms.includes(f));
-  add(badForms.length === 0, badForms.length === 0 ? `Accepts ${[...new Set(req.samples.map((s) => s.form))].join(", ") || "the samples"}` : `Does not take ${badForms.join(", ")} samples`);
+  add(
+    badForms.length === 0,
+    badForms.length === 0
+      ? `Accepts ${[...new Set(req.samples.map((s) => s.form))].join(", ") || "the samples"}`
+      : `Does not take ${badForms.join(", ")} samples`,
+  );
 
   return { instrument: inst, fits: reasons.every((r) => r.ok), reasons, warnings };
 }
@@ -233,9 +239,7 @@ export function matchLab(req: MatchRequest, lab: MatchLab): LabMatch {
   // The best instrument fits and, among those, has no warning; otherwise the one closest to fitting.
   const ranked = [...fits].sort(
     (a, b) =>
-      Number(b.fits) - Number(a.fits) ||
-      a.warnings.length - b.warnings.length ||
-      b.reasons.filter((r) => r.ok).length - a.reasons.filter((r) => r.ok).length,
+      Number(b.fits) - Number(a.fits) || a.warnings.length - b.warnings.length || b.reasons.filter((r) => r.ok).length - a.reasons.filter((r) => r.ok).length,
   );
   const best = ranked[0];
   const hazards = hazardReasons(req, lab);

@@ -54,7 +54,8 @@ export const ORDER_STATE_LABELS: Record<OrderState, string> = {
 export function moveProblem(from: OrderState, to: OrderState, mover: Mover): string | null {
   const allowed = TRANSITIONS[from][to];
   if (!allowed) return `An order that is "${ORDER_STATE_LABELS[from]}" cannot become "${ORDER_STATE_LABELS[to]}".`;
-  if (!allowed.includes(mover)) return `Only ${allowed.map((m) => (m === "system" ? "the platform" : `the ${m}`)).join(" or ")} can mark an order "${ORDER_STATE_LABELS[to]}".`;
+  if (!allowed.includes(mover))
+    return `Only ${allowed.map((m) => (m === "system" ? "the platform" : `the ${m}`)).join(" or ")} can mark an order "${ORDER_STATE_LABELS[to]}".`;
   return null;
 }
 

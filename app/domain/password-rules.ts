@@ -18,4 +18,7 @@ export const currentPasswordField = (what = "your current password") =>
 export const newPasswordPair = <T extends z.ZodRawShape>(extra: T) =>
   z
     .object({ ...extra, password: newPasswordField(), confirm: z.string({ error: "Enter the new password again." }).max(PASSWORD_MAX) })
-    .refine((v) => (v as { password: string }).password === (v as { confirm: string }).confirm, { path: ["confirm"], message: "The two passwords are not the same." });
+    .refine((v) => (v as { password: string }).password === (v as { confirm: string }).confirm, {
+      path: ["confirm"],
+      message: "The two passwords are not the same.",
+    });

@@ -50,11 +50,7 @@ export const PriceListSchema = z
       .min(1, "A rush multiplier is at least 1 (no surcharge).")
       .max(5, "At most 5 times the normal price.")
       .refine((v) => Math.abs(v * 100 - Math.round(v * 100)) < 1e-9, "At most two decimals."),
-    turnaroundDays: z
-      .number({ error: "Enter the turnaround in days." })
-      .int("Whole days only.")
-      .min(1, "At least 1 day.")
-      .max(365, "At most 365 days."),
+    turnaroundDays: z.number({ error: "Enter the turnaround in days." }).int("Whole days only.").min(1, "At least 1 day.").max(365, "At most 365 days."),
   })
   .refine((v) => Object.values(v.perSample).some((p) => p !== undefined), {
     path: ["perSample"],

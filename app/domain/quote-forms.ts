@@ -24,11 +24,7 @@ export const QuoteLineSchema = z.object({
 export const QuoteSchema = z.object({
   items: z.array(QuoteLineSchema, { error: "Add at least one line item." }).min(1, "Add at least one line item.").max(30, "At most 30 line items."),
   validUntil: z.iso.date({ error: "Enter the date the quote is valid until." }).refine((d) => d >= todayIso(), "The quote must be valid until today or later."),
-  turnaroundDays: z
-    .number({ error: "Enter the turnaround in days." })
-    .int("Enter whole days.")
-    .min(1, "At least one day.")
-    .max(365, "At most 365 days."),
+  turnaroundDays: z.number({ error: "Enter the turnaround in days." }).int("Enter whole days.").min(1, "At least one day.").max(365, "At most 365 days."),
   instrumentId: z.uuid({ error: "Choose the instrument." }),
   notes: z.string().trim().max(2000, "At most 2,000 characters.").optional(),
 });

@@ -106,7 +106,12 @@ const SpecialEntry = z.object({
 });
 
 const SpecialHazardsSchema = z
-  .object(Object.fromEntries(SPECIAL_CATEGORY_CODES.map((c) => [c, SpecialEntry.optional()])) as Record<(typeof SPECIAL_CATEGORY_CODES)[number], z.ZodOptional<typeof SpecialEntry>>)
+  .object(
+    Object.fromEntries(SPECIAL_CATEGORY_CODES.map((c) => [c, SpecialEntry.optional()])) as Record<
+      (typeof SPECIAL_CATEGORY_CODES)[number],
+      z.ZodOptional<typeof SpecialEntry>
+    >,
+  )
   .superRefine((entries, ctx) => {
     for (const [category, entry] of Object.entries(entries)) {
       if (!entry?.declared) continue;
@@ -119,7 +124,10 @@ const SpecialHazardsSchema = z
 
 export const SampleHazardSchema = z.object({
   id: z.uuid({ error: "This sample is not part of the request." }),
-  ghs: z.array(z.enum(GHS_CODES, { error: "Choose pictograms from GHS01 to GHS09." })).optional().default([]),
+  ghs: z
+    .array(z.enum(GHS_CODES, { error: "Choose pictograms from GHS01 to GHS09." }))
+    .optional()
+    .default([]),
   hStatements: z
     .string()
     .max(300, "At most 300 characters.")

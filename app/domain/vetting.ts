@@ -97,7 +97,10 @@ export const VettingApplicationSchema = z.object({
     .refine((d) => d > new Date().toISOString().slice(0, 10), "The accreditation has expired; hand in the current certificate."),
   certificateKey: z.string({ error: "Upload the accreditation certificate." }).min(1, "Upload the accreditation certificate."),
   certificateName: z.string().max(200).default("certificate"),
-  certificateSha256: z.string().regex(/^[0-9a-f]{64}$/i).optional(),
+  certificateSha256: z
+    .string()
+    .regex(/^[0-9a-f]{64}$/i)
+    .optional(),
   attest: z.literal(true, { error: "Confirm the radiation-licence statement." }),
   attestedName: z
     .string({ error: "Sign the statement with your full name." })
@@ -114,7 +117,10 @@ export const VettingApplicationSchema = z.object({
   monochromation: z.enum(MONOCHROMATION_CHOICES, { error: "Choose how the beam was monochromated." }),
   scanKey: z.string({ error: "Upload the calibration scan." }).min(1, "Upload the calibration scan."),
   scanName: z.string().max(200).default("scan.xy"),
-  scanSha256: z.string().regex(/^[0-9a-f]{64}$/i).optional(),
+  scanSha256: z
+    .string()
+    .regex(/^[0-9a-f]{64}$/i)
+    .optional(),
 });
 
 /** The statement a lab manager confirms; stored with their name, user and time. */

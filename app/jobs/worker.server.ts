@@ -49,4 +49,3 @@ export async function startMailWorkers(boss: PgBoss, { sweepMs = 5000, reminderC
   boss.once("stopped", () => void stop());
   return stop;
 }
-

@@ -7,7 +7,10 @@ import type { Route } from "./+types/check-peaks-csv";
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { check, file } = await requireCheckAccess(request, params.id);
   if (check.status !== "done" || !check.result) {
-    return new Response("The check has not finished, so there is no peaks table yet.\n", { status: 409, headers: { "Content-Type": "text/plain; charset=utf-8" } });
+    return new Response("The check has not finished, so there is no peaks table yet.\n", {
+      status: 409,
+      headers: { "Content-Type": "text/plain; charset=utf-8" },
+    });
   }
   const base = file.name.replace(/\.[^.]+$/, "").replace(/[^A-Za-z0-9._-]+/g, "_") || "scan";
   return new Response(csvText(peaksTable(check.result as unknown as StoredCheckResult)), {

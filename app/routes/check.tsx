@@ -40,7 +40,10 @@ export default function CheckScreen({ loaderData: d }: Route.ComponentProps) {
       <header className="flex flex-wrap items-center justify-between gap-3 border-b border-ink-200 bg-white px-4 py-3 sm:px-6">
         <Brand />
         <p className="text-sm text-ink-600">
-          {d.organisationName} · <Link to={back} className="font-medium text-beam-700 hover:underline">← Back to the order&apos;s files</Link>
+          {d.organisationName} ·{" "}
+          <Link to={back} className="font-medium text-beam-700 hover:underline">
+            ← Back to the order&apos;s files
+          </Link>
         </p>
       </header>
       <main className="mx-auto max-w-6xl space-y-6 px-4 py-6 sm:px-6">
@@ -48,7 +51,11 @@ export default function CheckScreen({ loaderData: d }: Route.ComponentProps) {
           title={`Lattice check of ${d.file.name}`}
           subtitle={
             <>
-              Version {d.file.version} · {d.sample ? `sample ${d.sample.label} (${d.sample.formula}${d.sample.expectedPhase ? `, declared ${d.sample.expectedPhase}` : ""})` : "no sample linked"} · {d.orderTitle}
+              Version {d.file.version} ·{" "}
+              {d.sample
+                ? `sample ${d.sample.label} (${d.sample.formula}${d.sample.expectedPhase ? `, declared ${d.sample.expectedPhase}` : ""})`
+                : "no sample linked"}{" "}
+              · {d.orderTitle}
             </>
           }
           actions={
@@ -132,7 +139,8 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
         ) : null}
         <p className="text-xs text-ink-600">
           {radiationWords(result.radiation)} · λ = {result.wavelength.toFixed(6)} Å
-          {result.declaredFrom.instrumentName ? ` · measured on ${result.declaredFrom.instrumentName}` : ""} · checked in {(result.elapsedMs / 1000).toFixed(2)} s
+          {result.declaredFrom.instrumentName ? ` · measured on ${result.declaredFrom.instrumentName}` : ""} · checked in {(result.elapsedMs / 1000).toFixed(2)}{" "}
+          s
         </p>
       </section>
 
@@ -143,8 +151,8 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
         <CheckPlot data={plotData} label="Observed, background, fitted profile, reflection marks and difference curve" />
         {result.profile.thinned ? (
           <p className="text-xs text-ink-600">
-            The scan has {fmt.number(result.profile.points)} points; the plot shows {fmt.number(result.profile.twoTheta.length)} of them, keeping
-            each stretch&apos;s lowest and highest count so no peak top is lost. The original file in the data room has every point.
+            The scan has {fmt.number(result.profile.points)} points; the plot shows {fmt.number(result.profile.twoTheta.length)} of them, keeping each
+            stretch&apos;s lowest and highest count so no peak top is lost. The original file in the data room has every point.
           </p>
         ) : null}
       </section>
@@ -193,9 +201,7 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
               {result.peaks.length} found, {indexed} indexed, {result.peaks.length - indexed} unindexed
             </dd>
             <dt className="font-medium">Crystallite size</dt>
-            <dd>
-              {meanSize != null ? `≈ ${meanSize.toFixed(0)} nm (Scherrer, mean over ${sizes.length} peaks; see the caution below)` : "not available"}
-            </dd>
+            <dd>{meanSize != null ? `≈ ${meanSize.toFixed(0)} nm (Scherrer, mean over ${sizes.length} peaks; see the caution below)` : "not available"}</dd>
           </dl>
         </section>
       </div>

@@ -16,11 +16,7 @@ authenticator.use(
   new FormStrategy(async ({ form }) => {
     const email = normaliseEmail(String(form.get("email") ?? ""));
     const password = String(form.get("password") ?? "");
-    const [user] = await db
-      .select()
-      .from(schema.users)
-      .where(sql`lower(${schema.users.email}) = ${email}`)
-      .limit(1);
+    const [user] = await db.select().from(schema.users).where(sql`lower(${schema.users.email}) = ${email}`).limit(1);
     const ok = await verifyPassword(user?.passwordHash ?? null, password);
     if (!user || !ok) throw new WrongCredentials("The e-mail or password is not right.");
     return user;

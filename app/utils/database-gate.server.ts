@@ -51,10 +51,7 @@ function probe(): Promise<boolean> {
   state.probe ??= (async () => {
     let timer: NodeJS.Timeout | undefined;
     try {
-      await Promise.race([
-        db.$client.query("select 1"),
-        new Promise((_, reject) => (timer = setTimeout(() => reject(new Error("no answer")), 1500))),
-      ]);
+      await Promise.race([db.$client.query("select 1"), new Promise((_, reject) => (timer = setTimeout(() => reject(new Error("no answer")), 1500)))]);
       state.suspectSince = null;
       return true;
     } catch {

@@ -166,7 +166,9 @@ export async function requireOrderSide(
  * organisation is tried first, so a person on both sides of an order sees their current side.
  */
 async function partyTo(actor: Actor, orderId: string) {
-  const ordered = [...actor.memberships].sort((a, b) => Number(b.organisation.id === actor.active?.organisation.id) - Number(a.organisation.id === actor.active?.organisation.id));
+  const ordered = [...actor.memberships].sort(
+    (a, b) => Number(b.organisation.id === actor.active?.organisation.id) - Number(a.organisation.id === actor.active?.organisation.id),
+  );
   for (const m of ordered) {
     const found = await orderForOrganisation(orderId, m.organisation.id);
     if (found) return { ...found, organisation: m.organisation };
@@ -233,8 +235,7 @@ export async function requireOwnDraft(request: Request, requestId: string | unde
 
 // ───────────── Instrument computers ─────────────
 
-const unauthorized = (error: string) =>
-  Response.json({ error }, { status: 401, headers: { "WWW-Authenticate": 'Bearer realm="diffractory"' } });
+const unauthorized = (error: string) => Response.json({ error }, { status: 401, headers: { "WWW-Authenticate": 'Bearer realm="diffractory"' } });
 
 /**
  * The upload API's own "require" step: a valid, unrevoked bearer token, counted against its rate limit.

@@ -35,7 +35,11 @@ function keepFor(res: Response): number {
   if (res.statusCode !== 200 || res.getHeader("set-cookie")) return 0;
   const cc = String(res.getHeader("cache-control") ?? "");
   const maxAge = /(?:^|,)\s*public\s*(?:,|$)/.test(cc) && !/no-store|private|no-cache/.test(cc) ? /max-age=(\d+)/.exec(cc) : null;
-  const vary = String(res.getHeader("vary") ?? "").toLowerCase().split(",").map((v) => v.trim()).filter(Boolean);
+  const vary = String(res.getHeader("vary") ?? "")
+    .toLowerCase()
+    .split(",")
+    .map((v) => v.trim())
+    .filter(Boolean);
   if (!maxAge || vary.some((v) => v !== "accept-encoding")) return 0;
   return Math.min(LIMIT_MS, Number(maxAge[1]) * 1000);
 }
@@ -59,7 +63,8 @@ export function publicCache(req: Request, res: Response, next: NextFunction) {
   let size = 0;
   const collect = (chunk: unknown, encoding?: unknown) => {
     if (chunk === undefined || chunk === null || typeof chunk === "function" || size > MAX_BODY_BYTES) return;
-    const b = typeof chunk === "string" ? Buffer.from(chunk, typeof encoding === "string" ? (encoding as BufferEncoding) : "utf8") : Buffer.from(chunk as Uint8Array);
+    const b =
+      typeof chunk === "string" ? Buffer.from(chunk, typeof encoding === "string" ? (encoding as BufferEncoding) : "utf8") : Buffer.from(chunk as Uint8Array);
     size += b.length;
     chunks.push(b);
   };

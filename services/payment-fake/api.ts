@@ -18,13 +18,16 @@ export interface ProviderErrorBody {
  * never started executing), so a corrected retry with the same key is not refused.
  */
 export class ApiError extends Error {
-  constructor(public status: number, public body: ProviderErrorBody, public stored = true) {
+  constructor(
+    public status: number,
+    public body: ProviderErrorBody,
+    public stored = true,
+  ) {
     super(body.message);
   }
 }
 
-export const invalid = (message: string, extra: Partial<ProviderErrorBody> = {}) =>
-  new ApiError(400, { type: "invalid_request_error", message, ...extra });
+export const invalid = (message: string, extra: Partial<ProviderErrorBody> = {}) => new ApiError(400, { type: "invalid_request_error", message, ...extra });
 
 export const paramError = (param: string, message: string, code = "parameter_invalid") =>
   new ApiError(400, { type: "invalid_request_error", message, param, code }, false);
@@ -90,7 +93,11 @@ export function listObject(items: ProviderObject[], query: Body, url: string) {
   const after = str(query, "starting_after");
   const before = str(query, "ending_before");
   if (after) start = newestFirst.findIndex((o) => o.id === after) + 1;
-  if (before) end = Math.max(0, newestFirst.findIndex((o) => o.id === before));
+  if (before)
+    end = Math.max(
+      0,
+      newestFirst.findIndex((o) => o.id === before),
+    );
   let page = newestFirst.slice(start, end);
   const hasMore = page.length > limit;
   page = before ? page.slice(-limit) : page.slice(0, limit);
@@ -102,12 +109,7 @@ export function listObject(items: ProviderObject[], query: Body, url: string) {
  * `data.charge`: an id string is replaced by a copy of the object it names. `virtual` supplies fields
  * that are not stored on the object (a session's line items).
  */
-export function expand(
-  state: FakeState,
-  obj: unknown,
-  paths: string[],
-  virtual: (o: ProviderObject, field: string) => unknown = () => undefined,
-): unknown {
+export function expand(state: FakeState, obj: unknown, paths: string[], virtual: (o: ProviderObject, field: string) => unknown = () => undefined): unknown {
   if (paths.length === 0 || obj === null || typeof obj !== "object") return obj;
   const copy = structuredClone(obj) as Record<string, unknown>;
   for (const p of paths) expandPath(state, copy, p.split("."), virtual);

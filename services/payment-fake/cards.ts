@@ -31,11 +31,23 @@ const CARDS: Record<string, { brand: string; funding: string; error?: Omit<CardE
   "4000056655665556": { brand: "visa", funding: "debit" },
   "5555555555554444": { brand: "mastercard", funding: "credit" },
   "4000000000000002": { brand: "visa", funding: "credit", error: { code: "card_declined", decline_code: "generic_decline", message: DECLINED } },
-  "4000000000009995": { brand: "visa", funding: "credit", error: { code: "card_declined", decline_code: "insufficient_funds", message: "Your card has insufficient funds." } },
+  "4000000000009995": {
+    brand: "visa",
+    funding: "credit",
+    error: { code: "card_declined", decline_code: "insufficient_funds", message: "Your card has insufficient funds." },
+  },
   "4000000000009987": { brand: "visa", funding: "credit", error: { code: "card_declined", decline_code: "lost_card", message: DECLINED } },
   "4000000000000069": { brand: "visa", funding: "credit", error: { code: "expired_card", decline_code: "expired_card", message: "Your card has expired." } },
-  "4000000000000127": { brand: "visa", funding: "credit", error: { code: "incorrect_cvc", decline_code: "incorrect_cvc", message: "Your card's security code is incorrect." } },
-  "4000000000000119": { brand: "visa", funding: "credit", error: { code: "processing_error", decline_code: "processing_error", message: "An error occurred while processing your card. Try again in a little bit." } },
+  "4000000000000127": {
+    brand: "visa",
+    funding: "credit",
+    error: { code: "incorrect_cvc", decline_code: "incorrect_cvc", message: "Your card's security code is incorrect." },
+  },
+  "4000000000000119": {
+    brand: "visa",
+    funding: "credit",
+    error: { code: "processing_error", decline_code: "processing_error", message: "An error occurred while processing your card. Try again in a little bit." },
+  },
 };
 
 export const TEST_CARDS_HINT = [
@@ -53,8 +65,11 @@ export function checkCard(input: CardInput, at = new Date()): CardVerdict {
   const expMonth = m ? Number(m[1]) : 0;
   const expYear = m ? (m[2].length === 2 ? 2000 + Number(m[2]) : Number(m[2])) : 0;
   const base = { brand: known?.brand ?? "unknown", funding: known?.funding ?? "unknown", last4: digits.slice(-4), expMonth, expYear };
-  const fail = (code: string, message: string, decline_code?: string): CardVerdict =>
-    ({ ...base, ok: false, error: { type: "card_error", code, ...(decline_code ? { decline_code } : {}), message } });
+  const fail = (code: string, message: string, decline_code?: string): CardVerdict => ({
+    ...base,
+    ok: false,
+    error: { type: "card_error", code, ...(decline_code ? { decline_code } : {}), message },
+  });
 
   if (!/^\d{12,19}$/.test(digits) || !known) return fail("incorrect_number", "Your card number is incorrect.");
   if (!m || expMonth < 1 || expMonth > 12) return fail("invalid_expiry_month", "Your card's expiration month is invalid.");

@@ -1,18 +1,34 @@
 // Connected (Express) payout accounts, their onboarding links, transfers to them and the balances.
-import {
-  type Body, bool, currencyOf, formatAmount, invalid, metadataOf, noSuch, now, paramError, positiveInt, requireStr, str,
-} from "./api";
+import { type Body, bool, currencyOf, formatAmount, invalid, metadataOf, noSuch, now, paramError, positiveInt, requireStr, str } from "./api";
 import { type Ctx, balanceTransaction } from "./payments";
 import type { ProviderObject } from "./state";
 
-const CURRENCY_BY_COUNTRY: Record<string, string> = { US: "usd", GB: "gbp", CH: "chf", SE: "sek", DK: "dkk", NO: "nok", PL: "pln", CZ: "czk", JP: "jpy", CA: "cad", AU: "aud" };
+const CURRENCY_BY_COUNTRY: Record<string, string> = {
+  US: "usd",
+  GB: "gbp",
+  CH: "chf",
+  SE: "sek",
+  DK: "dkk",
+  NO: "nok",
+  PL: "pln",
+  CZ: "czk",
+  JP: "jpy",
+  CA: "cad",
+  AU: "aud",
+};
 const DUE_BEFORE_ONBOARDING = ["business_type", "external_account", "tos_acceptance.date", "tos_acceptance.ip"];
 const LINK_LIFETIME_S = 300;
 
 function requirements(due: string[]) {
   return {
-    alternatives: [], current_deadline: null, currently_due: due, disabled_reason: due.length ? "requirements.past_due" : null,
-    errors: [], eventually_due: due, past_due: due, pending_verification: [],
+    alternatives: [],
+    current_deadline: null,
+    currently_due: due,
+    disabled_reason: due.length ? "requirements.past_due" : null,
+    errors: [],
+    eventually_due: due,
+    past_due: due,
+    pending_verification: [],
   };
 }
 
@@ -21,14 +37,32 @@ export function createAccount(ctx: Ctx, body: Body) {
   if (!["express", "standard", "custom"].includes(type)) throw paramError("type", `Invalid type: must be one of express, standard, custom`);
   const country = (str(body, "country") ?? "DE").toUpperCase();
   const requested = (body.capabilities ?? {}) as Record<string, Body>;
-  const capabilities = Object.fromEntries(Object.entries(requested).filter(([, v]) => bool(v?.requested)).map(([k]) => [k, "inactive"]));
+  const capabilities = Object.fromEntries(
+    Object.entries(requested)
+      .filter(([, v]) => bool(v?.requested))
+      .map(([k]) => [k, "inactive"]),
+  );
   return ctx.state.put({
-    id: ctx.state.newId("acct"), object: "account", business_profile: { mcc: null, name: null, url: null, support_email: null },
-    business_type: null, capabilities, charges_enabled: false, controller: { type: "application", is_controller: true },
-    country, created: now(), default_currency: CURRENCY_BY_COUNTRY[country] ?? "eur", details_submitted: false,
-    email: str(body, "email"), external_accounts: { object: "list", data: [], has_more: false, total_count: 0, url: "" },
-    future_requirements: requirements([]), metadata: metadataOf(body), payouts_enabled: false,
-    requirements: requirements(DUE_BEFORE_ONBOARDING), settings: null, tos_acceptance: { date: null }, type,
+    id: ctx.state.newId("acct"),
+    object: "account",
+    business_profile: { mcc: null, name: null, url: null, support_email: null },
+    business_type: null,
+    capabilities,
+    charges_enabled: false,
+    controller: { type: "application", is_controller: true },
+    country,
+    created: now(),
+    default_currency: CURRENCY_BY_COUNTRY[country] ?? "eur",
+    details_submitted: false,
+    email: str(body, "email"),
+    external_accounts: { object: "list", data: [], has_more: false, total_count: 0, url: "" },
+    future_requirements: requirements([]),
+    metadata: metadataOf(body),
+    payouts_enabled: false,
+    requirements: requirements(DUE_BEFORE_ONBOARDING),
+    settings: null,
+    tos_acceptance: { date: null },
+    type,
   });
 }
 
@@ -47,7 +81,13 @@ export function updateAccount(ctx: Ctx, id: string, body: Body) {
   return a;
 }
 
-interface LinkRecord { account: string; refresh_url: string; return_url: string; expires_at: number; used: boolean }
+interface LinkRecord {
+  account: string;
+  refresh_url: string;
+  return_url: string;
+  expires_at: number;
+  used: boolean;
+}
 
 export function createAccountLink(ctx: Ctx, body: Body) {
   const account = requireStr(body, "account");
@@ -55,8 +95,11 @@ export function createAccountLink(ctx: Ctx, body: Body) {
   const type = requireStr(body, "type");
   if (type !== "account_onboarding" && type !== "account_update") throw paramError("type", "Invalid type: must be one of account_onboarding, account_update");
   const record: LinkRecord = {
-    account, refresh_url: requireStr(body, "refresh_url"), return_url: requireStr(body, "return_url"),
-    expires_at: now() + LINK_LIFETIME_S, used: false,
+    account,
+    refresh_url: requireStr(body, "refresh_url"),
+    return_url: requireStr(body, "return_url"),
+    expires_at: now() + LINK_LIFETIME_S,
+    used: false,
   };
   const token = ctx.state.newId("onb");
   ctx.state.setInternal(`link:${token}`, record);
@@ -86,15 +129,22 @@ export function finishOnboarding(ctx: Ctx, token: string, complete: boolean) {
 export function completeOnboarding(ctx: Ctx, account: ProviderObject) {
   if (account.details_submitted && account.payouts_enabled) return account;
   const previous = {
-    charges_enabled: account.charges_enabled, payouts_enabled: account.payouts_enabled,
-    details_submitted: account.details_submitted, capabilities: structuredClone(account.capabilities), requirements: structuredClone(account.requirements),
+    charges_enabled: account.charges_enabled,
+    payouts_enabled: account.payouts_enabled,
+    details_submitted: account.details_submitted,
+    capabilities: structuredClone(account.capabilities),
+    requirements: structuredClone(account.requirements),
   };
   const caps = (account.capabilities ?? {}) as Record<string, string>;
   if (!caps.transfers) caps.transfers = "inactive";
   Object.assign(account, {
-    charges_enabled: true, payouts_enabled: true, details_submitted: true, business_type: "individual",
+    charges_enabled: true,
+    payouts_enabled: true,
+    details_submitted: true,
+    business_type: "individual",
     capabilities: Object.fromEntries(Object.keys(caps).map((k) => [k, "active"])),
-    requirements: requirements([]), tos_acceptance: { date: now(), ip: "127.0.0.1", user_agent: null },
+    requirements: requirements([]),
+    tos_acceptance: { date: now(), ip: "127.0.0.1", user_agent: null },
   });
   ctx.state.put(account);
   ctx.hooks.emit("account.updated", account, { previous, account: account.id });
@@ -118,7 +168,8 @@ export function balanceObject(ctx: Ctx, account: string | null) {
   if (by.size === 0) by.set("eur", 0);
   const entries = [...by];
   return {
-    object: "balance", livemode: false,
+    object: "balance",
+    livemode: false,
     available: entries.map(([currency, amount]) => ({ amount, currency, source_types: { card: amount } })),
     pending: entries.map(([currency]) => ({ amount: 0, currency, source_types: { card: 0 } })),
     connect_reserved: entries.map(([currency]) => ({ amount: 0, currency })),
@@ -133,34 +184,59 @@ export function createTransfer(ctx: Ctx, body: Body) {
   if (!destination) throw invalid(`No such destination: '${destinationId}'`, { param: "destination", code: "resource_missing" });
   const caps = (destination.capabilities ?? {}) as Record<string, string>;
   if (!destination.payouts_enabled || caps.transfers !== "active") {
-    throw invalid("Your destination account needs to have at least one of the following capabilities enabled: transfers, crypto_transfers, legacy_payments",
-      { param: "destination", code: "insufficient_capabilities_for_transfer" });
+    throw invalid("Your destination account needs to have at least one of the following capabilities enabled: transfers, crypto_transfers, legacy_payments", {
+      param: "destination",
+      code: "insufficient_capabilities_for_transfer",
+    });
   }
   let transferGroup = str(body, "transfer_group");
   const sourceId = str(body, "source_transaction");
   if (sourceId) {
     const source = ctx.state.get(sourceId, "charge");
     if (!source || source.status !== "succeeded") throw invalid(`No such charge: '${sourceId}'`, { param: "source_transaction", code: "resource_missing" });
-    if (source.currency !== currency) throw invalid(`The currency of source_transaction's balance transaction (${source.currency}) must be the same as the transfer currency (${currency})`, { param: "currency" });
-    const used = ctx.state.list("transfer").filter((t) => t.source_transaction === sourceId).reduce((s, t) => s + Number(t.amount), 0);
+    if (source.currency !== currency)
+      throw invalid(`The currency of source_transaction's balance transaction (${source.currency}) must be the same as the transfer currency (${currency})`, {
+        param: "currency",
+      });
+    const used = ctx.state
+      .list("transfer")
+      .filter((t) => t.source_transaction === sourceId)
+      .reduce((s, t) => s + Number(t.amount), 0);
     const left = Number(source.amount) - Number(source.amount_refunded) - used;
     if (amount > left) {
-      throw invalid(`Transfer amount (${formatAmount(amount, currency)}) exceeds what is left of source_transaction ${sourceId} (${formatAmount(left, currency)}).`, { param: "amount" });
+      throw invalid(
+        `Transfer amount (${formatAmount(amount, currency)}) exceeds what is left of source_transaction ${sourceId} (${formatAmount(left, currency)}).`,
+        { param: "amount" },
+      );
     }
     transferGroup ??= (source.transfer_group as string | null) ?? null;
   }
   const available = balances(ctx, null).get(currency) ?? 0;
   if (amount > available) {
-    throw invalid(`You have insufficient available funds in your balance for this transfer: ${formatAmount(available, currency)} available, ${formatAmount(amount, currency)} requested.`,
-      { code: "balance_insufficient" });
+    throw invalid(
+      `You have insufficient available funds in your balance for this transfer: ${formatAmount(available, currency)} available, ${formatAmount(amount, currency)} requested.`,
+      { code: "balance_insufficient" },
+    );
   }
   const id = ctx.state.newId("tr");
   const transfer = ctx.state.put({
-    id, object: "transfer", amount, amount_reversed: 0, balance_transaction: balanceTransaction(ctx, "transfer", -amount, currency, id, str(body, "description")),
-    created: now(), currency, description: str(body, "description"), destination: destinationId,
-    destination_payment: ctx.state.newId("py"), livemode: false, metadata: metadataOf(body),
+    id,
+    object: "transfer",
+    amount,
+    amount_reversed: 0,
+    balance_transaction: balanceTransaction(ctx, "transfer", -amount, currency, id, str(body, "description")),
+    created: now(),
+    currency,
+    description: str(body, "description"),
+    destination: destinationId,
+    destination_payment: ctx.state.newId("py"),
+    livemode: false,
+    metadata: metadataOf(body),
     reversals: { object: "list", data: [], has_more: false, total_count: 0, url: `/v1/transfers/${id}/reversals` },
-    reversed: false, source_transaction: sourceId, source_type: "card", transfer_group: transferGroup,
+    reversed: false,
+    source_transaction: sourceId,
+    source_type: "card",
+    transfer_group: transferGroup,
   });
   ctx.hooks.emit("transfer.created", transfer);
   return transfer;

@@ -27,8 +27,10 @@ export class Faults {
 
   set(c: FaultConfig) {
     this.config = {
-      mode: c.mode, count: c.mode === "none" ? 0 : Math.max(1, c.count ?? 1),
-      pathPrefix: c.pathPrefix ?? "/v1/", hangMs: c.hangMs ?? DEFAULT_HANG_MS,
+      mode: c.mode,
+      count: c.mode === "none" ? 0 : Math.max(1, c.count ?? 1),
+      pathPrefix: c.pathPrefix ?? "/v1/",
+      hangMs: c.hangMs ?? DEFAULT_HANG_MS,
     };
     return this.get();
   }
@@ -50,9 +52,15 @@ export class Faults {
         res.status(500).json({ error: { type: "api_error", message: `An unknown error occurred (local test fault: ${mode}).` } });
       };
       if (mode === "error_500") return answer();
-      const t = setTimeout(() => { this.timers.delete(t); answer(); }, c.hangMs);
+      const t = setTimeout(() => {
+        this.timers.delete(t);
+        answer();
+      }, c.hangMs);
       this.timers.add(t);
-      res.on("close", () => { clearTimeout(t); this.timers.delete(t); });
+      res.on("close", () => {
+        clearTimeout(t);
+        this.timers.delete(t);
+      });
     };
   }
 
@@ -76,7 +84,7 @@ export function createControls(ctx: Ctx, faults: Faults) {
       return [...hooks.endpoints];
     },
     setDelivery(mode: DeliveryMode) {
-      hooks.delivery = mode.mode === "late" ? { mode: "late", lateMs: Math.max(0, Number(mode.lateMs ?? 1000)) } : { mode: mode.mode } as DeliveryMode;
+      hooks.delivery = mode.mode === "late" ? { mode: "late", lateMs: Math.max(0, Number(mode.lateMs ?? 1000)) } : ({ mode: mode.mode } as DeliveryMode);
       return hooks.delivery;
     },
     release: (order: ReleaseOrder = "as_created", seed = 1) => hooks.release(order, seed),
@@ -137,7 +145,11 @@ export function controlHandlers(controls: Controls) {
     http.get(`${base}/webhook-endpoints`, () => HttpResponse.json({ endpoints: controls.webhookEndpoints() })),
     http.post(`${base}/webhook-endpoints`, async ({ request }) => {
       const { url } = await json(request);
-      try { return HttpResponse.json({ endpoints: controls.addWebhookEndpoint(String(url)) }); } catch { return bad("`url` must be an absolute URL"); }
+      try {
+        return HttpResponse.json({ endpoints: controls.addWebhookEndpoint(String(url)) });
+      } catch {
+        return bad("`url` must be an absolute URL");
+      }
     }),
     http.delete(`${base}/webhook-endpoints`, async ({ request }) => {
       const url = new URL(request.url).searchParams.get("url") ?? (await json(request)).url;
@@ -159,18 +171,30 @@ export function controlHandlers(controls: Controls) {
     http.post(`${base}/faults`, async ({ request }) => {
       const b = await json(request);
       if (!["none", "error_500", "timeout"].includes(String(b.mode))) return bad("`mode` must be one of none, error_500, timeout");
-      return HttpResponse.json({ faults: controls.setFaults({
-        mode: b.mode as FaultConfig["mode"], count: b.count === undefined ? undefined : Number(b.count),
-        pathPrefix: b.pathPrefix === undefined ? undefined : String(b.pathPrefix), hangMs: b.hangMs === undefined ? undefined : Number(b.hangMs),
-      }) });
+      return HttpResponse.json({
+        faults: controls.setFaults({
+          mode: b.mode as FaultConfig["mode"],
+          count: b.count === undefined ? undefined : Number(b.count),
+          pathPrefix: b.pathPrefix === undefined ? undefined : String(b.pathPrefix),
+          hangMs: b.hangMs === undefined ? undefined : Number(b.hangMs),
+        }),
+      });
     }),
     http.get(`${base}/state`, () => HttpResponse.json(controls.snapshot())),
-    http.post(`${base}/reset`, () => { controls.reset(); return HttpResponse.json({ reset: true }); }),
+    http.post(`${base}/reset`, () => {
+      controls.reset();
+      return HttpResponse.json({ reset: true });
+    }),
     http.get(`${base}/events`, () => HttpResponse.json({ events: controls.events() })),
     http.post(`${base}/pay/:sessionId`, async ({ request, params }) => {
       const b = await json(request);
       try {
-        const r = controls.pay(String(params.sessionId), { number: String(b.card ?? ""), exp: b.exp as string | undefined, cvc: b.cvc as string | undefined, name: b.name as string | undefined });
+        const r = controls.pay(String(params.sessionId), {
+          number: String(b.card ?? ""),
+          exp: b.exp as string | undefined,
+          cvc: b.cvc as string | undefined,
+          name: b.name as string | undefined,
+        });
         return HttpResponse.json(r);
       } catch {
         return HttpResponse.json({ error: { type: "invalid_request_error", message: `No such checkout.session: '${params.sessionId}'` } }, { status: 404 });
@@ -178,7 +202,9 @@ export function controlHandlers(controls: Controls) {
     }),
     http.post(`${base}/accounts/:id/complete-onboarding`, ({ params }) => {
       const a = controls.completeOnboarding(String(params.id));
-      return a ? HttpResponse.json(a) : HttpResponse.json({ error: { type: "invalid_request_error", message: `No such account: '${params.id}'` } }, { status: 404 });
+      return a
+        ? HttpResponse.json(a)
+        : HttpResponse.json({ error: { type: "invalid_request_error", message: `No such account: '${params.id}'` } }, { status: 404 });
     }),
   ];
 }

@@ -7,7 +7,16 @@ import Stripe from "stripe";
 import { type Body, ApiError, currencyOf, expand, expandParam, listObject, metadataOf, noSuch, now, positiveInt, str } from "./api";
 import { balanceObject, createAccount, createAccountLink, createTransfer, finishOnboarding, onboardingLink, updateAccount, accountOrThrow } from "./connect";
 import {
-  type Ctx, type PayOutcome, createCheckoutSession, createPaymentIntent, createRefund, expireSession, getSession, lineItemsList, payCheckoutSession, sessionUrl,
+  type Ctx,
+  type PayOutcome,
+  createCheckoutSession,
+  createPaymentIntent,
+  createRefund,
+  expireSession,
+  getSession,
+  lineItemsList,
+  payCheckoutSession,
+  sessionUrl,
 } from "./payments";
 import { cardPage, expiredPage, htmlResponse, notFoundPage, onboardingPage, paidPage, redirect } from "./pages";
 import type { ProviderObject } from "./state";
@@ -48,13 +57,30 @@ function api(ctx: Ctx, handler: ApiHandler, virtual?: (o: ProviderObject, field:
 
     const auth = request.headers.get("authorization") ?? "";
     const key = /^Bearer\s+(\S+)$/i.exec(auth)?.[1] ?? "";
-    if (!key) return errorResponse(401, { type: "invalid_request_error", message: "You did not provide an API key. Provide it in the Authorization header as a Bearer token." }, headers);
-    if (!/^(sk|rk)_test_/.test(key)) return errorResponse(401, { type: "invalid_request_error", code: "api_key_invalid", message: "Invalid API Key provided: this local fake accepts test-mode secret keys only." }, headers);
+    if (!key)
+      return errorResponse(
+        401,
+        { type: "invalid_request_error", message: "You did not provide an API key. Provide it in the Authorization header as a Bearer token." },
+        headers,
+      );
+    if (!/^(sk|rk)_test_/.test(key))
+      return errorResponse(
+        401,
+        { type: "invalid_request_error", code: "api_key_invalid", message: "Invalid API Key provided: this local fake accepts test-mode secret keys only." },
+        headers,
+      );
 
     const account = request.headers.get("stripe-account");
     if (account && !ctx.state.get(account, "account")) {
-      return errorResponse(403, { type: "invalid_request_error", code: "account_invalid",
-        message: `The provided key does not have access to account '${account}' (or that account does not exist).` }, headers);
+      return errorResponse(
+        403,
+        {
+          type: "invalid_request_error",
+          code: "account_invalid",
+          message: `The provided key does not have access to account '${account}' (or that account does not exist).`,
+        },
+        headers,
+      );
     }
 
     const body = parse(raw);
@@ -68,10 +94,17 @@ function api(ctx: Ctx, handler: ApiHandler, virtual?: (o: ProviderObject, field:
       const seen = ctx.state.idempotency.get(scope);
       if (seen) {
         if (`${seen.method} ${seen.path}` !== endpoint) {
-          return errorResponse(400, { type: "idempotency_error",
-            message: `Keys for idempotent requests can only be used for the same endpoint they were first used for ('${seen.method} ${seen.path}' vs '${endpoint}'). Try using a key other than '${idemKey}' if you meant to execute a different request.` }, headers);
+          return errorResponse(
+            400,
+            {
+              type: "idempotency_error",
+              message: `Keys for idempotent requests can only be used for the same endpoint they were first used for ('${seen.method} ${seen.path}' vs '${endpoint}'). Try using a key other than '${idemKey}' if you meant to execute a different request.`,
+            },
+            headers,
+          );
         }
-        if (seen.bodyHash !== bodyHash) return errorResponse(400, { type: "idempotency_error", message: IDEMPOTENCY_MISMATCH.replace("%KEY%", idemKey) }, headers);
+        if (seen.bodyHash !== bodyHash)
+          return errorResponse(400, { type: "idempotency_error", message: IDEMPOTENCY_MISMATCH.replace("%KEY%", idemKey) }, headers);
         return HttpResponse.json(seen.response as object, { status: seen.status, headers: { ...headers, "idempotent-replayed": "true" } });
       }
     }
@@ -87,7 +120,8 @@ function api(ctx: Ctx, handler: ApiHandler, virtual?: (o: ProviderObject, field:
       response = expand(ctx.state, result, paths, virtual);
     } catch (err) {
       // A bug in the fake answers like a provider outage (not stored), rather than killing the request.
-      const e = err instanceof ApiError ? err : new ApiError(500, { type: "api_error", message: `Local payment fake failed: ${(err as Error).message}` }, false);
+      const e =
+        err instanceof ApiError ? err : new ApiError(500, { type: "api_error", message: `Local payment fake failed: ${(err as Error).message}` }, false);
       status = e.status;
       store = e.stored;
       response = { error: { ...e.body, request_log_url: null } };
@@ -127,80 +161,170 @@ export function paymentHandlers(ctx: Ctx) {
   const v1 = "*/v1";
   const { state } = ctx;
   const sessionVirtual = (o: ProviderObject, field: string) =>
-    o.object === "checkout.session" && field === "line_items" ? listObject(lineItemsList(ctx, o.id), {}, `/v1/checkout/sessions/${o.id}/line_items`) : undefined;
+    o.object === "checkout.session" && field === "line_items"
+      ? listObject(lineItemsList(ctx, o.id), {}, `/v1/checkout/sessions/${o.id}/line_items`)
+      : undefined;
 
   return [
-    http.get(`${v1}/balance`, api(ctx, ({ account }) => balanceObject(ctx, account))),
+    http.get(
+      `${v1}/balance`,
+      api(ctx, ({ account }) => balanceObject(ctx, account)),
+    ),
     http.get(`${v1}/balance_transactions/:id`, getter(ctx, "balance_transaction")),
     http.get(`${v1}/balance_transactions`, lister(ctx, "balance_transaction", "balance_transactions", ["type", "source", "currency"])),
 
-    http.get(`${v1}/account`, api(ctx, ({ account }) => account ? accountOrThrow(ctx, account) : {
-      id: "acct_local_platform", object: "account", charges_enabled: true, payouts_enabled: true, details_submitted: true,
-      country: "DE", default_currency: "eur", email: null, type: "standard", metadata: {},
-    })),
+    http.get(
+      `${v1}/account`,
+      api(ctx, ({ account }) =>
+        account
+          ? accountOrThrow(ctx, account)
+          : {
+              id: "acct_local_platform",
+              object: "account",
+              charges_enabled: true,
+              payouts_enabled: true,
+              details_submitted: true,
+              country: "DE",
+              default_currency: "eur",
+              email: null,
+              type: "standard",
+              metadata: {},
+            },
+      ),
+    ),
 
-    http.post(`${v1}/customers`, api(ctx, ({ body }) => state.put({
-      id: state.newId("cus"), object: "customer", address: null, balance: 0, created: now(), currency: null,
-      default_source: null, delinquent: false, description: str(body, "description"), email: str(body, "email"),
-      invoice_prefix: null, livemode: false, metadata: metadataOf(body), name: str(body, "name"), phone: null,
-      preferred_locales: [], shipping: null, tax_exempt: "none",
-    }))),
+    http.post(
+      `${v1}/customers`,
+      api(ctx, ({ body }) =>
+        state.put({
+          id: state.newId("cus"),
+          object: "customer",
+          address: null,
+          balance: 0,
+          created: now(),
+          currency: null,
+          default_source: null,
+          delinquent: false,
+          description: str(body, "description"),
+          email: str(body, "email"),
+          invoice_prefix: null,
+          livemode: false,
+          metadata: metadataOf(body),
+          name: str(body, "name"),
+          phone: null,
+          preferred_locales: [],
+          shipping: null,
+          tax_exempt: "none",
+        }),
+      ),
+    ),
     http.get(`${v1}/customers/:id`, getter(ctx, "customer")),
     http.get(`${v1}/customers`, lister(ctx, "customer", "customers", ["email"])),
 
-    http.post(`${v1}/payment_intents`, api(ctx, ({ body }) => {
-      return createPaymentIntent(ctx, {
-        amount: positiveInt(body.amount, "amount"), currency: currencyOf(body.currency), customer: str(body, "customer"),
-        description: str(body, "description"), metadata: metadataOf(body), transfer_group: str(body, "transfer_group"),
-        receipt_email: str(body, "receipt_email"),
-      });
-    })),
+    http.post(
+      `${v1}/payment_intents`,
+      api(ctx, ({ body }) => {
+        return createPaymentIntent(ctx, {
+          amount: positiveInt(body.amount, "amount"),
+          currency: currencyOf(body.currency),
+          customer: str(body, "customer"),
+          description: str(body, "description"),
+          metadata: metadataOf(body),
+          transfer_group: str(body, "transfer_group"),
+          receipt_email: str(body, "receipt_email"),
+        });
+      }),
+    ),
     http.get(`${v1}/payment_intents/:id`, getter(ctx, "payment_intent")),
     http.get(`${v1}/payment_intents`, lister(ctx, "payment_intent", "payment_intents", ["customer"])),
 
     http.get(`${v1}/charges/:id`, getter(ctx, "charge")),
     http.get(`${v1}/charges`, lister(ctx, "charge", "charges", ["payment_intent", "customer", "transfer_group"])),
 
-    http.post(`${v1}/checkout/sessions`, api(ctx, ({ body }) => createCheckoutSession(ctx, body), sessionVirtual)),
-    http.get(`${v1}/checkout/sessions/:id/line_items`, api(ctx, ({ params, query }) => {
-      getSession(ctx, params.id);
-      return listObject(lineItemsList(ctx, params.id), query, `/v1/checkout/sessions/${params.id}/line_items`);
-    })),
-    http.post(`${v1}/checkout/sessions/:id/expire`, api(ctx, ({ params }) => expireSession(ctx, params.id), sessionVirtual)),
-    http.get(`${v1}/checkout/sessions/:id`, api(ctx, ({ params }) => getSession(ctx, params.id), sessionVirtual)),
+    http.post(
+      `${v1}/checkout/sessions`,
+      api(ctx, ({ body }) => createCheckoutSession(ctx, body), sessionVirtual),
+    ),
+    http.get(
+      `${v1}/checkout/sessions/:id/line_items`,
+      api(ctx, ({ params, query }) => {
+        getSession(ctx, params.id);
+        return listObject(lineItemsList(ctx, params.id), query, `/v1/checkout/sessions/${params.id}/line_items`);
+      }),
+    ),
+    http.post(
+      `${v1}/checkout/sessions/:id/expire`,
+      api(ctx, ({ params }) => expireSession(ctx, params.id), sessionVirtual),
+    ),
+    http.get(
+      `${v1}/checkout/sessions/:id`,
+      api(ctx, ({ params }) => getSession(ctx, params.id), sessionVirtual),
+    ),
     http.get(`${v1}/checkout/sessions`, lister(ctx, "checkout.session", "checkout/sessions", ["payment_intent", "customer", "status"])),
 
-    http.post(`${v1}/refunds`, api(ctx, ({ body }) => createRefund(ctx, body))),
+    http.post(
+      `${v1}/refunds`,
+      api(ctx, ({ body }) => createRefund(ctx, body)),
+    ),
     http.get(`${v1}/refunds/:id`, getter(ctx, "refund")),
     http.get(`${v1}/refunds`, lister(ctx, "refund", "refunds", ["payment_intent", "charge"])),
 
-    http.post(`${v1}/accounts`, api(ctx, ({ body }) => createAccount(ctx, body))),
-    http.post(`${v1}/accounts/:id`, api(ctx, ({ params, body }) => updateAccount(ctx, params.id, body))),
-    http.get(`${v1}/accounts/:id`, api(ctx, ({ params }) => accountOrThrow(ctx, params.id))),
+    http.post(
+      `${v1}/accounts`,
+      api(ctx, ({ body }) => createAccount(ctx, body)),
+    ),
+    http.post(
+      `${v1}/accounts/:id`,
+      api(ctx, ({ params, body }) => updateAccount(ctx, params.id, body)),
+    ),
+    http.get(
+      `${v1}/accounts/:id`,
+      api(ctx, ({ params }) => accountOrThrow(ctx, params.id)),
+    ),
     http.get(`${v1}/accounts`, lister(ctx, "account", "accounts", [])),
-    http.post(`${v1}/account_links`, api(ctx, ({ body }) => createAccountLink(ctx, body))),
+    http.post(
+      `${v1}/account_links`,
+      api(ctx, ({ body }) => createAccountLink(ctx, body)),
+    ),
 
-    http.post(`${v1}/transfers`, api(ctx, ({ body }) => createTransfer(ctx, body))),
+    http.post(
+      `${v1}/transfers`,
+      api(ctx, ({ body }) => createTransfer(ctx, body)),
+    ),
     http.get(`${v1}/transfers/:id`, getter(ctx, "transfer")),
     http.get(`${v1}/transfers`, lister(ctx, "transfer", "transfers", ["transfer_group", "destination"])),
 
     http.get(`${v1}/events/:id`, getter(ctx, "event")),
-    http.get(`${v1}/events`, api(ctx, ({ query }) => {
-      const types = [str(query, "type"), ...(Array.isArray(query.types) ? query.types.map(String) : [])].filter(Boolean) as string[];
-      const match = (t: string) => types.some((p) => (p.endsWith(".*") ? t.startsWith(p.slice(0, -1)) : t === p));
-      const items = state.list("event").filter((e) => types.length === 0 || match(String(e.type)));
-      return listObject(items, query, "/v1/events");
-    })),
+    http.get(
+      `${v1}/events`,
+      api(ctx, ({ query }) => {
+        const types = [str(query, "type"), ...(Array.isArray(query.types) ? query.types.map(String) : [])].filter(Boolean) as string[];
+        const match = (t: string) => types.some((p) => (p.endsWith(".*") ? t.startsWith(p.slice(0, -1)) : t === p));
+        const items = state.list("event").filter((e) => types.length === 0 || match(String(e.type)));
+        return listObject(items, query, "/v1/events");
+      }),
+    ),
 
-    http.all(`${v1}/*`, ({ request }) => HttpResponse.json({ error: {
-      type: "invalid_request_error",
-      message: `Unrecognized request URL (${request.method}: ${new URL(request.url).pathname}). This local fake implements only part of the API.`,
-    } }, { status: 404 })),
+    http.all(`${v1}/*`, ({ request }) =>
+      HttpResponse.json(
+        {
+          error: {
+            type: "invalid_request_error",
+            message: `Unrecognized request URL (${request.method}: ${new URL(request.url).pathname}). This local fake implements only part of the API.`,
+          },
+        },
+        { status: 404 },
+      ),
+    ),
 
     // The hosted card page the Checkout Session's `url` points at.
     http.get("*/pay/:id", ({ params }) => {
       let s: ProviderObject;
-      try { s = getSession(ctx, String(params.id)); } catch { return htmlResponse(notFoundPage("checkout session"), 404); }
+      try {
+        s = getSession(ctx, String(params.id));
+      } catch {
+        return htmlResponse(notFoundPage("checkout session"), 404);
+      }
       if (s.status === "complete") return htmlResponse(paidPage(sessionUrl(s, "success_url")));
       if (s.status !== "open") return htmlResponse(expiredPage(sessionUrl(s, "cancel_url")));
       return htmlResponse(cardPage(s, lineItemsList(ctx, s.id)));
@@ -210,7 +334,9 @@ export function paymentHandlers(ctx: Ctx) {
       let result: PayOutcome;
       try {
         result = payCheckoutSession(ctx, String(params.id), { number: form.card ?? "", exp: form.exp, cvc: form.cvc, name: form.name });
-      } catch { return htmlResponse(notFoundPage("checkout session"), 404); }
+      } catch {
+        return htmlResponse(notFoundPage("checkout session"), 404);
+      }
       if (result.outcome === "succeeded") return redirect(result.redirect!);
       if (result.outcome === "already_paid") return htmlResponse(paidPage(result.redirect));
       if (result.outcome === "expired") return htmlResponse(expiredPage(result.redirect));

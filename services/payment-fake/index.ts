@@ -45,7 +45,9 @@ export async function startPaymentFake(opts: PaymentFakeOptions) {
   app.disable("x-powered-by");
   app.use(faults.middleware());
   app.use(createMiddleware(...controlHandlers(controls), ...paymentHandlers(ctx)));
-  app.use((_req, res) => { res.status(404).json({ error: { type: "invalid_request_error", message: "Not found in the local payment fake." } }); });
+  app.use((_req, res) => {
+    res.status(404).json({ error: { type: "invalid_request_error", message: "Not found in the local payment fake." } });
+  });
 
   const server: Server = await new Promise((resolve, reject) => {
     const s = app.listen(opts.port, "127.0.0.1", (err?: Error) => (err ? reject(err) : resolve(s)));
@@ -70,11 +72,15 @@ if (isMain(import.meta.url)) {
   const fake = await startPaymentFake({
     port,
     file: process.env.PAYMENTS_FAKE_STATE_FILE || path.join(dataDir, "payments", "state.json"),
-    webhookUrls: process.env.PAYMENTS_WEBHOOK_URLS?.split(",").map((u) => u.trim()).filter(Boolean),
+    webhookUrls: process.env.PAYMENTS_WEBHOOK_URLS?.split(",")
+      .map((u) => u.trim())
+      .filter(Boolean),
     webhookSecret: process.env.STRIPE_WEBHOOK_SECRET || undefined,
   });
   // Pending writes reach the disk before the process goes, so a restart keeps every object.
-  const stop = () => { void fake.close().finally(() => process.exit(0)); };
+  const stop = () => {
+    void fake.close().finally(() => process.exit(0));
+  };
   process.on("SIGTERM", stop);
   process.on("SIGINT", stop);
   console.log(`payment fake listening on ${fake.url}`);

@@ -4,8 +4,7 @@ import { formatAmount } from "./api";
 import { TEST_CARDS_HINT } from "./cards";
 import type { ProviderObject } from "./state";
 
-const esc = (s: unknown) =>
-  String(s ?? "").replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c]!);
+const esc = (s: unknown) => String(s ?? "").replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c]!);
 
 const STYLE = `
 body{font:16px/1.5 system-ui,sans-serif;margin:0;background:#f4f4f0;color:#222}
@@ -39,12 +38,20 @@ export function cardPage(session: ProviderObject, lineItems: ProviderObject[], o
   const currency = String(session.currency);
   const total = formatAmount(Number(session.amount_total), currency);
   const v = opts.values ?? {};
-  const rows = lineItems.map((li) =>
-    `<tr><td>${esc(li.description)}${Number(li.quantity) > 1 ? ` × ${esc(li.quantity)}` : ""}</td><td class="num">${esc(formatAmount(Number(li.amount_total), currency))}</td></tr>`).join("");
-  const cancel = typeof session.cancel_url === "string"
-    ? `<p><a href="${esc(String(session.cancel_url).replaceAll("{CHECKOUT_SESSION_ID}", session.id))}">Cancel and go back</a></p>` : "";
+  const rows = lineItems
+    .map(
+      (li) =>
+        `<tr><td>${esc(li.description)}${Number(li.quantity) > 1 ? ` × ${esc(li.quantity)}` : ""}</td><td class="num">${esc(formatAmount(Number(li.amount_total), currency))}</td></tr>`,
+    )
+    .join("");
+  const cancel =
+    typeof session.cancel_url === "string"
+      ? `<p><a href="${esc(String(session.cancel_url).replaceAll("{CHECKOUT_SESSION_ID}", session.id))}">Cancel and go back</a></p>`
+      : "";
   const hints = TEST_CARDS_HINT.map(([n, what]) => `<li><code>${n}</code> ${what}</li>`).join("");
-  return page("Pay", `<h1>Local test payment</h1>
+  return page(
+    "Pay",
+    `<h1>Local test payment</h1>
 <table aria-label="Order summary">${rows}<tr><td><strong>Total</strong></td><td class="num"><strong>${esc(total)}</strong></td></tr></table>
 ${opts.error ? `<p class="error" role="alert">${esc(opts.error)}</p>` : ""}
 <form method="post" action="/pay/${esc(session.id)}">
@@ -59,17 +66,25 @@ ${opts.error ? `<p class="error" role="alert">${esc(opts.error)}</p>` : ""}
 <button type="submit">Pay ${esc(total)}</button>
 </form>
 ${cancel}
-<p class="hint">Test cards:</p><ul class="hint">${hints}</ul>`);
+<p class="hint">Test cards:</p><ul class="hint">${hints}</ul>`,
+  );
 }
 
 export function paidPage(successUrl: string | null) {
-  return page("Already paid", `<h1>This payment is already complete</h1>
-<p role="status">Nothing more was charged.</p>${successUrl ? `<p><a href="${esc(successUrl)}">Continue</a></p>` : ""}`, { refreshTo: successUrl });
+  return page(
+    "Already paid",
+    `<h1>This payment is already complete</h1>
+<p role="status">Nothing more was charged.</p>${successUrl ? `<p><a href="${esc(successUrl)}">Continue</a></p>` : ""}`,
+    { refreshTo: successUrl },
+  );
 }
 
 export function expiredPage(cancelUrl: string | null) {
-  return page("Expired", `<h1>This checkout has expired</h1>
-<p role="status">No payment was taken.</p>${cancelUrl ? `<p><a href="${esc(cancelUrl)}">Go back</a></p>` : ""}`);
+  return page(
+    "Expired",
+    `<h1>This checkout has expired</h1>
+<p role="status">No payment was taken.</p>${cancelUrl ? `<p><a href="${esc(cancelUrl)}">Go back</a></p>` : ""}`,
+  );
 }
 
 export function notFoundPage(what: string) {
@@ -77,12 +92,15 @@ export function notFoundPage(what: string) {
 }
 
 export function onboardingPage(token: string, account: ProviderObject) {
-  return page("Onboarding", `<h1>Local test onboarding</h1>
+  return page(
+    "Onboarding",
+    `<h1>Local test onboarding</h1>
 <p>Payout account <code>${esc(account.id)}</code>${account.email ? ` for ${esc(account.email)}` : ""}.</p>
 <p class="hint">This stands in for the provider's identity and bank-account forms. Completing it enables
 charges and payouts for the account.</p>
 <form method="post" action="/connect/onboard/${esc(token)}">
 <button type="submit" name="action" value="complete">Complete onboarding</button>
 <button type="submit" name="action" value="leave" class="secondary">Leave without finishing</button>
-</form>`);
+</form>`,
+  );
 }

@@ -1,9 +1,7 @@
 // Checkout Sessions, the payment intents and charges behind them, refunds and balance transactions.
 // Every function here runs synchronously from start to end, so two requests (a double click) can never
 // interleave between "is it paid yet?" and "mark it paid".
-import {
-  type Body, arrayOf, currencyOf, formatAmount, invalid, metadataOf, missing, noSuch, now, paramError, positiveInt, requireStr, str,
-} from "./api";
+import { type Body, arrayOf, currencyOf, formatAmount, invalid, metadataOf, missing, noSuch, now, paramError, positiveInt, requireStr, str } from "./api";
 import { type CardError, type CardInput, checkCard } from "./cards";
 import type { FakeState, ProviderObject } from "./state";
 import type { Webhooks } from "./webhooks";
@@ -19,33 +17,89 @@ const DAY = 24 * 3600;
 export function balanceTransaction(ctx: Ctx, type: string, amount: number, currency: string, source: string, description: string | null) {
   const t = now();
   return ctx.state.put({
-    id: ctx.state.newId("txn"), object: "balance_transaction", amount, available_on: t, balance_type: "payments",
-    created: t, currency, description, exchange_rate: null, fee: 0, fee_details: [], net: amount,
-    reporting_category: type === "charge" ? "charge" : type, source, status: "available", type,
+    id: ctx.state.newId("txn"),
+    object: "balance_transaction",
+    amount,
+    available_on: t,
+    balance_type: "payments",
+    created: t,
+    currency,
+    description,
+    exchange_rate: null,
+    fee: 0,
+    fee_details: [],
+    net: amount,
+    reporting_category: type === "charge" ? "charge" : type,
+    source,
+    status: "available",
+    type,
   }).id;
 }
 
-export function createPaymentIntent(ctx: Ctx, p: {
-  amount: number; currency: string; customer: string | null; description: string | null;
-  metadata: Record<string, string>; transfer_group: string | null; receipt_email: string | null;
-}) {
+export function createPaymentIntent(
+  ctx: Ctx,
+  p: {
+    amount: number;
+    currency: string;
+    customer: string | null;
+    description: string | null;
+    metadata: Record<string, string>;
+    transfer_group: string | null;
+    receipt_email: string | null;
+  },
+) {
   const id = ctx.state.newId("pi");
   return ctx.state.put({
-    id, object: "payment_intent", allowed_payment_method_types: ["card"], amount: p.amount, amount_capturable: 0,
-    amount_received: 0, application: null, application_fee_amount: null, automatic_payment_methods: null,
-    canceled_at: null, cancellation_reason: null, capture_method: "automatic",
-    client_secret: `${id}_secret_${ctx.state.newId("s").slice(2)}`, confirmation_method: "automatic", created: now(),
-    currency: p.currency, customer: p.customer, customer_account: null, description: p.description,
-    excluded_payment_method_types: null, last_payment_error: null, latest_charge: null, livemode: false,
-    metadata: p.metadata, next_action: null, on_behalf_of: null, payment_method: null,
-    payment_method_configuration_details: null, payment_method_options: { card: { request_three_d_secure: "automatic" } },
-    payment_method_types: ["card"], processing: null, receipt_email: p.receipt_email, review: null,
-    setup_future_usage: null, shipping: null, source: null, statement_descriptor: null,
-    statement_descriptor_suffix: null, status: "requires_payment_method", transfer_data: null, transfer_group: p.transfer_group,
+    id,
+    object: "payment_intent",
+    allowed_payment_method_types: ["card"],
+    amount: p.amount,
+    amount_capturable: 0,
+    amount_received: 0,
+    application: null,
+    application_fee_amount: null,
+    automatic_payment_methods: null,
+    canceled_at: null,
+    cancellation_reason: null,
+    capture_method: "automatic",
+    client_secret: `${id}_secret_${ctx.state.newId("s").slice(2)}`,
+    confirmation_method: "automatic",
+    created: now(),
+    currency: p.currency,
+    customer: p.customer,
+    customer_account: null,
+    description: p.description,
+    excluded_payment_method_types: null,
+    last_payment_error: null,
+    latest_charge: null,
+    livemode: false,
+    metadata: p.metadata,
+    next_action: null,
+    on_behalf_of: null,
+    payment_method: null,
+    payment_method_configuration_details: null,
+    payment_method_options: { card: { request_three_d_secure: "automatic" } },
+    payment_method_types: ["card"],
+    processing: null,
+    receipt_email: p.receipt_email,
+    review: null,
+    setup_future_usage: null,
+    shipping: null,
+    source: null,
+    statement_descriptor: null,
+    statement_descriptor_suffix: null,
+    status: "requires_payment_method",
+    transfer_data: null,
+    transfer_group: p.transfer_group,
   });
 }
 
-interface LineItemInput { name: string; currency: string; unitAmount: number; quantity: number }
+interface LineItemInput {
+  name: string;
+  currency: string;
+  unitAmount: number;
+  quantity: number;
+}
 
 function lineItemsOf(body: Body) {
   const raw = arrayOf(body.line_items);
@@ -84,35 +138,95 @@ export function createCheckoutSession(ctx: Ctx, body: Body) {
   const pid = (body.payment_intent_data ?? {}) as Body;
 
   const pi = createPaymentIntent(ctx, {
-    amount: total, currency, customer, description: str(pid, "description"), metadata: metadataOf(pid),
-    transfer_group: str(pid, "transfer_group"), receipt_email: str(pid, "receipt_email"),
+    amount: total,
+    currency,
+    customer,
+    description: str(pid, "description"),
+    metadata: metadataOf(pid),
+    transfer_group: str(pid, "transfer_group"),
+    receipt_email: str(pid, "receipt_email"),
   });
   const id = ctx.state.newId("cs_test");
   const lineItems = items.map((i) => ({
-    id: ctx.state.newId("li"), object: "item", amount_discount: 0, amount_subtotal: i.unitAmount * i.quantity,
-    amount_tax: 0, amount_total: i.unitAmount * i.quantity, currency: i.currency, description: i.name, metadata: {},
+    id: ctx.state.newId("li"),
+    object: "item",
+    amount_discount: 0,
+    amount_subtotal: i.unitAmount * i.quantity,
+    amount_tax: 0,
+    amount_total: i.unitAmount * i.quantity,
+    currency: i.currency,
+    description: i.name,
+    metadata: {},
     price: {
-      id: ctx.state.newId("price"), object: "price", active: false, billing_scheme: "per_unit", created: now(),
-      currency: i.currency, livemode: false, lookup_key: null, metadata: {}, nickname: null,
-      product: ctx.state.newId("prod"), recurring: null, tax_behavior: "unspecified", tiers_mode: null,
-      transform_quantity: null, type: "one_time", unit_amount: i.unitAmount, unit_amount_decimal: String(i.unitAmount),
+      id: ctx.state.newId("price"),
+      object: "price",
+      active: false,
+      billing_scheme: "per_unit",
+      created: now(),
+      currency: i.currency,
+      livemode: false,
+      lookup_key: null,
+      metadata: {},
+      nickname: null,
+      product: ctx.state.newId("prod"),
+      recurring: null,
+      tax_behavior: "unspecified",
+      tiers_mode: null,
+      transform_quantity: null,
+      type: "one_time",
+      unit_amount: i.unitAmount,
+      unit_amount_decimal: String(i.unitAmount),
     },
     quantity: i.quantity,
   }));
   ctx.state.setInternal(`line_items:${id}`, lineItems);
   return ctx.state.put({
-    id, object: "checkout.session", adaptive_pricing: null, after_expiration: null, allow_promotion_codes: null,
-    amount_subtotal: total, amount_total: total, automatic_tax: { enabled: false, liability: null, status: null },
-    billing_address_collection: null, cancel_url: str(body, "cancel_url"), client_reference_id: str(body, "client_reference_id"),
-    client_secret: null, consent: null, consent_collection: null, created: now(), currency, custom_fields: [],
+    id,
+    object: "checkout.session",
+    adaptive_pricing: null,
+    after_expiration: null,
+    allow_promotion_codes: null,
+    amount_subtotal: total,
+    amount_total: total,
+    automatic_tax: { enabled: false, liability: null, status: null },
+    billing_address_collection: null,
+    cancel_url: str(body, "cancel_url"),
+    client_reference_id: str(body, "client_reference_id"),
+    client_secret: null,
+    consent: null,
+    consent_collection: null,
+    created: now(),
+    currency,
+    custom_fields: [],
     custom_text: { after_submit: null, shipping_address: null, submit: null, terms_of_service_acceptance: null },
-    customer, customer_creation: customer ? null : "if_required", customer_details: customerEmail ? { email: customerEmail, address: null, name: null, phone: null, tax_exempt: "none", tax_ids: [] } : null,
-    customer_email: customerEmail, expires_at: expiresAt, invoice: null, livemode: false, locale: null,
-    metadata: metadataOf(body), mode, payment_intent: pi.id, payment_link: null, payment_method_collection: "if_required",
-    payment_method_options: {}, payment_method_types: ["card"], payment_status: "unpaid", recovered_from: null,
-    setup_intent: null, shipping_address_collection: null, shipping_cost: null, shipping_options: [], status: "open",
-    submit_type: null, subscription: null, success_url: successUrl, total_details: { amount_discount: 0, amount_shipping: 0, amount_tax: 0 },
-    ui_mode: "hosted", url: `${ctx.baseUrl()}/pay/${id}`,
+    customer,
+    customer_creation: customer ? null : "if_required",
+    customer_details: customerEmail ? { email: customerEmail, address: null, name: null, phone: null, tax_exempt: "none", tax_ids: [] } : null,
+    customer_email: customerEmail,
+    expires_at: expiresAt,
+    invoice: null,
+    livemode: false,
+    locale: null,
+    metadata: metadataOf(body),
+    mode,
+    payment_intent: pi.id,
+    payment_link: null,
+    payment_method_collection: "if_required",
+    payment_method_options: {},
+    payment_method_types: ["card"],
+    payment_status: "unpaid",
+    recovered_from: null,
+    setup_intent: null,
+    shipping_address_collection: null,
+    shipping_cost: null,
+    shipping_options: [],
+    status: "open",
+    submit_type: null,
+    subscription: null,
+    success_url: successUrl,
+    total_details: { amount_discount: 0, amount_shipping: 0, amount_tax: 0 },
+    ui_mode: "hosted",
+    url: `${ctx.baseUrl()}/pay/${id}`,
   });
 }
 
@@ -167,16 +281,30 @@ export function payCheckoutSession(ctx: Ctx, sessionId: string, card: CardInput)
 
   const verdict = checkCard(card);
   const pm = ctx.state.put({
-    id: ctx.state.newId("pm"), object: "payment_method", allow_redisplay: "unspecified",
+    id: ctx.state.newId("pm"),
+    object: "payment_method",
+    allow_redisplay: "unspecified",
     billing_details: { address: null, email: null, name: card.name?.trim() || null, phone: null },
-    card: { brand: verdict.brand, checks: { address_line1_check: null, address_postal_code_check: null, cvc_check: verdict.ok ? "pass" : null },
-      country: "US", exp_month: verdict.expMonth, exp_year: verdict.expYear, funding: verdict.funding, last4: verdict.last4 },
-    created: now(), customer: s.customer ?? null, livemode: false, metadata: {}, type: "card",
+    card: {
+      brand: verdict.brand,
+      checks: { address_line1_check: null, address_postal_code_check: null, cvc_check: verdict.ok ? "pass" : null },
+      country: "US",
+      exp_month: verdict.expMonth,
+      exp_year: verdict.expYear,
+      funding: verdict.funding,
+      last4: verdict.last4,
+    },
+    created: now(),
+    customer: s.customer ?? null,
+    livemode: false,
+    metadata: {},
+    type: "card",
   });
   if (!verdict.ok) {
     const error = verdict.error!;
     Object.assign(pi, {
-      status: "requires_payment_method", payment_method: null,
+      status: "requires_payment_method",
+      payment_method: null,
       last_payment_error: { ...error, payment_method: structuredClone(pm), doc_url: null },
     });
     ctx.state.put(pi);
@@ -188,25 +316,73 @@ export function payCheckoutSession(ctx: Ctx, sessionId: string, card: CardInput)
   const txn = balanceTransaction(ctx, "charge", Number(pi.amount), String(pi.currency), chargeId, pi.description as string | null);
   const email = (s.customer_details as { email?: string } | null)?.email ?? (s.customer_email as string | null) ?? null;
   const charge = ctx.state.put({
-    id: chargeId, object: "charge", amount: pi.amount, amount_captured: pi.amount, amount_refunded: 0, application: null,
-    application_fee: null, application_fee_amount: null, balance_transaction: txn,
+    id: chargeId,
+    object: "charge",
+    amount: pi.amount,
+    amount_captured: pi.amount,
+    amount_refunded: 0,
+    application: null,
+    application_fee: null,
+    application_fee_amount: null,
+    balance_transaction: txn,
     billing_details: { address: null, email, name: card.name?.trim() || null, phone: null },
-    calculated_statement_descriptor: "LOCAL TEST", captured: true, created: now(), currency: pi.currency,
-    customer: pi.customer, description: pi.description, disputed: false, failure_balance_transaction: null,
-    failure_code: null, failure_message: null, fraud_details: {}, livemode: false, metadata: pi.metadata, on_behalf_of: null,
-    outcome: { network_status: "approved_by_network", reason: null, risk_level: "normal", risk_score: 20,
-      seller_message: "Payment complete.", type: "authorized" },
-    paid: true, payment_intent: pi.id, payment_method: pm.id,
-    payment_method_details: { type: "card", card: { brand: verdict.brand, country: "US", exp_month: verdict.expMonth,
-      exp_year: verdict.expYear, funding: verdict.funding, last4: verdict.last4, network: verdict.brand } },
-    receipt_email: pi.receipt_email, receipt_number: null, receipt_url: null, refunded: false, review: null, shipping: null,
-    source: null, source_transfer: null, statement_descriptor: null, statement_descriptor_suffix: null, status: "succeeded",
-    transfer_data: null, transfer_group: pi.transfer_group,
+    calculated_statement_descriptor: "LOCAL TEST",
+    captured: true,
+    created: now(),
+    currency: pi.currency,
+    customer: pi.customer,
+    description: pi.description,
+    disputed: false,
+    failure_balance_transaction: null,
+    failure_code: null,
+    failure_message: null,
+    fraud_details: {},
+    livemode: false,
+    metadata: pi.metadata,
+    on_behalf_of: null,
+    outcome: {
+      network_status: "approved_by_network",
+      reason: null,
+      risk_level: "normal",
+      risk_score: 20,
+      seller_message: "Payment complete.",
+      type: "authorized",
+    },
+    paid: true,
+    payment_intent: pi.id,
+    payment_method: pm.id,
+    payment_method_details: {
+      type: "card",
+      card: {
+        brand: verdict.brand,
+        country: "US",
+        exp_month: verdict.expMonth,
+        exp_year: verdict.expYear,
+        funding: verdict.funding,
+        last4: verdict.last4,
+        network: verdict.brand,
+      },
+    },
+    receipt_email: pi.receipt_email,
+    receipt_number: null,
+    receipt_url: null,
+    refunded: false,
+    review: null,
+    shipping: null,
+    source: null,
+    source_transfer: null,
+    statement_descriptor: null,
+    statement_descriptor_suffix: null,
+    status: "succeeded",
+    transfer_data: null,
+    transfer_group: pi.transfer_group,
   });
   Object.assign(pi, { status: "succeeded", amount_received: pi.amount, latest_charge: chargeId, payment_method: pm.id, last_payment_error: null });
   ctx.state.put(pi);
   Object.assign(s, {
-    status: "complete", payment_status: "paid", url: null,
+    status: "complete",
+    payment_status: "paid",
+    url: null,
     customer_details: { address: null, email, name: card.name?.trim() || null, phone: null, tax_exempt: "none", tax_ids: [] },
   });
   ctx.state.put(s);
@@ -221,13 +397,15 @@ const REFUND_REASONS = new Set(["duplicate", "fraudulent", "requested_by_custome
 export function createRefund(ctx: Ctx, body: Body) {
   const piId = str(body, "payment_intent");
   const chargeId = str(body, "charge");
-  if (!piId && !chargeId) throw invalid("One of the following params should be provided for this request: payment_intent or charge.", { code: "parameter_missing" });
+  if (!piId && !chargeId)
+    throw invalid("One of the following params should be provided for this request: payment_intent or charge.", { code: "parameter_missing" });
   let charge: ProviderObject | undefined;
   if (piId) {
     const pi = ctx.state.get(piId, "payment_intent");
     if (!pi) throw noSuch("payment_intent", piId, "payment_intent");
     charge = pi.latest_charge ? ctx.state.get(String(pi.latest_charge), "charge") : undefined;
-    if (!charge || pi.status !== "succeeded") throw invalid(`This PaymentIntent (${piId}) does not have a successful charge to refund.`, { param: "payment_intent" });
+    if (!charge || pi.status !== "succeeded")
+      throw invalid(`This PaymentIntent (${piId}) does not have a successful charge to refund.`, { param: "payment_intent" });
     if (chargeId && chargeId !== charge.id) throw invalid(`Charge ${chargeId} does not belong to PaymentIntent ${piId}.`, { param: "charge" });
   } else {
     charge = ctx.state.get(chargeId!, "charge");
@@ -238,18 +416,33 @@ export function createRefund(ctx: Ctx, body: Body) {
   if (remaining <= 0) throw invalid(`Charge ${charge.id} has already been refunded.`, { code: "charge_already_refunded" });
   const amount = body.amount === undefined ? remaining : positiveInt(body.amount, "amount");
   if (amount > remaining) {
-    throw invalid(`Refund amount (${formatAmount(amount, currency)}) is greater than unrefunded amount on charge (${formatAmount(remaining, currency)}).`,
-      { param: "amount", code: "amount_too_large" });
+    throw invalid(`Refund amount (${formatAmount(amount, currency)}) is greater than unrefunded amount on charge (${formatAmount(remaining, currency)}).`, {
+      param: "amount",
+      code: "amount_too_large",
+    });
   }
   const reason = str(body, "reason");
   if (reason && !REFUND_REASONS.has(reason)) throw paramError("reason", `Invalid reason: must be one of ${[...REFUND_REASONS].join(", ")}`);
   const refundId = ctx.state.newId("re");
   const refund = ctx.state.put({
-    id: refundId, object: "refund", amount, balance_transaction: balanceTransaction(ctx, "refund", -amount, currency, refundId, null),
-    charge: charge.id, created: now(), currency, customer: charge.customer ?? null, customer_account: null,
+    id: refundId,
+    object: "refund",
+    amount,
+    balance_transaction: balanceTransaction(ctx, "refund", -amount, currency, refundId, null),
+    charge: charge.id,
+    created: now(),
+    currency,
+    customer: charge.customer ?? null,
+    customer_account: null,
     destination_details: { card: { reference_status: "pending", reference_type: "acquirer_reference_number", type: "refund" }, type: "card" },
-    metadata: metadataOf(body), payment_intent: charge.payment_intent, payment_method: charge.payment_method,
-    reason, receipt_number: null, source_transfer_reversal: null, status: "succeeded", transfer_reversal: null,
+    metadata: metadataOf(body),
+    payment_intent: charge.payment_intent,
+    payment_method: charge.payment_method,
+    reason,
+    receipt_number: null,
+    source_transfer_reversal: null,
+    status: "succeeded",
+    transfer_reversal: null,
   });
   const previous = { amount_refunded: charge.amount_refunded, refunded: charge.refunded };
   charge.amount_refunded = Number(charge.amount_refunded) + amount;

@@ -30,7 +30,10 @@ export class Webhooks {
   // Aborts deliveries under way when the fake closes, so close() does not wait for a slow receiver.
   private closing = new AbortController();
 
-  constructor(private state: FakeState, private opts: WebhookOptions) {
+  constructor(
+    private state: FakeState,
+    private opts: WebhookOptions,
+  ) {
     this.endpoints = new Set(opts.urls);
     // Deliveries that were under way when the process stopped are tried again; held ones stay held.
     for (const d of state.deliveries.values()) {
@@ -57,9 +60,15 @@ export class Webhooks {
     for (const url of this.endpoints) {
       for (let i = 0; i < copies; i++) {
         const d: DeliveryRecord = {
-          id: this.state.newId("whd"), seq: this.state.nextSeq(), eventId: event.id, url,
+          id: this.state.newId("whd"),
+          seq: this.state.nextSeq(),
+          eventId: event.id,
+          url,
           status: this.delivery.mode === "hold" ? "held" : "pending",
-          attempts: 0, lastStatusCode: null, lastError: null, deliveredAt: null,
+          attempts: 0,
+          lastStatusCode: null,
+          lastError: null,
+          deliveredAt: null,
         };
         this.state.deliveries.set(d.id, d);
         // Never inline: the API answer goes out first, as with the real provider.
@@ -141,7 +150,14 @@ export class Webhooks {
     }
     for (const d of held) d.status = "pending";
     for (const d of held) await this.track(this.attempt(d));
-    return held.map((d) => ({ delivery: d.id, event: d.eventId, type: this.state.get(d.eventId, "event")?.type, url: d.url, status: d.status, statusCode: d.lastStatusCode }));
+    return held.map((d) => ({
+      delivery: d.id,
+      event: d.eventId,
+      type: this.state.get(d.eventId, "event")?.type,
+      url: d.url,
+      status: d.status,
+      statusCode: d.lastStatusCode,
+    }));
   }
 
   /** Waits until no delivery is pending or under way (held ones do not count), or the time is up. */
@@ -160,10 +176,19 @@ export class Webhooks {
       byEvent.set(d.eventId, list);
     }
     return this.state.list("event").map((e) => ({
-      id: e.id, type: e.type, created: e.created,
+      id: e.id,
+      type: e.type,
+      created: e.created,
       object_id: (e.data as { object: { id: string } }).object.id,
-      deliveries: (byEvent.get(e.id) ?? []).map(({ id, url, status, attempts, lastStatusCode, lastError, deliveredAt }) =>
-        ({ id, url, status, attempts, lastStatusCode, lastError, deliveredAt })),
+      deliveries: (byEvent.get(e.id) ?? []).map(({ id, url, status, attempts, lastStatusCode, lastError, deliveredAt }) => ({
+        id,
+        url,
+        status,
+        attempts,
+        lastStatusCode,
+        lastError,
+        deliveredAt,
+      })),
     }));
   }
 

@@ -10,8 +10,18 @@ const require = createRequire(import.meta.url);
 const AXE_SOURCE = fs.readFileSync(require.resolve("axe-core/axe.min.js"), "utf8");
 export const A11Y_DIR = path.join(root, "test-results", "a11y");
 
-interface AxeNode { target: string[]; html: string; failureSummary?: string }
-interface AxeViolation { id: string; impact: string | null; help: string; helpUrl: string; nodes: AxeNode[] }
+interface AxeNode {
+  target: string[];
+  html: string;
+  failureSummary?: string;
+}
+interface AxeViolation {
+  id: string;
+  impact: string | null;
+  help: string;
+  helpUrl: string;
+  nodes: AxeNode[];
+}
 
 /** Every screen checked in this run, with its count of violations by impact (written for the issue note). */
 const checked: { screen: string; url: string; serious: number; moderate: number; minor: number }[] = [];
@@ -35,7 +45,13 @@ export async function checkAccessibility(page: Page, screen: string) {
   fs.writeFileSync(path.join(A11Y_DIR, "screens.json"), JSON.stringify(checked, null, 2));
   const blocking = violations.filter((v) => v.impact === "serious" || v.impact === "critical");
   if (blocking.length > 0) {
-    const lines = blocking.map((v) => `- ${v.id} (${v.impact}): ${v.help}\n${v.nodes.slice(0, 5).map((n) => `    ${n.target.join(" ")}  ${n.html.slice(0, 160)}`).join("\n")}`);
+    const lines = blocking.map(
+      (v) =>
+        `- ${v.id} (${v.impact}): ${v.help}\n${v.nodes
+          .slice(0, 5)
+          .map((n) => `    ${n.target.join(" ")}  ${n.html.slice(0, 160)}`)
+          .join("\n")}`,
+    );
     throw new Error(`Accessibility: ${blocking.length} serious or critical violation(s) on "${screen}" (${page.url()}):\n${lines.join("\n")}`);
   }
   return violations;
@@ -48,7 +64,12 @@ export async function focusedElement(page: Page) {
     if (!el || el === document.body) return null;
     const style = getComputedStyle(el);
     const ring = (style.outlineStyle !== "none" && parseFloat(style.outlineWidth) > 0) || (style.boxShadow !== "none" && style.boxShadow !== "");
-    return { tag: el.tagName.toLowerCase(), text: (el.getAttribute("aria-label") || el.textContent || (el as HTMLInputElement).value || "").trim().slice(0, 80), name: el.getAttribute("name"), visibleFocus: ring };
+    return {
+      tag: el.tagName.toLowerCase(),
+      text: (el.getAttribute("aria-label") || el.textContent || (el as HTMLInputElement).value || "").trim().slice(0, 80),
+      name: el.getAttribute("name"),
+      visibleFocus: ring,
+    };
   });
 }
 

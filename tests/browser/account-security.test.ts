@@ -21,7 +21,9 @@ afterEach(async () => {
 /** The reset link of the newest letter to `to` received after `since`, waiting for the mail worker to send it. */
 async function resetLinkFor(to: string, since: number) {
   for (let i = 0; i < 100; i++) {
-    const { messages } = (await (await fetch(`${MAIL_FAKE}/_fake/messages`)).json()) as { messages: { to: string[]; subject: string; text?: string; receivedAt: string }[] };
+    const { messages } = (await (await fetch(`${MAIL_FAKE}/_fake/messages`)).json()) as {
+      messages: { to: string[]; subject: string; text?: string; receivedAt: string }[];
+    };
     const mail = messages.filter((m) => m.to.includes(to) && m.subject === "Choose a new Diffractory password" && Date.parse(m.receivedAt) >= since).at(-1);
     const link = mail?.text?.match(/https?:\/\/[^\s)]+\/reset-password\/[A-Za-z0-9_-]+/)?.[0];
     if (link) return link;

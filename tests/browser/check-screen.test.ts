@@ -69,7 +69,10 @@ describe("the check screen", () => {
     // Pan by a button, then double-click resets to the whole scan.
     await page.getByRole("button", { name: "Pan to higher 2θ" }).click();
     await over.dblclick({ position: { x: box.width * 0.5, y: box.height * 0.5 } });
-    await page.getByTestId("plot-range").getByText(/^Whole scan/).waitFor();
+    await page
+      .getByTestId("plot-range")
+      .getByText(/^Whole scan/)
+      .waitFor();
 
     const [download] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "Download peaks (CSV)" }).click()]);
     expect(download.suggestedFilename()).toBe("HC-2398-1_Co_15-110-v1-peaks.csv");
@@ -84,7 +87,10 @@ describe("the check screen", () => {
     await page.waitForURL(/\/client$/);
     await visit(page, `/checks/${checkOf("review")}`);
     await expect(page.getByTestId("verdict").textContent()).resolves.toContain("Review");
-    await page.getByText(/may belong to another phase/).first().waitFor();
+    await page
+      .getByText(/may belong to another phase/)
+      .first()
+      .waitFor();
     await page.locator('[data-testid="check-plot"][data-ready="true"] canvas').waitFor();
     await screenshot(page, "check-screen-review");
     await b.context.clearCookies();

@@ -58,7 +58,11 @@ function writeScan(name: string, bytes: number, seed: number) {
   const body = simulatedXy(`Silicon reference BT-7, run ${seed} (simulated)`, {
     structure: SILICON,
     cell: { a: 5.431, b: 5.431, c: 5.431, alpha: 90, beta: 90, gamma: 90 },
-    from: 20, to: 120, background: 150, slope: -0.4, seed,
+    from: 20,
+    to: 120,
+    background: 150,
+    slope: -0.4,
+    seed,
   });
   const line = "# detector log: counts stable, generator 40 kV 40 mA, no interruptions during this step\n";
   const text = line.repeat(Math.max(0, Math.ceil((bytes - body.length) / line.length))) + body;

@@ -28,8 +28,16 @@ export async function openBrowser(options: { locale?: string; viewport?: { width
     baseURL: BASE_URL,
     viewport: options.viewport ?? { width: 1280, height: 860 },
     ...(options.locale ? { locale: options.locale } : {}),
-    args: ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-      "--disable-background-networking", "--disable-component-update", "--disable-sync"],
+    args: [
+      "--headless",
+      "--no-sandbox",
+      "--disable-gpu",
+      "--disable-quic",
+      "--no-first-run",
+      "--disable-background-networking",
+      "--disable-component-update",
+      "--disable-sync",
+    ],
   });
   const page = context.pages()[0] ?? (await context.newPage());
   const consoleErrors: string[] = [];

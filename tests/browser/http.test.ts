@@ -46,7 +46,12 @@ describe("HTTP surface", () => {
 
   it("sends a Content-Security-Policy whose per-response nonce is on every script tag, and no inline script without it", async () => {
     const policyOf = (res: Response) =>
-      Object.fromEntries((res.headers.get("content-security-policy") ?? "").split(";").map((d) => d.trim().split(/\s+/)).map(([name, ...values]) => [name, values]));
+      Object.fromEntries(
+        (res.headers.get("content-security-policy") ?? "")
+          .split(";")
+          .map((d) => d.trim().split(/\s+/))
+          .map(([name, ...values]) => [name, values]),
+      );
     const pages = await Promise.all(["/", "/sign-in", "/labs"].map((p) => fetch(`${BASE_URL}${p}`)));
     const nonces = new Set<string>();
     for (const res of pages) {

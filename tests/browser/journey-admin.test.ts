@@ -45,7 +45,10 @@ async function step(page: Page, name: string) {
 
 /** Follows a link of the admin navigation and waits for the screen's heading. */
 async function navigate(page: Page, link: string, heading: string | RegExp) {
-  await page.getByRole("navigation", { name: /navigation/ }).getByRole("link", { name: link, exact: true }).click();
+  await page
+    .getByRole("navigation", { name: /navigation/ })
+    .getByRole("link", { name: link, exact: true })
+    .click();
   await page.getByRole("heading", { level: 1, name: heading }).waitFor();
   await waitForHydration(page);
 }
@@ -177,7 +180,7 @@ describe("admin journey", () => {
     expect(submit.found.visibleFocus, "visible focus on the submit button").toBe(true);
     await page.keyboard.press("Enter");
     await card.getByText("Write the reason for the decision.").waitFor();
-    await card.locator('span.rounded-full', { hasText: /^\W*Open$/ }).waitFor();
+    await card.locator("span.rounded-full", { hasText: /^\W*Open$/ }).waitFor();
     await page.waitForFunction(() => (document.activeElement as HTMLTextAreaElement | null)?.name === "reason");
     const reasonField = await focusedElement(page);
     expect(reasonField?.visibleFocus, "visible focus on the reason field").toBe(true);
@@ -214,14 +217,22 @@ describe("admin journey", () => {
     await page.getByLabel("Movement").selectOption("refund");
     await page.getByRole("button", { name: "Filter" }).click();
     await page.waitForURL(/kind=refund/);
-    const refundRow = page.getByRole("row").filter({ hasText: "platform_cash" }).filter({ hasText: (refundMinor / 100).toFixed(2) });
+    const refundRow = page
+      .getByRole("row")
+      .filter({ hasText: "platform_cash" })
+      .filter({ hasText: (refundMinor / 100).toFixed(2) });
     await refundRow.first().waitFor();
     await checkAccessibility(page, "admin-ledger-refunds");
     await step(page, "ledger-filtered-refunds");
     await page.getByLabel("Movement").selectOption("payout");
     await page.getByRole("button", { name: "Filter" }).click();
     await page.waitForURL(/kind=payout/);
-    await page.getByRole("row").filter({ hasText: "platform_cash" }).filter({ hasText: (payoutMinor / 100).toFixed(2) }).first().waitFor();
+    await page
+      .getByRole("row")
+      .filter({ hasText: "platform_cash" })
+      .filter({ hasText: (payoutMinor / 100).toFixed(2) })
+      .first()
+      .waitFor();
 
     // A bad filter says what is wrong and shows nothing.
     await page.getByLabel("Currency").fill("euro");
@@ -236,7 +247,10 @@ describe("admin journey", () => {
     // The export carries the same filter.
     const [download] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "Download CSV" }).click()]);
     expect(download.suggestedFilename()).toBe("diffractory-ledger.csv");
-    const csv = fs.readFileSync((await download.path())!, "utf8").trim().split("\r\n");
+    const csv = fs
+      .readFileSync((await download.path())!, "utf8")
+      .trim()
+      .split("\r\n");
     expect(csv[0]).toBe("transaction_id,created_at,kind,order_id,account,amount_minor,currency,provider_object_id,memo");
     const rows = csv.slice(1).map((l) => l.split(","));
     expect(rows.length).toBeGreaterThan(0);
@@ -261,7 +275,10 @@ describe("admin journey", () => {
   it("looks up the new lab's manager among the users and reads the outbox", async () => {
     const { page } = admin;
     await navigate(page, "Users", "Users");
-    await page.getByRole("row", { name: new RegExp(APPLICANT.email) }).getByText(`${APPLICANT.labName} (lab, manager)`).waitFor();
+    await page
+      .getByRole("row", { name: new RegExp(APPLICANT.email) })
+      .getByText(`${APPLICANT.labName} (lab, manager)`)
+      .waitFor();
     await checkAccessibility(page, "admin-users");
     await step(page, "users");
 

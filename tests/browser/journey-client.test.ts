@@ -61,14 +61,21 @@ async function expectBadge(page: Page, word: string | string[], scope = "body") 
         const shape = [...el.children].find((c) => c.getAttribute("aria-hidden") === "true");
         if (!shape) return false;
         const hasShape = (shape.textContent ?? "").trim().length > 0 || shape.querySelector("svg, path") !== null || shape.tagName.toLowerCase() === "svg";
-        const text = [...el.childNodes].filter((n) => n !== shape).map((n) => n.textContent ?? "").join("").trim();
+        const text = [...el.childNodes]
+          .filter((n) => n !== shape)
+          .map((n) => n.textContent ?? "")
+          .join("")
+          .trim();
         return hasShape && words.includes(text);
       });
       return candidates.map((el) => ({ text: el.innerText.trim(), visible: el.offsetParent !== null }));
     },
     { words, scope },
   );
-  expect(found.filter((f) => f.visible), `a visible "${words.join('" or "')}" badge with a shape`).not.toHaveLength(0);
+  expect(
+    found.filter((f) => f.visible),
+    `a visible "${words.join('" or "')}" badge with a shape`,
+  ).not.toHaveLength(0);
 }
 
 async function signInAs(b: Browser, email: string, landing: string) {
@@ -83,7 +90,16 @@ function writeScan(radiation: Radiation) {
   const file = path.join(dir, SCAN);
   fs.writeFileSync(
     file,
-    simulatedXy("Zinc oxide lot ZO-12 (simulated)", { structure: ZINCITE, cell: { a: 3.2501, b: 3.2501, c: 5.2071, alpha: 90, beta: 90, gamma: 120 }, radiation, from: 20, to: 120, background: 140, slope: -0.3, seed: 12 }),
+    simulatedXy("Zinc oxide lot ZO-12 (simulated)", {
+      structure: ZINCITE,
+      cell: { a: 3.2501, b: 3.2501, c: 5.2071, alpha: 90, beta: 90, gamma: 120 },
+      radiation,
+      from: 20,
+      to: 120,
+      background: 140,
+      slope: -0.3,
+      seed: 12,
+    }),
   );
   return file;
 }
@@ -93,7 +109,11 @@ beforeAll(async () => {
   fs.writeFileSync(path.join(dir, SDS), MINIMAL_PDF);
   [client, lab] = await Promise.all([openBrowser(), openBrowser()]);
   // Name the screen a page error came from, next to the harness's list of messages.
-  for (const [who, b] of [["client", client], ["lab", lab]] as const) b.page.on("pageerror", (e) => console.info(`${who} page error on ${b.page.url()}: ${e.message.slice(0, 120)}`));
+  for (const [who, b] of [
+    ["client", client],
+    ["lab", lab],
+  ] as const)
+    b.page.on("pageerror", (e) => console.info(`${who} page error on ${b.page.url()}: ${e.message.slice(0, 120)}`));
 });
 afterEach(() => {
   // Each test answers for its own console errors (the lists are emptied after the check).
@@ -180,7 +200,14 @@ describe("the client's journey", () => {
     await page.keyboard.type("hex");
     await tabToField("samples[0].centering");
     await page.keyboard.type("P");
-    for (const [name, value] of [["cellA", "3.25"], ["cellB", "3.25"], ["cellC", "5.207"], ["cellAlpha", "90"], ["cellBeta", "90"], ["cellGamma", "120"]]) {
+    for (const [name, value] of [
+      ["cellA", "3.25"],
+      ["cellB", "3.25"],
+      ["cellC", "5.207"],
+      ["cellAlpha", "90"],
+      ["cellBeta", "90"],
+      ["cellGamma", "120"],
+    ]) {
       await typeInto(`samples[0].${name}`, value);
     }
     // Shift+Tab goes back one control, Tab comes forward again.
@@ -440,7 +467,10 @@ describe("the client's journey", () => {
     await checkAccessibility(page, "client-order-delivered");
     await shot(page, "order-delivered");
     await page.getByRole("button", { name: "Accept delivery" }).click();
-    await page.getByText(/Delivery accepted; the lab is being paid\.|The delivery is accepted/).first().waitFor();
+    await page
+      .getByText(/Delivery accepted; the lab is being paid\.|The delivery is accepted/)
+      .first()
+      .waitFor();
     const state = (await dbQuery<{ state: string }>("select state from orders where id = $1", [orderId]))[0].state;
     expect(["accepted", "paid_out"]).toContain(state);
     // The payout may already have gone through by the time the page is drawn.

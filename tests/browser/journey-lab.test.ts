@@ -68,18 +68,33 @@ beforeAll(async () => {
   fs.writeFileSync(path.join(dir, "iso17025-certificate.pdf"), MINIMAL_PDF);
   fs.writeFileSync(path.join(dir, "zno-sds.pdf"), MINIMAL_PDF);
   // The calibration scan: silicon simulated from the NIST SRM 640c cell (docs/reference-values.md#certified-lattice-parameters) on Cu Kα1+Kα2.
-  fs.writeFileSync(path.join(dir, "k1-si640c.xy"), simulatedXy("Silicon SRM 640c calibration, instrument K1", { structure: SILICON, from: 15, to: 140, background: 110, slope: -0.3, seed: 640 }));
+  fs.writeFileSync(
+    path.join(dir, "k1-si640c.xy"),
+    simulatedXy("Silicon SRM 640c calibration, instrument K1", { structure: SILICON, from: 15, to: 140, background: 110, slope: -0.3, seed: 640 }),
+  );
   // The delivered scan: zincite simulated by the engine on the lab's Cu instrument, a lot slightly off the
   // cell of NIST SRM 674b (docs/reference-values.md#certified-lattice-parameters) as a real batch would be.
   fs.writeFileSync(
     path.join(dir, `${SAMPLE}_Cu_20-120.xy`),
-    simulatedXy(`${SAMPLE} zinc oxide (simulated)`, { structure: ZINCITE, cell: { a: 3.2503, b: 3.2503, c: 5.2071, alpha: 90, beta: 90, gamma: 120 }, from: 20, to: 120, background: 140, slope: -0.4, seed: 674 }),
+    simulatedXy(`${SAMPLE} zinc oxide (simulated)`, {
+      structure: ZINCITE,
+      cell: { a: 3.2503, b: 3.2503, c: 5.2071, alpha: 90, beta: 90, gamma: 120 },
+      from: 20,
+      to: 120,
+      background: 140,
+      slope: -0.4,
+      seed: 674,
+    }),
   );
   [lab, admin, client] = await Promise.all([openBrowser(), openBrowser(), openBrowser()]);
 });
 
 afterEach(() => {
-  for (const [who, b] of [["lab", lab], ["admin", admin], ["client", client]] as const) {
+  for (const [who, b] of [
+    ["lab", lab],
+    ["admin", admin],
+    ["client", client],
+  ] as const) {
     expect(b?.consoleErrors ?? [], `console errors in the ${who}'s browser`).toEqual([]);
   }
 });
@@ -107,7 +122,10 @@ describe("lab journey", () => {
     await waitForHydration(page);
     await step(page, "lab-home", "home");
 
-    await page.getByRole("link", { name: /Vetting/ }).first().click();
+    await page
+      .getByRole("link", { name: /Vetting/ })
+      .first()
+      .click();
     await page.waitForURL(`${BASE_URL}/lab/vetting`);
     await waitForHydration(page);
     await page.getByLabel("Description").fill("Contract powder diffraction for pigment and ceramic producers on one Cu reflection instrument.");
@@ -340,7 +358,10 @@ describe("lab journey", () => {
     await step(page, "quote-builder", "quote-builder");
     await builder.getByRole("button", { name: "Send quote" }).click();
     await page.getByText("Quote sent to the client.").waitFor();
-    await page.getByRole("region", { name: "Your quotes" }).getByText(/200\.00/).waitFor();
+    await page
+      .getByRole("region", { name: "Your quotes" })
+      .getByText(/200\.00/)
+      .waitFor();
     await step(page, "quote-sent", "quote-sent");
     await visit(page, "/lab/quotes");
     await page.getByRole("link", { name: TITLE }).waitFor();
@@ -369,7 +390,10 @@ describe("lab journey", () => {
     await page.getByLabel("Carrier").fill("Skylark Couriers");
     await page.getByLabel("Tracking number").fill(`SK${RUN.toUpperCase()}0042`);
     await page.getByRole("button", { name: "Mark samples shipped" }).click();
-    await page.getByText(/Shipped with Skylark Couriers/).first().waitFor();
+    await page
+      .getByText(/Shipped with Skylark Couriers/)
+      .first()
+      .waitFor();
     await step(page, "client-order-shipped", "client-order-shipped");
   });
 
@@ -382,7 +406,10 @@ describe("lab journey", () => {
     await page.waitForURL(/\/lab\/orders\/[0-9a-f-]+$/);
     await waitForHydration(page);
     expect(new URL(page.url()).pathname).toBe(orderPath.replace("/client/", "/lab/"));
-    await page.getByText(/Shipped with Skylark Couriers/).first().waitFor();
+    await page
+      .getByText(/Shipped with Skylark Couriers/)
+      .first()
+      .waitFor();
     // The parcel is checked against its declaration and safety data sheet, which opens from the order.
     expect(await page.getByRole("link", { name: "zno-sds.pdf" }).getAttribute("href")).toContain("X-Amz-Signature=");
     await step(page, "order-in-transit", "order-in-transit");
@@ -420,7 +447,10 @@ describe("lab journey", () => {
     const page = client.page;
     await visit(page, orderPath);
     await page.getByRole("button", { name: "Accept delivery" }).click();
-    await page.getByText(/Delivery accepted/).first().waitFor();
+    await page
+      .getByText(/Delivery accepted/)
+      .first()
+      .waitFor();
     await step(page, "client-delivery-accepted", "client-delivery-accepted");
 
     // The payout: the quote total 200.00 minus the 8 % platform fee (docs/design.md#money-flow) = 184.00, shown once it exists.

@@ -35,7 +35,10 @@ beforeAll(async () => {
       "insert into orders (request_id, quote_id, client_organisation_id, lab_id, state, amount_minor, currency, updated_at) values ($1, $2, $3, $4, 'measuring', 123450, 'EUR', '2026-03-07T09:15:00Z') returning id",
       [request.id, quote.id, client.id, lab.id],
     );
-    await c.query("insert into order_events (order_id, to_state, note, created_at) values ($1, 'measuring', 'Made by the locale browser test', '2026-03-07T09:15:00Z')", [order.id]);
+    await c.query(
+      "insert into order_events (order_id, to_state, note, created_at) values ($1, 'measuring', 'Made by the locale browser test', '2026-03-07T09:15:00Z')",
+      [order.id],
+    );
     orderId = order.id;
   } finally {
     await c.end();

@@ -19,8 +19,14 @@ beforeAll(async () => {
     const halvorsen = "(select id from organisations where slug = 'halvorsen-cathode-works')";
     ids.clientOrder = (await one(`select id from orders where client_organisation_id = ${halvorsen} order by updated_at desc limit 1`)) ?? "";
     ids.clientRequest = (await one(`select id from requests where organisation_id = ${halvorsen} and state = 'open' limit 1`)) ?? "";
-    ids.check = (await one(`select sc.id from scan_checks sc join order_files f on f.id = sc.file_id join orders o on o.id = f.order_id where o.client_organisation_id = ${halvorsen} and sc.status = 'done' limit 1`)) ?? "";
-    ids.labOrder = (await one(`select id from orders where lab_id = (select id from organisations where slug = 'granite-ridge-characterisation') order by updated_at desc limit 1`)) ?? "";
+    ids.check =
+      (await one(
+        `select sc.id from scan_checks sc join order_files f on f.id = sc.file_id join orders o on o.id = f.order_id where o.client_organisation_id = ${halvorsen} and sc.status = 'done' limit 1`,
+      )) ?? "";
+    ids.labOrder =
+      (await one(
+        `select id from orders where lab_id = (select id from organisations where slug = 'granite-ridge-characterisation') order by updated_at desc limit 1`,
+      )) ?? "";
     ids.lab = (await one(`select id from organisations where slug = 'lakeside-institute-x-ray-core'`)) ?? "";
   } finally {
     await c.end();
@@ -40,7 +46,11 @@ async function tour(role: string, paths: string[]) {
     await visit(b.page, p);
     const width = await b.page.evaluate(() => document.scrollingElement!.scrollWidth);
     // "/client/orders/<uuid>" → "client-orders-id"; the role's own home is "<role>-home".
-    const rest = p.replace(new RegExp(`^/${role}(?=/|$)`), "").replace(/[0-9a-f]{8}-[0-9a-f-]{27}/g, "id").replace(/[^a-z0-9]+/gi, "-").replace(/^-|-$/g, "");
+    const rest = p
+      .replace(new RegExp(`^/${role}(?=/|$)`), "")
+      .replace(/[0-9a-f]{8}-[0-9a-f-]{27}/g, "id")
+      .replace(/[^a-z0-9]+/gi, "-")
+      .replace(/^-|-$/g, "");
     const name = `${role}-${rest || "home"}`;
     await screenshot(b.page, `narrow/${name}`);
     if (width > WIDTH) tooWide.push(`${p}: ${width} px`);
@@ -72,7 +82,17 @@ describe("at 375 px wide", () => {
     await signIn(b.page, "owner@halvorsen.example");
     await b.page.waitForURL(`${BASE_URL}/client`);
     await checkMenu("Requests");
-    const paths = ["/client", "/client/requests", "/client/requests/new", "/client/orders", "/client/payments", "/client/data-room", "/client/members", "/account/security", "/account/notifications"];
+    const paths = [
+      "/client",
+      "/client/requests",
+      "/client/requests/new",
+      "/client/orders",
+      "/client/payments",
+      "/client/data-room",
+      "/client/members",
+      "/account/security",
+      "/account/notifications",
+    ];
     if (ids.clientRequest) paths.push(`/client/requests/${ids.clientRequest}`);
     if (ids.clientOrder) paths.push(`/client/orders/${ids.clientOrder}`, `/client/data-room/${ids.clientOrder}`);
     if (ids.check) paths.push(`/checks/${ids.check}`);
@@ -83,7 +103,18 @@ describe("at 375 px wide", () => {
   it("the lab's screens", async () => {
     await signIn(b.page, "lab@graniteridge.example");
     await b.page.waitForURL(`${BASE_URL}/lab`);
-    const paths = ["/lab", "/lab/inbox", "/lab/quotes", "/lab/work-queue", "/lab/capabilities", "/lab/price-list", "/lab/payouts", "/lab/vetting", "/lab/members", "/lab/api-tokens"];
+    const paths = [
+      "/lab",
+      "/lab/inbox",
+      "/lab/quotes",
+      "/lab/work-queue",
+      "/lab/capabilities",
+      "/lab/price-list",
+      "/lab/payouts",
+      "/lab/vetting",
+      "/lab/members",
+      "/lab/api-tokens",
+    ];
     if (ids.labOrder) paths.push(`/lab/orders/${ids.labOrder}`, `/lab/orders/${ids.labOrder}/files`);
     expect(await tour("lab", paths)).toEqual([]);
     expect(b.consoleErrors).toEqual([]);

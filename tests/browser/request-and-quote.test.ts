@@ -141,7 +141,8 @@ describe("request and quote", () => {
     await granite.waitFor();
     await lakeside.waitFor();
     const offer = (await granite.textContent()) ?? "";
-    for (const part of ["€245.00", "8 days", "Reflection diffractometer", "Cu Kα", "Valid until", "Accepts the declared hazards (GHS07)"]) expect(offer).toContain(part);
+    for (const part of ["€245.00", "8 days", "Reflection diffractometer", "Cu Kα", "Valid until", "Accepts the declared hazards (GHS07)"])
+      expect(offer).toContain(part);
     await screenshot(page, "client-quotes-side-by-side");
     await page.getByRole("button", { name: "Accept Granite Ridge Characterisation's quote" }).click();
     // Accepting leads to the order, ready for checkout.

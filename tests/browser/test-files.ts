@@ -10,7 +10,16 @@ type Simulation = Parameters<typeof simulatePattern>[0];
 /** The .xy text of a simulated scan: 0.02° steps, a sloping background and seeded counting noise; Cu Kα1+Kα2 unless told. */
 export function simulatedXy(
   title: string,
-  opts: { structure: Simulation["structure"]; cell?: Simulation["cell"]; radiation?: Radiation; from: number; to: number; background: number; slope: number; seed: number },
+  opts: {
+    structure: Simulation["structure"];
+    cell?: Simulation["cell"];
+    radiation?: Radiation;
+    from: number;
+    to: number;
+    background: number;
+    slope: number;
+    seed: number;
+  },
 ) {
   const sim = simulatePattern({
     structure: opts.structure,

@@ -27,7 +27,10 @@ export interface Applicant {
 /** Writes accreditation.pdf and si-640c.xy (a silicon scan from the NIST SRM 640c cell, docs/reference-values.md#certified-lattice-parameters, on Cu Kα1+Kα2) into `dir`. */
 export function writeVettingFiles(dir: string, seed: number) {
   fs.writeFileSync(path.join(dir, "accreditation.pdf"), MINIMAL_PDF);
-  fs.writeFileSync(path.join(dir, "si-640c.xy"), simulatedXy("Silicon SRM 640c calibration", { structure: SILICON, from: 15, to: 140, background: 120, slope: -0.3, seed }));
+  fs.writeFileSync(
+    path.join(dir, "si-640c.xy"),
+    simulatedXy("Silicon SRM 640c calibration", { structure: SILICON, from: 15, to: 140, background: 120, slope: -0.3, seed }),
+  );
 }
 
 /** Creates the lab's account and fills in its vetting application, up to (not including) handing it in. */

@@ -19,14 +19,7 @@ import {
   twoThetaFromD,
 } from "~/diffraction/cell";
 import { allowedReflections, twoThetaOf } from "~/diffraction/reflections";
-import {
-  ANODE_LINES,
-  K_EDGE_KEV,
-  KALPHA2_RATIO,
-  photonEnergyKeV,
-  primaryWavelength,
-  radiationLines,
-} from "~/diffraction/wavelengths";
+import { ANODE_LINES, K_EDGE_KEV, KALPHA2_RATIO, photonEnergyKeV, primaryWavelength, radiationLines } from "~/diffraction/wavelengths";
 import { runReference } from "./python-reference";
 
 const RAD = Math.PI / 180;
@@ -95,15 +88,24 @@ describe("d-spacing formulas (hand calculation)", () => {
   it("monoclinic 1/d² = (h²/a² + k² sin²β/b² + l²/c² − 2hl cosβ/(ac))/sin²β (hand calculation)", () => {
     const cell: Cell = { a: 10, b: 12, c: 15, alpha: 90, beta: 105, gamma: 90 };
     const [s, c] = [Math.sin(105 * RAD), Math.cos(105 * RAD)];
-    for (const [h, k, l] of [[1, 0, 1], [1, 2, -3], [-2, 1, 4]]) {
-      const q = (h * h / 100 + (k * k * s * s) / 144 + (l * l) / 225 - (2 * h * l * c) / 150) / (s * s);
+    for (const [h, k, l] of [
+      [1, 0, 1],
+      [1, 2, -3],
+      [-2, 1, 4],
+    ]) {
+      const q = ((h * h) / 100 + (k * k * s * s) / 144 + (l * l) / 225 - (2 * h * l * c) / 150) / (s * s);
       expect(dSpacing(cell, { h, k, l })).toBeCloseTo(1 / Math.sqrt(q), 12);
     }
   });
 
   it("triclinic d agrees with reciprocal vectors a* = (b × c)/V (hand calculation)", () => {
     const cell: Cell = { a: 5.1, b: 6.3, c: 7.7, alpha: 81, beta: 97, gamma: 103 };
-    for (const [h, k, l] of [[1, 0, 0], [0, 1, 1], [1, -2, 3], [-3, 2, 1]]) {
+    for (const [h, k, l] of [
+      [1, 0, 0],
+      [0, 1, 1],
+      [1, -2, 3],
+      [-3, 2, 1],
+    ]) {
       expect(dSpacing(cell, { h, k, l })).toBeCloseTo(textbookD(cell, h, k, l), 12);
     }
   });
@@ -121,7 +123,9 @@ describe("cell constraints of the crystal systems (common practice)", () => {
     expect(checkCellForSystem("cubic", { ...cubic(5.431), beta: 91 })).toMatch(/all angles 90°/);
     expect(checkCellForSystem("hexagonal", hexagonal(3.25, 5.2))).toBeNull();
     expect(checkCellForSystem("trigonal", { ...hexagonal(4.76, 12.99), gamma: 90 })).toMatch(/gamma = 120°/);
-    expect(checkCellForSystem("trigonal", { a: 5.128, b: 5.128, c: 5.128, alpha: 55.28, beta: 55.28, gamma: 55.28 })).toMatch(/hexagonal axes with centering R/);
+    expect(checkCellForSystem("trigonal", { a: 5.128, b: 5.128, c: 5.128, alpha: 55.28, beta: 55.28, gamma: 55.28 })).toMatch(
+      /hexagonal axes with centering R/,
+    );
     expect(checkCellForSystem("monoclinic", { a: 10, b: 12, c: 15, alpha: 90, beta: 105, gamma: 90 })).toBeNull();
     expect(checkCellForSystem("monoclinic", { a: 10, b: 12, c: 15, alpha: 95, beta: 105, gamma: 90 })).toMatch(/alpha = gamma = 90°/);
     expect(checkCellForSystem("triclinic", { a: 5, b: 6, c: 7, alpha: 10, beta: 100, gamma: 170 })).toMatch(/do not form a cell/);
@@ -166,7 +170,12 @@ describe("free reciprocal-metric parameters", () => {
       const cell = cells[system];
       const p = metricParamsFromCell(system, cell);
       expect(p).toHaveLength(freeParameters(system).length);
-      for (const [h, k, l] of [[1, 0, 0], [1, 1, 1], [2, -1, 3], [0, 3, -2]]) {
+      for (const [h, k, l] of [
+        [1, 0, 0],
+        [1, 1, 1],
+        [2, -1, 3],
+        [0, 3, -2],
+      ]) {
         expect(qFromMetricParams(system, p, { h, k, l })).toBeCloseTo(1 / dSpacing(cell, { h, k, l }) ** 2, 12);
         expect(qDesignRow(system, { h, k, l })).toHaveLength(p.length);
       }
@@ -179,8 +188,14 @@ describe("free reciprocal-metric parameters", () => {
       const jac = cellJacobian(system, p);
       p.forEach((pj, j) => {
         const step = 1e-6 * Math.abs(pj) + 1e-9;
-        const plus = cellFromMetricParams(system, p.map((x, i) => (i === j ? x + step : x))).cell;
-        const minus = cellFromMetricParams(system, p.map((x, i) => (i === j ? x - step : x))).cell;
+        const plus = cellFromMetricParams(
+          system,
+          p.map((x, i) => (i === j ? x + step : x)),
+        ).cell;
+        const minus = cellFromMetricParams(
+          system,
+          p.map((x, i) => (i === j ? x - step : x)),
+        ).cell;
         (["a", "b", "c", "alpha", "beta", "gamma"] as const).forEach((key, r) => {
           const numeric = (plus[key] - minus[key]) / (2 * step);
           expect(jac[r][j]).toBeCloseTo(numeric, Math.max(0, 4 - Math.round(Math.log10(Math.abs(numeric) + 1))));
@@ -287,10 +302,7 @@ describe("allowed reflections", () => {
       return best;
     };
     const cubicMs = time(() => allowedReflections(cubic(5), "cubic", "P", { dMin: 0.8 }), 100);
-    const monoMs = time(
-      () => allowedReflections({ a: 10, b: 12, c: 15, alpha: 90, beta: 105, gamma: 90 }, "monoclinic", "P", { dMin: 1 }),
-      10,
-    );
+    const monoMs = time(() => allowedReflections({ a: 10, b: 12, c: 15, alpha: 90, beta: 105, gamma: 90 }, "monoclinic", "P", { dMin: 1 }), 10);
     expect(cubicMs).toBeLessThan(0.5);
     expect(monoMs).toBeLessThan(5);
   });

@@ -98,9 +98,7 @@ describe("every phase checked against every other phase's declaration", () => {
   // Same lattice type and cells within 1 % (silicon and ceria, both F-cubic near 5.42 Å) are the same
   // lattice to a lattice check; those pairs are left out.
   const sameLattice = (x: CrystalStructure, y: CrystalStructure) =>
-    x.system === y.system &&
-    x.centering === y.centering &&
-    (["a", "b", "c"] as const).every((k) => Math.abs(x.cell[k] - y.cell[k]) / y.cell[k] < 0.01);
+    x.system === y.system && x.centering === y.centering && (["a", "b", "c"] as const).every((k) => Math.abs(x.cell[k] - y.cell[k]) / y.cell[k] < 0.01);
   for (const sample of all) {
     it(`a ${sample.formula} scan is inconsistent with every other declared phase`, () => {
       const scan = scanOf(sample, { noise: { seed: sample.formula.length } });
@@ -120,10 +118,7 @@ describe("checkScanText", () => {
     expect(good.ok && good.result.verdict).toBe("consistent");
     const bad = checkScanText("", declare(SILICON));
     expect(bad).toEqual({ ok: false, error: "The file is empty." });
-    const flat = checkScanText(
-      Array.from({ length: 500 }, (_, i) => `${10 + i * 0.02} ${100 + ((i * 7919) % 13) - 6}`).join("\n"),
-      declare(SILICON),
-    );
+    const flat = checkScanText(Array.from({ length: 500 }, (_, i) => `${10 + i * 0.02} ${100 + ((i * 7919) % 13) - 6}`).join("\n"), declare(SILICON));
     expect(flat.ok).toBe(false);
     if (!flat.ok) expect(flat.error).toMatch(/flat line/);
     const badCell = checkScanText(formatScanAsXy(sim), { ...declare(SILICON), cell: { ...SILICON.cell, b: 6 } });

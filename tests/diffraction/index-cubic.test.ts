@@ -62,9 +62,12 @@ describe("indexing cubic patterns without a declared cell", () => {
       noise: { seed: 8 },
     });
     const found = indexCubic(
-      runLatticeCheck({ twoTheta: sim.twoTheta, intensity: sim.intensity, format: "xy", warnings: [] }, { radiation: CU, system: "cubic" }).peaks.map(
-        (p) => ({ twoTheta: p.twoTheta, twoThetaEsd: p.twoThetaEsd, fwhm: p.fwhm, intensity: p.intensity }),
-      ),
+      runLatticeCheck({ twoTheta: sim.twoTheta, intensity: sim.intensity, format: "xy", warnings: [] }, { radiation: CU, system: "cubic" }).peaks.map((p) => ({
+        twoTheta: p.twoTheta,
+        twoThetaEsd: p.twoThetaEsd,
+        fwhm: p.fwhm,
+        intensity: p.intensity,
+      })),
       { wavelength: 1.540593, twoThetaMax: 145 },
     );
     expect(found.candidates[0].centering).toBe("I");

@@ -20,12 +20,36 @@ function lattice(...args: string[]) {
 
 beforeAll(() => {
   dir = mkdtempSync(join(tmpdir(), "lattice-cli-"));
-  const si = simulatePattern({ structure: SILICON, radiation: CU, twoThetaMin: 15, twoThetaMax: 125, step: 0.02, zeroShift: 0.03, background: { constant: 120 }, noise: { seed: 9 } });
+  const si = simulatePattern({
+    structure: SILICON,
+    radiation: CU,
+    twoThetaMin: 15,
+    twoThetaMax: 125,
+    step: 0.02,
+    zeroShift: 0.03,
+    background: { constant: 120 },
+    noise: { seed: 9 },
+  });
   writeFileSync(join(dir, "si.xy"), formatScanAsXy(si, "silicon, simulated"));
   writeFileSync(join(dir, "si.cif"), formatScanAsPdCif(si, CU));
-  const siMono = simulatePattern({ structure: SILICON, radiation: { kind: "anode", anode: "Mo", monochromation: "k_alpha1_only" }, twoThetaMin: 8, twoThetaMax: 60, step: 0.01, noise: { seed: 4 } });
+  const siMono = simulatePattern({
+    structure: SILICON,
+    radiation: { kind: "anode", anode: "Mo", monochromation: "k_alpha1_only" },
+    twoThetaMin: 8,
+    twoThetaMax: 60,
+    step: 0.01,
+    noise: { seed: 4 },
+  });
   writeFileSync(join(dir, "si-mo.xy"), formatScanAsXy(siMono));
-  const rutile = simulatePattern({ structure: RUTILE, radiation: CU, twoThetaMin: 15, twoThetaMax: 125, step: 0.02, background: { constant: 100 }, noise: { seed: 2 } });
+  const rutile = simulatePattern({
+    structure: RUTILE,
+    radiation: CU,
+    twoThetaMin: 15,
+    twoThetaMax: 125,
+    step: 0.02,
+    background: { constant: 100 },
+    noise: { seed: 2 },
+  });
   writeFileSync(join(dir, "rutile.xy"), formatScanAsXy(rutile));
   writeFileSync(join(dir, "empty.xy"), "");
   writeFileSync(join(dir, "few.xy"), "10 1\n10.02 2\n10.04 3\n");
@@ -74,7 +98,20 @@ describe("lattice command line", () => {
     expect(mono.code).toBe(0);
     expect(JSON.parse(mono.stdout).verdict).toBe("consistent");
     // docs/reference-values.md#x-ray-wavelengths: Mo Kα1 = 0.709317 Å.
-    const custom = lattice(join(dir, "si-mo.xy"), "--source", "Cu", "--wavelength", "0.709317", "--system", "cubic", "--centering", "F", "--cell", SI_CELL, "--json");
+    const custom = lattice(
+      join(dir, "si-mo.xy"),
+      "--source",
+      "Cu",
+      "--wavelength",
+      "0.709317",
+      "--system",
+      "cubic",
+      "--centering",
+      "F",
+      "--cell",
+      SI_CELL,
+      "--json",
+    );
     expect(custom.code).toBe(0);
     const out = JSON.parse(custom.stdout);
     expect(out.wavelength).toBe(0.709317);

@@ -1,15 +1,7 @@
 // Dense linear algebra and Levenberg–Marquardt against hand-solvable problems (hand calculation).
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import {
-  choleskyFactor,
-  choleskySolve,
-  invertSymmetric,
-  levenbergMarquardt,
-  solveLinear,
-  squareMatrix,
-  weightedLinearFit,
-} from "~/diffraction/least-squares";
+import { choleskyFactor, choleskySolve, invertSymmetric, levenbergMarquardt, solveLinear, squareMatrix, weightedLinearFit } from "~/diffraction/least-squares";
 
 const matrix = (rows: number[][]) => {
   const m = squareMatrix(rows.length);
@@ -31,12 +23,33 @@ describe("linear algebra", () => {
   });
 
   it("refuses a singular matrix", () => {
-    expect(choleskyFactor(matrix([[1, 1], [1, 1]]))).toBeNull();
-    expect(solveLinear(matrix([[1, 2], [2, 4]]), [1, 2])).toBeNull();
+    expect(
+      choleskyFactor(
+        matrix([
+          [1, 1],
+          [1, 1],
+        ]),
+      ),
+    ).toBeNull();
+    expect(
+      solveLinear(
+        matrix([
+          [1, 2],
+          [2, 4],
+        ]),
+        [1, 2],
+      ),
+    ).toBeNull();
   });
 
   it("pivots where Gaussian elimination without pivoting would divide by zero", () => {
-    const x = solveLinear(matrix([[0, 1], [1, 0]]), [2, 3])!;
+    const x = solveLinear(
+      matrix([
+        [0, 1],
+        [1, 0],
+      ]),
+      [2, 3],
+    )!;
     expect([...x]).toEqual([3, 2]);
   });
 

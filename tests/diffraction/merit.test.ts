@@ -26,7 +26,10 @@ describe("de Wolff M20 (hand calculation from the published definition)", () => 
     // 25 lines of a = 4 Å, N = 1…25 (sums of three squares only), each off by +1e-4 in Q.
     const sums = [1, 2, 3, 4, 5, 6, 8, 9, 10, 11, 12, 13, 14, 16, 17, 18, 19, 20, 21, 22, 24, 25, 26, 27, 29];
     const many = sums.map((n) => ({ qObs: n / 16 + 1e-4, qCalc: n / 16, twoThetaObs: n, twoThetaCalc: n }));
-    const m = deWolffM20([...many].reverse(), sums.map((n) => n / 16));
+    const m = deWolffM20(
+      [...many].reverse(),
+      sums.map((n) => n / 16),
+    );
     // Q20 = 22/16 + 1e-4 = 1.3751; N20 = 20 distinct N up to 22; ⟨ε⟩ = 1e-4 → M20 = 1.3751 / (2e-4 × 20) = 343.775.
     expect(m!.lines).toBe(20);
     expect(m!.calculated).toBe(20);

@@ -64,7 +64,12 @@ describe("two- and three-column text", () => {
   });
 
   it("reverses a descending scan and says so", () => {
-    const scan = ok(x.map((t, i) => `${t} ${y[i]}`).reverse().join("\n"));
+    const scan = ok(
+      x
+        .map((t, i) => `${t} ${y[i]}`)
+        .reverse()
+        .join("\n"),
+    );
     expect(scan.twoTheta[0]).toBeCloseTo(10, 12);
     expect(scan.intensity[scan.intensity.length - 1]).toBe(y[y.length - 1]);
     expect(scan.warnings.join(" ")).toMatch(/reversed/);

@@ -108,8 +108,8 @@ describe("peak fits", () => {
 
   it("is independent of the step: a 0.002° scan gives the same position as a 0.02° one", () => {
     const line = [{ at: 60.321, height: 6000, fwhm: 0.1, eta: 0.5 }];
-    const fine = analysePeaks(...Object.values(scan(line, () => 100, { step: 0.002, seed: 2 })) as [Float64Array, Float64Array], { lines: DOUBLET });
-    const coarse = analysePeaks(...Object.values(scan(line, () => 100, { step: 0.02, seed: 3 })) as [Float64Array, Float64Array], { lines: DOUBLET });
+    const fine = analysePeaks(...(Object.values(scan(line, () => 100, { step: 0.002, seed: 2 })) as [Float64Array, Float64Array]), { lines: DOUBLET });
+    const coarse = analysePeaks(...(Object.values(scan(line, () => 100, { step: 0.02, seed: 3 })) as [Float64Array, Float64Array]), { lines: DOUBLET });
     expect(Math.abs(fine.peaks[0].twoTheta - 60.321)).toBeLessThan(4 * fine.peaks[0].twoThetaEsd);
     expect(Math.abs(coarse.peaks[0].twoTheta - 60.321)).toBeLessThan(4 * coarse.peaks[0].twoThetaEsd);
   });

@@ -31,7 +31,7 @@ interface Case {
 
 function simulateCase({ structure, anode, seed, refine }: Case) {
   const rand = mulberry32(seed * 7919 + 13);
-  const pick = <T,>(xs: readonly T[]) => xs[Math.floor(rand() * xs.length)];
+  const pick = <T>(xs: readonly T[]) => xs[Math.floor(rand() * xs.length)];
   const [lo, hi] = RANGE[anode];
   const short = anode === "Mo" || anode === "Ag";
   const widthScale = pick([0.7, 1, 1.4]);
@@ -152,7 +152,17 @@ describe("a triclinic cell (beyond the issue's targets, same tolerances)", () =>
   it("refines all six parameters of a bare triclinic lattice from a declaration 0.2 % and 0.1° off", () => {
     const cell = { a: 5.1, b: 6.3, c: 7.2, alpha: 95.5, beta: 102.3, gamma: 88.7 };
     const radiation: Radiation = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" };
-    const sim = simulatePattern({ cell, system: "triclinic", centering: "P", radiation, twoThetaMin: 10, twoThetaMax: 80, step: 0.01, background: { constant: 100 }, noise: { seed: 2 } });
+    const sim = simulatePattern({
+      cell,
+      system: "triclinic",
+      centering: "P",
+      radiation,
+      twoThetaMin: 10,
+      twoThetaMax: 80,
+      step: 0.01,
+      background: { constant: 100 },
+      noise: { seed: 2 },
+    });
     const declared = { a: 5.11, b: 6.29, c: 7.21, alpha: 95.4, beta: 102.4, gamma: 88.8 };
     const result = runLatticeCheck(
       { twoTheta: sim.twoTheta, intensity: sim.intensity, format: "xy", warnings: [] },

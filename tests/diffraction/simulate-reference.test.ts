@@ -55,10 +55,7 @@ interface Group {
 }
 
 // Lines at the same d (accidental coincidences such as cubic 511 and 333) summed into one group.
-function groupByD(
-  lines: readonly { d: number; twoTheta: number; multiplicity: number; intensity: number }[],
-  renormalise: boolean,
-): Group[] {
+function groupByD(lines: readonly { d: number; twoTheta: number; multiplicity: number; intensity: number }[], renormalise: boolean): Group[] {
   const sorted = [...lines].sort((x, y) => y.d - x.d);
   const groups: Group[] = [];
   for (const r of sorted) {
@@ -108,7 +105,10 @@ describe("simulated reflections against pymatgen XRDCalculator (lib: pymatgen 20
       }
       // pymatgen leaves out lines below 0.001% of the strongest; every line of ours above 0.5 is in its list.
       for (const g of ours.filter((x) => x.intensity > 0.5)) {
-        expect(theirs.some((line) => Math.abs(g.d - line.d) < 1e-6 * line.d), `ours at d = ${g.d}`).toBe(true);
+        expect(
+          theirs.some((line) => Math.abs(g.d - line.d) < 1e-6 * line.d),
+          `ours at d = ${g.d}`,
+        ).toBe(true);
       }
       expect(worst).toBeLessThan(tolerance);
     });

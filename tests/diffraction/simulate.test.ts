@@ -92,7 +92,7 @@ describe("peak positions", () => {
   it("specimen displacement moves lines by −2 s cosθ / R (docs/reference-values.md#peak-positions-and-widths, common practice)", () => {
     const sim = simulatePattern(silicon({ specimenDisplacement: 0.2, goniometerRadius: 240 }));
     for (const r of sim.reflections) {
-      const shift = ((-2 * 0.2 * Math.cos((r.twoThetaBragg / 2) * RAD)) / 240) / RAD;
+      const shift = (-2 * 0.2 * Math.cos((r.twoThetaBragg / 2) * RAD)) / 240 / RAD;
       expect(r.twoTheta - r.twoThetaBragg).toBeCloseTo(shift, 12);
       expect(Math.abs(peakTop(sim.twoTheta, sim.intensity, r.twoTheta) - (r.twoThetaBragg + shift))).toBeLessThan(5e-4);
     }
@@ -117,7 +117,7 @@ describe("profile, scale and background", () => {
     const d220 = dSpacing(STRUCTURES.silicon.cell, { h: 2, k: 2, l: 0 });
     const bragg = twoThetaFromD(d220, ANODE_LINES.Cu.kAlpha1);
     // Hand calculation: τ = 40 nm, 2θ = 47.30° → β = 0.9 · 1.540593 Å / (400 Å · cos 23.65°) rad = 0.2168°.
-    const beta = ((0.9 * 1.540593) / (400 * Math.cos((bragg / 2) * RAD))) / RAD;
+    const beta = (0.9 * 1.540593) / (400 * Math.cos((bragg / 2) * RAD)) / RAD;
     expect(beta).toBeCloseTo(0.2168, 4);
     for (const eta of [0.2, 0.7]) {
       const shape = { U: 0.004, V: -0.002, W: 0.002, eta };
@@ -233,11 +233,21 @@ describe("written scans", () => {
   it("pdCIF: the pdCIF dictionary data names, a wavelength loop for the doublet, counts in order", () => {
     const cif = formatScanAsPdCif(sim, CU_DOUBLET, "si demo");
     expect(cif.startsWith("data_si_demo\n")).toBe(true);
-    for (const name of ["_diffrn_radiation_wavelength", "_pd_meas_2theta_range_min", "_pd_meas_2theta_range_max", "_pd_meas_2theta_range_inc", "_pd_meas_counts_total"])
+    for (const name of [
+      "_diffrn_radiation_wavelength",
+      "_pd_meas_2theta_range_min",
+      "_pd_meas_2theta_range_max",
+      "_pd_meas_2theta_range_inc",
+      "_pd_meas_counts_total",
+    ])
       expect(cif).toContain(name);
     expect(cif).toMatch(/\n1 1\.540593 1\n2 1\.544427 0\.5\n/);
     expect(cif).toMatch(/_pd_meas_2theta_range_min 20\.0000\n_pd_meas_2theta_range_max 30\.0000\n_pd_meas_2theta_range_inc 0\.0100\n/);
-    const counts = cif.slice(cif.indexOf("_pd_meas_counts_total") + 22).trim().split("\n").map(Number);
+    const counts = cif
+      .slice(cif.indexOf("_pd_meas_counts_total") + 22)
+      .trim()
+      .split("\n")
+      .map(Number);
     expect(counts).toEqual(Array.from(sim.intensity));
     const single = formatScanAsPdCif(sim, { kind: "custom", wavelength: 0.7093 });
     expect(single).toContain("_diffrn_radiation_wavelength 0.7093\n");

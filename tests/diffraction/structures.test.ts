@@ -17,7 +17,7 @@ describe("structures", () => {
       const theirs = expanded[i];
       expect(s.atoms.length, s.name).toBe(theirs.length);
       // Same site up to a lattice translation, coordinates to 1e-5.
-      const near = (u: number, v: number) => Math.abs(((u - v + 0.5) % 1 + 1) % 1 - 0.5) < 1e-5;
+      const near = (u: number, v: number) => Math.abs(((((u - v + 0.5) % 1) + 1) % 1) - 0.5) < 1e-5;
       for (const atom of s.atoms) {
         const match = theirs.some((t) => t.element === atom.element && near(t.x, atom.x) && near(t.y, atom.y) && near(t.z, atom.z));
         expect(match, `${s.name} ${atom.element} ${atom.x} ${atom.y} ${atom.z}`).toBe(true);

@@ -9,8 +9,7 @@ interface XraylibAnswer {
   edges: Record<string, number>;
 }
 
-const xraylib = () =>
-  runReference<XraylibAnswer>("xraylib_lines.py", { anodes: ANODES, edges: Object.keys(K_EDGE_KEV) });
+const xraylib = () => runReference<XraylibAnswer>("xraylib_lines.py", { anodes: ANODES, edges: Object.keys(K_EDGE_KEV) });
 
 describe("wavelengths against xraylib", () => {
   it("Kα1, Kα2 and Kβ of every anode agree within 60 ppm (docs/reference-values.md#x-ray-wavelengths: xraylib agrees within 60 ppm)", () => {

@@ -26,12 +26,18 @@ const address = () => `192.0.2.${++addressN}`;
 
 const userByEmail = async (email: string) => (await db.select().from(schema.users).where(sql`lower(${schema.users.email}) = ${email}`))[0];
 const isSignedIn = async (cookie: string | undefined) => (await callRoute(meLoader, getRequest("/api/me", cookie))).status === 200;
-const signInPassword = (email: string, password = PASSWORD, from = address()) => callRoute(signInAction, formRequest("/sign-in", { email, password }), {}, from);
+const signInPassword = (email: string, password = PASSWORD, from = address()) =>
+  callRoute(signInAction, formRequest("/sign-in", { email, password }), {}, from);
 const mailsTo = (email: string, kind = "password_reset") =>
-  db.select().from(schema.outboxMessages).where(and(eq(schema.outboxMessages.to, email), eq(schema.outboxMessages.kind, kind))).orderBy(schema.outboxMessages.createdAt);
+  db
+    .select()
+    .from(schema.outboxMessages)
+    .where(and(eq(schema.outboxMessages.to, email), eq(schema.outboxMessages.kind, kind)))
+    .orderBy(schema.outboxMessages.createdAt);
 const linkIn = (text: string) => text.match(/\/reset-password\/([A-Za-z0-9_-]+)/)![1];
 const forgot = (email: string, from = address()) => callRoute(forgotAction, formRequest("/forgot-password", { email }), {}, from);
-const reset = (token: string, password: string, confirm = password) => callRoute(resetAction, formRequest(`/reset-password/${token}`, { password, confirm }), { token }, address());
+const reset = (token: string, password: string, confirm = password) =>
+  callRoute(resetAction, formRequest(`/reset-password/${token}`, { password, confirm }), { token }, address());
 
 beforeAll(async () => {
   await seedDemo();
@@ -139,7 +145,10 @@ describe("password reset", () => {
     const [mail] = await mailsTo(email);
     const token = linkIn(mail.text);
     const user = await userByEmail(email);
-    await db.update(schema.passwordResetTokens).set({ expiresAt: new Date(Date.now() - 1000) }).where(eq(schema.passwordResetTokens.userId, user.id));
+    await db
+      .update(schema.passwordResetTokens)
+      .set({ expiresAt: new Date(Date.now() - 1000) })
+      .where(eq(schema.passwordResetTokens.userId, user.id));
     const page = await callRoute(resetLoader, getRequest(`/reset-password/${token}`), { token });
     expect(page.status).toBe(410);
     expect((page.body as { problem: string }).problem).toMatch(/expired/);
@@ -179,12 +188,26 @@ describe("password change on the security screen", () => {
     const email = "consultant@fieldnotes.example";
     const here = await sessionCookieFor(email, { address: address() });
     const elsewhere = await sessionCookieFor(email, { address: address() });
-    const wrong = await callRoute(securityAction, formRequest("/account/security", { intent: "change-password", currentPassword: "not-it", password: "consultant-new-pass", confirm: "consultant-new-pass" }, here));
+    const wrong = await callRoute(
+      securityAction,
+      formRequest(
+        "/account/security",
+        { intent: "change-password", currentPassword: "not-it", password: "consultant-new-pass", confirm: "consultant-new-pass" },
+        here,
+      ),
+    );
     expect(wrong.status).toBe(400);
     expect(JSON.stringify(wrong.body)).toContain("The current password is not right.");
     expect(await isSignedIn(elsewhere)).toBe(true);
 
-    const changed = await callRoute(securityAction, formRequest("/account/security", { intent: "change-password", currentPassword: PASSWORD, password: "consultant-new-pass", confirm: "consultant-new-pass" }, here));
+    const changed = await callRoute(
+      securityAction,
+      formRequest(
+        "/account/security",
+        { intent: "change-password", currentPassword: PASSWORD, password: "consultant-new-pass", confirm: "consultant-new-pass" },
+        here,
+      ),
+    );
     expect(changed.status).toBe(302);
     const fresh = cookieFrom(changed);
     expect(fresh).toBeTruthy();
@@ -206,7 +229,9 @@ describe("second factor", () => {
     let cookie = await sessionCookieFor(email, { address: address() });
     expect((await callRoute(securityLoader, getRequest("/account/security", cookie))).body).toMatchObject({ totp: { state: "off" } });
     expect((await post(cookie, { intent: "enrol-start" })).status).toBe(302);
-    const page = (await callRoute(securityLoader, getRequest("/account/security", cookie))).body as { totp: { state: string; qr: string; secret: string; uri: string } };
+    const page = (await callRoute(securityLoader, getRequest("/account/security", cookie))).body as {
+      totp: { state: string; qr: string; secret: string; uri: string };
+    };
     expect(page.totp.state).toBe("enrolling");
     expect(page.totp.qr).toMatch(/^data:image\/svg\+xml;base64,/);
     expect(Buffer.from(page.totp.qr.split(",")[1], "base64").toString()).toContain("<svg");
@@ -268,7 +293,8 @@ describe("second factor", () => {
     await db.update(schema.users).set({ totpSecret: secret, totpEnabledAt: new Date() }).where(eq(schema.users.id, user.id));
     const half = cookieFrom(await signInPassword(email))!;
     const wrong = totpCodeAt(secret, timeStep() + 10);
-    for (let i = 1; i <= 4; i++) expect((await callRoute(codeAction, formRequest("/sign-in/code", { intent: "verify", code: wrong }, half), {}, address())).status).toBe(400);
+    for (let i = 1; i <= 4; i++)
+      expect((await callRoute(codeAction, formRequest("/sign-in/code", { intent: "verify", code: wrong }, half), {}, address())).status).toBe(400);
     const fifth = await callRoute(codeAction, formRequest("/sign-in/code", { intent: "verify", code: wrong }, half), {}, address());
     expect(fifth.status).toBe(302);
     expect(fifth.headers.get("location")).toBe("/sign-in");

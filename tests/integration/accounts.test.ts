@@ -77,9 +77,15 @@ describe("sign-in", () => {
   });
 
   it("follows only local redirect targets", async () => {
-    const evil = await callRoute(signInAction, formRequest("/sign-in", { email: "owner@halvorsen.example", password: PASSWORD, redirectTo: "//evil.example/x" }));
+    const evil = await callRoute(
+      signInAction,
+      formRequest("/sign-in", { email: "owner@halvorsen.example", password: PASSWORD, redirectTo: "//evil.example/x" }),
+    );
     expect(evil.headers.get("location")).toBe("/client");
-    const local = await callRoute(signInAction, formRequest("/sign-in", { email: "owner@halvorsen.example", password: PASSWORD, redirectTo: "/client/members" }));
+    const local = await callRoute(
+      signInAction,
+      formRequest("/sign-in", { email: "owner@halvorsen.example", password: PASSWORD, redirectTo: "/client/members" }),
+    );
     expect(local.headers.get("location")).toBe("/client/members");
   });
 });
@@ -106,7 +112,10 @@ describe("sessions", () => {
 
   it("lets a person in two organisations switch, and refuses someone else's organisation", async () => {
     const cookie = cookieFrom(await signIn("consultant@fieldnotes.example"))!;
-    const me = (await callRoute(meLoader, getRequest("/api/me", cookie))).body as { organisations: { id: string; name: string }[]; activeOrganisationId: string };
+    const me = (await callRoute(meLoader, getRequest("/api/me", cookie))).body as {
+      organisations: { id: string; name: string }[];
+      activeOrganisationId: string;
+    };
     expect(me.organisations.map((o) => o.name).sort()).toEqual(["Halvorsen Cathode Works", "Pinecrest Solid Forms"]);
     const other = me.organisations.find((o) => o.id !== me.activeOrganisationId)!;
     const switched = await callRoute(switchAction, formRequest("/switch-organisation", { organisationId: other.id }, cookie));
@@ -126,7 +135,13 @@ describe("create account", () => {
   it("creates a client organisation with its owner and signs them in", async () => {
     const answer = await callRoute(
       createAccountAction,
-      formRequest("/create-account", { kind: "client", name: "Edda Quill", email: "Edda@Northwind-Ceramics.example", password: "a-long-enough-password", organisationName: "Northwind Ceramics" }),
+      formRequest("/create-account", {
+        kind: "client",
+        name: "Edda Quill",
+        email: "Edda@Northwind-Ceramics.example",
+        password: "a-long-enough-password",
+        organisationName: "Northwind Ceramics",
+      }),
     );
     expect(answer.status).toBe(302);
     expect(answer.headers.get("location")).toBe("/client");
@@ -139,7 +154,15 @@ describe("create account", () => {
   it("lets a lab apply: its manager lands in the lab workspace", async () => {
     const answer = await callRoute(
       createAccountAction,
-      formRequest("/create-account", { kind: "lab", name: "Oskar Veld", email: "oskar@veldlab.example", password: "another-long-password", organisationName: "Veld Diffraction Lab", city: "Veldhaven", country: "Netherlands" }),
+      formRequest("/create-account", {
+        kind: "lab",
+        name: "Oskar Veld",
+        email: "oskar@veldlab.example",
+        password: "another-long-password",
+        organisationName: "Veld Diffraction Lab",
+        city: "Veldhaven",
+        country: "Netherlands",
+      }),
     );
     expect(answer.headers.get("location")).toBe("/lab");
   });
@@ -159,7 +182,13 @@ describe("create account", () => {
   it("refuses an e-mail that already has an account, whatever its case", async () => {
     const answer = await callRoute(
       createAccountAction,
-      formRequest("/create-account", { kind: "client", name: "Someone Else", email: "OWNER@halvorsen.example", password: "a-long-enough-password", organisationName: "Copycat Ltd" }),
+      formRequest("/create-account", {
+        kind: "client",
+        name: "Someone Else",
+        email: "OWNER@halvorsen.example",
+        password: "a-long-enough-password",
+        organisationName: "Copycat Ltd",
+      }),
     );
     expect(answer.status).toBe(400);
     expect(JSON.stringify(answer.body)).toContain("already exists");
@@ -168,7 +197,13 @@ describe("create account", () => {
   it("refuses an unknown account kind", async () => {
     const answer = await callRoute(
       createAccountAction,
-      formRequest("/create-account", { kind: "vendor", name: "Some One", email: "some@one.example", password: "a-long-enough-password", organisationName: "Some Org" }),
+      formRequest("/create-account", {
+        kind: "vendor",
+        name: "Some One",
+        email: "some@one.example",
+        password: "a-long-enough-password",
+        organisationName: "Some Org",
+      }),
     );
     expect(answer.status).toBe(400);
   });

@@ -27,7 +27,8 @@ type PerActor = Record<Actor, Outcome>;
 type Expect = { loader?: PerActor | "public"; action?: PerActor | "public" };
 
 /** The same outcome for everyone, with exceptions. */
-const all = (outcome: Outcome, except: Partial<PerActor> = {}): PerActor => ({ ...Object.fromEntries(ACTOR_NAMES.map((a) => [a, outcome])), ...except }) as PerActor;
+const all = (outcome: Outcome, except: Partial<PerActor> = {}): PerActor =>
+  ({ ...Object.fromEntries(ACTOR_NAMES.map((a) => [a, outcome])), ...except }) as PerActor;
 // Shapes that recur: signed out (and half signed in) goes to sign-in; the rest as given.
 const signedIn = (outcome: Outcome, except: Partial<PerActor> = {}) => all(outcome, { signedOut: "signin", halfSignedIn: "signin", ...except });
 const clientA = (a: Outcome, others: Outcome, except: Partial<PerActor> = {}) => signedIn(others, { ownerA: a, memberA: a, ...except });
@@ -215,11 +216,13 @@ function classify(answer: RouteAnswer): string {
 }
 
 function fill(path: string) {
-  return path.replace(/:(\w+)/g, (_, name: string) => {
-    const value = params[name];
-    if (!value) throw new Error(`no value for :${name} in ${path}`);
-    return value;
-  }).replace(/\*$/, "no-such-page");
+  return path
+    .replace(/:(\w+)/g, (_, name: string) => {
+      const value = params[name];
+      if (!value) throw new Error(`no value for :${name} in ${path}`);
+      return value;
+    })
+    .replace(/\*$/, "no-such-page");
 }
 
 function routeParams(path: string) {
@@ -247,7 +250,17 @@ beforeAll(async () => {
   const [sample] = await w.db.insert(w.schema.samples).values({ requestId: order.requestId, label: "LFP lot 7", formula: "LiFePO4" }).returning();
   const [file] = await w.db
     .insert(w.schema.orderFiles)
-    .values({ orderId, sampleId: sample.id, name: "lot7.xy", version: 1, sizeBytes: 10, contentType: "text/plain", sha256: "0".repeat(64), storageKey: `k/${sample.id}`, state: "stored" })
+    .values({
+      orderId,
+      sampleId: sample.id,
+      name: "lot7.xy",
+      version: 1,
+      sizeBytes: 10,
+      contentType: "text/plain",
+      sha256: "0".repeat(64),
+      storageKey: `k/${sample.id}`,
+      state: "stored",
+    })
     .returning();
   const [check] = await w.db.insert(w.schema.scanChecks).values({ fileId: file.id, status: "done", verdict: "consistent" }).returning();
   await w.deliver(orderId);
@@ -255,10 +268,14 @@ beforeAll(async () => {
 
   const owner = await signIn("ownerA");
   const dataRoom = (await import("~/routes/client/data-room-order")).action;
-  const shared = await callRoute(dataRoom, formRequest(`/client/data-room/${orderId}`, { intent: "share", label: "Matrix reader", days: "7" }, owner), { orderId });
+  const shared = await callRoute(dataRoom, formRequest(`/client/data-room/${orderId}`, { intent: "share", label: "Matrix reader", days: "7" }, owner), {
+    orderId,
+  });
   const token = new URL((shared.body as { shared: { url: string } }).shared.url).pathname.split("/").pop()!;
   const members = (await import("~/routes/client/members")).action;
-  expect((await callRoute(members, formRequest("/client/members", { intent: "invite", email: "matrix-invitee@halvorsen.example", role: "member" }, owner))).status).toBe(302);
+  expect(
+    (await callRoute(members, formRequest("/client/members", { intent: "invite", email: "matrix-invitee@halvorsen.example", role: "member" }, owner))).status,
+  ).toBe(302);
   const [mail] = await w.db.select().from(w.schema.outboxMessages).where(w.eq(w.schema.outboxMessages.to, "matrix-invitee@halvorsen.example"));
   const invitation = mail.text.match(/\/invitations\/([A-Za-z0-9_-]+)/)![1];
   // A live reset link of someone who is not an actor here.

@@ -98,8 +98,15 @@ beforeAll(async () => {
     redirect: "manual",
   });
   expect(res.status).toBe(302);
-  client = res.headers.getSetCookie().find((c) => c.startsWith("diffractory_session="))!.split(";")[0];
-  const made = await post("/client/requests/new", new URLSearchParams({ title: "Cathode batch 12", technique: "powder_reflection", ...SAMPLE_FIELDS }), "application/x-www-form-urlencoded");
+  client = res.headers
+    .getSetCookie()
+    .find((c) => c.startsWith("diffractory_session="))!
+    .split(";")[0];
+  const made = await post(
+    "/client/requests/new",
+    new URLSearchParams({ title: "Cathode batch 12", technique: "powder_reflection", ...SAMPLE_FIELDS }),
+    "application/x-www-form-urlencoded",
+  );
   expect(made.status, made.body.slice(0, 300)).toBe(302);
   draftId = made.location!.split("/")[3];
 }, 120_000);
@@ -112,7 +119,8 @@ afterAll(async () => {
 });
 
 const FORM = "application/x-www-form-urlencoded";
-const samplesForm = (extra: Record<string, string> = {}) => new URLSearchParams({ title: "Cathode batch 13", technique: "powder_reflection", ...SAMPLE_FIELDS, ...extra }).toString();
+const samplesForm = (extra: Record<string, string> = {}) =>
+  new URLSearchParams({ title: "Cathode batch 13", technique: "powder_reflection", ...SAMPLE_FIELDS, ...extra }).toString();
 
 interface WireCase {
   kind: string;
@@ -124,7 +132,13 @@ interface WireCase {
 
 const BOUNDARY = "----diffractory-test-boundary";
 const CASES: WireCase[] = [
-  { kind: "oversized body", what: "a 2 MB form with its length declared", send: () => post("/client/requests/new", `${samplesForm()}&notes=${"x".repeat(2_000_000)}`, FORM), status: 413, says: /The request is too large: forms and API bodies are at most 1 MB/ },
+  {
+    kind: "oversized body",
+    what: "a 2 MB form with its length declared",
+    send: () => post("/client/requests/new", `${samplesForm()}&notes=${"x".repeat(2_000_000)}`, FORM),
+    status: 413,
+    says: /The request is too large: forms and API bodies are at most 1 MB/,
+  },
   {
     kind: "oversized body",
     what: "a 2 MB form sent in chunks without a declared length",
@@ -142,26 +156,110 @@ const CASES: WireCase[] = [
     status: 413,
     says: /at most 1 MB/,
   },
-  { kind: "oversized body", what: "a 2 MB provider event", send: () => post("/api/webhooks/payments", JSON.stringify({ id: "evt_big", pad: "x".repeat(2_000_000) }), "application/json", ""), status: 413, says: /at most 1 MB/ },
+  {
+    kind: "oversized body",
+    what: "a 2 MB provider event",
+    send: () => post("/api/webhooks/payments", JSON.stringify({ id: "evt_big", pad: "x".repeat(2_000_000) }), "application/json", ""),
+    status: 413,
+    says: /at most 1 MB/,
+  },
   {
     kind: "truncated body",
     what: "a multipart form cut off before its closing boundary",
-    send: () => post("/client/requests/new", `--${BOUNDARY}\r\nContent-Disposition: form-data; name="title"\r\n\r\nCathode batch 14\r\n--${BOUNDARY}\r\nContent-Disposition: form-data; name="technique"\r\n\r\npowder_refl`, `multipart/form-data; boundary=${BOUNDARY}`),
+    send: () =>
+      post(
+        "/client/requests/new",
+        `--${BOUNDARY}\r\nContent-Disposition: form-data; name="title"\r\n\r\nCathode batch 14\r\n--${BOUNDARY}\r\nContent-Disposition: form-data; name="technique"\r\n\r\npowder_refl`,
+        `multipart/form-data; boundary=${BOUNDARY}`,
+      ),
     status: 400,
     says: /The request could not be read; it may have been cut off on the way\./,
   },
-  { kind: "wrong Content-Type", what: "the samples form sent as JSON", send: () => post("/client/requests/new", JSON.stringify({ title: "Cathode batch 15" }), "application/json"), status: 415, says: /This address takes a form/ },
-  { kind: "wrong Content-Type", what: "the samples form sent as plain text", send: () => post("/client/requests/new", samplesForm(), "text/plain"), status: 415, says: /This address takes a form/ },
-  { kind: "wrong Content-Type", what: "the hazards form with multipart but no boundary", send: () => post(`/client/requests/${draftId}/edit/hazards`, "samples[0].afterMeasurement=return", "multipart/form-data"), status: 415, says: /This address takes a form/ },
-  { kind: "wrong Content-Type", what: "marking notifications read with a CSV body", send: () => post("/api/notifications", "all=maybe", "text/csv"), status: 400, says: /Send \{"all": true\}/ },
-  { kind: "invalid UTF-8", what: "a form whose title bytes are Latin-1", send: () => post("/client/requests/new", Buffer.concat([Buffer.from(`${samplesForm()}&title=Kathodencharge `), Buffer.from([0xe4, 0xfc, 0xff])]), FORM), status: 400, says: /The form is not UTF-8 text/ },
-  { kind: "invalid UTF-8", what: "a form whose percent-escapes are not UTF-8", send: () => post("/client/requests/new", `${samplesForm()}&title=%FF%FEbatch`, FORM), status: 400, says: /The form is not UTF-8 text/ },
-  { kind: "invalid UTF-8", what: "a provider event whose bytes are not UTF-8", send: () => post("/api/webhooks/payments", Buffer.concat([Buffer.from('{"id": "evt_'), Buffer.from([0xc3, 0x28]), Buffer.from('"}')]), "application/json", ""), status: 400, says: /The request body is not UTF-8 text\./ },
-  { kind: "NUL byte in text", what: "a form field with %00", send: () => post("/client/requests/new", `${samplesForm()}&title=batch%00one`, FORM), status: 400, says: /NUL character/ },
-  { kind: "very long URL", what: "a 10,000-character directory search in the URL", send: () => send(`/api/labs?q=${"a".repeat(10_000)}`), status: 400, says: /q has at most 100 characters\./ },
-  { kind: "very long URL", what: "a 12,000-character order id in the path", send: () => send(`/client/orders/${"9".repeat(12_000)}`), status: 404, says: /No such order|not found|Not found/i },
-  { kind: "SQL metacharacters", what: "an order id that is an injection", send: () => send(`/client/orders/${encodeURIComponent("1' OR '1'='1")}`), status: 404, says: /No such order|not found|Not found/i },
-  { kind: "cross-site form", what: "a form posted from another site", send: () => send("/client/requests/new", { method: "POST", body: samplesForm(), headers: { "Content-Type": FORM, Origin: "https://evil.example" } }), status: 403, says: /Refused: this request came from another site\./ },
+  {
+    kind: "wrong Content-Type",
+    what: "the samples form sent as JSON",
+    send: () => post("/client/requests/new", JSON.stringify({ title: "Cathode batch 15" }), "application/json"),
+    status: 415,
+    says: /This address takes a form/,
+  },
+  {
+    kind: "wrong Content-Type",
+    what: "the samples form sent as plain text",
+    send: () => post("/client/requests/new", samplesForm(), "text/plain"),
+    status: 415,
+    says: /This address takes a form/,
+  },
+  {
+    kind: "wrong Content-Type",
+    what: "the hazards form with multipart but no boundary",
+    send: () => post(`/client/requests/${draftId}/edit/hazards`, "samples[0].afterMeasurement=return", "multipart/form-data"),
+    status: 415,
+    says: /This address takes a form/,
+  },
+  {
+    kind: "wrong Content-Type",
+    what: "marking notifications read with a CSV body",
+    send: () => post("/api/notifications", "all=maybe", "text/csv"),
+    status: 400,
+    says: /Send \{"all": true\}/,
+  },
+  {
+    kind: "invalid UTF-8",
+    what: "a form whose title bytes are Latin-1",
+    send: () => post("/client/requests/new", Buffer.concat([Buffer.from(`${samplesForm()}&title=Kathodencharge `), Buffer.from([0xe4, 0xfc, 0xff])]), FORM),
+    status: 400,
+    says: /The form is not UTF-8 text/,
+  },
+  {
+    kind: "invalid UTF-8",
+    what: "a form whose percent-escapes are not UTF-8",
+    send: () => post("/client/requests/new", `${samplesForm()}&title=%FF%FEbatch`, FORM),
+    status: 400,
+    says: /The form is not UTF-8 text/,
+  },
+  {
+    kind: "invalid UTF-8",
+    what: "a provider event whose bytes are not UTF-8",
+    send: () =>
+      post("/api/webhooks/payments", Buffer.concat([Buffer.from('{"id": "evt_'), Buffer.from([0xc3, 0x28]), Buffer.from('"}')]), "application/json", ""),
+    status: 400,
+    says: /The request body is not UTF-8 text\./,
+  },
+  {
+    kind: "NUL byte in text",
+    what: "a form field with %00",
+    send: () => post("/client/requests/new", `${samplesForm()}&title=batch%00one`, FORM),
+    status: 400,
+    says: /NUL character/,
+  },
+  {
+    kind: "very long URL",
+    what: "a 10,000-character directory search in the URL",
+    send: () => send(`/api/labs?q=${"a".repeat(10_000)}`),
+    status: 400,
+    says: /q has at most 100 characters\./,
+  },
+  {
+    kind: "very long URL",
+    what: "a 12,000-character order id in the path",
+    send: () => send(`/client/orders/${"9".repeat(12_000)}`),
+    status: 404,
+    says: /No such order|not found|Not found/i,
+  },
+  {
+    kind: "SQL metacharacters",
+    what: "an order id that is an injection",
+    send: () => send(`/client/orders/${encodeURIComponent("1' OR '1'='1")}`),
+    status: 404,
+    says: /No such order|not found|Not found/i,
+  },
+  {
+    kind: "cross-site form",
+    what: "a form posted from another site",
+    send: () => send("/client/requests/new", { method: "POST", body: samplesForm(), headers: { "Content-Type": FORM, Origin: "https://evil.example" } }),
+    status: 403,
+    says: /Refused: this request came from another site\./,
+  },
 ];
 
 describe("bad input on the wire is refused with a sentence and changes nothing", () => {

@@ -81,12 +81,18 @@ describe("instruments", () => {
   });
 
   it("refuses a 2θ minimum at or above the maximum, a zero step and an unknown technique", async () => {
-    const equal = await callRoute(capabilitiesAction, post("/lab/capabilities", instrument({ name: "Equal", twoThetaMin: "90", twoThetaMax: "90" }), await as(MANAGER)));
+    const equal = await callRoute(
+      capabilitiesAction,
+      post("/lab/capabilities", instrument({ name: "Equal", twoThetaMin: "90", twoThetaMax: "90" }), await as(MANAGER)),
+    );
     expect(equal.status).toBe(400);
     expect(errorsOf(equal).twoThetaMax).toEqual(["The largest 2θ must be above the smallest."]);
     const step = await callRoute(capabilitiesAction, post("/lab/capabilities", instrument({ name: "No step", smallestStep: "0" }), await as(MANAGER)));
     expect(errorsOf(step).smallestStep).toEqual(["The step must be more than 0°."]);
-    const technique = await callRoute(capabilitiesAction, post("/lab/capabilities", instrument({ name: "Odd", technique: "electron_diffraction" }), await as(MANAGER)));
+    const technique = await callRoute(
+      capabilitiesAction,
+      post("/lab/capabilities", instrument({ name: "Odd", technique: "electron_diffraction" }), await as(MANAGER)),
+    );
     expect(technique.status).toBe(400);
     expect(errorsOf(technique).technique).toEqual(["Choose a technique from the list."]);
     for (const name of ["Equal", "No step", "Odd"]) expect(await instrumentsNamed(name)).toHaveLength(0);
@@ -105,15 +111,45 @@ describe("instruments", () => {
   it("answers 404 when a manager edits or removes another lab's instrument, and leaves it alone", async () => {
     const [theirs] = await db
       .insert(schema.instruments)
-      .values({ labId: lakeside, name: "Lakeside transmission (test)", technique: "powder_transmission", anode: "Mo", twoThetaMin: 2, twoThetaMax: 145, smallestStep: 0.01, detector: "strip_1d" })
+      .values({
+        labId: lakeside,
+        name: "Lakeside transmission (test)",
+        technique: "powder_transmission",
+        anode: "Mo",
+        twoThetaMin: 2,
+        twoThetaMax: 145,
+        smallestStep: 0.01,
+        detector: "strip_1d",
+      })
       .returning();
     const edit = await callRoute(capabilitiesAction, post("/lab/capabilities", instrument({ id: theirs.id, name: "Taken over" }), await as(MANAGER)));
     expect(edit.status).toBe(404);
-    const remove = await callRoute(capabilitiesAction, post("/lab/capabilities", [["intent", "remove-instrument"], ["id", theirs.id]], await as(MANAGER)));
+    const remove = await callRoute(
+      capabilitiesAction,
+      post(
+        "/lab/capabilities",
+        [
+          ["intent", "remove-instrument"],
+          ["id", theirs.id],
+        ],
+        await as(MANAGER),
+      ),
+    );
     expect(remove.status).toBe(404);
     const stage = await callRoute(
       capabilitiesAction,
-      post("/lab/capabilities", [["intent", "save-stage"], ["instrumentId", theirs.id], ["name", "Sneaky stage"], ["minTemperatureK", "100"], ["maxTemperatureK", "300"], ["atmospheres", "air"]], await as(MANAGER)),
+      post(
+        "/lab/capabilities",
+        [
+          ["intent", "save-stage"],
+          ["instrumentId", theirs.id],
+          ["name", "Sneaky stage"],
+          ["minTemperatureK", "100"],
+          ["maxTemperatureK", "300"],
+          ["atmospheres", "air"],
+        ],
+        await as(MANAGER),
+      ),
     );
     expect(stage.status).toBe(404);
     expect((await instrumentsNamed("Lakeside transmission (test)"))[0].labId).toBe(lakeside);
@@ -156,11 +192,26 @@ describe("sample stages", () => {
 
 describe("hazard acceptance", () => {
   it("saves GHS pictograms and special categories and refuses unknown codes", async () => {
-    const fields: [string, string][] = [["intent", "save-hazards"], ["pictograms", "GHS07"], ["pictograms", "GHS08"], ["specialCategories", "nanomaterial"]];
+    const fields: [string, string][] = [
+      ["intent", "save-hazards"],
+      ["pictograms", "GHS07"],
+      ["pictograms", "GHS08"],
+      ["specialCategories", "nanomaterial"],
+    ];
     expect((await callRoute(capabilitiesAction, post("/lab/capabilities", fields, await as(MANAGER)))).status).toBe(302);
     const [row] = await db.select().from(schema.hazardAcceptance).where(eq(schema.hazardAcceptance.labId, graniteRidge));
     expect(row).toMatchObject({ pictograms: ["GHS07", "GHS08"], specialCategories: ["nanomaterial"] });
-    const bad = await callRoute(capabilitiesAction, post("/lab/capabilities", [["intent", "save-hazards"], ["pictograms", "GHS10"]], await as(MANAGER)));
+    const bad = await callRoute(
+      capabilitiesAction,
+      post(
+        "/lab/capabilities",
+        [
+          ["intent", "save-hazards"],
+          ["pictograms", "GHS10"],
+        ],
+        await as(MANAGER),
+      ),
+    );
     expect(bad.status).toBe(400);
   });
 });
@@ -201,7 +252,10 @@ describe("price list", () => {
     const negative = await callRoute(priceListAction, post("/lab/price-list", prices({ "perSample.powder_reflection": "-5.00" }), await as(MANAGER)));
     expect(negative.status).toBe(400);
     expect(errorsOf(negative)["perSample.powder_reflection"]).toEqual(["Prices cannot be negative."]);
-    const malformed = await callRoute(priceListAction, post("/lab/price-list", prices({ perInstrumentHour: "12.345", turnaroundDays: "0" }), await as(MANAGER)));
+    const malformed = await callRoute(
+      priceListAction,
+      post("/lab/price-list", prices({ perInstrumentHour: "12.345", turnaroundDays: "0" }), await as(MANAGER)),
+    );
     expect(errorsOf(malformed).perInstrumentHour[0]).toMatch(/at most two decimals/);
     expect(errorsOf(malformed).turnaroundDays).toEqual(["At least 1 day."]);
     const currency = await callRoute(priceListAction, post("/lab/price-list", prices({ currency: "XXX" }), await as(MANAGER)));

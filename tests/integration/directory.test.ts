@@ -6,7 +6,16 @@ import { loader as labProfile } from "~/routes/public/lab-profile";
 import { callRoute, getRequest } from "./route-call";
 
 interface DirectoryAnswer {
-  labs: { slug: string; name: string; minD: number; sources: string[]; temperatureRangeK: [number, number] | null; priceFrom: number; currency: string; turnaroundDays: number }[];
+  labs: {
+    slug: string;
+    name: string;
+    minD: number;
+    sources: string[];
+    temperatureRangeK: [number, number] | null;
+    priceFrom: number;
+    currency: string;
+    turnaroundDays: number;
+  }[];
   total: number;
   page: number;
 }

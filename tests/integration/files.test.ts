@@ -43,7 +43,11 @@ async function as(email: string) {
 }
 
 function jsonRequest(path: string, body: unknown, headers: Record<string, string> = {}) {
-  return new Request(`${ORIGIN}${path}`, { method: "POST", body: JSON.stringify(body), headers: { "Content-Type": "application/json", Origin: ORIGIN, ...headers } });
+  return new Request(`${ORIGIN}${path}`, {
+    method: "POST",
+    body: JSON.stringify(body),
+    headers: { "Content-Type": "application/json", Origin: ORIGIN, ...headers },
+  });
 }
 
 const sha256 = (bytes: string | Uint8Array) => createHash("sha256").update(bytes).digest("hex");
@@ -55,9 +59,22 @@ async function measuringOrder() {
   const [order] = await w.db.select().from(w.schema.orders).where(w.eq(w.schema.orders.id, orderId));
   const [sample] = await w.db
     .insert(w.schema.samples)
-    .values({ requestId: order.requestId, label: "LFP lot 7", formula: "LiFePO4", crystalSystem: "orthorhombic", centering: "P", cellA: 10.33, cellB: 6.01, cellC: 4.69 })
+    .values({
+      requestId: order.requestId,
+      label: "LFP lot 7",
+      formula: "LiFePO4",
+      crystalSystem: "orthorhombic",
+      centering: "P",
+      cellA: 10.33,
+      cellB: 6.01,
+      cellC: 4.69,
+    })
     .returning();
-  for (const [to, mover] of [["samples_in_transit", "client"], ["samples_received", "lab"], ["measuring", "lab"]] as const) {
+  for (const [to, mover] of [
+    ["samples_in_transit", "client"],
+    ["samples_received", "lab"],
+    ["measuring", "lab"],
+  ] as const) {
     await w.db.transaction(async (tx) => w.app.orders.moveOrder(tx, await w.app.orders.lockOrder(tx, orderId), to, mover, null));
   }
   return { orderId, sampleId: sample.id };
@@ -84,7 +101,11 @@ function scanText(targetBytes = 0) {
 async function labUpload(orderId: string, name: string, body: string | Uint8Array, opts: { sha256?: string; kind?: string; sampleId?: string } = {}) {
   const cookie = await as("lab@graniteridge.example");
   const size = typeof body === "string" ? Buffer.byteLength(body) : body.length;
-  const start = await callRoute(app.uploads.action, jsonRequest(`/lab/orders/${orderId}/uploads`, { name, size, kind: opts.kind ?? "scan", sampleId: opts.sampleId }, { Cookie: cookie }), { id: orderId });
+  const start = await callRoute(
+    app.uploads.action,
+    jsonRequest(`/lab/orders/${orderId}/uploads`, { name, size, kind: opts.kind ?? "scan", sampleId: opts.sampleId }, { Cookie: cookie }),
+    { id: orderId },
+  );
   expect(start.status, JSON.stringify(start.body)).toBe(201);
   const started = start.body as { fileId: string; version: number; upload: { url: string; headers: Record<string, string> } };
   const put = await fetch(started.upload.url, { method: "PUT", body: typeof body === "string" ? body : Buffer.from(body), headers: started.upload.headers });
@@ -157,10 +178,18 @@ describe("uploads straight to storage", () => {
     const early = await start({ name: "early.xy", size: 10, kind: "scan" }, unpaid);
     expect(early.status).toBe(409);
     expect((early.body as { error: string }).error).toMatch(/Awaiting payment/);
-    const notJson = await callRoute(app.uploads.action, new Request(`${ORIGIN}/lab/orders/${orderId}/uploads`, { method: "POST", body: "{", headers: { Cookie: cookie, Origin: ORIGIN } }), { id: orderId });
+    const notJson = await callRoute(
+      app.uploads.action,
+      new Request(`${ORIGIN}/lab/orders/${orderId}/uploads`, { method: "POST", body: "{", headers: { Cookie: cookie, Origin: ORIGIN } }),
+      { id: orderId },
+    );
     expect(notJson.status).toBe(400);
     // A client cannot start uploads at all.
-    const client = await callRoute(app.uploads.action, jsonRequest(`/lab/orders/${orderId}/uploads`, { name: "a.xy", size: 10 }, { Cookie: await as("owner@halvorsen.example") }), { id: orderId });
+    const client = await callRoute(
+      app.uploads.action,
+      jsonRequest(`/lab/orders/${orderId}/uploads`, { name: "a.xy", size: 10 }, { Cookie: await as("owner@halvorsen.example") }),
+      { id: orderId },
+    );
     expect(client.status).toBe(403);
   });
 
@@ -181,7 +210,10 @@ describe("uploads straight to storage", () => {
     expect(checks).toHaveLength(1);
 
     const owner = await as("owner@halvorsen.example");
-    for (const [file, text] of [[a, first], [b, second]] as const) {
+    for (const [file, text] of [
+      [a, first],
+      [b, second],
+    ] as const) {
       const answer = await callRoute(app.download.loader, getRequest(`/files/${file.started.fileId}/download`, owner), { fileId: file.started.fileId });
       expect(answer.status).toBe(302);
       const location = answer.headers.get("Location")!;
@@ -199,14 +231,22 @@ describe("uploads straight to storage", () => {
     expect(log[0]).toMatchObject({ fileName: "lot7.xy", person: expect.any(String) });
 
     // The client owner deletes v1: it leaves the data room, the bytes stay.
-    const del = await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "delete", fileId: a.started.fileId }, owner), { orderId });
+    const del = await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "delete", fileId: a.started.fileId }, owner), {
+      orderId,
+    });
     expect(del.status).toBe(302);
     expect((await fileRow(a.started.fileId)).deletedAt).not.toBeNull();
     expect((await callRoute(app.download.loader, getRequest(`/files/${a.started.fileId}/download`, owner), { fileId: a.started.fileId })).status).toBe(404);
-    const lab = await callRoute(app.download.loader, getRequest(`/files/${a.started.fileId}/download`, await as("lab@graniteridge.example")), { fileId: a.started.fileId });
+    const lab = await callRoute(app.download.loader, getRequest(`/files/${a.started.fileId}/download`, await as("lab@graniteridge.example")), {
+      fileId: a.started.fileId,
+    });
     expect(lab.status).toBe(302);
     // A member (not an owner) may not delete.
-    const member = await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "delete", fileId: b.started.fileId }, await as("member@halvorsen.example")), { orderId });
+    const member = await callRoute(
+      app.dataRoomOrder.action,
+      formRequest(`/client/data-room/${orderId}`, { intent: "delete", fileId: b.started.fileId }, await as("member@halvorsen.example")),
+      { orderId },
+    );
     expect(member.status).toBe(403);
   });
 
@@ -217,13 +257,22 @@ describe("uploads straight to storage", () => {
     expect((await callRoute(app.apiFiles.loader, getRequest(`/api/orders/${orderId}/files`, other), { id: orderId })).status).toBe(404);
     expect((await callRoute(app.download.loader, getRequest(`/files/${started.fileId}/download`, other), { fileId: started.fileId })).status).toBe(404);
     expect((await callRoute(app.dataRoomOrder.loader, getRequest(`/client/data-room/${orderId}`, other), { orderId })).status).toBe(404);
-    expect((await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "share", label: "Someone", days: "3" }, other), { orderId })).status).toBe(404);
+    expect(
+      (
+        await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "share", label: "Someone", days: "3" }, other), {
+          orderId,
+        })
+      ).status,
+    ).toBe(404);
     const room = await callRoute(app.dataRoom.loader, getRequest("/client/data-room", other));
     expect((room.body as { orders: { id: string }[] }).orders.map((o) => o.id)).not.toContain(orderId);
     // Another lab neither.
     const lakeside = await as("lab@lakeside.example");
     expect((await callRoute(app.labFiles.loader, getRequest(`/lab/orders/${orderId}/files`, lakeside), { id: orderId })).status).toBe(404);
-    expect((await callRoute(app.uploads.action, jsonRequest(`/lab/orders/${orderId}/uploads`, { name: "a.xy", size: 10 }, { Cookie: lakeside }), { id: orderId })).status).toBe(404);
+    expect(
+      (await callRoute(app.uploads.action, jsonRequest(`/lab/orders/${orderId}/uploads`, { name: "a.xy", size: 10 }, { Cookie: lakeside }), { id: orderId }))
+        .status,
+    ).toBe(404);
   });
 
   it("an expired presigned URL fails", async () => {
@@ -248,7 +297,11 @@ describe("uploads straight to storage", () => {
       file: new Blob([bytes]),
       backoffMs: 10,
       start: async () => {
-        const res = await callRoute(app.uploads.action, jsonRequest(`/lab/orders/${orderId}/uploads`, { name: "lot7-long.xy", size: bytes.length, kind: "scan", sampleId }, { Cookie: cookie }), { id: orderId });
+        const res = await callRoute(
+          app.uploads.action,
+          jsonRequest(`/lab/orders/${orderId}/uploads`, { name: "lot7-long.xy", size: bytes.length, kind: "scan", sampleId }, { Cookie: cookie }),
+          { id: orderId },
+        );
         expect(res.status).toBe(201);
         return res.body as never;
       },
@@ -265,7 +318,10 @@ describe("uploads straight to storage", () => {
         return res.headers.get("etag") ?? "";
       },
       complete: async (fileId, body) =>
-        callRoute(app.upload.action, jsonRequest(`/lab/orders/${orderId}/uploads/${fileId}`, { intent: "complete", ...body }, { Cookie: cookie }), { id: orderId, fileId }),
+        callRoute(app.upload.action, jsonRequest(`/lab/orders/${orderId}/uploads/${fileId}`, { intent: "complete", ...body }, { Cookie: cookie }), {
+          id: orderId,
+          fileId,
+        }),
     });
     expect(answer.status, JSON.stringify(answer.body)).toBe(200);
     expect(tries.filter((p) => p === 2)).toHaveLength(2);
@@ -277,10 +333,17 @@ describe("uploads straight to storage", () => {
   it("a cancelled upload leaves nothing behind", async () => {
     const { orderId } = await measuringOrder();
     const cookie = await as("lab@graniteridge.example");
-    const start = await callRoute(app.uploads.action, jsonRequest(`/lab/orders/${orderId}/uploads`, { name: "big.xy", size: 20 * 1024 * 1024 }, { Cookie: cookie }), { id: orderId });
+    const start = await callRoute(
+      app.uploads.action,
+      jsonRequest(`/lab/orders/${orderId}/uploads`, { name: "big.xy", size: 20 * 1024 * 1024 }, { Cookie: cookie }),
+      { id: orderId },
+    );
     const { fileId, upload } = start.body as { fileId: string; upload: { parts: unknown[] } };
     expect(upload.parts).toHaveLength(3);
-    const abort = await callRoute(app.upload.action, jsonRequest(`/lab/orders/${orderId}/uploads/${fileId}`, { intent: "abort" }, { Cookie: cookie }), { id: orderId, fileId });
+    const abort = await callRoute(app.upload.action, jsonRequest(`/lab/orders/${orderId}/uploads/${fileId}`, { intent: "abort" }, { Cookie: cookie }), {
+      id: orderId,
+      fileId,
+    });
     expect(abort.status).toBe(200);
     expect(await fileRow(fileId)).toBeUndefined();
   });
@@ -291,10 +354,14 @@ describe("share links", () => {
     const { orderId } = await measuringOrder();
     const { started } = await labUpload(orderId, "for-auditor.xy", scanText());
     const owner = await as("owner@halvorsen.example");
-    const bad = await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "share", label: "", days: "500" }, owner), { orderId });
+    const bad = await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "share", label: "", days: "500" }, owner), {
+      orderId,
+    });
     expect(bad.status).toBe(400);
     const create = async (label: string) => {
-      const answer = await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "share", label, days: "7" }, owner), { orderId });
+      const answer = await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "share", label, days: "7" }, owner), {
+        orderId,
+      });
       expect(answer.status).toBe(200);
       return new URL((answer.body as { shared: { url: string } }).shared.url).pathname.split("/").pop()!;
     };
@@ -314,17 +381,27 @@ describe("share links", () => {
     const room = await callRoute(app.dataRoomOrder.loader, getRequest(`/client/data-room/${orderId}`, owner), { orderId });
     const [link] = (room.body as { shareLinks: { id: string; status: string }[] }).shareLinks;
     expect(link.status).toBe("active");
-    expect((await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "revoke", linkId: link.id }, owner), { orderId })).status).toBe(302);
+    expect(
+      (await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "revoke", linkId: link.id }, owner), { orderId }))
+        .status,
+    ).toBe(302);
     expect((await callRoute(app.shared.loader, getRequest(`/shared/${token}`), { token })).status).toBe(410);
-    expect((await callRoute(app.sharedDownload.loader, getRequest(`/shared/${token}/files/${started.fileId}`), { token, fileId: started.fileId })).status).toBe(410);
+    expect((await callRoute(app.sharedDownload.loader, getRequest(`/shared/${token}/files/${started.fileId}`), { token, fileId: started.fileId })).status).toBe(
+      410,
+    );
 
     // Expired: the same.
     const second = await create("Quality lead at the customer");
-    await w.db.update(w.schema.shareLinks).set({ expiresAt: new Date(Date.now() - 1000) }).where(w.eq(w.schema.shareLinks.label, "Quality lead at the customer"));
+    await w.db
+      .update(w.schema.shareLinks)
+      .set({ expiresAt: new Date(Date.now() - 1000) })
+      .where(w.eq(w.schema.shareLinks.label, "Quality lead at the customer"));
     const expired = await callRoute(app.shared.loader, getRequest(`/shared/${second}`), { token: second });
     expect(expired.status).toBe(410);
     expect((expired.body as { gone: string }).gone).toBe("expired");
-    expect((await callRoute(app.sharedDownload.loader, getRequest(`/shared/${second}/files/${started.fileId}`), { token: second, fileId: started.fileId })).status).toBe(410);
+    expect(
+      (await callRoute(app.sharedDownload.loader, getRequest(`/shared/${second}/files/${started.fileId}`), { token: second, fileId: started.fileId })).status,
+    ).toBe(410);
     expect((await callRoute(app.shared.loader, getRequest("/shared/not-a-token"), { token: "not-a-token" })).status).toBe(404);
     const after = await w.db.select().from(w.schema.fileAccessLog).where(w.eq(w.schema.fileAccessLog.fileId, started.fileId));
     expect(after).toHaveLength(1);
@@ -346,32 +423,59 @@ describe("instrument computers", () => {
     expect(row.tokenHash).toBe(sha256(token));
     expect(token.startsWith(row.prefix)).toBe(true);
     // An operator cannot create tokens.
-    expect((await callRoute(app.tokens.action, formRequest("/lab/api-tokens", { intent: "create", name: "Mine" }, await as("operator@graniteridge.example")))).status).toBe(403);
+    expect(
+      (await callRoute(app.tokens.action, formRequest("/lab/api-tokens", { intent: "create", name: "Mine" }, await as("operator@graniteridge.example"))))
+        .status,
+    ).toBe(403);
 
     const text = scanText();
-    const start = await callRoute(app.v1Start.action, jsonRequest(`/api/v1/orders/${orderId}/files`, { name: "auto-001.xye", size: Buffer.byteLength(text), sha256: sha256(text) }, bearer(token)), { id: orderId });
+    const start = await callRoute(
+      app.v1Start.action,
+      jsonRequest(`/api/v1/orders/${orderId}/files`, { name: "auto-001.xye", size: Buffer.byteLength(text), sha256: sha256(text) }, bearer(token)),
+      { id: orderId },
+    );
     expect(start.status).toBe(201);
     const started = start.body as { fileId: string; upload: { method: string; url: string; headers: Record<string, string> }; completeUrl: string };
     expect(started.upload.method).toBe("PUT");
     expect(started.completeUrl).toBe(`${ORIGIN}/api/v1/orders/${orderId}/files/${started.fileId}/complete`);
     await fetch(started.upload.url, { method: "PUT", body: text, headers: started.upload.headers });
-    const done = await callRoute(app.v1Complete.action, new Request(started.completeUrl, { method: "POST", headers: bearer(token) }), { id: orderId, fileId: started.fileId });
+    const done = await callRoute(app.v1Complete.action, new Request(started.completeUrl, { method: "POST", headers: bearer(token) }), {
+      id: orderId,
+      fileId: started.fileId,
+    });
     expect(done.status, JSON.stringify(done.body)).toBe(200);
     expect(await fileRow(started.fileId)).toMatchObject({ state: "stored", uploadedVia: "api" });
 
     // Another lab's token gets 404 for this order.
     const lakeside = await createToken("lab@lakeside.example", "Cryostat PC");
-    expect((await callRoute(app.v1Start.action, jsonRequest(`/api/v1/orders/${orderId}/files`, { name: "x.xy", size: 10 }, bearer(lakeside)), { id: orderId })).status).toBe(404);
-    expect((await callRoute(app.v1Complete.action, jsonRequest(`/api/v1/orders/${orderId}/files/${started.fileId}/complete`, {}, bearer(lakeside)), { id: orderId, fileId: started.fileId })).status).toBe(404);
+    expect(
+      (await callRoute(app.v1Start.action, jsonRequest(`/api/v1/orders/${orderId}/files`, { name: "x.xy", size: 10 }, bearer(lakeside)), { id: orderId }))
+        .status,
+    ).toBe(404);
+    expect(
+      (
+        await callRoute(app.v1Complete.action, jsonRequest(`/api/v1/orders/${orderId}/files/${started.fileId}/complete`, {}, bearer(lakeside)), {
+          id: orderId,
+          fileId: started.fileId,
+        })
+      ).status,
+    ).toBe(404);
 
     // No token, an unknown token, a revoked token: 401.
     expect((await callRoute(app.v1Start.action, jsonRequest(`/api/v1/orders/${orderId}/files`, {}), { id: orderId })).status).toBe(401);
     expect((await callRoute(app.v1Start.action, jsonRequest(`/api/v1/orders/${orderId}/files`, {}, bearer("dfy_nonsense")), { id: orderId })).status).toBe(401);
     const list = await callRoute(app.tokens.loader, getRequest("/lab/api-tokens", await as("lab@graniteridge.example")));
-    const listed = (list.body as { tokens: { id: string; name: string; lastUsedAt: string | null }[] }).tokens.find((t) => t.name === "Diffractometer 2 control PC")!;
+    const listed = (list.body as { tokens: { id: string; name: string; lastUsedAt: string | null }[] }).tokens.find(
+      (t) => t.name === "Diffractometer 2 control PC",
+    )!;
     expect(listed.lastUsedAt).not.toBeNull();
-    expect((await callRoute(app.tokens.action, formRequest("/lab/api-tokens", { intent: "revoke", tokenId: listed.id }, await as("lab@graniteridge.example")))).status).toBe(302);
-    const revoked = await callRoute(app.v1Start.action, jsonRequest(`/api/v1/orders/${orderId}/files`, { name: "late.xy", size: 10 }, bearer(token)), { id: orderId });
+    expect(
+      (await callRoute(app.tokens.action, formRequest("/lab/api-tokens", { intent: "revoke", tokenId: listed.id }, await as("lab@graniteridge.example"))))
+        .status,
+    ).toBe(302);
+    const revoked = await callRoute(app.v1Start.action, jsonRequest(`/api/v1/orders/${orderId}/files`, { name: "late.xy", size: 10 }, bearer(token)), {
+      id: orderId,
+    });
     expect(revoked.status).toBe(401);
     expect(revoked.body).toEqual({ error: "This API token has been revoked." });
   });
@@ -393,7 +497,10 @@ describe("instrument computers", () => {
     expect(Number(last!.headers.get("Retry-After"))).toBeGreaterThan(0);
     // Another token has its own budget.
     const other = await createToken("lab@graniteridge.example", "Quiet PC");
-    expect((await callRoute(app.v1Start.action, jsonRequest(`/api/v1/orders/${orderId}/files`, { name: "bad.exe", size: 10 }, bearer(other)), { id: orderId })).status).toBe(400);
+    expect(
+      (await callRoute(app.v1Start.action, jsonRequest(`/api/v1/orders/${orderId}/files`, { name: "bad.exe", size: 10 }, bearer(other)), { id: orderId }))
+        .status,
+    ).toBe(400);
   });
 });
 
@@ -404,7 +511,13 @@ describe("APIs for the client's tools", () => {
     const all = await callRoute(app.apiOrders.loader, getRequest("/api/orders?state=measuring", owner));
     expect(all.status).toBe(200);
     const orders = (all.body as { orders: { id: string; state: string; labName: string; requestTitle: string; updatedAt: string }[] }).orders;
-    expect(orders.find((o) => o.id === orderId)).toEqual({ id: orderId, state: "measuring", labName: "Granite Ridge Characterisation", requestTitle: expect.stringMatching(/^Money test/), updatedAt: expect.any(String) });
+    expect(orders.find((o) => o.id === orderId)).toEqual({
+      id: orderId,
+      state: "measuring",
+      labName: "Granite Ridge Characterisation",
+      requestTitle: expect.stringMatching(/^Money test/),
+      updatedAt: expect.any(String),
+    });
     expect(orders.every((o) => o.state === "measuring")).toBe(true);
     const bad = await callRoute(app.apiOrders.loader, getRequest("/api/orders?state=shipped", owner));
     expect(bad.status).toBe(400);

@@ -45,10 +45,23 @@ async function labMove(orderId: string, fields: Record<string, string>, who = LA
 
 async function addSampleWithCheck(orderId: string, status: "done" | "failed") {
   const [order] = await w.db.select().from(w.schema.orders).where(w.eq(w.schema.orders.id, orderId));
-  const [sample] = await w.db.insert(w.schema.samples).values({ requestId: order.requestId, label: `S-${status}`, formula: "Si" }).returning();
+  const [sample] = await w.db
+    .insert(w.schema.samples)
+    .values({ requestId: order.requestId, label: `S-${status}`, formula: "Si" })
+    .returning();
   const [file] = await w.db
     .insert(w.schema.orderFiles)
-    .values({ orderId, sampleId: sample.id, name: `${sample.label}.xy`, version: 1, sizeBytes: 10, contentType: "text/plain", sha256: "0".repeat(64), storageKey: `k/${sample.id}`, state: "stored" })
+    .values({
+      orderId,
+      sampleId: sample.id,
+      name: `${sample.label}.xy`,
+      version: 1,
+      sizeBytes: 10,
+      contentType: "text/plain",
+      sha256: "0".repeat(64),
+      storageKey: `k/${sample.id}`,
+      state: "stored",
+    })
     .returning();
   await w.db.insert(w.schema.scanChecks).values({ fileId: file.id, status, verdict: status === "done" ? "consistent" : null });
   return sample;
@@ -103,8 +116,12 @@ describe("order moves", () => {
 
   it("shows the packing slip to the client only", async () => {
     const orderId = await w.makeOrder();
-    expect((await callRoute(routes.packingSlip.loader, getRequest(`/client/orders/${orderId}/packing-slip`, await as(CLIENT)), { id: orderId })).status).toBe(200);
-    expect((await callRoute(routes.packingSlip.loader, getRequest(`/client/orders/${orderId}/packing-slip`, await as(OTHER_CLIENT)), { id: orderId })).status).toBe(404);
+    expect((await callRoute(routes.packingSlip.loader, getRequest(`/client/orders/${orderId}/packing-slip`, await as(CLIENT)), { id: orderId })).status).toBe(
+      200,
+    );
+    expect(
+      (await callRoute(routes.packingSlip.loader, getRequest(`/client/orders/${orderId}/packing-slip`, await as(OTHER_CLIENT)), { id: orderId })).status,
+    ).toBe(404);
     expect((await callRoute(routes.packingSlip.loader, getRequest(`/client/orders/${orderId}/packing-slip`, await as(LAB)), { id: orderId })).status).toBe(403);
     expect((await callRoute(routes.labOrder.loader, getRequest(`/lab/orders/${orderId}`, await as(LAB)), { id: orderId })).status).toBe(200);
     expect((await callRoute(routes.labOrder.loader, getRequest(`/lab/orders/${orderId}`, await as(OTHER_LAB)), { id: orderId })).status).toBe(404);

@@ -26,7 +26,11 @@ async function orgId(name: string) {
   return o.id;
 }
 
-const invitationMails = (to: string) => db.select().from(schema.outboxMessages).where(and(eq(schema.outboxMessages.kind, "organisation_invitation"), sql`lower(${schema.outboxMessages.to}) = lower(${to})`));
+const invitationMails = (to: string) =>
+  db
+    .select()
+    .from(schema.outboxMessages)
+    .where(and(eq(schema.outboxMessages.kind, "organisation_invitation"), sql`lower(${schema.outboxMessages.to}) = lower(${to})`));
 
 /** Invites through the members screen and returns the token from the e-mail's link. */
 async function invite(by: string, email: string, role: string, path = "/client/members") {
@@ -81,7 +85,14 @@ describe("inviting a person who has no account yet", () => {
   it("lets them create an account, come back and accept: a membership in the inviting organisation, once", async () => {
     const created = await callRoute(
       createAccountAction,
-      formRequest("/create-account", { kind: "client", name: "Nadia Ferreira", email: "Nadia.Ferreira@Ferrolith.example", password: "a long enough password", organisationName: "Ferrolith Pigments", redirectTo: `/invitations/${token}` }),
+      formRequest("/create-account", {
+        kind: "client",
+        name: "Nadia Ferreira",
+        email: "Nadia.Ferreira@Ferrolith.example",
+        password: "a long enough password",
+        organisationName: "Ferrolith Pigments",
+        redirectTo: `/invitations/${token}`,
+      }),
     );
     expect(created.status).toBe(302);
     expect(created.headers.get("location")).toBe(`/invitations/${token}`);
@@ -92,7 +103,10 @@ describe("inviting a person who has no account yet", () => {
     expect(accepted.headers.get("location")).toBe("/client");
 
     const [user] = await db.select().from(schema.users).where(sql`lower(${schema.users.email}) = ${email}`);
-    const memberships = await db.select({ organisationId: schema.memberships.organisationId, role: schema.memberships.role }).from(schema.memberships).where(eq(schema.memberships.userId, user.id));
+    const memberships = await db
+      .select({ organisationId: schema.memberships.organisationId, role: schema.memberships.role })
+      .from(schema.memberships)
+      .where(eq(schema.memberships.userId, user.id));
     expect(memberships).toHaveLength(2);
     expect(memberships).toContainEqual({ organisationId: await orgId("Halvorsen Cathode Works"), role: "member" });
     const [session] = await db.select().from(schema.sessions).where(eq(schema.sessions.userId, user.id));
@@ -100,7 +114,10 @@ describe("inviting a person who has no account yet", () => {
 
     const [row] = await invitationByEmail(email);
     expect(row.acceptedAt).not.toBeNull();
-    const audits = await db.select().from(schema.auditLog).where(and(eq(schema.auditLog.action, "invitation_accepted"), eq(schema.auditLog.subjectId, row.id)));
+    const audits = await db
+      .select()
+      .from(schema.auditLog)
+      .where(and(eq(schema.auditLog.action, "invitation_accepted"), eq(schema.auditLog.subjectId, row.id)));
     expect(audits).toHaveLength(1);
 
     // The same link a second time is refused and changes nothing.
@@ -114,19 +131,31 @@ describe("inviting a person who has no account yet", () => {
 
 describe("who may invite, and what", () => {
   it("refuses a member who is not an owner (403)", async () => {
-    const answer = await callRoute(clientMembersAction, formRequest("/client/members", { intent: "invite", email: "someone@elsewhere.example", role: "member" }, await as(MEMBER)));
+    const answer = await callRoute(
+      clientMembersAction,
+      formRequest("/client/members", { intent: "invite", email: "someone@elsewhere.example", role: "member" }, await as(MEMBER)),
+    );
     expect(answer.status).toBe(403);
     expect(await invitationByEmail("someone@elsewhere.example")).toHaveLength(0);
   });
 
   it("refuses a lab role on a client organisation, an unknown role and a bad e-mail (400), sending nothing", async () => {
     const cookie = await as(OWNER);
-    const labRole = await callRoute(clientMembersAction, formRequest("/client/members", { intent: "invite", email: "wrong.kind@elsewhere.example", role: "operator" }, cookie));
+    const labRole = await callRoute(
+      clientMembersAction,
+      formRequest("/client/members", { intent: "invite", email: "wrong.kind@elsewhere.example", role: "operator" }, cookie),
+    );
     expect(labRole.status).toBe(400);
     expect((labRole.body as { result: { error: Record<string, string[]> } }).result.error.role[0]).toMatch(/owner and member/);
-    const unknown = await callRoute(clientMembersAction, formRequest("/client/members", { intent: "invite", email: "wrong.kind@elsewhere.example", role: "chief" }, cookie));
+    const unknown = await callRoute(
+      clientMembersAction,
+      formRequest("/client/members", { intent: "invite", email: "wrong.kind@elsewhere.example", role: "chief" }, cookie),
+    );
     expect(unknown.status).toBe(400);
-    const badEmail = await callRoute(clientMembersAction, formRequest("/client/members", { intent: "invite", email: "not an address", role: "member" }, cookie));
+    const badEmail = await callRoute(
+      clientMembersAction,
+      formRequest("/client/members", { intent: "invite", email: "not an address", role: "member" }, cookie),
+    );
     expect(badEmail.status).toBe(400);
     expect((badEmail.body as { result: { error: Record<string, string[]> } }).result.error.email[0]).toMatch(/valid e-mail/);
     expect(await invitationByEmail("wrong.kind@elsewhere.example")).toHaveLength(0);
@@ -134,14 +163,20 @@ describe("who may invite, and what", () => {
   });
 
   it("refuses to invite someone who already belongs", async () => {
-    const answer = await callRoute(clientMembersAction, formRequest("/client/members", { intent: "invite", email: MEMBER.toUpperCase(), role: "member" }, await as(OWNER)));
+    const answer = await callRoute(
+      clientMembersAction,
+      formRequest("/client/members", { intent: "invite", email: MEMBER.toUpperCase(), role: "member" }, await as(OWNER)),
+    );
     expect(answer.status).toBe(400);
   });
 
   it("lets a lab manager invite an operator, but not a client role", async () => {
     const token = await invite(LAB_MANAGER, "new.operator@graniteridge.example", "operator", "/lab/members");
     expect(token).toBeTruthy();
-    const wrong = await callRoute(labMembersAction, formRequest("/lab/members", { intent: "invite", email: "x@graniteridge.example", role: "member" }, await as(LAB_MANAGER)));
+    const wrong = await callRoute(
+      labMembersAction,
+      formRequest("/lab/members", { intent: "invite", email: "x@graniteridge.example", role: "member" }, await as(LAB_MANAGER)),
+    );
     expect(wrong.status).toBe(400);
   });
 });
@@ -150,8 +185,14 @@ describe("refused tokens", () => {
   it("refuses an expired invitation", async () => {
     const email = "late@elsewhere.example";
     const token = await invite(OWNER, email, "member");
-    await db.update(schema.organisationInvitations).set({ expiresAt: new Date(Date.now() - 1000) }).where(eq(schema.organisationInvitations.email, email));
-    const signedUp = await callRoute(createAccountAction, formRequest("/create-account", { kind: "client", name: "Late Comer", email, password: "a long enough password", organisationName: "Late Labs Supply" }));
+    await db
+      .update(schema.organisationInvitations)
+      .set({ expiresAt: new Date(Date.now() - 1000) })
+      .where(eq(schema.organisationInvitations.email, email));
+    const signedUp = await callRoute(
+      createAccountAction,
+      formRequest("/create-account", { kind: "client", name: "Late Comer", email, password: "a long enough password", organisationName: "Late Labs Supply" }),
+    );
     const answer = await accept(token, cookieFrom(signedUp));
     expect(answer.status).toBe(410);
     expect((answer.body as { formErrors: string[] }).formErrors[0]).toMatch(/expired/);
@@ -168,7 +209,11 @@ describe("refused tokens", () => {
     const answer = await accept(token, await as(email));
     expect(answer.status).toBe(410);
     expect((answer.body as { formErrors: string[] }).formErrors[0]).toMatch(/withdrawn/);
-    const memberships = await db.select().from(schema.memberships).innerJoin(schema.users, eq(schema.users.id, schema.memberships.userId)).where(eq(schema.users.email, email));
+    const memberships = await db
+      .select()
+      .from(schema.memberships)
+      .innerJoin(schema.users, eq(schema.users.id, schema.memberships.userId))
+      .where(eq(schema.users.email, email));
     expect(memberships).toHaveLength(1);
   });
 

@@ -34,7 +34,15 @@ async function as(email: string) {
 async function newLab(name: string, email: string) {
   const answer = await callRoute(
     createAccountAction,
-    formRequest("/create-account", { kind: "lab", name: "Oona Vasquez-Hart", email, password: "vetting-test-password", organisationName: name, city: "Fernhollow", country: "Iceland" }),
+    formRequest("/create-account", {
+      kind: "lab",
+      name: "Oona Vasquez-Hart",
+      email,
+      password: "vetting-test-password",
+      organisationName: name,
+      city: "Fernhollow",
+      country: "Iceland",
+    }),
   );
   expect(answer.status).toBe(302);
   cookies[email] = cookieFrom(answer)!;
@@ -256,7 +264,9 @@ describe("the admin's review", () => {
     expect((await callRoute(vettingAction, formRequest("/lab/vetting", applicationFields(again), off.cookie))).status).toBe(302);
     expect((await labRow(off.labId)).vettingState).toBe("in_review");
     const reason = "The standard was measured at 80 °C on a hot stage; thermal expansion explains the offset.";
-    expect((await review(off.labId, { intent: "approve", note: "Approved on the hot-stage explanation.", override: "on", overrideReason: reason })).status).toBe(302);
+    expect(
+      (await review(off.labId, { intent: "approve", note: "Approved on the hot-stage explanation.", override: "on", overrideReason: reason })).status,
+    ).toBe(302);
     expect((await labRow(off.labId)).vettingState).toBe("approved");
     const [override] = await db
       .select()

@@ -52,9 +52,15 @@ describe("GET /api/requests/:id/matches", () => {
     expect((a.body as { matches: LabMatch[] }).matches.find((m) => m.fits)!.labName).toBe("Granite Ridge Characterisation");
   });
   it("looks like a missing request to another organisation (404), refuses labs (403) and signed-out callers (401)", async () => {
-    expect((await callRoute(matchesApi, getRequest(`/api/requests/${requestId}/matches`, await as("owner@pinecrest.example")), { id: requestId })).status).toBe(404);
-    expect((await callRoute(matchesApi, getRequest(`/api/requests/${requestId}/matches`, await as("lab@graniteridge.example")), { id: requestId })).status).toBe(403);
+    expect((await callRoute(matchesApi, getRequest(`/api/requests/${requestId}/matches`, await as("owner@pinecrest.example")), { id: requestId })).status).toBe(
+      404,
+    );
+    expect(
+      (await callRoute(matchesApi, getRequest(`/api/requests/${requestId}/matches`, await as("lab@graniteridge.example")), { id: requestId })).status,
+    ).toBe(403);
     expect((await callRoute(matchesApi, getRequest(`/api/requests/${requestId}/matches`), { id: requestId })).status).toBe(401);
-    expect((await callRoute(matchesApi, getRequest(`/api/requests/not-a-uuid/matches`, await as("owner@halvorsen.example")), { id: "not-a-uuid" })).status).toBe(404);
+    expect(
+      (await callRoute(matchesApi, getRequest(`/api/requests/not-a-uuid/matches`, await as("owner@halvorsen.example")), { id: "not-a-uuid" })).status,
+    ).toBe(404);
   });
 });

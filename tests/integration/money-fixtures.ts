@@ -26,7 +26,11 @@ export async function moneyWorld() {
   const receiver = http.createServer(async (req, res) => {
     const chunks: Buffer[] = [];
     for await (const c of req) chunks.push(c as Buffer);
-    const request = new Request("http://127.0.0.1/api/webhooks/payments", { method: "POST", body: Buffer.concat(chunks), headers: req.headers as Record<string, string> });
+    const request = new Request("http://127.0.0.1/api/webhooks/payments", {
+      method: "POST",
+      body: Buffer.concat(chunks),
+      headers: req.headers as Record<string, string>,
+    });
     try {
       const answer = (await app.webhook.action({ request } as never)) as Response;
       res.writeHead(answer.status, { "content-type": "application/json" });
@@ -68,9 +72,21 @@ export async function moneyWorld() {
       .returning();
     const [quote] = await db
       .insert(schema.quotes)
-      .values({ requestId: request.id, labId: granite.id, state: "accepted", lineItems: [{ description: "Measurement", quantity: 1, unitMinor: amountMinor, totalMinor: amountMinor }], totalMinor: amountMinor, currency: "EUR", validUntil: new Date(Date.now() + 86_400_000), turnaroundDays: 8 })
+      .values({
+        requestId: request.id,
+        labId: granite.id,
+        state: "accepted",
+        lineItems: [{ description: "Measurement", quantity: 1, unitMinor: amountMinor, totalMinor: amountMinor }],
+        totalMinor: amountMinor,
+        currency: "EUR",
+        validUntil: new Date(Date.now() + 86_400_000),
+        turnaroundDays: 8,
+      })
       .returning();
-    const [order] = await db.insert(schema.orders).values({ requestId: request.id, quoteId: quote.id, clientOrganisationId: halvorsen.id, labId: granite.id, amountMinor, currency: "EUR" }).returning();
+    const [order] = await db
+      .insert(schema.orders)
+      .values({ requestId: request.id, quoteId: quote.id, clientOrganisationId: halvorsen.id, labId: granite.id, amountMinor, currency: "EUR" })
+      .returning();
     await db.insert(schema.orderEvents).values({ orderId: order.id, toState: "awaiting_payment", actorUserId: owner.id, note: "Quote accepted" });
     return order.id;
   }
@@ -112,7 +128,26 @@ export async function moneyWorld() {
     await new Promise<void>((r) => receiver.close(() => r()));
   }
 
-  return { fake, app, db, schema, eq, granite, halvorsen, owner, admin, labManager, onboardLab, makeOrder, pay, orderState, deliver, sessionIdOf, webhookUrl, close };
+  return {
+    fake,
+    app,
+    db,
+    schema,
+    eq,
+    granite,
+    halvorsen,
+    owner,
+    admin,
+    labManager,
+    onboardLab,
+    makeOrder,
+    pay,
+    orderState,
+    deliver,
+    sessionIdOf,
+    webhookUrl,
+    close,
+  };
 }
 
 export type MoneyWorld = Awaited<ReturnType<typeof moneyWorld>>;

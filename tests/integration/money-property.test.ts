@@ -93,13 +93,24 @@ describe("money flow property", () => {
     const t0 = Date.now();
     await fc.assert(
       fc.asyncProperty(
-        fc.array(fc.record({ order: fc.nat(2), step: fc.constantFrom(...STEPS), share: fc.double({ min: 0, max: 1, noNaN: true }), amount: fc.integer({ min: 1_000, max: 90_000 }) }), { minLength: 3, maxLength: 14 }),
+        fc.array(
+          fc.record({
+            order: fc.nat(2),
+            step: fc.constantFrom(...STEPS),
+            share: fc.double({ min: 0, max: 1, noNaN: true }),
+            amount: fc.integer({ min: 1_000, max: 90_000 }),
+          }),
+          { minLength: 3, maxLength: 14 },
+        ),
         async (ops) => {
           w.fake.controls.setDelivery({ mode: "hold" });
           const orders = [await w.makeOrder(ops[0].amount), await w.makeOrder(ops[1 % ops.length].amount), await w.makeOrder(ops[2 % ops.length].amount)];
           for (const op of ops) {
             // Two copies of the same step at once stand for a double click or a duplicate delivery.
-            await Promise.all([apply(orders[op.order], op.step, op.share), op.step === "accept" || op.step === "pay_ok" ? apply(orders[op.order], op.step, op.share) : null]);
+            await Promise.all([
+              apply(orders[op.order], op.step, op.share),
+              op.step === "accept" || op.step === "pay_ok" ? apply(orders[op.order], op.step, op.share) : null,
+            ]);
           }
           w.fake.controls.setDelivery({ mode: "twice" });
           await checkInvariants();

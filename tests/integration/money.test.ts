@@ -60,7 +60,9 @@ describe("paying into holding", () => {
     w.fake.controls.pay(w.sessionIdOf(a), { number: "4242424242424242" });
     await w.app.checkout.syncCheckout(w.sessionIdOf(a));
     await w.app.checkout.syncCheckout(w.sessionIdOf(a));
-    const charges = (w.fake.controls.snapshot().objects.charge as { payment_intent: string; status: string }[]).filter((c) => c.payment_intent === payments[0].paymentIntentId);
+    const charges = (w.fake.controls.snapshot().objects.charge as { payment_intent: string; status: string }[]).filter(
+      (c) => c.payment_intent === payments[0].paymentIntentId,
+    );
     expect(charges).toHaveLength(1);
     expect((await ledgerFor(orderId)).filter((r) => r.kind === "payment_held")).toHaveLength(2); // two entries, one transaction
   });
@@ -77,7 +79,9 @@ describe("releasing, refunding and disputes", () => {
     expect(sum(rows, "funds_held")).toBe(0);
     expect(sum(rows, "platform_fees")).toBe(-1_600); // 8 % of 200.00 (default fee, docs/design.md#money-flow)
     expect(sum(rows, "platform_cash")).toBe(20_000 - 18_400);
-    const transfers = (w.fake.controls.snapshot().objects.transfer as { transfer_group: string; amount: number }[]).filter((t) => t.transfer_group === `order_${orderId}`);
+    const transfers = (w.fake.controls.snapshot().objects.transfer as { transfer_group: string; amount: number }[]).filter(
+      (t) => t.transfer_group === `order_${orderId}`,
+    );
     expect(transfers.map((t) => t.amount)).toEqual([18_400]);
   });
 
@@ -97,7 +101,9 @@ describe("releasing, refunding and disputes", () => {
     await w.app.orders.cancelOrder(orderId, "client", w.owner.id, "Batch withdrawn");
     expect(await w.orderState(orderId)).toBe("cancelled");
     expect(await w.app.ledger.heldForOrder(w.db, orderId)).toBe(0);
-    const refunds = (w.fake.controls.snapshot().objects.refund as { amount: number; metadata: { orderId: string } }[]).filter((r) => r.metadata.orderId === orderId);
+    const refunds = (w.fake.controls.snapshot().objects.refund as { amount: number; metadata: { orderId: string } }[]).filter(
+      (r) => r.metadata.orderId === orderId,
+    );
     expect(refunds.map((r) => r.amount)).toEqual([15_000]);
   });
 
@@ -118,8 +124,12 @@ describe("releasing, refunding and disputes", () => {
     const rows = await ledgerFor(orderId);
     expect(sum(rows, "funds_held")).toBe(0);
     const snapshot = w.fake.controls.snapshot();
-    expect((snapshot.objects.refund as { amount: number; metadata: { orderId: string } }[]).filter((r) => r.metadata.orderId === orderId).map((r) => r.amount)).toEqual([19_500 - 2_500]);
-    expect((snapshot.objects.transfer as { amount: number; transfer_group: string }[]).filter((t) => t.transfer_group === `order_${orderId}`).map((t) => t.amount)).toEqual([2_500]);
+    expect(
+      (snapshot.objects.refund as { amount: number; metadata: { orderId: string } }[]).filter((r) => r.metadata.orderId === orderId).map((r) => r.amount),
+    ).toEqual([19_500 - 2_500]);
+    expect(
+      (snapshot.objects.transfer as { amount: number; transfer_group: string }[]).filter((t) => t.transfer_group === `order_${orderId}`).map((t) => t.amount),
+    ).toEqual([2_500]);
   });
 
   it("a dispute freezes the money until an admin splits it, with the decision recorded", async () => {
@@ -181,10 +191,20 @@ describe("webhooks", () => {
     const orderId = await w.makeOrder(9_000);
     const url = await w.app.checkout.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email });
     const session = { id: w.sessionIdOf(url), object: "checkout.session", metadata: { orderId } };
-    const event = { id: "evt_forged_1", object: "event", type: "checkout.session.completed", data: { object: session }, created: 1, api_version: "2025-01-01", livemode: false };
+    const event = {
+      id: "evt_forged_1",
+      object: "event",
+      type: "checkout.session.completed",
+      data: { object: session },
+      created: 1,
+      api_version: "2025-01-01",
+      livemode: false,
+    };
     const payload = JSON.stringify(event);
     const post = (body: string, signature: string) =>
-      w.app.webhook.action({ request: new Request("http://127.0.0.1/api/webhooks/payments", { method: "POST", body, headers: { "stripe-signature": signature } }) } as never) as Promise<Response>;
+      w.app.webhook.action({
+        request: new Request("http://127.0.0.1/api/webhooks/payments", { method: "POST", body, headers: { "stripe-signature": signature } }),
+      } as never) as Promise<Response>;
     expect((await post(payload, "t=1,v1=deadbeef")).status).toBe(400);
     const wrongSecret = Stripe.webhooks.generateTestHeaderString({ payload, secret: "whsec_someone_else" });
     expect((await post(payload, wrongSecret)).status).toBe(400);
@@ -213,7 +233,9 @@ describe("provider faults", () => {
   it("a provider answering 500 gives the client a clear message and records nothing", async () => {
     const orderId = await w.makeOrder(8_000);
     w.fake.controls.setFaults({ mode: "error_500", count: 5, pathPrefix: "/v1/checkout" });
-    await expect(w.app.checkout.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email })).rejects.toThrow(/not answering right now. Nothing was charged/);
+    await expect(w.app.checkout.startCheckout(orderId, { userId: w.owner.id, email: w.owner.email })).rejects.toThrow(
+      /not answering right now. Nothing was charged/,
+    );
     w.fake.controls.setFaults({ mode: "none" });
     expect(await w.db.select().from(w.schema.payments).where(w.eq(w.schema.payments.orderId, orderId))).toEqual([]);
     expect(await w.orderState(orderId)).toBe("awaiting_payment");

@@ -28,18 +28,39 @@ let outbox: typeof import("~/models/notifications/outbox.server");
 let sending: typeof import("~/models/notifications/delivery.server");
 let worker: typeof import("~/jobs/worker.server");
 let boss: typeof import("~/jobs/queues.server");
-let models: { quotes: typeof import("~/models/requests/quotes.server"); matching: typeof import("~/models/labs/matching.server"); session: typeof import("~/utils/session.server") };
+let models: {
+  quotes: typeof import("~/models/requests/quotes.server");
+  matching: typeof import("~/models/labs/matching.server");
+  session: typeof import("~/utils/session.server");
+};
 let stopMail: (() => Promise<void>) | null = null;
 let clientEmails: string[] = [];
 let labEmails: string[] = [];
 
-type Row = { id: string; kind: string; to: string; status: string; orderId: string | null; text: string; html: string; subject: string; attempts: number; lastError: string | null };
+type Row = {
+  id: string;
+  kind: string;
+  to: string;
+  status: string;
+  orderId: string | null;
+  text: string;
+  html: string;
+  subject: string;
+  attempts: number;
+  lastError: string | null;
+};
 
 async function rows(where: { orderId?: string; kind?: string } = {}): Promise<Row[]> {
   const { schema, db } = w;
   const { and, eq } = await import("drizzle-orm");
-  const conds = [where.orderId ? eq(schema.outboxMessages.orderId, where.orderId) : undefined, where.kind ? eq(schema.outboxMessages.kind, where.kind) : undefined].filter(Boolean);
-  return db.select().from(schema.outboxMessages).where(conds.length ? and(...(conds as never[])) : undefined) as Promise<Row[]>;
+  const conds = [
+    where.orderId ? eq(schema.outboxMessages.orderId, where.orderId) : undefined,
+    where.kind ? eq(schema.outboxMessages.kind, where.kind) : undefined,
+  ].filter(Boolean);
+  return db
+    .select()
+    .from(schema.outboxMessages)
+    .where(conds.length ? and(...(conds as never[])) : undefined) as Promise<Row[]>;
 }
 
 async function fakeListing(): Promise<{ messages: { idempotencyKey: string | null; to: string[]; subject: string; text?: string }[]; sendAttempts: number }> {
@@ -48,7 +69,11 @@ async function fakeListing(): Promise<{ messages: { idempotencyKey: string | nul
 
 async function membersOf(orgId: string) {
   const { schema, db, eq } = w;
-  const people = await db.select({ email: schema.users.email }).from(schema.memberships).innerJoin(schema.users, eq(schema.users.id, schema.memberships.userId)).where(eq(schema.memberships.organisationId, orgId));
+  const people = await db
+    .select({ email: schema.users.email })
+    .from(schema.memberships)
+    .innerJoin(schema.users, eq(schema.users.id, schema.memberships.userId))
+    .where(eq(schema.memberships.organisationId, orgId));
   return people.map((p) => p.email).sort();
 }
 
@@ -73,7 +98,11 @@ beforeAll(async () => {
   sending = await import("~/models/notifications/delivery.server");
   boss = await import("~/jobs/queues.server");
   worker = await import("~/jobs/worker.server");
-  models = { quotes: await import("~/models/requests/quotes.server"), matching: await import("~/models/labs/matching.server"), session: await import("~/utils/session.server") };
+  models = {
+    quotes: await import("~/models/requests/quotes.server"),
+    matching: await import("~/models/labs/matching.server"),
+    session: await import("~/utils/session.server"),
+  };
   await w.onboardLab();
   clientEmails = await membersOf(w.halvorsen.id);
   labEmails = await membersOf(w.granite.id);
@@ -95,7 +124,17 @@ describe("each milestone of the order flow", () => {
     const [sample] = await db.insert(schema.samples).values({ requestId: order.requestId, position: 0, label: "LFP-22", formula: "LiFePO4" }).returning();
     const [file] = await db
       .insert(schema.orderFiles)
-      .values({ orderId, sampleId: sample.id, name: "lfp-22.xy", version: 1, sizeBytes: 10, contentType: "text/plain", sha256: "0".repeat(64), storageKey: "k", state: "stored" })
+      .values({
+        orderId,
+        sampleId: sample.id,
+        name: "lfp-22.xy",
+        version: 1,
+        sizeBytes: 10,
+        contentType: "text/plain",
+        sha256: "0".repeat(64),
+        storageKey: "k",
+        state: "stored",
+      })
       .returning();
     await db.insert(schema.scanChecks).values({ fileId: file.id, status: "done", verdict: "consistent" });
 
@@ -134,8 +173,19 @@ describe("each milestone of the order flow", () => {
   it("tells the chosen lab its quote was accepted and the other lab it was not", async () => {
     const { db, schema, eq } = w;
     const [lakeside] = await db.select().from(schema.organisations).where(eq(schema.organisations.slug, "lakeside-institute-x-ray-core"));
-    const [request] = await db.insert(schema.requests).values({ organisationId: w.halvorsen.id, createdBy: w.owner.id, title: "Two quotes", state: "open", rangeMin: 10, rangeMax: 90 }).returning();
-    const quote = (labId: string) => ({ requestId: request.id, labId, lineItems: [], totalMinor: 12_000, currency: "EUR", validUntil: new Date(Date.now() + 86_400_000), turnaroundDays: 5 });
+    const [request] = await db
+      .insert(schema.requests)
+      .values({ organisationId: w.halvorsen.id, createdBy: w.owner.id, title: "Two quotes", state: "open", rangeMin: 10, rangeMax: 90 })
+      .returning();
+    const quote = (labId: string) => ({
+      requestId: request.id,
+      labId,
+      lineItems: [],
+      totalMinor: 12_000,
+      currency: "EUR",
+      validUntil: new Date(Date.now() + 86_400_000),
+      turnaroundDays: 5,
+    });
     const [granite] = await db.insert(schema.quotes).values(quote(w.granite.id)).returning();
     await db.insert(schema.quotes).values(quote(lakeside.id));
     const answer = await models.quotes.acceptQuote(request.id, granite.id, w.halvorsen.id, w.owner.id);
@@ -146,7 +196,10 @@ describe("each milestone of the order flow", () => {
 
   it("a new open request goes to the matching labs' members; a lab application to the admins only", async () => {
     const { db, schema } = w;
-    const [request] = await db.insert(schema.requests).values({ organisationId: w.halvorsen.id, createdBy: w.owner.id, title: "Open to all", state: "open", rangeMin: 10, rangeMax: 90 }).returning();
+    const [request] = await db
+      .insert(schema.requests)
+      .values({ organisationId: w.halvorsen.id, createdBy: w.owner.id, title: "Open to all", state: "open", rangeMin: 10, rangeMax: 90 })
+      .returning();
     const labIds = await models.matching.labsMatchingRequest(request.id);
     await db.transaction((tx) => outbox.notify(tx, { kind: "request_open", requestId: request.id, labIds }));
     const expectedLabs = (await Promise.all(labIds.map(membersOf))).flat().sort();
@@ -312,7 +365,9 @@ describe("GET /api/notifications", () => {
     expect(body.items.length).toBeGreaterThan(0);
     expect(Object.keys(body.items[0])).toEqual(expect.arrayContaining(["id", "kind", "orderId", "createdAt", "read"]));
     const { db, schema, eq } = w;
-    const ownerIds = new Set((await db.select({ id: schema.notifications.id }).from(schema.notifications).where(eq(schema.notifications.userId, w.owner.id))).map((r) => r.id));
+    const ownerIds = new Set(
+      (await db.select({ id: schema.notifications.id }).from(schema.notifications).where(eq(schema.notifications.userId, w.owner.id))).map((r) => r.id),
+    );
     expect(body.items.every((i) => ownerIds.has(i.id))).toBe(true);
     expect(body.unread).toBe(ownerIds.size);
 
@@ -321,7 +376,11 @@ describe("GET /api/notifications", () => {
 
     // Marking someone else's notification changes nothing; bad input is a 400; signed out is a 401.
     const json = (cookie: string, payload: unknown) =>
-      new Request("http://127.0.0.1:3000/api/notifications", { method: "POST", body: JSON.stringify(payload), headers: { "content-type": "application/json", Cookie: cookie, Origin: "http://127.0.0.1:3000" } });
+      new Request("http://127.0.0.1:3000/api/notifications", {
+        method: "POST",
+        body: JSON.stringify(payload),
+        headers: { "content-type": "application/json", Cookie: cookie, Origin: "http://127.0.0.1:3000" },
+      });
     expect((await callRoute(api.action, json(lab, { ids: [body.items[0].id] }))).body).toMatchObject({ marked: 0 });
     expect((await callRoute(api.action, json(owner, { ids: ["nope"] }))).status).toBe(400);
     expect((await callRoute(api.action, json(owner, "all"))).status).toBe(400);
@@ -335,7 +394,9 @@ describe("GET /api/notifications", () => {
     const owner = (await models.session.startSession(getRequest("/"), w.owner.id, w.halvorsen.id)).split(";")[0];
     expect((await callRoute(page.action, formRequest("/account/notifications", { intent: "save", email: "free_lunch" }, owner))).status).toBe(400);
     expect((await callRoute(page.action, formRequest("/account/notifications", { intent: "save" }, owner))).status).toBe(302);
-    const shown = (await callRoute(page.loader, getRequest("/account/notifications", owner))).body as { preferences: { kind: string; emailEnabled: boolean }[] };
+    const shown = (await callRoute(page.loader, getRequest("/account/notifications", owner))).body as {
+      preferences: { kind: string; emailEnabled: boolean }[];
+    };
     expect(shown.preferences.find((p) => p.kind === "funds_held")?.emailEnabled).toBe(true);
     expect(shown.preferences.find((p) => p.kind === "quote_received")?.emailEnabled).toBe(false);
   });

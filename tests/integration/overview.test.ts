@@ -46,7 +46,9 @@ describe("workspace overviews", () => {
     expect(client.requestCount).toBeGreaterThanOrEqual(3);
 
     const lab = await overviewOf("/lab", "lab@graniteridge.example");
-    expect(lab.waiting).toEqual(expect.arrayContaining([{ count: 1, label: "parcel on its way: check it against its declaration on arrival", to: "/lab/work-queue" }]));
+    expect(lab.waiting).toEqual(
+      expect.arrayContaining([{ count: 1, label: "parcel on its way: check it against its declaration on arrival", to: "/lab/work-queue" }]),
+    );
     expect(lab.orders.find((o) => o.state === "data_delivered")?.count).toBe(1);
     expect(unpaid).toBeTruthy();
   });

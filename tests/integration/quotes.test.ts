@@ -24,7 +24,13 @@ const LAKESIDE = "lab@lakeside.example";
 const MERIDIAN = "lab@meridian.example";
 
 const orgId = async (name: string) => (await db.select().from(schema.organisations).where(eq(schema.organisations.name, name)))[0].id;
-const instrumentOf = async (labName: string) => (await db.select().from(schema.instruments).where(eq(schema.instruments.labId, await orgId(labName))))[0].id;
+const instrumentOf = async (labName: string) =>
+  (
+    await db
+      .select()
+      .from(schema.instruments)
+      .where(eq(schema.instruments.labId, await orgId(labName)))
+  )[0].id;
 const inDays = (days: number) => new Date(Date.now() + days * 86_400_000).toISOString().slice(0, 10);
 
 let requestId: string;
@@ -36,7 +42,17 @@ async function openRequest(title: string) {
   const [owner] = await db.select().from(schema.users).where(eq(schema.users.email, CLIENT));
   const [r] = await db
     .insert(schema.requests)
-    .values({ organisationId: await orgId("Halvorsen Cathode Works"), createdBy: owner.id, title, state: "open", rangeMin: 10, rangeMax: 90, deadline: inDays(60), openedAt: new Date(), temperaturePointsK: [298, 573, 873] })
+    .values({
+      organisationId: await orgId("Halvorsen Cathode Works"),
+      createdBy: owner.id,
+      title,
+      state: "open",
+      rangeMin: 10,
+      rangeMax: 90,
+      deadline: inDays(60),
+      openedAt: new Date(),
+      temperaturePointsK: [298, 573, 873],
+    })
     .returning();
   await db.insert(schema.samples).values({
     requestId: r.id,
@@ -80,7 +96,8 @@ function quoteFields(instrumentId: string, extra: Record<string, string> = {}) {
 
 const sendQuote = async (who: string, fields: Record<string, string>, id = requestId) =>
   callRoute(labRequestAction, formRequest(`/lab/requests/${id}`, fields, await as(who)), { id });
-const acknowledge = async (who: string, id = requestId) => callRoute(labRequestAction, formRequest(`/lab/requests/${id}`, { intent: "acknowledge" }, await as(who)), { id });
+const acknowledge = async (who: string, id = requestId) =>
+  callRoute(labRequestAction, formRequest(`/lab/requests/${id}`, { intent: "acknowledge" }, await as(who)), { id });
 const formErrors = (a: RouteAnswer) => ((a.body as { result: { error: Record<string, string[]> } }).result.error?.[""] ?? []).join(" ");
 const quotesOf = (id: string) => db.select().from(schema.quotes).where(eq(schema.quotes.requestId, id));
 
@@ -89,7 +106,10 @@ beforeAll(async () => {
   graniteId = await orgId("Granite Ridge Characterisation");
   lakesideId = await orgId("Lakeside Institute X-ray Core");
   // Both approved labs have finished payout onboarding (a lab without it cannot quote: tested below).
-  await db.update(schema.labs).set({ payoutAccountId: "acct_fixture", payoutsEnabled: true }).where(inArray(schema.labs.organisationId, [graniteId, lakesideId]));
+  await db
+    .update(schema.labs)
+    .set({ payoutAccountId: "acct_fixture", payoutsEnabled: true })
+    .where(inArray(schema.labs.organisationId, [graniteId, lakesideId]));
   requestId = await openRequest("Layered oxide NMC-3 lattice check");
 });
 
@@ -117,7 +137,10 @@ describe("quoting", () => {
   it("records who acknowledged the declaration and when", async () => {
     const before = Date.now();
     expect((await acknowledge(GRANITE)).status).toBe(302);
-    const [ack] = await db.select().from(schema.hazardAcknowledgements).where(and(eq(schema.hazardAcknowledgements.requestId, requestId), eq(schema.hazardAcknowledgements.labId, graniteId)));
+    const [ack] = await db
+      .select()
+      .from(schema.hazardAcknowledgements)
+      .where(and(eq(schema.hazardAcknowledgements.requestId, requestId), eq(schema.hazardAcknowledgements.labId, graniteId)));
     const [marcus] = await db.select().from(schema.users).where(eq(schema.users.email, GRANITE));
     expect(ack.userId).toBe(marcus.id);
     expect(ack.acknowledgedAt.getTime()).toBeGreaterThanOrEqual(before - 5_000);
@@ -140,7 +163,10 @@ describe("quoting", () => {
   });
 
   it("adds the total up on the server and ignores a tampered total", async () => {
-    const answer = await sendQuote(GRANITE, quoteFields(await instrumentOf("Granite Ridge Characterisation"), { total: "1", totalMinor: "100", "items[0].totalMinor": "1" }));
+    const answer = await sendQuote(
+      GRANITE,
+      quoteFields(await instrumentOf("Granite Ridge Characterisation"), { total: "1", totalMinor: "100", "items[0].totalMinor": "1" }),
+    );
     expect(answer.status).toBe(302);
     const [quote] = await quotesOf(requestId);
     expect(quote.totalMinor).toBe(2 * 18000 + 1550);
@@ -156,7 +182,14 @@ describe("quoting", () => {
 
   it("refuses bad line items with field errors", async () => {
     await acknowledge(LAKESIDE);
-    const answer = await sendQuote(LAKESIDE, quoteFields(await instrumentOf("Lakeside Institute X-ray Core"), { "items[0].unitPrice": "12,3.4", "items[1].quantity": "0", instrumentId: await instrumentOf("Granite Ridge Characterisation") }));
+    const answer = await sendQuote(
+      LAKESIDE,
+      quoteFields(await instrumentOf("Lakeside Institute X-ray Core"), {
+        "items[0].unitPrice": "12,3.4",
+        "items[1].quantity": "0",
+        instrumentId: await instrumentOf("Granite Ridge Characterisation"),
+      }),
+    );
     expect(answer.status).toBe(400);
     const errors = (answer.body as { result: { error: Record<string, string[]> } }).result.error;
     expect(Object.keys(errors)).toEqual(expect.arrayContaining(["items[0].unitPrice", "items[1].quantity"]));
@@ -180,14 +213,21 @@ describe("quoting", () => {
 
   it("shows the client both quotes with the labs' fit reasons; another organisation gets 404", async () => {
     const answer = await callRoute(clientRequestLoader, getRequest(`/client/requests/${requestId}`, await as(CLIENT)), { id: requestId });
-    const body = answer.body as { quotes: { labName: string; totalMinor: number; source: string | null }[]; matches: { labName: string; reasons: unknown[] }[] };
+    const body = answer.body as {
+      quotes: { labName: string; totalMinor: number; source: string | null }[];
+      matches: { labName: string; reasons: unknown[] }[];
+    };
     expect(body.quotes.map((q) => q.labName).sort()).toEqual(["Granite Ridge Characterisation", "Lakeside Institute X-ray Core"]);
     expect(body.quotes.find((q) => q.labName.startsWith("Granite"))!.source).toBe("Cu Kα");
     expect(body.matches.find((m) => m.labName.startsWith("Granite"))!.reasons.length).toBeGreaterThan(0);
     const other = await callRoute(clientRequestLoader, getRequest(`/client/requests/${requestId}`, await as(OTHER_CLIENT)), { id: requestId });
     expect(other.status).toBe(404);
     const [q] = await quotesOf(requestId);
-    const otherAccept = await callRoute(clientRequestAction, formRequest(`/client/requests/${requestId}`, { intent: "accept", quoteId: q.id }, await as(OTHER_CLIENT)), { id: requestId });
+    const otherAccept = await callRoute(
+      clientRequestAction,
+      formRequest(`/client/requests/${requestId}`, { intent: "accept", quoteId: q.id }, await as(OTHER_CLIENT)),
+      { id: requestId },
+    );
     expect(otherAccept.status).toBe(404);
   });
 
@@ -196,7 +236,9 @@ describe("quoting", () => {
     const quotes = await quotesOf(requestId);
     expect(quotes).toHaveLength(2);
     const answers = await Promise.all(
-      quotes.map((q) => callRoute(clientRequestAction, formRequest(`/client/requests/${requestId}`, { intent: "accept", quoteId: q.id }, cookie), { id: requestId })),
+      quotes.map((q) =>
+        callRoute(clientRequestAction, formRequest(`/client/requests/${requestId}`, { intent: "accept", quoteId: q.id }, cookie), { id: requestId }),
+      ),
     );
     expect(answers.map((a) => a.status).sort()).toEqual([302, 400]);
     expect((answers.find((a) => a.status === 400)!.body as { error: string }).error).toMatch(/already been awarded/);
@@ -221,19 +263,37 @@ describe("quoting", () => {
     const id = await openRequest("Lapsing quote check");
     const [quote] = await db
       .insert(schema.quotes)
-      .values({ requestId: id, labId: graniteId, lineItems: [{ description: "Per sample", quantity: 1, unitMinor: 18000, totalMinor: 18000 }], totalMinor: 18000, currency: "EUR", validUntil: new Date(Date.now() + 60_000), turnaroundDays: 8 })
+      .values({
+        requestId: id,
+        labId: graniteId,
+        lineItems: [{ description: "Per sample", quantity: 1, unitMinor: 18000, totalMinor: 18000 }],
+        totalMinor: 18000,
+        currency: "EUR",
+        validUntil: new Date(Date.now() + 60_000),
+        turnaroundDays: 8,
+      })
       .returning();
     expect(await lapseExpiredQuotes(new Date())).toBe(0);
     expect(await lapseExpiredQuotes(new Date(Date.now() + 120_000))).toBe(1);
     expect((await db.select().from(schema.quotes).where(eq(schema.quotes.id, quote.id)))[0].state).toBe("lapsed");
-    const accept = await callRoute(clientRequestAction, formRequest(`/client/requests/${id}`, { intent: "accept", quoteId: quote.id }, await as(CLIENT)), { id });
+    const accept = await callRoute(clientRequestAction, formRequest(`/client/requests/${id}`, { intent: "accept", quoteId: quote.id }, await as(CLIENT)), {
+      id,
+    });
     expect(accept.status).toBe(400);
     expect(await db.select().from(schema.orders).where(eq(schema.orders.requestId, id))).toHaveLength(0);
 
     // Reading quotes lapses the overdue ones first.
     const [stale] = await db
       .insert(schema.quotes)
-      .values({ requestId: id, labId: lakesideId, lineItems: [], totalMinor: 100, currency: "EUR", validUntil: new Date(Date.now() - 1_000), turnaroundDays: 5 })
+      .values({
+        requestId: id,
+        labId: lakesideId,
+        lineItems: [],
+        totalMinor: 100,
+        currency: "EUR",
+        validUntil: new Date(Date.now() - 1_000),
+        turnaroundDays: 5,
+      })
       .returning();
     const page = await callRoute(clientRequestLoader, getRequest(`/client/requests/${id}`, await as(CLIENT)), { id });
     expect((page.body as { quotes: { id: string; state: string }[] }).quotes.find((q) => q.id === stale.id)!.state).toBe("lapsed");

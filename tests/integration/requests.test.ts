@@ -93,14 +93,26 @@ describe("the new-request wizard", () => {
     expect(fieldErrors(bad)["samples[0].hStatements"].join(" ")).toMatch(/H999 is not a hazard statement code/);
     const noBq = await callRoute(
       hazardsAction,
-      formRequest(path("hazards"), hazards({ "samples[0].special.radioactive.declared": "on", "samples[0].special.radioactive.details": "U-238 traces" }), cookie),
+      formRequest(
+        path("hazards"),
+        hazards({ "samples[0].special.radioactive.declared": "on", "samples[0].special.radioactive.details": "U-238 traces" }),
+        cookie,
+      ),
       { id: requestId },
     );
     expect(noBq.status).toBe(400);
     expect(fieldErrors(noBq)["samples[0].special.radioactive.activityBq"].join(" ")).toMatch(/activity in becquerels/);
     const negative = await callRoute(
       hazardsAction,
-      formRequest(path("hazards"), hazards({ "samples[0].special.radioactive.declared": "on", "samples[0].special.radioactive.details": "U-238", "samples[0].special.radioactive.activityBq": "-5" }), cookie),
+      formRequest(
+        path("hazards"),
+        hazards({
+          "samples[0].special.radioactive.declared": "on",
+          "samples[0].special.radioactive.details": "U-238",
+          "samples[0].special.radioactive.activityBq": "-5",
+        }),
+        cookie,
+      ),
       { id: requestId },
     );
     expect(fieldErrors(negative)["samples[0].special.radioactive.activityBq"].join(" ")).toMatch(/positive/);
@@ -141,7 +153,20 @@ describe("the new-request wizard", () => {
     const cookie = await as(CLIENT);
     const bad = await callRoute(
       measurementAction,
-      formRequest(path("measurement"), { rangeKind: "two_theta", rangeMin: "90", rangeMax: "10", preferredSource: "Xx", atmosphere: "air", quality: "standard", deadline: "2020-01-01", currency: "EUR" }, cookie),
+      formRequest(
+        path("measurement"),
+        {
+          rangeKind: "two_theta",
+          rangeMin: "90",
+          rangeMax: "10",
+          preferredSource: "Xx",
+          atmosphere: "air",
+          quality: "standard",
+          deadline: "2020-01-01",
+          currency: "EUR",
+        },
+        cookie,
+      ),
       { id: requestId },
     );
     expect(bad.status).toBe(400);
@@ -150,7 +175,18 @@ describe("the new-request wizard", () => {
       measurementAction,
       formRequest(
         path("measurement"),
-        { rangeKind: "two_theta", rangeMin: "10", rangeMax: "120", preferredSource: "any", temperaturePoints: "573, 298", atmosphere: "air", quality: "standard", deadline: "2099-06-30", budget: "1250.50", currency: "EUR" },
+        {
+          rangeKind: "two_theta",
+          rangeMin: "10",
+          rangeMax: "120",
+          preferredSource: "any",
+          temperaturePoints: "573, 298",
+          atmosphere: "air",
+          quality: "standard",
+          deadline: "2099-06-30",
+          budget: "1250.50",
+          currency: "EUR",
+        },
         cookie,
       ),
       { id: requestId },
@@ -166,7 +202,9 @@ describe("the new-request wizard", () => {
 
   it("refuses to invite a lab that is not approved", async () => {
     const [meridian] = await db.select().from(schema.organisations).where(eq(schema.organisations.name, "Meridian Analytical"));
-    const answer = await callRoute(labsAction, formRequest(path("labs"), { visibility: "invited", "invitedLabIds[0]": meridian.id }, await as(CLIENT)), { id: requestId });
+    const answer = await callRoute(labsAction, formRequest(path("labs"), { visibility: "invited", "invitedLabIds[0]": meridian.id }, await as(CLIENT)), {
+      id: requestId,
+    });
     expect(answer.status).toBe(400);
     expect(fieldErrors(answer).invitedLabIds.join(" ")).toMatch(/Only approved labs/);
     expect((await load(requestId)).row.visibility).toBe("open");
@@ -182,7 +220,9 @@ describe("the new-request wizard", () => {
   it("hands out upload targets for PDFs only, under the request's own folder", async () => {
     const cookie = await as(CLIENT);
     const target = (fields: Record<string, string>, who = cookie) =>
-      callRoute(sdsUploadAction, formRequest(`/client/requests/${requestId}/sds-upload`, { intent: "upload-target", purpose: "sds", ...fields }, who), { id: requestId });
+      callRoute(sdsUploadAction, formRequest(`/client/requests/${requestId}/sds-upload`, { intent: "upload-target", purpose: "sds", ...fields }, who), {
+        id: requestId,
+      });
     const ok = await target({ fileName: "sds.pdf", size: "2048", type: "application/pdf" });
     expect(ok.status).toBe(200);
     const { row } = await load(requestId);
@@ -200,14 +240,22 @@ describe("the new-request wizard", () => {
     await putObject(key, "%PDF-1.4\n% tampered\n", "application/pdf");
     const answer = await callRoute(
       hazardsAction,
-      formRequest(path("hazards"), hazards({ "samples[0].ghs": "GHS07", "samples[0].sdsStorageKey": key, "samples[0].sdsFileName": "sds.pdf", "samples[0].sdsSha256": "0".repeat(64) }), cookie),
+      formRequest(
+        path("hazards"),
+        hazards({ "samples[0].ghs": "GHS07", "samples[0].sdsStorageKey": key, "samples[0].sdsFileName": "sds.pdf", "samples[0].sdsSha256": "0".repeat(64) }),
+        cookie,
+      ),
       { id: requestId },
     );
     expect(answer.status).toBe(400);
     expect(fieldErrors(answer)["samples[0].sds"].join(" ")).toMatch(/checksum does not match/);
     const foreign = await callRoute(
       hazardsAction,
-      formRequest(path("hazards"), hazards({ "samples[0].ghs": "GHS07", "samples[0].sdsStorageKey": "requests/someone-else/sds.pdf", "samples[0].sdsFileName": "sds.pdf" }), cookie),
+      formRequest(
+        path("hazards"),
+        hazards({ "samples[0].ghs": "GHS07", "samples[0].sdsStorageKey": "requests/someone-else/sds.pdf", "samples[0].sdsFileName": "sds.pdf" }),
+        cookie,
+      ),
       { id: requestId },
     );
     expect(fieldErrors(foreign)["samples[0].sds"]).toBeTruthy();
@@ -223,7 +271,17 @@ describe("the new-request wizard", () => {
     const sha256 = createHash("sha256").update(body).digest("hex");
     const saved = await callRoute(
       hazardsAction,
-      formRequest(path("hazards"), hazards({ "samples[0].ghs": "GHS07", "samples[0].hStatements": "H302", "samples[0].sdsStorageKey": key, "samples[0].sdsFileName": "lfp-12-sds.pdf", "samples[0].sdsSha256": sha256 }), cookie),
+      formRequest(
+        path("hazards"),
+        hazards({
+          "samples[0].ghs": "GHS07",
+          "samples[0].hStatements": "H302",
+          "samples[0].sdsStorageKey": key,
+          "samples[0].sdsFileName": "lfp-12-sds.pdf",
+          "samples[0].sdsSha256": sha256,
+        }),
+        cookie,
+      ),
       { id: requestId },
     );
     expect(saved.status).toBe(302);
@@ -260,7 +318,13 @@ describe("the new-request wizard", () => {
 });
 
 describe("the requests list", () => {
-  type Listed = { requests: { id: string; title: string; state: string; samples: number; quotes: number }[]; page: number; pageCount: number; total: number; countByState: Record<string, number> };
+  type Listed = {
+    requests: { id: string; title: string; state: string; samples: number; quotes: number }[];
+    page: number;
+    pageCount: number;
+    total: number;
+    countByState: Record<string, number>;
+  };
 
   it("counts each request's own samples and quotes", async () => {
     const list = (await callRoute(requestsList, getRequest("/client/requests", await as(CLIENT)))).body as Listed;
@@ -273,10 +337,13 @@ describe("the requests list", () => {
 
   it("pages REQUESTS_PAGE_SIZE at a time in state order, newest first within a state, with the counts per state", async () => {
     const cookie = await as(CLIENT);
-    const [{ organisationId }] = await db.select({ organisationId: schema.requests.organisationId }).from(schema.requests).where(eq(schema.requests.id, requestId));
-    await db.insert(schema.requests).values(
-      Array.from({ length: 60 }, (_, i) => ({ organisationId, title: `Paging draft ${i}`, createdAt: new Date(Date.UTC(2026, 0, 1, 0, i)) })),
-    );
+    const [{ organisationId }] = await db
+      .select({ organisationId: schema.requests.organisationId })
+      .from(schema.requests)
+      .where(eq(schema.requests.id, requestId));
+    await db
+      .insert(schema.requests)
+      .values(Array.from({ length: 60 }, (_, i) => ({ organisationId, title: `Paging draft ${i}`, createdAt: new Date(Date.UTC(2026, 0, 1, 0, i)) })));
     const first = (await callRoute(requestsList, getRequest("/client/requests", cookie))).body as Listed;
     expect(first.requests).toHaveLength(REQUESTS_PAGE_SIZE);
     expect(first.total).toBeGreaterThan(60);
@@ -285,7 +352,8 @@ describe("the requests list", () => {
     expect(first.requests[0].title).toBe("Paging draft 59");
     const states = ["draft", "open", "awarded", "expired", "withdrawn"];
     const all: Listed["requests"] = [];
-    for (let page = 1; page <= first.pageCount; page++) all.push(...((await callRoute(requestsList, getRequest(`/client/requests?page=${page}`, cookie))).body as Listed).requests);
+    for (let page = 1; page <= first.pageCount; page++)
+      all.push(...((await callRoute(requestsList, getRequest(`/client/requests?page=${page}`, cookie))).body as Listed).requests);
     expect(all.map((r) => states.indexOf(r.state))).toEqual([...all.map((r) => states.indexOf(r.state))].sort((a, b) => a - b));
     expect(new Set(all.map((r) => r.id)).size).toBe(first.total);
     // A page past the end shows the last one; a page that is not a whole number is refused.

@@ -82,7 +82,10 @@ beforeAll(async () => {
   const halvorsen = await one(db.select().from(schema.organisations).where(eq(schema.organisations.slug, "halvorsen-cathode-works")));
   const owner = await one(db.select().from(schema.users).where(eq(schema.users.email, "owner@halvorsen.example")));
   const cuInstrument = await one(
-    db.select().from(schema.instruments).where(and(eq(schema.instruments.labId, granite.id), eq(schema.instruments.anode, "Cu"))),
+    db
+      .select()
+      .from(schema.instruments)
+      .where(and(eq(schema.instruments.labId, granite.id), eq(schema.instruments.anode, "Cu"))),
   );
   const [request] = await db
     .insert(schema.requests)
@@ -90,21 +93,58 @@ beforeAll(async () => {
     .returning();
   const [si] = await db
     .insert(schema.samples)
-    .values({ requestId: request.id, position: 0, label: "SI-640", formula: "Si", expectedPhase: "silicon", crystalSystem: "cubic", centering: "F", cellA: 5.431 })
+    .values({
+      requestId: request.id,
+      position: 0,
+      label: "SI-640",
+      formula: "Si",
+      expectedPhase: "silicon",
+      crystalSystem: "cubic",
+      centering: "F",
+      cellA: 5.431,
+    })
     .returning();
   const [other] = await db
     .insert(schema.samples)
-    .values({ requestId: request.id, position: 1, label: "LFP-7", formula: "LiFePO4", crystalSystem: "orthorhombic", centering: "P", cellA: 10.33, cellB: 6.01, cellC: 4.69 })
+    .values({
+      requestId: request.id,
+      position: 1,
+      label: "LFP-7",
+      formula: "LiFePO4",
+      crystalSystem: "orthorhombic",
+      centering: "P",
+      cellA: 10.33,
+      cellB: 6.01,
+      cellC: 4.69,
+    })
     .returning();
   siSampleId = si.id;
   otherSampleId = other.id;
   const [quote] = await db
     .insert(schema.quotes)
-    .values({ requestId: request.id, labId: granite.id, instrumentId: cuInstrument.id, state: "accepted", lineItems: [], totalMinor: 10_000, currency: "EUR", validUntil: new Date(Date.now() + 86_400_000), turnaroundDays: 5 })
+    .values({
+      requestId: request.id,
+      labId: granite.id,
+      instrumentId: cuInstrument.id,
+      state: "accepted",
+      lineItems: [],
+      totalMinor: 10_000,
+      currency: "EUR",
+      validUntil: new Date(Date.now() + 86_400_000),
+      turnaroundDays: 5,
+    })
     .returning();
   const [order] = await db
     .insert(schema.orders)
-    .values({ requestId: request.id, quoteId: quote.id, clientOrganisationId: halvorsen.id, labId: granite.id, amountMinor: 10_000, currency: "EUR", state: "measuring" })
+    .values({
+      requestId: request.id,
+      quoteId: quote.id,
+      clientOrganisationId: halvorsen.id,
+      labId: granite.id,
+      amountMinor: 10_000,
+      currency: "EUR",
+      state: "measuring",
+    })
     .returning();
   orderId = order.id;
 });

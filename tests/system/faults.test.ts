@@ -62,7 +62,13 @@ class Person {
   }
 }
 
-const decode = (s: string) => s.replace(/&#x27;|&#39;/g, "'").replace(/&quot;/g, '"').replace(/&amp;/g, "&").replace(/&lt;/g, "<").replace(/&gt;/g, ">");
+const decode = (s: string) =>
+  s
+    .replace(/&#x27;|&#39;/g, "'")
+    .replace(/&quot;/g, '"')
+    .replace(/&amp;/g, "&")
+    .replace(/&lt;/g, "<")
+    .replace(/&gt;/g, ">");
 /** The text of the page's alert (form error) or, failing that, its main paragraph. */
 function alertText(html: string) {
   const m = html.match(/role="alert"[^>]*>([^<]+)</);
@@ -85,10 +91,9 @@ async function waitFor<T>(what: string, probe: () => Promise<T | null | undefine
 }
 
 async function orderByTitle(title: string) {
-  const [row] = await stack.sql<{ id: string; state: string }>(
-    "select o.id, o.state from orders o join requests r on r.id = o.request_id where r.title = $1",
-    [title],
-  );
+  const [row] = await stack.sql<{ id: string; state: string }>("select o.id, o.state from orders o join requests r on r.id = o.request_id where r.title = $1", [
+    title,
+  ]);
   return row;
 }
 
@@ -117,10 +122,14 @@ beforeAll(async () => {
   client = await new Person("owner@halvorsen.example").signIn();
   lab = await new Person("lab@graniteridge.example").signIn();
   // The seed's letters go out first, so the outage below only holds back the letters it is about.
-  await waitFor("the seed's letters to be sent", async () => {
-    const [{ n }] = await stack.sql<{ n: number }>("select count(*)::int as n from outbox_messages where status <> 'sent'");
-    return n === 0;
-  }, 60_000);
+  await waitFor(
+    "the seed's letters to be sent",
+    async () => {
+      const [{ n }] = await stack.sql<{ n: number }>("select count(*)::int as n from outbox_messages where status <> 'sent'");
+      return n === 0;
+    },
+    60_000,
+  );
 });
 
 // A failed test leaves no fault behind for the next one.
@@ -147,7 +156,10 @@ describe.sequential("faults while the app runs", () => {
     const page = await client.fetch(res.headers.get("location")!);
     const html = await page.text();
     expect(html).toContain("Marked shipped");
-    record("e-mail service down (client marks the samples shipped)", "Marked shipped. The lab checks the parcel against its declaration on arrival. (the action succeeds; the letters wait)");
+    record(
+      "e-mail service down (client marks the samples shipped)",
+      "Marked shipped. The lab checks the parcel against its declaration on arrival. (the action succeeds; the letters wait)",
+    );
     expect((await orderByTitle(HOT_STAGE)).state).toBe("samples_in_transit");
 
     // The letters wait in the outbox, not sent, while the service is down (their sends fail and are retried).
@@ -158,7 +170,7 @@ describe.sequential("faults while the app runs", () => {
     );
     expect(queued.length).toBeGreaterThan(0);
     expect(queued.every((r) => r.status === "queued")).toBe(true);
-    expect((await mailFake().catch(() => null))).toBeNull(); // the service is really down
+    expect(await mailFake().catch(() => null)).toBeNull(); // the service is really down
     const tried = queued.filter((r) => r.attempts > 0);
     if (tried.length) record("e-mail service down (outbox, admin's view)", `queued, last error: ${tried[0].last_error}`);
 
@@ -229,17 +241,24 @@ describe.sequential("faults while the app runs", () => {
     const order = await orderByTitle(HOT_STAGE);
     // A long simulated scan (about 60,000 points), so the check runs long enough to be interrupted.
     const sim = simulatePattern({
-      twoThetaMin: 15, twoThetaMax: 110, step: 0.0016,
+      twoThetaMin: 15,
+      twoThetaMax: 110,
+      step: 0.0016,
       radiation: { kind: "anode", anode: "Co", monochromation: "k_alpha_doublet" },
-      background: { constant: 120, slope: -0.4 }, scale: 8000,
-      structure: LITHIUM_IRON_PHOSPHATE, cell: { a: 10.326, b: 6.006, c: 4.695, alpha: 90, beta: 90, gamma: 90 },
+      background: { constant: 120, slope: -0.4 },
+      scale: 8000,
+      structure: LITHIUM_IRON_PHOSPHATE,
+      cell: { a: 10.326, b: 6.006, c: 4.695, alpha: 90, beta: 90, gamma: 90 },
       noise: { seed: 4242 },
     });
     const body = formatScanAsXy(sim);
     const sha256 = createHash("sha256").update(body).digest("hex");
     const started = await lab.json(`/lab/orders/${order.id}/uploads`, { name: "long-scan.xy", size: Buffer.byteLength(body), sha256 });
     expect(started.status).toBe(201);
-    const s = (await started.json()) as { fileId: string; upload: { url?: string; headers?: Record<string, string>; parts?: { partNumber: number; url: string }[]; partSize?: number } };
+    const s = (await started.json()) as {
+      fileId: string;
+      upload: { url?: string; headers?: Record<string, string>; parts?: { partNumber: number; url: string }[]; partSize?: number };
+    };
     let parts: { partNumber: number; etag: string }[] | undefined;
     if (s.upload.parts) {
       const bytes = Buffer.from(body);
@@ -256,10 +275,15 @@ describe.sequential("faults while the app runs", () => {
     const done = await lab.json(`/lab/orders/${order.id}/uploads/${s.fileId}`, { intent: "complete", sha256, parts });
     expect(done.status).toBe(200);
 
-    await waitFor("the check to start", async () => {
-      const [c] = await stack.sql<{ status: string }>("select status from scan_checks where file_id = $1", [s.fileId]);
-      return c?.status === "running";
-    }, 30_000, 25);
+    await waitFor(
+      "the check to start",
+      async () => {
+        const [c] = await stack.sql<{ status: string }>("select status from scan_checks where file_id = $1", [s.fileId]);
+        return c?.status === "running";
+      },
+      30_000,
+      25,
+    );
     await stack.killWorker(stack.workers[0], "SIGKILL");
     const [interrupted] = await stack.sql<{ status: string }>("select status from scan_checks where file_id = $1", [s.fileId]);
     expect(interrupted.status).toBe("running");
@@ -270,10 +294,14 @@ describe.sequential("faults while the app runs", () => {
     record("job worker killed in the middle of a scan check", `the file list shows the check as "${listed?.check.status}" until a worker finishes it`);
 
     await stack.startWorker();
-    const finished = await waitFor("the check to finish after the restart", async () => {
-      const [c] = await stack.sql<{ status: string; attempts: number }>("select status, attempts from scan_checks where file_id = $1", [s.fileId]);
-      return c && c.status !== "running" && c.status !== "queued" ? c : null;
-    }, 60_000);
+    const finished = await waitFor(
+      "the check to finish after the restart",
+      async () => {
+        const [c] = await stack.sql<{ status: string; attempts: number }>("select status, attempts from scan_checks where file_id = $1", [s.fileId]);
+        return c && c.status !== "running" && c.status !== "queued" ? c : null;
+      },
+      60_000,
+    );
     expect(finished.status).toBe("done");
     expect(finished.attempts).toBe(2);
     expect(await stack.sql("select 1 from scan_checks where file_id = $1", [s.fileId])).toHaveLength(1);
@@ -293,7 +321,10 @@ describe.sequential("faults while the app runs", () => {
       expect(res.status, mode).toBe(503);
       const message = alertText(await res.text());
       expect(message).toMatch(/payment provider is not answering/i);
-      record(`payment provider ${mode === "error_500" ? "answering 500" : "timing out"} (client pays)`, `${message} (after ${((Date.now() - t0) / 1000).toFixed(1)} s)`);
+      record(
+        `payment provider ${mode === "error_500" ? "answering 500" : "timing out"} (client pays)`,
+        `${message} (after ${((Date.now() - t0) / 1000).toFixed(1)} s)`,
+      );
       expect(await stack.sql("select 1 from payments where order_id = $1", [order.id])).toHaveLength(paymentsBefore.length);
       expect((await orderByTitle(TO_PAY)).state).toBe("awaiting_payment");
       expect(await stack.sql("select 1 from ledger_transactions where order_id = $1", [order.id])).toHaveLength(0);
@@ -305,7 +336,11 @@ describe.sequential("faults while the app runs", () => {
     const checkout = new URL(ok.headers.get("location")!);
     expect(checkout.port).toBe(String(stack.fakes.payments.port));
     const sessionId = checkout.pathname.split("/").pop()!;
-    const paid = await fetch(`${stack.fakes.payments.url}/_fake/pay/${sessionId}`, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify({ card: "4242424242424242" }) });
+    const paid = await fetch(`${stack.fakes.payments.url}/_fake/pay/${sessionId}`, {
+      method: "POST",
+      headers: { "content-type": "application/json" },
+      body: JSON.stringify({ card: "4242424242424242" }),
+    });
     expect(paid.ok).toBe(true);
     const back = await client.fetch(`/client/orders/${order.id}/payment?session_id=${sessionId}`);
     expect([200, 302]).toContain(back.status);
@@ -346,7 +381,9 @@ describe.sequential("faults while the app runs", () => {
     await waitFor("the payout", async () => (await orderByTitle(HOT_STAGE)).state === "paid_out", 30_000);
     await new Promise((r) => setTimeout(r, 1500));
     expect(await stack.sql("select 1 from ledger_transactions where order_id = $1 and kind = 'payout'", [order.id])).toHaveLength(1);
-    const state = (await (await fetch(`${stack.fakes.payments.url}/_fake/state`)).json()) as { objects: Record<string, { metadata?: Record<string, string> }[]> };
+    const state = (await (await fetch(`${stack.fakes.payments.url}/_fake/state`)).json()) as {
+      objects: Record<string, { metadata?: Record<string, string> }[]>;
+    };
     expect((state.objects.transfer ?? []).filter((t) => t.metadata?.orderId === order.id)).toHaveLength(1);
   });
 
@@ -358,14 +395,24 @@ describe.sequential("faults while the app runs", () => {
     const probing = (async () => {
       while (!stop) {
         const [page, api, health] = await Promise.all([
-          client.fetch("/client/orders").then(async (r) => ({ status: r.status, html: await r.text() })).catch(() => null),
-          client.fetch("/api/me").then(async (r) => ({ status: r.status, body: await r.json().catch(() => ({})) as { error?: string } })).catch(() => null),
-          fetch(`${stack.url}/api/health`).then(async (r) => ({ status: r.status, body: (await r.json()) as { checks: { database: string } } })).catch(() => null),
+          client
+            .fetch("/client/orders")
+            .then(async (r) => ({ status: r.status, html: await r.text() }))
+            .catch(() => null),
+          client
+            .fetch("/api/me")
+            .then(async (r) => ({ status: r.status, body: (await r.json().catch(() => ({}))) as { error?: string } }))
+            .catch(() => null),
+          fetch(`${stack.url}/api/health`)
+            .then(async (r) => ({ status: r.status, body: (await r.json()) as { checks: { database: string } } }))
+            .catch(() => null),
         ]);
         for (const r of [page, api, health]) if (r && r.status >= 500) failures.add(r.status);
-        if (page && page.status >= 500 && !during.page) during.page = errorPageText(page.html) ?? { status: page.status, title: "?", message: page.html.slice(0, 200) };
+        if (page && page.status >= 500 && !during.page)
+          during.page = errorPageText(page.html) ?? { status: page.status, title: "?", message: page.html.slice(0, 200) };
         if (api && api.status >= 500 && !during.api) during.api = { status: api.status, error: api.body.error };
-        if (health && health.status === 503 && health.body.checks.database !== "ok" && !during.health) during.health = { status: 503, database: health.body.checks.database };
+        if (health && health.status === 503 && health.body.checks.database !== "ok" && !during.health)
+          during.health = { status: 503, database: health.body.checks.database };
         await new Promise((r) => setTimeout(r, 30));
       }
     })();
@@ -381,10 +428,14 @@ describe.sequential("faults while the app runs", () => {
 
     // After the restart everything answers normally, without restarting the app.
     await waitFor("the app to serve again", async () => (await client.fetch("/client/orders")).status === 200, 20_000);
-    const health = await waitFor("health to be ok", async () => {
-      const r = await fetch(`${stack.url}/api/health`);
-      return r.status === 200 ? ((await r.json()) as { checks: Record<string, string> }) : null;
-    }, 20_000);
+    const health = await waitFor(
+      "health to be ok",
+      async () => {
+        const r = await fetch(`${stack.url}/api/health`);
+        return r.status === 200 ? ((await r.json()) as { checks: Record<string, string> }) : null;
+      },
+      20_000,
+    );
     expect(health.checks.database).toBe("ok");
     expect((await client.fetch("/api/me")).status).toBe(200);
 
@@ -411,10 +462,14 @@ describe.sequential("faults while the app runs", () => {
       [order.id],
     );
     await stack.sql("select pg_notify('diffractory_outbox', '')");
-    await waitFor("the letter after the restart", async () => {
-      const [r] = await stack.sql<{ status: string }>("select status from outbox_messages where id = $1", [m.id]);
-      return r.status === "sent";
-    }, 30_000);
+    await waitFor(
+      "the letter after the restart",
+      async () => {
+        const [r] = await stack.sql<{ status: string }>("select status from outbox_messages where id = $1", [m.id]);
+        return r.status === "sent";
+      },
+      30_000,
+    );
     const after = await mailFake();
     expect(after.messages.slice(before).filter((x) => x.idempotencyKey === m.id)).toHaveLength(1);
   });

@@ -43,7 +43,14 @@ async function signIn(base: string, email: string, headers: Record<string, strin
 
 async function me(base: string, cookie: string) {
   const res = await fetch(`${base}/api/me`, { headers: { Cookie: cookie } });
-  return { status: res.status, upstream: res.headers.get("x-upstream"), body: res.status === 200 ? ((await res.json()) as { user: { email: string }; organisations: { id: string; name: string }[]; activeOrganisationId: string | null }) : null };
+  return {
+    status: res.status,
+    upstream: res.headers.get("x-upstream"),
+    body:
+      res.status === 200
+        ? ((await res.json()) as { user: { email: string }; organisations: { id: string; name: string }[]; activeOrganisationId: string | null })
+        : null,
+  };
 }
 
 async function postForm(url: string, cookie: string, fields: Record<string, string>, origin = proxy.url) {
@@ -56,7 +63,11 @@ async function postForm(url: string, cookie: string, fields: Record<string, stri
 }
 
 async function postJson(url: string, cookie: string, body: unknown) {
-  const res = await fetch(url, { method: "POST", headers: { "Content-Type": "application/json", Origin: proxy.url, Cookie: cookie }, body: JSON.stringify(body) });
+  const res = await fetch(url, {
+    method: "POST",
+    headers: { "Content-Type": "application/json", Origin: proxy.url, Cookie: cookie },
+    body: JSON.stringify(body),
+  });
   return { status: res.status, body: (await res.json()) as Record<string, unknown> };
 }
 
@@ -200,12 +211,22 @@ describe("two app servers behind a proxy", () => {
     const [file] = await stack.sql<{ state: string; size_bytes: number }>("select state, size_bytes from order_files where id = $1", [started.fileId]);
     expect(file).toEqual({ state: "stored", size_bytes: Buffer.byteLength(text) });
 
-    const check = await until("the scan check", async () => {
-      const [c] = await stack.sql<{ status: string; verdict: string | null; attempts: number }>("select status, verdict, attempts from scan_checks where file_id = $1", [started.fileId]);
-      return c && (c.status === "done" || c.status === "failed") ? c : null;
-    }, 90_000);
+    const check = await until(
+      "the scan check",
+      async () => {
+        const [c] = await stack.sql<{ status: string; verdict: string | null; attempts: number }>(
+          "select status, verdict, attempts from scan_checks where file_id = $1",
+          [started.fileId],
+        );
+        return c && (c.status === "done" || c.status === "failed") ? c : null;
+      },
+      90_000,
+    );
     expect(check).toEqual({ status: "done", verdict: "consistent", attempts: 1 });
-    const jobs = await stack.sql<{ state: string; retry_count: number }>("select state, retry_count from pgboss.job where name = 'scan-check' and data->>'fileId' = $1", [started.fileId]);
+    const jobs = await stack.sql<{ state: string; retry_count: number }>(
+      "select state, retry_count from pgboss.job where name = 'scan-check' and data->>'fileId' = $1",
+      [started.fileId],
+    );
     expect(jobs).toEqual([{ state: "completed", retry_count: 0 }]);
   });
 
@@ -234,10 +255,17 @@ describe("two app servers behind a proxy", () => {
     expect(proxy.hits[0]).toBeGreaterThan(0);
     expect(proxy.hits[1]).toBeGreaterThan(0);
 
-    const checks = await until("every scan check", async () => {
-      const rows = await stack.sql<{ file_id: string; status: string; attempts: number }>("select file_id, status, attempts from scan_checks where file_id = any($1)", [fileIds]);
-      return rows.length === SCANS && rows.every((r) => r.status === "done" || r.status === "failed") ? rows : null;
-    }, 120_000);
+    const checks = await until(
+      "every scan check",
+      async () => {
+        const rows = await stack.sql<{ file_id: string; status: string; attempts: number }>(
+          "select file_id, status, attempts from scan_checks where file_id = any($1)",
+          [fileIds],
+        );
+        return rows.length === SCANS && rows.every((r) => r.status === "done" || r.status === "failed") ? rows : null;
+      },
+      120_000,
+    );
     for (const c of checks) expect(c).toMatchObject({ status: "done", attempts: 1 });
     const scanJobs = await stack.sql<{ file_id: string; n: number; retries: number }>(
       "select data->>'fileId' as file_id, count(*)::int as n, sum(retry_count)::int as retries from pgboss.job where name = 'scan-check' and data->>'fileId' = any($1) group by 1",
@@ -262,7 +290,10 @@ describe("two app servers behind a proxy", () => {
     expect(mailJobs.length).toBe(LETTERS);
     for (const j of mailJobs) expect(j).toMatchObject({ n: 1, retries: 0 });
     // The provider got one request per letter (its idempotency key would hide a repeat; the counter does not).
-    const after = (await (await fetch(`${stack.fakes.mail.url}/_fake/messages`)).json()) as { sendAttempts: number; messages: { to: string[]; idempotencyKey: string | null }[] };
+    const after = (await (await fetch(`${stack.fakes.mail.url}/_fake/messages`)).json()) as {
+      sendAttempts: number;
+      messages: { to: string[]; idempotencyKey: string | null }[];
+    };
     expect(after.sendAttempts - before.sendAttempts).toBe(LETTERS);
     for (const email of invited) expect(after.messages.filter((m) => m.to.includes(email)).length).toBe(1);
   });

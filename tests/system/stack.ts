@@ -85,9 +85,10 @@ async function kill(child: ChildProcess, signal: NodeJS.Signals) {
 const FAKE_SCRIPTS = { s3: "services/s3-fake.ts", mail: "services/mail-fake.ts", payments: "services/payment-fake/index.ts" } as const;
 
 async function restartPostgres(downMs: number) {
-  const script = downMs > 0
-    ? `import("./services/postgres.ts").then(async (m) => { m.stop(); await new Promise((r) => setTimeout(r, ${downMs})); m.start(); })`
-    : `import("./services/postgres.ts").then((m) => m.restart())`;
+  const script =
+    downMs > 0
+      ? `import("./services/postgres.ts").then(async (m) => { m.stop(); await new Promise((r) => setTimeout(r, ${downMs})); m.start(); })`
+      : `import("./services/postgres.ts").then((m) => m.restart())`;
   const child = spawn(process.execPath, ["--import", "tsx", "--input-type=module", "-e", script], { cwd: root, stdio: ["ignore", "ignore", "inherit"] });
   const code = await new Promise<number | null>((r) => child.once("exit", r));
   if (code !== 0) throw new Error(`restarting PostgreSQL failed (exit ${code})`);

@@ -2,12 +2,20 @@
 import { describe, expect, it } from "vitest";
 import { contentSecurityPolicy, newNonce, storageOrigin } from "~/utils/csp.server";
 
-const directives = (policy: string) => Object.fromEntries(policy.split("; ").map((d) => d.split(" ")).map(([name, ...values]) => [name, values]));
+const directives = (policy: string) =>
+  Object.fromEntries(
+    policy
+      .split("; ")
+      .map((d) => d.split(" "))
+      .map(([name, ...values]) => [name, values]),
+  );
 
 describe("content security policy", () => {
   it("names the origin presigned uploads go to: the endpoint (path style) or the bucket's virtual host", () => {
     expect(storageOrigin({ endpoint: "http://127.0.0.1:54330", bucket: "diffractory-data", forcePathStyle: true })).toBe("http://127.0.0.1:54330");
-    expect(storageOrigin({ endpoint: "https://s3.eu-west-1.amazonaws.com/", bucket: "diffractory-data", forcePathStyle: false })).toBe("https://diffractory-data.s3.eu-west-1.amazonaws.com");
+    expect(storageOrigin({ endpoint: "https://s3.eu-west-1.amazonaws.com/", bucket: "diffractory-data", forcePathStyle: false })).toBe(
+      "https://diffractory-data.s3.eu-west-1.amazonaws.com",
+    );
     expect(storageOrigin({ endpoint: "not a url", bucket: "b", forcePathStyle: true })).toBeNull();
   });
 

@@ -19,9 +19,7 @@ describe("csvText", () => {
       ["plain", "a,b", 'say "hi"', "two\nlines", "cr\ronly", "crlf\r\nin", "", null, undefined, 0, -1500, 1.5e-7, "'=SUM(A1)"],
       ["second", 3.141592653589793],
     ];
-    expect(csvText(rows)).toBe(
-      'plain,"a,b","say ""hi""","two\nlines","cr\ronly","crlf\r\nin",,,,0,-1500,1.5e-7,\'=SUM(A1)\r\nsecond,3.141592653589793\r\n',
-    );
+    expect(csvText(rows)).toBe('plain,"a,b","say ""hi""","two\nlines","cr\ronly","crlf\r\nin",,,,0,-1500,1.5e-7,\'=SUM(A1)\r\nsecond,3.141592653589793\r\n');
   });
 
   it("matches the former hand-written quoting on random fields", () => {
@@ -37,7 +35,18 @@ describe("csvText", () => {
   });
 
   it("writes the peaks table as before: numbers as JavaScript prints them, empty cells for unindexed peaks", () => {
-    const peak = { twoTheta: 28.44, twoThetaEsd: 0.0012, d: 3.1356, intensity: 812.5, relativeIntensity: 100, height: 9000, fwhm: 0.08, eta: 0.41, usedInRefinement: true, crystalliteSizeNm: null };
+    const peak = {
+      twoTheta: 28.44,
+      twoThetaEsd: 0.0012,
+      d: 3.1356,
+      intensity: 812.5,
+      relativeIntensity: 100,
+      height: 9000,
+      fwhm: 0.08,
+      eta: 0.41,
+      usedInRefinement: true,
+      crystalliteSizeNm: null,
+    };
     const peaks = [
       { ...peak, hkl: [1, 1, 1] as [number, number, number], twoThetaCalc: 28.4411, delta: -0.0011 },
       { ...peak, hkl: null, twoTheta: 31.2, usedInRefinement: false, crystalliteSizeNm: 41.25 },

@@ -32,7 +32,14 @@ const lab: MatchLab = {
   slug: "test-lab",
   instruments: [cu, co],
   acceptance: { pictograms: ["GHS06", "GHS07"], specialCategories: ["nanomaterial"] },
-  priceList: { currency: "EUR", perSampleMinor: { powder_reflection: 18000 }, perExtraTemperaturePointMinor: 4500, hazardousHandlingMinor: 6000, samplePreparationMinor: 1500, turnaroundDays: 8 },
+  priceList: {
+    currency: "EUR",
+    perSampleMinor: { powder_reflection: 18000 },
+    perExtraTemperaturePointMinor: 4500,
+    hazardousHandlingMinor: 6000,
+    samplePreparationMinor: 1500,
+    turnaroundDays: 8,
+  },
 };
 const lfp: MatchRequest = {
   technique: "powder_reflection",

@@ -12,7 +12,10 @@ import { type PaymentFake, startPaymentFake } from "../../services/payment-fake/
 const SECRET = "whsec_unit_test";
 const verifier = new Stripe("sk_test_local_fake");
 
-interface Received { event: Stripe.Event; verified: boolean }
+interface Received {
+  event: Stripe.Event;
+  verified: boolean;
+}
 let received: Received[] = [];
 let failNext = 0;
 let receiver: http.Server;
@@ -66,7 +69,9 @@ beforeEach(() => {
 
 async function control(pathname: string, body?: unknown, method = "POST") {
   const res = await fetch(`${fake.url}/_fake/${pathname}`, {
-    method, headers: { "content-type": "application/json" }, body: body === undefined ? undefined : JSON.stringify(body),
+    method,
+    headers: { "content-type": "application/json" },
+    body: body === undefined ? undefined : JSON.stringify(body),
   });
   return res.json();
 }
@@ -87,7 +92,8 @@ function newSession(amount = 12_500, extra: Partial<Stripe.Checkout.SessionCreat
 
 function submitCard(sessionId: string, card: string) {
   return fetch(`${fake.url}/pay/${sessionId}`, {
-    method: "POST", redirect: "manual",
+    method: "POST",
+    redirect: "manual",
     headers: { "content-type": "application/x-www-form-urlencoded" },
     body: new URLSearchParams({ card, exp: "12/34", cvc: "123", name: "A. Client" }),
   });
@@ -150,7 +156,12 @@ describe("checkout through the hosted card page", () => {
     expect(await page.text()).toContain("Your card was declined.");
     let pi = await stripe.paymentIntents.retrieve(String(s.payment_intent));
     expect(pi.status).toBe("requires_payment_method");
-    expect(pi.last_payment_error).toMatchObject({ type: "card_error", code: "card_declined", decline_code: "generic_decline", message: "Your card was declined." });
+    expect(pi.last_payment_error).toMatchObject({
+      type: "card_error",
+      code: "card_declined",
+      decline_code: "generic_decline",
+      message: "Your card was declined.",
+    });
 
     const r = await control(`pay/${s.id}`, { card: "4000000000009995" });
     expect(r.outcome).toBe("declined");
@@ -198,7 +209,11 @@ describe("refunds", () => {
 
     const over = stripe.refunds.create({ charge: charge.id, amount: 7_001 });
     await expect(over).rejects.toBeInstanceOf(Stripe.errors.StripeInvalidRequestError);
-    await expect(over).rejects.toMatchObject({ type: "StripeInvalidRequestError", param: "amount", message: expect.stringContaining("greater than unrefunded amount") });
+    await expect(over).rejects.toMatchObject({
+      type: "StripeInvalidRequestError",
+      param: "amount",
+      message: expect.stringContaining("greater than unrefunded amount"),
+    });
 
     const rest = await stripe.refunds.create({ payment_intent: pi.id });
     expect(rest.amount).toBe(7_000);
@@ -209,26 +224,46 @@ describe("refunds", () => {
     expect((await stripe.balance.retrieve()).available).toEqual([expect.objectContaining({ currency: "eur", amount: 0 })]);
 
     await fake.controls.settle();
-    expect(types().filter((t) => t === "charge.refunded" || t === "refund.created")).toEqual(["refund.created", "charge.refunded", "refund.created", "charge.refunded"]);
+    expect(types().filter((t) => t === "charge.refunded" || t === "refund.created")).toEqual([
+      "refund.created",
+      "charge.refunded",
+      "refund.created",
+      "charge.refunded",
+    ]);
   });
 });
 
 describe("Connect accounts and transfers", () => {
   it("onboards through the account link and transfers only when onboarded and funded", async () => {
-    const account = await stripe.accounts.create({ type: "express", country: "DE", email: "lab@example.test",
-      capabilities: { transfers: { requested: true } }, metadata: { labId: "l1" } });
+    const account = await stripe.accounts.create({
+      type: "express",
+      country: "DE",
+      email: "lab@example.test",
+      capabilities: { transfers: { requested: true } },
+      metadata: { labId: "l1" },
+    });
     expect(account).toMatchObject({ charges_enabled: false, payouts_enabled: false, details_submitted: false });
 
-    await expect(stripe.transfers.create({ amount: 100, currency: "eur", destination: account.id }))
-      .rejects.toMatchObject({ code: "insufficient_capabilities_for_transfer" });
+    await expect(stripe.transfers.create({ amount: 100, currency: "eur", destination: account.id })).rejects.toMatchObject({
+      code: "insufficient_capabilities_for_transfer",
+    });
 
-    const link = await stripe.accountLinks.create({ account: account.id, type: "account_onboarding",
-      refresh_url: "http://127.0.0.1:3000/lab/payouts/refresh", return_url: "http://127.0.0.1:3000/lab/payouts/done" });
+    const link = await stripe.accountLinks.create({
+      account: account.id,
+      type: "account_onboarding",
+      refresh_url: "http://127.0.0.1:3000/lab/payouts/refresh",
+      return_url: "http://127.0.0.1:3000/lab/payouts/done",
+    });
     expect(link.object).toBe("account_link");
     expect(link.url).toMatch(new RegExp(`^${fake.url}/connect/onboard/`));
     const page = await (await fetch(link.url)).text();
     expect(page).toContain("Local test onboarding");
-    const done = await fetch(link.url, { method: "POST", redirect: "manual", headers: { "content-type": "application/x-www-form-urlencoded" }, body: "action=complete" });
+    const done = await fetch(link.url, {
+      method: "POST",
+      redirect: "manual",
+      headers: { "content-type": "application/x-www-form-urlencoded" },
+      body: "action=complete",
+    });
     expect(done.status).toBe(303);
     expect(done.headers.get("location")).toBe("http://127.0.0.1:3000/lab/payouts/done");
     const used = await fetch(link.url, { redirect: "manual" });
@@ -240,20 +275,24 @@ describe("Connect accounts and transfers", () => {
     const updated = received.find((r) => r.event.type === "account.updated")!;
     expect(updated.event.account).toBe(account.id);
 
-    await expect(stripe.transfers.create({ amount: 100, currency: "eur", destination: account.id }))
-      .rejects.toMatchObject({ code: "balance_insufficient" });
+    await expect(stripe.transfers.create({ amount: 100, currency: "eur", destination: account.id })).rejects.toMatchObject({ code: "balance_insufficient" });
 
     const { charge } = await paidSession(10_000);
-    const tr = await stripe.transfers.create({ amount: 9_200, currency: "eur", destination: account.id,
-      source_transaction: charge.id, transfer_group: "order_o1", metadata: { orderId: "o1" } });
+    const tr = await stripe.transfers.create({
+      amount: 9_200,
+      currency: "eur",
+      destination: account.id,
+      source_transaction: charge.id,
+      transfer_group: "order_o1",
+      metadata: { orderId: "o1" },
+    });
     expect(tr).toMatchObject({ object: "transfer", amount: 9_200, destination: account.id, transfer_group: "order_o1" });
     expect((await stripe.transfers.retrieve(tr.id)).amount).toBe(9_200);
     expect((await stripe.transfers.list({ transfer_group: "order_o1" })).data.map((t) => t.id)).toEqual([tr.id]);
     expect((await stripe.transfers.list({ transfer_group: "other" })).data).toEqual([]);
     expect((await stripe.balance.retrieve()).available[0]).toMatchObject({ currency: "eur", amount: 800 });
     expect((await stripe.balance.retrieve({}, { stripeAccount: account.id })).available[0].amount).toBe(9_200);
-    await expect(stripe.transfers.create({ amount: 801, currency: "eur", destination: account.id }))
-      .rejects.toMatchObject({ code: "balance_insufficient" });
+    await expect(stripe.transfers.create({ amount: 801, currency: "eur", destination: account.id })).rejects.toMatchObject({ code: "balance_insufficient" });
 
     const snap = fake.controls.snapshot();
     expect(snap.totals).toEqual({ charged: { eur: 10_000 }, refunded: {}, transferred: { eur: 9_200 } });
@@ -268,22 +307,29 @@ describe("idempotency", () => {
     const replay = await stripe.customers.create({ email: "a@example.test" }, { idempotencyKey: "k1" });
     expect(replay.id).toBe(first.id);
     expect(replay.lastResponse.headers["idempotent-replayed"]).toBe("true");
-    await expect(stripe.customers.create({ email: "b@example.test" }, { idempotencyKey: "k1" }))
-      .rejects.toBeInstanceOf(Stripe.errors.StripeIdempotencyError);
+    await expect(stripe.customers.create({ email: "b@example.test" }, { idempotencyKey: "k1" })).rejects.toBeInstanceOf(Stripe.errors.StripeIdempotencyError);
 
     const account = await stripe.accounts.create({ type: "express" });
     const scoped = await stripe.customers.create({ email: "b@example.test" }, { idempotencyKey: "k1", stripeAccount: account.id });
     expect(scoped.id).not.toBe(first.id);
 
-    const s1 = await newSession(5_000, {}) ;
-    const sessionReplay = await stripe.checkout.sessions.create({
-      mode: "payment", success_url: "http://x.test/ok",
-      line_items: [{ quantity: 2, price_data: { currency: "eur", unit_amount: 100, product_data: { name: "a" } } }],
-    }, { idempotencyKey: "k2" });
-    const sessionAgain = await stripe.checkout.sessions.create({
-      mode: "payment", success_url: "http://x.test/ok",
-      line_items: [{ quantity: 2, price_data: { currency: "eur", unit_amount: 100, product_data: { name: "a" } } }],
-    }, { idempotencyKey: "k2" });
+    const s1 = await newSession(5_000, {});
+    const sessionReplay = await stripe.checkout.sessions.create(
+      {
+        mode: "payment",
+        success_url: "http://x.test/ok",
+        line_items: [{ quantity: 2, price_data: { currency: "eur", unit_amount: 100, product_data: { name: "a" } } }],
+      },
+      { idempotencyKey: "k2" },
+    );
+    const sessionAgain = await stripe.checkout.sessions.create(
+      {
+        mode: "payment",
+        success_url: "http://x.test/ok",
+        line_items: [{ quantity: 2, price_data: { currency: "eur", unit_amount: 100, product_data: { name: "a" } } }],
+      },
+      { idempotencyKey: "k2" },
+    );
     expect(sessionAgain.id).toBe(sessionReplay.id);
     expect(sessionAgain.payment_intent).toBe(sessionReplay.payment_intent);
     expect(s1.amount_total).toBe(5_000);
@@ -349,8 +395,7 @@ describe("webhook delivery controls", () => {
 describe("faults", () => {
   it("answers 500 without storing the idempotency key, and hangs past the SDK's timeout", async () => {
     await control("faults", { mode: "error_500", count: 1, pathPrefix: "/v1/customers" });
-    await expect(stripe.customers.create({ email: "x@example.test" }, { idempotencyKey: "k500" }))
-      .rejects.toBeInstanceOf(Stripe.errors.StripeAPIError);
+    await expect(stripe.customers.create({ email: "x@example.test" }, { idempotencyKey: "k500" })).rejects.toBeInstanceOf(Stripe.errors.StripeAPIError);
     const retried = await stripe.customers.create({ email: "x@example.test" }, { idempotencyKey: "k500" });
     expect(retried.lastResponse.headers["idempotent-replayed"]).toBeUndefined();
     expect(fake.controls.snapshot().objects.customer).toHaveLength(1);

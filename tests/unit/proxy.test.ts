@@ -13,7 +13,15 @@ async function upstream(name: string) {
   const app = express();
   app.set("trust proxy", "loopback");
   app.all("/{*rest}", (req, res) => {
-    res.json({ name, host: req.headers.host, ip: req.ip, protocol: req.protocol, hostname: req.hostname, xff: req.headers["x-forwarded-for"] ?? null, xfh: req.headers["x-forwarded-host"] ?? null });
+    res.json({
+      name,
+      host: req.headers.host,
+      ip: req.ip,
+      protocol: req.protocol,
+      hostname: req.hostname,
+      xff: req.headers["x-forwarded-for"] ?? null,
+      xfh: req.headers["x-forwarded-host"] ?? null,
+    });
   });
   const server = await new Promise<Server>((resolve) => {
     const s = app.listen(0, "127.0.0.1", () => resolve(s));

@@ -17,7 +17,10 @@ beforeAll(async () => {
   app.use(publicCache);
   app.get("/public", (_req, res) => {
     calls++;
-    res.set({ "Cache-Control": "public, max-age=30", ETag: `"v${calls}"` }).type("application/json").send(JSON.stringify({ calls }));
+    res
+      .set({ "Cache-Control": "public, max-age=30", ETag: `"v${calls}"` })
+      .type("application/json")
+      .send(JSON.stringify({ calls }));
   });
   app.get("/private", (_req, res) => {
     calls++;

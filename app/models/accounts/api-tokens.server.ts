@@ -50,7 +50,10 @@ export async function revokeApiToken(labId: string, tokenId: string) {
 
 /** The token a presented secret is, revoked or not; undefined when no token has that secret. */
 export async function apiTokenBySecret(secret: string) {
-  const [token] = await db.select().from(schema.apiTokens).where(eq(schema.apiTokens.tokenHash, hashToken(secret)));
+  const [token] = await db
+    .select()
+    .from(schema.apiTokens)
+    .where(eq(schema.apiTokens.tokenHash, hashToken(secret)));
   return token;
 }
 

@@ -18,8 +18,7 @@ export const RESET_MINUTES = 60;
 export const RESET_REQUESTS_PER_HOUR = { address: 10, email: 3 };
 
 /** The one answer to a reset request, whether or not there is such an account. */
-export const RESET_REQUESTED =
-  "If an account uses this e-mail address, we have sent it a link to choose a new password. The link works once, for one hour.";
+export const RESET_REQUESTED = "If an account uses this e-mail address, we have sent it a link to choose a new password. The link works once, for one hour.";
 export const RESET_TOO_MANY = "Too many reset requests from here or for this address. Wait an hour before asking again.";
 
 export type ResetRequestResult = { ok: true } | { ok: false; retryAfterSeconds: number };
@@ -64,7 +63,10 @@ export const RESET_PROBLEMS: Record<Exclude<ResetTokenStatus, "valid">, string> 
 
 async function findToken(token: string) {
   if (!token || token.length > 100) return undefined;
-  const [row] = await db.select().from(schema.passwordResetTokens).where(eq(schema.passwordResetTokens.tokenHash, hashToken(token)));
+  const [row] = await db
+    .select()
+    .from(schema.passwordResetTokens)
+    .where(eq(schema.passwordResetTokens.tokenHash, hashToken(token)));
   return row;
 }
 
@@ -96,7 +98,17 @@ export async function resetPassword(input: { token: string; password: string; cl
     await tx.update(schema.passwordResetTokens).set({ usedAt: now }).where(eq(schema.passwordResetTokens.id, row.id));
     await voidOpenResetTokens(row.userId, tx, now);
     const sessionsEnded = await endAllSessionsOf(row.userId, tx);
-    await audit({ actorUserId: row.userId, action: "password_reset", subjectType: "user", subjectId: row.userId, details: { sessionsEnded }, clientAddress: input.clientAddress }, tx);
+    await audit(
+      {
+        actorUserId: row.userId,
+        action: "password_reset",
+        subjectType: "user",
+        subjectId: row.userId,
+        details: { sessionsEnded },
+        clientAddress: input.clientAddress,
+      },
+      tx,
+    );
     return { ok: true, userId: row.userId, sessionsEnded };
   });
 }
@@ -104,5 +116,8 @@ export async function resetPassword(input: { token: string; password: string; cl
 /** Marks a person's unused, unexpired reset links used (after any password change). */
 export async function voidOpenResetTokens(userId: string, tx: Pick<typeof db, "update"> = db, now = new Date()) {
   const t = schema.passwordResetTokens;
-  await tx.update(t).set({ usedAt: now }).where(and(eq(t.userId, userId), isNull(t.usedAt), gt(t.expiresAt, now)));
+  await tx
+    .update(t)
+    .set({ usedAt: now })
+    .where(and(eq(t.userId, userId), isNull(t.usedAt), gt(t.expiresAt, now)));
 }

@@ -17,8 +17,14 @@ export type Outcome = { ok: true } | { ok: false; field: "currentPassword" | "pa
  * Changes the password after checking the current one; every session of the person ends (the caller starts
  * a fresh one for the device that asked) and open reset links stop working.
  */
-export async function changePassword(input: { user: User; currentPassword: string; newPassword: string; clientAddress: string }): Promise<Outcome & { sessionsEnded?: number }> {
-  if (!(await verifyPassword(input.user.passwordHash, input.currentPassword))) return { ok: false, field: "currentPassword", message: "The current password is not right." };
+export async function changePassword(input: {
+  user: User;
+  currentPassword: string;
+  newPassword: string;
+  clientAddress: string;
+}): Promise<Outcome & { sessionsEnded?: number }> {
+  if (!(await verifyPassword(input.user.passwordHash, input.currentPassword)))
+    return { ok: false, field: "currentPassword", message: "The current password is not right." };
   if (input.currentPassword === input.newPassword) return { ok: false, field: "password", message: "Choose a password different from the current one." };
   const passwordHash = await hashPassword(input.newPassword);
   const sessionsEnded = await db.transaction(async (tx) => {
@@ -26,7 +32,17 @@ export async function changePassword(input: { user: User; currentPassword: strin
     await tx.update(schema.users).set({ passwordHash, passwordChangedAt: now }).where(eq(schema.users.id, input.user.id));
     await voidOpenResetTokens(input.user.id, tx, now);
     const ended = await endAllSessionsOf(input.user.id, tx);
-    await audit({ actorUserId: input.user.id, action: "password_changed", subjectType: "user", subjectId: input.user.id, details: { otherSessionsEnded: Math.max(0, ended - 1) }, clientAddress: input.clientAddress }, tx);
+    await audit(
+      {
+        actorUserId: input.user.id,
+        action: "password_changed",
+        subjectType: "user",
+        subjectId: input.user.id,
+        details: { otherSessionsEnded: Math.max(0, ended - 1) },
+        clientAddress: input.clientAddress,
+      },
+      tx,
+    );
     return ended;
   });
   return { ok: true, sessionsEnded: Math.max(0, sessionsEnded - 1) };
@@ -53,7 +69,10 @@ export async function acceptTotpCode(user: Pick<User, "id" | "totpSecret" | "tot
 export async function startTotpEnrolment(user: User) {
   if (user.totpEnabledAt) return { ok: false as const, message: "A second factor is already set up." };
   const secret = newTotpSecret();
-  await db.update(schema.users).set({ totpSecret: secret, totpLastStep: null }).where(and(eq(schema.users.id, user.id), isNull(schema.users.totpEnabledAt)));
+  await db
+    .update(schema.users)
+    .set({ totpSecret: secret, totpLastStep: null })
+    .where(and(eq(schema.users.id, user.id), isNull(schema.users.totpEnabledAt)));
   return { ok: true as const, secret };
 }
 

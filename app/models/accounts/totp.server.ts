@@ -11,7 +11,14 @@ export const TOTP_WINDOW = 1;
 const ISSUER = "Diffractory";
 
 function totp(secretBase32: string, label = "account") {
-  return new OTPAuth.TOTP({ issuer: ISSUER, label, algorithm: "SHA1", digits: TOTP_DIGITS, period: TOTP_PERIOD, secret: OTPAuth.Secret.fromBase32(secretBase32) });
+  return new OTPAuth.TOTP({
+    issuer: ISSUER,
+    label,
+    algorithm: "SHA1",
+    digits: TOTP_DIGITS,
+    period: TOTP_PERIOD,
+    secret: OTPAuth.Secret.fromBase32(secretBase32),
+  });
 }
 
 /** A fresh 160-bit secret in base32, the length RFC 4226 recommends. */

@@ -80,11 +80,7 @@ const SHA256_HEX = /^[0-9a-f]{64}$/i;
 /** The samples of the order's request, in their order on the request. */
 /** The samples of an order's request with their declarations and hazards, in the client's order. */
 export async function orderSamples(order: Pick<Order, "requestId">) {
-  return db
-    .select()
-    .from(schema.samples)
-    .where(eq(schema.samples.requestId, order.requestId))
-    .orderBy(asc(schema.samples.position), asc(schema.samples.label));
+  return db.select().from(schema.samples).where(eq(schema.samples.requestId, order.requestId)).orderBy(asc(schema.samples.position), asc(schema.samples.label));
 }
 
 async function checkUploadInput(order: Order, input: StartUploadInput) {
@@ -113,7 +109,8 @@ async function checkUploadInput(order: Order, input: StartUploadInput) {
   return { kind, name, sampleId, contentType: contentTypeFor(FILE_RULES[kind], name) };
 }
 
-const isUniqueViolation = (err: unknown) => (err as { cause?: { code?: string }; code?: string })?.cause?.code === "23505" || (err as { code?: string }).code === "23505";
+const isUniqueViolation = (err: unknown) =>
+  (err as { cause?: { code?: string }; code?: string })?.cause?.code === "23505" || (err as { code?: string }).code === "23505";
 
 /** Inserts the file row as the next version of its name; a concurrent upload of the same name retries. */
 async function insertNextVersion(values: Omit<typeof schema.orderFiles.$inferInsert, "version">): Promise<OrderFile> {
@@ -179,11 +176,9 @@ export async function startOrderUpload(order: Order, input: StartUploadInput, up
   const parts = await Promise.all(
     Array.from({ length: partCount(input.size) }, async (_, i) => ({
       partNumber: i + 1,
-      url: await getSignedUrl(
-        services.s3,
-        new UploadPartCommand({ Bucket: config.s3.bucket, Key: storageKey, UploadId: uploadId, PartNumber: i + 1 }),
-        { expiresIn: UPLOAD_URL_SECONDS },
-      ),
+      url: await getSignedUrl(services.s3, new UploadPartCommand({ Bucket: config.s3.bucket, Key: storageKey, UploadId: uploadId, PartNumber: i + 1 }), {
+        expiresIn: UPLOAD_URL_SECONDS,
+      }),
     })),
   );
   return { fileId: file.id, name, version: file.version, upload: { method: "PUT", partSize: PART_BYTES, parts } };
@@ -243,7 +238,8 @@ export async function completeOrderUpload(file: OrderFile, input: { parts?: unkn
   if (file.state === "rejected") throw new UploadProblem(`This upload was already refused: ${file.rejectReason ?? "upload the file again."}`, 409);
   const sha256 = typeof input.sha256 === "string" && input.sha256 ? input.sha256.toLowerCase() : file.sha256;
   if (!SHA256_HEX.test(sha256)) throw new UploadProblem("Send the file's SHA-256 (64 hexadecimal characters).");
-  if (file.sha256 && sha256 !== file.sha256) return reject(file, "The SHA-256 sent at the end differs from the one declared at the start; upload the file again.");
+  if (file.sha256 && sha256 !== file.sha256)
+    return reject(file, "The SHA-256 sent at the end differs from the one declared at the start; upload the file again.");
 
   if (file.multipartUploadId) {
     const parts = parseCompletedParts(input.parts);
@@ -408,7 +404,12 @@ export async function orderAccessLog(orderId: string, limit = 200) {
     .innerJoin(schema.orderFiles, eq(schema.orderFiles.id, schema.fileAccessLog.fileId))
     .leftJoin(schema.users, eq(schema.users.id, schema.fileAccessLog.userId))
     .leftJoin(schema.shareLinks, eq(schema.shareLinks.id, schema.fileAccessLog.shareLinkId))
-    .where(inArray(schema.fileAccessLog.fileId, files.map((f) => f.id)))
+    .where(
+      inArray(
+        schema.fileAccessLog.fileId,
+        files.map((f) => f.id),
+      ),
+    )
     .orderBy(desc(schema.fileAccessLog.at), desc(schema.fileAccessLog.id))
     .limit(limit);
   return rows.map((r) => ({ ...r, at: r.at.toISOString() }));

@@ -11,7 +11,14 @@ export async function createShareLink(input: { orderId: string; organisationId: 
   const token = randomBytes(24).toString("base64url");
   const [link] = await db
     .insert(schema.shareLinks)
-    .values({ orderId: input.orderId, organisationId: input.organisationId, createdBy: input.userId, label: input.label, expiresAt: input.expiresAt, tokenHash: hashToken(token) })
+    .values({
+      orderId: input.orderId,
+      organisationId: input.organisationId,
+      createdBy: input.userId,
+      label: input.label,
+      expiresAt: input.expiresAt,
+      tokenHash: hashToken(token),
+    })
     .returning();
   return { link, token };
 }
@@ -65,7 +72,10 @@ export type ResolvedShareLink =
 /** The link a token names, and whether it still opens the data room; null for an unknown token. */
 export async function resolveShareLink(token: string): Promise<ResolvedShareLink> {
   if (!token || token.length > 100) return null;
-  const [link] = await db.select().from(schema.shareLinks).where(eq(schema.shareLinks.tokenHash, hashToken(token)));
+  const [link] = await db
+    .select()
+    .from(schema.shareLinks)
+    .where(eq(schema.shareLinks.tokenHash, hashToken(token)));
   if (!link) return null;
   if (link.revokedAt) return { status: "revoked", link };
   if (link.expiresAt.getTime() <= Date.now()) return { status: "expired", link };

@@ -20,11 +20,7 @@ const record = (labId: string, actor: Actor, action: string, subjectType: string
 
 /** The lab's instruments, oldest first, each with its sample stages. */
 export async function listInstruments(labId: string) {
-  const instruments = await db
-    .select()
-    .from(schema.instruments)
-    .where(eq(schema.instruments.labId, labId))
-    .orderBy(asc(schema.instruments.createdAt));
+  const instruments = await db.select().from(schema.instruments).where(eq(schema.instruments.labId, labId)).orderBy(asc(schema.instruments.createdAt));
   const stages = instruments.length
     ? await db
         .select()
@@ -64,7 +60,10 @@ export async function saveInstrument(labId: string, input: InstrumentInput, acto
       .returning({ id: schema.instruments.id });
     if (updated.length === 0) throw new NoSuchRecord("This lab has no such instrument.");
   } else {
-    [{ id }] = await db.insert(schema.instruments).values({ labId, ...values }).returning({ id: schema.instruments.id });
+    [{ id }] = await db
+      .insert(schema.instruments)
+      .values({ labId, ...values })
+      .returning({ id: schema.instruments.id });
   }
   await record(labId, actor, input.id ? "instrument_updated" : "instrument_added", "instrument", id!, { name: input.name });
   return id!;

@@ -7,9 +7,7 @@ import { ANODE_LINES, ANODES } from "~/diffraction/wavelengths";
 import { PAGE_SIZE, type DirectoryFilters } from "~/domain/directory-query";
 
 /** Kα1 of the instrument's anode, or its custom wavelength (Å). */
-const wavelengthSql = sql.raw(
-  `(case i.anode ${ANODES.map((a) => `when '${a}' then ${ANODE_LINES[a].kAlpha1}`).join(" ")} else i.custom_wavelength end)`,
-);
+const wavelengthSql = sql.raw(`(case i.anode ${ANODES.map((a) => `when '${a}' then ${ANODE_LINES[a].kAlpha1}`).join(" ")} else i.custom_wavelength end)`);
 /** Bragg's law: the smallest d an instrument reaches is λ / (2 sin θmax). */
 const minDSql = sql`(${wavelengthSql} / (2 * sin(radians(i.two_theta_max / 2))))`;
 
@@ -61,9 +59,7 @@ export async function searchDirectory(f: DirectoryFilters): Promise<{ labs: Dire
   const categories = f.hazard.filter((h) => !h.startsWith("GHS"));
   if (pictograms.length) where.push(sql`h.pictograms @> ${`{${pictograms.join(",")}}`}::text[]`);
   if (categories.length) where.push(sql`h.special_categories @> ${`{${categories.join(",")}}`}::text[]`);
-  const priceExpr = f.technique
-    ? sql`(p.per_sample_minor ->> ${f.technique})::int`
-    : sql`(select min(value::int) from jsonb_each_text(p.per_sample_minor))`;
+  const priceExpr = f.technique ? sql`(p.per_sample_minor ->> ${f.technique})::int` : sql`(select min(value::int) from jsonb_each_text(p.per_sample_minor))`;
   if (f.maxPrice !== undefined) where.push(sql`${priceExpr} <= ${Math.round(f.maxPrice * 100)}`);
   if (f.turnaroundDays !== undefined) where.push(sql`p.turnaround_days <= ${f.turnaroundDays}`);
   if (f.q) {
@@ -105,7 +101,13 @@ export async function searchDirectory(f: DirectoryFilters): Promise<{ labs: Dire
 /** The lab at a profile address (its organisation's slug) with its vetting state and where it is; undefined when none. */
 export async function labBySlug(slug: string) {
   const [row] = await db
-    .select({ id: schema.labs.organisationId, state: schema.labs.vettingState, description: schema.labs.description, city: schema.organisations.city, country: schema.organisations.country })
+    .select({
+      id: schema.labs.organisationId,
+      state: schema.labs.vettingState,
+      description: schema.labs.description,
+      city: schema.organisations.city,
+      country: schema.organisations.country,
+    })
     .from(schema.labs)
     .innerJoin(schema.organisations, eq(schema.organisations.id, schema.labs.organisationId))
     .where(eq(schema.organisations.slug, slug));

@@ -15,12 +15,24 @@ export async function loadMatchLabs(labIds?: string[]): Promise<MatchLab[]> {
   if (labs.length === 0) return [];
   const ids = labs.map((l) => l.id);
   const [instruments, acceptance, prices] = await Promise.all([
-    db.select().from(schema.instruments).where(and(inArray(schema.instruments.labId, ids), eq(schema.instruments.active, true))).orderBy(asc(schema.instruments.createdAt)),
+    db
+      .select()
+      .from(schema.instruments)
+      .where(and(inArray(schema.instruments.labId, ids), eq(schema.instruments.active, true)))
+      .orderBy(asc(schema.instruments.createdAt)),
     db.select().from(schema.hazardAcceptance).where(inArray(schema.hazardAcceptance.labId, ids)),
     db.select().from(schema.priceLists).where(inArray(schema.priceLists.labId, ids)),
   ]);
   const stages = instruments.length
-    ? await db.select().from(schema.sampleStages).where(inArray(schema.sampleStages.instrumentId, instruments.map((i) => i.id)))
+    ? await db
+        .select()
+        .from(schema.sampleStages)
+        .where(
+          inArray(
+            schema.sampleStages.instrumentId,
+            instruments.map((i) => i.id),
+          ),
+        )
     : [];
   return labs.map((lab) => {
     const acc = acceptance.find((a) => a.labId === lab.id);
@@ -57,7 +69,9 @@ export async function loadMatchLabs(labIds?: string[]): Promise<MatchLab[]> {
 }
 
 /** A request with its samples in the shape the matching rules read; null when it does not exist. */
-export async function loadMatchRequest(requestId: string): Promise<(MatchRequest & { id: string; organisationId: string; visibility: string; state: string }) | null> {
+export async function loadMatchRequest(
+  requestId: string,
+): Promise<(MatchRequest & { id: string; organisationId: string; visibility: string; state: string }) | null> {
   const [request] = await db.select().from(schema.requests).where(eq(schema.requests.id, requestId));
   if (!request) return null;
   const samples = await db.select().from(schema.samples).where(eq(schema.samples.requestId, requestId)).orderBy(asc(schema.samples.position));
@@ -103,9 +117,16 @@ export async function labsMatchingRequest(requestId: string): Promise<string[]> 
 export async function requestsMatchingLab(labId: string) {
   const [lab] = await loadMatchLabs([labId]);
   if (!lab) return [];
-  const invited = await db.select({ requestId: schema.requestInvitations.requestId }).from(schema.requestInvitations).where(eq(schema.requestInvitations.labId, labId));
+  const invited = await db
+    .select({ requestId: schema.requestInvitations.requestId })
+    .from(schema.requestInvitations)
+    .where(eq(schema.requestInvitations.labId, labId));
   const invitedIds = new Set(invited.map((i) => i.requestId));
-  const open = await db.select({ id: schema.requests.id }).from(schema.requests).where(eq(schema.requests.state, "open")).orderBy(asc(schema.requests.openedAt));
+  const open = await db
+    .select({ id: schema.requests.id })
+    .from(schema.requests)
+    .where(eq(schema.requests.state, "open"))
+    .orderBy(asc(schema.requests.openedAt));
   const out: { requestId: string; invited: boolean; match: LabMatch }[] = [];
   for (const { id } of open) {
     const request = await loadMatchRequest(id);

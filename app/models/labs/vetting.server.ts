@@ -7,15 +7,7 @@ import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
 import { invalidateDirectory } from "~/models/labs/directory.server";
 import { NoSuchRecord } from "~/models/errors";
-import {
-  DECISIONS,
-  SUBMITTABLE_STATES,
-  VETTING_STATES,
-  withinTolerance,
-  type CalibrationCheck,
-  type Decision,
-  type VettingState,
-} from "~/domain/vetting";
+import { DECISIONS, SUBMITTABLE_STATES, VETTING_STATES, withinTolerance, type CalibrationCheck, type Decision, type VettingState } from "~/domain/vetting";
 
 export { isUuid };
 
@@ -150,7 +142,13 @@ export async function decideVetting(input: {
       .update(schema.labs)
       .set({ vettingState: rule.to, reviewedBy: input.actorUserId, reviewedAt: now, reviewNote: input.note, updatedAt: now })
       .where(and(eq(schema.labs.organisationId, input.labId), eq(schema.labs.vettingState, current.vettingState)));
-    const base = { actorUserId: input.actorUserId, organisationId: input.labId, subjectType: "lab", subjectId: input.labId, clientAddress: input.clientAddress };
+    const base = {
+      actorUserId: input.actorUserId,
+      organisationId: input.labId,
+      subjectType: "lab",
+      subjectId: input.labId,
+      clientAddress: input.clientAddress,
+    };
     if (override) {
       await audit(
         {
@@ -162,7 +160,11 @@ export async function decideVetting(input: {
       );
     }
     await audit(
-      { ...base, action: `lab_${rule.to === "approved" && current.vettingState === "suspended" ? "reinstated" : rule.to}`, details: { from: current.vettingState, to: rule.to, note: input.note, override } },
+      {
+        ...base,
+        action: `lab_${rule.to === "approved" && current.vettingState === "suspended" ? "reinstated" : rule.to}`,
+        details: { from: current.vettingState, to: rule.to, note: input.note, override },
+      },
       tx,
     );
     await notify(tx, { kind: "lab_decided", labId: input.labId, to: rule.to, note: input.note });
@@ -214,21 +216,13 @@ export async function labForReview(labId: string) {
     .leftJoin(schema.users, eq(schema.users.id, schema.labs.licenceAttestedBy))
     .where(eq(schema.labs.organisationId, labId));
   if (!row) return null;
-  const documents = await db
-    .select()
-    .from(schema.labDocuments)
-    .where(eq(schema.labDocuments.labId, labId))
-    .orderBy(asc(schema.labDocuments.uploadedAt));
+  const documents = await db.select().from(schema.labDocuments).where(eq(schema.labDocuments.labId, labId)).orderBy(asc(schema.labDocuments.uploadedAt));
   return { ...row, documents };
 }
 
 /** The latest document of each kind a lab has handed in. */
 export async function latestDocuments(labId: string) {
-  const docs = await db
-    .select()
-    .from(schema.labDocuments)
-    .where(eq(schema.labDocuments.labId, labId))
-    .orderBy(desc(schema.labDocuments.uploadedAt));
+  const docs = await db.select().from(schema.labDocuments).where(eq(schema.labDocuments.labId, labId)).orderBy(desc(schema.labDocuments.uploadedAt));
   const latest = new Map<string, (typeof docs)[number]>();
   for (const d of docs) if (!latest.has(d.kind)) latest.set(d.kind, d);
   return latest;

@@ -35,7 +35,8 @@ function orderFacts(c: OrderContext): [string, string][] {
   ];
 }
 
-const orderPath = (c: OrderContext, side: Audience) => (side === "lab" ? `/lab/orders/${c.order.id}` : side === "admin" ? `/admin/disputes` : `/client/orders/${c.order.id}`);
+const orderPath = (c: OrderContext, side: Audience) =>
+  side === "lab" ? `/lab/orders/${c.order.id}` : side === "admin" ? `/admin/disputes` : `/client/orders/${c.order.id}`;
 const withNote = (c: OrderContext, facts: [string, string][]) => (c.note ? [...facts, ["Note", c.note] as [string, string]] : facts);
 
 /** A message about an order's milestone for one side of the order. */
@@ -47,45 +48,146 @@ export function orderLetter(kind: MilestoneKind, c: OrderContext, side: Audience
   switch (kind) {
     case "funds_held":
       return side === "client"
-        ? { ...base, subject: `Payment held for “${title}”`, heading: "Your payment is held", paragraphs: [`We received ${formatMoney(c.order.amountMinor, c.order.currency)} for order ${ref(c.order)}. Diffractory holds it until you accept the delivered data; ${c.labName} is paid only then.`], nextStep: "Pack the samples with the printed packing slip and mark the order as shipped." }
-        : { ...base, subject: `Order ${ref(c.order)} is paid — samples will follow`, heading: "The client has paid", paragraphs: [`${c.clientName} paid for “${title}”. The money is held by Diffractory and released to your payout account when the delivery is accepted.`], nextStep: "Wait for the parcel; the order page shows the hazard declaration of every sample." };
+        ? {
+            ...base,
+            subject: `Payment held for “${title}”`,
+            heading: "Your payment is held",
+            paragraphs: [
+              `We received ${formatMoney(c.order.amountMinor, c.order.currency)} for order ${ref(c.order)}. Diffractory holds it until you accept the delivered data; ${c.labName} is paid only then.`,
+            ],
+            nextStep: "Pack the samples with the printed packing slip and mark the order as shipped.",
+          }
+        : {
+            ...base,
+            subject: `Order ${ref(c.order)} is paid — samples will follow`,
+            heading: "The client has paid",
+            paragraphs: [
+              `${c.clientName} paid for “${title}”. The money is held by Diffractory and released to your payout account when the delivery is accepted.`,
+            ],
+            nextStep: "Wait for the parcel; the order page shows the hazard declaration of every sample.",
+          };
     case "samples_shipped":
-      return { ...base, subject: `Samples on their way: “${title}”`, heading: "Samples are on their way", paragraphs: [`${c.clientName} has shipped the samples of order ${ref(c.order)}.`, "Read each sample's hazard declaration before the parcel is opened. A declaration informs the lab; it does not replace the safety data sheet, the carrier's dangerous-goods rules, local regulations or the approval of your radiation and chemical safety officers."], nextStep: "Check the parcel against its declaration on arrival, then mark it received — or refuse it if it does not match." };
+      return {
+        ...base,
+        subject: `Samples on their way: “${title}”`,
+        heading: "Samples are on their way",
+        paragraphs: [
+          `${c.clientName} has shipped the samples of order ${ref(c.order)}.`,
+          "Read each sample's hazard declaration before the parcel is opened. A declaration informs the lab; it does not replace the safety data sheet, the carrier's dangerous-goods rules, local regulations or the approval of your radiation and chemical safety officers.",
+        ],
+        nextStep: "Check the parcel against its declaration on arrival, then mark it received — or refuse it if it does not match.",
+      };
     case "samples_received":
-      return { ...base, subject: `${c.labName} received your samples`, heading: "Samples received", paragraphs: [`${c.labName} received the parcel for order ${ref(c.order)} and found it matches its declaration.`], nextStep: "Nothing to do now; you will hear from us when the measurement starts and when the data is in your data room." };
+      return {
+        ...base,
+        subject: `${c.labName} received your samples`,
+        heading: "Samples received",
+        paragraphs: [`${c.labName} received the parcel for order ${ref(c.order)} and found it matches its declaration.`],
+        nextStep: "Nothing to do now; you will hear from us when the measurement starts and when the data is in your data room.",
+      };
     case "refused_on_arrival":
-      return { ...base, subject: `Parcel refused on arrival: “${title}”`, heading: "The lab refused the parcel", paragraphs: [`${c.labName} refused the parcel of order ${ref(c.order)} on arrival because it did not match its declaration. What is held is refunded, less the lab's handling fee.`], nextStep: "Read the lab's note on the order page and arrange the return of the parcel with the lab." };
+      return {
+        ...base,
+        subject: `Parcel refused on arrival: “${title}”`,
+        heading: "The lab refused the parcel",
+        paragraphs: [
+          `${c.labName} refused the parcel of order ${ref(c.order)} on arrival because it did not match its declaration. What is held is refunded, less the lab's handling fee.`,
+        ],
+        nextStep: "Read the lab's note on the order page and arrange the return of the parcel with the lab.",
+      };
     case "measuring_started":
-      return { ...base, subject: `Measurement started: “${title}”`, heading: "Your samples are being measured", paragraphs: [`${c.labName} has started measuring the samples of order ${ref(c.order)}.`], nextStep: "Wait for the data; every scan is checked automatically against its declared cell." };
+      return {
+        ...base,
+        subject: `Measurement started: “${title}”`,
+        heading: "Your samples are being measured",
+        paragraphs: [`${c.labName} has started measuring the samples of order ${ref(c.order)}.`],
+        nextStep: "Wait for the data; every scan is checked automatically against its declared cell.",
+      };
     case "data_delivered": {
       const rows = (c.verdicts ?? []).map((v) => [v.sample, v.file, VERDICT_WORDS[v.verdict] ?? v.verdict]);
       return {
         ...base,
         subject: `Data delivered: “${title}”`,
         heading: "Your data is in the data room",
-        paragraphs: [`${c.labName} delivered the data of order ${ref(c.order)}. Each scan went through the lattice-parameter check; the verdicts are below and the plots are in the data room.`],
+        paragraphs: [
+          `${c.labName} delivered the data of order ${ref(c.order)}. Each scan went through the lattice-parameter check; the verdicts are below and the plots are in the data room.`,
+        ],
         table: { caption: "Lattice check per sample", columns: ["Sample", "Scan", "Verdict"], rows: rows.length ? rows : [["—", "—", "no completed check"]] },
         nextStep: `Review the data and accept the delivery, or open a dispute, within ${c.order.reviewWindowDays} days; after that the delivery is accepted automatically.`,
       };
     }
     case "review_window_ending": {
       const ends = new Date((c.order.deliveredAt ?? new Date()).getTime() + c.order.reviewWindowDays * 86_400_000);
-      return { ...base, facts: [...facts, ["Review window ends", day(ends)]], subject: `Review window ends tomorrow: “${title}”`, heading: "One day left to review the data", paragraphs: [`The review window of order ${ref(c.order)} ends on ${day(ends)}. Then the delivery is accepted automatically and ${c.labName} is paid.`], nextStep: "Accept the delivery, or open a dispute if the data is not what was agreed." };
+      return {
+        ...base,
+        facts: [...facts, ["Review window ends", day(ends)]],
+        subject: `Review window ends tomorrow: “${title}”`,
+        heading: "One day left to review the data",
+        paragraphs: [`The review window of order ${ref(c.order)} ends on ${day(ends)}. Then the delivery is accepted automatically and ${c.labName} is paid.`],
+        nextStep: "Accept the delivery, or open a dispute if the data is not what was agreed.",
+      };
     }
     case "delivery_accepted":
       return side === "client"
-        ? { ...base, subject: `Delivery accepted: “${title}”`, heading: "The delivery is accepted", paragraphs: [`The delivery of order ${ref(c.order)} is accepted and the held money is being released to ${c.labName}.`], nextStep: "Nothing to do; the data stays in your data room." }
-        : { ...base, subject: `${c.clientName} accepted your delivery`, heading: "Delivery accepted", paragraphs: [`The delivery of order ${ref(c.order)} is accepted. The payout to your account is on its way.`], nextStep: "Watch for the payout message; the payouts page lists every transfer." };
+        ? {
+            ...base,
+            subject: `Delivery accepted: “${title}”`,
+            heading: "The delivery is accepted",
+            paragraphs: [`The delivery of order ${ref(c.order)} is accepted and the held money is being released to ${c.labName}.`],
+            nextStep: "Nothing to do; the data stays in your data room.",
+          }
+        : {
+            ...base,
+            subject: `${c.clientName} accepted your delivery`,
+            heading: "Delivery accepted",
+            paragraphs: [`The delivery of order ${ref(c.order)} is accepted. The payout to your account is on its way.`],
+            nextStep: "Watch for the payout message; the payouts page lists every transfer.",
+          };
     case "payout_sent":
-      return { ...base, link: { path: "/lab/payouts", label: "See your payouts" }, subject: `Payout sent for order ${ref(c.order)}`, heading: "Payout sent", paragraphs: [`We transferred the total of order ${ref(c.order)}, less the platform fee of ${c.order.platformFeeBps / 100} %, to your payout account.`], nextStep: "Nothing to do; the payouts page shows the transfer." };
+      return {
+        ...base,
+        link: { path: "/lab/payouts", label: "See your payouts" },
+        subject: `Payout sent for order ${ref(c.order)}`,
+        heading: "Payout sent",
+        paragraphs: [`We transferred the total of order ${ref(c.order)}, less the platform fee of ${c.order.platformFeeBps / 100} %, to your payout account.`],
+        nextStep: "Nothing to do; the payouts page shows the transfer.",
+      };
     case "order_cancelled":
-      return { ...base, subject: `Order cancelled: “${title}”`, heading: "The order is cancelled", paragraphs: [`Order ${ref(c.order)} is cancelled. Any payment held for it is refunded in full to the client.`], nextStep: side === "client" ? "Post the request again if you still need the measurement." : "Nothing to do." };
+      return {
+        ...base,
+        subject: `Order cancelled: “${title}”`,
+        heading: "The order is cancelled",
+        paragraphs: [`Order ${ref(c.order)} is cancelled. Any payment held for it is refunded in full to the client.`],
+        nextStep: side === "client" ? "Post the request again if you still need the measurement." : "Nothing to do.",
+      };
     case "dispute_opened":
       return side === "admin"
-        ? { ...base, link: { path: "/admin/disputes", label: "Open the disputes" }, subject: `Dispute to settle: order ${ref(c.order)}`, heading: "A dispute needs a decision", paragraphs: [`${c.clientName} opened a dispute on the data ${c.labName} delivered. The money stays frozen until an admin decides.`], nextStep: "Read both sides and the check results, then settle the split." }
-        : { ...base, subject: `Dispute opened on “${title}”`, heading: "A dispute is open", paragraphs: [`A dispute is open on order ${ref(c.order)}. The held money stays frozen until a Diffractory admin decides how it is split.`], nextStep: side === "lab" ? "Add what the admin should know to the order page; keep the raw data." : "The admin may contact you; nothing else is needed now." };
+        ? {
+            ...base,
+            link: { path: "/admin/disputes", label: "Open the disputes" },
+            subject: `Dispute to settle: order ${ref(c.order)}`,
+            heading: "A dispute needs a decision",
+            paragraphs: [`${c.clientName} opened a dispute on the data ${c.labName} delivered. The money stays frozen until an admin decides.`],
+            nextStep: "Read both sides and the check results, then settle the split.",
+          }
+        : {
+            ...base,
+            subject: `Dispute opened on “${title}”`,
+            heading: "A dispute is open",
+            paragraphs: [`A dispute is open on order ${ref(c.order)}. The held money stays frozen until a Diffractory admin decides how it is split.`],
+            nextStep:
+              side === "lab"
+                ? "Add what the admin should know to the order page; keep the raw data."
+                : "The admin may contact you; nothing else is needed now.",
+          };
     case "dispute_resolved":
-      return { ...base, subject: `Dispute resolved: “${title}”`, heading: "The dispute is resolved", paragraphs: [`A Diffractory admin settled the dispute on order ${ref(c.order)}. The decision and the split are on the order page.`], nextStep: "Nothing to do; refunds and payouts follow the decision." };
+      return {
+        ...base,
+        subject: `Dispute resolved: “${title}”`,
+        heading: "The dispute is resolved",
+        paragraphs: [`A Diffractory admin settled the dispute on order ${ref(c.order)}. The decision and the split are on the order page.`],
+        nextStep: "Nothing to do; refunds and payouts follow the decision.",
+      };
     default:
       throw new Error(`No order message for ${kind}`);
   }
@@ -102,24 +204,46 @@ export function requestOpenLetter(r: { id: string; title: string; clientName: st
   };
 }
 
-export function quoteReceivedLetter(q: { requestId: string; requestTitle: string; labName: string; totalMinor: number; currency: string; turnaroundDays: number; validUntil: Date }): Letter {
+export function quoteReceivedLetter(q: {
+  requestId: string;
+  requestTitle: string;
+  labName: string;
+  totalMinor: number;
+  currency: string;
+  turnaroundDays: number;
+  validUntil: Date;
+}): Letter {
   return {
     subject: `${q.labName} sent a quote for “${q.requestTitle}”`,
     heading: "A new quote",
     paragraphs: [`${q.labName} quoted on your request. Compare it with the other quotes side by side.`],
-    facts: [["Request", q.requestTitle], ["Lab", q.labName], ["Total", formatMoney(q.totalMinor, q.currency)], ["Turnaround", `${q.turnaroundDays} days`], ["Valid until", day(q.validUntil)]],
+    facts: [
+      ["Request", q.requestTitle],
+      ["Lab", q.labName],
+      ["Total", formatMoney(q.totalMinor, q.currency)],
+      ["Turnaround", `${q.turnaroundDays} days`],
+      ["Valid until", day(q.validUntil)],
+    ],
     nextStep: "Accept the quote that suits you; you pay when you accept.",
     link: { path: `/client/requests/${q.requestId}`, label: "Compare the quotes" },
   };
 }
 
-export function quoteDecisionLetter(accepted: boolean, q: { orderId: string; requestTitle: string; clientName: string; totalMinor: number; currency: string }): Letter {
+export function quoteDecisionLetter(
+  accepted: boolean,
+  q: { orderId: string; requestTitle: string; clientName: string; totalMinor: number; currency: string },
+): Letter {
   return accepted
     ? {
         subject: `Quote accepted: “${q.requestTitle}”`,
         heading: "Your quote was accepted",
         paragraphs: [`${q.clientName} accepted your quote. The order waits for their payment; you will hear from us when the money is held.`],
-        facts: [["Request", q.requestTitle], ["Client", q.clientName], ["Total", formatMoney(q.totalMinor, q.currency)], ["Order", q.orderId.slice(0, 8)]],
+        facts: [
+          ["Request", q.requestTitle],
+          ["Client", q.clientName],
+          ["Total", formatMoney(q.totalMinor, q.currency)],
+          ["Order", q.orderId.slice(0, 8)],
+        ],
         nextStep: "Nothing yet: start no work before the payment is held.",
         link: { path: `/lab/orders/${q.orderId}`, label: "Open the order" },
       }
@@ -127,7 +251,10 @@ export function quoteDecisionLetter(accepted: boolean, q: { orderId: string; req
         subject: `Another quote was chosen for “${q.requestTitle}”`,
         heading: "Your quote was not chosen",
         paragraphs: [`${q.clientName} accepted another lab's quote for this request. Thank you for quoting.`],
-        facts: [["Request", q.requestTitle], ["Your total", formatMoney(q.totalMinor, q.currency)]],
+        facts: [
+          ["Request", q.requestTitle],
+          ["Your total", formatMoney(q.totalMinor, q.currency)],
+        ],
         nextStep: "Nothing to do; new matching requests arrive in your inbox.",
         link: { path: "/lab/quotes", label: "See your quotes" },
       };
@@ -138,7 +265,10 @@ export function labApplicationLetter(l: { labId: string; labName: string; city: 
     subject: `Lab application to vet: ${l.labName}`,
     heading: "A lab applied for vetting",
     paragraphs: [`${l.labName} handed in its accreditation evidence, radiation-licence attestation and calibration scan.`],
-    facts: [["Lab", l.labName], ["Where", [l.city, l.country].filter(Boolean).join(", ") || "—"]],
+    facts: [
+      ["Lab", l.labName],
+      ["Where", [l.city, l.country].filter(Boolean).join(", ") || "—"],
+    ],
     nextStep: "Review the documents and the calibration check, then approve or decline.",
     link: { path: `/admin/labs/${l.labId}`, label: "Review the application" },
   };
@@ -148,9 +278,15 @@ export function labDecisionLetter(approved: boolean, l: { labName: string; note:
   return {
     subject: approved ? `${l.labName} is approved on Diffractory` : `${l.labName}: application declined`,
     heading: approved ? "Your lab is approved" : "Your application was declined",
-    paragraphs: [approved ? "Your lab now appears in the directory and receives matching requests." : "A Diffractory admin declined the application after reviewing the evidence."],
+    paragraphs: [
+      approved
+        ? "Your lab now appears in the directory and receives matching requests."
+        : "A Diffractory admin declined the application after reviewing the evidence.",
+    ],
     facts: l.note ? [["Reviewer's note", l.note]] : [],
-    nextStep: approved ? "Check your capabilities and price list; connect your payout account before quoting." : "Read the note, correct what it asks for and apply again.",
+    nextStep: approved
+      ? "Check your capabilities and price list; connect your payout account before quoting."
+      : "Read the note, correct what it asks for and apply again.",
     link: { path: "/lab/vetting", label: "Open vetting" },
   };
 }
@@ -161,7 +297,11 @@ export function invitationLetter(i: { token: string; organisationName: string; r
     subject: `Invitation to join ${i.organisationName} on Diffractory`,
     heading: `Join ${i.organisationName}`,
     paragraphs: [`${who} to join ${i.organisationName} on Diffractory as ${i.role === "operator" || i.role === "owner" ? "an" : "a"} ${i.role}.`],
-    facts: [["Organisation", i.organisationName], ["Role", i.role], ["Link valid until", day(i.expiresAt)]],
+    facts: [
+      ["Organisation", i.organisationName],
+      ["Role", i.role],
+      ["Link valid until", day(i.expiresAt)],
+    ],
     nextStep: "Open the link, sign in or create an account with this e-mail address, then accept the invitation.",
     link: { path: `/invitations/${i.token}`, label: "Open the invitation" },
   };
@@ -176,7 +316,10 @@ export function passwordResetLetter(r: { token: string; expiresAt: Date }): Lett
       "Someone — hopefully you — asked to reset the password of the Diffractory account with this e-mail address.",
       "If it was not you, ignore this message: your password stays as it is.",
     ],
-    facts: [["Link valid until", `${day(r.expiresAt)}, ${time} UTC`], ["Use", "once"]],
+    facts: [
+      ["Link valid until", `${day(r.expiresAt)}, ${time} UTC`],
+      ["Use", "once"],
+    ],
     nextStep: "Open the link and choose a new password. Every device signed in to the account is signed out.",
     link: { path: `/reset-password/${r.token}`, label: "Choose a new password" },
   };

@@ -37,7 +37,10 @@ export function resendTransport(): MailTransport {
     name: "resend",
     async send(mail) {
       const { data, error } = await withTimeout(
-        services.mail.emails.send({ from: config.mail.from, to: [mail.to], subject: mail.subject, html: mail.html, text: mail.text }, { idempotencyKey: mail.id }),
+        services.mail.emails.send(
+          { from: config.mail.from, to: [mail.to], subject: mail.subject, html: mail.html, text: mail.text },
+          { idempotencyKey: mail.id },
+        ),
         config.mail.sendTimeoutMs,
       );
       if (error) throw new Error(`${error.name}: ${error.message}`);
@@ -53,7 +56,14 @@ export function smtpTransport(url = config.mail.smtpUrl): MailTransport {
     async send(mail) {
       // SMTP has no idempotency key; the outbox id as Message-ID lets a receiving server drop a repeat.
       const info = await withTimeout(
-        transporter.sendMail({ from: config.mail.from, to: mail.to, subject: mail.subject, html: mail.html, text: mail.text, messageId: `<${mail.id}@diffractory.outbox>` }),
+        transporter.sendMail({
+          from: config.mail.from,
+          to: mail.to,
+          subject: mail.subject,
+          html: mail.html,
+          text: mail.text,
+          messageId: `<${mail.id}@diffractory.outbox>`,
+        }),
         config.mail.sendTimeoutMs,
       );
       return { providerId: info.messageId ?? null };
@@ -232,10 +242,13 @@ export async function startOutboxDispatcher(boss: PgBoss, { sweepMs = 5000 } = {
   const relisten = () => {
     if (stopped) return;
     setTimeout(() => {
-      listen().then(() => void run(), (err) => {
-        console.warn("mail dispatcher listener:", (err as Error).message);
-        relisten();
-      });
+      listen().then(
+        () => void run(),
+        (err) => {
+          console.warn("mail dispatcher listener:", (err as Error).message);
+          relisten();
+        },
+      );
     }, 1000);
   };
   await listen();

@@ -27,7 +27,15 @@ export async function notificationsOf(userId: string, limit = 30): Promise<{ unr
     .where(and(eq(schema.notifications.userId, userId), isNull(schema.notifications.readAt)));
   return {
     unread,
-    items: rows.map((r) => ({ id: r.id, kind: r.kind, orderId: r.orderId, title: r.title, href: r.href, createdAt: r.createdAt.toISOString(), read: r.readAt !== null })),
+    items: rows.map((r) => ({
+      id: r.id,
+      kind: r.kind,
+      orderId: r.orderId,
+      title: r.title,
+      href: r.href,
+      createdAt: r.createdAt.toISOString(),
+      read: r.readAt !== null,
+    })),
   };
 }
 
@@ -73,7 +81,9 @@ export async function outboxForAdmins(status: "parked" | "queued" | "sent" | "al
       sentAt: schema.outboxMessages.sentAt,
     })
     .from(schema.outboxMessages);
-  const rows = await (status === "all" ? base : base.where(eq(schema.outboxMessages.status, status))).orderBy(desc(schema.outboxMessages.createdAt)).limit(limit);
+  const rows = await (status === "all" ? base : base.where(eq(schema.outboxMessages.status, status)))
+    .orderBy(desc(schema.outboxMessages.createdAt))
+    .limit(limit);
   const counts = await db.select({ status: schema.outboxMessages.status, n: count() }).from(schema.outboxMessages).groupBy(schema.outboxMessages.status);
   return { rows, counts: Object.fromEntries(counts.map((c) => [c.status, c.n])) as Partial<Record<"queued" | "sent" | "parked", number>> };
 }

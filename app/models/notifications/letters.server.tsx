@@ -36,7 +36,13 @@ function LetterHtml({ letter, name }: { letter: Letter; name: string }) {
         <title>{letter.subject}</title>
       </head>
       <body style={{ margin: 0, padding: "24px", background: "#f5f6f8", color: "#1f2430" }}>
-        <table role="presentation" width="100%" cellPadding={0} cellSpacing={0} style={{ maxWidth: "560px", margin: "0 auto", background: "#ffffff", borderRadius: "8px" }}>
+        <table
+          role="presentation"
+          width="100%"
+          cellPadding={0}
+          cellSpacing={0}
+          style={{ maxWidth: "560px", margin: "0 auto", background: "#ffffff", borderRadius: "8px" }}
+        >
           <tbody>
             <tr>
               <td style={{ padding: "24px 28px", fontSize: "15px", lineHeight: "1.55", fontFamily: FONT }}>
@@ -66,12 +72,24 @@ function LetterHtml({ letter, name }: { letter: Letter; name: string }) {
                   {letter.nextStep}
                 </p>
                 <p style={{ margin: "20px 0" }}>
-                  <a href={href} style={{ display: "inline-block", padding: "10px 18px", background: "#3559a8", color: "#ffffff", borderRadius: "6px", textDecoration: "none", fontWeight: 600 }}>
+                  <a
+                    href={href}
+                    style={{
+                      display: "inline-block",
+                      padding: "10px 18px",
+                      background: "#3559a8",
+                      color: "#ffffff",
+                      borderRadius: "6px",
+                      textDecoration: "none",
+                      fontWeight: 600,
+                    }}
+                  >
                     {letter.link.label}
                   </a>
                 </p>
                 <p style={{ margin: "24px 0 0", fontSize: "12px", color: "#5b6372" }}>
-                  You receive this because you belong to an organisation on Diffractory. Messages that are not about payments, disputes or safety can be turned off at {absolute("/account/notifications")}.
+                  You receive this because you belong to an organisation on Diffractory. Messages that are not about payments, disputes or safety can be turned
+                  off at {absolute("/account/notifications")}.
                 </p>
               </td>
             </tr>
@@ -121,7 +139,15 @@ function LetterText({ letter, name }: { letter: Letter; name: string }) {
     for (const r of letter.table.rows) lines.push(`- ${r.join(" — ")}`);
     lines.push("");
   }
-  lines.push(`Next step: ${letter.nextStep}`, "", `${letter.link.label}: ${absolute(letter.link.path)}`, "", "—", "Diffractory", `Turn off messages that are not about payments, disputes or safety: ${absolute("/account/notifications")}`);
+  lines.push(
+    `Next step: ${letter.nextStep}`,
+    "",
+    `${letter.link.label}: ${absolute(letter.link.path)}`,
+    "",
+    "—",
+    "Diffractory",
+    `Turn off messages that are not about payments, disputes or safety: ${absolute("/account/notifications")}`,
+  );
   return <>{lines.join("\n")}</>;
 }
 

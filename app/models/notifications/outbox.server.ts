@@ -5,7 +5,18 @@ import type { Order } from "~/db/schema";
 import type { VettingState } from "~/domain/vetting";
 import type { OrderState } from "~/domain/order-states";
 import type { Tx } from "~/db/client.server";
-import { invitationLetter, labApplicationLetter, passwordResetLetter, labDecisionLetter, orderLetter, quoteDecisionLetter, quoteReceivedLetter, requestOpenLetter, type Audience, type OrderContext } from "~/models/notifications/compose.server";
+import {
+  invitationLetter,
+  labApplicationLetter,
+  passwordResetLetter,
+  labDecisionLetter,
+  orderLetter,
+  quoteDecisionLetter,
+  quoteReceivedLetter,
+  requestOpenLetter,
+  type Audience,
+  type OrderContext,
+} from "~/models/notifications/compose.server";
 import { renderLetter, type Letter } from "~/models/notifications/letters.server";
 import { isEssential, type MilestoneKind } from "~/domain/milestones";
 
@@ -74,16 +85,29 @@ async function admins(tx: Tx): Promise<Person[]> {
 }
 
 async function orgName(tx: Tx, id: string) {
-  const [row] = await tx.select({ name: schema.organisations.name, city: schema.organisations.city, country: schema.organisations.country }).from(schema.organisations).where(eq(schema.organisations.id, id));
+  const [row] = await tx
+    .select({ name: schema.organisations.name, city: schema.organisations.city, country: schema.organisations.country })
+    .from(schema.organisations)
+    .where(eq(schema.organisations.id, id));
   return row ?? { name: "—", city: null, country: null };
 }
 
 async function orderContext(tx: Tx, order: Order, note: string, withVerdicts: boolean): Promise<OrderContext> {
   const [request] = await tx.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId));
-  const context: OrderContext = { order, requestTitle: request?.title ?? "—", clientName: (await orgName(tx, order.clientOrganisationId)).name, labName: (await orgName(tx, order.labId)).name, note };
+  const context: OrderContext = {
+    order,
+    requestTitle: request?.title ?? "—",
+    clientName: (await orgName(tx, order.clientOrganisationId)).name,
+    labName: (await orgName(tx, order.labId)).name,
+    note,
+  };
   if (withVerdicts) {
     context.verdicts = await tx
-      .select({ sample: sql<string>`coalesce(${schema.samples.label}, '—')`, file: schema.orderFiles.name, verdict: sql<string>`coalesce(${schema.scanChecks.verdict}, ${schema.scanChecks.status}::text)` })
+      .select({
+        sample: sql<string>`coalesce(${schema.samples.label}, '—')`,
+        file: schema.orderFiles.name,
+        verdict: sql<string>`coalesce(${schema.scanChecks.verdict}, ${schema.scanChecks.status}::text)`,
+      })
       .from(schema.orderFiles)
       .innerJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))
       .leftJoin(schema.samples, eq(schema.samples.id, schema.orderFiles.sampleId))
@@ -115,14 +139,28 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
     case "request_open": {
       const [r] = await tx.select().from(schema.requests).where(eq(schema.requests.id, m.requestId));
       if (!r) return [];
-      const letter = requestOpenLetter({ id: r.id, title: r.title, clientName: (await orgName(tx, r.organisationId)).name, technique: r.technique, deadline: r.deadline ? String(r.deadline) : null });
+      const letter = requestOpenLetter({
+        id: r.id,
+        title: r.title,
+        clientName: (await orgName(tx, r.organisationId)).name,
+        technique: r.technique,
+        deadline: r.deadline ? String(r.deadline) : null,
+      });
       return (await membersOf(tx, m.labIds)).map((person) => ({ kind: "request_open" as const, person, letter, orderId: null }));
     }
     case "quote_received": {
       const [q] = await tx.select().from(schema.quotes).where(eq(schema.quotes.id, m.quoteId));
       const [r] = q ? await tx.select().from(schema.requests).where(eq(schema.requests.id, q.requestId)) : [];
       if (!q || !r) return [];
-      const letter = quoteReceivedLetter({ requestId: r.id, requestTitle: r.title, labName: (await orgName(tx, q.labId)).name, totalMinor: q.totalMinor, currency: q.currency, turnaroundDays: q.turnaroundDays, validUntil: q.validUntil });
+      const letter = quoteReceivedLetter({
+        requestId: r.id,
+        requestTitle: r.title,
+        labName: (await orgName(tx, q.labId)).name,
+        totalMinor: q.totalMinor,
+        currency: q.currency,
+        turnaroundDays: q.turnaroundDays,
+        validUntil: q.validUntil,
+      });
       return (await membersOf(tx, [r.organisationId])).map((person) => ({ kind: "quote_received" as const, person, letter, orderId: null }));
     }
     case "quote_decided": {
@@ -137,8 +175,15 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       const out: Outgoing[] = [];
       for (const q of [accepted, ...declined]) {
         const isAccepted = q.id === accepted.id;
-        const letter = quoteDecisionLetter(isAccepted, { orderId: m.orderId, requestTitle: r.title, clientName, totalMinor: q.totalMinor, currency: q.currency });
-        for (const person of await membersOf(tx, [q.labId])) out.push({ kind: isAccepted ? "quote_accepted" : "quote_declined", person, letter, orderId: isAccepted ? m.orderId : null });
+        const letter = quoteDecisionLetter(isAccepted, {
+          orderId: m.orderId,
+          requestTitle: r.title,
+          clientName,
+          totalMinor: q.totalMinor,
+          currency: q.currency,
+        });
+        for (const person of await membersOf(tx, [q.labId]))
+          out.push({ kind: isAccepted ? "quote_accepted" : "quote_declined", person, letter, orderId: isAccepted ? m.orderId : null });
       }
       return out;
     }
@@ -157,14 +202,25 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       const [inv] = await tx.select().from(schema.organisationInvitations).where(eq(schema.organisationInvitations.id, m.invitationId));
       if (!inv) return [];
       const [inviter] = inv.invitedBy ? await tx.select({ name: schema.users.name }).from(schema.users).where(eq(schema.users.id, inv.invitedBy)) : [];
-      const [account] = await tx.select({ id: schema.users.id, name: schema.users.name }).from(schema.users).where(sql`lower(${schema.users.email}) = lower(${inv.email})`);
-      const letter = invitationLetter({ token: m.token, organisationName: (await orgName(tx, inv.organisationId)).name, role: inv.role, inviterName: inviter?.name ?? null, expiresAt: inv.expiresAt });
+      const [account] = await tx
+        .select({ id: schema.users.id, name: schema.users.name })
+        .from(schema.users)
+        .where(sql`lower(${schema.users.email}) = lower(${inv.email})`);
+      const letter = invitationLetter({
+        token: m.token,
+        organisationName: (await orgName(tx, inv.organisationId)).name,
+        role: inv.role,
+        inviterName: inviter?.name ?? null,
+        expiresAt: inv.expiresAt,
+      });
       const person: Person = { userId: account?.id ?? null, email: inv.email, name: account?.name ?? "there" };
       return [{ kind: "organisation_invitation" as const, person, letter, orderId: null }];
     }
     case "password_reset": {
       const [row] = await tx.select().from(schema.passwordResetTokens).where(eq(schema.passwordResetTokens.id, m.tokenId));
-      const [user] = row ? await tx.select({ email: schema.users.email, name: schema.users.name }).from(schema.users).where(eq(schema.users.id, row.userId)) : [];
+      const [user] = row
+        ? await tx.select({ email: schema.users.email, name: schema.users.name }).from(schema.users).where(eq(schema.users.id, row.userId))
+        : [];
       if (!row || !user) return [];
       // E-mail only: an in-app notification would keep the working link in the notification list.
       const person: Person = { userId: null, email: user.email, name: user.name };
@@ -196,18 +252,37 @@ export async function notify(tx: Tx, milestone: Milestone): Promise<number> {
     const rows = await tx
       .select({ userId: schema.notificationPreferences.userId, kind: schema.notificationPreferences.kind })
       .from(schema.notificationPreferences)
-      .where(and(inArray(schema.notificationPreferences.userId, optional.map((o) => o.person.userId!)), eq(schema.notificationPreferences.emailEnabled, false)));
+      .where(
+        and(
+          inArray(
+            schema.notificationPreferences.userId,
+            optional.map((o) => o.person.userId!),
+          ),
+          eq(schema.notificationPreferences.emailEnabled, false),
+        ),
+      );
     for (const r of rows) optedOut.add(`${r.kind}:${r.userId}`);
   }
 
-  const inApp = outgoing.flatMap((o) => (o.person.userId ? [{ userId: o.person.userId, kind: o.kind, orderId: o.orderId, title: o.letter.subject, href: o.letter.link.path }] : []));
+  const inApp = outgoing.flatMap((o) =>
+    o.person.userId ? [{ userId: o.person.userId, kind: o.kind, orderId: o.orderId, title: o.letter.subject, href: o.letter.link.path }] : [],
+  );
   if (inApp.length) await tx.insert(schema.notifications).values(inApp);
   const mails = outgoing.filter((o) => !optedOut.has(`${o.kind}:${o.person.userId}`));
   if (mails.length === 0) return 0;
   await tx.insert(schema.outboxMessages).values(
     mails.map((o) => {
       const rendered = renderLetter(o.letter, o.person.name);
-      return { kind: o.kind, to: o.person.email, subject: rendered.subject, html: rendered.html, text: rendered.text, orderId: o.orderId, userId: o.person.userId, essential: isEssential(o.kind) };
+      return {
+        kind: o.kind,
+        to: o.person.email,
+        subject: rendered.subject,
+        html: rendered.html,
+        text: rendered.text,
+        orderId: o.orderId,
+        userId: o.person.userId,
+        essential: isEssential(o.kind),
+      };
     }),
   );
   await tx.execute(sql`select pg_notify(${OUTBOX_CHANNEL}, '')`);

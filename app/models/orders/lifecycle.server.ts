@@ -59,17 +59,29 @@ export async function moveOrder(
 /** The client marks the samples shipped, with the carrier and tracking number. */
 export async function markShipped(orderId: string, userId: string, carrier: string, trackingNumber: string) {
   return db.transaction(async (tx) => {
-    const order = await moveOrder(tx, await lockOrder(tx, orderId), "samples_in_transit", "client", userId, `Shipped with ${carrier}, tracking ${trackingNumber}.`);
-    await tx.insert(schema.shipments).values({ orderId, carrier, trackingNumber, shippedBy: userId }).onConflictDoUpdate({
-      target: schema.shipments.orderId,
-      set: { carrier, trackingNumber, shippedBy: userId, shippedAt: new Date() },
-    });
+    const order = await moveOrder(
+      tx,
+      await lockOrder(tx, orderId),
+      "samples_in_transit",
+      "client",
+      userId,
+      `Shipped with ${carrier}, tracking ${trackingNumber}.`,
+    );
+    await tx
+      .insert(schema.shipments)
+      .values({ orderId, carrier, trackingNumber, shippedBy: userId })
+      .onConflictDoUpdate({
+        target: schema.shipments.orderId,
+        set: { carrier, trackingNumber, shippedBy: userId, shippedAt: new Date() },
+      });
     return order;
   });
 }
 
 export async function markReceived(orderId: string, userId: string, note: string) {
-  return db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "samples_received", "lab", userId, note || "Samples received; the parcel matches its declaration."));
+  return db.transaction(async (tx) =>
+    moveOrder(tx, await lockOrder(tx, orderId), "samples_received", "lab", userId, note || "Samples received; the parcel matches its declaration."),
+  );
 }
 
 export async function startMeasuring(orderId: string, userId: string, note: string) {
@@ -83,7 +95,9 @@ export async function markDelivered(orderId: string, userId: string, note: strin
     throw new OrderMoveRefused(`Every sample needs at least one scan with a completed lattice check first; missing: ${missing.join(", ")}.`);
   }
   return db.transaction(async (tx) =>
-    moveOrder(tx, await lockOrder(tx, orderId), "data_delivered", "lab", userId, note || "Data delivered to the client's data room.", { deliveredAt: new Date() }),
+    moveOrder(tx, await lockOrder(tx, orderId), "data_delivered", "lab", userId, note || "Data delivered to the client's data room.", {
+      deliveredAt: new Date(),
+    }),
   );
 }
 
@@ -94,22 +108,25 @@ export async function markDelivered(orderId: string, userId: string, note: strin
  * A repeated call posts nothing (the ledger posting is keyed by the charge) and moves nothing.
  */
 export async function holdFunds(orderId: string, paid: { paymentId: string; paymentIntentId: string; chargeId: string; amountMinor: number }) {
-await db.transaction(async (tx) => {
-  const order = await lockOrder(tx, orderId);
-  await tx.update(schema.payments).set({ status: "paid", chargeId: paid.chargeId, paymentIntentId: paid.paymentIntentId, lastError: null, updatedAt: new Date() }).where(eq(schema.payments.id, paid.paymentId));
-  const posted = await postLedger(tx, {
-    kind: "payment_held",
-    orderId,
-    currency: order.currency,
-    providerObjectId: paid.chargeId,
-    memo: `Payment held for order ${orderId}`,
-    entries: [
-      { account: ACCOUNTS.cash, amountMinor: paid.amountMinor },
-      { account: ACCOUNTS.held, amountMinor: -paid.amountMinor },
-    ],
+  await db.transaction(async (tx) => {
+    const order = await lockOrder(tx, orderId);
+    await tx
+      .update(schema.payments)
+      .set({ status: "paid", chargeId: paid.chargeId, paymentIntentId: paid.paymentIntentId, lastError: null, updatedAt: new Date() })
+      .where(eq(schema.payments.id, paid.paymentId));
+    const posted = await postLedger(tx, {
+      kind: "payment_held",
+      orderId,
+      currency: order.currency,
+      providerObjectId: paid.chargeId,
+      memo: `Payment held for order ${orderId}`,
+      entries: [
+        { account: ACCOUNTS.cash, amountMinor: paid.amountMinor },
+        { account: ACCOUNTS.held, amountMinor: -paid.amountMinor },
+      ],
+    });
+    if (posted && order.state === "awaiting_payment") await moveOrder(tx, order, "funds_held", "system", null, "Payment received and held.");
   });
-  if (posted && order.state === "awaiting_payment") await moveOrder(tx, order, "funds_held", "system", null, "Payment received and held.");
-});
 }
 
 /** Pays an accepted order out: total minus the platform fee to the lab, the fee to the platform. */
@@ -123,7 +140,9 @@ export async function releasePayout(orderId: string) {
   return db.transaction(async (tx) => {
     const locked = await lockOrder(tx, orderId);
     await postPayout(tx, locked, transfer.id, order.amountMinor - fee, fee, "Payout on accepted delivery");
-    return locked.state === "accepted" ? moveOrder(tx, locked, "paid_out", "system", null, `Paid to the lab: ${order.amountMinor - fee} minor units after the platform fee of ${fee}.`) : locked;
+    return locked.state === "accepted"
+      ? moveOrder(tx, locked, "paid_out", "system", null, `Paid to the lab: ${order.amountMinor - fee} minor units after the platform fee of ${fee}.`)
+      : locked;
   });
 }
 
@@ -159,7 +178,14 @@ export async function acceptDelivery(orderId: string, mover: "client" | "system"
   await db.transaction(async (tx) => {
     const order = await lockOrder(tx, orderId);
     if (order.state === "accepted" || order.state === "paid_out") return;
-    await moveOrder(tx, order, "accepted", mover, actorUserId, mover === "system" ? "The review window lapsed; delivery accepted automatically." : "Delivery accepted.");
+    await moveOrder(
+      tx,
+      order,
+      "accepted",
+      mover,
+      actorUserId,
+      mover === "system" ? "The review window lapsed; delivery accepted automatically." : "Delivery accepted.",
+    );
   });
   return releasePayout(orderId);
 }
@@ -235,9 +261,18 @@ export async function resolveDispute(orderId: string, admin: { userId: string; c
       .update(schema.disputes)
       .set({ state: "resolved", refundMinor, payoutMinor: payoutPart - fee, decidedBy: admin.userId, decidedAt: new Date(), decisionReason: reason })
       .where(eq(schema.disputes.orderId, orderId));
-    if (locked.state === "disputed") await moveOrder(tx, locked, "resolved", "admin", admin.userId, `Refund ${refundMinor}, payout ${payoutPart - fee}, fee ${fee}. ${reason}`);
+    if (locked.state === "disputed")
+      await moveOrder(tx, locked, "resolved", "admin", admin.userId, `Refund ${refundMinor}, payout ${payoutPart - fee}, fee ${fee}. ${reason}`);
     await audit(
-      { actorUserId: admin.userId, organisationId: order.clientOrganisationId, action: "dispute_resolved", subjectType: "order", subjectId: orderId, details: { refundMinor, payoutMinor: payoutPart - fee, feeMinor: fee, reason }, clientAddress: admin.clientAddress },
+      {
+        actorUserId: admin.userId,
+        organisationId: order.clientOrganisationId,
+        action: "dispute_resolved",
+        subjectType: "order",
+        subjectId: orderId,
+        details: { refundMinor, payoutMinor: payoutPart - fee, feeMinor: fee, reason },
+        clientAddress: admin.clientAddress,
+      },
       tx,
     );
   });

@@ -43,8 +43,16 @@ export async function clientOverview(organisationId: string): Promise<Overview> 
   const waiting: WaitingItem[] = [
     { count: quotes.count, label: plural(quotes.count, "quote to compare and decide on", "quotes to compare and decide on"), to: "/client/requests" },
     { count: n(orders, "awaiting_payment"), label: plural(n(orders, "awaiting_payment"), "order to pay", "orders to pay"), to: "/client/orders" },
-    { count: n(orders, "funds_held"), label: plural(n(orders, "funds_held"), "order whose samples are to ship", "orders whose samples are to ship"), to: "/client/orders" },
-    { count: n(orders, "data_delivered"), label: plural(n(orders, "data_delivered"), "delivery to review: accept it or open a dispute", "deliveries to review: accept them or open a dispute"), to: "/client/data-room" },
+    {
+      count: n(orders, "funds_held"),
+      label: plural(n(orders, "funds_held"), "order whose samples are to ship", "orders whose samples are to ship"),
+      to: "/client/orders",
+    },
+    {
+      count: n(orders, "data_delivered"),
+      label: plural(n(orders, "data_delivered"), "delivery to review: accept it or open a dispute", "deliveries to review: accept them or open a dispute"),
+      to: "/client/data-room",
+    },
     { count: requests.drafts, label: plural(requests.drafts, "draft request to finish", "draft requests to finish"), to: "/client/requests" },
   ].filter((w) => w.count > 0);
   return { orders, waiting, requestCount: requests.total };
@@ -57,10 +65,30 @@ export async function labOverview(labId: string): Promise<Overview> {
     .from(schema.quotes)
     .where(and(eq(schema.quotes.labId, labId), eq(schema.quotes.state, "sent")));
   const waiting: WaitingItem[] = [
-    { count: n(orders, "samples_in_transit"), label: plural(n(orders, "samples_in_transit"), "parcel on its way: check it against its declaration on arrival", "parcels on their way: check each against its declaration on arrival"), to: "/lab/work-queue" },
-    { count: n(orders, "samples_received", "measuring"), label: plural(n(orders, "samples_received", "measuring"), "order to measure and deliver", "orders to measure and deliver"), to: "/lab/work-queue" },
-    { count: n(orders, "disputed"), label: plural(n(orders, "disputed"), "order in dispute (an admin decides)", "orders in dispute (an admin decides)"), to: "/lab/work-queue" },
-    { count: quotes.count, label: plural(quotes.count, "quote waiting for the client's decision", "quotes waiting for the clients' decisions"), to: "/lab/quotes" },
+    {
+      count: n(orders, "samples_in_transit"),
+      label: plural(
+        n(orders, "samples_in_transit"),
+        "parcel on its way: check it against its declaration on arrival",
+        "parcels on their way: check each against its declaration on arrival",
+      ),
+      to: "/lab/work-queue",
+    },
+    {
+      count: n(orders, "samples_received", "measuring"),
+      label: plural(n(orders, "samples_received", "measuring"), "order to measure and deliver", "orders to measure and deliver"),
+      to: "/lab/work-queue",
+    },
+    {
+      count: n(orders, "disputed"),
+      label: plural(n(orders, "disputed"), "order in dispute (an admin decides)", "orders in dispute (an admin decides)"),
+      to: "/lab/work-queue",
+    },
+    {
+      count: quotes.count,
+      label: plural(quotes.count, "quote waiting for the client's decision", "quotes waiting for the clients' decisions"),
+      to: "/lab/quotes",
+    },
   ].filter((w) => w.count > 0);
   return { orders, waiting, requestCount: 0 };
 }

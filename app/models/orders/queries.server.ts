@@ -41,7 +41,15 @@ export async function ordersOf(side: "client" | "lab", organisationId: string, l
   const own = side === "client" ? schema.orders.clientOrganisationId : schema.orders.labId;
   const other = side === "client" ? schema.orders.labId : schema.orders.clientOrganisationId;
   return db
-    .select({ id: schema.orders.id, state: schema.orders.state, amountMinor: schema.orders.amountMinor, currency: schema.orders.currency, updatedAt: schema.orders.updatedAt, title: schema.requests.title, counterpart: schema.organisations.name })
+    .select({
+      id: schema.orders.id,
+      state: schema.orders.state,
+      amountMinor: schema.orders.amountMinor,
+      currency: schema.orders.currency,
+      updatedAt: schema.orders.updatedAt,
+      title: schema.requests.title,
+      counterpart: schema.organisations.name,
+    })
     .from(schema.orders)
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
     .innerJoin(schema.organisations, eq(schema.organisations.id, other))
@@ -96,7 +104,14 @@ export async function disputeOf(orderId: string) {
 export async function disputesWithOrders() {
   const labOrg = alias(schema.organisations, "lab_org");
   return db
-    .select({ dispute: schema.disputes, order: schema.orders, title: schema.requests.title, client: schema.organisations.name, lab: labOrg.name, openedBy: schema.users.name })
+    .select({
+      dispute: schema.disputes,
+      order: schema.orders,
+      title: schema.requests.title,
+      client: schema.organisations.name,
+      lab: labOrg.name,
+      openedBy: schema.users.name,
+    })
     .from(schema.disputes)
     .innerJoin(schema.orders, eq(schema.orders.id, schema.disputes.orderId))
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
@@ -123,10 +138,28 @@ export async function payoutsOfLab(labId: string) {
     .where(eq(schema.orders.labId, labId));
   const ledgerOf = (kind: "payout" | "platform_fee") =>
     db
-      .select({ id: schema.ledgerTransactions.id, orderId: schema.ledgerTransactions.orderId, transferId: schema.ledgerTransactions.providerObjectId, at: schema.ledgerTransactions.createdAt, currency: schema.ledgerTransactions.currency, amount: schema.ledgerEntries.amountMinor })
+      .select({
+        id: schema.ledgerTransactions.id,
+        orderId: schema.ledgerTransactions.orderId,
+        transferId: schema.ledgerTransactions.providerObjectId,
+        at: schema.ledgerTransactions.createdAt,
+        currency: schema.ledgerTransactions.currency,
+        amount: schema.ledgerEntries.amountMinor,
+      })
       .from(schema.ledgerTransactions)
-      .innerJoin(schema.ledgerEntries, and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")))
-      .where(and(eq(schema.ledgerTransactions.kind, kind), inArray(schema.ledgerTransactions.orderId, orders.map((o) => o.id))))
+      .innerJoin(
+        schema.ledgerEntries,
+        and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")),
+      )
+      .where(
+        and(
+          eq(schema.ledgerTransactions.kind, kind),
+          inArray(
+            schema.ledgerTransactions.orderId,
+            orders.map((o) => o.id),
+          ),
+        ),
+      )
       .orderBy(desc(schema.ledgerTransactions.createdAt));
   const [paid, fees] = orders.length ? await Promise.all([ledgerOf("payout"), ledgerOf("platform_fee")]) : [[], []];
   // A fee belongs to the transfer it was kept from: its provider id is "fee:" and the transfer's id.
@@ -140,7 +173,17 @@ export async function payoutsOfLab(labId: string) {
 /** The client organisation's paid and unfinished payments, newest first, each with what has been refunded on its order. */
 export async function paymentsOfClient(organisationId: string) {
   const payments = await db
-    .select({ id: schema.payments.id, orderId: schema.payments.orderId, status: schema.payments.status, amountMinor: schema.payments.amountMinor, currency: schema.payments.currency, at: schema.payments.updatedAt, chargeId: schema.payments.chargeId, title: schema.requests.title, lab: schema.organisations.name })
+    .select({
+      id: schema.payments.id,
+      orderId: schema.payments.orderId,
+      status: schema.payments.status,
+      amountMinor: schema.payments.amountMinor,
+      currency: schema.payments.currency,
+      at: schema.payments.updatedAt,
+      chargeId: schema.payments.chargeId,
+      title: schema.requests.title,
+      lab: schema.organisations.name,
+    })
     .from(schema.payments)
     .innerJoin(schema.orders, eq(schema.orders.id, schema.payments.orderId))
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
@@ -152,7 +195,10 @@ export async function paymentsOfClient(organisationId: string) {
     ? await db
         .select({ orderId: schema.ledgerTransactions.orderId, amount: schema.ledgerEntries.amountMinor })
         .from(schema.ledgerTransactions)
-        .innerJoin(schema.ledgerEntries, and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")))
+        .innerJoin(
+          schema.ledgerEntries,
+          and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")),
+        )
         .where(and(eq(schema.ledgerTransactions.kind, "refund"), inArray(schema.ledgerTransactions.orderId, orderIds)))
     : [];
   const refunded = new Map<string, number>();

@@ -45,7 +45,16 @@ export async function startCheckout(orderId: string, actor: { userId: string; em
         mode: "payment",
         customer_email: actor.email,
         client_reference_id: order.id,
-        line_items: [{ quantity: 1, price_data: { currency: lower(order.currency), unit_amount: order.amountMinor, product_data: { name: `Diffraction measurements: ${request?.title ?? order.id}` } } }],
+        line_items: [
+          {
+            quantity: 1,
+            price_data: {
+              currency: lower(order.currency),
+              unit_amount: order.amountMinor,
+              product_data: { name: `Diffraction measurements: ${request?.title ?? order.id}` },
+            },
+          },
+        ],
         success_url: `${config.appUrl}/client/orders/${order.id}/payment?session_id={CHECKOUT_SESSION_ID}`,
         cancel_url: `${config.appUrl}/client/orders/${order.id}?payment=cancelled`,
         metadata: { orderId: order.id },

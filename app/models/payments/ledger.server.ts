@@ -34,7 +34,9 @@ export async function postLedger(tx: Tx, posting: LedgerPosting): Promise<boolea
     .onConflictDoNothing()
     .returning({ id: schema.ledgerTransactions.id });
   if (!row) return false;
-  await tx.insert(schema.ledgerEntries).values(posting.entries.map((e) => ({ transactionId: row.id, account: e.account, amountMinor: e.amountMinor, currency: posting.currency })));
+  await tx
+    .insert(schema.ledgerEntries)
+    .values(posting.entries.map((e) => ({ transactionId: row.id, account: e.account, amountMinor: e.amountMinor, currency: posting.currency })));
   return true;
 }
 
@@ -76,7 +78,13 @@ export async function ledgerSummary() {
     group by e.currency order by e.currency`);
   const byCurrency: Record<string, LedgerTotals> = {};
   for (const r of rows.rows) {
-    byCurrency[r.currency] = { takenInMinor: Number(r.taken_in), heldMinor: Number(r.held), paidOutMinor: Number(r.paid_out), feesMinor: Number(r.fees), refundedMinor: Number(r.refunded) };
+    byCurrency[r.currency] = {
+      takenInMinor: Number(r.taken_in),
+      heldMinor: Number(r.held),
+      paidOutMinor: Number(r.paid_out),
+      feesMinor: Number(r.fees),
+      refundedMinor: Number(r.refunded),
+    };
   }
   const sum = (k: keyof LedgerTotals) => Object.values(byCurrency).reduce((s, t) => s + t[k], 0);
   return {
@@ -104,7 +112,17 @@ export async function ledgerRows(f: LedgerFilter, limit = 500, page: { offset?: 
   const where = ledgerWhere(f);
   const dir = page.dir === "asc" ? sql`asc` : sql`desc`;
   const order = page.sort === "kind" ? sql`t.kind ${dir}, t.created_at desc, t.id` : sql`t.created_at ${dir}, t.id`;
-  const result = await db.execute<{ id: string; kind: string; order_id: string | null; currency: string; provider_object_id: string; memo: string; created_at: string; account: string; amount_minor: number }>(sql`
+  const result = await db.execute<{
+    id: string;
+    kind: string;
+    order_id: string | null;
+    currency: string;
+    provider_object_id: string;
+    memo: string;
+    created_at: string;
+    account: string;
+    amount_minor: number;
+  }>(sql`
     select t.id, t.kind, t.order_id, t.currency, t.provider_object_id, t.memo, t.created_at, e.account, e.amount_minor
     from (select * from ledger_transactions t ${where.length ? sql`where ${sql.join(where, sql` and `)}` : sql``} order by ${order} limit ${limit} offset ${page.offset ?? 0}) t
     join ledger_entries e on e.transaction_id = t.id
@@ -115,7 +133,9 @@ export async function ledgerRows(f: LedgerFilter, limit = 500, page: { offset?: 
 /** How many transactions the filter matches (the ledger screen pages by transaction, each with all its entries). */
 export async function ledgerTransactionCount(f: LedgerFilter) {
   const where = ledgerWhere(f);
-  const result = await db.execute<{ n: string }>(sql`select count(*) as n from ledger_transactions t ${where.length ? sql`where ${sql.join(where, sql` and `)}` : sql``}`);
+  const result = await db.execute<{ n: string }>(
+    sql`select count(*) as n from ledger_transactions t ${where.length ? sql`where ${sql.join(where, sql` and `)}` : sql``}`,
+  );
   return Number(result.rows[0].n);
 }
 

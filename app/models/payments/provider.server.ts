@@ -81,7 +81,13 @@ export async function transferToLab(order: Order, amountMinor: number, idempoten
   }
   try {
     return await provider().transfers.create(
-      { amount: amountMinor, currency: lower(order.currency), destination: lab.payoutAccountId, transfer_group: `order_${order.id}`, metadata: { orderId: order.id } },
+      {
+        amount: amountMinor,
+        currency: lower(order.currency),
+        destination: lab.payoutAccountId,
+        transfer_group: `order_${order.id}`,
+        metadata: { orderId: order.id },
+      },
       { idempotencyKey },
     );
   } catch (err) {
@@ -120,11 +126,17 @@ export async function postPayout(tx: Tx, order: Order, transferId: string, payou
 /** Refunds part or all of what is held for an order, once per idempotency key. */
 export async function refund(order: Order, amountMinor: number, memo: string, idempotencyKey: string) {
   if (amountMinor <= 0) return null;
-  const [payment] = await db.select().from(schema.payments).where(and(eq(schema.payments.orderId, order.id), eq(schema.payments.status, "paid")));
+  const [payment] = await db
+    .select()
+    .from(schema.payments)
+    .where(and(eq(schema.payments.orderId, order.id), eq(schema.payments.status, "paid")));
   if (!payment?.paymentIntentId) throw new PaymentProblem("There is no payment to refund for this order.");
   let refundObject: Stripe.Refund;
   try {
-    refundObject = await provider().refunds.create({ payment_intent: payment.paymentIntentId, amount: amountMinor, metadata: { orderId: order.id } }, { idempotencyKey });
+    refundObject = await provider().refunds.create(
+      { payment_intent: payment.paymentIntentId, amount: amountMinor, metadata: { orderId: order.id } },
+      { idempotencyKey },
+    );
   } catch (err) {
     providerTrouble(err);
   }

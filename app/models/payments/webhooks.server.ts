@@ -41,11 +41,21 @@ export async function receiveWebhook(rawBody: string, signature: string | null) 
     throw new BadSignature("The webhook signature does not verify.");
   }
   const data = (event as { data?: { object?: unknown } }).data;
-  if (typeof event.id !== "string" || !event.id || event.id.length > 255 || typeof event.type !== "string" || !data?.object || typeof data.object !== "object") {
+  if (
+    typeof event.id !== "string" ||
+    !event.id ||
+    event.id.length > 255 ||
+    typeof event.type !== "string" ||
+    !data?.object ||
+    typeof data.object !== "object"
+  ) {
     throw new BadWebhook("The event has no id, type or data object.");
   }
   if (hasNul(event)) throw new BadWebhook(NUL_REFUSAL);
-  await db.insert(schema.webhookEvents).values({ id: event.id, type: event.type, payload: event as unknown as Record<string, unknown> }).onConflictDoNothing();
+  await db
+    .insert(schema.webhookEvents)
+    .values({ id: event.id, type: event.type, payload: event as unknown as Record<string, unknown> })
+    .onConflictDoNothing();
   const [stored] = await db.select().from(schema.webhookEvents).where(eq(schema.webhookEvents.id, event.id));
   // Same id, other content: a replay with a changed body is refused. (jsonb reorders keys, so compare canonically.)
   if (canonicalJson(stored.payload) !== canonicalJson(event)) throw new BadSignature("An event with this id but other content was already received.");

@@ -14,7 +14,12 @@ import { acknowledgementOf, isUuid } from "~/models/requests/requests.server";
 export function draftLineItems(request: Pick<MarketRequest, "technique" | "temperaturePointsK">, samples: Sample[], prices: PriceList | null): QuoteLineItem[] {
   if (!prices) return [];
   const n = Math.max(samples.length, 1);
-  const item = (description: string, quantity: number, unitMinor: number): QuoteLineItem => ({ description, quantity, unitMinor, totalMinor: quantity * unitMinor });
+  const item = (description: string, quantity: number, unitMinor: number): QuoteLineItem => ({
+    description,
+    quantity,
+    unitMinor,
+    totalMinor: quantity * unitMinor,
+  });
   const items: QuoteLineItem[] = [];
   const perSample = prices.perSampleMinor[request.technique];
   if (perSample !== undefined) {
@@ -38,7 +43,13 @@ export async function priceListOf(labId: string) {
 
 export async function instrumentsOf(labId: string) {
   return db
-    .select({ id: schema.instruments.id, name: schema.instruments.name, anode: schema.instruments.anode, customWavelength: schema.instruments.customWavelength, technique: schema.instruments.technique })
+    .select({
+      id: schema.instruments.id,
+      name: schema.instruments.name,
+      anode: schema.instruments.anode,
+      customWavelength: schema.instruments.customWavelength,
+      technique: schema.instruments.technique,
+    })
     .from(schema.instruments)
     .where(and(eq(schema.instruments.labId, labId), eq(schema.instruments.active, true)))
     .orderBy(asc(schema.instruments.createdAt));
@@ -100,7 +111,12 @@ export async function sendQuote(request: MarketRequest, labId: string, userId: s
   const instrument = (await instrumentsOf(labId)).find((i) => i.id === input.instrumentId);
   if (!instrument) return { ok: false, fieldErrors: { instrumentId: ["Choose one of your lab's instruments."] } };
   const prices = await priceListOf(labId);
-  const lineItems: QuoteLineItem[] = input.items.map((i) => ({ description: i.description, quantity: i.quantity, unitMinor: i.unitPrice, totalMinor: i.quantity * i.unitPrice }));
+  const lineItems: QuoteLineItem[] = input.items.map((i) => ({
+    description: i.description,
+    quantity: i.quantity,
+    unitMinor: i.unitPrice,
+    totalMinor: i.quantity * i.unitPrice,
+  }));
   const totalMinor = lineItems.reduce((sum, i) => sum + i.totalMinor, 0);
   if (totalMinor <= 0) return { ok: false, fieldErrors: { items: ["The quote's total must be above zero."] } };
   if (totalMinor > 2_000_000_000) return { ok: false, fieldErrors: { items: ["The total is too large."] } };
@@ -126,7 +142,17 @@ export async function sendQuote(request: MarketRequest, labId: string, userId: s
         createdBy: userId,
       })
       .returning({ id: schema.quotes.id });
-    await audit({ actorUserId: userId, organisationId: labId, action: "quote_sent", subjectType: "quote", subjectId: row.id, details: { requestId: request.id, totalMinor } }, tx);
+    await audit(
+      {
+        actorUserId: userId,
+        organisationId: labId,
+        action: "quote_sent",
+        subjectType: "quote",
+        subjectId: row.id,
+        details: { requestId: request.id, totalMinor },
+      },
+      tx,
+    );
     await notify(tx, { kind: "quote_received", quoteId: row.id });
     return row;
   });
@@ -137,7 +163,10 @@ export async function sendQuote(request: MarketRequest, labId: string, userId: s
 export async function labQuoteOf(quoteId: string | undefined, labId: string) {
   if (!isUuid(quoteId)) return null;
   await lapseExpiredQuotes();
-  const [row] = await db.select().from(schema.quotes).where(and(eq(schema.quotes.id, quoteId), eq(schema.quotes.labId, labId)));
+  const [row] = await db
+    .select()
+    .from(schema.quotes)
+    .where(and(eq(schema.quotes.id, quoteId), eq(schema.quotes.labId, labId)));
   return row ?? null;
 }
 
@@ -217,7 +246,10 @@ export async function acceptQuote(requestId: string, quoteId: string, organisati
   const now = new Date();
   try {
     return await db.transaction(async (tx) => {
-      const [quote] = await tx.select().from(schema.quotes).where(and(eq(schema.quotes.id, quoteId), eq(schema.quotes.requestId, requestId)));
+      const [quote] = await tx
+        .select()
+        .from(schema.quotes)
+        .where(and(eq(schema.quotes.id, quoteId), eq(schema.quotes.requestId, requestId)));
       if (!quote) return { ok: false, error: "That quote is not on this request." } as const;
       const [request] = await tx
         .select()
@@ -239,10 +271,23 @@ export async function acceptQuote(requestId: string, quoteId: string, organisati
       await tx.update(schema.requests).set({ state: "awarded", updatedAt: now }).where(eq(schema.requests.id, request.id));
       const [order] = await tx
         .insert(schema.orders)
-        .values({ requestId: request.id, quoteId: quote.id, clientOrganisationId: organisationId, labId: quote.labId, amountMinor: quote.totalMinor, currency: quote.currency, platformFeeBps: config.payments.platformFeeBps })
+        .values({
+          requestId: request.id,
+          quoteId: quote.id,
+          clientOrganisationId: organisationId,
+          labId: quote.labId,
+          amountMinor: quote.totalMinor,
+          currency: quote.currency,
+          platformFeeBps: config.payments.platformFeeBps,
+        })
         .returning({ id: schema.orders.id });
-      await tx.insert(schema.orderEvents).values({ orderId: order.id, fromState: null, toState: "awaiting_payment", actorUserId: userId, note: "Quote accepted" });
-      await audit({ actorUserId: userId, organisationId, action: "quote_accepted", subjectType: "quote", subjectId: quote.id, details: { orderId: order.id } }, tx);
+      await tx
+        .insert(schema.orderEvents)
+        .values({ orderId: order.id, fromState: null, toState: "awaiting_payment", actorUserId: userId, note: "Quote accepted" });
+      await audit(
+        { actorUserId: userId, organisationId, action: "quote_accepted", subjectType: "quote", subjectId: quote.id, details: { orderId: order.id } },
+        tx,
+      );
       await notify(tx, { kind: "quote_decided", acceptedQuoteId: quote.id, orderId: order.id });
       return { ok: true, orderId: order.id } as const;
     });

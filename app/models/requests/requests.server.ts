@@ -35,7 +35,13 @@ export async function requestTitleOf(requestId: string): Promise<string | null> 
 export async function requestsWithClients(requestIds: string[]) {
   if (requestIds.length === 0) return [];
   return db
-    .select({ id: schema.requests.id, title: schema.requests.title, deadline: schema.requests.deadline, openedAt: schema.requests.openedAt, client: schema.organisations.name })
+    .select({
+      id: schema.requests.id,
+      title: schema.requests.title,
+      deadline: schema.requests.deadline,
+      openedAt: schema.requests.openedAt,
+      client: schema.organisations.name,
+    })
     .from(schema.requests)
     .innerJoin(schema.organisations, eq(schema.organisations.id, schema.requests.organisationId))
     .where(inArray(schema.requests.id, requestIds));
@@ -46,7 +52,10 @@ export async function samplesOf(requestId: string): Promise<Sample[]> {
 }
 
 export async function invitedLabIds(requestId: string) {
-  const rows = await db.select({ labId: schema.requestInvitations.labId }).from(schema.requestInvitations).where(eq(schema.requestInvitations.requestId, requestId));
+  const rows = await db
+    .select({ labId: schema.requestInvitations.labId })
+    .from(schema.requestInvitations)
+    .where(eq(schema.requestInvitations.requestId, requestId));
   return rows.map((r) => r.labId);
 }
 
@@ -64,7 +73,13 @@ export async function listOrganisationRequests(organisationId: string, page = 1)
   const pageCount = Math.max(1, Math.ceil(total / REQUESTS_PAGE_SIZE));
   const current = Math.min(Math.max(1, page), pageCount);
   const requests = await requestsPage.execute({ organisationId, limit: REQUESTS_PAGE_SIZE, offset: (current - 1) * REQUESTS_PAGE_SIZE });
-  return { requests, page: current, pageCount, total, countByState: Object.fromEntries(byState.map((s) => [s.state, s.n])) as Partial<Record<MarketRequest["state"], number>> };
+  return {
+    requests,
+    page: current,
+    pageCount,
+    total,
+    countByState: Object.fromEntries(byState.map((s) => [s.state, s.n])) as Partial<Record<MarketRequest["state"], number>>,
+  };
 }
 
 // The requests list is a client's most visited screen: both of its queries are named prepared statements.
@@ -287,7 +302,10 @@ export async function publishRequest(request: MarketRequest, userId: string): Pr
       .where(and(eq(schema.requests.id, request.id), eq(schema.requests.state, "draft")))
       .returning({ id: schema.requests.id });
     if (rows.length === 0) return false;
-    await audit({ actorUserId: userId, organisationId: request.organisationId, action: "request_published", subjectType: "request", subjectId: request.id }, tx);
+    await audit(
+      { actorUserId: userId, organisationId: request.organisationId, action: "request_published", subjectType: "request", subjectId: request.id },
+      tx,
+    );
     await notify(tx, { kind: "request_open", requestId: request.id, labIds });
     return true;
   });
@@ -298,7 +316,10 @@ export async function publishRequest(request: MarketRequest, userId: string): Pr
 /** Who hears of a newly open request: the invited labs of an invited-only request, else every matching lab. */
 async function labsToTell(request: MarketRequest): Promise<string[]> {
   if (request.visibility !== "invited") return labsMatchingRequest(request.id);
-  const invited = await db.select({ labId: schema.requestInvitations.labId }).from(schema.requestInvitations).where(eq(schema.requestInvitations.requestId, request.id));
+  const invited = await db
+    .select({ labId: schema.requestInvitations.labId })
+    .from(schema.requestInvitations)
+    .where(eq(schema.requestInvitations.requestId, request.id));
   return invited.map((i) => i.labId);
 }
 

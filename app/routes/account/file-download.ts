@@ -5,7 +5,10 @@ import type { Route } from "./+types/file-download";
 
 export async function loader({ request, params, context }: Route.LoaderArgs) {
   const actor = await requireUser(request);
-  const found = await fileForOrganisations(params.fileId, actor.memberships.map((m) => m.organisation.id));
+  const found = await fileForOrganisations(
+    params.fileId,
+    actor.memberships.map((m) => m.organisation.id),
+  );
   if (!found || !downloadable(found.file, found.side)) notFound("No such file for your organisations.");
   const url = await downloadUrl(found.file, { userId: actor.user.id, clientAddress: context.clientAddress ?? null });
   return new Response(null, { status: 302, headers: { Location: url, "Cache-Control": "private, no-store" } });

@@ -62,7 +62,8 @@ export default function NotificationSettings({ loaderData, actionData }: Route.C
           </ul>
         </fieldset>
         <p id="essential-note" className="mt-3 text-xs text-ink-500">
-          Messages marked “always” concern money, disputes or the safe handling of samples and cannot be turned off. Every message also appears in the list below.
+          Messages marked “always” concern money, disputes or the safe handling of samples and cannot be turned off. Every message also appears in the list
+          below.
         </p>
         <div className="mt-4 h-6">
           <FormError errors={actionData?.error ? [actionData.error] : undefined} />
@@ -70,11 +71,11 @@ export default function NotificationSettings({ loaderData, actionData }: Route.C
         <SubmitButton pendingText="Saving…">Save e-mail settings</SubmitButton>
       </Form>
       <section className="mt-8">
-        <h2 className="mb-3 text-lg font-semibold">
-          Recent notifications {list.unread ? <Badge tone="brand">{list.unread} unread</Badge> : null}
-        </h2>
+        <h2 className="mb-3 text-lg font-semibold">Recent notifications {list.unread ? <Badge tone="brand">{list.unread} unread</Badge> : null}</h2>
         {list.items.length === 0 ? (
-          <p className="text-sm text-ink-500">Nothing yet. Quotes, orders, payments and scan checks that concern you are announced here and, as set above, by e-mail.</p>
+          <p className="text-sm text-ink-500">
+            Nothing yet. Quotes, orders, payments and scan checks that concern you are announced here and, as set above, by e-mail.
+          </p>
         ) : (
           <ul className="card divide-y divide-ink-100 p-0">
             {list.items.map((n) => (

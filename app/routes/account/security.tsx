@@ -17,7 +17,8 @@ import { enrolmentPicture, groupedSecret } from "~/models/accounts/totp.server";
 import type { Route } from "./+types/security";
 import { useFormat } from "~/components/locale";
 
-const codeField = () => z.string({ error: "Enter the 6-digit code from your authenticator app." }).trim().max(20, "Enter the 6-digit code from your authenticator app.");
+const codeField = () =>
+  z.string({ error: "Enter the 6-digit code from your authenticator app." }).trim().max(20, "Enter the 6-digit code from your authenticator app.");
 
 const ChangePasswordSchema = newPasswordPair({ intent: z.literal("change-password"), currentPassword: currentPasswordField() });
 const StartSchema = z.object({ intent: z.literal("enrol-start") });
@@ -163,7 +164,10 @@ export default function AccountSecurity({ loaderData: page, actionData: answer }
       </p>
       <PageHeader title="Account security" subtitle={`Password and second factor for ${page.email}.`} />
       {required ? (
-        <p role={params.get("enrol") === "required" ? "alert" : undefined} className="mb-6 rounded-lg border border-caution-600 bg-caution-50 px-4 py-3 text-sm text-caution-700">
+        <p
+          role={params.get("enrol") === "required" ? "alert" : undefined}
+          className="mb-6 rounded-lg border border-caution-600 bg-caution-50 px-4 py-3 text-sm text-caution-700"
+        >
           Platform admins need a second factor. Set it up below; admin screens open once it is on.
         </p>
       ) : null}
@@ -200,7 +204,9 @@ export default function AccountSecurity({ loaderData: page, actionData: answer }
           </div>
         ) : page.totp.state === "enrolling" ? (
           <div className="mt-2 space-y-4">
-            <p className="text-sm text-ink-600">Scan this code with an authenticator app (any app for time-based codes), or type the key into it. Then enter the code the app shows.</p>
+            <p className="text-sm text-ink-600">
+              Scan this code with an authenticator app (any app for time-based codes), or type the key into it. Then enter the code the app shows.
+            </p>
             <div className="flex flex-col gap-4 sm:flex-row sm:items-start">
               <img src={page.totp.qr} alt="QR code of the authenticator set-up key" width={192} height={192} className="rounded-lg border border-ink-200" />
               <div className="space-y-3">

@@ -14,7 +14,10 @@ function describeDetails(details: Record<string, unknown>, currency: string | nu
   return Object.entries(details)
     .filter(([, v]) => v !== null && v !== undefined && v !== false && v !== "")
     .map(([k, v]) => {
-      const label = k.replace(/Minor$/, "").replace(/([A-Z])/g, " $1").toLowerCase();
+      const label = k
+        .replace(/Minor$/, "")
+        .replace(/([A-Z])/g, " $1")
+        .toLowerCase();
       if (k.endsWith("Minor") && typeof v === "number") return `${label} ${(v / 100).toFixed(2)}${currency ? ` ${currency}` : ""}`;
       const text = typeof v === "string" ? v : JSON.stringify(v);
       return `${label}: ${text.length > 200 ? `${text.slice(0, 200)}…` : text}`;
@@ -40,31 +43,31 @@ export default function AuditLog({ loaderData }: Route.ComponentProps) {
         <EmptyState title="Nothing recorded yet">Entries appear as people sign in and work; nothing needs doing here.</EmptyState>
       ) : (
         <>
-        <SortableTable
-          columns={[
-            { label: "When", sort: "at", firstDir: "desc" },
-            { label: "Who", sort: "who" },
-            { label: "What", sort: "action" },
-            { label: "Organisation" },
-            { label: "Details" },
-            { label: "From" },
-          ]}
-          sort={sort}
-          dir={dir}
-          caption="Audit log entries"
-        >
-          {entries.map((e) => (
-            <tr key={e.id}>
-              <td className="whitespace-nowrap">{fmt.dateTime(e.at)}</td>
-              <td>{e.actor ?? "—"}</td>
-              <td className="font-mono text-xs">{e.action}</td>
-              <td>{e.organisation ?? "—"}</td>
-              <td className="max-w-96 text-xs break-words text-ink-700">{e.details || "—"}</td>
-              <td className="font-mono text-xs">{e.clientAddress ?? "—"}</td>
-            </tr>
-          ))}
-        </SortableTable>
-        <PageNav info={info} noun={["entry", "entries"]} />
+          <SortableTable
+            columns={[
+              { label: "When", sort: "at", firstDir: "desc" },
+              { label: "Who", sort: "who" },
+              { label: "What", sort: "action" },
+              { label: "Organisation" },
+              { label: "Details" },
+              { label: "From" },
+            ]}
+            sort={sort}
+            dir={dir}
+            caption="Audit log entries"
+          >
+            {entries.map((e) => (
+              <tr key={e.id}>
+                <td className="whitespace-nowrap">{fmt.dateTime(e.at)}</td>
+                <td>{e.actor ?? "—"}</td>
+                <td className="font-mono text-xs">{e.action}</td>
+                <td>{e.organisation ?? "—"}</td>
+                <td className="max-w-96 text-xs break-words text-ink-700">{e.details || "—"}</td>
+                <td className="font-mono text-xs">{e.clientAddress ?? "—"}</td>
+              </tr>
+            ))}
+          </SortableTable>
+          <PageNav info={info} noun={["entry", "entries"]} />
         </>
       )}
     </div>

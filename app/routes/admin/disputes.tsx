@@ -45,7 +45,8 @@ export async function loader({ request }: Route.LoaderArgs) {
         feeBps: r.order.platformFeeBps,
         // What the lab would get from an even split, as an example beside the form.
         halfSplitPayoutMinor: heldMinor - refundHalf - platformFee(heldMinor - refundHalf, r.order.platformFeeBps),
-        decision: r.dispute.state === "resolved" ? { refundMinor: r.dispute.refundMinor, payoutMinor: r.dispute.payoutMinor, reason: r.dispute.decisionReason } : null,
+        decision:
+          r.dispute.state === "resolved" ? { refundMinor: r.dispute.refundMinor, payoutMinor: r.dispute.payoutMinor, reason: r.dispute.decisionReason } : null,
       };
     }),
   );
@@ -66,7 +67,8 @@ export async function action({ request, context }: Route.ActionArgs) {
   try {
     await resolveDispute(orderId, { userId: admin.user.id, clientAddress: context.clientAddress }, toMinorUnits(refund)!, reason);
   } catch (err) {
-    if (err instanceof PaymentProblem) return data({ orderId, result: submission.reply({ formErrors: [err.message] }) }, { status: err.status === 400 ? 400 : 409 });
+    if (err instanceof PaymentProblem)
+      return data({ orderId, result: submission.reply({ formErrors: [err.message] }) }, { status: err.status === 400 ? 400 : 409 });
     throw err;
   }
   return redirectWithToast("/admin/disputes", { kind: "success", message: "Dispute decided; the refund and payout are under way." });
@@ -138,12 +140,18 @@ export default function Disputes({ loaderData, actionData }: Route.ComponentProp
               </p>
               {d.decision ? (
                 <p className="mt-3 text-sm">
-                  Refunded {fmt.money(d.decision.refundMinor ?? 0, d.currency)}, paid to the lab {fmt.money(d.decision.payoutMinor ?? 0, d.currency)}. {d.decision.reason}
+                  Refunded {fmt.money(d.decision.refundMinor ?? 0, d.currency)}, paid to the lab {fmt.money(d.decision.payoutMinor ?? 0, d.currency)}.{" "}
+                  {d.decision.reason}
                 </p>
               ) : (
                 <Form method="post" id={`decide-${d.orderId}`} aria-label={`Decision on ${d.title}`} className="mt-4 grid gap-3 sm:grid-cols-[12rem_1fr]">
                   <input type="hidden" name="orderId" value={d.orderId} />
-                  <Field label={`Refund to the client (${d.currency})`} id={`refund-${d.orderId}`} errors={errorsFor(d.orderId).refund} hint={`The rest goes to the lab minus the ${d.feeBps / 100} % fee, e.g. a 50/50 split pays the lab ${fmt.money(d.halfSplitPayoutMinor, d.currency)}.`}>
+                  <Field
+                    label={`Refund to the client (${d.currency})`}
+                    id={`refund-${d.orderId}`}
+                    errors={errorsFor(d.orderId).refund}
+                    hint={`The rest goes to the lab minus the ${d.feeBps / 100} % fee, e.g. a 50/50 split pays the lab ${fmt.money(d.halfSplitPayoutMinor, d.currency)}.`}
+                  >
                     <input
                       id={`refund-${d.orderId}`}
                       name="refund"

@@ -138,7 +138,11 @@ export default function LabReview({ loaderData, actionData }: Route.ComponentPro
     <div className="space-y-6">
       <PageHeader
         title={lab.name}
-        subtitle={<Link to="/admin/vetting-queue" className="underline">Back to the vetting queue</Link>}
+        subtitle={
+          <Link to="/admin/vetting-queue" className="underline">
+            Back to the vetting queue
+          </Link>
+        }
         actions={<VettingBadge state={lab.state} />}
       />
       <section className="card" aria-label="Lab profile">
@@ -196,8 +200,8 @@ export default function LabReview({ loaderData, actionData }: Route.ComponentPro
           {decisions.includes("approve") && !inTolerance ? (
             <div className="rounded-lg border border-caution-600/30 bg-caution-50 p-4">
               <p className="text-sm text-caution-700">
-                The calibration deviation is outside ±{APPROVAL_TOLERANCE_A} Å (or the cell could not be refined). Approving needs an override with a
-                written reason; the override is written to the audit log.
+                The calibration deviation is outside ±{APPROVAL_TOLERANCE_A} Å (or the cell could not be refined). Approving needs an override with a written
+                reason; the override is written to the audit log.
               </p>
               <label className="mt-2 flex gap-2 text-sm">
                 <input {...getInputProps(fields.override, { type: "checkbox" })} />

@@ -21,8 +21,15 @@ export async function loader({ request }: Route.LoaderArgs) {
   if (!parsed.ok) return new Response(`${parsed.error}\n`, { status: 400, headers: { "Content-Type": "text/plain; charset=utf-8" } });
   const rows = await ledgerRows(parsed.filter, 100_000);
   const table = [["transaction_id", "created_at", "kind", "order_id", "account", "amount_minor", "currency", "provider_object_id", "memo"]];
-  for (const r of rows) table.push([r.id, new Date(r.created_at).toISOString(), r.kind, r.order_id, r.account, r.amount_minor, r.currency, r.provider_object_id, r.memo].map(formulaSafe));
+  for (const r of rows)
+    table.push(
+      [r.id, new Date(r.created_at).toISOString(), r.kind, r.order_id, r.account, r.amount_minor, r.currency, r.provider_object_id, r.memo].map(formulaSafe),
+    );
   return new Response(csvText(table), {
-    headers: { "Content-Type": "text/csv; charset=utf-8", "Content-Disposition": `attachment; filename="diffractory-ledger.csv"`, "Cache-Control": "private, no-store" },
+    headers: {
+      "Content-Type": "text/csv; charset=utf-8",
+      "Content-Disposition": `attachment; filename="diffractory-ledger.csv"`,
+      "Cache-Control": "private, no-store",
+    },
   });
 }

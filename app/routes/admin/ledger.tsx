@@ -121,31 +121,31 @@ export default function Ledger({ loaderData }: Route.ComponentProps) {
         <EmptyState title="No movements">Money movements appear here as clients pay, labs are paid and refunds go out.</EmptyState>
       ) : (
         <>
-        <SortableTable
-          columns={[
-            { label: "When", sort: "at", firstDir: "desc" },
-            { label: "Movement", sort: "kind" },
-            { label: "Order" },
-            { label: "Account" },
-            { label: "Amount", className: "text-right" },
-            { label: "Provider object" },
-          ]}
-          sort={sort}
-          dir={dir}
-          caption="Ledger entries"
-        >
-          {rows.map((r, i) => (
-            <tr key={`${r.id}-${i}`}>
-              <td className="whitespace-nowrap">{fmt.dateTime(r.created_at)}</td>
-              <td>{r.kind.replace("_", " ")}</td>
-              <td className="font-mono text-xs">{r.order_id?.slice(0, 8) ?? "—"}</td>
-              <td className="font-mono text-xs">{r.account}</td>
-              <td className={`text-right font-mono ${r.amount_minor < 0 ? "text-danger-700" : ""}`}>{fmt.money(r.amount_minor, r.currency)}</td>
-              <td className="font-mono text-xs">{r.provider_object_id}</td>
-            </tr>
-          ))}
-        </SortableTable>
-        <PageNav info={info} noun={["transaction", "transactions"]} />
+          <SortableTable
+            columns={[
+              { label: "When", sort: "at", firstDir: "desc" },
+              { label: "Movement", sort: "kind" },
+              { label: "Order" },
+              { label: "Account" },
+              { label: "Amount", className: "text-right" },
+              { label: "Provider object" },
+            ]}
+            sort={sort}
+            dir={dir}
+            caption="Ledger entries"
+          >
+            {rows.map((r, i) => (
+              <tr key={`${r.id}-${i}`}>
+                <td className="whitespace-nowrap">{fmt.dateTime(r.created_at)}</td>
+                <td>{r.kind.replace("_", " ")}</td>
+                <td className="font-mono text-xs">{r.order_id?.slice(0, 8) ?? "—"}</td>
+                <td className="font-mono text-xs">{r.account}</td>
+                <td className={`text-right font-mono ${r.amount_minor < 0 ? "text-danger-700" : ""}`}>{fmt.money(r.amount_minor, r.currency)}</td>
+                <td className="font-mono text-xs">{r.provider_object_id}</td>
+              </tr>
+            ))}
+          </SortableTable>
+          <PageNav info={info} noun={["transaction", "transactions"]} />
         </>
       )}
     </div>

@@ -41,7 +41,12 @@ export default function Outbox({ loaderData, actionData }: Route.ComponentProps)
       <PageHeader title="Outbox" subtitle="Every milestone e-mail passes through here. Parked messages failed on every retry and wait for you." />
       <nav aria-label="Outbox filter" className="mb-4 flex gap-2 text-sm">
         {STATUSES.map((s) => (
-          <Link key={s} to={`/admin/outbox?status=${s}`} className={`rounded-md px-3 py-1 ${s === status ? "bg-beam-50 font-medium text-beam-700" : "text-ink-700 hover:bg-ink-100"}`} aria-current={s === status ? "page" : undefined}>
+          <Link
+            key={s}
+            to={`/admin/outbox?status=${s}`}
+            className={`rounded-md px-3 py-1 ${s === status ? "bg-beam-50 font-medium text-beam-700" : "text-ink-700 hover:bg-ink-100"}`}
+            aria-current={s === status ? "page" : undefined}
+          >
             {s === "all" ? "All" : `${s[0].toUpperCase()}${s.slice(1)} (${counts[s] ?? 0})`}
           </Link>
         ))}
@@ -50,7 +55,9 @@ export default function Outbox({ loaderData, actionData }: Route.ComponentProps)
         <FormError errors={actionData?.error ? [actionData.error] : undefined} />
       </div>
       {rows.length === 0 ? (
-        <EmptyState title={status === "parked" ? "Nothing parked" : "No messages"}>{status === "parked" ? "Every message was delivered or is still being retried." : "No message has this status."}</EmptyState>
+        <EmptyState title={status === "parked" ? "Nothing parked" : "No messages"}>
+          {status === "parked" ? "Every message was delivered or is still being retried." : "No message has this status."}
+        </EmptyState>
       ) : (
         <TableCard columns={["Written", "To", "Subject", "Status", "Attempts", "Last error", ""]}>
           {rows.map((m) => (

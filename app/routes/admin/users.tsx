@@ -33,7 +33,12 @@ export default function Users({ loaderData }: Route.ComponentProps) {
       ) : (
         <>
           <SortableTable
-            columns={[{ label: "Name", sort: "name" }, { label: "E-mail", sort: "email" }, { label: "Organisations" }, { label: "Joined", sort: "joined", firstDir: "desc" }]}
+            columns={[
+              { label: "Name", sort: "name" },
+              { label: "E-mail", sort: "email" },
+              { label: "Organisations" },
+              { label: "Joined", sort: "joined", firstDir: "desc" },
+            ]}
             sort={sort}
             dir={dir}
             caption="People"

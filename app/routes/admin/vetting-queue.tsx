@@ -11,7 +11,12 @@ import { requireAdmin } from "~/utils/permissions.server";
 import { readTableQuery, sortAndPage, type TableSpec } from "~/utils/table";
 import type { Route } from "./+types/vetting-queue";
 
-const TABLE: TableSpec<"name" | "location" | "updated"> = { sorts: ["name", "location", "updated"], defaultSort: "updated", firstDir: { updated: "asc" }, pageSize: 50 };
+const TABLE: TableSpec<"name" | "location" | "updated"> = {
+  sorts: ["name", "location", "updated"],
+  defaultSort: "updated",
+  firstDir: { updated: "asc" },
+  pageSize: 50,
+};
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
@@ -42,12 +47,7 @@ export default function VettingQueue({ loaderData }: Route.ComponentProps) {
           next.set("state", s);
           next.delete("page");
           return (
-            <Link
-              key={s}
-              to={`?${next}`}
-              aria-current={s === state ? "page" : undefined}
-              className={s === state ? "btn-primary" : "btn-secondary"}
-            >
+            <Link key={s} to={`?${next}`} aria-current={s === state ? "page" : undefined} className={s === state ? "btn-primary" : "btn-secondary"}>
               {VETTING_STATE_BADGES[s].label} ({counts[s]})
             </Link>
           );
@@ -59,46 +59,46 @@ export default function VettingQueue({ loaderData }: Route.ComponentProps) {
         </EmptyState>
       ) : (
         <>
-        <SortableTable
-          caption={`Labs ${VETTING_STATE_BADGES[state].label}`}
-          columns={[
-            { label: "Lab", sort: "name" },
-            { label: "Location", sort: "location" },
-            { label: "State" },
-            { label: "Calibration" },
-            { label: "Last change", sort: "updated" },
-            { label: "Review" },
-          ]}
-          sort={sort}
-          dir={dir}
-        >
-          {labs.map((lab) => (
-            <tr key={lab.id}>
-              <td className="font-medium">{lab.name}</td>
-              <td>{[lab.city, lab.country].filter(Boolean).join(", ") || "—"}</td>
-              <td>
-                <VettingBadge state={lab.state} />
-              </td>
-              <td>
-                {lab.verdict ? (
-                  <span className="flex items-center gap-2">
-                    <VerdictBadge verdict={lab.verdict} />
-                    {lab.deviationA !== null ? <span className="font-mono text-xs">Δa {lab.deviationA.toFixed(6)} Å</span> : null}
-                  </span>
-                ) : (
-                  "no scan yet"
-                )}
-              </td>
-              <td className="whitespace-nowrap">{fmt.date(lab.updatedAt)}</td>
-              <td>
-                <Link to={`/admin/labs/${lab.id}`} className="font-semibold text-beam-700 underline">
-                  Review {lab.name}
-                </Link>
-              </td>
-            </tr>
-          ))}
-        </SortableTable>
-        <PageNav info={info} noun={["lab", "labs"]} />
+          <SortableTable
+            caption={`Labs ${VETTING_STATE_BADGES[state].label}`}
+            columns={[
+              { label: "Lab", sort: "name" },
+              { label: "Location", sort: "location" },
+              { label: "State" },
+              { label: "Calibration" },
+              { label: "Last change", sort: "updated" },
+              { label: "Review" },
+            ]}
+            sort={sort}
+            dir={dir}
+          >
+            {labs.map((lab) => (
+              <tr key={lab.id}>
+                <td className="font-medium">{lab.name}</td>
+                <td>{[lab.city, lab.country].filter(Boolean).join(", ") || "—"}</td>
+                <td>
+                  <VettingBadge state={lab.state} />
+                </td>
+                <td>
+                  {lab.verdict ? (
+                    <span className="flex items-center gap-2">
+                      <VerdictBadge verdict={lab.verdict} />
+                      {lab.deviationA !== null ? <span className="font-mono text-xs">Δa {lab.deviationA.toFixed(6)} Å</span> : null}
+                    </span>
+                  ) : (
+                    "no scan yet"
+                  )}
+                </td>
+                <td className="whitespace-nowrap">{fmt.date(lab.updatedAt)}</td>
+                <td>
+                  <Link to={`/admin/labs/${lab.id}`} className="font-semibold text-beam-700 underline">
+                    Review {lab.name}
+                  </Link>
+                </td>
+              </tr>
+            ))}
+          </SortableTable>
+          <PageNav info={info} noun={["lab", "labs"]} />
         </>
       )}
     </div>

@@ -11,10 +11,7 @@ type CheckResult = "ok" | string;
 async function timed(check: () => Promise<unknown>, ms = 3000): Promise<CheckResult> {
   let timer: ReturnType<typeof setTimeout> | undefined;
   try {
-    await Promise.race([
-      check(),
-      new Promise((_, reject) => (timer = setTimeout(() => reject(new Error(`no answer within ${ms} ms`)), ms))),
-    ]);
+    await Promise.race([check(), new Promise((_, reject) => (timer = setTimeout(() => reject(new Error(`no answer within ${ms} ms`)), ms)))]);
     return "ok";
   } catch (err) {
     // Drizzle wraps the driver's error ("Failed query: …"); the cause says what is wrong (refused, shutting down).

@@ -8,14 +8,15 @@ export async function loader({ request }: Route.LoaderArgs) {
   const actor = await requireUser(request);
   const organisation = actor.active?.organisation;
   if (!organisation) return Response.json({ error: "You belong to no organisation." }, { status: 403 });
-  const asked = new URL(request.url).searchParams.getAll("state").flatMap((s) => s.split(",")).map((s) => s.trim()).filter(Boolean);
+  const asked = new URL(request.url).searchParams
+    .getAll("state")
+    .flatMap((s) => s.split(","))
+    .map((s) => s.trim())
+    .filter(Boolean);
   const unknown = asked.filter((s) => !ORDER_STATES.includes(s as OrderState));
   if (unknown.length) {
     return Response.json({ error: `Unknown state "${unknown[0]}"; use one of ${ORDER_STATES.join(", ")}.` }, { status: 400 });
   }
   const rows = await ordersInStates(organisation.kind === "lab" ? "lab" : "client", organisation.id, asked as OrderState[]);
-  return Response.json(
-    { orders: rows.map((r) => ({ ...r, updatedAt: r.updatedAt.toISOString() })) },
-    { headers: { "Cache-Control": "private, no-store" } },
-  );
+  return Response.json({ orders: rows.map((r) => ({ ...r, updatedAt: r.updatedAt.toISOString() })) }, { headers: { "Cache-Control": "private, no-store" } });
 }

@@ -60,15 +60,34 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   if (value.intent === "share") {
     const expiresAt = new Date(Date.now() + value.days * 86_400_000);
     const { link, token } = await createShareLink({ orderId: order.id, organisationId, userId: actor.user.id, label: value.label, expiresAt });
-    await audit({ actorUserId: actor.user.id, organisationId, action: "share_link_created", subjectType: "share_link", subjectId: link.id, details: { orderId: order.id, label: value.label, expiresAt }, clientAddress: context.clientAddress });
+    await audit({
+      actorUserId: actor.user.id,
+      organisationId,
+      action: "share_link_created",
+      subjectType: "share_link",
+      subjectId: link.id,
+      details: { orderId: order.id, label: value.label, expiresAt },
+      clientAddress: context.clientAddress,
+    });
     // The token is shown this once; only its SHA-256 is stored.
-    return data({ result: submission.reply({ resetForm: true }), shared: { url: `${config.appUrl}/shared/${token}`, label: link.label, expiresAt: link.expiresAt.toISOString() } });
+    return data({
+      result: submission.reply({ resetForm: true }),
+      shared: { url: `${config.appUrl}/shared/${token}`, label: link.label, expiresAt: link.expiresAt.toISOString() },
+    });
   }
   if (value.intent === "revoke") {
     if (!(await revokeShareLink(order.id, value.linkId))) {
       return data({ result: submission.reply({ formErrors: ["That link is already revoked or is not one of this order's."] }), shared: null }, { status: 400 });
     }
-    await audit({ actorUserId: actor.user.id, organisationId, action: "share_link_revoked", subjectType: "share_link", subjectId: value.linkId, details: { orderId: order.id }, clientAddress: context.clientAddress });
+    await audit({
+      actorUserId: actor.user.id,
+      organisationId,
+      action: "share_link_revoked",
+      subjectType: "share_link",
+      subjectId: value.linkId,
+      details: { orderId: order.id },
+      clientAddress: context.clientAddress,
+    });
     return redirectWithToast(here, { kind: "success", message: "Share link revoked; it no longer opens this data room." });
   }
   if (actor.membership.role !== "owner") {
@@ -79,8 +98,19 @@ export async function action({ request, params, context }: Route.ActionArgs) {
     return data({ result: submission.reply({ formErrors: ["That file is not in this data room."] }), shared: null }, { status: 400 });
   }
   await softDeleteFile(file, actor.user.id);
-  await audit({ actorUserId: actor.user.id, organisationId, action: "order_file_deleted", subjectType: "order_file", subjectId: file.id, details: { orderId: order.id, name: file.name, version: file.version }, clientAddress: context.clientAddress });
-  return redirectWithToast(here, { kind: "success", message: `${file.name} v${file.version} deleted from the data room; the lab's copy is kept for ${RETENTION_YEARS} years.` });
+  await audit({
+    actorUserId: actor.user.id,
+    organisationId,
+    action: "order_file_deleted",
+    subjectType: "order_file",
+    subjectId: file.id,
+    details: { orderId: order.id, name: file.name, version: file.version },
+    clientAddress: context.clientAddress,
+  });
+  return redirectWithToast(here, {
+    kind: "success",
+    message: `${file.name} v${file.version} deleted from the data room; the lab's copy is kept for ${RETENTION_YEARS} years.`,
+  });
 }
 
 export default function DataRoomOrder({ loaderData, actionData }: Route.ComponentProps) {
@@ -104,8 +134,14 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
         title={order.title}
         subtitle={
           <>
-            {order.lab} · <Link to="/client/data-room" className="underline">Data room</Link> ·{" "}
-            <Link to={`/client/orders/${order.id}`} className="underline">Order</Link>
+            {order.lab} ·{" "}
+            <Link to="/client/data-room" className="underline">
+              Data room
+            </Link>{" "}
+            ·{" "}
+            <Link to={`/client/orders/${order.id}`} className="underline">
+              Order
+            </Link>
           </>
         }
         actions={<OrderStateBadge state={order.state} />}
@@ -113,10 +149,12 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
       <FormError errors={form.errors} />
 
       <section aria-labelledby="files-heading" className="space-y-2">
-        <h2 id="files-heading" className="text-lg font-semibold">Files</h2>
+        <h2 id="files-heading" className="text-lg font-semibold">
+          Files
+        </h2>
         <p className="text-xs text-ink-600">
-          Every version is kept. A download link is valid for {Math.round(DOWNLOAD_URL_SECONDS / 60)} minutes and each download is logged.
-          Deleting hides a file here; the bytes are kept for {RETENTION_YEARS} years.
+          Every version is kept. A download link is valid for {Math.round(DOWNLOAD_URL_SECONDS / 60)} minutes and each download is logged. Deleting hides a file
+          here; the bytes are kept for {RETENTION_YEARS} years.
         </p>
         {files.length === 0 ? (
           <EmptyState title="No files delivered yet">The lab's scans and report appear here as soon as they are uploaded and verified.</EmptyState>
@@ -145,10 +183,12 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
       </section>
 
       <section aria-labelledby="share-heading" className="space-y-3">
-        <h2 id="share-heading" className="text-lg font-semibold">Share links</h2>
+        <h2 id="share-heading" className="text-lg font-semibold">
+          Share links
+        </h2>
         <p className="text-sm text-ink-600">
-          A read-only link for a colleague outside the organisation: they see this order's files and can download them, without signing in,
-          until the link expires or you revoke it. Every use is logged below.
+          A read-only link for a colleague outside the organisation: they see this order's files and can download them, without signing in, until the link
+          expires or you revoke it. Every use is logged below.
         </p>
         <Form method="post" className="card grid gap-4 sm:grid-cols-[1fr_10rem_auto] sm:items-start" {...getFormProps(form)}>
           <input type="hidden" name="intent" value="share" />
@@ -181,12 +221,12 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
                 </td>
                 <td className="text-xs">{fmt.dateTime(l.expiresAt)}</td>
                 <td>
-                  <Badge tone={l.status === "active" ? "ok" : "neutral"}>{l.status === "active" ? "Active" : l.status === "expired" ? "Expired" : "Revoked"}</Badge>
+                  <Badge tone={l.status === "active" ? "ok" : "neutral"}>
+                    {l.status === "active" ? "Active" : l.status === "expired" ? "Expired" : "Revoked"}
+                  </Badge>
                 </td>
                 <td className="text-right">
-                  {l.status === "active" ? (
-                    <RevokeButton field="linkId" id={l.id} label={`Revoke the link for ${l.label}`} busy={busy} />
-                  ) : null}
+                  {l.status === "active" ? <RevokeButton field="linkId" id={l.id} label={`Revoke the link for ${l.label}`} busy={busy} /> : null}
                 </td>
               </tr>
             ))}
@@ -195,7 +235,9 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
       </section>
 
       <section aria-labelledby="log-heading" className="space-y-2">
-        <h2 id="log-heading" className="text-lg font-semibold">Access log</h2>
+        <h2 id="log-heading" className="text-lg font-semibold">
+          Access log
+        </h2>
         {accessLog.length === 0 ? (
           <p className="text-sm text-ink-600">Nobody has downloaded a file of this order yet.</p>
         ) : (

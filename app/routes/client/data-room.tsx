@@ -13,7 +13,14 @@ export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
   const orders = await ordersOf("client", membership.organisation.id, 200);
   const withFiles = await Promise.all(
-    orders.map(async (o) => ({ id: o.id, state: o.state, title: o.title, lab: o.counterpart, updatedAt: o.updatedAt, files: await orderFileList(o.id, { side: "client" }) })),
+    orders.map(async (o) => ({
+      id: o.id,
+      state: o.state,
+      title: o.title,
+      lab: o.counterpart,
+      updatedAt: o.updatedAt,
+      files: await orderFileList(o.id, { side: "client" }),
+    })),
   );
   return { organisation: membership.organisation.name, orders: withFiles.filter((o) => o.files.length > 0) };
 }

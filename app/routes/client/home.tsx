@@ -33,17 +33,17 @@ export default function ClientHome({ loaderData }: Route.ComponentProps) {
               </p>
             </>
           ) : (
-          <EmptyState
-            title="No requests yet"
-            action={
-              <Link to="/labs" className="btn-primary">
-                Find a lab
-              </Link>
-            }
-          >
-            Start by posting a measurement request: your samples, their declared phase and approximate cell, a hazard declaration for each,
-            and the measurement you need.
-          </EmptyState>
+            <EmptyState
+              title="No requests yet"
+              action={
+                <Link to="/labs" className="btn-primary">
+                  Find a lab
+                </Link>
+              }
+            >
+              Start by posting a measurement request: your samples, their declared phase and approximate cell, a hazard declaration for each, and the
+              measurement you need.
+            </EmptyState>
           )}
         </div>
         <SafetyNotice />

@@ -13,7 +13,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   // The webhook may not have arrived yet; asking the provider here means the client sees the truth now.
   try {
     const result = await syncCheckout(sessionId);
-    if (result.state === "paid") return redirectWithToast(back, { kind: "success", message: "Payment received. The money is held until you accept the delivery." });
+    if (result.state === "paid")
+      return redirectWithToast(back, { kind: "success", message: "Payment received. The money is held until you accept the delivery." });
     if (result.state === "declined") return redirectWithToast(back, { kind: "error", message: `The payment was declined: ${result.reason}` });
     return redirectWithToast(back, { kind: "info", message: "The payment is not complete yet." });
   } catch (err) {

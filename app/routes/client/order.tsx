@@ -25,11 +25,23 @@ const clientOrder = (request: Request, orderId: string) => requireOrderSide(requ
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await clientOrder(request, params.id);
-  const [title, labName, payment, timeline] = await Promise.all([requestTitleOf(order.requestId), organisationNameOf(order.labId), latestPaymentOf(order.id), orderTimeline(order.id)]);
+  const [title, labName, payment, timeline] = await Promise.all([
+    requestTitleOf(order.requestId),
+    organisationNameOf(order.labId),
+    latestPaymentOf(order.id),
+    orderTimeline(order.id),
+  ]);
   const dispute = await disputeOf(order.id);
   const shipment = await shipmentOf(order.id);
   return {
-    order: { id: order.id, state: order.state, amountMinor: order.amountMinor, currency: order.currency, reviewWindowDays: order.reviewWindowDays, deliveredAt: order.deliveredAt },
+    order: {
+      id: order.id,
+      state: order.state,
+      amountMinor: order.amountMinor,
+      currency: order.currency,
+      reviewWindowDays: order.reviewWindowDays,
+      deliveredAt: order.deliveredAt,
+    },
     request: title === null ? undefined : { id: order.requestId, title },
     labName: labName ?? "",
     declined: order.state === "awaiting_payment" && payment?.lastError ? payment.lastError : null,
@@ -52,7 +64,14 @@ const OrderAction = z.discriminatedUnion("intent", [
       .trim()
       .regex(/^[A-Za-z0-9][A-Za-z0-9 -]{3,40}$/, "A tracking number has 4–40 letters, digits, spaces or dashes."),
   }),
-  z.object({ intent: z.literal("dispute"), reason: z.string({ error: "Say what is wrong with the delivery." }).trim().min(10, "Say in a sentence or two what is wrong (at least 10 characters).").max(2000) }),
+  z.object({
+    intent: z.literal("dispute"),
+    reason: z
+      .string({ error: "Say what is wrong with the delivery." })
+      .trim()
+      .min(10, "Say in a sentence or two what is wrong (at least 10 characters).")
+      .max(2000),
+  }),
 ]);
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -68,7 +87,10 @@ export async function action({ request, params }: Route.ActionArgs) {
     }
     if (v.intent === "ship") {
       await markShipped(order.id, actor.user.id, v.carrier, v.trackingNumber);
-      return redirectWithToast(`/client/orders/${order.id}`, { kind: "success", message: "Marked shipped. The lab checks the parcel against its declaration on arrival." });
+      return redirectWithToast(`/client/orders/${order.id}`, {
+        kind: "success",
+        message: "Marked shipped. The lab checks the parcel against its declaration on arrival.",
+      });
     }
     if (v.intent === "accept") {
       try {
@@ -117,9 +139,7 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
           </h2>
           {order.state === "awaiting_payment" ? (
             <div className="mt-3 space-y-3">
-              <p className="text-sm text-ink-700">
-                Pay the quote total. Diffractory holds it until you accept the delivered data; the lab is paid only then.
-              </p>
+              <p className="text-sm text-ink-700">Pay the quote total. Diffractory holds it until you accept the delivered data; the lab is paid only then.</p>
               {declined ? (
                 <p role="alert" className="rounded-lg border border-danger-600/30 bg-danger-50 p-3 text-sm text-danger-700">
                   The last payment attempt was declined: {declined}
@@ -157,15 +177,18 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
                   Mark samples shipped
                 </button>
                 <p id="ship-errors" className="min-h-5 text-xs text-danger-700 sm:col-span-3">
-                  {[...((actionData?.result?.error?.carrier as string[] | undefined) ?? []), ...((actionData?.result?.error?.trackingNumber as string[] | undefined) ?? [])].join(" ")}
+                  {[
+                    ...((actionData?.result?.error?.carrier as string[] | undefined) ?? []),
+                    ...((actionData?.result?.error?.trackingNumber as string[] | undefined) ?? []),
+                  ].join(" ")}
                 </p>
               </Form>
             </div>
           ) : canMove(order.state, "accepted", "client") ? (
             <div className="mt-3 space-y-4">
               <p className="text-sm text-ink-700">
-                The data is in your data room. Accept the delivery to pay the lab, or open a dispute. Without either,
-                the delivery is accepted automatically {order.reviewWindowDays} days after it arrived.
+                The data is in your data room. Accept the delivery to pay the lab, or open a dispute. Without either, the delivery is accepted automatically{" "}
+                {order.reviewWindowDays} days after it arrived.
               </p>
               <Form method="post">
                 <button type="submit" name="intent" value="accept" className="btn-primary" disabled={busy}>
@@ -189,7 +212,8 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
               {order.state === "paid_out" && "Delivery accepted and the lab paid. The data stays in your data room."}
               {order.state === "cancelled" && "This order is cancelled."}
               {order.state === "refused_on_arrival" && "The lab refused the parcel on arrival; the payment was refunded minus the handling fee."}
-              {["samples_in_transit", "samples_received", "measuring", "accepted"].includes(order.state) && "The lab is working on it; the timeline shows each step."}
+              {["samples_in_transit", "samples_received", "measuring", "accepted"].includes(order.state) &&
+                "The lab is working on it; the timeline shows each step."}
               {shipment ? ` Shipped with ${shipment.carrier}, tracking ${shipment.trackingNumber}.` : ""}
             </p>
           )}

@@ -41,8 +41,8 @@ export default function PackingSlip({ loaderData }: Route.ComponentProps) {
       <h1 className="mt-6 mb-3 text-lg font-semibold">Samples and declared hazards</h1>
       <OrderSamples samples={samples} />
       <p className="mt-6 text-xs text-ink-600">
-        The carrier's dangerous-goods rules and the applicable transport regulations decide how hazardous samples are
-        packed, labelled and shipped; this slip does not classify goods for transport.
+        The carrier's dangerous-goods rules and the applicable transport regulations decide how hazardous samples are packed, labelled and shipped; this slip
+        does not classify goods for transport.
       </p>
     </article>
   );

@@ -11,7 +11,19 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!isUuid(params.id)) notFound("No such payment.");
   const row = await paidReceipt(params.id, membership.organisation.id);
   if (!row) notFound("No such payment in your organisation.");
-  return { receipt: { id: row.payment.id, chargeId: row.payment.chargeId, at: row.payment.updatedAt, amountMinor: row.payment.amountMinor, currency: row.payment.currency, title: row.title, lab: row.lab, lines: row.quote.lineItems, client: membership.organisation.name } };
+  return {
+    receipt: {
+      id: row.payment.id,
+      chargeId: row.payment.chargeId,
+      at: row.payment.updatedAt,
+      amountMinor: row.payment.amountMinor,
+      currency: row.payment.currency,
+      title: row.title,
+      lab: row.lab,
+      lines: row.quote.lineItems,
+      client: membership.organisation.name,
+    },
+  };
 }
 
 export default function Receipt({ loaderData }: Route.ComponentProps) {

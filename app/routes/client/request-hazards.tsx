@@ -107,8 +107,17 @@ function SampleHazards({
         <legend className="label">GHS pictograms</legend>
         <div className="grid gap-2 sm:grid-cols-3">
           {GHS_PICTOGRAMS.map((p) => (
-            <label key={p.code} className="flex cursor-pointer items-center gap-2 rounded-lg border border-ink-200 p-2 has-[:checked]:border-beam-500 has-[:checked]:bg-beam-50">
-              <input type="checkbox" name={f.ghs.name} value={p.code} defaultChecked={chosen.has(p.code)} aria-label={`${p.code} ${p.name} (${sample.label})`} />
+            <label
+              key={p.code}
+              className="flex cursor-pointer items-center gap-2 rounded-lg border border-ink-200 p-2 has-[:checked]:border-beam-500 has-[:checked]:bg-beam-50"
+            >
+              <input
+                type="checkbox"
+                name={f.ghs.name}
+                value={p.code}
+                defaultChecked={chosen.has(p.code)}
+                aria-label={`${p.code} ${p.name} (${sample.label})`}
+              />
               <GhsIcon code={p.code} className="h-8 w-8" />
               <span className="text-xs">
                 <span className="font-mono">{p.code}</span> {p.name}
@@ -118,7 +127,12 @@ function SampleHazards({
         </div>
         <FieldErrors id={`${f.ghs.id}-error`} errors={f.ghs.errors} />
       </fieldset>
-      <Field label={`H-statements of ${sample.label}`} id={f.hStatements.id} errors={f.hStatements.errors} hint="Codes from the safety data sheet, separated by commas: H302, H315, H302+H312.">
+      <Field
+        label={`H-statements of ${sample.label}`}
+        id={f.hStatements.id}
+        errors={f.hStatements.errors}
+        hint="Codes from the safety data sheet, separated by commas: H302, H315, H302+H312."
+      >
         <input className="input font-mono" {...getInputProps(f.hStatements, { type: "text" })} />
       </Field>
       <fieldset>
@@ -129,16 +143,32 @@ function SampleHazards({
             return (
               <div key={c.code} className="grid items-start gap-2 sm:grid-cols-[12rem_1fr_12rem]">
                 <label className="flex items-center gap-2 pt-2 text-sm">
-                  <input type="checkbox" name={entry.declared.name} defaultChecked={entry.declared.initialValue === "on"} aria-label={`${c.label} (${sample.label})`} />
+                  <input
+                    type="checkbox"
+                    name={entry.declared.name}
+                    defaultChecked={entry.declared.initialValue === "on"}
+                    aria-label={`${c.label} (${sample.label})`}
+                  />
                   {c.label}
                 </label>
                 <div>
-                  <input className="input" placeholder="Details for the lab" aria-label={`${c.label} details (${sample.label})`} {...getInputProps(entry.details, { type: "text", ariaAttributes: true })} />
+                  <input
+                    className="input"
+                    placeholder="Details for the lab"
+                    aria-label={`${c.label} details (${sample.label})`}
+                    {...getInputProps(entry.details, { type: "text", ariaAttributes: true })}
+                  />
                   <FieldErrors id={`${entry.details.id}-error`} errors={entry.details.errors} />
                 </div>
                 {c.code === "radioactive" ? (
                   <div>
-                    <input className="input" inputMode="decimal" placeholder="Activity (Bq)" aria-label={`Activity in Bq (${sample.label})`} {...getInputProps(entry.activityBq, { type: "text" })} />
+                    <input
+                      className="input"
+                      inputMode="decimal"
+                      placeholder="Activity (Bq)"
+                      aria-label={`Activity in Bq (${sample.label})`}
+                      {...getInputProps(entry.activityBq, { type: "text" })}
+                    />
                     <FieldErrors id={`${entry.activityBq.id}-error`} errors={entry.activityBq.errors} />
                   </div>
                 ) : (

@@ -57,7 +57,10 @@ export default function RequestLabs({ loaderData, actionData }: Route.ComponentP
               { value: "open", title: "Every matching lab", body: "All approved labs that fit see the request in their inbox." },
               { value: "invited", title: "Invited labs only", body: "Only the labs you tick below see it." },
             ].map((o) => (
-              <label key={o.value} className="flex cursor-pointer gap-3 rounded-lg border border-ink-300 p-3 has-[:checked]:border-beam-500 has-[:checked]:bg-beam-50">
+              <label
+                key={o.value}
+                className="flex cursor-pointer gap-3 rounded-lg border border-ink-300 p-3 has-[:checked]:border-beam-500 has-[:checked]:bg-beam-50"
+              >
                 <input type="radio" name={fields.visibility.name} value={o.value} defaultChecked={defaults.visibility === o.value} className="mt-1" />
                 <span>
                   <span className="block text-sm font-semibold">{o.title}</span>

@@ -81,7 +81,12 @@ export default function RequestMeasurement({ loaderData, actionData }: Route.Com
               ))}
             </select>
           </Field>
-          <Field label="Temperature points (K)" id={fields.temperaturePoints.id} errors={fields.temperaturePoints.errors} hint="Empty for room temperature; e.g. 298, 573, 873.">
+          <Field
+            label="Temperature points (K)"
+            id={fields.temperaturePoints.id}
+            errors={fields.temperaturePoints.errors}
+            hint="Empty for room temperature; e.g. 298, 573, 873."
+          >
             <input className="input" {...getInputProps(fields.temperaturePoints, { type: "text" })} />
           </Field>
           <Field label="Atmosphere" id={fields.atmosphere.id} errors={fields.atmosphere.errors}>

@@ -16,7 +16,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
   const row = await requireOwnRequest(params.id, membership.organisation.id);
   if (row.state === "draft") throw redirect(`/client/requests/${row.id}/edit/${row.draftStep}`);
-  const [samples, quotes, matches, order] = await Promise.all([samplesOf(row.id), quotesForRequest(row.id), matchLabsForRequest(row.id), orderForRequest(row.id)]);
+  const [samples, quotes, matches, order] = await Promise.all([
+    samplesOf(row.id),
+    quotesForRequest(row.id),
+    matchLabsForRequest(row.id),
+    orderForRequest(row.id),
+  ]);
   return { request: row, samples, quotes, matches, order, sds: await sdsLinks(samples) };
 }
 
@@ -28,7 +33,10 @@ export async function action({ request, params }: Route.ActionArgs) {
   const result = await acceptQuote(row.id, String(form.get("quoteId") ?? ""), membership.organisation.id, user.id);
   if (!result.ok) return data({ error: result.error }, { status: 400 });
   // Accepting leads straight to the order, where the client pays into holding.
-  return redirectWithToast(`/client/orders/${result.orderId}`, { kind: "success", message: "Quote accepted. The order is awaiting payment: pay the total to have it held until delivery." });
+  return redirectWithToast(`/client/orders/${result.orderId}`, {
+    kind: "success",
+    message: "Quote accepted. The order is awaiting payment: pay the total to have it held until delivery.",
+  });
 }
 
 export default function ClientRequest({ loaderData, actionData }: Route.ComponentProps) {

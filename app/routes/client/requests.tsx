@@ -53,7 +53,10 @@ export default function Requests({ loaderData }: Route.ComponentProps) {
                 {rows.map((r) => (
                   <tr key={r.id}>
                     <td className="font-medium">
-                      <Link to={r.state === "draft" ? `/client/requests/${r.id}/edit/${r.draftStep}` : `/client/requests/${r.id}`} className="text-beam-700 underline">
+                      <Link
+                        to={r.state === "draft" ? `/client/requests/${r.id}/edit/${r.draftStep}` : `/client/requests/${r.id}`}
+                        className="text-beam-700 underline"
+                      >
                         {r.title}
                       </Link>
                     </td>

@@ -26,7 +26,11 @@ export async function loader({ request }: Route.LoaderArgs) {
     const body = (await res.json()) as { messages: FakeMessage[]; sendAttempts: number };
     return { messages: body.messages.slice(-200).reverse(), sendAttempts: body.sendAttempts, problem: null };
   } catch (err) {
-    return data({ messages: [] as FakeMessage[], sendAttempts: 0, problem: `The e-mail fake at ${config.mail.baseUrl} did not answer (${(err as Error).message}).` });
+    return data({
+      messages: [] as FakeMessage[],
+      sendAttempts: 0,
+      problem: `The e-mail fake at ${config.mail.baseUrl} did not answer (${(err as Error).message}).`,
+    });
   }
 }
 
@@ -35,7 +39,10 @@ export default function DevMail({ loaderData }: Route.ComponentProps) {
   const { messages, sendAttempts, problem } = loaderData;
   return (
     <main id="main" className="mx-auto w-full max-w-4xl px-4 py-8 sm:px-6">
-      <PageHeader title="Sent e-mail (development)" subtitle={problem ?? `${messages.length} messages received by the local e-mail fake, ${sendAttempts} send attempts.`} />
+      <PageHeader
+        title="Sent e-mail (development)"
+        subtitle={problem ?? `${messages.length} messages received by the local e-mail fake, ${sendAttempts} send attempts.`}
+      />
       {messages.length === 0 ? (
         <EmptyState title="No e-mail yet">Messages appear here once the worker has sent them.</EmptyState>
       ) : (

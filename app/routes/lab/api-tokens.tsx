@@ -38,14 +38,29 @@ export async function action({ request, context }: Route.ActionArgs) {
   if (submission.status !== "success") return data({ result: submission.reply(), created: null }, { status: 400 });
   if (submission.value.intent === "create") {
     const { token, row } = await createApiToken(labId, submission.value.name, user.id);
-    await audit({ actorUserId: user.id, organisationId: labId, action: "api_token_created", subjectType: "api_token", subjectId: row.id, details: { name: row.name, prefix: row.prefix }, clientAddress: context.clientAddress });
+    await audit({
+      actorUserId: user.id,
+      organisationId: labId,
+      action: "api_token_created",
+      subjectType: "api_token",
+      subjectId: row.id,
+      details: { name: row.name, prefix: row.prefix },
+      clientAddress: context.clientAddress,
+    });
     // Shown this once; only its SHA-256 is stored.
     return data({ result: submission.reply({ resetForm: true }), created: { name: row.name, token } });
   }
   if (!(await revokeApiToken(labId, submission.value.tokenId))) {
     return data({ result: submission.reply({ formErrors: ["That token is already revoked or is not your lab's."] }), created: null }, { status: 400 });
   }
-  await audit({ actorUserId: user.id, organisationId: labId, action: "api_token_revoked", subjectType: "api_token", subjectId: submission.value.tokenId, clientAddress: context.clientAddress });
+  await audit({
+    actorUserId: user.id,
+    organisationId: labId,
+    action: "api_token_revoked",
+    subjectType: "api_token",
+    subjectId: submission.value.tokenId,
+    clientAddress: context.clientAddress,
+  });
   return redirectWithToast("/lab/api-tokens", { kind: "success", message: "Token revoked; uploads with it are refused from now on." });
 }
 
@@ -96,16 +111,16 @@ export default function ApiTokens({ loaderData, actionData }: Route.ComponentPro
               <td className="text-xs">{t.lastUsedAt ? fmt.dateTime(t.lastUsedAt) : "never"}</td>
               <td>{t.revokedAt ? <Badge tone="neutral">Revoked</Badge> : <Badge tone="ok">Active</Badge>}</td>
               <td className="text-right">
-                {canManage && !t.revokedAt ? (
-                  <RevokeButton field="tokenId" id={t.id} label={`Revoke the token for ${t.name}`} busy={busy} />
-                ) : null}
+                {canManage && !t.revokedAt ? <RevokeButton field="tokenId" id={t.id} label={`Revoke the token for ${t.name}`} busy={busy} /> : null}
               </td>
             </tr>
           ))}
         </TableCard>
       )}
       <section className="card text-sm" aria-labelledby="api-heading">
-        <h2 id="api-heading" className="text-lg font-semibold">Uploading from an instrument computer</h2>
+        <h2 id="api-heading" className="text-lg font-semibold">
+          Uploading from an instrument computer
+        </h2>
         <ol className="mt-2 list-decimal space-y-2 pl-5 text-ink-700">
           <li>
             <code className="font-mono text-xs">POST {appUrl}/api/v1/orders/&lt;order id&gt;/files</code> with{" "}
@@ -116,8 +131,8 @@ export default function ApiTokens({ loaderData, actionData }: Route.ComponentPro
           </li>
           <li>
             <code className="font-mono text-xs">POST</code> the answer's <code className="font-mono text-xs">completeUrl</code> with{" "}
-            <code className="font-mono text-xs">{`{"parts": [{"partNumber", "etag"}]}`}</code> (the ETag header of each part's answer). The stored file
-            is checked — type by content, size, SHA-256 — before it counts as delivered.
+            <code className="font-mono text-xs">{`{"parts": [{"partNumber", "etag"}]}`}</code> (the ETag header of each part's answer). The stored file is
+            checked — type by content, size, SHA-256 — before it counts as delivered.
           </li>
         </ol>
         <p className="mt-2 text-xs text-ink-600">

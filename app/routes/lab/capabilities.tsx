@@ -112,9 +112,7 @@ export default function Capabilities({ loaderData }: Route.ComponentProps) {
         ) : (
           instruments.map((i) => <InstrumentCard key={i.id} instrument={i} canEdit={canEdit} editStage={params.get("stage")} />)
         )}
-        {canEdit ? (
-          <InstrumentForm key={editingInstrument?.id ?? `new-${instruments.length}`} instrument={editingInstrument} />
-        ) : null}
+        {canEdit ? <InstrumentForm key={editingInstrument?.id ?? `new-${instruments.length}`} instrument={editingInstrument} /> : null}
       </section>
       <HazardForm hazards={hazards} canEdit={canEdit} />
     </div>
@@ -201,7 +199,12 @@ function InstrumentCard({ instrument: i, canEdit, editStage }: { instrument: Ins
                   <Form method="post">
                     <input type="hidden" name="intent" value="remove-stage" />
                     <input type="hidden" name="id" value={s.id} />
-                    <SubmitButton className="btn-quiet" aria-label={`Remove stage ${s.name}`} match={{ intent: "remove-stage", id: s.id }} pendingText="Removing…">
+                    <SubmitButton
+                      className="btn-quiet"
+                      aria-label={`Remove stage ${s.name}`}
+                      match={{ intent: "remove-stage", id: s.id }}
+                      pendingText="Removing…"
+                    >
                       Remove
                     </SubmitButton>
                   </Form>
@@ -305,7 +308,11 @@ function InstrumentForm({ instrument }: { instrument?: InstrumentView }) {
           <FieldErrors id={fields.energyDiscrimination.errorId} errors={fields.energyDiscrimination.errors} />
         </div>
       </div>
-      <CheckboxGroup legend="Sample forms accepted" field={fields.sampleForms} options={SAMPLE_FORMS.map((f) => ({ value: f, label: SAMPLE_FORM_LABELS[f] }))} />
+      <CheckboxGroup
+        legend="Sample forms accepted"
+        field={fields.sampleForms}
+        options={SAMPLE_FORMS.map((f) => ({ value: f, label: SAMPLE_FORM_LABELS[f] }))}
+      />
       <FormError errors={form.errors} />
       <div className="flex gap-2">
         <button type="submit" className="btn-primary" disabled={navigation.state !== "idle"}>
@@ -370,7 +377,12 @@ function StageForm({ instrument, stage }: { instrument: InstrumentView; stage?: 
     shouldRevalidate: "onInput",
   });
   return (
-    <Form method="post" className="mt-3 space-y-2 rounded-lg border border-ink-200 p-4" aria-label={stage ? `Edit stage ${stage.name}` : `Add a stage to ${instrument.name}`} {...getFormProps(form)}>
+    <Form
+      method="post"
+      className="mt-3 space-y-2 rounded-lg border border-ink-200 p-4"
+      aria-label={stage ? `Edit stage ${stage.name}` : `Add a stage to ${instrument.name}`}
+      {...getFormProps(form)}
+    >
       {stage ? <p className="text-sm font-semibold">Edit stage {stage.name}</p> : null}
       <input type="hidden" name="intent" value="save-stage" />
       <input type="hidden" name="formId" value={formId} />
@@ -428,7 +440,10 @@ function HazardForm({ hazards, canEdit }: { hazards: { pictograms: string[]; spe
             {getCollectionProps(fields.pictograms, { type: "checkbox", options: GHS_PICTOGRAMS.map((p) => p.code) }).map(({ key, ...props }) => {
               const p = GHS_PICTOGRAMS.find((g) => g.code === props.value)!;
               return (
-                <label key={key} className="flex items-center gap-3 rounded-lg border border-ink-200 p-2 text-sm has-[:checked]:border-beam-500 has-[:checked]:bg-beam-50">
+                <label
+                  key={key}
+                  className="flex items-center gap-3 rounded-lg border border-ink-200 p-2 text-sm has-[:checked]:border-beam-500 has-[:checked]:bg-beam-50"
+                >
                   <input {...props} aria-describedby={`${props.id}-covers`} />
                   <GhsIcon code={p.code} className="h-9 w-9 shrink-0" />
                   <span>

@@ -8,7 +8,11 @@ import type { Route } from "./+types/home";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
-  return { lab: { name: membership.organisation.name, city: membership.organisation.city }, role: membership.role, overview: await labOverview(membership.organisation.id) };
+  return {
+    lab: { name: membership.organisation.name, city: membership.organisation.city },
+    role: membership.role,
+    overview: await labOverview(membership.organisation.id),
+  };
 }
 
 export default function LabHome({ loaderData }: Route.ComponentProps) {
@@ -30,16 +34,16 @@ export default function LabHome({ loaderData }: Route.ComponentProps) {
           {overview.orders.length > 0 ? <OrdersByState orders={overview.orders} to="/lab/work-queue" /> : null}
         </div>
       ) : (
-      <EmptyState
-        title="Nothing in the inbox yet"
-        action={
-          <Link to="/lab/capabilities" className="btn-primary">
-            Describe your instruments
-          </Link>
-        }
-      >
-        Requests that your instruments, stages and hazard acceptance can serve arrive here once your lab is approved.
-      </EmptyState>
+        <EmptyState
+          title="Nothing in the inbox yet"
+          action={
+            <Link to="/lab/capabilities" className="btn-primary">
+              Describe your instruments
+            </Link>
+          }
+        >
+          Requests that your instruments, stages and hazard acceptance can serve arrive here once your lab is approved.
+        </EmptyState>
       )}
     </div>
   );

@@ -30,10 +30,25 @@ export async function loader({ request }: Route.LoaderArgs) {
   const items = found.flatMap((f) => {
     const row = rows.find((r) => r.id === f.requestId);
     if (!row) return [];
-    return [{ ...row, invited: f.invited, fits: f.match.fits, estimate: f.match.estimatedPriceMinor, currency: f.match.currency, warnings: f.match.warnings.length, quoted: quoted.some((q) => q.requestId === row.id && q.state === "sent") }];
+    return [
+      {
+        ...row,
+        invited: f.invited,
+        fits: f.match.fits,
+        estimate: f.match.estimatedPriceMinor,
+        currency: f.match.currency,
+        warnings: f.match.warnings.length,
+        quoted: quoted.some((q) => q.requestId === row.id && q.state === "sent"),
+      },
+    ];
   });
   // Matching is computed per request, so the list is sorted and paged here rather than in SQL.
-  const { rows: page, sort, dir, ...info } = sortAndPage(items, q, {
+  const {
+    rows: page,
+    sort,
+    dir,
+    ...info
+  } = sortAndPage(items, q, {
     title: (i) => i.title,
     client: (i) => i.client,
     estimate: (i) => (i.estimate === null ? null : `${i.currency}${String(i.estimate).padStart(12, "0")}`),
@@ -79,42 +94,46 @@ export default function LabInbox({ loaderData }: Route.ComponentProps) {
         </EmptyState>
       ) : (
         <>
-        <SortableTable
-          columns={[
-            { label: "Request", sort: "title" },
-            { label: "Client", sort: "client" },
-            { label: "Fit" },
-            { label: "Estimate", sort: "estimate" },
-            { label: "Deadline", sort: "deadline" },
-            { label: "Opened", sort: "opened", firstDir: "desc" },
-          ]}
-          sort={sort}
-          dir={dir}
-          caption="Matching requests"
-        >
-          {items.map((i) => (
-            <tr key={i.id}>
-              <td className="font-medium">
-                <Link to={`/lab/requests/${i.id}`} className="text-beam-700 underline">
-                  {i.title}
-                </Link>
-                <div className="mt-1 flex gap-1">
-                  {i.invited ? <Badge tone="brand">invited</Badge> : null}
-                  {i.quoted ? <Badge tone="ok">quoted</Badge> : null}
-                </div>
-              </td>
-              <td>{i.client}</td>
-              <td>
-                {i.fits ? <Badge tone="ok">fits</Badge> : <Badge tone="danger">does not fit</Badge>}
-                {i.warnings ? <span className="ml-1 text-xs text-caution-700">! {i.warnings} warning{i.warnings === 1 ? "" : "s"}</span> : null}
-              </td>
-              <td>{i.estimate !== null && i.currency ? fmt.money(i.estimate, i.currency) : "—"}</td>
-              <td>{i.deadline ? fmt.date(i.deadline) : "—"}</td>
-              <td>{i.openedAt ? fmt.date(i.openedAt) : "—"}</td>
-            </tr>
-          ))}
-        </SortableTable>
-        <PageNav info={info} noun={["request", "requests"]} />
+          <SortableTable
+            columns={[
+              { label: "Request", sort: "title" },
+              { label: "Client", sort: "client" },
+              { label: "Fit" },
+              { label: "Estimate", sort: "estimate" },
+              { label: "Deadline", sort: "deadline" },
+              { label: "Opened", sort: "opened", firstDir: "desc" },
+            ]}
+            sort={sort}
+            dir={dir}
+            caption="Matching requests"
+          >
+            {items.map((i) => (
+              <tr key={i.id}>
+                <td className="font-medium">
+                  <Link to={`/lab/requests/${i.id}`} className="text-beam-700 underline">
+                    {i.title}
+                  </Link>
+                  <div className="mt-1 flex gap-1">
+                    {i.invited ? <Badge tone="brand">invited</Badge> : null}
+                    {i.quoted ? <Badge tone="ok">quoted</Badge> : null}
+                  </div>
+                </td>
+                <td>{i.client}</td>
+                <td>
+                  {i.fits ? <Badge tone="ok">fits</Badge> : <Badge tone="danger">does not fit</Badge>}
+                  {i.warnings ? (
+                    <span className="ml-1 text-xs text-caution-700">
+                      ! {i.warnings} warning{i.warnings === 1 ? "" : "s"}
+                    </span>
+                  ) : null}
+                </td>
+                <td>{i.estimate !== null && i.currency ? fmt.money(i.estimate, i.currency) : "—"}</td>
+                <td>{i.deadline ? fmt.date(i.deadline) : "—"}</td>
+                <td>{i.openedAt ? fmt.date(i.openedAt) : "—"}</td>
+              </tr>
+            ))}
+          </SortableTable>
+          <PageNav info={info} noun={["request", "requests"]} />
         </>
       )}
     </div>

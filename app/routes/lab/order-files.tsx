@@ -18,14 +18,25 @@ import type { Route } from "./+types/order-files";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await requireOrderSide(request, "lab", params.id);
-  const [title, client, instrument] = await Promise.all([requestTitleOf(order.requestId), organisationNameOf(order.clientOrganisationId), quotedInstrumentOf(order.quoteId)]);
+  const [title, client, instrument] = await Promise.all([
+    requestTitleOf(order.requestId),
+    organisationNameOf(order.clientOrganisationId),
+    quotedInstrumentOf(order.quoteId),
+  ]);
   const samples = await orderSamples(order);
   return {
     order: { id: order.id, state: order.state, title: title ?? "", client: client ?? "" },
     samples: samples.map((s) => ({ id: s.id, label: s.label })),
     // What the preview checks a scan against before it is uploaded: the sample's declaration and the quote's source.
     declarations: Object.fromEntries(
-      samples.map((s) => [s.id, { system: s.crystalSystem, centering: s.centering, cell: { a: s.cellA, b: s.cellB, c: s.cellC, alpha: s.cellAlpha, beta: s.cellBeta, gamma: s.cellGamma } }]),
+      samples.map((s) => [
+        s.id,
+        {
+          system: s.crystalSystem,
+          centering: s.centering,
+          cell: { a: s.cellA, b: s.cellB, c: s.cellC, alpha: s.cellAlpha, beta: s.cellBeta, gamma: s.cellGamma },
+        },
+      ]),
     ),
     radiation: (instrument && radiationOf(instrument)) ?? ({ kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" } as const),
     files: await orderFileList(order.id, { side: "lab" }),
@@ -67,15 +78,16 @@ export default function LabOrderFiles({ loaderData }: Route.ComponentProps) {
         />
       ) : (
         <p className="card text-sm text-ink-700">
-          Files are delivered once the samples have arrived (samples received, measuring or data delivered); this order is "
-          {ORDER_STATE_LABELS[order.state]}".
+          Files are delivered once the samples have arrived (samples received, measuring or data delivered); this order is "{ORDER_STATE_LABELS[order.state]}".
         </p>
       )}
       <section aria-labelledby="delivered-heading" className="space-y-2">
-        <h2 id="delivered-heading" className="text-lg font-semibold">Delivered files</h2>
+        <h2 id="delivered-heading" className="text-lg font-semibold">
+          Delivered files
+        </h2>
         <p className="text-xs text-ink-600">
-          Every version is kept; uploading a file of the same name adds the next version. Only stored files — verified by content and SHA-256 —
-          count as delivered; each stored scan is checked against its sample's declared cell.
+          Every version is kept; uploading a file of the same name adds the next version. Only stored files — verified by content and SHA-256 — count as
+          delivered; each stored scan is checked against its sample's declared cell.
         </p>
         {files.length === 0 ? (
           <EmptyState title="No files yet">Drop the scans of each sample and your report above.</EmptyState>

@@ -52,7 +52,11 @@ const LabMove = z.discriminatedUnion("intent", [
   z.object({ intent: z.literal("received"), note: z.string().trim().max(1000).optional() }),
   z.object({
     intent: z.literal("refuse"),
-    reason: z.string({ error: "Say why the parcel is refused." }).trim().min(10, "Say in a sentence why the parcel is refused (at least 10 characters).").max(2000),
+    reason: z
+      .string({ error: "Say why the parcel is refused." })
+      .trim()
+      .min(10, "Say in a sentence why the parcel is refused (at least 10 characters).")
+      .max(2000),
   }),
   z.object({ intent: z.literal("measuring"), note: z.string().trim().max(1000).optional() }),
   z.object({ intent: z.literal("delivered"), note: z.string().trim().max(1000).optional() }),
@@ -73,7 +77,8 @@ export async function action({ request, params }: Route.ActionArgs) {
       return redirectWithToast(back, { kind: "info", message: "Parcel refused. The client is refunded minus the handling fee." });
     }
   } catch (err) {
-    if (err instanceof OrderMoveRefused || err instanceof PaymentProblem) return data({ result: submission.reply({ formErrors: [err.message] }) }, { status: 409 });
+    if (err instanceof OrderMoveRefused || err instanceof PaymentProblem)
+      return data({ result: submission.reply({ formErrors: [err.message] }) }, { status: 409 });
     throw err;
   }
   return redirectWithToast(back, { kind: "success", message: "Order updated." });
@@ -132,8 +137,8 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
             ) : canMove(order.state, "data_delivered", "lab") ? (
               <div className="mt-3 space-y-3">
                 <p className="text-sm text-ink-700">
-                  Upload the scans (one or more per sample) and your report. Each scan is checked automatically; the data
-                  can be delivered once every sample has a completed check.
+                  Upload the scans (one or more per sample) and your report. Each scan is checked automatically; the data can be delivered once every sample has
+                  a completed check.
                 </p>
                 <Link to={`/lab/orders/${order.id}/files`} className="btn-secondary">
                   Upload delivery files

@@ -52,7 +52,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     instruments: instruments.map((i) => ({ id: i.id, label: `${i.name} (${sourceLabel(i)})` })),
     currency: prices?.currency ?? row.currency,
     defaults: {
-      items: draft.length ? draft.map((i) => ({ description: i.description, quantity: String(i.quantity), unitPrice: toMajorText(i.unitMinor) })) : [{ description: "", quantity: "1", unitPrice: "" }],
+      items: draft.length
+        ? draft.map((i) => ({ description: i.description, quantity: String(i.quantity), unitPrice: toMajorText(i.unitMinor) }))
+        : [{ description: "", quantity: "1", unitPrice: "" }],
       validUntil: isoInDays(14),
       turnaroundDays: String(prices?.turnaroundDays ?? 10),
       instrumentId: match?.bestInstrumentId ?? instruments[0]?.id ?? "",
@@ -97,11 +99,14 @@ export default function LabRequest({ loaderData, actionData }: Route.ComponentPr
   const range = r.rangeMin === null ? "—" : `${r.rangeMin}–${r.rangeMax} ${r.rangeKind === "d_spacing" ? "Å (d-spacing)" : "° 2θ"}`;
   return (
     <div>
-      <PageHeader title={r.title} subtitle={`${client} · ${labelOf(r.technique)} · ${samples.length} sample${samples.length === 1 ? "" : "s"}${r.deadline ? ` · deadline ${fmt.date(r.deadline)}` : ""}`} />
+      <PageHeader
+        title={r.title}
+        subtitle={`${client} · ${labelOf(r.technique)} · ${samples.length} sample${samples.length === 1 ? "" : "s"}${r.deadline ? ` · deadline ${fmt.date(r.deadline)}` : ""}`}
+      />
       <section className="card mb-4 text-sm" aria-label="Measurement needs">
         <p>
-          Range {range}; source {r.preferredSource === "any" ? "any" : `${r.preferredSource} Kα`}; {r.temperaturePointsK.length ? `${r.temperaturePointsK.join(", ")} K` : "room temperature"} in{" "}
-          {r.atmosphere}; {r.quality.replace(/_/g, " ")} quality.
+          Range {range}; source {r.preferredSource === "any" ? "any" : `${r.preferredSource} Kα`};{" "}
+          {r.temperaturePointsK.length ? `${r.temperaturePointsK.join(", ")} K` : "room temperature"} in {r.atmosphere}; {r.quality.replace(/_/g, " ")} quality.
         </p>
         {match ? <MatchReasons reasons={match.reasons} warnings={match.warnings} /> : null}
       </section>
@@ -177,7 +182,9 @@ function QuoteBuilder({ loaderData, actionData }: Pick<Route.ComponentProps, "lo
   return (
     <section className="card mt-6" aria-label="Quote builder">
       <h2 className="text-lg font-semibold">Quote</h2>
-      <p className="mb-4 text-sm text-ink-600">Drafted from your price list; edit the items as needed. Prices in {currency}; the total below adds up as you type.</p>
+      <p className="mb-4 text-sm text-ink-600">
+        Drafted from your price list; edit the items as needed. Prices in {currency}; the total below adds up as you type.
+      </p>
       <Form method="post" {...getFormProps(form)} className="space-y-2">
         <input type="hidden" name="intent" value="send" />
         <table className="table">
@@ -197,7 +204,11 @@ function QuoteBuilder({ loaderData, actionData }: Pick<Route.ComponentProps, "lo
               return (
                 <tr key={item.key}>
                   <td>
-                    <input className="input" aria-label={`Item ${index + 1} description`} {...getInputProps(f.description, { type: "text", ariaAttributes: true })} />
+                    <input
+                      className="input"
+                      aria-label={`Item ${index + 1} description`}
+                      {...getInputProps(f.description, { type: "text", ariaAttributes: true })}
+                    />
                     <FieldErrors id={`${f.description.id}-error`} errors={f.description.errors} />
                   </td>
                   <td className="w-28">
@@ -205,7 +216,12 @@ function QuoteBuilder({ loaderData, actionData }: Pick<Route.ComponentProps, "lo
                     <FieldErrors id={`${f.quantity.id}-error`} errors={f.quantity.errors} />
                   </td>
                   <td className="w-40">
-                    <input className="input" inputMode="decimal" aria-label={`Item ${index + 1} unit price`} {...getInputProps(f.unitPrice, { type: "text" })} />
+                    <input
+                      className="input"
+                      inputMode="decimal"
+                      aria-label={`Item ${index + 1} unit price`}
+                      {...getInputProps(f.unitPrice, { type: "text" })}
+                    />
                     <FieldErrors id={`${f.unitPrice.id}-error`} errors={f.unitPrice.errors} />
                   </td>
                   <td className="w-24">
@@ -222,11 +238,14 @@ function QuoteBuilder({ loaderData, actionData }: Pick<Route.ComponentProps, "lo
         </table>
         <FieldErrors id={`${fields.items.id}-error`} errors={fields.items.errors} />
         <p role="status" className="text-right text-sm" aria-label="Quote total">
-          Total{" "}
-          <strong className="text-base">{total === null ? "—" : fmt.money(total, currency)}</strong>
+          Total <strong className="text-base">{total === null ? "—" : fmt.money(total, currency)}</strong>
           {total === null ? <span className="block text-xs text-ink-600">Give every item a whole quantity and a unit price to see the total.</span> : null}
         </p>
-        <button type="submit" className="btn-secondary" {...form.insert.getButtonProps({ name: fields.items.name, defaultValue: { description: "", quantity: "1", unitPrice: "" } })}>
+        <button
+          type="submit"
+          className="btn-secondary"
+          {...form.insert.getButtonProps({ name: fields.items.name, defaultValue: { description: "", quantity: "1", unitPrice: "" } })}
+        >
           Add an item
         </button>
         <div className="grid gap-4 sm:grid-cols-3">

@@ -72,12 +72,13 @@ export async function action({ request, context }: Route.ActionArgs) {
         ? `Welcome. ${organisation.name}'s application has been received; an admin will review it.`
         : `Welcome to Diffractory. ${organisation.name} is ready for its first request.`;
     const back = invitationReturn(submission.value.redirectTo);
-    if (back) return redirectWithToast(back, { kind: "success", message: "Your account is ready. Accept the invitation to join." }, { headers: [["Set-Cookie", cookie]] });
-    return redirectWithToast(
-      organisation.kind === "lab" ? "/lab" : "/client",
-      { kind: "success", message },
-      { headers: [["Set-Cookie", cookie]] },
-    );
+    if (back)
+      return redirectWithToast(
+        back,
+        { kind: "success", message: "Your account is ready. Accept the invitation to join." },
+        { headers: [["Set-Cookie", cookie]] },
+      );
+    return redirectWithToast(organisation.kind === "lab" ? "/lab" : "/client", { kind: "success", message }, { headers: [["Set-Cookie", cookie]] });
   } catch (err) {
     if (err instanceof EmailTaken) {
       return data({ result: submission.reply({ fieldErrors: { email: [err.message] }, hideFields: ["password"] }) }, { status: 400 });
@@ -115,13 +116,7 @@ export default function CreateAccount({ actionData }: Route.ComponentProps) {
                   key={o.value}
                   className="flex cursor-pointer gap-3 rounded-lg border border-ink-300 p-3 has-[:checked]:border-beam-500 has-[:checked]:bg-beam-50"
                 >
-                  <input
-                    type="radio"
-                    name={fields.kind.name}
-                    value={o.value}
-                    defaultChecked={fields.kind.initialValue === o.value}
-                    className="mt-1"
-                  />
+                  <input type="radio" name={fields.kind.name} value={o.value} defaultChecked={fields.kind.initialValue === o.value} className="mt-1" />
                   <span>
                     <span className="block text-sm font-semibold">{o.title}</span>
                     <span className="block text-xs text-ink-600">{o.body}</span>
@@ -153,8 +148,7 @@ export default function CreateAccount({ actionData }: Route.ComponentProps) {
           </div>
           {isLab ? (
             <p className="text-xs text-ink-600">
-              A lab is listed only after an admin has reviewed its accreditation evidence, radiation-licence attestation and a calibration
-              scan.
+              A lab is listed only after an admin has reviewed its accreditation evidence, radiation-licence attestation and a calibration scan.
             </p>
           ) : null}
           <FormError errors={form.errors} />

@@ -28,7 +28,10 @@ export async function action({ request, context }: Route.ActionArgs) {
   if (submission.status !== "success") return data({ result: submission.reply(), sent: false }, { status: 400 });
   const result = await requestPasswordReset({ email: submission.value.email, clientAddress: context.clientAddress });
   if (!result.ok) {
-    return data({ result: submission.reply({ formErrors: [RESET_TOO_MANY] }), sent: false }, { status: 429, headers: { "Retry-After": String(result.retryAfterSeconds) } });
+    return data(
+      { result: submission.reply({ formErrors: [RESET_TOO_MANY] }), sent: false },
+      { status: 429, headers: { "Retry-After": String(result.retryAfterSeconds) } },
+    );
   }
   return { result: submission.reply({ resetForm: true }), sent: true, message: RESET_REQUESTED };
 }
@@ -42,7 +45,11 @@ export default function ForgotPassword({ actionData }: Route.ComponentProps) {
     shouldRevalidate: "onInput",
   });
   return (
-    <AuthCard title="Forgot your password?" intro="Enter the e-mail address of your account. We send it a link to choose a new password." footer={{ question: "Remembered it?", to: "/sign-in", label: "Sign in" }}>
+    <AuthCard
+      title="Forgot your password?"
+      intro="Enter the e-mail address of your account. We send it a link to choose a new password."
+      footer={{ question: "Remembered it?", to: "/sign-in", label: "Sign in" }}
+    >
       {actionData && "message" in actionData ? (
         <p role="status" className="mt-4 rounded-md bg-beam-50 px-3 py-2 text-sm text-beam-700">
           {actionData.message}

@@ -31,9 +31,9 @@ export default function Home() {
             Confirm the phase and unit cell of every batch — without owning a diffractometer.
           </h1>
           <p className="mt-6 max-w-2xl text-lg text-ink-600">
-            Battery-cathode, pharmaceutical, mineral and catalyst makers post measurement requests. University core facilities and contract
-            labs with idle instrument hours quote on them. Each delivered scan is checked against the declared cell within minutes, so both
-            sides know whether the data confirms the phase.
+            Battery-cathode, pharmaceutical, mineral and catalyst makers post measurement requests. University core facilities and contract labs with idle
+            instrument hours quote on them. Each delivered scan is checked against the declared cell within minutes, so both sides know whether the data
+            confirms the phase.
           </p>
           <div className="mt-8 flex flex-wrap gap-3">
             <Link to="/create-account" className="btn-primary">
@@ -59,22 +59,17 @@ export default function Home() {
         <div className="mt-12 grid gap-6 md:grid-cols-3">
           <div className="card">
             <h3 className="font-semibold">For client companies</h3>
-            <p className="mt-2 text-sm text-ink-600">
-              Requests, quotes side by side, payments held until delivery, a data room with checks and plots.
-            </p>
+            <p className="mt-2 text-sm text-ink-600">Requests, quotes side by side, payments held until delivery, a data room with checks and plots.</p>
           </div>
           <div className="card">
             <h3 className="font-semibold">For labs</h3>
             <p className="mt-2 text-sm text-ink-600">
-              Publish instruments, sources, stages and prices; review hazards; quote; upload straight from the instrument computer; get
-              paid.
+              Publish instruments, sources, stages and prices; review hazards; quote; upload straight from the instrument computer; get paid.
             </p>
           </div>
           <div className="card">
             <h3 className="font-semibold">For platform admins</h3>
-            <p className="mt-2 text-sm text-ink-600">
-              Vet labs with their calibration scan, settle disputes, read the ledger and the audit log.
-            </p>
+            <p className="mt-2 text-sm text-ink-600">Vet labs with their calibration scan, settle disputes, read the ledger and the audit log.</p>
           </div>
         </div>
       </section>

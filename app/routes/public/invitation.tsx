@@ -48,8 +48,8 @@ export default function Invitation({ loaderData: page, actionData }: Route.Compo
       <div className="card space-y-4">
         <h1 className="text-2xl font-bold">Join {page.organisation.name}</h1>
         <p className="text-sm text-ink-700">
-          {page.organisation.kind === "lab" ? "A lab" : "A client organisation"} on Diffractory{where ? ` in ${where}` : ""} invited <strong>{page.email}</strong> as{" "}
-          <Badge tone="brand">{page.role}</Badge>.
+          {page.organisation.kind === "lab" ? "A lab" : "A client organisation"} on Diffractory{where ? ` in ${where}` : ""} invited{" "}
+          <strong>{page.email}</strong> as <Badge tone="brand">{page.role}</Badge>.
         </p>
         {page.problem ? (
           <p role="alert" className="text-sm font-medium text-danger-700">

@@ -35,7 +35,6 @@ async function fetchLabs(query: string): Promise<DirectoryResult> {
   return body;
 }
 
-
 export default function LabDirectory({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
   const { initial, initialQuery, options } = loaderData;
@@ -69,7 +68,14 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
             <label className="label" htmlFor="q">
               Search
             </label>
-            <input id="q" className="input" type="search" defaultValue={params.get("q") ?? ""} placeholder="Name, city, country…" onChange={(e) => update("q", e.currentTarget.value)} />
+            <input
+              id="q"
+              className="input"
+              type="search"
+              defaultValue={params.get("q") ?? ""}
+              placeholder="Name, city, country…"
+              onChange={(e) => update("q", e.currentTarget.value)}
+            />
           </div>
           <div>
             <label className="label" htmlFor="technique">
@@ -102,25 +108,49 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
               <label className="label" htmlFor="dMin">
                 Smallest d (Å)
               </label>
-              <input id="dMin" className="input" inputMode="decimal" defaultValue={params.get("dMin") ?? ""} onChange={(e) => update("dMin", e.currentTarget.value)} />
+              <input
+                id="dMin"
+                className="input"
+                inputMode="decimal"
+                defaultValue={params.get("dMin") ?? ""}
+                onChange={(e) => update("dMin", e.currentTarget.value)}
+              />
             </div>
             <div>
               <label className="label" htmlFor="temperatureK">
                 Temperature (K)
               </label>
-              <input id="temperatureK" className="input" inputMode="decimal" defaultValue={params.get("temperatureK") ?? ""} onChange={(e) => update("temperatureK", e.currentTarget.value)} />
+              <input
+                id="temperatureK"
+                className="input"
+                inputMode="decimal"
+                defaultValue={params.get("temperatureK") ?? ""}
+                onChange={(e) => update("temperatureK", e.currentTarget.value)}
+              />
             </div>
             <div>
               <label className="label" htmlFor="maxPrice">
                 Max per sample
               </label>
-              <input id="maxPrice" className="input" inputMode="decimal" defaultValue={params.get("maxPrice") ?? ""} onChange={(e) => update("maxPrice", e.currentTarget.value)} />
+              <input
+                id="maxPrice"
+                className="input"
+                inputMode="decimal"
+                defaultValue={params.get("maxPrice") ?? ""}
+                onChange={(e) => update("maxPrice", e.currentTarget.value)}
+              />
             </div>
             <div>
               <label className="label" htmlFor="turnaroundDays">
                 Turnaround ≤ days
               </label>
-              <input id="turnaroundDays" className="input" inputMode="numeric" defaultValue={params.get("turnaroundDays") ?? ""} onChange={(e) => update("turnaroundDays", e.currentTarget.value)} />
+              <input
+                id="turnaroundDays"
+                className="input"
+                inputMode="numeric"
+                defaultValue={params.get("turnaroundDays") ?? ""}
+                onChange={(e) => update("turnaroundDays", e.currentTarget.value)}
+              />
             </div>
           </div>
           <fieldset>
@@ -209,7 +239,12 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
               <span>
                 Page {data?.page ?? 1} of {pages}
               </span>
-              <button type="button" className="btn-secondary" disabled={(data?.page ?? 1) >= pages} onClick={() => update("page", String((data?.page ?? 1) + 1))}>
+              <button
+                type="button"
+                className="btn-secondary"
+                disabled={(data?.page ?? 1) >= pages}
+                onClick={() => update("page", String((data?.page ?? 1) + 1))}
+              >
                 Next
               </button>
             </nav>

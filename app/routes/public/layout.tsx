@@ -20,9 +20,7 @@ export default function PublicLayout() {
               <NavLink
                 key={n.to}
                 to={n.to}
-                className={({ isActive }) =>
-                  `rounded-md px-3 py-2 font-medium ${isActive ? "bg-beam-50 text-beam-700" : "text-ink-700 hover:bg-ink-100"}`
-                }
+                className={({ isActive }) => `rounded-md px-3 py-2 font-medium ${isActive ? "bg-beam-50 text-beam-700" : "text-ink-700 hover:bg-ink-100"}`}
               >
                 {n.label}
               </NavLink>

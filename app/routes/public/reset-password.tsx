@@ -20,7 +20,8 @@ const problemStatus = (status: keyof typeof RESET_PROBLEMS) => (status === "unkn
 // Token-authorised: the link itself is the permission; nothing here depends on being signed in.
 export async function loader({ params }: Route.LoaderArgs) {
   const found = await resolveResetToken(params.token);
-  if (found.status !== "valid") return data({ problem: RESET_PROBLEMS[found.status], email: null }, { status: problemStatus(found.status), headers: { "Referrer-Policy": "no-referrer" } });
+  if (found.status !== "valid")
+    return data({ problem: RESET_PROBLEMS[found.status], email: null }, { status: problemStatus(found.status), headers: { "Referrer-Policy": "no-referrer" } });
   return data({ problem: null, email: found.email }, { headers: { "Referrer-Policy": "no-referrer" } });
 }
 
@@ -30,7 +31,11 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   const submission = parseWithZod(await readForm(request), { schema: ResetSchema });
   if (submission.status !== "success") return data({ result: submission.reply({ hideFields: ["password", "confirm"] }), problem: null }, { status: 400 });
   const result = await resetPassword({ token: params.token, password: submission.value.password, clientAddress: context.clientAddress });
-  if (!result.ok) return data({ result: submission.reply({ hideFields: ["password", "confirm"] }), problem: RESET_PROBLEMS[result.status] }, { status: problemStatus(result.status) });
+  if (!result.ok)
+    return data(
+      { result: submission.reply({ hideFields: ["password", "confirm"] }), problem: RESET_PROBLEMS[result.status] },
+      { status: problemStatus(result.status) },
+    );
   return redirectWithToast(
     "/sign-in",
     { kind: "success", message: "Your password is changed and every device was signed out. Sign in with the new password." },

@@ -19,11 +19,23 @@ export async function loader({ params, context }: Route.LoaderArgs) {
   }
   const { link } = resolved;
   const order = await sharedOrderHeading(link.orderId);
-  await audit({ organisationId: link.organisationId, action: "share_link_opened", subjectType: "share_link", subjectId: link.id, clientAddress: context.clientAddress });
+  await audit({
+    organisationId: link.organisationId,
+    action: "share_link_opened",
+    subjectType: "share_link",
+    subjectId: link.id,
+    clientAddress: context.clientAddress,
+  });
   return data(
     {
       gone: null,
-      shared: { token: params.token, label: link.label, expiresAt: link.expiresAt.toISOString(), order, files: await orderFileList(link.orderId, { side: "shared" }) },
+      shared: {
+        token: params.token,
+        label: link.label,
+        expiresAt: link.expiresAt.toISOString(),
+        order,
+        files: await orderFileList(link.orderId, { side: "shared" }),
+      },
     },
     { headers: { "Cache-Control": "no-store" } },
   );
@@ -57,7 +69,11 @@ export default function SharedDataRoom({ loaderData }: Route.ComponentProps) {
           caption="Shared files"
           live={false}
           actions={(row) => (
-            <a href={`/shared/${shared.token}/files/${row.id}`} className="font-semibold text-beam-700 underline" aria-label={`Download ${row.name} v${row.version}`}>
+            <a
+              href={`/shared/${shared.token}/files/${row.id}`}
+              className="font-semibold text-beam-700 underline"
+              aria-label={`Download ${row.name} v${row.version}`}
+            >
               Download
             </a>
           )}

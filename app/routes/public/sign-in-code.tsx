@@ -49,8 +49,19 @@ export async function action({ request, context }: Route.ActionArgs) {
     await recordSignInAttempt(email, address, false);
     const failures = await countSecondFactorFailure(request);
     if (failures >= SECOND_FACTOR_TRIES) {
-      await audit({ actorUserId: user.id, action: "second_factor_failed", subjectType: "user", subjectId: user.id, details: { failures }, clientAddress: address });
-      return redirectWithToast("/sign-in", { kind: "error", message: "Too many wrong codes. Sign in again with your password." }, { headers: [["Set-Cookie", await endSession(request)]] });
+      await audit({
+        actorUserId: user.id,
+        action: "second_factor_failed",
+        subjectType: "user",
+        subjectId: user.id,
+        details: { failures },
+        clientAddress: address,
+      });
+      return redirectWithToast(
+        "/sign-in",
+        { kind: "error", message: "Too many wrong codes. Sign in again with your password." },
+        { headers: [["Set-Cookie", await endSession(request)]] },
+      );
     }
     return data({ result: submission.reply({ fieldErrors: { code: [TOTP_MESSAGES[check.reason]] }, hideFields: ["code"] }) }, { status: 400 });
   }
@@ -81,21 +92,21 @@ export default function SignInCode({ loaderData, actionData }: Route.ComponentPr
         </>
       }
     >
-        <Form method="post" className="mt-6 space-y-2" {...getFormProps(form)}>
-          <input type="hidden" name="intent" value="verify" />
-          <input type="hidden" name="redirectTo" value={params.get("redirectTo") ?? ""} />
-          <TotpCodeField field={fields.code} label="Code" autoFocus />
-          <FormError errors={form.errors} />
-          <button type="submit" className="btn-primary w-full" disabled={busy}>
-            {busy ? "Checking…" : "Verify and sign in"}
-          </button>
-        </Form>
-        <Form method="post" className="mt-4 text-center">
-          <input type="hidden" name="intent" value="cancel" />
-          <button type="submit" className="text-sm text-beam-700 underline">
-            Cancel and sign in as someone else
-          </button>
-        </Form>
+      <Form method="post" className="mt-6 space-y-2" {...getFormProps(form)}>
+        <input type="hidden" name="intent" value="verify" />
+        <input type="hidden" name="redirectTo" value={params.get("redirectTo") ?? ""} />
+        <TotpCodeField field={fields.code} label="Code" autoFocus />
+        <FormError errors={form.errors} />
+        <button type="submit" className="btn-primary w-full" disabled={busy}>
+          {busy ? "Checking…" : "Verify and sign in"}
+        </button>
+      </Form>
+      <Form method="post" className="mt-4 text-center">
+        <input type="hidden" name="intent" value="cancel" />
+        <button type="submit" className="text-sm text-beam-700 underline">
+          Cancel and sign in as someone else
+        </button>
+      </Form>
     </AuthCard>
   );
 }

@@ -72,7 +72,11 @@ export default function SignIn({ actionData }: Route.ComponentProps) {
   });
   const busy = navigation.state !== "idle" && navigation.formAction?.startsWith("/sign-in");
   return (
-    <AuthCard title="Sign in" intro="Clients, lab staff and admins sign in here." footer={{ question: "New here?", to: "/create-account", label: "Create an account" }}>
+    <AuthCard
+      title="Sign in"
+      intro="Clients, lab staff and admins sign in here."
+      footer={{ question: "New here?", to: "/create-account", label: "Create an account" }}
+    >
       <Form method="post" className="mt-6 space-y-2" {...getFormProps(form)}>
         <input type="hidden" name="redirectTo" value={params.get("redirectTo") ?? ""} />
         <Field label="E-mail" id={fields.email.id} errors={fields.email.errors}>
