@@ -63,6 +63,18 @@ export const config = {
     scanCheckExpireSeconds: num("SCAN_CHECK_EXPIRE_SECONDS", 180),
     scanCheckRetryDelaySeconds: num("SCAN_CHECK_RETRY_DELAY_SECONDS", 2),
   },
+  /** Connections of this process's pool (pg-boss adds up to 4 of its own); `DIFFRACTORY_LOG_SQL=1` prints every query. */
+  database: {
+    poolMax: num("PG_POOL_MAX", 10),
+    logSql: env.DIFFRACTORY_LOG_SQL === "1",
+  },
+  /** How long the in-process caches keep an answer: the lab directory's query and public GET answers. */
+  cacheMs: {
+    directory: num("DIRECTORY_CACHE_MS", 5000),
+    publicAnswers: num("PUBLIC_CACHE_MS", 5000),
+  },
+  /** When the worker accepts lapsed review windows and retries delayed payouts (cron syntax). */
+  reviewWindowCron: env.REVIEW_WINDOW_CRON || "*/5 * * * *",
   signIn: { maxFailures: 5, windowMinutes: 10 },
   sessionDays: 14,
 };

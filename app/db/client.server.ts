@@ -8,14 +8,11 @@ type Db = NodePgDatabase<typeof schema> & { $client: pg.Pool };
 const g = globalThis as unknown as { __diffractoryDb?: Db };
 
 function create(): Db {
-  const pool = new pg.Pool({ connectionString: config.databaseUrl, max: Number(process.env.PG_POOL_MAX ?? 10) });
+  const pool = new pg.Pool({ connectionString: config.databaseUrl, max: config.database.poolMax });
   // An idle client losing its connection (a database restart) must not crash the process.
   pool.on("error", (err) => console.warn("postgres pool:", err.message));
   // DIFFRACTORY_LOG_SQL=1 prints every query with its parameters (the load benchmark reads them from here).
-  const logger =
-    process.env.DIFFRACTORY_LOG_SQL === "1"
-      ? { logQuery: (query: string, params: unknown[]) => console.log(`SQL ${JSON.stringify({ query, params })}`) }
-      : false;
+  const logger = config.database.logSql ? { logQuery: (query: string, params: unknown[]) => console.log(`SQL ${JSON.stringify({ query, params })}`) } : false;
   return drizzle(pool, { schema, logger }) as Db;
 }
 

@@ -1,13 +1,14 @@
 // Every queue handler and schedule of the job worker, registered in one place; only server/worker.ts (and the
 // tests that run a worker in-process) import this module, so the app server never loads a handler.
 import type PgBoss from "pg-boss";
+import { config } from "~/config.server";
 import { runScanCheck } from "~/models/checks/scan-check.server";
 import { deliverOutboxMessage, remindReviewWindows, startOutboxDispatcher } from "~/models/notifications/delivery.server";
 import { acceptLapsedDeliveries, releasePendingPayouts } from "~/models/orders/lifecycle.server";
 import { QUEUES } from "./queues.server";
 
 /** Registers every queue's handler and the schedules; the worker process calls this once. */
-export async function startWorkers(boss: PgBoss, { reviewWindowCron = process.env.REVIEW_WINDOW_CRON || "*/5 * * * *" } = {}) {
+export async function startWorkers(boss: PgBoss, { reviewWindowCron = config.reviewWindowCron } = {}) {
   await boss.schedule(QUEUES.reviewWindow, reviewWindowCron);
   await boss.work(QUEUES.reviewWindow, async () => {
     const accepted = await acceptLapsedDeliveries();

@@ -3,6 +3,7 @@
 // within min(N s, PUBLIC_CACHE_MS) is answered from memory without entering React Router. Security headers
 // are still set per response by the middleware before this one; only the representation headers are kept.
 // A route that marks an answer public promises it is the same for everyone (cookies are not part of the key).
+import { config } from "~/config.server";
 import type { NextFunction, Request, Response } from "express";
 
 interface Stored {
@@ -13,7 +14,7 @@ interface Stored {
   etag: string | undefined;
 }
 
-const LIMIT_MS = Number(process.env.PUBLIC_CACHE_MS ?? 5000);
+const LIMIT_MS = config.cacheMs.publicAnswers;
 const MAX_ENTRIES = 500;
 const MAX_BODY_BYTES = 256 * 1024;
 const KEPT_HEADERS = ["content-type", "cache-control", "etag", "vary", "last-modified"];

@@ -1,4 +1,5 @@
 // The public lab directory: approved labs filtered by what their instruments, stages, hazards and prices allow.
+import { config } from "~/config.server";
 import { createHash } from "node:crypto";
 import { eq, sql, type SQL } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
@@ -156,7 +157,7 @@ export interface CachedDirectory {
   etag: string;
 }
 
-const CACHE_TTL_MS = Number(process.env.DIRECTORY_CACHE_MS ?? 5000);
+const CACHE_TTL_MS = config.cacheMs.directory;
 const MAX_ENTRIES = 500;
 const cache = new Map<string, { at: number; value: Promise<CachedDirectory> }>();
 
