@@ -1,4 +1,4 @@
-// A person's in-app notifications and e-mail choices, and the admins' view of the outbox.
+// A person's in-app notifications and e-mail choices.
 import { and, count, desc, eq, inArray, isNull } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import { isEssential, MILESTONE_KINDS, type MilestoneKind } from "~/domain/milestones";
@@ -63,27 +63,4 @@ export async function savePreferences(userId: string, enabled: Set<MilestoneKind
     const off = optional.filter((k) => !enabled.has(k));
     if (off.length) await tx.insert(schema.notificationPreferences).values(off.map((kind) => ({ userId, kind, emailEnabled: false })));
   });
-}
-
-/** Outbox rows for the admins' screen: parked first, then the newest. */
-export async function outboxForAdmins(status: "parked" | "queued" | "sent" | "all", limit = 200) {
-  const base = db
-    .select({
-      id: schema.outboxMessages.id,
-      kind: schema.outboxMessages.kind,
-      to: schema.outboxMessages.to,
-      subject: schema.outboxMessages.subject,
-      status: schema.outboxMessages.status,
-      attempts: schema.outboxMessages.attempts,
-      lastError: schema.outboxMessages.lastError,
-      orderId: schema.outboxMessages.orderId,
-      createdAt: schema.outboxMessages.createdAt,
-      sentAt: schema.outboxMessages.sentAt,
-    })
-    .from(schema.outboxMessages);
-  const rows = await (status === "all" ? base : base.where(eq(schema.outboxMessages.status, status)))
-    .orderBy(desc(schema.outboxMessages.createdAt))
-    .limit(limit);
-  const counts = await db.select({ status: schema.outboxMessages.status, n: count() }).from(schema.outboxMessages).groupBy(schema.outboxMessages.status);
-  return { rows, counts: Object.fromEntries(counts.map((c) => [c.status, c.n])) as Partial<Record<"queued" | "sent" | "parked", number>> };
 }

@@ -2,7 +2,7 @@
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
-import { outboxForAdmins } from "~/models/notifications/inbox.server";
+import { outboxForAdmins } from "~/models/notifications/outbox-admin.server";
 import { retryParkedMessage } from "~/models/notifications/delivery.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
