@@ -9,5 +9,3 @@ declare module "react-router" {
     cspNonce?: string;
   }
 }
-
-export {};

@@ -1,7 +1,7 @@
 // A workspace overview's two panels: what waits for someone, and the organisation's orders by state.
 import { Link } from "react-router";
 import { Badge } from "~/components/ui";
-import { type OrderState } from "~/domain/order-states";
+import type { OrderState } from "~/domain/order-states";
 import { OrderStateBadge } from "./order-state-badge";
 
 export function WaitingPanel({ items }: { items: { count: number; label: string; to: string }[] }) {

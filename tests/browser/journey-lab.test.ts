@@ -10,7 +10,7 @@ import type { Page } from "playwright-core";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { MINIMAL_PDF, simulatedXy } from "./test-files";
 import { SILICON, ZINCITE } from "~/diffraction/structures";
-import { checkAccessibility, focusedElement, tabTo } from "./a11y";
+import { checkAccessibility, type focusedElement, tabTo } from "./a11y";
 import { BASE_URL, clearSignInAttempts, openBrowser, SCREENSHOT_DIR, screenshot, signIn, visit, waitForHydration, type Browser } from "./harness";
 
 // One run's own lab, person and request, so nothing the other browser files read is touched.

@@ -389,7 +389,7 @@ describe.sequential("faults while the app runs", () => {
 
   it("PostgreSQL restarted: requests meanwhile get a clear 503, the app serves normally afterwards without a restart", async () => {
     const appPid = stack.apps[0].process.pid;
-    let during: { page?: ReturnType<typeof errorPageText>; api?: { status: number; error?: string }; health?: { status: number; database?: string } } = {};
+    const during: { page?: ReturnType<typeof errorPageText>; api?: { status: number; error?: string }; health?: { status: number; database?: string } } = {};
     const failures = new Set<number>();
     let stop = false;
     const probing = (async () => {
