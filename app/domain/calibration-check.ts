@@ -1,28 +1,11 @@
 // The calibration check of a vetting application: the lattice check against a standard's certified cell, kept for the admin's review.
-import { checkScanText } from "~/diffraction/check";
 import { ANODE_LINES } from "~/diffraction/wavelengths";
 import type { ANODE_CHOICES, MONOCHROMATION_CHOICES } from "~/domain/capabilities";
+import { checkScanForStorage } from "./lattice-check";
 import { CALIBRATION_STANDARDS, type CalibrationCheck, type CalibrationStandard } from "~/domain/vetting";
 
+/** The calibration plot keeps at most this many points (the extremes of each stretch, so no peak top is lost). */
 const MAX_PLOT_POINTS = 3000;
-
-/** Thins a scan for the plot: in each bin keep the point of highest count, so no peak top is lost. */
-function thinForPlot(twoTheta: ArrayLike<number>, observed: ArrayLike<number>, ...others: ArrayLike<number>[]) {
-  const n = twoTheta.length;
-  const bin = Math.max(1, Math.ceil(n / MAX_PLOT_POINTS));
-  const keep: number[] = [];
-  for (let start = 0; start < n; start += bin) {
-    let best = start;
-    for (let i = start + 1; i < Math.min(n, start + bin); i++) if (observed[i] > observed[best]) best = i;
-    keep.push(best);
-  }
-  const round = (v: number, digits: number) => Number(v.toFixed(digits));
-  return {
-    twoTheta: keep.map((i) => round(twoTheta[i], 4)),
-    observed: keep.map((i) => round(observed[i], 1)),
-    others: others.map((arr) => keep.map((i) => round(arr[i], 1))),
-  };
-}
 
 export type CalibrationOutcome = { ok: true; check: CalibrationCheck } | { ok: false; error: string };
 
@@ -39,18 +22,21 @@ export function checkCalibrationScan(
 ): CalibrationOutcome {
   const standard = CALIBRATION_STANDARDS[input.standard];
   const a = standard.a;
-  const outcome = checkScanText(text, {
-    radiation: { kind: "anode", anode: input.anode, monochromation: input.monochromation },
-    system: "cubic",
-    centering: standard.centering,
-    cell: { a, b: a, c: a, alpha: 90, beta: 90, gamma: 90 },
-    fileName: input.fileName,
-  });
+  const outcome = checkScanForStorage(
+    text,
+    {
+      radiation: { kind: "anode", anode: input.anode, monochromation: input.monochromation },
+      declared: { system: "cubic", centering: standard.centering, cell: { a, b: a, c: a, alpha: 90, beta: 90, gamma: 90 } },
+      warnings: [],
+      declaredFrom: { sampleLabel: null, expectedPhase: standard.label, instrumentName: input.instrumentName },
+      fileName: input.fileName,
+    },
+    { maxPoints: MAX_PLOT_POINTS },
+  );
   if (!outcome.ok) return outcome;
   const r = outcome.result;
   const refinedA = r.cell?.a ?? null;
   const deviationA = refinedA === null ? null : refinedA - a;
-  const thin = thinForPlot(r.twoTheta, r.observed, r.fittedProfile, r.background);
   return {
     ok: true,
     check: {
@@ -79,10 +65,10 @@ export function checkCalibrationScan(
       scanFileName: input.fileName,
       checkedAt: new Date().toISOString(),
       plot: {
-        twoTheta: thin.twoTheta,
-        observed: thin.observed,
-        fitted: thin.others[0],
-        background: thin.others[1],
+        twoTheta: r.profile.twoTheta,
+        observed: r.profile.observed,
+        fitted: r.profile.fitted,
+        background: r.profile.background,
         ticks: r.reflections.map((t) => ({ twoTheta: Number(t.twoTheta.toFixed(4)), label: `${t.h}${t.k}${t.l}` })),
       },
     },

@@ -1,5 +1,5 @@
 // GET /checks/:id/result.json — the whole check (status, file, result) as JSON, for the order's client and its lab.
-import { checkStatusJson } from "~/models/checks/scan-check.server";
+import { checkStatusJson } from "~/domain/lattice-check";
 import { sampleOfFile } from "~/models/checks/queries.server";
 import { requireCheckAccess } from "~/utils/permissions.server";
 import type { Route } from "./+types/check-result-json";

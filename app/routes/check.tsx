@@ -5,7 +5,7 @@ import { Brand } from "~/components/brand";
 import { CheckPlot, type CheckPlotData } from "~/components/check-plot";
 import { CheckStateBadge, CheckStatusBadge, useCheckStatus } from "~/components/check-status";
 import { Badge, PageHeader, TableCard } from "~/components/ui";
-import { checkStatusJson } from "~/models/checks/scan-check.server";
+import { checkStatusJson } from "~/domain/lattice-check";
 import { sampleOfFile } from "~/models/checks/queries.server";
 import { requireCheckAccess } from "~/utils/permissions.server";
 import { requestTitleOf } from "~/models/requests/requests.server";

@@ -6,7 +6,7 @@ import type { Section } from "~/domain/workspaces";
 import { ADMIN_SECTIONS, CLIENT_SECTIONS, LAB_SECTIONS } from "~/domain/workspaces";
 import { actorFor, type Actor } from "~/models/accounts/actors.server";
 import { API_TOKEN_RATE_LIMIT, apiTokenBySecret, markApiTokenUsed } from "~/models/accounts/api-tokens.server";
-import { checkWithOrder } from "~/models/checks/scan-check.server";
+import { checkWithOrder } from "~/models/checks/queries.server";
 import { orderForOrganisation } from "~/models/orders/queries.server";
 import { NoSuchRecord } from "~/models/errors";
 import { labQuoteOf } from "~/models/requests/quotes.server";

@@ -1,10 +1,50 @@
-// What a lattice check's screens show beside the check itself: the sample its scan belongs to.
-import { eq } from "drizzle-orm";
+// Reading lattice checks: a check with its file, the sample its scan belongs to, and which samples still lack a check.
+import { and, eq, isNull } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
+import { isUuid } from "~/domain/ids";
 
 /** The sample the checked scan belongs to (label and declared phase), or null. */
 export async function sampleOfFile(sampleId: string | null) {
   if (!sampleId) return null;
   const [sample] = await db.select().from(schema.samples).where(eq(schema.samples.id, sampleId));
   return sample ?? null;
+}
+
+/**
+ * Labels of the order's samples that have no scan with a completed check (`done`) yet. The order may move
+ * to `data_delivered` only when this is empty.
+ */
+export async function samplesWithoutCompletedCheck(orderId: string): Promise<string[]> {
+  const [order] = await db.select({ requestId: schema.orders.requestId }).from(schema.orders).where(eq(schema.orders.id, orderId));
+  if (!order) return [];
+  const sampleRows = await db
+    .select({ id: schema.samples.id, label: schema.samples.label })
+    .from(schema.samples)
+    .where(eq(schema.samples.requestId, order.requestId))
+    .orderBy(schema.samples.position, schema.samples.label);
+  const checked = await db
+    .selectDistinct({ sampleId: schema.orderFiles.sampleId })
+    .from(schema.orderFiles)
+    .innerJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))
+    .where(
+      and(
+        eq(schema.orderFiles.orderId, orderId),
+        eq(schema.orderFiles.state, "stored"),
+        isNull(schema.orderFiles.deletedAt),
+        eq(schema.scanChecks.status, "done"),
+      ),
+    );
+  const done = new Set(checked.map((c) => c.sampleId));
+  return sampleRows.filter((s) => !done.has(s.id)).map((s) => s.label);
+}
+
+/** A check with the order it belongs to, for access checks (null when there is no such check). */
+export async function checkWithOrder(checkId: string) {
+  if (!isUuid(checkId)) return null;
+  const [row] = await db
+    .select({ check: schema.scanChecks, file: schema.orderFiles })
+    .from(schema.scanChecks)
+    .innerJoin(schema.orderFiles, eq(schema.orderFiles.id, schema.scanChecks.fileId))
+    .where(eq(schema.scanChecks.id, checkId));
+  return row ?? null;
 }

@@ -8,7 +8,7 @@ import type { Order } from "~/db/schema";
 import { platformFee } from "~/domain/money";
 import { moveProblem, type Mover, type OrderState } from "~/domain/order-states";
 import { audit } from "~/models/audit.server";
-import { samplesWithoutCompletedCheck } from "~/models/checks/scan-check.server";
+import { samplesWithoutCompletedCheck } from "~/models/checks/queries.server";
 import { notify } from "~/models/notifications/outbox.server";
 import { ACCOUNTS, heldForOrder, postLedger } from "~/models/payments/ledger.server";
 import { PaymentProblem, postPayout, refund, refundHeld, transferToLab } from "~/models/payments/provider.server";

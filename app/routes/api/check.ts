@@ -1,5 +1,5 @@
 // GET /api/checks/:id — a lattice check's live status, for the order's client organisation and its lab.
-import { checkStatusJson } from "~/models/checks/scan-check.server";
+import { checkStatusJson } from "~/domain/lattice-check";
 import { requireCheckAccess } from "~/utils/permissions.server";
 import type { Route } from "./+types/check";
 

@@ -13,7 +13,7 @@ import { requestTitleOf } from "~/models/requests/requests.server";
 import { orderFileList, orderSamples } from "~/models/files/files.server";
 import { ORDER_STATE_LABELS } from "~/domain/order-states";
 import { OrderStateBadge } from "~/components/order-state-badge";
-import { radiationOf } from "~/models/checks/scan-check.server";
+import { radiationOf } from "~/domain/lattice-check";
 import type { Route } from "./+types/order-files";
 
 export async function loader({ request, params }: Route.LoaderArgs) {

@@ -9,7 +9,7 @@ import { FormError, PageHeader } from "~/components/ui";
 import { organisationNameOf } from "~/models/accounts/organisations.server";
 import { orderSamples } from "~/models/files/files.server";
 import { markDelivered, markReceived, startMeasuring } from "~/models/orders/lifecycle.server";
-import { samplesWithoutCompletedCheck } from "~/models/checks/scan-check.server";
+import { samplesWithoutCompletedCheck } from "~/models/checks/queries.server";
 import { shipmentOf } from "~/models/orders/queries.server";
 import { canMove, samplesAtLab } from "~/domain/order-states";
 import { OrderStateBadge } from "~/components/order-state-badge";
