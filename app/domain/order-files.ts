@@ -30,6 +30,9 @@ export const RETENTION_YEARS = 5;
 /** The longest a share link may stay valid (days). */
 export const SHARE_LINK_MAX_DAYS = 90;
 
+/** The most share links one order may have live (neither expired nor revoked) at a time; each is a reader's key. */
+export const SHARE_LINK_MAX_LIVE = 20;
+
 /** A download link from the data room is valid this long (seconds). */
 export const DOWNLOAD_URL_SECONDS = 300;
 

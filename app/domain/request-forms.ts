@@ -4,6 +4,7 @@ import { CENTERINGS, CRYSTAL_SYSTEMS, checkCellForSystem, checkCentering, type C
 import { parseFormula } from "~/domain/formula";
 import { GHS_CODES, SPECIAL_CATEGORY_CODES } from "~/domain/hazard-codes";
 import { checkHStatement, splitHStatements } from "~/domain/hazards";
+import { FileNameSchema } from "~/domain/storage-keys";
 import { CURRENCIES, MAX_AMOUNT_MINOR, MAX_AMOUNT_TEXT, toMinorUnits } from "~/domain/money";
 
 export const WIZARD_STEPS = [
@@ -144,7 +145,7 @@ export const SampleHazardSchema = z.object({
   handlingNotes: z.string().trim().max(2000, "At most 2,000 characters.").optional(),
   afterMeasurement: z.enum(["return", "lab_disposes"], { error: "Say whether the sample comes back or the lab disposes of it." }),
   sdsStorageKey: z.string().max(400).optional(),
-  sdsFileName: z.string().max(200).optional(),
+  sdsFileName: FileNameSchema.optional(),
   sdsSha256: z
     .string()
     .regex(/^[0-9a-f]{64}$/i, "The file's checksum is missing; upload it again.")

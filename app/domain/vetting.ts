@@ -2,6 +2,7 @@
 import { z } from "zod";
 import type { Verdict } from "~/diffraction/verdict";
 import { ANODE_CHOICES, MONOCHROMATION_CHOICES } from "~/domain/capabilities";
+import { FileNameSchema } from "~/domain/storage-keys";
 
 export const VETTING_STATES = ["applied", "in_review", "approved", "rejected", "suspended"] as const;
 export type VettingState = (typeof VETTING_STATES)[number];
@@ -96,7 +97,7 @@ export const VettingApplicationSchema = z.object({
     .date({ error: "Enter the expiry date as YYYY-MM-DD." })
     .refine((d) => d > new Date().toISOString().slice(0, 10), "The accreditation has expired; hand in the current certificate."),
   certificateKey: z.string({ error: "Upload the accreditation certificate." }).min(1, "Upload the accreditation certificate."),
-  certificateName: z.string().max(200).default("certificate"),
+  certificateName: FileNameSchema.default("certificate"),
   certificateSha256: z
     .string()
     .regex(/^[0-9a-f]{64}$/i)
@@ -116,7 +117,7 @@ export const VettingApplicationSchema = z.object({
   anode: z.enum(ANODE_CHOICES, { error: "Choose the anode of the source." }),
   monochromation: z.enum(MONOCHROMATION_CHOICES, { error: "Choose how the beam was monochromated." }),
   scanKey: z.string({ error: "Upload the calibration scan." }).min(1, "Upload the calibration scan."),
-  scanName: z.string().max(200).default("scan.xy"),
+  scanName: FileNameSchema.default("scan.xy"),
   scanSha256: z
     .string()
     .regex(/^[0-9a-f]{64}$/i)

@@ -89,8 +89,8 @@ async function checkUploadInput(order: Order, input: StartUploadInput) {
   }
   const kind = input.kind ?? "scan";
   if (!FILE_KINDS.includes(kind)) throw new UploadProblem(`The kind must be one of ${FILE_KINDS.join(", ")}.`);
+  // The name's own rules (length, control characters, folders) are checkDeclaredFile's, below.
   const name = String(input.name ?? "").trim();
-  if (/[\\/]/.test(name)) throw new UploadProblem("Give the file name without folders.");
   if (!Number.isSafeInteger(input.size) || input.size < 0) throw new UploadProblem("Give the file's size in bytes, as a whole number.");
   if (input.size > MAX_FILE_BYTES) {
     throw new UploadProblem(`The file is ${formatBytes(input.size)}; the limit is ${formatBytes(MAX_FILE_BYTES)} per file.`, 413);

@@ -1,26 +1,50 @@
 // Read-only links to one order's data room for a colleague outside the client organisation.
 import { isUuid } from "~/domain/ids";
 import { createHash, randomBytes } from "node:crypto";
-import { and, desc, eq, isNull } from "drizzle-orm";
+import { and, count, desc, eq, gt, isNull } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
+import { SHARE_LINK_MAX_LIVE } from "~/domain/order-files";
 
 const hashToken = (token: string) => createHash("sha256").update(token).digest("hex");
 
-/** Creates a link; the token is returned once and only its SHA-256 is kept. */
+/** The order already has as many live links as one order may; the message says what to do. */
+export class ShareLinkLimit extends Error {
+  constructor(live: number) {
+    super(
+      `An order can have at most ${SHARE_LINK_MAX_LIVE} live share links at a time, and this one has ${live}. Revoke a link that is no longer needed, then create the new one.`,
+    );
+  }
+}
+
+/**
+ * Creates a link; the token is returned once and only its SHA-256 is kept. Refused with ShareLinkLimit when the
+ * order already has SHARE_LINK_MAX_LIVE links that are neither expired nor revoked: each is a key to the files
+ * that someone has to keep track of, and the data room lists them all.
+ */
 export async function createShareLink(input: { orderId: string; organisationId: string; userId: string; label: string; expiresAt: Date }) {
   const token = randomBytes(24).toString("base64url");
-  const [link] = await db
-    .insert(schema.shareLinks)
-    .values({
-      orderId: input.orderId,
-      organisationId: input.organisationId,
-      createdBy: input.userId,
-      label: input.label,
-      expiresAt: input.expiresAt,
-      tokenHash: hashToken(token),
-    })
-    .returning();
-  return { link, token };
+  return db.transaction(async (tx) => {
+    // Links of one order are counted and made one at a time: two parallel creations wait on the order's row
+    // instead of both counting the same links. (NO KEY UPDATE leaves inserts that only reference the order alone.)
+    await tx.select({ id: schema.orders.id }).from(schema.orders).where(eq(schema.orders.id, input.orderId)).for("no key update");
+    const [{ live }] = await tx
+      .select({ live: count() })
+      .from(schema.shareLinks)
+      .where(and(eq(schema.shareLinks.orderId, input.orderId), isNull(schema.shareLinks.revokedAt), gt(schema.shareLinks.expiresAt, new Date())));
+    if (live >= SHARE_LINK_MAX_LIVE) throw new ShareLinkLimit(live);
+    const [link] = await tx
+      .insert(schema.shareLinks)
+      .values({
+        orderId: input.orderId,
+        organisationId: input.organisationId,
+        createdBy: input.userId,
+        label: input.label,
+        expiresAt: input.expiresAt,
+        tokenHash: hashToken(token),
+      })
+      .returning();
+    return { link, token };
+  });
 }
 
 export async function listShareLinks(orderId: string) {

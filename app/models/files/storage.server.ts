@@ -3,6 +3,7 @@ import { createHash, randomUUID } from "node:crypto";
 import { GetObjectCommand, HeadObjectCommand, PutObjectCommand } from "@aws-sdk/client-s3";
 import { getSignedUrl } from "@aws-sdk/s3-request-presigner";
 import { config } from "~/config.server";
+import { attachmentDisposition, fileNameProblem, keySegmentFor, keySegments } from "~/domain/storage-keys";
 import { services } from "~/utils/services.server";
 
 /** What a kind of upload may be: its size limit and the types it accepts (checked by content too). */
@@ -30,9 +31,10 @@ const EXTENSIONS: Record<string, string[]> = {
 
 const mb = (n: number) => `${Math.round(n / 1024 / 1024)} MB`;
 
-/** Checks what the browser says about a file before any upload URL is issued; returns a sentence or null. */
+/** Checks what the uploader says about a file (its name already trimmed) before any upload URL is issued; returns a sentence or null. */
 export function checkDeclaredFile(rule: UploadRule, file: { name: string; size: number; type: string }): string | null {
-  if (!file.name || file.name.length > 200) return "Give the file a name of at most 200 characters.";
+  const nameProblem = fileNameProblem(file.name);
+  if (nameProblem) return nameProblem;
   if (!Number.isSafeInteger(file.size) || file.size < 0) return "Give the file's size in bytes, as a whole number.";
   if (file.size === 0) return "The file is empty.";
   if (file.size > rule.maxBytes) return `The file is ${mb(file.size)}; the limit is ${mb(rule.maxBytes)}.`;
@@ -45,10 +47,13 @@ export function contentTypeFor(rule: UploadRule, name: string) {
   return rule.types.find((t) => EXTENSIONS[t].some((ext) => name.toLowerCase().endsWith(ext))) ?? "application/octet-stream";
 }
 
-/** A storage key under a prefix of the owner's, with the file's own name kept readable at the end. */
+/**
+ * A storage key under a prefix of the owner's, with the file's own name kept readable at the end. Made of plain
+ * segments only, so the key passes isKeyUnder when a form sends it back.
+ */
 export function storageKeyFor(prefix: string, fileName: string) {
-  const safe = fileName.replace(/[^A-Za-z0-9._-]+/g, "_").slice(-120);
-  return `${prefix}/${randomUUID()}/${safe}`;
+  if (!keySegments(prefix)) throw new Error(`Not a storage prefix: ${JSON.stringify(prefix)}`);
+  return `${prefix}/${randomUUID()}/${keySegmentFor(fileName)}`;
 }
 
 /** A short-lived URL the browser PUTs the file to; the app server never carries the bytes. */
@@ -62,7 +67,7 @@ export async function presignDownload(key: string, fileName?: string, expiresInS
   const command = new GetObjectCommand({
     Bucket: config.s3.bucket,
     Key: key,
-    ResponseContentDisposition: fileName ? `attachment; filename="${fileName.replace(/"/g, "")}"` : undefined,
+    ResponseContentDisposition: fileName ? attachmentDisposition(fileName) : undefined,
   });
   return getSignedUrl(services.s3, command, { expiresIn: expiresInSeconds });
 }
@@ -148,7 +153,8 @@ export type UploadTarget = { ok: true; target: { uploadUrl: string; storageKey: 
  * Where a declared file goes: a presigned PUT under the prefix, or the sentence saying why the file does not
  * fit the rule. The caller has already checked who may upload.
  */
-export async function uploadTargetFor(file: { name: string; size: number; type: string }, rule: UploadRule, prefix: string): Promise<UploadTarget> {
+export async function uploadTargetFor(declared: { name: string; size: number; type: string }, rule: UploadRule, prefix: string): Promise<UploadTarget> {
+  const file = { ...declared, name: declared.name.trim() };
   const problem = checkDeclaredFile(rule, file);
   if (problem) return { ok: false, error: problem };
   const storageKey = storageKeyFor(prefix, file.name);

@@ -8,12 +8,12 @@ import { OrderFilesTable } from "~/components/order-files-table";
 import { useRefreshWhile } from "~/components/refresh-while";
 import { RevokeButton, ShownOnce } from "~/components/shown-once";
 import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
-import { DOWNLOAD_URL_SECONDS, RETENTION_YEARS, SHARE_LINK_MAX_DAYS } from "~/domain/order-files";
+import { DOWNLOAD_URL_SECONDS, RETENTION_YEARS, SHARE_LINK_MAX_DAYS, SHARE_LINK_MAX_LIVE } from "~/domain/order-files";
 import { organisationNameOf } from "~/models/accounts/organisations.server";
 import { requestTitleOf } from "~/models/requests/requests.server";
 import { fileOfOrder, orderAccessLog, orderFileList, softDeleteFile } from "~/models/files/files.server";
 import { OrderStateBadge } from "~/components/order-state-badge";
-import { createShareLink, listShareLinks, revokeShareLink } from "~/models/files/share-links.server";
+import { createShareLink, listShareLinks, revokeShareLink, ShareLinkLimit } from "~/models/files/share-links.server";
 import { audit } from "~/models/audit.server";
 import { config } from "~/config.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -59,7 +59,14 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   const here = `/client/data-room/${order.id}`;
   if (value.intent === "share") {
     const expiresAt = new Date(Date.now() + value.days * 86_400_000);
-    const { link, token } = await createShareLink({ orderId: order.id, organisationId, userId: actor.user.id, label: value.label, expiresAt });
+    let created: Awaited<ReturnType<typeof createShareLink>>;
+    try {
+      created = await createShareLink({ orderId: order.id, organisationId, userId: actor.user.id, label: value.label, expiresAt });
+    } catch (err) {
+      if (err instanceof ShareLinkLimit) return data({ result: submission.reply({ formErrors: [err.message] }), shared: null }, { status: 400 });
+      throw err;
+    }
+    const { link, token } = created;
     await audit({
       actorUserId: actor.user.id,
       organisationId,
@@ -188,7 +195,7 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
         </h2>
         <p className="text-sm text-ink-600">
           A read-only link for a colleague outside the organisation: they see this order's files and can download them, without signing in, until the link
-          expires or you revoke it. Every use is logged below.
+          expires or you revoke it. Every use is logged below. An order can have up to {SHARE_LINK_MAX_LIVE} live links at a time.
         </p>
         <Form method="post" className="card grid gap-4 sm:grid-cols-[1fr_10rem_auto] sm:items-start" {...getFormProps(form)}>
           <input type="hidden" name="intent" value="share" />

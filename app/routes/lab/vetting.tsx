@@ -9,6 +9,7 @@ import { SelectField } from "~/components/select-field";
 import { Field, FieldErrors, FormError, PageHeader } from "~/components/ui";
 import { VettingBadge } from "~/components/vetting-badge";
 import { checkCalibrationScan } from "~/domain/calibration-check";
+import { isKeyUnder } from "~/domain/storage-keys";
 import { ANODE_CHOICES, MONOCHROMATION_OPTIONS } from "~/domain/capabilities";
 import { getOrCreateLab, latestDocuments, submitApplication, VettingConflict, vettingPrefix } from "~/models/labs/vetting.server";
 import {
@@ -62,10 +63,10 @@ export async function action({ request, context }: Route.ActionArgs) {
   if (!SUBMITTABLE_STATES.includes(lab.vettingState)) {
     return refuse({}, ["This lab's application has been decided; it can no longer be changed here."]);
   }
-  // Only files uploaded for this lab's application may be referenced.
-  const prefix = `${vettingPrefix(lab.organisationId)}/`;
-  if (!v.certificateKey.startsWith(prefix)) return refuse({ certificateKey: ["Upload the accreditation certificate again."] });
-  if (!v.scanKey.startsWith(prefix)) return refuse({ scanKey: ["Upload the calibration scan again."] });
+  // Only files uploaded for this lab's application may be referenced, compared segment by segment (no `../`).
+  const prefix = vettingPrefix(lab.organisationId);
+  if (!isKeyUnder(v.certificateKey, prefix)) return refuse({ certificateKey: ["Upload the accreditation certificate again."] });
+  if (!isKeyUnder(v.scanKey, prefix)) return refuse({ scanKey: ["Upload the calibration scan again."] });
   const certificate = await verifyStoredObject(v.certificateKey, DOCUMENT_RULE, v.certificateSha256);
   if (!certificate.ok) return refuse({ certificateKey: [certificate.error] });
   const scanFile = await verifyStoredObject(v.scanKey, SCAN_RULE, v.scanSha256);
