@@ -5,6 +5,7 @@ import { FormStrategy } from "remix-auth-form";
 import { db, schema } from "~/db/client.server";
 import type { OrganisationKind, User } from "~/db/schema";
 import { hashPassword, verifyPassword } from "~/models/accounts/password.server";
+import { readForm } from "~/utils/form.server";
 
 export class WrongCredentials extends Error {}
 
@@ -13,7 +14,10 @@ export const normaliseEmail = (email: string) => email.trim().toLowerCase();
 export const authenticator = new Authenticator<User>();
 
 authenticator.use(
-  new FormStrategy(async ({ form }) => {
+  // The strategy hands over its own parse of the body (request.clone().formData()), which checks nothing; the
+  // fields are read again through the one form reader, which refuses a NUL and bytes that are not UTF-8.
+  new FormStrategy(async ({ request }) => {
+    const form = await readForm(request);
     const email = normaliseEmail(String(form.get("email") ?? ""));
     const password = String(form.get("password") ?? "");
     const [user] = await db.select().from(schema.users).where(sql`lower(${schema.users.email}) = ${email}`).limit(1);
@@ -23,6 +27,9 @@ authenticator.use(
   }),
   "password",
 );
+
+/** Whether a value can be a slug slugify made (with a "-N" suffix): anything else names no organisation. */
+export const isSlug = (value: string) => /^[a-z0-9-]{1,64}$/.test(value);
 
 export function slugify(name: string) {
   return (

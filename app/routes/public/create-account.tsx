@@ -7,7 +7,9 @@ import { Field, FormError } from "~/components/ui";
 import { newPasswordField } from "~/domain/password-rules";
 import { audit } from "~/models/audit.server";
 import { createAccount, EmailTaken } from "~/utils/auth.server";
+import { readForm } from "~/utils/form.server";
 import { requireAnonymous } from "~/utils/permissions.server";
+import { sameSitePath } from "~/utils/safe-redirect";
 import { startSession } from "~/utils/session.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import type { Route } from "./+types/create-account";
@@ -43,7 +45,10 @@ const CreateAccountSchema = z
   });
 
 /** Someone following an invitation link comes back to it once the account exists; no other redirect is followed. */
-const invitationReturn = (to: string | undefined) => (to && /^\/invitations\/[A-Za-z0-9_-]{1,100}$/.test(to) ? to : null);
+const invitationReturn = (to: string | undefined) => {
+  const path = sameSitePath(to);
+  return path && /^\/invitations\/[A-Za-z0-9_-]{1,100}$/.test(path) ? path : null;
+};
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAnonymous(request);
@@ -52,7 +57,8 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request, context }: Route.ActionArgs) {
   await requireAnonymous(request);
-  const submission = parseWithZod(await request.formData(), { schema: CreateAccountSchema });
+  // The form reader refuses a NUL or bytes that are not UTF-8 with a 400, before anything is stored.
+  const submission = parseWithZod(await readForm(request), { schema: CreateAccountSchema });
   if (submission.status !== "success") {
     return data({ result: submission.reply({ hideFields: ["password"] }) }, { status: 400 });
   }

@@ -5,13 +5,15 @@ import { dSpacingCoverage } from "~/domain/coverage";
 import { labBySlug } from "~/models/labs/directory.server";
 import { loadMatchLabs } from "~/models/labs/matching.server";
 import { instrumentWavelength, labelOf, sourceLabel } from "~/domain/matching";
+import { isSlug } from "~/utils/auth.server";
 import { notFound } from "~/utils/permissions.server";
 import type { Route } from "./+types/lab-profile";
 import { useFormat } from "~/components/locale";
 
 // Public by design: only approved labs are shown; any other slug is a 404.
 export async function loader({ params }: Route.LoaderArgs) {
-  const row = await labBySlug(params.slug);
+  // A slug is checked before the query: a NUL in it would be a database error (a 500) instead of a 404.
+  const row = isSlug(params.slug) ? await labBySlug(params.slug) : undefined;
   if (!row || row.state !== "approved") notFound("No approved lab is listed at this address.");
   const [lab] = await loadMatchLabs([row.id]);
   return {
