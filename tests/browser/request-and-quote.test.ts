@@ -78,6 +78,11 @@ describe("request and quote", () => {
 
     await page.getByRole("heading", { name: "Granite Ridge Characterisation" }).waitFor();
     expect(await page.getByText(/Fluorescence|Better:/).count()).toBeGreaterThan(0);
+    // Lakeside's transmission instrument does not fit a reflection request, so it reads the request only when
+    // invited: the request goes to both labs by invitation.
+    await page.getByRole("radio", { name: /Invited labs only/ }).check();
+    await page.getByLabel("Invite Granite Ridge Characterisation").check();
+    await page.getByLabel("Invite Lakeside Institute X-ray Core").check();
     await screenshot(page, "request-step-labs");
     await page.getByRole("button", { name: "Save and continue to review" }).click();
     await page.waitForURL(/\/edit\/review$/);

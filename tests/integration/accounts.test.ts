@@ -69,6 +69,17 @@ describe("sign-in", () => {
     expect(cookieFrom(sixth)).toBeUndefined();
   });
 
+  it("checks at most five of 200 wrong passwords for one e-mail sent at once (the limit cannot be raced)", async () => {
+    const email = "operator@graniteridge.example";
+    const answers = await Promise.all(Array.from({ length: 200 }, (_, i) => signIn(email, `wrong-${i}`, `198.18.${i >> 8}.${i & 255}`)));
+    // A "not right" answer is given only after the password was verified; every other answer is the 429.
+    const checked = answers.filter((a) => JSON.stringify(a.body).includes("The e-mail or password is not right."));
+    expect(checked.length).toBeLessThanOrEqual(5);
+    expect(answers.filter((a) => a.status === 429)).toHaveLength(200 - checked.length);
+    const rows = await db.select().from(schema.signInAttempts).where(eq(schema.signInAttempts.email, email));
+    expect(rows.length).toBeLessThanOrEqual(5);
+  });
+
   it("refuses further tries from one address after five failures there", async () => {
     const address = "203.0.113.7";
     for (let i = 0; i < 5; i++) await signIn(`nobody${i}@unknown.example`, "whatever-password", address);

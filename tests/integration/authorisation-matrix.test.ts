@@ -16,6 +16,8 @@ const ACTORS = {
   admin: "admin@diffractory.example",
   // The admin after the password but before the second-factor code: a session that opens nothing yet.
   halfSignedIn: "admin@diffractory.example",
+  // The manager of a lab account created moments ago (beforeAll), not yet approved by an admin.
+  unvettedLab: "manager@fresh-lab.example",
 } as const;
 type Actor = keyof typeof ACTORS;
 type RouteFn = Parameters<typeof callRoute>[0];
@@ -35,15 +37,15 @@ const clientA = (a: Outcome, others: Outcome, except: Partial<PerActor> = {}) =>
 const labA = (a: Outcome, others: Outcome, except: Partial<PerActor> = {}) => signedIn(others, { labManager: a, labOperator: a, ...except });
 const adminOnly = (others: Outcome, adminOutcome: Outcome = "ok") => signedIn(others, { admin: adminOutcome });
 
-// Columns: signedOut, ownerA, memberA, clientB, labManager, labOperator, otherLab, admin, halfSignedIn.
+// Columns: signedOut, ownerA, memberA, clientB, labManager, labOperator, otherLab, admin, halfSignedIn, unvettedLab.
 const orderClient = clientA("ok", "forbidden", { clientB: "notFound" }); // another client's order does not exist for them
 const orderClientAction = clientA("bad", "forbidden", { clientB: "notFound" });
 const clientWorkspace = signedIn("forbidden", { ownerA: "ok", memberA: "ok", clientB: "ok" });
-const labWorkspace = signedIn("forbidden", { labManager: "ok", labOperator: "ok", otherLab: "ok" });
+const labWorkspace = signedIn("forbidden", { labManager: "ok", labOperator: "ok", otherLab: "ok", unvettedLab: "ok" });
 // Manager-only lab settings: each manager changes their own lab (an empty form is refused), operators may not.
-const labManagerAction = signedIn("forbidden", { labManager: "bad", otherLab: "bad" });
-const orderLab = labA("ok", "forbidden", { otherLab: "notFound" });
-const orderLabAction = labA("bad", "forbidden", { otherLab: "notFound" });
+const labManagerAction = signedIn("forbidden", { labManager: "bad", otherLab: "bad", unvettedLab: "bad" });
+const orderLab = labA("ok", "forbidden", { otherLab: "notFound", unvettedLab: "notFound" });
+const orderLabAction = labA("bad", "forbidden", { otherLab: "notFound", unvettedLab: "notFound" });
 // Both sides of the order read it; everyone else, admins included, is told it does not exist.
 const orderParties = signedIn("notFound", { ownerA: "ok", memberA: "ok", labManager: "ok", labOperator: "ok" });
 const adminPage = adminOnly("forbidden");
@@ -115,7 +117,7 @@ const EXPECTED: Record<string, Expect> = {
   "routes/lab/capabilities": { loader: labWorkspace, action: labManagerAction },
   "routes/lab/price-list": { loader: labWorkspace, action: labManagerAction },
   // Posting payouts takes a manager to their own lab's payout onboarding; it needs no fields.
-  "routes/lab/payouts": { loader: labWorkspace, action: signedIn("forbidden", { labManager: "ok", otherLab: "ok" }) },
+  "routes/lab/payouts": { loader: labWorkspace, action: signedIn("forbidden", { labManager: "ok", otherLab: "ok", unvettedLab: "ok" }) },
   "routes/lab/work-queue": { loader: labWorkspace },
   "routes/lab/order": { loader: orderLab, action: orderLabAction },
   "routes/lab/vetting-upload": { action: labManagerAction },
@@ -294,6 +296,21 @@ beforeAll(async () => {
   });
   // Routes whose :id is not an order.
   Object.assign(requestIds, { request: order.requestId, check: check.id, payment: payment.id, invitation, passwordReset });
+  // The unvetted lab applies through the sign-up form, as anyone can, seconds before the matrix runs.
+  const createAccount = (await import("~/routes/public/create-account")).action;
+  const applied = await callRoute(
+    createAccount,
+    formRequest("/create-account", {
+      kind: "lab",
+      name: "Fresh Lab Manager",
+      email: ACTORS.unvettedLab,
+      password: PASSWORD,
+      organisationName: "Fresh Diffraction Lab",
+      city: "Nowhere",
+      country: "Netherlands",
+    }),
+  );
+  expect(applied.headers.get("location")).toBe("/lab");
   for (const actor of ACTOR_NAMES) await signIn(actor);
 });
 
@@ -359,5 +376,121 @@ describe("authorisation matrix", () => {
     if (process.env.MATRIX_DUMP) (await import("node:fs")).writeFileSync(process.env.MATRIX_DUMP, JSON.stringify(actual, null, 1));
     expect(mismatches).toEqual([]);
     expect(await orderStates()).toEqual(before);
+  });
+});
+
+/**
+ * A lab request page shows the client's name, the samples and their safety data sheets' download links. Three
+ * more requests of Halvorsen's: open to all (Granite Ridge fits it, Lakeside's transmission instrument does
+ * not), invited-only with Lakeside invited, and open with a quote from Lakeside though it does not fit.
+ */
+describe("open requests as each lab reads them", () => {
+  type Reader = "labManager" | "labOperator" | "otherLab" | "appliedLab" | "unvettedLab";
+  type Kind = "open" | "invited" | "quoted";
+  const READERS: Reader[] = ["labManager", "labOperator", "otherLab", "appliedLab", "unvettedLab"];
+  const ids = {} as Record<Kind, string>;
+  // Meridian: a seeded lab that has applied but is not approved, with an instrument that fits the open request.
+  let appliedLab = "";
+
+  async function makeRequest(kind: Kind) {
+    const { db, schema } = w;
+    const [r] = await db
+      .insert(schema.requests)
+      .values({
+        organisationId: w.halvorsen.id,
+        createdBy: w.owner.id,
+        title: `Matrix ${kind} request`,
+        state: "open",
+        visibility: kind === "invited" ? "invited" : "open",
+        rangeMin: 10,
+        rangeMax: 90,
+        deadline: "2099-06-30",
+        openedAt: new Date(),
+      })
+      .returning();
+    await db.insert(schema.samples).values({
+      requestId: r.id,
+      label: "LFP lot 9",
+      formula: "LiFePO4",
+      elements: ["Li", "Fe", "P", "O"],
+      form: "powder",
+      sdsFileName: "lfp-sds.pdf",
+      sdsStorageKey: `requests/${w.halvorsen.id}/${r.id}/sds/lfp-sds.pdf`,
+    });
+    return r.id;
+  }
+
+  beforeAll(async () => {
+    const { db, schema, eq } = w;
+    const slug = async (s: string) => (await db.select().from(schema.organisations).where(eq(schema.organisations.slug, s)))[0].id;
+    const lakeside = await slug("lakeside-institute-x-ray-core");
+    for (const kind of ["open", "invited", "quoted"] as const) ids[kind] = await makeRequest(kind);
+    await db.insert(schema.requestInvitations).values({ requestId: ids.invited, labId: lakeside });
+    await db.insert(schema.quotes).values({
+      requestId: ids.quoted,
+      labId: lakeside,
+      lineItems: [{ description: "Measurement", quantity: 1, unitMinor: 21_000, totalMinor: 21_000 }],
+      totalMinor: 21_000,
+      currency: "USD",
+      validUntil: new Date(Date.now() + 14 * 86_400_000),
+      turnaroundDays: 12,
+    });
+    appliedLab = (await signInAs("lab@meridian.example", { password: PASSWORD, address: "198.51.100.77" })).cookie!;
+    // The premises: Meridian's instrument fits the open request and Lakeside's does not, so only approval tells them apart.
+    const { loadMatchLabs, loadMatchRequest } = await import("~/models/labs/matching.server");
+    const { matchLab } = await import("~/domain/matching");
+    const request = (await loadMatchRequest(ids.open))!;
+    const [meridian, lakesideLab] = await Promise.all([loadMatchLabs([await slug("meridian-analytical")]), loadMatchLabs([lakeside])]);
+    expect(matchLab(request, meridian[0]).fits).toBe(true);
+    expect(matchLab(request, lakesideLab[0]).fits).toBe(false);
+  });
+
+  const cookieOf = (reader: Reader) => (reader === "appliedLab" ? appliedLab : cookies[reader]);
+
+  it("opens the page (and its data-sheet links) only for an approved lab that fits, is invited or has quoted; anyone else gets 404", async () => {
+    const page = (await import("~/routes/lab/request")).loader as RouteFn;
+    const expected: Record<Kind, Record<Reader, Outcome>> = {
+      open: { labManager: "ok", labOperator: "ok", otherLab: "notFound", appliedLab: "notFound", unvettedLab: "notFound" },
+      invited: { labManager: "notFound", labOperator: "notFound", otherLab: "ok", appliedLab: "notFound", unvettedLab: "notFound" },
+      quoted: { labManager: "ok", labOperator: "ok", otherLab: "ok", appliedLab: "notFound", unvettedLab: "notFound" },
+    };
+    const actual = {} as Record<Kind, Record<Reader, string>>;
+    for (const kind of Object.keys(expected) as Kind[]) {
+      actual[kind] = {} as Record<Reader, string>;
+      for (const reader of READERS) {
+        const id = ids[kind];
+        const answer = await callRoute(page, getRequest(`/lab/requests/${id}`, cookieOf(reader)), { id });
+        actual[kind][reader] = classify(answer);
+        if (answer.status === 200) expect(Object.keys((answer.body as { sds: Record<string, string> }).sds), `${kind} ${reader}`).toHaveLength(1);
+        else expect(JSON.stringify(answer.body), `${kind} ${reader}`).not.toMatch(/Halvorsen|LFP lot 9|lfp-sds/);
+      }
+    }
+    expect(actual).toEqual(expected);
+  });
+
+  it("lists in each lab's inbox only the open requests it fits or is invited to, and nothing for unapproved labs", async () => {
+    const inbox = (await import("~/routes/lab/inbox")).loader as RouteFn;
+    const expected: Record<Reader, Kind[]> = {
+      labManager: ["open", "quoted"],
+      labOperator: ["open", "quoted"],
+      otherLab: ["invited"],
+      appliedLab: [],
+      unvettedLab: [],
+    };
+    const actual = {} as Record<Reader, Kind[]>;
+    for (const reader of READERS) {
+      const answer = await callRoute(inbox, getRequest("/lab/inbox", cookieOf(reader)));
+      const listed = new Set((answer.body as { items: { id: string }[] }).items.map((i) => i.id));
+      actual[reader] = (Object.keys(ids) as Kind[]).filter((k) => listed.has(ids[k]));
+    }
+    expect(actual).toEqual(expected);
+  });
+
+  it("keeps the matches API to the requesting client: every lab is refused (403)", async () => {
+    const matches = (await import("~/routes/api/request-matches")).loader as RouteFn;
+    for (const reader of READERS) {
+      const answer = await callRoute(matches, getRequest(`/api/requests/${ids.open}/matches`, cookieOf(reader)), { id: ids.open });
+      expect(classify(answer), reader).toBe("forbidden");
+    }
   });
 });

@@ -111,6 +111,13 @@ beforeAll(async () => {
     .set({ payoutAccountId: "acct_fixture", payoutsEnabled: true })
     .where(inArray(schema.labs.organisationId, [graniteId, lakesideId]));
   requestId = await openRequest("Layered oxide NMC-3 lattice check");
+  // Lakeside's transmission instrument does not fit this reflection request, so only an invitation lets it read
+  // and quote: the client invites both demo labs.
+  await db.update(schema.requests).set({ visibility: "invited" }).where(eq(schema.requests.id, requestId));
+  await db.insert(schema.requestInvitations).values([
+    { requestId, labId: graniteId },
+    { requestId, labId: lakesideId },
+  ]);
 });
 
 describe("quoting", () => {
@@ -148,9 +155,11 @@ describe("quoting", () => {
   });
 
   it("only approved labs acknowledge and quote", async () => {
+    // A lab that is not approved does not get to read the request at all: the same 404 as a missing one.
     const answer = await acknowledge(MERIDIAN);
-    expect(answer.status).toBe(400);
-    expect((answer.body as { error: string }).error).toMatch(/Only approved labs/);
+    expect(answer.status).toBe(404);
+    const acks = await db.select().from(schema.hazardAcknowledgements).where(eq(schema.hazardAcknowledgements.requestId, requestId));
+    expect(acks.map((a) => a.labId)).not.toContain(await orgId("Meridian Analytical"));
   });
 
   it("refuses a quote from a lab whose payout account is not connected yet", async () => {

@@ -110,12 +110,34 @@ export async function labsMatchingRequest(requestId: string): Promise<string[]> 
   return (await matchLabsForRequest(requestId)).filter((m) => m.fits).map((m) => m.labId);
 }
 
+/** The lab in the shape the matching rules read, when an admin has approved it; null for any other lab. */
+async function approvedMatchLab(labId: string): Promise<MatchLab | null> {
+  const [row] = await db.select({ state: schema.labs.vettingState }).from(schema.labs).where(eq(schema.labs.organisationId, labId));
+  if (row?.state !== "approved") return null;
+  const [lab] = await loadMatchLabs([labId]);
+  return lab ?? null;
+}
+
+type LoadedRequest = NonNullable<Awaited<ReturnType<typeof loadMatchRequest>>>;
+
+/**
+ * The one rule for which requests reach an approved lab, in its inbox and on its request page: an open request
+ * it was invited to, or one open to every lab that its instruments and hazard acceptance fit (visibility `open`
+ * is to every matching lab: docs/design.md#requests-and-samples). Null otherwise.
+ */
+function inboxEntry(request: LoadedRequest, lab: MatchLab, invited: boolean) {
+  if (request.state !== "open") return null;
+  if (request.visibility === "invited" && !invited) return null;
+  const match = matchLab(request, lab);
+  return match.fits || invited ? { requestId: request.id, invited, match } : null;
+}
+
 /**
  * A lab's inbox: open requests it fits (visibility `open`) and every open request it was invited to,
- * each with the lab's match.
+ * each with the lab's match. Empty until the lab is approved.
  */
 export async function requestsMatchingLab(labId: string) {
-  const [lab] = await loadMatchLabs([labId]);
+  const lab = await approvedMatchLab(labId);
   if (!lab) return [];
   const invited = await db
     .select({ requestId: schema.requestInvitations.requestId })
@@ -130,11 +152,20 @@ export async function requestsMatchingLab(labId: string) {
   const out: { requestId: string; invited: boolean; match: LabMatch }[] = [];
   for (const { id } of open) {
     const request = await loadMatchRequest(id);
-    if (!request) continue;
-    const isInvited = invitedIds.has(id);
-    if (request.visibility === "invited" && !isInvited) continue;
-    const match = matchLab(request, lab);
-    if (match.fits || isInvited) out.push({ requestId: id, invited: isInvited, match });
+    const entry = request && inboxEntry(request, lab, invitedIds.has(id));
+    if (entry) out.push(entry);
   }
   return out;
+}
+
+/** Whether the request is in the lab's inbox (requestsMatchingLab's rule, for one request). */
+export async function inLabInbox(requestId: string, labId: string): Promise<boolean> {
+  const lab = await approvedMatchLab(labId);
+  const request = lab && (await loadMatchRequest(requestId));
+  if (!lab || !request) return false;
+  const [invitation] = await db
+    .select({ labId: schema.requestInvitations.labId })
+    .from(schema.requestInvitations)
+    .where(and(eq(schema.requestInvitations.requestId, requestId), eq(schema.requestInvitations.labId, labId)));
+  return inboxEntry(request, lab, Boolean(invitation)) !== null;
 }
