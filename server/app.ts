@@ -1,10 +1,14 @@
-// The Express app around React Router: security headers, the same-origin rule for writes, the load context.
+// The Express app around React Router: security headers, the methods it takes, the same-origin rule for writes,
+// no caching of what a signed-in person is shown, the load context.
 import "react-router";
 import { createRequestHandler } from "@react-router/express";
 import express from "express";
 import type { NextFunction, Request, Response } from "express";
+import { config } from "~/config.server";
 import { publicCache } from "~/utils/public-cache.server";
+import { sessionCookie } from "~/utils/session.server";
 import { databaseGate } from "~/utils/database-gate.server";
+import { limitBodies } from "~/utils/body-limit.server";
 import { contentSecurityPolicy, newNonce } from "~/utils/csp.server";
 import { withRequestScope } from "~/utils/request-scope.server";
 
@@ -36,20 +40,71 @@ app.use((_req: Request, res: Response, next: NextFunction) => {
   next();
 });
 
+/** The request carries the session cookie (with a value), or an API token. */
+function carriesCredentials(req: Request) {
+  if (req.headers.authorization) return true;
+  return (req.headers.cookie ?? "").split(";").some((pair) => {
+    const at = pair.indexOf("=");
+    return at > 0 && pair.slice(0, at).trim() === sessionCookie.name && pair.slice(at + 1).trim() !== "";
+  });
+}
+
+const setsSessionCookie = (res: Response) =>
+  ([] as unknown[]).concat(res.getHeader("set-cookie") ?? []).some((c) => String(c).startsWith(`${sessionCookie.name}=`));
+
+/**
+ * What a signed-in person is shown (or an answer that starts or ends a session) must not be kept by the browser's
+ * cache or a shared one, where the next person at the computer or behind the proxy would see it:
+ * `Cache-Control: private, no-store`, set as the headers go out, after the route has had its say. A route's own
+ * no-store is kept, and so is an answer the route marked public (it promises to be the same for everyone, as the
+ * directory API is; app/utils/public-cache.server.ts) unless it sets the session cookie.
+ */
+function privateWhenSignedIn(req: Request, res: Response, next: NextFunction) {
+  const signedIn = carriesCredentials(req);
+  const writeHead = res.writeHead;
+  res.writeHead = function (this: Response, ...args: unknown[]) {
+    if (signedIn || setsSessionCookie(res)) {
+      const current = String(res.getHeader("cache-control") ?? "");
+      const markedPublic = /(?:^|,)\s*public\s*(?:,|$)/i.test(current) && !setsSessionCookie(res);
+      if (!/no-store/i.test(current) && !markedPublic) res.setHeader("Cache-Control", "private, no-store");
+    }
+    return (writeHead as (...a: unknown[]) => Response).apply(this, args);
+  } as Response["writeHead"];
+  next();
+}
+app.use(privateWhenSignedIn);
+
+/**
+ * The methods Diffractory answers. Others get a 405 here: TRACE would otherwise fail inside React Router as a 500
+ * (a fetch Request cannot have it), and no screen or API uses any other.
+ */
+const METHODS = ["GET", "HEAD", "OPTIONS", "POST", "PUT", "PATCH", "DELETE"];
+app.use((req: Request, res: Response, next: NextFunction) => {
+  if (METHODS.includes(req.method)) return next();
+  res
+    .status(405)
+    .set("Allow", METHODS.join(", "))
+    .type("text/plain")
+    .send(`Diffractory does not answer ${req.method} requests; it takes ${METHODS.join(", ")}.`);
+});
+
 const SAFE_METHODS = new Set(["GET", "HEAD", "OPTIONS"]);
 
 /**
  * Writes from another site are refused before any action runs. Browsers send Origin on every POST;
  * clients without one (instrument computers with a token, provider webhooks) are not browsers.
+ * An origin is scheme, host and port: https://host is another site than http://host. The request's own
+ * origin comes from its scheme and Host, or from X-Forwarded-Proto/-Host behind TRUST_PROXY.
  */
-export function originAllowed(req: Pick<Request, "method" | "headers">) {
+export function originAllowed(req: Pick<Request, "method" | "headers" | "protocol" | "host">) {
   if (SAFE_METHODS.has(req.method)) return true;
   const origin = req.headers.origin;
   if (!origin) return req.headers["sec-fetch-site"] !== "cross-site";
   if (origin === "null") return false;
   try {
-    const allowed = new Set([req.headers.host, process.env.APP_URL && new URL(process.env.APP_URL).host].filter(Boolean));
-    return allowed.has(new URL(origin).host);
+    const own = [new URL(config.appUrl).origin];
+    if (req.host) own.push(new URL(`${req.protocol}://${req.host}`).origin);
+    return own.includes(new URL(origin).origin);
   } catch {
     return false;
   }
@@ -59,6 +114,10 @@ app.use((req: Request, res: Response, next: NextFunction) => {
   if (originAllowed(req)) return next();
   res.status(403).type("text/plain").send("Refused: this request came from another site.");
 });
+
+// One body limit for every route before anything reads a body: a 413 at once for a declared length over it, and
+// a chunked body cut off where it passes it (app/utils/body-limit.server.ts). No route buffers a large body.
+app.use(limitBodies);
 
 // While PostgreSQL is unreachable, a clear 503 page or JSON instead of an error from deep inside a loader.
 app.use(databaseGate);

@@ -65,6 +65,55 @@ async function rawExchange(bytes: Buffer, { halfClose = false } = {}) {
   });
 }
 
+interface Streamed {
+  status: number | null;
+  text: string;
+  /** Body bytes handed to the socket when the first byte of the answer arrived. */
+  sentBeforeAnswer: number;
+}
+
+/**
+ * Sends a request head, then a body of `total` bytes in 64 KB pieces (chunked frames when `chunked`) as fast as
+ * the server takes them, and stops sending once an answer arrives; resolves when the answer is complete.
+ */
+async function streamBody(head: string, total: number, { chunked = false } = {}) {
+  const piece = Buffer.alloc(64 * 1024, "a");
+  return new Promise<Streamed>((resolve) => {
+    const socket = net.connect(port, "127.0.0.1");
+    let sent = 0;
+    let ended = false;
+    let text = "";
+    let sentBeforeAnswer: number | null = null;
+    const complete = () => {
+      const end = text.indexOf("\r\n\r\n");
+      if (end < 0) return false;
+      const length = /\r\ncontent-length: *(\d+)/i.exec(text.slice(0, end));
+      return length ? text.length >= end + 4 + Number(length[1]) : text.endsWith("\r\n0\r\n\r\n");
+    };
+    socket.on("data", (d) => {
+      sentBeforeAnswer ??= sent;
+      text += d.toString("latin1");
+      if (complete()) socket.destroy();
+    });
+    socket.on("close", () => resolve({ status: Number(/^HTTP\/1\.1 (\d{3})/.exec(text)?.[1]) || null, text, sentBeforeAnswer: sentBeforeAnswer ?? sent }));
+    socket.on("error", () => socket.destroy());
+    socket.setTimeout(60_000, () => socket.destroy());
+    const pump = () => {
+      while (sentBeforeAnswer === null && sent < total) {
+        const n = Math.min(piece.length, total - sent);
+        sent += n;
+        const bytes = chunked ? Buffer.concat([Buffer.from(`${n.toString(16)}\r\n`), piece.subarray(0, n), Buffer.from("\r\n")]) : piece.subarray(0, n);
+        if (!socket.write(bytes)) return void socket.once("drain", pump);
+      }
+      if (chunked && sent >= total && !ended) {
+        ended = true;
+        socket.write("0\r\n\r\n");
+      }
+    };
+    socket.write(head, pump);
+  });
+}
+
 /** The sentence a page or JSON answer shows: the error page's paragraph, or the JSON's error. */
 function sentence(answer: Answer) {
   if (answer.type.includes("json")) return (JSON.parse(answer.body) as { error?: string }).error ?? answer.body;
@@ -260,6 +309,49 @@ const CASES: WireCase[] = [
     status: 403,
     says: /Refused: this request came from another site\./,
   },
+  {
+    kind: "cross-site form",
+    what: "a form posted with an https Origin of this host to the http app (another origin: the scheme differs)",
+    send: () =>
+      send("/client/requests/new", {
+        method: "POST",
+        body: samplesForm(),
+        headers: { "Content-Type": FORM, Origin: base.replace(/^http:/, "https:") },
+      }),
+    status: 403,
+    says: /Refused: this request came from another site\./,
+  },
+  {
+    kind: "NUL byte in text",
+    what: "create account with %00 in the account name",
+    send: () =>
+      post("/create-account", "kind=client&name=Ada%00Quill&email=nul%40quill.example&password=long-enough-password&organisationName=Quill+Labs", FORM, ""),
+    status: 400,
+    says: /NUL character/,
+  },
+  {
+    kind: "invalid UTF-8",
+    what: "create account with an account name in Latin-1 bytes",
+    send: () =>
+      post(
+        "/create-account",
+        Buffer.concat([
+          Buffer.from("kind=client&email=latin1%40quill.example&password=long-enough-password&organisationName=Quill+Labs&name=J"),
+          Buffer.from([0xf6, 0x72, 0x67]),
+        ]),
+        FORM,
+        "",
+      ),
+    status: 400,
+    says: /The form is not UTF-8 text/,
+  },
+  {
+    kind: "NUL byte in text",
+    what: "GET /labs/%00 (a lab profile address with a NUL)",
+    send: () => send("/labs/%00", {}, ""),
+    status: 404,
+    says: /No approved lab is listed at this address\./,
+  },
 ];
 
 describe("bad input on the wire is refused with a sentence and changes nothing", () => {
@@ -303,6 +395,109 @@ describe("bad input on the wire is refused with a sentence and changes nothing",
       expect(html, page).not.toContain(script);
       expect(html, page).not.toContain(img);
     }
+  });
+
+  it("TRACE, and methods the app does not take, are 405 with an Allow header; TRACK is refused as unreadable", async () => {
+    for (const [method, target] of [
+      ["TRACE", "/"],
+      ["TRACE", "/client"],
+      ["PROPFIND", "/labs"],
+    ]) {
+      const answer = await rawExchange(
+        Buffer.from(`${method} ${target} HTTP/1.1\r\nHost: 127.0.0.1:${port}\r\nCookie: ${client}\r\nConnection: close\r\n\r\n`),
+      );
+      expect(answer.status, `${method} ${target}: ${answer.text.slice(0, 300)}`).toBe(405);
+      expect(answer.text).toMatch(/^Allow: GET, HEAD, OPTIONS, POST, PUT, PATCH, DELETE\r$/im);
+    }
+    // Node's HTTP parser knows no TRACK, so it never reaches the app: a 400 with a sentence (server/main.ts).
+    const track = await rawExchange(Buffer.from(`TRACK / HTTP/1.1\r\nHost: 127.0.0.1:${port}\r\nConnection: close\r\n\r\n`));
+    expect(track.status).toBe(400);
+  });
+
+  it("sign-in with redirectTo=%2F%09%2Fevil.example%2F goes to the workspace, not to //evil.example/", async () => {
+    const answer = await post("/sign-in", "email=owner%40halvorsen.example&password=diffractory-demo&redirectTo=%2F%09%2Fevil.example%2F", FORM, "");
+    expect(answer.status, answer.body.slice(0, 300)).toBe(302);
+    expect(answer.location).toBe("/client");
+  });
+
+  it("sign-in with a CR in redirectTo is a redirect to the workspace, not a 500 after the session was written", async () => {
+    const answer = await post("/sign-in", "email=owner%40halvorsen.example&password=diffractory-demo&redirectTo=%2F%0D%2Fevil.example%2F", FORM, "");
+    expect(answer.status, answer.body.slice(0, 300)).toBe(302);
+    expect(answer.location).toBe("/client");
+  });
+
+  it("answers to a signed-in person are Cache-Control: private, no-store; public answers keep their caching", async () => {
+    const cacheOf = async (pathname: string, cookie = client) =>
+      (await fetch(`${base}${pathname}`, { headers: cookie ? { Cookie: cookie } : {}, redirect: "manual" })).headers.get("cache-control");
+    for (const page of ["/client", "/client/requests", "/labs", "/account/security", "/no-such-page"])
+      expect(await cacheOf(page), page).toBe("private, no-store");
+    // A route's own no-store stays as it is.
+    expect(await cacheOf("/api/me")).toBe("private, no-store");
+    // The answer that starts a session carries it too.
+    const signIn = await fetch(`${base}/sign-in`, {
+      method: "POST",
+      body: new URLSearchParams({ email: "owner@halvorsen.example", password: PASSWORD }),
+      headers: { Origin: base, "Content-Type": FORM },
+      redirect: "manual",
+    });
+    expect(signIn.headers.get("cache-control")).toBe("private, no-store");
+    // Without a session, public pages are as before; the directory API stays public (the same for everyone).
+    expect(await cacheOf("/labs", "")).toBeNull();
+    expect(await cacheOf("/api/labs", "")).toBe("public, max-age=30");
+    expect(await cacheOf("/api/labs")).toBe("public, max-age=30");
+  });
+
+  // The attack as sent: 50 MB bodies to an address anyone may post to, and to a signed-in JSON address, declared
+  // and chunked. Each is answered 413 at once, long before the body is through, and changes nothing.
+  const BIG = 50_000_000;
+  const bigHead = (pathname: string, type: string, length: number | "chunked", cookie = "") =>
+    `POST ${pathname} HTTP/1.1\r\nHost: 127.0.0.1:${port}\r\nOrigin: ${base}\r\n${cookie ? `Cookie: ${cookie}\r\n` : ""}Content-Type: ${type}\r\n` +
+    `${length === "chunked" ? "Transfer-Encoding: chunked" : `Content-Length: ${length}`}\r\n\r\n`;
+  for (const c of [
+    { what: "a 50 MB create-account form with its length declared", path: "/create-account", type: FORM, chunked: false, signedIn: false },
+    { what: "a 50 MB create-account form in chunks without a declared length", path: "/create-account", type: FORM, chunked: true, signedIn: false },
+    {
+      what: "a 50 MB JSON body to POST /api/notifications with its length declared",
+      path: "/api/notifications",
+      type: "application/json",
+      chunked: false,
+      signedIn: true,
+    },
+    { what: "a 50 MB JSON body to POST /api/notifications in chunks", path: "/api/notifications", type: "application/json", chunked: true, signedIn: true },
+  ]) {
+    it(`oversized body: ${c.what} is answered 413 before it is through, and changes nothing`, async () => {
+      const before = await snapshot();
+      const answer = await streamBody(bigHead(c.path, c.type, c.chunked ? "chunked" : BIG, c.signedIn ? client : ""), BIG, { chunked: c.chunked });
+      expect(answer.status, answer.text.slice(0, 400)).toBe(413);
+      expect(answer.text).toMatch(/The request is too large: forms and API bodies are at most 1 MB/);
+      // What sat in the sockets' buffers when the answer came is a few MB at most, not the 50 MB.
+      expect(answer.sentBeforeAnswer).toBeLessThan(BIG / 5);
+      expect(changedTables(before, await snapshot())).toEqual([]);
+    });
+  }
+
+  it("eight 50 MB bodies at once (create account, and signed-in notifications) leave the server's peak memory and its health check as they were", {
+    timeout: 120_000,
+  }, async () => {
+    // The peak resident memory of the app under test since it started (Linux /proc).
+    const peak = () => Number(/VmHWM:\s+(\d+) kB/.exec(fs.readFileSync(`/proc/${server!.pid}/status`, "utf8"))![1]) * 1024;
+    // A first request warms the server up (a cold start alone can take seconds).
+    expect((await fetch(`${base}/api/health`)).status).toBe(200);
+    const before = peak();
+    const attack = Promise.all(
+      Array.from({ length: 8 }, (_, i) =>
+        streamBody(i % 2 ? bigHead("/api/notifications", "application/json", BIG, client) : bigHead("/create-account", FORM, BIG), BIG),
+      ),
+    );
+    await new Promise((r) => setTimeout(r, 100));
+    const started = performance.now();
+    const health = await fetch(`${base}/api/health`);
+    const healthMs = performance.now() - started;
+    const answers = await attack;
+    expect(answers.map((a) => a.status)).toEqual(Array(8).fill(413));
+    expect(health.status).toBe(200);
+    expect(healthMs).toBeLessThan(2000);
+    expect(peak() - before).toBeLessThan(100_000_000);
   });
 
   it("logged no unexpected server error while refusing all of the above", () => {

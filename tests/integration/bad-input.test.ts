@@ -2,11 +2,12 @@
 // webhook. Each case must answer a 4xx with a sentence the user can act on, and leave every table as it was.
 // Body-level cases (oversized, cut off, wrong Content-Type, invalid UTF-8 bytes) go over HTTP in
 // bad-input-http.test.ts.
-import { createHash } from "node:crypto";
+import { createHash, randomUUID } from "node:crypto";
 import Stripe from "stripe";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
 import { changedTables, shown, snapshot } from "./db-snapshot";
+import { SHARE_LINK_MAX_LIVE } from "~/domain/order-files";
 import { INSTRUMENT_FIELDS, SAMPLE_FIELDS } from "./form-fixtures";
 import { callRoute, cookieFrom, formRequest, getRequest, type RouteAnswer } from "./route-call";
 
@@ -22,6 +23,7 @@ async function loadApp() {
   return {
     signIn: await import("~/routes/public/sign-in"),
     createAccount: await import("~/routes/public/create-account"),
+    labProfile: await import("~/routes/public/lab-profile"),
     samples: await import("~/routes/client/request-samples"),
     hazards: await import("~/routes/client/request-hazards"),
     measurement: await import("~/routes/client/request-measurement"),
@@ -49,6 +51,9 @@ async function loadApp() {
     config: (await import("~/config.server")).config,
     labs: await import("~/models/labs/vetting.server"),
     storage: await import("~/models/files/storage.server"),
+    requests: await import("~/models/requests/requests.server"),
+    shareLinks: await import("~/models/files/share-links.server"),
+    dataRoomOrder: await import("~/routes/client/data-room-order"),
     scanCheck: await import("~/models/checks/scan-check.server"),
     simulate: await import("~/diffraction/simulate"),
     structures: await import("~/diffraction/structures"),
@@ -336,6 +341,17 @@ beforeAll(async () => {
   const token = await callRoute(app.tokens.action, formRequest("/lab/api-tokens", { intent: "create", name: "Diffractometer PC" }, await as(LAB)));
   ids.apiToken = (token.body as { created: { token: string } }).created.token;
 
+  // The measuring order's data room already holds as many live share links as one order may have.
+  for (let i = 1; i <= SHARE_LINK_MAX_LIVE; i++) {
+    await app.shareLinks.createShareLink({
+      orderId: ids.measuring,
+      organisationId: w.halvorsen.id,
+      userId: w.owner.id,
+      label: `Reader ${i}`,
+      expiresAt: new Date(Date.now() + 7 * 86_400_000),
+    });
+  }
+
   // A lab that has just signed up, for its vetting application.
   const lab = await callRoute(
     app.createAccount.action,
@@ -543,6 +559,25 @@ const CASES: Case[] = [
     ),
     status: 400,
     says: /already/,
+  },
+  {
+    kind: "NUL byte in text",
+    what: "create account with a NUL character in the name",
+    send: form(
+      "createAccount",
+      "/create-account",
+      { kind: "client", name: "Ada\u0000Quill", email: "nul@quill.example", password: "long-enough-password", organisationName: "Quill Labs" },
+      null,
+    ),
+    status: 400,
+    says: /NUL character/,
+  },
+  {
+    kind: "NUL byte in text",
+    what: "a lab profile address (slug) with a NUL character",
+    send: async () => callRoute(app.labProfile.loader, getRequest("/labs/%00"), { slug: "\u0000" }),
+    status: 404,
+    says: /No approved lab is listed at this address\./,
   },
 
   // Forms: the request wizard.
@@ -1048,6 +1083,111 @@ const CASES: Case[] = [
     says: /size/i,
   },
   {
+    kind: "path climbing out of a storage key",
+    what: "a safety data sheet key that starts with the request's folder and climbs into another organisation's with ../",
+    send: async () => {
+      // Another organisation's data sheet, stored where the app's own upload would have put it.
+      const theirs = `requests/${w.granite.id}/${randomUUID()}/sds/${randomUUID()}/their-sheet.pdf`;
+      await app.storage.putObject(theirs, PDF, "application/pdf");
+      const ours = app.requests.sdsPrefix({ id: ids.draft, organisationId: w.halvorsen.id });
+      return hazardsForm({
+        "samples[0].ghs": "GHS07",
+        "samples[0].sdsStorageKey": `${ours}/../../../${theirs.slice("requests/".length)}`,
+        "samples[0].sdsFileName": "sheet.pdf",
+        "samples[0].sdsSha256": sha256(PDF),
+      })();
+    },
+    status: 400,
+    says: /Upload the safety data sheet on this page\./,
+  },
+  {
+    kind: "path climbing out of a storage key",
+    what: "a vetting certificate key that starts with the lab's folder and climbs into another lab's with ../",
+    send: async () => {
+      const fields = await putVettingFiles("climb-certificate", siliconScan());
+      const theirs = `labs/${w.granite.id}/vetting/${randomUUID()}/accreditation.pdf`;
+      await app.storage.putObject(theirs, PDF, "application/pdf");
+      const certificateKey = `${app.labs.vettingPrefix(ids.vettingLab)}/../../${theirs.slice("labs/".length)}`;
+      return callRoute(app.vetting.action, formRequest("/lab/vetting", { ...fields, certificateKey }, ids.vettingCookie));
+    },
+    status: 400,
+    says: /Upload the accreditation certificate again\./,
+  },
+  {
+    kind: "path climbing out of a storage key",
+    what: "a vetting calibration scan key that climbs into another lab's folder with ../",
+    send: async () => {
+      const fields = await putVettingFiles("climb-scan", siliconScan());
+      const scan = siliconScan();
+      const theirs = `labs/${w.granite.id}/vetting/${randomUUID()}/si-640c.xy`;
+      await app.storage.putObject(theirs, scan, "text/plain");
+      const scanKey = `${app.labs.vettingPrefix(ids.vettingLab)}/../../${theirs.slice("labs/".length)}`;
+      return callRoute(app.vetting.action, formRequest("/lab/vetting", { ...fields, scanKey, scanSha256: sha256(scan) }, ids.vettingCookie));
+    },
+    status: 400,
+    says: /Upload the calibration scan again\./,
+  },
+  {
+    kind: "control character in a file name",
+    what: "an upload named with CR/LF, which would end the download's header line",
+    send: async () => labUploadStart(JSON.stringify({ name: "scan\r\nX-Injected: yes.xy", size: 10, kind: "scan", sampleId: ids.measuringSample }))(),
+    status: 400,
+    says: /The file name contains a control character/,
+  },
+  {
+    kind: "control character in a file name",
+    what: "an instrument computer's upload named with CR/LF",
+    send: async () => v1Start(JSON.stringify({ name: "scan\r\n.xy", size: 10, kind: "scan", sampleId: ids.measuringSample }))(),
+    status: 400,
+    says: /The file name contains a control character/,
+  },
+  {
+    kind: "control character in a file name",
+    what: "a safety data sheet named with a line feed",
+    send: sdsTarget({ fileName: "sheet\n.pdf", size: "2048", type: "application/pdf" }),
+    status: 400,
+    says: /The file name contains a control character/,
+  },
+  {
+    kind: "control character in a file name",
+    what: "the hazards form naming an uploaded safety data sheet with CR/LF",
+    send: async () => {
+      const key = `${app.requests.sdsPrefix({ id: ids.draft, organisationId: w.halvorsen.id })}/${randomUUID()}/sheet.pdf`;
+      await app.storage.putObject(key, PDF, "application/pdf");
+      return hazardsForm({
+        "samples[0].ghs": "GHS07",
+        "samples[0].sdsStorageKey": key,
+        "samples[0].sdsFileName": "sheet\r\n.pdf",
+        "samples[0].sdsSha256": sha256(PDF),
+      })();
+    },
+    status: 400,
+    says: /The file name contains a control character/,
+  },
+  {
+    kind: "control character in a file name",
+    what: "a vetting application naming its certificate with CR/LF",
+    send: async () =>
+      callRoute(
+        app.vetting.action,
+        formRequest("/lab/vetting", { ...(await putVettingFiles("crlf-name", siliconScan())), certificateName: "accreditation\r\n.pdf" }, ids.vettingCookie),
+      ),
+    status: 400,
+    says: /The file name contains a control character/,
+  },
+  {
+    kind: "too many items",
+    what: "a 21st live share link on one order",
+    send: async () =>
+      callRoute(
+        app.dataRoomOrder.action,
+        formRequest(`/client/data-room/${ids.measuring}`, { intent: "share", label: "One reader too many", days: "7" }, await as(CLIENT)),
+        { orderId: ids.measuring },
+      ),
+    status: 400,
+    says: /at most 20 live share links/,
+  },
+  {
     kind: "binary junk as a scan",
     what: "4 kB of binary bytes named .xy",
     ...rejectedScan(
@@ -1236,5 +1376,53 @@ describe("bad input is refused with a sentence and changes nothing", () => {
       expect(outcome).toMatchObject({ status: "failed", error: expect.stringMatching(says) });
     }
     expect(await w.orderState(ids.measuring)).toBe("measuring");
+  });
+});
+
+// redirectTo comes from the address a person was sent to sign in from, so anyone can write it into a link.
+describe("a redirect target sent to sign-in is followed only to a path on this site", () => {
+  const signInWith = (redirectTo: string, email = CLIENT) => callRoute(app.signIn.action, formRequest("/sign-in", { email, password: PASSWORD, redirectTo }));
+  const sessionCount = async () => (await w.db.select({ id: w.schema.sessions.id }).from(w.schema.sessions)).length;
+
+  it.each([
+    // The reported attack, as sent: redirectTo=%2F%09%2Fevil.example%2F (browsers drop the tab and go to //evil.example/).
+    ["a tab between the slashes", "/\t/evil.example/"],
+    ["a backslash after the slash", "/\\evil.example"],
+    ["a protocol-relative URL", "//evil.example/"],
+    ["dot segments that leave //host behind", "/..//evil.example/"],
+    ["an absolute URL", "https://evil.example/"],
+    ["javascript:", "javascript:alert(1)"],
+  ])("%s goes to the workspace instead", async (_what, redirectTo) => {
+    const answer = await signInWith(redirectTo);
+    expect(answer.status, shown(answer).slice(0, 300)).toBe(302);
+    expect(answer.headers.get("location")).toBe("/client");
+    expect(cookieFrom(answer)).toBeTruthy();
+  });
+
+  it("a CR in redirectTo is no 500 after the session row is written: one session, its cookie, the workspace", async () => {
+    const before = await sessionCount();
+    const answer = await signInWith("/\r/evil.example/");
+    expect(answer.status, shown(answer).slice(0, 300)).toBe(302);
+    expect(answer.headers.get("location")).toBe("/client");
+    expect(cookieFrom(answer)).toBeTruthy();
+    expect(await sessionCount()).toBe(before + 1);
+  });
+
+  it("a path on this site is followed in the form a browser reads it", async () => {
+    expect((await signInWith("/client/orders?tab=open")).headers.get("location")).toBe("/client/orders?tab=open");
+    expect((await signInWith("/labs?q=Zürich")).headers.get("location")).toBe("/labs?q=Z%C3%BCrich");
+  });
+
+  it("the second-factor step passes on only a checked target, and follows only a path on this site", async () => {
+    const ADMIN = "admin@diffractory.example";
+    const first = await signInWith("/\t/evil.example/", ADMIN);
+    expect(first.headers.get("location")).toBe("/sign-in/code");
+    const { freshTotpCode } = await import("./route-call");
+    const [admin] = await w.db.select().from(w.schema.users).where(w.eq(w.schema.users.email, ADMIN));
+    const { code } = await freshTotpCode(admin.totpSecret!, admin.totpLastStep);
+    const { action: enterCode } = await import("~/routes/public/sign-in-code");
+    const second = await callRoute(enterCode, formRequest("/sign-in/code", { intent: "verify", code, redirectTo: "/\t/evil.example/" }, cookieFrom(first)));
+    expect(second.status, shown(second).slice(0, 300)).toBe(302);
+    expect(second.headers.get("location")).toBe("/admin");
   });
 });

@@ -1,5 +1,6 @@
 // Measurement requests: drafts saved step by step, publishing, who may see a request, hazard acknowledgements.
 import { isUuid } from "~/domain/ids";
+import { isKeyUnder } from "~/domain/storage-keys";
 import { and, asc, eq, inArray, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { MarketRequest, Sample, SpecialHazard } from "~/db/schema";
@@ -7,7 +8,7 @@ import { DOCUMENT_RULE, presignDownload, verifyStoredObject, type UploadRule } f
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
 import { parseFormula } from "~/domain/formula";
-import { labsMatchingRequest } from "~/models/labs/matching.server";
+import { inLabInbox, labsMatchingRequest } from "~/models/labs/matching.server";
 import { declaresHazard } from "~/domain/hazards";
 import { WIZARD_STEPS, type MeasurementStep, type SamplesStep, type SampleHazardInput, type WizardStep } from "~/domain/request-forms";
 
@@ -212,7 +213,8 @@ export async function saveHazards(request: MarketRequest, input: SampleHazardInp
       afterMeasurement: h.afterMeasurement,
     };
     if (h.sdsStorageKey && h.sdsStorageKey !== sample.sdsStorageKey) {
-      if (!h.sdsStorageKey.startsWith(`${sdsPrefix(request)}/`)) {
+      // Segment by segment: a raw prefix match would take `<prefix>/../../<another organisation's sheet>`.
+      if (!isKeyUnder(h.sdsStorageKey, sdsPrefix(request))) {
         errors[`samples[${i}].sds`] = ["Upload the safety data sheet on this page."];
         continue;
       }
@@ -326,25 +328,22 @@ async function labsToTell(request: MarketRequest): Promise<string[]> {
 // ───────────── The lab's side ─────────────
 
 /**
- * A request as a lab may see it: open and visible to the lab (open to all, or invited), or one the lab has
- * quoted on. Anything else is null, so a lab cannot tell another's invitation from a missing request.
+ * A request as a lab may read it: one in its inbox (an approved lab, and the request open and fitting the lab
+ * or invited: matching.server.ts's rule), or one the lab has quoted on, whatever happened since. Anything else
+ * is null, so a lab cannot tell another's invitation, or a request it may not read, from a missing one.
  */
 export async function requestVisibleToLab(requestId: string | undefined, labId: string): Promise<MarketRequest | null> {
   if (!isUuid(requestId)) return null;
   const [row] = await db
-    .select()
+    .select({
+      request: schema.requests,
+      // Qualified by hand, as in requestsPage: inside the subquery an unqualified "id" would be the quote's own.
+      quoted: sql<boolean>`exists (select 1 from ${schema.quotes} q where q.request_id = "requests"."id" and q.lab_id = ${labId})`,
+    })
     .from(schema.requests)
-    .where(
-      and(
-        eq(schema.requests.id, requestId),
-        sql`(
-          (${schema.requests.state} = 'open' and (${schema.requests.visibility} = 'open' or exists (
-            select 1 from ${schema.requestInvitations} i where i.request_id = ${schema.requests.id} and i.lab_id = ${labId})))
-          or exists (select 1 from ${schema.quotes} q where q.request_id = ${schema.requests.id} and q.lab_id = ${labId})
-        )`,
-      ),
-    );
-  return row ?? null;
+    .where(eq(schema.requests.id, requestId));
+  if (!row) return null;
+  return row.quoted || (await inLabInbox(row.request.id, labId)) ? row.request : null;
 }
 
 export async function acknowledgementOf(requestId: string, labId: string) {

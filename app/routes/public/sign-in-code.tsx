@@ -13,9 +13,9 @@ import { audit } from "~/models/audit.server";
 import { readForm } from "~/utils/form.server";
 import { actorFor } from "~/models/accounts/actors.server";
 import { requireSecondFactorPending, workspacePath } from "~/utils/permissions.server";
-import { safeRedirect } from "~/utils/safe-redirect";
+import { sameSitePath } from "~/utils/safe-redirect";
 import { countSecondFactorFailure, endSession, startSession } from "~/utils/session.server";
-import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/models/accounts/sign-in-limit.server";
+import { reserveSignInAttempt, signInAttemptSucceeded, TOO_MANY_ATTEMPTS } from "~/models/accounts/sign-in-limit.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { TOTP_MESSAGES } from "~/domain/totp-messages";
 import type { Route } from "./+types/sign-in-code";
@@ -23,7 +23,12 @@ import type { Route } from "./+types/sign-in-code";
 const CodeSchema = z.object({
   intent: z.literal("verify"),
   code: z.string({ error: "Enter the 6-digit code from your authenticator app." }).trim().max(20, TOTP_MESSAGES.malformed),
-  redirectTo: z.string().max(2000).optional(),
+  // Only a path on this site is kept (see sign-in.tsx), checked before the session is started.
+  redirectTo: z
+    .string()
+    .max(2000)
+    .optional()
+    .transform((to) => sameSitePath(to) ?? undefined),
 });
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -41,12 +46,13 @@ export async function action({ request, context }: Route.ActionArgs) {
   if (submission.status !== "success") return data({ result: submission.reply({ hideFields: ["code"] }) }, { status: 400 });
   const email = user.email.toLowerCase();
   const address = context.clientAddress;
-  if (await tooManyFailures(email, address)) {
+  // Counted before the code is checked, like the password step (sign-in.tsx).
+  const attempt = await reserveSignInAttempt(email, address);
+  if (attempt === null) {
     return redirectWithToast("/sign-in", { kind: "error", message: TOO_MANY_ATTEMPTS }, { headers: [["Set-Cookie", await endSession(request)]] });
   }
   const check = await acceptTotpCode(user, submission.value.code);
   if (!check.ok) {
-    await recordSignInAttempt(email, address, false);
     const failures = await countSecondFactorFailure(request);
     if (failures >= SECOND_FACTOR_TRIES) {
       await audit({
@@ -65,12 +71,12 @@ export async function action({ request, context }: Route.ActionArgs) {
     }
     return data({ result: submission.reply({ fieldErrors: { code: [TOTP_MESSAGES[check.reason]] }, hideFields: ["code"] }) }, { status: 400 });
   }
-  await recordSignInAttempt(email, address, true);
+  await signInAttemptSucceeded(attempt);
   // A fresh token for the fully signed-in session; the waiting one ends.
   const cookie = await startSession(request, user.id, session.activeOrganisationId);
   await audit({ actorUserId: user.id, action: "signed_in", subjectType: "user", subjectId: user.id, details: { secondFactor: true }, clientAddress: address });
   const actor = await actorFor(user, session.activeOrganisationId);
-  return redirect(safeRedirect(submission.value.redirectTo, workspacePath(actor)), { headers: { "Set-Cookie": cookie } });
+  return redirect(submission.value.redirectTo ?? workspacePath(actor), { headers: { "Set-Cookie": cookie } });
 }
 
 export default function SignInCode({ loaderData, actionData }: Route.ComponentProps) {

@@ -11,15 +11,20 @@ import { authenticator, normaliseEmail, WrongCredentials } from "~/utils/auth.se
 import { readForm } from "~/utils/form.server";
 import { actorFor } from "~/models/accounts/actors.server";
 import { requireAnonymous, workspacePath } from "~/utils/permissions.server";
-import { safeRedirect } from "~/utils/safe-redirect";
+import { sameSitePath } from "~/utils/safe-redirect";
 import { startSession } from "~/utils/session.server";
-import { recordSignInAttempt, TOO_MANY_ATTEMPTS, tooManyFailures } from "~/models/accounts/sign-in-limit.server";
+import { reserveSignInAttempt, signInAttemptSucceeded, TOO_MANY_ATTEMPTS } from "~/models/accounts/sign-in-limit.server";
 import type { Route } from "./+types/sign-in";
 
 const SignInSchema = z.object({
   email: z.email({ error: (i) => (i.input === undefined ? "Enter your e-mail address." : "Enter a valid e-mail address.") }),
   password: z.string({ error: "Enter your password." }).max(200, "A password has at most 200 characters."),
-  redirectTo: z.string().optional(),
+  // Anyone can write redirectTo into a link: only a path on this site is kept, checked here, before any session
+  // exists; anything else (another host, a control character) falls back to the workspace.
+  redirectTo: z
+    .string()
+    .optional()
+    .transform((to) => sameSitePath(to) ?? undefined),
 });
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -37,7 +42,9 @@ export async function action({ request, context }: Route.ActionArgs) {
   }
   const email = normaliseEmail(submission.value.email);
   const address = context.clientAddress;
-  if (await tooManyFailures(email, address)) {
+  // The attempt is counted before the password is checked, so attempts sent at once cannot pass the limit together.
+  const attempt = await reserveSignInAttempt(email, address);
+  if (attempt === null) {
     return data({ result: submission.reply({ formErrors: [TOO_MANY_ATTEMPTS], hideFields: ["password"] }) }, { status: 429 });
   }
   let user;
@@ -45,20 +52,20 @@ export async function action({ request, context }: Route.ActionArgs) {
     user = await authenticator.authenticate("password", request);
   } catch (err) {
     if (!(err instanceof WrongCredentials)) throw err;
-    await recordSignInAttempt(email, address, false);
     return data({ result: submission.reply({ fieldErrors: { password: [err.message] }, hideFields: ["password"] }) }, { status: 400 });
   }
+  // The password was right; with a second factor, the code screen counts its own attempts.
+  await signInAttemptSucceeded(attempt);
   const actor = await actorFor(user, null);
   if (user.totpEnabledAt && user.totpSecret) {
     const waiting = await startSession(request, user.id, actor.active?.organisation.id ?? null, { awaitingSecondFactor: true });
-    const then = safeRedirect(submission.value.redirectTo, "");
+    const then = submission.value.redirectTo;
     const next = then ? `?${new URLSearchParams({ redirectTo: then })}` : "";
     return redirect(`/sign-in/code${next}`, { headers: { "Set-Cookie": waiting } });
   }
-  await recordSignInAttempt(email, address, true);
   const cookie = await startSession(request, user.id, actor.active?.organisation.id ?? null);
   await audit({ actorUserId: user.id, action: "signed_in", subjectType: "user", subjectId: user.id, clientAddress: address });
-  return redirect(safeRedirect(submission.value.redirectTo, workspacePath(actor)), { headers: { "Set-Cookie": cookie } });
+  return redirect(submission.value.redirectTo ?? workspacePath(actor), { headers: { "Set-Cookie": cookie } });
 }
 
 export default function SignIn({ actionData }: Route.ComponentProps) {
