@@ -10,9 +10,12 @@ import { BODY_LIMIT_BYTES, TOO_LARGE } from "~/utils/form.server";
 
 /**
  * How much of a refused body is still read and dropped, so a client that is still sending gets the answer
- * rather than a reset connection; past it the connection is given up (as form.server.ts does).
+ * rather than a reset connection. Past it the server stops reading (the client's sends stall, it reads the
+ * 413 and gives up) and drops the connection after LINGER_MS: destroying it at once would reset it, and a
+ * reset throws away the answer the client had not read yet.
  */
 const DRAIN_CAP = 16 * BODY_LIMIT_BYTES;
+const LINGER_MS = 2000;
 
 /** The body reader of a refused chunked body fails with the refusal itself, so a route that lets it escape answers it. */
 const refusal = () => Response.json({ error: TOO_LARGE }, { status: 413 });
@@ -30,12 +33,16 @@ function answerTooLarge(req: ExpressRequest, res: ExpressResponse) {
   else res.type("text/plain").send(TOO_LARGE);
 }
 
-/** Counts dropped bytes; past DRAIN_CAP the connection is given up. */
+/** Counts dropped bytes; past DRAIN_CAP reading stops and the connection is given up a little later. */
 function dropper(req: ExpressRequest) {
   let dropped = 0;
+  let lingering = false;
   return (chunk: Buffer) => {
     dropped += chunk.length;
-    if (dropped > DRAIN_CAP) req.socket.destroy();
+    if (dropped <= DRAIN_CAP || lingering) return;
+    lingering = true;
+    req.socket.pause();
+    setTimeout(() => req.socket.destroy(), LINGER_MS).unref();
   };
 }
 

