@@ -282,6 +282,13 @@ const CASES: WireCase[] = [
     says: /NUL character/,
   },
   {
+    kind: "NUL byte in text",
+    what: "marking notifications read with a form field holding %00 (read through the one form reader)",
+    send: () => post("/api/notifications", "all=true%00", FORM),
+    status: 400,
+    says: /NUL character/,
+  },
+  {
     kind: "very long URL",
     what: "a 10,000-character directory search in the URL",
     send: () => send(`/api/labs?q=${"a".repeat(10_000)}`),
