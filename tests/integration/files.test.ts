@@ -53,32 +53,8 @@ function jsonRequest(path: string, body: unknown, headers: Record<string, string
 const sha256 = (bytes: string | Uint8Array) => createHash("sha256").update(bytes).digest("hex");
 
 /** A paid order of Halvorsen at Granite Ridge with one sample, moved on to measuring by the lab. */
-async function measuringOrder() {
-  const orderId = await w.makeOrder();
-  await w.pay(orderId);
-  const [order] = await w.db.select().from(w.schema.orders).where(w.eq(w.schema.orders.id, orderId));
-  const [sample] = await w.db
-    .insert(w.schema.samples)
-    .values({
-      requestId: order.requestId,
-      label: "LFP lot 7",
-      formula: "LiFePO4",
-      crystalSystem: "orthorhombic",
-      centering: "P",
-      cellA: 10.33,
-      cellB: 6.01,
-      cellC: 4.69,
-    })
-    .returning();
-  for (const [to, mover] of [
-    ["samples_in_transit", "client"],
-    ["samples_received", "lab"],
-    ["measuring", "lab"],
-  ] as const) {
-    await w.db.transaction(async (tx) => w.app.orders.moveOrder(tx, await w.app.orders.lockOrder(tx, orderId), to, mover, null));
-  }
-  return { orderId, sampleId: sample.id };
-}
+const measuringOrder = () =>
+  w.measuringOrder({ label: "LFP lot 7", formula: "LiFePO4", crystalSystem: "orthorhombic", centering: "P", cellA: 10.33, cellB: 6.01, cellC: 4.69 });
 
 function scanText(targetBytes = 0) {
   const sim = app.simulate.simulatePattern({

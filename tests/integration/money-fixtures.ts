@@ -122,6 +122,33 @@ export async function moneyWorld() {
     }
   }
 
+  /** A paid order of Halvorsen at Granite Ridge with one declared sample, moved on to measuring by the lab. */
+  async function measuringOrder(sample: {
+    label: string;
+    formula: string;
+    crystalSystem: string;
+    centering: string;
+    cellA: number;
+    cellB: number;
+    cellC: number;
+  }) {
+    const orderId = await makeOrder();
+    await pay(orderId);
+    const [order] = await db.select().from(schema.orders).where(eq(schema.orders.id, orderId));
+    const [row] = await db
+      .insert(schema.samples)
+      .values({ requestId: order.requestId, ...sample })
+      .returning();
+    for (const [to, mover] of [
+      ["samples_in_transit", "client"],
+      ["samples_received", "lab"],
+      ["measuring", "lab"],
+    ] as const) {
+      await db.transaction(async (tx) => app.orders.moveOrder(tx, await app.orders.lockOrder(tx, orderId), to, mover, null));
+    }
+    return { orderId, sampleId: row.id };
+  }
+
   async function close() {
     await fake.controls.settle(5000).catch(() => null);
     await fake.close();
@@ -144,6 +171,7 @@ export async function moneyWorld() {
     pay,
     orderState,
     deliver,
+    measuringOrder,
     sessionIdOf,
     webhookUrl,
     close,

@@ -54,32 +54,8 @@ function jsonRequest(path: string, body: unknown, cookie: string) {
 }
 
 /** A paid order of Halvorsen at Granite Ridge with one sample, moved on to measuring by the lab. */
-async function measuringOrder() {
-  const orderId = await w.makeOrder();
-  await w.pay(orderId);
-  const [order] = await w.db.select().from(w.schema.orders).where(w.eq(w.schema.orders.id, orderId));
-  const [sample] = await w.db
-    .insert(w.schema.samples)
-    .values({
-      requestId: order.requestId,
-      label: "Si standard",
-      formula: "Si",
-      crystalSystem: "cubic",
-      centering: "F",
-      cellA: 5.431,
-      cellB: 5.431,
-      cellC: 5.431,
-    })
-    .returning();
-  for (const [to, mover] of [
-    ["samples_in_transit", "client"],
-    ["samples_received", "lab"],
-    ["measuring", "lab"],
-  ] as const) {
-    await w.db.transaction(async (tx) => w.app.orders.moveOrder(tx, await w.app.orders.lockOrder(tx, orderId), to, mover, null));
-  }
-  return { orderId, sampleId: sample.id };
-}
+const measuringOrder = () =>
+  w.measuringOrder({ label: "Si standard", formula: "Si", crystalSystem: "cubic", centering: "F", cellA: 5.431, cellB: 5.431, cellC: 5.431 });
 
 function siliconScan() {
   const sim = app.simulate.simulatePattern({
