@@ -1,9 +1,12 @@
-// A Web Worker that runs the lattice check off the browser's main thread (the preview before an upload).
-import { checkScanText, type CheckScanResult, type LatticeCheckOptions } from "./check";
+// A Web Worker that runs the lattice check off the browser's main thread (the preview before an upload). The file
+// arrives as bytes, so binary scan formats preview as they are checked on the server.
+import { checkScanFile, type CheckScanResult, type LatticeCheckOptions } from "./check";
 
 export interface CheckWorkerRequest {
   id: number;
-  text: string;
+  /** The file's bytes (transferred, not copied). */
+  bytes: ArrayBuffer;
+  fileName?: string;
   options: LatticeCheckOptions;
 }
 
@@ -15,9 +18,9 @@ const scope = self as unknown as {
 };
 
 scope.onmessage = (event) => {
-  const { id, text, options } = event.data;
+  const { id, bytes, fileName, options } = event.data;
   try {
-    scope.postMessage({ id, ...checkScanText(text, options) });
+    scope.postMessage({ id, ...checkScanFile(new Uint8Array(bytes), { ...options, fileName }) });
   } catch (err) {
     scope.postMessage({ id, ok: false, error: `The check could not be completed: ${err instanceof Error ? err.message : String(err)}` });
   }

@@ -5,7 +5,7 @@
 // The 2e-4 Å tolerance is the project's accuracy target for cubic cells; the 0.3 % / 3 % offsets are our own cases.
 import { describe, expect, it } from "vitest";
 import type { Cell } from "~/diffraction/cell";
-import { checkScanText, runLatticeCheck, type LatticeCheckOptions } from "~/diffraction/check";
+import { checkScanFile, runLatticeCheck, type LatticeCheckOptions } from "~/diffraction/check";
 import { formatScanAsXy, simulatePattern, type SimulationOptions } from "~/diffraction/simulate";
 import { HALITE, RUTILE, SILICON, STRUCTURES, ZINCITE, type CrystalStructure } from "~/diffraction/structures";
 import type { Radiation } from "~/diffraction/wavelengths";
@@ -111,17 +111,17 @@ describe("every phase checked against every other phase's declaration", () => {
   }
 });
 
-describe("checkScanText", () => {
+describe("checkScanFile", () => {
   it("parses and checks, or returns one sentence", () => {
     const sim = simulatePattern({ structure: SILICON, radiation: CU, twoThetaMin: 20, twoThetaMax: 100, step: 0.02, noise: { seed: 3 } });
-    const good = checkScanText(formatScanAsXy(sim), declare(SILICON));
+    const good = checkScanFile(formatScanAsXy(sim), declare(SILICON));
     expect(good.ok && good.result.verdict).toBe("consistent");
-    const bad = checkScanText("", declare(SILICON));
+    const bad = checkScanFile("", declare(SILICON));
     expect(bad).toEqual({ ok: false, error: "The file is empty." });
-    const flat = checkScanText(Array.from({ length: 500 }, (_, i) => `${10 + i * 0.02} ${100 + ((i * 7919) % 13) - 6}`).join("\n"), declare(SILICON));
+    const flat = checkScanFile(Array.from({ length: 500 }, (_, i) => `${10 + i * 0.02} ${100 + ((i * 7919) % 13) - 6}`).join("\n"), declare(SILICON));
     expect(flat.ok).toBe(false);
     if (!flat.ok) expect(flat.error).toMatch(/flat line/);
-    const badCell = checkScanText(formatScanAsXy(sim), { ...declare(SILICON), cell: { ...SILICON.cell, b: 6 } });
+    const badCell = checkScanFile(formatScanAsXy(sim), { ...declare(SILICON), cell: { ...SILICON.cell, b: 6 } });
     expect(badCell.ok).toBe(false);
   });
 });
