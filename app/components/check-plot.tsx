@@ -1,5 +1,6 @@
 // The interactive pattern of a lattice check (uPlot on a canvas): observed counts, background, fitted profile,
-// the difference curve offset below, and tick marks at the refined cell's reflections. Drag to zoom in 2θ,
+// the difference curve offset below, tick marks at the refined cell's reflections, and marks over peaks that are
+// not the sample's (Kβ, tungsten L, holder lines). Drag to zoom in 2θ,
 // Shift + drag or the arrow buttons to pan, the wheel to zoom around the pointer, double-click to reset.
 import { useEffect, useRef, useState } from "react";
 import type uPlotType from "uplot";
@@ -18,10 +19,12 @@ export interface CheckPlotData {
   background: ArrayLike<number>;
   fitted: ArrayLike<number>;
   ticks: CheckPlotTick[];
+  /** Peaks that are not the sample's, with their words ("Cu Kβ of (1 1 0)"); drawn as marks above the tick row. */
+  marks?: CheckPlotTick[];
 }
 
 // The product's own palette (app.css): observed in ink, fitted in beam violet, background grey, difference in ok green.
-const COLOURS = { observed: "#252a35", fitted: "#5b4ee6", background: "#8690a3", difference: "#15803d", ticks: "#3c31a8" };
+const COLOURS = { observed: "#252a35", fitted: "#5b4ee6", background: "#8690a3", difference: "#15803d", ticks: "#3c31a8", marks: "#b45309" };
 
 /** The y offsets that put the tick row and the difference curve under the pattern. */
 export function plotLayout(data: CheckPlotData) {
@@ -88,6 +91,19 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
           ctx.lineTo(x, y + 6 * devicePixelRatio);
         }
         ctx.stroke();
+        // Lines that are not the sample's: a short mark above the tick row, in the caution colour.
+        const marks = data.marks ?? [];
+        if (marks.length > 0) {
+          ctx.strokeStyle = COLOURS.marks;
+          ctx.beginPath();
+          for (const m of marks) {
+            if (m.twoTheta < xMin || m.twoTheta > xMax) continue;
+            const x = u.valToPos(m.twoTheta, "x", true);
+            ctx.moveTo(x, y - 16 * devicePixelRatio);
+            ctx.lineTo(x, y - 8 * devicePixelRatio);
+          }
+          ctx.stroke();
+        }
         ctx.restore();
       };
       const opts: uPlotType.Options = {
@@ -215,7 +231,11 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
       <div ref={host} className="check-plot w-full overflow-hidden rounded-lg border border-ink-200 bg-white" data-testid="check-plot" />
       <figcaption className="text-xs text-ink-600">
         Drag across the plot to zoom in 2θ, Shift + drag to pan, the mouse wheel zooms around the pointer, double-click resets. Short vertical marks under the
-        pattern are the refined cell&apos;s reflections; the green curve below is observed − fitted.
+        pattern are the refined cell&apos;s reflections
+        {data.marks?.length
+          ? "; the orange marks above them are peaks that are not the sample's (Kβ, tungsten L or holder lines, named in the peaks table)"
+          : ""}
+        ; the green curve below is observed − fitted.
       </figcaption>
     </figure>
   );

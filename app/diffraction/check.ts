@@ -1,16 +1,28 @@
-// The automatic lattice-parameter check of a delivered scan: peaks, indexing, refinement, merit, verdict.
+// The automatic lattice-parameter check of a delivered scan: peaks, lines that are not the sample's,
+// indexing, refinement, merit, verdict.
 
 import { type Cell, type Centering, type CrystalSystem, CENTERINGS, CRYSTAL_SYSTEMS, checkCellForSystem, checkCentering, twoThetaFromD } from "./cell";
 import { type CubicIndexing, indexCubic } from "./index-cubic";
-import { refinedLineShift } from "./line-shifts";
+import { type HolderMatch, indexingWindow, matchHolderLines, matchStrayLines, type PeakOrigin, type StrayMatch } from "./foreign-lines";
+import { SAMPLE_HOLDER_IDS, type SampleHolder } from "./holders";
+import { penetrationMmOf, refinedLineShift } from "./line-shifts";
 import { deWolffM20, smithSnyderFN } from "./merit";
-import { type ParseScanOptions, type Scan, parseScan } from "./parse-scan";
+import { type CheckableScan, type ParseScanOptions, parseScan, type ScanMetadata } from "./parse-scan";
 import { analysePeaks, type FittedPeak } from "./peaks";
 import { median } from "./sorted";
-import { type CorrectionKind, figuresOfMeritLines, type ObservedPeak, type Refinement, refineCell } from "./refine";
+import {
+  type CorrectionKind,
+  figuresOfMeritLines,
+  type ObservedPeak,
+  type RefinedCorrectionKind,
+  type Refinement,
+  type RefineOptions,
+  refineCell,
+  type TransparencyOption,
+} from "./refine";
 import { type InstrumentProfile, SCHERRER_CAUTION, scherrerSize } from "./scherrer";
 import { decideVerdict, type Verdict } from "./verdict";
-import { type Radiation, radiationLines } from "./wavelengths";
+import { type Radiation, radiationLines, strayLines } from "./wavelengths";
 
 export interface LatticeCheckOptions {
   radiation: Radiation;
@@ -18,12 +30,36 @@ export interface LatticeCheckOptions {
   centering?: Centering;
   /** The sample's declared (approximate) cell; without it a cubic pattern is indexed from scratch. */
   cell?: Cell;
-  /** Which instrumental correction is refined with the cell (default a zero shift). */
+  /**
+   * Which instrumental correction is refined with the cell: default "auto" (zero shift and specimen
+   * displacement together where the range separates them) for an anode tube's Bragg–Brentano scan, a zero
+   * shift for a single wavelength.
+   */
   refine?: CorrectionKind;
-  /** For the displacement correction, mm (default 240 mm, a usual lab radius; common practice). */
+  /** The transparency correction for a weakly absorbing sample: refined, or fixed from its μ (cm⁻¹). */
+  transparency?: TransparencyOption;
+  /** For the displacement and transparency corrections, mm (default 240 mm, a usual lab radius; common practice). */
   goniometerRadiusMm?: number;
+  /** The sample holder, whose own lines are then labelled rather than counted as unindexed. */
+  holder?: SampleHolder;
   /** Instrument profile for the Scherrer sizes; without it sizes include instrumental broadening. */
   instrumentProfile?: InstrumentProfile;
+}
+
+/** Why a peak is not the sample's: a stray tube line of another peak's reflection, or a holder line. */
+export interface ForeignLine {
+  origin: Exclude<PeakOrigin, "sample">;
+  /** The line ("Cu Kβ", "W Lα1") or the holder's phase ("Al", "Si", "quartz", "steel"). */
+  line: string;
+  /** Stray lines: the peak (index into `peaks`) whose reflection diffracts it, and that peak's Miller indices. */
+  parentPeak: number | null;
+  parentHkl: [number, number, number] | null;
+  /** Stray lines: integrated intensity over the parent's. */
+  ratioToParent: number | null;
+  /** Holder lines: the holder phase's reflection. */
+  holderHkl: [number, number, number] | null;
+  /** Where the line was expected, degrees 2θ. */
+  expectedTwoTheta: number;
 }
 
 export interface CheckedPeak {
@@ -37,7 +73,15 @@ export interface CheckedPeak {
   relativeIntensity: number;
   height: number;
   fwhm: number;
+  /** Standard uncertainty of the FWHM from the profile fit, degrees 2θ (absent in results stored before it). */
+  fwhmEsd?: number | null;
   eta: number;
+  /**
+   * The sample's reflection, or a line that is not the sample's (then `foreign` says which). Absent in results
+   * stored before these labels: the sample's.
+   */
+  origin?: PeakOrigin;
+  foreign?: ForeignLine | null;
   hkl: [number, number, number] | null;
   /** Calculated position of the assigned reflection in the observed frame, degrees 2θ. */
   twoThetaCalc?: number;
@@ -54,7 +98,7 @@ export interface TickMark {
   k: number;
   l: number;
   d: number;
-  /** Position in the observed frame (with the refined zero shift or displacement), degrees 2θ. */
+  /** Position in the observed frame (with the refined corrections), degrees 2θ. */
   twoTheta: number;
   multiplicity: number;
 }
@@ -87,13 +131,25 @@ export interface LatticeCheckResult {
   declaredCell: Cell | null;
   cell: Cell | null;
   esd: Cell | null;
-  correction: CorrectionKind;
-  /** Degrees 2θ (observed = calculated + zeroShift). */
+  /** The correction asked for, and the one refined (what "auto" chose). */
+  correctionRequested: CorrectionKind;
+  correction: RefinedCorrectionKind;
+  /** Degrees 2θ (observed = calculated + zeroShift + …); 0 when not refined. */
   zeroShift: number;
   zeroShiftEsd: number | null;
-  /** mm, positive above the focusing circle (displacement model only). */
+  /** mm, positive above the focusing circle; 0 when not refined. */
   displacement: number;
   displacementEsd: number | null;
+  /** Correlation coefficient of the zero shift and the displacement when both were refined or tried. */
+  zeroDisplacementCorrelation: number | null;
+  /** Transparency: none, refined, or fixed from the given μ; penetration depth 1/μ in mm. */
+  transparency: "none" | "refined" | "fixed";
+  penetrationMm: number;
+  penetrationMmEsd: number | null;
+  goniometerRadiusMm: number;
+  holder: SampleHolder | null;
+  /** How many peaks were labelled as lines that are not the sample's. */
+  foreignPeaks: { kbeta: number; tungstenL: number; holder: number };
   deviation: CellDeviation | null;
   peaks: CheckedPeak[];
   unindexed: CheckedPeak[];
@@ -114,6 +170,10 @@ export interface LatticeCheckResult {
   background: Float64Array;
   fittedProfile: Float64Array;
   wavelength: number;
+  /** The scan file's format (reader id and label) and what the file states about the measurement. */
+  scanFormat: string;
+  scanFormatLabel: string;
+  metadata: ScanMetadata;
   warnings: string[];
   elapsedMs: number;
 }
@@ -141,12 +201,23 @@ export function checkOptionsProblem(options: LatticeCheckOptions): string | null
     const problem = checkCellForSystem(system, options.cell);
     if (problem) return problem;
   }
+  if (options.refine && !["zero_shift", "displacement", "zero_and_displacement", "auto"].includes(options.refine)) {
+    return `Unknown instrumental correction "${options.refine}".`;
+  }
+  if (options.holder && !SAMPLE_HOLDER_IDS.includes(options.holder)) return `Unknown sample holder "${options.holder}".`;
+  const t = options.transparency;
+  if (t && "linearAttenuationPerCm" in t && !(t.linearAttenuationPerCm > 0 && Number.isFinite(t.linearAttenuationPerCm))) {
+    return `The linear attenuation coefficient must be a positive number of cm⁻¹; got ${t.linearAttenuationPerCm}.`;
+  }
+  if (options.goniometerRadiusMm !== undefined && !(options.goniometerRadiusMm > 0 && options.goniometerRadiusMm < 2000)) {
+    return `The goniometer radius must be a positive number of mm; got ${options.goniometerRadiusMm}.`;
+  }
   if (options.system && options.centering) return checkCentering(options.system, options.centering);
   return null;
 }
 
 /** Runs the check on a parsed scan. Throws a RangeError with a sentence when the options are unusable. */
-export function runLatticeCheck(scan: Scan, options: LatticeCheckOptions): LatticeCheckResult {
+export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOptions): LatticeCheckResult {
   const started = performance.now();
   const problem = checkOptionsProblem(options);
   if (problem) throw new RangeError(problem);
@@ -166,8 +237,15 @@ export function runLatticeCheck(scan: Scan, options: LatticeCheckOptions): Latti
     fwhm: p.fwhm,
     intensity: p.area,
   }));
-  const correction = options.refine ?? "zero_shift";
+  const correctionRequested: CorrectionKind = options.refine ?? (options.radiation.kind === "anode" ? "auto" : "zero_shift");
   const radius = options.goniometerRadiusMm ?? 240;
+  const holder = options.holder && options.holder !== "none" ? options.holder : null;
+
+  // Stray tube lines predicted from the observed peaks alone, before any cell: kept out of the indexing.
+  const stray = strayLines(options.radiation);
+  const strayOptions = { wavelength, kAlpha2: lines[1] ? { wavelength: lines[1].wavelength, weight: lines[1].weight } : undefined };
+  const strayBefore = matchStrayLines(observed, stray, strayOptions);
+  const excluded = new Set(strayBefore.keys());
 
   let system = options.system ?? (options.cell ? inferSystem(options.cell) : null);
   if (options.cell && !options.system) warnings.push(`No crystal system was given; the declared cell's shape suggests ${system}.`);
@@ -178,54 +256,128 @@ export function runLatticeCheck(scan: Scan, options: LatticeCheckOptions): Latti
   }
   let refinement: Refinement | null = null;
   let cubicIndexing: CubicIndexing | null = null;
+  let sampleIndices: number[] = [];
   const extraReasons: string[] = [];
+  const refineOn = (indices: number[], start: Cell, sys: CrystalSystem, cen: Centering, extra: Partial<RefineOptions> = {}) =>
+    refineCell(
+      indices.map((i) => observed[i]),
+      {
+        wavelength,
+        system: sys,
+        centering: cen,
+        start,
+        correction: correctionRequested,
+        transparency: options.transparency,
+        goniometerRadiusMm: radius,
+        twoThetaMax,
+        ...extra,
+      },
+    );
   if (fitted.length > 0 && options.cell && system && centering) {
-    refinement = refineCell(observed, {
-      wavelength,
-      system,
-      centering,
-      start: options.cell,
-      correction,
-      goniometerRadiusMm: radius,
-      twoThetaMax,
-    });
+    sampleIndices = observed.map((_, i) => i).filter((i) => !excluded.has(i));
+    refinement = refineOn(sampleIndices, options.cell, system, centering);
   } else if (fitted.length > 0 && (!system || system === "cubic")) {
-    cubicIndexing = indexCubic(observed, { wavelength, twoThetaMax });
+    // Without a cell a holder's own (often cubic) lines could be indexed as the sample: left out too.
+    if (holder) {
+      const candidates = observed.map((_, i) => i).filter((i) => !excluded.has(i));
+      for (const i of matchHolderLines(observed, candidates, holder, { wavelength, twoThetaMax }).keys()) excluded.add(i);
+    }
+    sampleIndices = observed.map((_, i) => i).filter((i) => !excluded.has(i));
+    cubicIndexing = indexCubic(
+      sampleIndices.map((i) => observed[i]),
+      { wavelength, twoThetaMax },
+    );
     const best = cubicIndexing.candidates[0];
     if (best && !cubicIndexing.lowerSymmetryNeeded) {
       system = "cubic";
       centering = best.centering;
-      refinement = refineCell(observed, {
-        wavelength,
-        system,
-        centering,
-        start: best.refinement.cell,
-        correction,
-        goniometerRadiusMm: radius,
-        twoThetaMax,
-        searchRange: 0.002,
-      });
+      refinement = refineOn(sampleIndices, best.refinement.cell, system, centering, { searchRange: 0.002 });
     }
     extraReasons.push(cubicIndexing.message);
   } else if (fitted.length > 0) {
     extraReasons.push(`No cell was declared; indexing from scratch is done only for cubic lattices, so a ${system} sample needs its cell declared.`);
   }
 
+  // A peak left out as a stray line that the refined cell also explains goes back to the sample unless it
+  // is faint (the usual leak-through) and sits closer to the stray line's place than to the reflection's.
+  if (refinement && system && centering && excluded.size > 0) {
+    const strayAfter = matchStrayLines(observed, stray, { ...strayOptions, correction: refinement });
+    const reclaimed = [...excluded].filter((i) => {
+      const reflection = nearestReflection(observed[i].twoTheta, refinement!, wavelength);
+      if (reflection === null) return false;
+      const window = indexingWindow(observed[i]);
+      if (reflection.miss > window) return false;
+      const match = strayAfter.get(i);
+      return !match?.faint || match.distance > reflection.miss / window;
+    });
+    if (reclaimed.length > 0) {
+      for (const i of reclaimed) excluded.delete(i);
+      sampleIndices = observed.map((_, i) => i).filter((i) => !excluded.has(i));
+      refinement = refineOn(sampleIndices, refinement.cell, system, centering, { searchRange: 0.002, correction: refinement.correction });
+    }
+  }
+
   const hklOf = new Map<number, Refinement["assignments"][number]>();
-  for (const a of refinement?.assignments ?? []) hklOf.set(a.peak, a);
+  for (const a of refinement?.assignments ?? []) hklOf.set(sampleIndices[a.peak], a);
+  // The labels, with the refined corrections when there are any: every peak the cell does not index.
+  const correction = refinement && refinement.used > 0 ? refinement : undefined;
+  const notIndexed = observed.map((_, i) => i).filter((i) => !hklOf.has(i));
+  const strayFinal = matchStrayLines(observed, stray, { ...strayOptions, correction });
+  const foreignOf = new Map<number, StrayMatch | HolderMatch>();
+  for (const i of notIndexed) {
+    const m = strayFinal.get(i);
+    if (m) foreignOf.set(i, m);
+  }
+  if (holder) {
+    const candidates = notIndexed.filter((i) => !foreignOf.has(i));
+    for (const [i, m] of matchHolderLines(observed, candidates, holder, { wavelength, twoThetaMax, correction })) foreignOf.set(i, m);
+  }
+
   const strongestArea = Math.max(0, ...fitted.map((p) => p.area));
   const peaks: CheckedPeak[] = fitted.map((p, i) => checkedPeak(p, hklOf.get(i), strongestArea, wavelength, options.instrumentProfile));
+  peaks.forEach((p, i) => {
+    const m = foreignOf.get(i);
+    if (!m) return;
+    p.origin = m.origin;
+    p.foreign =
+      m.origin === "holder"
+        ? { origin: "holder", line: m.phase, parentPeak: null, parentHkl: null, ratioToParent: null, holderHkl: m.hkl, expectedTwoTheta: m.expectedTwoTheta }
+        : {
+            origin: m.origin,
+            line: m.label,
+            parentPeak: m.parent,
+            parentHkl: peaks[m.parent].hkl,
+            ratioToParent: m.ratio,
+            holderHkl: null,
+            expectedTwoTheta: m.expectedTwoTheta,
+          };
+  });
+  const foreignPeaks = {
+    kbeta: peaks.filter((p) => p.origin === "kbeta").length,
+    tungstenL: peaks.filter((p) => p.origin === "tungsten_l").length,
+    holder: peaks.filter((p) => p.origin === "holder").length,
+  };
+  if (foreignPeaks.kbeta + foreignPeaks.tungstenL + foreignPeaks.holder > 0) {
+    const parts = [
+      foreignPeaks.kbeta ? `${foreignPeaks.kbeta} Kβ` : "",
+      foreignPeaks.tungstenL ? `${foreignPeaks.tungstenL} tungsten L` : "",
+      foreignPeaks.holder ? `${foreignPeaks.holder} sample holder` : "",
+    ].filter(Boolean);
+    extraReasons.push(`Peaks labelled as lines that are not the sample's and left out of the indexing: ${parts.join(", ")}.`);
+  }
 
+  const sampleObserved = sampleIndices.map((i) => observed[i]);
   const {
     lines: meritLines,
     calculatedQ,
     calculatedTwoTheta,
-  } = refinement ? figuresOfMeritLines(observed, refinement, wavelength) : { lines: [], calculatedQ: [], calculatedTwoTheta: [] };
+  } = refinement ? figuresOfMeritLines(sampleObserved, refinement, wavelength) : { lines: [], calculatedQ: [], calculatedTwoTheta: [] };
   const m20 = deWolffM20(meritLines, calculatedQ);
   const fn = smithSnyderFN(meritLines, calculatedTwoTheta);
   const refined = refinement !== null && refinement.used > 0 && refinement.dof >= 0 && refinement.assignments.some((a) => a.used);
-  const unindexed = peaks.filter((p) => p.hkl === null);
-  const byIntensity = [...peaks].sort((a, b) => b.intensity - a.intensity);
+  const samplePeaks = peaks.filter((p) => !p.foreign);
+  const unindexed = samplePeaks.filter((p) => p.hkl === null);
+  const byIntensity = [...samplePeaks].sort((a, b) => b.intensity - a.intensity);
   const cell = refined ? refinement!.cell : null;
   const declared = options.cell ?? null;
   const decision = decideVerdict({
@@ -238,6 +390,7 @@ export function runLatticeCheck(scan: Scan, options: LatticeCheckOptions): Latti
     refinedCell: cell,
     esd: refined ? refinement!.esd : null,
   });
+  if (refinement) warnings.push(...refinement.warnings);
   if (peaks.length > 0 && !options.instrumentProfile) warnings.push(SCHERRER_CAUTION);
   const reflections: TickMark[] = refined
     ? refinement!.reflections
@@ -252,6 +405,8 @@ export function runLatticeCheck(scan: Scan, options: LatticeCheckOptions): Latti
         .filter((t) => t.twoTheta >= scan.twoTheta[0] && t.twoTheta <= twoThetaMax)
         .sort((x, y) => x.twoTheta - y.twoTheta)
     : [];
+  const t = options.transparency;
+  const transparency = t && "refine" in t ? "refined" : t && "linearAttenuationPerCm" in t ? "fixed" : "none";
   return {
     verdict: decision.verdict,
     reasons: [...decision.reasons, ...extraReasons],
@@ -260,11 +415,19 @@ export function runLatticeCheck(scan: Scan, options: LatticeCheckOptions): Latti
     declaredCell: declared,
     cell,
     esd: refined ? refinement!.esd : null,
-    correction,
+    correctionRequested,
+    correction: refinement?.correction ?? (correctionRequested === "auto" ? "zero_and_displacement" : correctionRequested),
     zeroShift: refined ? refinement!.zeroShift : 0,
     zeroShiftEsd: refined ? refinement!.zeroShiftEsd : null,
     displacement: refined ? refinement!.displacement : 0,
     displacementEsd: refined ? refinement!.displacementEsd : null,
+    zeroDisplacementCorrelation: refinement ? refinement.zeroDisplacementCorrelation : null,
+    transparency,
+    penetrationMm: refined ? refinement!.penetrationMm : t && "linearAttenuationPerCm" in t ? penetrationMmOf(t.linearAttenuationPerCm) : 0,
+    penetrationMmEsd: refined ? refinement!.penetrationMmEsd : null,
+    goniometerRadiusMm: radius,
+    holder,
+    foreignPeaks,
     deviation: cell && declared ? cellDeviation(cell, declared) : null,
     peaks,
     unindexed,
@@ -297,9 +460,22 @@ export function runLatticeCheck(scan: Scan, options: LatticeCheckOptions): Latti
     background: analysis.background,
     fittedProfile: analysis.fittedProfile,
     wavelength,
+    scanFormat: scan.format ?? "xy",
+    scanFormatLabel: scan.formatLabel ?? scan.format ?? "xy",
+    metadata: scan.metadata ?? {},
     warnings,
     elapsedMs: performance.now() - started,
   };
+}
+
+/** The refined cell's reflection nearest to an observed position, and how far it is, degrees 2θ. */
+function nearestReflection(twoTheta: number, refinement: Refinement, wavelength: number): { miss: number } | null {
+  let best: number | null = null;
+  for (const r of refinement.reflections) {
+    const x = observedPosition(r.d, wavelength, refinement);
+    if (Number.isFinite(x) && (best === null || Math.abs(x - twoTheta) < best)) best = Math.abs(x - twoTheta);
+  }
+  return best === null ? null : { miss: best };
 }
 
 function checkedPeak(
@@ -318,7 +494,10 @@ function checkedPeak(
     relativeIntensity: strongestArea > 0 ? (100 * p.area) / strongestArea : 0,
     height: p.height,
     fwhm: p.fwhm,
+    fwhmEsd: Number.isFinite(p.fwhmEsd) ? p.fwhmEsd : null,
     eta: p.eta,
+    origin: "sample",
+    foreign: null,
     hkl: r ? [r.h, r.k, r.l] : null,
     twoThetaCalc: assignment?.twoThetaCalc,
     delta: assignment ? p.twoTheta - assignment.twoThetaCalc : undefined,
@@ -344,11 +523,11 @@ function cellDeviation(cell: Cell, declared: Cell): CellDeviation {
 
 export type CheckScanResult = { ok: true; result: LatticeCheckResult } | { ok: false; error: string };
 
-/** Parses and checks a scan's text; bad input of any kind comes back as one sentence. */
-export function checkScanText(text: string, options: LatticeCheckOptions & ParseScanOptions): CheckScanResult {
+/** Reads and checks a scan file (its bytes, or its text); bad input of any kind comes back as one sentence. */
+export function checkScanFile(input: string | Uint8Array, options: LatticeCheckOptions & ParseScanOptions): CheckScanResult {
   const problem = checkOptionsProblem(options);
   if (problem) return { ok: false, error: problem };
-  const parsed = parseScan(text, options);
+  const parsed = parseScan(input, options);
   if (!parsed.ok) return parsed;
   const result = runLatticeCheck(parsed.scan, options);
   if (result.peaks.length === 0) {

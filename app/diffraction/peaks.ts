@@ -28,6 +28,8 @@ export interface FittedPeak {
   area: number;
   /** Full width at half maximum, degrees 2θ. */
   fwhm: number;
+  /** Its standard uncertainty from the fit, degrees 2θ (NaN when the fit gave none). */
+  fwhmEsd: number;
   /** Lorentzian fraction of the pseudo-Voigt, 0 (Gaussian) … 1 (Lorentzian). */
   eta: number;
   /** Bragg's law with the first line's wavelength, Å. */
@@ -535,6 +537,7 @@ function fitCluster(
     const [x0, h, H, eta] = [result.params[o], result.params[o + 1], result.params[o + 2], result.params[o + 3]];
     const positionEsd = cov ? Math.sqrt(Math.max(cov.data[o * nParams + o], 0) * scale) : NaN;
     const heightEsd = cov ? Math.sqrt(Math.max(cov.data[(o + 1) * nParams + o + 1], 0) * scale) : NaN;
+    const fwhmEsd = cov ? Math.sqrt(Math.max(cov.data[(o + 2) * nParams + o + 2], 0) * scale) : NaN;
     // A peak whose height is not three standard uncertainties above zero is noise (common practice).
     if (!(h > 3 * heightEsd) || !Number.isFinite(positionEsd)) continue;
     // A position pinned on its bound means the fit slid onto a neighbour: not a measured peak.
@@ -546,6 +549,7 @@ function fitCluster(
       heightEsd,
       area: pseudoVoigtArea(h, H, eta),
       fwhm: H,
+      fwhmEsd,
       eta,
       d: lines[0].wavelength / (2 * Math.sin((x0 * RAD) / 2)),
     });

@@ -1,14 +1,21 @@
 // Indexing of observed peaks against a declared cell and least-squares refinement of that cell with a
-// zero shift or a specimen displacement.
+// zero shift, a specimen displacement, both, and optionally the specimen transparency.
 //
-// Model, 2θ in degrees: 2θ_obs = 2θ(Q(p)) + Z  (zero shift), or 2θ_obs = 2θ(Q(p)) − (360/π)·s·cos θ / R
-// (specimen displacement s on a goniometer of radius R; line-shifts.ts). Q = 1/d² is linear
-// in the system's free reciprocal-metric parameters p, so each Gauss–Newton step is a small weighted
-// linear fit; the weights are the peak-position uncertainties from the profile fits.
+// Model, 2θ in degrees: 2θ_obs = 2θ(Q(p)) + Z − (360/π)·s·cos θ / R − (90/π)·sin 2θ / (μ R)
+// (zero shift Z, specimen displacement s and penetration 1/μ on a goniometer of radius R; line-shifts.ts);
+// each correction is refined or held at zero as asked. Q = 1/d² is linear in the system's free
+// reciprocal-metric parameters p and the corrections enter linearly, so each Gauss–Newton step is a small
+// weighted linear fit; the weights are the peak-position uncertainties from the profile fits.
+//
+// "auto" refines the zero shift and the displacement together where the scan's angular range tells them
+// apart (the displacement follows cos θ, the zero is constant). Where that fit finds one of them and the other
+// indistinguishable from none, the found one is refined alone; where it finds neither, or the range does not
+// separate them (|correlation| above CORRELATION_LIMIT), the zero shift alone, with a warning
+// (docs/reference-values.md#peak-positions-and-widths).
 
 import { type Cell, type Centering, type CrystalSystem, cellFromMetricParams, freeParameters, metricParamsFromCell, qDesignRow } from "./cell";
 import { invertSymmetric, matVec, squareMatrix, type SquareMatrix } from "./least-squares";
-import { displacementShift, displacementShiftAtTheta, refinedLineShift } from "./line-shifts";
+import { displacementShiftAtTheta, penetrationMmOf, refinedLineShift, transparencyShiftAtTheta } from "./line-shifts";
 import type { IndexedLine } from "./merit";
 import { allowedReflections, type Reflection } from "./reflections";
 import { lowerBound, median } from "./sorted";
@@ -16,7 +23,41 @@ import { lowerBound, median } from "./sorted";
 const RAD = Math.PI / 180;
 const DEG = 180 / Math.PI;
 
-export type CorrectionKind = "zero_shift" | "displacement";
+/** The instrumental correction refined with the cell; "auto" chooses (see the module comment). */
+export type CorrectionKind = "zero_shift" | "displacement" | "zero_and_displacement" | "auto";
+
+/** The correction a refinement actually used. */
+export type RefinedCorrectionKind = Exclude<CorrectionKind, "auto">;
+
+/**
+ * The transparency correction for weakly absorbing samples: refined (as the penetration depth 1/μ), or
+ * fixed from a known linear attenuation coefficient μ in cm⁻¹.
+ */
+export type TransparencyOption = { refine: true } | { linearAttenuationPerCm: number };
+
+/**
+ * Above this |correlation| of the zero shift and the displacement, the scan's range does not separate them
+ * and "auto" refines the zero shift alone. With the cell refined alongside, the two correlate above 0.99 on
+ * every laboratory scan (simulated scans of 4–155° 2θ with every anode: 0.998–0.99998), yet the combined fit
+ * still gives an unbiased cell with honest esds there, whereas one correction chosen by the data when neither
+ * is clearly found was biased by up to 8×10⁻⁴ Å. So the fallback is kept for ranges where even the combined
+ * fit no longer holds them apart (own choice, docs/reference-values.md#peak-positions-and-widths).
+ */
+export const CORRELATION_LIMIT = 0.99999;
+
+/**
+ * In the combined fit, a correction at least this many esds from zero is taken as found, one closer as
+ * indistinguishable from none (own choice: about 95 % two-sided).
+ */
+export const SIGNIFICANT_T = 2;
+
+type Term = "zero" | "displacement" | "transparency";
+
+interface Model {
+  terms: Term[];
+  /** Penetration depth 1/μ (mm) held fixed, 0 for none. */
+  fixedPenetration: number;
+}
 
 /** An observed peak as refinement needs it. */
 export interface ObservedPeak {
@@ -31,8 +72,10 @@ export interface RefineOptions {
   system: CrystalSystem;
   centering: Centering;
   start: Cell;
+  /** Default "zero_shift". */
   correction?: CorrectionKind;
-  /** Goniometer radius for the displacement model, mm; 240 mm is a usual lab radius (common practice). */
+  transparency?: TransparencyOption;
+  /** Goniometer radius for the displacement and transparency, mm; 240 mm is a usual lab radius (common practice). */
   goniometerRadiusMm?: number;
   /** Largest 2θ of the scan, degrees: reflections beyond it are not listed. */
   twoThetaMax: number;
@@ -52,12 +95,24 @@ export interface Assignment {
 export interface Refinement {
   cell: Cell;
   esd: Cell | null;
-  /** Degrees 2θ (zero-shift model), else 0. */
+  /** The correction refined (what "auto" chose). */
+  correction: RefinedCorrectionKind;
+  /** Degrees 2θ when refined, else 0. */
   zeroShift: number;
   zeroShiftEsd: number | null;
-  /** mm (displacement model), else 0. */
+  /** mm when refined, else 0. */
   displacement: number;
   displacementEsd: number | null;
+  /** Correlation coefficient of the zero shift and the displacement from the covariance matrix, when both were refined (or tried by "auto"). */
+  zeroDisplacementCorrelation: number | null;
+  /** Transparency as the penetration depth 1/μ in mm (refined or fixed), else 0. */
+  penetrationMm: number;
+  penetrationMmEsd: number | null;
+  transparencyRefined: boolean;
+  /** Largest |correlation| of the refined transparency with the other corrections. */
+  transparencyCorrelation: number | null;
+  /** Sentences about the corrections (a fallback of "auto", a transparency that the range cannot separate). */
+  warnings: string[];
   assignments: Assignment[];
   /** Indices of observed peaks no reflection claimed. */
   unindexed: number[];
@@ -77,20 +132,38 @@ export interface Refinement {
 
 interface State {
   p: number[];
-  shift: number;
+  /** The refined corrections, in the order of the model's terms. */
+  shifts: number[];
+}
+
+/** ∂(2θ)/∂(term), degrees per unit of the term, at the Bragg angle θ (radians). */
+function termColumn(term: Term, theta: number, radius: number): number {
+  if (term === "zero") return 1;
+  if (term === "displacement") return displacementShiftAtTheta(theta, 1, radius);
+  return transparencyShiftAtTheta(theta, 1, radius);
+}
+
+/** The correction's shift, degrees 2θ, of a line of Bragg angle θ (radians). */
+function shiftAt(theta: number, shifts: number[], model: Model, radius: number): number {
+  let shift = model.fixedPenetration ? transparencyShiftAtTheta(theta, model.fixedPenetration, radius) : 0;
+  for (let k = 0; k < model.terms.length; k++) shift += shifts[k] * termColumn(model.terms[k], theta, radius);
+  return shift;
 }
 
 /** Calculated 2θ (degrees, observed frame) of a Q for the current state; NaN beyond the Bragg limit. */
-function predict(q: number, shift: number, options: RefineOptions, radius: number): number {
+function predict(q: number, shifts: number[], model: Model, options: RefineOptions, radius: number): number {
   const s = (options.wavelength * Math.sqrt(q)) / 2;
   if (!(s < 1)) return NaN;
-  const twoTheta = 2 * Math.asin(s) * DEG;
-  return twoTheta + correction(twoTheta, shift, options, radius);
+  const theta = Math.asin(s);
+  return 2 * theta * DEG + shiftAt(theta, shifts, model, radius);
 }
 
-function correction(twoTheta: number, shift: number, options: RefineOptions, radius: number): number {
-  if ((options.correction ?? "zero_shift") === "zero_shift") return shift;
-  return displacementShift(twoTheta, shift, radius);
+function modelOf(kind: RefinedCorrectionKind, options: RefineOptions): Model {
+  const terms: Term[] = kind === "zero_shift" ? ["zero"] : kind === "displacement" ? ["displacement"] : ["zero", "displacement"];
+  const t = options.transparency;
+  if (t && "refine" in t) terms.push("transparency");
+  const fixedPenetration = t && "linearAttenuationPerCm" in t && t.linearAttenuationPerCm > 0 ? penetrationMmOf(t.linearAttenuationPerCm) : 0;
+  return { terms, fixedPenetration };
 }
 
 function qOf(system: CrystalSystem, p: number[], r: Reflection): number {
@@ -144,13 +217,62 @@ function qOfRow(row: number[], p: number[]): number {
  * window holds reflections of more than one Q-expression the peak waits for a later pass (see assign).
  */
 export function refineCell(peaks: readonly ObservedPeak[], options: RefineOptions): Refinement {
+  const kind = options.correction ?? "zero_shift";
+  if (kind !== "auto") return refineWith(peaks, options, kind);
+  const both = refineWith(peaks, options, "zero_and_displacement");
+  const correlation = both.zeroDisplacementCorrelation;
+  const usable = both.dof > 0 && correlation !== null && both.zeroShiftEsd !== null && both.displacementEsd !== null;
+  // The esds are scaled by the reduced χ²; for this test never below the weights' own (χ²ᵣ < 1 would shrink them).
+  const inflate = Number.isFinite(both.reducedChi2) && both.reducedChi2 < 1 ? 1 / Math.sqrt(Math.max(both.reducedChi2, 1e-6)) : 1;
+  const tZero = usable ? Math.abs(both.zeroShift) / (both.zeroShiftEsd! * inflate) : 0;
+  const tDisplacement = usable ? Math.abs(both.displacement) / (both.displacementEsd! * inflate) : 0;
+  // One of the two found and the other indistinguishable from none: the found one alone (refining the
+  // other adds only its strongly correlated uncertainty to the cell's).
+  const single: RefinedCorrectionKind | null =
+    tZero >= SIGNIFICANT_T && tDisplacement < SIGNIFICANT_T ? "zero_shift" : tDisplacement >= SIGNIFICANT_T && tZero < SIGNIFICANT_T ? "displacement" : null;
+  // The single refinements start from the combined fit's cell, which is as close as the declaration or closer.
+  const near = both.used > 0 ? { ...options, start: both.cell, searchRange: Math.min(options.searchRange ?? 0.02, 0.002) } : options;
+  if (usable && single) {
+    const alone = refineWith(peaks, near, single, both.used > 0);
+    if (alone.used >= both.used) {
+      alone.zeroDisplacementCorrelation = correlation;
+      alone.warnings.unshift(
+        single === "zero_shift"
+          ? `Refined together with the zero shift, the specimen displacement came out at ${both.displacement.toFixed(3)} ± ${both.displacementEsd!.toFixed(3)} mm, indistinguishable from none, so the zero shift was refined alone.`
+          : `Refined together with the specimen displacement, the zero shift came out at ${both.zeroShift.toFixed(4)}° ± ${both.zeroShiftEsd!.toFixed(4)}°, indistinguishable from none, so the displacement was refined alone.`,
+      );
+      return alone;
+    }
+  }
+  const bothFound = usable && tZero >= SIGNIFICANT_T && tDisplacement >= SIGNIFICANT_T;
+  if (bothFound && Math.abs(correlation!) <= CORRELATION_LIMIT) return both;
+  // Neither found, the range does not separate them, or too few peaks for both: the zero shift alone, the
+  // check's single correction.
+  const alone = refineWith(peaks, near, "zero_shift", both.used > 0);
+  alone.zeroDisplacementCorrelation = correlation;
+  alone.warnings.unshift(
+    !usable
+      ? "Too few peaks to refine both the zero shift and the specimen displacement, so only the zero shift was refined."
+      : bothFound
+        ? `The scan's angular range does not separate the zero shift from the specimen displacement (correlation ${correlation!.toFixed(5)}, above ${CORRELATION_LIMIT}), so only the zero shift was refined.`
+        : `Refined together, neither the zero shift (${both.zeroShift.toFixed(4)}° ± ${both.zeroShiftEsd!.toFixed(4)}°) nor the specimen displacement (${both.displacement.toFixed(3)} ± ${both.displacementEsd!.toFixed(3)} mm) stands out from none at this scan's precision (correlation ${correlation!.toFixed(5)}), so only the zero shift was refined.`,
+  );
+  return alone;
+}
+
+/**
+ * One refinement with the given correction. `warm`: the start is an already refined cell, so the indexing
+ * begins under the tightest prior (the wider ones follow only if that leaves too few peaks).
+ */
+function refineWith(peaks: readonly ObservedPeak[], options: RefineOptions, kind: RefinedCorrectionKind, warm = false): Refinement {
   const { system, centering } = options;
+  const model = modelOf(kind, options);
   const radius = options.goniometerRadiusMm ?? 240;
   const nFree = freeParameters(system).length;
   const startP = metricParamsFromCell(system, options.start);
   const search = options.searchRange ?? 0.02;
   const pool = reflectionPool(system, centering, startP, options, search);
-  const coarse = coarseSearch(peaks, pool, startP, options, radius, search);
+  const coarse = coarseSearch(peaks, pool, startP, options, model, radius, search);
   let state = coarse;
   let assignments: Assignment[] = [];
   let fit: LinearStep | null = null;
@@ -158,23 +280,24 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
   let iterations = 0;
   // A dense pattern (low symmetry, short wavelength) may leave too few unambiguous peaks under the widest
   // prior; the declared cell is then trusted more closely, down to ±0.05 %.
-  const schedule = [...PRIOR_LENGTHS.map((prior) => ({ prior, lenient: false })), { prior: PRIOR_LENGTHS[1], lenient: true }];
+  const priors = warm ? [PRIOR_LENGTHS[PRIOR_LENGTHS.length - 1], ...PRIOR_LENGTHS.slice(0, -1)] : PRIOR_LENGTHS;
+  const schedule = [...priors.map((prior) => ({ prior, lenient: false })), { prior: PRIOR_LENGTHS[1], lenient: true }];
   for (const { prior, lenient } of schedule) {
     state = coarse;
-    let covariance = priorCovariance(system, state.p, options, prior);
+    let covariance = priorCovariance(system, state.p, model, radius, prior);
     fit = null;
     assignments = [];
     let previous = "";
     for (let pass = 0; pass < 12; pass++) {
       const s = fit ? Math.sqrt(Math.max(fit.reducedChi2, 1)) : 1;
-      const next = assign(peaks, pool, state, covariance, options, radius, s, lenient);
+      const next = assign(peaks, pool, state, covariance, options, model, radius, s, lenient);
       const key = next.map((a) => `${a.peak}:${a.reflection.h},${a.reflection.k},${a.reflection.l},${a.used}`).join(";");
       if (key === previous && fit) {
         converged = true;
         break;
       }
       previous = key;
-      const result = iterateLeastSquares(peaks, next, state, options, radius, nFree);
+      const result = iterateLeastSquares(peaks, next, state, options, model, radius, nFree);
       iterations += result.iterations;
       if (!result.fit) break;
       assignments = next;
@@ -184,27 +307,61 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
     }
     if (fit) break;
   }
-  if (fit) addStraddledBlends(peaks, pool, state, assignments, options, radius);
+  if (fit) addStraddledBlends(peaks, pool, state, assignments, options, model, radius);
   // The assigned reflections were listed before the last step; give them the final cell's d and position.
   for (const a of assignments) {
     const q = qOf(system, state.p, a.reflection);
     a.reflection = { ...a.reflection, d: 1 / Math.sqrt(q) };
-    a.twoThetaCalc = predict(q, state.shift, options, radius);
+    a.twoThetaCalc = predict(q, state.shifts, model, options, radius);
   }
   const claimed = new Set(assignments.map((a) => a.peak));
   const unindexed = peaks.map((_, i) => i).filter((i) => !claimed.has(i));
   const finalCovariance = fit ? scaledCovariance(fit) : null;
   const cellCov = finalCovariance ? leadingBlock(finalCovariance, nFree) : undefined;
   const { cell, esd } = cellFromMetricParams(system, state.p, cellCov);
-  const shiftEsd = finalCovariance ? Math.sqrt(Math.max(finalCovariance.data[nFree * (nFree + 1) + nFree], 0)) : null;
-  const zeroModel = (options.correction ?? "zero_shift") === "zero_shift";
+  const n = nFree + model.terms.length;
+  const termIndex = (term: Term) => {
+    const k = model.terms.indexOf(term);
+    return k < 0 ? -1 : nFree + k;
+  };
+  const value = (term: Term) => (termIndex(term) < 0 ? 0 : state.shifts[termIndex(term) - nFree]);
+  const esdOf = (term: Term) => {
+    const i = termIndex(term);
+    return i < 0 || !finalCovariance ? null : Math.sqrt(Math.max(finalCovariance.data[i * n + i], 0));
+  };
+  const correlationOf = (x: Term, y: Term) => {
+    const i = termIndex(x);
+    const j = termIndex(y);
+    if (i < 0 || j < 0 || !fit) return null;
+    const c = fit.covariance.data;
+    const r = c[i * n + j] / Math.sqrt(c[i * n + i] * c[j * n + j]);
+    return Number.isFinite(r) ? r : null;
+  };
+  const warnings: string[] = [];
+  let transparencyCorrelation: number | null = null;
+  if (model.terms.includes("transparency")) {
+    const others = model.terms.filter((t) => t !== "transparency").map((t) => Math.abs(correlationOf("transparency", t) ?? 0));
+    transparencyCorrelation = others.length ? Math.max(...others) : null;
+    if (transparencyCorrelation !== null && transparencyCorrelation > CORRELATION_LIMIT) {
+      warnings.push(
+        `The transparency correlates with the other corrections by ${transparencyCorrelation.toFixed(3)} over this scan's range, so its value and theirs are uncertain; give the sample's linear attenuation coefficient instead if it is known.`,
+      );
+    }
+  }
   return {
     cell,
     esd,
-    zeroShift: zeroModel ? state.shift : 0,
-    zeroShiftEsd: zeroModel ? shiftEsd : null,
-    displacement: zeroModel ? 0 : state.shift,
-    displacementEsd: zeroModel ? null : shiftEsd,
+    correction: kind,
+    zeroShift: value("zero"),
+    zeroShiftEsd: esdOf("zero"),
+    displacement: value("displacement"),
+    displacementEsd: esdOf("displacement"),
+    zeroDisplacementCorrelation: correlationOf("zero", "displacement"),
+    penetrationMm: model.terms.includes("transparency") ? value("transparency") : model.fixedPenetration,
+    penetrationMmEsd: esdOf("transparency"),
+    transparencyRefined: model.terms.includes("transparency"),
+    transparencyCorrelation,
+    warnings,
     assignments,
     unindexed,
     reflections: listReflections(system, centering, state.p, options),
@@ -219,14 +376,14 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
 }
 
 // Prior uncertainty of the cell before any fit: ±0.5 % on the lengths (±1 % on Q) at first, the cross
-// terms of Q scaled alike from the diagonal ones they couple, and ±0.05° 2θ of zero (or its displacement
-// equivalent).
+// terms of Q scaled alike from the diagonal ones they couple, and ±0.05° 2θ of zero (or its equivalent in
+// displacement or transparency).
 const PRIOR_LENGTHS = [0.005, 0.002, 0.001, 0.0005];
 const PRIOR_ZERO = 0.05;
 
-function priorCovariance(system: CrystalSystem, p: number[], options: RefineOptions, priorLength: number): SquareMatrix {
+function priorCovariance(system: CrystalSystem, p: number[], model: Model, radius: number, priorLength: number): SquareMatrix {
   const names = freeParameters(system);
-  const n = names.length + 1;
+  const n = names.length + model.terms.length;
   const cov = squareMatrix(n);
   const diagonal: Record<string, number> = {};
   names.forEach((name, j) => {
@@ -239,9 +396,13 @@ function priorCovariance(system: CrystalSystem, p: number[], options: RefineOpti
     const scale = couples[name] ? Math.sqrt(diagonal[couples[name][0]] * diagonal[couples[name][1]]) : Math.abs(p[j]);
     cov.data[j * n + j] = (2 * priorLength * scale) ** 2;
   });
-  const zeroModel = (options.correction ?? "zero_shift") === "zero_shift";
-  const shiftSigma = zeroModel ? PRIOR_ZERO : (PRIOR_ZERO * (options.goniometerRadiusMm ?? 240) * RAD) / 2;
-  cov.data[n * n - 1] = shiftSigma ** 2;
+  // Each correction's prior: the value that moves a line by PRIOR_ZERO where it moves lines most (the
+  // displacement at low angles, the transparency at 2θ = 90°).
+  model.terms.forEach((term, k) => {
+    const sigma = PRIOR_ZERO / Math.abs(termColumn(term, term === "transparency" ? Math.PI / 4 : 0, radius));
+    const j = names.length + k;
+    cov.data[j * n + j] = sigma ** 2;
+  });
   return cov;
 }
 
@@ -257,12 +418,19 @@ function positionSigma(peak: ObservedPeak): number {
  * the strongest peaks within half a FWHM of a reflection: the start of the indexing, so that a declared
  * cell a little off (thermal expansion, a solid solution) still indexes.
  */
-function coarseSearch(peaks: readonly ObservedPeak[], pool: PoolEntry[], startP: number[], options: RefineOptions, radius: number, range: number): State {
+function coarseSearch(
+  peaks: readonly ObservedPeak[],
+  pool: PoolEntry[],
+  startP: number[],
+  options: RefineOptions,
+  model: Model,
+  radius: number,
+  range: number,
+): State {
   const { wavelength } = options;
   const qCalc = Float64Array.from(pool.map((e) => qOfRow(e.row, startP))).sort();
   const strong = [...peaks.keys()].sort((a, b) => peaks[b].intensity - peaks[a].intensity).slice(0, 20);
-  const zeroOnly = (options.correction ?? "zero_shift") === "zero_shift";
-  const fallback: State = { p: startP, shift: 0 };
+  const fallback: State = { p: startP, shifts: model.terms.map(() => 0) };
   if (strong.length === 0 || qCalc.length === 0) return fallback;
   const fwhm = median(strong.map((i) => peaks[i].fwhm));
   const thetas = strong.map((i) => (peaks[i].twoTheta * RAD) / 2).sort((a, b) => a - b);
@@ -300,10 +468,15 @@ function coarseSearch(peaks: readonly ObservedPeak[], pool: PoolEntry[], startP:
     }
   }
   const p = startP.map((x) => x / (1 + best.scale) ** 2);
-  if (zeroOnly) return { p, shift: best.zero };
-  // Displacement start equal to the zero offset at the strong peaks' median angle (displacementShiftAtTheta solved for s).
+  // The offset found goes to the zero shift when it is refined, else to the displacement, as the value
+  // giving the same shift at the strong peaks' median angle (displacementShiftAtTheta solved for s).
   const thetaMid = thetas[Math.floor(0.5 * (thetas.length - 1))];
-  return { p, shift: (-best.zero * radius * RAD) / (2 * Math.cos(thetaMid)) };
+  const shifts = model.terms.map(() => 0);
+  const zero = model.terms.indexOf("zero");
+  const displacement = model.terms.indexOf("displacement");
+  if (zero >= 0) shifts[zero] = best.zero;
+  else if (displacement >= 0) shifts[displacement] = best.zero / termColumn("displacement", thetaMid, radius);
+  return { p, shifts };
 }
 
 /**
@@ -319,6 +492,7 @@ function assign(
   state: State,
   covariance: SquareMatrix,
   options: RefineOptions,
+  model: Model,
   radius: number,
   chiScale: number,
   lenient: boolean,
@@ -328,9 +502,9 @@ function assign(
   const calc = pool
     .map(({ r, row, key }) => {
       const q = qOfRow(row, state.p);
-      const x = predict(q, state.shift, options, radius);
+      const x = predict(q, state.shifts, model, options, radius);
       if (!(x <= xMax)) return null;
-      const g = positionGradient(options, r, q, radius);
+      const g = positionGradient(options, model, r, q, radius);
       let variance = 0;
       for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) variance += g[i] * covariance.data[i * n + j] * g[j];
       return { r, x, sigma: Math.sqrt(Math.max(variance, 0)), row: key };
@@ -394,13 +568,14 @@ function addStraddledBlends(
   state: State,
   assignments: Assignment[],
   options: RefineOptions,
+  model: Model,
   radius: number,
 ): void {
   const claimedPeaks = new Set(assignments.map((a) => a.peak));
   const claimed = new Set(assignments.map((a) => a.reflection));
   const calc = pool
     .filter((e) => !claimed.has(e.r))
-    .map((e) => ({ r: e.r, x: predict(qOfRow(e.row, state.p), state.shift, options, radius) }))
+    .map((e) => ({ r: e.r, x: predict(qOfRow(e.row, state.p), state.shifts, model, options, radius) }))
     .filter((c) => Number.isFinite(c.x))
     .sort((a, b) => a.x - b.x);
   const xs = Float64Array.from(calc.map((c) => c.x));
@@ -418,12 +593,14 @@ function addStraddledBlends(
   assignments.sort((a, b) => a.peak - b.peak);
 }
 
-/** ∂(2θ_calc)/∂(p, shift) of a reflection, degrees per unit of each parameter. */
-function positionGradient(options: RefineOptions, r: Reflection, q: number, radius: number): number[] {
+/**
+ * ∂(2θ_calc)/∂(p, corrections) of a reflection, degrees per unit of each parameter (the corrections' own
+ * dependence on p through θ is left out: it is of the order of the shift times the step, far below the noise).
+ */
+function positionGradient(options: RefineOptions, model: Model, r: Reflection, q: number, radius: number): number[] {
   const theta = Math.asin((options.wavelength * Math.sqrt(q)) / 2);
   const slope = (options.wavelength / (2 * Math.sqrt(q) * Math.cos(theta))) * DEG;
-  const zeroModel = (options.correction ?? "zero_shift") === "zero_shift";
-  return [...qDesignRow(options.system, r).map((x) => x * slope), zeroModel ? 1 : displacementShiftAtTheta(theta, 1, radius)];
+  return [...qDesignRow(options.system, r).map((x) => x * slope), ...model.terms.map((t) => termColumn(t, theta, radius))];
 }
 
 interface LinearStep {
@@ -443,6 +620,7 @@ function iterateLeastSquares(
   assignments: Assignment[],
   start: State,
   options: RefineOptions,
+  model: Model,
   radius: number,
   nFree: number,
 ): { fit: LinearStep | null; state: State; iterations: number } {
@@ -450,11 +628,11 @@ function iterateLeastSquares(
   let iterations = 0;
   for (let round = 0; round < 4; round++) {
     const used = assignments.filter((a) => a.used);
-    if (used.length < nFree + 2) return { fit: null, state, iterations };
+    if (used.length < nFree + model.terms.length + 1) return { fit: null, state, iterations };
     let fit: LinearStep | null = null;
     for (let it = 0; it < 20; it++) {
       iterations++;
-      const step = gaussNewtonStep(peaks, used, state, options, radius);
+      const step = gaussNewtonStep(peaks, used, state, options, model, radius);
       if (!step) return { fit: null, state, iterations };
       state = step.state;
       fit = step.fit;
@@ -462,7 +640,7 @@ function iterateLeastSquares(
     }
     if (!fit) return { fit: null, state, iterations };
     const normalised = used.map((a) => {
-      const calc = predict(qOf(options.system, state.p, a.reflection), state.shift, options, radius);
+      const calc = predict(qOf(options.system, state.p, a.reflection), state.shifts, model, options, radius);
       return (peaks[a.peak].twoTheta - calc) / positionSigma(peaks[a.peak]);
     });
     const centre = median(normalised);
@@ -470,7 +648,7 @@ function iterateLeastSquares(
     const limit = 5 * Math.max(spread, 1);
     let removed = 0;
     used.forEach((a, i) => {
-      if (Math.abs(normalised[i]) > limit && used.length - removed > nFree + 2) {
+      if (Math.abs(normalised[i]) > limit && used.length - removed > nFree + model.terms.length + 1) {
         a.used = false;
         removed++;
       }
@@ -485,6 +663,7 @@ function gaussNewtonStep(
   used: Assignment[],
   state: State,
   options: RefineOptions,
+  model: Model,
   radius: number,
 ): { state: State; fit: LinearStep; small: boolean } | null {
   const { system, wavelength } = options;
@@ -495,8 +674,11 @@ function gaussNewtonStep(
     const q = qOf(system, state.p, a.reflection);
     const sinTheta = (wavelength * Math.sqrt(q)) / 2;
     if (!(sinTheta < 1) || !(q > 0)) return null;
-    rows.push(positionGradient(options, a.reflection, q, radius));
-    residuals.push(peaks[a.peak].twoTheta - 2 * Math.asin(sinTheta) * DEG);
+    const theta = Math.asin(sinTheta);
+    rows.push(positionGradient(options, model, a.reflection, q, radius));
+    // A fixed transparency is part of the calculated position; the refined corrections are unknowns.
+    const fixed = model.fixedPenetration ? transparencyShiftAtTheta(theta, model.fixedPenetration, radius) : 0;
+    residuals.push(peaks[a.peak].twoTheta - 2 * theta * DEG - fixed);
     weights.push(1 / positionSigma(peaks[a.peak]) ** 2);
   }
   const n = rows[0].length;
@@ -510,10 +692,11 @@ function gaussNewtonStep(
   });
   const covariance = invertSymmetric(normal);
   if (!covariance) return null;
-  // Unknowns: the step of the metric parameters and the correction itself (it enters linearly).
+  // Unknowns: the step of the metric parameters and the corrections themselves (they enter linearly).
   const delta = matVec(covariance, rhs);
+  const nP = state.p.length;
   const p = state.p.map((x, j) => x + delta[j]);
-  const shift = delta[n - 1];
+  const shifts = Array.from(delta.slice(nP));
   let chi2 = 0;
   rows.forEach((row, i) => {
     let f = 0;
@@ -521,9 +704,9 @@ function gaussNewtonStep(
     chi2 += weights[i] * (residuals[i] - f) ** 2;
   });
   const dof = used.length - n;
-  const small = delta.slice(0, n - 1).every((d, j) => Math.abs(d) <= 1e-10 * Math.abs(p[j])) && Math.abs(shift - state.shift) < 1e-7;
+  const small = delta.slice(0, nP).every((d, j) => Math.abs(d) <= 1e-10 * Math.abs(p[j])) && shifts.every((x, k) => Math.abs(x - state.shifts[k]) < 1e-7);
   return {
-    state: { p, shift },
+    state: { p, shifts },
     fit: { covariance, chi2, dof, reducedChi2: dof > 0 ? chi2 / dof : NaN, used: used.length },
     small,
   };

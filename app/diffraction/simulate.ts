@@ -1,9 +1,10 @@
 // Simulated powder scans — structure factors, Lorentz–polarisation, Caglioti widths, pseudo-Voigt
-// profiles, the Kα2 line, instrument offsets, background and seeded counting noise — for demo data and tests.
+// profiles, the Kα2 line, stray tube lines (Kβ, tungsten L), instrument offsets (zero shift, specimen
+// displacement, transparency), background and seeded counting noise — for demo data and tests.
 
 import { type Cell, type Centering, type CrystalSystem, twoThetaFromD } from "./cell";
 import { formFactor } from "./form-factors";
-import { displacementShift } from "./line-shifts";
+import { displacementShift, transparencyShift } from "./line-shifts";
 import { allowedReflections } from "./reflections";
 import type { AtomSite, CrystalStructure } from "./structures";
 import { type Radiation, radiationLines } from "./wavelengths";
@@ -67,6 +68,13 @@ export interface SimulationOptions {
   /** Specimen displacement s (mm, positive = above the focusing circle) on a goniometer of radius R (mm, default 240). */
   specimenDisplacement?: number;
   goniometerRadius?: number;
+  /** Specimen transparency as the penetration depth 1/μ, mm: lines move by −sin 2θ/(2μR) radians. */
+  penetrationMm?: number;
+  /**
+   * Further lines of the tube that diffract from every reflection (e.g. Kβ leaking through a filter, tungsten L
+   * lines of an aged tube): wavelength in Å and intensity relative to Kα1 (e.g. 0.003).
+   */
+  strayLines?: { wavelength: number; weight: number }[];
   background?: Background;
   /** Counts at the top of the strongest Kα1 line (default 10 000). */
   scale?: number;
@@ -261,7 +269,8 @@ export function simulatePattern(options: SimulationOptions): SimulatedScan {
   const defaultB = options.bIso ?? 0.5;
   const fallOffB = options.fallOffB ?? 2;
   const lines = radiationLines(radiation, options.kAlpha2Ratio);
-  const observed = (bragg: number) => bragg + zero + displacementShift(bragg, displacement, radius);
+  const penetration = options.penetrationMm ?? 0;
+  const observed = (bragg: number) => bragg + zero + displacementShift(bragg, displacement, radius) + transparencyShift(bragg, penetration, radius);
   const size = options.crystalliteSizeNm;
   const fwhmAt = (bragg: number, wavelength: number) => {
     const instrument = cagliotiFwhm(shape, bragg);
@@ -278,7 +287,8 @@ export function simulatePattern(options: SimulationOptions): SimulatedScan {
   // Reflections whose tails reach into the scan: a margin beyond the last angle for the widest line.
   const longest = Math.max(...lines.map((l) => l.wavelength));
   const edge = Math.min(twoThetaMax + 2 + Math.abs(zero) + window * fwhmAt(Math.min(twoThetaMax, 179), longest), 179.9);
-  const dMin = longest / (2 * Math.sin((edge / 2) * RAD));
+  // A stray line of shorter wavelength shows reflections whose Kα lines lie beyond the scan.
+  const dMin = Math.min(...[longest, ...(options.strayLines ?? []).map((l) => l.wavelength)].map((w) => w / (2 * Math.sin((edge / 2) * RAD))));
   const planes = allowedReflections(cell, system, centering, { dMin, equivalents: Boolean(structure) });
 
   const kAlpha1 = lines[0].wavelength;
@@ -314,9 +324,10 @@ export function simulatePattern(options: SimulationOptions): SimulatedScan {
   });
   const areaPerStrength =
     strongest >= 0 && strengths[strongest] > 0 ? scale / pseudoVoigtPeakHeight(reflections[strongest].fwhm, shape.eta) / strengths[strongest] : 0;
+  const diffracting = [...lines, ...(options.strayLines ?? [])];
   for (let i = 0; i < planes.length; i++) {
     if (!(strengths[i] > 0)) continue;
-    for (const line of lines) {
+    for (const line of diffracting) {
       const bragg = twoThetaFromD(planes[i].d, line.wavelength);
       if (!Number.isFinite(bragg)) continue;
       addPseudoVoigt(

@@ -36,6 +36,62 @@ export const KALPHA2_RATIO = 0.5;
 /** hc in eV·Å (International Tables Vol. C §4.2.2.14). */
 export const X_RAY_EV_ANGSTROM = 12398.41857;
 
+/** One of a tube's lines that are not the diffracting Kα lines but may leak through to the sample. */
+export interface StrayLine {
+  /** Stable id, e.g. "kbeta" or "W_La1". */
+  id: string;
+  /** How people read it, e.g. "Cu Kβ" or "W Lα1". */
+  label: string;
+  origin: "kbeta" | "tungsten_l";
+  wavelength: number;
+}
+
+/**
+ * Tungsten L lines that an aged tube emits once filament tungsten has deposited on the anode. Energies in eV
+ * are the NIST X-ray Transition Energies Database's measured ("direct") values (Deslattes et al. 2003, Rev.
+ * Mod. Phys. 75, 35): Lα1 = L3M5, Lα2 = L3M4, Lβ1 = L2M4, Lβ2 = L3N5, Lγ1 = L2N4; λ = 12398.41857 eV·Å / E
+ * (docs/reference-values.md#lines-that-are-not-the-samples).
+ */
+export const TUNGSTEN_L_LINES: readonly (StrayLine & { transition: string; energyEv: number })[] = [
+  { id: "W_La1", label: "W Lα1", origin: "tungsten_l", transition: "L3M5", energyEv: 8398.242, wavelength: 1.476311 },
+  { id: "W_La2", label: "W Lα2", origin: "tungsten_l", transition: "L3M4", energyEv: 8335.34, wavelength: 1.487452 },
+  { id: "W_Lb1", label: "W Lβ1", origin: "tungsten_l", transition: "L2M4", energyEv: 9672.575, wavelength: 1.281812 },
+  { id: "W_Lb2", label: "W Lβ2", origin: "tungsten_l", transition: "L3N5", energyEv: 9964.133, wavelength: 1.244305 },
+  { id: "W_Lg1", label: "W Lγ1", origin: "tungsten_l", transition: "L2N4", energyEv: 11286.0, wavelength: 1.098566 },
+];
+
+/**
+ * How strong a stray line may be, as its integrated intensity over that of the same reflection's Kα1 line,
+ * per monochromation (common practice, docs/reference-values.md#lines-that-are-not-the-samples): `limit`
+ * is the most a peak may have and still be taken for the stray line; at or below `faint` it is taken for
+ * one even where the sample's cell also has a reflection (the leak-through usually seen).
+ * - A Kβ filter leaves Kβ at a few tenths of a percent of Kα, up to 1–2 % with a thin or aged foil.
+ * - A secondary monochromator or an energy-discriminating detector ("Kα1 + Kα2") passes less Kβ; a graphite
+ *   monochromator's width still passes part of the tungsten L lines.
+ * - A primary Kα1 monochromator passes neither.
+ */
+export const STRAY_LINE_LIMITS: Record<Monochromation, { kBeta: number; tungstenL: number; faint: number }> = {
+  k_beta_filtered: { kBeta: 0.02, tungstenL: 0.02, faint: 0.005 },
+  k_alpha_doublet: { kBeta: 0.01, tungstenL: 0.02, faint: 0.005 },
+  k_alpha1_only: { kBeta: 0, tungstenL: 0, faint: 0 },
+};
+
+/** The stray lines that may reach the sample with this radiation, each with its intensity limit; none for one wavelength. */
+export function strayLines(r: Radiation): (StrayLine & { limit: number; faint: number })[] {
+  if (r.kind === "custom") return [];
+  const limits = STRAY_LINE_LIMITS[r.monochromation];
+  const out: (StrayLine & { limit: number; faint: number })[] = [];
+  if (limits.kBeta > 0) {
+    out.push({ id: "kbeta", label: `${r.anode} Kβ`, origin: "kbeta", wavelength: ANODE_LINES[r.anode].kBeta, limit: limits.kBeta, faint: limits.faint });
+  }
+  if (limits.tungstenL > 0) {
+    for (const line of TUNGSTEN_L_LINES) {
+      out.push({ id: line.id, label: line.label, origin: line.origin, wavelength: line.wavelength, limit: limits.tungstenL, faint: limits.faint });
+    }
+  }
+  return out;
+}
+
 /** One emission line reaching the sample: wavelength in Å and intensity relative to the main line. */
 export interface RadiationLine {
   wavelength: number;

@@ -1,7 +1,10 @@
 // The stored form of a lattice check's result and the words and tables made from it (server and browser).
 import { CENTERINGS, CRYSTAL_SYSTEMS } from "~/diffraction/cell";
-import type { Cell, Centering, CrystalSystem, LatticeCheckResult, Radiation } from "~/diffraction";
+import type { Cell, Centering, CheckedPeak, CrystalSystem, LatticeCheckResult, Radiation } from "~/diffraction";
 import type { Verdict } from "~/diffraction/verdict";
+import type { ScanMetadata } from "~/diffraction/readers/types";
+import type { InstrumentProfile } from "~/diffraction/scherrer";
+import type { RadiationSource } from "./measurement";
 
 export interface StoredProfile {
   /** Points in the scan file, and whether the arrays below are a thinned selection of them. */
@@ -13,14 +16,47 @@ export interface StoredProfile {
   fitted: number[];
 }
 
-/** What is kept of a check in `scan_checks.result`: the engine's result without typed arrays, plus its inputs. */
-export type StoredCheckResult = Omit<LatticeCheckResult, "twoTheta" | "observed" | "background" | "fittedProfile" | "unindexed"> & {
-  version: 1;
-  radiation: Radiation;
-  /** Where the declared cell and the radiation came from. */
-  declaredFrom: { sampleLabel: string | null; expectedPhase: string | null; instrumentName: string | null };
-  profile: StoredProfile;
-};
+/**
+ * What is kept of a check in `scan_checks.result`: the engine's result without typed arrays, plus its inputs.
+ * Version 2 added the corrections refined together (the correlation of zero shift and displacement, the
+ * transparency) and the labels of peaks that are not the sample's (Kβ, tungsten L, holder lines); a version 1
+ * result lacks them and reads through `readStoredResult`, which fills them in as a version 1 check meant them
+ * (every peak the sample's, no correlation, no transparency). The fields added with the scan readers (format,
+ * metadata, where the radiation came from, holder, instrument profile) are optional for the same reason.
+ */
+export const STORED_RESULT_VERSION = 2;
+
+/** Fields a version 1 result does not have. */
+type AddedInVersion2 =
+  | "correctionRequested"
+  | "zeroDisplacementCorrelation"
+  | "transparency"
+  | "penetrationMm"
+  | "penetrationMmEsd"
+  | "goniometerRadiusMm"
+  | "foreignPeaks";
+
+export type StoredCheckResult = Omit<
+  LatticeCheckResult,
+  "twoTheta" | "observed" | "background" | "fittedProfile" | "unindexed" | "scanFormat" | "scanFormatLabel" | "metadata" | AddedInVersion2
+> &
+  Partial<Pick<LatticeCheckResult, AddedInVersion2>> & {
+    version: 1 | 2;
+    radiation: Radiation;
+    /** Where the declared cell and the radiation came from. */
+    declaredFrom: { sampleLabel: string | null; expectedPhase: string | null; instrumentName: string | null };
+    profile: StoredProfile;
+    /** The reader's format id and label, and what the file states about its measurement (absent in older results). */
+    scanFormat?: string;
+    scanFormatLabel?: string;
+    metadata?: ScanMetadata;
+    /** Whether the radiation above is the file's own, the quote's instrument's, or assumed (absent in older results: the instrument's). */
+    radiationSource?: RadiationSource;
+    /** The sentence naming a file measured with another source than the quote's instrument, or null. */
+    radiationMismatch?: string | null;
+    holder?: string | null;
+    instrumentProfile?: InstrumentProfile | null;
+  };
 
 /** How each verdict is shown wherever one appears: the badge's tone and word, and what the verdict means. */
 export const VERDICT_WORDS: Record<Verdict, { tone: "ok" | "caution" | "danger"; label: string; meaning: string }> = {
@@ -65,7 +101,89 @@ export function cellRows(result: Pick<StoredCheckResult, "cell" | "esd" | "decla
   });
 }
 
-/** The peaks table for the CSV download: the header, then one row per fitted peak (null or undefined where a peak has no value). */
+/**
+ * The fitted peaks' origin in words: null for the sample's own reflections, else the stray line or holder line
+ * with what it belongs to — "Cu Kβ of (1 1 0)", "W Lα1 of peak 3" (the parent unindexed), "holder (Al 1 1 1)".
+ */
+export function peakOriginWords(peak: Pick<CheckedPeak, "origin" | "foreign">): string | null {
+  const f = peak.foreign;
+  if (!f || !peak.origin || peak.origin === "sample") return null;
+  if (f.origin === "holder") return `holder (${f.line}${f.holderHkl ? ` ${formatHkl(f.holderHkl)}` : ""})`;
+  const parent = f.parentHkl ? `(${formatHkl(f.parentHkl)})` : f.parentPeak != null ? `peak ${f.parentPeak + 1}` : "a stronger peak";
+  return `${f.line} of ${parent}`;
+}
+
+/** The short marks the plot puts over labelled peaks: where, and the words of peakOriginWords. */
+export function foreignMarks(peaks: readonly Pick<CheckedPeak, "twoTheta" | "origin" | "foreign">[]): { twoTheta: number; label: string }[] {
+  return peaks.flatMap((p) => {
+    const words = peakOriginWords(p);
+    return words ? [{ twoTheta: p.twoTheta, label: words }] : [];
+  });
+}
+
+/**
+ * A stored result of any version in the shape of the current one: a version 1 result (before the corrections
+ * refined together and the peak labels) reads as its check meant it — every peak the sample's, the correction
+ * it names refined alone, no transparency. Newer fields already present are kept.
+ */
+export function readStoredResult(raw: unknown): StoredCheckResult & Pick<LatticeCheckResult, AddedInVersion2> {
+  const r = raw as StoredCheckResult;
+  const peaks = (r.peaks ?? []).map((p) => ({ ...p, origin: p.origin ?? "sample", foreign: p.foreign ?? null, fwhmEsd: p.fwhmEsd ?? null }));
+  const count = (origin: string) => peaks.filter((p) => p.origin === origin).length;
+  return {
+    ...r,
+    peaks,
+    correctionRequested: r.correctionRequested ?? r.correction,
+    zeroDisplacementCorrelation: r.zeroDisplacementCorrelation ?? null,
+    transparency: r.transparency ?? "none",
+    penetrationMm: r.penetrationMm ?? 0,
+    penetrationMmEsd: r.penetrationMmEsd ?? null,
+    goniometerRadiusMm: r.goniometerRadiusMm ?? 240,
+    foreignPeaks: r.foreignPeaks ?? { kbeta: count("kbeta"), tungstenL: count("tungsten_l"), holder: count("holder") },
+  };
+}
+
+/**
+ * The instrumental corrections refined with the cell, one row each as the check screen lists them: the zero
+ * shift (degrees 2θ) and the specimen displacement (mm) with their esds, their correlation when both were
+ * refined or tried, and the transparency when used.
+ */
+export function correctionRows(result: StoredCheckResult): { name: string; value: string }[] {
+  const r = readStoredResult(result);
+  const rows: { name: string; value: string }[] = [];
+  const refined = r.correction;
+  if (refined === "zero_shift" || refined === "zero_and_displacement") {
+    rows.push({ name: "Zero shift", value: `${signed(r.zeroShift, 4)}°${r.zeroShiftEsd != null ? ` ± ${r.zeroShiftEsd.toFixed(4)}°` : ""} 2θ` });
+  }
+  if (refined === "displacement" || refined === "zero_and_displacement") {
+    rows.push({
+      name: "Specimen displacement",
+      value: `${signed(r.displacement, 3)} mm${r.displacementEsd != null ? ` ± ${r.displacementEsd.toFixed(3)} mm` : ""} (goniometer radius ${r.goniometerRadiusMm} mm)`,
+    });
+  }
+  if (r.zeroDisplacementCorrelation != null) {
+    rows.push({
+      name: "Correlation of zero shift and displacement",
+      value: `${r.zeroDisplacementCorrelation.toFixed(5)}${refined === "zero_and_displacement" ? "" : " (when refined together)"}`,
+    });
+  }
+  if (r.transparency !== "none") {
+    const mu = r.penetrationMm > 0 ? ` (μ = ${(10 / r.penetrationMm).toFixed(1)} cm⁻¹)` : "";
+    rows.push({
+      name: "Transparency, penetration depth 1/μ",
+      value:
+        r.transparency === "fixed"
+          ? `${r.penetrationMm.toFixed(3)} mm${mu}, from the given attenuation`
+          : `${r.penetrationMm.toFixed(3)} mm${r.penetrationMmEsd != null ? ` ± ${r.penetrationMmEsd.toFixed(3)} mm` : ""}${mu}, refined`,
+    });
+  }
+  return rows;
+}
+
+/**
+ * The peaks table for the CSV download: the header, then one row per fitted peak (null or undefined where a peak
+ * has no value); with `origin` and `origin_note` columns when some peaks are Kβ, tungsten L or holder lines.
+ */
 export function peaksTable(result: Pick<StoredCheckResult, "peaks">): (string | number | null | undefined)[][] {
   const header = [
     "peak",
@@ -84,6 +202,10 @@ export function peaksTable(result: Pick<StoredCheckResult, "peaks">): (string | 
     "used_in_refinement",
     "crystallite_size_nm",
   ];
+  // The origin columns appear when the check labelled peaks that are not the sample's (tables of version 1
+  // results and of scans without such lines keep their former columns).
+  const labelled = result.peaks.some((p) => p.foreign);
+  if (labelled) header.push("origin", "origin_note");
   const rows = result.peaks.map((p, i) => [
     i + 1,
     p.hkl?.[0],
@@ -100,6 +222,7 @@ export function peaksTable(result: Pick<StoredCheckResult, "peaks">): (string | 
     p.eta,
     p.usedInRefinement ? "yes" : "no",
     p.crystalliteSizeNm,
+    ...(labelled ? [p.origin ?? "sample", peakOriginWords(p) ?? ""] : []),
   ]);
   return [header, ...rows];
 }
