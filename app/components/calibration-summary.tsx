@@ -12,6 +12,15 @@ export function VerdictBadge({ verdict }: { verdict: CalibrationCheck["verdict"]
   return <Badge tone={b.tone}>{b.label}</Badge>;
 }
 
+/** The fitted instrument profile, or why there is none (checks made before the fit have neither). */
+function profileRow(check: CalibrationCheck): [string, string][] {
+  const p = check.instrumentProfile;
+  if (p)
+    return [["Instrument profile", `U ${p.U.toExponential(3)}, V ${p.V.toExponential(3)}, W ${p.W.toExponential(3)} degrees² (Caglioti, ${p.peaks} peaks)`]];
+  if (check.instrumentProfileNote) return [["Instrument profile", check.instrumentProfileNote]];
+  return [];
+}
+
 export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
   const standard = CALIBRATION_STANDARDS[check.standard];
   const ok = withinTolerance(check);
@@ -26,6 +35,7 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
     ["Deviation", check.deviationA === null ? "—" : `${signed(check.deviationA, 6)} Å (${signed(check.deviationPpm ?? 0, 1)} ppm)`],
     ["Zero shift", `${signed(check.zeroShift, 4)}°${check.zeroShiftEsd !== null ? ` ± ${check.zeroShiftEsd.toFixed(4)}°` : ""} 2θ`],
     ["Peaks", `${check.peaksIndexed} of ${check.peaksFound} indexed · M20 ${check.m20?.toFixed(0) ?? "—"} · F_N ${check.fn?.toFixed(0) ?? "—"}`],
+    ...profileRow(check),
   ];
   return (
     <section className="card space-y-4" aria-labelledby="calibration-check-heading">
@@ -56,6 +66,13 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
           ))}
         </ul>
       ) : null}
+      {check.warnings.length ? (
+        <ul className="list-disc pl-5 text-sm text-caution-700" aria-label="Warnings">
+          {check.warnings.map((w) => (
+            <li key={w}>{w}</li>
+          ))}
+        </ul>
+      ) : null}
       <ScanPlot
         title={`Calibration scan of ${standard.label}: observed, fitted, reflections and difference`}
         twoTheta={check.plot.twoTheta}
@@ -65,7 +82,8 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
         ticks={check.plot.ticks}
       />
       <p className="text-xs text-ink-500">
-        {check.scanFileName} · checked {check.checkedAt.slice(0, 16).replace("T", " ")} UTC
+        {check.scanFileName}
+        {check.scanFormatLabel ? ` (${check.scanFormatLabel})` : ""} · checked {check.checkedAt.slice(0, 16).replace("T", " ")} UTC
       </p>
     </section>
   );

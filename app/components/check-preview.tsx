@@ -3,11 +3,15 @@ import { useEffect, useMemo, useState } from "react";
 import type { LatticeCheckResult, Radiation } from "~/diffraction";
 import type { CheckWorkerRequest, CheckWorkerResponse } from "~/diffraction/check-worker";
 import type { Verdict } from "~/diffraction/verdict";
-import { cellRows, declaredCheckOptions, type SampleDeclaration, VERDICT_WORDS } from "~/domain/check-result";
+import { cellRows, declaredCheckOptions, foreignMarks, type SampleDeclaration, VERDICT_WORDS } from "~/domain/check-result";
 import { CheckPlot, type CheckPlotData } from "./check-plot";
 import { CheckStateBadge } from "./check-status";
 import { Badge } from "./ui";
 import { useFormat } from "~/components/locale";
+import { chooseRadiation, sameSource } from "~/domain/measurement";
+import type { SampleHolder } from "~/diffraction/holders";
+import type { InstrumentProfile } from "~/diffraction/scherrer";
+import { RadiationMismatch } from "./measurement-conditions";
 
 /** Larger files are checked on the server after the upload only. */
 export const PREVIEW_MAX_BYTES = 50 * 1024 * 1024;
@@ -16,8 +20,13 @@ type PreviewState = { kind: "reading" } | { kind: "checking" } | { kind: "done";
 
 let nextId = 1;
 
-/** Runs the check of `text` in a fresh worker; resolves with the engine's answer. */
-export function checkInWorker(text: string, options: CheckWorkerRequest["options"], signal?: AbortSignal): Promise<CheckWorkerResponse> {
+/** Runs the check of a file's bytes in a fresh worker (the buffer is handed over); resolves with the engine's answer. */
+export function checkInWorker(
+  bytes: ArrayBuffer,
+  options: CheckWorkerRequest["options"],
+  signal?: AbortSignal,
+  fileName?: string,
+): Promise<CheckWorkerResponse> {
   return new Promise((resolve, reject) => {
     const worker = new Worker(new URL("../diffraction/check-worker.ts", import.meta.url), { type: "module" });
     const id = nextId++;
@@ -35,17 +44,26 @@ export function checkInWorker(text: string, options: CheckWorkerRequest["options
       stop();
       resolve({ id, ok: false, error: `The browser could not run the check (${e.message || "worker error"}); it runs on the server after the upload.` });
     };
-    worker.postMessage({ id, text, options } satisfies CheckWorkerRequest);
+    worker.postMessage({ id, bytes, fileName, options } satisfies CheckWorkerRequest, [bytes]);
   });
 }
 
-export function CheckPreview({ file, sample, radiation }: { file: File; sample: SampleDeclaration; radiation: Radiation }) {
+/** The quote's instrument as the preview checks with it, like the server: its source, name, holder and profile. */
+export interface PreviewInstrument {
+  radiation: Radiation | null;
+  name: string | null;
+  holder?: SampleHolder;
+  instrumentProfile?: InstrumentProfile;
+}
+
+export function CheckPreview({ file, sample, instrument }: { file: File; sample: SampleDeclaration; instrument: PreviewInstrument }) {
   const [state, setState] = useState<PreviewState>({ kind: "reading" });
+  const [mismatch, setMismatch] = useState<string | null>(null);
   // biome-ignore lint/correctness/useExhaustiveDependencies: keyed on the declared values, not the object identity, so a re-render with an equal sample does not re-run the check
   const declared = useMemo(() => declaredCheckOptions(sample), [sample.system, sample.centering, JSON.stringify(sample.cell ?? null)]);
-  const radiationKey = JSON.stringify(radiation);
+  const instrumentKey = JSON.stringify(instrument);
 
-  // biome-ignore lint/correctness/useExhaustiveDependencies: radiation is compared by value through radiationKey
+  // biome-ignore lint/correctness/useExhaustiveDependencies: the instrument is compared by value through instrumentKey
   useEffect(() => {
     const abort = new AbortController();
     (async () => {
@@ -54,18 +72,28 @@ export function CheckPreview({ file, sample, radiation }: { file: File; sample: 
         return;
       }
       setState({ kind: "reading" });
-      const text = await file.text();
+      setMismatch(null);
+      const options = { ...declared, holder: instrument.holder, instrumentProfile: instrument.instrumentProfile };
+      // As on the server (chooseRadiation): the instrument's source first; a file stating another is checked again with its own.
+      const first = chooseRadiation(undefined, instrument.radiation, instrument.name).radiation;
       if (abort.signal.aborted) return;
       setState({ kind: "checking" });
       const started = performance.now();
-      const answer = await checkInWorker(text, { radiation, ...declared }, abort.signal);
+      let answer = await checkInWorker(await file.arrayBuffer(), { radiation: first, ...options }, abort.signal, file.name);
       if (abort.signal.aborted) return;
+      if (answer.ok) {
+        const choice = chooseRadiation(answer.result.metadata, instrument.radiation, instrument.name);
+        setMismatch(choice.mismatch);
+        if (!sameSource(choice.radiation, first))
+          answer = await checkInWorker(await file.arrayBuffer(), { radiation: choice.radiation, ...options }, abort.signal, file.name);
+        if (abort.signal.aborted) return;
+      }
       setState(answer.ok ? { kind: "done", result: answer.result, ms: performance.now() - started } : { kind: "failed", error: answer.error });
     })().catch((err) => {
       if ((err as Error).name !== "AbortError") setState({ kind: "failed", error: String((err as Error).message ?? err) });
     });
     return () => abort.abort();
-  }, [file, declared, radiationKey]);
+  }, [file, declared, instrumentKey]);
 
   return (
     <section className="space-y-3 rounded-lg border border-ink-200 bg-ink-50 p-4" aria-label={`Preview check of ${file.name}`} data-testid="check-preview">
@@ -83,6 +111,7 @@ export function CheckPreview({ file, sample, radiation }: { file: File; sample: 
         <span className="text-xs text-ink-600">In your browser; the server checks the stored file again after the upload.</span>
       </div>
       {state.kind === "failed" ? <p className="text-sm text-danger-700">{state.error}</p> : null}
+      <RadiationMismatch sentence={mismatch} />
       {state.kind === "done" ? <PreviewResult result={state.result} ms={state.ms} /> : null}
     </section>
   );
@@ -97,6 +126,7 @@ function PreviewResult({ result, ms }: { result: LatticeCheckResult; ms: number 
       background: result.background,
       fitted: result.fittedProfile,
       ticks: result.reflections.map((t) => ({ twoTheta: t.twoTheta, label: `${t.h} ${t.k} ${t.l}` })),
+      marks: foreignMarks(result.peaks),
     }),
     [result],
   );

@@ -7,6 +7,9 @@ import {
   FILE_KIND_LABELS,
   KIND_EXTENSIONS,
   MAX_FILE_BYTES,
+  SCAN_INSTRUMENT_EXTENSIONS,
+  SCAN_MAX_BYTES,
+  SCAN_TEXT_EXTENSIONS,
   formatBytes,
   kindForName,
   type CompletedPart,
@@ -14,6 +17,7 @@ import {
   type StartedUpload,
 } from "~/domain/order-files";
 import { UploadCancelled, uploadFile } from "~/components/order-upload";
+import { RadiationMismatch } from "~/components/measurement-conditions";
 
 export interface QueuedFile {
   key: string;
@@ -26,6 +30,8 @@ export interface QueuedFile {
   status: "ready" | "uploading" | "completing" | "stored" | "rejected" | "failed" | "cancelled";
   sent: number;
   message: string | null;
+  /** What the server asks the lab to read about a stored scan before delivering (a radiation that differs from the quote's). */
+  warnings?: string[];
 }
 
 interface Sample {
@@ -43,6 +49,8 @@ async function postJson<T>(url: string, body: unknown): Promise<{ ok: boolean; s
 export function fileProblem(name: string, size: number, kind: FileKind): string | null {
   if (size <= 0) return "The file is empty.";
   if (size > MAX_FILE_BYTES) return `The file is ${formatBytes(size)}; the limit is ${formatBytes(MAX_FILE_BYTES)} per file.`;
+  if (kind === "scan" && size > SCAN_MAX_BYTES)
+    return `The file is ${formatBytes(size)}; a scan is read whole by the check, so it may be at most ${formatBytes(SCAN_MAX_BYTES)}. Export a smaller scan.`;
   if (!KIND_EXTENSIONS[kind].some((ext) => name.toLowerCase().endsWith(ext)))
     return `A ${FILE_KIND_LABELS[kind].toLowerCase()} must be ${KIND_EXTENSIONS[kind].join(", ")}.`;
   return null;
@@ -97,10 +105,17 @@ export function useDeliveryQueue(orderId: string, samples: Sample[], onStored: (
         onStarted: (started) => (entry.fileId = started.fileId),
         onProgress: (p) => update(item.key, { sent: p.sent, status: p.phase === "completing" ? "completing" : "uploading" }),
         complete: async (fileId, body: { sha256: string; parts?: CompletedPart[] }) =>
-          postJson<{ state: string; version: number }>(`${base}/${fileId}`, { intent: "complete", ...body }),
+          postJson<{ state: string; version: number; scanFormatLabel?: string; warnings?: string[] }>(`${base}/${fileId}`, { intent: "complete", ...body }),
       });
-      if (result.ok) update(item.key, { status: "stored", sent: item.file.size, message: `Stored and verified as version ${result.body.version}.` });
-      else update(item.key, { status: "rejected", message: result.body.error ?? "The server refused the file." });
+      if (result.ok) {
+        const format = result.body.scanFormatLabel ? ` Read as ${result.body.scanFormatLabel}.` : "";
+        update(item.key, {
+          status: "stored",
+          sent: item.file.size,
+          message: `Stored and verified as version ${result.body.version}.${format}`,
+          warnings: result.body.warnings ?? [],
+        });
+      } else update(item.key, { status: "rejected", message: result.body.error ?? "The server refused the file." });
       onStored();
     } catch (err) {
       if (err instanceof UploadCancelled || abort.signal.aborted) {
@@ -163,8 +178,10 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
         <input {...getInputProps({ "aria-label": "Choose files to deliver" })} />
         <p className="font-medium text-ink-800">{isDragActive ? "Drop the files here" : "Drop scans and reports here, or click to choose files"}</p>
         <p className="mt-1 text-xs text-ink-600">
-          Scans: text files {KIND_EXTENSIONS.scan.join(", ")}. Reports: PDF. At most {formatBytes(MAX_FILE_BYTES)} per file. The bytes go straight to storage;
-          the server then checks the type by content and the SHA-256 your browser computes while reading the file.
+          Scans: text files ({SCAN_TEXT_EXTENSIONS.join(", ")}) or your instrument&apos;s own files ({SCAN_INSTRUMENT_EXTENSIONS.join(", ")}), up to{" "}
+          {formatBytes(SCAN_MAX_BYTES)} each. Reports: PDF. At most {formatBytes(MAX_FILE_BYTES)} per file. The bytes go straight to storage; the server then
+          checks the SHA-256 your browser computes while reading the file, and reads each scan at once: a file that is no readable scan is refused with the
+          reason.
         </p>
       </div>
 
@@ -255,6 +272,9 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
                       {problem ?? (needsSample ? "Choose the sample this scan belongs to." : null) ?? item.message ?? STATUS_WORDS[item.status](item)}
                     </span>
                   </div>
+                  {item.warnings?.map((w) => (
+                    <RadiationMismatch key={w} sentence={w} />
+                  ))}
                   {preview ? <div data-slot="check-preview">{preview(item)}</div> : null}
                 </li>
               );

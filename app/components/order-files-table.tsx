@@ -4,6 +4,7 @@ import { CheckStateBadge, CheckStatusBadge } from "./check-status";
 import { FILE_KIND_LABELS, formatBytes, type FileKind } from "~/domain/order-files";
 import { Badge, TableCard } from "./ui";
 import { useFormat } from "~/components/locale";
+import { MeasurementFoldout, RadiationMismatch, type MeasurementInfo } from "./measurement-conditions";
 
 export interface FileCheck {
   id: string;
@@ -29,6 +30,11 @@ export interface FileRow {
   uploadedAt: string;
   deletedAt?: string | null;
   check: FileCheck | null;
+  /** A read scan: its format and what it states (absent for other kinds and scans stored before reading). */
+  scanFormat?: string | null;
+  scanInfo?: MeasurementInfo | null;
+  /** The sentence when the scan's radiation differs from the quote's instrument. */
+  radiationMismatch?: string | null;
 }
 
 /**
@@ -78,6 +84,8 @@ export function OrderFilesTable({
           <td>
             <span className="font-medium text-ink-900">{row.name}</span> <span className="font-mono text-xs text-ink-500">v{row.version}</span>
             <span className="block text-xs text-ink-500">{FILE_KIND_LABELS[row.kind]}</span>
+            {row.kind === "scan" && row.scanInfo ? <MeasurementFoldout info={row.scanInfo} name={`${row.name} v${row.version}`} /> : null}
+            {row.kind === "scan" && !row.deletedAt ? <RadiationMismatch sentence={row.radiationMismatch} /> : null}
           </td>
           <td className="text-sm">{row.sampleLabel ?? "—"}</td>
           <td className="whitespace-nowrap text-sm">{formatBytes(row.size)}</td>

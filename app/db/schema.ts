@@ -2,9 +2,11 @@
 import { sql } from "drizzle-orm";
 // The order states are defined once, with the state machine that moves between them.
 import { ORDER_STATES } from "~/domain/order-states";
+import type { ScanInfo } from "~/domain/measurement";
 import {
   bigserial,
   boolean,
+  check,
   date,
   doublePrecision,
   index,
@@ -248,10 +250,22 @@ export const instruments = pgTable(
     detector: detectorKind("detector").notNull(),
     energyDiscrimination: boolean("energy_discrimination").notNull().default(false),
     sampleForms: text("sample_forms").array().notNull().default(sql`'{}'::text[]`),
+    /** The sample holder the lab measures on (a value of SAMPLE_HOLDERS); the check allows for its own lines. */
+    sampleHolder: text("sample_holder"),
+    /** Caglioti U, V, W (degrees² 2θ) of the instrument's peak widths, all three or none; they take the instrument's width out of the Scherrer sizes. */
+    cagliotiU: doublePrecision("caglioti_u"),
+    cagliotiV: doublePrecision("caglioti_v"),
+    cagliotiW: doublePrecision("caglioti_w"),
+    /** Where U, V, W came from, in words ("Entered by the lab", "Fitted to the calibration scan si.xy, 4 Dec 2026"). */
+    profileSource: text("profile_source"),
     active: boolean("active").notNull().default(true),
     createdAt: createdAt(),
   },
-  (t) => [index("instruments_lab_idx").on(t.labId), index("instruments_anode_idx").on(t.anode)],
+  (t) => [
+    index("instruments_lab_idx").on(t.labId),
+    index("instruments_anode_idx").on(t.anode),
+    check("instruments_profile_whole", sql`(${t.cagliotiU} is null) = (${t.cagliotiV} is null) and (${t.cagliotiV} is null) = (${t.cagliotiW} is null)`),
+  ],
 );
 
 export const sampleStages = pgTable(
@@ -630,6 +644,10 @@ export const orderFiles = pgTable(
     state: orderFileState("state").notNull().default("uploading"),
     multipartUploadId: text("multipart_upload_id"),
     rejectReason: text("reject_reason"),
+    /** A scan's format as the reader that read it names it ("xrdml", "gsas", …); null for other kinds and scans not read yet. */
+    scanFormat: text("scan_format"),
+    /** What the scan file states about its measurement, its format's label and its 2θ range; kept even when the check fails. */
+    scanInfo: jsonb("scan_info").$type<ScanInfo>(),
     uploadedBy: uuid("uploaded_by").references(() => users.id, { onDelete: "set null" }),
     uploadedVia: text("uploaded_via").notNull().default("browser"),
     createdAt: createdAt(),

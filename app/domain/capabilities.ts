@@ -1,5 +1,6 @@
 // What a lab's instruments can do: the vocabularies of docs/design.md#instruments-and-capabilities and the validated forms of the capabilities editor.
 import { z } from "zod";
+import { SAMPLE_HOLDER_IDS, SAMPLE_HOLDERS, type SampleHolder } from "~/diffraction/holders";
 import { ANODE_LINES, type Anode, type Monochromation } from "~/diffraction/wavelengths";
 import { SPECIAL_CATEGORY_CODES, GHS_CODES } from "~/domain/hazard-codes";
 
@@ -42,6 +43,12 @@ export const SAMPLE_FORM_LABELS: Record<(typeof SAMPLE_FORMS)[number], string> =
   slurry: "Slurry or paste",
 };
 
+/**
+ * The sample holders a lab may name for an instrument: the engine's list (its own lines are then labelled, not
+ * counted as the sample's). "none" is "not stated" and is kept as no holder.
+ */
+export const SAMPLE_HOLDER_OPTIONS = SAMPLE_HOLDERS.map((h) => ({ value: h.id, label: h.label }));
+
 export const ATMOSPHERES = ["air", "nitrogen", "argon", "vacuum", "reducing"] as const;
 export const ATMOSPHERE_LABELS: Record<(typeof ATMOSPHERES)[number], string> = {
   air: "Air",
@@ -59,6 +66,37 @@ export function instrumentWavelength(i: { anode: Anode | null; customWavelength:
 
 const finite = (v: unknown): v is number => typeof v === "number" && Number.isFinite(v);
 const num = (what: string) => z.number({ error: `Enter ${what} as a number.` });
+
+/** Caglioti U, V and W of a laboratory diffractometer are of order 10⁻³ degrees² (common practice); beyond this the units are wrong. */
+export const PROFILE_LIMIT = 1;
+const RAD = Math.PI / 180;
+
+/** The instrumental FWHM² (degrees² 2θ) at a 2θ by Caglioti's formula: U tan²θ + V tanθ + W. */
+export function cagliotiFwhmSquared(p: { U: number; V: number; W: number }, twoTheta: number) {
+  const t = Math.tan((twoTheta * RAD) / 2);
+  return p.U * t * t + p.V * t + p.W;
+}
+
+/**
+ * The first 2θ in [from, to] where U, V, W give no real peak width (FWHM² ≤ 0), or null. The quadratic in
+ * tan θ has its lowest value at tan θ = −V/(2U), so that point is tried besides a fine grid.
+ */
+export function profileFailsAt(p: { U: number; V: number; W: number }, from: number, to: number): number | null {
+  const angles = Array.from({ length: 361 }, (_, i) => from + ((to - from) * i) / 360);
+  if (p.U > 0) {
+    const vertex = (2 * Math.atan(-p.V / (2 * p.U))) / RAD;
+    if (vertex > from && vertex < to) angles.push(vertex);
+  }
+  const bad = angles.filter((a) => !(cagliotiFwhmSquared(p, a) > 0)).sort((a, b) => a - b);
+  return bad.length ? bad[0] : null;
+}
+
+const PROFILE_KEYS = ["cagliotiU", "cagliotiV", "cagliotiW"] as const;
+const profileNumber = (letter: string) =>
+  num(`Caglioti ${letter} in degrees²`)
+    .min(-PROFILE_LIMIT, `Caglioti ${letter} lies between −${PROFILE_LIMIT} and ${PROFILE_LIMIT} degrees²; check the units (degrees² 2θ, not centidegrees²).`)
+    .max(PROFILE_LIMIT, `Caglioti ${letter} lies between −${PROFILE_LIMIT} and ${PROFILE_LIMIT} degrees²; check the units (degrees² 2θ, not centidegrees²).`)
+    .optional();
 const twoTheta = (what: string) => num(what).min(0, "2θ lies between 0° and 180°.").max(180, "2θ lies between 0° and 180°.");
 
 export const InstrumentSchema = z
@@ -76,6 +114,10 @@ export const InstrumentSchema = z
     detector: z.enum(DETECTOR_KINDS, { error: "Choose a detector kind." }),
     energyDiscrimination: z.boolean().default(false),
     sampleForms: z.array(z.enum(SAMPLE_FORMS, { error: "Choose sample forms from the list." })).min(1, "Tick at least one sample form."),
+    sampleHolder: z.enum(SAMPLE_HOLDER_IDS as [SampleHolder, ...SampleHolder[]], { error: "Choose a sample holder from the list." }).optional(),
+    cagliotiU: profileNumber("U"),
+    cagliotiV: profileNumber("V"),
+    cagliotiW: profileNumber("W"),
   })
   // Cross-field checks run even when another field failed, so every problem shows at once.
   .refine((v) => v.twoThetaMin < v.twoThetaMax, {
@@ -95,7 +137,37 @@ export const InstrumentSchema = z
     path: ["customWavelength"],
     message: "Enter the wavelength in Å.",
     when: (p) => (p.value as { sourceKind?: unknown })?.sourceKind === "custom",
-  });
+  })
+  // U, V, W go together, and must give a real peak width over the instrument's whole 2θ range.
+  .superRefine(
+    (v, ctx) => {
+      const given = PROFILE_KEYS.filter((k) => v[k] !== undefined);
+      if (given.length === 0) return;
+      if (given.length < 3) {
+        for (const k of PROFILE_KEYS.filter((key) => v[key] === undefined)) {
+          ctx.addIssue({ code: "custom", path: [k], message: "Give all three of U, V and W, or leave all three empty." });
+        }
+        return;
+      }
+      const profile = { U: v.cagliotiU!, V: v.cagliotiV!, W: v.cagliotiW! };
+      const failsAt = profileFailsAt(profile, v.twoThetaMin, v.twoThetaMax);
+      if (failsAt !== null) {
+        ctx.addIssue({
+          code: "custom",
+          path: ["cagliotiW"],
+          message: `With these U, V and W the peak width would not be real at ${+failsAt.toFixed(1)}° 2θ (U tan²θ + V tanθ + W must stay above 0); check the signs.`,
+        });
+      }
+    },
+    {
+      when: (p) => {
+        const v = p.value as Record<string, unknown>;
+        const profileOk = PROFILE_KEYS.every((k) => v?.[k] === undefined || (finite(v[k]) && Math.abs(v[k] as number) <= PROFILE_LIMIT));
+        const rangeOk = finite(v?.twoThetaMin) && finite(v?.twoThetaMax) && v.twoThetaMin >= 0 && v.twoThetaMax <= 180 && v.twoThetaMin < v.twoThetaMax;
+        return profileOk && (rangeOk || PROFILE_KEYS.some((k) => v?.[k] === undefined));
+      },
+    },
+  );
 export type InstrumentInput = z.infer<typeof InstrumentSchema>;
 
 export const StageSchema = z
@@ -123,3 +195,6 @@ export const HazardAcceptanceSchema = z.object({
 });
 
 export const RemoveSchema = z.object({ id: z.uuid({ error: "Choose what to remove." }) });
+
+/** Saving the calibration scan's fitted U, V, W on an instrument: only which instrument (the numbers are the stored fit). */
+export const CalibrationProfileSchema = z.object({ instrumentId: z.uuid({ error: "Choose the instrument to save the profile on." }) });

@@ -1,9 +1,24 @@
 // The one way a scan is checked and its result kept, for a delivered scan (the worker) and a vetting calibration
-// scan alike: the engine's lattice check, then the result in its stored form (finite numbers only, the plotted
-// arrays thinned with their extremes kept). Pure: the callers read the scan and write the result.
+// scan alike: the file is read (any format the engine reads, text or binary), the radiation is the file's own
+// when it states one (docs/design.md#lattice-check), the engine's lattice check runs, and the result is kept in its stored
+// form (finite numbers only, the plotted arrays thinned with their extremes kept). Pure: the callers read the
+// scan's bytes and write the result.
 import type { Instrument, Sample, ScanCheck } from "~/db/schema";
-import { checkScanText, type Cell, type Centering, type CheckedPeak, type CrystalSystem, type LatticeCheckResult, type Radiation } from "~/diffraction";
-import { declaredCheckOptions, type StoredCheckResult, type StoredProfile } from "./check-result";
+import {
+  checkScanFile,
+  parseScan,
+  type Cell,
+  type Centering,
+  type CheckedPeak,
+  type CrystalSystem,
+  type LatticeCheckResult,
+  type Radiation,
+} from "~/diffraction";
+import type { InstrumentProfile } from "~/diffraction/scherrer";
+import { SAMPLE_HOLDER_IDS, type SampleHolder } from "~/diffraction/holders";
+import { declaredCheckOptions, STORED_RESULT_VERSION, type StoredCheckResult, type StoredProfile } from "./check-result";
+import { chooseRadiation, type RadiationChoice, type ScanInfo } from "./measurement";
+import { SCAN_MAX_BYTES } from "./order-files";
 
 /** Above this many points a delivered scan's plotted arrays are thinned before they are stored. */
 export const STORED_PROFILE_POINTS = 20_000;
@@ -17,31 +32,84 @@ export interface DeclaredCell {
   cell?: Cell;
 }
 
-/** What a check needs besides the scan: the radiation, the declaration, and what the stored result names. */
+/** What a check needs besides the scan: the instrument, the declaration, and what the stored result names. */
 export interface CheckInput {
-  radiation: Radiation;
+  /** The instrument's radiation (the quote's instrument, or the one a vetting form names); null when it names no usable source. */
+  radiation: Radiation | null;
   declared: DeclaredCell;
-  /** Notes from the caller (e.g. an assumed source) shown before the engine's own warnings. */
+  /** Notes from the caller shown before the engine's own warnings. */
   warnings: string[];
   declaredFrom: StoredCheckResult["declaredFrom"];
   fileName?: string;
+  /** The instrument's sample holder, so its own lines are not taken for the sample's. */
+  holder?: SampleHolder;
+  /** The instrument's Caglioti U, V, W, so the Scherrer sizes leave out the instrument's own width. */
+  instrumentProfile?: InstrumentProfile;
 }
 
-export type ScanCheckOutcome = { ok: true; result: StoredCheckResult } | { ok: false; error: string };
+/** A scan file as read: its format and what it states (kept with the file even when the check fails later). */
+export interface ScanRead {
+  format: string;
+  info: ScanInfo;
+}
+
+export type ScanReadOutcome = ({ ok: true } & ScanRead) | { ok: false; error: string };
 
 /**
- * Checks one scan's text and returns the result as it is stored. An engine failure is deterministic (running
- * it again gives the same), so it comes back as an error sentence rather than an exception.
+ * Reads a scan file (text or bytes) with the engine's readers: its format, what it states about the
+ * measurement, and its range. A file that is no readable scan comes back as the engine's one sentence.
  */
-export function checkScanForStorage(text: string, input: CheckInput, { maxPoints = STORED_PROFILE_POINTS } = {}): ScanCheckOutcome {
-  let checked: ReturnType<typeof checkScanText>;
+export function readScanFile(input: string | Uint8Array, fileName?: string): ScanReadOutcome {
+  let parsed: ReturnType<typeof parseScan>;
   try {
-    checked = checkScanText(text, { radiation: input.radiation, ...input.declared, fileName: input.fileName });
+    parsed = parseScan(input, { fileName, maxBytes: SCAN_MAX_BYTES });
   } catch (err) {
-    return { ok: false, error: `The check could not be completed: ${err instanceof Error ? err.message : String(err)}` };
+    return { ok: false, error: `The file could not be read: ${err instanceof Error ? err.message : String(err)}` };
   }
-  if (!checked.ok) return { ok: false, error: checked.error };
-  return { ok: true, result: toStoredResult(checked.result, input, maxPoints) };
+  if (!parsed.ok) return { ok: false, error: parsed.error };
+  const { scan } = parsed;
+  const n = scan.twoTheta.length;
+  return {
+    ok: true,
+    format: scan.format,
+    info: { formatLabel: scan.formatLabel, metadata: scan.metadata ?? {}, points: n, twoThetaMin: scan.twoTheta[0], twoThetaMax: scan.twoTheta[n - 1] },
+  };
+}
+
+export type ScanCheckOutcome =
+  | { ok: true; result: StoredCheckResult; read: ScanRead; radiation: RadiationChoice }
+  | { ok: false; error: string; read: ScanRead | null; radiation: RadiationChoice | null };
+
+/**
+ * Checks one scan file (text or bytes) and returns the result as it is stored, with the file as read. An
+ * engine failure is deterministic (running it again gives the same), so it comes back as an error sentence
+ * rather than an exception; when the file was read before the check failed, `read` still says what it states.
+ */
+export function checkScanForStorage(input: string | Uint8Array, context: CheckInput, { maxPoints = STORED_PROFILE_POINTS } = {}): ScanCheckOutcome {
+  const read = readScanFile(input, context.fileName);
+  if (!read.ok) return { ok: false, error: read.error, read: null, radiation: null };
+  const scanRead: ScanRead = { format: read.format, info: read.info };
+  const choice = chooseRadiation(read.info.metadata, context.radiation, context.declaredFrom.instrumentName);
+  let checked: ReturnType<typeof checkScanFile>;
+  try {
+    checked = checkScanFile(input, {
+      radiation: choice.radiation,
+      ...context.declared,
+      fileName: context.fileName,
+      maxBytes: SCAN_MAX_BYTES,
+      holder: context.holder,
+      instrumentProfile: context.instrumentProfile,
+    });
+  } catch (err) {
+    return {
+      ok: false,
+      error: `The check could not be completed: ${err instanceof Error ? err.message : String(err)}`,
+      read: scanRead,
+      radiation: choice,
+    };
+  }
+  if (!checked.ok) return { ok: false, error: checked.error, read: scanRead, radiation: choice };
+  return { ok: true, result: toStoredResult(checked.result, context, choice, scanRead, maxPoints), read: scanRead, radiation: choice };
 }
 
 /** The radiation of an instrument as the engine takes it; null when the instrument names no usable source. */
@@ -49,6 +117,18 @@ export function radiationOf(instrument: Pick<Instrument, "anode" | "customWavele
   if (instrument.anode) return { kind: "anode", anode: instrument.anode, monochromation: instrument.monochromation };
   if (instrument.customWavelength && instrument.customWavelength > 0) return { kind: "custom", wavelength: instrument.customWavelength };
   return null;
+}
+
+/** An instrument's Caglioti U, V, W as the engine takes them; undefined unless all three are set. */
+export function instrumentProfileOf(instrument: Pick<Instrument, "cagliotiU" | "cagliotiV" | "cagliotiW">): InstrumentProfile | undefined {
+  const { cagliotiU: U, cagliotiV: V, cagliotiW: W } = instrument;
+  return U != null && V != null && W != null ? { U, V, W } : undefined;
+}
+
+/** An instrument's sample holder as the engine takes it; undefined when none (or an unknown one) is named. */
+export function holderOf(instrument: Pick<Instrument, "sampleHolder">): SampleHolder | undefined {
+  const holder = instrument.sampleHolder as SampleHolder | null;
+  return holder && holder !== "none" && SAMPLE_HOLDER_IDS.includes(holder) ? holder : undefined;
 }
 
 /** A sample's declaration as engine options; missing cell lengths and angles follow from the crystal system. */
@@ -109,15 +189,22 @@ function finitePeak(p: CheckedPeak): CheckedPeak {
   return clean as unknown as CheckedPeak;
 }
 
-function toStoredResult(result: LatticeCheckResult, context: CheckInput, maxPoints: number): StoredCheckResult {
+function toStoredResult(result: LatticeCheckResult, context: CheckInput, choice: RadiationChoice, read: ScanRead, maxPoints: number): StoredCheckResult {
   const { twoTheta: _t, observed: _o, background: _b, fittedProfile: _f, unindexed: _u, ...rest } = result;
   const stored: StoredCheckResult = {
     ...rest,
-    version: 1,
-    radiation: context.radiation,
+    version: STORED_RESULT_VERSION,
+    scanFormat: result.scanFormat ?? read.format,
+    scanFormatLabel: result.scanFormatLabel ?? read.info.formatLabel,
+    metadata: result.metadata ?? read.info.metadata,
+    radiation: choice.radiation,
+    radiationSource: choice.source,
+    radiationMismatch: choice.mismatch,
+    holder: context.holder ?? null,
+    instrumentProfile: context.instrumentProfile ?? null,
     declaredFrom: context.declaredFrom,
     peaks: result.peaks.map(finitePeak),
-    warnings: [...context.warnings, ...result.warnings],
+    warnings: [...(choice.mismatch ? [choice.mismatch] : []), ...choice.notes, ...context.warnings, ...result.warnings],
     profile: storedProfile(result, maxPoints),
   };
   // Drop any non-finite numbers elsewhere (JSON would turn them into null anyway; make it explicit).

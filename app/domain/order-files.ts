@@ -14,9 +14,23 @@ export const SINGLE_PUT_MAX_BYTES = 16 * MiB;
 /** The size of each part of a multipart upload (the last one is smaller); S3 wants at least 5 MiB. */
 export const PART_BYTES = 8 * MiB;
 
-/** The file names each kind accepts; the stored bytes are checked too (text for scans, %PDF for reports). */
+/** Scans as plain text: columns, CSV, pdCIF. */
+export const SCAN_TEXT_EXTENSIONS = [".xy", ".xye", ".csv", ".txt", ".dat", ".asc", ".cif"];
+/**
+ * Scans in an instrument's own format, text or binary (XRDML, binary raw files, GSAS, Sietronics CPI, Rigaku
+ * RAS, Bruker UXD, Philips RD/SD, …; docs/scan-formats.md). The reader is chosen by the content, not the name.
+ */
+export const SCAN_INSTRUMENT_EXTENSIONS = [".xrdml", ".raw", ".gsa", ".gss", ".gsas", ".fxye", ".fxy", ".cpi", ".ras", ".uxd", ".udf", ".rd", ".sd", ".mdi"];
+
+/**
+ * A scan is read whole by the check, so it may be this large at most (the engine's own limit for a scan);
+ * reports and other files may be up to MAX_FILE_BYTES.
+ */
+export const SCAN_MAX_BYTES = 50 * MiB;
+
+/** The file names each kind accepts; the stored bytes are checked too (a scan must be readable, %PDF for reports). */
 export const KIND_EXTENSIONS: Record<FileKind, string[]> = {
-  scan: [".xy", ".xye", ".csv", ".txt", ".dat", ".cif"],
+  scan: [...SCAN_TEXT_EXTENSIONS, ...SCAN_INSTRUMENT_EXTENSIONS],
   report: [".pdf"],
   other: [".pdf", ".png", ".jpg", ".jpeg", ".xy", ".xye", ".csv", ".txt", ".dat", ".cif"],
 };
@@ -36,7 +50,7 @@ export const SHARE_LINK_MAX_LIVE = 20;
 /** A download link from the data room is valid this long (seconds). */
 export const DOWNLOAD_URL_SECONDS = 300;
 
-/** The kind a file's name suggests: PDFs are reports, text formats scans. */
+/** The kind a file's name suggests: PDFs are reports, scan formats (text or an instrument's own) scans. */
 export function kindForName(name: string): FileKind {
   const lower = name.toLowerCase();
   if (lower.endsWith(".pdf")) return "report";

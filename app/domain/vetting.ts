@@ -72,6 +72,12 @@ export interface CalibrationCheck {
   m20: number | null;
   fn: number | null;
   instrument: { name: string; anode: string; monochromation: string; wavelength: number };
+  /** Caglioti U, V, W (degrees² 2θ) fitted to the standard's peak widths and the peaks used; absent in older checks. */
+  instrumentProfile?: { U: number; V: number; W: number; peaks: number } | null;
+  /** Why no profile could be fitted, in one sentence. */
+  instrumentProfileNote?: string | null;
+  /** The scan's format as read (absent in older checks). */
+  scanFormatLabel?: string | null;
   scanFileName: string;
   checkedAt: string;
   plot: CalibrationPlot;

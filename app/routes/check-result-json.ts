@@ -1,5 +1,6 @@
 // GET /checks/:id/result.json — the whole check (status, file, result) as JSON, for the order's client and its lab.
 import { checkStatusJson } from "~/domain/lattice-check";
+import { measurementConditions } from "~/domain/measurement";
 import { sampleOfFile } from "~/models/checks/queries.server";
 import { requireCheckAccess } from "~/utils/permissions.server";
 import type { Route } from "./+types/check-result-json";
@@ -10,7 +11,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const body = {
     check: checkStatusJson(check),
     order: { id: order.id },
-    file: { id: file.id, name: file.name, version: file.version, sizeBytes: file.sizeBytes, sha256: file.sha256 },
+    file: { id: file.id, name: file.name, version: file.version, sizeBytes: file.sizeBytes, sha256: file.sha256, scanFormat: file.scanFormat },
+    // What the scan file states about its measurement (kept with the file, so also when the check failed), or null.
+    measurement: file.scanInfo ? { ...file.scanInfo, conditions: measurementConditions(file.scanInfo) } : null,
     sample: sample ? { label: sample.label, formula: sample.formula, expectedPhase: sample.expectedPhase } : null,
     result: check.status === "done" ? check.result : null,
   };

@@ -4,19 +4,24 @@ import { Link, useRevalidator } from "react-router";
 import { Brand } from "~/components/brand";
 import { CheckPlot, type CheckPlotData } from "~/components/check-plot";
 import { CheckStateBadge, CheckStatusBadge, useCheckStatus } from "~/components/check-status";
-import { Badge, PageHeader, TableCard } from "~/components/ui";
+import { PageHeader, TableCard } from "~/components/ui";
 import { checkStatusJson } from "~/domain/lattice-check";
 import { sampleOfFile } from "~/models/checks/queries.server";
 import { requireCheckAccess } from "~/utils/permissions.server";
 import { requestTitleOf } from "~/models/requests/requests.server";
-import { cellRows, formatHkl, radiationWords, signed, type StoredCheckResult, VERDICT_WORDS } from "~/domain/check-result";
+import { cellRows, foreignMarks, radiationWords, readStoredResult, type StoredCheckResult, VERDICT_WORDS } from "~/domain/check-result";
+import { CheckCorrections, CheckPeaksTable } from "~/components/check-peaks-table";
 import type { Verdict } from "~/diffraction/verdict";
 import type { Route } from "./+types/check";
 import { useFormat } from "~/components/locale";
+import { MeasurementPanel, type MeasurementInfo } from "~/components/measurement-conditions";
+import type { ScanInfo } from "~/domain/measurement";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { check, file, order, side, organisation } = await requireCheckAccess(request, params.id);
   const [sample, title] = await Promise.all([sampleOfFile(file.sampleId), requestTitleOf(order.requestId).then((t) => t ?? "Order")]);
+  // Results of every stored version read in the current shape (older rows lack the newer, optional fields).
+  const result = check.status === "done" && check.result ? readStoredResult(check.result) : null;
   return {
     status: checkStatusJson(check),
     side,
@@ -25,7 +30,24 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     orderTitle: title,
     file: { name: file.name, version: file.version, sha256: file.sha256, storedAt: file.storedAt },
     sample: sample ? { label: sample.label, formula: sample.formula, expectedPhase: sample.expectedPhase } : null,
-    result: check.status === "done" ? (check.result as unknown as StoredCheckResult) : null,
+    // What the file states, kept with the file (so also for a check that failed after reading it); results of
+    // older checks have none, and files read before the file kept it fall back to the result's copy.
+    measurement: measurementOf(file.scanInfo, result),
+    radiationMismatch: result?.radiationMismatch ?? null,
+    result,
+  };
+}
+
+function measurementOf(info: ScanInfo | null, result: StoredCheckResult | null): MeasurementInfo | null {
+  if (info) return info;
+  if (!result?.metadata && !result?.scanFormatLabel) return null;
+  const angles = result.profile.twoTheta;
+  return {
+    formatLabel: result.scanFormatLabel ?? null,
+    metadata: result.metadata ?? {},
+    points: result.profile.points,
+    twoThetaMin: angles[0] ?? null,
+    twoThetaMax: angles[angles.length - 1] ?? null,
   };
 }
 
@@ -72,6 +94,7 @@ export default function CheckScreen({ loaderData: d }: Route.ComponentProps) {
           }
         />
         {d.result ? <CheckResultView result={d.result} /> : <PendingCheck status={d.status} />}
+        {d.measurement ? <MeasurementPanel info={d.measurement} mismatch={d.radiationMismatch} /> : null}
       </main>
     </div>
   );
@@ -111,11 +134,13 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
       background: result.profile.background,
       fitted: result.profile.fitted,
       ticks: result.reflections.map((t) => ({ twoTheta: t.twoTheta, label: `${t.h} ${t.k} ${t.l}` })),
+      marks: foreignMarks(result.peaks),
     }),
     [result],
   );
   const fom = result.figuresOfMerit;
   const indexed = result.peaks.filter((p) => p.hkl).length;
+  const notSample = result.peaks.filter((p) => p.foreign).length;
   const sizes = result.peaks.map((p) => p.crystalliteSizeNm).filter((s): s is number => typeof s === "number" && s > 0);
   const meanSize = sizes.length ? sizes.reduce((a, b) => a + b, 0) / sizes.length : null;
   return (
@@ -139,6 +164,7 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
         ) : null}
         <p className="text-xs text-ink-600">
           {radiationWords(result.radiation)} · λ = {result.wavelength.toFixed(6)} Å
+          {result.radiationSource === "file" ? " (as the file states)" : result.radiationSource === "assumed" ? " (assumed)" : ""}
           {result.declaredFrom.instrumentName ? ` · measured on ${result.declaredFrom.instrumentName}` : ""} · checked in {(result.elapsedMs / 1000).toFixed(2)}{" "}
           s
         </p>
@@ -174,12 +200,7 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
               </tr>
             ))}
           </TableCard>
-          <p className="text-sm text-ink-700">
-            {result.correction === "displacement"
-              ? `Specimen displacement ${signed(result.displacement, 4)} mm${result.displacementEsd != null ? ` ± ${result.displacementEsd.toFixed(4)}` : ""}`
-              : `Zero shift ${signed(result.zeroShift, 4)}°${result.zeroShiftEsd != null ? ` ± ${result.zeroShiftEsd.toFixed(4)}°` : ""} 2θ`}
-            {result.reducedChi2 != null ? ` · reduced χ² ${result.reducedChi2.toFixed(2)}` : ""} · {result.peaksUsed} peaks in the least squares
-          </p>
+          <CheckCorrections result={result} />
         </section>
         <section className="space-y-2" aria-labelledby="merit-heading">
           <h2 id="merit-heading" className="text-lg font-semibold">
@@ -198,7 +219,8 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
             </dd>
             <dt className="font-medium">Peaks</dt>
             <dd>
-              {result.peaks.length} found, {indexed} indexed, {result.peaks.length - indexed} unindexed
+              {result.peaks.length} found, {indexed} indexed, {result.peaks.length - indexed - notSample} unindexed
+              {notSample ? `, ${notSample} not the sample's (Kβ, tungsten L or holder lines)` : ""}
             </dd>
             <dt className="font-medium">Crystallite size</dt>
             <dd>{meanSize != null ? `≈ ${meanSize.toFixed(0)} nm (Scherrer, mean over ${sizes.length} peaks; see the caution below)` : "not available"}</dd>
@@ -210,30 +232,7 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
         <h2 id="peaks-heading" className="text-lg font-semibold">
           Peaks
         </h2>
-        <TableCard
-          columns={["#", "h k l", "d (Å)", "2θ observed (°)", "2θ calculated (°)", "Δ2θ (°)", "Intensity (%)", "FWHM (°)", "Size (nm)"]}
-          caption="Fitted peaks with their Miller indices"
-        >
-          {result.peaks.map((p, i) => (
-            <tr key={i} className={p.hkl ? "" : "bg-caution-50"}>
-              <td className="tabular-nums">{i + 1}</td>
-              <td className="tabular-nums whitespace-nowrap">
-                {p.hkl ? formatHkl(p.hkl) : <Badge tone="caution">Unindexed</Badge>}
-                {p.hkl && !p.usedInRefinement ? <span className="ml-1 text-xs text-ink-600">(not refined)</span> : null}
-              </td>
-              <td className="tabular-nums">{p.d.toFixed(5)}</td>
-              <td className="tabular-nums">
-                {p.twoTheta.toFixed(4)}
-                {p.twoThetaEsd ? <span className="text-xs text-ink-500"> ± {p.twoThetaEsd.toFixed(4)}</span> : null}
-              </td>
-              <td className="tabular-nums">{p.twoThetaCalc != null ? p.twoThetaCalc.toFixed(4) : "—"}</td>
-              <td className="tabular-nums">{p.delta != null ? signed(p.delta, 4) : "—"}</td>
-              <td className="tabular-nums">{p.relativeIntensity.toFixed(1)}</td>
-              <td className="tabular-nums">{p.fwhm.toFixed(4)}</td>
-              <td className="tabular-nums">{p.crystalliteSizeNm != null ? p.crystalliteSizeNm.toFixed(0) : "—"}</td>
-            </tr>
-          ))}
-        </TableCard>
+        <CheckPeaksTable peaks={result.peaks} />
       </section>
 
       {result.warnings.length ? (

@@ -41,10 +41,23 @@ export function startInputFrom(body: Record<string, unknown>): StartUploadInput 
   };
 }
 
-/** The answer to `complete`: 200 with the stored file, or 422 with the reason it was refused. */
+/**
+ * The answer to `complete`: 200 with the stored file (a scan with the format it was read as, and any warning to
+ * read before delivering), or 422 with the reason it was refused.
+ */
 export function completedUploadResponse(result: CompletedUpload) {
   const { file } = result;
-  if (result.stored) return Response.json({ fileId: file.id, name: file.name, version: file.version, state: "stored", sha256: file.sha256 });
+  if (result.stored) {
+    return Response.json({
+      fileId: file.id,
+      name: file.name,
+      version: file.version,
+      state: "stored",
+      sha256: file.sha256,
+      ...(file.kind === "scan" && file.scanInfo ? { scanFormat: file.scanFormat, scanFormatLabel: file.scanInfo.formatLabel } : {}),
+      warnings: result.warnings,
+    });
+  }
   return Response.json({ fileId: file.id, name: file.name, version: file.version, state: "rejected", error: result.reason }, { status: 422 });
 }
 

@@ -1190,13 +1190,14 @@ const CASES: Case[] = [
   {
     kind: "binary junk as a scan",
     what: "4 kB of binary bytes named .xy",
+    // Scans are read at the upload, so the refusal is the scan reader's sentence (binary scan formats are accepted).
     ...rejectedScan(
       "junk.xy",
       new Uint8Array(4096).map((_, i) => (i * 37) % 256),
-      /content is not a text scan file/,
+      /^The file is binary and in no scan format Diffractory reads/,
     ),
     status: 422,
-    says: /content is not a text scan file/,
+    says: /The file is binary and in no scan format Diffractory reads/,
   },
   {
     kind: "malformed scan file",
@@ -1360,7 +1361,8 @@ describe("bad input is refused with a sentence and changes nothing", () => {
     expect(await app.scanCheck.runScanCheck(fileId, { finalAttempt: true })).toMatchObject({ status: "done" });
   });
 
-  it("malformed scan files delivered on an order fail their check with a sentence, not an error page", async () => {
+  it("malformed scan files delivered on an order are refused at the upload with a sentence, not an error page", async () => {
+    // Scans are read when their upload completes: an unreadable one is refused then (422) with the reader's sentence.
     for (const [name, text, says] of [
       ["cut-off.xy", `${SCAN_FILES.truncatedXy}# more header\n`, /only comments and no data rows/],
       ["cut-off.cif", SCAN_FILES.truncatedCif, /CIF powder loop is truncated/],
@@ -1371,9 +1373,11 @@ describe("bad input is refused with a sentence and changes nothing", () => {
         jsonRequest(`/lab/orders/${ids.measuring}/uploads/${fileId}`, JSON.stringify({ intent: "complete", sha256: sha256(text) }), { Cookie: await as(LAB) }),
         { id: ids.measuring, fileId },
       );
-      expect(done.status, JSON.stringify(done.body)).toBe(200);
-      const outcome = await app.scanCheck.runScanCheck(fileId, { finalAttempt: true });
-      expect(outcome).toMatchObject({ status: "failed", error: expect.stringMatching(says) });
+      expect(done.status, JSON.stringify(done.body)).toBe(422);
+      expect(done.body).toMatchObject({ state: "rejected", error: expect.stringMatching(says) });
+      const [row] = await w.db.select().from(w.schema.orderFiles).where(w.eq(w.schema.orderFiles.id, fileId));
+      expect(row).toMatchObject({ state: "rejected", rejectReason: expect.stringMatching(says) });
+      expect(await w.db.select().from(w.schema.scanChecks).where(w.eq(w.schema.scanChecks.fileId, fileId))).toEqual([]);
     }
     expect(await w.orderState(ids.measuring)).toBe("measuring");
   });

@@ -273,3 +273,111 @@ describe("price list", () => {
     expect((await callRoute(priceListAction, post("/lab/price-list", prices({ currency: "EUR" }), await as(OPERATOR)))).status).toBe(403);
   });
 });
+
+describe("sample holder and instrument profile", () => {
+  const PROFILED = "Profiled diffractometer (test)";
+  const profileFields = (overrides: Record<string, string> = {}) =>
+    instrument({ name: PROFILED, sampleHolder: "silicon_zero_background", cagliotiU: "0.004", cagliotiV: "-0.003", cagliotiW: "0.002", ...overrides });
+
+  it("saves the holder and U, V, W typed in by the manager, naming them as entered", async () => {
+    const answer = await callRoute(capabilitiesAction, post("/lab/capabilities", profileFields(), await as(MANAGER)));
+    expect(answer.status).toBe(302);
+    const [saved] = await instrumentsNamed(PROFILED);
+    // U 0.004, V −0.003, W 0.002 degrees²: the order of a laboratory instrument's profile (common practice).
+    expect(saved).toMatchObject({
+      sampleHolder: "silicon_zero_background",
+      cagliotiU: 0.004,
+      cagliotiV: -0.003,
+      cagliotiW: 0.002,
+      profileSource: "Entered by the lab",
+    });
+    const page = await callRoute(capabilitiesLoader, getRequest("/lab/capabilities", await as(MANAGER)));
+    expect((page.body as { instruments: { name: string; cagliotiU: number | null }[] }).instruments.find((i) => i.name === PROFILED)?.cagliotiU).toBe(0.004);
+  });
+
+  it("refuses an incomplete profile, centidegree values, a width that is not real and an unknown holder, changing nothing", async () => {
+    const [before] = await instrumentsNamed(PROFILED);
+    const cookie = await as(MANAGER);
+    const edit = (overrides: Record<string, string>) =>
+      callRoute(capabilitiesAction, post("/lab/capabilities", profileFields({ id: before.id, ...overrides }), cookie));
+    const partial = await edit({ cagliotiV: "", cagliotiW: "" });
+    expect(partial.status).toBe(400);
+    expect(errorsOf(partial).cagliotiV).toEqual(["Give all three of U, V and W, or leave all three empty."]);
+    expect(errorsOf(partial).cagliotiW).toEqual(["Give all three of U, V and W, or leave all three empty."]);
+    const units = await edit({ cagliotiU: "2", cagliotiV: "-2", cagliotiW: "5" });
+    expect(errorsOf(units).cagliotiU[0]).toMatch(/check the units/);
+    // 0.004 tan²θ − 0.02 tanθ + 0.003 is negative from 2θ ≈ 17.6° (hand calculation in tests/unit/instrument-form.test.ts).
+    const imaginary = await edit({ cagliotiV: "-0.02", cagliotiW: "0.003" });
+    expect(errorsOf(imaginary).cagliotiW[0]).toMatch(/^With these U, V and W the peak width would not be real at 1[78]\.\d° 2θ/);
+    const text = await edit({ cagliotiU: "small" });
+    expect(errorsOf(text).cagliotiU).toEqual(["Enter Caglioti U in degrees² as a number."]);
+    const holder = await edit({ sampleHolder: "cardboard" });
+    expect(errorsOf(holder).sampleHolder).toEqual(["Choose a sample holder from the list."]);
+    const [after] = await instrumentsNamed(PROFILED);
+    expect(after).toEqual(before);
+  });
+
+  it("clears the profile when all three are left empty, and keeps 'not stated' as no holder", async () => {
+    const [row] = await instrumentsNamed(PROFILED);
+    const answer = await callRoute(
+      capabilitiesAction,
+      post("/lab/capabilities", profileFields({ id: row.id, sampleHolder: "none", cagliotiU: "", cagliotiV: "", cagliotiW: "" }), await as(MANAGER)),
+    );
+    expect(answer.status).toBe(302);
+    const [cleared] = await instrumentsNamed(PROFILED);
+    expect(cleared).toMatchObject({ sampleHolder: null, cagliotiU: null, cagliotiV: null, cagliotiW: null, profileSource: null });
+  });
+
+  it("saves the U, V, W fitted to the vetting calibration scan on a chosen instrument, from the stored fit only", async () => {
+    const [row] = await instrumentsNamed(PROFILED);
+    const save = async (instrumentId: string, email = MANAGER) =>
+      callRoute(
+        capabilitiesAction,
+        post(
+          "/lab/capabilities",
+          [
+            ["intent", "save-calibration-profile"],
+            ["formId", "calibration-profile"],
+            ["instrumentId", instrumentId],
+            // Numbers in the form are ignored: only the stored fit is saved.
+            ["U", "0.9"],
+          ],
+          await as(email),
+        ),
+      );
+    await db.update(schema.labs).set({ calibrationCheck: null }).where(eq(schema.labs.organisationId, graniteRidge));
+    const none = await save(row.id);
+    expect(none.status).toBe(400);
+    expect(errorsOf(none)[""]).toEqual(["The calibration scan gave no instrument profile to save; hand in a calibration scan first."]);
+
+    const check = {
+      standard: "si_srm640c",
+      scanFileName: "si-640c.xrdml",
+      checkedAt: "2026-11-30T09:15:00.000Z",
+      instrumentProfile: { U: 0.0051, V: -0.0022, W: 0.0019, peaks: 11 },
+    };
+    await db.update(schema.labs).set({ calibrationCheck: check }).where(eq(schema.labs.organisationId, graniteRidge));
+    expect((await save(row.id)).status).toBe(302);
+    const [saved] = await instrumentsNamed(PROFILED);
+    expect(saved).toMatchObject({ cagliotiU: 0.0051, cagliotiV: -0.0022, cagliotiW: 0.0019 });
+    expect(saved.profileSource).toMatch(/^Fitted to the calibration scan si-640c\.xrdml \(.+\), 2026-11-30$/);
+
+    // Saving the instrument form again with the same numbers keeps where they came from.
+    expect(
+      (
+        await callRoute(
+          capabilitiesAction,
+          post("/lab/capabilities", profileFields({ id: row.id, cagliotiU: "0.0051", cagliotiV: "-0.0022", cagliotiW: "0.0019" }), await as(MANAGER)),
+        )
+      ).status,
+    ).toBe(302);
+    expect((await instrumentsNamed(PROFILED))[0].profileSource).toBe(saved.profileSource);
+
+    // Another lab's instrument is not there for this lab; an operator may not save; a missing choice is one sentence.
+    const [theirs] = await db.select().from(schema.instruments).where(eq(schema.instruments.labId, lakeside));
+    expect((await save(theirs.id)).status).toBe(404);
+    expect((await save(row.id, OPERATOR)).status).toBe(403);
+    const missing = await save("");
+    expect(errorsOf(missing).instrumentId).toEqual(["Choose the instrument to save the profile on."]);
+  });
+});

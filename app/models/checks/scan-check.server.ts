@@ -3,8 +3,9 @@
 import { eq, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Sample } from "~/db/schema";
-import { type CheckInput, checkScanForStorage, declaredOf, radiationOf } from "~/domain/lattice-check";
-import { readStoredText } from "~/models/files/storage.server";
+import { type CheckInput, checkScanForStorage, declaredOf, holderOf, instrumentProfileOf, radiationOf, type ScanRead } from "~/domain/lattice-check";
+import { formatBytes, SCAN_MAX_BYTES } from "~/domain/order-files";
+import { readStoredBytes } from "~/models/files/storage.server";
 import { config } from "~/config.server";
 import { getBoss, QUEUES } from "~/jobs/queues.server";
 
@@ -71,15 +72,21 @@ export async function runScanCheck(fileId: string, options: RunScanCheckOptions 
     return { status: "failed", checkId, error };
   };
 
-  let text: string;
+  // Files stored before the scan limit applied at upload may be larger than the check reads.
+  if (file.sizeBytes > SCAN_MAX_BYTES) {
+    return fail(`The file is ${formatBytes(file.sizeBytes)}; a scan is checked up to ${formatBytes(SCAN_MAX_BYTES)}. Deliver a smaller export of it.`);
+  }
+  let bytes: Uint8Array;
   try {
-    text = await readStoredText(file.storageKey);
+    bytes = await readStoredBytes(file.storageKey);
   } catch (err) {
     if (options.finalAttempt) return fail("The stored scan could not be read from storage; upload it again.");
     throw err;
   }
 
-  const checked = checkScanForStorage(text, await checkContext(file.orderId, file.sampleId));
+  const checked = checkScanForStorage(bytes, { ...(await checkContext(file.orderId, file.sampleId)), fileName: file.name });
+  // What the file states is kept with the file as soon as it is read, whether the check then succeeds or not.
+  if (checked.read) await keepScanRead(fileId, checked.read);
   if (!checked.ok) return fail(checked.error);
   const stored = checked.result;
   await db
@@ -89,7 +96,12 @@ export async function runScanCheck(fileId: string, options: RunScanCheckOptions 
   return { status: "done", checkId, verdict: stored.verdict };
 }
 
-/** The instrument's radiation from the order's quote, and the sample's declared system, centering and cell. */
+/** Keeps a scan's format and what it states on its file row (written at upload too; files stored before that get it here). */
+async function keepScanRead(fileId: string, read: ScanRead) {
+  await db.update(schema.orderFiles).set({ scanFormat: read.format, scanInfo: read.info }).where(eq(schema.orderFiles.id, fileId));
+}
+
+/** The quote's instrument (radiation, holder, profile), and the sample's declared system, centering and cell. */
 async function checkContext(orderId: string, sampleId: string | null): Promise<CheckInput> {
   const [found] = await db
     .select({ instrument: schema.instruments })
@@ -97,18 +109,16 @@ async function checkContext(orderId: string, sampleId: string | null): Promise<C
     .innerJoin(schema.quotes, eq(schema.quotes.id, schema.orders.quoteId))
     .leftJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
     .where(eq(schema.orders.id, orderId));
-  const warnings: string[] = [];
-  let radiation = found?.instrument ? radiationOf(found.instrument) : null;
-  if (!radiation) {
-    radiation = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" };
-    warnings.push("The quote names no instrument with a known source, so the check assumed Cu Kα radiation.");
-  }
+  // With no source here, the file's own is used, or Cu Kα is assumed and said so (chooseRadiation).
+  const instrument = found?.instrument ?? null;
   let sample: Sample | undefined;
   if (sampleId) [sample] = await db.select().from(schema.samples).where(eq(schema.samples.id, sampleId));
   return {
-    radiation,
+    radiation: instrument ? radiationOf(instrument) : null,
+    holder: instrument ? holderOf(instrument) : undefined,
+    instrumentProfile: instrument ? instrumentProfileOf(instrument) : undefined,
     declared: sample ? declaredOf(sample) : {},
-    warnings,
+    warnings: [],
     declaredFrom: {
       sampleLabel: sample?.label ?? null,
       expectedPhase: sample?.expectedPhase ?? null,

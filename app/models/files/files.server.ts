@@ -20,17 +20,21 @@ import {
   contentTypeFor,
   presignDownload,
   presignUpload,
+  SCAN_RULE,
   storageKeyFor,
   verifyStoredObject,
   isStorageUnreachable,
   StorageUnavailable,
   type UploadRule,
 } from "~/models/files/storage.server";
+import { radiationOf, readScanFile } from "~/domain/lattice-check";
+import { chooseRadiation, type ScanInfo } from "~/domain/measurement";
 import {
   DOWNLOAD_URL_SECONDS,
   FILE_KINDS,
   MAX_FILE_BYTES,
   PART_BYTES,
+  SCAN_MAX_BYTES,
   SINGLE_PUT_MAX_BYTES,
   UPLOAD_ORDER_STATES,
   formatBytes,
@@ -51,9 +55,9 @@ export class UploadProblem extends Error {
   }
 }
 
-const SCAN_FILE_RULE: UploadRule = { label: "a text scan file (.xy, .xye, .csv, .txt, .dat, .cif)", maxBytes: MAX_FILE_BYTES, types: ["text/plain"] };
+/** A scan is any file the engine's readers can read (text or an instrument's own format), up to the scan limit. */
 export const FILE_RULES: Record<FileKind, UploadRule> = {
-  scan: SCAN_FILE_RULE,
+  scan: SCAN_RULE,
   report: { label: "a PDF report", maxBytes: MAX_FILE_BYTES, types: ["application/pdf"] },
   other: { label: "a PDF, PNG, JPEG or text file", maxBytes: MAX_FILE_BYTES, types: ["application/pdf", "image/png", "image/jpeg", "text/plain"] },
 };
@@ -94,6 +98,12 @@ async function checkUploadInput(order: Order, input: StartUploadInput) {
   if (!Number.isSafeInteger(input.size) || input.size < 0) throw new UploadProblem("Give the file's size in bytes, as a whole number.");
   if (input.size > MAX_FILE_BYTES) {
     throw new UploadProblem(`The file is ${formatBytes(input.size)}; the limit is ${formatBytes(MAX_FILE_BYTES)} per file.`, 413);
+  }
+  if (kind === "scan" && input.size > SCAN_MAX_BYTES) {
+    throw new UploadProblem(
+      `The file is ${formatBytes(input.size)}; a scan is read whole by the check, so it may be at most ${formatBytes(SCAN_MAX_BYTES)}. Export a smaller scan.`,
+      413,
+    );
   }
   const problem = checkDeclaredFile(FILE_RULES[kind], { name, size: input.size, type: "" });
   if (problem) throw new UploadProblem(problem);
@@ -215,7 +225,17 @@ export function parseCompletedParts(value: unknown): CompletedPart[] | null {
   return parts.sort((a, b) => a.partNumber - b.partNumber);
 }
 
-export type CompletedUpload = { file: OrderFile; stored: true } | { file: OrderFile; stored: false; reason: string };
+/** A finished upload: stored (with any warning the lab should read before it delivers), or refused with the reason. */
+export type CompletedUpload = { file: OrderFile; stored: true; warnings: string[] } | { file: OrderFile; stored: false; reason: string };
+
+/** What the lab should know about a stored scan before it delivers: a radiation that differs from the quote's instrument. */
+async function storedWarnings(file: OrderFile): Promise<string[]> {
+  if (file.kind !== "scan" || !file.scanInfo) return [];
+  const instrument = await quotedInstrumentOfOrder(file.orderId);
+  const radiation = instrument ? radiationOf(instrument) : null;
+  const mismatch = radiation ? chooseRadiation(file.scanInfo.metadata, radiation, instrument?.name ?? null).mismatch : null;
+  return mismatch ? [mismatch] : [];
+}
 
 async function reject(file: OrderFile, reason: string): Promise<CompletedUpload> {
   const [row] = await db
@@ -234,7 +254,7 @@ async function reject(file: OrderFile, reason: string): Promise<CompletedUpload>
  * otherwise it is `rejected` with the reason, and nothing of it counts as delivered.
  */
 export async function completeOrderUpload(file: OrderFile, input: { parts?: unknown; sha256?: unknown }): Promise<CompletedUpload> {
-  if (file.state === "stored") return { file, stored: true };
+  if (file.state === "stored") return { file, stored: true, warnings: await storedWarnings(file) };
   if (file.state === "rejected") throw new UploadProblem(`This upload was already refused: ${file.rejectReason ?? "upload the file again."}`, 409);
   const sha256 = typeof input.sha256 === "string" && input.sha256 ? input.sha256.toLowerCase() : file.sha256;
   if (!SHA256_HEX.test(sha256)) throw new UploadProblem("Send the file's SHA-256 (64 hexadecimal characters).");
@@ -268,19 +288,29 @@ export async function completeOrderUpload(file: OrderFile, input: { parts?: unkn
   const verified = await verifyStoredObject(file.storageKey, rule, sha256);
   if (!verified.ok) return reject(file, verified.error);
   if (verified.size !== file.sizeBytes) return reject(file, `The stored file has ${verified.size} bytes, not the ${file.sizeBytes} declared; upload it again.`);
+  // A scan is read at once: a file no reader can read (an image, a PDF, a spreadsheet, damaged bytes) is refused
+  // now with the reader's sentence, so the lab learns it before anything counts as delivered.
+  let scan: { scanFormat: string; scanInfo: ScanInfo } | null = null;
+  if (file.kind === "scan") {
+    const read = readScanFile(verified.bytes ?? new Uint8Array(), file.name);
+    if (!read.ok) return reject(file, read.error);
+    scan = { scanFormat: read.format, scanInfo: read.info };
+  }
 
   const [row] = await db
     .update(schema.orderFiles)
-    .set({ state: "stored", sha256, storedAt: new Date(), multipartUploadId: null })
+    .set({ state: "stored", sha256, storedAt: new Date(), multipartUploadId: null, ...scan })
     .where(and(eq(schema.orderFiles.id, file.id), eq(schema.orderFiles.state, "uploading")))
     .returning();
   if (!row) {
     // Another `complete` of the same upload finished first; answer with what it decided.
     const [current] = await db.select().from(schema.orderFiles).where(eq(schema.orderFiles.id, file.id));
-    return current.state === "stored" ? { file: current, stored: true } : { file: current, stored: false, reason: current.rejectReason ?? "Refused." };
+    return current.state === "stored"
+      ? { file: current, stored: true, warnings: await storedWarnings(current) }
+      : { file: current, stored: false, reason: current.rejectReason ?? "Refused." };
   }
   if (row.kind === "scan") await enqueueScanCheck(row.id);
-  return { file: row, stored: true };
+  return { file: row, stored: true, warnings: await storedWarnings(row) };
 }
 
 /** Cancels an unfinished upload: storage drops the parts, and the row goes (its version number is free again). */
@@ -291,7 +321,21 @@ export async function abortOrderUpload(file: OrderFile) {
   await db.delete(schema.orderFiles).where(and(eq(schema.orderFiles.id, file.id), eq(schema.orderFiles.state, "uploading")));
 }
 
-/** The order's files with uploader, sample and check; `client` sees stored, undeleted files only. */
+/** The instrument named by the order's quote (its source, name, holder and profile), or null. */
+async function quotedInstrumentOfOrder(orderId: string) {
+  const [found] = await db
+    .select({ instrument: schema.instruments })
+    .from(schema.orders)
+    .innerJoin(schema.quotes, eq(schema.quotes.id, schema.orders.quoteId))
+    .innerJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
+    .where(eq(schema.orders.id, orderId));
+  return found?.instrument ?? null;
+}
+
+/**
+ * The order's files with uploader, sample and check; `client` sees stored, undeleted files only. A scan that has
+ * been read carries what it states, and (for the lab) the sentence when its radiation differs from the quote's instrument.
+ */
 export async function orderFileList(orderId: string, { side }: { side: "client" | "lab" | "shared" }) {
   const visible =
     side === "lab"
@@ -317,6 +361,9 @@ export async function orderFileList(orderId: string, { side }: { side: "client" 
     .leftJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))
     .where(visible)
     .orderBy(asc(schema.orderFiles.name), desc(schema.orderFiles.version));
+  // The mismatch sentence is for the lab, who decides what to deliver (the client reads it among the check's warnings).
+  const instrument = side === "lab" && rows.some((r) => r.file.scanInfo) ? await quotedInstrumentOfOrder(orderId) : null;
+  const instrumentRadiation = instrument ? radiationOf(instrument) : null;
   return rows.map(({ file, uploader, sampleLabel, check }) => ({
     id: file.id,
     name: file.name,
@@ -333,6 +380,10 @@ export async function orderFileList(orderId: string, { side }: { side: "client" 
     uploadedAt: (file.storedAt ?? file.createdAt).toISOString(),
     deletedAt: file.deletedAt?.toISOString() ?? null,
     check: check?.id ? { ...check, finishedAt: check.finishedAt?.toISOString() ?? null } : null,
+    scanFormat: file.scanFormat,
+    scanInfo: file.scanInfo,
+    radiationMismatch:
+      file.scanInfo && instrumentRadiation ? chooseRadiation(file.scanInfo.metadata, instrumentRadiation, instrument?.name ?? null).mismatch : null,
   }));
 }
 

@@ -5,13 +5,17 @@ import { getSignedUrl } from "@aws-sdk/s3-request-presigner";
 import { config } from "~/config.server";
 import { attachmentDisposition, fileNameProblem, keySegmentFor, keySegments } from "~/domain/storage-keys";
 import { services } from "~/utils/services.server";
+import { SCAN_INSTRUMENT_EXTENSIONS, SCAN_MAX_BYTES, SCAN_TEXT_EXTENSIONS } from "~/domain/order-files";
 
 /** What a kind of upload may be: its size limit and the types it accepts (checked by content too). */
 export interface UploadRule {
   label: string;
   maxBytes: number;
-  /** Accepted MIME types; the first bytes of the stored object must match one of them. */
-  types: ("application/pdf" | "image/png" | "image/jpeg" | "text/plain")[];
+  /**
+   * Accepted MIME types; the first bytes of the stored object must match one of them. A scan rule
+   * (`application/octet-stream` among them) accepts any bytes: the scan reader decides what the file is.
+   */
+  types: ("application/pdf" | "image/png" | "image/jpeg" | "text/plain" | "application/octet-stream")[];
 }
 
 export const DOCUMENT_RULE: UploadRule = {
@@ -20,14 +24,23 @@ export const DOCUMENT_RULE: UploadRule = {
   types: ["application/pdf", "image/png", "image/jpeg"],
 };
 
-export const SCAN_RULE: UploadRule = { label: "a text scan file (xy, csv, pdCIF)", maxBytes: 50 * 1024 * 1024, types: ["text/plain"] };
+/** Scans: text columns, CSV, pdCIF, or an instrument's own format; the bytes are read by the scan reader, not sniffed. */
+export const SCAN_RULE: UploadRule = {
+  label: `a text scan file (${SCAN_TEXT_EXTENSIONS.join(", ")}) or an instrument's scan file (${SCAN_INSTRUMENT_EXTENSIONS.join(", ")})`,
+  maxBytes: SCAN_MAX_BYTES,
+  types: ["text/plain", "application/octet-stream"],
+};
 
-const EXTENSIONS: Record<string, string[]> = {
+const EXTENSIONS: Record<UploadRule["types"][number], string[]> = {
   "application/pdf": [".pdf"],
   "image/png": [".png"],
   "image/jpeg": [".jpg", ".jpeg"],
-  "text/plain": [".xy", ".xye", ".csv", ".txt", ".dat", ".cif"],
+  "text/plain": SCAN_TEXT_EXTENSIONS,
+  "application/octet-stream": SCAN_INSTRUMENT_EXTENSIONS,
 };
+
+/** Whether the rule leaves the content to the scan reader (any bytes may be stored, then read as a scan). */
+export const readAsScan = (rule: UploadRule) => rule.types.includes("application/octet-stream");
 
 const mb = (n: number) => `${Math.round(n / 1024 / 1024)} MB`;
 
@@ -81,7 +94,15 @@ function sniff(bytes: Uint8Array): UploadRule["types"][number] | "binary" | null
   return bytes.length > 0 ? "text/plain" : null;
 }
 
-export type StoredObjectCheck = { ok: true; size: number; sha256: string } | { ok: false; error: string };
+export type StoredObjectCheck =
+  | {
+      ok: true;
+      size: number;
+      sha256: string;
+      /** The object's bytes, for a scan rule (read once, with the hash), so the caller can read the scan. */
+      bytes?: Uint8Array;
+    }
+  | { ok: false; error: string };
 
 /** Storage gave no answer (connection refused, reset, timed out) or a server error: nothing is known, try later. */
 export class StorageUnavailable extends Error {
@@ -114,32 +135,36 @@ export async function verifyStoredObject(key: string, rule: UploadRule, expected
   if (size > rule.maxBytes) return { ok: false, error: `The file is ${mb(size)}; the limit is ${mb(rule.maxBytes)}.` };
   if (size === 0) return { ok: false, error: "The file is empty." };
   const hash = createHash("sha256");
+  const scan = readAsScan(rule);
+  const chunks: Uint8Array[] = [];
   let head: Uint8Array | null = null;
   try {
     const object = await services.s3.send(new GetObjectCommand({ Bucket: config.s3.bucket, Key: key }));
     for await (const chunk of object.Body as AsyncIterable<Uint8Array>) {
       if (!head) head = chunk.subarray(0, 512);
       hash.update(chunk);
+      if (scan) chunks.push(chunk);
     }
   } catch (err) {
     if (isStorageUnreachable(err)) throw new StorageUnavailable();
     throw err;
   }
+  // A scan's content is judged by the scan reader (it names images, PDFs and the like in one sentence).
   const kind = sniff(head ?? new Uint8Array());
-  if (!kind || kind === "binary" || !rule.types.includes(kind)) {
+  if (!scan && (!kind || kind === "binary" || !rule.types.includes(kind))) {
     return { ok: false, error: `The file's content is not ${rule.label}.` };
   }
   const sha256 = hash.digest("hex");
   if (expectedSha256 && expectedSha256.toLowerCase() !== sha256) {
     return { ok: false, error: "The stored file's checksum does not match the one computed in your browser; upload it again." };
   }
-  return { ok: true, size, sha256 };
+  return scan ? { ok: true, size, sha256, bytes: Buffer.concat(chunks) } : { ok: true, size, sha256 };
 }
 
-/** Reads a stored text object whole (scans up to the scan limit). */
-export async function readStoredText(key: string) {
+/** Reads a stored object's bytes whole (a scan, text or binary, up to the scan limit; the caller checks the size first). */
+export async function readStoredBytes(key: string): Promise<Uint8Array> {
   const object = await services.s3.send(new GetObjectCommand({ Bucket: config.s3.bucket, Key: key }));
-  return (await object.Body!.transformToString("utf-8")) as string;
+  return object.Body!.transformToByteArray();
 }
 
 /** Stores bytes from the server itself (seeding, generated reports). */

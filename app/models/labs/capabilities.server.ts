@@ -4,7 +4,8 @@ import { db, schema } from "~/db/client.server";
 import { audit } from "~/models/audit.server";
 import { invalidateDirectory } from "~/models/labs/directory.server";
 import { NoSuchRecord } from "~/models/errors";
-import type { InstrumentInput, StageInput } from "~/domain/capabilities";
+import { profileFailsAt, type InstrumentInput, type StageInput } from "~/domain/capabilities";
+import { CALIBRATION_STANDARDS, type CalibrationCheck } from "~/domain/vetting";
 import type { PriceListInput } from "~/domain/price-list";
 
 export interface Actor {
@@ -36,8 +37,26 @@ export async function listInstruments(labId: string) {
   return instruments.map((i) => ({ ...i, stages: stages.filter((s) => s.instrumentId === i.id) }));
 }
 
+/** Where U, V, W typed into the instrument form came from, in words. */
+export const PROFILE_ENTERED = "Entered by the lab";
+
 /** Adds an instrument, or updates one of this lab's; another lab's id raises NoSuchRecord. */
 export async function saveInstrument(labId: string, input: InstrumentInput, actor: Actor) {
+  const hasProfile = input.cagliotiU !== undefined && input.cagliotiV !== undefined && input.cagliotiW !== undefined;
+  const profile = hasProfile
+    ? { cagliotiU: input.cagliotiU!, cagliotiV: input.cagliotiV!, cagliotiW: input.cagliotiW! }
+    : { cagliotiU: null, cagliotiV: null, cagliotiW: null };
+  // Values saved unchanged keep where they came from (a fit to the calibration scan stays named as such).
+  let profileSource: string | null = hasProfile ? PROFILE_ENTERED : null;
+  if (hasProfile && input.id) {
+    const [current] = await db
+      .select()
+      .from(schema.instruments)
+      .where(and(eq(schema.instruments.id, input.id), eq(schema.instruments.labId, labId)));
+    if (current && current.cagliotiU === profile.cagliotiU && current.cagliotiV === profile.cagliotiV && current.cagliotiW === profile.cagliotiW) {
+      profileSource = current.profileSource ?? PROFILE_ENTERED;
+    }
+  }
   const values = {
     name: input.name,
     technique: input.technique,
@@ -50,6 +69,9 @@ export async function saveInstrument(labId: string, input: InstrumentInput, acto
     detector: input.detector,
     energyDiscrimination: input.energyDiscrimination,
     sampleForms: input.sampleForms,
+    sampleHolder: input.sampleHolder && input.sampleHolder !== "none" ? input.sampleHolder : null,
+    ...profile,
+    profileSource,
   };
   let id = input.id;
   if (id) {
@@ -67,6 +89,55 @@ export async function saveInstrument(labId: string, input: InstrumentInput, acto
   }
   await record(labId, actor, input.id ? "instrument_updated" : "instrument_added", "instrument", id!, { name: input.name });
   return id!;
+}
+
+/**
+ * Saves Caglioti U, V, W fitted to a calibration scan on one of this lab's instruments, naming where they came
+ * from; another lab's instrument raises NoSuchRecord.
+ */
+export async function saveInstrumentProfile(labId: string, instrumentId: string, profile: { U: number; V: number; W: number; source: string }, actor: Actor) {
+  const updated = await db
+    .update(schema.instruments)
+    .set({ cagliotiU: profile.U, cagliotiV: profile.V, cagliotiW: profile.W, profileSource: profile.source })
+    .where(and(eq(schema.instruments.id, instrumentId), eq(schema.instruments.labId, labId)))
+    .returning({ id: schema.instruments.id, name: schema.instruments.name });
+  if (updated.length === 0) throw new NoSuchRecord("This lab has no such instrument.");
+  await record(labId, actor, "instrument_profile_saved", "instrument", instrumentId, {
+    name: updated[0].name,
+    U: profile.U,
+    V: profile.V,
+    W: profile.W,
+    source: profile.source,
+  });
+  return updated[0];
+}
+
+/** Raised when a calibration fit cannot be saved on an instrument; the message is the sentence for the lab. */
+export class ProfileNotSaved extends Error {}
+
+/**
+ * Saves the U, V, W fitted to the lab's vetting calibration scan on one of its instruments (the numbers come from
+ * the stored calibration check, never from the form). Refused in one sentence when there is no fit, or when the
+ * fit gives no real width over the instrument's 2θ range.
+ */
+export async function saveCalibrationProfile(labId: string, instrumentId: string, actor: Actor) {
+  const [lab] = await db.select({ check: schema.labs.calibrationCheck }).from(schema.labs).where(eq(schema.labs.organisationId, labId));
+  const check = lab?.check as CalibrationCheck | null | undefined;
+  const fit = check?.instrumentProfile;
+  if (!check || !fit) throw new ProfileNotSaved("The calibration scan gave no instrument profile to save; hand in a calibration scan first.");
+  const [instrument] = await db
+    .select()
+    .from(schema.instruments)
+    .where(and(eq(schema.instruments.id, instrumentId), eq(schema.instruments.labId, labId)));
+  if (!instrument) throw new NoSuchRecord("This lab has no such instrument.");
+  const failsAt = profileFailsAt(fit, instrument.twoThetaMin, instrument.twoThetaMax);
+  if (failsAt !== null) {
+    throw new ProfileNotSaved(
+      `The fitted profile gives no real peak width at ${+failsAt.toFixed(1)}° 2θ, inside ${instrument.name}'s range; measure the calibration scan over the instrument's range and hand it in again.`,
+    );
+  }
+  const source = `Fitted to the calibration scan ${check.scanFileName} (${CALIBRATION_STANDARDS[check.standard]?.label ?? check.standard}), ${check.checkedAt.slice(0, 10)}`;
+  return saveInstrumentProfile(labId, instrumentId, { U: fit.U, V: fit.V, W: fit.W, source }, actor);
 }
 
 export async function removeInstrument(labId: string, id: string, actor: Actor) {

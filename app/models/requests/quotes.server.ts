@@ -64,14 +64,14 @@ export async function quoteStatesOfLab(labId: string, requestIds: string[]) {
     .where(and(eq(schema.quotes.labId, labId), inArray(schema.quotes.requestId, requestIds)));
 }
 
-/** The source of the instrument a quote named (anode or custom wavelength, monochromation), if it still exists. */
+/** The instrument a quote named (its source, name, sample holder and profile), if it still exists. */
 export async function quotedInstrumentOf(quoteId: string) {
   const [row] = await db
-    .select({ anode: schema.instruments.anode, customWavelength: schema.instruments.customWavelength, monochromation: schema.instruments.monochromation })
+    .select({ instrument: schema.instruments })
     .from(schema.quotes)
     .innerJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
     .where(eq(schema.quotes.id, quoteId));
-  return row;
+  return row?.instrument;
 }
 
 /** The lab's vetting state, or null when the organisation has no lab profile yet. */

@@ -7,7 +7,7 @@ import { RevokeButton, ShownOnce } from "~/components/shown-once";
 import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
 import { config } from "~/config.server";
 import { API_TOKEN_RATE_LIMIT, createApiToken, listApiTokens, revokeApiToken } from "~/models/accounts/api-tokens.server";
-import { MAX_FILE_BYTES, formatBytes } from "~/domain/order-files";
+import { MAX_FILE_BYTES, SCAN_INSTRUMENT_EXTENSIONS, SCAN_MAX_BYTES, SCAN_TEXT_EXTENSIONS, formatBytes } from "~/domain/order-files";
 import { audit } from "~/models/audit.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -136,8 +136,10 @@ export default function ApiTokens({ loaderData, actionData }: Route.ComponentPro
           </li>
         </ol>
         <p className="mt-2 text-xs text-ink-600">
-          Scans are text files (.xy, .xye, .csv, .txt, .dat, .cif), reports PDF; at most {formatBytes(MAX_FILE_BYTES)} per file. Each token may make{" "}
-          {limit.limit} requests a minute; more are answered 429 with Retry-After.
+          Scans are text files ({SCAN_TEXT_EXTENSIONS.join(", ")}) or the instrument&apos;s own files ({SCAN_INSTRUMENT_EXTENSIONS.join(", ")}), up to{" "}
+          {formatBytes(SCAN_MAX_BYTES)}; each scan is read at once, and one no reader can read is answered 422 with the reason (nothing is kept). A stored
+          scan&apos;s answer names its format and any warning (a radiation other than the quote&apos;s instrument). Reports are PDF; at most{" "}
+          {formatBytes(MAX_FILE_BYTES)} per file. Each token may make {limit.limit} requests a minute; more are answered 429 with Retry-After.
         </p>
       </section>
     </div>

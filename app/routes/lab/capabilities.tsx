@@ -14,12 +14,14 @@ import {
   ATMOSPHERES,
   DETECTOR_KINDS,
   DETECTOR_LABELS,
+  CalibrationProfileSchema,
   HazardAcceptanceSchema,
   InstrumentSchema,
   instrumentWavelength,
   MONOCHROMATION_LABELS,
   MONOCHROMATION_OPTIONS,
   RemoveSchema,
+  SAMPLE_HOLDER_OPTIONS,
   SAMPLE_FORM_LABELS,
   SAMPLE_FORMS,
   StageSchema,
@@ -29,9 +31,11 @@ import {
 import {
   getHazardAcceptance,
   listInstruments,
+  ProfileNotSaved,
   removeInstrument,
   removeStage,
   saveHazardAcceptance,
+  saveCalibrationProfile,
   saveInstrument,
   saveStage,
 } from "~/models/labs/capabilities.server";
@@ -54,7 +58,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   };
 }
 
-type Intent = "save-instrument" | "remove-instrument" | "save-stage" | "remove-stage" | "save-hazards";
+type Intent = "save-instrument" | "remove-instrument" | "save-stage" | "remove-stage" | "save-hazards" | "save-calibration-profile";
 
 export async function action({ request, context }: Route.ActionArgs) {
   const { user, membership } = await requireOrgRole(request, "lab", ["manager"]);
@@ -83,6 +87,18 @@ export async function action({ request, context }: Route.ActionArgs) {
       return handle(RemoveSchema, (v) => removeStage(labId, v.id, actor), "Sample stage removed.");
     case "save-hazards":
       return handle(HazardAcceptanceSchema, (v) => saveHazardAcceptance(labId, v, actor), "Hazard acceptance saved.");
+    case "save-calibration-profile": {
+      // From the vetting screen: the U, V, W fitted to the calibration scan go onto the chosen instrument.
+      const submission = parseWithZod(formData, { schema: CalibrationProfileSchema });
+      if (submission.status !== "success") return data({ formId, result: submission.reply() }, { status: 400 });
+      try {
+        await orNotFound(saveCalibrationProfile(labId, submission.value.instrumentId, actor));
+      } catch (err) {
+        if (err instanceof ProfileNotSaved) return data({ formId, result: submission.reply({ formErrors: [err.message] }) }, { status: 400 });
+        throw err;
+      }
+      return redirectWithToast("/lab/capabilities", { kind: "success", message: "Instrument profile from the calibration scan saved." });
+    }
     default:
       return data({ formId, result: { status: "error", error: { "": ["This form cannot be handled here."] } } as SubmissionResult<string[]> }, { status: 400 });
   }
@@ -127,6 +143,11 @@ function coverageText(i: Pick<Instrument, "anode" | "customWavelength" | "twoThe
   return `d ${dMin.toFixed(4)}–${Number.isFinite(dMax) ? dMax.toFixed(2) : "∞"} Å`;
 }
 
+function profileText(i: Pick<Instrument, "cagliotiU" | "cagliotiV" | "cagliotiW" | "profileSource">) {
+  if (i.cagliotiU == null || i.cagliotiV == null || i.cagliotiW == null) return "Not given (crystallite sizes include the instrument's own broadening)";
+  return `U ${i.cagliotiU}, V ${i.cagliotiV}, W ${i.cagliotiW} degrees²${i.profileSource ? ` · ${i.profileSource}` : ""}`;
+}
+
 function sourceText(i: Pick<Instrument, "anode" | "customWavelength" | "monochromation">) {
   if (i.anode) return `${i.anode} anode, Kα1 ${ANODE_LINES[i.anode].kAlpha1} Å · ${MONOCHROMATION_LABELS[i.monochromation]}`;
   return `Custom wavelength ${i.customWavelength} Å`;
@@ -146,6 +167,8 @@ function InstrumentCard({ instrument: i, canEdit, editStage }: { instrument: Ins
     ["d-spacing covered", `${coverageText(i)} (Bragg's law, λ = 2d sin θ)`],
     ["Detector", `${DETECTOR_LABELS[i.detector]}${i.energyDiscrimination ? ", energy-discriminating" : ", no energy discrimination"}`],
     ["Sample forms", i.sampleForms.map((f) => SAMPLE_FORM_LABELS[f as keyof typeof SAMPLE_FORM_LABELS] ?? f).join(", ") || "—"],
+    ["Sample holder", SAMPLE_HOLDER_OPTIONS.find((h) => h.value === i.sampleHolder)?.label ?? "Not stated"],
+    ["Instrument profile", profileText(i)],
   ];
   const stageBeingEdited = i.stages.find((s) => s.id === editStage);
   const newStageResult = useFormResult(`stage-new-${i.id}`);
@@ -246,8 +269,20 @@ function InstrumentForm({ instrument }: { instrument?: InstrumentView }) {
           detector: instrument.detector,
           energyDiscrimination: instrument.energyDiscrimination ? "on" : undefined,
           sampleForms: instrument.sampleForms,
+          sampleHolder: instrument.sampleHolder ?? "none",
+          cagliotiU: instrument.cagliotiU != null ? String(instrument.cagliotiU) : "",
+          cagliotiV: instrument.cagliotiV != null ? String(instrument.cagliotiV) : "",
+          cagliotiW: instrument.cagliotiW != null ? String(instrument.cagliotiW) : "",
         }
-      : { technique: "powder_reflection", sourceKind: "anode", anode: "Cu", monochromation: "k_alpha_doublet", detector: "strip_1d", sampleForms: ["powder"] },
+      : {
+          technique: "powder_reflection",
+          sourceKind: "anode",
+          anode: "Cu",
+          monochromation: "k_alpha_doublet",
+          detector: "strip_1d",
+          sampleForms: ["powder"],
+          sampleHolder: "none",
+        },
     onValidate: ({ formData }) => parseWithZod(formData, { schema: InstrumentSchema }),
     shouldValidate: "onSubmit",
     shouldRevalidate: "onInput",
@@ -313,6 +348,21 @@ function InstrumentForm({ instrument }: { instrument?: InstrumentView }) {
         field={fields.sampleForms}
         options={SAMPLE_FORMS.map((f) => ({ value: f, label: SAMPLE_FORM_LABELS[f] }))}
       />
+      <SelectField label="Sample holder" meta={fields.sampleHolder} options={SAMPLE_HOLDER_OPTIONS} />
+      <fieldset aria-describedby={`${formId}-profile-hint`}>
+        <legend className="label">Instrument profile (optional)</legend>
+        <p id={`${formId}-profile-hint`} className="mb-2 text-xs text-ink-600">
+          Caglioti U, V and W in degrees² 2θ (FWHM² = U tan²θ + V tanθ + W), fitted to a line-profile standard; with them the crystallite sizes leave out the
+          instrument&apos;s own peak width. Give all three or none.
+        </p>
+        <div className="grid gap-3 sm:grid-cols-3">
+          {(["cagliotiU", "cagliotiV", "cagliotiW"] as const).map((k) => (
+            <Field key={k} label={`Caglioti ${k.slice(-1)}`} id={fields[k].id} errors={fields[k].errors}>
+              <input className="input" inputMode="decimal" {...getInputProps(fields[k], { type: "text" })} />
+            </Field>
+          ))}
+        </div>
+      </fieldset>
       <FormError errors={form.errors} />
       <div className="flex gap-2">
         <button type="submit" className="btn-primary" disabled={navigation.state !== "idle"}>

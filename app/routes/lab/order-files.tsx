@@ -8,12 +8,12 @@ import { OrderFilesTable, type FileRow } from "~/components/order-files-table";
 import { EmptyState, PageHeader } from "~/components/ui";
 import { UPLOAD_ORDER_STATES } from "~/domain/order-files";
 import { organisationNameOf } from "~/models/accounts/organisations.server";
-import { quotedInstrumentOf } from "~/models/requests/quotes.server";
 import { requestTitleOf } from "~/models/requests/requests.server";
 import { orderFileList, orderSamples } from "~/models/files/files.server";
+import { quotedInstrumentOf } from "~/models/requests/quotes.server";
 import { ORDER_STATE_LABELS } from "~/domain/order-states";
 import { OrderStateBadge } from "~/components/order-state-badge";
-import { radiationOf } from "~/domain/lattice-check";
+import { holderOf, instrumentProfileOf, radiationOf } from "~/domain/lattice-check";
 import type { Route } from "./+types/order-files";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -38,7 +38,13 @@ export async function loader({ request, params }: Route.LoaderArgs) {
         },
       ]),
     ),
-    radiation: (instrument && radiationOf(instrument)) ?? ({ kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" } as const),
+    // The quote's instrument as the server's check uses it (a file stating another source is checked with its own).
+    instrument: {
+      radiation: instrument ? radiationOf(instrument) : null,
+      name: instrument?.name ?? null,
+      holder: instrument ? holderOf(instrument) : undefined,
+      instrumentProfile: instrument ? instrumentProfileOf(instrument) : undefined,
+    },
     files: await orderFileList(order.id, { side: "lab" }),
     canUpload: UPLOAD_ORDER_STATES.includes(order.state),
   };
@@ -48,7 +54,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 const replaceable = (row: FileRow) => (row.state === "rejected" || row.check?.status === "failed") && !row.deletedAt;
 
 export default function LabOrderFiles({ loaderData }: Route.ComponentProps) {
-  const { order, samples, declarations, radiation, files, canUpload } = loaderData;
+  const { order, samples, declarations, instrument, files, canUpload } = loaderData;
+  // Scans that will count as delivered but were measured with another source than the quote names.
+  const mismatched = files.filter((f) => f.kind === "scan" && f.state === "stored" && !f.deletedAt && f.radiationMismatch);
   const revalidator = useRevalidator();
   const queue = useDeliveryQueue(order.id, samples, () => void revalidator.revalidate());
   return (
@@ -72,7 +80,7 @@ export default function LabOrderFiles({ loaderData }: Route.ComponentProps) {
           // The in-browser check preview (engine in a Web Worker) renders here for each queued scan.
           preview={(item) =>
             item.kind === "scan" && item.status === "ready" && declarations[item.sampleId] ? (
-              <CheckPreview file={item.file} sample={declarations[item.sampleId]} radiation={radiation} />
+              <CheckPreview file={item.file} sample={declarations[item.sampleId]} instrument={instrument} />
             ) : null
           }
         />
@@ -89,6 +97,16 @@ export default function LabOrderFiles({ loaderData }: Route.ComponentProps) {
           Every version is kept; uploading a file of the same name adds the next version. Only stored files — verified by content and SHA-256 — count as
           delivered; each stored scan is checked against its sample's declared cell.
         </p>
+        {mismatched.length ? (
+          <div className="rounded-lg border border-caution-600/30 bg-caution-50 p-3 text-sm text-caution-700" role="alert" data-testid="mismatch-summary">
+            <p className="font-semibold">
+              <span aria-hidden="true">! </span>
+              Before you mark the data delivered: {mismatched.length === 1 ? "one scan was" : `${mismatched.length} scans were`} measured with another source
+              than the quote&apos;s instrument ({mismatched.map((f) => `${f.name} v${f.version}`).join(", ")}). The note beside each file below names both
+              sources; make sure each file belongs to this order.
+            </p>
+          </div>
+        ) : null}
         {files.length === 0 ? (
           <EmptyState title="No files yet">Drop the scans of each sample and your report above.</EmptyState>
         ) : (

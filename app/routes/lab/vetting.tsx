@@ -2,7 +2,7 @@
 import { getFormProps, getInputProps, getTextareaProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useState } from "react";
-import { data, Form, useNavigation } from "react-router";
+import { data, Form, useFetcher, useNavigation } from "react-router";
 import { CalibrationSummary } from "~/components/calibration-summary";
 import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
 import { SelectField } from "~/components/select-field";
@@ -22,7 +22,9 @@ import {
   type VettingState,
 } from "~/domain/vetting";
 import { orNotFound, requireOrgRole } from "~/utils/permissions.server";
-import { contentTypeFor, DOCUMENT_RULE, readStoredText, SCAN_RULE, verifyStoredObject } from "~/models/files/storage.server";
+import { contentTypeFor, DOCUMENT_RULE, SCAN_RULE, verifyStoredObject } from "~/models/files/storage.server";
+import { listInstruments } from "~/models/labs/capabilities.server";
+import { KIND_EXTENSIONS } from "~/domain/order-files";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/vetting";
@@ -49,6 +51,8 @@ export async function loader({ request }: Route.LoaderArgs) {
       scan: docs.get("calibration_scan")?.fileName ?? null,
     },
     check: (lab.calibrationCheck as CalibrationCheck | null) ?? null,
+    // Where a manager may save the U, V, W fitted to the calibration scan.
+    instruments: membership.role === "manager" ? (await listInstruments(lab.organisationId)).map((i) => ({ id: i.id, name: i.name })) : [],
   };
 }
 
@@ -71,7 +75,8 @@ export async function action({ request, context }: Route.ActionArgs) {
   if (!certificate.ok) return refuse({ certificateKey: [certificate.error] });
   const scanFile = await verifyStoredObject(v.scanKey, SCAN_RULE, v.scanSha256);
   if (!scanFile.ok) return refuse({ scanKey: [scanFile.error] });
-  const outcome = checkCalibrationScan(await readStoredText(v.scanKey), {
+  // verifyStoredObject hands back a scan's bytes (text or an instrument's binary file) read with its checksum.
+  const outcome = checkCalibrationScan(scanFile.bytes ?? new Uint8Array(), {
     standard: v.standard,
     instrumentName: v.instrumentName,
     anode: v.anode,
@@ -98,7 +103,13 @@ export async function action({ request, context }: Route.ActionArgs) {
           sizeBytes: certificate.size,
           sha256: certificate.sha256,
         },
-        scan: { storageKey: v.scanKey, fileName: v.scanName, contentType: "text/plain", sizeBytes: scanFile.size, sha256: scanFile.sha256 },
+        scan: {
+          storageKey: v.scanKey,
+          fileName: v.scanName,
+          contentType: contentTypeFor(SCAN_RULE, v.scanName),
+          sizeBytes: scanFile.size,
+          sha256: scanFile.sha256,
+        },
         check: outcome.check,
       }),
     );
@@ -118,7 +129,7 @@ const STATE_TEXT: Record<VettingState, string> = {
 };
 
 export default function Vetting({ loaderData, actionData }: Route.ComponentProps) {
-  const { labName, isManager, canSubmit, state, reviewNote, application, check } = loaderData;
+  const { labName, isManager, canSubmit, state, reviewNote, application, check, instruments } = loaderData;
   return (
     <div className="space-y-6">
       <PageHeader
@@ -136,6 +147,7 @@ export default function Vetting({ loaderData, actionData }: Route.ComponentProps
         <ApplicationSummary application={application} note={isManager ? null : "Only a lab manager can hand in the application."} />
       )}
       {check ? <CalibrationSummary check={check} /> : null}
+      {check?.instrumentProfile && isManager ? <SaveProfileForm instruments={instruments} /> : null}
     </div>
   );
 }
@@ -257,8 +269,8 @@ function ApplicationForm({ application, actionData }: { application: Application
         </div>
         <UploadedFileField
           id="scan-file"
-          label="Calibration scan (two-column xy, CSV or pdCIF text)"
-          accept=".xy,.xye,.csv,.txt,.dat,.cif"
+          label="Calibration scan (xy, CSV or pdCIF text, or your instrument's own file: XRDML, raw, GSAS, …)"
+          accept={KIND_EXTENSIONS.scan.join(",")}
           purpose="calibration_scan"
           names={{ key: fields.scanKey.name, fileName: fields.scanName.name, sha256: fields.scanSha256.name }}
           errorId={fields.scanKey.errorId}
@@ -271,6 +283,51 @@ function ApplicationForm({ application, actionData }: { application: Application
         {busy ? "Checking the calibration scan…" : "Hand in for review"}
       </button>
     </Form>
+  );
+}
+
+/**
+ * Offers the U, V, W fitted to the calibration scan for one of the lab's instruments; the server takes the
+ * numbers from the stored check, so the form only names the instrument.
+ */
+function SaveProfileForm({ instruments }: { instruments: { id: string; name: string }[] }) {
+  const fetcher = useFetcher<{ result?: { error?: Record<string, string[] | null> } }>();
+  const errors = fetcher.data?.result?.error;
+  const busy = fetcher.state !== "idle";
+  return (
+    <section className="card space-y-2" aria-labelledby="save-profile-heading">
+      <h2 id="save-profile-heading" className="text-lg font-semibold">
+        Use this profile for an instrument
+      </h2>
+      <p className="text-sm text-ink-700">
+        The calibration check fitted the instrument&apos;s peak widths (Caglioti U, V, W above). Saved on an instrument, they take the instrument&apos;s own
+        broadening out of the crystallite sizes of every scan checked for it. Nothing is saved until you choose.
+      </p>
+      {instruments.length === 0 ? (
+        <p className="text-sm text-ink-600">Add the instrument under Capabilities first; then save the profile on it here.</p>
+      ) : (
+        <fetcher.Form method="post" action="/lab/capabilities" className="flex flex-wrap items-end gap-3">
+          <input type="hidden" name="intent" value="save-calibration-profile" />
+          <input type="hidden" name="formId" value="calibration-profile" />
+          <div>
+            <label htmlFor="profile-instrument" className="label">
+              Instrument
+            </label>
+            <select id="profile-instrument" name="instrumentId" className="input w-auto" aria-describedby="profile-instrument-error">
+              {instruments.map((i) => (
+                <option key={i.id} value={i.id}>
+                  {i.name}
+                </option>
+              ))}
+            </select>
+          </div>
+          <button type="submit" className="btn-secondary" disabled={busy}>
+            {busy ? "Saving…" : "Save U, V, W on this instrument"}
+          </button>
+        </fetcher.Form>
+      )}
+      <FieldErrors id="profile-instrument-error" errors={[...(errors?.instrumentId ?? []), ...(errors?.[""] ?? [])]} />
+    </section>
   );
 }
 
