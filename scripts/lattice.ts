@@ -1,25 +1,37 @@
-// Command line for the lattice check: `npm run -s lattice -- FILE --source Cu [options] [--json]`.
+// Command line for the lattice check: `npm run -s lattice -- FILE… [--source Cu | --wavelength Å] [options] [--json]`.
 //
-// Exit 0 whenever a check was made (an `inconsistent` verdict included); exit 2 with one line on stderr
-// for bad input (unknown option, missing file, unreadable scan, bad cell); exit 1 for an internal fault.
+// Every file is checked with the same options. With --json, one JSON object per line (JSON Lines), each
+// starting with `file` as given; a file that cannot be read or checked gives `{ file, error }`. Without
+// --json, the table of each file (under a header line when there are several) and one line on stderr per
+// bad file. Exit 0 when at least one file was checked (an `inconsistent` verdict included); exit 2 when no
+// file was (bad options, or every file bad); exit 1 for an internal fault. Without --source or --wavelength
+// each file's own statement of its radiation is used.
 
 import { readFileSync, statSync } from "node:fs";
 import { type Cell, type Centering, type CrystalSystem, CENTERINGS, CRYSTAL_SYSTEMS } from "../app/diffraction/cell";
-import { checkScanText, type LatticeCheckOptions, type LatticeCheckResult } from "../app/diffraction/check";
-import { DEFAULT_MAX_BYTES } from "../app/diffraction/parse-scan";
-import { type Anode, ANODES, type Radiation } from "../app/diffraction/wavelengths";
+import { checkOptionsProblem, checkScanFile, type LatticeCheckOptions, type LatticeCheckResult } from "../app/diffraction/check";
+import { DEFAULT_MAX_BYTES, parseScan, type ScanMetadata } from "../app/diffraction/parse-scan";
+import type { CorrectionKind } from "../app/diffraction/refine";
+import { ANODE_LINES, ANODES, type Monochromation, type Radiation } from "../app/diffraction/wavelengths";
 
 const USAGE =
-  "usage: npm run -s lattice -- FILE --source Cu|Co|Mo|Cr|Fe|Ag [--wavelength Å] [--monochromatic] [--system SYSTEM] [--centering P|I|F|A|B|C|R] [--cell a,b,c,alpha,beta,gamma] [--json]";
+  "usage: npm run -s lattice -- FILE… [--source Cu|Co|Mo|Cr|Fe|Ag | --wavelength Å] [--monochromatic] [--system SYSTEM] [--centering P|I|F|A|B|C|R] [--cell a,b,c,alpha,beta,gamma] [--refine auto|zero_shift|displacement|zero_and_displacement] [--radius mm] [--json]";
 
 class BadInput extends Error {}
 
+/** The check's options except the radiation, which may come from each file instead. */
+type SharedOptions = Omit<LatticeCheckOptions, "radiation">;
+
 interface Arguments {
-  file: string;
-  options: LatticeCheckOptions;
+  files: string[];
+  /** From --source or --wavelength; null when each file states its own. */
+  radiation: Radiation | null;
+  monochromatic: boolean;
+  options: SharedOptions;
   json: boolean;
 }
 
+const REFINE_CHOICES: readonly CorrectionKind[] = ["auto", "zero_shift", "displacement", "zero_and_displacement"];
 const VALUE_OPTIONS = new Set(["--source", "--wavelength", "--system", "--centering", "--cell", "--refine", "--radius"]);
 const FLAG_OPTIONS = new Set(["--monochromatic", "--json"]);
 
@@ -44,26 +56,22 @@ function parseArguments(argv: string[]): Arguments {
     } else files.push(arg);
   }
   if (files.length === 0) throw new BadInput(`No scan file was given; ${USAGE}`);
-  if (files.length > 1) throw new BadInput(`Only one scan file can be checked at a time; got ${files.join(", ")}.`);
 
+  const monochromatic = flags.has("--monochromatic");
   const source = values.get("--source");
+  const anode = source === undefined ? undefined : ANODES.find((a) => a.toLowerCase() === source.toLowerCase());
+  if (source !== undefined && !anode) throw new BadInput(`Unknown source "${source}"; use one of ${ANODES.join(", ")}.`);
   const wavelengthText = values.get("--wavelength");
-  let radiation: Radiation;
+  let radiation: Radiation | null = null;
   if (wavelengthText !== undefined) {
     const wavelength = Number(wavelengthText);
     if (!(wavelength > 0 && wavelength < 20)) throw new BadInput(`The wavelength must be a positive number of ångström; got "${wavelengthText}".`);
     radiation = { kind: "custom", wavelength };
-  } else {
-    if (!source) throw new BadInput(`The option --source (${ANODES.join("|")}) is required unless --wavelength is given.`);
-    const anode = ANODES.find((a) => a.toLowerCase() === source.toLowerCase());
-    if (!anode) throw new BadInput(`Unknown source "${source}"; use one of ${ANODES.join(", ")}.`);
-    radiation = { kind: "anode", anode: anode as Anode, monochromation: flags.has("--monochromatic") ? "k_alpha1_only" : "k_alpha_doublet" };
-  }
-  if (source && !ANODES.some((a) => a.toLowerCase() === source.toLowerCase())) {
-    throw new BadInput(`Unknown source "${source}"; use one of ${ANODES.join(", ")}.`);
+  } else if (anode) {
+    radiation = { kind: "anode", anode, monochromation: monochromatic ? "k_alpha1_only" : "k_alpha_doublet" };
   }
 
-  const options: LatticeCheckOptions = { radiation };
+  const options: SharedOptions = {};
   const system = values.get("--system");
   if (system !== undefined) {
     if (!CRYSTAL_SYSTEMS.includes(system.toLowerCase() as CrystalSystem)) {
@@ -82,8 +90,8 @@ function parseArguments(argv: string[]): Arguments {
   if (cellText !== undefined) options.cell = parseCell(cellText);
   const refine = values.get("--refine");
   if (refine !== undefined) {
-    if (refine !== "zero_shift" && refine !== "displacement") throw new BadInput(`--refine takes zero_shift or displacement; got "${refine}".`);
-    options.refine = refine;
+    if (!REFINE_CHOICES.includes(refine as CorrectionKind)) throw new BadInput(`--refine takes ${REFINE_CHOICES.join(", ")}; got "${refine}".`);
+    options.refine = refine as CorrectionKind;
   }
   const radius = values.get("--radius");
   if (radius !== undefined) {
@@ -91,7 +99,11 @@ function parseArguments(argv: string[]): Arguments {
     if (!(r > 0)) throw new BadInput(`The goniometer radius must be a positive number of mm; got "${radius}".`);
     options.goniometerRadiusMm = r;
   }
-  return { file: files[0], options, json: flags.has("--json") };
+  // System, centering and cell are the same for every file: a contradiction among them is bad options, not a bad
+  // file. The radiation stands in for itself when given (its problems were refused above).
+  const problem = checkOptionsProblem({ ...options, radiation: radiation ?? { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" } });
+  if (problem) throw new BadInput(problem);
+  return { files, radiation, monochromatic, options, json: flags.has("--json") };
 }
 
 function parseCell(text: string): Cell {
@@ -104,22 +116,81 @@ function parseCell(text: string): Cell {
   return { a, b, c, alpha, beta, gamma };
 }
 
-function readScanText(file: string): string {
+/** The file's bytes, as a binary format needs them; the analysis decides what the bytes are. */
+function readScanBytes(file: string): Uint8Array {
   let size: number;
   try {
     const stat = statSync(file);
-    if (!stat.isFile()) throw new BadInput(`${file} is not a file.`);
+    if (!stat.isFile()) throw new BadInput("It is not a file.");
     size = stat.size;
   } catch (error) {
     if (error instanceof BadInput) throw error;
-    throw new BadInput(`Cannot read ${file}: no such file.`);
+    throw new BadInput("There is no such file.");
   }
-  if (size > DEFAULT_MAX_BYTES) throw new BadInput(`${file} is larger than the ${DEFAULT_MAX_BYTES / (1024 * 1024)} MB limit for a scan.`);
+  if (size > DEFAULT_MAX_BYTES) throw new BadInput(`The file is larger than the ${DEFAULT_MAX_BYTES / (1024 * 1024)} MB limit for a scan.`);
   try {
-    return readFileSync(file, "utf8");
+    const buffer = readFileSync(file);
+    return new Uint8Array(buffer.buffer, buffer.byteOffset, buffer.byteLength);
   } catch {
-    throw new BadInput(`Cannot read ${file}.`);
+    throw new BadInput("The file cannot be read.");
   }
+}
+
+/** Relative agreement within which a stated Kα1 is taken to name an anode (files round to 4–6 digits). */
+const ANODE_MATCH = 5e-4;
+
+/** What a file states about its radiation. */
+type StatedRadiation = Pick<ScanMetadata, "anode" | "kAlpha1" | "kAlpha2" | "kAlpha2Ratio" | "wavelength">;
+
+/**
+ * The radiation a file states, as the check takes it; a sentence when it states none that can be used. A named
+ * anode is taken with its tabulated lines (docs/reference-values.md#x-ray-wavelengths); a single stated wavelength
+ * means monochromatic radiation (the anode's Kα1 when it is that line, else that wavelength); a Kα1 without an
+ * anode's name is matched to an anode's Kα1.
+ */
+function radiationFromFile(stated: StatedRadiation, monochromatic: boolean): Radiation | string {
+  const single = positive(stated.wavelength);
+  const named = ANODES.find((a) => a.toLowerCase() === stated.anode?.trim().toLowerCase());
+  const kAlpha1 = positive(stated.kAlpha1);
+  const anode = named ?? (kAlpha1 ? ANODES.find((a) => near(ANODE_LINES[a].kAlpha1, kAlpha1)) : undefined);
+  if (single && (!anode || !near(ANODE_LINES[anode].kAlpha1, single))) return { kind: "custom", wavelength: single };
+  if (anode) {
+    const kAlpha1Only = monochromatic || single !== undefined || stated.kAlpha2Ratio === 0 || (kAlpha1 !== undefined && !positive(stated.kAlpha2));
+    const monochromation: Monochromation = kAlpha1Only ? "k_alpha1_only" : "k_alpha_doublet";
+    return { kind: "anode", anode, monochromation };
+  }
+  if (kAlpha1 && !positive(stated.kAlpha2)) return { kind: "custom", wavelength: kAlpha1 };
+  if (kAlpha1) {
+    return `The file states Kα1 = ${kAlpha1} Å and Kα2 = ${stated.kAlpha2} Å, which match no anode (${ANODES.join(", ")}); give --source or --wavelength.`;
+  }
+  if (stated.anode) return `The file names the anode "${stated.anode}", which is not one of ${ANODES.join(", ")}; give --wavelength.`;
+  return "The file does not state its radiation; give --source or --wavelength.";
+}
+
+function positive(value: number | undefined): number | undefined {
+  return value !== undefined && Number.isFinite(value) && value > 0 ? value : undefined;
+}
+
+function near(tabulated: number, stated: number): boolean {
+  return Math.abs(stated - tabulated) / tabulated <= ANODE_MATCH;
+}
+
+type Analysis = { ok: true; result: LatticeCheckResult; elapsedMs: number } | { ok: false; error: string };
+
+/** The radiation for one file: the command line's, else the file's own. */
+function radiationFor(bytes: Uint8Array, args: Arguments, fileName: string): Radiation | string {
+  if (args.radiation) return args.radiation;
+  const parsed = parseScan(bytes, { fileName });
+  if (!parsed.ok) return parsed.error;
+  return radiationFromFile(parsed.scan.metadata, args.monochromatic);
+}
+
+/** Parses and checks one file's bytes; elapsedMs is the analysis alone (parse and check, not reading the file). */
+function analyse(bytes: Uint8Array, options: LatticeCheckOptions, fileName: string): Analysis {
+  const started = performance.now();
+  const checked = checkScanFile(bytes, { ...options, fileName });
+  const elapsedMs = performance.now() - started;
+  return checked.ok ? { ok: true, result: checked.result, elapsedMs } : checked;
 }
 
 const CELL_KEYS = ["a", "b", "c", "alpha", "beta", "gamma"] as const;
@@ -128,6 +199,8 @@ function toJson(result: LatticeCheckResult, elapsedMs: number) {
   return {
     verdict: result.verdict,
     reasons: result.reasons,
+    scanFormat: result.scanFormat,
+    measurement: result.metadata,
     system: result.system,
     centering: result.centering,
     wavelength: result.wavelength,
@@ -140,6 +213,8 @@ function toJson(result: LatticeCheckResult, elapsedMs: number) {
     zeroShiftEsd: result.zeroShiftEsd,
     displacement: result.displacement,
     displacementEsd: result.displacementEsd,
+    zeroDisplacementCorrelation: result.zeroDisplacementCorrelation,
+    foreignPeaks: result.foreignPeaks,
     figuresOfMerit: result.figuresOfMerit,
     reducedChi2: result.reducedChi2,
     peaksUsed: result.peaksUsed,
@@ -157,6 +232,7 @@ function toJson(result: LatticeCheckResult, elapsedMs: number) {
       delta: p.delta ?? null,
       usedInRefinement: p.usedInRefinement,
       crystalliteSizeNm: p.crystalliteSizeNm,
+      notSample: p.foreign ?? null,
     })),
     unindexed: result.unindexed.map((p) => ({ twoTheta: p.twoTheta, d: p.d, relativeIntensity: p.relativeIntensity })),
     cubicIndexing: result.cubicIndexing,
@@ -181,8 +257,8 @@ function toTable(result: LatticeCheckResult, elapsedMs: number): string {
         `${k.padEnd(6)} ${fixed(result.cell[k], digits).padStart(12)} ${fixed(result.esd?.[k], digits + 1).padStart(10)} ${fixed(result.declaredCell?.[k], digits).padStart(12)} ${fixed(result.deviation?.absolute[k], digits + 1).padStart(12)}`,
       );
     }
-    if (result.correction === "zero_shift") out.push(`zero shift ${fixed(result.zeroShift, 4)}° 2θ (esd ${fixed(result.zeroShiftEsd, 4)})`);
-    else out.push(`specimen displacement ${fixed(result.displacement, 4)} mm (esd ${fixed(result.displacementEsd, 4)})`);
+    if (result.correction !== "displacement") out.push(`zero shift ${fixed(result.zeroShift, 4)}° 2θ (esd ${fixed(result.zeroShiftEsd, 4)})`);
+    if (result.correction !== "zero_shift") out.push(`specimen displacement ${fixed(result.displacement, 4)} mm (esd ${fixed(result.displacementEsd, 4)})`);
   } else out.push("No refined cell.");
   const fom = result.figuresOfMerit;
   out.push(
@@ -204,12 +280,28 @@ function toTable(result: LatticeCheckResult, elapsedMs: number): string {
   return out.join("\n");
 }
 
+type Outcome = { file: string } & ({ ok: true; result: LatticeCheckResult; elapsedMs: number } | { ok: false; error: string; internal?: true });
+
+function checkFile(file: string, args: Arguments): Outcome {
+  try {
+    const bytes = readScanBytes(file);
+    const radiation = radiationFor(bytes, args, file);
+    if (typeof radiation === "string") return { file, ok: false, error: radiation };
+    const options: LatticeCheckOptions = { ...args.options, radiation };
+    const problem = checkOptionsProblem(options);
+    if (problem) return { file, ok: false, error: problem };
+    return { file, ...analyse(bytes, options, file) };
+  } catch (error) {
+    if (error instanceof BadInput) return { file, ok: false, error: error.message };
+    // An internal fault on one file: the others are still checked, and the run ends with exit 1.
+    return { file, ok: false, error: `internal error: ${error instanceof Error ? error.message : String(error)}`, internal: true };
+  }
+}
+
 function main(): number {
   let args: Arguments;
-  let text: string;
   try {
     args = parseArguments(process.argv.slice(2));
-    text = readScanText(args.file);
   } catch (error) {
     if (error instanceof BadInput) {
       process.stderr.write(`lattice: ${error.message}\n`);
@@ -217,15 +309,25 @@ function main(): number {
     }
     throw error;
   }
-  const started = performance.now();
-  const checked = checkScanText(text, { ...args.options, fileName: args.file });
-  const elapsedMs = performance.now() - started;
-  if (!checked.ok) {
-    process.stderr.write(`lattice: ${checked.error}\n`);
-    return 2;
+  let checked = 0;
+  let internal = false;
+  let tables = 0;
+  for (const file of args.files) {
+    const outcome = checkFile(file, args);
+    if (outcome.ok) checked++;
+    else if (outcome.internal) internal = true;
+    if (args.json) {
+      const line = outcome.ok ? { file, ...toJson(outcome.result, outcome.elapsedMs) } : { file, error: outcome.error };
+      process.stdout.write(`${JSON.stringify(line)}\n`);
+    } else if (outcome.ok) {
+      // Several files: each table under its own header, a blank line between them.
+      const header = args.files.length > 1 ? `${tables > 0 ? "\n" : ""}=== ${file} ===\n` : "";
+      process.stdout.write(`${header}${toTable(outcome.result, outcome.elapsedMs)}\n`);
+      tables++;
+    } else process.stderr.write(`lattice: ${file}: ${outcome.error}\n`);
   }
-  process.stdout.write(`${args.json ? JSON.stringify(toJson(checked.result, elapsedMs)) : toTable(checked.result, elapsedMs)}\n`);
-  return 0;
+  if (internal) return 1;
+  return checked > 0 ? 0 : 2;
 }
 
 try {

@@ -1,5 +1,6 @@
-// The command line as other tools call it: `npx tsx scripts/lattice.ts FILE --source … --json`, on files in a
-// temporary directory; JSON on stdout, exit 0 for any check made, exit 2 and one stderr line for bad input.
+// The command line as other tools call it: `npx tsx scripts/lattice.ts FILE… --source … --json`, on files in a
+// temporary directory; one JSON line per file on stdout (a bad file's line holds `error`), exit 0 when any file
+// was checked, exit 2 and one stderr line for bad options, exit 2 when every file was bad.
 import { spawnSync } from "node:child_process";
 import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
@@ -54,7 +55,49 @@ beforeAll(() => {
   writeFileSync(join(dir, "empty.xy"), "");
   writeFileSync(join(dir, "few.xy"), "10 1\n10.02 2\n10.04 3\n");
   writeFileSync(join(dir, "binary.raw"), Buffer.from([0x50, 0x4b, 0x03, 0x04, 0x00, 0x00, 0x01, 0x02]));
+  // A synchrotron-like scan whose pdCIF states its one wavelength (_diffrn_radiation_wavelength, pdCIF dictionary).
+  const synchrotron: Radiation = { kind: "custom", wavelength: 0.7 };
+  const siSync = simulatePattern({
+    structure: SILICON,
+    radiation: synchrotron,
+    twoThetaMin: 5,
+    twoThetaMax: 60,
+    step: 0.01,
+    background: { constant: 80 },
+    noise: { seed: 5 },
+  });
+  writeFileSync(join(dir, "si-0.7.cif"), formatScanAsPdCif(siSync, synchrotron));
+  writeFileSync(join(dir, "si.raw"), rawVersion3(si.twoTheta[0], si.twoTheta[1] - si.twoTheta[0], si.intensity));
 }, 60_000);
+
+/**
+ * A binary raw file, version 3 ("RAW1.01"), with one range and the Cu tube, at the offsets of
+ * docs/scan-formats.md#binary-raw-files-versions-14 (little-endian; float32 counts).
+ */
+function rawVersion3(start: number, step: number, counts: ArrayLike<number>): Uint8Array {
+  const bytes = new Uint8Array(712 + 304 + 4 * counts.length);
+  const view = new DataView(bytes.buffer);
+  const text = (at: number, s: string) => {
+    for (let i = 0; i < s.length; i++) bytes[at + i] = s.charCodeAt(i);
+  };
+  text(0, "RAW1.01");
+  view.setUint32(12, 1, true); // one range
+  text(608, "Cu");
+  // Cu Kα1, Kα2 and their ratio as docs/reference-values.md#x-ray-wavelengths tabulates them.
+  view.setFloat64(624, 1.540593, true);
+  view.setFloat64(632, 1.544427, true);
+  view.setFloat64(648, 0.5, true);
+  const range = 712;
+  view.setUint32(range, 304, true); // header length
+  view.setUint32(range + 4, counts.length, true);
+  view.setFloat64(range + 8, start / 2, true);
+  view.setFloat64(range + 16, start, true);
+  view.setFloat64(range + 176, step, true);
+  view.setUint32(range + 252, 4, true); // record size: one float32 count
+  view.setUint32(range + 256, 0, true); // no supplementary header
+  for (let i = 0; i < counts.length; i++) view.setFloat32(range + 304 + 4 * i, counts[i], true);
+  return bytes;
+}
 
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
@@ -126,15 +169,11 @@ describe("lattice command line", () => {
 
   it.each([
     ["an unknown option", ["si.xy", "--source", "Cu", "--colour"]],
-    ["a missing file", ["nope.xy", "--source", "Cu"]],
     ["an unknown source", ["si.xy", "--source", "W"]],
     ["a cell of five numbers", ["si.xy", "--source", "Cu", "--cell", "5.43,5.43,5.43,90,90"]],
     ["a cell that breaks the system", ["si.xy", "--source", "Cu", "--system", "cubic", "--cell", "5.43,5.5,5.43,90,90,90"]],
     ["an unknown system", ["si.xy", "--source", "Cu", "--system", "cubical"]],
-    ["an empty file", ["empty.xy", "--source", "Cu"]],
-    ["too few points", ["few.xy", "--source", "Cu"]],
-    ["a binary file", ["binary.raw", "--source", "Cu"]],
-  ])("exits 2 with one line on stderr for %s", (_name, args) => {
+  ])("exits 2 with one line on stderr and nothing on stdout for %s", (_name, args) => {
     const [file, ...rest] = args;
     const r = lattice(join(dir, file), ...rest, "--json");
     expect(r.code).toBe(2);
@@ -142,5 +181,164 @@ describe("lattice command line", () => {
     const lines = r.stderr.trimEnd().split("\n");
     expect(lines).toHaveLength(1);
     expect(lines[0]).not.toMatch(/\bat .*\(.*:\d+:\d+\)/);
+  });
+
+  it.each([
+    ["a missing file", ["nope.xy", "--source", "Cu"]],
+    ["an empty file", ["empty.xy", "--source", "Cu"]],
+    ["too few points", ["few.xy", "--source", "Cu"]],
+    ["a binary file that is no scan", ["binary.raw", "--source", "Cu"]],
+    ["a file that states no radiation, without --source", ["si.xy"]],
+  ])("exits 2 for %s: one stderr line in the table, one JSON line with the error", (_name, args) => {
+    const [file, ...rest] = args;
+    const table = lattice(join(dir, file), ...rest);
+    expect(table.code).toBe(2);
+    expect(table.stdout).toBe("");
+    const lines = table.stderr.trimEnd().split("\n");
+    expect(lines).toHaveLength(1);
+    expect(lines[0]).toContain(join(dir, file));
+    expect(lines[0]).not.toMatch(/\bat .*\(.*:\d+:\d+\)/);
+
+    const json = lattice(join(dir, file), ...rest, "--json");
+    expect(json.code).toBe(2);
+    expect(json.stderr).toBe("");
+    const out = json.stdout.trimEnd().split("\n");
+    expect(out).toHaveLength(1);
+    const line = JSON.parse(out[0]);
+    expect(Object.keys(line)).toEqual(["file", "error"]);
+    expect(line.file).toBe(join(dir, file));
+    expect(line.error).toMatch(/^[A-Z].*\.$/);
+    expect(line.error).not.toContain("\n");
+  });
+});
+
+describe("lattice command line on several files", () => {
+  const siOptions = ["--source", "Cu", "--system", "cubic", "--centering", "F", "--cell", SI_CELL];
+  const jsonLines = (stdout: string) =>
+    stdout
+      .trimEnd()
+      .split("\n")
+      .map((line) => JSON.parse(line));
+
+  it("checks every file with the same options, one JSON line each, file first and in the order given", () => {
+    const files = [join(dir, "si.xy"), join(dir, "si.cif"), join(dir, "rutile.xy")];
+    const r = lattice(...files, ...siOptions, "--json");
+    expect(r.stderr).toBe("");
+    expect(r.code).toBe(0);
+    const lines = jsonLines(r.stdout);
+    expect(lines.map((l) => l.file)).toEqual(files);
+    for (const line of lines) {
+      expect(Object.keys(line)[0]).toBe("file");
+      expect(typeof line.elapsedMs).toBe("number");
+      expect(line.elapsedMs).toBeGreaterThan(0);
+    }
+    // The Si cell is NIST SRM 640c's (docs/reference-values.md#certified-lattice-parameters); rutile is not
+    // face-centred cubic at all, so the same options give it the inconsistent verdict.
+    expect(lines.map((l) => l.verdict)).toEqual(["consistent", "consistent", "inconsistent"]);
+    for (const line of lines.slice(0, 2)) expect(Math.abs(line.cell.a - 5.431195)).toBeLessThan(2e-4);
+  });
+
+  it("reports a bad file among good ones on its own line and still exits 0", () => {
+    const files = [join(dir, "empty.xy"), join(dir, "si.xy"), join(dir, "nope.xy"), join(dir, "si.cif")];
+    const json = lattice(...files, ...siOptions, "--json");
+    expect(json.code).toBe(0);
+    expect(json.stderr).toBe("");
+    const lines = jsonLines(json.stdout);
+    expect(lines.map((l) => l.file)).toEqual(files);
+    expect(typeof lines[0].error).toBe("string");
+    expect(lines[1].verdict).toBe("consistent");
+    expect(typeof lines[2].error).toBe("string");
+    expect(lines[3].verdict).toBe("consistent");
+
+    const table = lattice(...files, ...siOptions);
+    expect(table.code).toBe(0);
+    // Each table under a header naming its file; one stderr line per bad file, naming it.
+    expect(table.stdout).toContain(`=== ${files[1]} ===`);
+    expect(table.stdout).toContain(`=== ${files[3]} ===`);
+    expect(table.stdout.match(/Verdict: consistent/g)).toHaveLength(2);
+    const errors = table.stderr.trimEnd().split("\n");
+    expect(errors).toHaveLength(2);
+    expect(errors[0]).toContain(files[0]);
+    expect(errors[1]).toContain(files[2]);
+  });
+
+  it("exits 2 when every file is bad", () => {
+    const files = [join(dir, "empty.xy"), join(dir, "few.xy"), join(dir, "nope.xy")];
+    const json = lattice(...files, "--source", "Cu", "--json");
+    expect(json.code).toBe(2);
+    const lines = jsonLines(json.stdout);
+    expect(lines.map((l) => l.file)).toEqual(files);
+    for (const line of lines) expect(typeof line.error).toBe("string");
+
+    const table = lattice(...files, "--source", "Cu");
+    expect(table.code).toBe(2);
+    expect(table.stdout).toBe("");
+    expect(table.stderr.trimEnd().split("\n")).toHaveLength(3);
+  });
+
+  it("uses the radiation each file states when --source and --wavelength are left out", () => {
+    const files = [join(dir, "si-0.7.cif"), join(dir, "si.cif"), join(dir, "si.raw"), join(dir, "si.xy")];
+    const r = lattice(...files, "--system", "cubic", "--centering", "F", "--cell", SI_CELL, "--json");
+    expect(r.code).toBe(0);
+    const [single, doublet, binary, silent] = jsonLines(r.stdout);
+    // One pdCIF states λ = 0.7 Å (it was simulated with it), the other "Cu K-alpha" with the Kα1/Kα2 loop, and the
+    // binary raw file names the Cu anode: Cu Kα1 = 1.540593 Å (docs/reference-values.md#x-ray-wavelengths). The
+    // two-column file states nothing.
+    expect(single.wavelength).toBe(0.7);
+    expect(doublet.wavelength).toBe(1.540593);
+    expect(binary.wavelength).toBe(1.540593);
+    for (const line of [single, doublet, binary]) {
+      expect(line.verdict).toBe("consistent");
+      expect(Math.abs(line.cell.a - 5.431195)).toBeLessThan(2e-4);
+    }
+    expect(silent.error).toMatch(/radiation/);
+  });
+});
+
+describe("lattice command line on measured files (tests/data/real/SOURCES.md)", () => {
+  const real = (name: string) => join("tests", "data", "real", name);
+  const LAB6_CELL = "4.156826,4.156826,4.156826,90,90,90";
+
+  it("reads each instrument's file as bytes and takes the tube it names", () => {
+    const files = [real("bt86-cu.uxd"), real("na2co2teo6-cu-nifilter.xrdml"), real("lab6-srm660c-cu.gsas")];
+    const r = lattice(...files, "--json");
+    expect(r.code).toBe(0);
+    const lines = r.stdout
+      .trimEnd()
+      .split("\n")
+      .map((line) => JSON.parse(line));
+    expect(lines.map((l) => l.file)).toEqual(files);
+    // The UXD header says _ANODE='Cu' and the XRDML file a Cu tube: Cu Kα1 = 1.540593 Å
+    // (docs/reference-values.md#x-ray-wavelengths). The GSAS file states no radiation at all.
+    for (const line of lines.slice(0, 2)) {
+      expect(line.wavelength).toBe(1.540593);
+      expect(line.peaks.length).toBeGreaterThan(5);
+      expect(typeof line.elapsedMs).toBe("number");
+    }
+    expect(lines[2].error).toMatch(/radiation/);
+  });
+
+  it("finds the certified cell of LaB6 SRM 660c in a measured scan", () => {
+    const r = lattice(
+      real("lab6-srm660c-cu.gsas"),
+      "--source",
+      "Cu",
+      "--system",
+      "cubic",
+      "--centering",
+      "P",
+      "--cell",
+      LAB6_CELL,
+      "--refine",
+      "displacement",
+      "--json",
+    );
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.file).toBe(real("lab6-srm660c-cu.gsas"));
+    expect(out.verdict).toBe("consistent");
+    // NIST SRM 660c certificate: a = 0.4156826 nm ± 0.000008 nm at 22.5 °C; the lab's temperature and the
+    // profile model leave more than that, so within 5e-4 Å (0.012 %; common practice for a lab check).
+    expect(Math.abs(out.cell.a - 4.156826)).toBeLessThan(5e-4);
   });
 });
