@@ -273,6 +273,7 @@ function refineWith(peaks: readonly ObservedPeak[], options: RefineOptions, kind
   const search = options.searchRange ?? 0.02;
   const pool = reflectionPool(system, centering, startP, options, search);
   const coarse = coarseSearch(peaks, pool, startP, options, model, radius, search);
+  const priorZero = priorOffset(peaks);
   let state = coarse;
   let assignments: Assignment[] = [];
   let fit: LinearStep | null = null;
@@ -284,7 +285,7 @@ function refineWith(peaks: readonly ObservedPeak[], options: RefineOptions, kind
   const schedule = [...priors.map((prior) => ({ prior, lenient: false })), { prior: PRIOR_LENGTHS[1], lenient: true }];
   for (const { prior, lenient } of schedule) {
     state = coarse;
-    let covariance = priorCovariance(system, state.p, model, radius, prior);
+    let covariance = priorCovariance(system, state.p, model, radius, prior, priorZero);
     fit = null;
     assignments = [];
     let previous = "";
@@ -376,12 +377,25 @@ function refineWith(peaks: readonly ObservedPeak[], options: RefineOptions, kind
 }
 
 // Prior uncertainty of the cell before any fit: ±0.5 % on the lengths (±1 % on Q) at first, the cross
-// terms of Q scaled alike from the diagonal ones they couple, and ±0.05° 2θ of zero (or its equivalent in
-// displacement or transparency).
+// terms of Q scaled alike from the diagonal ones they couple, and of the offset left after the coarse
+// search (zero, or its equivalent in displacement or transparency; see priorOffset).
 const PRIOR_LENGTHS = [0.005, 0.002, 0.001, 0.0005];
+/** Upper bound of the offset's prior, degrees 2θ: an instrument's usual zero error (common practice). */
 const PRIOR_ZERO = 0.05;
 
-function priorCovariance(system: CrystalSystem, p: number[], model: Model, radius: number, priorLength: number): SquareMatrix {
+/**
+ * The offset's prior uncertainty, degrees 2θ: the coarse search has placed the strongest peaks within
+ * half a FWHM of their reflections on a grid of a third of a FWHM, so the offset it found is known to
+ * about one FWHM of those peaks (never below the grid's 0.002° floor), and never worse than PRIOR_ZERO.
+ * A fixed 0.05° would be ten widths of a 0.005° synchrotron line: every reflection's window would then
+ * reach over its neighbours in a dense pattern and no peak could be indexed unambiguously.
+ */
+function priorOffset(peaks: readonly ObservedPeak[]): number {
+  const fwhm = strongestWidth(peaks);
+  return Number.isFinite(fwhm) ? Math.min(PRIOR_ZERO, Math.max(fwhm, ZERO_STEP_FLOOR)) : PRIOR_ZERO;
+}
+
+function priorCovariance(system: CrystalSystem, p: number[], model: Model, radius: number, priorLength: number, priorZero: number): SquareMatrix {
   const names = freeParameters(system);
   const n = names.length + model.terms.length;
   const cov = squareMatrix(n);
@@ -396,10 +410,10 @@ function priorCovariance(system: CrystalSystem, p: number[], model: Model, radiu
     const scale = couples[name] ? Math.sqrt(diagonal[couples[name][0]] * diagonal[couples[name][1]]) : Math.abs(p[j]);
     cov.data[j * n + j] = (2 * priorLength * scale) ** 2;
   });
-  // Each correction's prior: the value that moves a line by PRIOR_ZERO where it moves lines most (the
+  // Each correction's prior: the value that moves a line by priorZero where it moves lines most (the
   // displacement at low angles, the transparency at 2θ = 90°).
   model.terms.forEach((term, k) => {
-    const sigma = PRIOR_ZERO / Math.abs(termColumn(term, term === "transparency" ? Math.PI / 4 : 0, radius));
+    const sigma = priorZero / Math.abs(termColumn(term, term === "transparency" ? Math.PI / 4 : 0, radius));
     const j = names.length + k;
     cov.data[j * n + j] = sigma ** 2;
   });
@@ -413,10 +427,41 @@ function positionSigma(peak: ObservedPeak): number {
   return Math.sqrt(esd * esd + (0.005 * peak.fwhm) ** 2);
 }
 
+/** The strongest peaks the coarse search matches, indices into the peaks. */
+function strongestPeaks(peaks: readonly ObservedPeak[]): number[] {
+  return [...peaks.keys()].sort((a, b) => peaks[b].intensity - peaks[a].intensity).slice(0, COARSE_PEAKS);
+}
+
+/** Median FWHM of the strongest peaks, degrees 2θ (NaN without peaks). */
+function strongestWidth(peaks: readonly ObservedPeak[]): number {
+  const strong = strongestPeaks(peaks);
+  return strong.length ? median(strong.map((i) => peaks[i].fwhm)) : NaN;
+}
+
+/** Peaks the coarse search matches; the offset's range, degrees 2θ, and the floor of its grid step. */
+const COARSE_PEAKS = 20;
+const ZERO_RANGE = 0.2;
+const ZERO_STEP_FLOOR = 0.002;
+/**
+ * Grid points (scale × offset) of one level of the coarse search, the matching candidates kept from a
+ * level for the next, and how much narrower each level's tolerance is than the one before (own choices:
+ * a laboratory scan's grid fits in one level; a synchrotron scan's would otherwise grow as 1/FWHM²).
+ */
+const COARSE_GRID_POINTS = 4096;
+const COARSE_CANDIDATES = 8;
+const COARSE_REFINEMENT = 4;
+
 /**
  * The uniform change of the cell lengths (within ±range) and the zero offset (±0.2°) that bring most of
  * the strongest peaks within half a FWHM of a reflection: the start of the indexing, so that a declared
  * cell a little off (thermal expansion, a solid solution) still indexes.
+ *
+ * Coarse to fine: the score of a (scale, offset) is Σ (1 − (miss/tolerance)²) over the strongest peaks
+ * within tolerance, on a grid of a third of the tolerance. Where that grid at the peaks' own half-FWHM
+ * tolerance would exceed COARSE_GRID_POINTS (narrow lines), the first level widens every tolerance by a
+ * common factor to fit the grid into that many points; each following level narrows the tolerance by
+ * COARSE_REFINEMENT and searches only around the best few candidates of the level before, down to the
+ * peaks' own half FWHM. The work is thus bounded whatever the line width.
  */
 function coarseSearch(
   peaks: readonly ObservedPeak[],
@@ -429,43 +474,89 @@ function coarseSearch(
 ): State {
   const { wavelength } = options;
   const qCalc = Float64Array.from(pool.map((e) => qOfRow(e.row, startP))).sort();
-  const strong = [...peaks.keys()].sort((a, b) => peaks[b].intensity - peaks[a].intensity).slice(0, 20);
+  const strong = strongestPeaks(peaks);
   const fallback: State = { p: startP, shifts: model.terms.map(() => 0) };
   if (strong.length === 0 || qCalc.length === 0) return fallback;
   const fwhm = median(strong.map((i) => peaks[i].fwhm));
   const thetas = strong.map((i) => (peaks[i].twoTheta * RAD) / 2).sort((a, b) => a - b);
   const thetaHigh = thetas[Math.floor(0.75 * (thetas.length - 1))];
-  // Steps of a third of the half-FWHM tolerance keep every peak's score smooth across the grid.
-  const scaleStep = Math.max((0.35 * fwhm * RAD) / (2 * Math.tan(thetaHigh)), 1e-5);
-  const zeroStep = Math.max(0.35 * fwhm, 0.002);
-  const zeroRange = 0.2;
-  const nScale = Math.floor((2 * range) / scaleStep + 1e-9) + 1;
-  const scores = new Float64Array(nScale);
-  let best = { score: -Infinity, scale: 0, zero: 0 };
-  for (let zero = -zeroRange; zero <= zeroRange + 1e-12; zero += zeroStep) {
-    scores.fill(0);
+  // Steps of a third of the half-FWHM tolerance keep every peak's score smooth across the grid; `widen`
+  // multiplies the tolerance and the steps alike.
+  const scaleStepAt = (widen: number) => Math.max((0.35 * widen * fwhm * RAD) / (2 * Math.tan(thetaHigh)), 1e-5);
+  const zeroStepAt = (widen: number) => Math.max(0.35 * widen * fwhm, ZERO_STEP_FLOOR);
+  const gridSize = (widen: number) => (Math.floor((2 * range) / scaleStepAt(widen)) + 1) * (Math.floor((2 * ZERO_RANGE) / zeroStepAt(widen)) + 1);
+  let widen = 1;
+  while (gridSize(widen) > COARSE_GRID_POINTS) widen *= COARSE_REFINEMENT;
+
+  // Observed Q of each strong peak, and its relative tolerance, are evaluated per offset.
+  const scoreAt = (scale0: number, scaleStep: number, nScale: number, zero: number, out: Float64Array) => {
+    out.fill(0);
     for (const i of strong) {
       const peak = peaks[i];
       const theta = ((peak.twoTheta - zero) * RAD) / 2;
       const qObs = (4 * Math.sin(theta) ** 2) / (wavelength * wavelength);
-      // |Δ2θ| from |ΔQ|: dQ = Q cot θ d(2θ) (2θ in radians); the tolerance is half a FWHM.
-      const relativeTolerance = (Math.cos(theta) / Math.sin(theta)) * 0.5 * peak.fwhm * RAD;
+      // |Δ2θ| from |ΔQ|: dQ = Q cot θ d(2θ) (2θ in radians); the tolerance is half a (widened) FWHM.
+      const relativeTolerance = (Math.cos(theta) / Math.sin(theta)) * 0.5 * widen * peak.fwhm * RAD;
       // Q rises with the scale, so one pass with a moving pointer finds every nearest reflection.
-      let j = 0;
+      let j = Math.max(0, lowerBound(qCalc, qObs * (1 + scale0) ** 2) - 1);
       for (let k = 0; k < nScale; k++) {
-        const q = qObs * (1 - range + k * scaleStep) ** 2;
+        const q = qObs * (1 + scale0 + k * scaleStep) ** 2;
         while (j < qCalc.length - 1 && qCalc[j + 1] <= q) j++;
         const nearest = j < qCalc.length - 1 && qCalc[j + 1] - q < q - qCalc[j] ? qCalc[j + 1] : qCalc[j];
         const miss = Math.abs(nearest - q) / (q * relativeTolerance);
-        if (miss < 1) scores[k] += 1 - miss * miss;
+        if (miss < 1) out[k] += 1 - miss * miss;
       }
     }
-    for (let k = 0; k < nScale; k++) {
-      const scale = -range + k * scaleStep;
-      // Prefer the declared cell and no offset when scores tie.
-      const score = scores[k] - 0.01 * (Math.abs(scale) / range + Math.abs(zero) / zeroRange);
-      if (score > best.score) best = { score, scale, zero };
+  };
+  // Prefer the declared cell and no offset when scores tie.
+  const ranked = (score: number, scale: number, zero: number) => score - 0.01 * (Math.abs(scale) / range + Math.abs(zero) / ZERO_RANGE);
+
+  type Candidate = { score: number; scale: number; zero: number };
+  // Level by level: the region searched (all of it at first, then around each kept candidate).
+  let regions = [{ scaleLow: -range, scaleHigh: range, zeroLow: -ZERO_RANGE, zeroHigh: ZERO_RANGE }];
+  let best: Candidate = { score: -Infinity, scale: 0, zero: 0 };
+  for (;;) {
+    const scaleStep = scaleStepAt(widen);
+    const zeroStep = zeroStepAt(widen);
+    const found: Candidate[] = [];
+    for (const region of regions) {
+      // Grid points on the level's lattice (multiples of the steps from −range and −ZERO_RANGE).
+      const k0 = Math.max(0, Math.ceil((region.scaleLow + range) / scaleStep - 1e-9));
+      const k1 = Math.min(Math.floor((2 * range) / scaleStep + 1e-9), Math.floor((region.scaleHigh + range) / scaleStep + 1e-9));
+      const z0 = Math.max(0, Math.ceil((region.zeroLow + ZERO_RANGE) / zeroStep - 1e-9));
+      const z1 = Math.min(Math.floor((2 * ZERO_RANGE) / zeroStep + 1e-9), Math.floor((region.zeroHigh + ZERO_RANGE) / zeroStep + 1e-9));
+      if (k1 < k0 || z1 < z0) continue;
+      const nScale = k1 - k0 + 1;
+      const scores = new Float64Array(nScale);
+      for (let z = z0; z <= z1; z++) {
+        const zero = -ZERO_RANGE + z * zeroStep;
+        scoreAt(-range + k0 * scaleStep, scaleStep, nScale, zero, scores);
+        for (let k = 0; k < nScale; k++) {
+          const scale = -range + (k0 + k) * scaleStep;
+          found.push({ score: ranked(scores[k], scale, zero), scale, zero });
+        }
+      }
     }
+    found.sort((a, b) => b.score - a.score);
+    if (widen === 1) {
+      if (found.length > 0) best = found[0];
+      break;
+    }
+    // The best candidates at least two grid steps apart, each searched at the next level over the
+    // neighbourhood its grid cell leaves uncertain.
+    const kept: Candidate[] = [];
+    for (const c of found) {
+      if (kept.length >= COARSE_CANDIDATES) break;
+      if (kept.some((k) => Math.abs(k.scale - c.scale) < 2 * scaleStep && Math.abs(k.zero - c.zero) < 2 * zeroStep)) continue;
+      kept.push(c);
+    }
+    regions = kept.map((c) => ({
+      scaleLow: c.scale - 1.5 * scaleStep,
+      scaleHigh: c.scale + 1.5 * scaleStep,
+      zeroLow: c.zero - 1.5 * zeroStep,
+      zeroHigh: c.zero + 1.5 * zeroStep,
+    }));
+    widen = Math.max(1, widen / COARSE_REFINEMENT);
   }
   const p = startP.map((x) => x / (1 + best.scale) ** 2);
   // The offset found goes to the zero shift when it is refined, else to the displacement, as the value
