@@ -529,7 +529,14 @@ export function checkScanFile(input: string | Uint8Array, options: LatticeCheckO
   if (problem) return { ok: false, error: problem };
   const parsed = parseScan(input, options);
   if (!parsed.ok) return parsed;
-  const result = runLatticeCheck(parsed.scan, options);
+  return checkParsedScan(parsed.scan, options);
+}
+
+/** Checks a scan already read (the caller read it to learn what it states); bad options or a flat scan give one sentence. */
+export function checkParsedScan(scan: CheckableScan, options: LatticeCheckOptions): CheckScanResult {
+  const problem = checkOptionsProblem(options);
+  if (problem) return { ok: false, error: problem };
+  const result = runLatticeCheck(scan, options);
   if (result.peaks.length === 0) {
     return { ok: false, error: "No peaks stand out from the noise; the scan looks like a flat line." };
   }

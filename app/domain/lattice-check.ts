@@ -5,8 +5,9 @@
 // scan's bytes and write the result.
 import type { Instrument, Sample, ScanCheck } from "~/db/schema";
 import {
-  checkScanFile,
+  checkParsedScan,
   parseScan,
+  type Scan,
   type Cell,
   type Centering,
   type CheckedPeak,
@@ -53,7 +54,7 @@ export interface ScanRead {
   info: ScanInfo;
 }
 
-export type ScanReadOutcome = ({ ok: true } & ScanRead) | { ok: false; error: string };
+export type ScanReadOutcome = ({ ok: true; scan: Scan } & ScanRead) | { ok: false; error: string };
 
 /**
  * Reads a scan file (text or bytes) with the engine's readers: its format, what it states about the
@@ -71,6 +72,7 @@ export function readScanFile(input: string | Uint8Array, fileName?: string): Sca
   const n = scan.twoTheta.length;
   return {
     ok: true,
+    scan,
     format: scan.format,
     info: { formatLabel: scan.formatLabel, metadata: scan.metadata ?? {}, points: n, twoThetaMin: scan.twoTheta[0], twoThetaMax: scan.twoTheta[n - 1] },
   };
@@ -90,13 +92,12 @@ export function checkScanForStorage(input: string | Uint8Array, context: CheckIn
   if (!read.ok) return { ok: false, error: read.error, read: null, radiation: null };
   const scanRead: ScanRead = { format: read.format, info: read.info };
   const choice = chooseRadiation(read.info.metadata, context.radiation, context.declaredFrom.instrumentName);
-  let checked: ReturnType<typeof checkScanFile>;
+  let checked: ReturnType<typeof checkParsedScan>;
   try {
-    checked = checkScanFile(input, {
+    // The file was read once above; the check runs on that reading.
+    checked = checkParsedScan(read.scan, {
       radiation: choice.radiation,
       ...context.declared,
-      fileName: context.fileName,
-      maxBytes: SCAN_MAX_BYTES,
       holder: context.holder,
       instrumentProfile: context.instrumentProfile,
     });
