@@ -9,6 +9,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { formatScanAsPdCif, formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
 import { RUTILE, SILICON } from "~/diffraction/structures";
 import type { Radiation } from "~/diffraction/wavelengths";
+import { rawVersion3 } from "./readers/write-formats";
 
 let dir: string;
 const CU: Radiation = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" };
@@ -69,35 +70,6 @@ beforeAll(() => {
   writeFileSync(join(dir, "si-0.7.cif"), formatScanAsPdCif(siSync, synchrotron));
   writeFileSync(join(dir, "si.raw"), rawVersion3(si.twoTheta[0], si.twoTheta[1] - si.twoTheta[0], si.intensity));
 }, 60_000);
-
-/**
- * A binary raw file, version 3 ("RAW1.01"), with one range and the Cu tube, at the offsets of
- * docs/scan-formats.md#binary-raw-files-versions-14 (little-endian; float32 counts).
- */
-function rawVersion3(start: number, step: number, counts: ArrayLike<number>): Uint8Array {
-  const bytes = new Uint8Array(712 + 304 + 4 * counts.length);
-  const view = new DataView(bytes.buffer);
-  const text = (at: number, s: string) => {
-    for (let i = 0; i < s.length; i++) bytes[at + i] = s.charCodeAt(i);
-  };
-  text(0, "RAW1.01");
-  view.setUint32(12, 1, true); // one range
-  text(608, "Cu");
-  // Cu Kα1, Kα2 and their ratio as docs/reference-values.md#x-ray-wavelengths tabulates them.
-  view.setFloat64(624, 1.540593, true);
-  view.setFloat64(632, 1.544427, true);
-  view.setFloat64(648, 0.5, true);
-  const range = 712;
-  view.setUint32(range, 304, true); // header length
-  view.setUint32(range + 4, counts.length, true);
-  view.setFloat64(range + 8, start / 2, true);
-  view.setFloat64(range + 16, start, true);
-  view.setFloat64(range + 176, step, true);
-  view.setUint32(range + 252, 4, true); // record size: one float32 count
-  view.setUint32(range + 256, 0, true); // no supplementary header
-  for (let i = 0; i < counts.length; i++) view.setFloat32(range + 304 + 4 * i, counts[i], true);
-  return bytes;
-}
 
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 

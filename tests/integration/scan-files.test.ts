@@ -3,11 +3,13 @@
 // sentence and nothing kept, the file's own radiation is used by the check and a source other than the quote's
 // instrument is put before the lab, and results stored before any of this still render.
 import { createHash } from "node:crypto";
+import { readFileSync } from "node:fs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { StoredCheckResult } from "~/domain/check-result";
 import type { ScanInfo } from "~/domain/measurement";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
 import { callRoute, cookieFrom, formRequest, getRequest } from "./route-call";
+import { cpi, gsasFxye, ras, rawVersion3 } from "../diffraction/readers/write-formats";
 
 const ORIGIN = "http://127.0.0.1:3000";
 const PASSWORD = "diffractory-demo";
@@ -285,6 +287,60 @@ describe("the API upload reads each scan format", () => {
     });
     const [rd] = await w.db.select().from(w.schema.orderFiles).where(w.eq(w.schema.orderFiles.name, "si-lot7.rd"));
     expect((rd.scanInfo as ScanInfo).metadata).toMatchObject({ anode: "Cu", kAlpha1: LINES.Cu.kAlpha1, sampleName: "INVENTED SI LOT 7", step: 0.02 });
+  });
+
+  it("stores every other format the readers take: binary raw, pdCIF, GSAS FXYE, CPI, RAS, and real instrument files", async () => {
+    const { orderId } = await cuOrder();
+    const token = await createToken("More formats PC");
+    const si = silicon("Cu");
+    const step = 0.02;
+    const esd = si.counts.map((c) => Math.sqrt(Math.max(c, 1)));
+    const cu = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" } as const;
+    const grid = { twoTheta: Float64Array.from(si.twoTheta), intensity: Float64Array.from(si.counts) };
+    const files: { name: string; content: string | Uint8Array; format: string; points: number }[] = [
+      // Writers from the published layouts (tests/diffraction/readers/write-formats.ts names each source).
+      { name: "si-lot7.raw", content: rawVersion3(20, step, si.counts), format: "bruker-raw", points: 5001 },
+      { name: "si-lot7.cif", content: app.simulate.formatScanAsPdCif(grid, cu), format: "pdcif", points: 5001 },
+      { name: "si-lot7.fxye", content: gsasFxye(si.twoTheta, si.counts, esd), format: "gsas", points: 5001 },
+      {
+        name: "si-lot7.cpi",
+        content: cpi(si.counts, {
+          start: "20",
+          end: "120",
+          step: "0.02",
+          anode: "Cu",
+          wavelength: "1.540593",
+          date: "20/11/2026",
+          time: "1",
+          description: "Invented lot 7",
+        }),
+        format: "cpi",
+        points: 5001,
+      },
+      {
+        name: "si-lot7.ras",
+        content: ras([
+          {
+            header: { HW_XG_TARGET_NAME: "Cu", MEAS_SCAN_AXIS_X: "TwoThetaTheta", MEAS_SCAN_STEP: "0.02" },
+            rows: si.twoTheta.map((t, i) => [t, si.counts[i], 1] as [number, number, number]),
+          },
+        ]),
+        format: "ras",
+        points: 5001,
+      },
+      // Real measured files (origin and licence in tests/data/real/SOURCES.md), uploaded as the instrument wrote them.
+      { name: "na2co2teo6-cu-nifilter.xrdml", content: readFileSync("tests/data/real/na2co2teo6-cu-nifilter.xrdml"), format: "xrdml", points: 3998 },
+      { name: "bt86-cu.uxd", content: readFileSync("tests/data/real/bt86-cu.uxd"), format: "uxd", points: 2374 },
+      { name: "lab6-srm660c-cu.gsas", content: readFileSync("tests/data/real/lab6-srm660c-cu.gsas"), format: "gsas", points: 8378 },
+    ];
+    for (const f of files) {
+      const done = await apiUpload(token, orderId, f.name, new Uint8Array(typeof f.content === "string" ? new TextEncoder().encode(f.content) : f.content));
+      expect(done.status, `${f.name}: ${JSON.stringify(done.body)}`).toBe(200);
+      expect(done.body, f.name).toMatchObject({ state: "stored", scanFormat: f.format });
+      const row = await fileRow(done.fileId);
+      expect(row, f.name).toMatchObject({ state: "stored", scanFormat: f.format, uploadedVia: "api" });
+      expect((row.scanInfo as ScanInfo).points, f.name).toBe(f.points);
+    }
   });
 
   it("refuses an image, a PDF, a spreadsheet and random bytes sent as scans with one sentence, keeping nothing", async () => {
