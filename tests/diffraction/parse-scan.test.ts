@@ -111,6 +111,17 @@ describe("number reading", () => {
       { numRuns: 80 },
     );
   });
+
+  it("reads exponent notation, long mantissas and blanks around fields as Number() does (common practice)", () => {
+    const { x, y } = points();
+    const angles = x.map((t, i) => (i % 3 === 0 ? t.toFixed(16) : i % 3 === 1 ? t.toExponential(3) : String(t)));
+    const counts = y.map((v, i) => (i % 2 === 0 ? v.toExponential(4).toUpperCase() : `+${v}`));
+    for (const sep of [" ", " ; ", "\t"]) {
+      const scan = ok(angles.map((t, i) => `${t}${sep}${counts[i]}`).join("\n"));
+      expect(Array.from(scan.twoTheta)).toEqual(angles.map(Number));
+      expect(Array.from(scan.intensity)).toEqual(counts.map(Number));
+    }
+  });
 });
 
 describe("CSV with a header row", () => {

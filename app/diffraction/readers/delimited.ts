@@ -2,7 +2,7 @@
 // tab, comma or semicolon separated, decimal points or decimal commas, comment and title lines before the data.
 // One reading serves both; the two readers differ only in how the file is labelled (docs/scan-formats.md).
 import { metadataFromHeader } from "./header-metadata";
-import { headLines, plainNumber, splitLines } from "./text";
+import { headLines, type NumberLayout, numberLayout, scanNumbers, splitLines } from "./text";
 import type { ReadScan, ScanReader, ScanSource } from "./types";
 
 /** Rows with a missing number beyond this share make the file unusable rather than patchy. */
@@ -17,15 +17,17 @@ type Token = number | "missing" | "text";
 interface Dialect {
   split: RegExp;
   decimalComma: boolean;
+  /** The same reading for scanNumbers: semicolons and tabs separate in every dialect, blanks where split says. */
+  layout: NumberLayout;
 }
 
 // Tried in order; the first that reads the data lines into a steady column count wins. A comma followed
 // by digits and then a space or semicolon is a decimal comma ("12,5 340", "12,5;340"); otherwise commas
 // separate fields.
 const DIALECTS: Dialect[] = [
-  { split: /\s*;\s*|\t+/, decimalComma: true },
-  { split: /\s*[,;]\s*|\s+/, decimalComma: false },
-  { split: /\s*;\s*|\s+/, decimalComma: true },
+  { split: /\s*;\s*|\t+/, decimalComma: true, layout: numberLayout(";\t", ",", MISSING) },
+  { split: /\s*[,;]\s*|\s+/, decimalComma: false, layout: numberLayout(" \t,;", ".", MISSING) },
+  { split: /\s*;\s*|\s+/, decimalComma: true, layout: numberLayout(" \t;", ",", MISSING) },
 ];
 
 function tokenize(line: string, dialect: Dialect): Token[] {
@@ -45,89 +47,6 @@ function isDataLine(tokens: Token[]): boolean {
   return tokens.length >= 2 && tokens.every((t) => t !== "text") && tokens.some((t) => typeof t === "number");
 }
 
-/** Whether a character code separates fields in a dialect: blanks and tabs, semicolons, commas. */
-function separates(c: number, dialect: Dialect): boolean {
-  if (c === 59 || c === 9) return true; // ; and tab, in every dialect
-  if (c === 32) return dialect !== DIALECTS[0];
-  if (c === 44) return !dialect.decimalComma;
-  return false;
-}
-
-/**
- * Reads one line's fields as numbers into `out` (NaN for a missing value) without building strings per
- * token where it can; returns the number of fields, or −1 when a field is text. Same reading as tokenize: the
- * common field ([sign] digits [decimal separator digits], at most 15 digits) is read in the pass that finds it,
- * anything else goes the slow way.
- */
-function scanLine(line: string, dialect: Dialect, out: number[]): number {
-  let count = 0;
-  let i = 0;
-  const n = line.length;
-  const blankSeparates = dialect !== DIALECTS[0];
-  const commaSeparates = !dialect.decimalComma;
-  const point = dialect.decimalComma ? 44 : 46;
-  while (i < n) {
-    let c = line.charCodeAt(i);
-    if (c === 32 || c === 59 || c === 9 || (c === 44 && commaSeparates)) {
-      i++;
-      continue;
-    }
-    const start = i;
-    let negative = false;
-    if (c === 45 || c === 43) {
-      negative = c === 45;
-      i++;
-    }
-    let mantissa = 0;
-    let digits = 0;
-    let decimals = -1;
-    for (; i < n; i++) {
-      c = line.charCodeAt(i);
-      if (c >= 48 && c <= 57) {
-        mantissa = mantissa * 10 + (c - 48);
-        digits++;
-        if (decimals >= 0) decimals++;
-      } else if (c === point && decimals < 0) decimals = 0;
-      else break;
-    }
-    let ended = i >= n;
-    if (!ended) {
-      if (c === 59 || c === 9 || (c === 44 && commaSeparates) || (c === 32 && blankSeparates)) ended = true;
-      else if (c === 32) {
-        // Blanks end a field that blanks do not separate only when a separator or the line's end follows.
-        let k = i;
-        while (k < n && line.charCodeAt(k) === 32) k++;
-        const d = line.charCodeAt(k);
-        if (k >= n || d === 59 || d === 9) {
-          ended = true;
-          i = k;
-        }
-      }
-    }
-    if (ended && digits > 0 && digits <= 15) {
-      const value = decimals > 0 ? mantissa / POWERS_OF_TEN[decimals] : mantissa;
-      out[count++] = negative ? -value : value;
-      continue;
-    }
-    let j = start;
-    while (j < n && !separates(line.charCodeAt(j), dialect)) j++;
-    let end = j;
-    while (end > start && line.charCodeAt(end - 1) === 32) end--;
-    let field = line.slice(start, end);
-    if (dialect.decimalComma) field = field.replace(",", ".");
-    const value = plainNumber(field);
-    if (!Number.isNaN(value)) out[count++] = value;
-    else if (MISSING.test(field)) out[count++] = NaN;
-    else return -1;
-    i = j;
-  }
-  return count;
-}
-
-// 10^k for k ≤ 22 is exact in binary64, so integer / 10^k is the correctly rounded decimal, the same
-// number Number() would give.
-const POWERS_OF_TEN = Array.from({ length: 23 }, (_, k) => 10 ** k);
-
 /** Not blank and not a comment; a line that starts with a digit is data, decided without a regex. */
 function isContentLine(line: string): boolean {
   const c = line.charCodeAt(0);
@@ -146,12 +65,13 @@ function readDelimited(text: string): ReadScan | { error: string } {
   const MAX_FIELDS = 8;
   const values = new Float64Array(lines.length * MAX_FIELDS);
   const widths = new Int16Array(lines.length);
+  // One line's fields (NaN for a missing value); scanNumbers returns below zero when a field is text.
   const fields: number[] = new Array(64);
   let nRows = 0;
   let headerLine: string | null = null;
   let textLines = 0;
   for (const line of lines) {
-    const count = scanLine(line, dialect, fields);
+    const count = scanNumbers(line, 0, line.length, dialect.layout, fields);
     let numbers = false;
     for (let f = 0; f < count && !numbers; f++) numbers = !Number.isNaN(fields[f]);
     numbers &&= count >= 2;
@@ -311,7 +231,7 @@ function classify(text: string): Kind {
   const widths: number[] = [];
   let headerLine: string | null = null;
   for (const line of lines) {
-    const count = scanLine(line, dialect, fields);
+    const count = scanNumbers(line, 0, line.length, dialect.layout, fields);
     let numbers = false;
     for (let f = 0; f < count && !numbers; f++) numbers = !Number.isNaN(fields[f]);
     if (numbers && count >= 2) widths.push(count);

@@ -87,21 +87,48 @@ function isBlank(c: number): boolean {
 }
 
 /**
- * Reads the numbers of a line separated by blanks, tabs, commas or semicolons into `out`; returns how many,
- * or −1 when a field is not a number. The common field ([sign] digits [point digits], at most 15 digits) is read
- * in the same pass that finds it; anything else (exponents, long mantissas) goes through plainNumber.
+ * How a run of numbers is written: which characters separate two numbers, which is the decimal separator, and
+ * which fields stand for a missing value. Make one with numberLayout, once, outside any loop.
  */
-export function numbersOfLine(line: string, out: number[]): number {
+export interface NumberLayout {
+  /** 1 at the code of each character (below 128) that separates two numbers. */
+  separators: Uint8Array;
+  /** 44 for a decimal comma (a decimal point is then read as well, as Number() reads it), else 46. */
+  point: number;
+  /** Fields read as a missing value (NaN) instead of failing the scan ("NaN", "n/a", "-"). */
+  missing?: RegExp;
+}
+
+/**
+ * A layout from the characters that separate numbers (" \t,;"), the decimal separator ("." or ",") and the
+ * fields that stand for a missing value. Blanks around a number are always allowed; where a blank is not among
+ * the separators it may not stand inside a field ("12,5 ;340" is two numbers, "12,5 340;1" is not).
+ */
+export function numberLayout(separators: string, point: "." | "," = ".", missing?: RegExp): NumberLayout {
+  const flags = new Uint8Array(128);
+  for (let k = 0; k < separators.length; k++) flags[separators.charCodeAt(k)] = 1;
+  return { separators: flags, point: point.charCodeAt(0), missing };
+}
+
+/**
+ * Reads the numbers of text between start and end into `out` (from index 0) and returns how many; when a field is
+ * neither a number nor a missing value, returns −1 − the index where that field starts (always below zero; see
+ * failedField). The common field ([sign] digits [point digits], at most 15 digits) is read in the same pass that
+ * finds it, to the same double as Number() gives; anything else (exponents, long mantissas) goes through
+ * plainNumber on its own field.
+ */
+export function scanNumbers(text: string, start: number, end: number, layout: NumberLayout, out: number[] | Float64Array): number {
+  const separates = layout.separators;
+  const point = layout.point;
   let count = 0;
-  const n = line.length;
-  let i = 0;
-  while (i < n) {
-    let c = line.charCodeAt(i);
-    if (c === 32 || c === 9 || c === 44 || c === 59) {
+  let i = start;
+  while (i < end) {
+    let c = text.charCodeAt(i);
+    if (c === 32 || (c < 128 && separates[c] === 1)) {
       i++;
       continue;
     }
-    const start = i;
+    const first = i;
     let negative = false;
     if (c === 45 || c === 43) {
       negative = c === 45;
@@ -110,36 +137,61 @@ export function numbersOfLine(line: string, out: number[]): number {
     let mantissa = 0;
     let digits = 0;
     let decimals = -1;
-    let simple = true;
-    for (; i < n; i++) {
-      c = line.charCodeAt(i);
+    for (; i < end; i++) {
+      c = text.charCodeAt(i);
       if (c >= 48 && c <= 57) {
         mantissa = mantissa * 10 + (c - 48);
         digits++;
         if (decimals >= 0) decimals++;
-      } else if (c === 46 && decimals < 0) decimals = 0;
-      else if (c === 32 || c === 9 || c === 44 || c === 59) break;
-      else {
-        simple = false;
-        while (i < n) {
-          const d = line.charCodeAt(i);
-          if (d === 32 || d === 9 || d === 44 || d === 59) break;
-          i++;
-        }
-        break;
+      } else if ((c === 46 || c === point) && decimals < 0) decimals = 0;
+      else break;
+    }
+    let ended = i >= end || (c < 128 && separates[c] === 1);
+    if (!ended && c === 32) {
+      // A blank that does not separate ends a field only when a separator or the end follows it.
+      let k = i + 1;
+      while (k < end && text.charCodeAt(k) === 32) k++;
+      const d = text.charCodeAt(k);
+      if (k >= end || (d < 128 && separates[d] === 1)) {
+        ended = true;
+        i = k;
       }
     }
-    let value: number;
-    if (simple && digits > 0 && digits <= 15) {
-      value = decimals > 0 ? mantissa / POWERS_OF_TEN[decimals] : mantissa;
-      if (negative) value = -value;
-    } else {
-      value = plainNumber(line.slice(start, i));
-      if (Number.isNaN(value)) return -1;
+    if (ended && digits > 0 && digits <= 15) {
+      const value = decimals > 0 ? mantissa / POWERS_OF_TEN[decimals] : mantissa;
+      out[count++] = negative ? -value : value;
+      continue;
     }
-    out[count++] = value;
+    // The slow way for this field: to the next separator (none stands before i), trailing blanks off, then plainNumber.
+    let j = i;
+    for (; j < end; j++) {
+      const d = text.charCodeAt(j);
+      if (d < 128 && separates[d] === 1) break;
+    }
+    let last = j;
+    while (last > first && text.charCodeAt(last - 1) === 32) last--;
+    let field = text.slice(first, last);
+    if (point !== 46) field = field.replace(String.fromCharCode(point), ".");
+    const value = plainNumber(field);
+    if (!Number.isNaN(value)) out[count++] = value;
+    else if (layout.missing?.test(field)) out[count++] = NaN;
+    else return -1 - first;
+    i = j;
   }
   return count;
+}
+
+/** Where the field that failed a scan starts, from what scanNumbers returned (below zero). */
+export function failedField(scanned: number): number {
+  return -1 - scanned;
+}
+
+const LINE = numberLayout(" \t,;");
+
+/** Reads the numbers of a line separated by blanks, tabs, commas or semicolons into `out`; returns how many, or −1 when a field is not a number. */
+export function numbersOfLine(line: string, out: number[]): number {
+  const count = scanNumbers(line, 0, line.length, LINE, out);
+  return count < 0 ? -1 : count;
 }
 
 /** A line that holds nothing but blanks. */

@@ -7,7 +7,7 @@
 import { XMLParser, XMLValidator } from "fast-xml-parser";
 import { angle } from "./binary";
 import { decode } from "./source";
-import { anodeSymbol, isoDate, plainNumber, simpleDecimal } from "./text";
+import { anodeSymbol, failedField, isoDate, numberIn, numberLayout, scanNumbers } from "./text";
 import type { ReadScan, ScanMetadata, ScanReader, ScanSetting, ScanSource } from "./types";
 
 type XmlNode = Record<string, unknown>;
@@ -539,60 +539,22 @@ function attribute(value: unknown, name: string): string | undefined {
 
 function toNumber(value: string): number {
   const t = value.trim();
-  const quick = simpleDecimal(t, 0, t.length);
-  return Number.isNaN(quick) ? plainNumber(t) : quick;
+  return numberIn(t, 0, t.length);
 }
 
-// 10^k for k ≤ 22 is exact in binary64, so digits / 10^k is the correctly rounded decimal, as Number() gives it.
-const POWERS_OF_TEN = Array.from({ length: 23 }, (_, k) => 10 ** k);
+const LIST = numberLayout(" \t\n\r");
 
-/**
- * Numbers separated by blanks, tabs and line ends; the first field that is not a number is returned as `bad`.
- * One pass: plain decimals ("1234", "-0.5") are read digit by digit; anything else (exponents, long mantissas)
- * goes through Number() on its own field.
- */
+/** Numbers separated by blanks, tabs and line ends; the first field that is not a number is returned as `bad`. */
 function numberList(value: string): { list: Float64Array } | { bad: string } {
   const n = value.length;
   // At most one number per two characters; the array is cut to the count at the end.
   const out = new Float64Array((n >> 1) + 1);
-  let count = 0;
-  let i = 0;
-  while (i < n) {
-    let c = value.charCodeAt(i);
-    if (c === 32 || c === 10 || c === 13 || c === 9) {
-      i++;
-      continue;
-    }
-    const start = i;
-    let negative = false;
-    if (c === 45 || c === 43) {
-      negative = c === 45;
-      c = value.charCodeAt(++i);
-    }
-    let mantissa = 0;
-    let digits = 0;
-    let decimals = -1;
-    for (; i < n; c = value.charCodeAt(++i)) {
-      if (c >= 48 && c <= 57) {
-        mantissa = mantissa * 10 + (c - 48);
-        digits++;
-        if (decimals >= 0) decimals++;
-      } else if (c === 46 && decimals < 0) decimals = 0;
-      else break;
-    }
-    const ended = i >= n || c === 32 || c === 10 || c === 13 || c === 9;
-    if (ended && digits > 0 && digits <= 15) {
-      const v = decimals > 0 ? mantissa / POWERS_OF_TEN[decimals] : mantissa;
-      out[count++] = negative ? -v : v;
-      continue;
-    }
-    // The slow way for this field: to its end, then Number() with the checks of plainNumber.
-    while (i < n && !isBlank(value.charCodeAt(i))) i++;
-    const v = plainNumber(value.slice(start, i));
-    if (Number.isNaN(v)) return { bad: value.slice(start, Math.min(i, start + 20)) };
-    out[count++] = v;
-  }
-  return { list: out.slice(0, count) };
+  const count = scanNumbers(value, 0, n, LIST, out);
+  if (count >= 0) return { list: out.slice(0, count) };
+  const start = failedField(count);
+  let end = start;
+  while (end < n && end < start + 20 && !isBlank(value.charCodeAt(end))) end++;
+  return { bad: value.slice(start, end) };
 }
 
 function isBlank(c: number): boolean {

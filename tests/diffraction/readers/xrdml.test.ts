@@ -178,6 +178,15 @@ describe("XRDML: one scan", () => {
     expect(Array.from(r.twoTheta)).toEqual(list);
   });
 
+  it("reads exponent notation and line breaks in the number lists as Number() does (xs:double, common practice)", () => {
+    const list = COUNTS.map((_, i) => (i % 4 === 1 ? (20 + 0.02 * i).toExponential(4) : (20 + 0.02 * i).toFixed(2)));
+    const values = COUNTS.map((c, i) => (i % 3 === 0 ? c.toExponential().toUpperCase() : String(c)));
+    const xml = measurementXml([scanXml({ values: values as unknown as number[], list: list as unknown as number[] })]);
+    const r = read(xml.replace(list.join(" "), list.join("\r\n\t")));
+    expect(Array.from(r.twoTheta)).toEqual(list.map(Number));
+    expect(Array.from(r.intensity)).toEqual(COUNTS);
+  });
+
   it("takes a namespace prefix, a byte-order mark, Windows line ends, unknown elements and missing optional ones", () => {
     const plain = measurementXml([scanXml({ values: COUNTS, extra: "<vendorExtension><anything a='1'>x</anything></vendorExtension>" })], {
       version: "2.1",
