@@ -216,10 +216,30 @@ function qOfRow(row: number[], p: number[]): number {
  * coarse search's cell, then the refinement's own), so it narrows as the cell converges. While a
  * window holds reflections of more than one Q-expression the peak waits for a later pass (see assign).
  */
+/**
+ * Refined with both corrections, a cell that explains fewer than this share of the peaks the zero shift alone
+ * explained has traded the indexing for a large correction (seen on mixtures); one peak more or less at the
+ * edge of its window is not that. Our own choice.
+ */
+const FEWER_PEAKS_SHARE = 0.9;
+
 export function refineCell(peaks: readonly ObservedPeak[], options: RefineOptions): Refinement {
   const kind = options.correction ?? "zero_shift";
   if (kind !== "auto") return refineWith(peaks, options, kind);
-  const both = refineWith(peaks, options, "zero_and_displacement");
+  // The zero shift alone first: one offset is the most robust way to find which reflection each peak is (two
+  // strongly correlated corrections can trade a wrong cell for a large displacement on a mixture). Both are
+  // then refined from that indexing; if that keeps fewer peaks, the zero shift's refinement stands.
+  const zeroFirst = refineWith(peaks, options, "zero_shift");
+  const fromZero =
+    zeroFirst.used > 0 ? { ...options, start: zeroFirst.cell, searchRange: Math.min(options.searchRange ?? 0.02, 0.002) } : options;
+  const both = refineWith(peaks, fromZero, "zero_and_displacement", zeroFirst.used > 0);
+  if (zeroFirst.used > 0 && both.used < FEWER_PEAKS_SHARE * zeroFirst.used) {
+    zeroFirst.zeroDisplacementCorrelation = both.zeroDisplacementCorrelation;
+    zeroFirst.warnings.unshift(
+      `Refined together with the specimen displacement, the cell explained far fewer peaks (${both.used} against ${zeroFirst.used}), so only the zero shift was refined.`,
+    );
+    return zeroFirst;
+  }
   const correlation = both.zeroDisplacementCorrelation;
   const usable = both.dof > 0 && correlation !== null && both.zeroShiftEsd !== null && both.displacementEsd !== null;
   // The esds are scaled by the reduced χ²; for this test never below the weights' own (χ²ᵣ < 1 would shrink them).
