@@ -15,15 +15,17 @@ export interface MeasurementInfo {
 export function ConditionsList({ info }: { info: MeasurementInfo }) {
   const rows = measurementConditions(info);
   return (
-    <dl className="grid gap-x-6 gap-y-1 text-sm sm:grid-cols-[12rem_1fr]" data-testid="measurement-conditions">
-      {rows.map((r) => (
-        <div key={r.label} className="contents">
-          <dt className="text-ink-500">{r.label}</dt>
-          <dd className="break-words">{r.value}</dd>
-        </div>
-      ))}
-      {rows.length <= 2 ? <p className="text-xs text-ink-600 sm:col-span-2">The file states nothing else about how it was measured.</p> : null}
-    </dl>
+    <>
+      <dl className="grid gap-x-6 gap-y-1 text-sm sm:grid-cols-[12rem_1fr]" data-testid="measurement-conditions">
+        {rows.map((r) => (
+          <div key={r.label} className="contents">
+            <dt className="text-ink-500">{r.label}</dt>
+            <dd className="break-words">{r.value}</dd>
+          </div>
+        ))}
+      </dl>
+      {rows.length <= 2 ? <p className="mt-1 text-xs text-ink-600">The file states nothing else about how it was measured.</p> : null}
+    </>
   );
 }
 
@@ -58,7 +60,8 @@ export function MeasurementFoldout({ info, name }: { info: MeasurementInfo; name
   if (!summary) return null;
   return (
     <details className="mt-1 max-w-md text-xs text-ink-600">
-      <summary className="cursor-pointer" aria-label={`Measurement conditions of ${name}`}>
+      <summary className="cursor-pointer">
+        <span className="sr-only">Measurement conditions of {name}: </span>
         {summary}
       </summary>
       <div className="mt-2 rounded-md border border-ink-200 bg-white p-2">
