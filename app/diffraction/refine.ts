@@ -230,8 +230,7 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
   // strongly correlated corrections can trade a wrong cell for a large displacement on a mixture). Both are
   // then refined from that indexing; if that keeps fewer peaks, the zero shift's refinement stands.
   const zeroFirst = refineWith(peaks, options, "zero_shift");
-  const fromZero =
-    zeroFirst.used > 0 ? { ...options, start: zeroFirst.cell, searchRange: Math.min(options.searchRange ?? 0.02, 0.002) } : options;
+  const fromZero = zeroFirst.used > 0 ? { ...options, start: zeroFirst.cell, searchRange: Math.min(options.searchRange ?? 0.02, 0.002) } : options;
   const both = refineWith(peaks, fromZero, "zero_and_displacement", zeroFirst.used > 0);
   if (zeroFirst.used > 0 && both.used < FEWER_PEAKS_SHARE * zeroFirst.used) {
     zeroFirst.zeroDisplacementCorrelation = both.zeroDisplacementCorrelation;
