@@ -15,7 +15,7 @@ import type { CorrectionKind } from "../app/diffraction/refine";
 import { ANODE_LINES, ANODES, type Monochromation, type Radiation } from "../app/diffraction/wavelengths";
 
 const USAGE =
-  "usage: npm run -s lattice -- FILE… [--source Cu|Co|Mo|Cr|Fe|Ag | --wavelength Å] [--monochromatic] [--system SYSTEM] [--centering P|I|F|A|B|C|R] [--cell a,b,c,alpha,beta,gamma] [--refine auto|zero_shift|displacement|zero_and_displacement] [--radius mm] [--json]";
+  "usage: npm run -s lattice -- FILE… [--source Cu|Co|Mo|Cr|Fe|Ag | --wavelength Å] [--monochromatic] [--system SYSTEM] [--centering P|I|F|A|B|C|R] [--cell a,b,c,alpha,beta,gamma] [--refine auto|zero_shift|displacement|zero_and_displacement] [--radius mm] [--transparency refine|μ/cm⁻¹] [--json]";
 
 class BadInput extends Error {}
 
@@ -32,7 +32,7 @@ interface Arguments {
 }
 
 const REFINE_CHOICES: readonly CorrectionKind[] = ["auto", "zero_shift", "displacement", "zero_and_displacement"];
-const VALUE_OPTIONS = new Set(["--source", "--wavelength", "--system", "--centering", "--cell", "--refine", "--radius"]);
+const VALUE_OPTIONS = new Set(["--source", "--wavelength", "--system", "--centering", "--cell", "--refine", "--radius", "--transparency"]);
 const FLAG_OPTIONS = new Set(["--monochromatic", "--json"]);
 
 function parseArguments(argv: string[]): Arguments {
@@ -98,6 +98,14 @@ function parseArguments(argv: string[]): Arguments {
     const r = Number(radius);
     if (!(r > 0)) throw new BadInput(`The goniometer radius must be a positive number of mm; got "${radius}".`);
     options.goniometerRadiusMm = r;
+  }
+  // Transparency of a weakly absorbing sample: refined, or fixed from its linear attenuation coefficient μ.
+  const transparency = values.get("--transparency");
+  if (transparency !== undefined) {
+    const mu = Number(transparency);
+    if (transparency === "refine") options.transparency = { refine: true };
+    else if (mu > 0 && Number.isFinite(mu)) options.transparency = { linearAttenuationPerCm: mu };
+    else throw new BadInput(`--transparency takes "refine" or the sample's linear attenuation coefficient in cm⁻¹ (a positive number); got "${transparency}".`);
   }
   // System, centering and cell are the same for every file: a contradiction among them is bad options, not a bad
   // file. The radiation stands in for itself when given (its problems were refused above).
@@ -214,6 +222,9 @@ function toJson(result: LatticeCheckResult, elapsedMs: number) {
     displacement: result.displacement,
     displacementEsd: result.displacementEsd,
     zeroDisplacementCorrelation: result.zeroDisplacementCorrelation,
+    transparency: result.transparency,
+    penetrationMm: result.penetrationMm,
+    penetrationMmEsd: result.penetrationMmEsd,
     foreignPeaks: result.foreignPeaks,
     figuresOfMerit: result.figuresOfMerit,
     reducedChi2: result.reducedChi2,

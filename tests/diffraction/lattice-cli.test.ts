@@ -133,6 +133,19 @@ describe("lattice command line", () => {
     expect(out.verdict).toBe("consistent");
   });
 
+  it("--transparency refines the transparency term or holds it from the sample's μ", () => {
+    for (const [value, kind] of [
+      ["refine", "refined"],
+      ["50", "fixed"],
+    ] as const) {
+      const r = lattice(join(dir, "si.xy"), "--source", "Cu", "--system", "cubic", "--centering", "F", "--cell", SI_CELL, "--transparency", value, "--json");
+      expect(r.code, r.stderr).toBe(0);
+      const out = JSON.parse(r.stdout);
+      expect(out.transparency).toBe(kind);
+      expect(out.verdict).toBe("consistent");
+    }
+  });
+
   it("exits 0 with an inconsistent verdict for a wrong phase", () => {
     const r = lattice(join(dir, "rutile.xy"), "--source", "Cu", "--system", "cubic", "--centering", "F", "--cell", "5.6402,5.6402,5.6402,90,90,90", "--json");
     expect(r.code).toBe(0);
@@ -145,6 +158,7 @@ describe("lattice command line", () => {
     ["a cell of five numbers", ["si.xy", "--source", "Cu", "--cell", "5.43,5.43,5.43,90,90"]],
     ["a cell that breaks the system", ["si.xy", "--source", "Cu", "--system", "cubic", "--cell", "5.43,5.5,5.43,90,90,90"]],
     ["an unknown system", ["si.xy", "--source", "Cu", "--system", "cubical"]],
+    ["a transparency that is neither refine nor a positive μ", ["si.xy", "--source", "Cu", "--transparency", "-3"]],
   ])("exits 2 with one line on stderr and nothing on stdout for %s", (_name, args) => {
     const [file, ...rest] = args;
     const r = lattice(join(dir, file), ...rest, "--json");
