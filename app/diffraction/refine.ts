@@ -251,8 +251,10 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
     tZero >= SIGNIFICANT_T && tDisplacement < SIGNIFICANT_T ? "zero_shift" : tDisplacement >= SIGNIFICANT_T && tZero < SIGNIFICANT_T ? "displacement" : null;
   // The single refinements start from the combined fit's cell, which is as close as the declaration or closer.
   const near = both.used > 0 ? { ...options, start: both.cell, searchRange: Math.min(options.searchRange ?? 0.02, 0.002) } : options;
+  // The zero shift alone was refined first already; only a displacement alone needs a refinement of its own.
+  const zeroAlone = () => (zeroFirst.used > 0 ? zeroFirst : refineWith(peaks, near, "zero_shift", both.used > 0));
   if (usable && single) {
-    const alone = refineWith(peaks, near, single, both.used > 0);
+    const alone = single === "zero_shift" ? zeroAlone() : refineWith(peaks, near, single, both.used > 0);
     if (alone.used >= both.used) {
       alone.zeroDisplacementCorrelation = correlation;
       alone.warnings.unshift(
@@ -267,7 +269,7 @@ export function refineCell(peaks: readonly ObservedPeak[], options: RefineOption
   if (bothFound && Math.abs(correlation!) <= CORRELATION_LIMIT) return both;
   // Neither found, the range does not separate them, or too few peaks for both: the zero shift alone, the
   // check's single correction.
-  const alone = refineWith(peaks, near, "zero_shift", both.used > 0);
+  const alone = zeroAlone();
   alone.zeroDisplacementCorrelation = correlation;
   alone.warnings.unshift(
     !usable
