@@ -3,7 +3,7 @@
 import { createHash } from "node:crypto";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
-import { callRoute, cookieFrom, formRequest, getRequest } from "./route-call";
+import { callRoute, cookieFrom, formRequest, getRequest, jsonRequest } from "./route-call";
 
 const ORIGIN = "http://127.0.0.1:3000";
 const PASSWORD = "diffractory-demo";
@@ -40,14 +40,6 @@ async function loadApp() {
 async function as(email: string) {
   cookies[email] ??= cookieFrom(await callRoute(app.signIn.action, formRequest("/sign-in", { email, password: PASSWORD })))!;
   return cookies[email];
-}
-
-function jsonRequest(path: string, body: unknown, headers: Record<string, string> = {}) {
-  return new Request(`${ORIGIN}${path}`, {
-    method: "POST",
-    body: JSON.stringify(body),
-    headers: { "Content-Type": "application/json", Origin: ORIGIN, ...headers },
-  });
 }
 
 const sha256 = (bytes: string | Uint8Array) => createHash("sha256").update(bytes).digest("hex");

@@ -20,6 +20,15 @@ export function formRequest(path: string, fields: Record<string, string>, cookie
   });
 }
 
+/** A POST with a JSON body, as the upload client and instrument computers send it. */
+export function jsonRequest(path: string, body: unknown, headers: Record<string, string> = {}) {
+  return new Request(`${ORIGIN}${path}`, {
+    method: "POST",
+    body: JSON.stringify(body),
+    headers: { "Content-Type": "application/json", Origin: ORIGIN, ...headers },
+  });
+}
+
 export function getRequest(path: string, cookie?: string) {
   return new Request(`${ORIGIN}${path}`, { headers: cookie ? { Cookie: cookie } : {} });
 }

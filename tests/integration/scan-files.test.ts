@@ -8,10 +8,9 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { StoredCheckResult } from "~/domain/check-result";
 import type { ScanInfo } from "~/domain/measurement";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
-import { callRoute, cookieFrom, formRequest, getRequest } from "./route-call";
+import { callRoute, cookieFrom, formRequest, getRequest, jsonRequest } from "./route-call";
 import { cpi, gsasFxye, ras, rawVersion3 } from "../diffraction/readers/write-formats";
 
-const ORIGIN = "http://127.0.0.1:3000";
 const PASSWORD = "diffractory-demo";
 // Certified lattice parameter of silicon, NIST SRM 640c: a = 5.4311946 Å (docs/reference-values.md#certified-lattice-parameters).
 const SI_A = 5.4311946;
@@ -48,14 +47,6 @@ async function loadApp() {
 async function as(email: string) {
   cookies[email] ??= cookieFrom(await callRoute(app.signIn.action, formRequest("/sign-in", { email, password: PASSWORD })))!;
   return cookies[email];
-}
-
-function jsonRequest(path: string, body: unknown, headers: Record<string, string> = {}) {
-  return new Request(`${ORIGIN}${path}`, {
-    method: "POST",
-    body: JSON.stringify(body),
-    headers: { "Content-Type": "application/json", Origin: ORIGIN, ...headers },
-  });
 }
 
 const sha256 = (bytes: string | Uint8Array) => createHash("sha256").update(bytes).digest("hex");

@@ -6,9 +6,8 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { SHARE_LINK_MAX_LIVE } from "~/domain/order-files";
 import { SAMPLE_FIELDS } from "./form-fixtures";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
-import { callRoute, cookieFrom, formRequest, getRequest, type RouteAnswer } from "./route-call";
+import { callRoute, cookieFrom, formRequest, getRequest, jsonRequest, type RouteAnswer } from "./route-call";
 
-const ORIGIN = "http://127.0.0.1:3000";
 const PASSWORD = "diffractory-demo";
 const CLIENT = "owner@halvorsen.example";
 const LAB = "lab@graniteridge.example";
@@ -44,14 +43,6 @@ async function as(email: string) {
 const sha256 = (bytes: string | Uint8Array) => createHash("sha256").update(bytes).digest("hex");
 const fieldErrors = (answer: RouteAnswer) => ((answer.body as { result: { error?: Record<string, string[]> } }).result.error ?? {}) as Record<string, string[]>;
 const formErrors = (answer: RouteAnswer) => fieldErrors(answer)[""] ?? [];
-
-function jsonRequest(path: string, body: unknown, cookie: string) {
-  return new Request(`${ORIGIN}${path}`, {
-    method: "POST",
-    body: JSON.stringify(body),
-    headers: { "Content-Type": "application/json", Origin: ORIGIN, Cookie: cookie },
-  });
-}
 
 /** A paid order of Halvorsen at Granite Ridge with one sample, moved on to measuring by the lab. */
 const measuringOrder = () =>
@@ -155,7 +146,7 @@ describe("a delivered file's name", () => {
     const body = siliconScan();
     const start = await callRoute(
       app.uploads.action,
-      jsonRequest(`/lab/orders/${orderId}/uploads`, { name, size: Buffer.byteLength(body), kind: "scan", sampleId }, lab),
+      jsonRequest(`/lab/orders/${orderId}/uploads`, { name, size: Buffer.byteLength(body), kind: "scan", sampleId }, { Cookie: lab }),
       {
         id: orderId,
       },
@@ -165,7 +156,7 @@ describe("a delivered file's name", () => {
     expect((await fetch(started.upload.url, { method: "PUT", body, headers: started.upload.headers })).status).toBe(200);
     const done = await callRoute(
       app.upload.action,
-      jsonRequest(`/lab/orders/${orderId}/uploads/${started.fileId}`, { intent: "complete", sha256: sha256(body) }, lab),
+      jsonRequest(`/lab/orders/${orderId}/uploads/${started.fileId}`, { intent: "complete", sha256: sha256(body) }, { Cookie: lab }),
       { id: orderId, fileId: started.fileId },
     );
     expect(done.status, JSON.stringify(done.body)).toBe(200);
