@@ -3,18 +3,16 @@
 import { createHash } from "node:crypto";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
-import { callRoute, cookieFrom, formRequest, getRequest, jsonRequest } from "./route-call";
+import { callRoute, formRequest, getRequest, jsonRequest, sessionCookies } from "./route-call";
 
 const ORIGIN = "http://127.0.0.1:3000";
-const PASSWORD = "diffractory-demo";
 
 let w: MoneyWorld;
 let app: Awaited<ReturnType<typeof loadApp>>;
-const cookies: Record<string, string> = {};
+const as = sessionCookies();
 
 async function loadApp() {
   return {
-    signIn: await import("~/routes/public/sign-in"),
     uploads: await import("~/routes/lab/order-uploads"),
     upload: await import("~/routes/lab/order-upload"),
     labFiles: await import("~/routes/lab/order-files"),
@@ -35,11 +33,6 @@ async function loadApp() {
     structures: await import("~/diffraction/structures"),
     boss: await import("~/jobs/queues.server"),
   };
-}
-
-async function as(email: string) {
-  cookies[email] ??= cookieFrom(await callRoute(app.signIn.action, formRequest("/sign-in", { email, password: PASSWORD })))!;
-  return cookies[email];
 }
 
 const sha256 = (bytes: string | Uint8Array) => createHash("sha256").update(bytes).digest("hex");

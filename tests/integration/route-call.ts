@@ -107,3 +107,16 @@ export async function sessionCookieFor(email: string, options: { password?: stri
   if (!cookie) throw new Error(`${email} could not sign in`);
   return cookie;
 }
+
+/** sessionCookieFor remembered per person: `const as = sessionCookies();` then `await as(email)` signs each in once. */
+export function sessionCookies() {
+  const cookies = new Map<string, Promise<string>>();
+  return (email: string) => {
+    let cookie = cookies.get(email);
+    if (!cookie) {
+      cookie = sessionCookieFor(email);
+      cookies.set(email, cookie);
+    }
+    return cookie;
+  };
+}

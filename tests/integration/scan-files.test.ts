@@ -8,10 +8,9 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { StoredCheckResult } from "~/domain/check-result";
 import type { ScanInfo } from "~/domain/measurement";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
-import { callRoute, cookieFrom, formRequest, getRequest, jsonRequest } from "./route-call";
+import { callRoute, formRequest, getRequest, jsonRequest, sessionCookies } from "./route-call";
 import { cpi, gsasFxye, ras, rawVersion3 } from "../diffraction/readers/write-formats";
 
-const PASSWORD = "diffractory-demo";
 // Certified lattice parameter of silicon, NIST SRM 640c: a = 5.4311946 Å (docs/reference-values.md#certified-lattice-parameters).
 const SI_A = 5.4311946;
 // Kα1, Kα2, Kβ in Å as tabulated in docs/reference-values.md#x-ray-wavelengths (NIST, Deslattes et al. 2003).
@@ -22,11 +21,10 @@ const LINES = {
 
 let w: MoneyWorld;
 let app: Awaited<ReturnType<typeof loadApp>>;
-const cookies: Record<string, string> = {};
+const as = sessionCookies();
 
 async function loadApp() {
   return {
-    signIn: await import("~/routes/public/sign-in"),
     tokens: await import("~/routes/lab/api-tokens"),
     v1Start: await import("~/routes/api/v1/order-files"),
     v1Complete: await import("~/routes/api/v1/order-file-complete"),
@@ -42,11 +40,6 @@ async function loadApp() {
     scherrer: await import("~/diffraction/scherrer"),
     boss: await import("~/jobs/queues.server"),
   };
-}
-
-async function as(email: string) {
-  cookies[email] ??= cookieFrom(await callRoute(app.signIn.action, formRequest("/sign-in", { email, password: PASSWORD })))!;
-  return cookies[email];
 }
 
 const sha256 = (bytes: string | Uint8Array) => createHash("sha256").update(bytes).digest("hex");

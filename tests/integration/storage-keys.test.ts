@@ -6,20 +6,18 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { SHARE_LINK_MAX_LIVE } from "~/domain/order-files";
 import { SAMPLE_FIELDS } from "./form-fixtures";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
-import { callRoute, cookieFrom, formRequest, getRequest, jsonRequest, type RouteAnswer } from "./route-call";
+import { callRoute, formRequest, getRequest, jsonRequest, sessionCookies, type RouteAnswer } from "./route-call";
 
-const PASSWORD = "diffractory-demo";
 const CLIENT = "owner@halvorsen.example";
 const LAB = "lab@graniteridge.example";
 const PDF = "%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer << /Root 1 0 R >>\n%%EOF\n";
 
 let w: MoneyWorld;
 let app: Awaited<ReturnType<typeof loadApp>>;
-const cookies: Record<string, string> = {};
+const as = sessionCookies();
 
 async function loadApp() {
   return {
-    signIn: await import("~/routes/public/sign-in"),
     samples: await import("~/routes/client/request-samples"),
     hazards: await import("~/routes/client/request-hazards"),
     sdsUpload: await import("~/routes/client/request-sds-upload"),
@@ -36,10 +34,6 @@ async function loadApp() {
   };
 }
 
-async function as(email: string) {
-  cookies[email] ??= cookieFrom(await callRoute(app.signIn.action, formRequest("/sign-in", { email, password: PASSWORD })))!;
-  return cookies[email];
-}
 const sha256 = (bytes: string | Uint8Array) => createHash("sha256").update(bytes).digest("hex");
 const fieldErrors = (answer: RouteAnswer) => ((answer.body as { result: { error?: Record<string, string[]> } }).result.error ?? {}) as Record<string, string[]>;
 const formErrors = (answer: RouteAnswer) => fieldErrors(answer)[""] ?? [];
