@@ -223,6 +223,13 @@ function qOfRow(row: number[], p: number[]): number {
  */
 const FEWER_PEAKS_SHARE = 0.9;
 
+/**
+ * A refinement that keeps at least this share of the peaks ends the search over the priors; below it the
+ * tighter priors are tried too and the one keeping most peaks stands (our own choice: a single phase keeps
+ * nearly all, a mixture's main phase often half or more).
+ */
+const ENOUGH_PEAKS_SHARE = 0.6;
+
 export function refineCell(peaks: readonly ObservedPeak[], options: RefineOptions): Refinement {
   const kind = options.correction ?? "zero_shift";
   if (kind !== "auto") return refineWith(peaks, options, kind);
@@ -304,8 +311,13 @@ function refineWith(peaks: readonly ObservedPeak[], options: RefineOptions, kind
   // prior; the declared cell is then trusted more closely, down to ±0.05 %.
   const priors = warm ? [PRIOR_LENGTHS[PRIOR_LENGTHS.length - 1], ...PRIOR_LENGTHS.slice(0, -1)] : PRIOR_LENGTHS;
   const schedule = [...priors.map((prior) => ({ prior, lenient: false })), { prior: PRIOR_LENGTHS[1], lenient: true }];
+  // The refinement that keeps the most peaks: a prior whose first windows took another phase's lines for
+  // this cell's can converge on a wrong cell that keeps only a few; a tighter prior then does better.
+  let kept: { state: State; assignments: Assignment[]; fit: LinearStep; converged: boolean } | null = null;
   for (const { prior, lenient } of schedule) {
+    if (kept && kept.fit.used >= ENOUGH_PEAKS_SHARE * peaks.length) break;
     state = coarse;
+    converged = false;
     let covariance = priorCovariance(system, state.p, model, radius, prior, priorZero);
     fit = null;
     assignments = [];
@@ -327,7 +339,12 @@ function refineWith(peaks: readonly ObservedPeak[], options: RefineOptions, kind
       state = result.state;
       covariance = scaledCovariance(fit) ?? fit.covariance;
     }
-    if (fit) break;
+    if (fit && (!kept || fit.used > kept.fit.used)) kept = { state, assignments, fit, converged };
+  }
+  if (kept) ({ state, assignments, fit, converged } = kept);
+  else {
+    fit = null;
+    assignments = [];
   }
   if (fit) addStraddledBlends(peaks, pool, state, assignments, options, model, radius);
   // The assigned reflections were listed before the last step; give them the final cell's d and position.

@@ -91,6 +91,19 @@ describe("verdicts", () => {
     expect(Math.abs(result.cell!.a - SILICON.cell.a)).toBeLessThan(2e-4);
     expect(result.unindexed.length).toBeGreaterThanOrEqual(3);
   });
+
+  it("an olivine cathode with a few per cent of zincite keeps its own cell (the impurity does not pull the indexing away)", () => {
+    // Noiseless, so nothing but the impurity's lines can disturb it; LiFePO4 cell from structures.ts (from memory).
+    const main = scanOf(STRUCTURES.lithiumIronPhosphate, { noise: undefined, zeroShift: 0.03 });
+    for (const scale of [300, 600]) {
+      const impurity = scanOf(ZINCITE, { scale, background: { constant: 0 }, noise: undefined, zeroShift: 0.03 });
+      const mixed = { ...main, intensity: main.intensity.map((v, i) => Math.round(v + impurity.intensity[i])) };
+      const result = runLatticeCheck(mixed, declare(STRUCTURES.lithiumIronPhosphate));
+      expect(result.verdict).not.toBe("inconsistent");
+      expect(Math.abs(result.cell!.a - STRUCTURES.lithiumIronPhosphate.cell.a)).toBeLessThan(1e-3);
+      expect(Math.abs(result.cell!.c - STRUCTURES.lithiumIronPhosphate.cell.c)).toBeLessThan(1e-3);
+    }
+  });
 });
 
 describe("every phase checked against every other phase's declaration", () => {
