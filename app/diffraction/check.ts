@@ -9,7 +9,10 @@ import { penetrationMmOf, refinedLineShift } from "./line-shifts";
 import { deWolffM20, smithSnyderFN } from "./merit";
 import { type CheckableScan, type ParseScanOptions, parseScan, type ScanMetadata } from "./parse-scan";
 import { analysePeaks, type FittedPeak } from "./peaks";
+import { fitPhases, type PhaseFit } from "./mixture";
+import type { AcceptanceWindow, CandidateResult, DeclaredPhase, PhaseResult, PhaseTick, WholePatternFigures, WindowResult } from "./phases";
 import { median } from "./sorted";
+import { fixedCellParameters, judgeWindow, windowProblem } from "./window";
 import {
   type CorrectionKind,
   figuresOfMeritLines,
@@ -21,7 +24,7 @@ import {
   type TransparencyOption,
 } from "./refine";
 import { type InstrumentProfile, SCHERRER_CAUTION, scherrerSize } from "./scherrer";
-import { decideVerdict, type Verdict } from "./verdict";
+import { decideVerdict, type Verdict, type VerdictResult } from "./verdict";
 import { type Radiation, radiationLines, strayLines } from "./wavelengths";
 
 export interface LatticeCheckOptions {
@@ -44,6 +47,14 @@ export interface LatticeCheckOptions {
   holder?: SampleHolder;
   /** Instrument profile for the Scherrer sizes; without it sizes include instrumental broadening. */
   instrumentProfile?: InstrumentProfile;
+  /** The main phase's name, for the sentences ("LiFePO4"). */
+  mainName?: string | null;
+  /** Further expected phases (an impurity, a second component), each with its approximate cell. */
+  phases?: DeclaredPhase[];
+  /** Candidate forms: alternatives to the main declaration; the check says which one explains the scan. */
+  candidates?: DeclaredPhase[];
+  /** The client's acceptance window on the main phase's cell. */
+  window?: AcceptanceWindow;
 }
 
 /** Why a peak is not the sample's: a stray tube line of another peak's reflection, or a holder line. */
@@ -91,17 +102,12 @@ export interface CheckedPeak {
   usedInRefinement: boolean;
   /** Scherrer crystallite size, nm (see scherrer.ts for the caution). */
   crystalliteSizeNm: number | null;
+  /** Index into `phases` of the phase that indexes this peak; null for none (absent in results stored before phases). */
+  phase?: number | null;
 }
 
-export interface TickMark {
-  h: number;
-  k: number;
-  l: number;
-  d: number;
-  /** Position in the observed frame (with the refined corrections), degrees 2θ. */
-  twoTheta: number;
-  multiplicity: number;
-}
+/** A reflection's tick in the observed frame (with the refined corrections), degrees 2θ. */
+export type TickMark = PhaseTick;
 
 export interface FiguresOfMerit {
   M20: number | null;
@@ -153,6 +159,15 @@ export interface LatticeCheckResult {
   deviation: CellDeviation | null;
   peaks: CheckedPeak[];
   unindexed: CheckedPeak[];
+  /** Every declared phase: the main one (the chosen candidate) first, then the expected ones. */
+  phases: PhaseResult[];
+  /** The candidate forms, the main declaration first, when alternatives were declared. */
+  candidates: CandidateResult[] | null;
+  /** The acceptance window's answer, kept apart from the verdict. */
+  window: WindowResult;
+  withinWindow: boolean | null;
+  /** The whole-pattern fit's figures; null when no fit was made. */
+  wholePattern: WholePatternFigures | null;
   figuresOfMerit: FiguresOfMerit;
   reflections: TickMark[];
   /** Reduced χ² of the cell refinement, and peaks used / degrees of freedom. */
@@ -168,7 +183,10 @@ export interface LatticeCheckResult {
   twoTheta: Float64Array;
   observed: Float64Array;
   background: Float64Array;
+  /** The sum of the freely fitted single peaks and the background (a separate layer, not a whole-pattern fit). */
   fittedProfile: Float64Array;
+  /** The whole-pattern fit's calculated curve with the background; null when no fit was made. */
+  calculatedProfile: Float64Array | null;
   wavelength: number;
   /** The scan file's format (reader id and label) and what the file states about the measurement. */
   scanFormat: string;
@@ -212,8 +230,35 @@ export function checkOptionsProblem(options: LatticeCheckOptions): string | null
   if (options.goniometerRadiusMm !== undefined && !(options.goniometerRadiusMm > 0 && options.goniometerRadiusMm < 2000)) {
     return `The goniometer radius must be a positive number of mm; got ${options.goniometerRadiusMm}.`;
   }
-  if (options.system && options.centering) return checkCentering(options.system, options.centering);
+  if (options.system && options.centering) {
+    const problem = checkCentering(options.system, options.centering);
+    if (problem) return problem;
+  }
+  const lists: [string, DeclaredPhase[] | undefined][] = [
+    ["expected phase", options.phases],
+    ["candidate form", options.candidates],
+  ];
+  for (const [what, list] of lists) {
+    for (const [i, phase] of (list ?? []).entries()) {
+      const name = phase.name?.trim() ? `"${phase.name.trim()}"` : `${what} ${i + 1}`;
+      const problem = declaredPhaseProblem(phase);
+      if (problem) return `The ${what} ${name}: ${problem}`;
+    }
+  }
+  if ((options.phases?.length || options.candidates?.length) && !options.cell) {
+    if (options.candidates?.length) return "Candidate forms are alternatives to a declared main cell; declare the main cell too.";
+  }
+  if (options.window && options.cell) {
+    const problem = windowProblem(options.window, options.system ?? inferSystem(options.cell));
+    if (problem) return problem;
+  }
   return null;
+}
+
+function declaredPhaseProblem(phase: DeclaredPhase): string | null {
+  if (!CRYSTAL_SYSTEMS.includes(phase.system)) return `unknown crystal system "${phase.system}".`;
+  if (!CENTERINGS.includes(phase.centering)) return `unknown lattice centering "${phase.centering}".`;
+  return checkCellForSystem(phase.system, phase.cell) ?? checkCentering(phase.system, phase.centering);
 }
 
 /** Runs the check on a parsed scan. Throws a RangeError with a sentence when the options are unusable. */
@@ -245,7 +290,6 @@ export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOption
   const stray = strayLines(options.radiation);
   const strayOptions = { wavelength, kAlpha2: lines[1] ? { wavelength: lines[1].wavelength, weight: lines[1].weight } : undefined };
   const strayBefore = matchStrayLines(observed, stray, strayOptions);
-  const excluded = new Set(strayBefore.keys());
 
   let system = options.system ?? (options.cell ? inferSystem(options.cell) : null);
   if (options.cell && !options.system) warnings.push(`No crystal system was given; the declared cell's shape suggests ${system}.`);
@@ -254,35 +298,44 @@ export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOption
     centering = "P";
     warnings.push("No lattice centering was given; P (primitive) was assumed, so extra reflections are allowed.");
   }
-  let refinement: Refinement | null = null;
+  const ctx: CheckContext = {
+    observed,
+    fitted,
+    stray,
+    strayOptions,
+    wavelength,
+    twoThetaMax,
+    twoThetaMin: scan.twoTheta[0],
+    correctionRequested,
+    radius,
+    holder,
+    options,
+  };
+  let outcome: Outcome;
+  let candidates: Outcome[] | null = null;
   let cubicIndexing: CubicIndexing | null = null;
-  let sampleIndices: number[] = [];
-  const extraReasons: string[] = [];
-  const refineOn = (indices: number[], start: Cell, sys: CrystalSystem, cen: Centering, extra: Partial<RefineOptions> = {}) =>
-    refineCell(
-      indices.map((i) => observed[i]),
-      {
-        wavelength,
-        system: sys,
-        centering: cen,
-        start,
-        correction: correctionRequested,
-        transparency: options.transparency,
-        goniometerRadiusMm: radius,
-        twoThetaMax,
-        ...extra,
-      },
-    );
+  const expected = options.cell ? (options.phases ?? []) : [];
+  if (options.phases?.length && !options.cell) warnings.push("Further expected phases are used only with a declared main cell; they were not looked for.");
   if (fitted.length > 0 && options.cell && system && centering) {
-    sampleIndices = observed.map((_, i) => i).filter((i) => !excluded.has(i));
-    refinement = refineOn(sampleIndices, options.cell, system, centering);
+    const main: DeclaredPhase = { name: options.mainName ?? null, system, centering, cell: options.cell };
+    const hypotheses = [main, ...(options.candidates ?? [])];
+    const outcomes = hypotheses.map((h) => evaluate(ctx, strayBefore, h, expected));
+    const chosen = chooseCandidate(outcomes);
+    outcome = outcomes[chosen];
+    if (hypotheses.length > 1) {
+      candidates = outcomes;
+      outcome.extraReasons.unshift(candidateSentence(outcomes, chosen));
+    }
+    system = outcome.main!.system;
+    centering = outcome.main!.centering;
   } else if (fitted.length > 0 && (!system || system === "cubic")) {
     // Without a cell a holder's own (often cubic) lines could be indexed as the sample: left out too.
+    const excluded = new Set(strayBefore.keys());
     if (holder) {
-      const candidates = observed.map((_, i) => i).filter((i) => !excluded.has(i));
-      for (const i of matchHolderLines(observed, candidates, holder, { wavelength, twoThetaMax }).keys()) excluded.add(i);
+      const candidatePeaks = observed.map((_, i) => i).filter((i) => !excluded.has(i));
+      for (const i of matchHolderLines(observed, candidatePeaks, holder, { wavelength, twoThetaMax }).keys()) excluded.add(i);
     }
-    sampleIndices = observed.map((_, i) => i).filter((i) => !excluded.has(i));
+    const sampleIndices = observed.map((_, i) => i).filter((i) => !excluded.has(i));
     cubicIndexing = indexCubic(
       sampleIndices.map((i) => observed[i]),
       { wavelength, twoThetaMax },
@@ -291,125 +344,35 @@ export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOption
     if (best && !cubicIndexing.lowerSymmetryNeeded) {
       system = "cubic";
       centering = best.centering;
-      refinement = refineOn(sampleIndices, best.refinement.cell, system, centering, { searchRange: 0.002 });
+      const found: DeclaredPhase = { name: options.mainName ?? null, system, centering, cell: best.refinement.cell };
+      outcome = evaluate(ctx, strayBefore, found, [], { searchRange: 0.002, excluded, declared: null });
+    } else {
+      outcome = emptyOutcome(ctx);
     }
-    extraReasons.push(cubicIndexing.message);
-  } else if (fitted.length > 0) {
-    extraReasons.push(`No cell was declared; indexing from scratch is done only for cubic lattices, so a ${system} sample needs its cell declared.`);
-  }
-
-  // A peak left out as a stray line that the refined cell also explains goes back to the sample unless it
-  // is faint (the usual leak-through) and sits closer to the stray line's place than to the reflection's.
-  if (refinement && system && centering && excluded.size > 0) {
-    const strayAfter = matchStrayLines(observed, stray, { ...strayOptions, correction: refinement });
-    const reclaimed = [...excluded].filter((i) => {
-      const reflection = nearestReflection(observed[i].twoTheta, refinement!, wavelength);
-      if (reflection === null) return false;
-      const window = indexingWindow(observed[i]);
-      if (reflection.miss > window) return false;
-      const match = strayAfter.get(i);
-      return !match?.faint || match.distance > reflection.miss / window;
-    });
-    if (reclaimed.length > 0) {
-      for (const i of reclaimed) excluded.delete(i);
-      sampleIndices = observed.map((_, i) => i).filter((i) => !excluded.has(i));
-      refinement = refineOn(sampleIndices, refinement.cell, system, centering, { searchRange: 0.002, correction: refinement.correction });
+    outcome.extraReasons.push(cubicIndexing.message);
+  } else {
+    outcome = emptyOutcome(ctx);
+    if (fitted.length > 0) {
+      outcome.extraReasons.push(`No cell was declared; indexing from scratch is done only for cubic lattices, so a ${system} sample needs its cell declared.`);
     }
   }
 
-  const hklOf = new Map<number, Refinement["assignments"][number]>();
-  for (const a of refinement?.assignments ?? []) hklOf.set(sampleIndices[a.peak], a);
-  // The labels, with the refined corrections when there are any: every peak the cell does not index.
-  const correction = refinement && refinement.used > 0 ? refinement : undefined;
-  const notIndexed = observed.map((_, i) => i).filter((i) => !hklOf.has(i));
-  const strayFinal = matchStrayLines(observed, stray, { ...strayOptions, correction });
-  const foreignOf = new Map<number, StrayMatch | HolderMatch>();
-  for (const i of notIndexed) {
-    const m = strayFinal.get(i);
-    if (m) foreignOf.set(i, m);
-  }
-  if (holder) {
-    const candidates = notIndexed.filter((i) => !foreignOf.has(i));
-    for (const [i, m] of matchHolderLines(observed, candidates, holder, { wavelength, twoThetaMax, correction })) foreignOf.set(i, m);
-  }
-
-  const strongestArea = Math.max(0, ...fitted.map((p) => p.area));
-  const peaks: CheckedPeak[] = fitted.map((p, i) => checkedPeak(p, hklOf.get(i), strongestArea, wavelength, options.instrumentProfile));
-  peaks.forEach((p, i) => {
-    const m = foreignOf.get(i);
-    if (!m) return;
-    p.origin = m.origin;
-    p.foreign =
-      m.origin === "holder"
-        ? { origin: "holder", line: m.phase, parentPeak: null, parentHkl: null, ratioToParent: null, holderHkl: m.hkl, expectedTwoTheta: m.expectedTwoTheta }
-        : {
-            origin: m.origin,
-            line: m.label,
-            parentPeak: m.parent,
-            parentHkl: peaks[m.parent].hkl,
-            ratioToParent: m.ratio,
-            holderHkl: null,
-            expectedTwoTheta: m.expectedTwoTheta,
-          };
-  });
-  const foreignPeaks = {
-    kbeta: peaks.filter((p) => p.origin === "kbeta").length,
-    tungstenL: peaks.filter((p) => p.origin === "tungsten_l").length,
-    holder: peaks.filter((p) => p.origin === "holder").length,
-  };
-  if (foreignPeaks.kbeta + foreignPeaks.tungstenL + foreignPeaks.holder > 0) {
-    const parts = [
-      foreignPeaks.kbeta ? `${foreignPeaks.kbeta} Kβ` : "",
-      foreignPeaks.tungstenL ? `${foreignPeaks.tungstenL} tungsten L` : "",
-      foreignPeaks.holder ? `${foreignPeaks.holder} sample holder` : "",
-    ].filter(Boolean);
-    extraReasons.push(`Peaks labelled as lines that are not the sample's and left out of the indexing: ${parts.join(", ")}.`);
-  }
-
-  const sampleObserved = sampleIndices.map((i) => observed[i]);
-  const {
-    lines: meritLines,
-    calculatedQ,
-    calculatedTwoTheta,
-  } = refinement ? figuresOfMeritLines(sampleObserved, refinement, wavelength) : { lines: [], calculatedQ: [], calculatedTwoTheta: [] };
-  const m20 = deWolffM20(meritLines, calculatedQ);
-  const fn = smithSnyderFN(meritLines, calculatedTwoTheta);
-  const refined = refinement !== null && refinement.used > 0 && refinement.dof >= 0 && refinement.assignments.some((a) => a.used);
-  const samplePeaks = peaks.filter((p) => !p.foreign);
-  const unindexed = samplePeaks.filter((p) => p.hkl === null);
-  const byIntensity = [...samplePeaks].sort((a, b) => b.intensity - a.intensity);
+  const { refinement, peaks, foreignPeaks, decision, m20, fn } = outcome;
+  const refined = outcome.refined;
   const cell = refined ? refinement!.cell : null;
-  const declared = options.cell ?? null;
-  const decision = decideVerdict({
-    refined,
-    strongest: byIntensity.map((p) => ({ indexed: p.hkl !== null, relativeIntensity: p.relativeIntensity / 100, twoTheta: p.twoTheta })),
-    unindexed: unindexed.map((p) => ({ twoTheta: p.twoTheta, relativeIntensity: p.relativeIntensity / 100 })),
-    m20: m20 ? m20.value : null,
-    meanMissInFwhm: fn ? fn.meanDelta / median(peaks.filter((p) => p.hkl !== null).map((p) => p.fwhm)) : null,
-    declared,
-    refinedCell: cell,
-    esd: refined ? refinement!.esd : null,
-  });
+  const declared = outcome.declared;
   if (refinement) warnings.push(...refinement.warnings);
   if (peaks.length > 0 && !options.instrumentProfile) warnings.push(SCHERRER_CAUTION);
-  const reflections: TickMark[] = refined
-    ? refinement!.reflections
-        .map((r) => ({
-          h: r.h,
-          k: r.k,
-          l: r.l,
-          d: r.d,
-          multiplicity: r.multiplicity,
-          twoTheta: observedPosition(r.d, wavelength, refinement!),
-        }))
-        .filter((t) => t.twoTheta >= scan.twoTheta[0] && t.twoTheta <= twoThetaMax)
-        .sort((x, y) => x.twoTheta - y.twoTheta)
-    : [];
+  const reflections: TickMark[] = refined ? ticksOf(refinement!, wavelength, scan.twoTheta[0], twoThetaMax) : [];
+  const phases = outcome.fits.map((f) => phaseResult(f, wavelength, scan.twoTheta[0], twoThetaMax));
+  const mainPhase = phases[0];
+  if (mainPhase && outcome.main) mainPhase.name = outcome.main.name ?? null;
+  const windowResult = judgeWindow(options.window, declared, cell, refined ? refinement!.esd : null);
   const t = options.transparency;
   const transparency = t && "refine" in t ? "refined" : t && "linearAttenuationPerCm" in t ? "fixed" : "none";
   return {
     verdict: decision.verdict,
-    reasons: [...decision.reasons, ...extraReasons],
+    reasons: [...decision.reasons, ...outcome.extraReasons],
     system,
     centering,
     declaredCell: declared,
@@ -430,7 +393,12 @@ export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOption
     foreignPeaks,
     deviation: cell && declared ? cellDeviation(cell, declared) : null,
     peaks,
-    unindexed,
+    unindexed: outcome.unindexed,
+    phases,
+    candidates: candidates ? candidates.map((o) => candidateResult(o, o === outcome)) : null,
+    window: windowResult,
+    withinWindow: windowResult.withinWindow,
+    wholePattern: null,
     figuresOfMerit: {
       M20: m20 ? m20.value : null,
       M20Lines: m20 ? m20.lines : 0,
@@ -459,12 +427,352 @@ export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOption
     observed: scan.intensity,
     background: analysis.background,
     fittedProfile: analysis.fittedProfile,
+    calculatedProfile: null,
     wavelength,
     scanFormat: scan.format ?? "xy",
     scanFormatLabel: scan.formatLabel ?? scan.format ?? "xy",
     metadata: scan.metadata ?? {},
     warnings,
     elapsedMs: performance.now() - started,
+  };
+}
+
+interface CheckContext {
+  observed: ObservedPeak[];
+  fitted: FittedPeak[];
+  stray: ReturnType<typeof strayLines>;
+  strayOptions: { wavelength: number; kAlpha2?: { wavelength: number; weight: number } };
+  wavelength: number;
+  twoThetaMin: number;
+  twoThetaMax: number;
+  correctionRequested: CorrectionKind;
+  radius: number;
+  holder: SampleHolder | null;
+  options: LatticeCheckOptions;
+}
+
+/** One hypothesis checked: a main phase (a candidate, the declaration, or the cubic indexing's cell) with the expected phases. */
+interface Outcome {
+  main: DeclaredPhase | null;
+  declared: Cell | null;
+  fits: PhaseFit[];
+  refinement: Refinement | null;
+  refined: boolean;
+  peaks: CheckedPeak[];
+  unindexed: CheckedPeak[];
+  foreignPeaks: LatticeCheckResult["foreignPeaks"];
+  decision: VerdictResult;
+  m20: ReturnType<typeof deWolffM20>;
+  fn: ReturnType<typeof smithSnyderFN>;
+  strongIndexed: number;
+  strongCount: number;
+  extraReasons: string[];
+}
+
+const STRONG_PEAKS = 10;
+
+/**
+ * Indexes and refines one hypothesis: the main phase on every peak that is not a tube line, stray lines the
+ * refined cell explains taken back, the expected phases beside it (mixture.ts), then the labels of the peaks
+ * no phase explains (tube and holder lines) and the verdict.
+ */
+function evaluate(
+  ctx: CheckContext,
+  strayBefore: Map<number, StrayMatch>,
+  main: DeclaredPhase,
+  expected: readonly DeclaredPhase[],
+  { searchRange, excluded: given, declared = main.cell }: { searchRange?: number; excluded?: Set<number>; declared?: Cell | null } = {},
+): Outcome {
+  const { observed, wavelength, twoThetaMax, radius, options } = ctx;
+  const excluded = new Set(given ?? strayBefore.keys());
+  const base = { transparency: options.transparency, goniometerRadiusMm: radius };
+  const refineOn = (indices: number[], start: Cell, extra: Partial<RefineOptions> = {}) =>
+    refineCell(
+      indices.map((i) => observed[i]),
+      {
+        ...base,
+        wavelength,
+        system: main.system,
+        centering: main.centering,
+        start,
+        correction: ctx.correctionRequested,
+        twoThetaMax,
+        ...(searchRange ? { searchRange } : {}),
+        ...extra,
+      },
+    );
+  let sampleIndices = observed.map((_, i) => i).filter((i) => !excluded.has(i));
+  let refinement = refineOn(sampleIndices, main.cell);
+  // A peak left out as a stray line that the refined cell also explains goes back to the sample unless it
+  // is faint (the usual leak-through) and sits closer to the stray line's place than to the reflection's.
+  if (excluded.size > 0) {
+    const strayAfter = matchStrayLines(observed, ctx.stray, { ...ctx.strayOptions, correction: refinement });
+    const reclaimed = [...excluded].filter((i) => {
+      if (!strayBefore.has(i)) return false;
+      const reflection = nearestReflection(observed[i].twoTheta, refinement, wavelength);
+      if (reflection === null) return false;
+      const window = indexingWindow(observed[i]);
+      if (reflection.miss > window) return false;
+      const match = strayAfter.get(i);
+      return !match?.faint || match.distance > reflection.miss / window;
+    });
+    if (reclaimed.length > 0) {
+      for (const i of reclaimed) excluded.delete(i);
+      sampleIndices = observed.map((_, i) => i).filter((i) => !excluded.has(i));
+      refinement = refineOn(sampleIndices, refinement.cell, { searchRange: 0.002, correction: refinement.correction });
+    }
+  }
+  const fits = fitPhases({ observed, excluded, wavelength, twoThetaMax, correction: ctx.correctionRequested, base }, main, expected, refinement);
+  const mainFit = fits[0];
+  refinement = mainFit.refinement ?? refinement;
+  const mainIndices = mainFit.attributed;
+  const hklOf = new Map<number, { assignment: Refinement["assignments"][number]; phase: number }>();
+  fits.forEach((f, j) => {
+    if (!f.present && j > 0) return;
+    for (const [i, a] of f.explained) if (!hklOf.has(i)) hklOf.set(i, { assignment: a, phase: j });
+  });
+
+  // The labels, with the refined corrections when there are any: every peak no phase indexes.
+  const correction = refinement && refinement.used > 0 ? refinement : undefined;
+  const notIndexed = observed.map((_, i) => i).filter((i) => !hklOf.has(i));
+  const strayFinal = matchStrayLines(observed, ctx.stray, { ...ctx.strayOptions, correction });
+  const foreignOf = new Map<number, StrayMatch | HolderMatch>();
+  for (const i of notIndexed) {
+    const m = strayFinal.get(i);
+    if (m) foreignOf.set(i, m);
+  }
+  if (ctx.holder) {
+    const candidates = notIndexed.filter((i) => !foreignOf.has(i));
+    for (const [i, m] of matchHolderLines(observed, candidates, ctx.holder, { wavelength, twoThetaMax, correction })) foreignOf.set(i, m);
+  }
+  const strongestArea = Math.max(0, ...ctx.fitted.map((p) => p.area));
+  const peaks: CheckedPeak[] = ctx.fitted.map((p, i) => {
+    const h = hklOf.get(i);
+    const peak = checkedPeak(p, h?.assignment, strongestArea, wavelength, options.instrumentProfile);
+    peak.phase = h ? h.phase : null;
+    return peak;
+  });
+  const foreignPeaks = labelForeign(peaks, foreignOf);
+  const extraReasons: string[] = [];
+  if (foreignPeaks.kbeta + foreignPeaks.tungstenL + foreignPeaks.holder > 0) {
+    const parts = [
+      foreignPeaks.kbeta ? `${foreignPeaks.kbeta} Kβ` : "",
+      foreignPeaks.tungstenL ? `${foreignPeaks.tungstenL} tungsten L` : "",
+      foreignPeaks.holder ? `${foreignPeaks.holder} sample holder` : "",
+    ].filter(Boolean);
+    extraReasons.push(`Peaks labelled as lines that are not the sample's and left out of the indexing: ${parts.join(", ")}.`);
+  }
+  for (const f of fits.slice(1)) {
+    const name = phaseName(f.phase, "An expected phase");
+    extraReasons.push(f.present ? `${name} is present: ${f.reasons.join(" ")}` : `${name} was not found: ${f.reasons.join(" ")}`);
+  }
+
+  const mainObserved = mainIndices.map((i) => observed[i]);
+  const {
+    lines: meritLines,
+    calculatedQ,
+    calculatedTwoTheta,
+  } = refinement ? figuresOfMeritLines(mainObserved, refinement, wavelength) : { lines: [], calculatedQ: [], calculatedTwoTheta: [] };
+  const m20 = deWolffM20(meritLines, calculatedQ);
+  const fn = smithSnyderFN(meritLines, calculatedTwoTheta);
+  const refined = refinement !== null && refinement.used > 0 && refinement.dof >= 0 && refinement.assignments.some((a) => a.used);
+  const samplePeaks = peaks.filter((p) => !p.foreign);
+  const unindexed = samplePeaks.filter((p) => p.hkl === null);
+  const byIntensity = [...samplePeaks].sort((a, b) => b.intensity - a.intensity);
+  const others = fits.slice(1).filter((f) => f.present);
+  const decision = decideVerdict({
+    refined,
+    strongest: byIntensity.map((p) => ({ indexed: p.hkl !== null, byMain: p.phase === 0, relativeIntensity: p.relativeIntensity / 100, twoTheta: p.twoTheta })),
+    unindexed: unindexed.map((p) => ({ twoTheta: p.twoTheta, relativeIntensity: p.relativeIntensity / 100 })),
+    m20: m20 ? m20.value : null,
+    meanMissInFwhm: fn ? fn.meanDelta / median(peaks.filter((p) => p.phase === 0).map((p) => p.fwhm)) : null,
+    declared,
+    refinedCell: refined ? refinement!.cell : null,
+    esd: refined ? refinement!.esd : null,
+    otherPhases: others.map((f) => phaseName(f.phase, "an expected phase")),
+  });
+  const strong = byIntensity.slice(0, STRONG_PEAKS);
+  return {
+    main,
+    declared,
+    fits,
+    refinement,
+    refined,
+    peaks,
+    unindexed,
+    foreignPeaks,
+    decision,
+    m20,
+    fn,
+    strongIndexed: strong.filter((p) => p.hkl !== null).length,
+    strongCount: strong.length,
+    extraReasons,
+  };
+}
+
+/** A scan whose main phase could not be indexed at all (no declaration, no cubic cell): every peak labelled as far as it can be. */
+function emptyOutcome(ctx: CheckContext): Outcome {
+  const strongestArea = Math.max(0, ...ctx.fitted.map((p) => p.area));
+  const strayFinal = matchStrayLines(ctx.observed, ctx.stray, ctx.strayOptions);
+  const peaks = ctx.fitted.map((p) => checkedPeak(p, undefined, strongestArea, ctx.wavelength, ctx.options.instrumentProfile));
+  const foreignOf = new Map<number, StrayMatch | HolderMatch>(strayFinal);
+  if (ctx.holder) {
+    const candidates = peaks.map((_, i) => i).filter((i) => !foreignOf.has(i));
+    for (const [i, m] of matchHolderLines(ctx.observed, candidates, ctx.holder, { wavelength: ctx.wavelength, twoThetaMax: ctx.twoThetaMax }))
+      foreignOf.set(i, m);
+  }
+  const foreignPeaks = labelForeign(peaks, foreignOf);
+  const samplePeaks = peaks.filter((p) => !p.foreign);
+  const byIntensity = [...samplePeaks].sort((a, b) => b.intensity - a.intensity);
+  const decision = decideVerdict({
+    refined: false,
+    strongest: byIntensity.map((p) => ({ indexed: false, relativeIntensity: p.relativeIntensity / 100, twoTheta: p.twoTheta })),
+    unindexed: samplePeaks.map((p) => ({ twoTheta: p.twoTheta, relativeIntensity: p.relativeIntensity / 100 })),
+    m20: null,
+    meanMissInFwhm: null,
+    declared: ctx.options.cell ?? null,
+    refinedCell: null,
+    esd: null,
+  });
+  return {
+    main: null,
+    declared: ctx.options.cell ?? null,
+    fits: [],
+    refinement: null,
+    refined: false,
+    peaks,
+    unindexed: samplePeaks,
+    foreignPeaks,
+    decision,
+    m20: null,
+    fn: null,
+    strongIndexed: 0,
+    strongCount: Math.min(STRONG_PEAKS, samplePeaks.length),
+    extraReasons: [],
+  };
+}
+
+/** Labels the peaks that are not the sample's (a stray tube line of another peak, a holder line) and counts them. */
+function labelForeign(peaks: CheckedPeak[], foreignOf: Map<number, StrayMatch | HolderMatch>): LatticeCheckResult["foreignPeaks"] {
+  peaks.forEach((p, i) => {
+    const m = foreignOf.get(i);
+    if (!m) return;
+    p.origin = m.origin;
+    p.foreign =
+      m.origin === "holder"
+        ? { origin: "holder", line: m.phase, parentPeak: null, parentHkl: null, ratioToParent: null, holderHkl: m.hkl, expectedTwoTheta: m.expectedTwoTheta }
+        : {
+            origin: m.origin,
+            line: m.label,
+            parentPeak: m.parent,
+            parentHkl: peaks[m.parent].hkl,
+            ratioToParent: m.ratio,
+            holderHkl: null,
+            expectedTwoTheta: m.expectedTwoTheta,
+          };
+  });
+  return {
+    kbeta: peaks.filter((p) => p.origin === "kbeta").length,
+    tungstenL: peaks.filter((p) => p.origin === "tungsten_l").length,
+    holder: peaks.filter((p) => p.origin === "holder").length,
+  };
+}
+
+const VERDICT_RANK: Record<Verdict, number> = { consistent: 2, review: 1, inconsistent: 0 };
+
+/**
+ * The candidate that explains the scan: the best verdict, then the larger share of the strongest peaks
+ * explained, then the cell that moved less from its declaration (two forms with the same lattice type and
+ * cells within the indexing window index the same lines; the declaration nearer the refined cell is the one
+ * the scan is), then the higher M20 (docs/decisions/012-phases-and-window.md).
+ */
+function chooseCandidate(outcomes: Outcome[]): number {
+  let best = 0;
+  const key = (o: Outcome) => [
+    VERDICT_RANK[o.decision.verdict],
+    o.strongCount ? o.strongIndexed / o.strongCount : 0,
+    -movedFromDeclaration(o),
+    o.m20?.value ?? 0,
+  ];
+  for (let i = 1; i < outcomes.length; i++) {
+    const a = key(outcomes[i]);
+    const b = key(outcomes[best]);
+    const better = a[0] !== b[0] ? a[0] > b[0] : a[1] !== b[1] ? a[1] > b[1] : Math.abs(a[2] - b[2]) > CANDIDATE_MOVE_DIFFERENCE ? a[2] > b[2] : a[3] > b[3];
+    if (better) best = i;
+  }
+  return best;
+}
+
+/** Candidates whose cells moved by amounts closer than this (relative) are told apart by M20 instead (own choice). */
+const CANDIDATE_MOVE_DIFFERENCE = 1e-3;
+
+/** The largest relative change of a cell length (or angle over 90°) from the declaration; Infinity when not refined. */
+function movedFromDeclaration(o: Outcome): number {
+  if (!o.refined || !o.refinement || !o.main) return Number.POSITIVE_INFINITY;
+  const { cell } = o.refinement;
+  const declared = o.main.cell;
+  return Math.max(
+    ...(["a", "b", "c"] as const).map((k) => Math.abs(cell[k] - declared[k]) / declared[k]),
+    ...(["alpha", "beta", "gamma"] as const).map((k) => Math.abs(cell[k] - declared[k]) / 90),
+  );
+}
+
+function phaseName(phase: DeclaredPhase, fallback: string): string {
+  return phase.name?.trim() ? phase.name.trim() : fallback;
+}
+
+function candidateSentence(outcomes: Outcome[], chosen: number): string {
+  const o = outcomes[chosen];
+  const name = phaseName(o.main!, chosen === 0 ? "The main declaration" : `Candidate ${chosen + 1}`);
+  const others = outcomes
+    .filter((_, i) => i !== chosen)
+    .map((x) => `${phaseName(x.main!, "another candidate")}: ${x.strongIndexed} of ${x.strongCount}, ${x.decision.verdict}`)
+    .join("; ");
+  return `${name} explains the scan best (${o.strongIndexed} of the ${o.strongCount} strongest peaks, M20 ${o.m20 ? o.m20.value.toFixed(1) : "not defined"}); ${others}.`;
+}
+
+function candidateResult(o: Outcome, chosen: boolean): CandidateResult {
+  const r = o.refined ? o.refinement! : null;
+  return {
+    name: o.main?.name ?? null,
+    system: o.main!.system,
+    centering: o.main!.centering,
+    cell: o.main!.cell,
+    refinedCell: r ? r.cell : null,
+    esd: r ? r.esd : null,
+    verdict: o.decision.verdict,
+    strongIndexed: o.strongIndexed,
+    strongCount: o.strongCount,
+    M20: o.m20 ? o.m20.value : null,
+    Rwp: null,
+    chosen,
+  };
+}
+
+function ticksOf(refinement: Refinement, wavelength: number, twoThetaMin: number, twoThetaMax: number): TickMark[] {
+  return refinement.reflections
+    .map((r) => ({ h: r.h, k: r.k, l: r.l, d: r.d, multiplicity: r.multiplicity, twoTheta: observedPosition(r.d, wavelength, refinement) }))
+    .filter((t) => t.twoTheta >= twoThetaMin && t.twoTheta <= twoThetaMax)
+    .sort((x, y) => x.twoTheta - y.twoTheta);
+}
+
+function phaseResult(f: PhaseFit, wavelength: number, twoThetaMin: number, twoThetaMax: number): PhaseResult {
+  const r = f.refinement;
+  const refined = f.present && r !== null && r.used > 0 && r.dof >= 0;
+  return {
+    role: f.role,
+    name: f.phase.name ?? null,
+    system: f.phase.system,
+    centering: f.phase.centering,
+    declaredCell: f.phase.cell,
+    cell: refined ? r!.cell : null,
+    esd: refined ? r!.esd : null,
+    fixed: fixedCellParameters(f.phase.system),
+    present: f.present,
+    peaks: f.present ? f.explained.size : 0,
+    M20: f.present ? f.m20 : null,
+    reasons: f.reasons,
+    reflections: refined ? ticksOf(r!, wavelength, twoThetaMin, twoThetaMax) : [],
   };
 }
 

@@ -4,6 +4,7 @@ import type { Cell, Centering, CheckedPeak, CrystalSystem, LatticeCheckResult, R
 import type { Verdict } from "~/diffraction/verdict";
 import type { ScanMetadata } from "~/diffraction/readers/types";
 import type { InstrumentProfile } from "~/diffraction/scherrer";
+import { fixedCellParameters } from "~/diffraction/window";
 import type { RadiationSource } from "./measurement";
 
 export interface StoredProfile {
@@ -13,7 +14,10 @@ export interface StoredProfile {
   twoTheta: number[];
   observed: number[];
   background: number[];
+  /** The sum of the freely fitted single peaks and the background (not a whole-pattern fit). */
   fitted: number[];
+  /** The whole-pattern fit's calculated curve with the background; null or absent when no fit was made. */
+  calculated?: number[] | null;
 }
 
 /**
@@ -23,8 +27,10 @@ export interface StoredProfile {
  * result lacks them and reads through `readStoredResult`, which fills them in as a version 1 check meant them
  * (every peak the sample's, no correlation, no transparency). The fields added with the scan readers (format,
  * metadata, where the radiation came from, holder, instrument profile) are optional for the same reason.
+ * Version 3 added the declared phases, the candidate forms, the acceptance window and the whole-pattern fit;
+ * an older result reads as one main phase, no candidates, no window set and no whole-pattern fit.
  */
-export const STORED_RESULT_VERSION = 2;
+export const STORED_RESULT_VERSION = 3;
 
 /** Fields a version 1 result does not have. */
 type AddedInVersion2 =
@@ -36,12 +42,25 @@ type AddedInVersion2 =
   | "goniometerRadiusMm"
   | "foreignPeaks";
 
+/** Fields a version 1 or 2 result does not have. */
+type AddedInVersion3 = "phases" | "candidates" | "window" | "withinWindow" | "wholePattern";
+
 export type StoredCheckResult = Omit<
   LatticeCheckResult,
-  "twoTheta" | "observed" | "background" | "fittedProfile" | "unindexed" | "scanFormat" | "scanFormatLabel" | "metadata" | AddedInVersion2
+  | "twoTheta"
+  | "observed"
+  | "background"
+  | "fittedProfile"
+  | "calculatedProfile"
+  | "unindexed"
+  | "scanFormat"
+  | "scanFormatLabel"
+  | "metadata"
+  | AddedInVersion2
+  | AddedInVersion3
 > &
-  Partial<Pick<LatticeCheckResult, AddedInVersion2>> & {
-    version: 1 | 2;
+  Partial<Pick<LatticeCheckResult, AddedInVersion2 | AddedInVersion3>> & {
+    version: 1 | 2 | 3;
     radiation: Radiation;
     /** Where the declared cell and the radiation came from. */
     declaredFrom: { sampleLabel: string | null; expectedPhase: string | null; instrumentName: string | null };
@@ -126,7 +145,7 @@ export function foreignMarks(peaks: readonly Pick<CheckedPeak, "twoTheta" | "ori
  * refined together and the peak labels) reads as its check meant it — every peak the sample's, the correction
  * it names refined alone, no transparency. Newer fields already present are kept.
  */
-export function readStoredResult(raw: unknown): StoredCheckResult & Pick<LatticeCheckResult, AddedInVersion2> {
+export function readStoredResult(raw: unknown): StoredCheckResult & Pick<LatticeCheckResult, AddedInVersion2 | AddedInVersion3> {
   const r = raw as StoredCheckResult;
   const peaks = (r.peaks ?? []).map((p) => ({ ...p, origin: p.origin ?? "sample", foreign: p.foreign ?? null, fwhmEsd: p.fwhmEsd ?? null }));
   const count = (origin: string) => peaks.filter((p) => p.origin === origin).length;
@@ -140,7 +159,34 @@ export function readStoredResult(raw: unknown): StoredCheckResult & Pick<Lattice
     penetrationMmEsd: r.penetrationMmEsd ?? null,
     goniometerRadiusMm: r.goniometerRadiusMm ?? 240,
     foreignPeaks: r.foreignPeaks ?? { kbeta: count("kbeta"), tungstenL: count("tungsten_l"), holder: count("holder") },
+    phases: r.phases ?? singlePhase(r),
+    candidates: r.candidates ?? null,
+    window: r.window ?? { withinWindow: null, parameters: [] },
+    withinWindow: r.withinWindow ?? null,
+    wholePattern: r.wholePattern ?? null,
   };
+}
+
+/** An older result's one phase: the declared (or indexed) main phase, with the top-level cell and ticks. */
+function singlePhase(r: StoredCheckResult): LatticeCheckResult["phases"] {
+  if (!r.system || !r.centering || !(r.declaredCell ?? r.cell)) return [];
+  return [
+    {
+      role: "main",
+      name: r.declaredFrom?.expectedPhase ?? null,
+      system: r.system,
+      centering: r.centering,
+      declaredCell: (r.declaredCell ?? r.cell)!,
+      cell: r.cell,
+      esd: r.esd,
+      fixed: fixedCellParameters(r.system),
+      present: r.cell !== null,
+      peaks: r.peaks.filter((p) => p.hkl !== null).length,
+      M20: r.figuresOfMerit?.M20 ?? null,
+      reasons: [],
+      reflections: r.reflections ?? [],
+    },
+  ];
 }
 
 /**

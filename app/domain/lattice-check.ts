@@ -180,6 +180,7 @@ function storedProfile(result: LatticeCheckResult, maxPoints: number): StoredPro
     observed: pick(result.observed, 2),
     background: pick(result.background, 2),
     fitted: pick(result.fittedProfile, 2),
+    calculated: result.calculatedProfile ? pick(result.calculatedProfile, 2) : null,
   };
 }
 
@@ -191,7 +192,7 @@ function finitePeak(p: CheckedPeak): CheckedPeak {
 }
 
 function toStoredResult(result: LatticeCheckResult, context: CheckInput, choice: RadiationChoice, read: ScanRead, maxPoints: number): StoredCheckResult {
-  const { twoTheta: _t, observed: _o, background: _b, fittedProfile: _f, unindexed: _u, ...rest } = result;
+  const { twoTheta: _t, observed: _o, background: _b, fittedProfile: _f, calculatedProfile: _c, unindexed: _u, ...rest } = result;
   const stored: StoredCheckResult = {
     ...rest,
     version: STORED_RESULT_VERSION,
