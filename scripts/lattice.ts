@@ -11,11 +11,12 @@ import { readFileSync, statSync } from "node:fs";
 import { type Cell, type Centering, type CrystalSystem, CENTERINGS, CRYSTAL_SYSTEMS } from "../app/diffraction/cell";
 import { checkOptionsProblem, checkScanFile, type LatticeCheckOptions, type LatticeCheckResult } from "../app/diffraction/check";
 import { DEFAULT_MAX_BYTES, parseScan, type ScanMetadata } from "../app/diffraction/parse-scan";
+import type { AcceptanceWindow, DeclaredPhase } from "../app/diffraction/phases";
 import type { CorrectionKind } from "../app/diffraction/refine";
 import { ANODE_LINES, ANODES, type Monochromation, type Radiation } from "../app/diffraction/wavelengths";
 
 const USAGE =
-  "usage: npm run -s lattice -- FILE… [--source Cu|Co|Mo|Cr|Fe|Ag | --wavelength Å] [--monochromatic] [--system SYSTEM] [--centering P|I|F|A|B|C|R] [--cell a,b,c,alpha,beta,gamma] [--refine auto|zero_shift|displacement|zero_and_displacement] [--radius mm] [--transparency refine|μ/cm⁻¹] [--json]";
+  "usage: npm run -s lattice -- FILE… [--source Cu|Co|Mo|Cr|Fe|Ag | --wavelength Å] [--monochromatic] [--system SYSTEM] [--centering P|I|F|A|B|C|R] [--cell a,b,c,alpha,beta,gamma] [--refine auto|zero_shift|displacement|zero_and_displacement] [--radius mm] [--transparency refine|μ/cm⁻¹] [--phase SYSTEM/CENTERING/a,b,c,alpha,beta,gamma[/NAME]]… [--candidate SYSTEM/CENTERING/a,b,c,alpha,beta,gamma[/NAME]]… [--name MAIN_NAME] [--window a=0.002,c=0.3%] [--json]";
 
 class BadInput extends Error {}
 
@@ -32,11 +33,25 @@ interface Arguments {
 }
 
 const REFINE_CHOICES: readonly CorrectionKind[] = ["auto", "zero_shift", "displacement", "zero_and_displacement"];
-const VALUE_OPTIONS = new Set(["--source", "--wavelength", "--system", "--centering", "--cell", "--refine", "--radius", "--transparency"]);
+const VALUE_OPTIONS = new Set([
+  "--source",
+  "--wavelength",
+  "--system",
+  "--centering",
+  "--cell",
+  "--refine",
+  "--radius",
+  "--transparency",
+  "--name",
+  "--window",
+]);
+/** Options that may be given more than once (each a further expected phase, or a candidate form). */
+const REPEATED_OPTIONS = new Set(["--phase", "--candidate"]);
 const FLAG_OPTIONS = new Set(["--monochromatic", "--json"]);
 
 function parseArguments(argv: string[]): Arguments {
   const values = new Map<string, string>();
+  const repeated = new Map<string, string[]>();
   const flags = new Set<string>();
   const files: string[] = [];
   for (let i = 0; i < argv.length; i++) {
@@ -46,10 +61,11 @@ function parseArguments(argv: string[]): Arguments {
       const eq = arg.indexOf("=");
       const name = eq > 0 ? arg.slice(0, eq) : arg;
       if (FLAG_OPTIONS.has(name) && eq < 0) flags.add(name);
-      else if (VALUE_OPTIONS.has(name)) {
+      else if (VALUE_OPTIONS.has(name) || REPEATED_OPTIONS.has(name)) {
         const value = eq > 0 ? arg.slice(eq + 1) : argv[++i];
         if (value === undefined || (eq < 0 && value.startsWith("--"))) throw new BadInput(`The option ${name} needs a value.`);
-        values.set(name, value);
+        if (REPEATED_OPTIONS.has(name)) repeated.set(name, [...(repeated.get(name) ?? []), value]);
+        else values.set(name, value);
       } else throw new BadInput(`Unknown option ${arg}; ${USAGE}`);
     } else if (arg.startsWith("-") && arg.length > 1 && !/^-\d/.test(arg)) {
       throw new BadInput(`Unknown option ${arg}; ${USAGE}`);
@@ -107,6 +123,14 @@ function parseArguments(argv: string[]): Arguments {
     else if (mu > 0 && Number.isFinite(mu)) options.transparency = { linearAttenuationPerCm: mu };
     else throw new BadInput(`--transparency takes "refine" or the sample's linear attenuation coefficient in cm⁻¹ (a positive number); got "${transparency}".`);
   }
+  const name = values.get("--name");
+  if (name !== undefined) options.mainName = name;
+  const phases = (repeated.get("--phase") ?? []).map((text) => parsePhase(text, "--phase"));
+  if (phases.length > 0) options.phases = phases;
+  const candidates = (repeated.get("--candidate") ?? []).map((text) => parsePhase(text, "--candidate"));
+  if (candidates.length > 0) options.candidates = candidates;
+  const windowText = values.get("--window");
+  if (windowText !== undefined) options.window = parseWindow(windowText);
   // System, centering and cell are the same for every file: a contradiction among them is bad options, not a bad
   // file. The radiation stands in for itself when given (its problems were refused above).
   const problem = checkOptionsProblem({ ...options, radiation: radiation ?? { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" } });
@@ -122,6 +146,36 @@ function parseCell(text: string): Cell {
   }
   const [a, b, c, alpha, beta, gamma] = numbers;
   return { a, b, c, alpha, beta, gamma };
+}
+
+/** `SYSTEM/CENTERING/a,b,c,alpha,beta,gamma[/NAME]`: one declared phase. */
+function parsePhase(text: string, option: string): DeclaredPhase {
+  const [systemText, centeringText, cellText, ...nameParts] = text.split("/");
+  const system = systemText?.trim().toLowerCase() as CrystalSystem;
+  if (!CRYSTAL_SYSTEMS.includes(system)) {
+    throw new BadInput(`${option} takes SYSTEM/CENTERING/a,b,c,alpha,beta,gamma[/NAME]; "${systemText}" is not one of ${CRYSTAL_SYSTEMS.join(", ")}.`);
+  }
+  const centering = centeringText?.trim().toUpperCase() as Centering;
+  if (!CENTERINGS.includes(centering)) throw new BadInput(`${option}: unknown centering "${centeringText ?? ""}"; use one of ${CENTERINGS.join(", ")}.`);
+  if (cellText === undefined) throw new BadInput(`${option} takes SYSTEM/CENTERING/a,b,c,alpha,beta,gamma[/NAME]; the cell is missing in "${text}".`);
+  const name = nameParts.join("/").trim();
+  return { name: name || null, system, centering, cell: parseCell(cellText) };
+}
+
+const WINDOW_KEYS = ["a", "b", "c", "alpha", "beta", "gamma"] as const;
+
+/** `a=0.002,c=0.3%`: ± Å (degrees for angles) or ± % per cell parameter. */
+function parseWindow(text: string): AcceptanceWindow {
+  const window: AcceptanceWindow = {};
+  for (const part of text.split(",").map((p) => p.trim())) {
+    const m = /^(a|b|c|alpha|beta|gamma)\s*=\s*([0-9.eE+-]+)\s*(%?)$/.exec(part);
+    if (!m) throw new BadInput(`--window takes parameter=value pairs such as a=0.002,c=0.3% (Å or degrees, or %); got "${part}".`);
+    const key = m[1] as (typeof WINDOW_KEYS)[number];
+    const value = Number(m[2]);
+    if (!(value > 0 && Number.isFinite(value))) throw new BadInput(`--window: the window of ${key} must be a positive number; got "${m[2]}".`);
+    window[key] = { plusMinus: value, unit: m[3] === "%" ? "percent" : "absolute" };
+  }
+  return window;
 }
 
 /** The file's bytes, as a binary format needs them; the analysis decides what the bytes are. */
@@ -243,9 +297,28 @@ function toJson(result: LatticeCheckResult, elapsedMs: number) {
       delta: p.delta ?? null,
       usedInRefinement: p.usedInRefinement,
       crystalliteSizeNm: p.crystalliteSizeNm,
+      phase: p.phase ?? null,
       notSample: p.foreign ?? null,
     })),
     unindexed: result.unindexed.map((p) => ({ twoTheta: p.twoTheta, d: p.d, relativeIntensity: p.relativeIntensity })),
+    phases: result.phases.map((p) => ({
+      name: p.name,
+      role: p.role,
+      system: p.system,
+      centering: p.centering,
+      declaredCell: p.declaredCell,
+      cell: p.cell,
+      esd: p.esd,
+      fixed: p.fixed,
+      present: p.present,
+      peaks: p.peaks,
+      M20: p.M20,
+      reasons: p.reasons,
+    })),
+    candidates: result.candidates,
+    window: result.window.parameters,
+    withinWindow: result.withinWindow,
+    wholePattern: result.wholePattern,
     cubicIndexing: result.cubicIndexing,
     warnings: result.warnings,
     elapsedMs,
@@ -271,6 +344,31 @@ function toTable(result: LatticeCheckResult, elapsedMs: number): string {
     if (result.correction !== "displacement") out.push(`zero shift ${fixed(result.zeroShift, 4)}° 2θ (esd ${fixed(result.zeroShiftEsd, 4)})`);
     if (result.correction !== "zero_shift") out.push(`specimen displacement ${fixed(result.displacement, 4)} mm (esd ${fixed(result.displacementEsd, 4)})`);
   } else out.push("No refined cell.");
+  for (const p of result.phases.slice(1)) {
+    const cell = p.cell
+      ? WINDOW_KEYS.filter((k) => !p.fixed.includes(k))
+          .map((k) => `${k} ${fixed(p.cell![k], 5)}(${fixed(p.esd?.[k], 5)})`)
+          .join(" ")
+      : "";
+    out.push(`phase ${p.name ?? "(unnamed)"} (${p.system} ${p.centering}): ${p.present ? `present, ${p.peaks} peaks, ${cell}` : "not found"}`);
+  }
+  for (const c of result.candidates ?? []) {
+    out.push(
+      `candidate ${c.name ?? "(unnamed)"}: ${c.verdict}, ${c.strongIndexed} of ${c.strongCount} strongest peaks, M20 ${fixed(c.M20, 1)}${c.chosen ? "  ← chosen" : ""}`,
+    );
+  }
+  if (result.window.parameters.length > 0) {
+    out.push(`acceptance window: ${result.withinWindow === null ? "not judged" : result.withinWindow ? "within" : "outside"}`);
+    for (const w of result.window.parameters) {
+      out.push(
+        `  ${w.parameter} ${fixed(w.refined, 5)} in [${fixed(w.lower, 5)}, ${fixed(w.upper, 5)}], margin ${fixed(w.margin, 5)}${w.inside === false ? "  OUTSIDE" : ""}`,
+      );
+    }
+  }
+  if (result.wholePattern) {
+    const w = result.wholePattern;
+    out.push(`whole pattern: Rwp ${fixed(100 * w.Rwp, 2)} %, Rexp ${fixed(100 * w.Rexp, 2)} %, GoF ${fixed(w.GoF, 2)}`);
+  }
   const fom = result.figuresOfMerit;
   out.push(
     `M${fom.M20Lines} = ${fixed(fom.M20, 1)}   F${fom.FNLines} = ${fixed(fom.FN, 1)} (${fixed(fom.FNMeanDelta, 4)}°, ${fom.FNPossible ?? "—"})   peaks used ${result.peaksUsed}`,
@@ -278,7 +376,8 @@ function toTable(result: LatticeCheckResult, elapsedMs: number): string {
   out.push("");
   out.push("   2θ obs      d (Å)   I rel    FWHM    hkl          2θ calc     Δ2θ");
   for (const p of result.peaks) {
-    const hkl = p.hkl ? p.hkl.join(" ") : "unindexed";
+    const phaseName = p.phase ? ` ${result.phases[p.phase]?.name ?? `phase ${p.phase + 1}`}` : "";
+    const hkl = p.hkl ? `${p.hkl.join(" ")}${phaseName}` : p.foreign ? p.foreign.line : "unindexed";
     out.push(
       `${fixed(p.twoTheta, 4).padStart(9)} ${fixed(p.d, 5).padStart(10)} ${fixed(p.relativeIntensity, 1).padStart(7)} ${fixed(p.fwhm, 4).padStart(7)}    ${hkl.padEnd(12)} ${fixed(p.twoThetaCalc, 4).padStart(9)} ${fixed(p.delta, 4).padStart(8)}`,
     );

@@ -327,4 +327,76 @@ describe("lattice command line on measured files (tests/data/real/SOURCES.md)", 
     // profile model leave more than that, so within 5e-4 Å (0.012 %; common practice for a lab check).
     expect(Math.abs(out.cell.a - 4.156826)).toBeLessThan(5e-4);
   });
+
+  it("--phase, --candidate and --window: phases, candidates and the window's answer in the JSON line", () => {
+    // The real CPD round-robin sample 1g (corundum + fluorite + zincite; tests/data/real/SOURCES.md); cells rounded
+    // from the round robin's refinement (tests/diffraction/real-mixtures.cases.ts).
+    const r = lattice(
+      real("cpd-1g-corundum-fluorite-zincite-cu.prn"),
+      "--source",
+      "Cu",
+      "--system",
+      "cubic",
+      "--centering",
+      "F",
+      "--cell",
+      "5.4117,5.4117,5.4117,90,90,90",
+      "--name",
+      "ceria",
+      "--candidate",
+      "cubic/F/5.4626,5.4626,5.4626,90,90,90/fluorite",
+      "--phase",
+      "trigonal/R/4.758,4.758,12.989,90,90,120/corundum",
+      "--phase",
+      "hexagonal/P/3.249,3.249,5.205,90,90,120/zincite",
+      "--window",
+      "a=0.0005",
+      "--json",
+    );
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.phases.map((p: { name: string; present: boolean }) => [p.name, p.present])).toEqual([
+      ["fluorite", true],
+      ["corundum", true],
+      ["zincite", true],
+    ]);
+    expect(out.phases[1].system).toBe("trigonal");
+    expect(out.phases[1].esd.a).toBeGreaterThan(0);
+    expect(out.candidates.map((c: { name: string; chosen: boolean }) => [c.name, c.chosen])).toEqual([
+      ["ceria", false],
+      ["fluorite", true],
+    ]);
+    // The chosen fluorite's declared a = 5.4626 ± 0.0005 Å; the refined value is within that.
+    expect(out.withinWindow).toBe(true);
+    expect(out.window[0].parameter).toBe("a");
+    expect(out).toHaveProperty("wholePattern");
+  });
+
+  it("bad --phase, --candidate and --window values are one sentence and exit 2", () => {
+    const base = [
+      real("cpd-1g-corundum-fluorite-zincite-cu.prn"),
+      "--source",
+      "Cu",
+      "--cell",
+      "5.46,5.46,5.46,90,90,90",
+      "--system",
+      "cubic",
+      "--centering",
+      "F",
+    ];
+    const bad = [
+      ["--phase", "cubic/F/5.4"],
+      ["--phase", "cubical/F/5,5,5,90,90,90"],
+      ["--candidate", "hexagonal/P/3.2,3.3,5.2,90,90,120"],
+      ["--window", "a=-0.01"],
+      ["--window", "c=0.01"],
+      ["--window", "a:0.01"],
+    ];
+    for (const extra of bad) {
+      const r = lattice(...base, ...extra, "--json");
+      expect(r.code, extra.join(" ")).toBe(2);
+      expect(r.stdout).toBe("");
+      expect(r.stderr.trim().split("\n")).toHaveLength(1);
+    }
+  });
 });
