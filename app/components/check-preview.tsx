@@ -60,7 +60,7 @@ export function CheckPreview({ file, sample, instrument }: { file: File; sample:
   const [state, setState] = useState<PreviewState>({ kind: "reading" });
   const [mismatch, setMismatch] = useState<string | null>(null);
   // biome-ignore lint/correctness/useExhaustiveDependencies: keyed on the declared values, not the object identity, so a re-render with an equal sample does not re-run the check
-  const declared = useMemo(() => declaredCheckOptions(sample), [sample.system, sample.centering, JSON.stringify(sample.cell ?? null)]);
+  const declared = useMemo(() => declaredCheckOptions(sample), [JSON.stringify(sample)]);
   const instrumentKey = JSON.stringify(instrument);
 
   // biome-ignore lint/correctness/useExhaustiveDependencies: the instrument is compared by value through instrumentKey

@@ -1,5 +1,5 @@
-// The samples of an order with their declared phase and hazards, for the lab's order page and the packing slip.
-import type { Sample } from "~/db/schema";
+// The samples of an order with their declared phases, cell, acceptance window and hazards, for the lab's order page and the packing slip.
+import type { Sample, SamplePhase } from "~/db/schema";
 import { HazardDeclaration, SampleFacts } from "./request-parts";
 import { SafetyNotice } from "./ui";
 
@@ -9,7 +9,7 @@ export function OrderSamples({
   sds,
 }: {
   sds?: Record<string, string>;
-  samples: Pick<
+  samples: (Pick<
     Sample,
     | "id"
     | "label"
@@ -25,13 +25,14 @@ export function OrderSamples({
     | "cellAlpha"
     | "cellBeta"
     | "cellGamma"
+    | "acceptanceWindow"
     | "ghsPictograms"
     | "hStatements"
     | "specialHazards"
     | "handlingNotes"
     | "afterMeasurement"
     | "sdsFileName"
-  >[];
+  > & { phases: SamplePhase[] })[];
 }) {
   const anyHazard = samples.some((s) => s.ghsPictograms.length || s.hStatements.length || s.specialHazards.length);
   return (

@@ -1,10 +1,13 @@
-// Pieces of the request screens: the wizard's step bar, state badges, a sample's cell and its hazard declaration.
+// Pieces of the request screens: the wizard's step bar, state badges, a sample's declared phases, cell and window,
+// and its hazard declaration.
 import { Link } from "react-router";
 import { GhsIcon } from "~/components/ghs-icon";
 import { Badge } from "~/components/ui";
 import { GHS_CODES, type GhsCode } from "~/domain/hazard-codes";
 import { specialLabel } from "~/domain/hazards";
 import { WIZARD_STEPS, type WizardStep } from "~/domain/request-forms";
+import type { AcceptanceWindow } from "~/diffraction/phases";
+import { windowWords } from "~/diffraction/window";
 import { useFormat } from "~/components/locale";
 
 /** The five steps; steps up to the furthest one reached are links. */
@@ -68,7 +71,17 @@ export function Options({ list }: { list: readonly ({ value: string; label: stri
   );
 }
 
-interface SampleView {
+type CellView = Record<"cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma", number | null>;
+
+/** A further declared phase of a sample: an expected phase or a candidate form of the main phase. */
+interface PhaseView extends CellView {
+  role: "expected" | "candidate";
+  name: string | null;
+  crystalSystem: string;
+  centering: string;
+}
+
+interface SampleView extends CellView {
   label: string;
   formula: string;
   form: string;
@@ -76,21 +89,37 @@ interface SampleView {
   expectedPhase: string | null;
   crystalSystem: string | null;
   centering: string | null;
-  cellA: number | null;
-  cellB: number | null;
-  cellC: number | null;
-  cellAlpha: number | null;
-  cellBeta: number | null;
-  cellGamma: number | null;
+  /** Further expected phases and candidate forms, each in its order (absent where a screen does not load them). */
+  phases?: PhaseView[];
+  acceptanceWindow?: AcceptanceWindow | null;
 }
 
-export function cellText(s: SampleView) {
+export function cellText(s: CellView) {
   if (s.cellA === null) return "—";
   return `a ${s.cellA}, b ${s.cellB}, c ${s.cellC} Å; α ${s.cellAlpha}°, β ${s.cellBeta}°, γ ${s.cellGamma}°`;
 }
 
-/** One line about a sample: formula, form, mass, expected phase, system, centering, cell. */
+/** The acceptance window in words, e.g. "a ± 0.002 Å, c ± 0.3 %"; "none" when no parameter has one. */
+export function windowText(window: AcceptanceWindow | null | undefined) {
+  return (window && windowWords(window)) || "none";
+}
+
+function PhaseLines({ phases }: { phases: PhaseView[] }) {
+  return (
+    <ul className="space-y-0.5">
+      {phases.map((p, i) => (
+        <li key={`${p.role}-${i}`}>
+          {p.name ?? "unnamed"} ({p.crystalSystem}, {p.centering}): {cellText(p)}
+        </li>
+      ))}
+    </ul>
+  );
+}
+
+/** A sample's facts and declaration: formula, form, mass, main phase with its cell, further phases, candidates, window. */
 export function SampleFacts({ sample }: { sample: SampleView }) {
+  const expected = sample.phases?.filter((p) => p.role === "expected") ?? [];
+  const candidates = sample.phases?.filter((p) => p.role === "candidate") ?? [];
   return (
     <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-1 text-sm">
       <dt className="text-ink-500">Formula</dt>
@@ -99,12 +128,30 @@ export function SampleFacts({ sample }: { sample: SampleView }) {
       <dd>
         {sample.form.replace(/_/g, " ")}, {sample.massMg ?? "—"} mg
       </dd>
-      <dt className="text-ink-500">Expected phase</dt>
+      <dt className="text-ink-500">Main phase</dt>
       <dd>
         {sample.expectedPhase ?? "—"} ({sample.crystalSystem ?? "—"}, {sample.centering ?? "—"})
       </dd>
       <dt className="text-ink-500">Cell</dt>
       <dd>{cellText(sample)}</dd>
+      {expected.length ? (
+        <>
+          <dt className="text-ink-500">Further expected phases</dt>
+          <dd>
+            <PhaseLines phases={expected} />
+          </dd>
+        </>
+      ) : null}
+      {candidates.length ? (
+        <>
+          <dt className="text-ink-500">Candidate forms</dt>
+          <dd>
+            <PhaseLines phases={candidates} />
+          </dd>
+        </>
+      ) : null}
+      <dt className="text-ink-500">Acceptance window</dt>
+      <dd>{windowText(sample.acceptanceWindow)}</dd>
     </dl>
   );
 }

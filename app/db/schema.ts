@@ -3,6 +3,7 @@ import { sql } from "drizzle-orm";
 // The order states are defined once, with the state machine that moves between them.
 import { ORDER_STATES } from "~/domain/order-states";
 import type { ScanInfo } from "~/domain/measurement";
+import type { AcceptanceWindow } from "~/diffraction/phases";
 import {
   bigserial,
   boolean,
@@ -382,6 +383,8 @@ export const samples = pgTable(
     cellAlpha: doublePrecision("cell_alpha"),
     cellBeta: doublePrecision("cell_beta"),
     cellGamma: doublePrecision("cell_gamma"),
+    /** The client's acceptance window on the main phase's cell (± Å/° or ± % per parameter), or null for none. */
+    acceptanceWindow: jsonb("acceptance_window").$type<AcceptanceWindow>(),
     ghsPictograms: text("ghs_pictograms").array().notNull().default(sql`'{}'::text[]`),
     hStatements: text("h_statements").array().notNull().default(sql`'{}'::text[]`),
     specialHazards: jsonb("special_hazards").$type<SpecialHazard[]>().notNull().default([]),
@@ -393,6 +396,34 @@ export const samples = pgTable(
     createdAt: createdAt(),
   },
   (t) => [index("samples_request_idx").on(t.requestId)],
+);
+
+/**
+ * A sample's further declared phases besides its main phase (the sample's own columns): further expected
+ * phases (an impurity, a second component) and candidate forms (alternatives to the main phase, e.g. two
+ * polymorphs), each with its system, centering and approximate cell (docs/decisions/012-phases-and-window.md).
+ */
+export const samplePhases = pgTable(
+  "sample_phases",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    sampleId: uuid("sample_id")
+      .notNull()
+      .references(() => samples.id, { onDelete: "cascade" }),
+    position: integer("position").notNull().default(0),
+    /** "expected" (a further expected phase) or "candidate" (an alternative to the main phase). */
+    role: text("role").$type<"expected" | "candidate">().notNull(),
+    name: text("name"),
+    crystalSystem: text("crystal_system").notNull(),
+    centering: text("centering").notNull(),
+    cellA: doublePrecision("cell_a").notNull(),
+    cellB: doublePrecision("cell_b").notNull(),
+    cellC: doublePrecision("cell_c").notNull(),
+    cellAlpha: doublePrecision("cell_alpha").notNull(),
+    cellBeta: doublePrecision("cell_beta").notNull(),
+    cellGamma: doublePrecision("cell_gamma").notNull(),
+  },
+  (t) => [index("sample_phases_sample_idx").on(t.sampleId), check("sample_phases_role", sql`${t.role} in ('expected', 'candidate')`)],
 );
 
 /** A lab member's acknowledgement of a request's hazard declaration; required before quoting. */
@@ -504,6 +535,7 @@ export type SampleStage = typeof sampleStages.$inferSelect;
 export type PriceList = typeof priceLists.$inferSelect;
 export type MarketRequest = typeof requests.$inferSelect;
 export type Sample = typeof samples.$inferSelect;
+export type SamplePhase = typeof samplePhases.$inferSelect;
 export type Quote = typeof quotes.$inferSelect;
 export type Order = typeof orders.$inferSelect;
 

@@ -4,6 +4,7 @@ import type { Cell, Centering, CheckedPeak, CrystalSystem, LatticeCheckResult, R
 import type { Verdict } from "~/diffraction/verdict";
 import type { ScanMetadata } from "~/diffraction/readers/types";
 import type { InstrumentProfile } from "~/diffraction/scherrer";
+import type { AcceptanceWindow, DeclaredPhase } from "~/diffraction/phases";
 import { fixedCellParameters } from "~/diffraction/window";
 import type { RadiationSource } from "./measurement";
 
@@ -273,15 +274,36 @@ export function peaksTable(result: Pick<StoredCheckResult, "peaks">): (string | 
   return [header, ...rows];
 }
 
-/** A sample's declaration as the app stores it: text fields and a cell whose parts may be missing. */
-export interface SampleDeclaration {
+/** A phase's system, centering and cell as the app stores them (text fields; the cell may lack parts). */
+export interface StoredPhaseDeclaration {
+  name?: string | null;
   system?: string | null;
   centering?: string | null;
   cell?: Partial<Record<keyof Cell, number | null>> | null;
 }
 
-/** The declaration as engine options; missing lengths and angles follow from the crystal system. */
-export function declaredCheckOptions(d: SampleDeclaration): { system?: CrystalSystem; centering?: Centering; cell?: Cell } {
+/** A sample's declaration as the app stores it: its main phase, further expected phases, candidate forms and window. */
+export interface SampleDeclaration extends StoredPhaseDeclaration {
+  /** The main phase's name (the sample's expected phase). */
+  mainName?: string | null;
+  phases?: StoredPhaseDeclaration[];
+  candidates?: StoredPhaseDeclaration[];
+  window?: AcceptanceWindow | null;
+}
+
+/** The declaration as engine options (the lattice check's declared phases and window). */
+export interface DeclaredCheckOptions {
+  system?: CrystalSystem;
+  centering?: Centering;
+  cell?: Cell;
+  mainName?: string | null;
+  phases?: DeclaredPhase[];
+  candidates?: DeclaredPhase[];
+  window?: AcceptanceWindow;
+}
+
+/** The system, centering and cell as engine options; missing lengths and angles follow from the crystal system. */
+function cellOptions(d: StoredPhaseDeclaration): { system?: CrystalSystem; centering?: Centering; cell?: Cell } {
   const system = CRYSTAL_SYSTEMS.includes(d.system as CrystalSystem) ? (d.system as CrystalSystem) : undefined;
   const centering = CENTERINGS.includes(d.centering as Centering) ? (d.centering as Centering) : undefined;
   const a = d.cell?.a;
@@ -298,4 +320,26 @@ export function declaredCheckOptions(d: SampleDeclaration): { system?: CrystalSy
   if (system === "cubic") Object.assign(cell, { b: a, c: a });
   if (system === "tetragonal" || hexagonal) cell.b = a;
   return { system, centering, cell };
+}
+
+/** The further phases the engine can use: those with a known system, centering and cell. */
+function declaredPhases(list: StoredPhaseDeclaration[] | undefined): DeclaredPhase[] | undefined {
+  const phases: DeclaredPhase[] = [];
+  for (const p of list ?? []) {
+    const { system, centering, cell } = cellOptions(p);
+    if (system && centering && cell) phases.push({ name: p.name ?? null, system, centering, cell });
+  }
+  return phases.length ? phases : undefined;
+}
+
+/** The declaration as engine options; missing lengths and angles follow from the crystal system. */
+export function declaredCheckOptions(d: SampleDeclaration): DeclaredCheckOptions {
+  const options: DeclaredCheckOptions = cellOptions(d);
+  if (d.mainName) options.mainName = d.mainName;
+  const phases = declaredPhases(d.phases);
+  if (phases) options.phases = phases;
+  const candidates = declaredPhases(d.candidates);
+  if (candidates) options.candidates = candidates;
+  if (d.window && Object.keys(d.window).length) options.window = d.window;
+  return options;
 }

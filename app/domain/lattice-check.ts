@@ -3,7 +3,7 @@
 // when it states one (docs/design.md#lattice-check), the engine's lattice check runs, and the result is kept in its stored
 // form (finite numbers only, the plotted arrays thinned with their extremes kept). Pure: the callers read the
 // scan's bytes and write the result.
-import type { Instrument, Sample, ScanCheck } from "~/db/schema";
+import type { Instrument, Sample, SamplePhase, ScanCheck } from "~/db/schema";
 import {
   checkParsedScan,
   parseScan,
@@ -16,8 +16,16 @@ import {
   type Radiation,
 } from "~/diffraction";
 import type { InstrumentProfile } from "~/diffraction/scherrer";
+import type { AcceptanceWindow, DeclaredPhase } from "~/diffraction/phases";
 import { SAMPLE_HOLDER_IDS, type SampleHolder } from "~/diffraction/holders";
-import { declaredCheckOptions, STORED_RESULT_VERSION, type StoredCheckResult, type StoredProfile } from "./check-result";
+import {
+  declaredCheckOptions,
+  type SampleDeclaration,
+  STORED_RESULT_VERSION,
+  type StoredCheckResult,
+  type StoredPhaseDeclaration,
+  type StoredProfile,
+} from "./check-result";
 import { chooseRadiation, type RadiationChoice, type ScanInfo } from "./measurement";
 import { SCAN_MAX_BYTES } from "./order-files";
 
@@ -26,11 +34,18 @@ export const STORED_PROFILE_POINTS = 20_000;
 
 export type CheckStatus = "queued" | "running" | "done" | "failed";
 
-/** The declared system, centering and cell the scan is checked against (each may be missing). */
+/**
+ * What the scan is checked against: the main phase's system, centering, cell and name (each may be missing),
+ * the further expected phases, the candidate forms of the main phase and the client's acceptance window.
+ */
 export interface DeclaredCell {
   system?: CrystalSystem;
   centering?: Centering;
   cell?: Cell;
+  mainName?: string | null;
+  phases?: DeclaredPhase[];
+  candidates?: DeclaredPhase[];
+  window?: AcceptanceWindow;
 }
 
 /** What a check needs besides the scan: the instrument, the declaration, and what the stored result names. */
@@ -132,15 +147,48 @@ export function holderOf(instrument: Pick<Instrument, "sampleHolder">): SampleHo
   return holder && holder !== "none" && SAMPLE_HOLDER_IDS.includes(holder) ? holder : undefined;
 }
 
-/** A sample's declaration as engine options; missing cell lengths and angles follow from the crystal system. */
-export function declaredOf(
-  sample: Pick<Sample, "crystalSystem" | "centering" | "cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma">,
-): DeclaredCell {
-  return declaredCheckOptions({
+type DeclaredSample = Pick<
+  Sample,
+  "expectedPhase" | "crystalSystem" | "centering" | "cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma" | "acceptanceWindow"
+>;
+type DeclaredSamplePhase = Pick<
+  SamplePhase,
+  "role" | "position" | "name" | "crystalSystem" | "centering" | "cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma"
+>;
+
+const storedCell = (p: Record<"cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma", number | null>) => ({
+  a: p.cellA,
+  b: p.cellB,
+  c: p.cellC,
+  alpha: p.cellAlpha,
+  beta: p.cellBeta,
+  gamma: p.cellGamma,
+});
+
+/**
+ * A sample's declaration as stored (the sample's main phase and window, its further phase rows), in the form
+ * both the server's check and the browser's preview take: expected phases and candidates each in position order.
+ */
+export function sampleDeclarationOf(sample: DeclaredSample, phases: DeclaredSamplePhase[] = []): SampleDeclaration {
+  const ofRole = (role: SamplePhase["role"]): StoredPhaseDeclaration[] =>
+    phases
+      .filter((p) => p.role === role)
+      .sort((x, y) => x.position - y.position)
+      .map((p) => ({ name: p.name, system: p.crystalSystem, centering: p.centering, cell: storedCell(p) }));
+  return {
+    mainName: sample.expectedPhase,
     system: sample.crystalSystem,
     centering: sample.centering,
-    cell: { a: sample.cellA, b: sample.cellB, c: sample.cellC, alpha: sample.cellAlpha, beta: sample.cellBeta, gamma: sample.cellGamma },
-  });
+    cell: storedCell(sample),
+    phases: ofRole("expected"),
+    candidates: ofRole("candidate"),
+    window: sample.acceptanceWindow,
+  };
+}
+
+/** A sample's declaration as engine options; missing cell lengths and angles follow from the crystal system. */
+export function declaredOf(sample: DeclaredSample, phases: DeclaredSamplePhase[] = []): DeclaredCell {
+  return declaredCheckOptions(sampleDeclarationOf(sample, phases));
 }
 
 const round = (x: number, digits: number) => {

@@ -1,6 +1,8 @@
 // The new-request wizard's steps and the zod schemas of each step's form (shared by the browser and the server).
 import { z } from "zod";
 import { CENTERINGS, CRYSTAL_SYSTEMS, checkCellForSystem, checkCentering, type Centering, type CrystalSystem } from "~/diffraction/cell";
+import { CELL_KEYS, type AcceptanceWindow, type CellKey } from "~/diffraction/phases";
+import { freeCellParameters } from "~/diffraction/window";
 import { parseFormula } from "~/domain/formula";
 import { GHS_CODES, SPECIAL_CATEGORY_CODES } from "~/domain/hazard-codes";
 import { checkHStatement, splitHStatements } from "~/domain/hazards";
@@ -53,6 +55,89 @@ const positive = (what: string, unit: string) =>
 
 // ───────────── Step 1: samples ─────────────
 
+/** A sample declares at most this many further expected phases, and at most this many candidate forms. */
+export const MAX_EXPECTED_PHASES = 4;
+export const MAX_CANDIDATES = 4;
+/** The widest acceptance window the wizard takes: ± 10 %, ± 1 Å on a length, ± 5° on an angle. */
+export const WINDOW_MAX = { percent: 10, length: 1, angle: 5 } as const;
+
+export const CELL_PARAMETER_LABELS: Record<CellKey, string> = { a: "a", b: "b", c: "c", alpha: "α", beta: "β", gamma: "γ" };
+const isAngle = (key: CellKey) => key === "alpha" || key === "beta" || key === "gamma";
+
+/** The crystal system, centering and approximate cell: the main phase's and each further phase's. */
+const cellShape = {
+  crystalSystem: z.enum(CRYSTAL_SYSTEMS as [CrystalSystem, ...CrystalSystem[]], { error: "Choose the crystal system." }),
+  centering: z.enum(CENTERINGS as [Centering, ...Centering[]], { error: "Choose the lattice centering." }),
+  cellA: positive("a", "Å"),
+  cellB: positive("b", "Å"),
+  cellC: positive("c", "Å"),
+  cellAlpha: positive("alpha", "°"),
+  cellBeta: positive("beta", "°"),
+  cellGamma: positive("gamma", "°"),
+};
+type CellFields = { [K in keyof typeof cellShape]: z.infer<(typeof cellShape)[K]> };
+
+// Runs once every field of the cell parsed; the sentence comes from the lattice engine's own check.
+function checkCellFields(s: CellFields, ctx: z.RefinementCtx) {
+  const centering = checkCentering(s.crystalSystem, s.centering);
+  if (centering) ctx.addIssue({ code: "custom", path: ["centering"], message: centering });
+  const cell = checkCellForSystem(s.crystalSystem, {
+    a: s.cellA,
+    b: s.cellB,
+    c: s.cellC,
+    alpha: s.cellAlpha,
+    beta: s.cellBeta,
+    gamma: s.cellGamma,
+  });
+  if (cell) ctx.addIssue({ code: "custom", path: ["cellA"], message: cell });
+}
+
+/** A further expected phase or a candidate form: an optional name, its system, centering and approximate cell. */
+export const PhaseRowSchema = z
+  .object({
+    name: z.string().trim().max(80, "A phase name has at most 80 characters.").optional(),
+    ...cellShape,
+  })
+  .superRefine(checkCellFields);
+export type PhaseRow = z.infer<typeof PhaseRowSchema>;
+
+/** One parameter's window as the form sends it; an empty amount means no window on that parameter. */
+const windowEntry = (key: CellKey) =>
+  z
+    .object({
+      plusMinus: z.number({ error: `Give the window on ${CELL_PARAMETER_LABELS[key]} as a number, e.g. 0.01.` }).optional(),
+      unit: z.enum(["absolute", "percent"], { error: "Choose the window's unit." }).optional().default("absolute"),
+    })
+    .superRefine((w, ctx) => {
+      if (w.plusMinus === undefined) return;
+      const label = CELL_PARAMETER_LABELS[key];
+      const problem =
+        w.plusMinus <= 0
+          ? `The window on ${label} must be a positive amount.`
+          : w.unit === "percent" && w.plusMinus > WINDOW_MAX.percent
+            ? `A window is at most ± ${WINDOW_MAX.percent} %.`
+            : w.unit === "absolute" && !isAngle(key) && w.plusMinus > WINDOW_MAX.length
+              ? `A window on a cell length is at most ± ${WINDOW_MAX.length} Å.`
+              : w.unit === "absolute" && isAngle(key) && w.plusMinus > WINDOW_MAX.angle
+                ? `A window on a cell angle is at most ± ${WINDOW_MAX.angle}°.`
+                : null;
+      if (problem) ctx.addIssue({ code: "custom", path: ["plusMinus"], message: problem });
+    })
+    .optional();
+
+export const WindowSchema = z.object(Object.fromEntries(CELL_KEYS.map((k) => [k, windowEntry(k)])) as Record<CellKey, ReturnType<typeof windowEntry>>);
+export type WindowInput = z.infer<typeof WindowSchema>;
+
+/** The window as it is stored and the check takes it: the parameters given an amount; null when none is. */
+export function acceptanceWindowOf(input: WindowInput | undefined): AcceptanceWindow | null {
+  const window: AcceptanceWindow = {};
+  for (const key of CELL_KEYS) {
+    const entry = input?.[key];
+    if (entry?.plusMinus !== undefined) window[key] = { plusMinus: entry.plusMinus, unit: entry.unit };
+  }
+  return Object.keys(window).length ? window : null;
+}
+
 export const SampleSchema = z
   .object({
     id: z.uuid().optional(),
@@ -64,28 +149,24 @@ export const SampleSchema = z
     form: z.enum(values(SAMPLE_FORMS), { error: "Choose the sample's form." }),
     massMg: positive("the mass", "mg").max(1_000_000, "At most 1 kg (1,000,000 mg)."),
     expectedPhase: text("the expected phase", 120),
-    crystalSystem: z.enum(CRYSTAL_SYSTEMS as [CrystalSystem, ...CrystalSystem[]], { error: "Choose the crystal system." }),
-    centering: z.enum(CENTERINGS as [Centering, ...Centering[]], { error: "Choose the lattice centering." }),
-    cellA: positive("a", "Å"),
-    cellB: positive("b", "Å"),
-    cellC: positive("c", "Å"),
-    cellAlpha: positive("alpha", "°"),
-    cellBeta: positive("beta", "°"),
-    cellGamma: positive("gamma", "°"),
+    ...cellShape,
+    phases: z.array(PhaseRowSchema).max(MAX_EXPECTED_PHASES, `At most ${MAX_EXPECTED_PHASES} further expected phases per sample.`).optional().default([]),
+    candidates: z.array(PhaseRowSchema).max(MAX_CANDIDATES, `At most ${MAX_CANDIDATES} candidate forms per sample.`).optional().default([]),
+    window: WindowSchema.optional(),
   })
-  // Runs once every field of the sample parsed; the sentence comes from the lattice engine's own check.
   .superRefine((s, ctx) => {
-    const centering = checkCentering(s.crystalSystem, s.centering);
-    if (centering) ctx.addIssue({ code: "custom", path: ["centering"], message: centering });
-    const cell = checkCellForSystem(s.crystalSystem, {
-      a: s.cellA,
-      b: s.cellB,
-      c: s.cellC,
-      alpha: s.cellAlpha,
-      beta: s.cellBeta,
-      gamma: s.cellGamma,
-    });
-    if (cell) ctx.addIssue({ code: "custom", path: ["cellA"], message: cell });
+    checkCellFields(s, ctx);
+    // A parameter the system fixes or ties to another (b = a of a tetragonal cell) has no window of its own (the form
+    // does not offer one); the check refuses it too (app/diffraction/window.ts).
+    const free = freeCellParameters(s.crystalSystem);
+    for (const key of CELL_KEYS) {
+      if (s.window?.[key]?.plusMinus === undefined || free.includes(key)) continue;
+      ctx.addIssue({
+        code: "custom",
+        path: ["window", key, "plusMinus"],
+        message: `A ${s.crystalSystem} cell's symmetry fixes ${CELL_PARAMETER_LABELS[key]}, so it takes no window; set one on ${free.map((k) => CELL_PARAMETER_LABELS[k]).join(", ")} instead.`,
+      });
+    }
   });
 
 export const SamplesStepSchema = z.object({

@@ -6,6 +6,7 @@ import type { Sample } from "~/db/schema";
 import { type CheckInput, checkScanForStorage, declaredOf, holderOf, instrumentProfileOf, radiationOf, type ScanRead } from "~/domain/lattice-check";
 import { formatBytes, SCAN_MAX_BYTES } from "~/domain/order-files";
 import { readStoredBytes } from "~/models/files/storage.server";
+import { phasesOfSamples } from "~/models/requests/requests.server";
 import { config } from "~/config.server";
 import { getBoss, QUEUES } from "~/jobs/queues.server";
 
@@ -101,8 +102,8 @@ async function keepScanRead(fileId: string, read: ScanRead) {
   await db.update(schema.orderFiles).set({ scanFormat: read.format, scanInfo: read.info }).where(eq(schema.orderFiles.id, fileId));
 }
 
-/** The quote's instrument (radiation, holder, profile), and the sample's declared system, centering and cell. */
-async function checkContext(orderId: string, sampleId: string | null): Promise<CheckInput> {
+/** The quote's instrument (radiation, holder, profile), and the sample's declaration: its phases and window. */
+export async function checkContext(orderId: string, sampleId: string | null): Promise<CheckInput> {
   const [found] = await db
     .select({ instrument: schema.instruments })
     .from(schema.orders)
@@ -113,11 +114,12 @@ async function checkContext(orderId: string, sampleId: string | null): Promise<C
   const instrument = found?.instrument ?? null;
   let sample: Sample | undefined;
   if (sampleId) [sample] = await db.select().from(schema.samples).where(eq(schema.samples.id, sampleId));
+  const phases = sample ? await phasesOfSamples([sample.id]) : [];
   return {
     radiation: instrument ? radiationOf(instrument) : null,
     holder: instrument ? holderOf(instrument) : undefined,
     instrumentProfile: instrument ? instrumentProfileOf(instrument) : undefined,
-    declared: sample ? declaredOf(sample) : {},
+    declared: sample ? declaredOf(sample, phases) : {},
     warnings: [],
     declaredFrom: {
       sampleLabel: sample?.label ?? null,

@@ -14,6 +14,7 @@ import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
 import type { Order, OrderFile } from "~/db/schema";
 import { enqueueScanCheck } from "~/models/checks/scan-check.server";
+import { withPhases } from "~/models/requests/requests.server";
 import { services } from "~/utils/services.server";
 import {
   checkDeclaredFile,
@@ -81,10 +82,15 @@ export interface Uploader {
 
 const SHA256_HEX = /^[0-9a-f]{64}$/i;
 
-/** The samples of the order's request, in their order on the request. */
-/** The samples of an order's request with their declarations and hazards, in the client's order. */
+/** The samples of an order's request with their declarations (further phases too) and hazards, in the client's order. */
 export async function orderSamples(order: Pick<Order, "requestId">) {
-  return db.select().from(schema.samples).where(eq(schema.samples.requestId, order.requestId)).orderBy(asc(schema.samples.position), asc(schema.samples.label));
+  return withPhases(
+    await db
+      .select()
+      .from(schema.samples)
+      .where(eq(schema.samples.requestId, order.requestId))
+      .orderBy(asc(schema.samples.position), asc(schema.samples.label)),
+  );
 }
 
 async function checkUploadInput(order: Order, input: StartUploadInput) {

@@ -1,16 +1,25 @@
 // Measurement requests: drafts saved step by step, publishing, who may see a request, hazard acknowledgements.
 import { isUuid } from "~/domain/ids";
 import { isKeyUnder } from "~/domain/storage-keys";
-import { and, asc, eq, inArray, sql } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
-import type { MarketRequest, Sample, SpecialHazard } from "~/db/schema";
+import type { Tx } from "~/db/client.server";
+import type { MarketRequest, Sample, SamplePhase, SpecialHazard } from "~/db/schema";
 import { DOCUMENT_RULE, presignDownload, verifyStoredObject, type UploadRule } from "~/models/files/storage.server";
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
 import { parseFormula } from "~/domain/formula";
 import { inLabInbox, labsMatchingRequest } from "~/models/labs/matching.server";
 import { declaresHazard } from "~/domain/hazards";
-import { WIZARD_STEPS, type MeasurementStep, type SamplesStep, type SampleHazardInput, type WizardStep } from "~/domain/request-forms";
+import {
+  acceptanceWindowOf,
+  WIZARD_STEPS,
+  type MeasurementStep,
+  type PhaseRow,
+  type SamplesStep,
+  type SampleHazardInput,
+  type WizardStep,
+} from "~/domain/request-forms";
 
 export { isUuid };
 
@@ -48,8 +57,27 @@ export async function requestsWithClients(requestIds: string[]) {
     .where(inArray(schema.requests.id, requestIds));
 }
 
-export async function samplesOf(requestId: string): Promise<Sample[]> {
-  return db.select().from(schema.samples).where(eq(schema.samples.requestId, requestId)).orderBy(asc(schema.samples.position));
+/** A sample with its further declared phases: the expected phases, then the candidate forms, each in its order. */
+export type SampleWithPhases = Sample & { phases: SamplePhase[] };
+
+export async function samplesOf(requestId: string): Promise<SampleWithPhases[]> {
+  return withPhases(await db.select().from(schema.samples).where(eq(schema.samples.requestId, requestId)).orderBy(asc(schema.samples.position)));
+}
+
+/** The further declared phases of the given samples: expected phases first, then candidates, each by position. */
+export async function phasesOfSamples(sampleIds: string[]): Promise<SamplePhase[]> {
+  if (sampleIds.length === 0) return [];
+  return db
+    .select()
+    .from(schema.samplePhases)
+    .where(inArray(schema.samplePhases.sampleId, sampleIds))
+    .orderBy(desc(schema.samplePhases.role), asc(schema.samplePhases.position));
+}
+
+/** The samples, each with its further declared phases. */
+export async function withPhases<S extends Pick<Sample, "id">>(samples: S[]): Promise<(S & { phases: SamplePhase[] })[]> {
+  const phases = await phasesOfSamples(samples.map((s) => s.id));
+  return samples.map((s) => ({ ...s, phases: phases.filter((p) => p.sampleId === s.id) }));
 }
 
 export async function invitedLabIds(requestId: string) {
@@ -139,7 +167,32 @@ function sampleColumns(s: SamplesStep["samples"][number], position: number) {
     cellAlpha: s.cellAlpha,
     cellBeta: s.cellBeta,
     cellGamma: s.cellGamma,
+    acceptanceWindow: acceptanceWindowOf(s.window),
   };
+}
+
+function phaseRow(sampleId: string, p: PhaseRow, role: SamplePhase["role"], position: number) {
+  return {
+    sampleId,
+    role,
+    position,
+    name: p.name || null,
+    crystalSystem: p.crystalSystem,
+    centering: p.centering,
+    cellA: p.cellA,
+    cellB: p.cellB,
+    cellC: p.cellC,
+    cellAlpha: p.cellAlpha,
+    cellBeta: p.cellBeta,
+    cellGamma: p.cellGamma,
+  };
+}
+
+/** Replaces a sample's further expected phases and candidate forms with the ones given, inside the caller's transaction. */
+async function writePhases(tx: Tx, sampleId: string, s: SamplesStep["samples"][number]) {
+  await tx.delete(schema.samplePhases).where(eq(schema.samplePhases.sampleId, sampleId));
+  const rows = [...s.phases.map((p, i) => phaseRow(sampleId, p, "expected", i)), ...s.candidates.map((p, i) => phaseRow(sampleId, p, "candidate", i))];
+  if (rows.length) await tx.insert(schema.samplePhases).values(rows);
 }
 
 /** Starts a draft from the samples step. */
@@ -149,7 +202,11 @@ export async function createDraft(organisationId: string, userId: string, input:
       .insert(schema.requests)
       .values({ organisationId, createdBy: userId, title: input.title, technique: input.technique, draftStep: "hazards" })
       .returning();
-    await tx.insert(schema.samples).values(input.samples.map((s, i) => ({ requestId: request.id, ...sampleColumns(s, i) })));
+    const samples = await tx
+      .insert(schema.samples)
+      .values(input.samples.map((s, i) => ({ requestId: request.id, ...sampleColumns(s, i) })))
+      .returning({ id: schema.samples.id, position: schema.samples.position });
+    for (const row of samples) await writePhases(tx, row.id, input.samples[row.position]);
     await audit({ actorUserId: userId, organisationId, action: "request_draft_created", subjectType: "request", subjectId: request.id }, tx);
     return request;
   });
@@ -173,8 +230,14 @@ export async function saveSamples(request: MarketRequest, input: SamplesStep): P
     const removed = existing.filter((s) => !kept.includes(s.id)).map((s) => s.id);
     if (removed.length) await tx.delete(schema.samples).where(inArray(schema.samples.id, removed));
     for (const [i, s] of input.samples.entries()) {
-      if (s.id) await tx.update(schema.samples).set(sampleColumns(s, i)).where(eq(schema.samples.id, s.id));
-      else await tx.insert(schema.samples).values({ requestId: request.id, ...sampleColumns(s, i) });
+      let sampleId = s.id;
+      if (sampleId) await tx.update(schema.samples).set(sampleColumns(s, i)).where(eq(schema.samples.id, sampleId));
+      else
+        [{ id: sampleId }] = await tx
+          .insert(schema.samples)
+          .values({ requestId: request.id, ...sampleColumns(s, i) })
+          .returning({ id: schema.samples.id });
+      await writePhases(tx, sampleId, s);
     }
   });
   return {};

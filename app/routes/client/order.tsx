@@ -4,11 +4,13 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import { OrderTimelineCard } from "~/components/order-timeline";
+import { SampleFacts } from "~/components/request-parts";
 import { FormError, PageHeader } from "~/components/ui";
 import { canMove, samplesAtLab } from "~/domain/order-states";
 import { OrderStateBadge } from "~/components/order-state-badge";
 import { organisationNameOf } from "~/models/accounts/organisations.server";
 import { requestTitleOf } from "~/models/requests/requests.server";
+import { orderSamples } from "~/models/files/files.server";
 import { disputeOf, latestPaymentOf, orderStateOf, orderTimeline } from "~/models/orders/queries.server";
 import { OrderMoveRefused } from "~/models/orders/lifecycle.server";
 import { markShipped } from "~/models/orders/lifecycle.server";
@@ -25,11 +27,12 @@ const clientOrder = (request: Request, orderId: string) => requireOrderSide(requ
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await clientOrder(request, params.id);
-  const [title, labName, payment, timeline] = await Promise.all([
+  const [title, labName, payment, timeline, samples] = await Promise.all([
     requestTitleOf(order.requestId),
     organisationNameOf(order.labId),
     latestPaymentOf(order.id),
     orderTimeline(order.id),
+    orderSamples(order),
   ]);
   const dispute = await disputeOf(order.id);
   const shipment = await shipmentOf(order.id);
@@ -49,6 +52,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     cancelledPayment: new URL(request.url).searchParams.get("payment") === "cancelled",
     shipment: shipment ? { carrier: shipment.carrier, trackingNumber: shipment.trackingNumber } : null,
     timeline,
+    // What each sample's scans are checked against: its main phase and cell, further phases, candidates and window.
+    samples: samples.map(({ sdsStorageKey: _key, ...s }) => s),
   };
 }
 
@@ -115,7 +120,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline } = loaderData;
+  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline, samples } = loaderData;
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
   const canCancel = canMove(order.state, "cancelled", "client");
@@ -236,6 +241,20 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
         </section>
         <OrderTimelineCard rows={timeline} />
       </div>
+      <section className="card mt-6" aria-labelledby="declared-samples">
+        <h2 id="declared-samples" className="mb-3 text-lg font-semibold">
+          Samples as declared
+        </h2>
+        <p className="mb-3 text-sm text-ink-600">Each delivered scan is checked against its sample's declaration below.</p>
+        <div className="grid gap-4 lg:grid-cols-2">
+          {samples.map((s) => (
+            <article key={s.id} className="rounded-lg border border-ink-200 p-4" aria-label={`Sample ${s.label}`}>
+              <h3 className="font-semibold">{s.label}</h3>
+              <SampleFacts sample={s} />
+            </article>
+          ))}
+        </div>
+      </section>
     </div>
   );
 }

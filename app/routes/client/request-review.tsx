@@ -42,9 +42,14 @@ export default function RequestReview({ loaderData, actionData }: Route.Componen
           <section key={s.id} className="card space-y-3" aria-label={`Sample ${s.label}`}>
             <div className="flex items-center justify-between">
               <h2 className="text-lg font-semibold">{s.label}</h2>
-              <Link to={edit("hazards")} className="text-sm text-beam-700 underline">
-                Edit hazards
-              </Link>
+              <span className="flex gap-3 text-sm">
+                <Link to={edit("samples")} className="text-beam-700 underline">
+                  Edit samples
+                </Link>
+                <Link to={edit("hazards")} className="text-beam-700 underline">
+                  Edit hazards
+                </Link>
+              </span>
             </div>
             <SampleFacts sample={s} />
             <h3 className="text-sm font-semibold text-ink-700">Hazard declaration</h3>

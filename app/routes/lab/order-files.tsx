@@ -13,7 +13,7 @@ import { orderFileList, orderSamples } from "~/models/files/files.server";
 import { quotedInstrumentOf } from "~/models/requests/quotes.server";
 import { ORDER_STATE_LABELS } from "~/domain/order-states";
 import { OrderStateBadge } from "~/components/order-state-badge";
-import { holderOf, instrumentProfileOf, radiationOf } from "~/domain/lattice-check";
+import { holderOf, instrumentProfileOf, radiationOf, sampleDeclarationOf } from "~/domain/lattice-check";
 import type { Route } from "./+types/order-files";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -27,17 +27,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return {
     order: { id: order.id, state: order.state, title: title ?? "", client: client ?? "" },
     samples: samples.map((s) => ({ id: s.id, label: s.label })),
-    // What the preview checks a scan against before it is uploaded: the sample's declaration and the quote's source.
-    declarations: Object.fromEntries(
-      samples.map((s) => [
-        s.id,
-        {
-          system: s.crystalSystem,
-          centering: s.centering,
-          cell: { a: s.cellA, b: s.cellB, c: s.cellC, alpha: s.cellAlpha, beta: s.cellBeta, gamma: s.cellGamma },
-        },
-      ]),
-    ),
+    // What the preview checks a scan against before it is uploaded: the sample's declaration (main phase, further
+    // phases, candidates, window) and the quote's source.
+    declarations: Object.fromEntries(samples.map((s) => [s.id, sampleDeclarationOf(s, s.phases)])),
     // The quote's instrument as the server's check uses it (a file stating another source is checked with its own).
     instrument: {
       radiation: instrument ? radiationOf(instrument) : null,
