@@ -101,12 +101,9 @@ async function step(
   await db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), to, mover, actor, note, extra));
 }
 
-export async function seedDemoOrders() {
-  const [owner] = await db.select().from(schema.users).where(eq(schema.users.email, "owner@halvorsen.example"));
-  const [pinecrest] = await db.select().from(schema.users).where(eq(schema.users.email, "owner@pinecrest.example"));
-  const [admin] = await db.select().from(schema.users).where(eq(schema.users.email, "admin@diffractory.example"));
+/** Both approved labs finish payout onboarding at the fake, so they can quote and be paid. */
+export async function onboardDemoLabs() {
   const [labManager] = await db.select().from(schema.users).where(eq(schema.users.email, "lab@graniteridge.example"));
-  // Both approved labs have finished payout onboarding, so they can quote and be paid.
   for (const name of ["Granite Ridge Characterisation", "Lakeside Institute X-ray Core"]) {
     const org = await orgBySlugName(name);
     const [row] = await db.select().from(schema.labs).where(eq(schema.labs.organisationId, org.id));
@@ -116,6 +113,14 @@ export async function seedDemoOrders() {
     await fakeControl(`accounts/${lab.payoutAccountId}/complete-onboarding`, {});
     await syncPayoutAccount(lab.payoutAccountId!);
   }
+}
+
+export async function seedDemoOrders() {
+  const [owner] = await db.select().from(schema.users).where(eq(schema.users.email, "owner@halvorsen.example"));
+  const [pinecrest] = await db.select().from(schema.users).where(eq(schema.users.email, "owner@pinecrest.example"));
+  const [admin] = await db.select().from(schema.users).where(eq(schema.users.email, "admin@diffractory.example"));
+  const [labManager] = await db.select().from(schema.users).where(eq(schema.users.email, "lab@graniteridge.example"));
+  await onboardDemoLabs();
   for (const o of ORDERS) {
     const client = await orgBySlugName(o.client);
     const lab = await orgBySlugName(o.lab);

@@ -3,12 +3,15 @@
 // requests in every state, quotes sent, declined, withdrawn and lapsed side by side, orders in the physical
 // states (in transit, received, measuring, delivered with checked scans), a refusal on arrival, an open
 // dispute, Pinecrest's nanomaterial and toxic samples with their safety data sheets, and Meridian's
-// vetting application with a checked calibration scan. Each request is made once (found by its title).
+// vetting application with a checked calibration scan. Three delivered orders show the declarations beside
+// the main phase: a batch with a declared impurity, a sample declared with two candidate forms, and a lot
+// measured against a tight acceptance window that it misses. Each request is made once (found by its title).
 import { createHash } from "node:crypto";
 import { and, eq } from "drizzle-orm";
 import type { z } from "zod";
 import { db, schema } from "~/db/client.server";
-import type { Centering, CrystalSystem, Radiation } from "~/diffraction";
+import type { Cell, Centering, CrystalSystem, Radiation } from "~/diffraction";
+import type { AcceptanceWindow } from "~/diffraction/phases";
 import { formatScanAsXy, simulatePattern, type SimulatedScan } from "~/diffraction/simulate";
 import { LANTHANUM_HEXABORIDE, LITHIUM_IRON_PHOSPHATE, RUTILE } from "~/diffraction/structures";
 import { checkCalibrationScan } from "~/domain/calibration-check";
@@ -42,7 +45,7 @@ import { audit } from "~/models/audit.server";
 import { putObject, storageKeyFor } from "~/models/files/storage.server";
 import { simplePdf } from "./demo-pdf";
 import { payOrder } from "./seed-orders.server";
-import { CO, LFP_DECLARED, LFP_LOT, LFP_SCAN, storeCheckedScan } from "./seed-scans.server";
+import { CO, CU, LFP_DECLARED, LFP_LOT, LFP_SCAN, storeCheckedScan } from "./seed-scans.server";
 
 const DAY = 86_400_000;
 const isoDate = (offsetDays: number) => new Date(Date.now() + offsetDays * DAY).toISOString().slice(0, 10);
@@ -66,6 +69,7 @@ type Hazards = {
 };
 
 interface SampleSpec {
+  /** The samples step's fields, with any further expected phases, candidate forms and acceptance window. */
   fields: Omit<z.input<typeof SampleSchema>, "id">;
   hazards?: Hazards;
   /** A scan the lab delivers for this sample, simulated by the engine and checked. */
@@ -211,6 +215,84 @@ const nmcDisputedScan = () => {
   });
   return { ...main, intensity: main.intensity.map((v, i) => v + carbonate.intensity[i]) };
 };
+
+// ─── Declarations beside the main phase (invented batches; cells rounded from memory where named) ───
+
+const orthorhombic = (a: number, b: number, c: number): Cell => ({ a, b, c, alpha: 90, beta: 90, gamma: 90 });
+
+const cellList = (c: Cell): [number, number, number, number, number, number] => [c.a, c.b, c.c, c.alpha, c.beta, c.gamma];
+
+/** A further phase's row of the samples step. */
+const phaseRow = (name: string, system: CrystalSystem, centering: Centering, cell: Cell) => ({
+  name,
+  crystalSystem: system,
+  centering,
+  cellA: cell.a,
+  cellB: cell.b,
+  cellC: cell.c,
+  cellAlpha: cell.alpha,
+  cellBeta: cell.beta,
+  cellGamma: cell.gamma,
+});
+
+/** β-Li3PO4 (orthorhombic, Pmn2₁), a 6.115, b 5.239, c 4.855 Å (from memory): a residue of excess lithium in olivine synthesis. */
+export const LI3PO4_DECLARED: Cell = orthorhombic(6.12, 5.24, 4.86);
+/** Halvorsen's acceptance window for olivine production lots: ± 0.002 Å on a, b and c around the declared cell. */
+export const LFP_LOT_WINDOW: AcceptanceWindow = {
+  a: { plusMinus: 0.002, unit: "absolute" },
+  b: { plusMinus: 0.002, unit: "absolute" },
+  c: { plusMinus: 0.002, unit: "absolute" },
+};
+/** The two forms Pinecrest declares for PSF-163 (invented cells of about the same volume, 902 and 913 Å³). */
+export const PSF163_FORM_I: Cell = { a: 9.47, b: 11.82, c: 8.15, alpha: 90, beta: 98.6, gamma: 90 };
+export const PSF163_FORM_II: Cell = orthorhombic(7.34, 12.66, 9.82);
+
+/** The cells the demo scans of these orders are simulated from (invented, a little off each declaration). */
+export const DEMO_TRUTHS = {
+  /** HC-2681-A: the olivine and its Li3PO4 residue. */
+  hc2681Olivine: orthorhombic(10.328, 6.007, 4.693),
+  hc2681Li3po4: orthorhombic(6.118, 5.236, 4.857),
+  /** HC-2693-1: a 0.005 Å above the declared 10.330 Å, outside the ± 0.002 Å window; b and c as declared. */
+  hc2693Lot: orthorhombic(10.335, 6.01, 4.69),
+  /** PSF-163-B: the batch crystallised as Form II. */
+  psf163Batch: orthorhombic(7.352, 12.641, 9.834),
+} as const;
+
+/**
+ * HC-2681: the olivine with some β-Li3PO4 residue, both visible. Without atoms every Li3PO4 reflection gets the
+ * same |F|²; its scale puts its strongest line at about 12 % of the olivine's strongest.
+ */
+const lfpWithResidueScan = () => {
+  const main = simulatePattern({ ...LFP_SCAN, structure: LITHIUM_IRON_PHOSPHATE, cell: DEMO_TRUTHS.hc2681Olivine, noise: { seed: 2681 } });
+  const residue = simulatePattern({
+    ...LFP_SCAN,
+    cell: DEMO_TRUTHS.hc2681Li3po4,
+    system: "orthorhombic",
+    centering: "P",
+    background: { constant: 0 },
+    scale: LFP_SCAN.scale * 0.125,
+    noise: { seed: 2682 },
+  });
+  return { ...main, intensity: main.intensity.map((v, i) => v + residue.intensity[i]) };
+};
+
+/** HC-2693: a clean olivine lot whose a is 0.005 Å off its declaration. */
+const lfpOffWindowScan = () => simulatePattern({ ...LFP_SCAN, structure: LITHIUM_IRON_PHOSPHATE, cell: DEMO_TRUTHS.hc2693Lot, noise: { seed: 2693 } });
+
+/** PSF-163: the Form II cell (no atoms: equal |F|² with the usual fall-off), as a small organic's scan on copper. */
+const psf163Scan = () =>
+  simulatePattern({
+    twoThetaMin: 5,
+    twoThetaMax: 60,
+    step: 0.02,
+    radiation: CU,
+    cell: DEMO_TRUTHS.psf163Batch,
+    system: "orthorhombic",
+    centering: "P",
+    background: { constant: 150, slope: -1 },
+    scale: 6000,
+    noise: { seed: 163 },
+  });
 
 const SDS_NOTE =
   "Invented demo document. A hazard declaration informs the lab; it does not replace this sheet, the carrier's rules or the lab's safety officers.";
@@ -401,6 +483,77 @@ export const SCENARIO: ScenarioRequest[] = [
     accept: GRANITE,
     end: "data_delivered",
     shipping: ["Nordlys Freight", "NF-77402-2645"],
+  },
+  {
+    title: "Olivine with Li3PO4 residue in LFP batch HC-2681",
+    client: HALVORSEN,
+    by: "owner@halvorsen.example",
+    technique: "powder_reflection",
+    samples: [
+      {
+        fields: { ...lfp("HC-2681-A"), phases: [phaseRow("Li3PO4 (β)", "orthorhombic", "P", LI3PO4_DECLARED)] },
+        scan: { fileName: "HC-2681-A_Co_15-110.xy", simulate: lfpWithResidueScan },
+      },
+    ],
+    range: [15, 110],
+    currency: "EUR",
+    quotes: [
+      {
+        lab: GRANITE,
+        instrument: "Reflection diffractometer B (Co)",
+        turnaroundDays: 8,
+        notes: "Both phases are refined; the residue is reported with its cell.",
+      },
+    ],
+    accept: GRANITE,
+    end: "data_delivered",
+    shipping: ["Nordlys Freight", "NF-77468-2681"],
+  },
+  {
+    title: "Acceptance test of LFP production lot HC-2693",
+    client: HALVORSEN,
+    by: "member@halvorsen.example",
+    technique: "powder_reflection",
+    samples: [
+      {
+        fields: { ...lfp("HC-2693-1"), window: LFP_LOT_WINDOW },
+        scan: { fileName: "HC-2693-1_Co_15-110.xy", simulate: lfpOffWindowScan },
+      },
+    ],
+    range: [15, 110],
+    currency: "EUR",
+    quotes: [{ lab: GRANITE, instrument: "Reflection diffractometer B (Co)", turnaroundDays: 8, notes: "Cell refined against your acceptance window." }],
+    accept: GRANITE,
+    end: "data_delivered",
+    shipping: ["Nordlys Freight", "NF-77471-2693"],
+  },
+  {
+    title: "Form I or Form II of API batch PSF-163",
+    client: PINECREST,
+    by: "owner@pinecrest.example",
+    technique: "powder_reflection",
+    samples: [
+      {
+        fields: {
+          ...organic("PSF-163-B", "C18H20N2O3", "PSF-163 Form I", "monoclinic", "P", cellList(PSF163_FORM_I)),
+          candidates: [phaseRow("PSF-163 Form II", "orthorhombic", "P", PSF163_FORM_II)],
+        },
+        scan: { fileName: "PSF-163-B_Cu_5-60.xy", simulate: psf163Scan },
+      },
+    ],
+    range: [5, 60],
+    currency: "EUR",
+    quotes: [
+      {
+        lab: GRANITE,
+        instrument: "Reflection diffractometer A (Cu)",
+        turnaroundDays: 8,
+        notes: "Zero-background silicon holder; both forms are tried against the scan.",
+      },
+    ],
+    accept: GRANITE,
+    end: "data_delivered",
+    shipping: ["Ashbourne Medical Couriers", "AMC-55133-PSF"],
   },
   {
     title: "Capillary series of solvate PSF-127",
@@ -601,7 +754,8 @@ async function runOrder(spec: ScenarioRequest, orderId: string, client: { id: st
   await openDispute(orderId, client.id, spec.reason!);
 }
 
-async function seedRequest(spec: ScenarioRequest) {
+/** Makes one request of the scenario and takes it to its end state; false when it is there already. */
+export async function seedScenarioRequest(spec: ScenarioRequest) {
   const clientId = await orgId(spec.client);
   const [existing] = await db
     .select({ id: schema.requests.id })
@@ -710,7 +864,7 @@ async function seedMeridianApplication() {
 /** Seeds what is missing of the scenario; returns how many requests were made this time. */
 export async function seedDemoScenario() {
   let made = 0;
-  for (const spec of SCENARIO) if (await seedRequest(spec)) made++;
+  for (const spec of SCENARIO) if (await seedScenarioRequest(spec)) made++;
   const meridian = await seedMeridianApplication();
   return { requests: made, meridianApplication: meridian };
 }
