@@ -1,5 +1,9 @@
-// The calibration check of a lab's vetting application: refined cell against the certified one, the verdict and the plot.
-import { ScanPlot } from "./scan-plot";
+// The calibration check of a lab's vetting application: refined cell against the certified one, the verdict and the
+// plot (the same interactive plot as a delivered scan's check).
+import { useMemo } from "react";
+import type { WholePatternFigures } from "~/diffraction/phases";
+import { CheckPlot, type CheckPlotData } from "./check-plot";
+import { rFactor } from "./check-words";
 import { Badge } from "./ui";
 import { APPROVAL_TOLERANCE_A, APPROVAL_TOLERANCE_REASON, CALIBRATION_STANDARDS, withinTolerance, type CalibrationCheck } from "~/domain/vetting";
 import { MONOCHROMATION_LABELS } from "~/domain/capabilities";
@@ -21,9 +25,27 @@ function profileRow(check: CalibrationCheck): [string, string][] {
   return [];
 }
 
-export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
+/** The plot of a calibration check; a calculated curve and whole-pattern figures where the stored check has them. */
+type CalibrationWithFit = CalibrationCheck & { plot: CalibrationCheck["plot"] & { calculated?: number[] | null }; wholePattern?: WholePatternFigures | null };
+
+export function CalibrationSummary({ check }: { check: CalibrationWithFit }) {
   const standard = CALIBRATION_STANDARDS[check.standard];
   const ok = withinTolerance(check);
+  const plot: CheckPlotData = useMemo(() => {
+    const p = check.plot;
+    const ticks = p.ticks.map((t) => ({ twoTheta: t.twoTheta, label: `(${t.label})` }));
+    return {
+      twoTheta: p.twoTheta,
+      observed: p.observed,
+      background: p.background,
+      fitted: p.fitted,
+      calculated: p.calculated?.length === p.twoTheta.length ? p.calculated : null,
+      wavelength: check.instrument.wavelength,
+      ticks,
+      rows: [{ name: standard.label, role: "main", present: true, ticks }],
+    };
+  }, [check, standard.label]);
+  const wp = check.wholePattern;
   const rows: [string, string][] = [
     ["Standard", standard.label],
     [
@@ -34,7 +56,10 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
     ["Certified a", `${check.certifiedA.toFixed(7)} ± ${check.certifiedUncertainty} Å`],
     ["Deviation", check.deviationA === null ? "—" : `${signed(check.deviationA, 6)} Å (${signed(check.deviationPpm ?? 0, 1)} ppm)`],
     ["Zero shift", `${signed(check.zeroShift, 4)}°${check.zeroShiftEsd !== null ? ` ± ${check.zeroShiftEsd.toFixed(4)}°` : ""} 2θ`],
-    ["Peaks", `${check.peaksIndexed} of ${check.peaksFound} indexed · M20 ${check.m20?.toFixed(0) ?? "—"} · F_N ${check.fn?.toFixed(0) ?? "—"}`],
+    [
+      "Peaks",
+      `${check.peaksIndexed} of ${check.peaksFound} indexed · M20 ${check.m20?.toFixed(0) ?? "—"} · F_N ${check.fn?.toFixed(0) ?? "—"}${wp ? ` · Rwp ${rFactor(wp.Rwp)} · Rexp ${rFactor(wp.Rexp)} · GoF ${wp.GoF.toFixed(2)}` : ""}`,
+    ],
     ...profileRow(check),
   ];
   return (
@@ -73,13 +98,10 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
           ))}
         </ul>
       ) : null}
-      <ScanPlot
-        title={`Calibration scan of ${standard.label}: observed, fitted, reflections and difference`}
-        twoTheta={check.plot.twoTheta}
-        observed={check.plot.observed}
-        fitted={check.plot.fitted}
-        background={check.plot.background}
-        ticks={check.plot.ticks}
+      <CheckPlot
+        data={plot}
+        height={320}
+        label={`Calibration scan of ${standard.label}: observed on top of the ${plot.calculated ? "whole-pattern fit" : "sum of freely fitted peaks"}, reflections and difference`}
       />
       <p className="text-xs text-ink-500">
         {check.scanFileName}

@@ -1,153 +1,363 @@
-// The interactive pattern of a lattice check (uPlot on a canvas): observed counts, background, fitted profile,
-// the difference curve offset below, tick marks at the refined cell's reflections, and marks over peaks that are
-// not the sample's (Kβ, tungsten L, holder lines). Drag to zoom in 2θ,
-// Shift + drag or the arrow buttons to pan, the wheel to zoom around the pointer, double-click to reset.
-import { useEffect, useRef, useState } from "react";
+// The interactive pattern of a lattice check (uPlot on a canvas). The observed counts are drawn last, on top, as
+// a thin dark line (and as points once zoomed in far enough); under them the calculated curve — the whole-pattern
+// fit when the check made one, else the sum of the freely fitted peaks, labelled as such — and the background;
+// below the pattern one tick row per declared phase (an absent phase's row dashed and faint), rows for the lines
+// that are not the sample's (tube: Kβ, tungsten L; holder), and the difference observed − calculated. Sample
+// peaks no phase indexes get a red triangle above their top. The x axis reads 2θ, d-spacing or Q: the data stay
+// on their 2θ points and only the axis's labels change. The freely fitted peaks can be shown as a layer of their
+// own. Drag to zoom, Shift + drag or the arrow buttons to pan, the wheel zooms around the pointer, double-click
+// resets.
+import { useEffect, useId, useRef, useState } from "react";
 import type uPlotType from "uplot";
 import "uplot/dist/uPlot.min.css";
 import { useFormat } from "~/components/locale";
+import { axisNumber, axisUnit, dOf, type PlotAxis, qOf, roundSplits } from "./plot-axis";
 
 export interface CheckPlotTick {
   twoTheta: number;
-  /** Miller indices as written, e.g. "1 1 1". */
+  /** Miller indices as written ("1 1 1"), or the line's words ("Cu Kβ of (1 1 0)"). */
   label: string;
+}
+
+/** One row of tick marks under the pattern: a declared phase's reflections. */
+export interface CheckPlotRow {
+  /** The phase's name as the key shows it, e.g. "LiFePO4"; null when the sample names none. */
+  name: string | null;
+  role: "main" | "expected";
+  /** False: the scan does not show the phase; its row is drawn dashed and faint. */
+  present: boolean;
+  ticks: CheckPlotTick[];
+  /** Where the ticks come from when the phase was not refined ("declared cell"). */
+  note?: string;
+}
+
+/** A line that is not the sample's: a tube line (Kβ, tungsten L) or a line of the sample holder. */
+export interface CheckPlotMark extends CheckPlotTick {
+  kind?: "tube" | "holder";
 }
 
 export interface CheckPlotData {
   twoTheta: ArrayLike<number>;
   observed: ArrayLike<number>;
   background: ArrayLike<number>;
+  /** The sum of the freely fitted single peaks, with the background. */
   fitted: ArrayLike<number>;
+  /** The whole-pattern fit's calculated curve with the background; null or absent when the check made none. */
+  calculated?: ArrayLike<number> | null;
+  /** Kα1 wavelength, Å: with it the x axis can read d-spacing or Q. */
+  wavelength?: number | null;
+  /** One tick row of the sample's reflections, used when `rows` is absent. */
   ticks: CheckPlotTick[];
-  /** Peaks that are not the sample's, with their words ("Cu Kβ of (1 1 0)"); drawn as marks above the tick row. */
-  marks?: CheckPlotTick[];
+  /** One tick row per declared phase, top to bottom (main first). */
+  rows?: CheckPlotRow[];
+  /** Peaks that are not the sample's, with their words ("Cu Kβ of (1 1 0)"); a row per kind. */
+  marks?: CheckPlotMark[];
+  /** Sample peaks no phase indexes: a triangle above each. */
+  unindexed?: CheckPlotTick[];
 }
 
-// The product's own palette (app.css): observed in ink, fitted in beam violet, background grey, difference in ok green.
-const COLOURS = { observed: "#252a35", fitted: "#5b4ee6", background: "#8690a3", difference: "#15803d", ticks: "#3c31a8", marks: "#b45309" };
+// The product's own palette (app.css) plus a few distinct hues for further phases: observed in ink, the
+// calculated curve in beam violet, background grey, difference in ok green, phases each in their own colour.
+const COLOURS = {
+  observed: "#161a22",
+  calculated: "#7a70ee",
+  background: "#8690a3",
+  difference: "#15803d",
+  free: "#0e7490",
+  tube: "#b45309",
+  holder: "#636d81",
+  unindexed: "#c62828",
+};
+/** Tick-row colours: the main phase in beam violet, then further phases (all ≥ 4.5 : 1 on white). */
+const PHASE_COLOURS = ["#3c31a8", "#0f766e", "#be185d", "#1d4ed8", "#7c3aed", "#4d7c0f"];
+export const phaseColour = (i: number) => PHASE_COLOURS[i % PHASE_COLOURS.length];
 
-/** The y offsets that put the tick row and the difference curve under the pattern. */
-export function plotLayout(data: CheckPlotData) {
+const ROW_PX = 14;
+
+/** The tick rows under the pattern, top to bottom: one per phase, then tube lines and holder lines when any. */
+function tickRows(data: CheckPlotData) {
+  const rows: { key: string; label: string; colour: string; faint: boolean; ticks: CheckPlotTick[] }[] = [];
+  if (data.rows?.length) {
+    data.rows.forEach((r, i) => rows.push({ key: `phase-${i}`, label: phaseRowLabel(r, i), colour: phaseColour(i), faint: !r.present, ticks: r.ticks }));
+  } else if (data.ticks.length) {
+    rows.push({ key: "phase-0", label: "Reflections of the refined cell", colour: phaseColour(0), faint: false, ticks: data.ticks });
+  }
+  const marks = data.marks ?? [];
+  const tube = marks.filter((m) => m.kind !== "holder");
+  const holder = marks.filter((m) => m.kind === "holder");
+  const untyped = marks.every((m) => !m.kind);
+  if (tube.length) {
+    rows.push({
+      key: "tube",
+      label: untyped ? "Lines that are not the sample's (Kβ, tungsten L, holder)" : "Tube lines (Kβ, tungsten L)",
+      colour: COLOURS.tube,
+      faint: false,
+      ticks: tube,
+    });
+  }
+  if (holder.length) rows.push({ key: "holder", label: "Holder lines", colour: COLOURS.holder, faint: false, ticks: holder });
+  return rows;
+}
+
+function phaseRowLabel(r: CheckPlotRow, i: number) {
+  const role = r.role === "main" ? "main" : "expected";
+  const name = r.name?.trim() ? `${r.name.trim()} — ${role}` : r.role === "main" ? "Main phase" : `Expected phase ${i + 1}`;
+  return `${name}${r.present ? "" : ", absent"}${r.note ? ` (${r.note})` : ""}`;
+}
+
+/**
+ * The y positions (in counts) that put the tick rows and the difference curve under the pattern. Each tick row
+ * gets about ROW_PX pixels of a plot `plotPx` high, whatever the counts: T = K / (1 − rows·ROW_PX / plotPx).
+ */
+function plotLayout(data: CheckPlotData, rowCount = 1, plotPx = 280) {
+  const calc = data.calculated ?? data.fitted;
   let lo = Infinity;
   let hi = -Infinity;
   let diffAmp = 0;
   const n = data.twoTheta.length;
   for (let i = 0; i < n; i++) {
     const o = data.observed[i];
-    const f = data.fitted[i];
+    const f = calc[i];
     lo = Math.min(lo, o, f, data.background[i]);
     hi = Math.max(hi, o, f);
     diffAmp = Math.max(diffAmp, Math.abs(o - f));
   }
   if (!Number.isFinite(lo)) [lo, hi] = [0, 1];
   const span = Math.max(hi - lo, 1);
-  const tickRow = lo - 0.05 * span;
-  const diffZero = tickRow - 0.05 * span - diffAmp;
-  return { tickRow, diffZero, top: hi + 0.04 * span, bottom: diffZero - diffAmp - 0.02 * span };
+  const fixed = span * (1 + 0.08 + 0.04 + 0.04 + 0.02) + 2 * diffAmp;
+  const share = Math.min(0.5, (Math.max(rowCount, 1) * ROW_PX) / Math.max(plotPx, 100));
+  const total = fixed / (1 - share);
+  const rowGap = (total * share) / Math.max(rowCount, 1);
+  const firstRow = lo - 0.04 * span - rowGap / 2;
+  const rows = Array.from({ length: Math.max(rowCount, 1) }, (_, i) => firstRow - i * rowGap);
+  const diffZero = rows[rows.length - 1] - rowGap / 2 - 0.04 * span - diffAmp;
+  return { lo, tickRow: rows[0], rows, rowGap, diffZero, top: hi + 0.08 * span, bottom: diffZero - diffAmp - 0.02 * span };
 }
 
-function toColumns(data: CheckPlotData, diffZero: number): uPlotType.AlignedData {
-  const n = data.twoTheta.length;
-  const x = new Float64Array(n);
-  const diff = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    x[i] = data.twoTheta[i];
-    diff[i] = data.observed[i] - data.fitted[i] + diffZero;
+/** The nearest of a sorted 2θ array's indices to a value. */
+function nearestIndex(xs: ArrayLike<number>, x: number) {
+  let lo = 0;
+  let hi = xs.length - 1;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >> 1;
+    if (xs[mid] < x) lo = mid;
+    else hi = mid;
   }
-  const copy = (a: ArrayLike<number>) => Float64Array.from(a as ArrayLike<number>);
-  return [x, copy(data.observed), copy(data.background), copy(data.fitted), diff] as unknown as uPlotType.AlignedData;
+  return Math.abs(xs[lo] - x) <= Math.abs(xs[hi] - x) ? lo : hi;
 }
+
+/** The highest observed count within ±0.1° of a peak: where its triangle sits. */
+function peakTop(data: CheckPlotData, twoTheta: number) {
+  const i = nearestIndex(data.twoTheta, twoTheta);
+  let top = data.observed[i];
+  for (let j = i - 1; j >= 0 && data.twoTheta[j] >= twoTheta - 0.1; j--) top = Math.max(top, data.observed[j]);
+  for (let j = i + 1; j < data.twoTheta.length && data.twoTheta[j] <= twoTheta + 0.1; j++) top = Math.max(top, data.observed[j]);
+  return top;
+}
+
+const AXIS_WORDS: Record<PlotAxis, { label: string; short: string }> = {
+  twoTheta: { label: "2θ (degrees)", short: "2θ" },
+  d: { label: "d-spacing (Å), decreasing to the right", short: "d" },
+  q: { label: "Q = 4π sin θ / λ (Å⁻¹)", short: "Q" },
+};
 
 export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { data: CheckPlotData; height?: number; label?: string }) {
   const fmt = useFormat();
+  const id = useId();
   const host = useRef<HTMLDivElement>(null);
   const plot = useRef<uPlotType | null>(null);
   const [range, setRange] = useState<[number, number] | null>(null);
+  const [axis, setAxis] = useState<PlotAxis>("twoTheta");
+  const [showFree, setShowFree] = useState(false);
+  const [hover, setHover] = useState<string | null>(null);
+  // The zoom and the free-peak layer outlive a rebuild for another axis (the same data keeps its window).
+  const kept = useRef<{ data: CheckPlotData; range: [number, number] | null; showFree: boolean }>({ data, range: null, showFree: false });
+  kept.current.showFree = showFree;
   const n = data.twoTheta.length;
   const full: [number, number] = n > 0 ? [data.twoTheta[0], data.twoTheta[n - 1]] : [0, 1];
+  const wavelength = data.wavelength && data.wavelength > 0 ? data.wavelength : null;
+  const wholePattern = data.calculated != null && data.calculated.length === n;
+  const rows = tickRows(data);
+  const plotHeight = height + Math.max(0, rows.length - 1) * ROW_PX;
+  const FREE = 2; // series index of the freely fitted peaks' layer (only with a whole-pattern fit)
 
-  // biome-ignore lint/correctness/useExhaustiveDependencies: the plot is rebuilt only when the data object or height changes; zoom state lives in uPlot
+  // biome-ignore lint/correctness/useExhaustiveDependencies: the plot is rebuilt only when the data, height or axis change; zoom state lives in uPlot
   useEffect(() => {
     let disposed = false;
     let cleanup = () => {};
+    if (kept.current.data !== data) kept.current = { data, range: null, showFree: kept.current.showFree };
     (async () => {
       const { default: uPlot } = await import("uplot");
       if (disposed || !host.current) return;
       const el = host.current;
-      const layout = plotLayout(data);
-      const ticks = data.ticks;
-      const drawTicks = (u: uPlotType) => {
+      const layout = plotLayout(data, rows.length, plotHeight - 80);
+      const calc = wholePattern ? data.calculated! : data.fitted;
+      const unindexed = (data.unindexed ?? []).map((p) => ({ ...p, top: peakTop(data, p.twoTheta) }));
+      const dpr = () => devicePixelRatio;
+
+      const drawRows = (u: uPlotType) => {
         const ctx = u.ctx;
-        const y = u.valToPos(layout.tickRow, "y", true);
         const [xMin, xMax] = [u.scales.x.min ?? full[0], u.scales.x.max ?? full[1]];
+        const gapPx = Math.abs(u.valToPos(layout.rows[0], "y", true) - u.valToPos(layout.rows[0] - layout.rowGap, "y", true));
+        const half = Math.max(2 * dpr(), Math.min(6 * dpr(), gapPx * 0.36));
         ctx.save();
-        ctx.strokeStyle = COLOURS.ticks;
-        ctx.lineWidth = Math.max(1, devicePixelRatio);
-        ctx.beginPath();
-        for (const t of ticks) {
-          if (t.twoTheta < xMin || t.twoTheta > xMax) continue;
-          const x = u.valToPos(t.twoTheta, "x", true);
-          ctx.moveTo(x, y - 6 * devicePixelRatio);
-          ctx.lineTo(x, y + 6 * devicePixelRatio);
-        }
-        ctx.stroke();
-        // Lines that are not the sample's: a short mark above the tick row, in the caution colour.
-        const marks = data.marks ?? [];
-        if (marks.length > 0) {
-          ctx.strokeStyle = COLOURS.marks;
+        ctx.lineWidth = Math.max(1, dpr());
+        rows.forEach((row, r) => {
+          const y = u.valToPos(layout.rows[r], "y", true);
+          ctx.strokeStyle = row.colour;
+          ctx.globalAlpha = row.faint ? 0.55 : 1;
+          ctx.setLineDash(row.faint ? [2 * dpr(), 2 * dpr()] : []);
           ctx.beginPath();
-          for (const m of marks) {
-            if (m.twoTheta < xMin || m.twoTheta > xMax) continue;
-            const x = u.valToPos(m.twoTheta, "x", true);
-            ctx.moveTo(x, y - 16 * devicePixelRatio);
-            ctx.lineTo(x, y - 8 * devicePixelRatio);
+          for (const t of row.ticks) {
+            if (t.twoTheta < xMin || t.twoTheta > xMax) continue;
+            const x = u.valToPos(t.twoTheta, "x", true);
+            ctx.moveTo(x, y - half);
+            ctx.lineTo(x, y + half);
           }
           ctx.stroke();
+        });
+        ctx.globalAlpha = 1;
+        ctx.setLineDash([]);
+        // Unindexed sample peaks: a red triangle pointing down at the peak, just above its top.
+        ctx.fillStyle = COLOURS.unindexed;
+        for (const p of unindexed) {
+          if (p.twoTheta < xMin || p.twoTheta > xMax) continue;
+          const x = u.valToPos(p.twoTheta, "x", true);
+          const y = u.valToPos(p.top, "y", true) - 4 * dpr();
+          ctx.beginPath();
+          ctx.moveTo(x, y);
+          ctx.lineTo(x - 4 * dpr(), y - 7 * dpr());
+          ctx.lineTo(x + 4 * dpr(), y - 7 * dpr());
+          ctx.closePath();
+          ctx.fill();
         }
         ctx.restore();
       };
+
+      // The tick or triangle under the pointer (within 4 px), named beside the plot: the nearest row, then the nearest tick.
+      const hoverWords = (u: uPlotType) => {
+        const left = u.cursor.left;
+        const top = u.cursor.top;
+        if (left == null || top == null || left < 0) return null;
+        const nearest = <T extends CheckPlotTick>(ticks: readonly T[]) => {
+          let best: T | null = null;
+          let bestPx = 4;
+          for (const t of ticks) {
+            const px = Math.abs(u.valToPos(t.twoTheta, "x") - left);
+            if (px <= bestPx) [best, bestPx] = [t, px];
+          }
+          return best;
+        };
+        const peak = unindexed.length ? nearest(unindexed) : null;
+        if (peak && Math.abs(u.valToPos(peak.top, "y") - top) <= 24) return `Unindexed sample peak at 2θ ${peak.twoTheta.toFixed(3)}°`;
+        const byDistance = rows.map((row, r) => ({ row, dy: Math.abs(u.valToPos(layout.rows[r], "y") - top) })).sort((x, y) => x.dy - y.dy);
+        const near = byDistance[0];
+        if (!near || near.dy > 12) return null;
+        const tick = nearest(near.row.ticks);
+        return tick ? `${near.row.label}: ${tick.label} at 2θ ${tick.twoTheta.toFixed(3)}°` : null;
+      };
+
+      const unitValue = (v: number) => {
+        if (axis === "twoTheta" || !wavelength) return `${v.toFixed(3)}°`;
+        return axis === "d" ? `${dOf(v, wavelength).toFixed(4)} Å (2θ ${v.toFixed(3)}°)` : `${qOf(v, wavelength).toFixed(4)} Å⁻¹ (2θ ${v.toFixed(3)}°)`;
+      };
+      const counts = (_u: uPlotType, v: number | null) => (v == null ? "—" : v.toFixed(0));
+      const xAxis: uPlotType.Axis = { label: AXIS_WORDS[axis].label, stroke: "#3a4151", grid: { stroke: "#eceef2" }, ticks: { stroke: "#d6dae2" } };
+      if (axis !== "twoTheta" && wavelength) {
+        const [toUnit, fromUnit] = axisUnit(axis, wavelength);
+        xAxis.splits = (u, _i, min, max) => roundSplits(min, max, toUnit, fromUnit, u.bbox.width / dpr());
+        xAxis.values = (_u, splits) => splits.map((x) => axisNumber(toUnit(x)));
+      }
+      const series: uPlotType.Series[] = [
+        { label: AXIS_WORDS[axis].short, value: (_u, v) => (v == null ? "—" : unitValue(v)) },
+        { label: "Background", stroke: COLOURS.background, width: 1, dash: [4, 3], value: counts },
+      ];
+      if (wholePattern) {
+        series.push({
+          label: "Freely fitted peaks (sum; separate layer)",
+          stroke: COLOURS.free,
+          width: 1,
+          dash: [5, 3],
+          show: kept.current.showFree,
+          value: counts,
+        });
+        series.push({ label: "Calculated (whole-pattern fit)", stroke: COLOURS.calculated, width: 2, value: counts });
+      } else {
+        series.push({ label: "Sum of freely fitted peaks — not a whole-pattern fit", stroke: COLOURS.calculated, width: 2, value: counts });
+      }
+      series.push(
+        {
+          label: wholePattern ? "Difference (observed − calculated, offset)" : "Difference (observed − sum of free peaks, offset)",
+          stroke: COLOURS.difference,
+          width: 1,
+          value: (_u, v) => (v == null ? "—" : (v - layout.diffZero).toFixed(0)),
+        },
+        // Last, so it is drawn on top of every other curve; points once zoomed in enough to tell them apart.
+        {
+          label: "Observed",
+          stroke: COLOURS.observed,
+          width: 1,
+          // Points once each has 5 CSS pixels of its own, i.e. when zoomed in.
+          points: { show: (u, _s, i0, i1) => (i1 - i0) * 5 * dpr() < u.bbox.width, size: 4, fill: COLOURS.observed, stroke: COLOURS.observed },
+          value: counts,
+        },
+      );
+      const x = Float64Array.from(data.twoTheta as ArrayLike<number>);
+      const diff = new Float64Array(n);
+      for (let i = 0; i < n; i++) diff[i] = data.observed[i] - calc[i] + layout.diffZero;
+      const copy = (a: ArrayLike<number>) => Float64Array.from(a as ArrayLike<number>);
+      const columns = [x, copy(data.background), ...(wholePattern ? [copy(data.fitted), copy(calc)] : [copy(calc)]), diff, copy(data.observed)];
+
       const opts: uPlotType.Options = {
         width: Math.max(320, el.clientWidth),
-        height,
+        height: plotHeight,
         pxAlign: false,
         cursor: { drag: { x: true, y: false, setScale: true }, points: { show: false } },
         scales: {
           x: { time: false },
           y: {
-            // Keep the tick row and the difference curve in view whatever the zoom.
-            range: (u, min, max) => [Math.min(min, layout.bottom), Math.max(max, layout.tickRow + 1)],
+            // Keep the tick rows and the difference curve in view whatever the zoom, with room for the triangles.
+            range: (_u, min, max) => {
+              const hi = Math.max(max, layout.tickRow + 1);
+              const lo = Math.min(min, layout.bottom);
+              return [lo, hi + 0.06 * (hi - layout.lo)];
+            },
           },
         },
         axes: [
-          { label: "2θ (degrees)", stroke: "#3a4151", grid: { stroke: "#eceef2" }, ticks: { stroke: "#d6dae2" } },
-          { label: "Counts", stroke: "#3a4151", grid: { stroke: "#eceef2" }, ticks: { stroke: "#d6dae2" }, size: 64 },
-        ],
-        series: [
-          { label: "2θ", value: (_u, v) => (v == null ? "—" : `${v.toFixed(3)}°`) },
-          { label: "Observed", stroke: COLOURS.observed, width: 1, value: (_u, v) => (v == null ? "—" : v.toFixed(0)) },
-          { label: "Background", stroke: COLOURS.background, width: 1, dash: [4, 3], value: (_u, v) => (v == null ? "—" : v.toFixed(0)) },
-          { label: "Fitted profile", stroke: COLOURS.fitted, width: 1.5, value: (_u, v) => (v == null ? "—" : v.toFixed(0)) },
+          xAxis,
           {
-            label: "Difference (offset)",
-            stroke: COLOURS.difference,
-            width: 1,
-            value: (_u, v) => (v == null ? "—" : (v - layout.diffZero).toFixed(0)),
+            label: "Counts",
+            stroke: "#3a4151",
+            grid: { stroke: "#eceef2", filter: (_u, splits) => splits.map((v) => (v >= layout.lo - 1e-9 ? v : null)) },
+            ticks: { stroke: "#d6dae2", filter: (_u, splits) => splits.map((v) => (v >= layout.lo - 1e-9 ? v : null)) },
+            // Counts are labelled on the pattern only, not beside the tick rows and the offset difference.
+            filter: (_u, splits) => splits.map((v) => (v >= layout.lo - 1e-9 ? v : null)),
+            size: 64,
           },
         ],
+        series,
         hooks: {
-          draw: [drawTicks],
+          draw: [drawRows],
           setScale: [
             (u, key) => {
               if (key !== "x") return;
               const min = u.scales.x.min;
               const max = u.scales.x.max;
-              if (min != null && max != null) setRange([min, max]);
+              if (min != null && max != null) {
+                setRange([min, max]);
+                kept.current.range = [min, max];
+              }
             },
           ],
+          setCursor: [(u) => setHover(hoverWords(u))],
+          setSeries: [(u, i) => i === FREE && wholePattern && setShowFree(u.series[FREE].show !== false)],
         },
       };
-      const u = new uPlot(opts, toColumns(data, layout.diffZero), el);
+      const u = new uPlot(opts, columns as unknown as uPlotType.AlignedData, el);
       plot.current = u;
+      const keep = kept.current.range;
+      if (keep) u.setScale("x", { min: keep[0], max: keep[1] });
 
       // Shift + drag pans: handled in the capture phase so uPlot's own drag-to-zoom does not start.
       let panFrom: { x: number; min: number; max: number } | null = null;
@@ -174,7 +384,7 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
         const next = zoomAround(min, max, at, factor, full);
         u.setScale("x", { min: next[0], max: next[1] });
       };
-      const resize = new ResizeObserver(() => u.setSize({ width: Math.max(320, el.clientWidth), height }));
+      const resize = new ResizeObserver(() => u.setSize({ width: Math.max(320, el.clientWidth), height: plotHeight }));
       el.addEventListener("mousedown", onDown, true);
       window.addEventListener("mousemove", onMove);
       window.addEventListener("mouseup", onUp);
@@ -195,7 +405,7 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
       disposed = true;
       cleanup();
     };
-  }, [data, height]);
+  }, [data, plotHeight, axis]);
 
   const zoomed = range !== null && (range[0] > full[0] + 1e-9 || range[1] < full[1] - 1e-9);
   const pan = (direction: 1 | -1) => {
@@ -207,15 +417,16 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
     u.setScale("x", { min: min + shift, max: max + shift });
   };
   const reset = () => plot.current?.setScale("x", { min: full[0], max: full[1] });
+  const toggleFree = (show: boolean) => {
+    setShowFree(show);
+    plot.current?.setSeries(FREE, { show });
+  };
+  const unindexedCount = data.unindexed?.length ?? 0;
 
   return (
-    <figure className="space-y-2" aria-label={label}>
+    <figure className="space-y-2">
       <div className="flex flex-wrap items-center justify-between gap-2 text-xs text-ink-600">
-        <p data-testid="plot-range">
-          {range && zoomed
-            ? `Showing 2θ ${range[0].toFixed(2)}°–${range[1].toFixed(2)}° of ${full[0].toFixed(2)}°–${full[1].toFixed(2)}°`
-            : `Whole scan, 2θ ${full[0].toFixed(2)}°–${full[1].toFixed(2)}° (${fmt.number(n)} points)`}
-        </p>
+        <p data-testid="plot-range">{rangeWords(range && zoomed ? range : null, full, n, axis, wavelength, fmt.number)}</p>
         <div className="flex gap-1">
           <button type="button" className="btn-secondary px-2 py-1 text-xs" onClick={() => pan(-1)} disabled={!zoomed} aria-label="Pan to lower 2θ">
             ← Pan
@@ -228,17 +439,110 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
           </button>
         </div>
       </div>
-      <div ref={host} className="check-plot w-full overflow-hidden rounded-lg border border-ink-200 bg-white" data-testid="check-plot" />
+      <div className="flex flex-wrap items-center gap-x-6 gap-y-2 text-xs text-ink-700">
+        {wavelength ? (
+          <fieldset className="flex flex-wrap items-center gap-3">
+            <legend className="float-left mr-2 font-medium">x axis</legend>
+            {(
+              [
+                ["twoTheta", "2θ (°)"],
+                ["d", "d-spacing (Å)"],
+                ["q", "Q (Å⁻¹)"],
+              ] as const
+            ).map(([value, words]) => (
+              <label key={value} className="inline-flex items-center gap-1">
+                <input type="radio" name={`${id}-axis`} value={value} checked={axis === value} onChange={() => setAxis(value)} />
+                {words}
+              </label>
+            ))}
+          </fieldset>
+        ) : null}
+        {wholePattern ? (
+          <label className="inline-flex items-center gap-1">
+            <input type="checkbox" checked={showFree} onChange={(e) => toggleFree(e.target.checked)} />
+            Show the freely fitted peaks (a separate layer, not the whole-pattern fit)
+          </label>
+        ) : null}
+      </div>
+      <div
+        ref={host}
+        role="img"
+        aria-label={label}
+        // A hidden series keeps its legend words at full contrast, struck through; only its marker fades (uPlot's own
+        // stylesheet fades the whole row, unlayered, hence the important opacity).
+        className="check-plot w-full overflow-hidden rounded-lg border border-ink-200 bg-white [&_.u-legend_.u-off>*]:opacity-100! [&_.u-legend_.u-off_.u-label]:line-through [&_.u-legend_.u-off_.u-marker]:opacity-30"
+        data-testid="check-plot"
+        data-axis={axis}
+        data-calculated={wholePattern ? "whole-pattern" : "free-peaks"}
+      />
+      <p className="min-h-4 text-xs text-ink-700" data-testid="plot-hover">
+        {hover ?? ""}
+      </p>
+      {rows.length || unindexedCount ? (
+        <ul className="flex flex-wrap gap-x-5 gap-y-1 text-xs text-ink-700" aria-label="Marks under and over the pattern" data-testid="plot-key">
+          {rows.map((r) => (
+            <li key={r.key} className="inline-flex items-center gap-1.5" data-faint={r.faint ? "true" : undefined}>
+              <svg viewBox="0 0 24 12" className="h-3 w-6" aria-hidden="true" focusable="false">
+                <path
+                  d="M3 1v10M9 1v10M15 1v10M21 1v10"
+                  stroke={r.colour}
+                  strokeWidth="1.6"
+                  strokeDasharray={r.faint ? "2 2" : undefined}
+                  opacity={r.faint ? 0.55 : 1}
+                />
+              </svg>
+              {r.label}
+              <span className="text-ink-600">({r.ticks.length})</span>
+            </li>
+          ))}
+          {unindexedCount ? (
+            <li className="inline-flex items-center gap-1.5">
+              <svg viewBox="0 0 12 12" className="h-3 w-3" aria-hidden="true" focusable="false">
+                <path d="M6 10 1.5 2h9Z" fill={COLOURS.unindexed} />
+              </svg>
+              Sample peaks no declared phase indexes <span className="text-ink-600">({unindexedCount})</span>
+            </li>
+          ) : null}
+        </ul>
+      ) : null}
       <figcaption className="text-xs text-ink-600">
-        Drag across the plot to zoom in 2θ, Shift + drag to pan, the mouse wheel zooms around the pointer, double-click resets. Short vertical marks under the
-        pattern are the refined cell&apos;s reflections
-        {data.marks?.length
-          ? "; the orange marks above them are peaks that are not the sample's (Kβ, tungsten L or holder lines, named in the peaks table)"
-          : ""}
-        ; the green curve below is observed − fitted.
+        {wholePattern ? (
+          <>
+            The dark line (drawn on top) is the observed scan; the violet curve is calculated by the whole-pattern fit from the phases&apos; cells (positions
+            from the cells, intensities free, one shared peak shape), so a wrong cell shows as misfit; the green curve below is observed − calculated.
+          </>
+        ) : (
+          <>
+            The dark line (drawn on top) is the observed scan.{" "}
+            <strong className="font-semibold text-ink-800">
+              The violet curve is the sum of freely fitted peaks — not a whole-pattern fit: each peak was fitted on its own, so it follows the scan whatever the
+              cell.
+            </strong>{" "}
+            The green curve below is observed − that sum.
+          </>
+        )}{" "}
+        Drag across the plot to zoom, Shift + drag to pan, the mouse wheel zooms around the pointer, double-click resets; point at a tick to name it.
+        {axis === "d" ? " On the d-spacing axis d decreases from left to right, because the data stay on their 2θ points." : ""}
       </figcaption>
     </figure>
   );
+}
+
+function rangeWords(
+  range: [number, number] | null,
+  full: [number, number],
+  n: number,
+  axis: PlotAxis,
+  wavelength: number | null,
+  number: (v: number) => string,
+) {
+  const twoTheta = (r: [number, number]) => `2θ ${r[0].toFixed(2)}°–${r[1].toFixed(2)}°`;
+  const unit = (r: [number, number]) => {
+    if (axis === "twoTheta" || !wavelength) return twoTheta(r);
+    if (axis === "d") return `d ${dOf(r[0], wavelength).toFixed(3)}–${dOf(r[1], wavelength).toFixed(3)} Å (${twoTheta(r)})`;
+    return `Q ${qOf(r[0], wavelength).toFixed(3)}–${qOf(r[1], wavelength).toFixed(3)} Å⁻¹ (${twoTheta(r)})`;
+  };
+  return range ? `Showing ${unit(range)} of ${twoTheta(full)}` : `Whole scan, ${unit(full)} (${number(n)} points)`;
 }
 
 function clampShift(shift: number, min: number, max: number, full: [number, number]) {

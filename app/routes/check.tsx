@@ -1,15 +1,18 @@
-// /checks/:id — one scan's lattice check for the order's client and its lab: verdict, plot, cells, peaks, downloads.
+// /checks/:id — one scan's lattice check for the order's client and its lab: the verdict and the acceptance window
+// side by side, the plot, the phases and candidate forms, cells, figures, peaks, downloads.
 import { useEffect, useMemo } from "react";
 import { Link, useRevalidator } from "react-router";
 import { Brand } from "~/components/brand";
-import { CheckPlot, type CheckPlotData } from "~/components/check-plot";
+import { CheckPlot } from "~/components/check-plot";
+import { CandidatesTable, PhasesTable, ROW_HEADER, WindowPanel } from "~/components/check-phases";
+import { checkPlotData, phaseName, phasesOf, wholePatternDetails, wholePatternWords } from "~/components/check-words";
 import { CheckStateBadge, CheckStatusBadge, useCheckStatus } from "~/components/check-status";
 import { PageHeader, TableCard } from "~/components/ui";
 import { checkStatusJson } from "~/domain/lattice-check";
 import { sampleOfFile } from "~/models/checks/queries.server";
 import { requireCheckAccess } from "~/utils/permissions.server";
 import { requestTitleOf } from "~/models/requests/requests.server";
-import { cellRows, foreignMarks, radiationWords, readStoredResult, type StoredCheckResult, VERDICT_WORDS } from "~/domain/check-result";
+import { cellRows, radiationWords, readStoredResult, type StoredCheckResult, VERDICT_WORDS } from "~/domain/check-result";
 import { CheckCorrections, CheckPeaksTable } from "~/components/check-peaks-table";
 import type { Verdict } from "~/diffraction/verdict";
 import type { Route } from "./+types/check";
@@ -127,17 +130,9 @@ function PendingCheck({ status }: { status: Route.ComponentProps["loaderData"]["
 function CheckResultView({ result }: { result: StoredCheckResult }) {
   const fmt = useFormat();
   const verdict = VERDICT_WORDS[result.verdict as Verdict];
-  const plotData: CheckPlotData = useMemo(
-    () => ({
-      twoTheta: result.profile.twoTheta,
-      observed: result.profile.observed,
-      background: result.profile.background,
-      fitted: result.profile.fitted,
-      ticks: result.reflections.map((t) => ({ twoTheta: t.twoTheta, label: `${t.h} ${t.k} ${t.l}` })),
-      marks: foreignMarks(result.peaks),
-    }),
-    [result],
-  );
+  const plotData = useMemo(() => checkPlotData(result), [result]);
+  const phases = phasesOf(result);
+  const wholePattern = result.wholePattern;
   const fom = result.figuresOfMerit;
   const indexed = result.peaks.filter((p) => p.hkl).length;
   const notSample = result.peaks.filter((p) => p.foreign).length;
@@ -145,36 +140,42 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
   const meanSize = sizes.length ? sizes.reduce((a, b) => a + b, 0) / sizes.length : null;
   return (
     <>
-      <section className="card space-y-3" aria-labelledby="verdict-heading">
-        <div className="flex flex-wrap items-center gap-3">
-          <h2 id="verdict-heading" className="text-lg font-semibold">
-            Verdict
-          </h2>
-          <span data-testid="verdict">
-            <CheckStateBadge status="done" verdict={result.verdict} />
-          </span>
-        </div>
-        <p className="text-ink-800">{verdict?.meaning}</p>
-        {result.reasons.length ? (
-          <ul className="list-disc space-y-1 pl-5 text-sm text-ink-700">
-            {result.reasons.map((r) => (
-              <li key={r}>{r}</li>
-            ))}
-          </ul>
-        ) : null}
-        <p className="text-xs text-ink-600">
-          {radiationWords(result.radiation)} · λ = {result.wavelength.toFixed(6)} Å
-          {result.radiationSource === "file" ? " (as the file states)" : result.radiationSource === "assumed" ? " (assumed)" : ""}
-          {result.declaredFrom.instrumentName ? ` · measured on ${result.declaredFrom.instrumentName}` : ""} · checked in {(result.elapsedMs / 1000).toFixed(2)}{" "}
-          s
-        </p>
-      </section>
+      <div className="grid gap-6 lg:grid-cols-2">
+        <section className="card min-w-0 space-y-3" aria-labelledby="verdict-heading">
+          <div className="flex flex-wrap items-center gap-3">
+            <h2 id="verdict-heading" className="text-lg font-semibold">
+              Verdict
+            </h2>
+            <span data-testid="verdict">
+              <CheckStateBadge status="done" verdict={result.verdict} />
+            </span>
+          </div>
+          <p className="text-ink-800">{verdict?.meaning}</p>
+          {result.reasons.length ? (
+            <ul className="list-disc space-y-1 pl-5 text-sm text-ink-700">
+              {result.reasons.map((r) => (
+                <li key={r}>{r}</li>
+              ))}
+            </ul>
+          ) : null}
+          <p className="text-xs text-ink-600">
+            {radiationWords(result.radiation)} · λ = {result.wavelength.toFixed(6)} Å
+            {result.radiationSource === "file" ? " (as the file states)" : result.radiationSource === "assumed" ? " (assumed)" : ""}
+            {result.declaredFrom.instrumentName ? ` · measured on ${result.declaredFrom.instrumentName}` : ""} · checked in{" "}
+            {(result.elapsedMs / 1000).toFixed(2)} s
+          </p>
+        </section>
+        <WindowPanel result={result} />
+      </div>
 
       <section className="card space-y-3" aria-labelledby="plot-heading">
         <h2 id="plot-heading" className="text-lg font-semibold">
           Pattern
         </h2>
-        <CheckPlot data={plotData} label="Observed, background, fitted profile, reflection marks and difference curve" />
+        <CheckPlot
+          data={plotData}
+          label={`Observed scan on top of the ${plotData.calculated ? "whole-pattern fit" : "sum of freely fitted peaks"}, the background, a tick row per phase and the difference curve`}
+        />
         {result.profile.thinned ? (
           <p className="text-xs text-ink-600">
             The scan has {fmt.number(result.profile.points)} points; the plot shows {fmt.number(result.profile.twoTheta.length)} of them, keeping each
@@ -183,15 +184,18 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
         ) : null}
       </section>
 
+      <PhasesTable result={result} />
+      {result.candidates?.length ? <CandidatesTable candidates={result.candidates} /> : null}
+
       <div className="grid gap-6 lg:grid-cols-2">
-        <section className="space-y-2" aria-labelledby="cell-heading">
+        <section className="min-w-0 space-y-2" aria-labelledby="cell-heading">
           <h2 id="cell-heading" className="text-lg font-semibold">
             Unit cell{result.system ? ` · ${result.system}${result.centering ? ` ${result.centering}` : ""}` : ""}
           </h2>
           <TableCard columns={["", "Declared", "Refined ± s.u.", "Deviation"]} caption="Declared and refined cell">
             {cellRows(result).map((row) => (
               <tr key={row.name}>
-                <th scope="row" className="font-medium">
+                <th scope="row" className={ROW_HEADER}>
                   {row.name}
                 </th>
                 <td className="tabular-nums">{row.declared}</td>
@@ -202,7 +206,7 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
           </TableCard>
           <CheckCorrections result={result} />
         </section>
-        <section className="space-y-2" aria-labelledby="merit-heading">
+        <section className="min-w-0 space-y-2" aria-labelledby="merit-heading">
           <h2 id="merit-heading" className="text-lg font-semibold">
             Figures of merit
           </h2>
@@ -216,6 +220,11 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
               {fom.FN != null
                 ? `F${fom.FNLines} = ${fom.FN.toFixed(1)}${fom.FNMeanDelta != null ? ` (⟨|Δ2θ|⟩ ${fom.FNMeanDelta.toFixed(4)}°, ${fom.FNPossible ?? "—"} possible lines)` : ""}`
                 : "not available"}
+            </dd>
+            <dt className="font-medium">Whole-pattern fit</dt>
+            <dd className="tabular-nums" data-testid="whole-pattern">
+              {wholePatternWords(result)}
+              {wholePattern ? <span className="block text-xs text-ink-600">{wholePatternDetails(wholePattern)}</span> : null}
             </dd>
             <dt className="font-medium">Peaks</dt>
             <dd>
@@ -232,7 +241,7 @@ function CheckResultView({ result }: { result: StoredCheckResult }) {
         <h2 id="peaks-heading" className="text-lg font-semibold">
           Peaks
         </h2>
-        <CheckPeaksTable peaks={result.peaks} />
+        <CheckPeaksTable peaks={result.peaks} phases={phases.map(phaseName)} />
       </section>
 
       {result.warnings.length ? (
