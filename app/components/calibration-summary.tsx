@@ -1,7 +1,6 @@
 // The calibration check of a lab's vetting application: refined cell against the certified one, the verdict and the
 // plot (the same interactive plot as a delivered scan's check).
 import { useMemo } from "react";
-import type { WholePatternFigures } from "~/diffraction/phases";
 import { CheckPlot, type CheckPlotData } from "./check-plot";
 import { rFactor } from "./check-words";
 import { Badge } from "./ui";
@@ -25,10 +24,8 @@ function profileRow(check: CalibrationCheck): [string, string][] {
   return [];
 }
 
-/** The plot of a calibration check; a calculated curve and whole-pattern figures where the stored check has them. */
-type CalibrationWithFit = CalibrationCheck & { plot: CalibrationCheck["plot"] & { calculated?: number[] | null }; wholePattern?: WholePatternFigures | null };
-
-export function CalibrationSummary({ check }: { check: CalibrationWithFit }) {
+/** The summary of a calibration check, with its plot: a calculated curve and whole-pattern figures where the stored check has them. */
+export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
   const standard = CALIBRATION_STANDARDS[check.standard];
   const ok = withinTolerance(check);
   const plot: CheckPlotData = useMemo(() => {

@@ -6,12 +6,14 @@ import { type CubicIndexing, indexCubic } from "./index-cubic";
 import { type HolderMatch, indexingWindow, matchHolderLines, matchStrayLines, type PeakOrigin, type StrayMatch } from "./foreign-lines";
 import { SAMPLE_HOLDER_IDS, type SampleHolder } from "./holders";
 import { penetrationMmOf, refinedLineShift } from "./line-shifts";
+import { allowedReflections } from "./reflections";
 import { deWolffM20, smithSnyderFN } from "./merit";
 import { type CheckableScan, type ParseScanOptions, parseScan, type ScanMetadata } from "./parse-scan";
 import { analysePeaks, type FittedPeak } from "./peaks";
 import { fitPhases, type PhaseFit } from "./mixture";
 import type { AcceptanceWindow, CandidateResult, DeclaredPhase, PhaseResult, PhaseTick, WholePatternFigures, WindowResult } from "./phases";
 import { median } from "./sorted";
+import { fitWholePattern, type WholePatternFit } from "./whole-pattern";
 import { fixedCellParameters, judgeWindow, windowProblem } from "./window";
 import {
   type CorrectionKind,
@@ -55,6 +57,11 @@ export interface LatticeCheckOptions {
   candidates?: DeclaredPhase[];
   /** The client's acceptance window on the main phase's cell. */
   window?: AcceptanceWindow;
+  /**
+   * Whether to make the whole-pattern fit (default true): the plot's calculated curve, Rwp/Rexp/GoF, the
+   * candidates' Rwp and the cells of overlapped phases. Without it the verdict and the cells are the same.
+   */
+  wholePattern?: boolean;
 }
 
 /** Why a peak is not the sample's: a stray tube line of another peak's reflection, or a holder line. */
@@ -357,17 +364,36 @@ export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOption
     }
   }
 
+  // The whole-pattern fit of the chosen hypothesis (and, for the candidates' figures, of the others).
+  const fitWhole = options.wholePattern !== false;
+  const whole = fitWhole ? wholePatternFor(ctx, analysis, scan, lines, outcome, warnings) : null;
+  if (candidates && fitWhole) {
+    for (const o of candidates) o.whole = o === outcome ? whole : wholePatternFor(ctx, analysis, scan, lines, o, null, { refineCells: false });
+  }
+
   const { refinement, peaks, foreignPeaks, decision, m20, fn } = outcome;
   const refined = outcome.refined;
-  const cell = refined ? refinement!.cell : null;
   const declared = outcome.declared;
   if (refinement) warnings.push(...refinement.warnings);
   if (peaks.length > 0 && !options.instrumentProfile) warnings.push(SCHERRER_CAUTION);
   const reflections: TickMark[] = refined ? ticksOf(refinement!, wavelength, scan.twoTheta[0], twoThetaMax) : [];
-  const phases = outcome.fits.map((f) => phaseResult(f, wavelength, scan.twoTheta[0], twoThetaMax));
+  const wholeIndex = wholePatternPhaseIndex(outcome);
+  const phases = outcome.fits.map((f, j) =>
+    phaseResult(f, j === 0 ? refined : f.present, outcome.refinement, whole?.refinedCells ? (whole.fit.phases[wholeIndex[j]] ?? null) : null, {
+      wavelength,
+      twoThetaMin: scan.twoTheta[0],
+      twoThetaMax,
+    }),
+  );
   const mainPhase = phases[0];
   if (mainPhase && outcome.main) mainPhase.name = outcome.main.name ?? null;
-  const windowResult = judgeWindow(options.window, declared, cell, refined ? refinement!.esd : null);
+  // The main phase's cell: from the peaks, or sharpened by the whole-pattern fit where its lines overlap.
+  const cell = refined ? (mainPhase?.cell ?? refinement!.cell) : null;
+  const esd = refined ? (mainPhase?.cell ? mainPhase.esd : refinement!.esd) : null;
+  if (mainPhase?.cellFrom === "whole_pattern") {
+    outcome.extraReasons.push("Many of the main phase's lines overlap, so its cell is the whole-pattern fit's rather than the peak refinement's.");
+  }
+  const windowResult = judgeWindow(options.window, declared, cell, esd);
   const t = options.transparency;
   const transparency = t && "refine" in t ? "refined" : t && "linearAttenuationPerCm" in t ? "fixed" : "none";
   return {
@@ -377,7 +403,7 @@ export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOption
     centering,
     declaredCell: declared,
     cell,
-    esd: refined ? refinement!.esd : null,
+    esd,
     correctionRequested,
     correction: refinement?.correction ?? (correctionRequested === "auto" ? "zero_and_displacement" : correctionRequested),
     zeroShift: refined ? refinement!.zeroShift : 0,
@@ -398,7 +424,7 @@ export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOption
     candidates: candidates ? candidates.map((o) => candidateResult(o, o === outcome)) : null,
     window: windowResult,
     withinWindow: windowResult.withinWindow,
-    wholePattern: null,
+    wholePattern: whole ? wholePatternFigures(whole.fit) : null,
     figuresOfMerit: {
       M20: m20 ? m20.value : null,
       M20Lines: m20 ? m20.lines : 0,
@@ -427,7 +453,7 @@ export function runLatticeCheck(scan: CheckableScan, options: LatticeCheckOption
     observed: scan.intensity,
     background: analysis.background,
     fittedProfile: analysis.fittedProfile,
-    calculatedProfile: null,
+    calculatedProfile: whole ? whole.fit.calculated : null,
     wavelength,
     scanFormat: scan.format ?? "xy",
     scanFormatLabel: scan.formatLabel ?? scan.format ?? "xy",
@@ -467,6 +493,8 @@ interface Outcome {
   strongIndexed: number;
   strongCount: number;
   extraReasons: string[];
+  /** The whole-pattern fit of this hypothesis, when one was made, and whether it refined the cells. */
+  whole?: WholePattern | null;
 }
 
 const STRONG_PEAKS = 10;
@@ -652,6 +680,89 @@ function emptyOutcome(ctx: CheckContext): Outcome {
   };
 }
 
+/**
+ * The whole-pattern fit (Le Bail extraction, whole-pattern.ts) of a hypothesis: the main phase and every
+ * present expected phase, from their refined cells (the declared cell where none was refined) and the main
+ * refinement's instrumental correction. Cells and corrections are refined with the profile unless the verdict
+ * is inconsistent, where they are held so that the calculated curve shows how the declared lattice misses the
+ * scan. A fit that fails leaves a warning and no figures; the check itself stands.
+ */
+function wholePatternFor(
+  ctx: CheckContext,
+  analysis: { background: Float64Array; variance: Float64Array; typicalFwhm: number },
+  scan: CheckableScan,
+  lines: { wavelength: number; weight: number }[],
+  o: Outcome,
+  warnings: string[] | null,
+  { refineCells }: { refineCells?: boolean } = {},
+): WholePattern | null {
+  if (!o.main || ctx.fitted.length === 0) return null;
+  const phases = o.fits
+    .filter((f, j) => j === 0 || f.present)
+    .map((f, j) => {
+      const r = f.refinement;
+      const ok = (j === 0 ? o.refined : f.present) && r !== null && r.used > 0;
+      return { system: f.phase.system, centering: f.phase.centering, cell: ok ? r!.cell : f.phase.cell };
+    });
+  if (phases.length === 0) return null;
+  const r = o.refined ? o.refinement! : null;
+  const refinedCells = refineCells ?? o.decision.verdict !== "inconsistent";
+  try {
+    const fit = fitWholePattern({
+      twoTheta: scan.twoTheta,
+      intensity: scan.intensity,
+      variance: analysis.variance,
+      background: analysis.background,
+      lines,
+      phases,
+      correction: {
+        kind: r ? r.correction : "zero_shift",
+        zeroShift: r ? r.zeroShift : 0,
+        displacement: r ? r.displacement : 0,
+        penetrationMm: r ? r.penetrationMm : 0,
+        radiusMm: ctx.radius,
+      },
+      typicalFwhm: analysis.typicalFwhm,
+      refineCells: refinedCells,
+      cellUncertainty: r ? WHOLE_PATTERN_START_UNCERTAINTY : undefined,
+    });
+    return { fit, refinedCells };
+  } catch (err) {
+    warnings?.push(`The whole-pattern fit could not be made: ${err instanceof Error ? err.message : String(err)}`);
+    return null;
+  }
+}
+
+interface WholePattern {
+  fit: WholePatternFit;
+  /** Whether the fit refined the cells (else they were held at the peak refinement's, or the declared ones). */
+  refinedCells: boolean;
+}
+
+/** Index of each of the outcome's phases in its whole-pattern fit (the main one and the present ones), -1 for none. */
+function wholePatternPhaseIndex(o: Outcome): number[] {
+  let k = 0;
+  return o.fits.map((f, j) => (j === 0 || f.present ? k++ : -1));
+}
+
+/** The cells handed to the whole-pattern fit were refined on the peaks already: known to about this (relative; own choice). */
+const WHOLE_PATTERN_START_UNCERTAINTY = 5e-4;
+
+function wholePatternFigures(w: WholePatternFit): WholePatternFigures {
+  return {
+    Rwp: w.Rwp,
+    Rexp: w.Rexp,
+    GoF: w.GoF,
+    Rp: w.Rp,
+    points: w.points,
+    parameters: w.parameters,
+    reflections: w.reflections,
+    cycles: w.cycles,
+    converged: w.converged,
+    elapsedMs: w.elapsedMs,
+  };
+}
+
 /** Labels the peaks that are not the sample's (a stray tube line of another peak, a holder line) and counts them. */
 function labelForeign(peaks: CheckedPeak[], foreignOf: Map<number, StrayMatch | HolderMatch>): LatticeCheckResult["foreignPeaks"] {
   peaks.forEach((p, i) => {
@@ -744,7 +855,7 @@ function candidateResult(o: Outcome, chosen: boolean): CandidateResult {
     strongIndexed: o.strongIndexed,
     strongCount: o.strongCount,
     M20: o.m20 ? o.m20.value : null,
-    Rwp: null,
+    Rwp: o.whole ? o.whole.fit.Rwp : null,
     chosen,
   };
 }
@@ -756,24 +867,67 @@ function ticksOf(refinement: Refinement, wavelength: number, twoThetaMin: number
     .sort((x, y) => x.twoTheta - y.twoTheta);
 }
 
-function phaseResult(f: PhaseFit, wavelength: number, twoThetaMin: number, twoThetaMax: number): PhaseResult {
+/**
+ * Above this share of a phase's indexed lines kept out of the peak refinement as blends, its lines overlap so
+ * much that the whole-pattern fit, which models every overlapping line, gives its cell (own choice;
+ * docs/decisions/012-phases-and-window.md).
+ */
+const OVERLAP_SHARE = 0.25;
+
+function phaseResult(
+  f: PhaseFit,
+  refined: boolean,
+  main: Refinement | null,
+  whole: WholePatternFit["phases"][number] | null,
+  range: { wavelength: number; twoThetaMin: number; twoThetaMax: number },
+): PhaseResult {
   const r = f.refinement;
-  const refined = f.present && r !== null && r.used > 0 && r.dof >= 0;
+  const ok = refined && r !== null && r.used > 0 && r.dof >= 0;
+  const explained = [...f.explained.values()];
+  const blends = explained.filter((a) => !a.used).length;
+  const sharpen = ok && whole !== null && whole.esd !== null && explained.length > 0 && blends / explained.length >= OVERLAP_SHARE;
   return {
     role: f.role,
     name: f.phase.name ?? null,
     system: f.phase.system,
     centering: f.phase.centering,
     declaredCell: f.phase.cell,
-    cell: refined ? r!.cell : null,
-    esd: refined ? r!.esd : null,
+    cell: sharpen ? whole!.cell : ok ? r!.cell : null,
+    esd: sharpen ? largerEsd(whole!.esd!, r!.esd) : ok ? r!.esd : null,
+    cellFrom: sharpen ? "whole_pattern" : "peaks",
+    wholePatternCell: whole ? whole.cell : null,
+    wholePatternEsd: whole ? whole.esd : null,
     fixed: fixedCellParameters(f.phase.system),
     present: f.present,
     peaks: f.present ? f.explained.size : 0,
     M20: f.present ? f.m20 : null,
     reasons: f.reasons,
-    reflections: refined ? ticksOf(r!, wavelength, twoThetaMin, twoThetaMax) : [],
+    reflections: ok ? ticksOf(r!, range.wavelength, range.twoThetaMin, range.twoThetaMax) : declaredTicks(f.phase, main, range),
   };
+}
+
+/**
+ * A sharpened cell's esds: the larger of the whole-pattern fit's and the peak refinement's, parameter by
+ * parameter. Least-squares esds of a whole-pattern fit are known to come out small where neighbouring residuals
+ * correlate (Bérar & Lelann 1991, J. Appl. Cryst. 24, 1 — from memory); the peak refinement's stand as a floor.
+ */
+function largerEsd(whole: Cell, peaks: Cell | null): Cell {
+  if (!peaks) return whole;
+  const out = { ...whole };
+  for (const k of ["a", "b", "c", "alpha", "beta", "gamma"] as const) out[k] = Math.max(whole[k], peaks[k]);
+  return out;
+}
+
+/** An absent (or unrefined) phase's reflections where its declared cell puts them, with the main phase's line shift. */
+function declaredTicks(phase: DeclaredPhase, main: Refinement | null, range: { wavelength: number; twoThetaMin: number; twoThetaMax: number }): TickMark[] {
+  const dMin = range.wavelength / (2 * Math.sin((Math.min(range.twoThetaMax + 1, 179) * Math.PI) / 360));
+  return allowedReflections(phase.cell, phase.system, phase.centering, { dMin })
+    .map((x) => {
+      const bragg = twoThetaFromD(x.d, range.wavelength);
+      return { h: x.h, k: x.k, l: x.l, d: x.d, multiplicity: x.multiplicity, twoTheta: bragg + (main && main.used > 0 ? refinedLineShift(bragg, main) : 0) };
+    })
+    .filter((t) => t.twoTheta >= range.twoThetaMin && t.twoTheta <= range.twoThetaMax)
+    .sort((x, y) => x.twoTheta - y.twoTheta);
 }
 
 /** The refined cell's reflection nearest to an observed position, and how far it is, degrees 2θ. */

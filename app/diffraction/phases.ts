@@ -67,6 +67,15 @@ export interface PhaseResult {
   declaredCell: Cell;
   cell: Cell | null;
   esd: Cell | null;
+  /**
+   * Where `cell` comes from: the refinement on the phase's peak positions, or the whole-pattern fit where the
+   * phase's lines overlap so much that many of them could not enter the peak refinement (absent in results
+   * stored before the whole-pattern fit: the peaks).
+   */
+  cellFrom?: "peaks" | "whole_pattern";
+  /** The whole-pattern fit's cell and esds of this phase, when the fit refined it. */
+  wholePatternCell?: Cell | null;
+  wholePatternEsd?: Cell | null;
   /** Parameters the crystal system fixes (not refined): shown as fixed. */
   fixed: CellKey[];
   present: boolean;
@@ -75,6 +84,7 @@ export interface PhaseResult {
   M20: number | null;
   /** Why the phase counts as present or absent, in sentences. */
   reasons: string[];
+  /** The phase's reflections in the scan's range: from its refined cell, or from its declared cell when absent. */
   reflections: PhaseTick[];
 }
 

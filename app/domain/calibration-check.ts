@@ -75,11 +75,13 @@ export function checkCalibrationScan(
       scanFormatLabel: outcome.read.info.formatLabel,
       scanFileName: form.fileName,
       checkedAt: new Date().toISOString(),
+      wholePattern: r.wholePattern ?? null,
       plot: {
         twoTheta: r.profile.twoTheta,
         observed: r.profile.observed,
         fitted: r.profile.fitted,
         background: r.profile.background,
+        calculated: r.profile.calculated ?? null,
         ticks: r.reflections.map((t) => ({ twoTheta: Number(t.twoTheta.toFixed(4)), label: `${t.h}${t.k}${t.l}` })),
       },
     },

@@ -1,4 +1,5 @@
 // Lab vetting: the states, the calibration standards and the tolerance an approval is held to (pure, shared by server and screens).
+import type { WholePatternFigures } from "~/diffraction/phases";
 import { z } from "zod";
 import type { Verdict } from "~/diffraction/verdict";
 import { ANODE_CHOICES, MONOCHROMATION_CHOICES } from "~/domain/capabilities";
@@ -48,8 +49,11 @@ export const APPROVAL_TOLERANCE_REASON =
 export interface CalibrationPlot {
   twoTheta: number[];
   observed: number[];
+  /** The sum of the freely fitted peaks and the background. */
   fitted: number[];
   background: number[];
+  /** The whole-pattern fit's calculated curve (absent in older checks). */
+  calculated?: number[] | null;
   ticks: { twoTheta: number; label: string }[];
 }
 
@@ -80,6 +84,8 @@ export interface CalibrationCheck {
   scanFormatLabel?: string | null;
   scanFileName: string;
   checkedAt: string;
+  /** The whole-pattern fit's figures against the certified cell (absent in older checks). */
+  wholePattern?: WholePatternFigures | null;
   plot: CalibrationPlot;
 }
 

@@ -87,7 +87,11 @@ describe("several declared phases", () => {
     for (const p of r.phases) {
       expect(p.esd).not.toBeNull();
       expect(p.reflections.length).toBeGreaterThan(3);
+      expect(p.wholePatternCell).not.toBeNull();
     }
+    // The whole-pattern fit of the three phases: counting noise only, so Rwp close to Rexp.
+    expect(r.wholePattern!.GoF).toBeLessThan(1.5);
+    expect(Math.abs(r.phases[2].wholePatternCell!.a - S.rutile.cell.a)).toBeLessThan(1e-3);
     // Fixed by symmetry, not refined: the angles of these systems, b of the hexagonal and tetragonal cells.
     expect(zn.fixed).toEqual(["b", "alpha", "beta", "gamma"]);
     // Every strong sample peak belongs to one of the three phases.
@@ -115,6 +119,8 @@ describe("several declared phases", () => {
     expect(r.phases.map((p) => p.present)).toEqual([true, true, true, false, false]);
     expect(r.phases[3].reasons.length).toBeGreaterThan(0);
     expect(r.phases[3].cell).toBeNull();
+    // An absent phase's ticks sit where its declared cell puts them (ceria 111 at 28.55° 2θ, Cu Kα1, + the zero shift).
+    expect(r.phases[3].reflections.some((t) => Math.abs(t.twoTheta - 28.55) < 0.1)).toBe(true);
     expect(r.verdict).toBe("consistent");
   });
 
@@ -162,6 +168,21 @@ describe("candidate forms", () => {
   it("the wrong candidate declared alone is inconsistent", () => {
     expect(runLatticeCheck(rutileScan, declare(ANATASE)).verdict).toBe("inconsistent");
     expect(runLatticeCheck(anataseScan, declare(phaseOf(S.rutile, "rutile"))).verdict).toBe("inconsistent");
+  });
+
+  it("the whole-pattern fit shows the misfit: the wrong form's calculated curve misses, the right one's fits", () => {
+    const wrong = runLatticeCheck(rutileScan, declare(ANATASE));
+    const right = runLatticeCheck(rutileScan, declare(phaseOf(S.rutile, "rutile")));
+    // Counting noise only: Rwp near Rexp for the right cell (GoF about 1); the wrong lattice leaves most counts unexplained.
+    expect(right.wholePattern!.GoF).toBeLessThan(2);
+    expect(wrong.wholePattern!.Rwp).toBeGreaterThan(3 * right.wholePattern!.Rwp);
+    // The plot's calculated curve is the fit, on every point of the scan; the free peaks stay a separate layer.
+    expect(wrong.calculatedProfile!.length).toBe(rutileScan.twoTheta.length);
+    expect(right.fittedProfile.length).toBe(rutileScan.twoTheta.length);
+    // Each candidate carries its Rwp; the chosen one fits best.
+    const both = runLatticeCheck(rutileScan, declare(ANATASE, { candidates: [phaseOf(S.rutile, "rutile")] }));
+    const [anatase, rutile] = both.candidates!;
+    expect(rutile.Rwp!).toBeLessThan(anatase.Rwp!);
   });
 });
 
