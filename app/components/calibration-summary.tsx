@@ -2,7 +2,7 @@
 // plot (the same interactive plot as a delivered scan's check).
 import { useMemo } from "react";
 import { CheckPlot, type CheckPlotData } from "./check-plot";
-import { rFactor } from "./check-words";
+import { plotCurves, rFactor } from "./check-words";
 import { Badge } from "./ui";
 import { APPROVAL_TOLERANCE_A, APPROVAL_TOLERANCE_REASON, CALIBRATION_STANDARDS, withinTolerance, type CalibrationCheck } from "~/domain/vetting";
 import { MONOCHROMATION_LABELS } from "~/domain/capabilities";
@@ -32,11 +32,7 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
     const p = check.plot;
     const ticks = p.ticks.map((t) => ({ twoTheta: t.twoTheta, label: `(${t.label})` }));
     return {
-      twoTheta: p.twoTheta,
-      observed: p.observed,
-      background: p.background,
-      fitted: p.fitted,
-      calculated: p.calculated?.length === p.twoTheta.length ? p.calculated : null,
+      ...plotCurves(p),
       wavelength: check.instrument.wavelength,
       ticks,
       rows: [{ name: standard.label, role: "main", present: true, ticks }],

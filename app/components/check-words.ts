@@ -6,20 +6,13 @@ import type { CandidateResult, CellKey, PhaseResult, WholePatternFigures, Window
 import { allowedReflections, twoThetaOf } from "~/diffraction/reflections";
 import type { Verdict } from "~/diffraction/verdict";
 import { fixedCellParameters } from "~/diffraction/window";
-import { formatHkl, peakOriginWords, signed, type StoredCheckResult, VERDICT_WORDS } from "~/domain/check-result";
+import { CELL_PARAMS, formatHkl, peakOriginWords, signed, type StoredCheckResult, VERDICT_WORDS } from "~/domain/check-result";
 import type { CheckPlotData, CheckPlotMark, CheckPlotRow } from "./check-plot";
 
 /** A stored result as the check screen reads it (through readStoredResult: older results carry one main phase). */
 export type CheckScreenResult = StoredCheckResult;
 
-const PARAMS: { key: CellKey; name: string; unit: "Å" | "°"; digits: number }[] = [
-  { key: "a", name: "a", unit: "Å", digits: 5 },
-  { key: "b", name: "b", unit: "Å", digits: 5 },
-  { key: "c", name: "c", unit: "Å", digits: 5 },
-  { key: "alpha", name: "α", unit: "°", digits: 3 },
-  { key: "beta", name: "β", unit: "°", digits: 3 },
-  { key: "gamma", name: "γ", unit: "°", digits: 3 },
-];
+const PARAMS = CELL_PARAMS;
 const PARAM = Object.fromEntries(PARAMS.map((p) => [p.key, p])) as Record<CellKey, (typeof PARAMS)[number]>;
 const withUnit = (v: number, unit: "Å" | "°") => (unit === "°" ? `${v}°` : `${v} Å`);
 
@@ -184,17 +177,24 @@ function markRows(peaks: readonly CheckedPeak[]): CheckPlotMark[] {
   });
 }
 
-/** Everything the check plot draws for a stored result. */
-export function checkPlotData(result: CheckScreenResult): CheckPlotData {
-  const p = result.profile;
-  const range: [number, number] = [p.twoTheta[0] ?? 0, p.twoTheta[p.twoTheta.length - 1] ?? 0];
-  const phases = phasesOf(result);
+/** The curves of a stored plot: observed, background, the free peaks' sum, and the whole-pattern curve where it was kept. */
+export function plotCurves(p: { twoTheta: number[]; observed: number[]; background: number[]; fitted: number[]; calculated?: number[] | null }) {
   return {
     twoTheta: p.twoTheta,
     observed: p.observed,
     background: p.background,
     fitted: p.fitted,
     calculated: p.calculated?.length === p.twoTheta.length ? p.calculated : null,
+  };
+}
+
+/** Everything the check plot draws for a stored result. */
+export function checkPlotData(result: CheckScreenResult): CheckPlotData {
+  const p = result.profile;
+  const range: [number, number] = [p.twoTheta[0] ?? 0, p.twoTheta[p.twoTheta.length - 1] ?? 0];
+  const phases = phasesOf(result);
+  return {
+    ...plotCurves(p),
     wavelength: result.wavelength,
     ticks: result.reflections.map((t) => ({ twoTheta: t.twoTheta, label: `(${formatHkl([t.h, t.k, t.l])})` })),
     rows: phases.map((ph) => phaseRow(ph, result.wavelength, range)),

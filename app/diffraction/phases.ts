@@ -108,13 +108,18 @@ export interface CandidateResult {
   chosen: boolean;
 }
 
-/** The whole-pattern fit's figures (Le Bail extraction; docs/decisions/012-phases-and-window.md). */
+/** The whole-pattern fit's figures (Le Bail extraction; docs/whole-pattern.md). */
 export interface WholePatternFigures {
+  /** Weighted-profile, expected and profile R factors, fractions (not percent). */
   Rwp: number;
   Rexp: number;
   /** Goodness of fit, (Rwp / Rexp)² = χ² per degree of freedom. */
   GoF: number;
   Rp: number;
+  /**
+   * Points fitted (N), parameters refined (P, the intensities included), reflections listed in the scan, and
+   * cycles run (Levenberg–Marquardt steps, each with its own extraction, over all stages).
+   */
   points: number;
   parameters: number;
   reflections: number;

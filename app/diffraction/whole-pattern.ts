@@ -15,6 +15,7 @@ import { type Cell, type Centering, type CrystalSystem, cellFromMetricParams, me
 import { choleskyFactor, choleskySolve, invertSymmetric, squareMatrix } from "./least-squares";
 import { displacementShiftAtTheta, transparencyShiftAtTheta } from "./line-shifts";
 import { allowedReflections, type Reflection } from "./reflections";
+import type { WholePatternFigures } from "./phases";
 import type { RefinedCorrectionKind } from "./refine";
 import { lowerBound, median } from "./sorted";
 
@@ -102,22 +103,8 @@ export interface WholePatternReflection {
   multiplicity: number;
 }
 
-export interface WholePatternFit {
-  /** Weighted-profile, expected and profile R factors (fractions, not percent) and GoF = (Rwp/Rexp)² = χ²/(N − P). */
-  Rwp: number;
-  Rexp: number;
-  GoF: number;
-  Rp: number;
-  /**
-   * Points fitted (N), parameters refined (P, the intensities included), reflections listed in the scan, and
-   * cycles run (Levenberg–Marquardt steps, each with its own extraction, over all stages).
-   */
-  points: number;
-  parameters: number;
-  reflections: number;
-  cycles: number;
-  converged: boolean;
-  elapsedMs: number;
+/** Rwp, Rexp, GoF = (Rwp/Rexp)² = χ²/(N − P) and Rp (fractions, not percent), N, P (the intensities included), reflections and cycles: phases.ts. */
+export interface WholePatternFit extends WholePatternFigures {
   /** Background plus every phase on each point of the scan. */
   calculated: Float64Array;
   /** Each phase's contribution without background. */

@@ -1,6 +1,7 @@
 // The stored form of a lattice check's result and the words and tables made from it (server and browser).
 import { CENTERINGS, CRYSTAL_SYSTEMS } from "~/diffraction/cell";
 import type { Cell, Centering, CheckedPeak, CrystalSystem, LatticeCheckResult, Radiation } from "~/diffraction";
+import type { LatticeCheckOptions } from "~/diffraction/check";
 import type { Verdict } from "~/diffraction/verdict";
 import type { ScanMetadata } from "~/diffraction/readers/types";
 import type { InstrumentProfile } from "~/diffraction/scherrer";
@@ -95,7 +96,8 @@ export function radiationWords(r: Radiation) {
   return r.kind === "anode" ? `${r.anode} ${MONOCHROMATION_WORDS[r.monochromation]}` : `Wavelength ${r.wavelength} Å`;
 }
 
-const CELL_PARAMS: { key: keyof Cell; name: string; unit: string; digits: number }[] = [
+/** The six cell parameters as tables show them: name, unit and digits. */
+export const CELL_PARAMS: { key: keyof Cell; name: string; unit: "Å" | "°"; digits: number }[] = [
   { key: "a", name: "a", unit: "Å", digits: 5 },
   { key: "b", name: "b", unit: "Å", digits: 5 },
   { key: "c", name: "c", unit: "Å", digits: 5 },
@@ -292,15 +294,7 @@ export interface SampleDeclaration extends StoredPhaseDeclaration {
 }
 
 /** The declaration as engine options (the lattice check's declared phases and window). */
-export interface DeclaredCheckOptions {
-  system?: CrystalSystem;
-  centering?: Centering;
-  cell?: Cell;
-  mainName?: string | null;
-  phases?: DeclaredPhase[];
-  candidates?: DeclaredPhase[];
-  window?: AcceptanceWindow;
-}
+export type DeclaredCheckOptions = Pick<LatticeCheckOptions, "system" | "centering" | "cell" | "mainName" | "phases" | "candidates" | "window">;
 
 /** The system, centering and cell as engine options; missing lengths and angles follow from the crystal system. */
 function cellOptions(d: StoredPhaseDeclaration): { system?: CrystalSystem; centering?: Centering; cell?: Cell } {

@@ -8,17 +8,14 @@ import {
   checkParsedScan,
   parseScan,
   type Scan,
-  type Cell,
-  type Centering,
   type CheckedPeak,
-  type CrystalSystem,
   type LatticeCheckResult,
   type Radiation,
 } from "~/diffraction";
 import type { InstrumentProfile } from "~/diffraction/scherrer";
-import type { AcceptanceWindow, DeclaredPhase } from "~/diffraction/phases";
 import { SAMPLE_HOLDER_IDS, type SampleHolder } from "~/diffraction/holders";
 import {
+  type DeclaredCheckOptions,
   declaredCheckOptions,
   type SampleDeclaration,
   STORED_RESULT_VERSION,
@@ -38,15 +35,7 @@ export type CheckStatus = "queued" | "running" | "done" | "failed";
  * What the scan is checked against: the main phase's system, centering, cell and name (each may be missing),
  * the further expected phases, the candidate forms of the main phase and the client's acceptance window.
  */
-export interface DeclaredCell {
-  system?: CrystalSystem;
-  centering?: Centering;
-  cell?: Cell;
-  mainName?: string | null;
-  phases?: DeclaredPhase[];
-  candidates?: DeclaredPhase[];
-  window?: AcceptanceWindow;
-}
+export type DeclaredCell = DeclaredCheckOptions;
 
 /** What a check needs besides the scan: the instrument, the declaration, and what the stored result names. */
 export interface CheckInput {
