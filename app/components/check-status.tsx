@@ -13,6 +13,8 @@ export interface CheckStatusJson {
   fileId: string;
   status: CheckStatusValue;
   verdict: string | null;
+  /** The acceptance window's answer, kept apart from the verdict: null when none was set (absent in older answers). */
+  withinWindow?: boolean | null;
   error: string | null;
   finishedAt: string | null;
 }
@@ -54,6 +56,13 @@ export function CheckStateBadge({ status, verdict }: { status: CheckStatusValue;
   return v ? <Badge tone={v.tone}>{v.label}</Badge> : <Badge tone="neutral">Checked</Badge>;
 }
 
+/** The acceptance window's answer beside the verdict; nothing when no window was set. */
+export function WindowBadge({ withinWindow }: { withinWindow?: boolean | null }) {
+  if (withinWindow === true) return <Badge tone="ok">Within window</Badge>;
+  if (withinWindow === false) return <Badge tone="danger">Outside window</Badge>;
+  return null;
+}
+
 /**
  * The live status of one check for a file list: polls while the check is queued or running, links to the
  * check screen when it is done, and shows the engine's sentence when the scan could not be read.
@@ -67,7 +76,12 @@ export function CheckStatusBadge({ checkId, initial, link = true }: { checkId: s
       </span>
     );
   }
-  const badge = <CheckStateBadge status={data.status} verdict={data.verdict} />;
+  const badge = (
+    <>
+      <CheckStateBadge status={data.status} verdict={data.verdict} />
+      {data.status === "done" ? <WindowBadge withinWindow={data.withinWindow} /> : null}
+    </>
+  );
   return (
     <span className="inline-flex flex-wrap items-center gap-2" role="status" aria-live="polite" data-testid="check-status" data-status={data.status}>
       {link && data.status === "done" ? (

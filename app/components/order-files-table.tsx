@@ -1,6 +1,6 @@
 // An order's delivered files as a table: versions, size, SHA-256, uploader, state and the live lattice check.
 import type { ReactNode } from "react";
-import { CheckStateBadge, CheckStatusBadge } from "./check-status";
+import { CheckStateBadge, CheckStatusBadge, WindowBadge } from "./check-status";
 import { FILE_KIND_LABELS, formatBytes, type FileKind } from "~/domain/order-files";
 import { Badge, TableCard } from "./ui";
 import { useFormat } from "~/components/locale";
@@ -11,6 +11,8 @@ export interface FileCheck {
   fileId: string;
   status: "queued" | "running" | "done" | "failed";
   verdict: string | null;
+  /** The acceptance window's answer (null: none set; absent before windows). */
+  withinWindow?: boolean | null;
   error: string | null;
   finishedAt: string | null;
 }
@@ -48,6 +50,7 @@ export function FileCheckCell({ check, kind, live }: { check: FileCheck | null; 
   return (
     <span className="inline-flex flex-wrap items-center gap-2">
       <CheckStateBadge status={check.status} verdict={check.verdict} />
+      {check.status === "done" ? <WindowBadge withinWindow={check.withinWindow} /> : null}
       {check.status === "failed" && check.error ? <span className="text-xs text-danger-700">{check.error}</span> : null}
     </span>
   );

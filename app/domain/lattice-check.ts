@@ -4,14 +4,7 @@
 // form (finite numbers only, the plotted arrays thinned with their extremes kept). Pure: the callers read the
 // scan's bytes and write the result.
 import type { Instrument, Sample, SamplePhase, ScanCheck } from "~/db/schema";
-import {
-  checkParsedScan,
-  parseScan,
-  type Scan,
-  type CheckedPeak,
-  type LatticeCheckResult,
-  type Radiation,
-} from "~/diffraction";
+import { checkParsedScan, parseScan, type Scan, type CheckedPeak, type LatticeCheckResult, type Radiation } from "~/diffraction";
 import type { InstrumentProfile } from "~/diffraction/scherrer";
 import { SAMPLE_HOLDER_IDS, type SampleHolder } from "~/diffraction/holders";
 import {
@@ -250,13 +243,20 @@ function toStoredResult(result: LatticeCheckResult, context: CheckInput, choice:
   return JSON.parse(JSON.stringify(stored, (_k, v) => (typeof v === "number" && !Number.isFinite(v) ? null : v)));
 }
 
-/** The public status of a check, as the status API answers it. */
+/** A finished check's second answer, apart from its verdict: within the acceptance window (null: none set, not judged, or not finished). */
+export function withinWindowOf(check: Pick<ScanCheck, "result">): boolean | null {
+  const answer = (check.result as { withinWindow?: unknown } | null)?.withinWindow;
+  return typeof answer === "boolean" ? answer : null;
+}
+
+/** The public status of a check, as the status API answers it: the verdict and, kept apart, the acceptance window's answer. */
 export function checkStatusJson(check: ScanCheck) {
   return {
     id: check.id,
     fileId: check.fileId,
     status: check.status as CheckStatus,
     verdict: check.verdict,
+    withinWindow: withinWindowOf(check),
     error: check.error,
     finishedAt: check.finishedAt ? check.finishedAt.toISOString() : null,
   };

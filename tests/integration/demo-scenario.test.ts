@@ -54,7 +54,7 @@ async function checkOf(fileName: string) {
     .innerJoin(schema.orderFiles, eq(schema.orderFiles.id, schema.scanChecks.fileId))
     .innerJoin(schema.orders, eq(schema.orders.id, schema.orderFiles.orderId))
     .where(eq(schema.orderFiles.name, fileName));
-  return { ...row.check, orderState: row.order.state, result: row.check.result as StoredCheckResult };
+  return { ...row.check, orderId: row.order.id, orderState: row.order.state, result: row.check.result as StoredCheckResult };
 }
 
 describe("the demo's declarations beside the main phase", () => {
@@ -147,5 +147,11 @@ describe("the demo's declarations beside the main phase", () => {
     // b and c are simulated as declared.
     expect(byParameter.b.inside).toBe(true);
     expect(byParameter.c.inside).toBe(true);
+    // The status API and the order's file list give the two answers apart: the verdict and the window's.
+    const { checkStatusJson } = await import("~/domain/lattice-check");
+    expect(checkStatusJson(check)).toMatchObject({ verdict: "consistent", withinWindow: false });
+    const { orderFileList } = await import("~/models/files/files.server");
+    const [file] = (await orderFileList(check.orderId, { side: "client" })).filter((f) => f.name === "HC-2693-1_Co_15-110.xy");
+    expect(file.check).toMatchObject({ verdict: "consistent", withinWindow: false });
   });
 });

@@ -9,7 +9,7 @@ import {
   UploadPartCommand,
 } from "@aws-sdk/client-s3";
 import { getSignedUrl } from "@aws-sdk/s3-request-presigner";
-import { and, asc, desc, eq, inArray, isNull, max } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, isNull, max, sql } from "drizzle-orm";
 import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
 import type { Order, OrderFile } from "~/db/schema";
@@ -357,6 +357,8 @@ export async function orderFileList(orderId: string, { side }: { side: "client" 
         fileId: schema.scanChecks.fileId,
         status: schema.scanChecks.status,
         verdict: schema.scanChecks.verdict,
+        // The acceptance window's answer, apart from the verdict (null: none set, or not finished).
+        withinWindow: sql<boolean | null>`(${schema.scanChecks.result} ->> 'withinWindow')::boolean`,
         error: schema.scanChecks.error,
         finishedAt: schema.scanChecks.finishedAt,
       },

@@ -20,7 +20,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
         sampleLabel: f.sampleLabel,
         uploadedAt: f.uploadedAt,
         ...(side === "lab" ? { rejectReason: f.rejectReason, deletedAt: f.deletedAt } : {}),
-        check: { status: f.check?.status ?? null, verdict: f.check?.verdict ?? null, error: f.check?.error ?? null },
+        check: {
+          status: f.check?.status ?? null,
+          verdict: f.check?.verdict ?? null,
+          withinWindow: f.check?.withinWindow ?? null,
+          error: f.check?.error ?? null,
+        },
       })),
     },
     { headers: { "Cache-Control": "private, no-store" } },
