@@ -13,6 +13,7 @@ import { checkOptionsProblem, checkScanFile, type LatticeCheckOptions, type Latt
 import { DEFAULT_MAX_BYTES, parseScan, type ScanMetadata } from "../app/diffraction/parse-scan";
 import type { AcceptanceWindow, DeclaredPhase } from "../app/diffraction/phases";
 import type { CorrectionKind } from "../app/diffraction/refine";
+import { fixedCellParameters } from "../app/diffraction/window";
 import { ANODE_LINES, ANODES, type Monochromation, type Radiation } from "../app/diffraction/wavelengths";
 
 const USAGE =
@@ -335,8 +336,15 @@ function toTable(result: LatticeCheckResult, elapsedMs: number): string {
   out.push(`System ${result.system ?? "—"}, centering ${result.centering ?? "—"}, λ = ${result.wavelength} Å`);
   if (result.cell) {
     out.push("param      refined        esd     declared   refined−declared");
+    const fixedKeys = result.system ? fixedCellParameters(result.system) : [];
     for (const k of CELL_KEYS) {
       const digits = k.length === 1 ? 5 : 3;
+      if (fixedKeys.includes(k)) {
+        out.push(
+          `${k.padEnd(6)} ${fixed(result.cell[k], digits).padStart(12)} ${"fixed".padStart(10)} ${fixed(result.declaredCell?.[k], digits).padStart(12)}`,
+        );
+        continue;
+      }
       out.push(
         `${k.padEnd(6)} ${fixed(result.cell[k], digits).padStart(12)} ${fixed(result.esd?.[k], digits + 1).padStart(10)} ${fixed(result.declaredCell?.[k], digits).padStart(12)} ${fixed(result.deviation?.absolute[k], digits + 1).padStart(12)}`,
       );

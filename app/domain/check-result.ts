@@ -106,18 +106,27 @@ export const CELL_PARAMS: { key: keyof Cell; name: string; unit: "Å" | "°"; di
   { key: "gamma", name: "γ", unit: "°", digits: 3 },
 ];
 
-/** Rows of the declared-versus-refined cell table, with standard uncertainties and the deviation. */
-export function cellRows(result: Pick<StoredCheckResult, "cell" | "esd" | "declaredCell" | "deviation">) {
+/**
+ * Rows of the declared-versus-refined cell table, with standard uncertainties and the deviation; a parameter
+ * the crystal system fixes or ties to another (α = 90°, b = a) reads "fixed", not as a refined value.
+ */
+export function cellRows(result: Pick<StoredCheckResult, "cell" | "esd" | "declaredCell" | "deviation"> & { system?: CrystalSystem | null }) {
+  const fixed = result.system ? fixedCellParameters(result.system) : [];
   return CELL_PARAMS.map(({ key, name, unit, digits }) => {
     const refined = result.cell?.[key];
     const esd = result.esd?.[key];
     const declared = result.declaredCell?.[key];
     const abs = result.deviation?.absolute[key];
     const rel = result.deviation?.relative[key];
+    const isFixed = fixed.includes(key) && refined != null;
     return {
       name,
       declared: declared != null ? `${declared.toFixed(digits)} ${unit}` : "—",
-      refined: refined != null ? `${refined.toFixed(digits + 1)}${esd ? ` ± ${esd.toFixed(digits + 1)}` : ""} ${unit}` : "not refined",
+      refined: isFixed
+        ? `fixed (${["b", "c"].includes(key) ? "follows a" : `${refined.toFixed(digits - 2)} ${unit}`})`
+        : refined != null
+          ? `${refined.toFixed(digits + 1)}${esd ? ` ± ${esd.toFixed(digits + 1)}` : ""} ${unit}`
+          : "not refined",
       deviation: abs != null && rel != null ? `${signed(abs, digits + 1)} ${unit} (${signed(rel * 100, 3)} %)` : "—",
     };
   });
