@@ -148,3 +148,37 @@ describe("real α-Si3N4 with about 1 % β-Si3N4 (GSAS exercise scan, 1990)", () 
     expect(Math.abs(b.cell!.c - 2.906304 * scale)).toBeLessThan(1e-2);
   });
 });
+
+describe("declared phases that are not there, on real single-phase scans", () => {
+  // Cells: silicon NIST SRM 640c (certificate); calcite a = 4.989, c = 17.062 Å, quartz a = 4.913, c = 5.405 Å,
+  // LiFePO4 and ZrO2 (structures.ts) — from memory (common literature values). None of them is in these specimens.
+  const cub = (a: number): Cell => ({ a, b: a, c: a, alpha: 90, beta: 90, gamma: 90 });
+  const hex = (a: number, c: number): Cell => ({ a, b: a, c, alpha: 90, beta: 90, gamma: 120 });
+  const notThere: DeclaredPhase[] = [
+    { name: "Si", system: "cubic", centering: "F", cell: cub(5.4311946) },
+    { name: "calcite", system: "trigonal", centering: "R", cell: hex(4.989, 17.062) },
+    { name: "quartz", system: "hexagonal", centering: "P", cell: hex(4.913, 5.405) },
+    { name: "LiFePO4", system: "orthorhombic", centering: "P", cell: { a: 10.332, b: 6.01, c: 4.692, alpha: 90, beta: 90, gamma: 90 } },
+    { name: "ZrO2", system: "monoclinic", centering: "P", cell: { a: 5.1505, b: 5.2116, c: 5.3173, alpha: 90, beta: 99.23, gamma: 90 } },
+  ];
+  const cases: [string, DeclaredPhase][] = [
+    ["lab6-srm660c-cu.gsas", { name: "LaB6", system: "cubic", centering: "P", cell: cub(4.1569) }],
+    ["fluorapatite-cu.gsas", { name: "fluorapatite", system: "hexagonal", centering: "P", cell: hex(9.37, 6.88) }],
+  ];
+  for (const [file, main] of cases) {
+    it(`${file}: each of five absent phases comes out absent and the verdict stays consistent`, () => {
+      const checked = checkScanFile(read(file), {
+        fileName: file,
+        radiation: { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" },
+        system: main.system,
+        centering: main.centering,
+        cell: main.cell,
+        mainName: main.name,
+        phases: notThere,
+      });
+      if (!checked.ok) throw new Error(checked.error);
+      expect(checked.result.verdict).toBe("consistent");
+      expect(checked.result.phases.slice(1).map((p) => [p.name, p.present])).toEqual(notThere.map((p) => [p.name, false]));
+    });
+  }
+});
