@@ -222,20 +222,29 @@ export function estimatePrice(req: MatchRequest, priceList: MatchPriceList | nul
   );
 }
 
-export function matchLab(req: MatchRequest, lab: MatchLab): LabMatch {
-  const fits = lab.instruments.map((i) => evaluateInstrument(req, i));
+/**
+ * Evaluates every instrument of the lab; an instrument whose source makes the samples fluoresce also names
+ * the lab's better one (another that fits without a warning), if it has any.
+ */
+function evaluateLab(req: MatchRequest, lab: MatchLab, extra: MatchInstrument[] = []): InstrumentFit[] {
+  const fits = [...lab.instruments, ...extra].map((i) => evaluateInstrument(req, i));
+  const alternatives = fits.filter((f) => lab.instruments.includes(f.instrument));
   const elements = req.samples.flatMap((s) => s.elements);
-  // An instrument whose source makes the samples fluoresce names the lab's better one, if it has any.
   for (const f of fits) {
     if (f.warnings.length === 0) continue;
     const glowing = fluorescingElements(elements, instrumentWavelength(f.instrument) ?? 1);
-    const better = fits.find((o) => o !== f && o.fits && o.warnings.length === 0);
+    const better = alternatives.find((o) => o.instrument.id !== f.instrument.id && o.fits && o.warnings.length === 0);
     f.warnings.push(
       better
         ? `Better: ${lab.name}'s ${better.instrument.name} (${sourceLabel(better.instrument)}) avoids the fluorescence of ${glowing.join(", ")}.`
         : `${lab.name} has no other source that avoids it; ask for energy discrimination or a different anode.`,
     );
   }
+  return fits;
+}
+
+export function matchLab(req: MatchRequest, lab: MatchLab): LabMatch {
+  const fits = evaluateLab(req, lab);
   // The best instrument fits and, among those, has no warning; otherwise the one closest to fitting.
   const ranked = [...fits].sort(
     (a, b) =>
@@ -267,6 +276,34 @@ export function matchLab(req: MatchRequest, lab: MatchLab): LabMatch {
     currency: lab.priceList?.currency ?? null,
     turnaroundDays: lab.priceList?.turnaroundDays ?? null,
   };
+}
+
+export interface QuoteJudgement {
+  fits: boolean;
+  reasons: Reason[];
+  /** Fluorescence and similar warnings of the quoted instrument (the card names the instrument already). */
+  warnings: string[];
+}
+
+/**
+ * A quote judged by the instrument it names, not by the lab's best one: that instrument's range, source,
+ * stages and sample forms, its fluorescence warning, and the lab's hazard acceptance. `instrument` is the
+ * quoted one (it may since have been taken out of service, so it need not be among `lab.instruments`);
+ * null when the quote names none.
+ */
+export function judgeQuote(req: MatchRequest, lab: MatchLab, instrument: MatchInstrument | null): QuoteJudgement {
+  const hazards = hazardReasons(req, lab);
+  if (!instrument) {
+    return {
+      fits: false,
+      reasons: [{ ok: false, text: "The quote names no instrument, so its range, source and stages cannot be judged" }, ...hazards],
+      warnings: [],
+    };
+  }
+  const listed = lab.instruments.some((i) => i.id === instrument.id);
+  const fits = evaluateLab(req, lab, listed ? [] : [instrument]);
+  const quoted = fits.find((f) => f.instrument.id === instrument.id)!;
+  return { fits: quoted.fits && hazards.every((r) => r.ok), reasons: [...quoted.reasons, ...hazards], warnings: quoted.warnings };
 }
 
 const LABELS: Record<string, string> = {

@@ -317,3 +317,82 @@ describe("quoting", () => {
     expect((meridian.body as { items: unknown[] }).items).toEqual([]);
   });
 });
+
+describe("quote cards judged by the instrument each quote names", () => {
+  type Judged = { reasons: { ok: boolean; text: string }[]; warnings: string[] };
+  const instrumentNamed = async (name: string) => (await db.select().from(schema.instruments).where(eq(schema.instruments.name, name)))[0].id;
+
+  /** An iron phosphate (the fluorescence case under Cu Kα: Fe K edge 7.112 keV, docs/reference-values.md#k-absorption-edges), Granite Ridge invited. */
+  async function ironRequest(title: string, rangeMax: number, temperaturePointsK: number[]) {
+    const [owner] = await db.select().from(schema.users).where(eq(schema.users.email, CLIENT));
+    const [r] = await db
+      .insert(schema.requests)
+      .values({
+        organisationId: await orgId("Halvorsen Cathode Works"),
+        createdBy: owner.id,
+        title,
+        state: "open",
+        visibility: "invited",
+        rangeMin: 10,
+        rangeMax,
+        temperaturePointsK,
+        deadline: inDays(60),
+        openedAt: new Date(),
+      })
+      .returning();
+    await db
+      .insert(schema.samples)
+      .values({ requestId: r.id, label: "LFP-7", formula: "LiFePO4", elements: ["Li", "Fe", "P", "O"], form: "powder", massMg: 400 });
+    await db.insert(schema.requestInvitations).values({ requestId: r.id, labId: graniteId });
+    expect((await acknowledge(GRANITE, r.id)).status).toBe(302);
+    return r.id;
+  }
+
+  const cardsOf = async (id: string) => {
+    const answer = await callRoute(clientRequestLoader, getRequest(`/client/requests/${id}`, await as(CLIENT)), { id });
+    expect(answer.status).toBe(200);
+    return answer.body as {
+      quotes: { id: string; instrumentName: string | null; state: string }[];
+      judgements: Record<string, Judged>;
+      matches: { labId: string; fits: boolean; warnings: string[] }[];
+    };
+  };
+
+  it("shows the Cu quote's fluorescence warning on the Cu quote only, not on the Co quote", async () => {
+    const id = await ironRequest("LFP-7 phase check", 90, []);
+    const cuTube = await instrumentNamed("Reflection diffractometer A (Cu)");
+    const coTube = await instrumentNamed("Reflection diffractometer B (Co)");
+
+    expect((await sendQuote(GRANITE, quoteFields(coTube), id)).status).toBe(302);
+    let page = await cardsOf(id);
+    const onCo = page.quotes.find((q) => q.state === "sent")!;
+    expect(onCo.instrumentName).toBe("Reflection diffractometer B (Co)");
+    expect(page.judgements[onCo.id].warnings).toEqual([]);
+    expect(page.judgements[onCo.id].reasons.every((r) => r.ok)).toBe(true);
+    // The lab as a whole (its directory and inbox view) still carries its Cu instrument's warning.
+    expect(page.matches.find((m) => m.labId === graniteId)!.warnings.some((w) => w.startsWith("Reflection diffractometer A (Cu): Fluorescence"))).toBe(true);
+
+    // Granite withdraws and quotes again on its copper tube: that card carries the warning and names the Co tube.
+    expect((await sendQuote(GRANITE, { intent: "withdraw", quoteId: onCo.id }, id)).status).toBe(302);
+    expect((await sendQuote(GRANITE, quoteFields(cuTube), id)).status).toBe(302);
+    page = await cardsOf(id);
+    const onCu = page.quotes.find((q) => q.state === "sent")!;
+    expect(onCu.instrumentName).toBe("Reflection diffractometer A (Cu)");
+    const warnings = page.judgements[onCu.id].warnings;
+    expect(warnings[0]).toMatch(/^Fluorescence: Fe has its K edge just below the Cu Kα energy/);
+    expect(warnings[1]).toMatch(/^Better: Granite Ridge Characterisation's Reflection diffractometer B \(Co\)/);
+  });
+
+  it("says a quoted instrument does not cover the range or reach the temperatures although the lab's other one does", async () => {
+    // Asked 10–140° 2θ, read for Cu Kα1 (1.540593 Å): d from 1.540593 / (2 sin 70°) = 0.820 Å to 1.540593 / (2 sin 5°) = 8.84 Å.
+    // The Co tube (Co Kα1 1.788996 Å, 5–150°) reaches down to 1.788996 / (2 sin 75°) = 0.926 Å only, and has no stage for 873 K.
+    const id = await ironRequest("LFP-7 high-angle and hot", 140, [298, 873]);
+    expect((await sendQuote(GRANITE, quoteFields(await instrumentNamed("Reflection diffractometer B (Co)")), id)).status).toBe(302);
+    const page = await cardsOf(id);
+    const quote = page.quotes.find((q) => q.state === "sent")!;
+    const failed = page.judgements[quote.id].reasons.filter((r) => !r.ok).map((r) => r.text);
+    expect(failed).toEqual(["Does not cover d 0.820–8.84 Å (instrument reaches 0.926–20.51 Å)", "No stage reaches 298, 873 K in air (no sample stages)"]);
+    // Granite's Cu tube with its hot stage covers both, so the lab itself fits.
+    expect(page.matches.find((m) => m.labId === graniteId)!.fits).toBe(true);
+  });
+});

@@ -2,27 +2,12 @@
 import { and, asc, eq, inArray } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Anode } from "~/diffraction/wavelengths";
-import { matchLab, type LabMatch, type MatchLab, type MatchRequest } from "~/domain/matching";
+import { judgeQuote, matchLab, type LabMatch, type MatchInstrument, type MatchLab, type MatchRequest, type QuoteJudgement } from "~/domain/matching";
 
-/** Approved labs (or the given ones, whatever their state) with instruments, stages, hazards and prices. */
-export async function loadMatchLabs(labIds?: string[]): Promise<MatchLab[]> {
-  const labs = await db
-    .select({ id: schema.labs.organisationId, name: schema.organisations.name, slug: schema.organisations.slug })
-    .from(schema.labs)
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.labs.organisationId))
-    .where(labIds ? inArray(schema.labs.organisationId, labIds) : eq(schema.labs.vettingState, "approved"))
-    .orderBy(asc(schema.organisations.name));
-  if (labs.length === 0) return [];
-  const ids = labs.map((l) => l.id);
-  const [instruments, acceptance, prices] = await Promise.all([
-    db
-      .select()
-      .from(schema.instruments)
-      .where(and(inArray(schema.instruments.labId, ids), eq(schema.instruments.active, true)))
-      .orderBy(asc(schema.instruments.createdAt)),
-    db.select().from(schema.hazardAcceptance).where(inArray(schema.hazardAcceptance.labId, ids)),
-    db.select().from(schema.priceLists).where(inArray(schema.priceLists.labId, ids)),
-  ]);
+type InstrumentRow = typeof schema.instruments.$inferSelect;
+
+/** Instruments with their sample stages in the shape the matching rules read. */
+async function withStages(instruments: InstrumentRow[]): Promise<(MatchInstrument & { labId: string })[]> {
   const stages = instruments.length
     ? await db
         .select()
@@ -34,25 +19,47 @@ export async function loadMatchLabs(labIds?: string[]): Promise<MatchLab[]> {
           ),
         )
     : [];
+  return instruments.map((i) => ({
+    id: i.id,
+    labId: i.labId,
+    name: i.name,
+    technique: i.technique,
+    anode: i.anode as Anode | null,
+    customWavelength: i.customWavelength,
+    twoThetaMin: i.twoThetaMin,
+    twoThetaMax: i.twoThetaMax,
+    energyDiscrimination: i.energyDiscrimination,
+    sampleForms: i.sampleForms,
+    stages: stages.filter((s) => s.instrumentId === i.id),
+  }));
+}
+
+/** Approved labs (or the given ones, whatever their state) with instruments, stages, hazards and prices. */
+export async function loadMatchLabs(labIds?: string[]): Promise<MatchLab[]> {
+  const labs = await db
+    .select({ id: schema.labs.organisationId, name: schema.organisations.name, slug: schema.organisations.slug })
+    .from(schema.labs)
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.labs.organisationId))
+    .where(labIds ? inArray(schema.labs.organisationId, labIds) : eq(schema.labs.vettingState, "approved"))
+    .orderBy(asc(schema.organisations.name));
+  if (labs.length === 0) return [];
+  const ids = labs.map((l) => l.id);
+  const [instrumentRows, acceptance, prices] = await Promise.all([
+    db
+      .select()
+      .from(schema.instruments)
+      .where(and(inArray(schema.instruments.labId, ids), eq(schema.instruments.active, true)))
+      .orderBy(asc(schema.instruments.createdAt)),
+    db.select().from(schema.hazardAcceptance).where(inArray(schema.hazardAcceptance.labId, ids)),
+    db.select().from(schema.priceLists).where(inArray(schema.priceLists.labId, ids)),
+  ]);
+  const instruments = await withStages(instrumentRows);
   return labs.map((lab) => {
     const acc = acceptance.find((a) => a.labId === lab.id);
     const price = prices.find((p) => p.labId === lab.id);
     return {
       ...lab,
-      instruments: instruments
-        .filter((i) => i.labId === lab.id)
-        .map((i) => ({
-          id: i.id,
-          name: i.name,
-          technique: i.technique,
-          anode: i.anode as Anode | null,
-          customWavelength: i.customWavelength,
-          twoThetaMin: i.twoThetaMin,
-          twoThetaMax: i.twoThetaMax,
-          energyDiscrimination: i.energyDiscrimination,
-          sampleForms: i.sampleForms,
-          stages: stages.filter((s) => s.instrumentId === i.id),
-        })),
+      instruments: instruments.filter((i) => i.labId === lab.id).map(stripLab),
       acceptance: { pictograms: acc?.pictograms ?? [], specialCategories: acc?.specialCategories ?? [] },
       priceList: price
         ? {
@@ -103,6 +110,37 @@ export async function matchLabsForRequest(requestId: string): Promise<LabMatch[]
   if (!request) return [];
   const labs = await loadMatchLabs();
   return labs.map((lab) => matchLab(request, lab)).sort((a, b) => Number(b.fits) - Number(a.fits) || a.labName.localeCompare(b.labName));
+}
+
+/**
+ * Each quote on a request judged by the instrument it names (docs/design.md#matching): that instrument's
+ * coverage, stages and fluorescence, not the lab's best instrument's. Keyed by quote id.
+ */
+export async function quoteJudgementsForRequest(requestId: string): Promise<Record<string, QuoteJudgement>> {
+  const request = await loadMatchRequest(requestId);
+  if (!request) return {};
+  const quotes = await db
+    .select({ id: schema.quotes.id, labId: schema.quotes.labId, instrumentId: schema.quotes.instrumentId })
+    .from(schema.quotes)
+    .where(eq(schema.quotes.requestId, requestId));
+  if (quotes.length === 0) return {};
+  const instrumentIds = [...new Set(quotes.flatMap((q) => (q.instrumentId ? [q.instrumentId] : [])))];
+  const [labs, quoted] = await Promise.all([
+    loadMatchLabs([...new Set(quotes.map((q) => q.labId))]),
+    instrumentIds.length ? db.select().from(schema.instruments).where(inArray(schema.instruments.id, instrumentIds)).then(withStages) : [],
+  ]);
+  const out: Record<string, QuoteJudgement> = {};
+  for (const q of quotes) {
+    const lab = labs.find((l) => l.id === q.labId);
+    if (!lab) continue;
+    const instrument = quoted.find((i) => i.id === q.instrumentId && i.labId === q.labId);
+    out[q.id] = judgeQuote(request, lab, instrument ? stripLab(instrument) : null);
+  }
+  return out;
+}
+
+function stripLab({ labId: _, ...instrument }: MatchInstrument & { labId: string }): MatchInstrument {
+  return instrument;
 }
 
 /** The ids of approved labs that fit a request. */

@@ -3,7 +3,7 @@ import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
 import { OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from "~/components/request-parts";
 import { EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
-import { matchLabsForRequest } from "~/models/labs/matching.server";
+import { matchLabsForRequest, quoteJudgementsForRequest } from "~/models/labs/matching.server";
 import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/requests/quotes.server";
 import { samplesOf, sdsLinks } from "~/models/requests/requests.server";
 import { requireOrgRole, requireOwnRequest } from "~/utils/permissions.server";
@@ -16,13 +16,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
   const row = await requireOwnRequest(params.id, membership.organisation.id);
   if (row.state === "draft") throw redirect(`/client/requests/${row.id}/edit/${row.draftStep}`);
-  const [samples, quotes, matches, order] = await Promise.all([
+  // Each quote card is judged by the instrument the quote names; the labs' matches judge each lab as a whole.
+  const [samples, quotes, matches, judgements, order] = await Promise.all([
     samplesOf(row.id),
     quotesForRequest(row.id),
     matchLabsForRequest(row.id),
+    quoteJudgementsForRequest(row.id),
     orderForRequest(row.id),
   ]);
-  return { request: row, samples, quotes, matches, order, sds: await sdsLinks(samples) };
+  return { request: row, samples, quotes, matches, judgements, order, sds: await sdsLinks(samples) };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -41,7 +43,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientRequest({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, samples, quotes, matches, order, sds } = loaderData;
+  const { request: r, samples, quotes, judgements, order, sds } = loaderData;
   const navigation = useNavigation();
   const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
   const past = quotes.filter((q) => !(q.state === "sent" || q.state === "accepted"));
@@ -93,7 +95,7 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
       ) : (
         <section className="grid gap-4 md:grid-cols-2 xl:grid-cols-3" aria-label="Quotes side by side">
           {live.map((q) => {
-            const match = matches.find((m) => m.labId === q.labId);
+            const judged = judgements[q.id];
             return (
               <article key={q.id} className={`card flex flex-col ${q.state === "accepted" ? "border-ok-600" : ""}`} aria-label={`Quote from ${q.labName}`}>
                 <div className="flex items-start justify-between gap-2">
@@ -124,7 +126,7 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
                   </tbody>
                 </table>
                 {q.notes ? <p className="mt-2 text-sm text-ink-700">{q.notes}</p> : null}
-                {match ? <MatchReasons reasons={match.reasons} warnings={match.warnings} /> : null}
+                {judged ? <MatchReasons reasons={judged.reasons} warnings={judged.warnings} /> : null}
                 {r.state === "open" && q.state === "sent" ? (
                   <Form method="post" className="mt-auto pt-4">
                     <input type="hidden" name="intent" value="accept" />
