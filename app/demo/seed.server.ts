@@ -5,6 +5,7 @@ import type { MembershipRole, OrganisationKind } from "~/db/schema";
 import { slugify } from "~/utils/auth.server";
 import { hashPassword } from "~/models/accounts/password.server";
 import { DEMO_ADMIN_TOTP_SECRET, DEMO_PASSWORD } from "./demo-secrets";
+import { type DemoVetting, vetDemoLab } from "./seed-vetting.server";
 
 export { DEMO_PASSWORD };
 
@@ -101,9 +102,8 @@ interface DemoInstrument {
   stages: { name: string; range: [number, number]; atmospheres: string[] }[];
 }
 
-interface DemoLab {
+type DemoLab = {
   name: string;
-  state: "applied" | "approved";
   description: string;
   accreditationNumber: string;
   instruments: DemoInstrument[];
@@ -117,7 +117,7 @@ interface DemoLab {
     turnaround: number;
   };
   acceptance: { pictograms: string[]; specialCategories: string[] };
-}
+} & ({ state: "applied" } | { state: "approved"; vetting: DemoVetting });
 
 const LABS: DemoLab[] = [
   {
@@ -154,6 +154,17 @@ const LABS: DemoLab[] = [
     ],
     prices: { currency: "EUR", perSample: { powder_reflection: 18000 }, extraPoint: 4500, hour: 9500, prep: 1500, hazardous: 6000, turnaround: 8 },
     acceptance: { pictograms: ["GHS02", "GHS05", "GHS06", "GHS07", "GHS08", "GHS09"], specialCategories: ["nanomaterial", "air_sensitive"] },
+    vetting: {
+      managerEmail: "lab@graniteridge.example",
+      standard: "si_srm640c",
+      instrumentName: "Reflection diffractometer A (Cu)",
+      anode: "Cu",
+      monochromation: "k_beta_filtered",
+      twoTheta: [15, 140],
+      step: 0.02,
+      zeroShift: -0.008,
+      seed: 640,
+    },
   },
   {
     name: "Lakeside Institute X-ray Core",
@@ -176,6 +187,17 @@ const LABS: DemoLab[] = [
     ],
     prices: { currency: "USD", perSample: { powder_transmission: 21000 }, extraPoint: 5000, hour: 11000, prep: 2000, hazardous: 8000, turnaround: 12 },
     acceptance: { pictograms: ["GHS07", "GHS08", "GHS09"], specialCategories: ["nanomaterial", "biological"] },
+    vetting: {
+      managerEmail: "lab@lakeside.example",
+      standard: "lab6_srm660c",
+      instrumentName: "Transmission diffractometer (Mo)",
+      anode: "Mo",
+      monochromation: "k_alpha1_only",
+      twoTheta: [8, 60],
+      step: 0.01,
+      zeroShift: 0.005,
+      seed: 661,
+    },
   },
   {
     name: "Meridian Analytical",
@@ -209,13 +231,14 @@ async function seedLabs(orgIds: Map<string, string>) {
       .values({
         organisationId: labId,
         description: lab.description,
-        vettingState: lab.state,
+        // An approved lab is approved below, on the evidence an admin's approval needs.
+        vettingState: "applied",
         accreditationNumber: lab.accreditationNumber,
         accreditationExpiry: "2028-06-30",
-        reviewedAt: lab.state === "approved" ? new Date() : null,
       })
       .onConflictDoNothing()
       .returning();
+    if (lab.state === "approved") await vetDemoLab(labId, lab.name, lab.accreditationNumber, lab.vetting);
     if (inserted.length === 0) continue; // already seeded
     for (const inst of lab.instruments) {
       const [row] = await db

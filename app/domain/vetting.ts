@@ -93,6 +93,20 @@ export function withinTolerance(check: Pick<CalibrationCheck, "deviationA"> | nu
   return check?.deviationA != null && Math.abs(check.deviationA) <= APPROVAL_TOLERANCE_A;
 }
 
+/**
+ * Why a lab cannot be shown as approved, in one sentence; null when it can. An approved lab must have its
+ * radiation-licence statement signed and a calibration scan checked (docs/design.md#labs-and-vetting); whether
+ * the check is within tolerance is judged by the approval itself (an admin may override it with a reason).
+ */
+export function approvalProblem(lab: { licenceAttestation: string | null; licenceAttestedAt: Date | string | null; calibrationCheck: unknown }) {
+  const check = lab.calibrationCheck as Partial<CalibrationCheck> | null;
+  if (!lab.licenceAttestation || !lab.licenceAttestedAt) {
+    return "The lab has not signed the radiation-licence statement; it cannot be approved until its application includes it.";
+  }
+  if (!check?.checkedAt) return "The lab's calibration scan has not been checked; it cannot be approved until its application includes one.";
+  return null;
+}
+
 /** The form a lab manager fills in; file fields carry what DirectUpload reported. */
 export const VettingApplicationSchema = z.object({
   description: z
@@ -135,6 +149,11 @@ export const VettingApplicationSchema = z.object({
     .regex(/^[0-9a-f]{64}$/i)
     .optional(),
 });
+
+/** The statement as stored once signed: the words the manager confirmed and their name. */
+export function signedStatement(statement: string, name: string) {
+  return `${statement} — signed ${name}`;
+}
 
 /** The statement a lab manager confirms; stored with their name, user and time. */
 export const LICENCE_STATEMENT =

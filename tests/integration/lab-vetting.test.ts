@@ -6,7 +6,7 @@ import { seedDemo } from "~/demo/seed.server";
 import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
 import { SILICON } from "~/diffraction/structures";
 import { vettingPrefix } from "~/models/labs/vetting.server";
-import { APPROVAL_TOLERANCE_A, type CalibrationCheck } from "~/domain/vetting";
+import { APPROVAL_TOLERANCE_A, LICENCE_STATEMENT, withinTolerance, type CalibrationCheck } from "~/domain/vetting";
 import { action as reviewAction, loader as reviewLoader } from "~/routes/admin/lab-review";
 import { loader as queueLoader } from "~/routes/admin/vetting-queue";
 import { action as uploadAction } from "~/routes/lab/vetting-upload";
@@ -105,11 +105,13 @@ const review = (labId: string, fields: Record<string, string>, who = ADMIN) =>
 
 let good: { cookie: string; labId: string };
 let off: { cookie: string; labId: string };
+let incomplete: { cookie: string; labId: string };
 
 beforeAll(async () => {
   await seedDemo();
   good = await newLab("Fernhollow Diffraction Services", "manager@fernhollow.example");
   off = await newLab("Basalt Coast Crystallography", "manager@basaltcoast.example");
+  incomplete = await newLab("Tidewater Powder Lab", "manager@tidewater.example");
 });
 
 describe("applying for vetting", () => {
@@ -275,5 +277,88 @@ describe("the admin's review", () => {
     expect(override.details).toMatchObject({ reason });
     const [admin] = await db.select().from(schema.users).where(eq(schema.users.email, ADMIN));
     expect(override.actorUserId).toBe(admin.id);
+  });
+});
+
+describe("what an approved lab must have", () => {
+  const formErrorsOf = (answer: { body: unknown }) => (answer.body as { result: { error: Record<string, string[]> } }).result.error[""] ?? [];
+  const decisionsAbout = async (labId: string) =>
+    (await db.select().from(schema.auditLog).where(eq(schema.auditLog.subjectId, labId)))
+      .map((e) => e.action)
+      .filter((a) => ["lab_approved", "lab_rejected", "lab_approval_override", "lab_reinstated"].includes(a));
+
+  it("refuses to approve without the signed statement or a checked calibration scan, changing nothing, even with an override", async () => {
+    const keys = await uploadFiles(incomplete.labId, siliconScan(SI_640C_A, 11), "complete");
+    expect((await callRoute(vettingAction, formRequest("/lab/vetting", applicationFields(keys), incomplete.cookie))).status).toBe(302);
+    const handedIn = await labRow(incomplete.labId);
+    const lettersBefore = (await db.select().from(schema.outboxMessages).where(eq(schema.outboxMessages.kind, "lab_decided"))).length;
+    expect(withinTolerance(handedIn.calibrationCheck as unknown as CalibrationCheck)).toBe(true);
+
+    // An application whose statement is missing (as one handed in before the statement existed would be).
+    await db.update(schema.labs).set({ licenceAttestation: null, licenceAttestedAt: null }).where(eq(schema.labs.organisationId, incomplete.labId));
+    const page = await callRoute(reviewLoader, getRequest(`/admin/labs/${incomplete.labId}`, await as(ADMIN)), { labId: incomplete.labId });
+    expect((page.body as { incomplete: string | null }).incomplete).toMatch(/radiation-licence statement/);
+    const noStatement = await review(incomplete.labId, { intent: "approve", note: "Scan in order." });
+    expect(noStatement.status).toBe(400);
+    expect(formErrorsOf(noStatement)).toEqual([
+      "The lab has not signed the radiation-licence statement; it cannot be approved until its application includes it.",
+    ]);
+
+    // The statement back, the calibration check missing: refused too, and an override does not help.
+    await db
+      .update(schema.labs)
+      .set({ licenceAttestation: handedIn.licenceAttestation, licenceAttestedAt: handedIn.licenceAttestedAt, calibrationCheck: null })
+      .where(eq(schema.labs.organisationId, incomplete.labId));
+    const noCheck = await review(incomplete.labId, {
+      intent: "approve",
+      note: "Scan in order.",
+      override: "on",
+      overrideReason: "The admin has seen the scan elsewhere and vouches for it.",
+    });
+    expect(noCheck.status).toBe(400);
+    expect(formErrorsOf(noCheck)).toEqual(["The lab's calibration scan has not been checked; it cannot be approved until its application includes one."]);
+    const unchanged = await labRow(incomplete.labId);
+    expect(unchanged.vettingState).toBe("in_review");
+    expect(unchanged.reviewedAt).toBeNull();
+    expect(await decisionsAbout(incomplete.labId)).toEqual([]);
+    expect(await db.select().from(schema.outboxMessages).where(eq(schema.outboxMessages.kind, "lab_decided"))).toHaveLength(lettersBefore);
+
+    // Complete again: the approval goes through.
+    await db.update(schema.labs).set({ calibrationCheck: handedIn.calibrationCheck }).where(eq(schema.labs.organisationId, incomplete.labId));
+    const done = await callRoute(reviewLoader, getRequest(`/admin/labs/${incomplete.labId}`, await as(ADMIN)), { labId: incomplete.labId });
+    expect((done.body as { incomplete: string | null }).incomplete).toBeNull();
+    expect((await review(incomplete.labId, { intent: "approve", note: "Statement, certificate and silicon scan in order." })).status).toBe(302);
+    expect((await labRow(incomplete.labId)).vettingState).toBe("approved");
+    expect(await decisionsAbout(incomplete.labId)).toEqual(["lab_approved"]);
+  });
+
+  it("gives the demo's approved labs a signed statement and a calibration check within tolerance", async () => {
+    const managers = { "Granite Ridge Characterisation": LAB_MANAGER, "Lakeside Institute X-ray Core": "lab@lakeside.example" };
+    for (const [name, manager] of Object.entries(managers)) {
+      const [org] = await db.select().from(schema.organisations).where(eq(schema.organisations.name, name));
+      const lab = await labRow(org.id);
+      expect(lab.vettingState).toBe("approved");
+      const [person] = await db.select().from(schema.users).where(eq(schema.users.email, manager));
+      expect(lab.licenceAttestation).toContain(LICENCE_STATEMENT);
+      expect(lab.licenceAttestation).toContain(person.name);
+      expect(lab.licenceAttestedBy).toBe(person.id);
+      const check = lab.calibrationCheck as unknown as CalibrationCheck;
+      // The certified cells of NIST SRM 640c and 660c (docs/reference-values.md#certified-lattice-parameters), recovered within the approval tolerance.
+      expect(check.certifiedA).toBe(check.standard === "si_srm640c" ? SI_640C_A : 4.156826);
+      expect(withinTolerance(check)).toBe(true);
+      expect(check.verdict).toBe("consistent");
+      const docs = await db.select().from(schema.labDocuments).where(eq(schema.labDocuments.labId, org.id));
+      expect(docs.map((d) => d.kind).sort()).toEqual(["accreditation_certificate", "calibration_scan"]);
+
+      const review = await callRoute(reviewLoader, getRequest(`/admin/labs/${org.id}`, await as(ADMIN)), { labId: org.id });
+      expect(review.body).toMatchObject({ incomplete: null, withinTolerance: true, lab: { attestedBy: person.name } });
+      // The lab's own vetting page states both.
+      const own = await callRoute(vettingLoader, getRequest("/lab/vetting", await as(manager)));
+      const body = own.body as { state: string; application: { attestation: string | null; scan: string | null }; check: CalibrationCheck | null };
+      expect(body.state).toBe("approved");
+      expect(body.application.attestation).toContain(person.name);
+      expect(body.application.scan).toMatch(/\.xy$/);
+      expect(body.check?.deviationA).not.toBeNull();
+    }
   });
 });

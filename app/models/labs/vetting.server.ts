@@ -7,7 +7,17 @@ import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
 import { invalidateDirectory } from "~/models/labs/directory.server";
 import { NoSuchRecord } from "~/models/errors";
-import { DECISIONS, SUBMITTABLE_STATES, VETTING_STATES, withinTolerance, type CalibrationCheck, type Decision, type VettingState } from "~/domain/vetting";
+import {
+  approvalProblem,
+  DECISIONS,
+  signedStatement,
+  SUBMITTABLE_STATES,
+  VETTING_STATES,
+  withinTolerance,
+  type CalibrationCheck,
+  type Decision,
+  type VettingState,
+} from "~/domain/vetting";
 
 export { isUuid };
 
@@ -77,7 +87,7 @@ export async function submitApplication(app: Application) {
         description: app.description,
         accreditationNumber: app.accreditationNumber,
         accreditationExpiry: app.accreditationExpiry,
-        licenceAttestation: `${app.attestation} — signed ${app.attestedName}`,
+        licenceAttestation: signedStatement(app.attestation, app.attestedName),
         licenceAttestedBy: app.actorUserId,
         licenceAttestedAt: now,
         calibrationStandard: app.standard,
@@ -113,9 +123,13 @@ export async function submitApplication(app: Application) {
 /** Raised when an approval lacks the tolerance or an override reason. */
 export class ApprovalRefused extends Error {}
 
+/** Raised when the application lacks what every approved lab has: the signed statement and a checked calibration scan. */
+export class ApplicationIncomplete extends Error {}
+
 /**
- * The admin's decision on a lab. Approval needs the calibration deviation within tolerance, or an
- * override with a written reason, which gets its own audit row.
+ * The admin's decision on a lab. Approving (or reinstating) needs the signed radiation-licence statement and a
+ * checked calibration scan, whatever the admin says; approval also needs the calibration deviation within
+ * tolerance, or an override with a written reason, which gets its own audit row.
  */
 export async function decideVetting(input: {
   labId: string;
@@ -132,6 +146,8 @@ export async function decideVetting(input: {
     if (!(rule.from as readonly VettingState[]).includes(current.vettingState)) {
       throw new VettingConflict(`A lab that is ${current.vettingState.replace("_", " ")} cannot be given "${input.decision}".`);
     }
+    const incomplete = rule.to === "approved" ? approvalProblem(current) : null;
+    if (incomplete) throw new ApplicationIncomplete(incomplete);
     const check = current.calibrationCheck as CalibrationCheck | null;
     const override = input.decision === "approve" && !withinTolerance(check);
     if (override && !input.overrideReason) {

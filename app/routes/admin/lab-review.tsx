@@ -6,8 +6,8 @@ import { z } from "zod";
 import { CalibrationSummary } from "~/components/calibration-summary";
 import { Field, FieldErrors, FormError, PageHeader, TableCard } from "~/components/ui";
 import { VettingBadge } from "~/components/vetting-badge";
-import { ApprovalRefused, decideVetting, labForReview, VettingConflict } from "~/models/labs/vetting.server";
-import { APPROVAL_TOLERANCE_A, DECISIONS, withinTolerance, type CalibrationCheck, type Decision, type VettingState } from "~/domain/vetting";
+import { ApplicationIncomplete, ApprovalRefused, decideVetting, labForReview, VettingConflict } from "~/models/labs/vetting.server";
+import { APPROVAL_TOLERANCE_A, approvalProblem, DECISIONS, withinTolerance, type CalibrationCheck, type Decision, type VettingState } from "~/domain/vetting";
 import { notFound, orNotFound, requireAdmin } from "~/utils/permissions.server";
 import { presignDownload } from "~/models/files/storage.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -75,6 +75,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     ),
     check,
     withinTolerance: withinTolerance(check),
+    /** Why approving (or reinstating) is refused whatever the admin says; null when the application is complete. */
+    incomplete: approvalProblem(lab),
     decisions: (Object.keys(DECISIONS) as Decision[]).filter((d) => (DECISIONS[d].from as readonly VettingState[]).includes(state)),
   };
 }
@@ -102,6 +104,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
     });
   } catch (err) {
     if (err instanceof ApprovalRefused) return data({ result: submission.reply({ fieldErrors: { override: [err.message] } }) }, { status: 400 });
+    if (err instanceof ApplicationIncomplete) return data({ result: submission.reply({ formErrors: [err.message] }) }, { status: 400 });
     if (err instanceof VettingConflict) return data({ result: submission.reply({ formErrors: [err.message] }) }, { status: 400 });
     throw err;
   }
@@ -115,7 +118,7 @@ const KIND_LABELS: Record<string, string> = {
 };
 
 export default function LabReview({ loaderData, actionData }: Route.ComponentProps) {
-  const { lab, documents, check, withinTolerance: inTolerance, decisions } = loaderData;
+  const { lab, documents, check, withinTolerance: inTolerance, incomplete, decisions } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     id: "vetting-decision",
@@ -197,7 +200,10 @@ export default function LabReview({ loaderData, actionData }: Route.ComponentPro
           <Field label="Note to the lab and the record" id={fields.note.id} errors={fields.note.errors}>
             <textarea className="input min-h-20" {...getTextareaProps(fields.note)} />
           </Field>
-          {decisions.includes("approve") && !inTolerance ? (
+          {incomplete && (decisions.includes("approve") || decisions.includes("reinstate")) ? (
+            <p className="rounded-lg border border-caution-600/30 bg-caution-50 p-4 text-sm text-caution-700">{incomplete}</p>
+          ) : null}
+          {decisions.includes("approve") && !incomplete && !inTolerance ? (
             <div className="rounded-lg border border-caution-600/30 bg-caution-50 p-4">
               <p className="text-sm text-caution-700">
                 The calibration deviation is outside ±{APPROVAL_TOLERANCE_A} Å (or the cell could not be refined). Approving needs an override with a written
@@ -221,7 +227,7 @@ export default function LabReview({ loaderData, actionData }: Route.ComponentPro
                 type="submit"
                 name="intent"
                 value={d}
-                disabled={busy}
+                disabled={busy || (incomplete !== null && DECISIONS[d].to === "approved")}
                 className={d === "reject" || d === "suspend" ? "btn-danger" : "btn-primary"}
               >
                 {DECISION_LABELS[d]}
