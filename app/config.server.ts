@@ -75,6 +75,8 @@ export const config = {
   },
   /** When the worker accepts lapsed review windows and retries delayed payouts (cron syntax). */
   reviewWindowCron: env.REVIEW_WINDOW_CRON || "*/5 * * * *",
+  /** When the worker sends the daily digests of optional notices (cron syntax, UTC). */
+  dailyDigestCron: env.DAILY_DIGEST_CRON || "0 7 * * *",
   signIn: { maxFailures: 5, windowMinutes: 10 },
   sessionDays: 14,
 };

@@ -1,12 +1,15 @@
-// The bell in the workspace header: unread count and the latest notifications, read through TanStack Query.
+// The bell in the workspace header: the unread count and latest notifications of the organisation the person works
+// in, read through TanStack Query; other organisations' unread notices are counted, with a switch to each.
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useEffect, useRef, useState } from "react";
-import { Link } from "react-router";
+import { Form, Link } from "react-router";
 import { useFormat } from "~/components/locale";
 
 interface NotificationsJson {
   unread: number;
   items: { id: string; kind: string; orderId: string | null; title: string; href: string; createdAt: string; read: boolean }[];
+  /** Unread notices of the person's other organisations. */
+  elsewhere: { organisationId: string; name: string; unread: number }[];
 }
 
 const KEY = ["notifications"];
@@ -39,13 +42,15 @@ export function NotificationBell() {
     return () => document.removeEventListener("mousedown", close);
   }, [open]);
   const unread = data?.unread ?? 0;
+  const elsewhere = data?.elsewhere ?? [];
+  const unreadElsewhere = elsewhere.reduce((n, o) => n + o.unread, 0);
   return (
     <div className="relative" ref={box}>
       <button
         type="button"
         className="relative rounded-md px-2 py-1 text-sm text-ink-700 hover:bg-ink-100"
         aria-expanded={open}
-        aria-label={unread ? `Notifications, ${unread} unread` : "Notifications"}
+        aria-label={`Notifications${unread ? `, ${unread} unread` : ""}${unreadElsewhere ? `, ${unreadElsewhere} unread in your other organisations` : ""}`}
         onClick={() => setOpen((o) => !o)}
       >
         <svg aria-hidden="true" viewBox="0 0 20 20" className="inline h-5 w-5" fill="currentColor">
@@ -58,6 +63,12 @@ export function NotificationBell() {
           >
             {unread > 99 ? "99+" : unread}
           </span>
+        ) : unreadElsewhere > 0 ? (
+          <span
+            data-testid="unread-elsewhere-dot"
+            aria-hidden="true"
+            className="absolute -top-0.5 -right-0.5 h-2.5 w-2.5 rounded-full border border-white bg-ink-400"
+          />
         ) : null}
       </button>
       {open ? (
@@ -77,6 +88,24 @@ export function NotificationBell() {
             <p role="alert" className="border-b border-ink-100 px-3 py-2 text-xs text-danger-700">
               Could not mark them read; try again.
             </p>
+          ) : null}
+          {elsewhere.length ? (
+            <ul className="border-b border-ink-100 bg-ink-50" data-testid="unread-elsewhere">
+              {elsewhere.map((o) => (
+                <li key={o.organisationId} className="flex items-center justify-between gap-2 px-3 py-2 text-xs text-ink-700">
+                  <span>
+                    {o.unread} unread in <span className="font-medium">{o.name}</span>
+                  </span>
+                  {/* A full page load: the whole workspace (and this bell) changes organisation. */}
+                  <Form method="post" action="/switch-organisation" reloadDocument>
+                    <input type="hidden" name="organisationId" value={o.organisationId} />
+                    <button type="submit" className="text-beam-700 hover:underline">
+                      Switch to {o.name}
+                    </button>
+                  </Form>
+                </li>
+              ))}
+            </ul>
           ) : null}
           <ul className="max-h-96 overflow-y-auto" aria-busy={isPending}>
             {isPending ? (

@@ -45,6 +45,8 @@ export const users = pgTable(
     totpEnabledAt: timestamp("totp_enabled_at", { withTimezone: true }),
     /** The last accepted time step: a code of that step or an earlier one is refused (RFC 6238 §5.2). */
     totpLastStep: integer("totp_last_step"),
+    /** Optional notices collected into one e-mail a day instead of one e-mail each. */
+    dailyDigest: boolean("daily_digest").notNull().default(false),
     createdAt: createdAt(),
   },
   (t) => [uniqueIndex("users_email_lower_idx").on(sql`lower(${t.email})`)],
@@ -802,6 +804,8 @@ export const outboxMessages = pgTable(
     lastError: text("last_error"),
     /** Payment, dispute and safety messages go out whatever the person's preferences say. */
     essential: boolean("essential").notNull().default(false),
+    /** Held for the recipient's daily digest instead of being sent on its own. */
+    digest: boolean("digest").notNull().default(false),
     /** The mail-send job carrying this row; null until the dispatcher has handed it to the queue. */
     jobId: uuid("job_id"),
     createdAt: createdAt(),
@@ -823,6 +827,8 @@ export const notifications = pgTable(
       .references(() => users.id, { onDelete: "cascade" }),
     kind: text("kind").notNull(),
     orderId: uuid("order_id").references(() => orders.id, { onDelete: "set null" }),
+    /** The organisation the notice belongs to (the bell shows the active one's); null for the person alone. */
+    organisationId: uuid("organisation_id").references(() => organisations.id, { onDelete: "cascade" }),
     title: text("title").notNull(),
     /** Where the notification leads inside the app (a path). */
     href: text("href").notNull().default(""),

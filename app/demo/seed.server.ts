@@ -39,9 +39,10 @@ export const DEMO_PEOPLE: DemoPerson[] = [
   {
     email: "consultant@fieldnotes.example",
     name: "Rosalind Okafor-Brandt",
+    // Manages the testing for both clients, so each one's milestones reach them (and their bell counts the other's).
     memberships: [
-      ["Halvorsen Cathode Works", "member"],
-      ["Pinecrest Solid Forms", "member"],
+      ["Halvorsen Cathode Works", "manager"],
+      ["Pinecrest Solid Forms", "manager"],
     ],
   },
   { email: "lab@graniteridge.example", name: "Marcus Tillery", memberships: [["Granite Ridge Characterisation", "manager"]] },

@@ -39,7 +39,7 @@ export async function demoTour(base: string) {
     `  open dispute: ${u(`/client/orders/${await orderId("Impurity check of NMC lot HC-2655")}`)}; every request state: ${u("/client/requests")}`,
     `  a declared Li3PO4 residue beside the olivine, both phases in its check: ${u(`/client/orders/${await orderId("Olivine with Li3PO4 residue in LFP batch HC-2681")}`)}  (check ${u(`/checks/${await checkId("HC-2681-A_Co_15-110.xy")}`)})`,
     `  a lot outside its ± 0.002 Å acceptance window: ${u(`/client/orders/${await orderId("Acceptance test of LFP production lot HC-2693")}`)}  (check ${u(`/checks/${await checkId("HC-2693-1_Co_15-110.xy")}`)})`,
-    "owner@pinecrest.example — Amara, client owner (member@pinecrest.example and consultant@fieldnotes.example are members too)",
+    "owner@pinecrest.example — Amara, client owner (member@pinecrest.example is a member; consultant@fieldnotes.example manages for both clients)",
     `  nanomaterial and toxic samples with their safety data sheets, in transit: ${u(`/client/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  refused on arrival, with the lab's reason and the refund: ${u(`/client/orders/${await orderId("Capillary series of solvate PSF-127")}`)}; inconsistent check of the resolved dispute: ${u(`/checks/${await checkId("PSF-118-B_Cu_5-60.xy")}`)}`,
     `  Form I declared with Form II as a candidate, the check picks the form the scan shows: ${u(`/client/orders/${await orderId("Form I or Form II of API batch PSF-163")}`)}  (check ${u(`/checks/${await checkId("PSF-163-B_Cu_5-60.xy")}`)})`,

@@ -12,6 +12,8 @@ export const QUEUES = {
   mailSend: "mail-send",
   /** Every quarter hour: "review window ends tomorrow" reminders. */
   reviewReminder: "review-reminder",
+  /** Once a day: each digest reader's held optional notices in one e-mail. */
+  dailyDigest: "daily-digest",
 } as const;
 
 const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };

@@ -3,6 +3,7 @@
 import type PgBoss from "pg-boss";
 import { config } from "~/config.server";
 import { runScanCheck } from "~/models/checks/scan-check.server";
+import { sendDailyDigests } from "~/models/notifications/digest.server";
 import { deliverOutboxMessage, remindReviewWindows, startOutboxDispatcher } from "~/models/notifications/delivery.server";
 import { acceptLapsedDeliveries, releasePendingPayouts } from "~/models/orders/lifecycle.server";
 import { QUEUES } from "./queues.server";
@@ -23,8 +24,13 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = config.rev
   await startMailWorkers(boss);
 }
 
-/** The mail workers: the dispatcher, the mail-send handlers and the review-window reminder schedule. */
-export async function startMailWorkers(boss: PgBoss, { sweepMs = 5000, reminderCron = "*/15 * * * *", workers = 2 } = {}) {
+/** The mail workers: the dispatcher, the mail-send handlers, the daily digest and the review-window reminder schedule. */
+export async function startMailWorkers(boss: PgBoss, { sweepMs = 5000, reminderCron = "*/15 * * * *", digestCron = config.dailyDigestCron, workers = 2 } = {}) {
+  await boss.schedule(QUEUES.dailyDigest, digestCron);
+  await boss.work(QUEUES.dailyDigest, async () => {
+    const sent = await sendDailyDigests();
+    if (sent > 0) console.log(`daily digest: ${sent} digests written`);
+  });
   await boss.schedule(QUEUES.reviewReminder, reminderCron);
   await boss.work(QUEUES.reviewReminder, async () => {
     const reminded = await remindReviewWindows();

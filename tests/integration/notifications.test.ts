@@ -67,13 +67,18 @@ async function fakeListing(): Promise<{ messages: { idempotencyKey: string | nul
   return (await fetch(`${mailBase}/_fake/messages`)).json();
 }
 
-async function membersOf(orgId: string) {
+/**
+ * The people of an organisation who hear of its milestones (docs/design.md, "Who is told"): its owners and
+ * managers. The fixtures' requests and quotes are written by one of them or by nobody, so nobody else is added.
+ */
+async function decidersOf(orgId: string) {
   const { schema, db, eq } = w;
+  const { and, inArray } = await import("drizzle-orm");
   const people = await db
     .select({ email: schema.users.email })
     .from(schema.memberships)
     .innerJoin(schema.users, eq(schema.users.id, schema.memberships.userId))
-    .where(eq(schema.memberships.organisationId, orgId));
+    .where(and(eq(schema.memberships.organisationId, orgId), inArray(schema.memberships.role, ["owner", "manager"])));
   return people.map((p) => p.email).sort();
 }
 
@@ -104,8 +109,8 @@ beforeAll(async () => {
     session: await import("~/utils/session.server"),
   };
   await w.onboardLab();
-  clientEmails = await membersOf(w.halvorsen.id);
-  labEmails = await membersOf(w.granite.id);
+  clientEmails = await decidersOf(w.halvorsen.id);
+  labEmails = await decidersOf(w.granite.id);
 });
 
 afterAll(async () => {
@@ -158,6 +163,8 @@ describe("each milestone of the order flow", () => {
     expect(Object.fromEntries([...byKind].map(([k, v]) => [k, v.sort()]))).toEqual(expected);
     const insiders = new Set([...clientEmails, ...labEmails]);
     expect(written.every((r) => insiders.has(r.to))).toBe(true);
+    // Members who neither decide nor act on this order are not written to.
+    for (const bystander of ["member@halvorsen.example", "operator@graniteridge.example"]) expect(written.map((r) => r.to)).not.toContain(bystander);
 
     const delivered = written.find((r) => r.kind === "data_delivered")!;
     expect(delivered.text).toContain("LFP-22 — lfp-22.xy — consistent with the declared cell");
@@ -191,10 +198,10 @@ describe("each milestone of the order flow", () => {
     const answer = await models.quotes.acceptQuote(request.id, granite.id, w.halvorsen.id, w.owner.id);
     expect(answer.ok).toBe(true);
     expect((await rows({ kind: "quote_accepted" })).map((r) => r.to).sort()).toEqual(labEmails);
-    expect((await rows({ kind: "quote_declined" })).map((r) => r.to).sort()).toEqual(await membersOf(lakeside.id));
+    expect((await rows({ kind: "quote_declined" })).map((r) => r.to).sort()).toEqual(await decidersOf(lakeside.id));
   });
 
-  it("a new open request goes to the matching labs' members; a lab application to the admins only", async () => {
+  it("a new open request goes to the matching labs' owners and managers; a lab application to the admins only", async () => {
     const { db, schema } = w;
     const [request] = await db
       .insert(schema.requests)
@@ -202,7 +209,7 @@ describe("each milestone of the order flow", () => {
       .returning();
     const labIds = await models.matching.labsMatchingRequest(request.id);
     await db.transaction((tx) => outbox.notify(tx, { kind: "request_open", requestId: request.id, labIds }));
-    const expectedLabs = (await Promise.all(labIds.map(membersOf))).flat().sort();
+    const expectedLabs = (await Promise.all(labIds.map(decidersOf))).flat().sort();
     expect((await rows({ kind: "request_open" })).map((r) => r.to).sort()).toEqual([...new Set(expectedLabs)]);
     expect(expectedLabs).not.toContain("owner@halvorsen.example");
 
@@ -212,7 +219,8 @@ describe("each milestone of the order flow", () => {
 
   it("respects a person's choice for optional messages, never for payment ones", async () => {
     const { db, schema, eq } = w;
-    const member = (await db.select().from(schema.users).where(eq(schema.users.email, "member@halvorsen.example")))[0];
+    // The owner hears of every milestone of the client's orders, so their choice is the one tried.
+    const member = (await db.select().from(schema.users).where(eq(schema.users.email, "owner@halvorsen.example")))[0];
     const inbox = await import("~/models/notifications/inbox.server");
     await inbox.savePreferences(member.id, new Set());
     const orderId = await w.makeOrder();
@@ -223,7 +231,8 @@ describe("each milestone of the order flow", () => {
     // The in-app list still has every milestone.
     const notes = await db.select().from(schema.notifications).where(eq(schema.notifications.userId, member.id));
     expect(notes.filter((n) => n.orderId === orderId).length).toBe(4);
-    await inbox.savePreferences(member.id, new Set(["samples_received", "measuring_started", "data_delivered"] as never));
+    const { MILESTONE_KINDS } = await import("~/domain/milestones");
+    await inbox.savePreferences(member.id, new Set(MILESTONE_KINDS));
   });
 });
 

@@ -99,7 +99,7 @@ export function mailJobOptions() {
 }
 
 /**
- * Hands queued rows that have no job yet to the mail-send queue, stamping each row with its job in the
+ * Hands queued rows that have no job yet to the mail-send queue (rows held for a daily digest wait for it), stamping each row with its job in the
  * same transaction, so a row is handed over exactly once even with several dispatchers running.
  */
 export async function dispatchOutbox(boss: PgBoss, limit = 200): Promise<number> {
@@ -107,7 +107,7 @@ export async function dispatchOutbox(boss: PgBoss, limit = 200): Promise<number>
   try {
     await client.query("begin");
     const { rows } = await client.query<{ id: string }>(
-      "select id from outbox_messages where job_id is null and status = 'queued' order by created_at limit $1 for update skip locked",
+      "select id from outbox_messages where job_id is null and status = 'queued' and not digest order by created_at limit $1 for update skip locked",
       [limit],
     );
     const adapter = { executeSql: (text: string, values?: unknown[]) => client.query(text, values) };

@@ -64,16 +64,38 @@ interface Outgoing {
   person: Person;
   letter: Letter;
   orderId: string | null;
+  /** The organisation the notice is written to (its bell); null for admins and invitations. */
+  organisationId: string | null;
 }
 
-async function membersOf(tx: Tx, organisationIds: string[]): Promise<Person[]> {
-  if (organisationIds.length === 0) return [];
-  return tx
-    .selectDistinct({ userId: schema.users.id, email: schema.users.email, name: schema.users.name })
+/** The roles that hear of every milestone of their organisation. */
+const DECIDING_ROLES = ["owner", "manager"] as const;
+
+/**
+ * Who of one organisation hears of a milestone: the person who acts for it on the matter (the request's
+ * author, the quote's author) if still a member, and its owners and managers. An organisation with neither
+ * (no owner or manager on record) falls back to every member, so no milestone goes unheard.
+ */
+async function recipientsOf(tx: Tx, organisationId: string, actingUserIds: (string | null)[] = []): Promise<Person[]> {
+  const acting = actingUserIds.filter((id): id is string => !!id);
+  const members = await tx
+    .select({ userId: schema.users.id, email: schema.users.email, name: schema.users.name, role: schema.memberships.role })
     .from(schema.memberships)
     .innerJoin(schema.users, eq(schema.users.id, schema.memberships.userId))
-    .where(inArray(schema.memberships.organisationId, organisationIds))
+    .where(eq(schema.memberships.organisationId, organisationId))
     .orderBy(asc(schema.users.email));
+  const chosen = members.filter((m) => (DECIDING_ROLES as readonly string[]).includes(m.role) || acting.includes(m.userId));
+  return (chosen.length ? chosen : members).map(({ userId, email, name }) => ({ userId, email, name }));
+}
+
+async function requestAuthor(tx: Tx, requestId: string): Promise<string | null> {
+  const [row] = await tx.select({ by: schema.requests.createdBy }).from(schema.requests).where(eq(schema.requests.id, requestId));
+  return row?.by ?? null;
+}
+
+async function quoteAuthor(tx: Tx, quoteId: string): Promise<string | null> {
+  const [row] = await tx.select({ by: schema.quotes.createdBy }).from(schema.quotes).where(eq(schema.quotes.id, quoteId));
+  return row?.by ?? null;
 }
 
 async function admins(tx: Tx): Promise<Person[]> {
@@ -121,9 +143,15 @@ async function orderOutgoing(tx: Tx, order: Order, kind: MilestoneKind, audience
   const context = await orderContext(tx, order, note, kind === "data_delivered");
   const out: Outgoing[] = [];
   for (const side of audiences) {
-    const people = side === "admin" ? await admins(tx) : await membersOf(tx, [side === "client" ? order.clientOrganisationId : order.labId]);
+    const organisationId = side === "admin" ? null : side === "client" ? order.clientOrganisationId : order.labId;
+    const people =
+      side === "admin"
+        ? await admins(tx)
+        : side === "client"
+          ? await recipientsOf(tx, order.clientOrganisationId, [await requestAuthor(tx, order.requestId)])
+          : await recipientsOf(tx, order.labId, [await quoteAuthor(tx, order.quoteId)]);
     const letter = orderLetter(kind, context, side);
-    for (const person of people) out.push({ kind, person, letter, orderId: order.id });
+    for (const person of people) out.push({ kind, person, letter, orderId: order.id, organisationId });
   }
   return out;
 }
@@ -146,7 +174,10 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
         technique: r.technique,
         deadline: r.deadline ? String(r.deadline) : null,
       });
-      return (await membersOf(tx, m.labIds)).map((person) => ({ kind: "request_open" as const, person, letter, orderId: null }));
+      const out: Outgoing[] = [];
+      for (const labId of m.labIds)
+        for (const person of await recipientsOf(tx, labId)) out.push({ kind: "request_open", person, letter, orderId: null, organisationId: labId });
+      return out;
     }
     case "quote_received": {
       const [q] = await tx.select().from(schema.quotes).where(eq(schema.quotes.id, m.quoteId));
@@ -161,7 +192,13 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
         turnaroundDays: q.turnaroundDays,
         validUntil: q.validUntil,
       });
-      return (await membersOf(tx, [r.organisationId])).map((person) => ({ kind: "quote_received" as const, person, letter, orderId: null }));
+      return (await recipientsOf(tx, r.organisationId, [r.createdBy])).map((person) => ({
+        kind: "quote_received" as const,
+        person,
+        letter,
+        orderId: null,
+        organisationId: r.organisationId,
+      }));
     }
     case "quote_decided": {
       const [accepted] = await tx.select().from(schema.quotes).where(eq(schema.quotes.id, m.acceptedQuoteId));
@@ -182,21 +219,27 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
           totalMinor: q.totalMinor,
           currency: q.currency,
         });
-        for (const person of await membersOf(tx, [q.labId]))
-          out.push({ kind: isAccepted ? "quote_accepted" : "quote_declined", person, letter, orderId: isAccepted ? m.orderId : null });
+        for (const person of await recipientsOf(tx, q.labId, [q.createdBy]))
+          out.push({
+            kind: isAccepted ? "quote_accepted" : "quote_declined",
+            person,
+            letter,
+            orderId: isAccepted ? m.orderId : null,
+            organisationId: q.labId,
+          });
       }
       return out;
     }
     case "lab_application_received": {
       const lab = await orgName(tx, m.labId);
       const letter = labApplicationLetter({ labId: m.labId, labName: lab.name, city: lab.city, country: lab.country });
-      return (await admins(tx)).map((person) => ({ kind: "lab_application_received" as const, person, letter, orderId: null }));
+      return (await admins(tx)).map((person) => ({ kind: "lab_application_received" as const, person, letter, orderId: null, organisationId: null }));
     }
     case "lab_decided": {
       if (m.to !== "approved" && m.to !== "rejected") return [];
       const letter = labDecisionLetter(m.to === "approved", { labName: (await orgName(tx, m.labId)).name, note: m.note });
       const kind = m.to === "approved" ? ("lab_approved" as const) : ("lab_rejected" as const);
-      return (await membersOf(tx, [m.labId])).map((person) => ({ kind, person, letter, orderId: null }));
+      return (await recipientsOf(tx, m.labId)).map((person) => ({ kind, person, letter, orderId: null, organisationId: m.labId }));
     }
     case "organisation_invitation": {
       const [inv] = await tx.select().from(schema.organisationInvitations).where(eq(schema.organisationInvitations.id, m.invitationId));
@@ -214,7 +257,7 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
         expiresAt: inv.expiresAt,
       });
       const person: Person = { userId: account?.id ?? null, email: inv.email, name: account?.name ?? "there" };
-      return [{ kind: "organisation_invitation" as const, person, letter, orderId: null }];
+      return [{ kind: "organisation_invitation" as const, person, letter, orderId: null, organisationId: null }];
     }
     case "password_reset": {
       const [row] = await tx.select().from(schema.passwordResetTokens).where(eq(schema.passwordResetTokens.id, m.tokenId));
@@ -224,7 +267,15 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       if (!row || !user) return [];
       // E-mail only: an in-app notification would keep the working link in the notification list.
       const person: Person = { userId: null, email: user.email, name: user.name };
-      return [{ kind: "password_reset" as const, person, letter: passwordResetLetter({ token: m.token, expiresAt: row.expiresAt }), orderId: null }];
+      return [
+        {
+          kind: "password_reset" as const,
+          person,
+          letter: passwordResetLetter({ token: m.token, expiresAt: row.expiresAt }),
+          orderId: null,
+          organisationId: null,
+        },
+      ];
     }
   }
 }
@@ -236,7 +287,8 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
  */
 export async function notify(tx: Tx, milestone: Milestone): Promise<number> {
   const all = await outgoingFor(tx, milestone);
-  // One message per person and kind, even when someone belongs to both sides or is also an admin.
+  // One message per person and kind, even when someone belongs to both sides or is also an admin (the first
+  // side's organisation keeps the notice).
   const seen = new Set<string>();
   const outgoing = all.filter((o) => {
     const key = `${o.kind}:${o.person.userId ?? o.person.email.toLowerCase()}`;
@@ -263,9 +315,28 @@ export async function notify(tx: Tx, milestone: Milestone): Promise<number> {
       );
     for (const r of rows) optedOut.add(`${r.kind}:${r.userId}`);
   }
+  // Optional messages of people who chose the daily digest wait for it (app/models/notifications/digest.server.ts).
+  const digestReaders = new Set<string>();
+  if (optional.length) {
+    const rows = await tx
+      .select({ id: schema.users.id })
+      .from(schema.users)
+      .where(
+        and(
+          inArray(
+            schema.users.id,
+            optional.map((o) => o.person.userId!),
+          ),
+          eq(schema.users.dailyDigest, true),
+        ),
+      );
+    for (const r of rows) digestReaders.add(r.id);
+  }
 
   const inApp = outgoing.flatMap((o) =>
-    o.person.userId ? [{ userId: o.person.userId, kind: o.kind, orderId: o.orderId, title: o.letter.subject, href: o.letter.link.path }] : [],
+    o.person.userId
+      ? [{ userId: o.person.userId, kind: o.kind, orderId: o.orderId, organisationId: o.organisationId, title: o.letter.subject, href: o.letter.link.path }]
+      : [],
   );
   if (inApp.length) await tx.insert(schema.notifications).values(inApp);
   const mails = outgoing.filter((o) => !optedOut.has(`${o.kind}:${o.person.userId}`));
@@ -282,6 +353,7 @@ export async function notify(tx: Tx, milestone: Milestone): Promise<number> {
         orderId: o.orderId,
         userId: o.person.userId,
         essential: isEssential(o.kind),
+        digest: !isEssential(o.kind) && !!o.person.userId && digestReaders.has(o.person.userId),
       };
     }),
   );
