@@ -10,6 +10,8 @@ import { Badge } from "./ui";
 
 export interface OrderRow {
   id: string;
+  /** The order number people read (HCW-2026-0042). */
+  number: string;
   title: string;
   counterpart: string;
   state: OrderState;
@@ -18,9 +20,9 @@ export interface OrderRow {
   updatedAt: string | Date;
 }
 
-type OrderSort = "title" | "amount" | "state" | "updated";
+type OrderSort = "number" | "title" | "amount" | "state" | "updated";
 export const ORDERS_TABLE: TableSpec<OrderSort> = {
-  sorts: ["title", "amount", "state", "updated"],
+  sorts: ["number", "title", "amount", "state", "updated"],
   defaultSort: "updated",
   firstDir: { updated: "desc", amount: "desc" },
   pageSize: 50,
@@ -29,6 +31,7 @@ export const ORDERS_TABLE: TableSpec<OrderSort> = {
 /** One page of orders in the asked order; states sort in the order an order moves through them. */
 export function pageOfOrders<T extends OrderRow>(orders: T[], q: TableQuery<OrderSort>) {
   return sortAndPage(orders, q, {
+    number: (o) => o.number,
     title: (o) => o.title,
     // Amounts in different currencies are not compared by value: currency first, then amount.
     amount: (o) => `${o.currency}${String(o.amountMinor).padStart(12, "0")}`,
@@ -57,6 +60,7 @@ export function OrdersTable({
     <>
       <SortableTable
         columns={[
+          { label: "Order", sort: "number" },
           { label: "Request", sort: "title" },
           { label: counterpart },
           { label: "Amount", sort: "amount", firstDir: "desc" },
@@ -69,6 +73,7 @@ export function OrdersTable({
       >
         {orders.map((o) => (
           <tr key={o.id}>
+            <td className="whitespace-nowrap font-mono text-xs">{o.number}</td>
             <td>
               <Link to={`${hrefBase}/${o.id}`} className="font-medium text-beam-700 hover:underline">
                 {o.title}

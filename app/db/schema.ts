@@ -61,9 +61,15 @@ export const organisations = pgTable(
     slug: text("slug").notNull(),
     city: text("city"),
     country: text("country"),
+    /** The letters that start its order numbers (HCW in HCW-2026-0042), from the name's initials; set at its first order. */
+    orderPrefix: text("order_prefix"),
     createdAt: createdAt(),
   },
-  (t) => [uniqueIndex("organisations_slug_idx").on(t.slug), index("organisations_kind_idx").on(t.kind)],
+  (t) => [
+    uniqueIndex("organisations_slug_idx").on(t.slug),
+    index("organisations_kind_idx").on(t.kind),
+    uniqueIndex("organisations_order_prefix_idx").on(t.orderPrefix),
+  ],
 );
 
 export const memberships = pgTable(
@@ -495,6 +501,8 @@ export const orders = pgTable(
     labId: uuid("lab_id")
       .notNull()
       .references(() => labs.organisationId, { onDelete: "restrict" }),
+    /** What people read: the client organisation's prefix, the year and a gap-free sequence (HCW-2026-0042, docs/design.md#order-numbers). */
+    number: text("number").notNull(),
     state: orderState("state").notNull().default("awaiting_payment"),
     amountMinor: integer("amount_minor").notNull(),
     currency: text("currency").notNull(),
@@ -509,9 +517,23 @@ export const orders = pgTable(
   (t) => [
     unique("orders_request_unique").on(t.requestId),
     unique("orders_quote_unique").on(t.quoteId),
+    unique("orders_number_unique").on(t.number),
     index("orders_client_idx").on(t.clientOrganisationId, t.state),
     index("orders_lab_idx").on(t.labId, t.state),
   ],
+);
+
+/** The last order number given per client organisation and year; the row is locked while an order takes the next one. */
+export const orderNumberCounters = pgTable(
+  "order_number_counters",
+  {
+    organisationId: uuid("organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "cascade" }),
+    year: integer("year").notNull(),
+    lastSeq: integer("last_seq").notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.organisationId, t.year] })],
 );
 
 /** The order's timeline: one row per state change, with who and why. */

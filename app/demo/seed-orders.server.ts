@@ -3,6 +3,7 @@ import { and, eq } from "drizzle-orm";
 import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
 import { lockOrder, moveOrder } from "~/models/orders/lifecycle.server";
+import { takeOrderNumber } from "~/models/orders/numbers.server";
 import { acceptDelivery, cancelOrder, openDispute, resolveDispute } from "~/models/orders/lifecycle.server";
 import { payoutOnboardingUrl, syncPayoutAccount } from "~/models/payments/provider.server";
 import { startCheckout, syncCheckout } from "~/models/payments/checkout.server";
@@ -160,18 +161,21 @@ export async function seedDemoOrders() {
         decidedAt: new Date(),
       })
       .returning();
-    const [order] = await db
-      .insert(schema.orders)
-      .values({
-        requestId: request.id,
-        quoteId: quote.id,
-        clientOrganisationId: client.id,
-        labId: lab.id,
-        amountMinor: o.amountMinor,
-        currency: o.currency,
-        platformFeeBps: config.payments.platformFeeBps,
-      })
-      .returning();
+    const [order] = await db.transaction(async (tx) =>
+      tx
+        .insert(schema.orders)
+        .values({
+          requestId: request.id,
+          quoteId: quote.id,
+          number: await takeOrderNumber(tx, client.id),
+          clientOrganisationId: client.id,
+          labId: lab.id,
+          amountMinor: o.amountMinor,
+          currency: o.currency,
+          platformFeeBps: config.payments.platformFeeBps,
+        })
+        .returning(),
+    );
     await db.insert(schema.orderEvents).values({ orderId: order.id, toState: "awaiting_payment", actorUserId: person.id, note: "Quote accepted" });
     if (o.to === "awaiting_payment") continue;
     await payOrder(order.id, person);

@@ -5,6 +5,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import pg from "pg";
+import { numberedOrderInsert } from "../setup/numbered-order";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { simulatedXy } from "./test-files";
 import { SILICON } from "~/diffraction/structures";
@@ -43,7 +44,10 @@ async function measuringOrder() {
       [request.id, lab.id, instrument?.id ?? null],
     );
     const order = await one(
-      "insert into orders (request_id, quote_id, client_organisation_id, lab_id, state, amount_minor, currency) values ($1, $2, $3, $4, 'measuring', 15000, 'EUR') returning id",
+      numberedOrderInsert(
+        "request_id, quote_id, client_organisation_id, lab_id, state, amount_minor, currency",
+        "$1::uuid, $2::uuid, $3::uuid, $4::uuid, 'measuring', 15000, 'EUR'",
+      ),
       [request.id, quote.id, client.id, lab.id],
     );
     await c.query("insert into order_events (order_id, to_state, note) values ($1, 'measuring', 'Made by the delivery browser test')", [order.id]);

@@ -353,6 +353,8 @@ describe("the client's journey", () => {
     await page.waitForURL(`${BASE_URL}/client/orders/${orderId}/packing-slip`);
     await waitForHydration(page);
     await page.getByText(SAMPLE).first().waitFor();
+    // The slip names the order by its number, which the lab reads off the parcel (docs/design.md#order-numbers).
+    await page.getByText(/^HCW-\d{4}-\d{4,}$/).waitFor();
     await checkAccessibility(page, "client-packing-slip");
     await shot(page, "packing-slip");
     await visit(page, `/client/orders/${orderId}`);
@@ -460,7 +462,8 @@ describe("the client's journey", () => {
 
     await page.getByRole("link", { name: /Back to the order's files/ }).click();
     await page.waitForURL(`${BASE_URL}/client/data-room/${orderId}`);
-    await page.getByRole("link", { name: "Order", exact: true }).click();
+    // The data room names the order by its number (docs/design.md#order-numbers), never by its id.
+    await page.getByRole("link", { name: /^Order HCW-\d{4}-\d{4,}$/ }).click();
     await page.waitForURL(`${BASE_URL}/client/orders/${orderId}`);
     await waitForHydration(page);
     await expectBadge(page, "Data delivered");

@@ -2,6 +2,7 @@
 // becomes its Accept-Language; the server renders in that locale and hydration renders the same text (a mismatch
 // would be a console error, which fails the test). Times are shown in UTC.
 import pg from "pg";
+import { numberedOrderInsert } from "../setup/numbered-order";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { databaseUrl } from "../../services/postgres";
 import { BASE_URL, openBrowser, screenshot, signIn, visit } from "./harness";
@@ -32,7 +33,10 @@ beforeAll(async () => {
       [request.id, lab.id],
     );
     const order = await one(
-      "insert into orders (request_id, quote_id, client_organisation_id, lab_id, state, amount_minor, currency, updated_at) values ($1, $2, $3, $4, 'measuring', 123450, 'EUR', '2026-03-07T09:15:00Z') returning id",
+      numberedOrderInsert(
+        "request_id, quote_id, client_organisation_id, lab_id, state, amount_minor, currency, updated_at",
+        "$1::uuid, $2::uuid, $3::uuid, $4::uuid, 'measuring', 123450, 'EUR', '2026-03-07T09:15:00Z'::timestamptz",
+      ),
       [request.id, quote.id, client.id, lab.id],
     );
     await c.query(

@@ -475,6 +475,8 @@ describe("APIs for the client's tools", () => {
     const orders = (all.body as { orders: { id: string; state: string; labName: string; requestTitle: string; updatedAt: string }[] }).orders;
     expect(orders.find((o) => o.id === orderId)).toEqual({
       id: orderId,
+      // The number people read: Halvorsen's prefix, the year and its sequence (docs/design.md#order-numbers).
+      number: expect.stringMatching(/^HCW-\d{4}-\d{4,}$/),
       state: "measuring",
       labName: "Granite Ridge Characterisation",
       requestTitle: expect.stringMatching(/^Money test/),

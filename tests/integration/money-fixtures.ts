@@ -16,6 +16,7 @@ export async function moneyWorld() {
     payments: await import("~/models/payments/provider.server"),
     checkout: await import("~/models/payments/checkout.server"),
     orders: await import("~/models/orders/lifecycle.server"),
+    numbers: await import("~/models/orders/numbers.server"),
     ledger: await import("~/models/payments/ledger.server"),
     webhook: await import("~/routes/api/webhooks-payments"),
   };
@@ -83,10 +84,20 @@ export async function moneyWorld() {
         turnaroundDays: 8,
       })
       .returning();
-    const [order] = await db
-      .insert(schema.orders)
-      .values({ requestId: request.id, quoteId: quote.id, clientOrganisationId: halvorsen.id, labId: granite.id, amountMinor, currency: "EUR" })
-      .returning();
+    const [order] = await db.transaction(async (tx) =>
+      tx
+        .insert(schema.orders)
+        .values({
+          requestId: request.id,
+          quoteId: quote.id,
+          number: await app.numbers.takeOrderNumber(tx, halvorsen.id),
+          clientOrganisationId: halvorsen.id,
+          labId: granite.id,
+          amountMinor,
+          currency: "EUR",
+        })
+        .returning(),
+    );
     await db.insert(schema.orderEvents).values({ orderId: order.id, toState: "awaiting_payment", actorUserId: owner.id, note: "Quote accepted" });
     return order.id;
   }

@@ -4,6 +4,7 @@ import { and, asc, count, eq, inArray } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { windowText } from "~/components/request-parts";
 import { db, schema } from "~/db/client.server";
+import { takeOrderNumber } from "~/models/orders/numbers.server";
 import { seedDemo } from "~/demo/seed.server";
 import { declaredCheckOptions } from "~/domain/check-result";
 import { checkContext } from "~/models/checks/scan-check.server";
@@ -287,18 +288,21 @@ describe("the declaration on the order and in the scan check", () => {
         turnaroundDays: 5,
       })
       .returning();
-    const [order] = await db
-      .insert(schema.orders)
-      .values({
-        requestId,
-        quoteId: quote.id,
-        clientOrganisationId: request.organisationId,
-        labId: granite.id,
-        amountMinor: 10_000,
-        currency: "EUR",
-        state: "measuring",
-      })
-      .returning();
+    const [order] = await db.transaction(async (tx) =>
+      tx
+        .insert(schema.orders)
+        .values({
+          requestId,
+          quoteId: quote.id,
+          number: await takeOrderNumber(tx, request.organisationId),
+          clientOrganisationId: request.organisationId,
+          labId: granite.id,
+          amountMinor: 10_000,
+          currency: "EUR",
+          state: "measuring",
+        })
+        .returning(),
+    );
     orderId = order.id;
   });
 

@@ -4,6 +4,7 @@ import { createHash } from "node:crypto";
 import { and, eq } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { db, schema } from "~/db/client.server";
+import { takeOrderNumber } from "~/models/orders/numbers.server";
 import { seedDemo } from "~/demo/seed.server";
 import { parseScan } from "~/diffraction";
 import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
@@ -136,18 +137,21 @@ beforeAll(async () => {
       turnaroundDays: 5,
     })
     .returning();
-  const [order] = await db
-    .insert(schema.orders)
-    .values({
-      requestId: request.id,
-      quoteId: quote.id,
-      clientOrganisationId: halvorsen.id,
-      labId: granite.id,
-      amountMinor: 10_000,
-      currency: "EUR",
-      state: "measuring",
-    })
-    .returning();
+  const [order] = await db.transaction(async (tx) =>
+    tx
+      .insert(schema.orders)
+      .values({
+        requestId: request.id,
+        quoteId: quote.id,
+        number: await takeOrderNumber(tx, halvorsen.id),
+        clientOrganisationId: halvorsen.id,
+        labId: granite.id,
+        amountMinor: 10_000,
+        currency: "EUR",
+        state: "measuring",
+      })
+      .returning(),
+  );
   orderId = order.id;
 });
 

@@ -7,6 +7,7 @@ import { SILICON } from "~/diffraction/structures";
 import type { StartedUpload } from "~/domain/order-files";
 import { fetchPut, uploadFile } from "~/components/order-upload";
 import { startProxy, type RoundRobinProxy } from "../../services/proxy";
+import { numberedOrderInsert } from "../setup/numbered-order";
 import { sparePort, startStack, type Stack } from "./stack";
 
 const PASSWORD = "diffractory-demo";
@@ -141,7 +142,10 @@ beforeAll(async () => {
   );
   orderId = (
     await one(
-      "insert into orders (request_id, quote_id, client_organisation_id, lab_id, state, amount_minor, currency) values ($1, $2, $3, $4, 'measuring', 10000, 'EUR') returning id",
+      numberedOrderInsert(
+        "request_id, quote_id, client_organisation_id, lab_id, state, amount_minor, currency",
+        "$1::uuid, $2::uuid, $3::uuid, $4::uuid, 'measuring', 10000, 'EUR'",
+      ),
       [request.id, quote.id, client.id, lab.id],
     )
   ).id;

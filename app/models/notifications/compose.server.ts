@@ -16,7 +16,8 @@ export interface OrderContext {
   verdicts?: { sample: string; file: string; verdict: string }[];
 }
 
-const ref = (order: Pick<Order, "id">) => order.id.slice(0, 8);
+/** How people read an order: its number (docs/design.md#order-numbers). */
+const ref = (order: Pick<Order, "number">) => order.number;
 const day = (d: Date) => d.toLocaleDateString("en-GB", { day: "numeric", month: "long", year: "numeric", timeZone: "UTC" });
 
 const VERDICT_WORDS: Record<string, string> = {
@@ -39,8 +40,13 @@ const orderPath = (c: OrderContext, side: Audience) =>
   side === "lab" ? `/lab/orders/${c.order.id}` : side === "admin" ? `/admin/disputes` : `/client/orders/${c.order.id}`;
 const withNote = (c: OrderContext, facts: [string, string][]) => (c.note ? [...facts, ["Note", c.note] as [string, string]] : facts);
 
-/** A message about an order's milestone for one side of the order. */
+/** A message about an order's milestone for one side of the order; its subject names the order by its number. */
 export function orderLetter(kind: MilestoneKind, c: OrderContext, side: Audience): Letter {
+  const letter = orderLetterWords(kind, c, side);
+  return letter.subject.includes(ref(c.order)) ? letter : { ...letter, subject: `${letter.subject} · order ${ref(c.order)}` };
+}
+
+function orderLetterWords(kind: MilestoneKind, c: OrderContext, side: Audience): Letter {
   const title = c.requestTitle;
   const facts = withNote(c, orderFacts(c));
   const link = { path: orderPath(c, side), label: "Open the order" };
@@ -231,18 +237,18 @@ export function quoteReceivedLetter(q: {
 
 export function quoteDecisionLetter(
   accepted: boolean,
-  q: { orderId: string; requestTitle: string; clientName: string; totalMinor: number; currency: string },
+  q: { orderId: string; orderNumber: string; requestTitle: string; clientName: string; totalMinor: number; currency: string },
 ): Letter {
   return accepted
     ? {
-        subject: `Quote accepted: “${q.requestTitle}”`,
+        subject: `Quote accepted: “${q.requestTitle}” · order ${q.orderNumber}`,
         heading: "Your quote was accepted",
         paragraphs: [`${q.clientName} accepted your quote. The order waits for their payment; you will hear from us when the money is held.`],
         facts: [
           ["Request", q.requestTitle],
           ["Client", q.clientName],
           ["Total", formatMoney(q.totalMinor, q.currency)],
-          ["Order", q.orderId.slice(0, 8)],
+          ["Order", q.orderNumber],
         ],
         nextStep: "Nothing yet: start no work before the payment is held.",
         link: { path: `/lab/orders/${q.orderId}`, label: "Open the order" },

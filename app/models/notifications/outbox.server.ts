@@ -205,6 +205,7 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       const [r] = accepted ? await tx.select().from(schema.requests).where(eq(schema.requests.id, accepted.requestId)) : [];
       if (!accepted || !r) return [];
       const clientName = (await orgName(tx, r.organisationId)).name;
+      const [order] = await tx.select({ number: schema.orders.number }).from(schema.orders).where(eq(schema.orders.id, m.orderId));
       const declined = await tx
         .select()
         .from(schema.quotes)
@@ -214,6 +215,7 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
         const isAccepted = q.id === accepted.id;
         const letter = quoteDecisionLetter(isAccepted, {
           orderId: m.orderId,
+          orderNumber: order?.number ?? "",
           requestTitle: r.title,
           clientName,
           totalMinor: q.totalMinor,

@@ -5,7 +5,7 @@ import { eq, sql } from "drizzle-orm";
 import { config } from "~/config.server";
 import { db, schema, type Tx } from "~/db/client.server";
 import type { Order } from "~/db/schema";
-import { platformFee } from "~/domain/money";
+import { formatMoney, platformFee } from "~/domain/money";
 import { moveProblem, type Mover, type OrderState } from "~/domain/order-states";
 import { audit } from "~/models/audit.server";
 import { samplesWithoutCompletedCheck } from "~/models/checks/queries.server";
@@ -119,7 +119,7 @@ export async function holdFunds(orderId: string, paid: { paymentId: string; paym
       orderId,
       currency: order.currency,
       providerObjectId: paid.chargeId,
-      memo: `Payment held for order ${orderId}`,
+      memo: `Payment held for order ${order.number}`,
       entries: [
         { account: ACCOUNTS.cash, amountMinor: paid.amountMinor },
         { account: ACCOUNTS.held, amountMinor: -paid.amountMinor },
@@ -141,7 +141,14 @@ export async function releasePayout(orderId: string) {
     const locked = await lockOrder(tx, orderId);
     await postPayout(tx, locked, transfer.id, order.amountMinor - fee, fee, "Payout on accepted delivery");
     return locked.state === "accepted"
-      ? moveOrder(tx, locked, "paid_out", "system", null, `Paid to the lab: ${order.amountMinor - fee} minor units after the platform fee of ${fee}.`)
+      ? moveOrder(
+          tx,
+          locked,
+          "paid_out",
+          "system",
+          null,
+          `Paid to the lab: ${formatMoney(order.amountMinor - fee, order.currency)} after the platform fee of ${formatMoney(fee, order.currency)}.`,
+        )
       : locked;
   });
 }
@@ -247,7 +254,7 @@ export async function resolveDispute(orderId: string, admin: { userId: string; c
   if (order.state !== "disputed") throw new PaymentProblem("This order is not in dispute.");
   const held = await heldForOrder(db, orderId);
   if (!Number.isInteger(refundMinor) || refundMinor < 0 || refundMinor > held) {
-    throw new PaymentProblem(`The refund must be a whole amount between 0 and the ${held} minor units held.`, 400);
+    throw new PaymentProblem(`The refund must be between ${formatMoney(0, order.currency)} and the ${formatMoney(held, order.currency)} held.`, 400);
   }
   const payoutPart = held - refundMinor;
   const fee = platformFee(payoutPart, order.platformFeeBps);
@@ -262,7 +269,14 @@ export async function resolveDispute(orderId: string, admin: { userId: string; c
       .set({ state: "resolved", refundMinor, payoutMinor: payoutPart - fee, decidedBy: admin.userId, decidedAt: new Date(), decisionReason: reason })
       .where(eq(schema.disputes.orderId, orderId));
     if (locked.state === "disputed")
-      await moveOrder(tx, locked, "resolved", "admin", admin.userId, `Refund ${refundMinor}, payout ${payoutPart - fee}, fee ${fee}. ${reason}`);
+      await moveOrder(
+        tx,
+        locked,
+        "resolved",
+        "admin",
+        admin.userId,
+        `Refund ${formatMoney(refundMinor, order.currency)}, payout ${formatMoney(payoutPart - fee, order.currency)}, platform fee ${formatMoney(fee, order.currency)}. ${reason}`,
+      );
     await audit(
       {
         actorUserId: admin.userId,

@@ -43,6 +43,7 @@ export async function ordersOf(side: "client" | "lab", organisationId: string, l
   return db
     .select({
       id: schema.orders.id,
+      number: schema.orders.number,
       state: schema.orders.state,
       amountMinor: schema.orders.amountMinor,
       currency: schema.orders.currency,
@@ -70,6 +71,7 @@ export async function ordersInStates(side: "client" | "lab", organisationId: str
   return db
     .select({
       id: schema.orders.id,
+      number: schema.orders.number,
       state: schema.orders.state,
       labName: labOrg.name,
       requestTitle: schema.requests.title,
@@ -132,7 +134,7 @@ export function heldMoneyOf(orderId: string) {
  */
 export async function payoutsOfLab(labId: string) {
   const orders = await db
-    .select({ id: schema.orders.id, title: schema.requests.title })
+    .select({ id: schema.orders.id, number: schema.orders.number, title: schema.requests.title })
     .from(schema.orders)
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
     .where(eq(schema.orders.labId, labId));
@@ -166,6 +168,7 @@ export async function payoutsOfLab(labId: string) {
   return paid.map((p) => ({
     ...p,
     title: orders.find((o) => o.id === p.orderId)?.title ?? "",
+    orderNumber: orders.find((o) => o.id === p.orderId)?.number ?? "",
     feeMinor: fees.find((f) => f.transferId === `fee:${p.transferId}`)?.amount ?? null,
   }));
 }
@@ -181,6 +184,7 @@ export async function paymentsOfClient(organisationId: string) {
       currency: schema.payments.currency,
       at: schema.payments.updatedAt,
       chargeId: schema.payments.chargeId,
+      orderNumber: schema.orders.number,
       title: schema.requests.title,
       lab: schema.organisations.name,
     })
@@ -209,7 +213,7 @@ export async function paymentsOfClient(organisationId: string) {
 /** A paid payment of the client organisation with its order's title, lab and quote (the receipt's lines); undefined otherwise. */
 export async function paidReceipt(paymentId: string, clientOrganisationId: string) {
   const [row] = await db
-    .select({ payment: schema.payments, title: schema.requests.title, lab: schema.organisations.name, quote: schema.quotes })
+    .select({ payment: schema.payments, orderNumber: schema.orders.number, title: schema.requests.title, lab: schema.organisations.name, quote: schema.quotes })
     .from(schema.payments)
     .innerJoin(schema.orders, eq(schema.orders.id, schema.payments.orderId))
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))

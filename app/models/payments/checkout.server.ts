@@ -51,7 +51,7 @@ export async function startCheckout(orderId: string, actor: { userId: string; em
             price_data: {
               currency: lower(order.currency),
               unit_amount: order.amountMinor,
-              product_data: { name: `Diffraction measurements: ${request?.title ?? order.id}` },
+              product_data: { name: `Order ${order.number}: ${request?.title ?? "diffraction measurements"}` },
             },
           },
         ],

@@ -5,6 +5,7 @@ import { db, schema } from "~/db/client.server";
 import type { MarketRequest, PriceList, QuoteLineItem, Sample } from "~/db/schema";
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
+import { takeOrderNumber } from "~/models/orders/numbers.server";
 import { declaresHazard } from "~/domain/hazards";
 import { labelOf, sourceLabel } from "~/domain/matching";
 import type { QuoteInput } from "~/domain/quote-forms";
@@ -274,6 +275,7 @@ export async function acceptQuote(requestId: string, quoteId: string, organisati
         .values({
           requestId: request.id,
           quoteId: quote.id,
+          number: await takeOrderNumber(tx, organisationId, now),
           clientOrganisationId: organisationId,
           labId: quote.labId,
           amountMinor: quote.totalMinor,

@@ -30,6 +30,7 @@ export async function loader({ request }: Route.LoaderArgs) {
       const refundHalf = Math.round(heldMinor / 2);
       return {
         orderId: r.order.id,
+        orderNumber: r.order.number,
         title: r.title,
         client: r.client,
         lab: r.lab,
@@ -97,7 +98,7 @@ export default function Disputes({ loaderData, actionData }: Route.ComponentProp
             <li key={d.orderId} className="card" aria-labelledby={`dispute-${d.orderId}`}>
               <div className="flex flex-wrap items-baseline justify-between gap-2">
                 <h2 id={`dispute-${d.orderId}`} className="font-semibold">
-                  {d.title} — {d.client} and {d.lab}
+                  Order {d.orderNumber} · {d.title} — {d.client} and {d.lab}
                 </h2>
                 <Badge tone={d.state === "open" ? "danger" : "neutral"}>{d.state === "open" ? "Open" : "Decided"}</Badge>
               </div>

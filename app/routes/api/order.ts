@@ -7,7 +7,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await requireOrderParty(request, params.id);
   const timeline = await orderTimeline(order.id);
   return Response.json(
-    { id: order.id, state: order.state, amountMinor: order.amountMinor, currency: order.currency, timeline },
+    { id: order.id, number: order.number, state: order.state, amountMinor: order.amountMinor, currency: order.currency, timeline },
     { headers: { "Cache-Control": "private, no-store" } },
   );
 }

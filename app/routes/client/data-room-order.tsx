@@ -27,7 +27,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { actor, order } = await clientOrder(request, params.orderId);
   const [title, lab] = await Promise.all([requestTitleOf(order.requestId), organisationNameOf(order.labId)]);
   return {
-    order: { id: order.id, state: order.state, title: title ?? "", lab: lab ?? "" },
+    order: { id: order.id, number: order.number, state: order.state, title: title ?? "", lab: lab ?? "" },
     files: await orderFileList(order.id, { side: "client" }),
     shareLinks: await listShareLinks(order.id),
     accessLog: await orderAccessLog(order.id),
@@ -147,7 +147,7 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
             </Link>{" "}
             ·{" "}
             <Link to={`/client/orders/${order.id}`} className="underline">
-              Order
+              Order {order.number}
             </Link>
           </>
         }

@@ -39,6 +39,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return {
     order: {
       id: order.id,
+      number: order.number,
       state: order.state,
       amountMinor: order.amountMinor,
       currency: order.currency,
@@ -132,8 +133,8 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
         </Link>
       </p>
       <PageHeader
-        title={`Order with ${labName}`}
-        subtitle={`${fmt.money(order.amountMinor, order.currency)} · order ${order.id.slice(0, 8)}`}
+        title={`Order ${order.number} with ${labName}`}
+        subtitle={fmt.money(order.amountMinor, order.currency)}
         actions={<OrderStateBadge state={order.state} />}
       />
       <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />

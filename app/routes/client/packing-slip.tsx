@@ -11,11 +11,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { actor, order } = await requireOrderSide(request, "client", params.id);
   const { membership } = actor;
   const [title, lab, samples] = await Promise.all([requestTitleOf(order.requestId), organisationAddressOf(order.labId), orderSamples(order)]);
-  return { orderId: order.id, title: title ?? "", lab, from: membership.organisation.name, samples };
+  return { orderNumber: order.number, title: title ?? "", lab, from: membership.organisation.name, samples };
 }
 
 export default function PackingSlip({ loaderData }: Route.ComponentProps) {
-  const { orderId, title, lab, from, samples } = loaderData;
+  const { orderNumber, title, lab, from, samples } = loaderData;
   return (
     <article className="card mx-auto max-w-3xl print:border-0 print:shadow-none">
       <header className="flex items-center justify-between">
@@ -28,7 +28,7 @@ export default function PackingSlip({ loaderData }: Route.ComponentProps) {
       </header>
       <dl className="mt-6 grid grid-cols-2 gap-y-1 text-sm">
         <dt className="text-ink-600">Order</dt>
-        <dd className="font-mono">{orderId}</dd>
+        <dd className="font-mono">{orderNumber}</dd>
         <dt className="text-ink-600">Request</dt>
         <dd>{title}</dd>
         <dt className="text-ink-600">From</dt>

@@ -18,6 +18,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       at: row.payment.updatedAt,
       amountMinor: row.payment.amountMinor,
       currency: row.payment.currency,
+      orderNumber: row.orderNumber,
       title: row.title,
       lab: row.lab,
       lines: row.quote.lineItems,
@@ -43,6 +44,8 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
       <dl className="mt-4 grid grid-cols-2 gap-y-1 text-sm">
         <dt className="text-ink-600">Paid by</dt>
         <dd>{receipt.client}</dd>
+        <dt className="text-ink-600">Order</dt>
+        <dd className="font-mono">{receipt.orderNumber}</dd>
         <dt className="text-ink-600">For</dt>
         <dd>
           {receipt.title} — {receipt.lab}

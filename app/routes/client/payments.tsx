@@ -35,7 +35,7 @@ export default function ClientPayments({ loaderData }: Route.ComponentProps) {
               <td>{fmt.date(p.at)}</td>
               <td>
                 <Link to={`/client/orders/${p.orderId}`} className="text-beam-700 hover:underline">
-                  {p.title}
+                  <span className="font-mono text-xs">{p.orderNumber}</span> {p.title}
                 </Link>
               </td>
               <td>{p.lab}</td>

@@ -66,7 +66,7 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
       {order ? (
         <section className="card mb-6" aria-label="Order">
           <div className="flex flex-wrap items-center justify-between gap-3">
-            <h2 className="text-lg font-semibold">Order</h2>
+            <h2 className="text-lg font-semibold">Order {order.number}</h2>
             <span className="flex items-center gap-3">
               <OrderStateBadge state={order.state} />
               <Link to={`/client/orders/${order.id}`} className="btn-secondary">

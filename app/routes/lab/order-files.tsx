@@ -25,7 +25,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   ]);
   const samples = await orderSamples(order);
   return {
-    order: { id: order.id, state: order.state, title: title ?? "", client: client ?? "" },
+    order: { id: order.id, number: order.number, state: order.state, title: title ?? "", client: client ?? "" },
     samples: samples.map((s) => ({ id: s.id, label: s.label })),
     // What the preview checks a scan against before it is uploaded: the sample's declaration (main phase, further
     // phases, candidates, window) and the quote's source.
@@ -57,7 +57,7 @@ export default function LabOrderFiles({ loaderData }: Route.ComponentProps) {
         title={order.title}
         subtitle={
           <>
-            Delivery for {order.client} ·{" "}
+            Order {order.number} · delivery for {order.client} ·{" "}
             <Link to={`/lab/orders/${order.id}`} className="underline">
               Back to the order, to mark the data delivered
             </Link>

@@ -36,7 +36,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     order.state === "measuring" ? samplesWithoutCompletedCheck(order.id) : Promise.resolve([]),
   ]);
   return {
-    order: { id: order.id, state: order.state, amountMinor: order.amountMinor, currency: order.currency },
+    order: { id: order.id, number: order.number, state: order.state, amountMinor: order.amountMinor, currency: order.currency },
     title: title ?? "",
     clientName: clientName ?? "",
     samples,
@@ -97,7 +97,7 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
       </p>
       <PageHeader
         title={title}
-        subtitle={`For ${clientName} · ${fmt.money(order.amountMinor, order.currency)}`}
+        subtitle={`Order ${order.number} · for ${clientName} · ${fmt.money(order.amountMinor, order.currency)}`}
         actions={<OrderStateBadge state={order.state} />}
       />
       <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />

@@ -79,7 +79,7 @@ export default function Payouts({ loaderData, actionData }: Route.ComponentProps
               <td>
                 {p.orderId ? (
                   <Link to={`/lab/orders/${p.orderId}`} className="text-beam-700 underline">
-                    {p.title || `Order ${p.orderId.slice(0, 8)}`}
+                    <span className="font-mono text-xs">{p.orderNumber}</span> {p.title}
                   </Link>
                 ) : (
                   "—"
