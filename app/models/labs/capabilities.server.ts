@@ -19,21 +19,20 @@ const record = (labId: string, actor: Actor, action: string, subjectType: string
   return audit({ actorUserId: actor.userId, organisationId: labId, action, subjectType, subjectId, clientAddress: actor.clientAddress, details });
 };
 
+/** The sample stages of the given instruments, coolest first. */
+export async function stagesOf(instrumentIds: string[]) {
+  if (instrumentIds.length === 0) return [];
+  return db
+    .select()
+    .from(schema.sampleStages)
+    .where(inArray(schema.sampleStages.instrumentId, instrumentIds))
+    .orderBy(asc(schema.sampleStages.minTemperatureK));
+}
+
 /** The lab's instruments, oldest first, each with its sample stages. */
 export async function listInstruments(labId: string) {
   const instruments = await db.select().from(schema.instruments).where(eq(schema.instruments.labId, labId)).orderBy(asc(schema.instruments.createdAt));
-  const stages = instruments.length
-    ? await db
-        .select()
-        .from(schema.sampleStages)
-        .where(
-          inArray(
-            schema.sampleStages.instrumentId,
-            instruments.map((i) => i.id),
-          ),
-        )
-        .orderBy(asc(schema.sampleStages.minTemperatureK))
-    : [];
+  const stages = await stagesOf(instruments.map((i) => i.id));
   return instruments.map((i) => ({ ...i, stages: stages.filter((s) => s.instrumentId === i.id) }));
 }
 

@@ -2,23 +2,14 @@
 import { and, asc, eq, inArray } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Anode } from "~/diffraction/wavelengths";
+import { stagesOf } from "./capabilities.server";
 import { judgeQuote, matchLab, type LabMatch, type MatchInstrument, type MatchLab, type MatchRequest, type QuoteJudgement } from "~/domain/matching";
 
 type InstrumentRow = typeof schema.instruments.$inferSelect;
 
 /** Instruments with their sample stages in the shape the matching rules read. */
 async function withStages(instruments: InstrumentRow[]): Promise<(MatchInstrument & { labId: string })[]> {
-  const stages = instruments.length
-    ? await db
-        .select()
-        .from(schema.sampleStages)
-        .where(
-          inArray(
-            schema.sampleStages.instrumentId,
-            instruments.map((i) => i.id),
-          ),
-        )
-    : [];
+  const stages = await stagesOf(instruments.map((i) => i.id));
   return instruments.map((i) => ({
     id: i.id,
     labId: i.labId,
