@@ -2,30 +2,10 @@
 import { describe, expect, it } from "vitest";
 import { ANODE_LINES, photonEnergyKeV } from "~/diffraction/wavelengths";
 import { dSpacingCoverage, qMax, twoThetaForD } from "~/domain/coverage";
-import {
-  estimatePrice,
-  evaluateInstrument,
-  fluorescingElements,
-  matchLab,
-  requestedDRange,
-  type MatchInstrument,
-  type MatchLab,
-  type MatchRequest,
-} from "~/domain/matching";
+import { estimatePrice, evaluateInstrument, fluorescingElements, matchLab, requestedDRange, type MatchLab, type MatchRequest } from "~/domain/matching";
+import { cuAndCo } from "./match-fixtures";
 
-const cu: MatchInstrument = {
-  id: "cu",
-  name: "Cu reflection",
-  technique: "powder_reflection",
-  anode: "Cu",
-  customWavelength: null,
-  twoThetaMin: 5,
-  twoThetaMax: 150,
-  energyDiscrimination: false,
-  sampleForms: ["powder"],
-  stages: [{ name: "Hot stage", minTemperatureK: 298, maxTemperatureK: 1473, atmospheres: ["air", "nitrogen"] }],
-};
-const co: MatchInstrument = { ...cu, id: "co", name: "Co reflection", anode: "Co", stages: [] };
+const { cu, co } = cuAndCo({ cu: "Cu reflection", co: "Co reflection" });
 const lab: MatchLab = {
   id: "lab",
   name: "Test Lab",

@@ -2,20 +2,9 @@
 // K edges: docs/reference-values.md#k-absorption-edges; d coverage by Bragg's law (hand calculation in the comments).
 import { describe, expect, it } from "vitest";
 import { judgeQuote, matchLab, type MatchInstrument, type MatchLab, type MatchRequest } from "~/domain/matching";
+import { cuAndCo } from "./match-fixtures";
 
-const cu: MatchInstrument = {
-  id: "cu",
-  name: "Reflection A (Cu)",
-  technique: "powder_reflection",
-  anode: "Cu",
-  customWavelength: null,
-  twoThetaMin: 5,
-  twoThetaMax: 150,
-  energyDiscrimination: false,
-  sampleForms: ["powder"],
-  stages: [{ name: "Hot stage", minTemperatureK: 298, maxTemperatureK: 1473, atmospheres: ["air", "nitrogen"] }],
-};
-const co: MatchInstrument = { ...cu, id: "co", name: "Reflection B (Co)", anode: "Co", stages: [] };
+const { cu, co } = cuAndCo({ cu: "Reflection A (Cu)", co: "Reflection B (Co)" });
 const lab: MatchLab = {
   id: "lab",
   name: "Test Lab",
