@@ -4,7 +4,6 @@ import { and, asc, count, eq, inArray } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { windowText } from "~/components/request-parts";
 import { db, schema } from "~/db/client.server";
-import { takeOrderNumber } from "~/models/orders/numbers.server";
 import { seedDemo } from "~/demo/seed.server";
 import { declaredCheckOptions } from "~/domain/check-result";
 import { checkContext } from "~/models/checks/scan-check.server";
@@ -13,6 +12,7 @@ import { loader as reviewLoader } from "~/routes/client/request-review";
 import { action as samplesAction, loader as samplesLoader } from "~/routes/client/request-samples";
 import { loader as labOrderFilesLoader } from "~/routes/lab/order-files";
 import { loader as labOrderLoader } from "~/routes/lab/order";
+import { acceptedQuoteAndOrder } from "./order-fixtures";
 import { callRoute, formRequest, getRequest, type RouteAnswer, sessionCookies } from "./route-call";
 
 const as = sessionCookies();
@@ -274,35 +274,7 @@ describe("the declaration on the order and in the scan check", () => {
         .from(schema.instruments)
         .where(and(eq(schema.instruments.labId, granite.id), eq(schema.instruments.anode, "Cu"))),
     );
-    const [quote] = await db
-      .insert(schema.quotes)
-      .values({
-        requestId,
-        labId: granite.id,
-        instrumentId: instrument.id,
-        state: "accepted",
-        lineItems: [],
-        totalMinor: 10_000,
-        currency: "EUR",
-        validUntil: new Date(Date.now() + 86_400_000),
-        turnaroundDays: 5,
-      })
-      .returning();
-    const [order] = await db.transaction(async (tx) =>
-      tx
-        .insert(schema.orders)
-        .values({
-          requestId,
-          quoteId: quote.id,
-          number: await takeOrderNumber(tx, request.organisationId),
-          clientOrganisationId: request.organisationId,
-          labId: granite.id,
-          amountMinor: 10_000,
-          currency: "EUR",
-          state: "measuring",
-        })
-        .returning(),
-    );
+    const { order } = await acceptedQuoteAndOrder({ requestId, clientOrganisationId: request.organisationId, labId: granite.id, instrumentId: instrument.id });
     orderId = order.id;
   });
 

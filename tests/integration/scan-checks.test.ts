@@ -4,7 +4,6 @@ import { createHash } from "node:crypto";
 import { and, eq } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { db, schema } from "~/db/client.server";
-import { takeOrderNumber } from "~/models/orders/numbers.server";
 import { seedDemo } from "~/demo/seed.server";
 import { parseScan } from "~/diffraction";
 import { formatScanAsXy, simulatePattern } from "~/diffraction/simulate";
@@ -20,6 +19,7 @@ import { loader as peaksCsv } from "~/routes/check-peaks-csv";
 import { loader as resultJson } from "~/routes/check-result-json";
 import { loader as checkScreen } from "~/routes/check";
 import { putObject } from "~/models/files/storage.server";
+import { acceptedQuoteAndOrder } from "./order-fixtures";
 import { callRoute, getRequest, sessionCookieFor } from "./route-call";
 
 const CU = { kind: "anode", anode: "Cu", monochromation: "k_alpha_doublet" } as const;
@@ -123,35 +123,12 @@ beforeAll(async () => {
     .returning();
   siSampleId = si.id;
   otherSampleId = other.id;
-  const [quote] = await db
-    .insert(schema.quotes)
-    .values({
-      requestId: request.id,
-      labId: granite.id,
-      instrumentId: cuInstrument.id,
-      state: "accepted",
-      lineItems: [],
-      totalMinor: 10_000,
-      currency: "EUR",
-      validUntil: new Date(Date.now() + 86_400_000),
-      turnaroundDays: 5,
-    })
-    .returning();
-  const [order] = await db.transaction(async (tx) =>
-    tx
-      .insert(schema.orders)
-      .values({
-        requestId: request.id,
-        quoteId: quote.id,
-        number: await takeOrderNumber(tx, halvorsen.id),
-        clientOrganisationId: halvorsen.id,
-        labId: granite.id,
-        amountMinor: 10_000,
-        currency: "EUR",
-        state: "measuring",
-      })
-      .returning(),
-  );
+  const { order } = await acceptedQuoteAndOrder({
+    requestId: request.id,
+    clientOrganisationId: halvorsen.id,
+    labId: granite.id,
+    instrumentId: cuInstrument.id,
+  });
   orderId = order.id;
 });
 

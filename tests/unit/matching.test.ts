@@ -3,7 +3,7 @@ import { describe, expect, it } from "vitest";
 import { ANODE_LINES, photonEnergyKeV } from "~/diffraction/wavelengths";
 import { dSpacingCoverage, qMax, twoThetaForD } from "~/domain/coverage";
 import { estimatePrice, evaluateInstrument, fluorescingElements, matchLab, requestedDRange, type MatchLab, type MatchRequest } from "~/domain/matching";
-import { cuAndCo } from "./match-fixtures";
+import { cuAndCo, IRON_RICH } from "./match-fixtures";
 
 const { cu, co } = cuAndCo({ cu: "Cu reflection", co: "Co reflection" });
 const lab: MatchLab = {
@@ -21,16 +21,7 @@ const lab: MatchLab = {
     turnaroundDays: 8,
   },
 };
-const lfp: MatchRequest = {
-  technique: "powder_reflection",
-  rangeKind: "two_theta",
-  rangeMin: 10,
-  rangeMax: 90,
-  preferredSource: "any",
-  temperaturePointsK: [],
-  atmosphere: "air",
-  samples: [{ label: "LFP", elements: ["Li", "Fe", "P", "O"], form: "powder", ghsPictograms: [], specialHazards: [] }],
-};
+const lfp = IRON_RICH;
 
 describe("fluorescence (K edges: docs/reference-values.md#k-absorption-edges, lib xraylib EdgeEnergy)", () => {
   it("flags Cr, Mn, Fe and Co under Cu Kα1 (8.048 keV) but not Ni, Cu or Zn", () => {

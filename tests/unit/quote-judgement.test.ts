@@ -2,7 +2,7 @@
 // K edges: docs/reference-values.md#k-absorption-edges; d coverage by Bragg's law (hand calculation in the comments).
 import { describe, expect, it } from "vitest";
 import { judgeQuote, matchLab, type MatchInstrument, type MatchLab, type MatchRequest } from "~/domain/matching";
-import { cuAndCo } from "./match-fixtures";
+import { cuAndCo, IRON_RICH } from "./match-fixtures";
 
 const { cu, co } = cuAndCo({ cu: "Reflection A (Cu)", co: "Reflection B (Co)" });
 const lab: MatchLab = {
@@ -14,16 +14,7 @@ const lab: MatchLab = {
   priceList: null,
 };
 /** An iron-rich sample (LiFePO4) over 10–90° 2θ, read for Cu Kα1 as the source is "any". */
-const ironRich: MatchRequest = {
-  technique: "powder_reflection",
-  rangeKind: "two_theta",
-  rangeMin: 10,
-  rangeMax: 90,
-  preferredSource: "any",
-  temperaturePointsK: [],
-  atmosphere: "air",
-  samples: [{ label: "LFP", elements: ["Li", "Fe", "P", "O"], form: "powder", ghsPictograms: [], specialHazards: [] }],
-};
+const ironRich = IRON_RICH;
 const texts = (reasons: { ok: boolean; text: string }[]) => reasons.map((r) => `${r.ok ? "ok" : "no"}: ${r.text}`);
 
 describe("fluorescence of the quoted instrument", () => {
