@@ -2,7 +2,7 @@
 import { describe, expect, it } from "vitest";
 import { ANODE_LINES, photonEnergyKeV } from "~/diffraction/wavelengths";
 import { dSpacingCoverage, qMax, twoThetaForD } from "~/domain/coverage";
-import { estimatePrice, evaluateInstrument, fluorescingElements, matchLab, requestedDRange, type MatchLab, type MatchRequest } from "~/domain/matching";
+import { estimatePrice, evaluateInstrument, fluorescingElements, matchLab, requestedDRange, type MatchLab } from "~/domain/matching";
 import { cuAndCo, IRON_RICH } from "./match-fixtures";
 
 const { cu, co } = cuAndCo({ cu: "Cu reflection", co: "Co reflection" });

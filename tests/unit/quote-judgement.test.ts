@@ -1,7 +1,7 @@
 // A quote judged by the instrument it names, not by the lab's best one. Wavelengths: docs/reference-values.md#x-ray-wavelengths;
 // K edges: docs/reference-values.md#k-absorption-edges; d coverage by Bragg's law (hand calculation in the comments).
 import { describe, expect, it } from "vitest";
-import { judgeQuote, matchLab, type MatchInstrument, type MatchLab, type MatchRequest } from "~/domain/matching";
+import { judgeQuote, matchLab, type MatchInstrument, type MatchLab } from "~/domain/matching";
 import { cuAndCo, IRON_RICH } from "./match-fixtures";
 
 const { cu, co } = cuAndCo({ cu: "Reflection A (Cu)", co: "Reflection B (Co)" });
