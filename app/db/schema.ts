@@ -2,7 +2,7 @@
 import { sql } from "drizzle-orm";
 // The order states are defined once, with the state machine that moves between them.
 import { ORDER_STATES } from "~/domain/order-states";
-import type { ScanInfo } from "~/domain/measurement";
+import type { MeasurementConditions, ScanInfo } from "~/domain/measurement";
 import type { AcceptanceWindow } from "~/diffraction/phases";
 import {
   bigserial,
@@ -166,7 +166,7 @@ export const auditLog = pgTable(
     details: jsonb("details").$type<Record<string, unknown>>().notNull().default({}),
     clientAddress: text("client_address"),
   },
-  (t) => [index("audit_log_at_idx").on(t.at), index("audit_log_org_idx").on(t.organisationId)],
+  (t) => [index("audit_log_at_idx").on(t.at), index("audit_log_org_idx").on(t.organisationId), index("audit_log_actor_idx").on(t.actorUserId, t.at)],
 );
 
 export type User = typeof users.$inferSelect;
@@ -342,6 +342,12 @@ export const requests = pgTable(
     currency: text("currency").notNull().default("EUR"),
     visibility: requestVisibility("visibility").notNull().default("open"),
     openedAt: timestamp("opened_at", { withTimezone: true }),
+    /** Counts the client's edits after publishing; a quote answers one revision and lapses on the next unless re-confirmed. */
+    revision: integer("revision").notNull().default(1),
+    /** The request this one was copied from ("Order again"), if any. */
+    repeatOf: uuid("repeat_of"),
+    /** When the client withdrew it or the expiry job closed it on its deadline. */
+    closedAt: timestamp("closed_at", { withTimezone: true }),
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
@@ -477,6 +483,8 @@ export const quotes = pgTable(
     validUntil: timestamp("valid_until", { withTimezone: true }).notNull(),
     turnaroundDays: integer("turnaround_days").notNull(),
     notes: text("notes").notNull().default(""),
+    /** The request revision this quote answers; an older one cannot be accepted until the lab re-confirms it. */
+    requestRevision: integer("request_revision").notNull().default(1),
     createdBy: uuid("created_by").references(() => users.id, { onDelete: "set null" }),
     sentAt: createdAt(),
     decidedAt: timestamp("decided_at", { withTimezone: true }),
@@ -511,6 +519,8 @@ export const orders = pgTable(
     platformFeeBps: integer("platform_fee_bps").notNull().default(800),
     /** When the data was delivered; the review window runs from here. */
     deliveredAt: timestamp("delivered_at", { withTimezone: true }),
+    /** When the lab owes the data: set on receipt of the samples, the quote's turnaround later. */
+    dueAt: timestamp("due_at", { withTimezone: true }),
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
@@ -648,6 +658,10 @@ export const disputes = pgTable(
     openedBy: uuid("opened_by").references(() => users.id, { onDelete: "set null" }),
     reason: text("reason").notNull(),
     openedAt: createdAt(),
+    /** The lab's answer to the client's statement. */
+    labStatement: text("lab_statement"),
+    labStatementBy: uuid("lab_statement_by").references(() => users.id, { onDelete: "set null" }),
+    labStatementAt: timestamp("lab_statement_at", { withTimezone: true }),
     refundMinor: integer("refund_minor"),
     payoutMinor: integer("payout_minor"),
     decidedBy: uuid("decided_by").references(() => users.id, { onDelete: "set null" }),
@@ -655,6 +669,25 @@ export const disputes = pgTable(
     decisionReason: text("decision_reason"),
   },
   (t) => [uniqueIndex("disputes_order_idx").on(t.orderId)],
+);
+
+/** A file either side of a dispute hands in with its statement; the bytes live in S3 under `storageKey`. */
+export const disputeEvidence = pgTable(
+  "dispute_evidence",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    disputeId: uuid("dispute_id")
+      .notNull()
+      .references(() => disputes.id, { onDelete: "cascade" }),
+    side: text("side").$type<"client" | "lab">().notNull(),
+    fileName: text("file_name").notNull(),
+    contentType: text("content_type").notNull(),
+    sizeBytes: integer("size_bytes").notNull(),
+    storageKey: text("storage_key").notNull(),
+    uploadedBy: uuid("uploaded_by").references(() => users.id, { onDelete: "set null" }),
+    uploadedAt: createdAt(),
+  },
+  (t) => [index("dispute_evidence_dispute_idx").on(t.disputeId), check("dispute_evidence_side", sql`${t.side} in ('client', 'lab')`)],
 );
 
 export type Payment = typeof payments.$inferSelect;
@@ -710,6 +743,11 @@ export const orderFiles = pgTable(
     storedAt: timestamp("stored_at", { withTimezone: true }),
     deletedAt: timestamp("deleted_at", { withTimezone: true }),
     deletedBy: uuid("deleted_by").references(() => users.id, { onDelete: "set null" }),
+    /** How the scan was measured: read from the file where it states it, entered by the lab otherwise. */
+    conditions: jsonb("conditions").$type<MeasurementConditions>(),
+    /** Hidden from the client's data room by the client; the file itself stays for the retention period. */
+    archivedAt: timestamp("archived_at", { withTimezone: true }),
+    archivedBy: uuid("archived_by").references(() => users.id, { onDelete: "set null" }),
   },
   (t) => [uniqueIndex("order_files_version_idx").on(t.orderId, t.name, t.version), index("order_files_order_idx").on(t.orderId)],
 );
@@ -803,6 +841,37 @@ export const rateLimitBuckets = pgTable(
   (t) => [primaryKey({ columns: [t.key, t.windowStart] })],
 );
 
+/** What the lab records as each sample arrives: its state, how much came, where it is kept, who took it in. */
+export const sampleReceipts = pgTable(
+  "sample_receipts",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    orderId: uuid("order_id")
+      .notNull()
+      .references(() => orders.id, { onDelete: "cascade" }),
+    sampleId: uuid("sample_id")
+      .notNull()
+      .references(() => samples.id, { onDelete: "cascade" }),
+    /** "good", "damaged", "leaking" or "mislabelled" (RECEIPT_CONDITIONS in app/domain/receipt.ts). */
+    condition: text("condition").notNull(),
+    sealIntact: boolean("seal_intact").notNull(),
+    /** The mass or volume received, in `amountUnit` (mg, g, µL, mL). */
+    amount: doublePrecision("amount"),
+    amountUnit: text("amount_unit"),
+    storagePlace: text("storage_place").notNull().default(""),
+    photoName: text("photo_name"),
+    photoKey: text("photo_key"),
+    photoSizeBytes: integer("photo_size_bytes"),
+    photoContentType: text("photo_content_type"),
+    /** Why the lab refused this sample on arrival; null when it took it in. */
+    refusalReason: text("refusal_reason"),
+    note: text("note").notNull().default(""),
+    receivedBy: uuid("received_by").references(() => users.id, { onDelete: "set null" }),
+    receivedAt: createdAt(),
+  },
+  (t) => [uniqueIndex("sample_receipts_sample_idx").on(t.orderId, t.sampleId)],
+);
+
 export type OrderFile = typeof orderFiles.$inferSelect;
 export type ScanCheck = typeof scanChecks.$inferSelect;
 
@@ -874,3 +943,64 @@ export const notificationPreferences = pgTable(
 );
 
 export type OutboxMessage = typeof outboxMessages.$inferSelect;
+
+// Working together: message threads, request revisions.
+
+/**
+ * One message of a thread. A request thread is the client and one lab before an order (`orderId` null, keyed by
+ * request and lab); an order thread is the client and the order's lab (`orderId` set). Admins read an order's
+ * thread only through its dispute.
+ */
+export const messages = pgTable(
+  "messages",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    requestId: uuid("request_id")
+      .notNull()
+      .references(() => requests.id, { onDelete: "cascade" }),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "cascade" }),
+    orderId: uuid("order_id").references(() => orders.id, { onDelete: "cascade" }),
+    authorUserId: uuid("author_user_id").references(() => users.id, { onDelete: "set null" }),
+    authorOrganisationId: uuid("author_organisation_id").references(() => organisations.id, { onDelete: "set null" }),
+    body: text("body").notNull(),
+    attachmentName: text("attachment_name"),
+    attachmentKey: text("attachment_key"),
+    attachmentSizeBytes: integer("attachment_size_bytes"),
+    attachmentContentType: text("attachment_content_type"),
+    createdAt: createdAt(),
+  },
+  (t) => [index("messages_request_lab_idx").on(t.requestId, t.labId, t.createdAt), index("messages_order_idx").on(t.orderId, t.createdAt)],
+);
+
+/** How far each person has read each thread ("request:<requestId>:<labId>" or "order:<orderId>"): unread counts. */
+export const messageReads = pgTable(
+  "message_reads",
+  {
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    threadKey: text("thread_key").notNull(),
+    lastReadAt: timestamp("last_read_at", { withTimezone: true }).notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.userId, t.threadKey] })],
+);
+
+/** What the client changed in a published request, revision by revision, in words for the labs that quoted. */
+export const requestRevisions = pgTable(
+  "request_revisions",
+  {
+    requestId: uuid("request_id")
+      .notNull()
+      .references(() => requests.id, { onDelete: "cascade" }),
+    revision: integer("revision").notNull(),
+    summary: text("summary").notNull(),
+    changedBy: uuid("changed_by").references(() => users.id, { onDelete: "set null" }),
+    at: createdAt(),
+  },
+  (t) => [primaryKey({ columns: [t.requestId, t.revision] })],
+);
+
+export type Message = typeof messages.$inferSelect;
+export type SampleReceipt = typeof sampleReceipts.$inferSelect;

@@ -15,6 +15,27 @@ export interface ScanInfo {
 }
 
 /**
+ * The conditions the lab enters for a scan beside what its file states (`order_files.conditions`): the form
+ * asks only for what the file leaves out, and each value says where it came from.
+ */
+export interface MeasurementConditions {
+  /** Radiation in words ("Cu Kα, Ni filter"), when the file names none. */
+  radiation?: string | null;
+  twoThetaStart?: number | null;
+  twoThetaEnd?: number | null;
+  /** Step and counting time per step, degrees and seconds. */
+  step?: number | null;
+  timePerStep?: number | null;
+  temperatureK?: number | null;
+  atmosphere?: string | null;
+  /** Sample holder or capillary as the lab describes it. */
+  holder?: string | null;
+  note?: string | null;
+  enteredBy?: string | null;
+  enteredAt?: string | null;
+}
+
+/**
  * A stated wavelength names a tube anode when it lies within this many ångström of the anode's Kα1 or of its
  * weighted Kα mean (2Kα1 + Kα2)/3, the two values files usually state (common practice). Neighbouring anodes'
  * lines are at least 0.15 Å apart, so the tolerance cannot confuse two of them.
