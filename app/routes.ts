@@ -22,6 +22,8 @@ export default [
   route("account/security", "routes/account/security.tsx"),
   route("dev/mail", "routes/dev/mail.tsx"),
   route("files/:fileId/download", "routes/account/file-download.ts"),
+  route("orders/:id/dispute", "routes/account/order-dispute.ts"),
+  route("orders/:id/dispute/evidence/:evidenceId", "routes/account/dispute-evidence.ts"),
   route("shared/:token/files/:fileId", "routes/public/shared-download.ts"),
 
   ...prefix("client", [
@@ -76,6 +78,7 @@ export default [
       route("labs/:labId", "routes/admin/lab-review.tsx"),
       route("ledger", "routes/admin/ledger.tsx"),
       route("disputes", "routes/admin/disputes.tsx"),
+      route("disputes/:id", "routes/admin/dispute.tsx"),
       route("outbox", "routes/admin/outbox.tsx"),
     ]),
   ]),

@@ -51,6 +51,7 @@ export async function demoTour(base: string) {
     `lab@meridian.example — Tiago, awaiting vetting: the application and its checked calibration scan: ${u("/lab/vetting")}`,
     "admin@diffractory.example — platform admin; the sign-in code: npx tsx scripts/demo-code.ts",
     `  Meridian's application with its calibration check: ${u(`/admin/labs/${meridian?.id ?? ""}`)}; disputes (one open, one resolved): ${u("/admin/disputes")}`,
+    `  the open dispute with both statements, the lab's evidence, the files with their checks and plots (each read audit-logged): ${u(`/admin/disputes/${await orderId("Impurity check of NMC lot HC-2655")}`)}`,
     `  ledger: ${u("/admin/ledger")}; audit log: ${u("/admin/audit-log")}; outbox: ${u("/admin/outbox")}; e-mail sent: ${u("/dev/mail")} (raw: http://127.0.0.1:54331/_fake/messages)`,
   ];
   return lines.join("\n");

@@ -6,8 +6,8 @@ import { phasesOfSamples } from "~/models/requests/requests.server";
 import { requireCheckAccess } from "~/utils/permissions.server";
 import type { Route } from "./+types/check-result-json";
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const { check, file, order } = await requireCheckAccess(request, params.id);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const { check, file, order } = await requireCheckAccess(request, params.id, { what: "result JSON", clientAddress: context.clientAddress });
   const sample = await sampleOfFile(file.sampleId);
   const declaration = sample ? sampleDeclarationOf(sample, await phasesOfSamples([sample.id])) : null;
   const body = {

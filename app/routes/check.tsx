@@ -20,8 +20,8 @@ import { useFormat } from "~/components/locale";
 import { MeasurementPanel, type MeasurementInfo } from "~/components/measurement-conditions";
 import type { ScanInfo } from "~/domain/measurement";
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const { check, file, order, side, organisation } = await requireCheckAccess(request, params.id);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const { check, file, order, side, organisation } = await requireCheckAccess(request, params.id, { what: "check page", clientAddress: context.clientAddress });
   const [sample, title] = await Promise.all([sampleOfFile(file.sampleId), requestTitleOf(order.requestId).then((t) => t ?? "Order")]);
   // Results of every stored version read in the current shape (older rows lack the newer, optional fields).
   const result = check.status === "done" && check.result ? readStoredResult(check.result) : null;
@@ -59,7 +59,7 @@ export function meta({ data }: Route.MetaArgs) {
 }
 
 export default function CheckScreen({ loaderData: d }: Route.ComponentProps) {
-  const back = d.side === "client" ? `/client/data-room/${d.orderId}` : `/lab/orders/${d.orderId}/files`;
+  const back = d.side === "client" ? `/client/data-room/${d.orderId}` : d.side === "admin" ? `/admin/disputes/${d.orderId}` : `/lab/orders/${d.orderId}/files`;
   return (
     <div className="min-h-screen">
       <header className="flex flex-wrap items-center justify-between gap-3 border-b border-ink-200 bg-white px-4 py-3 sm:px-6">

@@ -8,6 +8,8 @@ import { actorFor, type Actor } from "~/models/accounts/actors.server";
 import { API_TOKEN_RATE_LIMIT, apiTokenBySecret, markApiTokenUsed } from "~/models/accounts/api-tokens.server";
 import { checkWithOrder } from "~/models/checks/queries.server";
 import { orderForOrganisation } from "~/models/orders/queries.server";
+import { type DisputeReadSubject, disputedOrder, disputedOrderFile, logDisputeRead } from "~/models/orders/disputes.server";
+import { downloadable, fileForOrganisations } from "~/models/files/files.server";
 import { NoSuchRecord } from "~/models/errors";
 import { labQuoteOf } from "~/models/requests/quotes.server";
 import { ownRequestOf, requestVisibleToLab } from "~/models/requests/requests.server";
@@ -184,17 +186,69 @@ export async function requireOrderParty(request: Request, orderId: string) {
   return { actor, ...found };
 }
 
+/** An admin who has set up the second factor (a guard for admin reads outside the admin workspace). */
+const isFullAdmin = (actor: Actor) => actor.user.isAdmin && !!actor.user.totpEnabledAt;
+
 /**
- * A lattice check with its file, order and the viewer's side, for the order's client organisation and its lab;
+ * A lattice check with its file, order and the viewer's side, for the order's client organisation and its lab,
+ * and for an admin when the order has a dispute (open or decided; each such read is audit-logged with `what`);
  * a check of anyone else's order is the same 404 as a missing one.
  */
-export async function requireCheckAccess(request: Request, checkId: string) {
+export async function requireCheckAccess(request: Request, checkId: string, { what = "check", clientAddress }: { what?: string; clientAddress?: string } = {}) {
   const actor = await requireUser(request);
   const found = await checkWithOrder(checkId);
   if (!found) notFound("There is no such check.");
   const party = await partyTo(actor, found.file.orderId);
-  if (!party) notFound("There is no such check.");
-  return { actor, ...found, order: party.order, side: party.side, organisation: party.organisation };
+  if (party) return { actor, ...found, order: party.order, side: party.side, organisation: party.organisation };
+  const disputed = isFullAdmin(actor) ? await disputedOrder(found.file.orderId) : null;
+  if (!disputed) notFound("There is no such check.");
+  await logDisputeRead(
+    actor.user.id,
+    disputed,
+    { type: "check", id: found.check.id, what: `${what} of ${found.file.name} v${found.file.version}` },
+    clientAddress,
+  );
+  return { actor, ...found, order: disputed, side: "admin" as const, organisation: { name: "Diffractory admin (dispute)" } };
+}
+
+/**
+ * The order for its parties, and for an admin when the order has a dispute (the read is audit-logged with
+ * `what`); everyone else gets the same 404. The side is the viewer's: client, lab or admin.
+ */
+export async function requireOrderPartyOrDisputeAdmin(
+  request: Request,
+  orderId: string,
+  { what, subject, clientAddress }: { what: string; subject?: DisputeReadSubject; clientAddress?: string },
+) {
+  const actor = await requireUser(request);
+  const found = await partyTo(actor, orderId);
+  if (found) return { actor, order: found.order, side: found.side };
+  const disputed = isFullAdmin(actor) ? await disputedOrder(orderId) : null;
+  if (!disputed) notFound("No such order for your organisations.");
+  await logDisputeRead(actor.user.id, disputed, subject ?? { type: "order", id: disputed.id, what }, clientAddress);
+  return { actor, order: disputed, side: "admin" as const };
+}
+
+/**
+ * A delivered file for a download: for the order's parties as `fileForOrganisations` says, and for an admin when
+ * the file's order has a dispute (the download is audit-logged). Anything else is the same 404.
+ */
+export async function requireFileDownload(request: Request, fileId: string, clientAddress?: string) {
+  const actor = await requireUser(request);
+  const found = await fileForOrganisations(
+    fileId,
+    actor.memberships.map((m) => m.organisation.id),
+  );
+  if (found && downloadable(found.file, found.side)) return { actor, file: found.file };
+  const disputed = !found && isFullAdmin(actor) ? await disputedOrderFile(fileId) : null;
+  if (!disputed || !downloadable(disputed.file, "lab")) notFound("No such file for your organisations.");
+  await logDisputeRead(
+    actor.user.id,
+    disputed.order,
+    { type: "order_file", id: disputed.file.id, what: `download of ${disputed.file.name} v${disputed.file.version}` },
+    clientAddress,
+  );
+  return { actor, file: disputed.file };
 }
 
 // ───────────── Requests ─────────────

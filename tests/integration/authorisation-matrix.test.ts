@@ -48,6 +48,9 @@ const orderLab = labA("ok", "forbidden", { otherLab: "notFound", unvettedLab: "n
 const orderLabAction = labA("bad", "forbidden", { otherLab: "notFound", unvettedLab: "notFound" });
 // Both sides of the order read it; everyone else, admins included, is told it does not exist.
 const orderParties = signedIn("notFound", { ownerA: "ok", memberA: "ok", labManager: "ok", labOperator: "ok" });
+// The same for a party's form: an empty one is refused. (The matrix's order is not disputed, so an admin reads
+// none of its data; tests/integration/disputes.test.ts covers the admin's reads of a disputed order.)
+const orderPartiesAction = signedIn("notFound", { ownerA: "bad", memberA: "bad", labManager: "bad", labOperator: "bad" });
 const adminPage = adminOnly("forbidden");
 const adminAction = adminOnly("forbidden", "bad");
 
@@ -82,6 +85,9 @@ const EXPECTED: Record<string, Expect> = {
   // The development mail viewer: admins only, and nobody else learns it exists.
   "routes/dev/mail": { loader: signedIn("notFound", { admin: "ok" }) },
   "routes/account/file-download": { loader: orderParties },
+  "routes/account/order-dispute": { action: orderPartiesAction },
+  // No evidence file of that id on the order (it has no dispute): the same 404 for everyone.
+  "routes/account/dispute-evidence": { loader: signedIn("notFound") },
 
   "client-layout": { loader: clientWorkspace },
   "routes/client/home": { loader: clientWorkspace },
@@ -132,6 +138,8 @@ const EXPECTED: Record<string, Expect> = {
   "routes/admin/lab-review": { loader: adminPage, action: adminAction },
   "routes/admin/ledger": { loader: adminPage },
   "routes/admin/disputes": { loader: adminPage, action: adminAction },
+  // The matrix's order has no dispute, so the admin is told there is none.
+  "routes/admin/dispute": { loader: adminOnly("forbidden", "notFound"), action: adminOnly("forbidden", "notFound") },
   "routes/admin/outbox": { loader: adminPage, action: adminAction },
   "routes/admin/ledger-export": { loader: adminPage },
 
@@ -290,6 +298,7 @@ beforeAll(async () => {
     id: orderId,
     orderId,
     fileId: file.id,
+    evidenceId: "00000000-0000-4000-8000-000000000000",
     labId: w.granite.id,
     slug: w.granite.slug,
     token,

@@ -37,7 +37,7 @@ function orderFacts(c: OrderContext): [string, string][] {
 }
 
 const orderPath = (c: OrderContext, side: Audience) =>
-  side === "lab" ? `/lab/orders/${c.order.id}` : side === "admin" ? `/admin/disputes` : `/client/orders/${c.order.id}`;
+  side === "lab" ? `/lab/orders/${c.order.id}` : side === "admin" ? `/admin/disputes/${c.order.id}` : `/client/orders/${c.order.id}`;
 const withNote = (c: OrderContext, facts: [string, string][]) => (c.note ? [...facts, ["Note", c.note] as [string, string]] : facts);
 
 /** A message about an order's milestone for one side of the order; its subject names the order by its number. */
@@ -170,7 +170,7 @@ function orderLetterWords(kind: MilestoneKind, c: OrderContext, side: Audience):
       return side === "admin"
         ? {
             ...base,
-            link: { path: "/admin/disputes", label: "Open the disputes" },
+            link: { path: `/admin/disputes/${c.order.id}`, label: "Open the dispute" },
             subject: `Dispute to settle: order ${ref(c.order)}`,
             heading: "A dispute needs a decision",
             paragraphs: [`${c.clientName} opened a dispute on the data ${c.labName} delivered. The money stays frozen until an admin decides.`],
@@ -185,6 +185,25 @@ function orderLetterWords(kind: MilestoneKind, c: OrderContext, side: Audience):
               side === "lab"
                 ? "Add what the admin should know to the order page; keep the raw data."
                 : "The admin may contact you; nothing else is needed now.",
+          };
+    case "dispute_answered":
+      return side === "admin"
+        ? {
+            ...base,
+            link: { path: `/admin/disputes/${c.order.id}`, label: "Open the dispute" },
+            subject: `The lab answered the dispute on order ${ref(c.order)}`,
+            heading: "Both sides of a dispute are in",
+            paragraphs: [`${c.labName} answered the dispute ${c.clientName} opened. Its statement is below; its evidence is on the dispute page.`],
+            nextStep: "Read both statements, the evidence and the check results, then settle the split.",
+          }
+        : {
+            ...base,
+            subject: `${c.labName} answered your dispute on “${title}”`,
+            heading: "The lab answered your dispute",
+            paragraphs: [
+              `${c.labName} sent its statement on the dispute about order ${ref(c.order)}. It is below, and on the order page with any evidence the lab added.`,
+            ],
+            nextStep: "Add evidence of your own on the order page if the statement leaves something out; an admin then decides.",
           };
     case "dispute_resolved":
       return {

@@ -27,6 +27,8 @@ export const OUTBOX_CHANNEL = "diffractory_outbox";
 export type Milestone =
   | { kind: "order_moved"; order: Order; from: OrderState; note: string }
   | { kind: "review_window_ending"; order: Order }
+  /** The lab's statement in a dispute: the client and the admins hear it (the note is the statement). */
+  | { kind: "dispute_answered"; order: Order; note: string }
   | { kind: "request_open"; requestId: string; labIds: string[] }
   | { kind: "quote_received"; quoteId: string }
   | { kind: "quote_decided"; acceptedQuoteId: string; orderId: string }
@@ -164,6 +166,8 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
     }
     case "review_window_ending":
       return orderOutgoing(tx, m.order, "review_window_ending", ["client"], "");
+    case "dispute_answered":
+      return orderOutgoing(tx, m.order, "dispute_answered", ["client", "admin"], m.note);
     case "request_open": {
       const [r] = await tx.select().from(schema.requests).where(eq(schema.requests.id, m.requestId));
       if (!r) return [];

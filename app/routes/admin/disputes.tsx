@@ -1,7 +1,7 @@
 // /admin/disputes — open and settled disputes, and the decision form for one: a split of the held money.
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useEffect } from "react";
-import { data, Form, useNavigation } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { VerdictBadge } from "~/components/calibration-summary";
 import type { Verdict } from "~/diffraction/verdict";
@@ -39,6 +39,7 @@ export async function loader({ request }: Route.LoaderArgs) {
         timeline: (await orderTimeline(r.order.id)).map((e) => ({ ...e, at: e.at.toISOString() })),
         state: r.dispute.state,
         reason: r.dispute.reason,
+        labStatement: r.dispute.labStatement,
         openedAt: r.dispute.openedAt,
         currency: r.order.currency,
         amountMinor: r.order.amountMinor,
@@ -98,7 +99,10 @@ export default function Disputes({ loaderData, actionData }: Route.ComponentProp
             <li key={d.orderId} className="card" aria-labelledby={`dispute-${d.orderId}`}>
               <div className="flex flex-wrap items-baseline justify-between gap-2">
                 <h2 id={`dispute-${d.orderId}`} className="font-semibold">
-                  Order {d.orderNumber} · {d.title} — {d.client} and {d.lab}
+                  <Link to={`/admin/disputes/${d.orderId}`} className="text-beam-700 underline">
+                    Order {d.orderNumber}
+                  </Link>{" "}
+                  · {d.title} — {d.client} and {d.lab}
                 </h2>
                 <Badge tone={d.state === "open" ? "danger" : "neutral"}>{d.state === "open" ? "Open" : "Decided"}</Badge>
               </div>
@@ -114,6 +118,11 @@ export default function Disputes({ loaderData, actionData }: Route.ComponentProp
                   <h3 id={`lab-side-${d.orderId}`} className="text-sm font-semibold text-ink-800">
                     Lab: {d.lab}
                   </h3>
+                  {d.labStatement ? (
+                    <blockquote className="mt-2 border-l-4 border-ink-200 pl-3 text-sm text-ink-700">{d.labStatement}</blockquote>
+                  ) : (
+                    <p className="mt-2 text-xs text-ink-600">{d.state === "open" ? "The lab has not answered yet." : "The lab gave no statement."}</p>
+                  )}
                   {d.files.length ? (
                     <ul className="mt-2 space-y-1 text-sm" aria-label="Delivered files and their checks">
                       {d.files.map((f) => (

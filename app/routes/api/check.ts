@@ -1,9 +1,10 @@
-// GET /api/checks/:id — a lattice check's live status, for the order's client organisation and its lab.
+// GET /api/checks/:id — a lattice check's live status, for the order's client organisation and its lab
+// (and an admin when the order is disputed, audit-logged).
 import { checkStatusJson } from "~/domain/lattice-check";
 import { requireCheckAccess } from "~/utils/permissions.server";
 import type { Route } from "./+types/check";
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const { check } = await requireCheckAccess(request, params.id);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const { check } = await requireCheckAccess(request, params.id, { what: "check status", clientAddress: context.clientAddress });
   return Response.json(checkStatusJson(check), { headers: { "Cache-Control": "private, no-store" } });
 }

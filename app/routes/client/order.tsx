@@ -22,6 +22,8 @@ import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
 import { useFormat } from "~/components/locale";
+import { DisputePanel } from "~/components/dispute-panel";
+import { disputeCase as disputeCaseOf } from "~/models/orders/disputes.server";
 
 const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
 
@@ -55,6 +57,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     timeline,
     // What each sample's scans are checked against: its main phase and cell, further phases, candidates and window.
     samples: samples.map(({ sdsStorageKey: _key, ...s }) => s),
+    disputeCase: dispute ? await disputeCaseOf(order.id) : null,
   };
 }
 
@@ -121,7 +124,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline, samples } = loaderData;
+  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline, samples, disputeCase } = loaderData;
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
   const canCancel = canMove(order.state, "cancelled", "client");
@@ -242,6 +245,11 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
         </section>
         <OrderTimelineCard rows={timeline} />
       </div>
+      {disputeCase ? (
+        <div className="mt-6">
+          <DisputePanel orderId={order.id} side="client" dispute={disputeCase} />
+        </div>
+      ) : null}
       <section className="card mt-6" aria-labelledby="declared-samples">
         <h2 id="declared-samples" className="mb-3 text-lg font-semibold">
           Samples as declared

@@ -22,6 +22,8 @@ import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
 import { useFormat } from "~/components/locale";
+import { DisputePanel } from "~/components/dispute-panel";
+import { disputeCase } from "~/models/orders/disputes.server";
 
 const labOrder = (request: Request, orderId: string) => requireOrderSide(request, "lab", orderId);
 
@@ -45,6 +47,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     shipment,
     timeline,
     missingChecks,
+    dispute: ["disputed", "resolved"].includes(order.state) ? await disputeCase(order.id) : null,
   };
 }
 
@@ -86,7 +89,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function LabOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, title, clientName, samples, sds, shipment, timeline, missingChecks } = loaderData;
+  const { order, title, clientName, samples, sds, shipment, timeline, missingChecks, dispute } = loaderData;
   const busy = useNavigation().state !== "idle";
   return (
     <div>
@@ -156,7 +159,7 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
                 {order.state === "funds_held" && "The client has paid; the money is held. Waiting for the samples to be shipped."}
                 {order.state === "data_delivered" && "Delivered. The client reviews the data; you are paid when they accept or the review window lapses."}
                 {["accepted", "paid_out"].includes(order.state) && "Accepted by the client; see Payouts."}
-                {order.state === "disputed" && "The client opened a dispute; an admin will decide."}
+                {order.state === "disputed" && "The client opened a dispute; answer it below with the lab's statement and evidence. An admin will decide."}
                 {["cancelled", "refused_on_arrival", "resolved"].includes(order.state) && "This order is closed."}
               </p>
             )}
@@ -168,6 +171,7 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
               </p>
             ) : null}
           </section>
+          {dispute ? <DisputePanel orderId={order.id} side="lab" dispute={dispute} /> : null}
           <section className="card" aria-labelledby="lab-samples">
             <h2 id="lab-samples" className="mb-3 text-lg font-semibold">
               Samples and their hazard declarations
