@@ -98,6 +98,8 @@ export default [
     route("v1/orders/:id/files", "routes/api/v1/order-files.ts"),
     route("v1/orders/:id/files/:fileId/complete", "routes/api/v1/order-file-complete.ts"),
     route("requests/:id/matches", "routes/api/request-matches.ts"),
+    route("requests/:id/messages", "routes/api/request-messages.ts"),
+    route("orders/:id/messages", "routes/api/order-messages.ts"),
     route("orders/:id", "routes/api/order.ts"),
     route("checks/:id", "routes/api/check.ts"),
     route("admin/ledger/summary", "routes/api/admin/ledger-summary.ts"),

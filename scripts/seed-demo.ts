@@ -5,6 +5,7 @@ import { seedDemoOrders } from "~/demo/seed-orders.server";
 import { seedDemoScans } from "~/demo/seed-scans.server";
 import { seedDemoScenario } from "~/demo/seed-scenario.server";
 import { seedDemoDisputes } from "~/demo/seed-disputes.server";
+import { seedDemoMessages } from "~/demo/seed-messages.server";
 import { db } from "~/db/client.server";
 
 const t0 = Date.now();
@@ -13,6 +14,7 @@ await seedDemoOrders();
 const scans = await seedDemoScans();
 const scenario = await seedDemoScenario();
 await seedDemoDisputes();
+await seedDemoMessages();
 console.log(
   `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
 );

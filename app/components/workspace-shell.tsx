@@ -1,5 +1,5 @@
 // The frame of the client, lab and admin workspaces: navigation, organisation switcher, account area.
-import { useEffect, useState, type ReactNode } from "react";
+import { Fragment, useEffect, useState, type ReactNode } from "react";
 import { Form, Link, NavLink, useLocation } from "react-router";
 import type { MeSummary } from "~/models/accounts/me.server";
 import { Brand } from "./brand";
@@ -11,6 +11,8 @@ export interface NavItem {
   to: string;
   label: string;
   end?: boolean;
+  /** Unread messages behind this section, shown beside its name. */
+  unread?: number;
 }
 
 export function WorkspaceShell({ me, title, nav, children }: { me: MeSummary; title: string; nav: NavItem[]; children: ReactNode }) {
@@ -48,16 +50,29 @@ export function WorkspaceShell({ me, title, nav, children }: { me: MeSummary; ti
         </div>
         <nav id={navId} aria-label={`${title} navigation`} className={`${menuOpen ? "flex" : "hidden"} flex-col gap-1 px-2 pb-3 md:flex`}>
           {nav.map((n) => (
-            <NavLink
-              key={n.to}
-              to={n.to}
-              end={n.end}
-              className={({ isActive }) =>
-                `rounded-md px-3 py-2 text-sm font-medium ${isActive ? "bg-beam-50 text-beam-700" : "text-ink-700 hover:bg-ink-100"}`
-              }
-            >
-              {n.label}
-            </NavLink>
+            <Fragment key={n.to}>
+              <NavLink
+                to={n.to}
+                end={n.end}
+                aria-describedby={n.unread ? `${navId}-${n.to.replace(/\W+/g, "-")}-unread` : undefined}
+                className={({ isActive }) =>
+                  `rounded-md px-3 py-2 text-sm font-medium ${isActive ? "bg-beam-50 text-beam-700" : "text-ink-700 hover:bg-ink-100"}`
+                }
+              >
+                {n.label}
+                {/* The count describes the link rather than renaming it, so "Orders" stays "Orders" to a screen reader. */}
+                {n.unread ? (
+                  <span aria-hidden="true" className="ml-2 rounded-full bg-beam-600 px-1.5 py-0.5 text-xs font-semibold text-white">
+                    {n.unread}
+                  </span>
+                ) : null}
+              </NavLink>
+              {n.unread ? (
+                <span id={`${navId}-${n.to.replace(/\W+/g, "-")}-unread`} className="sr-only">
+                  {n.unread} unread message{n.unread === 1 ? "" : "s"}
+                </span>
+              ) : null}
+            </Fragment>
           ))}
         </nav>
       </aside>

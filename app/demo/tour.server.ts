@@ -35,6 +35,7 @@ export async function demoTour(base: string) {
     "owner@halvorsen.example — Ingrid, client owner",
     `  fluorescence warning on an iron phosphate under copper: ${u(`/client/requests/${await requestId("Phase check of LFP cathode batch HC-2611")}`)}`,
     `  two quotes side by side (Granite Ridge, Lakeside), accept one and pay: ${u(`/client/requests/${await requestId("Phase purity of NMC811 lot HC-2634")}`)}`,
+    `  messages: Granite Ridge's question before quoting and the answer (same request, "Questions from labs"); the order's thread with the lab: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}#messages`)}`,
     `  data delivered, review window open — open the review check's plot, then accept: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}`)}  (check ${u(`/checks/${await checkId("HC-2645-2_Co_15-110.xy")}`)})`,
     `  open dispute: ${u(`/client/orders/${await orderId("Impurity check of NMC lot HC-2655")}`)}; every request state: ${u("/client/requests")}`,
     `  a declared Li3PO4 residue beside the olivine, both phases in its check: ${u(`/client/orders/${await orderId("Olivine with Li3PO4 residue in LFP batch HC-2681")}`)}  (check ${u(`/checks/${await checkId("HC-2681-A_Co_15-110.xy")}`)})`,

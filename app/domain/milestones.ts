@@ -7,6 +7,7 @@ type MilestoneReader = "client" | "lab" | "admin" | "anyone";
 export const MILESTONES = {
   request_open: { label: "A new request your lab can serve", essential: false, for: ["lab"] },
   quote_received: { label: "A lab sent a quote", essential: false, for: ["client"] },
+  message_posted: { label: "A new message from the client or the lab", essential: false, for: ["client", "lab"] },
   quote_accepted: { label: "Your quote was accepted", essential: false, for: ["lab"] },
   quote_declined: { label: "Your quote was not chosen", essential: false, for: ["lab"] },
   funds_held: { label: "Payment received and held", essential: true, for: ["client", "lab"] },

@@ -4,6 +4,7 @@ import { isRouteErrorResponse, Outlet } from "react-router";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { WorkspaceShell, type NavItem } from "~/components/workspace-shell";
 import { summariseActor } from "~/models/accounts/me.server";
+import { unreadTotals } from "~/models/messages/messages.server";
 import { requireWorkspace } from "~/utils/permissions.server";
 import type { Route } from "./+types/workspace-layout";
 
@@ -24,6 +25,12 @@ export async function loader({ request }: Route.LoaderArgs) {
     ...sections.map((s) => ({ to: `/${kind}/${s.slug}`, label: s.label })),
     ...EXTRA_NAV[kind],
   ];
+  // Unread messages: request threads beside the requests (the lab's inbox), order threads beside the orders.
+  if (kind !== "admin" && actor.active) {
+    const unread = await unreadTotals(actor.user.id, actor.active.organisation.id);
+    const where = kind === "client" ? { requests: "/client/requests", orders: "/client/orders" } : { requests: "/lab/inbox", orders: "/lab/work-queue" };
+    for (const n of nav) n.unread = n.to === where.requests ? unread.requests : n.to === where.orders ? unread.orders : undefined;
+  }
   return { me: summariseActor(actor), title, nav };
 }
 

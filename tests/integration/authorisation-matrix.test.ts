@@ -159,6 +159,13 @@ const EXPECTED: Record<string, Expect> = {
   "routes/api/v1/order-files": { action: all("signin") },
   "routes/api/v1/order-file-complete": { action: all("signin") },
   "routes/api/request-matches": { loader: orderClient },
+  // Messages: only the two parties; the matrix's request has an order, so its request thread takes no new message
+  // (400), and the client names no lab here (it reads its list of lab conversations, and a post without a lab is 400).
+  "routes/api/request-messages": {
+    loader: orderParties,
+    action: signedIn("notFound", { ownerA: "bad", memberA: "bad", labManager: "bad", labOperator: "bad" }),
+  },
+  "routes/api/order-messages": { loader: orderParties, action: signedIn("notFound", { ownerA: "bad", memberA: "bad", labManager: "bad", labOperator: "bad" }) },
   "routes/api/order": { loader: orderParties },
   "routes/api/check": { loader: orderParties },
   "routes/api/admin/ledger-summary": { loader: adminPage },

@@ -229,6 +229,33 @@ export function requestOpenLetter(r: { id: string; title: string; clientName: st
   };
 }
 
+/** How much of a message an e-mail quotes; the rest is read in Diffractory. */
+const MESSAGE_EXCERPT = 600;
+
+export function messageLetter(m: {
+  fromName: string;
+  authorName: string;
+  requestTitle: string;
+  orderNumber: string | null;
+  body: string;
+  attachmentName: string | null;
+  path: string;
+}): Letter {
+  const excerpt = m.body.length > MESSAGE_EXCERPT ? `${m.body.slice(0, MESSAGE_EXCERPT).trimEnd()}…` : m.body;
+  return {
+    subject: m.orderNumber ? `New message from ${m.fromName} · order ${m.orderNumber}` : `New message from ${m.fromName} about “${m.requestTitle}”`,
+    heading: `${m.fromName} wrote`,
+    paragraphs: [`${m.authorName} of ${m.fromName} wrote:`, excerpt],
+    facts: [
+      ["Request", m.requestTitle],
+      ...(m.orderNumber ? ([["Order", m.orderNumber]] as [string, string][]) : []),
+      ...(m.attachmentName ? ([["Attachment", m.attachmentName]] as [string, string][]) : []),
+    ],
+    nextStep: "Answer in the conversation on Diffractory; replies to this e-mail are not read.",
+    link: { path: m.path, label: "Open the conversation" },
+  };
+}
+
 export function quoteReceivedLetter(q: {
   requestId: string;
   requestTitle: string;

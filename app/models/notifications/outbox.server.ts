@@ -10,6 +10,7 @@ import {
   labApplicationLetter,
   passwordResetLetter,
   labDecisionLetter,
+  messageLetter,
   orderLetter,
   quoteDecisionLetter,
   quoteReceivedLetter,
@@ -31,6 +32,8 @@ export type Milestone =
   | { kind: "dispute_answered"; order: Order; note: string }
   | { kind: "request_open"; requestId: string; labIds: string[] }
   | { kind: "quote_received"; quoteId: string }
+  /** A message in a request's or an order's thread: the other side hears of it. */
+  | { kind: "message_posted"; messageId: string }
   | { kind: "quote_decided"; acceptedQuoteId: string; orderId: string }
   | { kind: "lab_application_received"; labId: string }
   | { kind: "lab_decided"; labId: string; to: VettingState; note: string }
@@ -158,6 +161,47 @@ async function orderOutgoing(tx: Tx, order: Order, kind: MilestoneKind, audience
   return out;
 }
 
+/**
+ * A new message goes to the other side of its thread: that organisation's owners and managers, plus whoever of
+ * it acts on the matter (the request's author or the quote's author, and anyone of it who wrote in the thread).
+ * The author never hears of their own message.
+ */
+async function messageOutgoing(tx: Tx, messageId: string): Promise<Outgoing[]> {
+  const [msg] = await tx.select().from(schema.messages).where(eq(schema.messages.id, messageId));
+  const [r] = msg ? await tx.select().from(schema.requests).where(eq(schema.requests.id, msg.requestId)) : [];
+  if (!msg || !r) return [];
+  const [order] = msg.orderId ? await tx.select().from(schema.orders).where(eq(schema.orders.id, msg.orderId)) : [];
+  const fromLab = msg.authorOrganisationId === msg.labId;
+  const toOrganisationId = fromLab ? r.organisationId : msg.labId;
+  const sameThread = order
+    ? eq(schema.messages.orderId, order.id)
+    : and(eq(schema.messages.requestId, r.id), eq(schema.messages.labId, msg.labId), isNull(schema.messages.orderId));
+  const writers = await tx
+    .selectDistinct({ userId: schema.messages.authorUserId })
+    .from(schema.messages)
+    .where(and(sameThread, eq(schema.messages.authorOrganisationId, toOrganisationId)));
+  const acting = [...writers.map((w) => w.userId), fromLab ? r.createdBy : order ? await quoteAuthor(tx, order.quoteId) : null];
+  const [author] = msg.authorUserId ? await tx.select({ name: schema.users.name }).from(schema.users).where(eq(schema.users.id, msg.authorUserId)) : [];
+  const lab = await tx.select({ slug: schema.organisations.slug }).from(schema.organisations).where(eq(schema.organisations.id, msg.labId));
+  const path = order
+    ? `/${fromLab ? "client" : "lab"}/orders/${order.id}#messages`
+    : fromLab
+      ? `/client/requests/${r.id}?lab=${encodeURIComponent(lab[0]?.slug ?? msg.labId)}#messages`
+      : `/lab/requests/${r.id}#messages`;
+  const letter = messageLetter({
+    fromName: (await orgName(tx, msg.authorOrganisationId ?? (fromLab ? msg.labId : r.organisationId))).name,
+    authorName: author?.name ?? "Someone",
+    requestTitle: r.title,
+    orderNumber: order?.number ?? null,
+    body: msg.body,
+    attachmentName: msg.attachmentName,
+    path,
+  });
+  return (await recipientsOf(tx, toOrganisationId, acting))
+    .filter((p) => p.userId !== msg.authorUserId)
+    .map((person) => ({ kind: "message_posted" as const, person, letter, orderId: order?.id ?? null, organisationId: toOrganisationId }));
+}
+
 async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
   switch (m.kind) {
     case "order_moved": {
@@ -204,6 +248,8 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
         organisationId: r.organisationId,
       }));
     }
+    case "message_posted":
+      return messageOutgoing(tx, m.messageId);
     case "quote_decided": {
       const [accepted] = await tx.select().from(schema.quotes).where(eq(schema.quotes.id, m.acceptedQuoteId));
       const [r] = accepted ? await tx.select().from(schema.requests).where(eq(schema.requests.id, accepted.requestId)) : [];

@@ -1,4 +1,6 @@
 // /client/orders/:id — the client's view of an order: payment, timeline, cancel, accept or dispute.
+import { MessageThread } from "~/components/message-thread";
+import { orderThread, viewThread } from "~/models/messages/messages.server";
 import { requireOrderSide } from "~/utils/permissions.server";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
@@ -28,7 +30,8 @@ import { disputeCase as disputeCaseOf } from "~/models/orders/disputes.server";
 const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { order } = await clientOrder(request, params.id);
+  const { order, actor } = await clientOrder(request, params.id);
+  const messages = await viewThread(actor.user.id, actor.membership.organisation.id, orderThread(order));
   const [title, labName, payment, timeline, samples] = await Promise.all([
     requestTitleOf(order.requestId),
     organisationNameOf(order.labId),
@@ -39,6 +42,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const dispute = await disputeOf(order.id);
   const shipment = await shipmentOf(order.id);
   return {
+    messages,
     order: {
       id: order.id,
       number: order.number,
@@ -264,6 +268,17 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
           ))}
         </div>
       </section>
+      <MessageThread
+        id="order-thread"
+        title={`Messages with ${loaderData.labName || "the lab"}`}
+        intro="Only your organisation and the lab read this conversation; an admin reads it only if the order is disputed."
+        messages={loaderData.messages.messages}
+        yourSide="client"
+        action={`/api/orders/${loaderData.order.id}/messages`}
+        open={loaderData.messages.open}
+        closedBecause={loaderData.messages.closedBecause}
+        unread={loaderData.messages.unread}
+      />
     </div>
   );
 }

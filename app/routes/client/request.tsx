@@ -1,8 +1,10 @@
 // A client's request: its samples and hazards, the labs' quotes side by side, and accepting one of them.
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
+import { MessageThread } from "~/components/message-thread";
+import { requestThreadForClient, requestThreadsOfClient, viewThread } from "~/models/messages/messages.server";
 import { OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from "~/components/request-parts";
-import { EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
+import { Badge, EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import { matchLabsForRequest, quoteJudgementsForRequest } from "~/models/labs/matching.server";
 import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/requests/quotes.server";
 import { samplesOf, sdsLinks } from "~/models/requests/requests.server";
@@ -13,7 +15,7 @@ import type { Route } from "./+types/request";
 import { useFormat } from "~/components/locale";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { membership } = await requireOrgRole(request, "client");
+  const { user, membership } = await requireOrgRole(request, "client");
   const row = await requireOwnRequest(params.id, membership.organisation.id);
   if (row.state === "draft") throw redirect(`/client/requests/${row.id}/edit/${row.draftStep}`);
   // Each quote card is judged by the instrument the quote names; the labs' matches judge each lab as a whole.
@@ -24,7 +26,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     quoteJudgementsForRequest(row.id),
     orderForRequest(row.id),
   ]);
-  return { request: row, samples, quotes, matches, judgements, order, sds: await sdsLinks(samples) };
+  // One conversation per lab: the lab chosen with ?lab=<slug>, else the one with unread messages, else the latest.
+  const threads = await requestThreadsOfClient(row.id, user.id, membership.organisation.id);
+  const chosen = new URL(request.url).searchParams.get("lab") ?? (threads.find((t) => t.unread > 0) ?? threads.find((t) => t.messages > 0))?.slug ?? null;
+  const found = chosen ? await requestThreadForClient(row.id, membership.organisation.id, chosen) : null;
+  const conversation = found ? { lab: found.lab, ...(await viewThread(user.id, membership.organisation.id, found.thread)) } : null;
+  return { request: row, samples, quotes, matches, judgements, order, sds: await sdsLinks(samples), threads, conversation };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -43,7 +50,8 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientRequest({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, samples, quotes, judgements, order, sds } = loaderData;
+  const { request: r, samples, quotes, judgements, order, sds, threads, conversation } = loaderData;
+  const slugOf = new Map(threads.map((t) => [t.labId, t.slug]));
   const navigation = useNavigation();
   const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
   const past = quotes.filter((q) => !(q.state === "sent" || q.state === "accepted"));
@@ -127,6 +135,11 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
                 </table>
                 {q.notes ? <p className="mt-2 text-sm text-ink-700">{q.notes}</p> : null}
                 {judged ? <MatchReasons reasons={judged.reasons} warnings={judged.warnings} /> : null}
+                {slugOf.has(q.labId) ? (
+                  <Link to={`?lab=${slugOf.get(q.labId)}#messages`} preventScrollReset className="mt-2 text-sm text-beam-700 hover:underline">
+                    Messages with {q.labName}
+                  </Link>
+                ) : null}
                 {r.state === "open" && q.state === "sent" ? (
                   <Form method="post" className="mt-auto pt-4">
                     <input type="hidden" name="intent" value="accept" />
@@ -146,6 +159,47 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
           Also received: {past.map((q) => `${q.labName} (${q.state}, ${fmt.money(q.totalMinor, q.currency)})`).join("; ")}.
         </p>
       ) : null}
+
+      <section className="mt-8" aria-label="Questions from labs">
+        <h2 className="mb-3 text-lg font-semibold">Questions from labs</h2>
+        {threads.length === 0 ? (
+          <p className="text-sm text-ink-600">
+            No lab has written yet. Labs that can see the request may ask about it here before quoting; each lab sees only its own conversation with you.
+          </p>
+        ) : (
+          <ul className="flex flex-wrap gap-2" aria-label="Conversations by lab">
+            {threads.map((t) => (
+              <li key={t.labId}>
+                <Link
+                  to={`?lab=${t.slug}#messages`}
+                  preventScrollReset
+                  aria-current={conversation?.lab.id === t.labId ? "true" : undefined}
+                  className={`inline-flex items-center gap-2 rounded-md border px-3 py-1.5 text-sm ${conversation?.lab.id === t.labId ? "border-beam-600 bg-beam-50 text-beam-700" : "border-ink-200 text-ink-700 hover:bg-ink-100"}`}
+                >
+                  {t.labName}
+                  <span className="text-xs text-ink-500">
+                    {t.messages} message{t.messages === 1 ? "" : "s"}
+                  </span>
+                  {t.unread ? <Badge tone="brand">{t.unread} unread</Badge> : null}
+                </Link>
+              </li>
+            ))}
+          </ul>
+        )}
+        {conversation ? (
+          <MessageThread
+            id="request-thread"
+            title={`Conversation with ${conversation.lab.name}`}
+            intro={`Only ${conversation.lab.name} and your organisation read this conversation.`}
+            messages={conversation.messages}
+            yourSide="client"
+            action={`/api/requests/${r.id}/messages?lab=${encodeURIComponent(conversation.lab.slug)}`}
+            open={conversation.open}
+            closedBecause={conversation.closedBecause}
+            unread={conversation.unread}
+          />
+        ) : null}
+      </section>
 
       <h2 className="mt-8 mb-3 text-lg font-semibold">Samples and hazard declaration</h2>
       <SafetyNotice className="mb-4" />

@@ -1,4 +1,6 @@
 // /lab/orders/:id — the lab's view of an order: the samples and hazards, the shipment, and the lab's moves.
+import { MessageThread } from "~/components/message-thread";
+import { orderThread, viewThread } from "~/models/messages/messages.server";
 import { requireOrderSide } from "~/utils/permissions.server";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useNavigation } from "react-router";
@@ -28,7 +30,8 @@ import { disputeCase } from "~/models/orders/disputes.server";
 const labOrder = (request: Request, orderId: string) => requireOrderSide(request, "lab", orderId);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { order } = await labOrder(request, params.id);
+  const { order, actor } = await labOrder(request, params.id);
+  const messages = await viewThread(actor.user.id, actor.membership.organisation.id, orderThread(order));
   const [title, clientName, samples, shipment, timeline, missingChecks] = await Promise.all([
     requestTitleOf(order.requestId),
     organisationNameOf(order.clientOrganisationId),
@@ -38,6 +41,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     order.state === "measuring" ? samplesWithoutCompletedCheck(order.id) : Promise.resolve([]),
   ]);
   return {
+    messages,
     order: { id: order.id, number: order.number, state: order.state, amountMinor: order.amountMinor, currency: order.currency },
     title: title ?? "",
     clientName: clientName ?? "",
@@ -181,6 +185,17 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
         </div>
         <OrderTimelineCard rows={timeline} />
       </div>
+      <MessageThread
+        id="order-thread"
+        title={`Messages with ${loaderData.clientName || "the client"}`}
+        intro="Only your organisation and the client read this conversation; an admin reads it only if the order is disputed."
+        messages={loaderData.messages.messages}
+        yourSide="lab"
+        action={`/api/orders/${loaderData.order.id}/messages`}
+        open={loaderData.messages.open}
+        closedBecause={loaderData.messages.closedBecause}
+        unread={loaderData.messages.unread}
+      />
     </div>
   );
 }

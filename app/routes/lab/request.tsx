@@ -3,6 +3,8 @@ import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm 
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
+import { MessageThread } from "~/components/message-thread";
+import { requestThreadForLab, viewThread } from "~/models/messages/messages.server";
 import { QuoteStateBadge, SampleCards } from "~/components/request-parts";
 import { Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import { labelOf, matchLab, sourceLabel } from "~/domain/matching";
@@ -22,9 +24,10 @@ import { SubmitButton } from "~/components/pending";
 const isoInDays = (days: number) => new Date(Date.now() + days * 86_400_000).toISOString().slice(0, 10);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { membership } = await requireOrgRole(request, "lab");
+  const { user, membership } = await requireOrgRole(request, "lab");
   const labId = membership.organisation.id;
   const row = await requireRequestForLab(params.id, labId);
+  const thread = await requestThreadForLab(row.id, labId);
   const [samples, acknowledgement, vetting, prices, instruments, ownQuotes, client, matchRequest, [lab]] = await Promise.all([
     samplesOf(row.id),
     acknowledgementOf(row.id, labId),
@@ -41,6 +44,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const draft = draftLineItems(row, samples, prices);
   return {
     request: row,
+    messages: thread ? await viewThread(user.id, labId, thread) : null,
     client: client ?? "",
     samples,
     sds: await sdsLinks(samples),
@@ -156,6 +160,20 @@ export default function LabRequest({ loaderData, actionData }: Route.ComponentPr
       ) : null}
 
       {acknowledgement && approved && canQuote && r.state === "open" && !live ? <QuoteBuilder loaderData={loaderData} actionData={actionData} /> : null}
+
+      {loaderData.messages ? (
+        <MessageThread
+          id="request-thread"
+          title={`Questions to ${client || "the client"}`}
+          intro="Ask about the samples or the measurement before you quote. Only your lab and the client read this conversation."
+          messages={loaderData.messages.messages}
+          yourSide="lab"
+          action={`/api/requests/${r.id}/messages`}
+          open={loaderData.messages.open}
+          closedBecause={loaderData.messages.closedBecause}
+          unread={loaderData.messages.unread}
+        />
+      ) : null}
     </div>
   );
 }
