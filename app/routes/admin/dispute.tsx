@@ -2,7 +2,7 @@
 // their checks (and one check's plot on request, audit-logged), the order's timeline and the decision in money.
 // See docs/design.md#disputes.
 import { parseWithZod } from "@conform-to/zod/v4";
-import { type ReactNode, useMemo, useState } from "react";
+import { useMemo, useState } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { VerdictBadge } from "~/components/calibration-summary";
@@ -24,6 +24,7 @@ import { heldMoneyOf, orderTimeline } from "~/models/orders/queries.server";
 import { organisationNameOf } from "~/models/accounts/organisations.server";
 import { PaymentProblem } from "~/models/payments/provider.server";
 import { requestTitleOf } from "~/models/requests/requests.server";
+import { orderThreadMessages } from "~/models/messages/messages.server";
 import { readForm } from "~/utils/form.server";
 import { notFound, requireAdmin } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -34,14 +35,17 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
   const order = await disputedOrder(params.id);
   const dispute = order ? await disputeCase(order.id) : null;
   if (!order || !dispute) notFound("No such dispute.");
-  const [title, clientName, labName, files, timeline, heldMinor] = await Promise.all([
+  const [title, clientName, labName, files, timeline, heldMinor, thread] = await Promise.all([
     requestTitleOf(order.requestId),
     organisationNameOf(order.clientOrganisationId),
     organisationNameOf(order.labId),
     orderFileList(order.id, { side: "lab" }),
     orderTimeline(order.id),
     heldMoneyOf(order.id),
+    orderThreadMessages(order.id),
   ]);
+  // The order's thread is part of the evidence: the admin reads it here only, and the read is audit-logged.
+  if (thread.length > 0) await logDisputeRead(admin.user.id, order, { type: "order", id: order.id, what: "message thread" }, context.clientAddress);
   // One check's plot, on request: reading the result is a read of the data room, so it is audit-logged.
   const plotId = new URL(request.url).searchParams.get("plot");
   let plot: { checkId: string; fileName: string; result: ReturnType<typeof readStoredResult> } | null = null;
@@ -83,6 +87,13 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
         check: f.check ? { id: f.check.id, status: f.check.status, verdict: f.check.verdict as Verdict | null } : null,
       })),
     timeline: timeline.map((e) => ({ ...e, at: e.at.toISOString() })),
+    thread: thread.map((m) => ({
+      id: m.id,
+      body: m.body,
+      at: m.at.toISOString(),
+      who: `${m.authorName} · ${m.authorOrganisationName} (${m.side})`,
+      attachment: m.attachment?.name ?? null,
+    })),
     plot,
   };
 }
@@ -119,14 +130,12 @@ function splitOf(refundText: string, heldMinor: number, feeBps: number) {
 
 export default function DisputeScreen({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, title, clientName, labName, dispute, heldMinor, files, timeline, plot } = loaderData;
+  const { order, title, clientName, labName, dispute, heldMinor, files, timeline, plot, thread } = loaderData;
   const busy = useNavigation().state !== "idle";
   const [refundText, setRefundText] = useState("");
   const split = splitOf(refundText, heldMinor, order.feeBps);
   const plotData = useMemo(() => (plot ? checkPlotData(plot.result) : null), [plot]);
   const errors = actionData?.result.error ?? {};
-  // The order's message thread, read by the admin through the dispute, is shown here when it is built.
-  const thread: ReactNode = null;
   return (
     <div className="space-y-6">
       <p className="text-sm">
@@ -140,14 +149,26 @@ export default function DisputeScreen({ loaderData, actionData }: Route.Componen
         actions={<OrderStateBadge state={order.state} />}
       />
       <DisputePanel orderId={order.id} side="admin" dispute={dispute} />
-      {thread ? (
-        <section className="card" aria-labelledby="thread-heading">
-          <h2 id="thread-heading" className="text-lg font-semibold">
-            Messages on the order
-          </h2>
-          {thread}
-        </section>
-      ) : null}
+      <section className="card" aria-labelledby="thread-heading">
+        <h2 id="thread-heading" className="text-lg font-semibold">
+          Messages on the order
+        </h2>
+        {thread.length === 0 ? (
+          <p className="mt-2 text-sm text-ink-600">The client and the lab exchanged no messages on this order.</p>
+        ) : (
+          <ol className="mt-3 space-y-3 text-sm" aria-label="Messages on the order">
+            {thread.map((m) => (
+              <li key={m.id} className="rounded-lg border border-ink-200 p-3">
+                <p className="text-xs text-ink-500">
+                  <span className="font-semibold text-ink-700">{m.who}</span> · {fmt.dateTime(m.at)}
+                </p>
+                <p className="mt-1 whitespace-pre-wrap">{m.body}</p>
+                {m.attachment ? <p className="mt-1 text-xs text-ink-600">Attachment: {m.attachment}</p> : null}
+              </li>
+            ))}
+          </ol>
+        )}
+      </section>
       <section className="card" aria-labelledby="files-heading">
         <h2 id="files-heading" className="text-lg font-semibold">
           Delivered files and their checks
