@@ -7,6 +7,7 @@ import { seedDemoScenario } from "~/demo/seed-scenario.server";
 import { seedDemoDisputes } from "~/demo/seed-disputes.server";
 import { seedDemoMessages } from "~/demo/seed-messages.server";
 import { db } from "~/db/client.server";
+import { seedRequestLife } from "~/demo/seed-request-life.server";
 
 const t0 = Date.now();
 const result = await seedDemo();
@@ -15,6 +16,7 @@ const scans = await seedDemoScans();
 const scenario = await seedDemoScenario();
 await seedDemoDisputes();
 await seedDemoMessages();
+await seedRequestLife();
 console.log(
   `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
 );

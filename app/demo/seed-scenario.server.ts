@@ -41,7 +41,7 @@ import {
   sdsPrefix,
 } from "~/models/requests/requests.server";
 import { LICENCE_STATEMENT } from "~/domain/vetting";
-import { audit } from "~/models/audit.server";
+import { expireOverdueRequests, withdrawRequest } from "~/models/requests/request-life.server";
 import { putObject, storageKeyFor } from "~/models/files/storage.server";
 import { simplePdf } from "./demo-pdf";
 import { payOrder } from "./seed-orders.server";
@@ -99,7 +99,7 @@ type End =
   | "refused_on_arrival"
   | "disputed";
 
-interface ScenarioRequest {
+export interface ScenarioRequest {
   title: string;
   client: string;
   /** The member who posts it and acts for the client. */
@@ -343,7 +343,7 @@ export const SCENARIO: ScenarioRequest[] = [
     by: "owner@pinecrest.example",
     technique: "powder_transmission",
     samples: [{ fields: organic("PSF-097", "C12H16N2O3", "PSF-097 dihydrate", "monoclinic", "P", [11.42, 7.18, 15.06, 90, 98.4, 90], "capillary") }],
-    range: [3, 40],
+    range: [5, 40],
     currency: "USD",
     quotes: [
       {
@@ -406,7 +406,7 @@ export const SCENARIO: ScenarioRequest[] = [
         },
       },
     ],
-    range: [3, 40],
+    range: [5, 40],
     currency: "EUR",
     budget: "700",
     quotes: [
@@ -456,7 +456,7 @@ export const SCENARIO: ScenarioRequest[] = [
       { fields: organic("PSF-144-HCl", "C15H18ClNO2", "PSF-144 hydrochloride", "monoclinic", "P", [8.91, 10.77, 15.32, 90, 95.2, 90]) },
       { fields: organic("PSF-144-MSA", "C16H21NO5S", "PSF-144 mesylate", "triclinic", "P", [7.35, 9.82, 12.46, 84.1, 79.6, 71.3]) },
     ],
-    range: [3, 45],
+    range: [5, 45],
     currency: "EUR",
     quotes: [
       { lab: GRANITE, instrument: "Reflection diffractometer A (Cu)", turnaroundDays: 8, notes: "Zero-background silicon holders for the small amounts." },
@@ -564,7 +564,7 @@ export const SCENARIO: ScenarioRequest[] = [
       { fields: organic("PSF-127-1", "C14H12N2O2", "PSF-127 ethanol solvate", "monoclinic", "C", [18.2, 6.91, 12.74, 90, 107.3, 90], "capillary") },
       { fields: organic("PSF-127-2", "C14H12N2O2", "PSF-127 ethanol solvate", "monoclinic", "C", [18.2, 6.91, 12.74, 90, 107.3, 90], "capillary") },
     ],
-    range: [3, 40],
+    range: [5, 40],
     currency: "USD",
     quotes: [{ lab: LAKESIDE, instrument: "Transmission diffractometer (Mo)", turnaroundDays: 12, notes: "Sealed 0.7 mm capillaries, please." }],
     accept: LAKESIDE,
@@ -769,25 +769,18 @@ export async function seedScenarioRequest(spec: ScenarioRequest) {
   for (const q of spec.quotes) quotes.push({ ...(await quoteAs(q, request.id, clientId)), lab: q.lab });
   await lapseExpiredQuotes();
   if (spec.end === "open") return true;
-  if (spec.end === "expired" || spec.end === "withdrawn") {
-    // The app has no screen for these two moves yet: the seed makes them as such a move would, with an audit entry.
-    const now = new Date();
-    await db.transaction(async (tx) => {
-      await tx
-        .update(schema.requests)
-        .set({ state: spec.end as "expired" | "withdrawn", updatedAt: now, ...(spec.end === "expired" ? { deadline: isoDate(-2) } : {}) })
-        .where(eq(schema.requests.id, request.id));
-      await audit(
-        {
-          actorUserId: spec.end === "withdrawn" ? client.id : null,
-          organisationId: clientId,
-          action: spec.end === "withdrawn" ? "request_withdrawn" : "request_expired",
-          subjectType: "request",
-          subjectId: request.id,
-        },
-        tx,
-      );
-    });
+  if (spec.end === "withdrawn") {
+    const done = await withdrawRequest(await ownRequest(request.id, clientId), client.id);
+    if (done.error) throw new Error(`demo scenario: ${spec.title}: ${done.error}`);
+    return true;
+  }
+  if (spec.end === "expired") {
+    // Its deadline has passed (a date the form would refuse), and the expiry job's own function closes it.
+    await db
+      .update(schema.requests)
+      .set({ deadline: isoDate(-2) })
+      .where(eq(schema.requests.id, request.id));
+    await expireOverdueRequests(new Date(), [request.id]);
     return true;
   }
   const chosen = quotes.find((q) => q.lab === spec.accept);

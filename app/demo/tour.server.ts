@@ -2,6 +2,7 @@
 // seeded rows' own URLs (README "Demo tour" has the same tour without the ids).
 import { and, eq } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
+import { requestLifeIds } from "~/demo/seed-request-life.server";
 
 async function requestId(title: string) {
   const [row] = await db.select({ id: schema.requests.id }).from(schema.requests).where(eq(schema.requests.title, title));
@@ -30,6 +31,7 @@ async function checkId(fileName: string) {
 export async function demoTour(base: string) {
   const [meridian] = await db.select({ id: schema.organisations.id }).from(schema.organisations).where(eq(schema.organisations.slug, "meridian-analytical"));
   const u = (path: string) => `${base}${path}`;
+  const life = await requestLifeIds();
   const lines = [
     "Tour (password diffractory-demo for every account):",
     "owner@halvorsen.example — Ingrid, client owner",
@@ -40,11 +42,13 @@ export async function demoTour(base: string) {
     `  open dispute: ${u(`/client/orders/${await orderId("Impurity check of NMC lot HC-2655")}`)}; every request state: ${u("/client/requests")}`,
     `  a declared Li3PO4 residue beside the olivine, both phases in its check: ${u(`/client/orders/${await orderId("Olivine with Li3PO4 residue in LFP batch HC-2681")}`)}  (check ${u(`/checks/${await checkId("HC-2681-A_Co_15-110.xy")}`)})`,
     `  a lot outside its ± 0.002 Å acceptance window: ${u(`/client/orders/${await orderId("Acceptance test of LFP production lot HC-2693")}`)}  (check ${u(`/checks/${await checkId("HC-2693-1_Co_15-110.xy")}`)})`,
+    `  a request's life — edited after Granite Ridge quoted (its quote awaits re-confirmation): ${u(`/client/requests/${life.edited}`)}; withdrawn, with “Order again”: ${u(`/client/requests/${life.withdrawn}`)}; expired by the job: ${u(`/client/requests/${life.expired}`)}`,
     "owner@pinecrest.example — Amara, client owner (member@pinecrest.example is a member; consultant@fieldnotes.example manages for both clients)",
     `  nanomaterial and toxic samples with their safety data sheets, in transit: ${u(`/client/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  refused on arrival, with the lab's reason and the refund: ${u(`/client/orders/${await orderId("Capillary series of solvate PSF-127")}`)}; inconsistent check of the resolved dispute: ${u(`/checks/${await checkId("PSF-118-B_Cu_5-60.xy")}`)}`,
     `  Form I declared with Form II as a candidate, the check picks the form the scan shows: ${u(`/client/orders/${await orderId("Form I or Form II of API batch PSF-163")}`)}  (check ${u(`/checks/${await checkId("PSF-163-B_Cu_5-60.xy")}`)})`,
     "lab@graniteridge.example — Marcus, lab manager (operator@graniteridge.example measures)",
+    `  a request changed after quoting — read the change and re-confirm the quote: ${u(`/lab/requests/${life.edited}`)}`,
     `  work queue: ${u("/lab/work-queue")}; the hazardous parcel on its way: ${u(`/lab/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  measuring — upload scans and watch their checks: ${u(`/lab/orders/${await orderId("Form screen of salt candidates PSF-144")}/files`)}; payouts: ${u("/lab/payouts")}`,
     "lab@lakeside.example — Dana, lab manager",

@@ -320,3 +320,74 @@ const LABELS: Record<string, string> = {
 export function labelOf(code: string) {
   return LABELS[code] ?? code.replace(/_/g, " ");
 }
+
+/**
+ * Why no lab can take a request, naming the need that rules every lab out and the nearest offer, e.g. "every
+ * lab is ruled out by the temperature 1200 K (highest offered 900 K)". When no single need does, each lab's
+ * first unmet reason is named. `labs` are the labs that were asked (every approved lab, or the invited ones).
+ */
+export function whyNoLabFits(req: MatchRequest, labs: MatchLab[]): string {
+  if (labs.length === 0) return "there is no approved lab on Diffractory yet";
+  const instruments = labs.flatMap((l) => l.instruments);
+  const needs: string[] = [];
+  if (instruments.length === 0) return "no lab has published an instrument yet";
+  const techniques = [...new Set(instruments.map((i) => i.technique))];
+  if (!techniques.includes(req.technique)) {
+    needs.push(`the technique ${labelOf(req.technique)} (offered: ${techniques.map(labelOf).join(", ")})`);
+  }
+  const sameTechnique = instruments.filter((i) => i.technique === req.technique);
+  const pool = sameTechnique.length ? sameTechnique : instruments;
+  if (req.preferredSource !== "any" && !pool.some((i) => i.anode === req.preferredSource)) {
+    const offered = [...new Set(pool.map((i) => sourceLabel(i)))];
+    needs.push(`the preferred source ${req.preferredSource} Kα (offered: ${offered.join(", ")})`);
+  }
+  const need = requestedDRange(req);
+  if (need) {
+    const covers = pool.map((i) => {
+      const w = instrumentWavelength(i);
+      return w === null ? null : dSpacingCoverage(w, i.twoThetaMin, i.twoThetaMax);
+    });
+    const fits = covers.some((c) => c && c.dMin <= need.dMin * (1 + 1e-9) && c.dMax >= need.dMax * (1 - 1e-9));
+    if (!fits) {
+      const reach = covers.filter((c): c is NonNullable<typeof c> => !!c);
+      const best = reach.length
+        ? ` (the instruments reach d ${fmt(Math.min(...reach.map((c) => c.dMin)))}–${fmt(Math.max(...reach.map((c) => c.dMax)), 2)} Å at most)`
+        : "";
+      const asked = req.rangeKind === "d_spacing" ? `${req.rangeMin}–${req.rangeMax} Å` : `${req.rangeMin}–${req.rangeMax}° 2θ`;
+      needs.push(`the range ${asked}, d ${fmt(need.dMin)}–${fmt(need.dMax, 2)} Å${best}`);
+    }
+  }
+  const points = req.temperaturePointsK.length > 0 ? req.temperaturePointsK : [298];
+  const ambientAir = req.atmosphere === "air" && points.every((t) => t >= AMBIENT_K[0] && t <= AMBIENT_K[1]);
+  if (!ambientAir) {
+    const stages = pool.flatMap((i) => i.stages);
+    const inAtmosphere = stages.filter((s) => s.atmospheres.includes(req.atmosphere));
+    if (inAtmosphere.length === 0 && req.atmosphere !== "air") {
+      const offered = [...new Set(stages.flatMap((s) => s.atmospheres))];
+      needs.push(`the atmosphere ${req.atmosphere} (${offered.length ? `offered: ${offered.join(", ")}` : "no lab offers a sample stage"})`);
+    } else {
+      const reachable = req.atmosphere === "air" ? [...inAtmosphere, { minTemperatureK: AMBIENT_K[0], maxTemperatureK: AMBIENT_K[1] }] : inAtmosphere;
+      const missing = points.filter((t) => !reachable.some((s) => t >= s.minTemperatureK && t <= s.maxTemperatureK));
+      if (missing.length) {
+        const high = Math.max(...reachable.map((s) => s.maxTemperatureK));
+        const low = Math.min(...reachable.map((s) => s.minTemperatureK));
+        const offer = missing.some((t) => t > high) ? `highest offered ${high} K` : `lowest offered ${low} K`;
+        needs.push(`the temperature${missing.length > 1 ? "s" : ""} ${missing.join(", ")} K in ${req.atmosphere} (${offer})`);
+      }
+    }
+  }
+  const forms = [...new Set(req.samples.map((s) => s.form))];
+  const offeredForms = new Set(pool.flatMap((i) => (i.sampleForms.length ? i.sampleForms : ["powder"])));
+  const badForms = forms.filter((f) => !offeredForms.has(f));
+  if (badForms.length) needs.push(`the sample form ${badForms.map(labelOf).join(", ")} (offered: ${[...offeredForms].map(labelOf).join(", ")})`);
+  if (labs.every((l) => hazardReasons(req, l).some((r) => !r.ok))) {
+    const declared = [...new Set(req.samples.flatMap((s) => [...s.ghsPictograms, ...s.specialHazards.map((h) => labelOf(h.category))]))];
+    needs.push(`the declared hazards ${declared.join(", ")}`);
+  }
+  if (needs.length) return `every lab is ruled out by ${needs.join(" and by ")}`;
+  const perLab = labs.map((l) => {
+    const first = matchLab(req, l).reasons.find((r) => !r.ok);
+    return `${l.name}: ${first ? first.text.charAt(0).toLowerCase() + first.text.slice(1) : "does not fit"}`;
+  });
+  return `each lab is ruled out by a different need (${perLab.join("; ")})`;
+}

@@ -14,6 +14,8 @@ export const QUEUES = {
   reviewReminder: "review-reminder",
   /** Once a day: each digest reader's held optional notices in one e-mail. */
   dailyDigest: "daily-digest",
+  /** Every hour: open requests past their deadline expire (docs/design.md#the-requests-life). */
+  requestExpiry: "request-expiry",
 } as const;
 
 const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };

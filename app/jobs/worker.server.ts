@@ -6,6 +6,7 @@ import { runScanCheck } from "~/models/checks/scan-check.server";
 import { sendDailyDigests } from "~/models/notifications/digest.server";
 import { deliverOutboxMessage, remindReviewWindows, startOutboxDispatcher } from "~/models/notifications/delivery.server";
 import { acceptLapsedDeliveries, releasePendingPayouts } from "~/models/orders/lifecycle.server";
+import { expireOverdueRequests } from "~/models/requests/request-life.server";
 import { QUEUES } from "./queues.server";
 
 /** Registers every queue's handler and the schedules; the worker process calls this once. */
@@ -17,6 +18,11 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = config.rev
     // Payouts the provider failed to make after an acceptance are tried again on the same schedule.
     const paid = await releasePendingPayouts();
     if (paid > 0) console.log(`payouts: ${paid} delayed payouts released`);
+  });
+  await boss.schedule(QUEUES.requestExpiry, "5 * * * *");
+  await boss.work(QUEUES.requestExpiry, async () => {
+    const expired = await expireOverdueRequests();
+    if (expired > 0) console.log(`request expiry: ${expired} requests expired on their deadline`);
   });
   await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
     await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });

@@ -292,8 +292,11 @@ describe("the new-request wizard", () => {
     const after = (await load(requestId)).row;
     expect(after.state).toBe("open");
     expect(after.openedAt).toBeInstanceOf(Date);
-    // A published request is no longer edited through the wizard.
+    // An open request is edited as a new revision (tests/integration/request-life.test.ts); once a quote is
+    // accepted it is no longer edited through the wizard.
+    await db.update(schema.requests).set({ state: "awarded" }).where(eq(schema.requests.id, requestId));
     const late = await callRoute(hazardsAction, formRequest(path("hazards"), hazards(), cookie), { id: requestId });
+    await db.update(schema.requests).set({ state: "open" }).where(eq(schema.requests.id, requestId));
     expect(late.status).toBe(400);
   });
 

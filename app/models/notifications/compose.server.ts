@@ -256,6 +256,40 @@ export function messageLetter(m: {
   };
 }
 
+/** A published request the lab quoted on was changed: what changed, and that the quote waits for the lab. */
+export function requestRevisedLetter(r: { id: string; title: string; clientName: string; summary: string }): Letter {
+  return {
+    subject: `“${r.title}” was changed by the client`,
+    heading: "A request you quoted on has changed",
+    paragraphs: [
+      `${r.clientName} changed the request after your quote: ${r.summary}.`,
+      "The client cannot accept your quote until you re-confirm it for the changed request, withdraw it or send a new one.",
+    ],
+    facts: [
+      ["Request", r.title],
+      ["Client", r.clientName],
+    ],
+    nextStep: "Read the changes, then re-confirm your quote or send a new one.",
+    link: { path: `/lab/requests/${r.id}`, label: "Open the request" },
+  };
+}
+
+/** A request closed without an order: withdrawn by the client, or past its deadline. */
+export function requestClosedLetter(how: "withdrawn" | "expired", r: { id: string; title: string; clientName: string }, side: "client" | "lab"): Letter {
+  const what = how === "withdrawn" ? `${r.clientName} withdrew the request` : "The request reached its deadline without an accepted quote";
+  return {
+    subject: how === "withdrawn" ? `“${r.title}” was withdrawn` : `“${r.title}” has expired`,
+    heading: how === "withdrawn" ? "A request was withdrawn" : "A request has expired",
+    paragraphs: [`${what}. ${side === "lab" ? "Your quote on it has lapsed; nothing more is needed from your lab." : "The quotes on it have lapsed."}`],
+    facts: [
+      ["Request", r.title],
+      ["Client", r.clientName],
+    ],
+    nextStep: side === "client" ? "Use “Order again” on the request to post it anew with a later deadline." : "No action is needed.",
+    link: { path: side === "lab" ? `/lab/requests/${r.id}` : `/client/requests/${r.id}`, label: "Open the request" },
+  };
+}
+
 export function quoteReceivedLetter(q: {
   requestId: string;
   requestTitle: string;

@@ -15,6 +15,8 @@ import {
   quoteDecisionLetter,
   quoteReceivedLetter,
   requestOpenLetter,
+  requestClosedLetter,
+  requestRevisedLetter,
   type Audience,
   type OrderContext,
 } from "~/models/notifications/compose.server";
@@ -34,6 +36,8 @@ export type Milestone =
   | { kind: "quote_received"; quoteId: string }
   /** A message in a request's or an order's thread: the other side hears of it. */
   | { kind: "message_posted"; messageId: string }
+  | { kind: "request_revised"; requestId: string; summary: string; labIds: string[] }
+  | { kind: "request_closed"; requestId: string; how: "withdrawn" | "expired"; labIds: string[] }
   | { kind: "quote_decided"; acceptedQuoteId: string; orderId: string }
   | { kind: "lab_application_received"; labId: string }
   | { kind: "lab_decided"; labId: string; to: VettingState; note: string }
@@ -225,6 +229,25 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       const out: Outgoing[] = [];
       for (const labId of m.labIds)
         for (const person of await recipientsOf(tx, labId)) out.push({ kind: "request_open", person, letter, orderId: null, organisationId: labId });
+      return out;
+    }
+    case "request_revised":
+    case "request_closed": {
+      const [r] = await tx.select().from(schema.requests).where(eq(schema.requests.id, m.requestId));
+      if (!r) return [];
+      const facts = { id: r.id, title: r.title, clientName: (await orgName(tx, r.organisationId)).name };
+      const out: Outgoing[] = [];
+      const kind =
+        m.kind === "request_revised" ? ("request_revised" as const) : m.how === "withdrawn" ? ("request_withdrawn" as const) : ("request_expired" as const);
+      for (const labId of m.labIds) {
+        const letter = m.kind === "request_revised" ? requestRevisedLetter({ ...facts, summary: m.summary }) : requestClosedLetter(m.how, facts, "lab");
+        for (const person of await recipientsOf(tx, labId)) out.push({ kind, person, letter, orderId: null, organisationId: labId });
+      }
+      if (m.kind === "request_closed" && m.how === "expired") {
+        const letter = requestClosedLetter("expired", facts, "client");
+        for (const person of await recipientsOf(tx, r.organisationId, [r.createdBy]))
+          out.push({ kind, person, letter, orderId: null, organisationId: r.organisationId });
+      }
       return out;
     }
     case "quote_received": {

@@ -9,6 +9,7 @@ import { takeOrderNumber } from "~/models/orders/numbers.server";
 import { declaresHazard } from "~/domain/hazards";
 import { labelOf, sourceLabel } from "~/domain/matching";
 import type { QuoteInput } from "~/domain/quote-forms";
+import { AWAITING_RECONFIRMATION } from "~/domain/request-revisions";
 import { acknowledgementOf, isUuid } from "~/models/requests/requests.server";
 
 /** Line items a quote starts from: per sample by technique, extra temperature points, preparation, hazardous handling. */
@@ -140,6 +141,7 @@ export async function sendQuote(request: MarketRequest, labId: string, userId: s
         validUntil: endOfDay(input.validUntil),
         turnaroundDays: input.turnaroundDays,
         notes: input.notes ?? "",
+        requestRevision: request.revision,
         createdBy: userId,
       })
       .returning({ id: schema.quotes.id });
@@ -194,6 +196,7 @@ const quoteColumns = {
   validUntil: schema.quotes.validUntil,
   turnaroundDays: schema.quotes.turnaroundDays,
   notes: schema.quotes.notes,
+  requestRevision: schema.quotes.requestRevision,
   sentAt: schema.quotes.sentAt,
   instrumentName: schema.instruments.name,
   anode: schema.instruments.anode,
@@ -263,6 +266,7 @@ export async function acceptQuote(requestId: string, quoteId: string, organisati
       if (request.state !== "open") return { ok: false, error: "This request is not open, so no quote can be accepted." } as const;
       if (quote.state !== "sent") return { ok: false, error: `This quote is ${quote.state} and can no longer be accepted.` } as const;
       if (quote.validUntil < now) return { ok: false, error: "This quote's validity has passed; ask the lab for a new one." } as const;
+      if (quote.requestRevision < request.revision) return { ok: false, error: AWAITING_RECONFIRMATION } as const;
 
       await tx.update(schema.quotes).set({ state: "accepted", decidedAt: now }).where(eq(schema.quotes.id, quote.id));
       await tx

@@ -9,7 +9,8 @@ import { DOCUMENT_RULE, presignDownload, verifyStoredObject, type UploadRule } f
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
 import { parseFormula } from "~/domain/formula";
-import { inLabInbox, labsMatchingRequest } from "~/models/labs/matching.server";
+import { inLabInbox, labsMatchingRequest, loadMatchLabs, loadMatchRequest } from "~/models/labs/matching.server";
+import { matchLab, whyNoLabFits } from "~/domain/matching";
 import { declaresHazard } from "~/domain/hazards";
 import {
   acceptanceWindowOf,
@@ -140,9 +141,14 @@ const requestsPage = db
   .offset(sql.placeholder("offset"))
   .prepare("requests_page");
 
-/** A sentence when the request can no longer be changed through the wizard, else null. */
+/**
+ * A sentence when the request can no longer be changed through the wizard, else null: a draft, and an open
+ * request (no quote accepted yet; its edits make a new revision, request-life.server.ts), can be changed.
+ */
 export function notEditable(request: MarketRequest): string | null {
-  return request.state === "draft" ? null : "This request has been published; its samples and needs can no longer be changed.";
+  if (request.state === "draft" || request.state === "open") return null;
+  if (request.state === "awarded") return "A quote on this request has been accepted; it can no longer be changed. Use “Order again” for a new request.";
+  return `This request is ${request.state}; it can no longer be changed. Use “Order again” for a new request.`;
 }
 
 const stepIndex = (step: string) => WIZARD_STEPS.findIndex((s) => s.slug === step);
@@ -359,6 +365,8 @@ export function publishProblems(request: MarketRequest, samples: Sample[]): stri
 export async function publishRequest(request: MarketRequest, userId: string): Promise<{ problems: string[] }> {
   const problems = publishProblems(request, await samplesOf(request.id));
   if (problems.length) return { problems };
+  const noMatch = await noLabCanMeasure(request);
+  if (noMatch) return { problems: [noMatch] };
   const labIds = await labsToTell(request);
   const published = await db.transaction(async (tx) => {
     const rows = await tx
@@ -376,6 +384,20 @@ export async function publishRequest(request: MarketRequest, userId: string): Pr
   });
   if (!published) return { problems: ["This request has already been published."] };
   return { problems: [] };
+}
+
+/**
+ * A clear stop before publishing a request no lab can measure, naming the need that rules every lab out
+ * (docs/design.md#the-requests-life); null when at least one lab asked (every approved lab, or the invited ones) fits.
+ */
+export async function noLabCanMeasure(request: MarketRequest): Promise<string | null> {
+  const wanted = await loadMatchRequest(request.id);
+  if (!wanted) return null;
+  const invited = request.visibility === "invited" ? await invitedLabIds(request.id) : null;
+  const labs = (await loadMatchLabs()).filter((l) => !invited || invited.includes(l.id));
+  if (labs.some((l) => matchLab(wanted, l).fits)) return null;
+  const who = invited ? "None of the invited labs" : "No approved lab";
+  return `${who} can measure this: ${whyNoLabFits(wanted, labs)}. Change the measurement needs${invited ? " or invite other labs" : ""} before publishing.`;
 }
 
 /** Who hears of a newly open request: the invited labs of an invited-only request, else every matching lab. */

@@ -2,7 +2,7 @@
 import { getFormProps, getInputProps, getTextareaProps, useForm, type FieldMetadata } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useState } from "react";
-import { data, Form, redirect, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
 import { GhsIcon } from "~/components/ghs-icon";
 import { WizardSteps } from "~/components/request-parts";
@@ -12,7 +12,8 @@ import { AFTER_MEASUREMENT } from "~/domain/hazards";
 import { HazardsStepSchema, type SampleHazardForm, type SampleHazardInput } from "~/domain/request-forms";
 import { notEditable, samplesOf, saveHazards } from "~/models/requests/requests.server";
 import { requireOwnDraft } from "~/utils/permissions.server";
-import { redirectIfPublished } from "~/routes/client/request-wizard.server";
+import { saveStep } from "~/models/requests/request-life.server";
+import { redirectIfPublished, stepSaved } from "~/routes/client/request-wizard.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-hazards";
 
@@ -23,6 +24,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return {
     requestId: row.id,
     reached: row.draftStep,
+    published: row.state === "open",
     samples: samples.map((s) => ({ id: s.id, label: s.label, formula: s.formula, sdsFileName: s.sdsFileName })),
     defaults: {
       samples: samples.map((s) => ({
@@ -42,18 +44,18 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const { row } = await requireOwnDraft(request, params.id);
+  const { row, actor } = await requireOwnDraft(request, params.id);
   const submission = parseWithZod(await readForm(request), { schema: HazardsStepSchema });
   const locked = notEditable(row);
   if (locked) return data({ result: submission.reply({ formErrors: [locked] }) }, { status: 400 });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
-  const saved = await saveHazards(row, submission.value.samples);
+  const { result: saved, revision } = await saveStep(row, actor.user.id, () => saveHazards(row, submission.value.samples));
   if (saved.fieldErrors) return data({ result: submission.reply({ fieldErrors: saved.fieldErrors }) }, { status: 400 });
-  return redirect(`/client/requests/${row.id}/edit/measurement`);
+  return stepSaved(row, revision, "measurement");
 }
 
 export default function RequestHazards({ loaderData, actionData }: Route.ComponentProps) {
-  const { requestId, reached, samples, defaults } = loaderData;
+  const { requestId, reached, published, samples, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm<{ samples: SampleHazardForm[] }, { samples: SampleHazardInput[] }>({
     lastResult: actionData?.result,
@@ -75,7 +77,7 @@ export default function RequestHazards({ loaderData, actionData }: Route.Compone
         <FormError errors={form.errors} />
         <div className="flex justify-end">
           <button type="submit" className="btn-primary" disabled={navigation.state !== "idle"}>
-            Save and continue to measurement
+            {published ? "Save changes" : "Save and continue to measurement"}
           </button>
         </div>
       </Form>

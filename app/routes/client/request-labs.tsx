@@ -1,7 +1,7 @@
 // New request, step 4 (labs): which approved labs fit and why, and whether every matching lab or only invited ones may quote.
 import { getFormProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, redirect, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
 import { WizardSteps } from "~/components/request-parts";
 import { Badge, EmptyState, FieldErrors, FormError, PageHeader } from "~/components/ui";
@@ -9,7 +9,8 @@ import { matchLabsForRequest } from "~/models/labs/matching.server";
 import { LabsStepSchema } from "~/domain/request-forms";
 import { invitedLabIds, notEditable, saveVisibility } from "~/models/requests/requests.server";
 import { requireOwnDraft } from "~/utils/permissions.server";
-import { redirectIfPublished } from "~/routes/client/request-wizard.server";
+import { saveStep } from "~/models/requests/request-life.server";
+import { redirectIfPublished, stepSaved } from "~/routes/client/request-wizard.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-labs";
 import { useFormat } from "~/components/locale";
@@ -18,23 +19,31 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { row } = await requireOwnDraft(request, params.id);
   redirectIfPublished(row);
   const [matches, invited] = await Promise.all([matchLabsForRequest(row.id), invitedLabIds(row.id)]);
-  return { requestId: row.id, reached: row.draftStep, matches, defaults: { visibility: row.visibility, invitedLabIds: invited } };
+  return {
+    requestId: row.id,
+    reached: row.draftStep,
+    published: row.state === "open",
+    matches,
+    defaults: { visibility: row.visibility, invitedLabIds: invited },
+  };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const { row } = await requireOwnDraft(request, params.id);
+  const { row, actor } = await requireOwnDraft(request, params.id);
   const submission = parseWithZod(await readForm(request), { schema: LabsStepSchema });
   const locked = notEditable(row);
   if (locked) return data({ result: submission.reply({ formErrors: [locked] }) }, { status: 400 });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
-  const saved = await saveVisibility(row, submission.value.visibility, submission.value.invitedLabIds);
+  const { result: saved, revision } = await saveStep(row, actor.user.id, () =>
+    saveVisibility(row, submission.value.visibility, submission.value.invitedLabIds),
+  );
   if (saved.fieldErrors) return data({ result: submission.reply({ fieldErrors: saved.fieldErrors }) }, { status: 400 });
-  return redirect(`/client/requests/${row.id}/edit/review`);
+  return stepSaved(row, revision, "review");
 }
 
 export default function RequestLabs({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { requestId, reached, matches, defaults } = loaderData;
+  const { requestId, reached, published, matches, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     lastResult: actionData?.result,
@@ -106,7 +115,7 @@ export default function RequestLabs({ loaderData, actionData }: Route.ComponentP
         <FormError errors={form.errors} />
         <div className="flex justify-end">
           <button type="submit" className="btn-primary" disabled={navigation.state !== "idle"}>
-            Save and continue to review
+            {published ? "Save changes" : "Save and continue to review"}
           </button>
         </div>
       </Form>

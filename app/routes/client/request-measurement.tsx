@@ -1,14 +1,15 @@
 // New request, step 3 (measurement): range of interest, source, temperatures, atmosphere, quality, deadline, budget.
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, redirect, useNavigation } from "react-router";
+import { data, Form, useNavigation } from "react-router";
 import { Options, WizardSteps } from "~/components/request-parts";
 import { Field, FormError, PageHeader } from "~/components/ui";
 import { CURRENCIES, toMajorText } from "~/domain/money";
 import { ATMOSPHERES, MeasurementStepSchema, QUALITY_LEVELS, SOURCES } from "~/domain/request-forms";
 import { notEditable, saveMeasurement } from "~/models/requests/requests.server";
 import { requireOwnDraft } from "~/utils/permissions.server";
-import { redirectIfPublished } from "~/routes/client/request-wizard.server";
+import { saveStep } from "~/models/requests/request-life.server";
+import { redirectIfPublished, stepSaved } from "~/routes/client/request-wizard.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-measurement";
 
@@ -18,6 +19,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return {
     requestId: row.id,
     reached: row.draftStep,
+    published: row.state === "open",
     defaults: {
       rangeKind: row.rangeKind,
       rangeMin: row.rangeMin?.toString() ?? "10",
@@ -34,17 +36,17 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const { row } = await requireOwnDraft(request, params.id);
+  const { row, actor } = await requireOwnDraft(request, params.id);
   const submission = parseWithZod(await readForm(request), { schema: MeasurementStepSchema });
   const locked = notEditable(row);
   if (locked) return data({ result: submission.reply({ formErrors: [locked] }) }, { status: 400 });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
-  await saveMeasurement(row, submission.value);
-  return redirect(`/client/requests/${row.id}/edit/labs`);
+  const { revision } = await saveStep(row, actor.user.id, () => saveMeasurement(row, submission.value));
+  return stepSaved(row, revision, "labs");
 }
 
 export default function RequestMeasurement({ loaderData, actionData }: Route.ComponentProps) {
-  const { requestId, reached, defaults } = loaderData;
+  const { requestId, reached, published, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     lastResult: actionData?.result,
@@ -116,7 +118,7 @@ export default function RequestMeasurement({ loaderData, actionData }: Route.Com
         <FormError errors={form.errors} />
         <div className="flex justify-end">
           <button type="submit" className="btn-primary" disabled={navigation.state !== "idle"}>
-            Save and continue to labs
+            {published ? "Save changes" : "Save and continue to labs"}
           </button>
         </div>
       </Form>

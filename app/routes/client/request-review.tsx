@@ -1,9 +1,9 @@
 // New request, step 5 (review): everything at a glance, what still blocks publishing, and "Publish request".
-import { data, Form, Link, useNavigation } from "react-router";
+import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { HazardDeclaration, SampleFacts, WizardSteps } from "~/components/request-parts";
 import { FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import { labelOf } from "~/domain/matching";
-import { invitedLabIds, notEditable, publishProblems, publishRequest, samplesOf } from "~/models/requests/requests.server";
+import { invitedLabIds, noLabCanMeasure, notEditable, publishProblems, publishRequest, samplesOf } from "~/models/requests/requests.server";
 import { requireOwnDraft } from "~/utils/permissions.server";
 import { redirectIfPublished } from "~/routes/client/request-wizard.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -13,17 +13,25 @@ import { useFormat } from "~/components/locale";
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { row } = await requireOwnDraft(request, params.id);
   redirectIfPublished(row);
+  // An open request's changes are saved step by step; there is nothing to publish again.
+  if (row.state !== "draft") throw redirect(`/client/requests/${row.id}`);
   const [samples, invited] = await Promise.all([samplesOf(row.id), invitedLabIds(row.id)]);
-  return { request: row, samples, invitedCount: invited.length, problems: publishProblems(row, samples) };
+  const problems = publishProblems(row, samples);
+  // The clear stop when no lab can measure the request is shown before the client presses "Publish".
+  const noMatch = problems.length ? null : await noLabCanMeasure(row);
+  return { request: row, samples, invitedCount: invited.length, problems: noMatch ? [noMatch] : problems };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { row, actor } = await requireOwnDraft(request, params.id);
-  const locked = notEditable(row);
+  const locked = notEditable(row) ?? (row.state === "draft" ? null : "This request has already been published.");
   if (locked) return data({ errors: [locked] }, { status: 400 });
   const { problems } = await publishRequest(row, actor.user.id);
   if (problems.length) return data({ errors: problems }, { status: 400 });
-  return redirectWithToast(`/client/requests/${row.id}`, { kind: "success", message: `“${row.title}” is open; matching labs can now quote.` });
+  return redirectWithToast(`/client/requests/${row.id}`, {
+    kind: "success",
+    message: `“${row.title}” is open; ${row.visibility === "invited" ? "the invited labs" : "the labs that can measure it"} can now quote.`,
+  });
 }
 
 export default function RequestReview({ loaderData, actionData }: Route.ComponentProps) {

@@ -20,7 +20,8 @@ import {
   type SamplesStep,
 } from "~/domain/request-forms";
 import { createDraft, notEditable, samplesOf, saveSamples } from "~/models/requests/requests.server";
-import { redirectIfPublished } from "~/routes/client/request-wizard.server";
+import { saveStep } from "~/models/requests/request-life.server";
+import { redirectIfPublished, stepSaved } from "~/routes/client/request-wizard.server";
 import { requireOrgRole, requireOwnDraft } from "~/utils/permissions.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-samples";
@@ -55,6 +56,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     return {
       requestId: null,
       reached: "samples",
+      published: false,
       defaults: { title: "", technique: "powder_reflection", samples: [EMPTY_SAMPLE] as SampleDefaults[] },
     };
   }
@@ -64,6 +66,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return {
     requestId: row.id,
     reached: row.draftStep,
+    published: row.state === "open",
     defaults: {
       title: row.title,
       technique: row.technique,
@@ -101,17 +104,17 @@ export async function action({ request, params }: Route.ActionArgs) {
     const created = await createDraft(membership.organisation.id, user.id, submission.value);
     return redirect(`/client/requests/${created.id}/edit/hazards`);
   }
-  const { row } = await requireOwnDraft(request, params.id);
+  const { row, actor } = await requireOwnDraft(request, params.id);
   const locked = notEditable(row);
   if (locked) return data({ result: submission.reply({ formErrors: [locked] }) }, { status: 400 });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: submission.status === "error" ? 400 : 200 });
-  const saved = await saveSamples(row, submission.value);
+  const { result: saved, revision } = await saveStep(row, actor.user.id, () => saveSamples(row, submission.value));
   if (saved.fieldErrors) return data({ result: submission.reply({ fieldErrors: saved.fieldErrors }) }, { status: 400 });
-  return redirect(`/client/requests/${row.id}/edit/hazards`);
+  return stepSaved(row, revision, "hazards");
 }
 
 export default function RequestSamples({ loaderData, actionData }: Route.ComponentProps) {
-  const { requestId, reached, defaults } = loaderData;
+  const { requestId, reached, published, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm<SamplesStep>({
     lastResult: actionData?.result,
@@ -146,7 +149,7 @@ export default function RequestSamples({ loaderData, actionData }: Route.Compone
         <FormError errors={form.errors} />
         <div className="flex justify-end">
           <button type="submit" className="btn-primary" disabled={navigation.state !== "idle"}>
-            Save and continue to hazards
+            {published ? "Save changes" : "Save and continue to hazards"}
           </button>
         </div>
       </Form>

@@ -8,6 +8,9 @@ import { Badge, EmptyState, FormError, PageHeader, SafetyNotice } from "~/compon
 import { matchLabsForRequest, quoteJudgementsForRequest } from "~/models/labs/matching.server";
 import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/requests/quotes.server";
 import { samplesOf, sdsLinks } from "~/models/requests/requests.server";
+import { repeatRequest, revisionsOf, withdrawRequest } from "~/models/requests/request-life.server";
+import { RequestNeeds, RevisionList } from "~/components/request-needs";
+import { AWAITING_RECONFIRMATION } from "~/domain/request-revisions";
 import { requireOrgRole, requireOwnRequest } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
@@ -19,26 +22,44 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const row = await requireOwnRequest(params.id, membership.organisation.id);
   if (row.state === "draft") throw redirect(`/client/requests/${row.id}/edit/${row.draftStep}`);
   // Each quote card is judged by the instrument the quote names; the labs' matches judge each lab as a whole.
-  const [samples, quotes, matches, judgements, order] = await Promise.all([
+  const [samples, quotes, matches, judgements, order, revisions] = await Promise.all([
     samplesOf(row.id),
     quotesForRequest(row.id),
     matchLabsForRequest(row.id),
     quoteJudgementsForRequest(row.id),
     orderForRequest(row.id),
+    revisionsOf(row.id),
   ]);
   // One conversation per lab: the lab chosen with ?lab=<slug>, else the one with unread messages, else the latest.
   const threads = await requestThreadsOfClient(row.id, user.id, membership.organisation.id);
   const chosen = new URL(request.url).searchParams.get("lab") ?? (threads.find((t) => t.unread > 0) ?? threads.find((t) => t.messages > 0))?.slug ?? null;
   const found = chosen ? await requestThreadForClient(row.id, membership.organisation.id, chosen) : null;
   const conversation = found ? { lab: found.lab, ...(await viewThread(user.id, membership.organisation.id, found.thread)) } : null;
-  return { request: row, samples, quotes, matches, judgements, order, sds: await sdsLinks(samples), threads, conversation };
+  return { request: row, samples, quotes, matches, judgements, order, revisions, sds: await sdsLinks(samples), threads, conversation };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { user, membership } = await requireOrgRole(request, "client");
   const row = await requireOwnRequest(params.id, membership.organisation.id);
   const form = await readForm(request);
-  if (form.get("intent") !== "accept") return data({ error: "Choose what to do." }, { status: 400 });
+  const intent = form.get("intent");
+  if (intent === "withdraw") {
+    const done = await withdrawRequest(row, user.id);
+    if (done.error) return data({ error: done.error }, { status: 400 });
+    return redirectWithToast(`/client/requests/${row.id}`, {
+      kind: "success",
+      message: "Request withdrawn. Its quotes have lapsed and the labs that quoted have been told.",
+    });
+  }
+  if (intent === "repeat") {
+    const copy = await repeatRequest(row, user.id);
+    if ("error" in copy) return data({ error: copy.error }, { status: 400 });
+    return redirectWithToast(`/client/requests/${copy.id}/edit/samples`, {
+      kind: "success",
+      message: "A new draft with the same samples and needs. Check each step and set a new deadline before publishing.",
+    });
+  }
+  if (intent !== "accept") return data({ error: "Choose what to do." }, { status: 400 });
   const result = await acceptQuote(row.id, String(form.get("quoteId") ?? ""), membership.organisation.id, user.id);
   if (!result.ok) return data({ error: result.error }, { status: 400 });
   // Accepting leads straight to the order, where the client pays into holding.
@@ -50,7 +71,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientRequest({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, samples, quotes, judgements, order, sds, threads, conversation } = loaderData;
+  const { request: r, samples, quotes, judgements, order, revisions, sds, threads, conversation } = loaderData;
   const slugOf = new Map(threads.map((t) => [t.labId, t.slug]));
   const navigation = useNavigation();
   const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
@@ -66,11 +87,57 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
           </span>
         }
         actions={
-          <Link to="/client/requests" className="btn-secondary">
-            All requests
-          </Link>
+          <span className="flex flex-wrap items-center gap-2">
+            <Link to="/client/requests" className="btn-secondary">
+              All requests
+            </Link>
+            <Form method="post">
+              <input type="hidden" name="intent" value="repeat" />
+              <button type="submit" className="btn-secondary" disabled={navigation.state !== "idle"}>
+                Order again
+              </button>
+            </Form>
+            {r.state === "open" ? (
+              <Form
+                method="post"
+                onSubmit={(e) => {
+                  if (!confirm("Withdraw this request? Every quote on it lapses and the labs that quoted are told.")) e.preventDefault();
+                }}
+              >
+                <input type="hidden" name="intent" value="withdraw" />
+                <button type="submit" className="btn-secondary" disabled={navigation.state !== "idle"}>
+                  Withdraw request
+                </button>
+              </Form>
+            ) : null}
+          </span>
         }
       />
+      {r.closedAt ? (
+        <p className="card mb-4 text-sm" role="note">
+          {`${r.state === "withdrawn" ? "You withdrew this request" : "This request expired on its deadline without an accepted quote"} on ${fmt.date(r.closedAt)}; its quotes have lapsed. Use “Order again” to post it anew.`}
+        </p>
+      ) : null}
+      <RequestNeeds request={r}>
+        {r.state === "open" ? (
+          <nav aria-label="Edit the request" className="mt-3 flex flex-wrap gap-3 text-sm">
+            <span className="text-ink-600">Edit (labs that quoted are told what changed):</span>
+            <Link to={`/client/requests/${r.id}/edit/samples`} className="text-beam-700 underline">
+              Samples
+            </Link>
+            <Link to={`/client/requests/${r.id}/edit/hazards`} className="text-beam-700 underline">
+              Hazards
+            </Link>
+            <Link to={`/client/requests/${r.id}/edit/measurement`} className="text-beam-700 underline">
+              Measurement needs
+            </Link>
+            <Link to={`/client/requests/${r.id}/edit/labs`} className="text-beam-700 underline">
+              Who may quote
+            </Link>
+          </nav>
+        ) : null}
+      </RequestNeeds>
+      <RevisionList revisions={revisions} />
       {order ? (
         <section className="card mb-6" aria-label="Order">
           <div className="flex flex-wrap items-center justify-between gap-3">
@@ -104,12 +171,18 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
         <section className="grid gap-4 md:grid-cols-2 xl:grid-cols-3" aria-label="Quotes side by side">
           {live.map((q) => {
             const judged = judgements[q.id];
+            const awaiting = q.state === "sent" && q.requestRevision < r.revision;
             return (
               <article key={q.id} className={`card flex flex-col ${q.state === "accepted" ? "border-ok-600" : ""}`} aria-label={`Quote from ${q.labName}`}>
                 <div className="flex items-start justify-between gap-2">
                   <h3 className="font-semibold">{q.labName}</h3>
                   <QuoteStateBadge state={q.state} />
                 </div>
+                {awaiting ? (
+                  <p className="mt-2 rounded border border-caution-600 bg-caution-50 p-2 text-sm text-caution-700" role="note">
+                    <strong>Awaiting the lab's re-confirmation</strong> (quoted on revision {q.requestRevision}). {AWAITING_RECONFIRMATION}
+                  </p>
+                ) : null}
                 <p className="mt-2 text-2xl font-bold">{fmt.money(q.totalMinor, q.currency)}</p>
                 <dl className="mt-2 grid grid-cols-[auto_1fr] gap-x-3 gap-y-0.5 text-sm">
                   <dt className="text-ink-500">Turnaround</dt>
@@ -140,7 +213,7 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
                     Messages with {q.labName}
                   </Link>
                 ) : null}
-                {r.state === "open" && q.state === "sent" ? (
+                {r.state === "open" && q.state === "sent" && !awaiting ? (
                   <Form method="post" className="mt-auto pt-4">
                     <input type="hidden" name="intent" value="accept" />
                     <input type="hidden" name="quoteId" value={q.id} />

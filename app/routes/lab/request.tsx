@@ -14,6 +14,8 @@ import { toMajorText, toMinorUnits } from "~/domain/money";
 import { QuoteSchema } from "~/domain/quote-forms";
 import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, sendQuote, vettingStateOf, withdrawQuote } from "~/models/requests/quotes.server";
 import { acknowledgeHazards, acknowledgementOf, samplesOf, sdsLinks } from "~/models/requests/requests.server";
+import { reconfirmQuote, revisionsOf } from "~/models/requests/request-life.server";
+import { RequestNeeds, RevisionList } from "~/components/request-needs";
 import { forbidden, requireLabQuote, requireOrgRole, requireRequestForLab } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
@@ -28,7 +30,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const labId = membership.organisation.id;
   const row = await requireRequestForLab(params.id, labId);
   const thread = await requestThreadForLab(row.id, labId);
-  const [samples, acknowledgement, vetting, prices, instruments, ownQuotes, client, matchRequest, [lab]] = await Promise.all([
+  const [samples, acknowledgement, vetting, prices, instruments, ownQuotes, client, matchRequest, [lab], revisions] = await Promise.all([
     samplesOf(row.id),
     acknowledgementOf(row.id, labId),
     vettingStateOf(labId),
@@ -38,6 +40,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     organisationNameOf(row.organisationId),
     loadMatchRequest(row.id),
     loadMatchLabs([labId]),
+    revisionsOf(row.id),
   ]);
   const match = matchRequest && lab ? matchLab(matchRequest, lab) : null;
   const quotes = ownQuotes.filter((q) => q.requestId === row.id);
@@ -53,6 +56,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     canQuote: membership.role === "manager",
     match,
     quotes,
+    revisions,
     instruments: instruments.map((i) => ({ id: i.id, label: `${i.name} (${sourceLabel(i)})` })),
     currency: prices?.currency ?? row.currency,
     defaults: {
@@ -80,6 +84,15 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
   // A quote commits the lab to a price, like the price list only its managers may change; any staff acknowledges.
   if (membership.role !== "manager") forbidden("Only the lab's managers send and withdraw quotes.");
+  if (intent === "reconfirm") {
+    const quote = await requireLabQuote(String(formData.get("quoteId") ?? ""), labId);
+    const done = await reconfirmQuote(quote.id, labId, user.id);
+    if (done.error) return data({ error: done.error }, { status: 400 });
+    return redirectWithToast(`/lab/requests/${row.id}`, {
+      kind: "success",
+      message: "Quote re-confirmed for the changed request; the client can accept it again.",
+    });
+  }
   if (intent === "withdraw") {
     const quote = await requireLabQuote(String(formData.get("quoteId") ?? ""), labId);
     const done = await withdrawQuote(quote.id, labId, user.id);
@@ -97,23 +110,45 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function LabRequest({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, client, samples, sds, acknowledgement, approved, canQuote, match, quotes } = loaderData;
+  const { request: r, client, samples, sds, acknowledgement, approved, canQuote, match, quotes, revisions } = loaderData;
   const navigation = useNavigation();
   const live = quotes.find((q) => q.state === "sent" || q.state === "accepted");
-  const range = r.rangeMin === null ? "—" : `${r.rangeMin}–${r.rangeMax} ${r.rangeKind === "d_spacing" ? "Å (d-spacing)" : "° 2θ"}`;
+  const stale = live?.state === "sent" && live.requestRevision < r.revision ? live : null;
   return (
     <div>
       <PageHeader
         title={r.title}
         subtitle={`${client} · ${labelOf(r.technique)} · ${samples.length} sample${samples.length === 1 ? "" : "s"}${r.deadline ? ` · deadline ${fmt.date(r.deadline)}` : ""}`}
       />
-      <section className="card mb-4 text-sm" aria-label="Measurement needs">
-        <p>
-          Range {range}; source {r.preferredSource === "any" ? "any" : `${r.preferredSource} Kα`};{" "}
-          {r.temperaturePointsK.length ? `${r.temperaturePointsK.join(", ")} K` : "room temperature"} in {r.atmosphere}; {r.quality.replace(/_/g, " ")} quality.
+      {r.state !== "open" ? (
+        <p className="card mb-4 text-sm" role="note">
+          This request is {r.state}
+          {r.closedAt ? ` since ${fmt.date(r.closedAt)}` : ""}; it takes no more quotes.
         </p>
-        {match ? <MatchReasons reasons={match.reasons} warnings={match.warnings} /> : null}
-      </section>
+      ) : null}
+      {stale ? (
+        <section className="card mb-4 border-caution-600 text-sm" aria-label="Changed since your quote">
+          <h2 className="text-lg font-semibold">The client changed the request after your quote</h2>
+          <p className="mt-1 text-ink-700">
+            Your quote answers revision {stale.requestRevision}; the request is now at revision {r.revision}. The client cannot accept it until you re-confirm
+            it for the changes below, or withdraw it and send a new one.
+          </p>
+          <RevisionList revisions={revisions} since={stale.requestRevision} />
+          {canQuote ? (
+            <Form method="post">
+              <input type="hidden" name="intent" value="reconfirm" />
+              <input type="hidden" name="quoteId" value={stale.id} />
+              <SubmitButton className="btn-primary" match={{ intent: "reconfirm", quoteId: stale.id }} pendingText="Re-confirming…">
+                Re-confirm quote
+              </SubmitButton>
+            </Form>
+          ) : (
+            <p className="text-ink-600">A manager of your lab re-confirms or withdraws quotes.</p>
+          )}
+        </section>
+      ) : null}
+      <RequestNeeds request={r}>{match ? <MatchReasons reasons={match.reasons} warnings={match.warnings} /> : null}</RequestNeeds>
+      {stale ? null : <RevisionList revisions={revisions} />}
 
       <h2 className="mb-3 text-lg font-semibold">Hazard declaration</h2>
       <SafetyNotice className="mb-4" />
