@@ -31,6 +31,8 @@ export interface FileRow {
   uploader: string | null;
   uploadedAt: string;
   deletedAt?: string | null;
+  /** Archived from the client's view (shown under "Show archived"). */
+  archivedAt?: string | null;
   check: FileCheck | null;
   /** A read scan: its format and what it states (absent for other kinds and scans stored before reading). */
   scanFormat?: string | null;

@@ -730,7 +730,9 @@ async function runOrder(spec: ScenarioRequest, orderId: string, client: { id: st
   const manager = await person(people.manager);
   const operator = await person(people.operator);
   await payOrder(orderId, client);
-  const [carrier, tracking] = spec.shipping ?? ["Nordlys Freight", `NF-${orderId.slice(0, 6)}`];
+  // An invented carrier's number made from the order's number, never from its id.
+  const [{ number }] = await db.select({ number: schema.orders.number }).from(schema.orders).where(eq(schema.orders.id, orderId));
+  const [carrier, tracking] = spec.shipping ?? ["Nordlys Freight", `NF-${number.replace(/\D/g, "")}`];
   await markShipped(orderId, client.id, carrier, tracking);
   if (spec.end === "samples_in_transit") return;
   if (spec.end === "refused_on_arrival") {

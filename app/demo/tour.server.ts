@@ -43,6 +43,7 @@ export async function demoTour(base: string) {
     `  a declared Li3PO4 residue beside the olivine, both phases in its check: ${u(`/client/orders/${await orderId("Olivine with Li3PO4 residue in LFP batch HC-2681")}`)}  (check ${u(`/checks/${await checkId("HC-2681-A_Co_15-110.xy")}`)})`,
     `  a lot outside its ± 0.002 Å acceptance window: ${u(`/client/orders/${await orderId("Acceptance test of LFP production lot HC-2693")}`)}  (check ${u(`/checks/${await checkId("HC-2693-1_Co_15-110.xy")}`)})`,
     `  a request's life — edited after Granite Ridge quoted (its quote awaits re-confirmation): ${u(`/client/requests/${life.edited}`)}; withdrawn, with “Order again”: ${u(`/client/requests/${life.withdrawn}`)}; expired by the job: ${u(`/client/requests/${life.expired}`)}`,
+    `  delivered data cannot be deleted for five years: an archived scan, brought back under "Show archived": ${u(`/client/data-room/${await orderId("Lattice check of LFP reference lot HC-2398")}?archived=1`)}`,
     "owner@pinecrest.example — Amara, client owner (member@pinecrest.example is a member; consultant@fieldnotes.example manages for both clients)",
     `  nanomaterial and toxic samples with their safety data sheets, in transit: ${u(`/client/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  refused on arrival, with the lab's reason and the refund: ${u(`/client/orders/${await orderId("Capillary series of solvate PSF-127")}`)}; inconsistent check of the resolved dispute: ${u(`/checks/${await checkId("PSF-118-B_Cu_5-60.xy")}`)}`,
@@ -57,6 +58,7 @@ export async function demoTour(base: string) {
     "admin@diffractory.example — platform admin; the sign-in code: npx tsx scripts/demo-code.ts",
     `  Meridian's application with its calibration check: ${u(`/admin/labs/${meridian?.id ?? ""}`)}; disputes (one open, one resolved): ${u("/admin/disputes")}`,
     `  the open dispute with both statements, the lab's evidence, the files with their checks and plots (each read audit-logged): ${u(`/admin/disputes/${await orderId("Impurity check of NMC lot HC-2655")}`)}`,
+    `  audit log in sentences, filtered by kind (files, money, disputes…) and person: ${u("/admin/audit-log?kind=files")}; sign-ins apart: ${u("/admin/audit-log?kind=sign_ins")}`,
     `  ledger: ${u("/admin/ledger")}; audit log: ${u("/admin/audit-log")}; outbox: ${u("/admin/outbox")}; e-mail sent: ${u("/dev/mail")} (raw: http://127.0.0.1:54331/_fake/messages)`,
   ];
   return lines.join("\n");

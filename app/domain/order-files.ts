@@ -41,6 +41,23 @@ export const UPLOAD_ORDER_STATES: OrderState[] = ["samples_received", "measuring
 /** How long delivered files are kept after the order, deleted or not (README, "Data retention"). */
 export const RETENTION_YEARS = 5;
 
+/** The day a delivered file's retention period ends: RETENTION_YEARS after it was stored (docs/design.md#records-that-hold). */
+export function retentionEndsAt(file: { storedAt: Date | null; createdAt: Date }): Date {
+  const end = new Date(file.storedAt ?? file.createdAt);
+  end.setUTCFullYear(end.getUTCFullYear() + RETENTION_YEARS);
+  return end;
+}
+
+/**
+ * Why a client may not delete a delivered file yet, or null once its retention period is over. Within the period
+ * the raw data holds as delivered; the client archives it from view instead.
+ */
+export function deletionRefusal(file: { storedAt: Date | null; createdAt: Date }, now = new Date()): string | null {
+  const end = retentionEndsAt(file);
+  if (now >= end) return null;
+  return `Delivered data is kept for ${RETENTION_YEARS} years and cannot be deleted before ${end.toISOString().slice(0, 10)}; archive the file to hide it from view.`;
+}
+
 /** The longest a share link may stay valid (days). */
 export const SHARE_LINK_MAX_DAYS = 90;
 

@@ -15,7 +15,8 @@ import { labQuoteOf } from "~/models/requests/quotes.server";
 import { ownRequestOf, requestVisibleToLab } from "~/models/requests/requests.server";
 import { hitRateLimit, rateLimitedResponse } from "./rate-limit.server";
 import { oncePerRequest } from "./request-scope.server";
-import { getSession } from "./session.server";
+import { getSession, setActiveOrganisation } from "./session.server";
+import { redirectWithToast } from "./toast.server";
 
 const isApiRequest = (request: Request) => new URL(request.url).pathname.startsWith("/api/");
 
@@ -140,6 +141,32 @@ export async function requireWorkspace(request: Request) {
   return { kind, actor, ...WORKSPACES[kind] };
 }
 
+// ───────────── Links into another of one's organisations ─────────────
+
+/**
+ * A person in several organisations who opens a link (an e-mail, a notice) to an order or request of another of
+ * their organisations: on a page load, the session switches there and the same page loads again with "Switched to
+ * <organisation>". Only a member of the owning organisation (with one of `roles`, when given) is switched; anyone
+ * else, an action and an API call fall through to the caller's 404.
+ */
+async function switchToOwner(
+  request: Request,
+  actor: Actor & { membership?: Actor["memberships"][number] },
+  kind: OrganisationKind,
+  owns: (organisationId: string) => Promise<boolean>,
+  roles?: MembershipRole[],
+) {
+  if (request.method !== "GET" || isApiRequest(request)) return;
+  const current = actor.membership?.organisation.id ?? actor.active?.organisation.id;
+  for (const m of actor.memberships) {
+    if (m.organisation.kind !== kind || m.organisation.id === current || (roles && !roles.includes(m.role))) continue;
+    if (!(await owns(m.organisation.id))) continue;
+    await setActiveOrganisation(request, m.organisation.id);
+    const url = new URL(request.url);
+    throw await redirectWithToast(url.pathname + url.search, { kind: "info", message: `Switched to ${m.organisation.name}.` });
+  }
+}
+
 // ───────────── Orders and their checks ─────────────
 
 /**
@@ -157,6 +184,7 @@ export async function requireOrderSide(
   const actor = await requireOrgRole(request, side, roles);
   const found = await orderForOrganisation(orderId, actor.membership.organisation.id);
   if (found?.side !== side) {
+    await switchToOwner(request, actor, side, async (id) => (await orderForOrganisation(orderId, id))?.side === side, roles);
     if (jsonNotFound) throw Response.json({ error: jsonNotFound }, { status: 404 });
     notFound(side === "client" ? "No such order in your organisation." : "No such order for your lab.");
   }
@@ -253,10 +281,16 @@ export async function requireFileDownload(request: Request, fileId: string, clie
 
 // ───────────── Requests ─────────────
 
-/** The organisation's own request; another organisation's, and an id that is no request, are the same 404. */
-export async function requireOwnRequest(requestId: string | undefined, organisationId: string) {
+/**
+ * The organisation's own request; another organisation's, and an id that is no request, are the same 404. With
+ * `follow` (a page's loader), a request of another of the person's client organisations switches there first.
+ */
+export async function requireOwnRequest(requestId: string | undefined, organisationId: string, follow?: { request: Request; actor: Actor }) {
   const row = await ownRequestOf(requestId, organisationId);
-  if (!row) notFound("No such request in your organisation.");
+  if (!row) {
+    if (follow) await switchToOwner(follow.request, follow.actor, "client", async (id) => !!(await ownRequestOf(requestId, id)));
+    notFound("No such request in your organisation.");
+  }
   return row;
 }
 
@@ -264,9 +298,12 @@ export async function requireOwnRequest(requestId: string | undefined, organisat
  * A request the lab may see (open to it, or one it has quoted on); anything else is the same 404, so a lab
  * cannot tell another's invitation from a missing request.
  */
-export async function requireRequestForLab(requestId: string | undefined, labId: string) {
+export async function requireRequestForLab(requestId: string | undefined, labId: string, follow?: { request: Request; actor: Actor }) {
   const row = await requestVisibleToLab(requestId, labId);
-  if (!row) notFound("No such request.");
+  if (!row) {
+    if (follow) await switchToOwner(follow.request, follow.actor, "lab", async (id) => !!(await requestVisibleToLab(requestId, id)));
+    notFound("No such request.");
+  }
   return row;
 }
 

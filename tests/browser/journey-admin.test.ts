@@ -251,7 +251,7 @@ describe("admin journey", () => {
       .readFileSync((await download.path())!, "utf8")
       .trim()
       .split("\r\n");
-    expect(csv[0]).toBe("transaction_id,created_at,kind,order_id,account,amount_minor,currency,provider_object_id,memo");
+    expect(csv[0]).toBe("transaction_id,created_at,kind,order_id,account,amount_minor,currency,provider_object_id,memo,order_number");
     const rows = csv.slice(1).map((l) => l.split(","));
     expect(rows.length).toBeGreaterThan(0);
     expect(rows.every((r) => r[2] === "payout" && r[6] === "EUR")).toBe(true);
@@ -262,10 +262,15 @@ describe("admin journey", () => {
   it("finds the dispute decision and the vetting decision in the audit log", async () => {
     const { page } = admin;
     await navigate(page, "Audit log", "Audit log");
-    const resolved = page.getByRole("row").filter({ hasText: "dispute_resolved" }).filter({ hasText: ADMIN }).first();
+    // Each entry reads as a sentence, the amounts as money (docs/design.md#records-that-hold).
+    const resolved = page.getByRole("row").filter({ hasText: "resolved the dispute on order" }).filter({ hasText: ADMIN }).first();
     await resolved.waitFor();
-    await resolved.getByText(new RegExp(`refund ${(refundMinor / 100).toFixed(2)}`)).waitFor();
-    const approved = page.getByRole("row").filter({ hasText: "lab_approved" }).filter({ hasText: APPLICANT.labName }).first();
+    const refundMoney = (refundMinor / 100).toLocaleString("en", { minimumFractionDigits: 2, maximumFractionDigits: 2 });
+    await resolved.getByText(new RegExp(`refund [^0-9\\s]*${refundMoney.replace(/[.,]/g, "\\$&")}`)).waitFor();
+    const approved = page
+      .getByRole("row")
+      .filter({ hasText: `approved ${APPLICANT.labName}` })
+      .first();
     await approved.waitFor();
     await approved.getByText(/Accreditation current/).waitFor();
     await checkAccessibility(page, "admin-audit-log");

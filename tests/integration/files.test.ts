@@ -192,7 +192,22 @@ describe("uploads straight to storage", () => {
     expect(log).toHaveLength(2);
     expect(log[0]).toMatchObject({ fileName: "lot7.xy", person: expect.any(String) });
 
-    // The client owner deletes v1: it leaves the data room, the bytes stay.
+    // Within the retention period the owner's deletion is refused with a sentence (docs/design.md#records-that-hold).
+    const early = await callRoute(
+      app.dataRoomOrder.action,
+      formRequest(`/client/data-room/${orderId}`, { intent: "delete", fileId: a.started.fileId }, owner),
+      {
+        orderId,
+      },
+    );
+    expect(early.status).toBe(400);
+    expect(JSON.stringify(early.body)).toContain("cannot be deleted before");
+    expect((await fileRow(a.started.fileId)).deletedAt).toBeNull();
+    // Once the period is over (stored six years ago), the owner deletes v1: it leaves the data room, the bytes stay.
+    await w.db
+      .update(w.schema.orderFiles)
+      .set({ storedAt: new Date(Date.now() - 6 * 365.25 * 86_400_000) })
+      .where(w.eq(w.schema.orderFiles.id, a.started.fileId));
     const del = await callRoute(app.dataRoomOrder.action, formRequest(`/client/data-room/${orderId}`, { intent: "delete", fileId: a.started.fileId }, owner), {
       orderId,
     });

@@ -1,9 +1,11 @@
 // What people read after the demo is seeded as `npm run demo` seeds it (the harness of demo-scenario.test.ts: a
 // payment fake of the file's own, the demo, its money orders and three scenario requests delivered with checked
 // scans): no e-mail, in-app notice or timeline note shows an amount in minor units or names an order by a piece
-// of its id; every letter about an order names it by its number (docs/design.md#order-numbers).
+// of its id; every letter about an order names it by its number (docs/design.md#order-numbers); the main API's JSON
+// gives each amount as money beside its minor units and each order its number (docs/design.md#records-that-hold).
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { type PaymentFake, startPaymentFake } from "../../services/payment-fake/index";
+import { callRoute, getRequest, sessionCookies } from "./route-call";
 
 const SCENARIO_TITLES = [
   "Olivine with Li3PO4 residue in LFP batch HC-2681",
@@ -89,5 +91,52 @@ describe("texts people read after the demo seed", () => {
       /^Paid to the lab: [€$£]\d[\d,]*\.\d\d after the platform fee of [€$£]\d[\d,]*\.\d\d\.$/,
     );
     expect(notes.find((n) => n.startsWith("Refund "))).toMatch(/^Refund [€$£]\d[\d,]*\.\d\d, payout [€$£]\d[\d,]*\.\d\d, platform fee [€$£]\d[\d,]*\.\d\d\. /);
+  });
+
+  it("the main API's JSON gives amounts as money beside their minor units and names orders by number", async () => {
+    const as = sessionCookies();
+    const api = {
+      orders: (await import("~/routes/api/orders")).loader,
+      order: (await import("~/routes/api/order")).loader,
+      notifications: (await import("~/routes/api/notifications")).loader,
+      files: (await import("~/routes/api/order-files")).loader,
+    };
+    const fragments = await idFragments();
+    /** Every object in a JSON answer, walked depth first. */
+    const objects = (v: unknown): Record<string, unknown>[] =>
+      Array.isArray(v) ? v.flatMap(objects) : v && typeof v === "object" ? [v as Record<string, unknown>, ...Object.values(v).flatMap(objects)] : [];
+    const strings = (v: unknown): string[] =>
+      typeof v === "string" ? [v] : Array.isArray(v) ? v.flatMap(strings) : v && typeof v === "object" ? Object.values(v).flatMap(strings) : [];
+    const judge = (where: string, body: unknown) => {
+      for (const o of objects(body)) {
+        for (const [k, v] of Object.entries(o)) {
+          // An amount in minor units comes with its money text under the same name without "Minor" (common practice).
+          if (k.endsWith("Minor") && typeof v === "number") expect(typeof o[k.replace(/Minor$/, "")], `${where}: ${k} without its money form`).toBe("string");
+        }
+        if (typeof o.id === "string" && fragments.some((f) => f.id === o.id)) expect(o.number, `${where}: an order without its number`).toMatch(ORDER_NUMBER);
+      }
+      for (const text of strings(body)) {
+        expect(text, where).not.toMatch(/minor units?/i);
+        for (const f of fragments) expect(withoutLinks(text).includes(f.fragment), `${where}: ${text}`).toBe(false);
+      }
+    };
+    let orders = 0;
+    for (const email of ["owner@halvorsen.example", "owner@pinecrest.example", "lab@graniteridge.example"]) {
+      const cookie = await as(email);
+      const list = await callRoute(api.orders, getRequest("/api/orders", cookie));
+      expect(list.status, email).toBe(200);
+      judge(`${email} /api/orders`, list.body);
+      const rows = (list.body as { orders: { id: string }[] }).orders;
+      orders += rows.length;
+      for (const { id } of rows.slice(0, 6)) {
+        const one = await callRoute(api.order, getRequest(`/api/orders/${id}`, cookie), { id });
+        expect(one.status).toBe(200);
+        expect(one.body).toMatchObject({ number: expect.stringMatching(ORDER_NUMBER), amount: expect.stringMatching(/\d\.\d\d/) });
+        judge(`${email} /api/orders/${id}`, one.body);
+        judge(`${email} /api/orders/${id}/files`, (await callRoute(api.files, getRequest(`/api/orders/${id}/files`, cookie), { id })).body);
+      }
+      judge(`${email} /api/notifications`, (await callRoute(api.notifications, getRequest("/api/notifications", cookie))).body);
+    }
+    expect(orders).toBeGreaterThan(5);
   });
 });

@@ -143,7 +143,8 @@ describe("the bell of a person in two organisations", () => {
     const after = (await callRoute(bellApi.loader, getRequest("/api/notifications", inHalvorsen))).body as Bell;
     expect(after.elsewhere[0]?.unread).toBe(pinecrestUnread.length);
 
-    // Pinecrest's notice leads to Pinecrest's request: in Halvorsen that page is a 404.
+    // Pinecrest's notice leads to Pinecrest's request: opened while in Halvorsen (as from an e-mail), the page load
+    // switches to Pinecrest and loads again with "Switched to …" (docs/design.md#records-that-hold).
     const [notice] = await db
       .select()
       .from(schema.notifications)
@@ -155,7 +156,13 @@ describe("the bell of a person in two organisations", () => {
         ),
       );
     expect(notice).toBeDefined();
-    expect((await callRoute(clientRequestLoader, getRequest(notice.href, inHalvorsen), { id: b.request.id })).status).toBe(404);
+    const opened = await callRoute(clientRequestLoader, getRequest(notice.href, inHalvorsen), { id: b.request.id });
+    expect(opened.status).toBe(302);
+    expect(opened.headers.get("location")).toBe(notice.href);
+    // Back to Halvorsen, to follow the notice itself from there.
+    expect((await callRoute(switchAction, formRequest("/switch-organisation", { organisationId: orgs.halvorsen.id }, inHalvorsen))).status).toBe(302);
+    const inBell = (await callRoute(bellApi.loader, getRequest("/api/notifications", inHalvorsen))).body as Bell;
+    expect(inBell.elsewhere[0]?.unread).toBe(pinecrestUnread.length);
 
     // Following it switches first: the answer goes to the notice's page, marks it read, and the page opens.
     const followed = await callRoute(

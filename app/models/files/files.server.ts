@@ -1,5 +1,5 @@
 // An order's delivered files: uploads straight to storage (one PUT or presigned parts), verification of the
-// stored bytes, versions, downloads with an access log, and soft deletion.
+// stored bytes, versions, downloads with an access log, soft deletion after the retention period, and archiving from the client's view.
 import { isUuid } from "~/domain/ids";
 import {
   AbortMultipartUploadCommand,
@@ -32,6 +32,7 @@ import { radiationOf, readScanFile } from "~/domain/lattice-check";
 import { chooseRadiation, type ScanInfo } from "~/domain/measurement";
 import {
   DOWNLOAD_URL_SECONDS,
+  deletionRefusal,
   FILE_KINDS,
   MAX_FILE_BYTES,
   PART_BYTES,
@@ -339,14 +340,21 @@ async function quotedInstrumentOfOrder(orderId: string) {
 }
 
 /**
- * The order's files with uploader, sample and check; `client` sees stored, undeleted files only. A scan that has
+ * The order's files with uploader, sample and check; `client` sees stored, undeleted files only, archived ones
+ * only with `archived`. A scan that has
  * been read carries what it states, and (for the lab) the sentence when its radiation differs from the quote's instrument.
  */
-export async function orderFileList(orderId: string, { side }: { side: "client" | "lab" | "shared" }) {
+export async function orderFileList(orderId: string, { side, archived = false }: { side: "client" | "lab" | "shared"; archived?: boolean }) {
   const visible =
     side === "lab"
       ? eq(schema.orderFiles.orderId, orderId)
-      : and(eq(schema.orderFiles.orderId, orderId), eq(schema.orderFiles.state, "stored"), isNull(schema.orderFiles.deletedAt));
+      : and(
+          eq(schema.orderFiles.orderId, orderId),
+          eq(schema.orderFiles.state, "stored"),
+          isNull(schema.orderFiles.deletedAt),
+          // The client's archived files only when asked for ("show archived"); the lab always sees its deliveries.
+          archived ? undefined : isNull(schema.orderFiles.archivedAt),
+        );
   const rows = await db
     .select({
       file: schema.orderFiles,
@@ -387,6 +395,7 @@ export async function orderFileList(orderId: string, { side }: { side: "client" 
     uploadedVia: file.uploadedVia,
     uploadedAt: (file.storedAt ?? file.createdAt).toISOString(),
     deletedAt: file.deletedAt?.toISOString() ?? null,
+    archivedAt: file.archivedAt?.toISOString() ?? null,
     check: check?.id ? { ...check, finishedAt: check.finishedAt?.toISOString() ?? null } : null,
     scanFormat: file.scanFormat,
     scanInfo: file.scanInfo,
@@ -474,9 +483,28 @@ export async function orderAccessLog(orderId: string, limit = 200) {
   return rows.map((r) => ({ ...r, at: r.at.toISOString() }));
 }
 
-/** Hides a stored file from the data room; the bytes stay for the retention period. */
-export async function softDeleteFile(file: OrderFile, userId: string) {
-  if (file.deletedAt) return file;
-  const [row] = await db.update(schema.orderFiles).set({ deletedAt: new Date(), deletedBy: userId }).where(eq(schema.orderFiles.id, file.id)).returning();
+/**
+ * Hides a stored file from the data room once its retention period is over; within it the deletion is refused
+ * with the sentence to show (the client archives the file instead). The bytes stay either way.
+ */
+export async function softDeleteFile(file: OrderFile, userId: string, now = new Date()): Promise<{ refused: string } | { file: OrderFile }> {
+  const refused = deletionRefusal(file, now);
+  if (refused) return { refused };
+  if (file.deletedAt) return { file };
+  const [row] = await db.update(schema.orderFiles).set({ deletedAt: now, deletedBy: userId }).where(eq(schema.orderFiles.id, file.id)).returning();
+  return { file: row };
+}
+
+/** Archives a delivered file from the client's view (shown again under "show archived"); nothing is removed. */
+export async function archiveFile(file: OrderFile, userId: string) {
+  if (file.archivedAt) return file;
+  const [row] = await db.update(schema.orderFiles).set({ archivedAt: new Date(), archivedBy: userId }).where(eq(schema.orderFiles.id, file.id)).returning();
+  return row;
+}
+
+/** Brings an archived file back into the client's view. */
+export async function restoreFile(file: OrderFile) {
+  if (!file.archivedAt) return file;
+  const [row] = await db.update(schema.orderFiles).set({ archivedAt: null, archivedBy: null }).where(eq(schema.orderFiles.id, file.id)).returning();
   return row;
 }

@@ -1,4 +1,5 @@
-// GET /admin/ledger/export — the filtered ledger as CSV (admins only).
+// GET /admin/ledger/export — the filtered ledger as CSV (admins only); each row names its order by number in the last
+// column (added last so the earlier columns keep their places; the id stays for matching with the provider).
 import { parseLedgerFilter } from "~/domain/ledger-filter";
 import { ledgerRows } from "~/models/payments/ledger.server";
 import { csvText, type CsvField } from "~/utils/csv.server";
@@ -20,10 +21,12 @@ export async function loader({ request }: Route.LoaderArgs) {
   const parsed = parseLedgerFilter(new URL(request.url).searchParams);
   if (!parsed.ok) return new Response(`${parsed.error}\n`, { status: 400, headers: { "Content-Type": "text/plain; charset=utf-8" } });
   const rows = await ledgerRows(parsed.filter, 100_000);
-  const table = [["transaction_id", "created_at", "kind", "order_id", "account", "amount_minor", "currency", "provider_object_id", "memo"]];
+  const table = [["transaction_id", "created_at", "kind", "order_id", "account", "amount_minor", "currency", "provider_object_id", "memo", "order_number"]];
   for (const r of rows)
     table.push(
-      [r.id, new Date(r.created_at).toISOString(), r.kind, r.order_id, r.account, r.amount_minor, r.currency, r.provider_object_id, r.memo].map(formulaSafe),
+      [r.id, new Date(r.created_at).toISOString(), r.kind, r.order_id, r.account, r.amount_minor, r.currency, r.provider_object_id, r.memo, r.order_number].map(
+        formulaSafe,
+      ),
     );
   return new Response(csvText(table), {
     headers: {

@@ -1,4 +1,6 @@
-// GET /api/orders/:id — the order's state, amount and timeline, for the client organisation and the lab on it.
+// GET /api/orders/:id — the order's state, amount and timeline, for the client organisation and the lab on it. The
+// amount comes as money text (`amount`) beside its integer minor units (`amountMinor`, for programs).
+import { formatMoney } from "~/domain/money";
 import { orderTimeline } from "~/models/orders/queries.server";
 import { requireOrderParty } from "~/utils/permissions.server";
 import type { Route } from "./+types/order";
@@ -7,7 +9,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { order } = await requireOrderParty(request, params.id);
   const timeline = await orderTimeline(order.id);
   return Response.json(
-    { id: order.id, number: order.number, state: order.state, amountMinor: order.amountMinor, currency: order.currency, timeline },
+    {
+      id: order.id,
+      number: order.number,
+      state: order.state,
+      amount: formatMoney(order.amountMinor, order.currency),
+      amountMinor: order.amountMinor,
+      currency: order.currency,
+      timeline,
+    },
     { headers: { "Cache-Control": "private, no-store" } },
   );
 }

@@ -1,4 +1,6 @@
 // /client/data-room/:orderId — one order's files with versions and checks, share links, and who downloaded what.
+// Delivered files cannot be deleted within the retention period; a client archives them from view and restores them
+// under "Show archived" (?archived=1), each move in the audit log.
 import { requireOrderSide } from "~/utils/permissions.server";
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
@@ -11,7 +13,7 @@ import { Badge, EmptyState, Field, FormError, PageHeader, TableCard } from "~/co
 import { DOWNLOAD_URL_SECONDS, RETENTION_YEARS, SHARE_LINK_MAX_DAYS, SHARE_LINK_MAX_LIVE } from "~/domain/order-files";
 import { organisationNameOf } from "~/models/accounts/organisations.server";
 import { requestTitleOf } from "~/models/requests/requests.server";
-import { fileOfOrder, orderAccessLog, orderFileList, softDeleteFile } from "~/models/files/files.server";
+import { archiveFile, fileOfOrder, orderAccessLog, orderFileList, restoreFile, softDeleteFile } from "~/models/files/files.server";
 import { OrderStateBadge } from "~/components/order-state-badge";
 import { createShareLink, listShareLinks, revokeShareLink, ShareLinkLimit } from "~/models/files/share-links.server";
 import { audit } from "~/models/audit.server";
@@ -24,14 +26,17 @@ import { useFormat } from "~/components/locale";
 const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { actor, order } = await clientOrder(request, params.orderId);
+  const { order } = await clientOrder(request, params.orderId);
   const [title, lab] = await Promise.all([requestTitleOf(order.requestId), organisationNameOf(order.labId)]);
+  const showArchived = new URL(request.url).searchParams.get("archived") === "1";
+  const files = await orderFileList(order.id, { side: "client", archived: true });
   return {
     order: { id: order.id, number: order.number, state: order.state, title: title ?? "", lab: lab ?? "" },
-    files: await orderFileList(order.id, { side: "client" }),
+    files: showArchived ? files : files.filter((f) => !f.archivedAt),
+    archivedCount: files.filter((f) => f.archivedAt).length,
+    showArchived,
     shareLinks: await listShareLinks(order.id),
     accessLog: await orderAccessLog(order.id),
-    canDelete: actor.membership.role === "owner",
   };
 }
 
@@ -48,6 +53,8 @@ const ActionSchema = z.discriminatedUnion("intent", [
   ShareSchema,
   z.object({ intent: z.literal("revoke"), linkId: z.uuid({ error: "Choose a link." }) }),
   z.object({ intent: z.literal("delete"), fileId: z.uuid({ error: "Choose a file." }) }),
+  z.object({ intent: z.literal("archive"), fileId: z.uuid({ error: "Choose a file." }) }),
+  z.object({ intent: z.literal("restore"), fileId: z.uuid({ error: "Choose a file." }) }),
 ]);
 
 export async function action({ request, params, context }: Route.ActionArgs) {
@@ -97,14 +104,35 @@ export async function action({ request, params, context }: Route.ActionArgs) {
     });
     return redirectWithToast(here, { kind: "success", message: "Share link revoked; it no longer opens this data room." });
   }
-  if (actor.membership.role !== "owner") {
-    return data({ result: submission.reply({ formErrors: ["Only an owner of the organisation can delete files."] }), shared: null }, { status: 403 });
-  }
   const file = await fileOfOrder(order.id, value.fileId);
   if (!file || file.state !== "stored" || file.deletedAt) {
     return data({ result: submission.reply({ formErrors: ["That file is not in this data room."] }), shared: null }, { status: 400 });
   }
-  await softDeleteFile(file, actor.user.id);
+  if (value.intent === "archive" || value.intent === "restore") {
+    const archiving = value.intent === "archive";
+    if (archiving) await archiveFile(file, actor.user.id);
+    else await restoreFile(file);
+    await audit({
+      actorUserId: actor.user.id,
+      organisationId,
+      action: archiving ? "order_file_archived" : "order_file_restored",
+      subjectType: "order_file",
+      subjectId: file.id,
+      details: { orderId: order.id, name: file.name, version: file.version },
+      clientAddress: context.clientAddress,
+    });
+    return redirectWithToast(archiving ? here : `${here}?archived=1`, {
+      kind: "success",
+      message: archiving
+        ? `${file.name} v${file.version} archived: hidden from this data room, kept as delivered; "Show archived" brings it back.`
+        : `${file.name} v${file.version} restored to the data room.`,
+    });
+  }
+  if (actor.membership.role !== "owner") {
+    return data({ result: submission.reply({ formErrors: ["Only an owner of the organisation can delete files."] }), shared: null }, { status: 403 });
+  }
+  const deleted = await softDeleteFile(file, actor.user.id);
+  if ("refused" in deleted) return data({ result: submission.reply({ formErrors: [deleted.refused] }), shared: null }, { status: 400 });
   await audit({
     actorUserId: actor.user.id,
     organisationId,
@@ -122,7 +150,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
 
 export default function DataRoomOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, files, shareLinks, accessLog, canDelete } = loaderData;
+  const { order, files, shareLinks, accessLog, archivedCount, showArchived } = loaderData;
   const busy = useNavigation().state !== "idle";
   // While the lab has the samples, new files and the order's next state show up without a reload; not after an
   // action, whose answer (a share link shown once, a form error) a refresh would clear.
@@ -160,9 +188,22 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
           Files
         </h2>
         <p className="text-xs text-ink-600">
-          Every version is kept. A download link is valid for {Math.round(DOWNLOAD_URL_SECONDS / 60)} minutes and each download is logged. Deleting hides a file
-          here; the bytes are kept for {RETENTION_YEARS} years.
+          Every version is kept. A download link is valid for {Math.round(DOWNLOAD_URL_SECONDS / 60)} minutes and each download is logged. Delivered data is
+          kept as delivered for {RETENTION_YEARS} years and cannot be deleted in that time; archiving hides a file here and can be undone.
         </p>
+        {archivedCount > 0 || showArchived ? (
+          <p className="text-sm">
+            {showArchived ? (
+              <Link to={`/client/data-room/${order.id}`} className="underline">
+                Hide archived files
+              </Link>
+            ) : (
+              <Link to={`/client/data-room/${order.id}?archived=1`} className="underline">
+                Show archived ({archivedCount})
+              </Link>
+            )}
+          </p>
+        ) : null}
         {files.length === 0 ? (
           <EmptyState title="No files delivered yet">The lab's scans and report appear here as soon as they are uploaded and verified.</EmptyState>
         ) : (
@@ -174,15 +215,19 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
                 <a href={`/files/${row.id}/download`} className="font-semibold text-beam-700 underline" aria-label={`Download ${row.name} v${row.version}`}>
                   Download
                 </a>
-                {canDelete ? (
-                  <Form method="post" onSubmit={(e) => !confirm(`Delete ${row.name} v${row.version} from the data room?`) && e.preventDefault()}>
-                    <input type="hidden" name="intent" value="delete" />
-                    <input type="hidden" name="fileId" value={row.id} />
-                    <button type="submit" className="text-xs text-danger-700 underline" disabled={busy} aria-label={`Delete ${row.name} v${row.version}`}>
-                      Delete
-                    </button>
-                  </Form>
-                ) : null}
+                {row.archivedAt ? <Badge tone="neutral">Archived</Badge> : null}
+                <Form method="post">
+                  <input type="hidden" name="intent" value={row.archivedAt ? "restore" : "archive"} />
+                  <input type="hidden" name="fileId" value={row.id} />
+                  <button
+                    type="submit"
+                    className="text-xs text-ink-700 underline"
+                    disabled={busy}
+                    aria-label={`${row.archivedAt ? "Restore" : "Archive"} ${row.name} v${row.version}`}
+                  >
+                    {row.archivedAt ? "Restore" : "Archive"}
+                  </button>
+                </Form>
               </span>
             )}
           />

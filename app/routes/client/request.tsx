@@ -18,8 +18,9 @@ import type { Route } from "./+types/request";
 import { useFormat } from "~/components/locale";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { user, membership } = await requireOrgRole(request, "client");
-  const row = await requireOwnRequest(params.id, membership.organisation.id);
+  const actor = await requireOrgRole(request, "client");
+  const { user, membership } = actor;
+  const row = await requireOwnRequest(params.id, membership.organisation.id, { request, actor });
   if (row.state === "draft") throw redirect(`/client/requests/${row.id}/edit/${row.draftStep}`);
   // Each quote card is judged by the instrument the quote names; the labs' matches judge each lab as a whole.
   const [samples, quotes, matches, judgements, order, revisions] = await Promise.all([

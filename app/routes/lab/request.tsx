@@ -26,9 +26,10 @@ import { SubmitButton } from "~/components/pending";
 const isoInDays = (days: number) => new Date(Date.now() + days * 86_400_000).toISOString().slice(0, 10);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { user, membership } = await requireOrgRole(request, "lab");
+  const actor = await requireOrgRole(request, "lab");
+  const { user, membership } = actor;
   const labId = membership.organisation.id;
-  const row = await requireRequestForLab(params.id, labId);
+  const row = await requireRequestForLab(params.id, labId, { request, actor });
   const thread = await requestThreadForLab(row.id, labId);
   const [samples, acknowledgement, vetting, prices, instruments, ownQuotes, client, matchRequest, [lab], revisions] = await Promise.all([
     samplesOf(row.id),
