@@ -236,14 +236,27 @@ export function auditSentence(entry: AuditEntryIn, c: AuditContext): { sentence:
         return `${who} withdrew ${request}`;
       case "request_expired":
         return `${request.charAt(0).toUpperCase()}${request.slice(1)} expired`;
+      case "request_revised":
+        return say(`${who} changed ${request}${typeof d.revision === "number" ? ` (revision ${d.revision})` : ""}`, "revision");
+      case "request_repeated":
+        return say(`${who} started ${request} again as a new draft`, "repeatOf");
       case "hazards_acknowledged":
         return `${who} acknowledged the hazards of ${request} for ${lab}`;
       case "quote_sent":
         return say(`${who} sent a quote${money("totalMinor") ? ` of ${money("totalMinor")}` : ""} from ${lab} for ${request}`, "totalMinor");
       case "quote_withdrawn":
         return `${who} withdrew the quote of ${lab} for ${request}`;
+      case "quote_reconfirmed":
+        return say(
+          `${who} re-confirmed the quote of ${lab} for ${request}${typeof d.revision === "number" ? ` after revision ${d.revision}` : ""}`,
+          "revision",
+        );
       case "quote_accepted":
         return `${who} accepted the quote of ${lab} for ${request}, making ${order}`;
+      case "dispute_lab_statement":
+        return say(`${who} ${d.rewritten ? "rewrote" : "gave"} the lab's answer in the dispute on ${order}`, "rewritten", "orderNumber");
+      case "dispute_evidence_read":
+        return say(`${who} read ${str(d.read) ?? "the data"} of ${order} through its dispute`, "read", "orderNumber");
       case "dispute_resolved": {
         const parts = [
           ["refundMinor", "refund"],

@@ -45,6 +45,27 @@ describe("audit sentences", () => {
     );
   });
 
+  it("says the newer actions of the dispute and the request's life in words, without their ids", () => {
+    const read = auditSentence(
+      {
+        action: "dispute_evidence_read",
+        details: { orderNumber: "HCW-2026-0042", orderId: "3f2b6c1e-1c2d-4e5f-8a9b-0c1d2e3f4a5b", read: "download of scan.xy v1" },
+      },
+      context,
+    );
+    expect(read).toEqual({ sentence: "Marcus Lind read download of scan.xy v1 of order HCW-2026-0042 through its dispute", details: "" });
+    expect(auditSentence({ action: "dispute_lab_statement", details: { orderNumber: "HCW-2026-0042", rewritten: false } }, context).sentence).toBe(
+      "Marcus Lind gave the lab's answer in the dispute on order HCW-2026-0042",
+    );
+    expect(auditSentence({ action: "request_revised", details: { revision: 2 } }, context).sentence).toBe(
+      "Marcus Lind changed the request “Phase purity of NMC811 lot HC-2634” (revision 2)",
+    );
+    expect(auditSentence({ action: "quote_reconfirmed", details: { requestId: "3f2b6c1e-1c2d-4e5f-8a9b-0c1d2e3f4a5b", revision: 2 } }, context)).toEqual({
+      sentence: "Marcus Lind re-confirmed the quote of Granite Ridge Characterisation for the request “Phase purity of NMC811 lot HC-2634” after revision 2",
+      details: "",
+    });
+  });
+
   it("reads an action no sentence is written for as words with its order", () => {
     expect(auditSentence({ action: "order_received", details: {} }, { ...context, requestTitle: null }).sentence).toBe(
       "Marcus Lind: order received (order HCW-2026-0042)",
