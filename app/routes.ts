@@ -68,6 +68,7 @@ export default [
     route("vetting/upload", "routes/lab/vetting-upload.ts"),
     route("orders/:id/uploads", "routes/lab/order-uploads.ts"),
     route("orders/:id/uploads/:fileId", "routes/lab/order-upload.ts"),
+    route("orders/:id/receipt-photo", "routes/lab/order-receipt-photo.ts"),
   ]),
   ...prefix("admin", [
     layout("routes/workspace-layout.tsx", { id: "admin-layout" }, [

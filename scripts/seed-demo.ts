@@ -7,6 +7,7 @@ import { seedDemoScenario } from "~/demo/seed-scenario.server";
 import { seedDemoDisputes } from "~/demo/seed-disputes.server";
 import { seedDemoMessages } from "~/demo/seed-messages.server";
 import { seedDemoRecords } from "~/demo/seed-records.server";
+import { seedDemoLabRecords } from "~/demo/seed-lab-records.server";
 import { db } from "~/db/client.server";
 import { seedRequestLife } from "~/demo/seed-request-life.server";
 
@@ -22,4 +23,5 @@ await seedDemoRecords();
 console.log(
   `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
 );
+await seedDemoLabRecords();
 await db.$client.end();

@@ -18,6 +18,7 @@ import {
 } from "~/domain/order-files";
 import { UploadCancelled, uploadFile } from "~/components/order-upload";
 import { RadiationMismatch } from "~/components/measurement-conditions";
+import { proposeSample, unmatchedReason } from "~/domain/sample-match";
 
 export interface QueuedFile {
   key: string;
@@ -32,6 +33,8 @@ export interface QueuedFile {
   message: string | null;
   /** What the server asks the lab to read about a stored scan before delivering (a radiation that differs from the quote's). */
   warnings?: string[];
+  /** The sample was proposed from the file's name and waits for the lab's confirmation before the file goes up. */
+  proposed?: boolean;
 }
 
 interface Sample {
@@ -71,20 +74,25 @@ export function useDeliveryQueue(orderId: string, samples: Sample[], onStored: (
     (files: File[], preset?: { name: string; kind: FileKind; sampleId: string | null }) => {
       setItems((all) => [
         ...all,
-        ...files.map((file) => ({
-          key: `f${++counter.current}`,
-          file,
-          name: preset?.name ?? file.name,
-          kind: preset?.kind ?? kindForName(file.name),
-          sampleId: preset?.sampleId ?? defaultSample,
-          replaces: preset ? preset.name : null,
-          status: "ready" as const,
-          sent: 0,
-          message: null,
-        })),
+        ...files.map((file) => {
+          // Without a chosen sample, the sample whose label the file's name contains is proposed (to be confirmed).
+          const proposed = !preset && !defaultSample ? proposeSample(file.name, samples) : null;
+          return {
+            key: `f${++counter.current}`,
+            file,
+            name: preset?.name ?? file.name,
+            kind: preset?.kind ?? kindForName(file.name),
+            sampleId: preset?.sampleId ?? proposed?.id ?? defaultSample,
+            replaces: preset ? preset.name : null,
+            status: "ready" as const,
+            sent: 0,
+            message: null,
+            proposed: !!proposed,
+          };
+        }),
       ]);
     },
-    [defaultSample],
+    [defaultSample, samples],
   );
 
   async function uploadOne(item: QueuedFile) {
@@ -133,7 +141,7 @@ export function useDeliveryQueue(orderId: string, samples: Sample[], onStored: (
   /** Uploads every ready file, one after the other (each one's parts run a few at a time). */
   async function uploadAll() {
     const uploadable = (i: QueuedFile) =>
-      i.status === "ready" && !fileProblem(i.name, i.file.size, i.kind) && (i.kind !== "scan" || i.sampleId || samples.length === 0);
+      i.status === "ready" && !i.proposed && !fileProblem(i.name, i.file.size, i.kind) && (i.kind !== "scan" || i.sampleId || samples.length === 0);
     for (const { key } of items.filter(uploadable)) {
       // Read the queue as it is now: a file may have been cancelled while the ones before it went up.
       const current = itemsRef.current.find((i) => i.key === key);
@@ -148,7 +156,9 @@ export function useDeliveryQueue(orderId: string, samples: Sample[], onStored: (
   }
 
   const remove = (key: string) => setItems((all) => all.filter((i) => i.key !== key));
-  return { items, add, update, uploadAll, cancel, remove };
+  /** The lab confirms the samples proposed from the files' names. */
+  const confirmProposals = () => setItems((all) => all.map((i) => (i.proposed ? { ...i, proposed: false } : i)));
+  return { items, add, update, uploadAll, cancel, remove, confirmProposals };
 }
 
 export type DeliveryQueue = ReturnType<typeof useDeliveryQueue>;
@@ -157,13 +167,17 @@ const ACTIVE = new Set(["uploading", "completing"]);
 
 /** The drop zone and the queue with progress bars; `preview` renders a slot under each queued file. */
 export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQueue; samples: Sample[]; preview?: (item: QueuedFile) => ReactNode }) {
-  const { items, add, update, uploadAll, cancel, remove } = queue;
+  const { items, add, update, uploadAll, cancel, remove, confirmProposals } = queue;
   const { getRootProps, getInputProps, isDragActive } = useDropzone({ onDrop: (files) => add(files), multiple: true });
   const inQueue = items.filter((i) => i.status !== "cancelled");
   const total = inQueue.reduce((s, i) => s + i.file.size, 0);
   const sent = inQueue.reduce((s, i) => s + (i.status === "stored" || i.status === "rejected" ? i.file.size : i.sent), 0);
   const busy = items.some((i) => ACTIVE.has(i.status));
   const ready = items.filter((i) => i.status === "ready");
+  const proposals = ready.filter((i) => i.proposed);
+  // Scans that cannot go up until the lab chooses their sample: said plainly, never skipped in silence.
+  const waiting = ready.filter((i) => i.kind === "scan" && samples.length > 0 && !i.sampleId);
+  const goingUp = ready.filter((i) => !i.proposed && !waiting.includes(i) && !fileProblem(i.name, i.file.size, i.kind));
 
   return (
     <section className="space-y-4" aria-labelledby="upload-heading">
@@ -220,7 +234,7 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
                         className="input w-auto py-1"
                         value={item.sampleId}
                         disabled={item.status !== "ready"}
-                        onChange={(e) => update(item.key, { sampleId: e.currentTarget.value })}
+                        onChange={(e) => update(item.key, { sampleId: e.currentTarget.value, proposed: false })}
                       >
                         <option value="">No sample</option>
                         {samples.map((s) => (
@@ -269,7 +283,11 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
                         item.status === "rejected" || item.status === "failed" ? "text-danger-700" : item.status === "stored" ? "text-ok-700" : "text-ink-600"
                       }
                     >
-                      {problem ?? (needsSample ? "Choose the sample this scan belongs to." : null) ?? item.message ?? STATUS_WORDS[item.status](item)}
+                      {problem ??
+                        (needsSample ? `Waits for a sample: ${unmatchedReason(item.name, samples)}` : null) ??
+                        (item.proposed && item.status === "ready" ? "Sample proposed from the file name; confirm it below." : null) ??
+                        item.message ??
+                        STATUS_WORDS[item.status](item)}
                     </span>
                   </div>
                   {item.warnings?.map((w) => (
@@ -280,9 +298,33 @@ export function DeliveryUploader({ queue, samples, preview }: { queue: DeliveryQ
               );
             })}
           </ul>
-          {busy || ready.length ? (
+          {proposals.length ? (
+            <fieldset className="space-y-2 rounded-lg border border-beam-200 bg-beam-50 p-3 text-sm" aria-labelledby="proposals-heading">
+              <p id="proposals-heading" className="font-semibold">
+                Samples proposed from the file names — confirm before the files go up
+              </p>
+              <ul className="list-inside list-disc" data-testid="sample-proposals">
+                {proposals.map((i) => (
+                  <li key={i.key}>
+                    {i.name} → {samples.find((s) => s.id === i.sampleId)?.label ?? "?"}
+                  </li>
+                ))}
+              </ul>
+              <p className="text-xs text-ink-600">A wrong match is changed with the file&apos;s sample menu above.</p>
+              <button type="button" className="btn-secondary" onClick={confirmProposals}>
+                Confirm these samples
+              </button>
+            </fieldset>
+          ) : null}
+          {waiting.length ? (
+            <p role="status" className="rounded-lg border border-caution-600/30 bg-caution-50 p-3 text-sm text-caution-700" data-testid="waiting-for-sample">
+              {waiting.length === 1 ? "One scan waits" : `${waiting.length} scans wait`} for a sample and will not be uploaded until you choose it:{" "}
+              {waiting.map((i) => i.name).join(", ")}. A scan is checked against its sample&apos;s declared cell, so it cannot count without one.
+            </p>
+          ) : null}
+          {busy || goingUp.length ? (
             <button type="button" className="btn-primary" disabled={busy} onClick={() => void uploadAll()}>
-              {busy ? "Uploading…" : `Upload ${ready.length} ${ready.length === 1 ? "file" : "files"}`}
+              {busy ? "Uploading…" : `Upload ${goingUp.length} ${goingUp.length === 1 ? "file" : "files"}`}
             </button>
           ) : null}
         </div>

@@ -1,7 +1,7 @@
 // The measurement conditions a scan file states, in plain words: a panel for the check screen, a fold-out line
 // for file lists, and the caution when the file's radiation differs from the quote's instrument.
 import type { ScanMetadata } from "~/diffraction/readers/types";
-import { measurementConditions, measurementSummary } from "~/domain/measurement";
+import { enteredConditionRows, measurementConditions, measurementSummary, type MeasurementConditions } from "~/domain/measurement";
 
 export interface MeasurementInfo {
   formatLabel?: string | null;
@@ -68,5 +68,19 @@ export function MeasurementFoldout({ info, name }: { info: MeasurementInfo; name
         <ConditionsList info={info} />
       </div>
     </details>
+  );
+}
+
+/** What the lab entered about a scan's measurement beside its file, with who entered it. */
+export function EnteredConditions({ conditions, name }: { conditions: MeasurementConditions | null | undefined; name: string }) {
+  const rows = enteredConditionRows(conditions);
+  if (rows.length === 0) return null;
+  return (
+    <div className="mt-1 max-w-md text-xs text-ink-700" data-testid="entered-conditions">
+      <p className="font-medium text-ink-600">
+        <span className="sr-only">{name}: </span>Entered by the lab{conditions?.enteredBy ? ` (${conditions.enteredBy})` : ""}:
+      </p>
+      <p>{rows.map((r) => `${r.label}: ${r.value}`).join(" · ")}</p>
+    </div>
   );
 }

@@ -4,7 +4,8 @@ import { CheckStateBadge, CheckStatusBadge, WindowBadge } from "./check-status";
 import { FILE_KIND_LABELS, formatBytes, type FileKind } from "~/domain/order-files";
 import { Badge, TableCard } from "./ui";
 import { useFormat } from "~/components/locale";
-import { MeasurementFoldout, RadiationMismatch, type MeasurementInfo } from "./measurement-conditions";
+import { EnteredConditions, MeasurementFoldout, RadiationMismatch, type MeasurementInfo } from "./measurement-conditions";
+import type { MeasurementConditions } from "~/domain/measurement";
 
 export interface FileCheck {
   id: string;
@@ -39,6 +40,8 @@ export interface FileRow {
   scanInfo?: MeasurementInfo | null;
   /** The sentence when the scan's radiation differs from the quote's instrument. */
   radiationMismatch?: string | null;
+  /** What the lab entered about the measurement beside what the file states. */
+  conditions?: MeasurementConditions | null;
 }
 
 /**
@@ -90,6 +93,7 @@ export function OrderFilesTable({
             <span className="font-medium text-ink-900">{row.name}</span> <span className="font-mono text-xs text-ink-500">v{row.version}</span>
             <span className="block text-xs text-ink-500">{FILE_KIND_LABELS[row.kind]}</span>
             {row.kind === "scan" && row.scanInfo ? <MeasurementFoldout info={row.scanInfo} name={`${row.name} v${row.version}`} /> : null}
+            {row.kind === "scan" ? <EnteredConditions conditions={row.conditions} name={`${row.name} v${row.version}`} /> : null}
             {row.kind === "scan" && !row.deletedAt ? <RadiationMismatch sentence={row.radiationMismatch} /> : null}
           </td>
           <td className="text-sm">{row.sampleLabel ?? "—"}</td>

@@ -7,6 +7,8 @@ import { sortAndPage, type PageInfo, type SortDir, type TableQuery, type TableSp
 import { PageNav, SortableTable } from "./data-table";
 import { useFormat } from "./locale";
 import { Badge } from "./ui";
+import { DueCell } from "./lab-records";
+import type { DueStatus } from "~/domain/receipt";
 
 export interface OrderRow {
   id: string;
@@ -18,11 +20,13 @@ export interface OrderRow {
   amountMinor: number;
   currency: string;
   updatedAt: string | Date;
+  /** The lab's work queue: when the data is due and whether it is late (docs/design.md, "The lab's records"). */
+  due?: { at: string | null } & DueStatus;
 }
 
-type OrderSort = "number" | "title" | "amount" | "state" | "updated";
+type OrderSort = "number" | "title" | "amount" | "state" | "updated" | "due";
 export const ORDERS_TABLE: TableSpec<OrderSort> = {
-  sorts: ["number", "title", "amount", "state", "updated"],
+  sorts: ["number", "title", "amount", "state", "updated", "due"],
   defaultSort: "updated",
   firstDir: { updated: "desc", amount: "desc" },
   pageSize: 50,
@@ -37,6 +41,8 @@ export function pageOfOrders<T extends OrderRow>(orders: T[], q: TableQuery<Orde
     amount: (o) => `${o.currency}${String(o.amountMinor).padStart(12, "0")}`,
     state: (o) => ORDER_STATES.indexOf(o.state),
     updated: (o) => new Date(o.updatedAt).getTime(),
+    // Orders without a due date (samples not yet arrived) and delivered ones come after those still owed.
+    due: (o) => (o.due?.at && o.due.kind !== "none" ? Date.parse(o.due.at) : null),
   });
 }
 
@@ -47,7 +53,10 @@ export function OrdersTable({
   sort,
   dir,
   info,
+  showDue = false,
 }: {
+  /** The lab's work queue shows the due date, sortable, late ones flagged. */
+  showDue?: boolean;
   orders: OrderRow[];
   hrefBase: string;
   counterpart: string;
@@ -65,7 +74,8 @@ export function OrdersTable({
           { label: counterpart },
           { label: "Amount", sort: "amount", firstDir: "desc" },
           { label: "State", sort: "state" },
-          { label: "Updated", sort: "updated", firstDir: "desc" },
+          ...(showDue ? [{ label: "Due", sort: "due" }] : []),
+          { label: "Updated", sort: "updated", firstDir: "desc" as const },
         ]}
         sort={sort}
         dir={dir}
@@ -84,6 +94,7 @@ export function OrdersTable({
             <td>
               <OrderStateBadge state={o.state} />
             </td>
+            {showDue ? <td>{o.due ? <DueCell due={o.due} /> : null}</td> : null}
             <td className="whitespace-nowrap">{fmt.date(o.updatedAt)}</td>
           </tr>
         ))}

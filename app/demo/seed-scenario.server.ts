@@ -751,7 +751,7 @@ async function runOrder(spec: ScenarioRequest, orderId: string, client: { id: st
     const outcome = await storeCheckedScan({ orderId, sampleId: samples[i].id, fileName: s.scan.fileName, text, uploadedBy: operator.id });
     if (outcome.status !== "done") throw new Error(`demo scenario: the check of ${s.scan.fileName} did not finish: ${JSON.stringify(outcome)}`);
   }
-  await markDelivered(orderId, operator.id, "Scans and the report are in the data room.");
+  await markDelivered(orderId, operator.id, "Scans and the report are in the data room.", { confirmed: true });
   if (spec.end === "data_delivered") return;
   await openDispute(orderId, client.id, spec.reason!);
 }

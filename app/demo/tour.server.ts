@@ -52,6 +52,7 @@ export async function demoTour(base: string) {
     `  a request changed after quoting — read the change and re-confirm the quote: ${u(`/lab/requests/${life.edited}`)}`,
     `  work queue: ${u("/lab/work-queue")}; the hazardous parcel on its way: ${u(`/lab/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  measuring — upload scans and watch their checks: ${u(`/lab/orders/${await orderId("Form screen of salt candidates PSF-144")}/files`)}; payouts: ${u("/lab/payouts")}`,
+    `  the lab's records — work queue sorted by due date: ${u("/lab/work-queue?sort=due&dir=asc")}; receipt record with storage places and a scan's entered conditions: ${u(`/lab/orders/${await orderId("Lattice check of LFP production lot HC-2645")}`)} (files: ${u(`/lab/orders/${await orderId("Lattice check of LFP production lot HC-2645")}/files`)})`,
     "lab@lakeside.example — Dana, lab manager",
     `  quotes sent, declined and lapsed: ${u("/lab/quotes")}; samples received, to measure: ${u(`/lab/orders/${await orderId("Transmission scan of LFP coating trial HC-2624")}`)}`,
     `lab@meridian.example — Tiago, awaiting vetting: the application and its checked calibration scan: ${u("/lab/vetting")}`,

@@ -226,3 +226,52 @@ export function measurementSummary(info: Parameters<typeof measurementConditions
     .map((r) => r.value)
     .join(" · ");
 }
+
+// ——— The conditions the lab enters beside the file ———
+
+/** The fields of MeasurementConditions the lab may enter, with their labels and units. */
+export const CONDITION_FIELDS = [
+  { key: "radiation", label: "Radiation", unit: null, kind: "text" },
+  { key: "twoThetaStart", label: "2θ start", unit: "°", kind: "number" },
+  { key: "twoThetaEnd", label: "2θ end", unit: "°", kind: "number" },
+  { key: "step", label: "Step", unit: "°", kind: "number" },
+  { key: "timePerStep", label: "Time per step", unit: "s", kind: "number" },
+  { key: "temperatureK", label: "Temperature", unit: "K", kind: "number" },
+  { key: "atmosphere", label: "Atmosphere", unit: null, kind: "text" },
+  { key: "holder", label: "Sample holder or capillary", unit: null, kind: "text" },
+  { key: "note", label: "Note", unit: null, kind: "text" },
+] as const satisfies readonly { key: keyof MeasurementConditions; label: string; unit: string | null; kind: "text" | "number" }[];
+
+export type ConditionField = (typeof CONDITION_FIELDS)[number];
+
+/**
+ * The fields the form asks for: those the file does not state. The radiation, step and time per step are asked
+ * only when the file names none; the range only when the file was not read; the rest (temperature, atmosphere,
+ * holder, note) always, since scan files seldom state them.
+ */
+export function conditionFieldsToAsk(info: { metadata?: ScanMetadata | null; twoThetaMin?: number | null } | null | undefined): ConditionField[] {
+  const m: ScanMetadata = info?.metadata ?? {};
+  const statesRadiation = !!m.anode || finite(m.kAlpha1) || finite(m.wavelength);
+  return CONDITION_FIELDS.filter((f) => {
+    if (f.key === "radiation") return !statesRadiation;
+    if (f.key === "twoThetaStart" || f.key === "twoThetaEnd") return !finite(info?.twoThetaMin);
+    if (f.key === "step") return !finite(m.step);
+    if (f.key === "timePerStep") return !finite(m.timePerStep);
+    return true;
+  });
+}
+
+/** The lab's entries as rows in plain words (nothing for fields left empty). */
+export function enteredConditionRows(c: MeasurementConditions | null | undefined): ConditionRow[] {
+  if (!c) return [];
+  const rows: ConditionRow[] = [];
+  for (const f of CONDITION_FIELDS) {
+    const v = c[f.key];
+    if (v === null || v === undefined || v === "") continue;
+    if (typeof v === "number") {
+      if (!Number.isFinite(v)) continue;
+      rows.push({ label: f.label, value: `${num(v, 5)}${f.unit === "°" ? "°" : f.unit ? ` ${f.unit}` : ""}` });
+    } else rows.push({ label: f.label, value: String(v).trim() });
+  }
+  return rows;
+}

@@ -115,7 +115,7 @@ const EXPECTED: Record<string, Expect> = {
   "routes/lab/inbox": { loader: labWorkspace },
   "routes/lab/api-tokens": { loader: labWorkspace, action: labManagerAction },
   "routes/lab/members": { loader: labWorkspace, action: labManagerAction },
-  "routes/lab/order-files": { loader: orderLab },
+  "routes/lab/order-files": { loader: orderLab, action: orderLabAction },
   // Any staff acknowledges a hazard declaration; only managers send or withdraw a quote (the empty form is a quote).
   "routes/lab/request": { loader: orderLab, action: { ...orderLabAction, labOperator: "forbidden" } },
   "routes/lab/quotes": { loader: labWorkspace },
@@ -129,6 +129,7 @@ const EXPECTED: Record<string, Expect> = {
   "routes/lab/vetting-upload": { action: labManagerAction },
   "routes/lab/order-uploads": { action: orderLabAction },
   "routes/lab/order-upload": { action: orderLabAction },
+  "routes/lab/order-receipt-photo": { action: orderLabAction },
 
   "admin-layout": { loader: adminPage },
   "routes/admin/home": { loader: adminPage },

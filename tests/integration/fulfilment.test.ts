@@ -96,7 +96,9 @@ describe("order moves", () => {
     expect(refused.status).toBe(409);
     expect(JSON.stringify(refused.body)).toContain("missing: S-failed");
     await w.db.update(w.schema.scanChecks).set({ status: "done", verdict: "review" });
-    expect((await labMove(orderId, { intent: "delivered" })).status).toBe(302);
+    // A scan under review is delivered only with the lab's confirmation (docs/design.md, "The lab's records").
+    expect((await labMove(orderId, { intent: "delivered" })).status).toBe(409);
+    expect((await labMove(orderId, { intent: "delivered", confirmVerdicts: "yes" })).status).toBe(302);
     const [delivered] = await w.db.select().from(w.schema.orders).where(w.eq(w.schema.orders.id, orderId));
     expect(delivered.state).toBe("data_delivered");
     expect(delivered.deliveredAt).not.toBeNull();

@@ -46,6 +46,7 @@ import {
   type StartedUpload,
 } from "~/domain/order-files";
 import { ORDER_STATE_LABELS } from "~/domain/order-states";
+import { proposeSample, unmatchedReason } from "~/domain/sample-match";
 
 /** A refused upload step, with the sentence for the uploader and the HTTP status to answer with. */
 export class UploadProblem extends Error {
@@ -118,10 +119,15 @@ async function checkUploadInput(order: Order, input: StartUploadInput) {
   const samples = await orderSamples(order);
   let sampleId = input.sampleId || null;
   if (sampleId && !samples.some((s) => s.id === sampleId)) throw new UploadProblem("That sample is not part of this order.");
-  // A scan is checked against its sample's declared cell, so it must say which sample it is.
+  // A scan is checked against its sample's declared cell, so it must say which sample it is: the only sample,
+  // else the one whose label its name contains (app/domain/sample-match.ts), else the uploader must choose.
   if (!sampleId && kind === "scan") {
     if (samples.length === 1) sampleId = samples[0].id;
-    else if (samples.length > 1) throw new UploadProblem("Choose the sample this scan belongs to.");
+    else if (samples.length > 1) {
+      const proposed = proposeSample(name, samples);
+      if (!proposed) throw new UploadProblem(`Choose the sample the scan ${name} belongs to. ${unmatchedReason(name, samples)}`);
+      sampleId = proposed.id;
+    }
   }
   return { kind, name, sampleId, contentType: contentTypeFor(FILE_RULES[kind], name) };
 }
@@ -399,6 +405,7 @@ export async function orderFileList(orderId: string, { side, archived = false }:
     check: check?.id ? { ...check, finishedAt: check.finishedAt?.toISOString() ?? null } : null,
     scanFormat: file.scanFormat,
     scanInfo: file.scanInfo,
+    conditions: file.conditions,
     radiationMismatch:
       file.scanInfo && instrumentRadiation ? chooseRadiation(file.scanInfo.metadata, instrumentRadiation, instrument?.name ?? null).mismatch : null,
   }));

@@ -1,7 +1,7 @@
 // Every move of an order from one state to the next, in one place: each runs under a row lock, is allowed by the
 // transition table of app/domain/order-states.ts, is written to the order's timeline and notifies through the
 // outbox in the same transaction. Money that a move releases goes through app/models/payments/provider.server.ts.
-import { eq, sql } from "drizzle-orm";
+import { eq, inArray, sql } from "drizzle-orm";
 import { config } from "~/config.server";
 import { db, schema, type Tx } from "~/db/client.server";
 import type { Order } from "~/db/schema";
@@ -9,6 +9,18 @@ import { formatMoney, platformFee } from "~/domain/money";
 import { moveProblem, type Mover, type OrderState } from "~/domain/order-states";
 import { audit } from "~/models/audit.server";
 import { samplesWithoutCompletedCheck } from "~/models/checks/queries.server";
+import { REFUSAL_REASON_LABELS, RECEIPT_CONDITION_LABELS } from "~/domain/receipt";
+import { confirmedNote, unconfirmedProblem } from "~/domain/verdict-confirmation";
+import {
+  receiptProblem,
+  scansToConfirm,
+  setDueDate,
+  verifyReceiptPhotos,
+  writeReceipts,
+  writeRefusals,
+  type ReceiptInput,
+  type RefusedSampleInput,
+} from "~/models/orders/lab-records.server";
 import { notify } from "~/models/notifications/outbox.server";
 import { ACCOUNTS, heldForOrder, postLedger } from "~/models/payments/ledger.server";
 import { PaymentProblem, postPayout, refund, refundHeld, transferToLab } from "~/models/payments/provider.server";
@@ -78,26 +90,97 @@ export async function markShipped(orderId: string, userId: string, carrier: stri
   });
 }
 
-export async function markReceived(orderId: string, userId: string, note: string) {
-  return db.transaction(async (tx) =>
-    moveOrder(tx, await lockOrder(tx, orderId), "samples_received", "lab", userId, note || "Samples received; the parcel matches its declaration."),
+/** Joins the person's note and the record's own sentence into one timeline note. */
+const joinNote = (...parts: (string | null | undefined)[]) =>
+  parts
+    .map((p) => p?.trim())
+    .filter(Boolean)
+    .join(" ");
+
+/**
+ * The lab takes the parcel in: one receipt record per sample (condition, seal, amount, storage place, photo),
+ * and the due date starts (the quote's turnaround from now). Records are optional for callers that have none.
+ */
+export async function markReceived(orderId: string, userId: string, note: string, records: ReceiptInput[] = []) {
+  const [current] = await db.select().from(schema.orders).where(eq(schema.orders.id, orderId));
+  if (!current) throw new OrderMoveRefused("No such order.", 404);
+  const problem = records.length
+    ? await receiptProblem(
+        current,
+        records.map((r) => r.sampleId),
+      )
+    : null;
+  if (problem) throw new OrderMoveRefused(problem, 400);
+  const photos = await verifyReceiptPhotos(orderId, records);
+  if ("error" in photos) throw new OrderMoveRefused(photos.error, 400);
+  const notGood = records.filter((r) => r.condition !== "good" || !r.sealIntact);
+  const recordWords = records.length
+    ? `Receipt recorded for ${records.length} ${records.length === 1 ? "sample" : "samples"}${
+        notGood.length ? "" : ", each in good condition with its seal intact"
+      }.`
+    : "";
+  return db.transaction(async (tx) => {
+    const order = await moveOrder(
+      tx,
+      await lockOrder(tx, orderId),
+      "samples_received",
+      "lab",
+      userId,
+      joinNote(note || "Samples received; the parcel matches its declaration.", recordWords, notGood.length ? await conditionWords(tx, notGood) : ""),
+    );
+    await writeReceipts(tx, orderId, userId, records, photos.sizes);
+    const dueAt = await setDueDate(tx, order);
+    return { ...order, dueAt };
+  });
+}
+
+/** "Not in good condition: S-2 (Leaking, seal broken)." */
+async function conditionWords(tx: Tx, records: ReceiptInput[]) {
+  const labels = await sampleLabels(
+    tx,
+    records.map((r) => r.sampleId),
   );
+  const each = records.map(
+    (r) =>
+      `${labels.get(r.sampleId) ?? "a sample"} (${[r.condition !== "good" ? RECEIPT_CONDITION_LABELS[r.condition] : null, r.sealIntact ? null : "seal broken"].filter(Boolean).join(", ")})`,
+  );
+  return `Not in good condition: ${each.join("; ")}.`;
+}
+
+async function sampleLabels(tx: Tx, ids: string[]) {
+  const rows = ids.length
+    ? await tx.select({ id: schema.samples.id, label: schema.samples.label }).from(schema.samples).where(inArray(schema.samples.id, ids))
+    : [];
+  return new Map(rows.map((r) => [r.id, r.label]));
 }
 
 export async function startMeasuring(orderId: string, userId: string, note: string) {
   return db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "measuring", "lab", userId, note || "Measurement started."));
 }
 
-/** The lab marks the data delivered; every sample needs at least one completed check first. */
-export async function markDelivered(orderId: string, userId: string, note: string) {
+/**
+ * The lab marks the data delivered; every sample needs at least one completed check first. A scan whose check
+ * is not `consistent` is delivered only when the lab confirms it has read the verdicts (`confirmed`), and the
+ * timeline keeps that confirmation with the verdicts.
+ */
+export async function markDelivered(orderId: string, userId: string, note: string, { confirmed = false }: { confirmed?: boolean } = {}) {
   const missing = await samplesWithoutCompletedCheck(orderId);
   if (missing.length > 0) {
     throw new OrderMoveRefused(`Every sample needs at least one scan with a completed lattice check first; missing: ${missing.join(", ")}.`);
   }
+  const toConfirm = await scansToConfirm(orderId);
+  const problem = unconfirmedProblem(toConfirm, "deliver");
+  if (problem && !confirmed) throw new OrderMoveRefused(problem);
   return db.transaction(async (tx) =>
-    moveOrder(tx, await lockOrder(tx, orderId), "data_delivered", "lab", userId, note || "Data delivered to the client's data room.", {
-      deliveredAt: new Date(),
-    }),
+    moveOrder(
+      tx,
+      await lockOrder(tx, orderId),
+      "data_delivered",
+      "lab",
+      userId,
+      joinNote(note || "Data delivered to the client's data room.", confirmedNote(toConfirm, "deliver")),
+      { deliveredAt: new Date() },
+    ),
   );
 }
 
@@ -163,12 +246,45 @@ export async function cancelOrder(orderId: string, mover: Mover, actorUserId: st
   return order;
 }
 
-/** The lab refuses a parcel that does not match its declaration: refund minus the handling fee, which goes to the lab. */
-export async function refuseOnArrival(orderId: string, actorUserId: string, reason: string) {
-  const order = await db.transaction(async (tx) => moveOrder(tx, await lockOrder(tx, orderId), "refused_on_arrival", "lab", actorUserId, reason));
+/**
+ * The lab refuses a parcel that does not match its declaration: refund minus the handling fee, which goes to the
+ * lab. Each refused sample may carry its reason from the list (REFUSAL_REASONS); the words explain them all.
+ */
+export async function refuseOnArrival(orderId: string, actorUserId: string, reason: string, refused: RefusedSampleInput[] = []) {
+  const [current] = await db.select().from(schema.orders).where(eq(schema.orders.id, orderId));
+  if (!current) throw new OrderMoveRefused("No such order.", 404);
+  const problem = refused.length
+    ? await receiptProblem(
+        current,
+        refused.map((r) => r.sampleId),
+      )
+    : null;
+  if (problem) throw new OrderMoveRefused(problem, 400);
+  const order = await db.transaction(async (tx) => {
+    const labels = await sampleLabels(
+      tx,
+      refused.map((r) => r.sampleId),
+    );
+    const each = refused.map((r) => `${labels.get(r.sampleId) ?? "a sample"}: ${REFUSAL_REASON_LABELS[r.reason]}`).join("; ");
+    const moved = await moveOrder(
+      tx,
+      await lockOrder(tx, orderId),
+      "refused_on_arrival",
+      "lab",
+      actorUserId,
+      joinNote(each ? `Refused — ${each}.` : "", reason),
+    );
+    await writeRefusals(tx, orderId, actorUserId, refused, reason);
+    return moved;
+  });
   const held = await heldForOrder(db, orderId);
   const handling = Math.min(config.payments.refusalHandlingFeeMinor, held);
-  await refund(order, held - handling, `Refund after refusal on arrival (handling fee ${handling} kept)`, `refund:${orderId}:refusal`);
+  await refund(
+    order,
+    held - handling,
+    `Refund after refusal on arrival (handling fee ${formatMoney(handling, order.currency)} kept)`,
+    `refund:${orderId}:refusal`,
+  );
   if (handling > 0) {
     const transfer = await transferToLab(order, handling, `payout:${orderId}:handling`);
     await db.transaction((tx) => postPayout(tx, order, transfer.id, handling, 0, "Handling fee for a parcel refused on arrival"));
@@ -180,18 +296,31 @@ export async function refuseOnArrival(orderId: string, actorUserId: string, reas
 export const PAYOUT_DELAYED =
   "Delivery accepted. The payment provider is not answering just now, so the lab's payout has not gone out yet; it is sent automatically within minutes, once.";
 
-/** The client accepts the delivered data (or the review window lapses): the lab is paid. */
-export async function acceptDelivery(orderId: string, mover: "client" | "system", actorUserId: string | null) {
+/**
+ * The client accepts the delivered data (or the review window lapses): the lab is paid. The client accepts scans
+ * whose check is not `consistent` only with `confirmed` (the timeline keeps the verdicts); a lapse needs none.
+ */
+export async function acceptDelivery(
+  orderId: string,
+  mover: "client" | "system",
+  actorUserId: string | null,
+  { confirmed = false, note = "" }: { confirmed?: boolean; note?: string } = {},
+) {
+  const toConfirm = mover === "client" ? await scansToConfirm(orderId) : [];
+  const problem = unconfirmedProblem(toConfirm, "accept");
   await db.transaction(async (tx) => {
     const order = await lockOrder(tx, orderId);
     if (order.state === "accepted" || order.state === "paid_out") return;
+    if (problem && !confirmed) throw new OrderMoveRefused(problem);
     await moveOrder(
       tx,
       order,
       "accepted",
       mover,
       actorUserId,
-      mover === "system" ? "The review window lapsed; delivery accepted automatically." : "Delivery accepted.",
+      mover === "system"
+        ? "The review window lapsed; delivery accepted automatically."
+        : joinNote(note || "Delivery accepted.", confirmedNote(toConfirm, "accept")),
     );
   });
   return releasePayout(orderId);

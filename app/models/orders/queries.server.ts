@@ -48,6 +48,7 @@ export async function ordersOf(side: "client" | "lab", organisationId: string, l
       amountMinor: schema.orders.amountMinor,
       currency: schema.orders.currency,
       updatedAt: schema.orders.updatedAt,
+      dueAt: schema.orders.dueAt,
       title: schema.requests.title,
       counterpart: schema.organisations.name,
     })

@@ -26,6 +26,10 @@ import type { Route } from "./+types/order";
 import { useFormat } from "~/components/locale";
 import { DisputePanel } from "~/components/dispute-panel";
 import { disputeCase as disputeCaseOf } from "~/models/orders/disputes.server";
+import { DueLine, ReceiptRecordCard, VerdictConfirmation } from "~/components/lab-records";
+import { receiptsOf, scansToConfirm } from "~/models/orders/lab-records.server";
+import { dueStatus } from "~/domain/receipt";
+import { CONFIRM_FIELD } from "~/domain/verdict-confirmation";
 
 const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
 
@@ -40,6 +44,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     orderSamples(order),
   ]);
   const dispute = await disputeOf(order.id);
+  const [receipts, toConfirm] = await Promise.all([receiptsOf(order), order.state === "data_delivered" ? scansToConfirm(order.id) : Promise.resolve([])]);
   const shipment = await shipmentOf(order.id);
   return {
     messages,
@@ -62,13 +67,16 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     // What each sample's scans are checked against: its main phase and cell, further phases, candidates and window.
     samples: samples.map(({ sdsStorageKey: _key, ...s }) => s),
     disputeCase: dispute ? await disputeCaseOf(order.id) : null,
+    receipts,
+    toConfirm,
+    due: { at: order.dueAt?.toISOString() ?? null, ...dueStatus(order.dueAt, order.state) },
   };
 }
 
 const OrderAction = z.discriminatedUnion("intent", [
   z.object({ intent: z.literal("pay") }),
   z.object({ intent: z.literal("cancel"), reason: z.string().trim().max(500).optional() }),
-  z.object({ intent: z.literal("accept") }),
+  z.object({ intent: z.literal("accept"), [CONFIRM_FIELD]: z.string().optional() }),
   z.object({
     intent: z.literal("ship"),
     carrier: z.string({ error: "Name the carrier." }).trim().min(2, "Name the carrier.").max(80),
@@ -107,7 +115,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     }
     if (v.intent === "accept") {
       try {
-        await acceptDelivery(order.id, "client", actor.user.id);
+        await acceptDelivery(order.id, "client", actor.user.id, { confirmed: v[CONFIRM_FIELD] === "yes" });
       } catch (err) {
         // The acceptance is committed before the payout is asked for; when only the payout failed, say so.
         if (!(err instanceof PaymentProblem) || err.status !== 503) throw err;
@@ -128,7 +136,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline, samples, disputeCase } = loaderData;
+  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline, samples, disputeCase, receipts, toConfirm, due } = loaderData;
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
   const canCancel = canMove(order.state, "cancelled", "client");
@@ -145,6 +153,7 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
         actions={<OrderStateBadge state={order.state} />}
       />
       <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
+      <DueLine due={due} />
       <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
         <section className="card" aria-labelledby="next-step">
           <h2 id="next-step" className="text-lg font-semibold">
@@ -203,7 +212,8 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
                 The data is in your data room. Accept the delivery to pay the lab, or open a dispute. Without either, the delivery is accepted automatically{" "}
                 {order.reviewWindowDays} days after it arrived.
               </p>
-              <Form method="post">
+              <Form method="post" className="space-y-2">
+                <VerdictConfirmation files={toConfirm} move="accept" />
                 <button type="submit" name="intent" value="accept" className="btn-primary" disabled={busy}>
                   Accept delivery
                 </button>
@@ -252,6 +262,11 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
       {disputeCase ? (
         <div className="mt-6">
           <DisputePanel orderId={order.id} side="client" dispute={disputeCase} />
+        </div>
+      ) : null}
+      {receipts.length ? (
+        <div className="mt-6">
+          <ReceiptRecordCard rows={receipts} />
         </div>
       ) : null}
       <section className="card mt-6" aria-labelledby="declared-samples">

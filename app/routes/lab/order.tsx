@@ -26,19 +26,25 @@ import type { Route } from "./+types/order";
 import { useFormat } from "~/components/locale";
 import { DisputePanel } from "~/components/dispute-panel";
 import { disputeCase } from "~/models/orders/disputes.server";
+import { DueLine, ReceiptFields, ReceiptRecordCard, RefusalFields, VerdictConfirmation } from "~/components/lab-records";
+import { receiptsOf, scansToConfirm } from "~/models/orders/lab-records.server";
+import { AMOUNT_UNITS, dueStatus, RECEIPT_CONDITIONS, REFUSAL_REASONS } from "~/domain/receipt";
+import { CONFIRM_FIELD } from "~/domain/verdict-confirmation";
 
 const labOrder = (request: Request, orderId: string) => requireOrderSide(request, "lab", orderId);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { order, actor } = await labOrder(request, params.id);
   const messages = await viewThread(actor.user.id, actor.membership.organisation.id, orderThread(order));
-  const [title, clientName, samples, shipment, timeline, missingChecks] = await Promise.all([
+  const [title, clientName, samples, shipment, timeline, missingChecks, receipts, toConfirm] = await Promise.all([
     requestTitleOf(order.requestId),
     organisationNameOf(order.clientOrganisationId),
     orderSamples(order),
     shipmentOf(order.id),
     orderTimeline(order.id),
     order.state === "measuring" ? samplesWithoutCompletedCheck(order.id) : Promise.resolve([]),
+    receiptsOf(order),
+    order.state === "measuring" ? scansToConfirm(order.id) : Promise.resolve([]),
   ]);
   return {
     messages,
@@ -52,11 +58,29 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     timeline,
     missingChecks,
     dispute: ["disputed", "resolved"].includes(order.state) ? await disputeCase(order.id) : null,
+    receipts,
+    toConfirm,
+    due: { at: order.dueAt?.toISOString() ?? null, ...dueStatus(order.dueAt, order.state) },
   };
 }
 
+const note = z.string().trim().max(1000).optional();
+
+const ReceiptRecord = z.object({
+  sampleId: z.string(),
+  condition: z.enum(RECEIPT_CONDITIONS, { error: "Choose the sample's condition." }),
+  sealIntact: z.enum(["yes", "no"], { error: "Say whether the seal is intact." }),
+  amount: z.coerce.number({ error: "Give the amount as a number." }).positive("The amount received must be more than zero.").max(1e6).optional(),
+  amountUnit: z.enum(AMOUNT_UNITS).optional(),
+  storagePlace: z.string().trim().max(200).optional(),
+  photoKey: z.string().max(500).optional(),
+  photoName: z.string().max(255).optional(),
+  photoSha256: z.string().max(64).optional(),
+  note,
+});
+
 const LabMove = z.discriminatedUnion("intent", [
-  z.object({ intent: z.literal("received"), note: z.string().trim().max(1000).optional() }),
+  z.object({ intent: z.literal("received"), note, records: z.array(ReceiptRecord).max(200).optional() }),
   z.object({
     intent: z.literal("refuse"),
     reason: z
@@ -64,23 +88,44 @@ const LabMove = z.discriminatedUnion("intent", [
       .trim()
       .min(10, "Say in a sentence why the parcel is refused (at least 10 characters).")
       .max(2000),
+    refused: z
+      .array(z.object({ sampleId: z.string(), reason: z.enum(REFUSAL_REASONS, { error: "Choose a reason from the list." }).optional() }))
+      .max(200)
+      .optional(),
   }),
-  z.object({ intent: z.literal("measuring"), note: z.string().trim().max(1000).optional() }),
-  z.object({ intent: z.literal("delivered"), note: z.string().trim().max(1000).optional() }),
+  z.object({ intent: z.literal("measuring"), note }),
+  z.object({ intent: z.literal("delivered"), note, [CONFIRM_FIELD]: z.string().optional() }),
 ]);
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { actor, order } = await labOrder(request, params.id);
+  const samples = await orderSamples(order);
   const submission = parseWithZod(await readForm(request), { schema: LabMove });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const v = submission.value;
   const back = `/lab/orders/${order.id}`;
   try {
-    if (v.intent === "received") await markReceived(order.id, actor.user.id, v.note ?? "");
+    if (v.intent === "received") {
+      const records = (v.records ?? []).map((r) => ({
+        sampleId: r.sampleId,
+        condition: r.condition,
+        sealIntact: r.sealIntact === "yes",
+        amount: r.amount ?? null,
+        amountUnit: r.amountUnit ?? null,
+        storagePlace: r.storagePlace ?? "",
+        note: r.note ?? "",
+        photo: r.photoKey ? { storageKey: r.photoKey, fileName: r.photoName ?? "photo", sha256: r.photoSha256 } : null,
+      }));
+      await markReceived(order.id, actor.user.id, v.note ?? "", records);
+    }
     if (v.intent === "measuring") await startMeasuring(order.id, actor.user.id, v.note ?? "");
-    if (v.intent === "delivered") await markDelivered(order.id, actor.user.id, v.note ?? "");
+    if (v.intent === "delivered") await markDelivered(order.id, actor.user.id, v.note ?? "", { confirmed: v[CONFIRM_FIELD] === "yes" });
     if (v.intent === "refuse") {
-      await refuseOnArrival(order.id, actor.user.id, v.reason);
+      const refused = (v.refused ?? []).flatMap((r) => (r.reason ? [{ sampleId: r.sampleId, reason: r.reason }] : []));
+      if (samples.length > 0 && refused.length === 0) {
+        return data({ result: submission.reply({ formErrors: ["Choose the reason for each refused sample (at least one)."] }) }, { status: 400 });
+      }
+      await refuseOnArrival(order.id, actor.user.id, v.reason, refused);
       return redirectWithToast(back, { kind: "info", message: "Parcel refused. The client is refunded minus the handling fee." });
     }
   } catch (err) {
@@ -93,7 +138,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function LabOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, title, clientName, samples, sds, shipment, timeline, missingChecks, dispute } = loaderData;
+  const { order, title, clientName, samples, sds, shipment, timeline, missingChecks, dispute, receipts, toConfirm, due } = loaderData;
   const busy = useNavigation().state !== "idle";
   return (
     <div>
@@ -107,7 +152,9 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
         subtitle={`Order ${order.number} · for ${clientName} · ${fmt.money(order.amountMinor, order.currency)}`}
         actions={<OrderStateBadge state={order.state} />}
       />
-      <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
+      {/* The form's sentence and any field's (the receipt records' fields are many; their sentences show here together). */}
+      <FormError errors={[...new Set(Object.values(actionData?.result?.error ?? {}).flat())].filter((e): e is string => typeof e === "string" && !!e)} />
+      <DueLine due={due} />
       <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
         <div className="space-y-6">
           <section className="card" aria-labelledby="lab-next">
@@ -120,12 +167,26 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
                   {shipment ? `Shipped with ${shipment.carrier}, tracking ${shipment.trackingNumber}. ` : ""}When the parcel arrives, check it against the
                   declaration below before accepting it.
                 </p>
-                <Form method="post">
+                <Form method="post" className="space-y-3" aria-label="Receipt record">
+                  <h3 className="font-semibold">Receipt record</h3>
+                  <p className="text-xs text-ink-600">
+                    One record per sample: its condition, the seal, how much arrived and where it is kept. The client reads this record; the turnaround (the due
+                    date) starts now.
+                  </p>
+                  <ReceiptFields orderId={order.id} samples={samples.map((s) => ({ id: s.id, label: s.label }))} />
+                  <div>
+                    <label htmlFor="received-note" className="label">
+                      Note for the timeline (optional)
+                    </label>
+                    <textarea id="received-note" name="note" rows={2} className="input" maxLength={1000} />
+                  </div>
                   <button type="submit" name="intent" value="received" className="btn-primary" disabled={busy}>
                     Mark samples received
                   </button>
                 </Form>
-                <Form method="post" className="space-y-2 border-t border-ink-100 pt-4">
+                <Form method="post" className="space-y-2 border-t border-ink-100 pt-4" aria-label="Refusal on arrival">
+                  <h3 className="font-semibold">Refuse on arrival</h3>
+                  <RefusalFields samples={samples.map((s) => ({ id: s.id, label: s.label }))} />
                   <label htmlFor="refuse-reason" className="label">
                     Refuse on arrival — why does the parcel not match its declaration?
                   </label>
@@ -136,7 +197,11 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
                 </Form>
               </div>
             ) : canMove(order.state, "measuring", "lab") ? (
-              <Form method="post" className="mt-3">
+              <Form method="post" className="mt-3 space-y-2">
+                <label htmlFor="measuring-note" className="label">
+                  Note for the timeline (optional)
+                </label>
+                <textarea id="measuring-note" name="note" rows={2} className="input" maxLength={1000} />
                 <button type="submit" name="intent" value="measuring" className="btn-primary" disabled={busy}>
                   Start measuring
                 </button>
@@ -151,7 +216,12 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
                   Upload delivery files
                 </Link>
                 {missingChecks.length ? <p className="text-sm text-caution-700">Still without a completed check: {missingChecks.join(", ")}.</p> : null}
-                <Form method="post">
+                <Form method="post" className="space-y-2">
+                  <VerdictConfirmation files={toConfirm} move="deliver" />
+                  <label htmlFor="delivered-note" className="label">
+                    Note for the timeline (optional)
+                  </label>
+                  <textarea id="delivered-note" name="note" rows={2} className="input" maxLength={1000} />
                   <button type="submit" name="intent" value="delivered" className="btn-primary" disabled={busy || missingChecks.length > 0}>
                     Mark data delivered
                   </button>
@@ -176,6 +246,7 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
             ) : null}
           </section>
           {dispute ? <DisputePanel orderId={order.id} side="lab" dispute={dispute} /> : null}
+          <ReceiptRecordCard rows={receipts} />
           <section className="card" aria-labelledby="lab-samples">
             <h2 id="lab-samples" className="mb-3 text-lg font-semibold">
               Samples and their hazard declarations

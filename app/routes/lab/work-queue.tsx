@@ -5,12 +5,18 @@ import { EmptyState, PageHeader } from "~/components/ui";
 import { ordersOf } from "~/models/orders/queries.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { readTableQuery } from "~/utils/table";
+import { dueStatus } from "~/domain/receipt";
 import type { Route } from "./+types/work-queue";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
   const q = readTableQuery(request, ORDERS_TABLE);
-  const { rows, sort, dir, ...info } = pageOfOrders(await ordersOf("lab", membership.organisation.id), q);
+  const now = new Date();
+  const orders = (await ordersOf("lab", membership.organisation.id)).map(({ dueAt, ...o }) => ({
+    ...o,
+    due: { at: dueAt?.toISOString() ?? null, ...dueStatus(dueAt, o.state, now) },
+  }));
+  const { rows, sort, dir, ...info } = pageOfOrders(orders, q);
   return { orders: rows, sort, dir, info };
 }
 
@@ -18,7 +24,7 @@ export default function WorkQueue({ loaderData }: Route.ComponentProps) {
   const { orders, sort, dir, info } = loaderData;
   return (
     <div>
-      <PageHeader title="Work queue" subtitle="Orders of your lab and where each one stands." />
+      <PageHeader title="Work queue" subtitle="Orders of your lab, where each one stands and when its data is due." />
       {orders.length === 0 ? (
         <EmptyState
           title="No orders to work on"
@@ -31,7 +37,7 @@ export default function WorkQueue({ loaderData }: Route.ComponentProps) {
           Accepted and paid orders appear here, from samples in transit to data delivered.
         </EmptyState>
       ) : (
-        <OrdersTable orders={orders} hrefBase="/lab/orders" counterpart="Client" sort={sort} dir={dir} info={info} />
+        <OrdersTable orders={orders} hrefBase="/lab/orders" counterpart="Client" sort={sort} dir={dir} info={info} showDue />
       )}
     </div>
   );
