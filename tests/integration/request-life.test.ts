@@ -7,7 +7,7 @@ import { db, schema } from "~/db/client.server";
 import { seedDemo } from "~/demo/seed.server";
 import { requestLifeIds, seedRequestLife } from "~/demo/seed-request-life.server";
 import { AWAITING_RECONFIRMATION } from "~/domain/request-revisions";
-import { expireOverdueRequests } from "~/models/requests/request-life.server";
+import { expireOverdueRequests, saveStep } from "~/models/requests/request-life.server";
 import { publishRequest } from "~/models/requests/requests.server";
 import { action as clientRequestAction, loader as clientRequestLoader } from "~/routes/client/request";
 import { action as measurementAction } from "~/routes/client/request-measurement";
@@ -238,6 +238,32 @@ describe("edit after quoting", () => {
       { id: requestId },
     );
     expect(locked.status).toBe(400);
+  });
+});
+
+describe("a changed hazard declaration", () => {
+  it("lapses every lab's acknowledgement: the lab acknowledges again before it can re-confirm its quote", async () => {
+    const id = await openRequest("Anatase HC-2611 with a hazard added after quoting");
+    const quote = await graniteQuotes(id);
+    const request = await requestRow(id);
+    // The client adds a hazard statement to the sample (GHS H302, harmful if swallowed) through a wizard save.
+    const { revision } = await saveStep(request, ownerId, () =>
+      db
+        .update(schema.samples)
+        .set({ ghsPictograms: ["GHS07"], hStatements: ["H302"] })
+        .where(eq(schema.samples.requestId, id)),
+    );
+    expect(revision?.revision).toBe(2);
+    expect(await db.select().from(schema.hazardAcknowledgements).where(eq(schema.hazardAcknowledgements.requestId, id))).toHaveLength(0);
+    const cookie = await as(GRANITE);
+    const refused = await callRoute(labRequestAction, formRequest(`/lab/requests/${id}`, { intent: "reconfirm", quoteId: quote.id }, cookie), { id });
+    expect(refused.status).toBe(400);
+    expect(JSON.stringify(refused.body)).toContain("acknowledge it again");
+    expect((await quotesOf(id))[0].requestRevision).toBe(1);
+    await callRoute(labRequestAction, formRequest(`/lab/requests/${id}`, { intent: "acknowledge" }, cookie), { id });
+    const done = await callRoute(labRequestAction, formRequest(`/lab/requests/${id}`, { intent: "reconfirm", quoteId: quote.id }, cookie), { id });
+    expect(done.status).toBe(302);
+    expect((await quotesOf(id))[0].requestRevision).toBe(2);
   });
 });
 

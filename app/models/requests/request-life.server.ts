@@ -55,6 +55,10 @@ async function quotingLabs(tx: Tx, requestId: string): Promise<string[]> {
 
 export type Revision = { revision: number; summary: string } | null;
 
+/** What a lab acknowledges before quoting: each sample's hazards, handling notes and safety data sheet. */
+const hazardsOf = (snap: RequestSnapshot) =>
+  JSON.stringify(snap.samples.map((s) => [s.label, s.hazards, s.handlingNotes, s.sdsFileName]).sort((a, b) => String(a[0]).localeCompare(String(b[0]))));
+
 /**
  * Runs one wizard step's save on a request. On a draft that is all; on an open request, when something a lab
  * quotes on changed, the request's revision goes up by one, the change is stored in words and every lab with
@@ -75,6 +79,10 @@ export async function saveStep<T>(request: MarketRequest, userId: string, save: 
       .returning({ revision: schema.requests.revision });
     if (!row) return null;
     await tx.insert(schema.requestRevisions).values({ requestId: request.id, revision: row.revision, summary, changedBy: userId });
+    // A changed hazard declaration must be read again: every lab's acknowledgement lapses with it.
+    if (before && after && hazardsOf(before) !== hazardsOf(after)) {
+      await tx.delete(schema.hazardAcknowledgements).where(eq(schema.hazardAcknowledgements.requestId, request.id));
+    }
     await audit(
       {
         actorUserId: userId,
@@ -120,6 +128,11 @@ export async function reconfirmQuote(quoteId: string | undefined, labId: string,
     if (row.quote.state !== "sent") return { error: `This quote is ${row.quote.state}; send a new one instead.` };
     if (row.quote.validUntil < new Date()) return { error: "This quote's validity has passed; send a new one instead." };
     if (row.quote.requestRevision >= row.request.revision) return { error: "This quote already answers the request as it reads now." };
+    const [acknowledged] = await tx
+      .select({ at: schema.hazardAcknowledgements.acknowledgedAt })
+      .from(schema.hazardAcknowledgements)
+      .where(and(eq(schema.hazardAcknowledgements.requestId, row.request.id), eq(schema.hazardAcknowledgements.labId, labId)));
+    if (!acknowledged) return { error: "The hazard declaration has changed; acknowledge it again before re-confirming the quote." };
     await tx.update(schema.quotes).set({ requestRevision: row.request.revision }).where(eq(schema.quotes.id, quoteId));
     await audit(
       {
