@@ -1,5 +1,6 @@
 // The admin ledger's filter parameters (browser-safe), shared by the screen and its CSV export.
 import { z } from "zod";
+import { parseOrderNumber } from "~/domain/order-number";
 
 export const LEDGER_KINDS = ["payment_held", "payout", "platform_fee", "refund"] as const;
 
@@ -9,7 +10,15 @@ export const LedgerFilterSchema = z.object({
     .string()
     .regex(/^[A-Z]{3}$/, "A currency is three capital letters, e.g. EUR.")
     .optional(),
-  orderId: z.uuid({ error: "An order id is a UUID." }).optional(),
+  /** The order as people name it (HCW-2026-0042). */
+  order: z
+    .string()
+    .trim()
+    .toUpperCase()
+    .refine((v) => parseOrderNumber(v) !== null, "An order number reads like HCW-2026-0042.")
+    .optional(),
+  /** The order's internal id, for links and scripts; people filter by `order`. */
+  orderId: z.uuid({ error: "That is not an order of the ledger." }).optional(),
   from: z.iso.date({ error: "Dates are YYYY-MM-DD." }).optional(),
   to: z.iso.date({ error: "Dates are YYYY-MM-DD." }).optional(),
 });
@@ -26,6 +35,7 @@ export function parseLedgerFilter(params: URLSearchParams) {
       kind: v.kind,
       currency: v.currency,
       orderId: v.orderId,
+      orderNumber: v.order,
       from: v.from ? new Date(v.from) : undefined,
       to: v.to ? new Date(new Date(v.to).getTime() + 86_400_000) : undefined,
     },

@@ -209,6 +209,15 @@ describe("the ledger export", () => {
     const rows = lines.slice(1).map((l) => l.split(","));
     expect(rows.length).toBeGreaterThan(0);
     expect(rows.every((r) => r.at(-1) === order.number)).toBe(true);
+    // People filter by the number they read; lower case is the same number, and a malformed one gets a sentence.
+    const byNumber = await callRoute(
+      app.ledgerExport.loader,
+      getRequest(`/admin/ledger/export?order=${order.number.toLowerCase()}`, await as("admin@diffractory.example")),
+    );
+    expect(String(byNumber.body).trim().split(/\r?\n/).slice(1)).toEqual(lines.slice(1));
+    const bad = await callRoute(app.ledgerExport.loader, getRequest("/admin/ledger/export?order=42", await as("admin@diffractory.example")));
+    expect(bad.status).toBe(400);
+    expect(String(JSON.stringify(bad.body))).toContain("An order number reads like HCW-2026-0042.");
   });
 });
 

@@ -103,6 +103,7 @@ export interface LedgerFilter {
   kind?: string;
   currency?: string;
   orderId?: string;
+  orderNumber?: string;
   from?: Date;
   to?: Date;
 }
@@ -146,6 +147,7 @@ function ledgerWhere(f: LedgerFilter) {
   if (f.kind) where.push(sql`t.kind = ${f.kind}`);
   if (f.currency) where.push(sql`t.currency = ${f.currency}`);
   if (f.orderId) where.push(sql`t.order_id = ${f.orderId}`);
+  if (f.orderNumber) where.push(sql`t.order_id = (select o.id from orders o where o.number = ${f.orderNumber})`);
   if (f.from) where.push(sql`t.created_at >= ${f.from.toISOString()}`);
   if (f.to) where.push(sql`t.created_at < ${f.to.toISOString()}`);
   return where;

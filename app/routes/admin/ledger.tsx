@@ -76,7 +76,7 @@ export default function Ledger({ loaderData }: Route.ComponentProps) {
           </section>
         );
       })}
-      <Form method="get" className="card mb-6 grid gap-3 sm:grid-cols-5" aria-label="Filter the ledger">
+      <Form method="get" className="card mb-6 grid gap-3 sm:grid-cols-6" aria-label="Filter the ledger">
         <div>
           <label className="label" htmlFor="kind">
             Movement
@@ -97,6 +97,12 @@ export default function Ledger({ loaderData }: Route.ComponentProps) {
           <input id="currency" name="currency" className="input" defaultValue={params.get("currency") ?? ""} placeholder="EUR" />
         </div>
         <div>
+          <label className="label" htmlFor="order">
+            Order
+          </label>
+          <input id="order" name="order" className="input" defaultValue={params.get("order") ?? ""} placeholder="HCW-2026-0042" />
+        </div>
+        <div>
           <label className="label" htmlFor="from">
             From
           </label>
@@ -113,7 +119,7 @@ export default function Ledger({ loaderData }: Route.ComponentProps) {
             Filter
           </SubmitButton>
         </div>
-        <p className="min-h-5 text-sm text-danger-700 sm:col-span-5" role={error ? "alert" : undefined}>
+        <p className="min-h-5 text-sm text-danger-700 sm:col-span-6" role={error ? "alert" : undefined}>
           {error}
         </p>
       </Form>
