@@ -25,6 +25,7 @@ export const MILESTONES = {
   order_cancelled: { label: "Order cancelled and refunded", essential: true, for: ["client", "lab"] },
   dispute_opened: { label: "Dispute opened", essential: true, for: ["client", "lab", "admin"] },
   dispute_answered: { label: "The lab answered a dispute", essential: true, for: ["client", "admin"] },
+  dispute_evidence_added: { label: "Evidence added to a dispute", essential: true, for: ["client", "lab", "admin"] },
   dispute_resolved: { label: "Dispute resolved", essential: true, for: ["client", "lab"] },
   lab_application_received: { label: "Lab application to vet", essential: false, for: ["admin"] },
   lab_approved: { label: "Lab approved", essential: false, for: ["lab"] },

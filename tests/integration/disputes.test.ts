@@ -142,6 +142,14 @@ describe("the lab's statement", () => {
     const row = await disputeRow(disputed.orderId);
     const evidence = await w.db.select().from(w.schema.disputeEvidence).where(w.eq(w.schema.disputeEvidence.disputeId, row.id));
     expect(evidence.map((e) => `${e.side}:${e.fileName}`).sort()).toEqual(["client:impurity-note.txt", "lab:measurement-log.pdf"]);
+    // The lab and the admins hear of the client's file (essential); the lab's own file came with its statement's notice.
+    const told = (await w.db.select().from(w.schema.outboxMessages).where(w.eq(w.schema.outboxMessages.kind, "dispute_evidence_added"))).filter(
+      (m) => m.orderId === disputed.orderId,
+    );
+    expect(told.map((m) => m.to)).toContain(LAB);
+    expect(told.map((m) => m.to)).toContain(ADMIN);
+    expect(told.map((m) => m.to)).not.toContain(OWNER);
+    expect(told.every((m) => m.essential && m.subject.includes(disputed.orderNumber))).toBe(true);
     // The lab cannot attach a file stored under the client's prefix.
     const { action } = await route<Fn>("~/routes/account/order-dispute");
     const clientKey = evidence.find((e) => e.side === "client")!.storageKey;

@@ -205,6 +205,18 @@ function orderLetterWords(kind: MilestoneKind, c: OrderContext, side: Audience):
             ],
             nextStep: "Add evidence of your own on the order page if the statement leaves something out; an admin then decides.",
           };
+    case "dispute_evidence_added":
+      return {
+        ...base,
+        ...(side === "admin" ? { link: { path: `/admin/disputes/${c.order.id}`, label: "Open the dispute" } } : {}),
+        subject: `New evidence in the dispute on order ${ref(c.order)}`,
+        heading: "Evidence was added to a dispute",
+        paragraphs: [
+          `A file was added to the dispute on order ${ref(c.order)} (${title}). It is listed with the statements on the ${side === "admin" ? "dispute" : "order"} page.`,
+        ],
+        nextStep:
+          side === "admin" ? "Read it with the rest of the evidence before settling the split." : "Read it; add a file of your own if it leaves something out.",
+      };
     case "dispute_resolved":
       return {
         ...base,

@@ -32,6 +32,8 @@ export type Milestone =
   | { kind: "review_window_ending"; order: Order }
   /** The lab's statement in a dispute: the client and the admins hear it (the note is the statement). */
   | { kind: "dispute_answered"; order: Order; note: string }
+  /** A file one side added to a dispute: the other side and the admins hear of it (the note names the file). */
+  | { kind: "dispute_evidence_added"; order: Order; side: "client" | "lab"; note: string }
   | { kind: "request_open"; requestId: string; labIds: string[] }
   | { kind: "quote_received"; quoteId: string }
   /** A message in a request's or an order's thread: the other side hears of it. */
@@ -216,6 +218,8 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       return orderOutgoing(tx, m.order, "review_window_ending", ["client"], "");
     case "dispute_answered":
       return orderOutgoing(tx, m.order, "dispute_answered", ["client", "admin"], m.note);
+    case "dispute_evidence_added":
+      return orderOutgoing(tx, m.order, "dispute_evidence_added", [m.side === "client" ? "lab" : "client", "admin"], m.note);
     case "request_open": {
       const [r] = await tx.select().from(schema.requests).where(eq(schema.requests.id, m.requestId));
       if (!r) return [];

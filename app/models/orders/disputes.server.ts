@@ -126,8 +126,11 @@ export interface UploadedEvidence {
   sha256?: string;
 }
 
-/** Adds a file one side uploaded to the dispute, after checking the stored bytes against the evidence rule. */
-export async function addDisputeEvidence(order: Order, side: DisputeSide, userId: string, file: UploadedEvidence) {
+/**
+ * Adds a file one side uploaded to the dispute, after checking the stored bytes against the evidence rule; the
+ * other side and the admins are told, except when the file comes with the lab's statement (that notice says it).
+ */
+export async function addDisputeEvidence(order: Order, side: DisputeSide, userId: string, file: UploadedEvidence, { withStatement = false } = {}) {
   const dispute = await openDisputeOf(order.id);
   if (!isKeyUnder(file.storageKey, evidencePrefix(order.id, side))) throw new DisputeProblem("Upload the evidence file again.");
   const [{ count }] = await db
@@ -142,11 +145,15 @@ export async function addDisputeEvidence(order: Order, side: DisputeSide, userId
   const contentType = contentTypeFor(EVIDENCE_RULE, fileName);
   const stored = await verifyStoredObject(file.storageKey, { ...EVIDENCE_RULE, types: [contentType as UploadRule["types"][number]] }, file.sha256 || undefined);
   if (!stored.ok) throw new DisputeProblem(stored.error, 422);
-  const [row] = await db
-    .insert(schema.disputeEvidence)
-    .values({ disputeId: dispute.id, side, fileName, contentType, sizeBytes: stored.size, storageKey: file.storageKey, uploadedBy: userId })
-    .returning();
-  return row;
+  return db.transaction(async (tx) => {
+    const [row] = await tx
+      .insert(schema.disputeEvidence)
+      .values({ disputeId: dispute.id, side, fileName, contentType, sizeBytes: stored.size, storageKey: file.storageKey, uploadedBy: userId })
+      .returning();
+    if (!withStatement)
+      await notify(tx, { kind: "dispute_evidence_added", order, side, note: `${side === "client" ? "The client" : "The lab"} added ${fileName}.` });
+    return row;
+  });
 }
 
 /** One evidence file of the order's dispute, or null (another order's, or no such file). */

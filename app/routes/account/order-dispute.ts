@@ -26,11 +26,13 @@ export async function action({ request, params, context }: Route.ActionArgs) {
       await answerDispute(order, actor.user.id, String(form.get("statement") ?? ""), context.clientAddress);
       const evidenceKey = String(form.get("storageKey") ?? "");
       if (evidenceKey)
-        await addDisputeEvidence(order, side, actor.user.id, {
-          storageKey: evidenceKey,
-          fileName: String(form.get("fileName") ?? ""),
-          sha256: String(form.get("sha256") ?? ""),
-        });
+        await addDisputeEvidence(
+          order,
+          side,
+          actor.user.id,
+          { storageKey: evidenceKey, fileName: String(form.get("fileName") ?? ""), sha256: String(form.get("sha256") ?? "") },
+          { withStatement: true },
+        );
       return redirectWithToast(back, { kind: "success", message: "Statement sent; the client and the admins have been told." });
     }
     if (intent === "evidence") {
@@ -41,7 +43,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
         fileName: String(form.get("fileName") ?? ""),
         sha256: String(form.get("sha256") ?? ""),
       });
-      return redirectWithToast(back, { kind: "success", message: "Evidence added to the dispute." });
+      return redirectWithToast(back, { kind: "success", message: "Evidence added to the dispute; the other side and the admins have been told." });
     }
   } catch (err) {
     if (err instanceof DisputeProblem || err instanceof StorageUnavailable) return redirectWithToast(back, { kind: "error", message: err.message });
