@@ -344,6 +344,22 @@ describe("a request no lab can measure", () => {
     expect(result.problems).toEqual(problems);
     expect((await requestRow(requestId)).state).toBe("draft");
   });
+
+  it("when an edit after publishing rules every lab out, the request page says so", async () => {
+    const requestId = await openRequest("Anatase HC-2616 raised to 2900 K after publishing");
+    const fine = await callRoute(clientRequestLoader, getRequest(`/client/requests/${requestId}`, await as(CLIENT)), { id: requestId });
+    expect((fine.body as { noLab: string | null }).noLab).toBeNull();
+    await saveStep(await requestRow(requestId), ownerId, () =>
+      db
+        .update(schema.requests)
+        .set({ temperaturePointsK: [2900] })
+        .where(eq(schema.requests.id, requestId)),
+    );
+    const page = await callRoute(clientRequestLoader, getRequest(`/client/requests/${requestId}`, await as(CLIENT)), { id: requestId });
+    expect((page.body as { noLab: string }).noLab).toMatch(
+      /^No approved lab can measure this as it now reads: every lab is ruled out by the temperature 2900 K in air .*so that labs can quote\.$/,
+    );
+  });
 });
 
 describe("the demo", () => {

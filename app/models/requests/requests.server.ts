@@ -391,13 +391,15 @@ export async function publishRequest(request: MarketRequest, userId: string): Pr
  * (docs/design.md#the-requests-life); null when at least one lab asked (every approved lab, or the invited ones) fits.
  */
 export async function noLabCanMeasure(request: MarketRequest): Promise<string | null> {
+  const published = request.state !== "draft";
   const wanted = await loadMatchRequest(request.id);
   if (!wanted) return null;
   const invited = request.visibility === "invited" ? await invitedLabIds(request.id) : null;
   const labs = (await loadMatchLabs()).filter((l) => !invited || invited.includes(l.id));
   if (labs.some((l) => matchLab(wanted, l).fits)) return null;
   const who = invited ? "None of the invited labs" : "No approved lab";
-  return `${who} can measure this: ${whyNoLabFits(wanted, labs)}. Change the measurement needs${invited ? " or invite other labs" : ""} before publishing.`;
+  const change = `Change the measurement needs${invited ? " or invite other labs" : ""}`;
+  return `${who} can measure this${published ? " as it now reads" : ""}: ${whyNoLabFits(wanted, labs)}. ${change} ${published ? "so that labs can quote" : "before publishing"}.`;
 }
 
 /** Who hears of a newly open request: the invited labs of an invited-only request, else every matching lab. */

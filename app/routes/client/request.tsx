@@ -7,7 +7,7 @@ import { OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from
 import { Badge, EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
 import { matchLabsForRequest, quoteJudgementsForRequest } from "~/models/labs/matching.server";
 import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/requests/quotes.server";
-import { samplesOf, sdsLinks } from "~/models/requests/requests.server";
+import { noLabCanMeasure, samplesOf, sdsLinks } from "~/models/requests/requests.server";
 import { repeatRequest, revisionsOf, withdrawRequest } from "~/models/requests/request-life.server";
 import { RequestNeeds, RevisionList } from "~/components/request-needs";
 import { AWAITING_RECONFIRMATION } from "~/domain/request-revisions";
@@ -36,7 +36,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const chosen = new URL(request.url).searchParams.get("lab") ?? (threads.find((t) => t.unread > 0) ?? threads.find((t) => t.messages > 0))?.slug ?? null;
   const found = chosen ? await requestThreadForClient(row.id, membership.organisation.id, chosen) : null;
   const conversation = found ? { lab: found.lab, ...(await viewThread(user.id, membership.organisation.id, found.thread)) } : null;
-  return { request: row, samples, quotes, matches, judgements, order, revisions, sds: await sdsLinks(samples), threads, conversation };
+  // An edit after publishing can rule every lab out; the page says so rather than waiting for quotes that cannot come.
+  const noLab = row.state === "open" ? await noLabCanMeasure(row) : null;
+  return { request: row, samples, quotes, matches, judgements, order, revisions, sds: await sdsLinks(samples), threads, conversation, noLab };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -72,7 +74,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientRequest({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, samples, quotes, judgements, order, revisions, sds, threads, conversation } = loaderData;
+  const { request: r, samples, quotes, judgements, order, revisions, sds, threads, conversation, noLab } = loaderData;
   const slugOf = new Map(threads.map((t) => [t.labId, t.slug]));
   const navigation = useNavigation();
   const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
@@ -117,6 +119,11 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
       {r.closedAt ? (
         <p className="card mb-4 text-sm" role="note">
           {`${r.state === "withdrawn" ? "You withdrew this request" : "This request expired on its deadline without an accepted quote"} on ${fmt.date(r.closedAt)}; its quotes have lapsed. Use “Order again” to post it anew.`}
+        </p>
+      ) : null}
+      {noLab ? (
+        <p className="card mb-4 border-caution-600 bg-caution-50 text-sm" role="alert">
+          {noLab}
         </p>
       ) : null}
       <RequestNeeds request={r}>
