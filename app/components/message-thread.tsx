@@ -2,7 +2,7 @@
 // optional attachment uploaded straight to storage. Posts to the thread's API address (docs/design.md#messages);
 // the page's loader then shows the new message.
 import { useEffect, useRef, useState } from "react";
-import { useFetcher } from "react-router";
+import { useFetcher, useRevalidator } from "react-router";
 import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
 import { useFormat } from "~/components/locale";
 import { Badge, FormError } from "~/components/ui";
@@ -52,6 +52,19 @@ export function MessageThread({
   const sending = fetcher.state !== "idle";
   const sent = fetcher.state === "idle" && fetcher.data?.id;
 
+  // The page marked the thread read while the layout was counting unread messages in parallel: once shown,
+  // reload the data so the navigation's count leaves this thread's messages out.
+  const revalidator = useRevalidator();
+  const shownUnread = useRef(unread > 0);
+  // The "new" badge keeps the count the page opened with, through that reload.
+  const [newOnArrival] = useState(unread);
+  useEffect(() => {
+    if (shownUnread.current) {
+      shownUnread.current = false;
+      void revalidator.revalidate();
+    }
+  }, [revalidator]);
+
   // A message that went through clears the box and the attachment.
   useEffect(() => {
     if (sent) {
@@ -65,7 +78,7 @@ export function MessageThread({
     <section id="messages" className="card mt-6" aria-label={title}>
       <div className="flex flex-wrap items-center justify-between gap-2">
         <h2 className="text-lg font-semibold">{title}</h2>
-        {unread ? <Badge tone="brand">{unread} new</Badge> : null}
+        {newOnArrival ? <Badge tone="brand">{newOnArrival} new</Badge> : null}
       </div>
       {intro ? <p className="mt-1 text-sm text-ink-600">{intro}</p> : null}
       {messages.length === 0 ? (
