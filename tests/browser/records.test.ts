@@ -5,7 +5,7 @@ import pg from "pg";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { databaseUrl } from "../../services/postgres";
 import { checkAccessibility } from "./a11y";
-import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, signOut, visit, type Browser } from "./harness";
+import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, signOut, visit, waitForHydration, type Browser } from "./harness";
 
 const OWNER = "owner@halvorsen.example";
 const ADMIN = "admin@diffractory.example";
@@ -117,6 +117,10 @@ describe("records that hold", () => {
     const [pinecrest] = await query<{ id: string }>("select id from organisations where slug = 'pinecrest-solid-forms'");
     await signIn(page, CONSULTANT);
     await page.waitForURL(/\/client/);
+    // Let the sign-in's own page settle: its data request clears the sign-in's one-time message cookie, and
+    // must not cross the order's request below, whose redirect carries the message this test looks for.
+    await waitForHydration(page);
+    await page.waitForLoadState("networkidle");
     const working = page.getByLabel("Working in");
     if ((await working.inputValue()) !== pinecrest.id) {
       await working.selectOption(pinecrest.id);
