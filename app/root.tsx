@@ -6,7 +6,7 @@ import type { Route } from "./+types/root";
 import "./app.css";
 import { GeneralErrorBoundary } from "./components/error-boundary";
 import { useNonce } from "./nonce";
-import { ToastMessage } from "./components/toast";
+import { ToastMessage, useKeptToast } from "./components/toast";
 import { readToast } from "./utils/toast.server";
 import { LocaleProvider } from "./components/locale";
 import { NavigationProgress } from "./components/pending";
@@ -21,6 +21,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 export function Layout({ children }: { children: ReactNode }) {
   const root = useRouteLoaderData<typeof loader>("root");
   const nonce = useNonce();
+  const toast = useKeptToast(root?.toast);
   return (
     <html lang="en">
       <head>
@@ -32,7 +33,7 @@ export function Layout({ children }: { children: ReactNode }) {
       </head>
       <body className="min-h-screen">
         <LocaleProvider locale={supportedLocale(root?.locale)}>{children}</LocaleProvider>
-        {root?.toast ? <ToastMessage toast={root.toast} /> : null}
+        {toast ? <ToastMessage toast={toast} /> : null}
         <ScrollRestoration nonce={nonce} />
         <Scripts nonce={nonce} />
       </body>

@@ -1,5 +1,6 @@
 // Shows the one-time message a redirect carried, and lets the person dismiss it.
 import { useEffect, useState } from "react";
+import { useLocation } from "react-router";
 import type { Toast } from "~/utils/toast.server";
 
 export function ToastMessage({ toast }: { toast: Toast }) {
@@ -16,4 +17,18 @@ export function ToastMessage({ toast }: { toast: Toast }) {
       </button>
     </div>
   );
+}
+
+/**
+ * The toast to show: the one the latest load carried, kept through a revalidation of the same page (a thread
+ * that reloads its data once it is read, say), whose load finds the one-time cookie already spent; a navigation
+ * to another page lets it go.
+ */
+export function useKeptToast(latest: Toast | null | undefined): Toast | null {
+  const { key } = useLocation();
+  const [kept, setKept] = useState<{ key: string; toast: Toast } | null>(null);
+  useEffect(() => {
+    if (latest) setKept({ key, toast: latest });
+  }, [latest, key]);
+  return latest ?? (kept?.key === key ? kept.toast : null);
 }

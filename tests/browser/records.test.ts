@@ -132,5 +132,23 @@ describe("records that hold", () => {
     await page.getByText("Switched to Halvorsen Cathode Works.").first().waitFor();
     await page.getByText(order.number).first().waitFor();
     expect(page.url()).toBe(`${BASE_URL}/client/orders/${order.id}`);
+
+    // Back in Pinecrest, an e-mail's link to a message on another Halvorsen order: the page marks the thread
+    // read and reloads its data, and the one-time message stays on screen through that reload.
+    const [withThread] = await query<{ id: string }>(
+      "select o.id from orders o join requests r on r.id = o.request_id where r.title = 'Lattice check of LFP production lot HC-2645'",
+    );
+    await page.getByLabel("Working in").selectOption(pinecrest.id);
+    await page.getByRole("button", { name: "Switch", exact: true }).click();
+    await expect.poll(() => page.getByLabel("Working in").inputValue()).toBe(pinecrest.id);
+    await page.waitForLoadState("networkidle");
+    await visit(page, `/client/orders/${withThread.id}#messages`);
+    await page.getByText("Switched to Halvorsen Cathode Works.").first().waitFor();
+    await page
+      .getByRole("region", { name: /^Messages with / })
+      .getByText(/\d+ new/)
+      .waitFor();
+    await page.waitForLoadState("networkidle");
+    expect(await page.getByRole("status").filter({ hasText: "Switched to Halvorsen Cathode Works." }).isVisible()).toBe(true);
   });
 });
