@@ -2,23 +2,10 @@
 // atmosphere, quality, deadline and budget; and the changes made after publishing (docs/design.md#the-requests-life).
 import { useFormat } from "~/components/locale";
 import { labelOf } from "~/domain/matching";
-import { rangeText, sourceText, temperaturesText } from "~/domain/request-revisions";
+import { rangeText, type RequestSnapshot, sourceText, temperaturesText } from "~/domain/request-revisions";
 
-interface NeedsView {
-  technique: string;
-  rangeKind: string;
-  rangeMin: number | null;
-  rangeMax: number | null;
-  preferredSource: string;
-  temperaturePointsK: number[];
-  atmosphere: string;
-  quality: string;
-  deadline: string | null;
-  budgetMinor: number | null;
-  currency: string;
-  visibility: string;
-  revision: number;
-}
+/** What the needs block reads of a request: the snapshot a revision compares, with the revision it is at. */
+type NeedsView = Omit<RequestSnapshot, "title" | "samples"> & { revision: number };
 
 export function RequestNeeds({ request: r, children }: { request: NeedsView; children?: React.ReactNode }) {
   const fmt = useFormat();
