@@ -114,13 +114,18 @@ export async function screenshot(page: Page, name: string) {
   await page.screenshot({ path: path.join(SCREENSHOT_DIR, `${name}.png`), fullPage: true });
 }
 
-/** Sign-in failures are counted per address and every browser test signs in from 127.0.0.1: a file leaves none behind. */
-export async function clearSignInAttempts() {
+/** One query on the browser tests' database (the app under test reads the same), its rows. */
+export async function query<T extends pg.QueryResultRow>(text: string, values: unknown[] = []) {
   const c = new pg.Client({ connectionString: databaseUrl("diffractory_browser") });
   await c.connect();
   try {
-    await c.query("delete from sign_in_attempts");
+    return (await c.query<T>(text, values)).rows;
   } finally {
     await c.end();
   }
+}
+
+/** Sign-in failures are counted per address and every browser test signs in from 127.0.0.1: a file leaves none behind. */
+export async function clearSignInAttempts() {
+  await query("delete from sign_in_attempts");
 }

@@ -2,10 +2,8 @@
 // unread notices with a switch; a notice of the other organisation, followed from the notification list,
 // switches first and opens its page instead of a 404. The notices are written into the browser database here,
 // so the test does not depend on what other files have read or marked.
-import pg from "pg";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
-import { databaseUrl } from "../../services/postgres";
-import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, visit, type Browser } from "./harness";
+import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, visit, query, type Browser } from "./harness";
 
 const CONSULTANT = "consultant@fieldnotes.example";
 const STAMP = Date.now().toString(36);
@@ -16,16 +14,6 @@ let b: Browser;
 let pinecrest: { id: string; name: string };
 let halvorsen: { id: string; name: string };
 let pinecrestRequest: { id: string; title: string };
-
-async function query<T extends pg.QueryResultRow>(text: string, values: unknown[] = []) {
-  const c = new pg.Client({ connectionString: databaseUrl("diffractory_browser") });
-  await c.connect();
-  try {
-    return (await c.query<T>(text, values)).rows;
-  } finally {
-    await c.end();
-  }
-}
 
 beforeAll(async () => {
   await clearSignInAttempts();

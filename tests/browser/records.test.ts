@@ -1,11 +1,9 @@
 // Records that hold (docs/design.md#records-that-hold): a client archives a delivered scan from the data room and
 // brings it back under "Show archived"; the admin finds it in the audit log in words, filtered by kind and person,
 // with sign-ins on their own tab; a consultant's link to an order of their other organisation switches there.
-import pg from "pg";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
-import { databaseUrl } from "../../services/postgres";
 import { checkAccessibility } from "./a11y";
-import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, signOut, visit, waitForHydration, type Browser } from "./harness";
+import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, signOut, visit, waitForHydration, query, type Browser } from "./harness";
 
 const OWNER = "owner@halvorsen.example";
 const ADMIN = "admin@diffractory.example";
@@ -16,16 +14,6 @@ const FILE = "HC-2398-1_Co_15-110.xy";
 let b: Browser;
 let order: { id: string; number: string };
 let owner: { id: string; name: string };
-
-async function query<T extends pg.QueryResultRow>(text: string, values: unknown[] = []) {
-  const c = new pg.Client({ connectionString: databaseUrl("diffractory_browser") });
-  await c.connect();
-  try {
-    return (await c.query<T>(text, values)).rows;
-  } finally {
-    await c.end();
-  }
-}
 
 beforeAll(async () => {
   await clearSignInAttempts();
