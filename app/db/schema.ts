@@ -63,6 +63,18 @@ export const organisations = pgTable(
     country: text("country"),
     /** The letters that start its order numbers (HCW in HCW-2026-0042), from the name's initials; set at its first order. */
     orderPrefix: text("order_prefix"),
+    /** The name on invoices and contracts, when it differs from the name people use. */
+    legalName: text("legal_name"),
+    billingAddress: jsonb("billing_address").$type<PostalAddress>(),
+    /** A VAT number (EU formats checked per country) or another country's tax id as given. */
+    taxId: text("tax_id"),
+    invoiceEmail: text("invoice_email"),
+    /** A client's kind for a lab's price tiers: "academic", "non_profit" or "industry"; an admin confirms it. */
+    clientKind: text("client_kind"),
+    clientKindConfirmedAt: timestamp("client_kind_confirmed_at", { withTimezone: true }),
+    clientKindConfirmedBy: uuid("client_kind_confirmed_by"),
+    /** The client's procurement needs a purchase-order number on every accepted quote. */
+    requiresPurchaseOrder: boolean("requires_purchase_order").notNull().default(false),
     createdAt: createdAt(),
   },
   (t) => [
@@ -70,6 +82,38 @@ export const organisations = pgTable(
     index("organisations_kind_idx").on(t.kind),
     uniqueIndex("organisations_order_prefix_idx").on(t.orderPrefix),
   ],
+);
+
+/** A postal address as written on a parcel or an invoice; `country` is the ISO 3166-1 alpha-2 code. */
+export interface PostalAddress {
+  line1: string;
+  line2?: string | null;
+  postcode?: string | null;
+  city: string;
+  region?: string | null;
+  country: string;
+}
+
+/** Where an organisation receives or sends parcels, with who takes them and when. */
+export const organisationAddresses = pgTable(
+  "organisation_addresses",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    organisationId: uuid("organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "cascade" }),
+    /** "receiving" (parcels come here: a lab's sample reception) or "shipping" (parcels leave from here). */
+    kind: text("kind").$type<"receiving" | "shipping">().notNull(),
+    label: text("label").notNull(),
+    address: jsonb("address").$type<PostalAddress>().notNull(),
+    contactName: text("contact_name").notNull().default(""),
+    contactPhone: text("contact_phone").notNull().default(""),
+    /** When parcels are taken in, in words ("Mon–Fri 08:00–16:00, closed on public holidays"). */
+    openingHours: text("opening_hours").notNull().default(""),
+    isDefault: boolean("is_default").notNull().default(false),
+    createdAt: createdAt(),
+  },
+  (t) => [index("organisation_addresses_org_idx").on(t.organisationId), check("organisation_addresses_kind", sql`${t.kind} in ('receiving', 'shipping')`)],
 );
 
 export const memberships = pgTable(
@@ -521,6 +565,10 @@ export const orders = pgTable(
     deliveredAt: timestamp("delivered_at", { withTimezone: true }),
     /** When the lab owes the data: set on receipt of the samples, the quote's turnaround later. */
     dueAt: timestamp("due_at", { withTimezone: true }),
+    /** The client's purchase-order number, given on acceptance; on the order, the invoice and money e-mails. */
+    purchaseOrderNumber: text("purchase_order_number"),
+    purchaseOrderFileName: text("purchase_order_file_name"),
+    purchaseOrderFileKey: text("purchase_order_file_key"),
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
@@ -688,6 +736,26 @@ export const disputeEvidence = pgTable(
     uploadedAt: createdAt(),
   },
   (t) => [index("dispute_evidence_dispute_idx").on(t.disputeId), check("dispute_evidence_side", sql`${t.side} in ('client', 'lab')`)],
+);
+
+/**
+ * An indicative rate an admin sets between two currencies, dated: quotes in other currencies are compared at the
+ * latest one, labelled as indicative. One unit of `base` is `rate` units of `quote`.
+ */
+export const exchangeRates = pgTable(
+  "exchange_rates",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    base: text("base").notNull(),
+    quote: text("quote").notNull(),
+    rate: numeric("rate", { precision: 18, scale: 8 }).notNull(),
+    /** The day the rate is for (the source's date, not when it was typed in). */
+    asOf: date("as_of").notNull(),
+    source: text("source").notNull().default(""),
+    setBy: uuid("set_by").references(() => users.id, { onDelete: "set null" }),
+    setAt: createdAt(),
+  },
+  (t) => [index("exchange_rates_pair_idx").on(t.base, t.quote, t.asOf)],
 );
 
 export type Payment = typeof payments.$inferSelect;
