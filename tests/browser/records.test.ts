@@ -113,6 +113,11 @@ describe("records that hold", () => {
     if ((await working.inputValue()) !== pinecrest.id) {
       await working.selectOption(pinecrest.id);
       await page.getByRole("button", { name: "Switch", exact: true }).click();
+      // The switch's own message shows once its redirect has loaded: no request of it can cross the next one's.
+      await page
+        .getByText(/You are now working in Pinecrest/)
+        .first()
+        .waitFor();
       await expect.poll(() => page.getByLabel("Working in").inputValue()).toBe(pinecrest.id);
     }
     // As from an e-mail: the address typed in, not a link inside the app.
@@ -128,8 +133,11 @@ describe("records that hold", () => {
     );
     await page.getByLabel("Working in").selectOption(pinecrest.id);
     await page.getByRole("button", { name: "Switch", exact: true }).click();
+    await page
+      .getByText(/You are now working in Pinecrest/)
+      .first()
+      .waitFor();
     await expect.poll(() => page.getByLabel("Working in").inputValue()).toBe(pinecrest.id);
-    await page.waitForLoadState("networkidle");
     await visit(page, `/client/orders/${withThread.id}#messages`);
     await page.getByText("Switched to Halvorsen Cathode Works.").first().waitFor();
     await page
