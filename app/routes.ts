@@ -48,6 +48,7 @@ export default [
       route("orders/:id/packing-slip", "routes/client/packing-slip.tsx"),
     ]),
     route("requests/:id/sds-upload", "routes/client/request-sds-upload.ts"),
+    route("requests/:id/po-upload", "routes/client/request-po-upload.ts"),
   ]),
   ...prefix("lab", [
     layout("routes/workspace-layout.tsx", { id: "lab-layout" }, [
@@ -81,6 +82,7 @@ export default [
       route("disputes", "routes/admin/disputes.tsx"),
       route("disputes/:id", "routes/admin/dispute.tsx"),
       route("outbox", "routes/admin/outbox.tsx"),
+      route("rates", "routes/admin/rates.tsx"),
     ]),
   ]),
 

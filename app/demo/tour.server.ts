@@ -37,6 +37,7 @@ export async function demoTour(base: string) {
     "owner@halvorsen.example — Ingrid, client owner",
     `  fluorescence warning on an iron phosphate under copper: ${u(`/client/requests/${await requestId("Phase check of LFP cathode batch HC-2611")}`)}`,
     `  two quotes side by side (Granite Ridge, Lakeside), accept one and pay: ${u(`/client/requests/${await requestId("Phase purity of NMC811 lot HC-2634")}`)}`,
+    `  the same quotes in EUR and USD, each saying so, with an indicative conversion at the admin's demo rate (admin: ${u("/admin/rates")}); owner@pinecrest.example buys against purchase orders — each order shows its PO number, e.g. ${u(`/client/orders/${await orderId("Cryostat scan of hydrate PSF-131")}`)} (add or correct it until paid)`,
     `  messages: Granite Ridge's question before quoting and the answer (same request, "Questions from labs"); the order's thread with the lab: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}#messages`)}`,
     `  data delivered, review window open — open the review check's plot, then accept: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}`)}  (check ${u(`/checks/${await checkId("HC-2645-2_Co_15-110.xy")}`)})`,
     `  open dispute: ${u(`/client/orders/${await orderId("Impurity check of NMC lot HC-2655")}`)}; every request state: ${u("/client/requests")}`,

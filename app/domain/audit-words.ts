@@ -25,7 +25,7 @@ export const AUDIT_KIND_ACTIONS: Record<AuditKind, { exact: string[]; prefixes: 
   sign_ins: { exact: ["signed_in", "signed_out", "second_factor_failed", "sign_in_failed"], prefixes: [] },
   files: { exact: [], prefixes: ["order_file_", "share_link_", "file_", "check_"] },
   disputes: { exact: [], prefixes: ["dispute_"] },
-  money: { exact: [], prefixes: ["payment_", "refund_", "payout_", "ledger_", "transfer_"] },
+  money: { exact: [], prefixes: ["payment_", "refund_", "payout_", "ledger_", "transfer_", "exchange_rate_"] },
   accounts: {
     exact: ["account_created", "password_changed", "password_reset", "password_reset_requested", "second_factor_enabled", "second_factor_disabled"],
     prefixes: ["invitation_", "api_token_", "member_", "membership_", "notification_"],
@@ -253,6 +253,22 @@ export function auditSentence(entry: AuditEntryIn, c: AuditContext): { sentence:
         );
       case "quote_accepted":
         return `${who} accepted the quote of ${lab} for ${request}, making ${order}`;
+      case "order_purchase_order_set":
+        return say(
+          str(d.purchaseOrderNumber)
+            ? `${who} set the purchase-order number of ${order} to ${d.purchaseOrderNumber}`
+            : `${who} removed the purchase-order number of ${order}`,
+          "purchaseOrderNumber",
+        );
+      case "exchange_rate_set":
+        return say(
+          `${who} set the indicative rate 1 ${str(d.base) ?? "?"} = ${str(d.rate) ?? "?"} ${str(d.quote) ?? "?"} as of ${str(d.asOf) ?? "an unnamed day"}${str(d.source) ? ` (source: ${d.source})` : ""}`,
+          "base",
+          "quote",
+          "rate",
+          "asOf",
+          "source",
+        );
       case "dispute_lab_statement":
         return say(`${who} ${d.rewritten ? "rewrote" : "gave"} the lab's answer in the dispute on ${order}`, "rewritten", "orderNumber");
       case "dispute_evidence_read":

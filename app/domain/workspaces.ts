@@ -26,4 +26,5 @@ export const ADMIN_SECTIONS: Section[] = [
   { slug: "vetting-queue", label: "Vetting queue" },
   { slug: "disputes", label: "Disputes" },
   { slug: "ledger", label: "Ledger" },
+  { slug: "rates", label: "Exchange rates" },
 ];

@@ -373,6 +373,11 @@ describe("lab journey", () => {
     await visit(page, `/client/requests/${requestId}`);
     await page.getByRole("article", { name: `Quote from ${LAB_NAME}` }).waitFor();
     await step(page, "client-quote", "client-quote");
+    // Pinecrest buys against purchase orders in the demo (app/demo/seed-purchase-orders.server.ts).
+    await page
+      .getByRole("article", { name: `Quote from ${LAB_NAME}` })
+      .getByLabel(/Purchase-order number/)
+      .fill("PSF-PO-09001");
     await page.getByRole("button", { name: `Accept ${LAB_NAME}'s quote` }).click();
     await page.waitForURL(/\/client\/orders\/[0-9a-f-]+$/);
     orderPath = new URL(page.url()).pathname;

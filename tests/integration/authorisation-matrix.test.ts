@@ -109,6 +109,7 @@ const EXPECTED: Record<string, Expect> = {
   "routes/client/order-payment": { loader: orderClient },
   "routes/client/packing-slip": { loader: orderClient },
   "routes/client/request-sds-upload": { action: orderClientAction },
+  "routes/client/request-po-upload": { action: orderClientAction },
 
   "lab-layout": { loader: labWorkspace },
   "routes/lab/home": { loader: labWorkspace },
@@ -138,6 +139,7 @@ const EXPECTED: Record<string, Expect> = {
   "routes/admin/vetting-queue": { loader: adminPage },
   "routes/admin/lab-review": { loader: adminPage, action: adminAction },
   "routes/admin/ledger": { loader: adminPage },
+  "routes/admin/rates": { loader: adminPage, action: adminAction },
   "routes/admin/disputes": { loader: adminPage, action: adminAction },
   // The matrix's order has no dispute, so the admin is told there is none.
   "routes/admin/dispute": { loader: adminOnly("forbidden", "notFound"), action: adminOnly("forbidden", "notFound") },

@@ -33,6 +33,8 @@ function orderFacts(c: OrderContext): [string, string][] {
     ["Client", c.clientName],
     ["Lab", c.labName],
     ["Amount", formatMoney(c.order.amountMinor, c.order.currency)],
+    // The client's procurement matches money to its purchase order (docs/design.md#purchase-orders).
+    ...(c.order.purchaseOrderNumber ? ([["Purchase order", c.order.purchaseOrderNumber]] as [string, string][]) : []),
   ];
 }
 
@@ -329,7 +331,15 @@ export function quoteReceivedLetter(q: {
 
 export function quoteDecisionLetter(
   accepted: boolean,
-  q: { orderId: string; orderNumber: string; requestTitle: string; clientName: string; totalMinor: number; currency: string },
+  q: {
+    orderId: string;
+    orderNumber: string;
+    purchaseOrderNumber?: string | null;
+    requestTitle: string;
+    clientName: string;
+    totalMinor: number;
+    currency: string;
+  },
 ): Letter {
   return accepted
     ? {
@@ -341,6 +351,7 @@ export function quoteDecisionLetter(
           ["Client", q.clientName],
           ["Total", formatMoney(q.totalMinor, q.currency)],
           ["Order", q.orderNumber],
+          ...(q.purchaseOrderNumber ? ([["Purchase order", q.purchaseOrderNumber]] as [string, string][]) : []),
         ],
         nextStep: "Nothing yet: start no work before the payment is held.",
         link: { path: `/lab/orders/${q.orderId}`, label: "Open the order" },

@@ -282,7 +282,10 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       const [r] = accepted ? await tx.select().from(schema.requests).where(eq(schema.requests.id, accepted.requestId)) : [];
       if (!accepted || !r) return [];
       const clientName = (await orgName(tx, r.organisationId)).name;
-      const [order] = await tx.select({ number: schema.orders.number }).from(schema.orders).where(eq(schema.orders.id, m.orderId));
+      const [order] = await tx
+        .select({ number: schema.orders.number, purchaseOrderNumber: schema.orders.purchaseOrderNumber })
+        .from(schema.orders)
+        .where(eq(schema.orders.id, m.orderId));
       const declined = await tx
         .select()
         .from(schema.quotes)
@@ -293,6 +296,7 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
         const letter = quoteDecisionLetter(isAccepted, {
           orderId: m.orderId,
           orderNumber: order?.number ?? "",
+          purchaseOrderNumber: order?.purchaseOrderNumber ?? null,
           requestTitle: r.title,
           clientName,
           totalMinor: q.totalMinor,

@@ -214,7 +214,14 @@ export async function paymentsOfClient(organisationId: string) {
 /** A paid payment of the client organisation with its order's title, lab and quote (the receipt's lines); undefined otherwise. */
 export async function paidReceipt(paymentId: string, clientOrganisationId: string) {
   const [row] = await db
-    .select({ payment: schema.payments, orderNumber: schema.orders.number, title: schema.requests.title, lab: schema.organisations.name, quote: schema.quotes })
+    .select({
+      payment: schema.payments,
+      orderNumber: schema.orders.number,
+      purchaseOrderNumber: schema.orders.purchaseOrderNumber,
+      title: schema.requests.title,
+      lab: schema.organisations.name,
+      quote: schema.quotes,
+    })
     .from(schema.payments)
     .innerJoin(schema.orders, eq(schema.orders.id, schema.payments.orderId))
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))

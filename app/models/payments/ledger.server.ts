@@ -118,6 +118,7 @@ export async function ledgerRows(f: LedgerFilter, limit = 500, page: { offset?: 
     kind: string;
     order_id: string | null;
     order_number: string | null;
+    purchase_order_number: string | null;
     currency: string;
     provider_object_id: string;
     memo: string;
@@ -125,7 +126,7 @@ export async function ledgerRows(f: LedgerFilter, limit = 500, page: { offset?: 
     account: string;
     amount_minor: number;
   }>(sql`
-    select t.id, t.kind, t.order_id, o.number as order_number, t.currency, t.provider_object_id, t.memo, t.created_at, e.account, e.amount_minor
+    select t.id, t.kind, t.order_id, o.number as order_number, o.purchase_order_number, t.currency, t.provider_object_id, t.memo, t.created_at, e.account, e.amount_minor
     from (select * from ledger_transactions t ${where.length ? sql`where ${sql.join(where, sql` and `)}` : sql``} order by ${order} limit ${limit} offset ${page.offset ?? 0}) t
     join ledger_entries e on e.transaction_id = t.id
     left join orders o on o.id = t.order_id

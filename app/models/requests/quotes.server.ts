@@ -11,6 +11,8 @@ import { labelOf, sourceLabel } from "~/domain/matching";
 import type { QuoteInput } from "~/domain/quote-forms";
 import { AWAITING_RECONFIRMATION } from "~/domain/request-revisions";
 import { acknowledgementOf, isUuid } from "~/models/requests/requests.server";
+import type { PurchaseOrder } from "~/models/orders/purchase-orders.server";
+import { PO_REQUIRED } from "~/domain/purchase-orders";
 
 /** Line items a quote starts from: per sample by technique, extra temperature points, preparation, hazardous handling. */
 export function draftLineItems(request: Pick<MarketRequest, "technique" | "temperaturePointsK">, samples: Sample[], prices: PriceList | null): QuoteLineItem[] {
@@ -243,9 +245,16 @@ export type AcceptResult = { ok: true; orderId: string } | { ok: false; error: s
  * Accepts one quote. In one transaction, holding the request row locked: the quote becomes accepted, the
  * other sent quotes declined, the request awarded, and an order in awaiting_payment with its first timeline
  * row is created. A second accept on the same request waits for the lock, then finds it awarded; should
- * anything slip past, the orders' unique keys turn it into the same clear refusal.
+ * anything slip past, the orders' unique keys turn it into the same clear refusal. The purchase order (checked by
+ * checkPurchaseOrder) goes onto the order; an organisation that requires one is refused without a number.
  */
-export async function acceptQuote(requestId: string, quoteId: string, organisationId: string, userId: string): Promise<AcceptResult> {
+export async function acceptQuote(
+  requestId: string,
+  quoteId: string,
+  organisationId: string,
+  userId: string,
+  po: PurchaseOrder | null = null,
+): Promise<AcceptResult> {
   if (!isUuid(quoteId)) return { ok: false, error: "Choose a quote to accept." };
   const now = new Date();
   try {
@@ -267,6 +276,11 @@ export async function acceptQuote(requestId: string, quoteId: string, organisati
       if (quote.state !== "sent") return { ok: false, error: `This quote is ${quote.state} and can no longer be accepted.` } as const;
       if (quote.validUntil < now) return { ok: false, error: "This quote's validity has passed; ask the lab for a new one." } as const;
       if (quote.requestRevision < request.revision) return { ok: false, error: AWAITING_RECONFIRMATION } as const;
+      const [client] = await tx
+        .select({ requiresPurchaseOrder: schema.organisations.requiresPurchaseOrder })
+        .from(schema.organisations)
+        .where(eq(schema.organisations.id, organisationId));
+      if (client?.requiresPurchaseOrder && !po?.number) return { ok: false, error: PO_REQUIRED } as const;
 
       await tx.update(schema.quotes).set({ state: "accepted", decidedAt: now }).where(eq(schema.quotes.id, quote.id));
       await tx
@@ -285,13 +299,23 @@ export async function acceptQuote(requestId: string, quoteId: string, organisati
           amountMinor: quote.totalMinor,
           currency: quote.currency,
           platformFeeBps: config.payments.platformFeeBps,
+          purchaseOrderNumber: po?.number ?? null,
+          purchaseOrderFileKey: po?.fileKey ?? null,
+          purchaseOrderFileName: po?.fileName ?? null,
         })
         .returning({ id: schema.orders.id });
       await tx
         .insert(schema.orderEvents)
         .values({ orderId: order.id, fromState: null, toState: "awaiting_payment", actorUserId: userId, note: "Quote accepted" });
       await audit(
-        { actorUserId: userId, organisationId, action: "quote_accepted", subjectType: "quote", subjectId: quote.id, details: { orderId: order.id } },
+        {
+          actorUserId: userId,
+          organisationId,
+          action: "quote_accepted",
+          subjectType: "quote",
+          subjectId: quote.id,
+          details: { orderId: order.id, ...(po?.number ? { purchaseOrderNumber: po.number } : {}) },
+        },
         tx,
       );
       await notify(tx, { kind: "quote_decided", acceptedQuoteId: quote.id, orderId: order.id });

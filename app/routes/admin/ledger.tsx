@@ -144,7 +144,10 @@ export default function Ledger({ loaderData }: Route.ComponentProps) {
               <tr key={`${r.id}-${i}`}>
                 <td className="whitespace-nowrap">{fmt.dateTime(r.created_at)}</td>
                 <td>{r.kind.replace("_", " ")}</td>
-                <td className="whitespace-nowrap font-mono text-xs">{r.order_number ?? "—"}</td>
+                <td className="whitespace-nowrap font-mono text-xs">
+                  {r.order_number ?? "—"}
+                  {r.purchase_order_number ? <span className="block text-ink-600">PO {r.purchase_order_number}</span> : null}
+                </td>
                 <td className="font-mono text-xs">{r.account}</td>
                 <td className={`text-right font-mono ${r.amount_minor < 0 ? "text-danger-700" : ""}`}>{fmt.money(r.amount_minor, r.currency)}</td>
                 <td className="font-mono text-xs">{r.provider_object_id}</td>

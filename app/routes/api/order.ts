@@ -1,5 +1,6 @@
 // GET /api/orders/:id — the order's state, amount and timeline, for the client organisation and the lab on it. The
-// amount comes as money text (`amount`) beside its integer minor units (`amountMinor`, for programs).
+// amount comes as money text (`amount`) beside its integer minor units (`amountMinor`, for programs); the client's
+// purchase-order number as `purchaseOrderNumber` (null when none was given).
 import { formatMoney } from "~/domain/money";
 import { orderTimeline } from "~/models/orders/queries.server";
 import { requireOrderParty } from "~/utils/permissions.server";
@@ -16,6 +17,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       amount: formatMoney(order.amountMinor, order.currency),
       amountMinor: order.amountMinor,
       currency: order.currency,
+      purchaseOrderNumber: order.purchaseOrderNumber ?? null,
       timeline,
     },
     { headers: { "Cache-Control": "private, no-store" } },

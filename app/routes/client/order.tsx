@@ -30,6 +30,8 @@ import { DueLine, ReceiptRecordCard, VerdictConfirmation } from "~/components/la
 import { receiptsOf, scansToConfirm } from "~/models/orders/lab-records.server";
 import { dueStatus } from "~/domain/receipt";
 import { CONFIRM_FIELD } from "~/domain/verdict-confirmation";
+import { PurchaseOrderFacts, PurchaseOrderFields } from "~/components/purchase-order-fields";
+import { purchaseOrderInputFrom, purchaseOrderView, requiresPurchaseOrder, setOrderPurchaseOrder } from "~/models/orders/purchase-orders.server";
 
 const clientOrder = (request: Request, orderId: string) => requireOrderSide(request, "client", orderId);
 
@@ -48,6 +50,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const shipment = await shipmentOf(order.id);
   return {
     messages,
+    purchaseOrder: {
+      ...(await purchaseOrderView(order)),
+      editable: order.state === "awaiting_payment",
+      required: await requiresPurchaseOrder(order.clientOrganisationId),
+    },
     order: {
       id: order.id,
       number: order.number,
@@ -97,7 +104,14 @@ const OrderAction = z.discriminatedUnion("intent", [
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { actor, order } = await clientOrder(request, params.id);
-  const submission = parseWithZod(await readForm(request), { schema: OrderAction });
+  const form = await readForm(request);
+  if (form.get("intent") === "purchase-order") {
+    // Added or corrected until the order is paid; the same checks as on acceptance.
+    const saved = await setOrderPurchaseOrder(order, actor.user.id, purchaseOrderInputFrom(form));
+    if (saved.error) return data({ result: undefined, poError: saved.error }, { status: 400 });
+    return redirectWithToast(`/client/orders/${order.id}`, { kind: "success", message: "Purchase order saved." });
+  }
+  const submission = parseWithZod(form, { schema: OrderAction });
   if (submission.status !== "success") return data({ result: submission.reply() }, { status: 400 });
   const v = submission.value;
   try {
@@ -136,7 +150,8 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline, samples, disputeCase, receipts, toConfirm, due } = loaderData;
+  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline, samples, disputeCase, receipts, toConfirm, due, purchaseOrder } =
+    loaderData;
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
   const canCancel = canMove(order.state, "cancelled", "client");
@@ -154,6 +169,13 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
       />
       <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
       <DueLine due={due} />
+      <PurchaseOrderCard
+        orderId={order.id}
+        requestId={request?.id ?? ""}
+        po={purchaseOrder}
+        error={actionData && "poError" in actionData ? (actionData.poError ?? null) : null}
+        busy={busy}
+      />
       <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
         <section className="card" aria-labelledby="next-step">
           <h2 id="next-step" className="text-lg font-semibold">
@@ -295,6 +317,51 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
         unread={loaderData.messages.unread}
       />
     </div>
+  );
+}
+
+/** The purchase order: shown when set, and added or corrected by the client until the order is paid. */
+function PurchaseOrderCard({
+  orderId,
+  requestId,
+  po,
+  error,
+  busy,
+}: {
+  orderId: string;
+  requestId: string;
+  po: Route.ComponentProps["loaderData"]["purchaseOrder"];
+  error: string | null;
+  busy: boolean;
+}) {
+  if (!po.editable && !po.number) return null;
+  return (
+    <section className="card mb-6" aria-labelledby="purchase-order">
+      <h2 id="purchase-order" className="text-lg font-semibold">
+        Purchase order
+      </h2>
+      {po.number ? (
+        <dl className="mt-2 grid grid-cols-[auto_1fr] gap-x-3 text-sm">
+          <PurchaseOrderFacts po={po} />
+        </dl>
+      ) : (
+        <p className="mt-2 text-sm text-ink-600">No purchase-order number on this order.</p>
+      )}
+      {po.editable ? (
+        <Form method="post" className="mt-3 space-y-2" key={po.number ?? ""}>
+          <p className="text-sm text-ink-600">Add or correct the purchase order until the order is paid.</p>
+          <PurchaseOrderFields id={`po-order-${orderId}`} requestId={requestId} required={po.required} defaultNumber={po.number} fileOnRecord={po.fileName} />
+          {error ? (
+            <p role="alert" className="text-sm text-danger-700">
+              {error}
+            </p>
+          ) : null}
+          <button type="submit" name="intent" value="purchase-order" className="btn-secondary" disabled={busy}>
+            Save the purchase order
+          </button>
+        </Form>
+      ) : null}
+    </section>
   );
 }
 

@@ -19,6 +19,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       amountMinor: row.payment.amountMinor,
       currency: row.payment.currency,
       orderNumber: row.orderNumber,
+      purchaseOrderNumber: row.purchaseOrderNumber,
       title: row.title,
       lab: row.lab,
       lines: row.quote.lineItems,
@@ -46,6 +47,12 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
         <dd>{receipt.client}</dd>
         <dt className="text-ink-600">Order</dt>
         <dd className="font-mono">{receipt.orderNumber}</dd>
+        {receipt.purchaseOrderNumber ? (
+          <>
+            <dt className="text-ink-600">Purchase order</dt>
+            <dd className="font-mono">{receipt.purchaseOrderNumber}</dd>
+          </>
+        ) : null}
         <dt className="text-ink-600">For</dt>
         <dd>
           {receipt.title} — {receipt.lab}

@@ -16,6 +16,10 @@ import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request";
 import { useFormat } from "~/components/locale";
+import { PurchaseOrderFields } from "~/components/purchase-order-fields";
+import { checkPurchaseOrder, purchaseOrderInputFrom, requiresPurchaseOrder } from "~/models/orders/purchase-orders.server";
+import { ratesAmong } from "~/models/platform/exchange-rates.server";
+import { quoteCurrencyNotes, rateText, parseRate } from "~/domain/exchange";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const actor = await requireOrgRole(request, "client");
@@ -38,7 +42,25 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const conversation = found ? { lab: found.lab, ...(await viewThread(user.id, membership.organisation.id, found.thread)) } : null;
   // An edit after publishing can rule every lab out; the page says so rather than waiting for quotes that cannot come.
   const noLab = row.state === "open" ? await noLabCanMeasure(row) : null;
-  return { request: row, samples, quotes, matches, judgements, order, revisions, sds: await sdsLinks(samples), threads, conversation, noLab };
+  // Quotes in other currencies: said plainly per card, with an indicative conversion at the latest admin-set rate.
+  const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
+  const currencies = [...new Set([row.currency, ...live.map((q) => q.currency)])];
+  const currencyNotes = quoteCurrencyNotes(live, row.currency, await ratesAmong(currencies));
+  return {
+    request: row,
+    samples,
+    quotes,
+    matches,
+    judgements,
+    order,
+    revisions,
+    sds: await sdsLinks(samples),
+    threads,
+    conversation,
+    noLab,
+    currencyNotes,
+    requiresPurchaseOrder: await requiresPurchaseOrder(membership.organisation.id),
+  };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -63,7 +85,9 @@ export async function action({ request, params }: Route.ActionArgs) {
     });
   }
   if (intent !== "accept") return data({ error: "Choose what to do." }, { status: 400 });
-  const result = await acceptQuote(row.id, String(form.get("quoteId") ?? ""), membership.organisation.id, user.id);
+  const po = await checkPurchaseOrder(row, purchaseOrderInputFrom(form));
+  if (!po.ok) return data({ error: po.error }, { status: 400 });
+  const result = await acceptQuote(row.id, String(form.get("quoteId") ?? ""), membership.organisation.id, user.id, po.po);
   if (!result.ok) return data({ error: result.error }, { status: 400 });
   // Accepting leads straight to the order, where the client pays into holding.
   return redirectWithToast(`/client/orders/${result.orderId}`, {
@@ -74,7 +98,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientRequest({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, samples, quotes, judgements, order, revisions, sds, threads, conversation, noLab } = loaderData;
+  const { request: r, samples, quotes, judgements, order, revisions, sds, threads, conversation, noLab, currencyNotes, requiresPurchaseOrder } = loaderData;
   const slugOf = new Map(threads.map((t) => [t.labId, t.slug]));
   const navigation = useNavigation();
   const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
@@ -192,6 +216,7 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
                   </p>
                 ) : null}
                 <p className="mt-2 text-2xl font-bold">{fmt.money(q.totalMinor, q.currency)}</p>
+                <CurrencyNote note={currencyNotes[q.id]} />
                 <dl className="mt-2 grid grid-cols-[auto_1fr] gap-x-3 gap-y-0.5 text-sm">
                   <dt className="text-ink-500">Turnaround</dt>
                   <dd>{q.turnaroundDays} days</dd>
@@ -225,7 +250,8 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
                   <Form method="post" className="mt-auto pt-4">
                     <input type="hidden" name="intent" value="accept" />
                     <input type="hidden" name="quoteId" value={q.id} />
-                    <button type="submit" className="btn-primary w-full" disabled={navigation.state !== "idle"}>
+                    <PurchaseOrderFields id={`po-${q.id}`} requestId={r.id} required={requiresPurchaseOrder} />
+                    <button type="submit" className="btn-primary mt-3 w-full" disabled={navigation.state !== "idle"}>
                       Accept {q.labName}'s quote
                     </button>
                   </Form>
@@ -285,6 +311,28 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
       <h2 className="mt-8 mb-3 text-lg font-semibold">Samples and hazard declaration</h2>
       <SafetyNotice className="mb-4" />
       <SampleCards samples={samples} sds={sds} />
+    </div>
+  );
+}
+
+/** A quote card's currency: which one it is in when the quotes differ, and the indicative conversion or the lack of a rate. */
+function CurrencyNote({ note }: { note: Route.ComponentProps["loaderData"]["currencyNotes"][string] | undefined }) {
+  const fmt = useFormat();
+  if (!note || (!note.note && !note.conversion)) return null;
+  const c = note.conversion;
+  return (
+    <div className="mt-1 space-y-0.5 text-sm" role="note">
+      {note.note ? <p className="font-semibold text-ink-700">{note.note}.</p> : null}
+      {c?.kind === "converted" ? (
+        <p className="text-ink-600">
+          About {fmt.money(c.amountMinor, c.currency)} (indicative), at 1 {c.rate.base} = {rateText(parseRate(c.rate.rate) ?? 0n)} {c.rate.quote} as of{" "}
+          {fmt.date(c.rate.asOf)}, source: {c.rate.source || "not given"}. You pay in the quote's currency.
+        </p>
+      ) : c?.kind === "no_rate" ? (
+        <p className="text-ink-600">
+          No exchange rate from {c.from} to {c.to} is set, so no conversion is shown.
+        </p>
+      ) : null}
     </div>
   );
 }

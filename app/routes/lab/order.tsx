@@ -6,6 +6,8 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { OrderSamples } from "~/components/order-samples";
+import { PurchaseOrderFacts } from "~/components/purchase-order-fields";
+import { purchaseOrderView } from "~/models/orders/purchase-orders.server";
 import { OrderTimelineCard } from "~/components/order-timeline";
 import { FormError, PageHeader } from "~/components/ui";
 import { organisationNameOf } from "~/models/accounts/organisations.server";
@@ -49,6 +51,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return {
     messages,
     order: { id: order.id, number: order.number, state: order.state, amountMinor: order.amountMinor, currency: order.currency },
+    purchaseOrder: await purchaseOrderView(order),
     title: title ?? "",
     clientName: clientName ?? "",
     samples,
@@ -138,7 +141,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function LabOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, title, clientName, samples, sds, shipment, timeline, missingChecks, dispute, receipts, toConfirm, due } = loaderData;
+  const { order, title, clientName, samples, sds, shipment, timeline, missingChecks, dispute, receipts, toConfirm, due, purchaseOrder } = loaderData;
   const busy = useNavigation().state !== "idle";
   return (
     <div>
@@ -152,6 +155,11 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
         subtitle={`Order ${order.number} · for ${clientName} · ${fmt.money(order.amountMinor, order.currency)}`}
         actions={<OrderStateBadge state={order.state} />}
       />
+      {purchaseOrder.number ? (
+        <dl className="mb-4 grid grid-cols-[auto_1fr] gap-x-3 text-sm" aria-label="Purchase order">
+          <PurchaseOrderFacts po={purchaseOrder} />
+        </dl>
+      ) : null}
       {/* The form's sentence and any field's (the receipt records' fields are many; their sentences show here together). */}
       <FormError errors={[...new Set(Object.values(actionData?.result?.error ?? {}).flat())].filter((e): e is string => typeof e === "string" && !!e)} />
       <DueLine due={due} />
