@@ -30,6 +30,7 @@ export default [
     layout("routes/workspace-layout.tsx", { id: "client-layout" }, [
       index("routes/client/home.tsx"),
       route("members", "routes/client/members.tsx"),
+      route("profile", "routes/client/profile.tsx"),
       route("requests", "routes/client/requests.tsx"),
       route("data-room", "routes/client/data-room.tsx"),
       route("data-room/:orderId", "routes/client/data-room-order.tsx"),
@@ -56,6 +57,7 @@ export default [
       route("inbox", "routes/lab/inbox.tsx"),
       route("api-tokens", "routes/lab/api-tokens.tsx"),
       route("members", "routes/lab/members.tsx"),
+      route("profile", "routes/lab/profile.tsx"),
       route("orders/:id/files", "routes/lab/order-files.tsx"),
       route("requests/:id", "routes/lab/request.tsx"),
       route("quotes", "routes/lab/quotes.tsx"),

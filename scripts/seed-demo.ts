@@ -11,6 +11,7 @@ import { seedDemoLabRecords } from "~/demo/seed-lab-records.server";
 import { db } from "~/db/client.server";
 import { seedRequestLife } from "~/demo/seed-request-life.server";
 import { seedDemoPurchaseOrders } from "~/demo/seed-purchase-orders.server";
+import { seedDemoProfiles } from "~/demo/seed-profiles.server";
 
 const t0 = Date.now();
 const result = await seedDemo();
@@ -21,9 +22,10 @@ await seedDemoDisputes();
 await seedDemoMessages();
 await seedRequestLife();
 await seedDemoRecords();
+await seedDemoLabRecords();
+await seedDemoPurchaseOrders();
+await seedDemoProfiles();
 console.log(
   `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
 );
-await seedDemoLabRecords();
-await seedDemoPurchaseOrders();
 await db.$client.end();

@@ -28,7 +28,7 @@ export const AUDIT_KIND_ACTIONS: Record<AuditKind, { exact: string[]; prefixes: 
   money: { exact: [], prefixes: ["payment_", "refund_", "payout_", "ledger_", "transfer_", "exchange_rate_"] },
   accounts: {
     exact: ["account_created", "password_changed", "password_reset", "password_reset_requested", "second_factor_enabled", "second_factor_disabled"],
-    prefixes: ["invitation_", "api_token_", "member_", "membership_", "notification_"],
+    prefixes: ["invitation_", "api_token_", "member_", "membership_", "notification_", "profile_", "client_kind_"],
   },
   vetting: {
     exact: ["hazard_acceptance_saved", "price_list_saved"],
@@ -206,6 +206,30 @@ export function auditSentence(entry: AuditEntryIn, c: AuditContext): { sentence:
         return `${who} revoked the invitation of ${subject ?? "a person"} to ${c.organisation ?? "the organisation"}`;
       case "invitation_accepted":
         return say(`${who} joined ${c.organisation ?? "an organisation"} as ${str(d.role) ?? "a member"}`, "role");
+      case "profile_saved":
+        return say(
+          `${who} saved the profile of ${c.organisation ?? "the organisation"}${str(d.clientKind) ? `, stating its kind as ${str(d.clientKind)?.replace("_", "-")}` : ""}`,
+          "taxId",
+          "clientKind",
+        );
+      case "profile_address_added":
+      case "profile_address_changed":
+      case "profile_address_removed": {
+        const verb = entry.action.slice("profile_address_".length);
+        return say(
+          `${who} ${verb} the ${str(d.kind) ?? "parcel"} address ${quoted(str(d.label)) ?? ""} of ${c.organisation ?? "the organisation"}`,
+          "label",
+          "kind",
+        );
+      }
+      case "profile_address_default":
+        return say(
+          `${who} made ${quoted(str(d.label)) ?? "an address"} the default ${str(d.kind) ?? ""} address of ${c.organisation ?? "the organisation"}`,
+          "label",
+          "kind",
+        );
+      case "client_kind_confirmed":
+        return say(`${who} confirmed ${c.organisation ?? "a client"} as ${(str(d.clientKind) ?? "its stated kind").replace("_", "-")}`, "clientKind");
       case "api_token_created":
         return say(`${who} created the API token ${quoted(str(d.name) ?? subject) ?? ""} for ${c.organisation ?? "the lab"}`, "name");
       case "api_token_revoked":

@@ -9,8 +9,14 @@ import { requireWorkspace } from "~/utils/permissions.server";
 import type { Route } from "./+types/workspace-layout";
 
 const EXTRA_NAV: Record<string, NavItem[]> = {
-  client: [{ to: "/client/members", label: "Members" }],
-  lab: [{ to: "/lab/members", label: "Members" }],
+  client: [
+    { to: "/client/members", label: "Members" },
+    { to: "/client/profile", label: "Profile" },
+  ],
+  lab: [
+    { to: "/lab/members", label: "Members" },
+    { to: "/lab/profile", label: "Profile" },
+  ],
   admin: [
     { to: "/admin/users", label: "Users" },
     { to: "/admin/audit-log", label: "Audit log" },

@@ -92,6 +92,8 @@ const EXPECTED: Record<string, Expect> = {
   "client-layout": { loader: clientWorkspace },
   "routes/client/home": { loader: clientWorkspace },
   "routes/client/members": { loader: clientWorkspace, action: signedIn("forbidden", { ownerA: "bad", clientB: "bad" }) },
+  // Every member reads the profile; owners change their own organisation's (an empty form is refused).
+  "routes/client/profile": { loader: clientWorkspace, action: signedIn("forbidden", { ownerA: "bad", clientB: "bad" }) },
   "routes/client/requests": { loader: clientWorkspace },
   "routes/client/data-room": { loader: clientWorkspace },
   "routes/client/data-room-order": { loader: orderClient, action: orderClientAction },
@@ -116,6 +118,7 @@ const EXPECTED: Record<string, Expect> = {
   "routes/lab/inbox": { loader: labWorkspace },
   "routes/lab/api-tokens": { loader: labWorkspace, action: labManagerAction },
   "routes/lab/members": { loader: labWorkspace, action: labManagerAction },
+  "routes/lab/profile": { loader: labWorkspace, action: labManagerAction },
   "routes/lab/order-files": { loader: orderLab, action: orderLabAction },
   // Any staff acknowledges a hazard declaration; only managers send or withdraw a quote (the empty form is a quote).
   "routes/lab/request": { loader: orderLab, action: { ...orderLabAction, labOperator: "forbidden" } },
@@ -134,7 +137,8 @@ const EXPECTED: Record<string, Expect> = {
 
   "admin-layout": { loader: adminPage },
   "routes/admin/home": { loader: adminPage },
-  "routes/admin/users": { loader: adminPage },
+  // Admins confirm a client's stated kind there (an empty form is refused).
+  "routes/admin/users": { loader: adminPage, action: adminAction },
   "routes/admin/audit-log": { loader: adminPage },
   "routes/admin/vetting-queue": { loader: adminPage },
   "routes/admin/lab-review": { loader: adminPage, action: adminAction },

@@ -17,6 +17,8 @@ import { disputeOf, latestPaymentOf, orderStateOf, orderTimeline } from "~/model
 import { OrderMoveRefused } from "~/models/orders/lifecycle.server";
 import { markShipped } from "~/models/orders/lifecycle.server";
 import { shipmentOf } from "~/models/orders/queries.server";
+import { defaultAddressOf } from "~/models/accounts/profiles.server";
+import { ParcelAddress } from "~/components/parcel-address";
 import { acceptDelivery, cancelOrder, openDispute, PAYOUT_DELAYED } from "~/models/orders/lifecycle.server";
 import { PaymentProblem } from "~/models/payments/provider.server";
 import { startCheckout } from "~/models/payments/checkout.server";
@@ -48,7 +50,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const dispute = await disputeOf(order.id);
   const [receipts, toConfirm] = await Promise.all([receiptsOf(order), order.state === "data_delivered" ? scansToConfirm(order.id) : Promise.resolve([])]);
   const shipment = await shipmentOf(order.id);
+  // Where the parcel goes, while the client still ships it.
+  const receiving = canMove(order.state, "samples_in_transit", "client") ? await defaultAddressOf(order.labId, "receiving") : undefined;
   return {
+    receiving: receiving ?? null,
     messages,
     purchaseOrder: {
       ...(await purchaseOrderView(order)),
@@ -201,6 +206,14 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
               <p className="text-sm text-ink-700">
                 The money is held. Print the packing slip, put it in the parcel, ship the samples to the lab and mark them shipped.
               </p>
+              <div className="rounded-md border border-ink-200 p-3">
+                <p className="text-xs text-ink-600">Send the parcel to</p>
+                <ParcelAddress
+                  name={labName || "The lab"}
+                  address={loaderData.receiving}
+                  missing="The lab has not given a receiving address yet; ask in the messages below where to send the parcel."
+                />
+              </div>
               <Link to={`/client/orders/${order.id}/packing-slip`} className="btn-secondary">
                 Packing slip
               </Link>
