@@ -1,5 +1,6 @@
 // The forms of an organisation's profile: legal name, billing address, invoice e-mail, tax id, the client's kind
 // and purchase-order rule, and the parcel addresses (receiving and shipping) with contact and opening hours.
+import type { PostalAddress } from "~/db/schema";
 import { z } from "zod";
 import { checkTaxId, COUNTRY_CODES, countryName } from "./tax-id";
 
@@ -104,13 +105,6 @@ export const AddressSchema = z
 export type AddressInput = z.infer<typeof AddressSchema>;
 
 /** A postal address as lines for a label or a page, the country by its name. */
-export function addressLines(a: {
-  line1: string;
-  line2?: string | null;
-  postcode?: string | null;
-  city: string;
-  region?: string | null;
-  country: string;
-}): string[] {
+export function addressLines(a: PostalAddress): string[] {
   return [a.line1, a.line2, [a.postcode, a.city].filter(Boolean).join(" "), a.region, countryName(a.country)].filter((l): l is string => Boolean(l));
 }

@@ -58,18 +58,20 @@ export async function setExchangeRate(input: RateInput, userId: string | null) {
   });
 }
 
+/** What a rate reads as, for the admin's list and for converting quotes. */
+const RATE_COLUMNS = {
+  base: schema.exchangeRates.base,
+  quote: schema.exchangeRates.quote,
+  rate: schema.exchangeRates.rate,
+  asOf: schema.exchangeRates.asOf,
+  source: schema.exchangeRates.source,
+  setAt: schema.exchangeRates.setAt,
+};
+
 /** The rates set most recently, newest first, with who set them. */
 export async function recentRates(limit = 50) {
   return db
-    .select({
-      id: schema.exchangeRates.id,
-      base: schema.exchangeRates.base,
-      quote: schema.exchangeRates.quote,
-      rate: schema.exchangeRates.rate,
-      asOf: schema.exchangeRates.asOf,
-      source: schema.exchangeRates.source,
-      setAt: schema.exchangeRates.setAt,
-    })
+    .select({ id: schema.exchangeRates.id, ...RATE_COLUMNS })
     .from(schema.exchangeRates)
     .orderBy(desc(schema.exchangeRates.setAt))
     .limit(limit);
@@ -79,14 +81,7 @@ export async function recentRates(limit = 50) {
 export async function ratesAmong(currencies: string[]): Promise<RateRow[]> {
   if (currencies.length < 2) return [];
   const rows = await db
-    .select({
-      base: schema.exchangeRates.base,
-      quote: schema.exchangeRates.quote,
-      rate: schema.exchangeRates.rate,
-      asOf: schema.exchangeRates.asOf,
-      source: schema.exchangeRates.source,
-      setAt: schema.exchangeRates.setAt,
-    })
+    .select(RATE_COLUMNS)
     .from(schema.exchangeRates)
     .where(or(inArray(schema.exchangeRates.base, currencies), inArray(schema.exchangeRates.quote, currencies)));
   return rows.filter((r) => currencies.includes(r.base) && currencies.includes(r.quote));
