@@ -145,18 +145,7 @@ export async function addAddress(organisationId: string, input: AddressInput, ac
       .values({ organisationId, ...input, isDefault: false })
       .returning({ id: a.id });
     if (input.isDefault || existing.length === 0) await makeDefault(tx, organisationId, input.kind, row.id);
-    await audit(
-      {
-        actorUserId: actor.userId,
-        organisationId,
-        action: "profile_address_added",
-        subjectType: "organisation_address",
-        subjectId: row.id,
-        details: { label: input.label, kind: input.kind },
-        clientAddress: actor.clientAddress ?? null,
-      },
-      tx,
-    );
+    await auditAddress(tx, actor, organisationId, "profile_address_added", row.id, input);
     return row.id;
   });
 }
@@ -174,19 +163,24 @@ export async function updateAddress(organisationId: string, addressId: string, i
       .where(eq(a.id, addressId));
     if (isDefault) await makeDefault(tx, organisationId, input.kind, addressId);
     if (before.isDefault && before.kind !== input.kind) await promoteFirst(tx, organisationId, before.kind);
-    await audit(
-      {
-        actorUserId: actor.userId,
-        organisationId,
-        action: "profile_address_changed",
-        subjectType: "organisation_address",
-        subjectId: addressId,
-        details: { label: input.label, kind: input.kind },
-        clientAddress: actor.clientAddress ?? null,
-      },
-      tx,
-    );
+    await auditAddress(tx, actor, organisationId, "profile_address_changed", addressId, input);
   });
+}
+
+/** One audit row for a change to a parcel address, named by its label and kind. */
+async function auditAddress(tx: Tx, actor: Actor, organisationId: string, action: string, addressId: string, address: { label: string; kind: string }) {
+  await audit(
+    {
+      actorUserId: actor.userId,
+      organisationId,
+      action,
+      subjectType: "organisation_address",
+      subjectId: addressId,
+      details: { label: address.label, kind: address.kind },
+      clientAddress: actor.clientAddress ?? null,
+    },
+    tx,
+  );
 }
 
 /** After the default of a kind went away, the oldest remaining address of that kind becomes the default. */
@@ -206,18 +200,7 @@ export async function removeAddress(organisationId: string, addressId: string, a
     const before = await ownAddress(tx, organisationId, addressId);
     await tx.delete(schema.organisationAddresses).where(eq(schema.organisationAddresses.id, addressId));
     if (before.isDefault) await promoteFirst(tx, organisationId, before.kind);
-    await audit(
-      {
-        actorUserId: actor.userId,
-        organisationId,
-        action: "profile_address_removed",
-        subjectType: "organisation_address",
-        subjectId: addressId,
-        details: { label: before.label, kind: before.kind },
-        clientAddress: actor.clientAddress ?? null,
-      },
-      tx,
-    );
+    await auditAddress(tx, actor, organisationId, "profile_address_removed", addressId, before);
   });
 }
 
@@ -225,18 +208,7 @@ export async function setDefaultAddress(organisationId: string, addressId: strin
   await db.transaction(async (tx) => {
     const row = await ownAddress(tx, organisationId, addressId);
     await makeDefault(tx, organisationId, row.kind, addressId);
-    await audit(
-      {
-        actorUserId: actor.userId,
-        organisationId,
-        action: "profile_address_default",
-        subjectType: "organisation_address",
-        subjectId: addressId,
-        details: { label: row.label, kind: row.kind },
-        clientAddress: actor.clientAddress ?? null,
-      },
-      tx,
-    );
+    await auditAddress(tx, actor, organisationId, "profile_address_default", addressId, row);
   });
 }
 
