@@ -139,3 +139,31 @@ export function MessageThread({
     </section>
   );
 }
+
+/** An order's thread as either side's order page shows it: the other side named, the order's API address. */
+export function OrderThread({
+  orderId,
+  yourSide,
+  otherName,
+  view,
+}: {
+  orderId: string;
+  yourSide: "client" | "lab";
+  otherName: string;
+  view: { messages: ThreadMessageView[]; open: boolean; closedBecause?: string | null; unread: number };
+}) {
+  const other = otherName || (yourSide === "client" ? "the lab" : "the client");
+  return (
+    <MessageThread
+      id="order-thread"
+      title={`Messages with ${other}`}
+      intro={`Only your organisation and ${yourSide === "client" ? "the lab" : "the client"} read this conversation; an admin reads it only if the order is disputed.`}
+      messages={view.messages}
+      yourSide={yourSide}
+      action={`/api/orders/${orderId}/messages`}
+      open={view.open}
+      closedBecause={view.closedBecause}
+      unread={view.unread}
+    />
+  );
+}

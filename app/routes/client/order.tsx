@@ -1,5 +1,5 @@
 // /client/orders/:id — the client's view of an order: payment, timeline, cancel, accept or dispute.
-import { MessageThread } from "~/components/message-thread";
+import { OrderThread } from "~/components/message-thread";
 import { orderThread, viewThread } from "~/models/messages/messages.server";
 import { requireOrderSide } from "~/utils/permissions.server";
 import { parseWithZod } from "@conform-to/zod/v4";
@@ -318,17 +318,7 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
           ))}
         </div>
       </section>
-      <MessageThread
-        id="order-thread"
-        title={`Messages with ${loaderData.labName || "the lab"}`}
-        intro="Only your organisation and the lab read this conversation; an admin reads it only if the order is disputed."
-        messages={loaderData.messages.messages}
-        yourSide="client"
-        action={`/api/orders/${loaderData.order.id}/messages`}
-        open={loaderData.messages.open}
-        closedBecause={loaderData.messages.closedBecause}
-        unread={loaderData.messages.unread}
-      />
+      <OrderThread orderId={loaderData.order.id} yourSide="client" otherName={loaderData.labName} view={loaderData.messages} />
     </div>
   );
 }

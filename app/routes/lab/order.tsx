@@ -1,5 +1,5 @@
 // /lab/orders/:id — the lab's view of an order: the samples and hazards, the shipment, and the lab's moves.
-import { MessageThread } from "~/components/message-thread";
+import { OrderThread } from "~/components/message-thread";
 import { orderThread, viewThread } from "~/models/messages/messages.server";
 import { requireOrderSide } from "~/utils/permissions.server";
 import { parseWithZod } from "@conform-to/zod/v4";
@@ -264,17 +264,7 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
         </div>
         <OrderTimelineCard rows={timeline} />
       </div>
-      <MessageThread
-        id="order-thread"
-        title={`Messages with ${loaderData.clientName || "the client"}`}
-        intro="Only your organisation and the client read this conversation; an admin reads it only if the order is disputed."
-        messages={loaderData.messages.messages}
-        yourSide="lab"
-        action={`/api/orders/${loaderData.order.id}/messages`}
-        open={loaderData.messages.open}
-        closedBecause={loaderData.messages.closedBecause}
-        unread={loaderData.messages.unread}
-      />
+      <OrderThread orderId={loaderData.order.id} yourSide="lab" otherName={loaderData.clientName} view={loaderData.messages} />
     </div>
   );
 }
