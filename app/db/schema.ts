@@ -4,6 +4,7 @@ import { sql } from "drizzle-orm";
 import { ORDER_STATES } from "~/domain/order-states";
 import type { MeasurementConditions, ScanInfo } from "~/domain/measurement";
 import type { AcceptanceWindow } from "~/diffraction/phases";
+import type { InvoiceDocument, InvoiceKind } from "~/domain/invoice-document";
 import {
   bigserial,
   boolean,
@@ -349,8 +350,16 @@ export const priceLists = pgTable("price_lists", {
   hazardousHandlingMinor: integer("hazardous_handling_minor").notNull().default(0),
   rushMultiplier: numeric("rush_multiplier", { precision: 4, scale: 2 }).notNull().default("1.50"),
   turnaroundDays: integer("turnaround_days").notNull().default(10),
+  /** Prices by client kind ("academic", "non_profit", "industry") where they differ from the list above. */
+  tiers: jsonb("tiers").$type<Partial<Record<"academic" | "non_profit" | "industry", PriceTier>>>().notNull().default({}),
   updatedAt: updatedAt(),
 });
+
+/** A client kind's own prices; what it leaves out is taken from the base list. */
+export interface PriceTier {
+  perSampleMinor?: Partial<Record<string, number>>;
+  perInstrumentHourMinor?: number;
+}
 
 export const hazardAcceptance = pgTable("hazard_acceptance", {
   labId: uuid("lab_id")
@@ -569,6 +578,11 @@ export const orders = pgTable(
     purchaseOrderNumber: text("purchase_order_number"),
     purchaseOrderFileName: text("purchase_order_file_name"),
     purchaseOrderFileKey: text("purchase_order_file_key"),
+    /** The tax in `amountMinor` (the quote's net total plus this is what the client pays), fixed on acceptance. */
+    taxMinor: integer("tax_minor").notNull().default(0),
+    taxRateBps: integer("tax_rate_bps").notNull().default(0),
+    /** How the tax was decided (app/domain/invoice-document.ts TaxTreatment); null on orders made before invoices. */
+    taxTreatment: text("tax_treatment"),
     createdAt: createdAt(),
     updatedAt: updatedAt(),
   },
@@ -635,8 +649,19 @@ export const payments = pgTable(
     orderId: uuid("order_id")
       .notNull()
       .references(() => orders.id, { onDelete: "restrict" }),
-    checkoutSessionId: text("checkout_session_id").notNull(),
+    /** "card" (the provider's checkout page) or "bank_transfer" (funding instructions with a reference). */
+    method: text("method").$type<"card" | "bank_transfer">().notNull().default("card"),
+    /** The provider's checkout session (card payments only). */
+    checkoutSessionId: text("checkout_session_id"),
     paymentIntentId: text("payment_intent_id"),
+    /** The provider's customer whose cash balance receives bank transfers. */
+    customerId: text("customer_id"),
+    /** What has arrived so far by transfer (minor units); equals the amount once paid in full. */
+    receivedMinor: integer("received_minor").notNull().default(0),
+    /** The provider's bank-transfer instructions as shown to the client: account, reference, amount remaining. */
+    bankInstructions: jsonb("bank_instructions").$type<Record<string, unknown>>(),
+    /** When the client was reminded that the transfer has not (fully) arrived. */
+    remindedAt: timestamp("reminded_at", { withTimezone: true }),
     chargeId: text("charge_id"),
     status: paymentStatus("status").notNull().default("open"),
     amountMinor: integer("amount_minor").notNull(),
@@ -758,6 +783,59 @@ export const exchangeRates = pgTable(
   (t) => [index("exchange_rates_pair_idx").on(t.base, t.quote, t.asOf)],
 );
 
+/**
+ * Invoices, credit notes and the platform's monthly fee invoices, each numbered without gaps in its series and
+ * frozen as a document snapshot when issued (docs/design.md#invoices). Never updated or deleted: a correction
+ * is a credit note that refers to the invoice.
+ */
+export const invoices = pgTable(
+  "invoices",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    kind: text("kind").$type<InvoiceKind>().notNull(),
+    number: text("number").notNull(),
+    /** The numbering series it took its number from (document_number_counters). */
+    series: text("series").notNull(),
+    seq: integer("seq").notNull(),
+    /** The seller: the lab for invoices and credit notes; null for the platform's fee invoices. */
+    issuerOrganisationId: uuid("issuer_organisation_id").references(() => organisations.id, { onDelete: "restrict" }),
+    /** The buyer: the client for invoices and credit notes; the lab for fee invoices. */
+    recipientOrganisationId: uuid("recipient_organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "restrict" }),
+    orderId: uuid("order_id").references(() => orders.id, { onDelete: "restrict" }),
+    /** A credit note's invoice. */
+    creditsInvoiceId: uuid("credits_invoice_id"),
+    /** A fee invoice's month, "2026-11". */
+    period: text("period"),
+    currency: text("currency").notNull(),
+    netMinor: integer("net_minor").notNull(),
+    taxMinor: integer("tax_minor").notNull(),
+    totalMinor: integer("total_minor").notNull(),
+    document: jsonb("document").$type<InvoiceDocument>().notNull(),
+    /** What caused it (the order's payment, a refund's provider id, a lab and month), unique: issued once. */
+    sourceKey: text("source_key").notNull(),
+    issuedAt: createdAt(),
+  },
+  (t) => [
+    uniqueIndex("invoices_number_idx").on(t.number),
+    uniqueIndex("invoices_series_seq_idx").on(t.series, t.seq),
+    uniqueIndex("invoices_source_idx").on(t.sourceKey),
+    index("invoices_order_idx").on(t.orderId),
+    index("invoices_issued_idx").on(t.issuedAt),
+    index("invoices_recipient_idx").on(t.recipientOrganisationId, t.issuedAt),
+    index("invoices_issuer_idx").on(t.issuerOrganisationId, t.issuedAt),
+    check("invoices_kind", sql`${t.kind} in ('invoice', 'credit_note', 'fee_invoice')`),
+  ],
+);
+
+/** The last number given per series (a lab's invoices or credit notes in a year, the platform's fee invoices); locked while one is taken. */
+export const documentNumberCounters = pgTable("document_number_counters", {
+  series: text("series").primaryKey(),
+  lastSeq: integer("last_seq").notNull(),
+});
+
+export type Invoice = typeof invoices.$inferSelect;
 export type Payment = typeof payments.$inferSelect;
 export type Dispute = typeof disputes.$inferSelect;
 

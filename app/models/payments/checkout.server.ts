@@ -19,10 +19,10 @@ export async function startCheckout(orderId: string, actor: { userId: string; em
   const [open] = await db
     .select()
     .from(schema.payments)
-    .where(and(eq(schema.payments.orderId, orderId), eq(schema.payments.status, "open")))
+    .where(and(eq(schema.payments.orderId, orderId), eq(schema.payments.status, "open"), eq(schema.payments.method, "card")))
     .orderBy(desc(schema.payments.createdAt))
     .limit(1);
-  if (open) {
+  if (open?.checkoutSessionId) {
     try {
       const session = await provider().checkout.sessions.retrieve(open.checkoutSessionId);
       if (session.status === "open" && session.url) return session.url;

@@ -68,7 +68,7 @@ export async function receiveWebhook(rawBody: string, signature: string | null) 
   if (object.object === "checkout.session") await syncCheckout(object.id);
   else if (object.object === "payment_intent") {
     const [payment] = await db.select().from(schema.payments).where(eq(schema.payments.paymentIntentId, object.id));
-    if (payment) await syncCheckout(payment.checkoutSessionId);
+    if (payment?.checkoutSessionId) await syncCheckout(payment.checkoutSessionId);
   } else if (object.object === "account") await syncPayoutAccount(object.id);
   await db.update(schema.webhookEvents).set({ processedAt: new Date() }).where(eq(schema.webhookEvents.id, event.id));
   return { duplicate: false };
