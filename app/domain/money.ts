@@ -33,3 +33,13 @@ export function formatMoney(minor: number, currency: string, locale: SupportedLo
 export function platformFee(amountMinor: number, bps: number) {
   return Math.round((amountMinor * bps) / 10_000);
 }
+
+/**
+ * The platform fee on a part of what the client paid: charged on the net part only, never on the tax in it
+ * (docs/design.md#tax-on-invoices). The part's tax is its share of the order's tax, rounded to the minor unit;
+ * an order without tax gives exactly `platformFee(grossPartMinor, bps)`.
+ */
+export function platformFeeOnPart(grossPartMinor: number, order: { amountMinor: number; taxMinor: number; platformFeeBps: number }) {
+  const tax = order.taxMinor > 0 && order.amountMinor > 0 ? Math.round((grossPartMinor * order.taxMinor) / order.amountMinor) : 0;
+  return platformFee(grossPartMinor - tax, order.platformFeeBps);
+}

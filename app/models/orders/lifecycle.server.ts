@@ -5,7 +5,7 @@ import { eq, inArray, sql } from "drizzle-orm";
 import { config } from "~/config.server";
 import { db, schema, type Tx } from "~/db/client.server";
 import type { Order } from "~/db/schema";
-import { formatMoney, platformFee } from "~/domain/money";
+import { formatMoney, platformFeeOnPart } from "~/domain/money";
 import { moveProblem, type Mover, type OrderState } from "~/domain/order-states";
 import { audit } from "~/models/audit.server";
 import { samplesWithoutCompletedCheck } from "~/models/checks/queries.server";
@@ -218,7 +218,7 @@ export async function releasePayout(orderId: string) {
   if (!order) throw new PaymentProblem("No such order.", 404);
   if (order.state === "paid_out") return order;
   if (order.state !== "accepted") throw new PaymentProblem("Only an accepted delivery is paid out.");
-  const fee = platformFee(order.amountMinor, order.platformFeeBps);
+  const fee = platformFeeOnPart(order.amountMinor, order);
   const transfer = await transferToLab(order, order.amountMinor - fee, `payout:${order.id}`);
   return db.transaction(async (tx) => {
     const locked = await lockOrder(tx, orderId);
@@ -386,7 +386,7 @@ export async function resolveDispute(orderId: string, admin: { userId: string; c
     throw new PaymentProblem(`The refund must be between ${formatMoney(0, order.currency)} and the ${formatMoney(held, order.currency)} held.`, 400);
   }
   const payoutPart = held - refundMinor;
-  const fee = platformFee(payoutPart, order.platformFeeBps);
+  const fee = platformFeeOnPart(payoutPart, order);
   await refund(order, refundMinor, `Dispute decision: refund. ${reason}`, `refund:${orderId}:dispute`);
   const transfer = payoutPart - fee > 0 ? await transferToLab(order, payoutPart - fee, `payout:${orderId}:dispute`) : null;
   await db.transaction(async (tx) => {

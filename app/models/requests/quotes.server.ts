@@ -6,6 +6,8 @@ import type { MarketRequest, PriceList, QuoteLineItem, Sample } from "~/db/schem
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
 import { takeOrderNumber } from "~/models/orders/numbers.server";
+import { decideTaxBetween } from "~/models/invoices/tax.server";
+import { taxOn } from "~/domain/vat";
 import { declaresHazard } from "~/domain/hazards";
 import { labelOf, sourceLabel } from "~/domain/matching";
 import type { QuoteInput } from "~/domain/quote-forms";
@@ -281,6 +283,9 @@ export async function acceptQuote(
         .from(schema.organisations)
         .where(eq(schema.organisations.id, organisationId));
       if (client?.requiresPurchaseOrder && !po?.number) return { ok: false, error: PO_REQUIRED } as const;
+      // The quote's total is net; the tax is fixed now and added to what the client pays (docs/design.md#tax-on-invoices).
+      const tax = await decideTaxBetween(quote.labId, organisationId, tx);
+      const taxMinor = taxOn(quote.totalMinor, tax.rateBps);
 
       await tx.update(schema.quotes).set({ state: "accepted", decidedAt: now }).where(eq(schema.quotes.id, quote.id));
       await tx
@@ -296,7 +301,10 @@ export async function acceptQuote(
           number: await takeOrderNumber(tx, organisationId, now),
           clientOrganisationId: organisationId,
           labId: quote.labId,
-          amountMinor: quote.totalMinor,
+          amountMinor: quote.totalMinor + taxMinor,
+          taxMinor,
+          taxRateBps: tax.rateBps,
+          taxTreatment: tax.treatment,
           currency: quote.currency,
           platformFeeBps: config.payments.platformFeeBps,
           purchaseOrderNumber: po?.number ?? null,

@@ -15,7 +15,7 @@ import { OrderTimeline } from "~/components/order-timeline";
 import { Field, FormError, PageHeader } from "~/components/ui";
 import type { Verdict } from "~/diffraction/verdict";
 import { readStoredResult } from "~/domain/check-result";
-import { platformFee, toMajorText, toMinorUnits } from "~/domain/money";
+import { platformFeeOnPart, toMajorText, toMinorUnits } from "~/domain/money";
 import { checkWithOrder } from "~/models/checks/queries.server";
 import { orderFileList } from "~/models/files/files.server";
 import { resolveDispute } from "~/models/orders/lifecycle.server";
@@ -69,6 +69,7 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
       amountMinor: order.amountMinor,
       currency: order.currency,
       feeBps: order.platformFeeBps,
+      taxMinor: order.taxMinor,
     },
     title: title ?? "Order",
     clientName: clientName ?? "",
@@ -120,11 +121,11 @@ export async function action({ request, params, context }: Route.ActionArgs) {
 }
 
 /** What a refund typed as money leaves the lab, after the platform fee on the lab's part; null while unreadable. */
-function splitOf(refundText: string, heldMinor: number, feeBps: number) {
+function splitOf(refundText: string, heldMinor: number, order: { amountMinor: number; taxMinor: number; feeBps: number }) {
   const refund = toMinorUnits(refundText);
   if (refund === null || refund > heldMinor) return null;
   const labPart = heldMinor - refund;
-  const fee = platformFee(labPart, feeBps);
+  const fee = platformFeeOnPart(labPart, { amountMinor: order.amountMinor, taxMinor: order.taxMinor, platformFeeBps: order.feeBps });
   return { refund, payout: labPart - fee, fee };
 }
 
@@ -133,7 +134,7 @@ export default function DisputeScreen({ loaderData, actionData }: Route.Componen
   const { order, title, clientName, labName, dispute, heldMinor, files, timeline, plot, thread } = loaderData;
   const busy = useNavigation().state !== "idle";
   const [refundText, setRefundText] = useState("");
-  const split = splitOf(refundText, heldMinor, order.feeBps);
+  const split = splitOf(refundText, heldMinor, order);
   const plotData = useMemo(() => (plot ? checkPlotData(plot.result) : null), [plot]);
   const errors = actionData?.result.error ?? {};
   return (

@@ -11,7 +11,7 @@ import { filesWithVerdicts } from "~/models/files/files.server";
 import { disputesWithOrders, heldMoneyOf, orderTimeline } from "~/models/orders/queries.server";
 import { toMinorUnits } from "~/domain/money";
 import { PaymentProblem } from "~/models/payments/provider.server";
-import { platformFee } from "~/domain/money";
+import { platformFeeOnPart } from "~/domain/money";
 import { resolveDispute } from "~/models/orders/lifecycle.server";
 import { requireAdmin } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -46,7 +46,7 @@ export async function loader({ request }: Route.LoaderArgs) {
         heldMinor,
         feeBps: r.order.platformFeeBps,
         // What the lab would get from an even split, as an example beside the form.
-        halfSplitPayoutMinor: heldMinor - refundHalf - platformFee(heldMinor - refundHalf, r.order.platformFeeBps),
+        halfSplitPayoutMinor: heldMinor - refundHalf - platformFeeOnPart(heldMinor - refundHalf, r.order),
         decision:
           r.dispute.state === "resolved" ? { refundMinor: r.dispute.refundMinor, payoutMinor: r.dispute.payoutMinor, reason: r.dispute.decisionReason } : null,
       };

@@ -20,6 +20,9 @@ import { PurchaseOrderFields } from "~/components/purchase-order-fields";
 import { checkPurchaseOrder, purchaseOrderInputFrom, requiresPurchaseOrder } from "~/models/orders/purchase-orders.server";
 import { ratesAmong } from "~/models/platform/exchange-rates.server";
 import { quoteCurrencyNotes, rateText, parseRate } from "~/domain/exchange";
+import { taxDecisionsFor } from "~/models/invoices/tax.server";
+import { taxLineText, taxOn } from "~/domain/vat";
+import type { TaxTreatment } from "~/domain/invoice-document";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const actor = await requireOrgRole(request, "client");
@@ -46,7 +49,20 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
   const currencies = [...new Set([row.currency, ...live.map((q) => q.currency)])];
   const currencyNotes = quoteCurrencyNotes(live, row.currency, await ratesAmong(currencies));
+  // The tax each quote would carry on acceptance, by the same rule acceptance fixes (docs/design.md#tax-on-invoices).
+  const decisions = await taxDecisionsFor(
+    live.map((q) => q.labId),
+    membership.organisation.id,
+  );
+  const taxes = Object.fromEntries(
+    live.map((q) => {
+      const d =
+        order?.quoteId === q.id && order.taxTreatment ? { treatment: order.taxTreatment as TaxTreatment, rateBps: order.taxRateBps } : decisions.get(q.labId)!;
+      return [q.id, { treatment: d.treatment, rateBps: d.rateBps, taxMinor: taxOn(q.totalMinor, d.rateBps) }];
+    }),
+  );
   return {
+    taxes,
     request: row,
     samples,
     quotes,
@@ -216,6 +232,11 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
                   </p>
                 ) : null}
                 <p className="mt-2 text-2xl font-bold">{fmt.money(q.totalMinor, q.currency)}</p>
+                {loaderData.taxes[q.id] ? (
+                  <p className="text-sm text-ink-700">
+                    {taxLineText(loaderData.taxes[q.id], loaderData.taxes[q.id].taxMinor, (m) => fmt.money(m, q.currency))}
+                  </p>
+                ) : null}
                 <CurrencyNote note={currencyNotes[q.id]} />
                 <dl className="mt-2 grid grid-cols-[auto_1fr] gap-x-3 gap-y-0.5 text-sm">
                   <dt className="text-ink-500">Turnaround</dt>
