@@ -105,6 +105,8 @@ export default [
     route("requests/:id/matches", "routes/api/request-matches.ts"),
     route("requests/:id/messages", "routes/api/request-messages.ts"),
     route("orders/:id/messages", "routes/api/order-messages.ts"),
+    route("orders/:id/invoice", "routes/api/order-invoice.ts"),
+    route("orders/:id/credit-notes/:number", "routes/api/order-credit-note.ts"),
     route("orders/:id", "routes/api/order.ts"),
     route("checks/:id", "routes/api/check.ts"),
     route("admin/ledger/summary", "routes/api/admin/ledger-summary.ts"),

@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Installs what a fresh machine lacks: Debian packages and the npm dependencies.
 #   services/bootstrap.sh          PostgreSQL (for npm run demo / dev)
-#   services/bootstrap.sh --test   also Chromium, the Python reference libraries and sqlmap used by the tests
+#   services/bootstrap.sh --test   also Chromium, poppler-utils, the Python reference libraries and sqlmap used by the tests
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -9,6 +9,8 @@ need=()
 [ -x /usr/lib/postgresql/15/bin/pg_ctl ] || need+=(postgresql)
 if [ "${1:-}" = "--test" ]; then
   [ -x /usr/bin/chromium ] || need+=(chromium)
+  # pdftotext reads the invoices back in tests/integration/invoices.test.ts.
+  [ -x /usr/bin/pdftotext ] || need+=(poppler-utils)
   # The outside SQL-injection scanner of tests/system/sqlmap.test.ts.
   command -v sqlmap >/dev/null || need+=(sqlmap)
   /usr/bin/python3 -c 'import xraylib, gemmi, pymatgen' 2>/dev/null || need+=(python3-xraylib python3-gemmi python3-pymatgen)

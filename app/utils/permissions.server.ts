@@ -1,6 +1,9 @@
 // Who may use a loader or action: every protected route calls one of these itself. Each guard reads the request,
 // asks the models, and answers a refusal as HTTP (a redirect to sign-in, a 401, 403 or 404) for React Router to send.
+import { eq } from "drizzle-orm";
 import { data, redirect } from "react-router";
+import { db, schema } from "~/db/client.server";
+import { isUuid } from "~/domain/ids";
 import type { MembershipRole, OrganisationKind } from "~/db/schema";
 import type { Section } from "~/domain/workspaces";
 import { ADMIN_SECTIONS, CLIENT_SECTIONS, LAB_SECTIONS } from "~/domain/workspaces";
@@ -255,6 +258,19 @@ export async function requireOrderPartyOrDisputeAdmin(
   if (!disputed) notFound("No such order for your organisations.");
   await logDisputeRead(actor.user.id, disputed, subject ?? { type: "order", id: disputed.id, what }, clientAddress);
   return { actor, order: disputed, side: "admin" as const };
+}
+
+/**
+ * The order for its parties and for any admin with the second factor (the invoices and credit notes of an order,
+ * which admins read and export anyway); everyone else gets the same 404. The side is the viewer's.
+ */
+export async function requireOrderPartyOrAdmin(request: Request, orderId: string) {
+  const actor = await requireUser(request);
+  const found = await partyTo(actor, orderId);
+  if (found) return { actor, order: found.order, side: found.side };
+  const [order] = isFullAdmin(actor) && isUuid(orderId) ? await db.select().from(schema.orders).where(eq(schema.orders.id, orderId)) : [];
+  if (!order) notFound("No such order for your organisations.");
+  return { actor, order, side: "admin" as const };
 }
 
 /**

@@ -162,6 +162,11 @@ const EXPECTED: Record<string, Expect> = {
   "routes/api/labs": { loader: "public" },
   "routes/api/orders": { loader: signedIn("ok", { admin: "forbidden" }) },
   "routes/api/order-files": { loader: orderParties },
+  // The paid order's invoice: its parties and admins (who read and export invoices) only.
+  "routes/api/order-invoice": { loader: signedIn("notFound", { ownerA: "ok", memberA: "ok", labManager: "ok", labOperator: "ok", admin: "ok" }) },
+  // The matrix's order has had no refund, so the credit note it names does not exist for anyone (a 404 alike);
+  // tests/integration/invoices.test.ts reads real credit notes as parties and as outsiders.
+  "routes/api/order-credit-note": { loader: signedIn("notFound") },
   // The instrument-computer API takes a bearer token only; a browser session is not one.
   "routes/api/v1/order-files": { action: all("signin") },
   "routes/api/v1/order-file-complete": { action: all("signin") },
@@ -315,6 +320,7 @@ beforeAll(async () => {
     evidenceId: "00000000-0000-4000-8000-000000000000",
     labId: w.granite.id,
     slug: w.granite.slug,
+    number: "CN-GRC-2026-9999",
     token,
   });
   // Routes whose :id is not an order.

@@ -1,7 +1,8 @@
 // Property: whatever sequence of payments, declines, cancellations, deliveries, acceptances, refusals and
 // disputes happens over many orders — with every webhook delivered twice and out of order — every ledger
 // transaction balances, no order's held balance goes negative, and the ledger's totals equal the payment
-// provider's own records of charges, refunds and transfers.
+// provider's own records of charges, refunds and transfers; and every invoice and credit note matches the ledger
+// to the minor unit (one order of each sequence carries tax, so the fee on the net part and the tax split are in play).
 import fc from "fast-check";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { moneyWorld, type MoneyWorld } from "./money-fixtures";
@@ -86,6 +87,67 @@ async function checkInvariants() {
   expect(eur.refundedMinor).toBe(totals.refunded.eur ?? 0);
   expect(eur.paidOutMinor).toBe(totals.transferred.eur ?? 0);
   expect(eur.heldMinor + eur.paidOutMinor + eur.feesMinor + eur.refundedMinor).toBe(totals.charged.eur ?? 0);
+  await invoicesMatchLedger();
+}
+
+/**
+ * Every paid order has one invoice whose total is its payment_held posting, net + tax = gross; every refund
+ * posting has a credit note of the same amount referring to that invoice, and the credit notes of an invoice never
+ * exceed it — to the minor unit, with the tax credited never more than the invoice's (docs/design.md#invoices).
+ */
+async function invoicesMatchLedger() {
+  const { db, schema, eq } = w;
+  const postings = await db
+    .select({
+      kind: schema.ledgerTransactions.kind,
+      orderId: schema.ledgerTransactions.orderId,
+      objectId: schema.ledgerTransactions.providerObjectId,
+      amount: schema.ledgerEntries.amountMinor,
+    })
+    .from(schema.ledgerTransactions)
+    .innerJoin(schema.ledgerEntries, eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id))
+    .where(eq(schema.ledgerEntries.account, w.app.ledger.ACCOUNTS.cash));
+  const documents = await db.select().from(schema.invoices);
+  const invoices = documents.filter((d) => d.kind === "invoice");
+  const heldBy = new Map<string, number>();
+  for (const p of postings.filter((p) => p.kind === "payment_held")) heldBy.set(p.orderId!, (heldBy.get(p.orderId!) ?? 0) + p.amount);
+  for (const [orderId, held] of heldBy) {
+    const own = invoices.filter((i) => i.orderId === orderId);
+    expect(own, `one invoice for order ${orderId}`).toHaveLength(1);
+    expect(own[0].totalMinor).toBe(held);
+    expect(own[0].netMinor + own[0].taxMinor).toBe(own[0].totalMinor);
+    expect(own[0].document.totals).toEqual({ netMinor: own[0].netMinor, taxMinor: own[0].taxMinor, grossMinor: own[0].totalMinor });
+  }
+  expect(invoices.filter((i) => !heldBy.has(i.orderId!))).toEqual([]);
+  for (const r of postings.filter((p) => p.kind === "refund")) {
+    const note = documents.find((d) => d.sourceKey === `refund:${r.objectId}`);
+    expect(note, `credit note of refund ${r.objectId}`).toBeDefined();
+    expect(note!.kind).toBe("credit_note");
+    expect(note!.totalMinor).toBe(-r.amount);
+    expect(note!.netMinor + note!.taxMinor).toBe(note!.totalMinor);
+    const invoice = invoices.find((i) => i.id === note!.creditsInvoiceId)!;
+    expect(invoice.orderId).toBe(r.orderId);
+  }
+  for (const invoice of invoices) {
+    const notes = documents.filter((d) => d.creditsInvoiceId === invoice.id);
+    const gross = notes.reduce((s, n) => s + n.totalMinor, 0);
+    const tax = notes.reduce((s, n) => s + n.taxMinor, 0);
+    expect(gross).toBeLessThanOrEqual(invoice.totalMinor);
+    expect(tax).toBeLessThanOrEqual(invoice.taxMinor);
+    if (gross === invoice.totalMinor) expect(tax).toBe(invoice.taxMinor);
+  }
+}
+
+/** The second order of each sequence carries 21 % tax on its quoted net, as a domestic EU order would. */
+async function withTax(orderId: string) {
+  const { db, schema, eq } = w;
+  const [o] = await db.select().from(schema.orders).where(eq(schema.orders.id, orderId));
+  const taxMinor = Math.round((o.amountMinor * 2100) / 10_000);
+  await db
+    .update(schema.orders)
+    .set({ amountMinor: o.amountMinor + taxMinor, taxMinor, taxRateBps: 2100, taxTreatment: "domestic" })
+    .where(eq(schema.orders.id, orderId));
+  return orderId;
 }
 
 describe("money flow property", () => {
@@ -104,7 +166,11 @@ describe("money flow property", () => {
         ),
         async (ops) => {
           w.fake.controls.setDelivery({ mode: "hold" });
-          const orders = [await w.makeOrder(ops[0].amount), await w.makeOrder(ops[1 % ops.length].amount), await w.makeOrder(ops[2 % ops.length].amount)];
+          const orders = [
+            await w.makeOrder(ops[0].amount),
+            await withTax(await w.makeOrder(ops[1 % ops.length].amount)),
+            await w.makeOrder(ops[2 % ops.length].amount),
+          ];
           for (const op of ops) {
             // Two copies of the same step at once stand for a double click or a duplicate delivery.
             await Promise.all([

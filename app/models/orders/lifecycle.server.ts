@@ -6,6 +6,7 @@ import { config } from "~/config.server";
 import { db, schema, type Tx } from "~/db/client.server";
 import type { Order } from "~/db/schema";
 import { formatMoney, platformFeeOnPart } from "~/domain/money";
+import { issueInvoiceTx } from "~/models/invoices/invoices.server";
 import { moveProblem, type Mover, type OrderState } from "~/domain/order-states";
 import { audit } from "~/models/audit.server";
 import { samplesWithoutCompletedCheck } from "~/models/checks/queries.server";
@@ -209,6 +210,8 @@ export async function holdFunds(orderId: string, paid: { paymentId: string; paym
       ],
     });
     if (posted && order.state === "awaiting_payment") await moveOrder(tx, order, "funds_held", "system", null, "Payment received and held.");
+    // The invoice in the lab's name, once per order, in the same transaction as the money (docs/design.md#invoices).
+    if (posted) await issueInvoiceTx(tx, orderId, new Date());
   });
 }
 

@@ -8,6 +8,7 @@ import type { Order } from "~/db/schema";
 import { services } from "~/utils/services.server";
 import { ACCOUNTS, heldForOrder, postLedger } from "~/models/payments/ledger.server";
 import type { Tx } from "~/db/client.server";
+import { issueCreditNoteTx } from "~/models/invoices/invoices.server";
 
 /** The provider client (the official SDK, pointed at the local fake outside production). */
 export const paymentProvider = () => services.payments;
@@ -140,8 +141,8 @@ export async function refund(order: Order, amountMinor: number, memo: string, id
   } catch (err) {
     providerTrouble(err);
   }
-  await db.transaction((tx) =>
-    postLedger(tx, {
+  await db.transaction(async (tx) => {
+    await postLedger(tx, {
       kind: "refund",
       orderId: order.id,
       currency: order.currency,
@@ -151,8 +152,10 @@ export async function refund(order: Order, amountMinor: number, memo: string, id
         { account: ACCOUNTS.held, amountMinor: amountMinor },
         { account: ACCOUNTS.cash, amountMinor: -amountMinor },
       ],
-    }),
-  );
+    });
+    // Its credit note, once per refund, referring to the order's invoice (docs/design.md#invoices).
+    await issueCreditNoteTx(tx, order.id, { id: refundObject.id, amountMinor, reason: memo });
+  });
   return refundObject;
 }
 

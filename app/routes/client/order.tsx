@@ -30,6 +30,8 @@ import { DisputePanel } from "~/components/dispute-panel";
 import { disputeCase as disputeCaseOf } from "~/models/orders/disputes.server";
 import { DueLine, ReceiptRecordCard, VerdictConfirmation } from "~/components/lab-records";
 import { receiptsOf, scansToConfirm } from "~/models/orders/lab-records.server";
+import { orderDocumentLinks } from "~/models/invoices/invoices.server";
+import { OrderDocuments } from "~/components/order-documents";
 import { dueStatus } from "~/domain/receipt";
 import { CONFIRM_FIELD } from "~/domain/verdict-confirmation";
 import { PurchaseOrderFacts, PurchaseOrderFields } from "~/components/purchase-order-fields";
@@ -82,6 +84,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     receipts,
     toConfirm,
     due: { at: order.dueAt?.toISOString() ?? null, ...dueStatus(order.dueAt, order.state) },
+    documents: await orderDocumentLinks(order.id),
   };
 }
 
@@ -181,6 +184,7 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
         error={actionData && "poError" in actionData ? (actionData.poError ?? null) : null}
         busy={busy}
       />
+      <OrderDocuments documents={loaderData.documents} currency={order.currency} />
       <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
         <section className="card" aria-labelledby="next-step">
           <h2 id="next-step" className="text-lg font-semibold">

@@ -2,6 +2,8 @@
 import { isUuid } from "~/domain/ids";
 import { DiffractionRingsIcon } from "~/components/ui";
 import { paidReceipt } from "~/models/orders/queries.server";
+import { documentsOfOrder } from "~/models/invoices/invoices.server";
+import { ratePercent } from "~/domain/vat";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payment-receipt";
 import { useFormat } from "~/components/locale";
@@ -11,10 +13,24 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!isUuid(params.id)) notFound("No such payment.");
   const row = await paidReceipt(params.id, membership.organisation.id);
   if (!row) notFound("No such payment in your organisation.");
+  // The reference people read is the invoice's number, never the payment provider's id (docs/design.md#invoices).
+  const documents = await documentsOfOrder(row.payment.orderId);
   return {
+    invoice: documents
+      ? {
+          number: documents.invoice.number,
+          url: `/api/orders/${row.payment.orderId}/invoice?format=pdf`,
+          tax: documents.invoice.document.taxPerRate.filter((r) => r.taxMinor !== 0),
+          notes: documents.invoice.document.notes,
+          creditNotes: documents.creditNotes.map((c) => ({
+            number: c.number,
+            grossMinor: c.totalMinor,
+            url: `/api/orders/${row.payment.orderId}/credit-notes/${encodeURIComponent(c.number)}?format=pdf`,
+          })),
+        }
+      : null,
     receipt: {
       id: row.payment.id,
-      chargeId: row.payment.chargeId,
       at: row.payment.updatedAt,
       amountMinor: row.payment.amountMinor,
       currency: row.payment.currency,
@@ -30,7 +46,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export default function Receipt({ loaderData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { receipt } = loaderData;
+  const { receipt, invoice } = loaderData;
   return (
     <article className="card mx-auto max-w-2xl print:border-0 print:shadow-none">
       <header className="flex items-center justify-between">
@@ -59,8 +75,19 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
         </dd>
         <dt className="text-ink-600">Date</dt>
         <dd>{fmt.dateTime(receipt.at)}</dd>
-        <dt className="text-ink-600">Payment reference</dt>
-        <dd className="font-mono text-xs">{receipt.chargeId}</dd>
+        {invoice ? (
+          <>
+            <dt className="text-ink-600">Invoice</dt>
+            <dd>
+              <a className="font-mono text-beam-700 underline" href={invoice.url} download>
+                {invoice.number} (PDF)
+              </a>
+            </dd>
+            {invoice.creditNotes.map((c) => (
+              <CreditNoteRow key={c.number} note={c} currency={receipt.currency} />
+            ))}
+          </>
+        ) : null}
       </dl>
       <table className="table mt-6">
         <thead>
@@ -80,6 +107,12 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
               <td className="text-right">{fmt.money(l.totalMinor, receipt.currency)}</td>
             </tr>
           ))}
+          {invoice?.tax.map((r) => (
+            <tr key={r.taxRateBps}>
+              <td colSpan={2}>VAT {ratePercent(r.taxRateBps)}</td>
+              <td className="text-right">{fmt.money(r.taxMinor, receipt.currency)}</td>
+            </tr>
+          ))}
           <tr>
             <td colSpan={2} className="font-semibold">
               Total paid (held until delivery is accepted)
@@ -88,7 +121,23 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
           </tr>
         </tbody>
       </table>
+      {invoice?.notes.length ? <p className="mt-3 text-sm text-ink-600">{invoice.notes.join(" ")}</p> : null}
     </article>
+  );
+}
+
+function CreditNoteRow({ note, currency }: { note: { number: string; grossMinor: number; url: string }; currency: string }) {
+  const fmt = useFormat();
+  return (
+    <>
+      <dt className="text-ink-600">Credit note</dt>
+      <dd>
+        <a className="font-mono text-beam-700 underline" href={note.url} download>
+          {note.number} (PDF)
+        </a>{" "}
+        — {fmt.money(note.grossMinor, currency)} refunded
+      </dd>
+    </>
   );
 }
 

@@ -30,6 +30,8 @@ import { DisputePanel } from "~/components/dispute-panel";
 import { disputeCase } from "~/models/orders/disputes.server";
 import { DueLine, ReceiptFields, ReceiptRecordCard, RefusalFields, VerdictConfirmation } from "~/components/lab-records";
 import { receiptsOf, scansToConfirm } from "~/models/orders/lab-records.server";
+import { orderDocumentLinks } from "~/models/invoices/invoices.server";
+import { OrderDocuments } from "~/components/order-documents";
 import { AMOUNT_UNITS, dueStatus, RECEIPT_CONDITIONS, REFUSAL_REASONS } from "~/domain/receipt";
 import { CONFIRM_FIELD } from "~/domain/verdict-confirmation";
 
@@ -64,6 +66,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     receipts,
     toConfirm,
     due: { at: order.dueAt?.toISOString() ?? null, ...dueStatus(order.dueAt, order.state) },
+    documents: await orderDocumentLinks(order.id),
   };
 }
 
@@ -163,6 +166,7 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
       {/* The form's sentence and any field's (the receipt records' fields are many; their sentences show here together). */}
       <FormError errors={[...new Set(Object.values(actionData?.result?.error ?? {}).flat())].filter((e): e is string => typeof e === "string" && !!e)} />
       <DueLine due={due} />
+      <OrderDocuments documents={loaderData.documents} currency={order.currency} />
       <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
         <div className="space-y-6">
           <section className="card" aria-labelledby="lab-next">
