@@ -12,9 +12,12 @@ import { db } from "~/db/client.server";
 import { seedRequestLife } from "~/demo/seed-request-life.server";
 import { seedDemoPurchaseOrders } from "~/demo/seed-purchase-orders.server";
 import { seedDemoProfiles } from "~/demo/seed-profiles.server";
+import { seedDemoInvoices } from "~/demo/seed-invoices.server";
 
 const t0 = Date.now();
 const result = await seedDemo();
+// Profiles first: the tax of each accepted quote and the parties on each invoice are fixed from them.
+await seedDemoProfiles();
 await seedDemoOrders();
 const scans = await seedDemoScans();
 const scenario = await seedDemoScenario();
@@ -24,7 +27,7 @@ await seedRequestLife();
 await seedDemoRecords();
 await seedDemoLabRecords();
 await seedDemoPurchaseOrders();
-await seedDemoProfiles();
+await seedDemoInvoices();
 console.log(
   `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
 );

@@ -49,6 +49,7 @@ export async function demoTour(base: string) {
     "owner@pinecrest.example — Amara, client owner (member@pinecrest.example is a member; consultant@fieldnotes.example manages for both clients)",
     `  nanomaterial and toxic samples with their safety data sheets, in transit: ${u(`/client/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  refused on arrival, with the lab's reason and the refund: ${u(`/client/orders/${await orderId("Capillary series of solvate PSF-127")}`)}; inconsistent check of the resolved dispute: ${u(`/checks/${await checkId("PSF-118-B_Cu_5-60.xy")}`)}`,
+    `  invoices and credit notes: the refused parcel's order has its invoice in Lakeside's name with the PO and the refund's credit note (PDF and JSON: ${u(`/api/orders/${await orderId("Capillary series of solvate PSF-127")}/invoice`)}); every paid order lists its invoice on the order page and the payment's receipt`,
     `  Form I declared with Form II as a candidate, the check picks the form the scan shows: ${u(`/client/orders/${await orderId("Form I or Form II of API batch PSF-163")}`)}  (check ${u(`/checks/${await checkId("PSF-163-B_Cu_5-60.xy")}`)})`,
     `consultant@fieldnotes.example — Rosalind, works for both clients: the bell shows the organisation she works in and counts the other's; a link into the other switches there with a notice: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}#messages`)}`,
     "lab@graniteridge.example — Marcus, lab manager (operator@graniteridge.example measures)",
