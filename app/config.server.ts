@@ -57,6 +57,22 @@ export const config = {
     /** Kept from the refund when a lab refuses a parcel on arrival, and paid to the lab for handling it. */
     refusalHandlingFeeMinor: num("REFUSAL_HANDLING_FEE_MINOR", 2500),
   },
+  /**
+   * The platform as the seller on its monthly fee invoices to labs (docs/design.md#platform-fee-invoices). The
+   * defaults are an invented demo company; a deployment sets its own legal name, address and VAT number.
+   */
+  platform: {
+    legalName: env.PLATFORM_LEGAL_NAME || "Diffractory Marketplace B.V.",
+    address: {
+      line1: env.PLATFORM_ADDRESS_LINE1 || "Brugstraat 14",
+      postcode: env.PLATFORM_ADDRESS_POSTCODE || "3511 AB",
+      city: env.PLATFORM_ADDRESS_CITY || "Utrecht",
+      country: env.PLATFORM_ADDRESS_COUNTRY || "NL",
+    },
+    vatId: env.PLATFORM_VAT_ID || "NL864207531B01",
+  },
+  /** When the worker issues last month's platform fee invoices (cron syntax, UTC): the 1st of each month. */
+  feeInvoiceCron: env.FEE_INVOICE_CRON || "15 0 1 * *",
   /** pg-boss timings: how often expired jobs (a killed worker's) are failed and retried, and the scan check's limits. */
   jobs: {
     maintenanceIntervalSeconds: num("JOB_MAINTENANCE_SECONDS", 120),

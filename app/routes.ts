@@ -65,6 +65,7 @@ export default [
       route("capabilities", "routes/lab/capabilities.tsx"),
       route("price-list", "routes/lab/price-list.tsx"),
       route("payouts", "routes/lab/payouts.tsx"),
+      route("statements", "routes/lab/statements.tsx"),
       route("work-queue", "routes/lab/work-queue.tsx"),
       route("orders/:id", "routes/lab/order.tsx"),
     ]),
@@ -72,6 +73,8 @@ export default [
     route("orders/:id/uploads", "routes/lab/order-uploads.ts"),
     route("orders/:id/uploads/:fileId", "routes/lab/order-upload.ts"),
     route("orders/:id/receipt-photo", "routes/lab/order-receipt-photo.ts"),
+    route("statements/:file", "routes/lab/statement-file.ts"),
+    route("statements/fee-invoices/:file", "routes/lab/fee-invoice-pdf.ts"),
   ]),
   ...prefix("admin", [
     layout("routes/workspace-layout.tsx", { id: "admin-layout" }, [
@@ -85,10 +88,12 @@ export default [
       route("disputes/:id", "routes/admin/dispute.tsx"),
       route("outbox", "routes/admin/outbox.tsx"),
       route("rates", "routes/admin/rates.tsx"),
+      route("invoices", "routes/admin/invoices.tsx"),
     ]),
   ]),
 
   route("admin/ledger/export", "routes/admin/ledger-export.ts"),
+  route("admin/invoices/export", "routes/admin/invoices-export.ts"),
   route("checks/:id", "routes/check.tsx"),
   route("checks/:id/peaks.csv", "routes/check-peaks-csv.ts"),
   route("checks/:id/result.json", "routes/check-result-json.ts"),

@@ -18,6 +18,7 @@ export const LAB_SECTIONS: Section[] = [
   { slug: "capabilities", label: "Capabilities" },
   { slug: "price-list", label: "Price list" },
   { slug: "payouts", label: "Payouts" },
+  { slug: "statements", label: "Statements" },
   { slug: "vetting", label: "Vetting" },
   { slug: "api-tokens", label: "API tokens" },
 ];
@@ -27,4 +28,5 @@ export const ADMIN_SECTIONS: Section[] = [
   { slug: "disputes", label: "Disputes" },
   { slug: "ledger", label: "Ledger" },
   { slug: "rates", label: "Exchange rates" },
+  { slug: "invoices", label: "Invoices" },
 ];

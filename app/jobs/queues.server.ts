@@ -16,6 +16,8 @@ export const QUEUES = {
   dailyDigest: "daily-digest",
   /** Every hour: open requests past their deadline expire (docs/design.md#the-requests-life). */
   requestExpiry: "request-expiry",
+  /** On the 1st of each month (UTC): last month's platform fee invoices to labs (docs/design.md#platform-fee-invoices). */
+  feeInvoices: "fee-invoices",
 } as const;
 
 const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };

@@ -7,6 +7,7 @@ import { sendDailyDigests } from "~/models/notifications/digest.server";
 import { deliverOutboxMessage, remindReviewWindows, startOutboxDispatcher } from "~/models/notifications/delivery.server";
 import { acceptLapsedDeliveries, releasePendingPayouts } from "~/models/orders/lifecycle.server";
 import { expireOverdueRequests } from "~/models/requests/request-life.server";
+import { issueDueFeeInvoices } from "~/models/invoices/fee-invoices.server";
 import { QUEUES } from "./queues.server";
 
 /** Registers every queue's handler and the schedules; the worker process calls this once. */
@@ -23,6 +24,11 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = config.rev
   await boss.work(QUEUES.requestExpiry, async () => {
     const expired = await expireOverdueRequests();
     if (expired > 0) console.log(`request expiry: ${expired} requests expired on their deadline`);
+  });
+  await boss.schedule(QUEUES.feeInvoices, config.feeInvoiceCron);
+  await boss.work(QUEUES.feeInvoices, async () => {
+    const runs = await issueDueFeeInvoices();
+    for (const run of runs) if (run.issued.length) console.log(`fee invoices: ${run.issued.length} issued for ${run.month}`);
   });
   await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
     await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });

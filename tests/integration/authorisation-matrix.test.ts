@@ -127,6 +127,11 @@ const EXPECTED: Record<string, Expect> = {
   "routes/lab/capabilities": { loader: labWorkspace, action: labManagerAction },
   "routes/lab/price-list": { loader: labWorkspace, action: labManagerAction },
   // Posting payouts takes a manager to their own lab's payout onboarding; it needs no fields.
+  // Statements: each lab reads its own months (a month without payouts is an empty statement); the fee invoice PDF
+  // is for the lab it was issued to and for admins, and does not exist for anyone else.
+  "routes/lab/statements": { loader: labWorkspace },
+  "routes/lab/statement-file": { loader: labWorkspace },
+  "routes/lab/fee-invoice-pdf": { loader: labA("ok", "forbidden", { otherLab: "notFound", unvettedLab: "notFound", admin: "ok" }) },
   "routes/lab/payouts": { loader: labWorkspace, action: signedIn("forbidden", { labManager: "ok", otherLab: "ok", unvettedLab: "ok" }) },
   "routes/lab/work-queue": { loader: labWorkspace },
   "routes/lab/order": { loader: orderLab, action: orderLabAction },
@@ -149,6 +154,9 @@ const EXPECTED: Record<string, Expect> = {
   "routes/admin/dispute": { loader: adminOnly("forbidden", "notFound"), action: adminOnly("forbidden", "notFound") },
   "routes/admin/outbox": { loader: adminPage, action: adminAction },
   "routes/admin/ledger-export": { loader: adminPage },
+  "routes/admin/invoices": { loader: adminPage },
+  // The export without a period is refused with a sentence, to admins only.
+  "routes/admin/invoices-export": { loader: adminOnly("forbidden", "bad") },
 
   "routes/check": { loader: orderParties },
   // The check row here has no result yet, so its parties get 409 "no peaks table yet".
@@ -323,8 +331,41 @@ beforeAll(async () => {
     number: "CN-GRC-2026-9999",
     token,
   });
+  // A platform fee invoice of Granite Ridge's, as the monthly job writes it.
+  const { feeInvoiceDocument } = await import("~/domain/fee-invoice");
+  const { platformParty } = await import("~/models/invoices/fee-invoices.server");
+  const { takeDocumentNumber } = await import("~/models/invoices/numbering.server");
+  const feeInvoice = await w.db.transaction(async (tx) => {
+    const taken = await takeDocumentNumber(tx, "fee_invoice", null, new Date("2026-02-01T00:15:00Z"));
+    const document = feeInvoiceDocument({
+      number: taken.number,
+      issuedAt: new Date("2026-02-01T00:15:00Z"),
+      month: "2026-01",
+      currency: "EUR",
+      seller: platformParty(),
+      buyer: { name: w.granite.name, address: null, taxId: null },
+      decision: { treatment: "outside_eu", rateBps: 0, notes: [] },
+      fees: [{ orderNumber: order.number, feeMinor: 1560, at: new Date("2026-01-20T10:00:00Z") }],
+      formatMoney: (minor, currency) => `${currency} ${minor / 100}`,
+    });
+    await tx.insert(w.schema.invoices).values({
+      kind: "fee_invoice",
+      number: taken.number,
+      series: taken.series,
+      seq: taken.seq,
+      recipientOrganisationId: w.granite.id,
+      period: "2026-01",
+      currency: "EUR",
+      netMinor: document.totals.netMinor,
+      taxMinor: 0,
+      totalMinor: document.totals.grossMinor,
+      document,
+      sourceKey: `fee:${w.granite.id}:2026-01:EUR`,
+    });
+    return taken.number;
+  });
   // Routes whose :id is not an order.
-  Object.assign(requestIds, { request: order.requestId, check: check.id, payment: payment.id, invitation, passwordReset });
+  Object.assign(requestIds, { request: order.requestId, check: check.id, payment: payment.id, invitation, passwordReset, feeInvoice });
   // The unvetted lab applies through the sign-up form, as anyone can, seconds before the matrix runs.
   const createAccount = (await import("~/routes/public/create-account")).action;
   const applied = await callRoute(
@@ -351,6 +392,8 @@ function paramsFor(route: Walked) {
   if (/payments\/:id/.test(route.path)) p.id = requestIds.payment;
   if (/invitations\/:token/.test(route.path)) p.token = requestIds.invitation;
   if (/reset-password\/:token/.test(route.path)) p.token = requestIds.passwordReset;
+  if (/statements\/:file/.test(route.path)) p.file = "2026-11.csv";
+  if (/fee-invoices\/:file/.test(route.path)) p.file = `${requestIds.feeInvoice}.pdf`;
   return p;
 }
 
