@@ -13,6 +13,7 @@ import { seedRequestLife } from "~/demo/seed-request-life.server";
 import { seedDemoPurchaseOrders } from "~/demo/seed-purchase-orders.server";
 import { seedDemoProfiles } from "~/demo/seed-profiles.server";
 import { seedDemoInvoices } from "~/demo/seed-invoices.server";
+import { seedDemoStatements } from "~/demo/seed-statements.server";
 
 const t0 = Date.now();
 const result = await seedDemo();
@@ -28,6 +29,7 @@ await seedDemoRecords();
 await seedDemoLabRecords();
 await seedDemoPurchaseOrders();
 await seedDemoInvoices();
+await seedDemoStatements();
 console.log(
   `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
 );

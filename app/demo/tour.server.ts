@@ -58,6 +58,7 @@ export async function demoTour(base: string) {
     `  work queue: ${u("/lab/work-queue")}; the hazardous parcel on its way: ${u(`/lab/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  measuring — upload scans and watch their checks: ${u(`/lab/orders/${await orderId("Form screen of salt candidates PSF-144")}/files`)}; payouts: ${u("/lab/payouts")}`,
     `  the lab's records — work queue sorted by due date: ${u("/lab/work-queue?sort=due&dir=asc")}; receipt record with storage places and a scan's entered conditions: ${u(`/lab/orders/${await orderId("Lattice check of LFP production lot HC-2645")}`)} (files: ${u(`/lab/orders/${await orderId("Lattice check of LFP production lot HC-2645")}/files`)})`,
+    `  statements: last month's payouts order by order (paid, refunded, fee, net) as PDF and CSV, with the platform's fee invoice: ${u("/lab/statements")}`,
     "lab@lakeside.example — Dana, lab manager",
     `  quotes sent, declined and lapsed: ${u("/lab/quotes")}; samples received, to measure: ${u(`/lab/orders/${await orderId("Transmission scan of LFP coating trial HC-2624")}`)}`,
     `lab@meridian.example — Tiago, awaiting vetting: the application and its checked calibration scan: ${u("/lab/vetting")}`,
@@ -66,6 +67,7 @@ export async function demoTour(base: string) {
     `  Meridian's application with its calibration check: ${u(`/admin/labs/${meridian?.id ?? ""}`)}; disputes (one open, one resolved): ${u("/admin/disputes")}`,
     `  the open dispute with both statements, the lab's evidence, the files with their checks and plots (each read audit-logged): ${u(`/admin/disputes/${await orderId("Impurity check of NMC lot HC-2655")}`)}`,
     `  audit log in sentences, filtered by kind (files, money, disputes…) and person: ${u("/admin/audit-log?kind=files")}; sign-ins apart: ${u("/admin/audit-log?kind=sign_ins")}`,
+    `  invoices, credit notes and fee invoices of a period with totals per currency, and its CSV: ${u("/admin/invoices")}`,
     `  ledger: ${u("/admin/ledger")}; audit log: ${u("/admin/audit-log")}; outbox: ${u("/admin/outbox")}; e-mail sent: ${u("/dev/mail")} (raw: http://127.0.0.1:54331/_fake/messages)`,
   ];
   return lines.join("\n");
