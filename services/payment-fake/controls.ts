@@ -4,6 +4,7 @@ import type { NextFunction, Request as ExpressRequest, Response as ExpressRespon
 import { http, HttpResponse } from "msw";
 import { completeOnboarding, balances } from "./connect";
 import { type Ctx, payCheckoutSession } from "./payments";
+import { fundCashBalance, intentByReference } from "./bank-transfers";
 import type { CardInput } from "./cards";
 import type { DeliveryMode, ReleaseOrder } from "./webhooks";
 
@@ -92,6 +93,15 @@ export function createControls(ctx: Ctx, faults: Faults) {
     settle: (timeoutMs?: number) => hooks.settle(timeoutMs),
     events: () => hooks.eventsWithDeliveries(),
     pay: (sessionId: string, card: CardInput) => payCheckoutSession(ctx, sessionId, card),
+    /**
+     * A bank transfer arriving with a reference (as the provider's `fund_cash_balance` test helper does it, for
+     * the customer the reference belongs to); null when no payment has this reference.
+     */
+    receiveTransfer(reference: string, amount: number, currency?: string) {
+      const pi = intentByReference(ctx, reference);
+      if (!pi || !Number.isSafeInteger(amount) || amount <= 0) return null;
+      return fundCashBalance(ctx, String(pi.customer), { amount: String(amount), currency: currency ?? String(pi.currency), reference });
+    },
     completeOnboarding(accountId: string) {
       const a = state.get(accountId, "account");
       return a ? completeOnboarding(ctx, a) : null;
@@ -199,6 +209,11 @@ export function controlHandlers(controls: Controls) {
       } catch {
         return HttpResponse.json({ error: { type: "invalid_request_error", message: `No such checkout.session: '${params.sessionId}'` } }, { status: 404 });
       }
+    }),
+    http.post(`${base}/transfers`, async ({ request }) => {
+      const b = await json(request);
+      const r = controls.receiveTransfer(String(b.reference ?? ""), Number(b.amount), b.currency === undefined ? undefined : String(b.currency));
+      return r ? HttpResponse.json(r) : bad("`reference` must name a bank-transfer payment and `amount` be a positive whole number of minor units");
     }),
     http.post(`${base}/accounts/:id/complete-onboarding`, ({ params }) => {
       const a = controls.completeOnboarding(String(params.id));

@@ -18,7 +18,17 @@ import {
   payCheckoutSession,
   sessionUrl,
 } from "./payments";
-import { cardPage, expiredPage, htmlResponse, notFoundPage, onboardingPage, paidPage, redirect } from "./pages";
+import { cardPage, expiredPage, htmlResponse, notFoundPage, onboardingPage, paidPage, redirect, transferPage } from "./pages";
+import {
+  asksForBankTransfer,
+  cancelPaymentIntent,
+  cashBalanceObject,
+  createBankTransferIntent,
+  fundCashBalance,
+  referenceOf,
+  refundedToCashBalance,
+  refundFromCashBalance,
+} from "./bank-transfers";
 import type { ProviderObject } from "./state";
 import { requestContext } from "./webhooks";
 
@@ -218,12 +228,37 @@ export function paymentHandlers(ctx: Ctx) {
         }),
       ),
     ),
+    http.get(
+      `${v1}/customers/:id/cash_balance`,
+      api(ctx, ({ params }) => cashBalanceObject(ctx, params.id)),
+    ),
+    http.get(
+      `${v1}/customers/:id/cash_balance_transactions/:txn`,
+      api(ctx, ({ params }) => {
+        const t = state.get(params.txn, "customer_cash_balance_transaction");
+        if (!t || t.customer !== params.id) throw noSuch("customer_cash_balance_transaction", params.txn);
+        return t;
+      }),
+    ),
+    http.get(
+      `${v1}/customers/:id/cash_balance_transactions`,
+      api(ctx, ({ params, query }) => {
+        cashBalanceObject(ctx, params.id);
+        const items = state.list("customer_cash_balance_transaction").filter((t) => t.customer === params.id);
+        return listObject(items, query, `/v1/customers/${params.id}/cash_balance_transactions`);
+      }),
+    ),
+    http.post(
+      `${v1}/test_helpers/customers/:id/fund_cash_balance`,
+      api(ctx, ({ params, body }) => fundCashBalance(ctx, params.id, body)),
+    ),
     http.get(`${v1}/customers/:id`, getter(ctx, "customer")),
     http.get(`${v1}/customers`, lister(ctx, "customer", "customers", ["email"])),
 
     http.post(
       `${v1}/payment_intents`,
       api(ctx, ({ body }) => {
+        if (asksForBankTransfer(body)) return createBankTransferIntent(ctx, body);
         return createPaymentIntent(ctx, {
           amount: positiveInt(body.amount, "amount"),
           currency: currencyOf(body.currency),
@@ -234,6 +269,10 @@ export function paymentHandlers(ctx: Ctx) {
           receipt_email: str(body, "receipt_email"),
         });
       }),
+    ),
+    http.post(
+      `${v1}/payment_intents/:id/cancel`,
+      api(ctx, ({ params, body }) => cancelPaymentIntent(ctx, params.id, body)),
     ),
     http.get(`${v1}/payment_intents/:id`, getter(ctx, "payment_intent")),
     http.get(`${v1}/payment_intents`, lister(ctx, "payment_intent", "payment_intents", ["customer"])),
@@ -264,7 +303,18 @@ export function paymentHandlers(ctx: Ctx) {
 
     http.post(
       `${v1}/refunds`,
-      api(ctx, ({ body }) => createRefund(ctx, body)),
+      api(ctx, ({ body }) => {
+        if (body.origin === "customer_balance") return refundFromCashBalance(ctx, body);
+        const refund = createRefund(ctx, body);
+        // A refund of a bank-transfer payment goes back into the customer's cash balance (Stripe docs, "Customer balance" refunds).
+        const charge = state.get(String(refund.charge), "charge");
+        if ((charge?.payment_method_details as { type?: string } | undefined)?.type === "customer_balance") {
+          Object.assign(refund, { destination_details: { customer_cash_balance: {}, type: "customer_cash_balance" } });
+          state.put(refund);
+          refundedToCashBalance(ctx, charge!, refund);
+        }
+        return refund;
+      }),
     ),
     http.get(`${v1}/refunds/:id`, getter(ctx, "refund")),
     http.get(`${v1}/refunds`, lister(ctx, "refund", "refunds", ["payment_intent", "charge"])),
@@ -342,6 +392,27 @@ export function paymentHandlers(ctx: Ctx) {
       if (result.outcome === "expired") return htmlResponse(expiredPage(result.redirect));
       const { card: _omitNumber, ...keep } = form;
       return htmlResponse(cardPage(result.session, lineItemsList(ctx, result.session.id), { error: result.error.message, values: keep }), 402);
+    }),
+
+    // The bank-transfer instructions page a bank-transfer PaymentIntent's `hosted_instructions_url` points at,
+    // with a local-test form that "receives" a transfer.
+    http.get("*/transfer/:id", ({ params }) => {
+      const pi = state.get(String(params.id), "payment_intent");
+      if (!pi || !referenceOf(ctx, pi.id)) return htmlResponse(notFoundPage("bank transfer"), 404);
+      return htmlResponse(transferPage(pi, referenceOf(ctx, pi.id)!));
+    }),
+    http.post("*/transfer/:id", async ({ request, params }) => {
+      const pi = state.get(String(params.id), "payment_intent");
+      if (!pi || !referenceOf(ctx, pi.id)) return htmlResponse(notFoundPage("bank transfer"), 404);
+      const form = formOf(await request.text());
+      const amount = Math.round(Number(String(form.amount ?? "").replace(",", ".")) * 100);
+      if (!Number.isSafeInteger(amount) || amount <= 0) return htmlResponse(transferPage(pi, referenceOf(ctx, pi.id)!, "Give an amount above zero."), 400);
+      fundCashBalance(ctx, String(pi.customer), {
+        amount: String(amount),
+        currency: String(pi.currency),
+        reference: form.reference ?? referenceOf(ctx, pi.id)!,
+      });
+      return redirect(`/transfer/${pi.id}`);
     }),
 
     // The onboarding page an account link points at.

@@ -104,3 +104,35 @@ charges and payouts for the account.</p>
 </form>`,
   );
 }
+
+/** The hosted bank-transfer instructions, with a local-test form that makes a transfer "arrive". */
+export function transferPage(pi: ProviderObject, reference: string, error?: string) {
+  const currency = String(pi.currency);
+  const display = (pi.next_action as { display_bank_transfer_instructions?: Record<string, unknown> } | null)?.display_bank_transfer_instructions;
+  const iban = (display?.financial_addresses as { iban?: Record<string, string> }[] | undefined)?.[0]?.iban;
+  const remaining = Number(display?.amount_remaining ?? 0);
+  const status =
+    pi.status === "succeeded"
+      ? '<p role="status">Paid in full.</p>'
+      : pi.status === "canceled"
+        ? '<p role="status">This payment was cancelled; money that arrives now stays in the cash balance.</p>'
+        : `<p role="status">Still to transfer: <strong>${esc(formatAmount(remaining, currency))}</strong> of ${esc(formatAmount(Number(pi.amount), currency))}.</p>`;
+  const rows = iban
+    ? `<table aria-label="Bank details"><tr><td>Account holder</td><td>${esc(iban.account_holder_name)}</td></tr>
+<tr><td>IBAN</td><td><code>${esc(iban.iban)}</code></td></tr><tr><td>BIC</td><td><code>${esc(iban.bic)}</code></td></tr>
+<tr><td>Reference</td><td><code>${esc(reference)}</code></td></tr></table>`
+    : `<p>Reference <code>${esc(reference)}</code></p>`;
+  return page(
+    "Bank transfer",
+    `<h1>Local test bank transfer</h1>${status}${rows}
+${error ? `<p class="error" role="alert">${esc(error)}</p>` : ""}
+<form method="post" action="/transfer/${esc(pi.id)}">
+<label for="amount">Simulate an incoming transfer of (${esc(currency.toUpperCase())})</label>
+<input id="amount" name="amount" inputmode="decimal" required value="${esc((remaining / 100).toFixed(2))}">
+<label for="reference">With the reference</label>
+<input id="reference" name="reference" value="${esc(reference)}">
+<button type="submit">Receive the transfer</button>
+</form>
+<p class="hint">Any amount: less than owed is a partial transfer, more leaves the excess in the customer's cash balance.</p>`,
+  );
+}

@@ -233,6 +233,126 @@ describe("refunds", () => {
   });
 });
 
+describe("bank transfers through the customer's cash balance", () => {
+  // Shapes from the Stripe API reference: PaymentIntent `next_action.display_bank_transfer_instructions`, the
+  // "Fund a test mode cash balance" helper, cash balance transactions, and refunds with `origin: customer_balance`.
+  async function transferIntent(amount = 10_000) {
+    const customer = await stripe.customers.create({ name: "Example Client GmbH", metadata: { organisationId: "org1" } });
+    const pi = await stripe.paymentIntents.create({
+      amount,
+      currency: "eur",
+      customer: customer.id,
+      allowed_payment_method_types: ["customer_balance"],
+      payment_method_data: { type: "customer_balance" },
+      payment_method_options: {
+        customer_balance: { funding_type: "bank_transfer", bank_transfer: { type: "eu_bank_transfer", eu_bank_transfer: { country: "DE" } } },
+      },
+      confirm: true,
+      metadata: { orderId: "o1" },
+    });
+    return { customer, pi, shown: pi.next_action!.display_bank_transfer_instructions! };
+  }
+
+  it("confirms into requires_action with an IBAN, BIC, holder, reference and the amount remaining", async () => {
+    const { pi, shown } = await transferIntent(10_000);
+    expect(pi.status).toBe("requires_action");
+    expect(pi.next_action?.type).toBe("display_bank_transfer_instructions");
+    expect(shown).toMatchObject({ amount_remaining: 10_000, currency: "eur", type: "eu_bank_transfer" });
+    const iban = shown.financial_addresses![0].iban!;
+    expect(iban.country).toBe("DE");
+    // ISO 13616: moving the first four characters to the end and reading letters as 10–35 leaves 1 mod 97.
+    const numeric = `${iban.iban!.slice(4)}${iban.iban!.slice(0, 4)}`.replace(/[A-Z]/g, (c) => String(c.charCodeAt(0) - 55));
+    expect(BigInt(numeric) % 97n).toBe(1n);
+    expect(iban.bic).toMatch(/^[A-Z]{6}[A-Z0-9]{2}([A-Z0-9]{3})?$/); // ISO 9362
+    expect(iban.account_holder_name).toBeTruthy();
+    expect(shown.reference).toMatch(/^[A-Z0-9]{12}$/);
+    const page = await fetch(shown.hosted_instructions_url!);
+    expect(page.status).toBe(200);
+    expect(await page.text()).toContain(shown.reference!);
+  });
+
+  it("refuses a bank transfer in another currency or without a funding type, in one sentence", async () => {
+    const customer = await stripe.customers.create({ name: "X" });
+    const base = {
+      amount: 1_000,
+      customer: customer.id,
+      allowed_payment_method_types: ["customer_balance"],
+      payment_method_data: { type: "customer_balance" as const },
+      confirm: true,
+    };
+    await expect(
+      stripe.paymentIntents.create({
+        ...base,
+        currency: "usd",
+        payment_method_options: {
+          customer_balance: { funding_type: "bank_transfer", bank_transfer: { type: "eu_bank_transfer", eu_bank_transfer: { country: "DE" } } },
+        },
+      }),
+    ).rejects.toMatchObject({ param: "currency" });
+    await expect(stripe.paymentIntents.create({ ...base, currency: "eur" })).rejects.toMatchObject({ type: "StripeInvalidRequestError" });
+  });
+
+  it("partial funding lowers amount_remaining; the rest completes it with a charge; more stays in the cash balance", async () => {
+    const { customer, pi, shown } = await transferIntent(10_000);
+    const first = await stripe.testHelpers.customers.fundCashBalance(customer.id, { amount: 4_000, currency: "eur", reference: shown.reference! });
+    expect(first).toMatchObject({ object: "customer_cash_balance_transaction", type: "funded", net_amount: 4_000, customer: customer.id });
+    expect(first.funded?.bank_transfer.reference).toBe(shown.reference);
+    const part = await stripe.paymentIntents.retrieve(pi.id);
+    expect(part.status).toBe("requires_action");
+    expect(part.next_action?.display_bank_transfer_instructions?.amount_remaining).toBe(6_000);
+    await stripe.testHelpers.customers.fundCashBalance(customer.id, { amount: 9_000, currency: "eur", reference: shown.reference! });
+    const done = await stripe.paymentIntents.retrieve(pi.id, { expand: ["latest_charge"] });
+    expect(done).toMatchObject({ status: "succeeded", amount_received: 10_000, next_action: null });
+    expect((done.latest_charge as Stripe.Charge).payment_method_details?.type).toBe("customer_balance");
+    expect((await stripe.customers.retrieveCashBalance(customer.id)).available).toEqual({ eur: 3_000 });
+    const txns = await stripe.customers.listCashBalanceTransactions(customer.id);
+    expect(txns.data.map((t) => t.type)).toEqual(["applied_to_payment", "funded", "applied_to_payment", "funded"]);
+    expect(await stripe.customers.retrieveCashBalanceTransaction(customer.id, first.id)).toMatchObject({ id: first.id });
+
+    const back = await stripe.refunds.create({ customer: customer.id, origin: "customer_balance", amount: 3_000, currency: "eur" });
+    expect(back).toMatchObject({ object: "refund", amount: 3_000, status: "succeeded" });
+    expect((await stripe.customers.retrieveCashBalance(customer.id)).available).toEqual({ eur: 0 });
+    await expect(stripe.refunds.create({ customer: customer.id, origin: "customer_balance", amount: 1, currency: "eur" })).rejects.toMatchObject({
+      code: "amount_too_large",
+    });
+
+    await fake.controls.settle();
+    expect(received.every((r) => r.verified)).toBe(true);
+    const t = types();
+    expect(t).toContain("payment_intent.partially_funded");
+    expect(t).toContain("payment_intent.succeeded");
+    expect(t.filter((x) => x === "customer_cash_balance_transaction.created").length).toBe(5);
+  });
+
+  it("cancelling returns what was applied to the cash balance; a paid intent cannot be cancelled", async () => {
+    const { customer, pi, shown } = await transferIntent(10_000);
+    const r = await control("transfers", { reference: shown.reference, amount: 2_500 });
+    expect(r).toMatchObject({ type: "funded", net_amount: 2_500 });
+    const cancelled = await stripe.paymentIntents.cancel(pi.id);
+    expect(cancelled.status).toBe("canceled");
+    expect((await stripe.customers.retrieveCashBalance(customer.id)).available).toEqual({ eur: 2_500 });
+    const paid = await transferIntent(1_000);
+    await control("transfers", { reference: paid.shown.reference, amount: 1_000 });
+    await expect(stripe.paymentIntents.cancel(paid.pi.id)).rejects.toMatchObject({ code: "payment_intent_unexpected_state" });
+    // A refund of a bank-transfer payment goes back into the cash balance.
+    await stripe.refunds.create({ payment_intent: paid.pi.id });
+    expect((await stripe.customers.retrieveCashBalance(paid.customer.id)).available).toEqual({ eur: 1_000 });
+    expect(await control("transfers", { reference: "NO-SUCH-REF", amount: 100 })).toMatchObject({ error: expect.anything() });
+  });
+
+  it("the instructions page receives a transfer through its form", async () => {
+    const { pi, shown } = await transferIntent(5_000);
+    const res = await fetch(shown.hosted_instructions_url!, {
+      method: "POST",
+      redirect: "manual",
+      headers: { "content-type": "application/x-www-form-urlencoded" },
+      body: new URLSearchParams({ amount: "50.00", reference: shown.reference! }),
+    });
+    expect(res.status).toBe(303);
+    expect((await stripe.paymentIntents.retrieve(pi.id)).status).toBe("succeeded");
+  });
+});
+
 describe("Connect accounts and transfers", () => {
   it("onboards through the account link and transfers only when onboarded and funded", async () => {
     const account = await stripe.accounts.create({
