@@ -13,6 +13,7 @@ export const MILESTONES = {
   request_revised: { label: "A request you quoted on was changed", essential: false, for: ["lab"] },
   request_withdrawn: { label: "A request you quoted on was withdrawn", essential: false, for: ["lab"] },
   request_expired: { label: "A request reached its deadline without an order", essential: false, for: ["client", "lab"] },
+  transfer_reminder: { label: "Bank transfer not yet received in full", essential: true, for: ["client"] },
   funds_held: { label: "Payment received and held", essential: true, for: ["client", "lab"] },
   samples_shipped: { label: "Samples shipped (with their hazard declaration)", essential: true, for: ["lab"] },
   samples_received: { label: "Samples received by the lab", essential: false, for: ["client"] },

@@ -21,7 +21,7 @@ export type OrderState = (typeof ORDER_STATES)[number];
 export type Mover = "client" | "lab" | "admin" | "system";
 
 export const TRANSITIONS: Record<OrderState, Partial<Record<OrderState, Mover[]>>> = {
-  awaiting_payment: { funds_held: ["system"], cancelled: ["client", "admin"] },
+  awaiting_payment: { funds_held: ["system"], cancelled: ["client", "admin", "system"] },
   funds_held: { samples_in_transit: ["client"], cancelled: ["client", "admin"] },
   samples_in_transit: { samples_received: ["lab"], refused_on_arrival: ["lab"], cancelled: ["client", "admin"] },
   samples_received: { measuring: ["lab"] },

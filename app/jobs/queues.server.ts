@@ -18,6 +18,8 @@ export const QUEUES = {
   requestExpiry: "request-expiry",
   /** On the 1st of each month (UTC): last month's platform fee invoices to labs (docs/design.md#platform-fee-invoices). */
   feeInvoices: "fee-invoices",
+  /** Every hour: bank transfers reminded before their pay-by date, lapsed after it (docs/design.md#bank-transfer). */
+  bankTransfers: "bank-transfers",
 } as const;
 
 const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };

@@ -8,6 +8,7 @@ import { deliverOutboxMessage, remindReviewWindows, startOutboxDispatcher } from
 import { acceptLapsedDeliveries, releasePendingPayouts } from "~/models/orders/lifecycle.server";
 import { expireOverdueRequests } from "~/models/requests/request-life.server";
 import { issueDueFeeInvoices } from "~/models/invoices/fee-invoices.server";
+import { sweepBankTransfers } from "~/models/payments/bank-transfer.server";
 import { QUEUES } from "./queues.server";
 
 /** Registers every queue's handler and the schedules; the worker process calls this once. */
@@ -29,6 +30,12 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = config.rev
   await boss.work(QUEUES.feeInvoices, async () => {
     const runs = await issueDueFeeInvoices();
     for (const run of runs) if (run.issued.length) console.log(`fee invoices: ${run.issued.length} issued for ${run.month}`);
+  });
+  await boss.schedule(QUEUES.bankTransfers, "20 * * * *");
+  await boss.work(QUEUES.bankTransfers, async () => {
+    const swept = await sweepBankTransfers();
+    if (swept.reminded + swept.lapsed + swept.closed > 0)
+      console.log(`bank transfers: ${swept.reminded} reminded, ${swept.lapsed} lapsed, ${swept.closed} closed`);
   });
   await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
     await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });

@@ -124,6 +124,16 @@ function orderLetterWords(kind: MilestoneKind, c: OrderContext, side: Audience):
         nextStep: `Review the data and accept the delivery, or open a dispute, within ${c.order.reviewWindowDays} days; after that the delivery is accepted automatically.`,
       };
     }
+    case "transfer_reminder":
+      return {
+        ...base,
+        subject: `Bank transfer not yet received: “${title}”`,
+        heading: "Your bank transfer has not arrived in full",
+        paragraphs: [
+          `We have not yet received the whole amount for order ${ref(c.order)} by bank transfer. If it does not arrive in time, the order lapses and anything received is sent back.`,
+        ],
+        nextStep: "Make the transfer with the reference shown, or pay by card on the order page.",
+      };
     case "review_window_ending": {
       const ends = new Date((c.order.deliveredAt ?? new Date()).getTime() + c.order.reviewWindowDays * 86_400_000);
       return {

@@ -30,6 +30,8 @@ export const OUTBOX_CHANNEL = "diffractory_outbox";
 export type Milestone =
   | { kind: "order_moved"; order: Order; from: OrderState; note: string }
   | { kind: "review_window_ending"; order: Order }
+  /** A bank transfer not (fully) arrived a few days before its pay-by date; the note holds the bank details. */
+  | { kind: "transfer_reminder"; order: Order; note: string }
   /** The lab's statement in a dispute: the client and the admins hear it (the note is the statement). */
   | { kind: "dispute_answered"; order: Order; note: string }
   /** A file one side added to a dispute: the other side and the admins hear of it (the note names the file). */
@@ -216,6 +218,8 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
     }
     case "review_window_ending":
       return orderOutgoing(tx, m.order, "review_window_ending", ["client"], "");
+    case "transfer_reminder":
+      return orderOutgoing(tx, m.order, "transfer_reminder", ["client"], m.note);
     case "dispute_answered":
       return orderOutgoing(tx, m.order, "dispute_answered", ["client", "admin"], m.note);
     case "dispute_evidence_added":

@@ -138,6 +138,13 @@ export async function refund(order: Order, amountMinor: number, memo: string, id
       { payment_intent: payment.paymentIntentId, amount: amountMinor, metadata: { orderId: order.id } },
       { idempotencyKey },
     );
+    // A bank-transfer payment's refund lands in the customer's cash balance; from there it goes on to the sender's bank.
+    if (payment.method === "bank_transfer" && payment.customerId) {
+      await provider().refunds.create(
+        { customer: payment.customerId, origin: "customer_balance", amount: amountMinor, currency: lower(order.currency), metadata: { orderId: order.id } },
+        { idempotencyKey: `${idempotencyKey}:to-bank` },
+      );
+    }
   } catch (err) {
     providerTrouble(err);
   }

@@ -5,6 +5,7 @@ import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
 import { hasNul, NUL_REFUSAL } from "~/utils/form.server";
 import { syncCheckout } from "./checkout.server";
+import { syncCashBalanceTransaction, syncTransfer } from "./bank-transfer.server";
 import { paymentProvider as provider, syncPayoutAccount } from "./provider.server";
 
 /** A provider event that is refused (400): the provider shows the sentence in its delivery log. */
@@ -12,7 +13,7 @@ export class BadWebhook extends Error {}
 export class BadSignature extends BadWebhook {}
 
 /** The provider objects whose events Diffractory acts on; events about anything else are acknowledged and ignored. */
-const HANDLED_OBJECTS = new Set(["checkout.session", "payment_intent", "account"]);
+const HANDLED_OBJECTS = new Set(["checkout.session", "payment_intent", "account", "customer_cash_balance_transaction"]);
 
 /** JSON with object keys sorted at every level, so equal documents compare equal whatever their key order. */
 function canonicalJson(value: unknown): string {
@@ -60,7 +61,7 @@ export async function receiveWebhook(rawBody: string, signature: string | null) 
   // Same id, other content: a replay with a changed body is refused. (jsonb reorders keys, so compare canonically.)
   if (canonicalJson(stored.payload) !== canonicalJson(event)) throw new BadSignature("An event with this id but other content was already received.");
   if (stored.processedAt) return { duplicate: true };
-  const object = event.data.object as { id: string; object: string; metadata?: Record<string, string> };
+  const object = event.data.object as { id: string; object: string; metadata?: Record<string, string>; customer?: unknown };
   if (!HANDLED_OBJECTS.has(object.object) || typeof object.id !== "string") {
     await db.update(schema.webhookEvents).set({ processedAt: new Date() }).where(eq(schema.webhookEvents.id, event.id));
     return { duplicate: false, ignored: `Event type ${event.type.slice(0, 100)} is not used by Diffractory.` };
@@ -69,6 +70,10 @@ export async function receiveWebhook(rawBody: string, signature: string | null) 
   else if (object.object === "payment_intent") {
     const [payment] = await db.select().from(schema.payments).where(eq(schema.payments.paymentIntentId, object.id));
     if (payment?.checkoutSessionId) await syncCheckout(payment.checkoutSessionId);
+    else if (payment?.method === "bank_transfer") await syncTransfer(payment.id);
+  } else if (object.object === "customer_cash_balance_transaction") {
+    // Money in or out of a customer's cash balance (a bank transfer arriving, applied, or sent back).
+    if (typeof object.customer === "string") await syncCashBalanceTransaction(object.customer, object.id);
   } else if (object.object === "account") await syncPayoutAccount(object.id);
   await db.update(schema.webhookEvents).set({ processedAt: new Date() }).where(eq(schema.webhookEvents.id, event.id));
   return { duplicate: false };

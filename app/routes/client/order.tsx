@@ -22,6 +22,8 @@ import { ParcelAddress } from "~/components/parcel-address";
 import { acceptDelivery, cancelOrder, openDispute, PAYOUT_DELAYED } from "~/models/orders/lifecycle.server";
 import { PaymentProblem } from "~/models/payments/provider.server";
 import { startCheckout } from "~/models/payments/checkout.server";
+import { closeOpenTransfers, startBankTransfer, transferViewOf } from "~/models/payments/bank-transfer.server";
+import { BankTransferDetails } from "~/components/bank-transfer";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/order";
@@ -52,6 +54,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const dispute = await disputeOf(order.id);
   const [receipts, toConfirm] = await Promise.all([receiptsOf(order), order.state === "data_delivered" ? scansToConfirm(order.id) : Promise.resolve([])]);
   const shipment = await shipmentOf(order.id);
+  const transfer = await transferViewOf(order.id);
   // Where the parcel goes, while the client still ships it.
   const receiving = canMove(order.state, "samples_in_transit", "client") ? await defaultAddressOf(order.labId, "receiving") : undefined;
   return {
@@ -73,7 +76,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     },
     request: title === null ? undefined : { id: order.requestId, title },
     labName: labName ?? "",
-    declined: order.state === "awaiting_payment" && payment?.lastError ? payment.lastError : null,
+    declined: order.state === "awaiting_payment" && payment?.method !== "bank_transfer" && payment?.lastError ? payment.lastError : null,
+    // Bank transfer is offered for quotes in euros (the provider's EU transfers, docs/design.md#bank-transfer).
+    transfer,
+    transferOffered: order.currency.toUpperCase() === "EUR",
     dispute: dispute ? { state: dispute.state, reason: dispute.reason, decisionReason: dispute.decisionReason } : null,
     cancelledPayment: new URL(request.url).searchParams.get("payment") === "cancelled",
     shipment: shipment ? { carrier: shipment.carrier, trackingNumber: shipment.trackingNumber } : null,
@@ -90,6 +96,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 const OrderAction = z.discriminatedUnion("intent", [
   z.object({ intent: z.literal("pay") }),
+  z.object({ intent: z.literal("transfer") }),
   z.object({ intent: z.literal("cancel"), reason: z.string().trim().max(500).optional() }),
   z.object({ intent: z.literal("accept"), [CONFIRM_FIELD]: z.string().optional() }),
   z.object({
@@ -124,8 +131,17 @@ export async function action({ request, params }: Route.ActionArgs) {
   const v = submission.value;
   try {
     if (v.intent === "pay") return redirect(await startCheckout(order.id, { userId: actor.user.id, email: actor.user.email }));
+    if (v.intent === "transfer") {
+      await startBankTransfer(order.id, { userId: actor.user.id });
+      return redirectWithToast(`/client/orders/${order.id}`, {
+        kind: "success",
+        message: "Bank details are ready below. Use the reference exactly as shown so the transfer finds this order.",
+      });
+    }
     if (v.intent === "cancel") {
       await cancelOrder(order.id, "client", actor.user.id, v.reason || "Cancelled by the client.");
+      // A transfer still waiting for money is closed; anything that had arrived goes back to the sender.
+      await closeOpenTransfers(order.id);
       return redirectWithToast(`/client/orders/${order.id}`, { kind: "info", message: "The order is cancelled; anything paid is refunded in full." });
     }
     if (v.intent === "ship") {
@@ -158,8 +174,24 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientOrder({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { order, request, labName, declined, dispute, cancelledPayment, shipment, timeline, samples, disputeCase, receipts, toConfirm, due, purchaseOrder } =
-    loaderData;
+  const {
+    order,
+    request,
+    labName,
+    declined,
+    dispute,
+    cancelledPayment,
+    shipment,
+    timeline,
+    samples,
+    disputeCase,
+    receipts,
+    toConfirm,
+    due,
+    purchaseOrder,
+    transfer,
+    transferOffered,
+  } = loaderData;
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
   const canCancel = canMove(order.state, "cancelled", "client");
@@ -199,11 +231,30 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
                 </p>
               ) : null}
               {cancelledPayment ? <p className="text-sm text-ink-600">You left the payment page; nothing was charged.</p> : null}
-              <Form method="post">
-                <button type="submit" name="intent" value="pay" className="btn-primary" disabled={busy}>
+              {transfer?.status === "open" ? (
+                <section aria-labelledby="pay-by-transfer" className="space-y-2">
+                  {/* The card stays possible: paying by card closes the transfer and sends back anything received. */}
+                  <h3 id="pay-by-transfer" className="font-semibold">
+                    Pay by bank transfer
+                  </h3>
+                  <BankTransferDetails transfer={transfer} purchaseOrderNumber={purchaseOrder.number ?? null} />
+                </section>
+              ) : null}
+              <Form method="post" className="flex flex-wrap gap-3">
+                <button type="submit" name="intent" value="pay" className={transfer?.status === "open" ? "btn-secondary" : "btn-primary"} disabled={busy}>
                   {busy && navigation.formData?.get("intent") === "pay" ? "Opening the payment page…" : `Pay ${fmt.money(order.amountMinor, order.currency)}`}
                 </button>
+                {transferOffered && transfer?.status !== "open" ? (
+                  <button type="submit" name="intent" value="transfer" className="btn-secondary" disabled={busy}>
+                    {busy && navigation.formData?.get("intent") === "transfer" ? "Asking for bank details…" : "Bank transfer instead"}
+                  </button>
+                ) : null}
               </Form>
+              {transferOffered && transfer?.status !== "open" ? (
+                <p className="text-xs text-ink-600">
+                  "Pay" opens the card payment page. A bank transfer takes one to two business days; the order waits until the money has arrived.
+                </p>
+              ) : null}
             </div>
           ) : canMove(order.state, "samples_in_transit", "client") ? (
             <div className="mt-3 space-y-3">
