@@ -12,6 +12,7 @@ import { db } from "~/db/client.server";
 import { seedRequestLife } from "~/demo/seed-request-life.server";
 import { seedDemoPurchaseOrders } from "~/demo/seed-purchase-orders.server";
 import { seedDemoProfiles } from "~/demo/seed-profiles.server";
+import { seedDemoTransfers } from "~/demo/seed-transfer.server";
 import { seedDemoInvoices } from "~/demo/seed-invoices.server";
 import { seedDemoStatements } from "~/demo/seed-statements.server";
 
@@ -28,6 +29,7 @@ await seedRequestLife();
 await seedDemoRecords();
 await seedDemoLabRecords();
 await seedDemoPurchaseOrders();
+await seedDemoTransfers();
 await seedDemoInvoices();
 await seedDemoStatements();
 console.log(

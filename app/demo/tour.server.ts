@@ -3,6 +3,7 @@
 import { and, eq } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import { requestLifeIds } from "~/demo/seed-request-life.server";
+import { transferDemoIds } from "~/demo/seed-transfer.server";
 
 async function requestId(title: string) {
   const [row] = await db.select({ id: schema.requests.id }).from(schema.requests).where(eq(schema.requests.title, title));
@@ -32,6 +33,7 @@ export async function demoTour(base: string) {
   const [meridian] = await db.select({ id: schema.organisations.id }).from(schema.organisations).where(eq(schema.organisations.slug, "meridian-analytical"));
   const u = (path: string) => `${base}${path}`;
   const life = await requestLifeIds();
+  const transfer = await transferDemoIds();
   const lines = [
     "Tour (password diffractory-demo for every account):",
     "owner@halvorsen.example — Ingrid, client owner",
@@ -47,6 +49,7 @@ export async function demoTour(base: string) {
     `  delivered data cannot be deleted for five years: an archived scan, brought back under "Show archived": ${u(`/client/data-room/${await orderId("Lattice check of LFP reference lot HC-2398")}?archived=1`)}`,
     `  the profile: legal name, billing address, tax id, kind (confirmed), dispatch address: ${u("/client/profile")}; the packing slip with Granite Ridge's sample reception and a parcel label: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}/packing-slip`)}`,
     "owner@pinecrest.example — Amara, client owner (member@pinecrest.example is a member; consultant@fieldnotes.example manages for both clients)",
+    `  paying by bank transfer: bank details, reference and PO number, with a part received and the date it must arrive by: ${u(`/client/orders/${transfer.partial}`)}; paid in full by transfer, money held: ${u(`/client/orders/${transfer.paid}`)}`,
     `  nanomaterial and toxic samples with their safety data sheets, in transit: ${u(`/client/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  refused on arrival, with the lab's reason and the refund: ${u(`/client/orders/${await orderId("Capillary series of solvate PSF-127")}`)}; inconsistent check of the resolved dispute: ${u(`/checks/${await checkId("PSF-118-B_Cu_5-60.xy")}`)}`,
     `  invoices and credit notes: the refused parcel's order has its invoice in Lakeside's name with the PO and the refund's credit note (PDF and JSON: ${u(`/api/orders/${await orderId("Capillary series of solvate PSF-127")}/invoice`)}); every paid order lists its invoice on the order page and the payment's receipt`,
