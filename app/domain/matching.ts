@@ -1,6 +1,7 @@
 // Can this lab do this request? The matching rules of docs/design.md#matching as pure functions, with reasons in words.
 import { ANODE_LINES, K_EDGE_KEV, photonEnergyKeV, type Anode } from "~/diffraction/wavelengths";
 import { dSpacingCoverage, qMax } from "~/domain/coverage";
+import type { PriceTiers } from "~/domain/price-tiers";
 
 export interface MatchStage {
   name: string;
@@ -29,6 +30,9 @@ export interface MatchPriceList {
   hazardousHandlingMinor: number;
   samplePreparationMinor: number;
   turnaroundDays: number;
+  perInstrumentHourMinor?: number;
+  /** The lab's prices by client kind (docs/design.md#price-tiers), for showing; estimates use the list as given. */
+  tiers?: PriceTiers;
 }
 
 export interface MatchLab {

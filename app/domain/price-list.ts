@@ -1,7 +1,9 @@
 // The price-list form: amounts typed in major units ("180.00"), checked and turned into integer minor units.
 import { z } from "zod";
-import { TECHNIQUES, type Technique } from "~/domain/capabilities";
-import { CURRENCIES, MAX_AMOUNT_MINOR, MAX_AMOUNT_TEXT, toMinorUnits } from "~/domain/money";
+import { TECHNIQUE_LABELS, TECHNIQUES, type Technique } from "~/domain/capabilities";
+import { CURRENCIES, MAX_AMOUNT_MINOR, MAX_AMOUNT_TEXT, toMajorText, toMinorUnits } from "~/domain/money";
+import type { PriceTiers } from "~/domain/price-tiers";
+import { CLIENT_KIND_LABELS, CLIENT_KINDS, type ClientKind } from "~/domain/profile-forms";
 
 /** An amount in major units; `positive` refuses 0 as well as negative values. */
 function amount(what: string, { positive }: { positive: boolean }) {
@@ -37,6 +39,24 @@ const perSample = z.object(
   >,
 );
 
+/** A client kind's own prices (docs/design.md#price-tiers): every field may stay empty, falling back to the base list. */
+const tier = (kind: ClientKind) => {
+  const word = CLIENT_KIND_LABELS[kind].toLowerCase();
+  return z
+    .object({
+      perSample: z
+        .object(
+          Object.fromEntries(TECHNIQUES.map((t) => [t, amount(`the ${word} price per sample`, { positive: true }).optional()])) as Record<
+            Technique,
+            z.ZodOptional<ReturnType<typeof amount>>
+          >,
+        )
+        .optional(),
+      perInstrumentHour: amount(`the ${word} price per instrument hour`, { positive: false }).optional(),
+    })
+    .optional();
+};
+
 export const PriceListSchema = z
   .object({
     currency: z.enum(CURRENCIES, { error: "Choose a currency from the list." }),
@@ -51,9 +71,55 @@ export const PriceListSchema = z
       .max(5, "At most 5 times the normal price.")
       .refine((v) => Math.abs(v * 100 - Math.round(v * 100)) < 1e-9, "At most two decimals."),
     turnaroundDays: z.number({ error: "Enter the turnaround in days." }).int("Whole days only.").min(1, "At least 1 day.").max(365, "At most 365 days."),
+    tiers: z.object(Object.fromEntries(CLIENT_KINDS.map((k) => [k, tier(k)])) as Record<ClientKind, ReturnType<typeof tier>>).optional(),
   })
   .refine((v) => Object.values(v.perSample).some((p) => p !== undefined), {
     path: ["perSample"],
     message: "Give a per-sample price for at least one technique.",
+  })
+  .superRefine((v, ctx) => {
+    // A tier changes the price of what the lab offers; it cannot offer a technique the base list leaves out.
+    for (const kind of CLIENT_KINDS) {
+      for (const t of TECHNIQUES) {
+        if (v.tiers?.[kind]?.perSample?.[t] !== undefined && v.perSample[t] === undefined) {
+          ctx.addIssue({
+            code: "custom",
+            path: ["tiers", kind, "perSample", t],
+            message: `Give a base price for ${TECHNIQUE_LABELS[t].toLowerCase()} first; the ${CLIENT_KIND_LABELS[kind].toLowerCase()} prices only change techniques you offer.`,
+          });
+        }
+      }
+    }
   });
 export type PriceListInput = z.infer<typeof PriceListSchema>;
+
+/** The form's tiers as stored: minor units, empty fields and empty tiers left out. */
+export function tiersFromInput(input: PriceListInput["tiers"]): PriceTiers {
+  const out: PriceTiers = {};
+  for (const kind of CLIENT_KINDS) {
+    const t = input?.[kind];
+    if (!t) continue;
+    const perSampleMinor = Object.fromEntries(Object.entries(t.perSample ?? {}).filter(([, v]) => v !== undefined)) as Record<string, number>;
+    const tier: PriceTiers[ClientKind] = {};
+    if (Object.keys(perSampleMinor).length) tier.perSampleMinor = perSampleMinor;
+    if (t.perInstrumentHour !== undefined) tier.perInstrumentHourMinor = t.perInstrumentHour;
+    if (Object.keys(tier).length) out[kind] = tier;
+  }
+  return out;
+}
+
+/** Stored tiers back as the form's text in major units (empty where the tier falls back to the base list). */
+export function tiersToForm(tiers: PriceTiers | null | undefined) {
+  return Object.fromEntries(
+    CLIENT_KINDS.map((kind) => {
+      const t = tiers?.[kind];
+      return [
+        kind,
+        {
+          perSample: Object.fromEntries(Object.entries(t?.perSampleMinor ?? {}).map(([tech, v]) => [tech, v === undefined ? "" : toMajorText(v)])),
+          perInstrumentHour: t?.perInstrumentHourMinor === undefined ? "" : toMajorText(t.perInstrumentHourMinor),
+        },
+      ];
+    }),
+  ) as Record<ClientKind, { perSample: Record<string, string>; perInstrumentHour: string }>;
+}

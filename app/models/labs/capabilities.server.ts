@@ -6,7 +6,7 @@ import { invalidateDirectory } from "~/models/labs/directory.server";
 import { NoSuchRecord } from "~/models/errors";
 import { profileFailsAt, type InstrumentInput, type StageInput } from "~/domain/capabilities";
 import { CALIBRATION_STANDARDS, type CalibrationCheck } from "~/domain/vetting";
-import type { PriceListInput } from "~/domain/price-list";
+import { type PriceListInput, tiersFromInput } from "~/domain/price-list";
 
 export interface Actor {
   userId: string;
@@ -222,11 +222,12 @@ export async function savePriceList(labId: string, input: PriceListInput, actor:
     hazardousHandlingMinor: input.hazardousHandling,
     rushMultiplier: input.rushMultiplier.toFixed(2),
     turnaroundDays: input.turnaroundDays,
+    tiers: tiersFromInput(input.tiers),
     updatedAt: new Date(),
   };
   await db
     .insert(schema.priceLists)
     .values({ labId, ...values })
     .onConflictDoUpdate({ target: schema.priceLists.labId, set: values });
-  await record(labId, actor, "price_list_saved", "lab", labId, { currency: input.currency, perSampleMinor });
+  await record(labId, actor, "price_list_saved", "lab", labId, { currency: input.currency, perSampleMinor, tiers: Object.keys(values.tiers) });
 }

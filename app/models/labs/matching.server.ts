@@ -3,6 +3,7 @@ import { and, asc, eq, inArray } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Anode } from "~/diffraction/wavelengths";
 import { stagesOf } from "./capabilities.server";
+import { type ClientStanding, pricesForClient } from "~/domain/price-tiers";
 import { judgeQuote, matchLab, type LabMatch, type MatchInstrument, type MatchLab, type MatchRequest, type QuoteJudgement } from "~/domain/matching";
 
 type InstrumentRow = typeof schema.instruments.$inferSelect;
@@ -25,8 +26,20 @@ async function withStages(instruments: InstrumentRow[]): Promise<(MatchInstrumen
   }));
 }
 
-/** Approved labs (or the given ones, whatever their state) with instruments, stages, hazards and prices. */
-export async function loadMatchLabs(labIds?: string[]): Promise<MatchLab[]> {
+/** The client organisation's stated kind and whether an admin confirmed it (for price tiers); null if no such organisation. */
+export async function clientStandingOf(organisationId: string): Promise<ClientStanding | null> {
+  const [row] = await db
+    .select({ clientKind: schema.organisations.clientKind, clientKindConfirmedAt: schema.organisations.clientKindConfirmedAt })
+    .from(schema.organisations)
+    .where(eq(schema.organisations.id, organisationId));
+  return row ?? null;
+}
+
+/**
+ * Approved labs (or the given ones, whatever their state) with instruments, stages, hazards and prices. Given a
+ * client, each price list is the one that client pays: its confirmed kind's tier over the base list (docs/design.md#price-tiers).
+ */
+export async function loadMatchLabs(labIds?: string[], client?: ClientStanding | null): Promise<MatchLab[]> {
   const labs = await db
     .select({ id: schema.labs.organisationId, name: schema.organisations.name, slug: schema.organisations.slug })
     .from(schema.labs)
@@ -47,7 +60,8 @@ export async function loadMatchLabs(labIds?: string[]): Promise<MatchLab[]> {
   const instruments = await withStages(instrumentRows);
   return labs.map((lab) => {
     const acc = acceptance.find((a) => a.labId === lab.id);
-    const price = prices.find((p) => p.labId === lab.id);
+    const listed = prices.find((p) => p.labId === lab.id) ?? null;
+    const price = client === undefined ? listed : pricesForClient(listed, client).prices;
     return {
       ...lab,
       instruments: instruments.filter((i) => i.labId === lab.id).map(stripLab),
@@ -59,7 +73,9 @@ export async function loadMatchLabs(labIds?: string[]): Promise<MatchLab[]> {
             perExtraTemperaturePointMinor: price.perExtraTemperaturePointMinor,
             hazardousHandlingMinor: price.hazardousHandlingMinor,
             samplePreparationMinor: price.samplePreparationMinor,
+            perInstrumentHourMinor: price.perInstrumentHourMinor,
             turnaroundDays: price.turnaroundDays,
+            tiers: price.tiers,
           }
         : null,
     };
@@ -99,7 +115,7 @@ export async function loadMatchRequest(
 export async function matchLabsForRequest(requestId: string): Promise<LabMatch[]> {
   const request = await loadMatchRequest(requestId);
   if (!request) return [];
-  const labs = await loadMatchLabs();
+  const labs = await loadMatchLabs(undefined, await clientStandingOf(request.organisationId));
   return labs.map((lab) => matchLab(request, lab)).sort((a, b) => Number(b.fits) - Number(a.fits) || a.labName.localeCompare(b.labName));
 }
 
@@ -149,6 +165,11 @@ async function approvedMatchLab(labId: string): Promise<MatchLab | null> {
 
 type LoadedRequest = NonNullable<Awaited<ReturnType<typeof loadMatchRequest>>>;
 
+/** The lab with the prices this client pays (its confirmed kind's tier, docs/design.md#price-tiers). */
+function labForClient(lab: MatchLab, client: ClientStanding | null): MatchLab {
+  return lab.priceList ? { ...lab, priceList: pricesForClient(lab.priceList, client).prices } : lab;
+}
+
 /**
  * The one rule for which requests reach an approved lab, in its inbox and on its request page: an open request
  * it was invited to, or one open to every lab that its instruments and hazard acceptance fit (visibility `open`
@@ -179,9 +200,12 @@ export async function requestsMatchingLab(labId: string) {
     .where(eq(schema.requests.state, "open"))
     .orderBy(asc(schema.requests.openedAt));
   const out: { requestId: string; invited: boolean; match: LabMatch }[] = [];
+  const standings = new Map<string, ClientStanding | null>();
   for (const { id } of open) {
     const request = await loadMatchRequest(id);
-    const entry = request && inboxEntry(request, lab, invitedIds.has(id));
+    if (request && !standings.has(request.organisationId)) standings.set(request.organisationId, await clientStandingOf(request.organisationId));
+    // The estimate the lab reads is what this client would be quoted.
+    const entry = request && inboxEntry(request, labForClient(lab, standings.get(request.organisationId) ?? null), invitedIds.has(id));
     if (entry) out.push(entry);
   }
   return out;

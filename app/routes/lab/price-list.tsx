@@ -1,4 +1,5 @@
-// The lab's price list: per-sample prices by technique, surcharges, rush multiplier and turnaround, in the lab's currency.
+// The lab's price list: per-sample prices by technique, surcharges, rush multiplier and turnaround, in the lab's currency;
+// optional tiers by client kind (docs/design.md#price-tiers), each empty field falling back to the base price.
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
@@ -8,7 +9,8 @@ import { TECHNIQUE_LABELS, TECHNIQUES } from "~/domain/capabilities";
 import { getPriceList, savePriceList } from "~/models/labs/capabilities.server";
 import { getOrCreateLab } from "~/models/labs/vetting.server";
 import { CURRENCIES, toMajorText } from "~/domain/money";
-import { PriceListSchema } from "~/domain/price-list";
+import { PriceListSchema, tiersToForm } from "~/domain/price-list";
+import { CLIENT_KIND_LABELS, CLIENT_KINDS } from "~/domain/profile-forms";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
@@ -21,6 +23,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   return {
     canEdit: membership.role === "manager",
     saved: prices !== null,
+    hasTiers: Object.keys(prices?.tiers ?? {}).length > 0,
     // Amounts go back to the form in major units, as they are typed.
     values: prices
       ? {
@@ -32,6 +35,7 @@ export async function loader({ request }: Route.LoaderArgs) {
           hazardousHandling: toMajorText(prices.hazardousHandlingMinor),
           rushMultiplier: prices.rushMultiplier,
           turnaroundDays: String(prices.turnaroundDays),
+          tiers: tiersToForm(prices.tiers),
         }
       : {
           currency: "EUR",
@@ -42,6 +46,7 @@ export async function loader({ request }: Route.LoaderArgs) {
           hazardousHandling: "0.00",
           rushMultiplier: "1.50",
           turnaroundDays: "10",
+          tiers: tiersToForm({}),
         },
   };
 }
@@ -56,7 +61,7 @@ export async function action({ request, context }: Route.ActionArgs) {
 }
 
 export default function PriceList({ loaderData, actionData }: Route.ComponentProps) {
-  const { canEdit, saved, values } = loaderData;
+  const { canEdit, saved, values, hasTiers } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     id: "price-list",
@@ -67,6 +72,9 @@ export default function PriceList({ loaderData, actionData }: Route.ComponentPro
     shouldRevalidate: "onInput",
   });
   const perSample = fields.perSample.getFieldset();
+  const tiers = fields.tiers.getFieldset();
+  // The tiers stay folded away until the lab has some, or one of them needs correcting.
+  const tierErrors = Object.keys(fields.tiers.allErrors ?? {}).length > 0;
   const currency = fields.currency.value ?? values.currency;
   const amount = (field: (typeof fields)["perInstrumentHour"], label: string, hint?: string) => (
     <Field label={`${label} (${currency})`} id={field.id} errors={field.errors} hint={hint}>
@@ -120,6 +128,33 @@ export default function PriceList({ loaderData, actionData }: Route.ComponentPro
               </Field>
             </div>
           </section>
+          <details className="card space-y-3" open={hasTiers || tierErrors}>
+            <summary className="cursor-pointer text-lg font-semibold">Prices by client kind (optional)</summary>
+            <p className="text-xs text-ink-600">
+              Clients state whether they are academic, non-profit or industry, and Diffractory confirms it. A quote for a confirmed client is drafted from its
+              kind&apos;s prices; an empty field here, or a client whose kind is not confirmed yet, gets the base price above.
+            </p>
+            {CLIENT_KINDS.map((kind) => {
+              const tier = tiers[kind].getFieldset();
+              const tierSample = tier.perSample.getFieldset();
+              const who = `${CLIENT_KIND_LABELS[kind].toLowerCase()} clients`;
+              return (
+                <fieldset key={kind} className="space-y-2 border-t border-ink-100 pt-3">
+                  <legend className="font-medium">{CLIENT_KIND_LABELS[kind]} clients</legend>
+                  <div className="grid gap-3 sm:grid-cols-2">
+                    {TECHNIQUES.map((t) => (
+                      <Field key={t} label={`${TECHNIQUE_LABELS[t]} for ${who} (${currency})`} id={tierSample[t].id} errors={tierSample[t].errors}>
+                        <input className="input" inputMode="decimal" placeholder="base price" {...getInputProps(tierSample[t], { type: "text" })} />
+                      </Field>
+                    ))}
+                    <Field label={`Per instrument hour for ${who} (${currency})`} id={tier.perInstrumentHour.id} errors={tier.perInstrumentHour.errors}>
+                      <input className="input" inputMode="decimal" placeholder="base price" {...getInputProps(tier.perInstrumentHour, { type: "text" })} />
+                    </Field>
+                  </div>
+                </fieldset>
+              );
+            })}
+          </details>
         </fieldset>
         <FormError errors={form.errors} />
         {canEdit ? (

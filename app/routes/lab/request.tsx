@@ -6,10 +6,12 @@ import { MatchReasons } from "~/components/match-reasons";
 import { MessageThread } from "~/components/message-thread";
 import { requestThreadForLab, viewThread } from "~/models/messages/messages.server";
 import { QuoteStateBadge, SampleCards } from "~/components/request-parts";
-import { Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
+import { Badge, Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
+import { CLIENT_KIND_LABELS } from "~/domain/profile-forms";
 import { labelOf, matchLab, sourceLabel } from "~/domain/matching";
 import { organisationNameOf } from "~/models/accounts/organisations.server";
-import { loadMatchLabs, loadMatchRequest } from "~/models/labs/matching.server";
+import { clientStandingOf, loadMatchLabs, loadMatchRequest } from "~/models/labs/matching.server";
+import { pricesForClient } from "~/domain/price-tiers";
 import { toMajorText, toMinorUnits } from "~/domain/money";
 import { QuoteSchema } from "~/domain/quote-forms";
 import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, sendQuote, vettingStateOf, withdrawQuote } from "~/models/requests/quotes.server";
@@ -31,6 +33,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const labId = membership.organisation.id;
   const row = await requireRequestForLab(params.id, labId, { request, actor });
   const thread = await requestThreadForLab(row.id, labId);
+  // The client's confirmed kind picks the price tier the quote drafts from (docs/design.md#price-tiers).
+  const standing = await clientStandingOf(row.organisationId);
   const [samples, acknowledgement, vetting, prices, instruments, ownQuotes, client, matchRequest, [lab], revisions] = await Promise.all([
     samplesOf(row.id),
     acknowledgementOf(row.id, labId),
@@ -40,12 +44,13 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     quotesForLab(labId),
     organisationNameOf(row.organisationId),
     loadMatchRequest(row.id),
-    loadMatchLabs([labId]),
+    loadMatchLabs([labId], standing),
     revisionsOf(row.id),
   ]);
   const match = matchRequest && lab ? matchLab(matchRequest, lab) : null;
   const quotes = ownQuotes.filter((q) => q.requestId === row.id);
-  const draft = draftLineItems(row, samples, prices);
+  const { prices: clientPrices, choice: tierChoice } = pricesForClient(prices, standing);
+  const draft = draftLineItems(row, samples, clientPrices);
   return {
     request: row,
     messages: thread ? await viewThread(user.id, labId, thread) : null,
@@ -60,6 +65,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     revisions,
     instruments: instruments.map((i) => ({ id: i.id, label: `${i.name} (${sourceLabel(i)})` })),
     currency: prices?.currency ?? row.currency,
+    tier: prices ? { used: tierChoice.tier, confirmed: tierChoice.confirmed, statedKind: tierChoice.statedKind, note: tierChoice.note } : null,
     defaults: {
       items: draft.length
         ? draft.map((i) => ({ description: i.description, quantity: String(i.quantity), unitPrice: toMajorText(i.unitMinor) }))
@@ -215,7 +221,7 @@ export default function LabRequest({ loaderData, actionData }: Route.ComponentPr
 }
 
 function QuoteBuilder({ loaderData, actionData }: Pick<Route.ComponentProps, "loaderData" | "actionData">) {
-  const { instruments, currency, defaults } = loaderData;
+  const { instruments, currency, defaults, tier } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm({
     lastResult: actionData && "result" in actionData ? actionData.result : undefined,
@@ -239,6 +245,13 @@ function QuoteBuilder({ loaderData, actionData }: Pick<Route.ComponentProps, "lo
       <p className="mb-4 text-sm text-ink-600">
         Drafted from your price list; edit the items as needed. Prices in {currency}; the total below adds up as you type.
       </p>
+      {tier ? (
+        <p className="mb-4 flex flex-wrap items-center gap-2 text-sm" data-testid="price-tier">
+          <Badge tone={tier.used ? "ok" : "neutral"}>{tier.used ? `${CLIENT_KIND_LABELS[tier.used]} prices` : "Base prices"}</Badge>
+          {tier.statedKind ? tier.confirmed ? <Badge tone="ok">kind confirmed</Badge> : <Badge tone="caution">kind not confirmed</Badge> : null}
+          <span className="text-ink-700">{tier.note}</span>
+        </p>
+      ) : null}
       <Form method="post" {...getFormProps(form)} className="space-y-2">
         <input type="hidden" name="intent" value="send" />
         <table className="table">

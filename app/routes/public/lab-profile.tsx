@@ -5,6 +5,7 @@ import { dSpacingCoverage } from "~/domain/coverage";
 import { labBySlug } from "~/models/labs/directory.server";
 import { loadMatchLabs } from "~/models/labs/matching.server";
 import { instrumentWavelength, labelOf, sourceLabel } from "~/domain/matching";
+import { tiersToShow } from "~/domain/price-tiers";
 import { isSlug } from "~/utils/auth.server";
 import { notFound } from "~/utils/permissions.server";
 import type { Route } from "./+types/lab-profile";
@@ -24,6 +25,7 @@ export async function loader({ params }: Route.LoaderArgs) {
       country: row.country,
       acceptance: lab.acceptance,
       priceList: lab.priceList,
+      tiers: tiersToShow(lab.priceList?.tiers),
       instruments: lab.instruments.map((i) => {
         const wavelength = instrumentWavelength(i);
         const cover = wavelength ? dSpacingCoverage(wavelength, i.twoThetaMin, i.twoThetaMax) : null;
@@ -92,6 +94,34 @@ export default function LabProfile({ loaderData }: Route.ComponentProps) {
           ) : (
             <p className="mt-2 text-sm text-ink-600">No price list published yet.</p>
           )}
+          {prices && lab.tiers.length ? (
+            <section className="mt-4" aria-labelledby="tier-prices-heading">
+              <h3 id="tier-prices-heading" className="font-semibold">
+                Prices by client kind
+              </h3>
+              <p className="text-xs text-ink-600">For clients whose kind Diffractory has confirmed on their profile; anything not listed is the price above.</p>
+              {lab.tiers.map(({ kind, label, tier }) => (
+                <dl key={kind} className="mt-2 grid grid-cols-2 gap-x-4 gap-y-1 text-sm" aria-label={`${label} prices`}>
+                  {Object.entries(tier.perSampleMinor ?? {})
+                    .filter(([technique, minor]) => minor !== undefined && prices.perSampleMinor[technique] !== undefined)
+                    .map(([technique, minor]) => (
+                      <div key={technique} className="contents">
+                        <dt className="text-ink-600">
+                          {label}, per sample, {labelOf(technique)}
+                        </dt>
+                        <dd className="text-right font-medium">{fmt.money(minor ?? 0, prices.currency)}</dd>
+                      </div>
+                    ))}
+                  {tier.perInstrumentHourMinor !== undefined ? (
+                    <div className="contents">
+                      <dt className="text-ink-600">{label}, per instrument hour</dt>
+                      <dd className="text-right font-medium">{fmt.money(tier.perInstrumentHourMinor, prices.currency)}</dd>
+                    </div>
+                  ) : null}
+                </dl>
+              ))}
+            </section>
+          ) : null}
         </div>
       </div>
     </div>
