@@ -1,10 +1,11 @@
 // Reading orders: the timeline, an organisation's side of an order, its order list and the shipment; the
 // payments, payouts and disputes the order screens list.
-import { and, asc, desc, eq, inArray } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { db, schema } from "~/db/client.server";
 import { isUuid } from "~/domain/ids";
 import type { OrderState } from "~/domain/order-states";
+import { paymentStanding } from "~/domain/payment-standing";
 import { heldForOrder } from "~/models/payments/ledger.server";
 
 export async function orderTimeline(orderId: string) {
@@ -73,6 +74,7 @@ export async function ordersInStates(side: "client" | "lab", organisationId: str
     .select({
       id: schema.orders.id,
       number: schema.orders.number,
+      purchaseOrderNumber: schema.orders.purchaseOrderNumber,
       state: schema.orders.state,
       labName: labOrg.name,
       requestTitle: schema.requests.title,
@@ -184,7 +186,6 @@ export async function paymentsOfClient(organisationId: string) {
       amountMinor: schema.payments.amountMinor,
       currency: schema.payments.currency,
       at: schema.payments.updatedAt,
-      chargeId: schema.payments.chargeId,
       orderNumber: schema.orders.number,
       title: schema.requests.title,
       lab: schema.organisations.name,
@@ -208,7 +209,20 @@ export async function paymentsOfClient(organisationId: string) {
     : [];
   const refunded = new Map<string, number>();
   for (const r of refunds) if (r.orderId) refunded.set(r.orderId, (refunded.get(r.orderId) ?? 0) + r.amount);
-  return payments.map((p) => ({ ...p, refundedMinor: refunded.get(p.orderId) ?? 0 }));
+  return payments.map((p) => {
+    const refundedMinor = p.status === "paid" ? (refunded.get(p.orderId) ?? 0) : 0;
+    return { ...p, refundedMinor, standing: paymentStanding({ status: p.status, amountMinor: p.amountMinor, refundedMinor }) };
+  });
+}
+
+/** What has been refunded on the order so far (minor units), from the ledger's refunds. */
+export async function refundedOnOrder(orderId: string): Promise<number> {
+  const [row] = await db
+    .select({ refunded: sql<string>`coalesce(sum(${schema.ledgerEntries.amountMinor}), 0)` })
+    .from(schema.ledgerTransactions)
+    .innerJoin(schema.ledgerEntries, and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")))
+    .where(and(eq(schema.ledgerTransactions.kind, "refund"), eq(schema.ledgerTransactions.orderId, orderId)));
+  return Number(row?.refunded ?? 0);
 }
 
 /** A paid payment of the client organisation with its order's title, lab and quote (the receipt's lines); undefined otherwise. */

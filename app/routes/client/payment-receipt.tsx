@@ -1,9 +1,11 @@
-// /client/payments/:id/receipt — a printable receipt for one payment of the organisation.
+// /client/payments/:id/receipt — a printable receipt for one payment of the organisation, with what has been refunded
+// since; its reference is the order number and the payment's date (never the payment provider's ids).
 import { isUuid } from "~/domain/ids";
 import { DiffractionRingsIcon } from "~/components/ui";
-import { paidReceipt } from "~/models/orders/queries.server";
 import { documentsOfOrder } from "~/models/invoices/invoices.server";
 import { ratePercent } from "~/domain/vat";
+import { paidReceipt, refundedOnOrder } from "~/models/orders/queries.server";
+import { PAYMENT_STANDING_LABELS, paymentStanding } from "~/domain/payment-standing";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payment-receipt";
 import { useFormat } from "~/components/locale";
@@ -15,6 +17,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!row) notFound("No such payment in your organisation.");
   // The reference people read is the invoice's number, never the payment provider's id (docs/design.md#invoices).
   const documents = await documentsOfOrder(row.payment.orderId);
+  const refundedMinor = await refundedOnOrder(row.payment.orderId);
   return {
     invoice: documents
       ? {
@@ -32,6 +35,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     receipt: {
       id: row.payment.id,
       at: row.payment.updatedAt,
+      refundedMinor,
+      standing: paymentStanding({ status: row.payment.status, amountMinor: row.payment.amountMinor, refundedMinor }),
       amountMinor: row.payment.amountMinor,
       currency: row.payment.currency,
       orderNumber: row.orderNumber,
@@ -59,7 +64,7 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
       </header>
       <h1 className="mt-6 text-2xl font-bold">Receipt</h1>
       <dl className="mt-4 grid grid-cols-2 gap-y-1 text-sm">
-        <dt className="text-ink-600">Paid by</dt>
+        <dt className="text-ink-600">Client</dt>
         <dd>{receipt.client}</dd>
         <dt className="text-ink-600">Order</dt>
         <dd className="font-mono">{receipt.orderNumber}</dd>
@@ -88,6 +93,12 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
             ))}
           </>
         ) : null}
+        <dt className="text-ink-600">Reference</dt>
+        <dd className="font-mono text-xs">
+          {receipt.orderNumber} / {new Date(receipt.at).toISOString().slice(0, 10)}
+        </dd>
+        <dt className="text-ink-600">State</dt>
+        <dd>{PAYMENT_STANDING_LABELS[receipt.standing]}</dd>
       </dl>
       <table className="table mt-6">
         <thead>
@@ -115,10 +126,24 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
           ))}
           <tr>
             <td colSpan={2} className="font-semibold">
-              Total paid (held until delivery is accepted)
+              {receipt.refundedMinor > 0 ? "Total charged" : "Total charged (held until delivery is accepted)"}
             </td>
             <td className="text-right font-semibold">{fmt.money(receipt.amountMinor, receipt.currency)}</td>
           </tr>
+          {receipt.refundedMinor > 0 ? (
+            <>
+              <tr>
+                <td colSpan={2}>Refunded to you</td>
+                <td className="text-right">−{fmt.money(receipt.refundedMinor, receipt.currency)}</td>
+              </tr>
+              <tr>
+                <td colSpan={2} className="font-semibold">
+                  Net after refunds
+                </td>
+                <td className="text-right font-semibold">{fmt.money(receipt.amountMinor - receipt.refundedMinor, receipt.currency)}</td>
+              </tr>
+            </>
+          ) : null}
         </tbody>
       </table>
       {invoice?.notes.length ? <p className="mt-3 text-sm text-ink-600">{invoice.notes.join(" ")}</p> : null}

@@ -1,7 +1,10 @@
-// /client/payments — what the organisation paid, what is held, what came back, with a receipt per payment.
+// /client/payments — what the organisation paid, what is held, what came back, with a receipt per payment. Each
+// payment's state comes from the ledger's refunds for its order (docs/design.md#payments-list): paid, partly refunded,
+// refunded or not completed.
 import { Link } from "react-router";
 import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { paymentsOfClient } from "~/models/orders/queries.server";
+import { PAYMENT_STANDING_LABELS, PAYMENT_STANDING_TONES } from "~/domain/payment-standing";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payments";
 import { useFormat } from "~/components/locale";
@@ -29,9 +32,9 @@ export default function ClientPayments({ loaderData }: Route.ComponentProps) {
           When you pay for an accepted quote, the payment and its receipt appear here.
         </EmptyState>
       ) : (
-        <TableCard columns={["Date", "Order", "Lab", "Paid", "Refunded", "Status", ""]} caption="Payments">
+        <TableCard columns={["Date", "Order", "Lab", "Amount", "Refunded", "State", ""]} caption="Payments">
           {payments.map((p) => (
-            <tr key={p.id}>
+            <tr key={p.id} data-standing={p.standing}>
               <td>{fmt.date(p.at)}</td>
               <td>
                 <Link to={`/client/orders/${p.orderId}`} className="text-beam-700 hover:underline">
@@ -41,7 +44,9 @@ export default function ClientPayments({ loaderData }: Route.ComponentProps) {
               <td>{p.lab}</td>
               <td>{p.status === "paid" ? fmt.money(p.amountMinor, p.currency) : "—"}</td>
               <td>{p.refundedMinor ? fmt.money(p.refundedMinor, p.currency) : "—"}</td>
-              <td>{p.status === "paid" ? <Badge tone="ok">Paid</Badge> : <Badge tone="caution">Not completed</Badge>}</td>
+              <td>
+                <Badge tone={PAYMENT_STANDING_TONES[p.standing]}>{PAYMENT_STANDING_LABELS[p.standing]}</Badge>
+              </td>
               <td>
                 {p.status === "paid" ? (
                   <Link to={`/client/payments/${p.id}/receipt`} className="text-sm text-beam-700 underline">

@@ -72,7 +72,7 @@ export default function Payouts({ loaderData, actionData }: Route.ComponentProps
           Payouts appear here when clients accept your deliveries.
         </EmptyState>
       ) : (
-        <TableCard columns={["When", "Order", "Paid to you", "Platform fee", "Transfer"]} caption="Payouts">
+        <TableCard columns={["When", "Order", "Paid to you", "Platform fee", "Reference"]} caption="Payouts">
           {payouts.map((p) => (
             <tr key={p.id}>
               <td>{fmt.dateTime(p.at)}</td>
@@ -87,7 +87,13 @@ export default function Payouts({ loaderData, actionData }: Route.ComponentProps
               </td>
               <td className="font-medium">{fmt.money(p.amount, p.currency)}</td>
               <td>{p.feeMinor === null ? "—" : fmt.money(p.feeMinor, p.currency)}</td>
-              <td className="font-mono text-xs">{p.transferId}</td>
+              <td>
+                {/* The order number and the day are the reference people use; the provider's id stays secondary, for the payout account's own records. */}
+                <span className="font-mono text-xs">
+                  {p.orderNumber || "—"} / {new Date(p.at).toISOString().slice(0, 10)}
+                </span>
+                <span className="block text-xs text-ink-500">provider&apos;s transfer id {p.transferId}</span>
+              </td>
             </tr>
           ))}
         </TableCard>
