@@ -492,6 +492,8 @@ describe("APIs for the client's tools", () => {
       id: orderId,
       // The number people read: Halvorsen's prefix, the year and its sequence (docs/design.md#order-numbers).
       number: expect.stringMatching(/^HCW-\d{4}-\d{4,}$/),
+      // No purchase order on this one: the field is there, null (docs/design.md#payments-list).
+      purchaseOrderNumber: null,
       state: "measuring",
       labName: "Granite Ridge Characterisation",
       requestTitle: expect.stringMatching(/^Money test/),

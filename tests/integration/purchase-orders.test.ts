@@ -117,6 +117,18 @@ describe("purchase orders on acceptance", () => {
     const lab = await as("lab@graniteridge.example");
     const labApi = await callRoute(routes.api.loader, getRequest(`/api/orders/${order.id}`, lab), { id: order.id });
     expect((labApi.body as { purchaseOrderNumber: string }).purchaseOrderNumber).toBe("PO-4711-0042");
+    // The order lists of both sides carry it too, and an order without one says null.
+    const ordersList = (await import("~/routes/api/orders")).loader;
+    type Listed = { orders: { id: string; number: string; purchaseOrderNumber: string | null }[] };
+    for (const who of [cookie, lab]) {
+      const list = await callRoute(ordersList, getRequest("/api/orders", who));
+      expect(list.status).toBe(200);
+      const listed = (list.body as Listed).orders;
+      expect(listed.find((o) => o.id === order.id)).toMatchObject({ number: order.number, purchaseOrderNumber: "PO-4711-0042" });
+    }
+    const withoutPo = await w.makeOrder();
+    const listed = (await callRoute(ordersList, getRequest("/api/orders?state=awaiting_payment", cookie))).body as Listed;
+    expect(listed.orders.find((o) => o.id === withoutPo)?.purchaseOrderNumber).toBeNull();
 
     // The lab's "quote accepted" letter, then the client's and the lab's "payment held" letters.
     await w.pay(order.id);

@@ -200,21 +200,32 @@ describe("the ledger export", () => {
   it("names each transaction's order by its number", async () => {
     const orderId = await w.makeOrder();
     await w.pay(orderId);
+    await w.db.update(w.schema.orders).set({ purchaseOrderNumber: "PO-88,12" }).where(w.eq(w.schema.orders.id, orderId));
     const order = await orderOf(orderId);
     const answer = await callRoute(app.ledgerExport.loader, getRequest(`/admin/ledger/export?orderId=${orderId}`, await as("admin@diffractory.example")));
     expect(answer.status).toBe(200);
     const lines = String(answer.body).trim().split(/\r?\n/);
-    // The number is the last column, so the earlier columns keep their places (a memo may hold quoted commas).
-    expect(lines[0].split(",").at(-1)).toBe("order_number");
-    const rows = lines.slice(1).map((l) => l.split(","));
+    // The number, then the purchase-order number, are the last columns, so the earlier columns keep their places
+    // (a memo may hold quoted commas, so the columns are counted from the end).
+    expect(lines[0].split(",").slice(-2)).toEqual(["order_number", "purchase_order_number"]);
+    const rows = lines.slice(1);
     expect(rows.length).toBeGreaterThan(0);
-    expect(rows.every((r) => r.at(-1) === order.number)).toBe(true);
+    // A PO number with a comma is quoted as RFC 4180 says (section 2, rule 6).
+    expect(rows.every((r) => r.endsWith(`,${order.number},"PO-88,12"`))).toBe(true);
     // People filter by the number they read; lower case is the same number, and a malformed one gets a sentence.
     const byNumber = await callRoute(
       app.ledgerExport.loader,
       getRequest(`/admin/ledger/export?order=${order.number.toLowerCase()}`, await as("admin@diffractory.example")),
     );
     expect(String(byNumber.body).trim().split(/\r?\n/).slice(1)).toEqual(lines.slice(1));
+    // An order without a purchase order leaves the column empty.
+    const plain = await w.makeOrder();
+    await w.pay(plain);
+    const plainCsv = await callRoute(app.ledgerExport.loader, getRequest(`/admin/ledger/export?orderId=${plain}`, await as("admin@diffractory.example")));
+    const plainRows = String(plainCsv.body).trim().split(/\r?\n/).slice(1);
+    expect(plainRows.length).toBeGreaterThan(0);
+    const plainNumber = (await orderOf(plain)).number;
+    expect(plainRows.every((r) => r.endsWith(`,${plainNumber},`))).toBe(true);
     const bad = await callRoute(app.ledgerExport.loader, getRequest("/admin/ledger/export?order=42", await as("admin@diffractory.example")));
     expect(bad.status).toBe(400);
     expect(String(JSON.stringify(bad.body))).toContain("An order number reads like HCW-2026-0042.");

@@ -1,5 +1,6 @@
-// GET /admin/ledger/export — the filtered ledger as CSV (admins only); each row names its order by number in the last
-// column (added last so the earlier columns keep their places; the id stays for matching with the provider).
+// GET /admin/ledger/export — the filtered ledger as CSV (admins only); each row names its order by number and then the
+// order's purchase-order number (columns added at the end so the earlier ones keep their places; the id stays for
+// matching with the provider).
 import { parseLedgerFilter } from "~/domain/ledger-filter";
 import { ledgerRows } from "~/models/payments/ledger.server";
 import { csvText, type CsvField } from "~/utils/csv.server";
@@ -21,12 +22,36 @@ export async function loader({ request }: Route.LoaderArgs) {
   const parsed = parseLedgerFilter(new URL(request.url).searchParams);
   if (!parsed.ok) return new Response(`${parsed.error}\n`, { status: 400, headers: { "Content-Type": "text/plain; charset=utf-8" } });
   const rows = await ledgerRows(parsed.filter, 100_000);
-  const table = [["transaction_id", "created_at", "kind", "order_id", "account", "amount_minor", "currency", "provider_object_id", "memo", "order_number"]];
+  const table = [
+    [
+      "transaction_id",
+      "created_at",
+      "kind",
+      "order_id",
+      "account",
+      "amount_minor",
+      "currency",
+      "provider_object_id",
+      "memo",
+      "order_number",
+      "purchase_order_number",
+    ],
+  ];
   for (const r of rows)
     table.push(
-      [r.id, new Date(r.created_at).toISOString(), r.kind, r.order_id, r.account, r.amount_minor, r.currency, r.provider_object_id, r.memo, r.order_number].map(
-        formulaSafe,
-      ),
+      [
+        r.id,
+        new Date(r.created_at).toISOString(),
+        r.kind,
+        r.order_id,
+        r.account,
+        r.amount_minor,
+        r.currency,
+        r.provider_object_id,
+        r.memo,
+        r.order_number,
+        r.purchase_order_number,
+      ].map(formulaSafe),
     );
   return new Response(csvText(table), {
     headers: {

@@ -1,4 +1,5 @@
-// GET /api/orders?state= — the active organisation's orders (as client or as lab), newest change first.
+// GET /api/orders?state= — the active organisation's orders (as client or as lab), newest change first; each with its
+// number, purchase-order number (null when none), state, lab, request title and last change.
 import { ORDER_STATES, type OrderState } from "~/domain/order-states";
 import { ordersInStates } from "~/models/orders/queries.server";
 import { requireUser } from "~/utils/permissions.server";
