@@ -15,6 +15,7 @@ import { seedDemoProfiles } from "~/demo/seed-profiles.server";
 import { seedDemoTransfers } from "~/demo/seed-transfer.server";
 import { seedDemoInvoices } from "~/demo/seed-invoices.server";
 import { seedDemoStatements } from "~/demo/seed-statements.server";
+import { seedDemoTiers } from "~/demo/seed-tiers.server";
 
 const t0 = Date.now();
 const result = await seedDemo();
@@ -32,6 +33,7 @@ await seedDemoPurchaseOrders();
 await seedDemoTransfers();
 await seedDemoInvoices();
 await seedDemoStatements();
+await seedDemoTiers();
 console.log(
   `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
 );

@@ -4,6 +4,7 @@ import { and, eq } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import { requestLifeIds } from "~/demo/seed-request-life.server";
 import { transferDemoIds } from "~/demo/seed-transfer.server";
+import { TIER_REQUEST_TITLE } from "~/demo/seed-tiers.server";
 
 async function requestId(title: string) {
   const [row] = await db.select({ id: schema.requests.id }).from(schema.requests).where(eq(schema.requests.title, title));
@@ -53,6 +54,7 @@ export async function demoTour(base: string) {
     `  nanomaterial and toxic samples with their safety data sheets, in transit: ${u(`/client/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  refused on arrival, with the lab's reason and the refund: ${u(`/client/orders/${await orderId("Capillary series of solvate PSF-127")}`)}; inconsistent check of the resolved dispute: ${u(`/checks/${await checkId("PSF-118-B_Cu_5-60.xy")}`)}`,
     `  invoices and credit notes: the refused parcel's order has its invoice in Lakeside's name with the PO and the refund's credit note (PDF and JSON: ${u(`/api/orders/${await orderId("Capillary series of solvate PSF-127")}/invoice`)}); every paid order lists its invoice on the order page and the payment's receipt`,
+    `  payments with their true state — paid, partly refunded (the refused parcel, less the handling fee) or refunded — and receipts that say so: ${u("/client/payments")}`,
     `  Form I declared with Form II as a candidate, the check picks the form the scan shows: ${u(`/client/orders/${await orderId("Form I or Form II of API batch PSF-163")}`)}  (check ${u(`/checks/${await checkId("PSF-163-B_Cu_5-60.xy")}`)})`,
     `consultant@fieldnotes.example — Rosalind, works for both clients: the bell shows the organisation she works in and counts the other's; a link into the other switches there with a notice: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}#messages`)}`,
     "lab@graniteridge.example — Marcus, lab manager (operator@graniteridge.example measures)",
@@ -64,6 +66,7 @@ export async function demoTour(base: string) {
     `  statements: last month's payouts order by order (paid, refunded, fee, net) as PDF and CSV, with the platform's fee invoice: ${u("/lab/statements")}`,
     "lab@lakeside.example — Dana, lab manager",
     `  quotes sent, declined and lapsed: ${u("/lab/quotes")}; samples received, to measure: ${u(`/lab/orders/${await orderId("Transmission scan of LFP coating trial HC-2624")}`)}`,
+    `  price tiers: academic and non-profit prices beside the base list (${u("/lab/price-list")}, public at ${u("/labs/lakeside-institute-x-ray-core")}); the quote for owner@kestrelmoor.example's university group, confirmed as academic, drafts from the academic prices and says so: ${u(`/lab/requests/${await requestId(TIER_REQUEST_TITLE)}`)}`,
     `lab@meridian.example — Tiago, awaiting vetting: the application and its checked calibration scan: ${u("/lab/vetting")}`,
     "admin@diffractory.example — platform admin; the sign-in code: npx tsx scripts/demo-code.ts",
     `  kinds of client to confirm (Pinecrest states industry): ${u("/admin/users")}; Granite Ridge's receiving address: lab@graniteridge.example at ${u("/lab/profile")}`,
