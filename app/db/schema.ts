@@ -6,6 +6,7 @@ import type { MeasurementConditions, ScanInfo } from "~/domain/measurement";
 import type { AcceptanceWindow } from "~/diffraction/phases";
 import type { InvoiceDocument, InvoiceKind } from "~/domain/invoice-document";
 import {
+  type AnyPgColumn,
   bigserial,
   boolean,
   check,
@@ -312,6 +313,13 @@ export const instruments = pgTable(
     cagliotiW: doublePrecision("caglioti_w"),
     /** Where U, V, W came from, in words ("Entered by the lab", "Fitted to the calibration scan si.xy, 4 Dec 2026"). */
     profileSource: text("profile_source"),
+    /** How often the lab repeats its calibration scan (docs/design.md#calibration-on-record); 30 days by default. */
+    calibrationIntervalDays: integer("calibration_interval_days").notNull().default(30),
+    /** The standard it calibrates with (a key of CALIBRATION_STANDARDS), set by its first calibration. */
+    calibrationStandard: text("calibration_standard"),
+    /** "none" (never calibrated here), "ok", "overdue" or "out_of_control"; overdue and out of control leave matching. */
+    calibrationState: text("calibration_state").$type<"none" | "ok" | "overdue" | "out_of_control">().notNull().default("none"),
+    calibrationDueAt: timestamp("calibration_due_at", { withTimezone: true }),
     active: boolean("active").notNull().default(true),
     createdAt: createdAt(),
   },
@@ -460,9 +468,12 @@ export const samples = pgTable(
     sdsFileName: text("sds_file_name"),
     sdsStorageKey: text("sds_storage_key"),
     sdsSizeBytes: integer("sds_size_bytes"),
+    /** The client's material this sample is a lot of (docs/design.md#materials-and-lots), and the lot's code. */
+    materialId: uuid("material_id").references((): AnyPgColumn => materials.id, { onDelete: "set null" }),
+    lotCode: text("lot_code"),
     createdAt: createdAt(),
   },
-  (t) => [index("samples_request_idx").on(t.requestId)],
+  (t) => [index("samples_request_idx").on(t.requestId), index("samples_material_idx").on(t.materialId)],
 );
 
 /**
@@ -578,6 +589,8 @@ export const orders = pgTable(
     purchaseOrderNumber: text("purchase_order_number"),
     purchaseOrderFileName: text("purchase_order_file_name"),
     purchaseOrderFileKey: text("purchase_order_file_key"),
+    /** The standing agreement this order is a lot of, when it was ordered under one without quotes. */
+    agreementId: uuid("agreement_id").references((): AnyPgColumn => standingAgreements.id, { onDelete: "restrict" }),
     /** The tax in `amountMinor` (the quote's net total plus this is what the client pays), fixed on acceptance. */
     taxMinor: integer("tax_minor").notNull().default(0),
     taxRateBps: integer("tax_rate_bps").notNull().default(0),
@@ -836,6 +849,208 @@ export const documentNumberCounters = pgTable("document_number_counters", {
 });
 
 export type Invoice = typeof invoices.$inferSelect;
+
+// ───────────────────────── Repeat work: materials, standing agreements, lots, calibration history ─────────────────────────
+
+/** A further phase of a material as declared once: an expected second phase or a candidate form (as sample_phases). */
+export interface MaterialPhase {
+  role: "expected" | "candidate";
+  name: string | null;
+  crystalSystem: string;
+  centering: string;
+  cell: { a: number; b: number; c: number; alpha: number; beta: number; gamma: number };
+}
+
+/**
+ * A client's product, declared once and reused by every request and lot: what it is, its phases and acceptance
+ * window, how it is usually measured, and its hazards with the safety data sheet (docs/design.md#materials-and-lots).
+ */
+export const materials = pgTable(
+  "materials",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    organisationId: uuid("organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "cascade" }),
+    productCode: text("product_code").notNull(),
+    name: text("name").notNull(),
+    formula: text("formula").notNull(),
+    form: text("form").notNull().default("powder"),
+    expectedPhase: text("expected_phase"),
+    crystalSystem: text("crystal_system"),
+    centering: text("centering"),
+    cellA: doublePrecision("cell_a"),
+    cellB: doublePrecision("cell_b"),
+    cellC: doublePrecision("cell_c"),
+    cellAlpha: doublePrecision("cell_alpha"),
+    cellBeta: doublePrecision("cell_beta"),
+    cellGamma: doublePrecision("cell_gamma"),
+    furtherPhases: jsonb("further_phases").$type<MaterialPhase[]>().notNull().default([]),
+    acceptanceWindow: jsonb("acceptance_window").$type<AcceptanceWindow>(),
+    /** The usual measurement: technique, 2θ range, quality and source preference, as a request states them. */
+    technique: technique("technique").notNull().default("powder_reflection"),
+    rangeMin: doublePrecision("range_min"),
+    rangeMax: doublePrecision("range_max"),
+    quality: qualityLevel("quality").notNull().default("standard"),
+    preferredSource: text("preferred_source").notNull().default("any"),
+    massMg: doublePrecision("mass_mg"),
+    ghsPictograms: text("ghs_pictograms").array().notNull().default(sql`'{}'::text[]`),
+    hStatements: text("h_statements").array().notNull().default(sql`'{}'::text[]`),
+    specialHazards: jsonb("special_hazards").$type<SpecialHazard[]>().notNull().default([]),
+    handlingNotes: text("handling_notes"),
+    afterMeasurement: text("after_measurement").notNull().default("return"),
+    sdsFileName: text("sds_file_name"),
+    sdsStorageKey: text("sds_storage_key"),
+    sdsSizeBytes: integer("sds_size_bytes"),
+    /** The lots whose values set the control limits, by their order on the record (1-based, inclusive); null: the first 20. */
+    baselineFirstLot: integer("baseline_first_lot"),
+    baselineLastLot: integer("baseline_last_lot"),
+    /** Members of the organisation told when a lot breaks a control rule (its QC people); empty: the owners and managers. */
+    qcUserIds: uuid("qc_user_ids").array().notNull().default(sql`'{}'::uuid[]`),
+    createdBy: uuid("created_by").references(() => users.id, { onDelete: "set null" }),
+    archivedAt: timestamp("archived_at", { withTimezone: true }),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [uniqueIndex("materials_org_code_idx").on(t.organisationId, t.productCode)],
+);
+
+/**
+ * A standing agreement between a client and a lab for one material: a price per lot agreed once (from a quote),
+ * a turnaround, a period and a budget cap. Each new lot becomes an order at once, without a round of quotes.
+ */
+export const standingAgreements = pgTable(
+  "standing_agreements",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    /** What people read: SA-<client letters>-<year>-<seq>. */
+    number: text("number").notNull(),
+    clientOrganisationId: uuid("client_organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "restrict" }),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "restrict" }),
+    materialId: uuid("material_id")
+      .notNull()
+      .references(() => materials.id, { onDelete: "restrict" }),
+    /** The accepted quote the terms were taken from. */
+    sourceQuoteId: uuid("source_quote_id").references(() => quotes.id, { onDelete: "set null" }),
+    instrumentId: uuid("instrument_id").references(() => instruments.id, { onDelete: "set null" }),
+    /** The net price of one lot (its line items as quoted), in the agreement's currency. */
+    lineItems: jsonb("line_items").$type<QuoteLineItem[]>().notNull(),
+    pricePerLotMinor: integer("price_per_lot_minor").notNull(),
+    currency: text("currency").notNull(),
+    turnaroundDays: integer("turnaround_days").notNull(),
+    startsOn: date("starts_on").notNull(),
+    endsOn: date("ends_on").notNull(),
+    /** The most the lots may cost together (net); the lot that would pass it is refused. */
+    budgetCapMinor: integer("budget_cap_minor").notNull(),
+    /** Days of notice either side gives to end it early. */
+    noticeDays: integer("notice_days").notNull().default(14),
+    /** "proposed" (the client offered it, the lab has not agreed), "active", "ending" (notice given) or "ended". */
+    state: text("state").$type<"proposed" | "active" | "ending" | "ended">().notNull().default("proposed"),
+    /** When notice was given, by whom and why; the agreement ends at `endingAt`. */
+    noticeGivenAt: timestamp("notice_given_at", { withTimezone: true }),
+    noticeGivenBy: uuid("notice_given_by").references(() => users.id, { onDelete: "set null" }),
+    noticeReason: text("notice_reason"),
+    endingAt: timestamp("ending_at", { withTimezone: true }),
+    endedAt: timestamp("ended_at", { withTimezone: true }),
+    /** Why it ended, in words: its end date, its cap, notice. */
+    endedBecause: text("ended_because"),
+    createdBy: uuid("created_by").references(() => users.id, { onDelete: "set null" }),
+    agreedBy: uuid("agreed_by").references(() => users.id, { onDelete: "set null" }),
+    agreedAt: timestamp("agreed_at", { withTimezone: true }),
+    createdAt: createdAt(),
+    updatedAt: updatedAt(),
+  },
+  (t) => [
+    uniqueIndex("standing_agreements_number_idx").on(t.number),
+    index("standing_agreements_client_idx").on(t.clientOrganisationId, t.state),
+    index("standing_agreements_lab_idx").on(t.labId, t.state),
+    index("standing_agreements_material_idx").on(t.materialId),
+    check("standing_agreements_state", sql`${t.state} in ('proposed', 'active', 'ending', 'ended')`),
+  ],
+);
+
+/** The refined cell of one main phase with its esds, as a lot's record keeps it. */
+export interface LotCell {
+  a: number;
+  b: number;
+  c: number;
+  alpha: number;
+  beta: number;
+  gamma: number;
+}
+
+/**
+ * One checked scan of a lot of a material, on the material's record: the refined cell with its esds, the verdict
+ * and the window's answer. Several scans of one lot (several rows with the same sample) make X̄/R subgroups.
+ */
+export const materialLots = pgTable(
+  "material_lots",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    materialId: uuid("material_id")
+      .notNull()
+      .references(() => materials.id, { onDelete: "cascade" }),
+    sampleId: uuid("sample_id").references(() => samples.id, { onDelete: "set null" }),
+    orderId: uuid("order_id").references(() => orders.id, { onDelete: "set null" }),
+    checkId: uuid("check_id").references(() => scanChecks.id, { onDelete: "set null" }),
+    lotCode: text("lot_code").notNull(),
+    /** When the lot's scan was checked: the record's time axis. */
+    measuredAt: timestamp("measured_at", { withTimezone: true }).notNull(),
+    cell: jsonb("cell").$type<LotCell>(),
+    esd: jsonb("esd").$type<Partial<LotCell>>(),
+    verdict: text("verdict"),
+    /** true inside the acceptance window, false outside, null without a window or a refined cell. */
+    withinWindow: boolean("within_window"),
+    createdAt: createdAt(),
+  },
+  (t) => [index("material_lots_material_idx").on(t.materialId, t.measuredAt), uniqueIndex("material_lots_check_idx").on(t.checkId)],
+);
+
+/**
+ * A repeated calibration scan of a certified standard on an instrument, checked by the lattice engine: refined
+ * cell minus certificate, zero shift and profile widths make the instrument's record (docs/design.md#calibration-on-record).
+ */
+export const instrumentCalibrations = pgTable(
+  "instrument_calibrations",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    instrumentId: uuid("instrument_id")
+      .notNull()
+      .references(() => instruments.id, { onDelete: "cascade" }),
+    labId: uuid("lab_id")
+      .notNull()
+      .references(() => labs.organisationId, { onDelete: "cascade" }),
+    standard: text("standard").notNull(),
+    fileName: text("file_name").notNull(),
+    storageKey: text("storage_key"),
+    sizeBytes: integer("size_bytes"),
+    sha256: text("sha256"),
+    /** The engine's check (CalibrationCheck in app/domain/vetting.ts) without its plot arrays. */
+    check: jsonb("check").$type<Record<string, unknown>>(),
+    deviationA: doublePrecision("deviation_a"),
+    zeroShift: doublePrecision("zero_shift"),
+    cagliotiU: doublePrecision("caglioti_u"),
+    cagliotiV: doublePrecision("caglioti_v"),
+    cagliotiW: doublePrecision("caglioti_w"),
+    /** Within the tolerance and no control rule broken. */
+    passed: boolean("passed").notNull(),
+    /** The control rules the point breaks, by number, e.g. [1, 4]. */
+    rulesBroken: integer("rules_broken").array().notNull().default(sql`'{}'::integer[]`),
+    measuredAt: timestamp("measured_at", { withTimezone: true }).notNull(),
+    uploadedBy: uuid("uploaded_by").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+  },
+  (t) => [index("instrument_calibrations_instrument_idx").on(t.instrumentId, t.measuredAt)],
+);
+
+export type Material = typeof materials.$inferSelect;
+export type StandingAgreement = typeof standingAgreements.$inferSelect;
+export type MaterialLot = typeof materialLots.$inferSelect;
+export type InstrumentCalibration = typeof instrumentCalibrations.$inferSelect;
 export type Payment = typeof payments.$inferSelect;
 export type Dispute = typeof disputes.$inferSelect;
 
