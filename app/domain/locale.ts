@@ -120,7 +120,9 @@ export function formatterFor(locale: SupportedLocale = DEFAULT_LOCALE): Formatte
   const formatter: Formatter = {
     locale,
     // Minor units are integers; dividing by 100 is exact enough for display of amounts below 2^53 / 100.
-    money: (minor, currency) => money(currency).format(minor / 100),
+    // "+ 0" turns a negative zero (a credit note's nil tax, negated) into zero: Node and the browsers' ICU disagree
+    // on "-€0.00", which broke hydration, and a nil amount has no sign.
+    money: (minor, currency) => money(currency).format(minor / 100 + 0),
     date: (value) => day.format(new Date(value)),
     dateTime: (value) => moment.format(new Date(value)),
     number: (value) => count.format(value),

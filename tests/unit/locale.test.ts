@@ -37,6 +37,9 @@ describe("formatterFor", () => {
     expect(formatterFor("de-DE").money(123450, "EUR")).toBe("1.234,50\u00a0€");
     expect(formatterFor("de-CH").money(123450, "CHF")).toBe("CHF\u00a01'234.50");
     expect(formatterFor("en-GB").money(-500, "GBP")).toBe("-£5.00");
+    // A negated nil amount (a credit note's tax of 0) is written as zero, never "-€0.00" (common practice).
+    expect(formatterFor("en-GB").money(-0, "EUR")).toBe("€0.00");
+    expect(formatterFor("de-DE").money(-1 * 0, "EUR")).toBe("0,00\u00a0€");
   });
   it("writes days in the locale's order and times in UTC with the zone named", () => {
     expect(formatterFor("en-GB").date(at)).toBe("12 May 2026");
