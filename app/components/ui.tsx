@@ -126,10 +126,14 @@ export function SafetyNotice({ className = "" }: { className?: string }) {
   );
 }
 
-/** A table in a card with column headings; rows come as children. */
-export function TableCard({ columns, children, caption }: { columns: string[]; children: ReactNode; caption?: string }) {
+/**
+ * A table in a card with column headings; rows come as children. It scrolls sideways when too wide; a wide table
+ * (`scrolls`) gets a keyboard stop and a name, so its hidden columns are reachable without a mouse (WCAG 2.1.1; axe
+ * "scrollable-region-focusable").
+ */
+export function TableCard({ columns, children, caption, scrolls }: { columns: string[]; children: ReactNode; caption?: string; scrolls?: boolean }) {
   return (
-    <div className="card overflow-x-auto p-0">
+    <div className="card overflow-x-auto p-0" {...(scrolls ? { tabIndex: 0, role: "region", "aria-label": caption } : {})}>
       <table className="table">
         {caption ? <caption className="sr-only">{caption}</caption> : null}
         <thead>

@@ -97,7 +97,11 @@ export default function Invoices({ loaderData }: Route.ComponentProps) {
         )
       ) : (
         <div className="mt-6">
-          <TableCard columns={["Number", "Kind", "Issued", "Seller", "Buyer", "Order", "Net", "Tax", "Gross", "Tax treatment"]} caption="Documents issued">
+          <TableCard
+            columns={["Number", "Kind", "Issued", "Seller", "Buyer", "Order", "Net", "Tax", "Gross", "Tax treatment"]}
+            caption="Documents issued"
+            scrolls
+          >
             {docs.map((d) => (
               <tr key={d.number}>
                 <td className="whitespace-nowrap font-mono text-xs">
