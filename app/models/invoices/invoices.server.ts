@@ -194,7 +194,7 @@ export async function issueCreditNoteTx(tx: Tx, orderId: string, refund: { id: s
     creditsInvoice: { number: invoice.number, issueDate: source.issueDate },
     lines: [
       {
-        description: `Refund on order ${source.orderNumber ?? ""}${refund.reason ? `: ${refund.reason}` : ""}`.trim(),
+        description: creditLine(source.orderNumber ?? "", refund.reason),
         quantity: 1,
         unitPriceMinor: netMinor,
         netMinor,
@@ -225,6 +225,17 @@ export async function issueCreditNoteTx(tx: Tx, orderId: string, refund: { id: s
     })
     .returning();
   return row;
+}
+
+/**
+ * The credit note's line: the refund's reason as the buyer reads it. A dispute's refund carries the ledger's memo
+ * ("Dispute decision: refund. <the admin's reason>"), which is written out in words instead.
+ */
+function creditLine(orderNumber: string, reason: string) {
+  const dispute = /^Dispute decision: refund\.\s*/.exec(reason);
+  if (dispute)
+    return `Refund on order ${orderNumber} after the dispute decision${reason.length > dispute[0].length ? `: ${reason.slice(dispute[0].length)}` : ""}`;
+  return `Refund on order ${orderNumber}${reason ? `: ${reason}` : ""}`.trim();
 }
 
 /** An order's invoice (null before it is paid) and its credit notes, oldest first. */
