@@ -242,7 +242,9 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
               ) : null}
               <Form method="post" className="flex flex-wrap gap-3">
                 <button type="submit" name="intent" value="pay" className={transfer?.status === "open" ? "btn-secondary" : "btn-primary"} disabled={busy}>
-                  {busy && navigation.formData?.get("intent") === "pay" ? "Opening the payment page…" : `Pay ${fmt.money(order.amountMinor, order.currency)}`}
+                  {busy && navigation.formData?.get("intent") === "pay"
+                    ? "Opening the payment page…"
+                    : `Pay ${fmt.money(order.amountMinor, order.currency)}${transfer?.status === "open" ? " by card instead" : ""}`}
                 </button>
                 {transferOffered && transfer?.status !== "open" ? (
                   <button type="submit" name="intent" value="transfer" className="btn-secondary" disabled={busy}>
@@ -250,6 +252,11 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
                   </button>
                 ) : null}
               </Form>
+              {transfer?.status === "open" ? (
+                <p className="text-xs text-ink-600">
+                  Paying by card closes the bank transfer; anything already transferred is sent back to the account it came from.
+                </p>
+              ) : null}
               {transferOffered && transfer?.status !== "open" ? (
                 <p className="text-xs text-ink-600">
                   "Pay" opens the card payment page. A bank transfer takes one to two business days; the order waits until the money has arrived.
