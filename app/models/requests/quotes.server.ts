@@ -1,13 +1,10 @@
 // Quotes: drafted from the lab's price list, sent after the hazard acknowledgement, withdrawn, lapsed, accepted.
 import { and, asc, desc, eq, inArray, lt, ne } from "drizzle-orm";
-import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
 import type { MarketRequest, PriceList, QuoteLineItem, Sample } from "~/db/schema";
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
-import { takeOrderNumber } from "~/models/orders/numbers.server";
-import { decideTaxBetween } from "~/models/invoices/tax.server";
-import { taxOn } from "~/domain/vat";
+import { createOrderTx } from "~/models/orders/create.server";
 import { declaresHazard } from "~/domain/hazards";
 import { labelOf, sourceLabel } from "~/domain/matching";
 import type { QuoteInput } from "~/domain/quote-forms";
@@ -283,38 +280,25 @@ export async function acceptQuote(
         .from(schema.organisations)
         .where(eq(schema.organisations.id, organisationId));
       if (client?.requiresPurchaseOrder && !po?.number) return { ok: false, error: PO_REQUIRED } as const;
-      // The quote's total is net; the tax is fixed now and added to what the client pays (docs/design.md#tax-on-invoices).
-      const tax = await decideTaxBetween(quote.labId, organisationId, tx);
-      const taxMinor = taxOn(quote.totalMinor, tax.rateBps);
-
       await tx.update(schema.quotes).set({ state: "accepted", decidedAt: now }).where(eq(schema.quotes.id, quote.id));
       await tx
         .update(schema.quotes)
         .set({ state: "declined", decidedAt: now })
         .where(and(eq(schema.quotes.requestId, request.id), ne(schema.quotes.id, quote.id), eq(schema.quotes.state, "sent")));
       await tx.update(schema.requests).set({ state: "awarded", updatedAt: now }).where(eq(schema.requests.id, request.id));
-      const [order] = await tx
-        .insert(schema.orders)
-        .values({
-          requestId: request.id,
-          quoteId: quote.id,
-          number: await takeOrderNumber(tx, organisationId, now),
-          clientOrganisationId: organisationId,
-          labId: quote.labId,
-          amountMinor: quote.totalMinor + taxMinor,
-          taxMinor,
-          taxRateBps: tax.rateBps,
-          taxTreatment: tax.treatment,
-          currency: quote.currency,
-          platformFeeBps: config.payments.platformFeeBps,
-          purchaseOrderNumber: po?.number ?? null,
-          purchaseOrderFileKey: po?.fileKey ?? null,
-          purchaseOrderFileName: po?.fileName ?? null,
-        })
-        .returning({ id: schema.orders.id });
-      await tx
-        .insert(schema.orderEvents)
-        .values({ orderId: order.id, fromState: null, toState: "awaiting_payment", actorUserId: userId, note: "Quote accepted" });
+      // The quote's total is net; the tax is fixed now and added to what the client pays (docs/design.md#tax-on-invoices).
+      const order = await createOrderTx(tx, {
+        requestId: request.id,
+        quoteId: quote.id,
+        clientOrganisationId: organisationId,
+        labId: quote.labId,
+        netMinor: quote.totalMinor,
+        currency: quote.currency,
+        po,
+        actorUserId: userId,
+        note: "Quote accepted",
+        at: now,
+      });
       await audit(
         {
           actorUserId: userId,
