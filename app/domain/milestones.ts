@@ -28,6 +28,11 @@ export const MILESTONES = {
   dispute_answered: { label: "The lab answered a dispute", essential: true, for: ["client", "admin"] },
   dispute_evidence_added: { label: "Evidence added to a dispute", essential: true, for: ["client", "lab", "admin"] },
   dispute_resolved: { label: "Dispute resolved", essential: true, for: ["client", "lab"] },
+  agreement_changed: {
+    label: "A standing agreement proposed, agreed, declined, given notice, ended or a lot ordered",
+    essential: false,
+    for: ["client", "lab"],
+  },
   lab_application_received: { label: "Lab application to vet", essential: false, for: ["admin"] },
   lab_approved: { label: "Lab approved", essential: false, for: ["lab"] },
   lab_rejected: { label: "Lab application declined", essential: false, for: ["lab"] },

@@ -7,6 +7,7 @@ export interface Section {
 export const CLIENT_SECTIONS: Section[] = [
   { slug: "requests", label: "Requests" },
   { slug: "orders", label: "Orders" },
+  { slug: "agreements", label: "Agreements" },
   { slug: "data-room", label: "Data room" },
   { slug: "payments", label: "Payments" },
 ];
@@ -15,6 +16,7 @@ export const LAB_SECTIONS: Section[] = [
   { slug: "inbox", label: "Inbox" },
   { slug: "quotes", label: "Quotes" },
   { slug: "work-queue", label: "Work queue" },
+  { slug: "agreements", label: "Agreements" },
   { slug: "capabilities", label: "Capabilities" },
   { slug: "price-list", label: "Price list" },
   { slug: "payouts", label: "Payouts" },

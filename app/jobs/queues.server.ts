@@ -20,6 +20,8 @@ export const QUEUES = {
   feeInvoices: "fee-invoices",
   /** Every hour: bank transfers reminded before their pay-by date, lapsed after it (docs/design.md#bank-transfer). */
   bankTransfers: "bank-transfers",
+  /** Every hour: standing agreements past their last day or their notice end (docs/design.md#standing-agreements). */
+  agreementEnds: "agreement-ends",
 } as const;
 
 const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };

@@ -9,6 +9,7 @@ import { acceptLapsedDeliveries, releasePendingPayouts } from "~/models/orders/l
 import { expireOverdueRequests } from "~/models/requests/request-life.server";
 import { issueDueFeeInvoices } from "~/models/invoices/fee-invoices.server";
 import { sweepBankTransfers } from "~/models/payments/bank-transfer.server";
+import { endDueAgreements } from "~/models/agreements/agreements.server";
 import { QUEUES } from "./queues.server";
 
 /** Registers every queue's handler and the schedules; the worker process calls this once. */
@@ -36,6 +37,11 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = config.rev
     const swept = await sweepBankTransfers();
     if (swept.reminded + swept.lapsed + swept.closed > 0)
       console.log(`bank transfers: ${swept.reminded} reminded, ${swept.lapsed} lapsed, ${swept.closed} closed`);
+  });
+  await boss.schedule(QUEUES.agreementEnds, "25 * * * *");
+  await boss.work(QUEUES.agreementEnds, async () => {
+    const ended = await endDueAgreements();
+    if (ended > 0) console.log(`standing agreements: ${ended} ended`);
   });
   await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
     await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });

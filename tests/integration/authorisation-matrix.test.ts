@@ -112,6 +112,10 @@ const EXPECTED: Record<string, Expect> = {
   "routes/client/packing-slip": { loader: orderClient },
   "routes/client/request-sds-upload": { action: orderClientAction },
   "routes/client/request-po-upload": { action: orderClientAction },
+  // Standing agreements: the client's own (another client's is a 404); an empty form is refused.
+  "routes/client/order-agreement": { loader: orderClient, action: orderClientAction },
+  "routes/client/agreements": { loader: clientWorkspace },
+  "routes/client/agreement": { loader: orderClient, action: orderClientAction },
 
   "lab-layout": { loader: labWorkspace },
   "routes/lab/home": { loader: labWorkspace },
@@ -139,6 +143,9 @@ const EXPECTED: Record<string, Expect> = {
   "routes/lab/order-uploads": { action: orderLabAction },
   "routes/lab/order-upload": { action: orderLabAction },
   "routes/lab/order-receipt-photo": { action: orderLabAction },
+  "routes/lab/agreements": { loader: labWorkspace },
+  // Only owners and managers agree, decline or give notice (an empty form is refused); another lab's is a 404.
+  "routes/lab/agreement": { loader: orderLab, action: { ...orderLabAction, labOperator: "forbidden" } },
 
   "admin-layout": { loader: adminPage },
   "routes/admin/home": { loader: adminPage },
@@ -169,6 +176,7 @@ const EXPECTED: Record<string, Expect> = {
   // The public directory's JSON twin.
   "routes/api/labs": { loader: "public" },
   "routes/api/orders": { loader: signedIn("ok", { admin: "forbidden" }) },
+  "routes/api/agreements": { loader: signedIn("ok", { admin: "forbidden" }) },
   "routes/api/order-files": { loader: orderParties },
   // The paid order's invoice: its parties and admins (who read and export invoices) only.
   "routes/api/order-invoice": { loader: signedIn("notFound", { ownerA: "ok", memberA: "ok", labManager: "ok", labOperator: "ok", admin: "ok" }) },
@@ -364,8 +372,30 @@ beforeAll(async () => {
     });
     return taken.number;
   });
+  // A standing agreement proposed from the order, for one of Halvorsen's materials.
+  const [material] = await w.db
+    .insert(w.schema.materials)
+    .values({ organisationId: w.halvorsen.id, productCode: "MATRIX-1", name: "Matrix material", formula: "LiFePO4" })
+    .returning();
+  const { proposeAgreement } = await import("~/models/agreements/agreements.server");
+  const proposed = await proposeAgreement(orderId, w.halvorsen.id, w.owner.id, {
+    materialId: material.id,
+    startsOn: "2026-01-01",
+    endsOn: "2030-12-31",
+    budgetCapMinor: 1_000_000,
+    noticeDays: 14,
+  });
+  if (!proposed.ok) throw new Error(proposed.error);
   // Routes whose :id is not an order.
-  Object.assign(requestIds, { request: order.requestId, check: check.id, payment: payment.id, invitation, passwordReset, feeInvoice });
+  Object.assign(requestIds, {
+    agreement: proposed.agreementId,
+    request: order.requestId,
+    check: check.id,
+    payment: payment.id,
+    invitation,
+    passwordReset,
+    feeInvoice,
+  });
   // The unvetted lab applies through the sign-up form, as anyone can, seconds before the matrix runs.
   const createAccount = (await import("~/routes/public/create-account")).action;
   const applied = await callRoute(
@@ -390,6 +420,7 @@ function paramsFor(route: Walked) {
   if (/requests\/:id/.test(route.path)) p.id = requestIds.request;
   if (/checks\/:id/.test(route.path)) p.id = requestIds.check;
   if (/payments\/:id/.test(route.path)) p.id = requestIds.payment;
+  if (/agreements\/:id/.test(route.path)) p.id = requestIds.agreement;
   if (/invitations\/:token/.test(route.path)) p.token = requestIds.invitation;
   if (/reset-password\/:token/.test(route.path)) p.token = requestIds.passwordReset;
   if (/statements\/:file/.test(route.path)) p.file = "2026-11.csv";

@@ -37,3 +37,19 @@ export async function takeDocumentNumber(tx: Tx, kind: InvoiceKind, issuerOrgani
     .returning({ seq: c.lastSeq });
   return { series, seq: row.seq, number: formatDocumentNumber(kind, prefix, year, row.seq) };
 }
+
+/**
+ * The next standing-agreement number of a client organisation for the year of `at` (UTC), from the same
+ * counter table in a series of its own: SA-<the client's order letters>-<year>-<seq>, e.g. SA-HCW-2026-0003.
+ */
+export async function takeAgreementNumber(tx: Tx, clientOrganisationId: string, at: Date = new Date()): Promise<string> {
+  const year = at.getUTCFullYear();
+  const prefix = await orderPrefixOf(tx, clientOrganisationId);
+  const c = schema.documentNumberCounters;
+  const [row] = await tx
+    .insert(c)
+    .values({ series: `agreement:${clientOrganisationId}:${year}`, lastSeq: 1 })
+    .onConflictDoUpdate({ target: c.series, set: { lastSeq: sql`${c.lastSeq} + 1` } })
+    .returning({ seq: c.lastSeq });
+  return `SA-${prefix}-${year}-${String(row.seq).padStart(4, "0")}`;
+}

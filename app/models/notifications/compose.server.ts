@@ -443,3 +443,83 @@ export function passwordResetLetter(r: { token: string; expiresAt: Date }): Lett
     link: { path: `/reset-password/${r.token}`, label: "Choose a new password" },
   };
 }
+
+/** What happened to a standing agreement (docs/design.md#standing-agreements). */
+export type AgreementEvent = "proposed" | "agreed" | "declined" | "notice" | "ended" | "lot_ordered";
+
+export function agreementLetter(
+  event: AgreementEvent,
+  a: {
+    id: string;
+    number: string;
+    material: string;
+    clientName: string;
+    labName: string;
+    pricePerLotMinor: number;
+    budgetCapMinor: number;
+    currency: string;
+    startsOn: string;
+    endsOn: string;
+    endingAt: Date | null;
+    note: string;
+  },
+  side: "client" | "lab",
+): Letter {
+  const path = `/${side}/agreements/${a.id}`;
+  const facts: [string, string][] = [
+    ["Agreement", a.number],
+    ["Material", a.material],
+    ["Client", a.clientName],
+    ["Lab", a.labName],
+    ["Price per lot (net)", formatMoney(a.pricePerLotMinor, a.currency)],
+    ["Budget cap (net)", formatMoney(a.budgetCapMinor, a.currency)],
+    ["Period", `${a.startsOn} to ${a.endsOn}`],
+  ];
+  const words: Record<AgreementEvent, { subject: string; heading: string; paragraph: string; next: string }> = {
+    proposed: {
+      subject: `Standing agreement proposed: ${a.number}`,
+      heading: "A standing agreement was proposed",
+      paragraph: `${a.clientName} proposed a standing agreement for ${a.material}: each lot becomes an order at the price per lot, without a new quote.`,
+      next: side === "lab" ? "Read the terms, then agree or decline." : "The lab agrees or declines; you will hear which.",
+    },
+    agreed: {
+      subject: `Standing agreement agreed: ${a.number}`,
+      heading: "The standing agreement is active",
+      paragraph: `${a.labName} agreed to the standing agreement for ${a.material}.`,
+      next: side === "client" ? "Order a lot on the agreement's page whenever one is ready." : "Lots ordered under it arrive as orders awaiting payment.",
+    },
+    declined: {
+      subject: `Standing agreement declined: ${a.number}`,
+      heading: "The standing agreement was declined",
+      paragraph: `${a.labName} declined the proposed standing agreement for ${a.material}.`,
+      next: "Nothing runs under it; requests and quotes work as before.",
+    },
+    notice: {
+      subject: `Notice given on standing agreement ${a.number}`,
+      heading: "Notice was given",
+      paragraph: `Notice was given on the standing agreement for ${a.material}; it ends on ${a.endingAt ? day(a.endingAt) : a.endsOn}. Lots may still be ordered until then.`,
+      next: "Orders already made go on as usual.",
+    },
+    ended: {
+      subject: `Standing agreement ended: ${a.number}`,
+      heading: "The standing agreement has ended",
+      paragraph: `The standing agreement for ${a.material} has ended; no further lots can be ordered under it.`,
+      next: "Orders already made go on as usual.",
+    },
+    lot_ordered: {
+      subject: `Lot ordered under ${a.number}`,
+      heading: "A lot was ordered under a standing agreement",
+      paragraph: `${a.clientName} ordered a lot of ${a.material} under the standing agreement. The order waits for their payment.`,
+      next: "Nothing yet: start no work before the payment is held.",
+    },
+  };
+  const w = words[event];
+  return {
+    subject: w.subject,
+    heading: w.heading,
+    paragraphs: [w.paragraph],
+    facts: a.note ? [...facts, [event === "lot_ordered" ? "Order" : "Note", a.note]] : facts,
+    nextStep: w.next,
+    link: { path, label: "Open the agreement" },
+  };
+}

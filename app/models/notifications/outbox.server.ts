@@ -6,6 +6,8 @@ import type { VettingState } from "~/domain/vetting";
 import type { OrderState } from "~/domain/order-states";
 import type { Tx } from "~/db/client.server";
 import {
+  agreementLetter,
+  type AgreementEvent,
   invitationLetter,
   labApplicationLetter,
   passwordResetLetter,
@@ -43,6 +45,8 @@ export type Milestone =
   | { kind: "request_revised"; requestId: string; summary: string; labIds: string[] }
   | { kind: "request_closed"; requestId: string; how: "withdrawn" | "expired"; labIds: string[] }
   | { kind: "quote_decided"; acceptedQuoteId: string; orderId: string }
+  /** A standing agreement's move (docs/design.md#standing-agreements): both sides hear of it; a lot ordered, the lab. */
+  | { kind: "agreement_event"; agreementId: string; event: AgreementEvent; note: string; orderId?: string }
   | { kind: "lab_application_received"; labId: string }
   | { kind: "lab_decided"; labId: string; to: VettingState; note: string }
   /** The token travels only in the e-mail's link; the table keeps its hash. */
@@ -314,6 +318,37 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
             orderId: isAccepted ? m.orderId : null,
             organisationId: q.labId,
           });
+      }
+      return out;
+    }
+    case "agreement_event": {
+      const [a] = await tx.select().from(schema.standingAgreements).where(eq(schema.standingAgreements.id, m.agreementId));
+      if (!a) return [];
+      const [material] = await tx
+        .select({ name: schema.materials.name, code: schema.materials.productCode })
+        .from(schema.materials)
+        .where(eq(schema.materials.id, a.materialId));
+      const facts = {
+        id: a.id,
+        number: a.number,
+        material: material ? `${material.name} (${material.code})` : "—",
+        clientName: (await orgName(tx, a.clientOrganisationId)).name,
+        labName: (await orgName(tx, a.labId)).name,
+        pricePerLotMinor: a.pricePerLotMinor,
+        budgetCapMinor: a.budgetCapMinor,
+        currency: a.currency,
+        startsOn: String(a.startsOn),
+        endsOn: String(a.endsOn),
+        endingAt: a.endingAt,
+        note: m.note,
+      };
+      const sides: Audience[] = m.event === "lot_ordered" ? ["lab"] : ["client", "lab"];
+      const out: Outgoing[] = [];
+      for (const side of sides) {
+        const organisationId = side === "client" ? a.clientOrganisationId : a.labId;
+        const letter = agreementLetter(m.event, facts, side === "client" ? "client" : "lab");
+        for (const person of await recipientsOf(tx, organisationId, [side === "client" ? a.createdBy : a.agreedBy]))
+          out.push({ kind: "agreement_changed", person, letter, orderId: m.orderId ?? null, organisationId });
       }
       return out;
     }

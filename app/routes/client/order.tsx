@@ -73,6 +73,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       currency: order.currency,
       reviewWindowDays: order.reviewWindowDays,
       deliveredAt: order.deliveredAt,
+      // A lot of a standing agreement links back to it; any other order may become one (docs/design.md#standing-agreements).
+      agreementId: order.agreementId,
     },
     request: title === null ? undefined : { id: order.requestId, title },
     labName: labName ?? "",
@@ -208,6 +210,17 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
         actions={<OrderStateBadge state={order.state} />}
       />
       <FormError errors={actionData?.result?.error?.[""] as string[] | undefined} />
+      <p className="mb-3 text-sm">
+        {order.agreementId ? (
+          <Link to={`/client/agreements/${order.agreementId}`} className="text-beam-700 underline">
+            A lot of a standing agreement: open the agreement
+          </Link>
+        ) : order.state !== "cancelled" ? (
+          <Link to={`/client/orders/${order.id}/agreement`} className="text-beam-700 underline">
+            Make this a standing agreement for one of your materials
+          </Link>
+        ) : null}
+      </p>
       <DueLine due={due} />
       <PurchaseOrderCard
         orderId={order.id}
