@@ -42,6 +42,9 @@ export default [
       route("requests/:id/edit/labs", "routes/client/request-labs.tsx"),
       route("requests/:id/edit/review", "routes/client/request-review.tsx"),
       route("orders", "routes/client/orders.tsx"),
+      route("materials", "routes/client/materials.tsx"),
+      route("materials/new", "routes/client/material.tsx", { id: "client-material-new" }),
+      route("materials/:id", "routes/client/material.tsx", { id: "client-material" }),
       route("payments", "routes/client/payments.tsx"),
       route("payments/:id/receipt", "routes/client/payment-receipt.tsx"),
       route("orders/:id", "routes/client/order.tsx"),
@@ -53,6 +56,7 @@ export default [
     ]),
     route("requests/:id/sds-upload", "routes/client/request-sds-upload.ts"),
     route("requests/:id/po-upload", "routes/client/request-po-upload.ts"),
+    route("materials/sds-upload", "routes/client/material-sds-upload.ts"),
   ]),
   ...prefix("lab", [
     layout("routes/workspace-layout.tsx", { id: "lab-layout" }, [
@@ -110,6 +114,7 @@ export default [
     route("labs", "routes/api/labs.ts"),
     route("orders", "routes/api/orders.ts"),
     route("agreements", "routes/api/agreements.ts"),
+    route("materials", "routes/api/materials.ts"),
     route("orders/:id/files", "routes/api/order-files.ts"),
     route("v1/orders/:id/files", "routes/api/v1/order-files.ts"),
     route("v1/orders/:id/files/:fileId/complete", "routes/api/v1/order-file-complete.ts"),

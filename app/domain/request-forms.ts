@@ -138,36 +138,46 @@ export function acceptanceWindowOf(input: WindowInput | undefined): AcceptanceWi
   return Object.keys(window).length ? window : null;
 }
 
+/** What a sample declares (formula, form, mass, phases, window), as a sample and a material share it; checked by `checkDeclaration`. */
+export const DeclarationFields = z.object({
+  formula: text("the chemical formula", 200).superRefine((v, ctx) => {
+    const parsed = parseFormula(v);
+    if ("error" in parsed) ctx.addIssue({ code: "custom", message: parsed.error });
+  }),
+  form: z.enum(values(SAMPLE_FORMS), { error: "Choose the sample's form." }),
+  massMg: positive("the mass", "mg").max(1_000_000, "At most 1 kg (1,000,000 mg)."),
+  expectedPhase: text("the expected phase", 120),
+  ...cellShape,
+  phases: z.array(PhaseRowSchema).max(MAX_EXPECTED_PHASES, `At most ${MAX_EXPECTED_PHASES} further expected phases per sample.`).optional().default([]),
+  candidates: z.array(PhaseRowSchema).max(MAX_CANDIDATES, `At most ${MAX_CANDIDATES} candidate forms per sample.`).optional().default([]),
+  window: WindowSchema.optional(),
+});
+
+/** The checks across a declaration's fields: the cell against its system, and a window only on the free parameters. */
+export function checkDeclaration(s: CellFields & { window?: WindowInput }, ctx: z.RefinementCtx) {
+  checkCellFields(s, ctx);
+  // A parameter the system fixes or ties to another (b = a of a tetragonal cell) has no window of its own (the form
+  // does not offer one); the check refuses it too (app/diffraction/window.ts).
+  const free = freeCellParameters(s.crystalSystem);
+  for (const key of CELL_KEYS) {
+    if (s.window?.[key]?.plusMinus === undefined || free.includes(key)) continue;
+    ctx.addIssue({
+      code: "custom",
+      path: ["window", key, "plusMinus"],
+      message: `A ${s.crystalSystem} cell's symmetry fixes ${CELL_PARAMETER_LABELS[key]}, so it takes no window; set one on ${free.map((k) => CELL_PARAMETER_LABELS[k]).join(", ")} instead.`,
+    });
+  }
+}
+
 export const SampleSchema = z
   .object({
     id: z.uuid().optional(),
     label: text("the sample's label", 80),
-    formula: text("the chemical formula", 200).superRefine((v, ctx) => {
-      const parsed = parseFormula(v);
-      if ("error" in parsed) ctx.addIssue({ code: "custom", message: parsed.error });
-    }),
-    form: z.enum(values(SAMPLE_FORMS), { error: "Choose the sample's form." }),
-    massMg: positive("the mass", "mg").max(1_000_000, "At most 1 kg (1,000,000 mg)."),
-    expectedPhase: text("the expected phase", 120),
-    ...cellShape,
-    phases: z.array(PhaseRowSchema).max(MAX_EXPECTED_PHASES, `At most ${MAX_EXPECTED_PHASES} further expected phases per sample.`).optional().default([]),
-    candidates: z.array(PhaseRowSchema).max(MAX_CANDIDATES, `At most ${MAX_CANDIDATES} candidate forms per sample.`).optional().default([]),
-    window: WindowSchema.optional(),
+    /** A lot of a material: its lot code (the samples step shows it for samples made from a material). */
+    lotCode: z.string().trim().max(80, "A lot code has at most 80 characters.").optional(),
+    ...DeclarationFields.shape,
   })
-  .superRefine((s, ctx) => {
-    checkCellFields(s, ctx);
-    // A parameter the system fixes or ties to another (b = a of a tetragonal cell) has no window of its own (the form
-    // does not offer one); the check refuses it too (app/diffraction/window.ts).
-    const free = freeCellParameters(s.crystalSystem);
-    for (const key of CELL_KEYS) {
-      if (s.window?.[key]?.plusMinus === undefined || free.includes(key)) continue;
-      ctx.addIssue({
-        code: "custom",
-        path: ["window", key, "plusMinus"],
-        message: `A ${s.crystalSystem} cell's symmetry fixes ${CELL_PARAMETER_LABELS[key]}, so it takes no window; set one on ${free.map((k) => CELL_PARAMETER_LABELS[k]).join(", ")} instead.`,
-      });
-    }
-  });
+  .superRefine(checkDeclaration);
 
 export const SamplesStepSchema = z.object({
   title: text("a title for the request", 160),
@@ -204,8 +214,8 @@ const SpecialHazardsSchema = z
     }
   });
 
-export const SampleHazardSchema = z.object({
-  id: z.uuid({ error: "This sample is not part of the request." }),
+/** A hazard declaration with its safety data sheet, as a sample and a material share it. */
+export const HazardFields = z.object({
   ghs: z
     .array(z.enum(GHS_CODES, { error: "Choose pictograms from GHS01 to GHS09." }))
     .optional()
@@ -232,8 +242,14 @@ export const SampleHazardSchema = z.object({
     .regex(/^[0-9a-f]{64}$/i, "The file's checksum is missing; upload it again.")
     .optional(),
 });
+export const SampleHazardSchema = z.object({
+  id: z.uuid({ error: "This sample is not part of the request." }),
+  ...HazardFields.shape,
+});
 export const HazardsStepSchema = z.object({ samples: z.array(SampleHazardSchema).min(1, "Add a sample first.") });
 export type SampleHazardInput = z.infer<typeof SampleHazardSchema>;
+/** A hazard declaration's form before parsing, as a sample and a material share it. */
+export type HazardForm = z.input<typeof HazardFields>;
 /** What the hazards form holds before parsing (H-statements are still one text). */
 export type SampleHazardForm = z.input<typeof SampleHazardSchema>;
 
@@ -243,11 +259,22 @@ function todayIso() {
   return new Date().toISOString().slice(0, 10);
 }
 
+/** The ends of a measurement's range, as the measurement step and a material's usual measurement take them. */
+export const RangeFields = z.object({
+  rangeMin: z.number({ error: "Enter the lower end as a number." }).positive("The lower end must be positive."),
+  rangeMax: z.number({ error: "Enter the upper end as a number." }).positive("The upper end must be positive."),
+});
+
+/** The upper end above the lower, and 2θ below 180°. */
+export function checkRange(m: { rangeKind: string; rangeMin: number; rangeMax: number }, ctx: z.RefinementCtx) {
+  if (m.rangeMin >= m.rangeMax) ctx.addIssue({ code: "custom", path: ["rangeMax"], message: "The upper end must be above the lower end." });
+  if (m.rangeKind === "two_theta" && m.rangeMax >= 180) ctx.addIssue({ code: "custom", path: ["rangeMax"], message: "2θ lies below 180°." });
+}
+
 export const MeasurementStepSchema = z
   .object({
     rangeKind: z.enum(["two_theta", "d_spacing"], { error: "Choose 2θ or d-spacing." }),
-    rangeMin: z.number({ error: "Enter the lower end as a number." }).positive("The lower end must be positive."),
-    rangeMax: z.number({ error: "Enter the upper end as a number." }).positive("The upper end must be positive."),
+    ...RangeFields.shape,
     preferredSource: z.enum(SOURCES, { error: "Choose a source or any." }),
     temperaturePoints: z
       .string()
@@ -276,10 +303,7 @@ export const MeasurementStepSchema = z
       }),
     currency: z.enum(CURRENCIES, { error: "Choose a currency." }),
   })
-  .superRefine((m, ctx) => {
-    if (m.rangeMin >= m.rangeMax) ctx.addIssue({ code: "custom", path: ["rangeMax"], message: "The upper end must be above the lower end." });
-    if (m.rangeKind === "two_theta" && m.rangeMax >= 180) ctx.addIssue({ code: "custom", path: ["rangeMax"], message: "2θ lies below 180°." });
-  });
+  .superRefine(checkRange);
 export type MeasurementStep = z.infer<typeof MeasurementStepSchema>;
 
 // ───────────── Step 4: labs ─────────────
@@ -293,3 +317,6 @@ export const LabsStepSchema = z
     path: ["invitedLabIds"],
     message: "Choose at least one lab to invite, or open the request to every matching lab.",
   });
+
+/** The list-of-options enum values and the required-text field, for the other forms built from these pieces. */
+export { text as requiredText, values as optionValues };

@@ -8,6 +8,7 @@ export const CLIENT_SECTIONS: Section[] = [
   { slug: "requests", label: "Requests" },
   { slug: "orders", label: "Orders" },
   { slug: "agreements", label: "Agreements" },
+  { slug: "materials", label: "Materials" },
   { slug: "data-room", label: "Data room" },
   { slug: "payments", label: "Payments" },
 ];

@@ -116,6 +116,11 @@ const EXPECTED: Record<string, Expect> = {
   "routes/client/order-agreement": { loader: orderClient, action: orderClientAction },
   "routes/client/agreements": { loader: clientWorkspace },
   "routes/client/agreement": { loader: orderClient, action: orderClientAction },
+  // Materials: the organisation's own (another client's is a 404); an empty form is refused.
+  "routes/client/materials": { loader: clientWorkspace },
+  "client-material-new": { loader: clientWorkspace, action: signedIn("forbidden", { ownerA: "bad", memberA: "bad", clientB: "bad" }) },
+  "client-material": { loader: orderClient, action: orderClientAction },
+  "routes/client/material-sds-upload": { action: signedIn("forbidden", { ownerA: "bad", memberA: "bad", clientB: "bad" }) },
 
   "lab-layout": { loader: labWorkspace },
   "routes/lab/home": { loader: labWorkspace },
@@ -177,6 +182,7 @@ const EXPECTED: Record<string, Expect> = {
   "routes/api/labs": { loader: "public" },
   "routes/api/orders": { loader: signedIn("ok", { admin: "forbidden" }) },
   "routes/api/agreements": { loader: signedIn("ok", { admin: "forbidden" }) },
+  "routes/api/materials": { loader: clientWorkspace },
   "routes/api/order-files": { loader: orderParties },
   // The paid order's invoice: its parties and admins (who read and export invoices) only.
   "routes/api/order-invoice": { loader: signedIn("notFound", { ownerA: "ok", memberA: "ok", labManager: "ok", labOperator: "ok", admin: "ok" }) },
@@ -389,6 +395,7 @@ beforeAll(async () => {
   // Routes whose :id is not an order.
   Object.assign(requestIds, {
     agreement: proposed.agreementId,
+    material: material.id,
     request: order.requestId,
     check: check.id,
     payment: payment.id,
@@ -419,6 +426,7 @@ function paramsFor(route: Walked) {
   const p = { ...params };
   if (/requests\/:id/.test(route.path)) p.id = requestIds.request;
   if (/checks\/:id/.test(route.path)) p.id = requestIds.check;
+  if (/materials\/:id/.test(route.path)) p.id = requestIds.material;
   if (/payments\/:id/.test(route.path)) p.id = requestIds.payment;
   if (/agreements\/:id/.test(route.path)) p.id = requestIds.agreement;
   if (/invitations\/:token/.test(route.path)) p.token = requestIds.invitation;

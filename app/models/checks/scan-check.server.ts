@@ -6,6 +6,7 @@ import type { Sample } from "~/db/schema";
 import { type CheckInput, checkScanForStorage, declaredOf, holderOf, instrumentProfileOf, radiationOf, type ScanRead } from "~/domain/lattice-check";
 import { formatBytes, SCAN_MAX_BYTES } from "~/domain/order-files";
 import { readStoredBytes } from "~/models/files/storage.server";
+import { recordLot } from "~/models/materials/materials.server";
 import { phasesOfSamples } from "~/models/requests/requests.server";
 import { config } from "~/config.server";
 import { getBoss, QUEUES } from "~/jobs/queues.server";
@@ -70,6 +71,8 @@ export async function runScanCheck(fileId: string, options: RunScanCheckOptions 
       .update(schema.scanChecks)
       .set({ status: "failed", verdict: null, result: null, error, finishedAt: new Date() })
       .where(eq(schema.scanChecks.id, checkId));
+    // A lot's earlier answer no longer stands on its material's record.
+    await recordLot(checkId);
     return { status: "failed", checkId, error };
   };
 
@@ -94,6 +97,8 @@ export async function runScanCheck(fileId: string, options: RunScanCheckOptions 
     .update(schema.scanChecks)
     .set({ status: "done", verdict: stored.verdict, error: null, result: stored as unknown as Record<string, unknown>, finishedAt: new Date() })
     .where(eq(schema.scanChecks.id, checkId));
+  // A lot of a material goes on the material's record (docs/design.md#materials-and-lots).
+  await recordLot(checkId);
   return { status: "done", checkId, verdict: stored.verdict };
 }
 

@@ -174,6 +174,8 @@ function sampleColumns(s: SamplesStep["samples"][number], position: number) {
     cellBeta: s.cellBeta,
     cellGamma: s.cellGamma,
     acceptanceWindow: acceptanceWindowOf(s.window),
+    // Only a lot of a material shows the field; other samples send none and keep none.
+    ...(s.lotCode !== undefined ? { lotCode: s.lotCode || null } : {}),
   };
 }
 
@@ -227,6 +229,10 @@ export async function saveSamples(request: MarketRequest, input: SamplesStep): P
   const known = new Set(existing.map((s) => s.id));
   const foreign = input.samples.findIndex((s) => s.id && !known.has(s.id));
   if (foreign >= 0) return { fieldErrors: { [`samples[${foreign}]`]: ["This sample is not part of the request; reload the page."] } };
+  // A lot of a material keeps a lot code: the material's record is kept by it.
+  const lots = new Set(existing.filter((s) => s.materialId).map((s) => s.id));
+  const blankLot = input.samples.findIndex((s) => s.id && lots.has(s.id) && !s.lotCode);
+  if (blankLot >= 0) return { fieldErrors: { [`samples[${blankLot}].lotCode`]: ["Enter the lot code of this lot."] } };
   await db.transaction(async (tx) => {
     await tx
       .update(schema.requests)
@@ -257,6 +263,29 @@ export function sdsPrefix(request: Pick<MarketRequest, "id" | "organisationId">)
   return `requests/${request.organisationId}/${request.id}/sds`;
 }
 
+/** A hazard declaration as its columns (a sample's and a material's alike), the safety data sheet apart. */
+export function hazardColumns(h: Omit<SampleHazardInput, "id">) {
+  const specialHazards: SpecialHazard[] = Object.entries(h.special)
+    .filter(([, e]) => e?.declared)
+    .map(([category, e]) => ({ category, details: e!.details ?? "", activityBq: category === "radioactive" ? (e!.activityBq ?? null) : null }));
+  return { ghsPictograms: h.ghs, hStatements: h.hStatements, specialHazards, handlingNotes: h.handlingNotes || null, afterMeasurement: h.afterMeasurement };
+}
+
+/**
+ * A newly uploaded safety data sheet, checked before it counts: under the page's own prefix, stored, a PDF, and
+ * the SHA-256 the browser computed. Answers the columns to keep, or one sentence. (Shared with materials.)
+ */
+export async function checkNewSds(
+  h: { sdsStorageKey: string; sdsFileName?: string; sdsSha256?: string },
+  prefix: string,
+): Promise<{ sdsStorageKey: string; sdsFileName: string; sdsSizeBytes: number } | { error: string }> {
+  // Segment by segment: a raw prefix match would take `<prefix>/../../<another organisation's sheet>`.
+  if (!isKeyUnder(h.sdsStorageKey, prefix)) return { error: "Upload the safety data sheet on this page." };
+  const check = await verifyStoredObject(h.sdsStorageKey, SDS_RULE, h.sdsSha256);
+  if (!check.ok) return { error: check.error };
+  return { sdsStorageKey: h.sdsStorageKey, sdsFileName: h.sdsFileName || "safety-data-sheet.pdf", sdsSizeBytes: check.size };
+}
+
 /**
  * Saves every sample's hazard declaration. A newly uploaded safety data sheet is checked in storage first
  * (exists, is a PDF or image, matches the browser's SHA-256); a failed check is a field error and nothing is saved.
@@ -271,28 +300,14 @@ export async function saveHazards(request: MarketRequest, input: SampleHazardInp
       errors[`samples[${i}].id`] = ["This sample is not part of the request; reload the page."];
       continue;
     }
-    const specialHazards: SpecialHazard[] = Object.entries(h.special)
-      .filter(([, e]) => e?.declared)
-      .map(([category, e]) => ({ category, details: e!.details ?? "", activityBq: category === "radioactive" ? (e!.activityBq ?? null) : null }));
-    const values: Partial<Sample> = {
-      ghsPictograms: h.ghs,
-      hStatements: h.hStatements,
-      specialHazards,
-      handlingNotes: h.handlingNotes || null,
-      afterMeasurement: h.afterMeasurement,
-    };
+    const values: Partial<Sample> = hazardColumns(h);
     if (h.sdsStorageKey && h.sdsStorageKey !== sample.sdsStorageKey) {
-      // Segment by segment: a raw prefix match would take `<prefix>/../../<another organisation's sheet>`.
-      if (!isKeyUnder(h.sdsStorageKey, sdsPrefix(request))) {
-        errors[`samples[${i}].sds`] = ["Upload the safety data sheet on this page."];
+      const sds = await checkNewSds({ ...h, sdsStorageKey: h.sdsStorageKey }, sdsPrefix(request));
+      if ("error" in sds) {
+        errors[`samples[${i}].sds`] = [sds.error];
         continue;
       }
-      const check = await verifyStoredObject(h.sdsStorageKey, SDS_RULE, h.sdsSha256);
-      if (!check.ok) {
-        errors[`samples[${i}].sds`] = [check.error];
-        continue;
-      }
-      Object.assign(values, { sdsStorageKey: h.sdsStorageKey, sdsFileName: h.sdsFileName || "safety-data-sheet.pdf", sdsSizeBytes: check.size });
+      Object.assign(values, sds);
     }
     updates.push({ id: sample.id, values });
   }

@@ -3,22 +3,12 @@
 import { getFormProps, getInputProps, getSelectProps, useForm, type FieldMetadata } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, redirect, useNavigation } from "react-router";
+import { CellFields, EMPTY_PHASE, PhaseList, SystemFields, WindowFields, type PhaseDefaults, type WindowDefaults } from "~/components/declaration-fields";
 import { Options, WizardSteps } from "~/components/request-parts";
 import { Field, FieldErrors, FormError, PageHeader } from "~/components/ui";
-import { CENTERINGS, CRYSTAL_SYSTEMS, type CrystalSystem } from "~/diffraction/cell";
-import type { CellKey } from "~/diffraction/phases";
-import { freeCellParameters } from "~/diffraction/window";
 import type { SamplePhase } from "~/db/schema";
-import {
-  CELL_PARAMETER_LABELS,
-  MAX_CANDIDATES,
-  MAX_EXPECTED_PHASES,
-  SAMPLE_FORMS,
-  SamplesStepSchema,
-  TECHNIQUES,
-  type PhaseRow,
-  type SamplesStep,
-} from "~/domain/request-forms";
+import { MAX_CANDIDATES, MAX_EXPECTED_PHASES, SAMPLE_FORMS, SamplesStepSchema, TECHNIQUES, type SamplesStep } from "~/domain/request-forms";
+import { materialNamesOfSamples } from "~/models/materials/materials.server";
 import { createDraft, notEditable, samplesOf, saveSamples } from "~/models/requests/requests.server";
 import { saveStep } from "~/models/requests/request-life.server";
 import { redirectIfPublished, stepSaved } from "~/routes/client/request-wizard.server";
@@ -27,14 +17,11 @@ import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/request-samples";
 
 type SampleStep = SamplesStep["samples"][number];
-type PhaseDefaults = Partial<Record<keyof PhaseRow, string>>;
-type WindowDefaults = Partial<Record<CellKey, { plusMinus?: string; unit?: string }>>;
 type SampleDefaults = Partial<Record<Exclude<keyof SampleStep, "phases" | "candidates" | "window">, string>> & {
   phases?: PhaseDefaults[];
   candidates?: PhaseDefaults[];
   window?: WindowDefaults;
 };
-const EMPTY_PHASE: PhaseDefaults = { cellAlpha: "90", cellBeta: "90", cellGamma: "90" };
 const EMPTY_SAMPLE: SampleDefaults = { form: "powder", ...EMPTY_PHASE };
 const str = (v: number | string | null | undefined) => (v === null || v === undefined ? undefined : String(v));
 
@@ -56,6 +43,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     return {
       requestId: null,
       reached: "samples",
+      lots: {} as Record<string, string>,
       published: false,
       defaults: { title: "", technique: "powder_reflection", samples: [EMPTY_SAMPLE] as SampleDefaults[] },
     };
@@ -67,12 +55,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     requestId: row.id,
     reached: row.draftStep,
     published: row.state === "open",
+    // Samples that are lots of a material: the material's name, by sample id.
+    lots: (await materialNamesOfSamples(samples)) as Record<string, string>,
     defaults: {
       title: row.title,
       technique: row.technique,
       samples: samples.map((s) => ({
         id: s.id,
         label: s.label,
+        lotCode: s.materialId ? (s.lotCode ?? "") : undefined,
         formula: s.formula,
         form: s.form,
         massMg: str(s.massMg),
@@ -114,7 +105,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function RequestSamples({ loaderData, actionData }: Route.ComponentProps) {
-  const { requestId, reached, published, defaults } = loaderData;
+  const { requestId, reached, published, lots, defaults } = loaderData;
   const navigation = useNavigation();
   const [form, fields] = useForm<SamplesStep>({
     lastResult: actionData?.result,
@@ -140,7 +131,14 @@ export default function RequestSamples({ loaderData, actionData }: Route.Compone
           </Field>
         </div>
         {samples.map((sample, index) => (
-          <SampleFieldset key={sample.key} sample={sample} index={index} removable={samples.length > 1} form={form} />
+          <SampleFieldset
+            key={sample.key}
+            sample={sample}
+            index={index}
+            removable={samples.length > 1}
+            form={form}
+            lotOf={lots[String(sample.getFieldset().id.initialValue ?? "")]}
+          />
         ))}
         <FieldErrors id={`${fields.samples.id}-error`} errors={fields.samples.errors} />
         <button type="submit" className="btn-secondary" {...form.insert.getButtonProps({ name: fields.samples.name, defaultValue: EMPTY_SAMPLE })}>
@@ -158,9 +156,21 @@ export default function RequestSamples({ loaderData, actionData }: Route.Compone
 }
 
 type SampleForm = ReturnType<typeof useForm<SamplesStep>>[0];
-type CellFieldset = Pick<ReturnType<FieldMetadata<PhaseRow>["getFieldset"]>, "cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma">;
 
-function SampleFieldset({ sample, index, removable, form }: { sample: FieldMetadata<SampleStep>; index: number; removable: boolean; form: SampleForm }) {
+function SampleFieldset({
+  sample,
+  index,
+  removable,
+  form,
+  lotOf,
+}: {
+  sample: FieldMetadata<SampleStep>;
+  index: number;
+  removable: boolean;
+  form: SampleForm;
+  /** The material's name when the sample is a lot of one. */
+  lotOf?: string;
+}) {
   const f = sample.getFieldset();
   return (
     <fieldset className="card space-y-2">
@@ -175,6 +185,16 @@ function SampleFieldset({ sample, index, removable, form }: { sample: FieldMetad
       </div>
       <input type="hidden" name={f.id.name} value={f.id.initialValue ?? ""} />
       <FieldErrors id={`${sample.id}-error`} errors={sample.errors} />
+      {lotOf ? (
+        <div className="grid items-end gap-3 rounded-md bg-beam-50 p-3 sm:grid-cols-[2fr_1fr]">
+          <p className="text-sm">
+            Lot of <span className="font-medium">{lotOf}</span>: its phases, window and hazards come from the material; change them here for this lot only.
+          </p>
+          <Field label="Lot code" id={f.lotCode.id} errors={f.lotCode.errors}>
+            <input className="input font-mono" {...getInputProps(f.lotCode, { type: "text" })} />
+          </Field>
+        </div>
+      ) : null}
       <div className="grid gap-3 sm:grid-cols-3">
         <Field label="Label" id={f.label.id} errors={f.label.errors} hint="Your own name for it, e.g. LFP-batch-12.">
           <input className="input" {...getInputProps(f.label, { type: "text" })} />
@@ -220,153 +240,6 @@ function SampleFieldset({ sample, index, removable, form }: { sample: FieldMetad
         max={MAX_CANDIDATES}
       />
       <WindowFields window={f.window} system={f.crystalSystem.value} />
-    </fieldset>
-  );
-}
-
-/** The crystal system and lattice centering selects of a phase. */
-function SystemFields({ system, centering }: { system: FieldMetadata<string>; centering: FieldMetadata<string> }) {
-  return (
-    <div className="grid grid-cols-2 gap-3">
-      <Field label="Crystal system" id={system.id} errors={system.errors}>
-        <select className="input" {...getSelectProps(system)}>
-          <option value="">Choose…</option>
-          <Options list={CRYSTAL_SYSTEMS} />
-        </select>
-      </Field>
-      <Field label="Centering" id={centering.id} errors={centering.errors}>
-        <select className="input" {...getSelectProps(centering)}>
-          <option value="">Choose…</option>
-          <Options list={CENTERINGS} />
-        </select>
-      </Field>
-    </div>
-  );
-}
-
-/** The six cell fields of a phase; the crystal system's rules are checked with the rest of the form. */
-function CellFields({ cell, legend }: { cell: CellFieldset; legend: string }) {
-  const cellFields = [
-    ["a (Å)", cell.cellA],
-    ["b (Å)", cell.cellB],
-    ["c (Å)", cell.cellC],
-    ["α (°)", cell.cellAlpha],
-    ["β (°)", cell.cellBeta],
-    ["γ (°)", cell.cellGamma],
-  ] as const;
-  return (
-    <fieldset>
-      <legend className="label">{legend}</legend>
-      <div className="grid grid-cols-3 gap-3 sm:grid-cols-6">
-        {cellFields.map(([label, field]) => (
-          <div key={field.name}>
-            <label htmlFor={field.id} className="text-xs text-ink-600">
-              {label}
-            </label>
-            <input className="input" inputMode="decimal" {...getInputProps(field, { type: "text" })} />
-          </div>
-        ))}
-      </div>
-      <FieldErrors id={`${cell.cellA.id}-cell-error`} errors={cellFields.flatMap(([, c]) => c.errors ?? [])} />
-    </fieldset>
-  );
-}
-
-/** A sample's further expected phases or its candidate forms: rows of name, system, centering and cell. */
-function PhaseList({
-  list,
-  form,
-  title,
-  explanation,
-  rowLabel,
-  addLabel,
-  max,
-}: {
-  list: FieldMetadata<PhaseRow[]>;
-  form: SampleForm;
-  title: string;
-  explanation: string;
-  rowLabel: string;
-  addLabel: string;
-  max: number;
-}) {
-  const rows = list.getFieldList();
-  return (
-    <fieldset className="space-y-2 border-t border-ink-100 pt-3">
-      <legend className="text-sm font-semibold text-ink-700">{title}</legend>
-      <p className="text-xs text-ink-500">
-        {explanation} Optional; up to {max}.
-      </p>
-      {rows.map((row, i) => {
-        const p = row.getFieldset();
-        return (
-          <fieldset key={row.key} className="space-y-2 rounded-md border border-ink-200 p-3" aria-label={`${rowLabel} ${i + 1}`}>
-            <div className="flex items-center justify-between">
-              <span className="text-sm font-medium">
-                {rowLabel} {i + 1}
-              </span>
-              <button type="submit" className="btn-quiet" {...form.remove.getButtonProps({ name: list.name, index: i })}>
-                Remove {rowLabel.toLowerCase()} {i + 1}
-              </button>
-            </div>
-            <FieldErrors id={`${row.id}-error`} errors={row.errors} />
-            <div className="grid gap-3 sm:grid-cols-3">
-              <Field label="Name (optional)" id={p.name.id} errors={p.name.errors} hint="e.g. Li3PO4, Form II">
-                <input className="input" {...getInputProps(p.name, { type: "text" })} />
-              </Field>
-              <SystemFields system={p.crystalSystem} centering={p.centering} />
-            </div>
-            <CellFields cell={p} legend="Approximate cell" />
-          </fieldset>
-        );
-      })}
-      <FieldErrors id={`${list.id}-error`} errors={list.errors} />
-      {rows.length < max ? (
-        <button type="submit" className="btn-secondary" {...form.insert.getButtonProps({ name: list.name, defaultValue: EMPTY_PHASE })}>
-          {addLabel}
-        </button>
-      ) : null}
-    </fieldset>
-  );
-}
-
-/** The optional acceptance window: ± an amount or a percentage on each cell parameter the crystal system leaves free. */
-function WindowFields({ window, system }: { window: FieldMetadata<SampleStep["window"]>; system: string | undefined }) {
-  const w = window.getFieldset();
-  const free = CRYSTAL_SYSTEMS.includes(system as CrystalSystem) ? freeCellParameters(system as CrystalSystem) : [];
-  return (
-    <fieldset className="space-y-2 border-t border-ink-100 pt-3">
-      <legend className="text-sm font-semibold text-ink-700">Acceptance window</legend>
-      <p className="text-xs text-ink-500">
-        Optional. How far the main phase's refined cell may lie from the declared one: give ± an amount or a percentage for any parameter you care about; the
-        parameters the crystal system fixes take none. A refined value exactly on a limit counts as inside.
-      </p>
-      {free.length === 0 ? (
-        <p className="text-xs text-ink-600">Choose the main phase's crystal system to set a window.</p>
-      ) : (
-        <div className="grid gap-3 sm:grid-cols-3">
-          {free.map((key) => {
-            const entry = w[key].getFieldset();
-            const angle = key === "alpha" || key === "beta" || key === "gamma";
-            return (
-              <div key={key}>
-                <label htmlFor={entry.plusMinus.id} className="text-xs text-ink-600">
-                  {CELL_PARAMETER_LABELS[key]} ±
-                </label>
-                <div className="flex gap-2">
-                  <input className="input" inputMode="decimal" placeholder="no limit" {...getInputProps(entry.plusMinus, { type: "text" })} />
-                  <select className="input w-20" aria-label={`Unit of the window on ${CELL_PARAMETER_LABELS[key]}`} {...getSelectProps(entry.unit)}>
-                    <option value="absolute">{angle ? "°" : "Å"}</option>
-                    <option value="percent">%</option>
-                  </select>
-                </div>
-                <FieldErrors id={`${entry.plusMinus.id}-error`} errors={[...(entry.plusMinus.errors ?? []), ...(entry.unit.errors ?? [])]} />
-              </div>
-            );
-          })}
-        </div>
-      )}
-      <FieldErrors id={`${window.id}-error`} errors={window.errors} />
     </fieldset>
   );
 }
