@@ -81,6 +81,7 @@ export async function startBankTransfer(orderId: string, actor: { userId: string
   if (!first) throw new PaymentProblem("No such order.", 404);
   if (first.currency.toUpperCase() !== "EUR") throw new PaymentProblem("Bank transfer is offered for quotes in euros; please pay this order by card.");
   const customerId = await customerFor(first.clientOrganisationId);
+  await settleWaitingCash(customerId);
   return db.transaction(async (tx) => {
     const order = await lockOrder(tx, orderId);
     if (order.state !== "awaiting_payment") throw new PaymentProblem("This order is already paid or closed.");
@@ -136,6 +137,27 @@ export async function startBankTransfer(orderId: string, actor: { userId: string
   });
 }
 
+/**
+ * Money on the organisation's cash balance when a new transfer starts belongs to earlier transfers whose events
+ * have not been handled yet (an excess, a late transfer): confirming the new payment would apply it there, so
+ * those transfers are brought up to date first and the money goes back to its sender as their own.
+ */
+async function settleWaitingCash(customerId: string) {
+  let waiting = false;
+  try {
+    const balance = await provider().customers.retrieveCashBalance(customerId);
+    waiting = Object.values(balance.available ?? {}).some((v) => v > 0);
+  } catch (err) {
+    providerTrouble(err);
+  }
+  if (!waiting) return;
+  const earlier = await db
+    .select({ id: schema.payments.id })
+    .from(schema.payments)
+    .where(and(eq(schema.payments.customerId, customerId), eq(schema.payments.method, "bank_transfer")));
+  for (const p of earlier) await syncTransfer(p.id);
+}
+
 /** Every cash-balance transaction of a customer (the provider lists them newest first, in pages). */
 async function cashTransactions(customerId: string) {
   const all: Stripe.CustomerCashBalanceTransaction[] = [];
@@ -167,10 +189,21 @@ export async function syncTransfer(paymentId: string) {
       : intent.status === "canceled"
         ? payment.receivedMinor
         : intent.amount - (instructions?.amountRemainingMinor ?? intent.amount);
-  await db
-    .update(schema.payments)
-    .set({ receivedMinor: received, bankInstructions: instructions as unknown as Record<string, unknown>, updatedAt: new Date() })
-    .where(eq(schema.payments.id, payment.id));
+  await db.transaction(async (tx) => {
+    // Webhooks arrive twice and out of order: what is written never goes back behind what another sync wrote
+    // (money only arrives, the amount remaining only falls) and the returns recorded meanwhile are kept.
+    const [now] = await tx.select().from(schema.payments).where(eq(schema.payments.id, payment.id)).for("update");
+    const current = instructionsOf(now);
+    const merged = instructions && {
+      ...instructions,
+      amountRemainingMinor: Math.min(instructions.amountRemainingMinor, current?.amountRemainingMinor ?? instructions.amountRemainingMinor),
+      returnedMinor: current?.returnedMinor,
+    };
+    await tx
+      .update(schema.payments)
+      .set({ receivedMinor: Math.max(received, now.receivedMinor), bankInstructions: merged as unknown as Record<string, unknown>, updatedAt: new Date() })
+      .where(eq(schema.payments.id, payment.id));
+  });
   if (intent.status === "succeeded" && payment.status !== "paid" && (await orderPaidOtherwise(payment))) {
     // The order was paid another way (by card) before the transfer completed: the transfer's money is not needed.
     try {
@@ -226,7 +259,9 @@ async function returnUnneeded(payment: Payment, kept: number, instructions: Tran
   } catch (err) {
     providerTrouble(err);
   }
-  const returned = instructions.returnedMinor ?? 0;
+  // What was sent back already, as recorded now (another sync may have recorded a return since `instructions` was read).
+  const [fresh] = await db.select().from(schema.payments).where(eq(schema.payments.id, payment.id));
+  const returned = instructionsOf(fresh)?.returnedMinor ?? 0;
   const owed = Math.min(arrived - kept - returned, available);
   if (owed <= 0) return;
   try {
@@ -239,7 +274,7 @@ async function returnUnneeded(payment: Payment, kept: number, instructions: Tran
   }
   await db.transaction(async (tx) => {
     const order = await lockOrder(tx, payment.orderId);
-    const [now] = await tx.select().from(schema.payments).where(eq(schema.payments.id, payment.id));
+    const [now] = await tx.select().from(schema.payments).where(eq(schema.payments.id, payment.id)).for("update");
     const current = instructionsOf(now) ?? instructions;
     // Another sync may have recorded the same return (the provider answered both from one idempotency key).
     if ((current.returnedMinor ?? 0) >= returned + owed) return;
