@@ -3,7 +3,7 @@ import { and, count, desc, eq } from "drizzle-orm";
 import type Stripe from "stripe";
 import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
-import { holdFunds } from "~/models/orders/lifecycle.server";
+import { holdFunds, lockOrder } from "~/models/orders/lifecycle.server";
 import { PaymentProblem, paymentProvider as provider, providerTrouble, refundHeld } from "./provider.server";
 
 const lower = (c: string) => c.toLowerCase();
@@ -36,48 +36,71 @@ export async function startCheckout(orderId: string, actor: { userId: string; em
     }
     await db.update(schema.payments).set({ status: "expired", updatedAt: new Date() }).where(eq(schema.payments.id, open.id));
   }
-  const [{ n }] = await db.select({ n: count() }).from(schema.payments).where(eq(schema.payments.orderId, orderId));
   const [request] = await db.select({ title: schema.requests.title }).from(schema.requests).where(eq(schema.requests.id, order.requestId));
-  let session: Stripe.Checkout.Session;
-  try {
-    session = await provider().checkout.sessions.create(
-      {
-        mode: "payment",
-        customer_email: actor.email,
-        client_reference_id: order.id,
-        line_items: [
-          {
-            quantity: 1,
-            price_data: {
-              currency: lower(order.currency),
-              unit_amount: order.amountMinor,
-              product_data: { name: `Order ${order.number}: ${request?.title ?? "diffraction measurements"}` },
+  // The order row is locked from here to the new payment row, so a concurrent click finds this checkout open
+  // instead of counting the same attempts differently and opening a second one.
+  return db.transaction(async (tx) => {
+    const locked = await lockOrder(tx, orderId);
+    if (locked.state !== "awaiting_payment") throw new PaymentProblem("This order is already paid or closed.");
+    const [raced] = await tx
+      .select()
+      .from(schema.payments)
+      .where(and(eq(schema.payments.orderId, orderId), eq(schema.payments.status, "open"), eq(schema.payments.method, "card")))
+      .orderBy(desc(schema.payments.createdAt))
+      .limit(1);
+    if (raced?.checkoutSessionId && raced.id !== open?.id) {
+      try {
+        const session = await provider().checkout.sessions.retrieve(raced.checkoutSessionId);
+        if (session.status === "open" && session.url) return session.url;
+        // Paid already: its own return page (or webhook) holds the money once this lock is released.
+        if (session.status === "complete") throw new PaymentProblem("This order has just been paid.");
+      } catch (err) {
+        if (err instanceof PaymentProblem) throw err;
+        providerTrouble(err);
+      }
+    }
+    const [{ n }] = await tx.select({ n: count() }).from(schema.payments).where(eq(schema.payments.orderId, orderId));
+    let session: Stripe.Checkout.Session;
+    try {
+      session = await provider().checkout.sessions.create(
+        {
+          mode: "payment",
+          customer_email: actor.email,
+          client_reference_id: order.id,
+          line_items: [
+            {
+              quantity: 1,
+              price_data: {
+                currency: lower(order.currency),
+                unit_amount: order.amountMinor,
+                product_data: { name: `Order ${order.number}: ${request?.title ?? "diffraction measurements"}` },
+              },
             },
-          },
-        ],
-        success_url: `${config.appUrl}/client/orders/${order.id}/payment?session_id={CHECKOUT_SESSION_ID}`,
-        cancel_url: `${config.appUrl}/client/orders/${order.id}?payment=cancelled`,
-        metadata: { orderId: order.id },
-        payment_intent_data: { metadata: { orderId: order.id }, transfer_group: `order_${order.id}` },
-      },
-      { idempotencyKey: `checkout:${order.id}:${n}` },
-    );
-  } catch (err) {
-    providerTrouble(err);
-  }
-  await db
-    .insert(schema.payments)
-    .values({
-      orderId: order.id,
-      checkoutSessionId: session.id,
-      paymentIntentId: typeof session.payment_intent === "string" ? session.payment_intent : (session.payment_intent?.id ?? null),
-      amountMinor: order.amountMinor,
-      currency: order.currency,
-      createdBy: actor.userId,
-    })
-    .onConflictDoNothing();
-  if (!session.url) throw new PaymentProblem("The payment provider gave no checkout page.", 502);
-  return session.url;
+          ],
+          success_url: `${config.appUrl}/client/orders/${order.id}/payment?session_id={CHECKOUT_SESSION_ID}`,
+          cancel_url: `${config.appUrl}/client/orders/${order.id}?payment=cancelled`,
+          metadata: { orderId: order.id },
+          payment_intent_data: { metadata: { orderId: order.id }, transfer_group: `order_${order.id}` },
+        },
+        { idempotencyKey: `checkout:${order.id}:${n}` },
+      );
+    } catch (err) {
+      providerTrouble(err);
+    }
+    await tx
+      .insert(schema.payments)
+      .values({
+        orderId: order.id,
+        checkoutSessionId: session.id,
+        paymentIntentId: typeof session.payment_intent === "string" ? session.payment_intent : (session.payment_intent?.id ?? null),
+        amountMinor: order.amountMinor,
+        currency: order.currency,
+        createdBy: actor.userId,
+      })
+      .onConflictDoNothing();
+    if (!session.url) throw new PaymentProblem("The payment provider gave no checkout page.", 502);
+    return session.url;
+  });
 }
 
 /**
