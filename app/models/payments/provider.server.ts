@@ -1,6 +1,6 @@
 // The payment provider's SDK calls that move money: payout accounts, transfers to labs, refunds, and their ledger postings.
 // Order moves that cause them live in app/models/orders/lifecycle.server.ts; checkout and webhooks beside this file.
-import { and, eq } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import type Stripe from "stripe";
 import { config } from "~/config.server";
 import { db, schema } from "~/db/client.server";
@@ -168,6 +168,11 @@ export async function refund(order: Order, amountMinor: number, memo: string, id
 
 /** Refunds everything still held for an order. */
 export async function refundHeld(order: Order, memo: string, key: string) {
-  const held = await heldForOrder(db, order.id);
-  return refund(order, held, memo, key);
+  // Two refunds of everything held can start at once (a cancellation and a payment that lands just after it):
+  // a lock per order, held until the first refund is posted, makes the second read what is left, which is 0.
+  return db.transaction(async (tx) => {
+    await tx.execute(sql`select pg_advisory_xact_lock(hashtext(${`refund-held:${order.id}`}))`);
+    const held = await heldForOrder(tx, order.id);
+    return refund(order, held, memo, key);
+  });
 }
