@@ -2,7 +2,8 @@
 // order, a payment reads paid, partly refunded or refunded; no page in the client's area calls a refunded payment
 // "Paid", and none shows the payment provider's ids (pi_, ch_, cs_, re_, tr_: the provider's documented id
 // prefixes for payment intents, charges, checkout sessions, refunds and transfers). The pages are rendered on the
-// server from their loaders' data, as the app renders them.
+// server from their loaders' data, as the app renders them. Each payment says how it was paid (card or bank
+// transfer), and a bank transfer of which only part has arrived reads "Part received" with the amount.
 import { createElement } from "react";
 import { renderToString } from "react-dom/server";
 import { createRoutesStub } from "react-router";
@@ -17,7 +18,7 @@ const PROVIDER_ID = /\b(pi|ch|cs|re|tr|py)_[A-Za-z0-9]{6,}/;
 
 type RouteModule = { loader: (...a: never[]) => unknown; default: unknown };
 let routes: Record<"payments" | "receipt" | "order" | "orders", RouteModule>;
-const orders: Record<"paid" | "partly" | "refunded", { id: string; number: string; paymentId: string }> = {} as never;
+const orders: Record<"paid" | "partly" | "refunded" | "transfer" | "partTransfer", { id: string; number: string; paymentId: string }> = {} as never;
 
 /** The route's loader answer for the client, and its page rendered to HTML from that answer. */
 async function page(route: RouteModule, path: string, params: Record<string, string> = {}) {
@@ -63,6 +64,19 @@ beforeAll(async () => {
   const refunded = await made(31_000);
   await lifecycle.cancelOrder(refunded.order.id, "client", w.owner.id, "Samples no longer needed.");
   orders.refunded = refunded.entry;
+  // Paid by bank transfer in full (150.00), and a transfer of which 100.00 of 280.00 has arrived.
+  const transfers = await import("~/models/payments/bank-transfer.server");
+  const byTransfer = async (amount: number, arrives: number) => {
+    const id = await w.makeOrder(amount);
+    const payment = await transfers.startBankTransfer(id, { userId: w.owner.id });
+    const view = (await transfers.transferViewOf(id))!;
+    expect(w.fake.controls.receiveTransfer(view.reference, arrives)).not.toBeNull();
+    await w.fake.controls.settle(5000);
+    const [order] = await w.db.select().from(w.schema.orders).where(w.eq(w.schema.orders.id, id));
+    return { id, number: order.number, paymentId: payment.id };
+  };
+  orders.transfer = await byTransfer(15_000, 15_000);
+  orders.partTransfer = await byTransfer(28_000, 10_000);
 }, 120_000);
 
 afterAll(async () => {
@@ -101,6 +115,41 @@ describe("the payments list", () => {
     expect(refunded).not.toMatch(/\bPaid\b/);
     expect(visible(html)).not.toMatch(PROVIDER_ID);
     expect(visible(html)).not.toMatch(/minor units?/i);
+  });
+});
+
+describe("how each payment was made", () => {
+  it("the list gives card or bank transfer, and a transfer arrived in part as part received with its amount", async () => {
+    const { body, html } = await page(routes.payments, "/client/payments");
+    const rows = (body as { payments: { orderId: string; method: string; standing: string; receivedMinor: number }[] }).payments;
+    const row = (id: string) => rows.find((r) => r.orderId === id)!;
+    expect(row(orders.paid.id)).toMatchObject({ method: "card", standing: "paid" });
+    expect(row(orders.transfer.id)).toMatchObject({ method: "bank_transfer", standing: "paid" });
+    expect(row(orders.partTransfer.id)).toMatchObject({ method: "bank_transfer", standing: "part_received", receivedMinor: 10_000 });
+    expect(JSON.stringify(body)).not.toMatch(PROVIDER_ID);
+    const rowOf = (number: string) => visible(`<tr${html.split("<tr").find((r) => r.includes(number))}`);
+    expect(rowOf(orders.paid.number)).toContain("Card");
+    const transfer = rowOf(orders.transfer.number);
+    expect(transfer).toContain("Bank transfer");
+    expect(transfer).toMatch(/\bPaid\b/);
+    expect(transfer).toContain("€150.00");
+    const part = rowOf(orders.partTransfer.number);
+    expect(part).toContain("Bank transfer");
+    expect(part).toContain("Part received");
+    expect(part).toContain("€100.00 of €280.00");
+    expect(part).not.toContain("Not completed");
+    expect(part).not.toMatch(/\bPaid\b/);
+    expect(visible(html)).not.toMatch(PROVIDER_ID);
+  });
+
+  it("the receipt says how the payment was made", async () => {
+    const card = visible((await page(routes.receipt, `/client/payments/${orders.paid.paymentId}/receipt`, { id: orders.paid.paymentId })).html);
+    expect(card).toContain("Payment method Card");
+    const { html, body } = await page(routes.receipt, `/client/payments/${orders.transfer.paymentId}/receipt`, { id: orders.transfer.paymentId });
+    expect(visible(html)).toContain("Payment method Bank transfer");
+    expect(visible(html)).toContain("State Paid");
+    expect(visible(html)).not.toMatch(PROVIDER_ID);
+    expect(JSON.stringify(body)).not.toMatch(PROVIDER_ID);
   });
 });
 

@@ -183,6 +183,8 @@ export async function paymentsOfClient(organisationId: string) {
       id: schema.payments.id,
       orderId: schema.payments.orderId,
       status: schema.payments.status,
+      method: schema.payments.method,
+      receivedMinor: schema.payments.receivedMinor,
       amountMinor: schema.payments.amountMinor,
       currency: schema.payments.currency,
       at: schema.payments.updatedAt,
@@ -211,7 +213,7 @@ export async function paymentsOfClient(organisationId: string) {
   for (const r of refunds) if (r.orderId) refunded.set(r.orderId, (refunded.get(r.orderId) ?? 0) + r.amount);
   return payments.map((p) => {
     const refundedMinor = p.status === "paid" ? (refunded.get(p.orderId) ?? 0) : 0;
-    return { ...p, refundedMinor, standing: paymentStanding({ status: p.status, amountMinor: p.amountMinor, refundedMinor }) };
+    return { ...p, refundedMinor, standing: paymentStanding({ ...p, refundedMinor }) };
   });
 }
 

@@ -5,7 +5,7 @@ import { DiffractionRingsIcon } from "~/components/ui";
 import { documentsOfOrder } from "~/models/invoices/invoices.server";
 import { ratePercent } from "~/domain/vat";
 import { paidReceipt, refundedOnOrder } from "~/models/orders/queries.server";
-import { PAYMENT_STANDING_LABELS, paymentStanding } from "~/domain/payment-standing";
+import { PAYMENT_METHOD_LABELS, PAYMENT_STANDING_LABELS, paymentStanding } from "~/domain/payment-standing";
 import { notFound, requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payment-receipt";
 import { useFormat } from "~/components/locale";
@@ -37,6 +37,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       at: row.payment.updatedAt,
       refundedMinor,
       standing: paymentStanding({ status: row.payment.status, amountMinor: row.payment.amountMinor, refundedMinor }),
+      method: PAYMENT_METHOD_LABELS[row.payment.method] ?? row.payment.method,
       amountMinor: row.payment.amountMinor,
       currency: row.payment.currency,
       orderNumber: row.orderNumber,
@@ -80,6 +81,8 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
         </dd>
         <dt className="text-ink-600">Date</dt>
         <dd>{fmt.dateTime(receipt.at)}</dd>
+        <dt className="text-ink-600">Payment method</dt>
+        <dd>{receipt.method}</dd>
         {invoice ? (
           <>
             <dt className="text-ink-600">Invoice</dt>

@@ -1,10 +1,10 @@
 // /client/payments — what the organisation paid, what is held, what came back, with a receipt per payment. Each
 // payment's state comes from the ledger's refunds for its order (docs/design.md#payments-list): paid, partly refunded,
-// refunded or not completed.
+// refunded, part received (a bank transfer of which part has arrived) or not completed; and how it was paid.
 import { Link } from "react-router";
 import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { paymentsOfClient } from "~/models/orders/queries.server";
-import { PAYMENT_STANDING_LABELS, PAYMENT_STANDING_TONES } from "~/domain/payment-standing";
+import { PAYMENT_METHOD_LABELS, PAYMENT_STANDING_LABELS, PAYMENT_STANDING_TONES } from "~/domain/payment-standing";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payments";
 import { useFormat } from "~/components/locale";
@@ -32,7 +32,7 @@ export default function ClientPayments({ loaderData }: Route.ComponentProps) {
           When you pay for an accepted quote, the payment and its receipt appear here.
         </EmptyState>
       ) : (
-        <TableCard columns={["Date", "Order", "Lab", "Amount", "Refunded", "State", ""]} caption="Payments">
+        <TableCard columns={["Date", "Order", "Lab", "Method", "Amount", "Refunded", "State", ""]} caption="Payments">
           {payments.map((p) => (
             <tr key={p.id} data-standing={p.standing}>
               <td>{fmt.date(p.at)}</td>
@@ -42,10 +42,16 @@ export default function ClientPayments({ loaderData }: Route.ComponentProps) {
                 </Link>
               </td>
               <td>{p.lab}</td>
+              <td>{PAYMENT_METHOD_LABELS[p.method] ?? p.method}</td>
               <td>{p.status === "paid" ? fmt.money(p.amountMinor, p.currency) : "—"}</td>
               <td>{p.refundedMinor ? fmt.money(p.refundedMinor, p.currency) : "—"}</td>
               <td>
                 <Badge tone={PAYMENT_STANDING_TONES[p.standing]}>{PAYMENT_STANDING_LABELS[p.standing]}</Badge>
+                {p.standing === "part_received" ? (
+                  <span className="ml-2 text-sm">
+                    {fmt.money(p.receivedMinor, p.currency)} of {fmt.money(p.amountMinor, p.currency)}
+                  </span>
+                ) : null}
               </td>
               <td>
                 {p.status === "paid" ? (
