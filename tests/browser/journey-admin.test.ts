@@ -251,7 +251,7 @@ describe("admin journey", () => {
       .readFileSync((await download.path())!, "utf8")
       .trim()
       .split("\r\n");
-    expect(csv[0]).toBe("transaction_id,created_at,kind,order_id,account,amount_minor,currency,provider_object_id,memo,order_number");
+    expect(csv[0]).toBe("transaction_id,created_at,kind,order_id,account,amount_minor,currency,provider_object_id,memo,order_number,purchase_order_number");
     const rows = csv.slice(1).map((l) => l.split(","));
     expect(rows.length).toBeGreaterThan(0);
     expect(rows.every((r) => r[2] === "payout" && r[6] === "EUR")).toBe(true);

@@ -227,9 +227,17 @@ describe("two app servers behind a proxy", () => {
       90_000,
     );
     expect(check).toEqual({ status: "done", verdict: "consistent", attempts: 1 });
-    const jobs = await stack.sql<{ state: string; retry_count: number }>(
-      "select state, retry_count from pgboss.job where name = 'scan-check' and data->>'fileId' = $1",
-      [started.fileId],
+    // The job is marked completed once its handler returns, a moment after the check's row says done.
+    const jobs = await until(
+      "the scan-check job to finish",
+      async () => {
+        const rows = await stack.sql<{ state: string; retry_count: number }>(
+          "select state, retry_count from pgboss.job where name = 'scan-check' and data->>'fileId' = $1",
+          [started.fileId],
+        );
+        return rows.length > 0 && rows.every((r) => r.state !== "active" && r.state !== "created" && r.state !== "retry") ? rows : null;
+      },
+      30_000,
     );
     expect(jobs).toEqual([{ state: "completed", retry_count: 0 }]);
   });
