@@ -242,6 +242,12 @@ export function auditSentence(entry: AuditEntryIn, c: AuditContext): { sentence:
       case "instrument_updated":
       case "instrument_removed":
         return say(`${who} ${entry.action.slice(11)} the instrument ${quoted(str(d.name) ?? subject) ?? ""} of ${lab}`, "name");
+      case "instrument_calibrated":
+        return say(`${who} recorded a calibration scan of ${quoted(str(d.name) ?? subject) ?? "an instrument"} at ${lab}`, "fileName", "passed", "to");
+      case "instrument_calibration_interval_set":
+        return say(`${who} set the calibration schedule of ${quoted(str(d.name) ?? subject) ?? "an instrument"} at ${lab}`, "from", "to");
+      case "instrument_calibration_overdue":
+        return `The calibration of ${quoted(str(d.name) ?? subject) ?? "an instrument"} at ${lab} became overdue`;
       case "instrument_profile_saved":
         return `${who} saved the instrument profile of ${quoted(subject) ?? "an instrument"} at ${lab}`;
       case "stage_added":

@@ -2,6 +2,7 @@
 import { ANODE_LINES, K_EDGE_KEV, photonEnergyKeV, type Anode } from "~/diffraction/wavelengths";
 import { dSpacingCoverage, qMax } from "~/domain/coverage";
 import type { PriceTiers } from "~/domain/price-tiers";
+import { withdrawalReason } from "~/domain/calibration-record";
 
 export interface MatchStage {
   name: string;
@@ -21,6 +22,8 @@ export interface MatchInstrument {
   energyDiscrimination: boolean;
   sampleForms: string[];
   stages: MatchStage[];
+  /** The instrument's calibration state (docs/design.md#calibration-on-record); overdue or out of control does not count for matching. */
+  calibrationState?: string;
 }
 
 export interface MatchPriceList {
@@ -139,6 +142,8 @@ export function evaluateInstrument(req: MatchRequest, inst: MatchInstrument): In
   const warnings: string[] = [];
   const add = (ok: boolean, text: string) => reasons.push({ ok, text });
 
+  const withdrawn = withdrawalReason(inst.calibrationState);
+  if (withdrawn) add(false, withdrawn);
   add(
     inst.technique === req.technique,
     inst.technique === req.technique ? `Technique ${labelOf(inst.technique)}` : `Technique is ${labelOf(inst.technique)}, not ${labelOf(req.technique)}`,

@@ -36,6 +36,7 @@ export const MILESTONES = {
   lab_application_received: { label: "Lab application to vet", essential: false, for: ["admin"] },
   lab_approved: { label: "Lab approved", essential: false, for: ["lab"] },
   lab_rejected: { label: "Lab application declined", essential: false, for: ["lab"] },
+  calibration_lapsed: { label: "An instrument's calibration is overdue or out of control", essential: true, for: ["lab", "admin"] },
   organisation_invitation: { label: "Invitation to an organisation", essential: false, for: ["anyone"] },
   password_reset: { label: "Password reset link (only when you ask for one)", essential: true, for: ["anyone"] },
 } as const satisfies Record<string, { label: string; essential: boolean; for: readonly MilestoneReader[] }>;

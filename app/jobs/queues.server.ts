@@ -22,6 +22,8 @@ export const QUEUES = {
   bankTransfers: "bank-transfers",
   /** Every hour: standing agreements past their last day or their notice end (docs/design.md#standing-agreements). */
   agreementEnds: "agreement-ends",
+  /** Every hour: instruments past their calibration due date become overdue and leave matching (docs/design.md#calibration-on-record). */
+  calibrationOverdue: "calibration-overdue",
 } as const;
 
 const g = globalThis as unknown as { __diffractoryBoss?: Promise<PgBoss> };

@@ -10,6 +10,7 @@ import { expireOverdueRequests } from "~/models/requests/request-life.server";
 import { issueDueFeeInvoices } from "~/models/invoices/fee-invoices.server";
 import { sweepBankTransfers } from "~/models/payments/bank-transfer.server";
 import { endDueAgreements } from "~/models/agreements/agreements.server";
+import { markOverdueCalibrations } from "~/models/labs/calibration.server";
 import { QUEUES } from "./queues.server";
 
 /** Registers every queue's handler and the schedules; the worker process calls this once. */
@@ -42,6 +43,11 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = config.rev
   await boss.work(QUEUES.agreementEnds, async () => {
     const ended = await endDueAgreements();
     if (ended > 0) console.log(`standing agreements: ${ended} ended`);
+  });
+  await boss.schedule(QUEUES.calibrationOverdue, "35 * * * *");
+  await boss.work(QUEUES.calibrationOverdue, async () => {
+    const marked = await markOverdueCalibrations();
+    if (marked > 0) console.log(`calibration: ${marked} instruments overdue, withdrawn from matching`);
   });
   await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
     await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });

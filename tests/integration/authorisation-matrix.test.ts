@@ -151,6 +151,10 @@ const EXPECTED: Record<string, Expect> = {
   "routes/lab/agreements": { loader: labWorkspace },
   // Only owners and managers agree, decline or give notice (an empty form is refused); another lab's is a 404.
   "routes/lab/agreement": { loader: orderLab, action: { ...orderLabAction, labOperator: "forbidden" } },
+  // An instrument's calibration record: its lab's staff read it, its managers record scans (an empty form is
+  // refused); another lab's instrument does not exist for anyone else.
+  "routes/lab/calibration": { loader: orderLab, action: signedIn("forbidden", { labManager: "bad", otherLab: "notFound", unvettedLab: "notFound" }) },
+  "routes/lab/calibration-upload": { action: signedIn("forbidden", { labManager: "bad", otherLab: "notFound", unvettedLab: "notFound" }) },
 
   "admin-layout": { loader: adminPage },
   "routes/admin/home": { loader: adminPage },
@@ -393,6 +397,7 @@ beforeAll(async () => {
   });
   if (!proposed.ok) throw new Error(proposed.error);
   // Routes whose :id is not an order.
+  const [instrument] = await w.db.select().from(w.schema.instruments).where(w.eq(w.schema.instruments.labId, w.granite.id));
   Object.assign(requestIds, {
     agreement: proposed.agreementId,
     material: material.id,
@@ -402,6 +407,7 @@ beforeAll(async () => {
     invitation,
     passwordReset,
     feeInvoice,
+    instrument: instrument.id,
   });
   // The unvetted lab applies through the sign-up form, as anyone can, seconds before the matrix runs.
   const createAccount = (await import("~/routes/public/create-account")).action;
@@ -429,6 +435,7 @@ function paramsFor(route: Walked) {
   if (/materials\/:id/.test(route.path)) p.id = requestIds.material;
   if (/payments\/:id/.test(route.path)) p.id = requestIds.payment;
   if (/agreements\/:id/.test(route.path)) p.id = requestIds.agreement;
+  if (/instruments\/:id/.test(route.path)) p.id = requestIds.instrument;
   if (/invitations\/:token/.test(route.path)) p.token = requestIds.invitation;
   if (/reset-password\/:token/.test(route.path)) p.token = requestIds.passwordReset;
   if (/statements\/:file/.test(route.path)) p.file = "2026-11.csv";

@@ -6,6 +6,7 @@ import { db, schema } from "~/db/client.server";
 import { purgePublicCache } from "~/utils/public-cache.server";
 import { ANODE_LINES, ANODES } from "~/diffraction/wavelengths";
 import { PAGE_SIZE, type DirectoryFilters } from "~/domain/directory-query";
+import { accuracyText, onTimeText, RECORD_MONTHS, type InstrumentAccuracy, type OnTimeRecord } from "~/domain/calibration-record";
 
 /** Kα1 of the instrument's anode, or its custom wavelength (Å). */
 const wavelengthSql = sql.raw(`(case i.anode ${ANODES.map((a) => `when '${a}' then ${ANODE_LINES[a].kAlpha1}`).join(" ")} else i.custom_wavelength end)`);
@@ -24,6 +25,10 @@ export interface DirectoryLab {
   priceFrom: number | null;
   currency: string | null;
   turnaroundDays: number | null;
+  /** Each active instrument's measured accuracy over the last 12 months (docs/design.md#calibration-on-record). */
+  accuracy: (Omit<InstrumentAccuracy, "instrumentId"> & { text: string })[];
+  /** Orders delivered by their due date, of all delivered with one, in the last 12 months. */
+  onTime: OnTimeRecord & { text: string };
 }
 
 /** A row of the directory query. */
@@ -40,6 +45,9 @@ export type DirectoryRow = {
   price_from: number | null;
   currency: string | null;
   turnaround_days: number | null;
+  accuracy?: { instrument_name: string; standard: string | null; mean: number | null; scans: number }[] | null;
+  on_time?: number | string | null;
+  delivered?: number | string | null;
   total: string;
 };
 
@@ -87,7 +95,15 @@ export async function searchDirectory(f: DirectoryFilters): Promise<{ labs: Dire
       (select array_agg(distinct coalesce(i.anode::text, 'custom') order by coalesce(i.anode::text, 'custom')) from instruments i where i.lab_id = page.id and i.active) as sources,
       (select min(${minDSql}) from instruments i where i.lab_id = page.id and i.active) as min_d,
       (select min(s.min_temperature_k) from sample_stages s join instruments i on i.id = s.instrument_id where i.lab_id = page.id and i.active) as t_min,
-      (select max(s.max_temperature_k) from sample_stages s join instruments i on i.id = s.instrument_id where i.lab_id = page.id and i.active) as t_max
+      (select max(s.max_temperature_k) from sample_stages s join instruments i on i.id = s.instrument_id where i.lab_id = page.id and i.active) as t_max,
+      (select json_agg(json_build_object('instrument_name', a.name, 'standard', a.standard, 'mean', a.mean, 'scans', a.scans) order by a.created_at, a.standard)
+         from (select i.id, i.name, i.created_at, c.standard, avg(c.deviation_a) as mean, count(c.deviation_a) as scans
+               from instruments i join instrument_calibrations c on c.instrument_id = i.id and c.measured_at >= now() - make_interval(months => ${RECORD_MONTHS})
+               where i.lab_id = page.id and i.active group by i.id, i.name, i.created_at, c.standard) a) as accuracy,
+      (select count(*) filter (where o.delivered_at <= o.due_at) from orders o
+         where o.lab_id = page.id and o.delivered_at is not null and o.due_at is not null and o.delivered_at >= now() - make_interval(months => ${RECORD_MONTHS})) as on_time,
+      (select count(*) from orders o
+         where o.lab_id = page.id and o.delivered_at is not null and o.due_at is not null and o.delivered_at >= now() - make_interval(months => ${RECORD_MONTHS})) as delivered
     from page
     order by page.name
   `);
@@ -129,8 +145,20 @@ export function directoryLab(r: DirectoryRow): DirectoryLab {
     priceFrom: r.price_from === null ? null : Number(r.price_from),
     currency: r.currency,
     turnaroundDays: r.turnaround_days,
+    accuracy: (r.accuracy ?? []).map((a) => {
+      const figure = {
+        instrumentName: a.instrument_name,
+        standard: a.standard,
+        meanDeviationA: a.mean === null ? null : Number(a.mean),
+        scans: Number(a.scans),
+      };
+      return { ...figure, text: accuracyText(figure) };
+    }),
+    onTime: onTimeFigure({ onTime: Number(r.on_time ?? 0), delivered: Number(r.delivered ?? 0) }),
   };
 }
+
+const onTimeFigure = (r: OnTimeRecord) => ({ ...r, text: onTimeText(r) });
 
 /** Total matches when the requested page lies past the end. */
 async function countDirectory(where: SQL[]) {

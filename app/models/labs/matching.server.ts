@@ -23,6 +23,7 @@ async function withStages(instruments: InstrumentRow[]): Promise<(MatchInstrumen
     energyDiscrimination: i.energyDiscrimination,
     sampleForms: i.sampleForms,
     stages: stages.filter((s) => s.instrumentId === i.id),
+    calibrationState: i.calibrationState,
   }));
 }
 

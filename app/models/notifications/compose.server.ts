@@ -410,6 +410,30 @@ export function labDecisionLetter(approved: boolean, l: { labName: string; note:
   };
 }
 
+/** An instrument left matching: its calibration scan is overdue, or its last one failed (docs/design.md#calibration-on-record). */
+export function calibrationLapsedLetter(
+  side: "lab" | "admin",
+  c: { labId: string; labName: string; instrumentId: string; instrumentName: string; state: "overdue" | "out_of_control"; note: string },
+): Letter {
+  const what = c.state === "overdue" ? "calibration is overdue" : "calibration is out of control";
+  return {
+    subject: `${c.instrumentName} at ${c.labName}: ${what}`,
+    heading: c.state === "overdue" ? "A calibration scan is overdue" : "A calibration scan failed",
+    paragraphs: [
+      `The ${what} for ${c.instrumentName} at ${c.labName}. Until a calibration scan of the standard passes, the instrument does not count for matching requests.`,
+    ],
+    facts: [["Lab", c.labName], ["Instrument", c.instrumentName], ...(c.note ? ([["Why", c.note]] as [string, string][]) : [])],
+    nextStep:
+      side === "lab"
+        ? "Measure the certified standard on the instrument and upload the scan on its calibration page."
+        : "The lab has been told; the instrument comes back once a calibration scan passes.",
+    link:
+      side === "lab"
+        ? { path: `/lab/instruments/${c.instrumentId}/calibration`, label: "Open the calibration record" }
+        : { path: `/admin/labs/${c.labId}`, label: "Open the lab" },
+  };
+}
+
 export function invitationLetter(i: { token: string; organisationName: string; role: string; inviterName: string | null; expiresAt: Date }): Letter {
   const who = i.inviterName ? `${i.inviterName} invited you` : "You are invited";
   return {

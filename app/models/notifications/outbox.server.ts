@@ -8,6 +8,7 @@ import type { Tx } from "~/db/client.server";
 import {
   agreementLetter,
   type AgreementEvent,
+  calibrationLapsedLetter,
   invitationLetter,
   labApplicationLetter,
   passwordResetLetter,
@@ -49,6 +50,8 @@ export type Milestone =
   | { kind: "agreement_event"; agreementId: string; event: AgreementEvent; note: string; orderId?: string }
   | { kind: "lab_application_received"; labId: string }
   | { kind: "lab_decided"; labId: string; to: VettingState; note: string }
+  /** An instrument's calibration became overdue or out of control (docs/design.md#calibration-on-record): the admins and the lab hear of it. */
+  | { kind: "calibration_lapsed"; instrumentId: string; state: "overdue" | "out_of_control"; note: string }
   /** The token travels only in the e-mail's link; the table keeps its hash. */
   | { kind: "organisation_invitation"; invitationId: string; token: string }
   /** Likewise: the reset link's token is only in the e-mail. */
@@ -362,6 +365,26 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       const letter = labDecisionLetter(m.to === "approved", { labName: (await orgName(tx, m.labId)).name, note: m.note });
       const kind = m.to === "approved" ? ("lab_approved" as const) : ("lab_rejected" as const);
       return (await recipientsOf(tx, m.labId)).map((person) => ({ kind, person, letter, orderId: null, organisationId: m.labId }));
+    }
+    case "calibration_lapsed": {
+      const [instrument] = await tx.select().from(schema.instruments).where(eq(schema.instruments.id, m.instrumentId));
+      if (!instrument) return [];
+      const labName = (await orgName(tx, instrument.labId)).name;
+      const out: Outgoing[] = [];
+      for (const side of ["lab", "admin"] as const) {
+        const letter = calibrationLapsedLetter(side, {
+          labId: instrument.labId,
+          labName,
+          instrumentId: instrument.id,
+          instrumentName: instrument.name,
+          state: m.state,
+          note: m.note,
+        });
+        const people = side === "admin" ? await admins(tx) : await recipientsOf(tx, instrument.labId);
+        for (const person of people)
+          out.push({ kind: "calibration_lapsed", person, letter, orderId: null, organisationId: side === "admin" ? null : instrument.labId });
+      }
+      return out;
     }
     case "organisation_invitation": {
       const [inv] = await tx.select().from(schema.organisationInvitations).where(eq(schema.organisationInvitations.id, m.invitationId));

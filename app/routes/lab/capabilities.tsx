@@ -3,6 +3,7 @@ import { getCollectionProps, getFormProps, getInputProps, useForm, type Submissi
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useActionData, useNavigation, useSearchParams } from "react-router";
 import type { z } from "zod";
+import { CalibrationStateBadge } from "~/components/calibration-chart";
 import { GhsIcon } from "~/components/ghs-icon";
 import { SelectField } from "~/components/select-field";
 import { Badge, EmptyState, Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
@@ -40,6 +41,7 @@ import {
   saveStage,
 } from "~/models/labs/capabilities.server";
 import { dSpacingCoverage } from "~/domain/coverage";
+import { CALIBRATION_STATE_LABELS, withdrawalReason } from "~/domain/calibration-record";
 import { GHS_PICTOGRAMS, SPECIAL_CATEGORIES } from "~/domain/hazard-codes";
 import { getOrCreateLab } from "~/models/labs/vetting.server";
 import { orNotFound, requireOrgRole } from "~/utils/permissions.server";
@@ -148,6 +150,14 @@ function profileText(i: Pick<Instrument, "cagliotiU" | "cagliotiV" | "cagliotiW"
   return `U ${i.cagliotiU}, V ${i.cagliotiV}, W ${i.cagliotiW} degrees²${i.profileSource ? ` · ${i.profileSource}` : ""}`;
 }
 
+function calibrationText(i: Pick<Instrument, "calibrationState" | "calibrationDueAt" | "calibrationIntervalDays">) {
+  const withdrawn = withdrawalReason(i.calibrationState);
+  const due = i.calibrationDueAt
+    ? `next scan due ${new Date(i.calibrationDueAt).toISOString().slice(0, 10)}, every ${i.calibrationIntervalDays} days`
+    : `every ${i.calibrationIntervalDays} days`;
+  return withdrawn ? `${withdrawn} (${due})` : `${CALIBRATION_STATE_LABELS[i.calibrationState]} (${due})`;
+}
+
 function sourceText(i: Pick<Instrument, "anode" | "customWavelength" | "monochromation">) {
   if (i.anode) return `${i.anode} anode, Kα1 ${ANODE_LINES[i.anode].kAlpha1} Å · ${MONOCHROMATION_LABELS[i.monochromation]}`;
   return `Custom wavelength ${i.customWavelength} Å`;
@@ -169,13 +179,20 @@ function InstrumentCard({ instrument: i, canEdit, editStage }: { instrument: Ins
     ["Sample forms", i.sampleForms.map((f) => SAMPLE_FORM_LABELS[f as keyof typeof SAMPLE_FORM_LABELS] ?? f).join(", ") || "—"],
     ["Sample holder", SAMPLE_HOLDER_OPTIONS.find((h) => h.value === i.sampleHolder)?.label ?? "Not stated"],
     ["Instrument profile", profileText(i)],
+    ["Calibration", calibrationText(i)],
   ];
   const stageBeingEdited = i.stages.find((s) => s.id === editStage);
   const newStageResult = useFormResult(`stage-new-${i.id}`);
   return (
     <article className="card space-y-4" aria-label={`Instrument ${i.name}`}>
       <div className="flex flex-wrap items-start justify-between gap-3">
-        <h3 className="text-base font-semibold">{i.name}</h3>
+        <div className="flex flex-wrap items-center gap-2">
+          <h3 className="text-base font-semibold">{i.name}</h3>
+          <CalibrationStateBadge state={i.calibrationState} />
+          <Link to={`/lab/instruments/${i.id}/calibration`} className="text-sm text-beam-700 underline">
+            Calibration record
+          </Link>
+        </div>
         {canEdit ? (
           <div className="flex gap-2">
             <Link to={`?instrument=${i.id}`} className="btn-secondary" aria-label={`Edit ${i.name}`}>

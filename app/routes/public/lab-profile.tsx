@@ -3,6 +3,8 @@ import { Link } from "react-router";
 import { Badge, PageHeader, SafetyNotice, TableCard } from "~/components/ui";
 import { dSpacingCoverage } from "~/domain/coverage";
 import { labBySlug } from "~/models/labs/directory.server";
+import { instrumentAccuracy, onTimeRecord } from "~/models/labs/calibration.server";
+import { accuracyText, countsForMatching, onTimeText } from "~/domain/calibration-record";
 import { loadMatchLabs } from "~/models/labs/matching.server";
 import { instrumentWavelength, labelOf, sourceLabel } from "~/domain/matching";
 import { tiersToShow } from "~/domain/price-tiers";
@@ -17,6 +19,7 @@ export async function loader({ params }: Route.LoaderArgs) {
   const row = isSlug(params.slug) ? await labBySlug(params.slug) : undefined;
   if (!row || row.state !== "approved") notFound("No approved lab is listed at this address.");
   const [lab] = await loadMatchLabs([row.id]);
+  const [accuracy, onTime] = await Promise.all([instrumentAccuracy(row.id), onTimeRecord(row.id)]);
   return {
     lab: {
       name: lab.name,
@@ -29,8 +32,16 @@ export async function loader({ params }: Route.LoaderArgs) {
       instruments: lab.instruments.map((i) => {
         const wavelength = instrumentWavelength(i);
         const cover = wavelength ? dSpacingCoverage(wavelength, i.twoThetaMin, i.twoThetaMax) : null;
-        return { ...i, source: sourceLabel(i), dMin: cover?.dMin ?? null, dMax: cover?.dMax ?? null };
+        return {
+          ...i,
+          source: sourceLabel(i),
+          dMin: cover?.dMin ?? null,
+          dMax: cover?.dMax ?? null,
+          accuracy: accuracy.filter((a) => a.instrumentId === i.id).map(accuracyText),
+          withdrawn: !countsForMatching(i.calibrationState),
+        };
       }),
+      onTime: onTimeText(onTime),
     },
   };
 }
@@ -47,9 +58,10 @@ export default function LabProfile({ loaderData }: Route.ComponentProps) {
         </Link>
       </p>
       <PageHeader title={lab.name} subtitle={[lab.city, lab.country].filter(Boolean).join(", ")} actions={<Badge tone="ok">Vetted lab</Badge>} />
-      {lab.description ? <p className="mb-8 max-w-3xl text-ink-700">{lab.description}</p> : null}
+      {lab.description ? <p className="mb-4 max-w-3xl text-ink-700">{lab.description}</p> : null}
+      <p className="mb-8 text-sm text-ink-700">{lab.onTime}</p>
       <h2 className="mb-3 text-lg font-semibold">Instruments</h2>
-      <TableCard columns={["Instrument", "Technique", "Source", "2θ range", "d reached (Å)", "Stages"]} caption="Instruments">
+      <TableCard columns={["Instrument", "Technique", "Source", "2θ range", "d reached (Å)", "Stages", "Measured accuracy"]} caption="Instruments">
         {lab.instruments.map((i) => (
           <tr key={i.id}>
             <td className="font-medium">{i.name}</td>
@@ -63,6 +75,16 @@ export default function LabProfile({ loaderData }: Route.ComponentProps) {
             </td>
             <td>{i.dMin !== null ? `${i.dMin.toFixed(3)}–${Number.isFinite(i.dMax) ? i.dMax!.toFixed(1) : "∞"}` : "—"}</td>
             <td>{i.stages.map((s) => `${s.name} ${s.minTemperatureK}–${s.maxTemperatureK} K (${s.atmospheres.join(", ")})`).join("; ") || "ambient only"}</td>
+            <td>
+              {i.accuracy.length
+                ? i.accuracy.map((t) => (
+                    <span key={t} className="block">
+                      {t}
+                    </span>
+                  ))
+                : "No calibration scans on record"}
+              {i.withdrawn ? <span className="block text-xs text-caution-700">Calibration due: not taking new requests</span> : null}
+            </td>
           </tr>
         ))}
       </TableCard>

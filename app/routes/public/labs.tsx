@@ -226,6 +226,26 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
                       <dt className="text-ink-500">Turnaround</dt>
                       <dd>{lab.turnaroundDays ? `${lab.turnaroundDays} days` : "—"}</dd>
                     </div>
+                    <div className="col-span-2 sm:col-span-3">
+                      <dt className="text-ink-500">Measured accuracy</dt>
+                      <dd>
+                        {lab.accuracy?.length ? (
+                          <ul>
+                            {lab.accuracy.map((a) => (
+                              <li key={`${a.instrumentName}-${a.standard}`}>
+                                {a.instrumentName} — {a.text}
+                              </li>
+                            ))}
+                          </ul>
+                        ) : (
+                          "No calibration scans on record"
+                        )}
+                      </dd>
+                    </div>
+                    <div className="col-span-2 sm:col-span-3">
+                      <dt className="text-ink-500">Delivery</dt>
+                      <dd>{lab.onTime?.text ?? "—"}</dd>
+                    </div>
                   </dl>
                 </li>
               ))}
