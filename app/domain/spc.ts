@@ -97,7 +97,9 @@ export type RuleNumber = keyof typeof WESTERN_ELECTRIC_RULES;
  * the limits. A point is flagged by the rule whose pattern it completes, and only when it is itself one of the
  * points the pattern counts: rule 1 a point beyond 3σ; rule 2 the second (or third) of three in a row beyond 2σ
  * on one side; rule 3 the fourth (or fifth) of five beyond 1σ on one side; rule 4 the eighth in a row on one side.
- * Points exactly on the centre line count on neither side (common practice).
+ * Points exactly on the centre line count on neither side (common practice). At the start of a series a pattern
+ * needs no full window: two points beyond 2σ as the first two already make two of any three in a row that hold
+ * them, so the second is flagged (as four of the first four beyond 1σ for rule 3).
  */
 export function westernElectric(points: number[], limits: Pick<ControlLimits, "center" | "sigma">): RuleNumber[][] {
   const { center, sigma } = limits;
@@ -113,9 +115,9 @@ export function westernElectric(points: number[], limits: Pick<ControlLimits, "c
     if (v === 0) return rules;
     const last = (m: number) => z.slice(Math.max(0, i - m + 1), i + 1);
     const w3 = last(3);
-    if (beyond(v, side, 2) && w3.length === 3 && w3.filter((x) => beyond(x, side, 2)).length >= 2) rules.push(2);
+    if (beyond(v, side, 2) && w3.filter((x) => beyond(x, side, 2)).length >= 2) rules.push(2);
     const w5 = last(5);
-    if (beyond(v, side, 1) && w5.length === 5 && w5.filter((x) => beyond(x, side, 1)).length >= 4) rules.push(3);
+    if (beyond(v, side, 1) && w5.filter((x) => beyond(x, side, 1)).length >= 4) rules.push(3);
     const w8 = last(8);
     if (w8.length === 8 && w8.every((x) => beyond(x, side, 0))) rules.push(4);
     return rules;
