@@ -20,6 +20,7 @@ export const MILESTONES = {
   refused_on_arrival: { label: "Parcel refused on arrival", essential: true, for: ["client"] },
   measuring_started: { label: "Measurement started", essential: false, for: ["client"] },
   data_delivered: { label: "Data delivered, with the lattice check", essential: false, for: ["client"] },
+  lot_rule_broken: { label: "A lot of a material breaks a control rule", essential: false, for: ["client"] },
   review_window_ending: { label: "Review window ends tomorrow", essential: true, for: ["client"] },
   delivery_accepted: { label: "Delivery accepted", essential: true, for: ["client", "lab"] },
   payout_sent: { label: "Payout sent to the lab", essential: true, for: ["lab"] },

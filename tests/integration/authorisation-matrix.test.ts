@@ -121,6 +121,11 @@ const EXPECTED: Record<string, Expect> = {
   "client-material-new": { loader: clientWorkspace, action: signedIn("forbidden", { ownerA: "bad", memberA: "bad", clientB: "bad" }) },
   "client-material": { loader: orderClient, action: orderClientAction },
   "routes/client/material-sds-upload": { action: signedIn("forbidden", { ownerA: "bad", memberA: "bad", clientB: "bad" }) },
+  // A material's trend, its CSV: the material's own organisation only (another client is told it does not exist).
+  // Choosing the baseline is for owners, managers and the material's QC people (the matrix's material names none);
+  // an empty form is refused.
+  "routes/client/material-trend": { loader: orderClient, action: clientA("bad", "forbidden", { clientB: "notFound", memberA: "forbidden" }) },
+  "routes/client/material-trend-csv": { loader: orderClient },
 
   "lab-layout": { loader: labWorkspace },
   "routes/lab/home": { loader: labWorkspace },
@@ -206,6 +211,8 @@ const EXPECTED: Record<string, Expect> = {
   "routes/api/order-messages": { loader: orderParties, action: signedIn("notFound", { ownerA: "bad", memberA: "bad", labManager: "bad", labOperator: "bad" }) },
   "routes/api/order": { loader: orderParties },
   "routes/api/check": { loader: orderParties },
+  // A material's trend for programs: its own organisation's members; anyone else gets the same 404.
+  "routes/api/material-trend": { loader: signedIn("notFound", { ownerA: "ok", memberA: "ok" }) },
   "routes/api/admin/ledger-summary": { loader: adminPage },
   // Only the payment provider's signed POST is accepted: no signature is 400, a GET is 405.
   "routes/api/webhooks-payments": { loader: all("bad"), action: all("bad") },
@@ -385,7 +392,7 @@ beforeAll(async () => {
   // A standing agreement proposed from the order, for one of Halvorsen's materials.
   const [material] = await w.db
     .insert(w.schema.materials)
-    .values({ organisationId: w.halvorsen.id, productCode: "MATRIX-1", name: "Matrix material", formula: "LiFePO4" })
+    .values({ organisationId: w.halvorsen.id, productCode: "MATRIX-1", name: "Matrix material", formula: "LiFePO4", crystalSystem: "orthorhombic" })
     .returning();
   const { proposeAgreement } = await import("~/models/agreements/agreements.server");
   const proposed = await proposeAgreement(orderId, w.halvorsen.id, w.owner.id, {

@@ -10,6 +10,7 @@ import { withinWindowOf } from "~/domain/lattice-check";
 import type { MaterialInput } from "~/domain/material-forms";
 import { acceptanceWindowOf, type PhaseRow } from "~/domain/request-forms";
 import { audit } from "~/models/audit.server";
+import { afterLotRecorded } from "~/models/materials/trends.server";
 import { checkNewSds, hazardColumns } from "~/models/requests/requests.server";
 
 type FieldErrors = Record<string, string[]>;
@@ -356,6 +357,8 @@ export async function recordLot(checkId: string): Promise<MaterialLot | null> {
     withinWindow: withinWindowOf(found.check),
   };
   const [lot] = await db.insert(schema.materialLots).values(row).onConflictDoUpdate({ target: schema.materialLots.checkId, set: row }).returning();
+  // The lot's place on the trend: a notice to the QC people when it breaks a control rule (once per lot).
+  await afterLotRecorded(lot.id);
   return lot;
 }
 

@@ -547,3 +547,29 @@ export function agreementLetter(
     link: { path, label: "Open the agreement" },
   };
 }
+
+/** A newly recorded lot breaks a control rule: which material, which lot, which parameter and rule, in words. */
+export function lotRuleBrokenLetter(l: {
+  productCode: string;
+  name: string;
+  lotCode: string;
+  broken: { parameter: string; rules: string[] }[];
+  path: string;
+}): Letter {
+  const what = l.broken.map((b) => `${b.parameter}: ${b.rules.join("; ")}`);
+  return {
+    subject: `Lot ${l.lotCode} of ${l.productCode} breaks a control rule`,
+    heading: "A lot is out of control on the material's trend",
+    paragraphs: [
+      `The lattice check of lot ${l.lotCode} of ${l.name} (${l.productCode}) gives a cell parameter that breaks a Western Electric rule against the control limits of the material's baseline lots.`,
+      ...what,
+    ],
+    facts: [
+      ["Material", `${l.productCode} — ${l.name}`],
+      ["Lot", l.lotCode],
+      ["Parameter", l.broken.map((b) => b.parameter).join(", ")],
+    ],
+    nextStep: "Look at the trend chart and the lot's check, and decide whether the process has shifted.",
+    link: { path: l.path, label: "Open the trend" },
+  };
+}

@@ -13,6 +13,7 @@ import {
   labApplicationLetter,
   passwordResetLetter,
   labDecisionLetter,
+  lotRuleBrokenLetter,
   messageLetter,
   orderLetter,
   quoteDecisionLetter,
@@ -55,7 +56,9 @@ export type Milestone =
   /** The token travels only in the e-mail's link; the table keeps its hash. */
   | { kind: "organisation_invitation"; invitationId: string; token: string }
   /** Likewise: the reset link's token is only in the e-mail. */
-  | { kind: "password_reset"; tokenId: string; token: string };
+  | { kind: "password_reset"; tokenId: string; token: string }
+  /** A newly recorded lot of a material breaks a control rule: the material's QC people hear of it (docs/design.md#lots-and-trends). */
+  | { kind: "lot_rule_broken"; materialId: string; lotCode: string; broken: { parameter: string; rules: string[] }[]; path: string };
 
 /** Which milestone each order state reports, and to whom (the order's two organisations, and admins). */
 export const ORDER_MILESTONES: Partial<Record<OrderState, { kind: MilestoneKind; to: Audience[] }>> = {
@@ -403,6 +406,16 @@ async function outgoingFor(tx: Tx, m: Milestone): Promise<Outgoing[]> {
       });
       const person: Person = { userId: account?.id ?? null, email: inv.email, name: account?.name ?? "there" };
       return [{ kind: "organisation_invitation" as const, person, letter, orderId: null, organisationId: null }];
+    }
+    case "lot_rule_broken": {
+      const [material] = await tx.select().from(schema.materials).where(eq(schema.materials.id, m.materialId));
+      if (!material) return [];
+      const letter = lotRuleBrokenLetter({ productCode: material.productCode, name: material.name, lotCode: m.lotCode, broken: m.broken, path: m.path });
+      // The material's QC people who are still members; none named (or none left): its owners and managers.
+      const members = await recipientsOf(tx, material.organisationId, material.qcUserIds);
+      const qc = members.filter((p) => p.userId && material.qcUserIds.includes(p.userId));
+      const people = qc.length ? qc : await recipientsOf(tx, material.organisationId);
+      return people.map((person) => ({ kind: "lot_rule_broken" as const, person, letter, orderId: null, organisationId: material.organisationId }));
     }
     case "password_reset": {
       const [row] = await tx.select().from(schema.passwordResetTokens).where(eq(schema.passwordResetTokens.id, m.tokenId));
