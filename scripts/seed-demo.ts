@@ -16,6 +16,7 @@ import { seedDemoTransfers } from "~/demo/seed-transfer.server";
 import { seedDemoInvoices } from "~/demo/seed-invoices.server";
 import { seedDemoStatements } from "~/demo/seed-statements.server";
 import { seedDemoTiers } from "~/demo/seed-tiers.server";
+import { seedDemoTrends } from "~/demo/seed-trends.server";
 
 const t0 = Date.now();
 const result = await seedDemo();
@@ -34,6 +35,7 @@ await seedDemoTransfers();
 await seedDemoInvoices();
 await seedDemoStatements();
 await seedDemoTiers();
+await seedDemoTrends();
 console.log(
   `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
 );

@@ -5,6 +5,7 @@ import { db, schema } from "~/db/client.server";
 import { requestLifeIds } from "~/demo/seed-request-life.server";
 import { transferDemoIds } from "~/demo/seed-transfer.server";
 import { TIER_REQUEST_TITLE } from "~/demo/seed-tiers.server";
+import { TREND_DEMO_PRODUCT_CODE } from "~/demo/seed-trends.server";
 
 async function requestId(title: string) {
   const [row] = await db.select({ id: schema.requests.id }).from(schema.requests).where(eq(schema.requests.title, title));
@@ -17,6 +18,11 @@ async function orderId(title: string) {
     .from(schema.orders)
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
     .where(eq(schema.requests.title, title));
+  return row?.id ?? "";
+}
+
+async function materialId(productCode: string) {
+  const [row] = await db.select({ id: schema.materials.id }).from(schema.materials).where(eq(schema.materials.productCode, productCode));
   return row?.id ?? "";
 }
 
@@ -48,6 +54,7 @@ export async function demoTour(base: string) {
     `  a lot outside its ± 0.002 Å acceptance window: ${u(`/client/orders/${await orderId("Acceptance test of LFP production lot HC-2693")}`)}  (check ${u(`/checks/${await checkId("HC-2693-1_Co_15-110.xy")}`)})`,
     `  a request's life — edited after Granite Ridge quoted (its quote awaits re-confirmation): ${u(`/client/requests/${life.edited}`)}; withdrawn, with “Order again”: ${u(`/client/requests/${life.withdrawn}`)}; expired by the job: ${u(`/client/requests/${life.expired}`)}`,
     `  delivered data cannot be deleted for five years: an archived scan, brought back under "Show archived": ${u(`/client/data-room/${await orderId("Lattice check of LFP reference lot HC-2398")}?archived=1`)}`,
+    `  lots and trend of the olivine grade ${TREND_DEMO_PRODUCT_CODE}: 23 checked lots on a control chart, the a axis creeping upwards until lot 23 breaks rule 2 (member@halvorsen.example, its QC person, was told): ${u(`/client/materials/${await materialId(TREND_DEMO_PRODUCT_CODE)}/trend?parameter=a`)}; the CSV beside it and ${u(`/api/materials/${await materialId(TREND_DEMO_PRODUCT_CODE)}/trend`)}`,
     `  the profile: legal name, billing address, tax id, kind (confirmed), dispatch address: ${u("/client/profile")}; the packing slip with Granite Ridge's sample reception and a parcel label: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}/packing-slip`)}`,
     "owner@pinecrest.example — Amara, client owner (member@pinecrest.example is a member; consultant@fieldnotes.example manages for both clients)",
     `  paying by bank transfer: bank details, reference and PO number, with a part received and the date it must arrive by: ${u(`/client/orders/${transfer.partial}`)}; paid in full by transfer, money held: ${u(`/client/orders/${transfer.paid}`)}`,
