@@ -151,7 +151,8 @@ describe("the client's journey", () => {
     // The box follows the URL (the filters live there), so it shows checked once the URL has it.
     await page.getByLabel("GHS09 environment").click();
     await page.waitForURL(/hazard=GHS09/);
-    expect(await page.getByLabel("GHS09 environment").isChecked()).toBe(true);
+    // The URL changes first; the box is checked once the page has rendered the navigation's answer.
+    await expect.poll(() => page.getByLabel("GHS09 environment").isChecked(), { timeout: 10_000 }).toBe(true);
     await page.getByLabel("Source (anode)").selectOption("Cu");
     await page.waitForURL(/source=Cu/);
     await page.getByRole("status").filter({ hasText: "1 lab" }).waitFor();
