@@ -17,6 +17,7 @@ import { seedDemoInvoices } from "~/demo/seed-invoices.server";
 import { seedDemoStatements } from "~/demo/seed-statements.server";
 import { seedDemoTiers } from "~/demo/seed-tiers.server";
 import { seedDemoTrends } from "~/demo/seed-trends.server";
+import { seedDemoCalibrations } from "~/demo/seed-calibrations.server";
 
 const t0 = Date.now();
 const result = await seedDemo();
@@ -36,6 +37,7 @@ await seedDemoInvoices();
 await seedDemoStatements();
 await seedDemoTiers();
 await seedDemoTrends();
+await seedDemoCalibrations();
 console.log(
   `demo scenario seeded in ${((Date.now() - t0) / 1000).toFixed(1)} s: ${result.organisations} organisations, ${result.people} people, requests and orders in every state (${scenario.requests} made this run), ${scans.length} checked demo scans`,
 );

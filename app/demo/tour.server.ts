@@ -5,7 +5,7 @@ import { db, schema } from "~/db/client.server";
 import { requestLifeIds } from "~/demo/seed-request-life.server";
 import { transferDemoIds } from "~/demo/seed-transfer.server";
 import { TIER_REQUEST_TITLE } from "~/demo/seed-tiers.server";
-import { TREND_DEMO_PRODUCT_CODE } from "~/demo/seed-trends.server";
+import { TREND_DEMO_PRODUCT_CODE, TREND_DEMO_SOURCE_TITLE } from "~/demo/seed-trends.server";
 
 async function requestId(title: string) {
   const [row] = await db.select({ id: schema.requests.id }).from(schema.requests).where(eq(schema.requests.title, title));
@@ -23,6 +23,21 @@ async function orderId(title: string) {
 
 async function materialId(productCode: string) {
   const [row] = await db.select({ id: schema.materials.id }).from(schema.materials).where(eq(schema.materials.productCode, productCode));
+  return row?.id ?? "";
+}
+
+/** The standing agreement of the demo's material (the cathode grade's, with Granite Ridge). */
+async function agreementId(productCode: string) {
+  const [row] = await db
+    .select({ id: schema.standingAgreements.id })
+    .from(schema.standingAgreements)
+    .innerJoin(schema.materials, eq(schema.materials.id, schema.standingAgreements.materialId))
+    .where(eq(schema.materials.productCode, productCode));
+  return row?.id ?? "";
+}
+
+async function instrumentId(name: string) {
+  const [row] = await db.select({ id: schema.instruments.id }).from(schema.instruments).where(eq(schema.instruments.name, name));
   return row?.id ?? "";
 }
 
@@ -54,7 +69,8 @@ export async function demoTour(base: string) {
     `  a lot outside its ± 0.002 Å acceptance window: ${u(`/client/orders/${await orderId("Acceptance test of LFP production lot HC-2693")}`)}  (check ${u(`/checks/${await checkId("HC-2693-1_Co_15-110.xy")}`)})`,
     `  a request's life — edited after Granite Ridge quoted (its quote awaits re-confirmation): ${u(`/client/requests/${life.edited}`)}; withdrawn, with “Order again”: ${u(`/client/requests/${life.withdrawn}`)}; expired by the job: ${u(`/client/requests/${life.expired}`)}`,
     `  delivered data cannot be deleted for five years: an archived scan, brought back under "Show archived": ${u(`/client/data-room/${await orderId("Lattice check of LFP reference lot HC-2398")}?archived=1`)}`,
-    `  lots and trend of the olivine grade ${TREND_DEMO_PRODUCT_CODE}: 23 checked lots on a control chart, the a axis creeping upwards until lot 23 breaks rule 2 (member@halvorsen.example, its QC person, was told): ${u(`/client/materials/${await materialId(TREND_DEMO_PRODUCT_CODE)}/trend?parameter=a`)}; the CSV beside it and ${u(`/api/materials/${await materialId(TREND_DEMO_PRODUCT_CODE)}/trend`)}`,
+    `  the olivine grade ${TREND_DEMO_PRODUCT_CODE} as a material, declared once, its lots on record: ${u(`/client/materials/${await materialId(TREND_DEMO_PRODUCT_CODE)}`)}; its trend — 23 lots over eleven months on a control chart, the a axis creeping upwards until lot C20-2523 breaks rule 2 (member@halvorsen.example, its QC person, was told, in the app and by e-mail): ${u(`/client/materials/${await materialId(TREND_DEMO_PRODUCT_CODE)}/trend?parameter=a`)}; the CSV beside it and ${u(`/api/materials/${await materialId(TREND_DEMO_PRODUCT_CODE)}/trend`)}`,
+    `  the standing agreement with Granite Ridge for that grade, proposed from the accepted quote of "${TREND_DEMO_SOURCE_TITLE}" and agreed by the lab: every lot an order without quotes, with lots used, money spent and what remains of the cap, and "Order a lot": ${u(`/client/agreements/${await agreementId(TREND_DEMO_PRODUCT_CODE)}`)} (all: ${u("/client/agreements")})`,
     `  the profile: legal name, billing address, tax id, kind (confirmed), dispatch address: ${u("/client/profile")}; the packing slip with Granite Ridge's sample reception and a parcel label: ${u(`/client/orders/${await orderId("Lattice check of LFP production lot HC-2645")}/packing-slip`)}`,
     "owner@pinecrest.example — Amara, client owner (member@pinecrest.example is a member; consultant@fieldnotes.example manages for both clients)",
     `  paying by bank transfer: bank details, reference and PO number, with a part received and the date it must arrive by: ${u(`/client/orders/${transfer.partial}`)}; paid in full by transfer, money held: ${u(`/client/orders/${transfer.paid}`)}`,
@@ -70,10 +86,12 @@ export async function demoTour(base: string) {
     `  work queue: ${u("/lab/work-queue")}; the hazardous parcel on its way: ${u(`/lab/orders/${await orderId("Polymorph screen of nano-milled API PSF-152")}`)}`,
     `  measuring — upload scans and watch their checks: ${u(`/lab/orders/${await orderId("Form screen of salt candidates PSF-144")}/files`)}; payouts: ${u("/lab/payouts")}`,
     `  the lab's records — work queue sorted by due date: ${u("/lab/work-queue?sort=due&dir=asc")}; receipt record with storage places and a scan's entered conditions: ${u(`/lab/orders/${await orderId("Lattice check of LFP production lot HC-2645")}`)} (files: ${u(`/lab/orders/${await orderId("Lattice check of LFP production lot HC-2645")}/files`)})`,
+    `  the same agreement from the lab's side, its 23 lots delivered (one late, as the on-time record shows): ${u(`/lab/agreements/${await agreementId(TREND_DEMO_PRODUCT_CODE)}`)}; the calibration record of an instrument — a year of monthly silicon scans, deviation, zero shift and profile width as control charts, a mild upward drift still in control, the next scan due: ${u(`/lab/instruments/${await instrumentId("Reflection diffractometer B (Co)")}/calibration`)}`,
     `  statements: last month's payouts order by order (paid, refunded, fee, net) as PDF and CSV, with the platform's fee invoice: ${u("/lab/statements")}`,
     "lab@lakeside.example — Dana, lab manager",
     `  quotes sent, declined and lapsed: ${u("/lab/quotes")}; samples received, to measure: ${u(`/lab/orders/${await orderId("Transmission scan of LFP coating trial HC-2624")}`)}`,
     `  price tiers: academic and non-profit prices beside the base list (${u("/lab/price-list")}, public at ${u("/labs/lakeside-institute-x-ray-core")}); the quote for owner@kestrelmoor.example's university group, confirmed as academic, drafts from the academic prices and says so: ${u(`/lab/requests/${await requestId(TIER_REQUEST_TITLE)}`)}`,
+    `anyone, signed in or not — the directory with each instrument's measured accuracy (e.g. "Si: +0.00002 Å, 12 scans in 12 months") and each lab's on-time record: ${u("/labs")}; Granite Ridge's profile: ${u("/labs/granite-ridge-characterisation")}; the same figures in ${u("/api/labs")}`,
     `lab@meridian.example — Tiago, awaiting vetting: the application and its checked calibration scan: ${u("/lab/vetting")}`,
     "admin@diffractory.example — platform admin; the sign-in code: npx tsx scripts/demo-code.ts",
     `  kinds of client to confirm (Pinecrest states industry): ${u("/admin/users")}; Granite Ridge's receiving address: lab@graniteridge.example at ${u("/lab/profile")}`,

@@ -155,3 +155,126 @@ describe("the demo's declarations beside the main phase", () => {
     expect(file.check).toMatchObject({ verdict: "consistent", withinWindow: false });
   });
 });
+
+// Issue "Repeat work and quality trends", done-when 1: the demo's cathode grade with a standing agreement whose 23
+// lots over eleven months are its orders, simulated by the engine with a slow drift until one lot breaks a rule
+// and its QC person is told; every demo instrument with a year of calibration scans; the directory's measured
+// accuracy. The lots and scans are the demo's own invented values (app/demo/seed-trends.server.ts,
+// app/demo/seed-calibrations.server.ts); these checks are of the story, the rules are the Western Electric Co.
+// Statistical Quality Control Handbook's (1956) as app/domain/spc.ts implements them.
+describe("the demo's repeat work: lots under a standing agreement, and calibrations on record", () => {
+  const DAY = 86_400_000;
+  let trend: Awaited<ReturnType<typeof import("~/demo/seed-trends.server").seedDemoTrends>>;
+  let calibrations = 0;
+
+  beforeAll(async () => {
+    // The qualification order's payer and the labs' payouts are the earlier seeds' (as scripts/seed-demo.ts runs them).
+    await (await import("~/demo/seed-profiles.server")).seedDemoProfiles();
+    trend = await (await import("~/demo/seed-trends.server")).seedDemoTrends();
+    calibrations = await (await import("~/demo/seed-calibrations.server")).seedDemoCalibrations();
+  }, 240_000);
+
+  it("seeds once: a second run makes no lot and no calibration", async () => {
+    expect(trend.lots).toBe(23);
+    expect(calibrations).toBeGreaterThanOrEqual(4 * 11);
+    expect((await (await import("~/demo/seed-trends.server")).seedDemoTrends()).lots).toBe(0);
+    expect(await (await import("~/demo/seed-calibrations.server")).seedDemoCalibrations()).toBe(0);
+  });
+
+  it("puts 20 or more lots over months on the material's record, each a paid and delivered order of one agreement", async () => {
+    const { db, schema } = app.db;
+    const { eq, inArray } = app.orm;
+    const { lotsOfMaterial } = await import("~/models/materials/materials.server");
+    const lots = await lotsOfMaterial(trend.materialId!);
+    expect(lots.length).toBeGreaterThanOrEqual(20);
+    const span = lots[lots.length - 1].measuredAt.getTime() - lots[0].measuredAt.getTime();
+    expect(span).toBeGreaterThanOrEqual(90 * DAY);
+    expect(lots.every((l) => l.orderId && l.checkId && l.verdict === "consistent" && l.withinWindow === true)).toBe(true);
+    const orders = await db
+      .select()
+      .from(schema.orders)
+      .where(
+        inArray(
+          schema.orders.id,
+          lots.map((l) => l.orderId!),
+        ),
+      );
+    expect(orders).toHaveLength(lots.length);
+    expect(new Set(orders.map((o) => o.agreementId))).toEqual(new Set([trend.agreementId]));
+    expect(orders.every((o) => o.state === "paid_out" && o.deliveredAt !== null)).toBe(true);
+    // The agreement came from an accepted quote of an ordinary order and was agreed by the lab.
+    const [agreement] = await db.select().from(schema.standingAgreements).where(eq(schema.standingAgreements.id, trend.agreementId!));
+    expect(agreement.state).toBe("active");
+    expect(agreement.agreedAt).not.toBeNull();
+    const [quote] = await db.select().from(schema.quotes).where(eq(schema.quotes.id, agreement.sourceQuoteId!));
+    expect(quote.state).toBe("accepted");
+    // The agreement page's usage: lots used, money spent (net) and what remains of the cap.
+    const { agreementForParty } = await import("~/models/agreements/agreements.server");
+    const page = (await agreementForParty(agreement.id, "client", agreement.clientOrganisationId))!;
+    expect(page.usage.lots).toBe(lots.length);
+    expect(page.usage.spentNetMinor).toBe(lots.length * agreement.pricePerLotMinor);
+    expect(page.usage.remainingMinor).toBe(agreement.budgetCapMinor - lots.length * agreement.pricePerLotMinor);
+  });
+
+  it("flags exactly the drifted last lot and tells the material's QC person in the app and by e-mail", async () => {
+    const { db, schema } = app.db;
+    const { and, eq, like } = app.orm;
+    const { materialOfOrganisation, trendOf } = await import("~/models/materials/trends.server");
+    const [halvorsen] = await db.select().from(schema.organisations).where(eq(schema.organisations.slug, "halvorsen-cathode-works"));
+    const computed = await trendOf(await materialOfOrganisation(trend.materialId!, halvorsen.id));
+    const flagged = computed.lots.filter((l) => Object.keys(l.rulesBroken).length > 0);
+    expect(flagged.map((l) => [l.lotCode, l.rulesBroken])).toEqual([["C20-2523", { a: [2] }]]);
+    const notices = await db
+      .select()
+      .from(schema.notifications)
+      .where(and(eq(schema.notifications.kind, "lot_rule_broken"), like(schema.notifications.href, `%${trend.materialId}%`)));
+    const [member] = await db.select().from(schema.users).where(eq(schema.users.email, "member@halvorsen.example"));
+    expect(notices.map((n) => n.userId)).toEqual([member.id]);
+    const letters = await db.select().from(schema.outboxMessages).where(eq(schema.outboxMessages.kind, "lot_rule_broken"));
+    expect(letters.map((l) => l.to)).toEqual(["member@halvorsen.example"]);
+  });
+
+  it("gives every demo instrument a year of passing calibrations, in order and in matching", async () => {
+    const { db, schema } = app.db;
+    const { countsForMatching } = await import("~/domain/calibration-record");
+    const instruments = await db.select().from(schema.instruments);
+    expect(instruments.length).toBeGreaterThanOrEqual(4);
+    for (const instrument of instruments) {
+      const { calibrationsOf } = await import("~/models/labs/calibration.server");
+      const rows = await calibrationsOf(instrument.id);
+      expect(rows.length, instrument.name).toBeGreaterThanOrEqual(11);
+      const span = rows[rows.length - 1].measuredAt.getTime() - rows[0].measuredAt.getTime();
+      expect(span, instrument.name).toBeGreaterThanOrEqual(330 * DAY);
+      expect(rows.every((r) => r.passed)).toBe(true);
+      // A few 1e-5 Å from the certificate: well inside the ±0.0005 Å tolerance (app/domain/vetting.ts).
+      expect(rows.every((r) => Math.abs(r.deviationA!) < 0.0001)).toBe(true);
+      expect(instrument.calibrationState, instrument.name).toBe("ok");
+      expect(instrument.calibrationDueAt!.getTime()).toBeGreaterThan(Date.now());
+      expect(countsForMatching(instrument.calibrationState)).toBe(true);
+    }
+  });
+
+  it("shows each approved lab's instruments' measured accuracy and the on-time record in the directory's API", async () => {
+    const { loader: labsApi } = await import("~/routes/api/labs");
+    const { callRoute, getRequest } = await import("./route-call");
+    const api = await callRoute(labsApi, getRequest("/api/labs"));
+    const labs = (
+      api.body as {
+        labs: { name: string; instruments?: unknown[]; accuracy: { instrumentName: string; text: string }[]; onTime: { onTime: number; delivered: number } }[];
+      }
+    ).labs;
+    const expected: Record<string, string[]> = {
+      "Granite Ridge Characterisation": ["Reflection diffractometer A (Cu)", "Reflection diffractometer B (Co)"],
+      "Lakeside Institute X-ray Core": ["Transmission diffractometer (Mo)"],
+    };
+    for (const [name, instruments] of Object.entries(expected)) {
+      const lab = labs.find((l) => l.name === name)!;
+      expect(lab.accuracy.map((a) => a.instrumentName).sort()).toEqual(instruments);
+      for (const a of lab.accuracy) expect(a.text).toMatch(/^(Si|LaB6): ([+−]0\.0000\d|0\.00000) Å, 12 scans in 12 months$/);
+    }
+    // Granite Ridge delivered the qualification order and 23 lots, one of them late.
+    const granite = labs.find((l) => l.name === "Granite Ridge Characterisation")!;
+    expect(granite.onTime.delivered).toBeGreaterThanOrEqual(24);
+    expect(granite.onTime.onTime).toBe(granite.onTime.delivered - 1);
+  });
+});
