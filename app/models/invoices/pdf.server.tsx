@@ -9,7 +9,8 @@ import { addressLines } from "~/domain/profile-forms";
 
 const require = createRequire(import.meta.url);
 let fontsRegistered = false;
-function registerFonts() {
+/** Registers DM Sans for every PDF the server draws (invoices here, statements in app/models/statements/), once. */
+export function registerPdfFonts() {
   if (fontsRegistered) return;
   Font.register({
     family: "DM Sans",
@@ -147,6 +148,6 @@ function InvoicePdf({ doc }: { doc: InvoiceDocument }) {
 
 /** The PDF of an issued document. */
 export async function invoicePdf(doc: InvoiceDocument): Promise<Buffer> {
-  registerFonts();
+  registerPdfFonts();
   return renderToBuffer(<InvoicePdf doc={doc} />);
 }

@@ -1,25 +1,10 @@
 // A lab's monthly payout statement as PDF, drawn on the server with @react-pdf/renderer in the look of the invoices
 // (app/models/invoices/pdf.server.tsx, docs/decisions/013-pdf-documents.md): DM Sans from the same TrueType files.
-import { createRequire } from "node:module";
-import { Document, Font, Page, renderToBuffer, StyleSheet, Text, View } from "@react-pdf/renderer";
+import { Document, Page, renderToBuffer, StyleSheet, Text, View } from "@react-pdf/renderer";
+import { registerPdfFonts } from "~/models/invoices/pdf.server";
 import { monthName } from "~/domain/fee-invoice";
 import { formatMoney } from "~/domain/money";
 import type { LabStatement } from "./statements.server";
-
-const require = createRequire(import.meta.url);
-let fontsRegistered = false;
-function registerFonts() {
-  if (fontsRegistered) return;
-  Font.register({
-    family: "DM Sans",
-    fonts: [
-      { src: require.resolve("@expo-google-fonts/dm-sans/400Regular/DMSans_400Regular.ttf"), fontWeight: 400 },
-      { src: require.resolve("@expo-google-fonts/dm-sans/600SemiBold/DMSans_600SemiBold.ttf"), fontWeight: 600 },
-    ],
-  });
-  Font.registerHyphenationCallback((word) => [word]);
-  fontsRegistered = true;
-}
 
 const s = StyleSheet.create({
   page: { fontFamily: "DM Sans", fontSize: 8.5, padding: 36, color: "#1d2430", lineHeight: 1.35 },
@@ -108,6 +93,6 @@ function StatementPdf({ st }: { st: LabStatement }) {
 
 /** The statement as a PDF. */
 export async function statementPdf(st: LabStatement): Promise<Buffer> {
-  registerFonts();
+  registerPdfFonts();
   return renderToBuffer(<StatementPdf st={st} />);
 }
