@@ -3,13 +3,13 @@
 // after notice (docs/design.md#standing-agreements). Every move is audit-logged and both sides are told.
 import { and, asc, desc, eq, inArray, lte, notInArray, or, sql } from "drizzle-orm";
 import { db, schema, type Tx } from "~/db/client.server";
-import type { Material, StandingAgreement } from "~/db/schema";
+import type { StandingAgreement } from "~/db/schema";
 import { type AgreementState, capReached, dayEnd, dayStart, isoDay, lotRefusal, NOTICE_DAYS_MAX, REFUNDED_ORDER_STATES } from "~/domain/agreements";
-import { parseFormula } from "~/domain/formula";
 import { formatMoney, MAX_AMOUNT_MINOR } from "~/domain/money";
 import { PO_REQUIRED } from "~/domain/purchase-orders";
 import { audit } from "~/models/audit.server";
 import { takeAgreementNumber } from "~/models/invoices/numbering.server";
+import { requestForLotsTx } from "~/models/materials/materials.server";
 import { notify } from "~/models/notifications/outbox.server";
 import { createOrderTx } from "~/models/orders/create.server";
 import type { PurchaseOrder } from "~/models/orders/purchase-orders.server";
@@ -392,90 +392,10 @@ export async function endDueAgreements(now = new Date()) {
 // ─────────────── Ordering a lot ───────────────
 
 /**
- * MERGE NOTE: a minimal stand-in for the materials part's `requestFromMaterial(materialId, lotCodes, actor)` in
- * app/models/materials/. Makes, inside the caller's transaction, an awarded request (never in the market) with
- * one sample per lot code, copied from the material's declaration (formula, phases, window, hazards, SDS). At
- * merge this should become a call to that function.
- */
-async function requestForLotsTx(tx: Tx, material: Material, lotCodes: string[], userId: string, currency: string, now: Date) {
-  const parsed = parseFormula(material.formula);
-  const [request] = await tx
-    .insert(schema.requests)
-    .values({
-      organisationId: material.organisationId,
-      createdBy: userId,
-      title: `${material.name} (${material.productCode}) — lot ${lotCodes.join(", ")}`.slice(0, 200),
-      technique: material.technique,
-      state: "awarded",
-      draftStep: "review",
-      rangeMin: material.rangeMin,
-      rangeMax: material.rangeMax,
-      preferredSource: material.preferredSource,
-      quality: material.quality,
-      currency,
-      visibility: "invited",
-      openedAt: now,
-    })
-    .returning();
-  const samples = await tx
-    .insert(schema.samples)
-    .values(
-      lotCodes.map((code, position) => ({
-        requestId: request.id,
-        position,
-        label: `${material.productCode} lot ${code}`.slice(0, 120),
-        formula: material.formula,
-        elements: "elements" in parsed ? parsed.elements : [],
-        form: material.form,
-        massMg: material.massMg,
-        expectedPhase: material.expectedPhase,
-        crystalSystem: material.crystalSystem,
-        centering: material.centering,
-        cellA: material.cellA,
-        cellB: material.cellB,
-        cellC: material.cellC,
-        cellAlpha: material.cellAlpha,
-        cellBeta: material.cellBeta,
-        cellGamma: material.cellGamma,
-        acceptanceWindow: material.acceptanceWindow,
-        ghsPictograms: material.ghsPictograms,
-        hStatements: material.hStatements,
-        specialHazards: material.specialHazards,
-        handlingNotes: material.handlingNotes,
-        afterMeasurement: material.afterMeasurement,
-        sdsFileName: material.sdsFileName,
-        sdsStorageKey: material.sdsStorageKey,
-        sdsSizeBytes: material.sdsSizeBytes,
-        materialId: material.id,
-        lotCode: code,
-      })),
-    )
-    .returning({ id: schema.samples.id });
-  const phases = samples.flatMap((s) =>
-    material.furtherPhases.map((p, position) => ({
-      sampleId: s.id,
-      position,
-      role: p.role,
-      name: p.name,
-      crystalSystem: p.crystalSystem,
-      centering: p.centering,
-      cellA: p.cell.a,
-      cellB: p.cell.b,
-      cellC: p.cell.c,
-      cellAlpha: p.cell.alpha,
-      cellBeta: p.cell.beta,
-      cellGamma: p.cell.gamma,
-    })),
-  );
-  if (phases.length) await tx.insert(schema.samplePhases).values(phases);
-  return request;
-}
-
-/**
  * The client orders lots under an active agreement (or one under notice): in one transaction, holding the
- * agreement row locked, the request and its samples are made from the material, the agreement's terms are kept
- * as the order's accepted terms, and the order is created awaiting payment at the agreed price per lot plus
- * tax — no quote is sent, compared or accepted. Refused, changing nothing, when the agreement is not running,
+ * agreement row locked, the request and its samples are made from the material (requestForLotsTx, as for any
+ * lot), the agreement's terms are kept as the order's accepted terms, and the order is created awaiting payment
+ * at the agreed price per lot plus tax — no quote is sent, compared or accepted. Refused, changing nothing, when the agreement is not running,
  * outside its period, or when the lots would pass the budget cap. The lot that leaves no room for another ends
  * the agreement ("its budget cap is reached").
  */
@@ -509,7 +429,7 @@ export async function orderLots(
     if (repeated.length) return refuse(`Lot ${repeated[0].code} has already been ordered under this agreement. Nothing was ordered.`);
 
     const n = lotCodes.length;
-    const request = await requestForLotsTx(tx, material, lotCodes, userId, a.currency, now);
+    const { request } = await requestForLotsTx(tx, material, lotCodes, userId, { currency: a.currency, at: now });
     const lineItems = a.lineItems.map((i) => ({ ...i, quantity: i.quantity * n, totalMinor: i.totalMinor * n }));
     const netMinor = a.pricePerLotMinor * n;
     // The order's terms (line items, instrument, turnaround) are the agreement's, kept in a terms row of the quotes

@@ -1,7 +1,7 @@
 // A client's materials, declared once and reused by every request and lot, and each material's lot record: one row
 // per checked scan of a lot (docs/design.md#materials-and-lots).
 import { and, asc, count, desc, eq, inArray, isNull, ne, sql } from "drizzle-orm";
-import { db, schema } from "~/db/client.server";
+import { db, schema, type Tx } from "~/db/client.server";
 import type { LotCell, Material, MaterialLot, MaterialPhase } from "~/db/schema";
 import { readStoredResult } from "~/domain/check-result";
 import { parseFormula } from "~/domain/formula";
@@ -231,76 +231,8 @@ export async function requestFromMaterial(materialId: string, lotCodes: string[]
   if (codes.length === 0) return { ok: false, error: "Enter the lot code of each lot to measure." };
   if (codes.length > 20) return { ok: false, error: "At most 20 lots in one request." };
   if (codes.some((c) => c.length > 80)) return { ok: false, error: "A lot code has at most 80 characters." };
-  const parsed = parseFormula(material.formula);
-  const title = `${material.productCode} ${material.name}: ${codes.length === 1 ? "lot" : "lots"} ${codes.join(", ")}`;
   return db.transaction(async (tx) => {
-    const [request] = await tx
-      .insert(schema.requests)
-      .values({
-        organisationId: actor.organisationId,
-        createdBy: actor.userId,
-        title: title.length > 160 ? `${title.slice(0, 159)}…` : title,
-        technique: material.technique,
-        rangeKind: "two_theta",
-        rangeMin: material.rangeMin,
-        rangeMax: material.rangeMax,
-        preferredSource: material.preferredSource,
-        quality: material.quality,
-        draftStep: "measurement",
-      })
-      .returning();
-    const samples = await tx
-      .insert(schema.samples)
-      .values(
-        codes.map((lotCode, position) => ({
-          requestId: request.id,
-          position,
-          label: `${material.productCode} lot ${lotCode}`.slice(0, 80),
-          formula: material.formula,
-          elements: "elements" in parsed ? parsed.elements : [],
-          form: material.form,
-          massMg: material.massMg,
-          expectedPhase: material.expectedPhase,
-          crystalSystem: material.crystalSystem,
-          centering: material.centering,
-          cellA: material.cellA,
-          cellB: material.cellB,
-          cellC: material.cellC,
-          cellAlpha: material.cellAlpha,
-          cellBeta: material.cellBeta,
-          cellGamma: material.cellGamma,
-          acceptanceWindow: material.acceptanceWindow,
-          ghsPictograms: material.ghsPictograms,
-          hStatements: material.hStatements,
-          specialHazards: material.specialHazards,
-          handlingNotes: material.handlingNotes,
-          afterMeasurement: material.afterMeasurement,
-          sdsFileName: material.sdsFileName,
-          sdsStorageKey: material.sdsStorageKey,
-          sdsSizeBytes: material.sdsSizeBytes,
-          materialId: material.id,
-          lotCode,
-        })),
-      )
-      .returning({ id: schema.samples.id, lotCode: schema.samples.lotCode, position: schema.samples.position });
-    const phaseRows = samples.flatMap((s) => {
-      const position = { expected: 0, candidate: 0 };
-      return material.furtherPhases.map((p) => ({
-        sampleId: s.id,
-        role: p.role,
-        position: position[p.role]++,
-        name: p.name,
-        crystalSystem: p.crystalSystem,
-        centering: p.centering,
-        cellA: p.cell.a,
-        cellB: p.cell.b,
-        cellC: p.cell.c,
-        cellAlpha: p.cell.alpha,
-        cellBeta: p.cell.beta,
-        cellGamma: p.cell.gamma,
-      }));
-    });
-    if (phaseRows.length) await tx.insert(schema.samplePhases).values(phaseRows);
+    const { request, samples } = await requestForLotsTx(tx, material, codes, actor.userId);
     await audit(
       {
         actorUserId: actor.userId,
@@ -312,9 +244,97 @@ export async function requestFromMaterial(materialId: string, lotCodes: string[]
       },
       tx,
     );
-    samples.sort((a, b) => a.position - b.position);
     return { ok: true as const, requestId: request.id, samples: samples.map((s) => ({ id: s.id, lotCode: s.lotCode ?? "" })) };
   });
+}
+
+/** How a lot's request starts when it is not a draft: awarded at once under a standing agreement, never in the market. */
+export interface AwardedLots {
+  currency: string;
+  at: Date;
+}
+
+/**
+ * Inside the caller's transaction, the request for lots of a material and its samples: one sample per lot code (in
+ * the order given, codes already checked), each filled from the material's declaration and keeping the material and
+ * its lot code, with the material's further phases and candidate forms. A draft for the wizard (requestFromMaterial),
+ * or, given `awarded`, a request awarded at once that no lab sees in the market (a lot ordered under a standing
+ * agreement). Answers the request and its samples in lot order.
+ */
+export async function requestForLotsTx(tx: Tx, material: Material, codes: string[], userId: string, awarded?: AwardedLots) {
+  const parsed = parseFormula(material.formula);
+  const title = `${material.productCode} ${material.name}: ${codes.length === 1 ? "lot" : "lots"} ${codes.join(", ")}`;
+  const [request] = await tx
+    .insert(schema.requests)
+    .values({
+      organisationId: material.organisationId,
+      createdBy: userId,
+      title: title.length > 160 ? `${title.slice(0, 159)}…` : title,
+      technique: material.technique,
+      rangeKind: "two_theta",
+      rangeMin: material.rangeMin,
+      rangeMax: material.rangeMax,
+      preferredSource: material.preferredSource,
+      quality: material.quality,
+      ...(awarded
+        ? { state: "awarded" as const, draftStep: "review", currency: awarded.currency, visibility: "invited" as const, openedAt: awarded.at }
+        : { draftStep: "measurement" }),
+    })
+    .returning();
+  const samples = await tx
+    .insert(schema.samples)
+    .values(
+      codes.map((lotCode, position) => ({
+        requestId: request.id,
+        position,
+        label: `${material.productCode} lot ${lotCode}`.slice(0, 80),
+        formula: material.formula,
+        elements: "elements" in parsed ? parsed.elements : [],
+        form: material.form,
+        massMg: material.massMg,
+        expectedPhase: material.expectedPhase,
+        crystalSystem: material.crystalSystem,
+        centering: material.centering,
+        cellA: material.cellA,
+        cellB: material.cellB,
+        cellC: material.cellC,
+        cellAlpha: material.cellAlpha,
+        cellBeta: material.cellBeta,
+        cellGamma: material.cellGamma,
+        acceptanceWindow: material.acceptanceWindow,
+        ghsPictograms: material.ghsPictograms,
+        hStatements: material.hStatements,
+        specialHazards: material.specialHazards,
+        handlingNotes: material.handlingNotes,
+        afterMeasurement: material.afterMeasurement,
+        sdsFileName: material.sdsFileName,
+        sdsStorageKey: material.sdsStorageKey,
+        sdsSizeBytes: material.sdsSizeBytes,
+        materialId: material.id,
+        lotCode,
+      })),
+    )
+    .returning({ id: schema.samples.id, lotCode: schema.samples.lotCode, position: schema.samples.position });
+  const phaseRows = samples.flatMap((s) => {
+    const position = { expected: 0, candidate: 0 };
+    return material.furtherPhases.map((p) => ({
+      sampleId: s.id,
+      role: p.role,
+      position: position[p.role]++,
+      name: p.name,
+      crystalSystem: p.crystalSystem,
+      centering: p.centering,
+      cellA: p.cell.a,
+      cellB: p.cell.b,
+      cellC: p.cell.c,
+      cellAlpha: p.cell.alpha,
+      cellBeta: p.cell.beta,
+      cellGamma: p.cell.gamma,
+    }));
+  });
+  if (phaseRows.length) await tx.insert(schema.samplePhases).values(phaseRows);
+  samples.sort((a, b) => a.position - b.position);
+  return { request, samples };
 }
 
 const finiteCell = (c: Partial<Record<keyof LotCell, number | null>> | null | undefined): Partial<LotCell> | null => {
