@@ -1,5 +1,5 @@
 // Pieces of the standing-agreement screens on both sides: the state badge, the list and the terms with usage.
-import { Link } from "react-router";
+import { Form, Link } from "react-router";
 import { useFormat } from "~/components/locale";
 import { OrderStateBadge } from "~/components/order-state-badge";
 import { Badge, type BadgeTone, TableCard } from "~/components/ui";
@@ -188,5 +188,27 @@ export function AgreementDetails({ view, orderHref }: { view: AgreementView; ord
         </TableCard>
       ) : null}
     </div>
+  );
+}
+
+/** Either side's form to end an agreement with notice (or, the client's, to withdraw a proposal): a reason, then the button. */
+export function NoticeForm({ title, explanation, button }: { title: string; explanation: string; button: string }) {
+  return (
+    <section className="card" aria-labelledby="notice">
+      <h2 id="notice" className="text-lg font-semibold">
+        {title}
+      </h2>
+      <p className="mt-1 text-sm text-ink-700">{explanation}</p>
+      <Form method="post" className="mt-3 space-y-2">
+        <input type="hidden" name="intent" value="notice" />
+        <label htmlFor="notice-reason" className="label">
+          Reason
+        </label>
+        <input id="notice-reason" name="reason" className="input" maxLength={500} required />
+        <button type="submit" className="btn-secondary">
+          {button}
+        </button>
+      </Form>
+    </section>
   );
 }

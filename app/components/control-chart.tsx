@@ -32,6 +32,8 @@ export interface ControlChartData {
   baseline?: [number, number] | null;
   /** The value axis's words, e.g. "a (Å)". */
   axisLabel: string;
+  /** The x axis's words; lots in order unless given (e.g. "Calibration scan, by date"). */
+  xLabel?: string;
   /** The points' name in the legend, e.g. "Lot value" or "Moving range". */
   valueLabel?: string;
   digits: number;
@@ -76,7 +78,8 @@ export function ControlChart({
       const known = values.filter((v): v is number => v !== null);
       const lo = Math.min(...known, ...(limits ? [limits.lcl] : []), ...(band ? [band.lower] : []));
       const hi = Math.max(...known, ...(limits ? [limits.ucl] : []), ...(band ? [band.upper] : []));
-      const pad = (hi - lo || Math.abs(hi) * 1e-4 || 1) * 0.08;
+      // A flat series still gets an axis whose ticks differ in the digits shown.
+      const pad = Math.max((hi - lo) * 0.08, 2 * 10 ** -data.digits);
       const dpr = () => devicePixelRatio;
       const sigma = limits?.sigma ?? null;
       const fmt = (v: number | null) => (v == null ? "—" : v.toFixed(data.digits));
@@ -174,7 +177,7 @@ export function ControlChart({
         },
         axes: [
           {
-            label: "Lot, in order of measurement",
+            label: data.xLabel ?? "Lot, in order of measurement",
             stroke: "#3a4151",
             grid: { stroke: "#eceef2" },
             ticks: { stroke: "#d6dae2" },

@@ -4,8 +4,7 @@
 // lab's on-time delivery. Pure rules; they run in the browser and on the server alike.
 import { individualsLimits, WESTERN_ELECTRIC_RULES, westernElectric, type ControlLimits, type RuleNumber } from "./spc";
 import { z } from "zod";
-import { FileNameSchema } from "./storage-keys";
-import { APPROVAL_TOLERANCE_A, CALIBRATION_STANDARD_KEYS, CALIBRATION_STANDARDS } from "./vetting";
+import { APPROVAL_TOLERANCE_A, CALIBRATION_STANDARDS, CalibrationScanFields } from "./vetting";
 
 /** The control limits come from at most this many of the instrument's first passing calibrations. */
 export const CALIBRATION_BASELINE_MAX = 12;
@@ -150,6 +149,19 @@ export function calibrationCharts(rows: ChartRow[]): ChartSeries[] {
   });
 }
 
+/** A calibration chart's summary in words: the picture's label and its caption. */
+export function chartSummary(series: ChartSeries, decimals: number): string {
+  const n = series.values.length;
+  if (n === 0) return `${series.label}: no scans yet.`;
+  const flagged = series.flags.filter((f) => f.length > 0).length;
+  const l = series.limits;
+  const limits = l
+    ? `centre ${l.center.toFixed(decimals)} ${series.unit}, limits ${l.lcl.toFixed(decimals)} to ${l.ucl.toFixed(decimals)} ${series.unit} from the first ${l.baselinePoints} passing scans`
+    : `no control limits yet (they need ${CALIBRATION_BASELINE_MIN} passing scans)`;
+  const last = series.values[n - 1];
+  return `${series.label}: ${n} ${n === 1 ? "scan" : "scans"}, latest ${last.toFixed(decimals)} ${series.unit}; ${limits}; ${flagged} ${flagged === 1 ? "point breaks" : "points break"} a Western Electric rule.`;
+}
+
 /** When the next calibration is due: the measurement plus the interval in days. */
 export function nextDueAt(measuredAt: Date, intervalDays: number): Date {
   return new Date(measuredAt.getTime() + intervalDays * 86_400_000);
@@ -199,16 +211,8 @@ export function onTimeText(r: OnTimeRecord): string {
   return `On time: ${r.onTime} of ${r.delivered} ${r.delivered === 1 ? "order" : "orders"} in ${RECORD_MONTHS} months`;
 }
 
-/** The repeat calibration form: the standard and the stored scan (uploaded straight to storage first). */
-export const CalibrationScanSchema = z.object({
-  standard: z.enum(CALIBRATION_STANDARD_KEYS, { error: "Choose the standard the calibration scan was measured on." }),
-  scanKey: z.string({ error: "Upload the calibration scan." }).min(1, "Upload the calibration scan."),
-  scanName: FileNameSchema.default("scan.xy"),
-  scanSha256: z
-    .string()
-    .regex(/^[0-9a-f]{64}$/i)
-    .optional(),
-});
+/** The repeat calibration form: the standard and the stored scan, as vetting's form takes them. */
+export const CalibrationScanSchema = z.object(CalibrationScanFields);
 
 /** The schedule form: days between calibration scans. */
 export const CalibrationIntervalSchema = z.object({

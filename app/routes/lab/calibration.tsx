@@ -4,13 +4,16 @@ import { getFormProps, getInputProps, useForm, type SubmissionResult } from "@co
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useMemo, useState } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
-import { CalibrationChart, CalibrationStateBadge, chartSummary } from "~/components/calibration-chart";
+import { CalibrationStateBadge } from "~/components/calibration-state";
+import { ControlChart, type ControlChartData } from "~/components/control-chart";
 import { DirectUpload, type UploadedFile } from "~/components/direct-upload";
 import { Badge, EmptyState, Field, FieldErrors, FormError, PageHeader, TableCard } from "~/components/ui";
 import {
   CalibrationIntervalSchema,
   CalibrationScanSchema,
   calibrationCharts,
+  chartSummary,
+  type ChartSeries,
   signedAngstrom,
   standardLabel,
   withdrawalReason,
@@ -105,10 +108,26 @@ export async function action({ request, params, context }: Route.ActionArgs) {
 
 const day = (iso: string) => iso.slice(0, 10);
 const DECIMALS = { deviation: 5, zeroShift: 4, width: 4 } as const;
+/** The value axis's words: short, so they fit beside the chart (the caption says the rest). */
+const AXIS_WORDS = { deviation: "Deviation", zeroShift: "Zero shift", width: "FWHM" } as const;
+
+/** A calibration series as the generic control chart draws it: scans in order, each under its date. */
+function chartData(c: ChartSeries): ControlChartData {
+  const dateOf = (t: number) => new Date(t * 1000).toISOString().slice(0, 10);
+  return {
+    points: c.values.map((value, i) => ({ x: i + 1, tick: dateOf(c.times[i]), words: `Scan ${i + 1}, ${dateOf(c.times[i])}`, value, rules: c.flags[i] ?? [] })),
+    limits: c.limits ? { center: c.limits.center, ucl: c.limits.ucl, lcl: c.limits.lcl, sigma: c.limits.sigma } : null,
+    zones: true,
+    axisLabel: `${AXIS_WORDS[c.key]} (${c.unit})`,
+    xLabel: "Calibration scan, by date",
+    valueLabel: "Scan",
+    digits: DECIMALS[c.key],
+  };
+}
 
 export default function InstrumentCalibration({ loaderData, actionData }: Route.ComponentProps) {
   const { canEdit, instrument, scans } = loaderData;
-  const charts = useMemo(() => calibrationCharts(scans), [scans]);
+  const charts = useMemo(() => calibrationCharts(scans).map((c) => ({ ...c, data: chartData(c) })), [scans]);
   const withdrawn = withdrawalReason(instrument.state);
   return (
     <div className="space-y-6">
@@ -164,7 +183,14 @@ export default function InstrumentCalibration({ loaderData, actionData }: Route.
                   </span>
                   <span className="block text-ink-600">{chartSummary(c, DECIMALS[c.key])}</span>
                 </figcaption>
-                {c.values.length ? <CalibrationChart series={c} decimals={DECIMALS[c.key]} /> : null}
+                {c.values.length ? (
+                  <ControlChart
+                    data={c.data}
+                    label={`Control chart of ${c.label.toLowerCase()}, as summarised above`}
+                    height={220}
+                    testId={`calibration-chart-${c.key}`}
+                  />
+                ) : null}
               </figure>
             ))}
           </section>

@@ -3,7 +3,7 @@ import { getCollectionProps, getFormProps, getInputProps, useForm, type Submissi
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useActionData, useNavigation, useSearchParams } from "react-router";
 import type { z } from "zod";
-import { CalibrationStateBadge } from "~/components/calibration-chart";
+import { CalibrationStateBadge } from "~/components/calibration-state";
 import { GhsIcon } from "~/components/ghs-icon";
 import { SelectField } from "~/components/select-field";
 import { Badge, EmptyState, Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
