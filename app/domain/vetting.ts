@@ -107,6 +107,17 @@ export function approvalProblem(lab: { licenceAttestation: string | null; licenc
   return null;
 }
 
+/** A calibration scan as vetting's and the repeat calibrations' forms take it: the standard and the stored scan (uploaded straight to storage first). */
+export const CalibrationScanFields = {
+  standard: z.enum(CALIBRATION_STANDARD_KEYS, { error: "Choose the standard the calibration scan was measured on." }),
+  scanKey: z.string({ error: "Upload the calibration scan." }).min(1, "Upload the calibration scan."),
+  scanName: FileNameSchema.default("scan.xy"),
+  scanSha256: z
+    .string()
+    .regex(/^[0-9a-f]{64}$/i)
+    .optional(),
+};
+
 /** The form a lab manager fills in; file fields carry what DirectUpload reported. */
 export const VettingApplicationSchema = z.object({
   description: z
@@ -134,7 +145,7 @@ export const VettingApplicationSchema = z.object({
     .trim()
     .min(3, "Sign the statement with your full name.")
     .max(120, "At most 120 characters."),
-  standard: z.enum(CALIBRATION_STANDARD_KEYS, { error: "Choose the standard the calibration scan was measured on." }),
+  ...CalibrationScanFields,
   instrumentName: z
     .string({ error: "Name the instrument the scan was measured on." })
     .trim()
@@ -142,12 +153,6 @@ export const VettingApplicationSchema = z.object({
     .max(120, "At most 120 characters."),
   anode: z.enum(ANODE_CHOICES, { error: "Choose the anode of the source." }),
   monochromation: z.enum(MONOCHROMATION_CHOICES, { error: "Choose how the beam was monochromated." }),
-  scanKey: z.string({ error: "Upload the calibration scan." }).min(1, "Upload the calibration scan."),
-  scanName: FileNameSchema.default("scan.xy"),
-  scanSha256: z
-    .string()
-    .regex(/^[0-9a-f]{64}$/i)
-    .optional(),
 });
 
 /** The statement as stored once signed: the words the manager confirmed and their name. */

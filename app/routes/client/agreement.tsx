@@ -1,6 +1,6 @@
 // /client/agreements/:id — a standing agreement from the client's side: terms, usage, its orders; order a lot, give notice.
 import { data, Form } from "react-router";
-import { AgreementDetails, AgreementStateBadge } from "~/components/agreement-parts";
+import { AgreementDetails, AgreementStateBadge, NoticeForm } from "~/components/agreement-parts";
 import { FormError, PageHeader } from "~/components/ui";
 import { lotCodesFrom } from "~/domain/agreements";
 import { agreementForParty, giveNotice, orderLots } from "~/models/agreements/agreements.server";
@@ -91,26 +91,15 @@ export default function ClientAgreement({ loaderData, actionData }: Route.Compon
       ) : null}
       <AgreementDetails view={view} orderHref="/client/orders" />
       {a.state === "active" || a.state === "proposed" ? (
-        <section className="card" aria-labelledby="notice">
-          <h2 id="notice" className="text-lg font-semibold">
-            {a.state === "proposed" ? "Withdraw the proposal" : "End with notice"}
-          </h2>
-          <p className="mt-1 text-sm text-ink-700">
-            {a.state === "proposed"
+        <NoticeForm
+          title={a.state === "proposed" ? "Withdraw the proposal" : "End with notice"}
+          explanation={
+            a.state === "proposed"
               ? "The proposal ends at once."
-              : `The agreement ends ${a.noticeDays} days after notice (or on its last day, if sooner); lots may still be ordered until then.`}
-          </p>
-          <Form method="post" className="mt-3 space-y-2">
-            <input type="hidden" name="intent" value="notice" />
-            <label htmlFor="notice-reason" className="label">
-              Reason
-            </label>
-            <input id="notice-reason" name="reason" className="input" maxLength={500} required />
-            <button type="submit" className="btn-secondary">
-              {a.state === "proposed" ? "Withdraw" : "Give notice"}
-            </button>
-          </Form>
-        </section>
+              : `The agreement ends ${a.noticeDays} days after notice (or on its last day, if sooner); lots may still be ordered until then.`
+          }
+          button={a.state === "proposed" ? "Withdraw" : "Give notice"}
+        />
       ) : null}
     </div>
   );

@@ -1,6 +1,6 @@
 // /lab/agreements/:id — a standing agreement from the lab's side: terms, usage, its orders; agree, decline, give notice.
 import { data, Form } from "react-router";
-import { AgreementDetails, AgreementStateBadge } from "~/components/agreement-parts";
+import { AgreementDetails, AgreementStateBadge, NoticeForm } from "~/components/agreement-parts";
 import { FormError, PageHeader } from "~/components/ui";
 import { agreementForParty, decideAgreement, giveNotice } from "~/models/agreements/agreements.server";
 import { readForm } from "~/utils/form.server";
@@ -78,24 +78,11 @@ export default function LabAgreement({ loaderData, actionData }: Route.Component
       ) : null}
       <AgreementDetails view={view} orderHref="/lab/orders" />
       {a.state === "active" ? (
-        <section className="card" aria-labelledby="notice">
-          <h2 id="notice" className="text-lg font-semibold">
-            End with notice
-          </h2>
-          <p className="mt-1 text-sm text-ink-700">
-            The agreement ends {a.noticeDays} days after notice (or on its last day, if sooner); the client may still order lots until then.
-          </p>
-          <Form method="post" className="mt-3 space-y-2">
-            <input type="hidden" name="intent" value="notice" />
-            <label htmlFor="notice-reason" className="label">
-              Reason
-            </label>
-            <input id="notice-reason" name="reason" className="input" maxLength={500} required />
-            <button type="submit" className="btn-secondary">
-              Give notice
-            </button>
-          </Form>
-        </section>
+        <NoticeForm
+          title="End with notice"
+          explanation={`The agreement ends ${a.noticeDays} days after notice (or on its last day, if sooner); the client may still order lots until then.`}
+          button="Give notice"
+        />
       ) : null}
     </div>
   );
