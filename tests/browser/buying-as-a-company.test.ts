@@ -14,12 +14,10 @@ import type { Page } from "playwright-core";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { monthName } from "../../app/domain/fee-invoice";
 import { checkAccessibility } from "./a11y";
-import { BASE_URL, clearSignInAttempts, openBrowser, query, screenshot, signIn, visit, type Browser } from "./harness";
+import { BASE_URL, clearSignInAttempts, openBrowser, PAYMENTS_FAKE, query, screenshot, sendPaymentWebhooksHere, signIn, visit, type Browser } from "./harness";
 
 const TITLE = "Polymorph screen of API lot PSF-203 on a purchase order";
 const PO = "PSF-PO-04611";
-const PAYMENTS_FAKE = `http://127.0.0.1:${process.env.PAYMENTS_FAKE_PORT ?? 54332}`;
-const WEBHOOK_URL = `${BASE_URL}/api/webhooks/payments`;
 // Two samples at €160.00: €320.00. Granite Ridge (Canada) sells to Pinecrest (United Kingdom): no EU VAT is added
 // (Council Directive 2006/112/EC applies to supplies within the EU only), so the order total is the quote total.
 const UNIT_MINOR = 16_000;
@@ -43,7 +41,7 @@ let invoiceNumber = "";
 let creditNoteNumber = "";
 let pinecrestId = "";
 let requiredBefore = false;
-let addedWebhook = false;
+let undoWebhook = async () => {};
 const today = new Date().toISOString().slice(0, 10);
 const month = today.slice(0, 7);
 
@@ -136,15 +134,7 @@ beforeAll(async () => {
   requiredBefore = org.requires_purchase_order;
   await query("update organisations set requires_purchase_order = true where id = $1", [pinecrestId]);
   // The provider's webhooks must reach the app under test, whichever port it runs on.
-  const { endpoints } = (await (await fetch(`${PAYMENTS_FAKE}/_fake/webhook-endpoints`)).json()) as { endpoints: string[] };
-  if (!endpoints.includes(WEBHOOK_URL)) {
-    await fetch(`${PAYMENTS_FAKE}/_fake/webhook-endpoints`, {
-      method: "POST",
-      headers: { "Content-Type": "application/json" },
-      body: JSON.stringify({ url: WEBHOOK_URL }),
-    });
-    addedWebhook = true;
-  }
+  undoWebhook = await sendPaymentWebhooksHere();
   const [owner] = await query<{ id: string }>("select id from users where email = 'owner@pinecrest.example'");
   const [request] = await query<{ id: string }>(
     `insert into requests (organisation_id, created_by, title, state, range_min, range_max, currency, opened_at)
@@ -175,7 +165,7 @@ afterAll(async () => {
   await b?.close();
   if (dir) fs.rmSync(dir, { recursive: true, force: true });
   if (pinecrestId) await query("update organisations set requires_purchase_order = $2 where id = $1", [pinecrestId, requiredBefore]);
-  if (addedWebhook) await fetch(`${PAYMENTS_FAKE}/_fake/webhook-endpoints?url=${encodeURIComponent(WEBHOOK_URL)}`, { method: "DELETE" });
+  await undoWebhook();
   await clearSignInAttempts();
 });
 

@@ -8,7 +8,8 @@ import pg from "pg";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { SILICON } from "~/diffraction/structures";
 import { databaseUrl } from "../../services/postgres";
-import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, visit, waitForHydration, type Browser } from "./harness";
+import { openCalibrationRecord, recordCalibrationScan } from "./calibration-steps";
+import { BASE_URL, clearSignInAttempts, openBrowser, screenshot, signIn, visit, type Browser } from "./harness";
 import { simulatedXy } from "./test-files";
 
 const INSTRUMENT = "Reflection diffractometer A (Cu)";
@@ -42,27 +43,14 @@ afterAll(async () => {
   if (process.env.DATABASE_URL) await (await import("~/db/client.server")).db.$client.end();
 });
 
-async function recordScan() {
-  const page = b.page;
-  await waitForHydration(page);
-  await page.getByLabel(/Scan of the standard/).setInputFiles(path.join(dir, "si-640c-monthly.xy"));
-  await page.getByText("✓ si-640c-monthly.xy uploaded").waitFor();
-  await page.getByRole("button", { name: "Check and record" }).click();
-  await page.getByText(/^Calibration passed: /).waitFor({ timeout: 60_000 });
-}
+const recordScan = () => recordCalibrationScan(b.page, path.join(dir, "si-640c-monthly.xy"));
 
 describe("calibration on record", () => {
   it("a lab manager records a calibration scan from the instrument's card", async () => {
     const page = b.page;
     await signIn(page, "lab@graniteridge.example");
     await page.waitForURL(`${BASE_URL}/lab`);
-    await visit(page, "/lab/capabilities");
-    await page
-      .getByRole("article", { name: `Instrument ${INSTRUMENT}` })
-      .getByRole("link", { name: "Calibration record" })
-      .click();
-    await page.getByRole("heading", { name: `Calibration of ${INSTRUMENT}` }).waitFor();
-    calibrationPath = new URL(page.url()).pathname;
+    calibrationPath = await openCalibrationRecord(page, INSTRUMENT);
     await recordScan();
     await page.getByText("Calibration in order", { exact: true }).first().waitFor();
     await page.getByRole("heading", { name: "Control charts" }).waitFor();

@@ -125,6 +125,22 @@ export async function query<T extends pg.QueryResultRow>(text: string, values: u
   }
 }
 
+export const PAYMENTS_FAKE = `http://127.0.0.1:${process.env.PAYMENTS_FAKE_PORT ?? 54332}`;
+
+/**
+ * Has the payment provider's fake send its webhooks to the app under test, whichever port it runs on; answers what
+ * undoes it (nothing when the address was already there).
+ */
+export async function sendPaymentWebhooksHere(): Promise<() => Promise<void>> {
+  const url = `${BASE_URL}/api/webhooks/payments`;
+  const { endpoints } = (await (await fetch(`${PAYMENTS_FAKE}/_fake/webhook-endpoints`)).json()) as { endpoints: string[] };
+  if (endpoints.includes(url)) return async () => {};
+  await fetch(`${PAYMENTS_FAKE}/_fake/webhook-endpoints`, { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify({ url }) });
+  return async () => {
+    await fetch(`${PAYMENTS_FAKE}/_fake/webhook-endpoints?url=${encodeURIComponent(url)}`, { method: "DELETE" });
+  };
+}
+
 /** Sign-in failures are counted per address and every browser test signs in from 127.0.0.1: a file leaves none behind. */
 export async function clearSignInAttempts() {
   await query("delete from sign_in_attempts");
