@@ -34,6 +34,20 @@ interface DemoScan {
 
 // Approximate olivine cell as a client would declare it (rounded literature values, from memory).
 export const LFP_DECLARED: Cell = { a: 10.33, b: 6.01, c: 4.69, alpha: 90, beta: 90, gamma: 90 };
+/** An LFP sample's or material's declaration as its columns (samples and materials share them). */
+export const LFP_DECLARATION = {
+  formula: "LiFePO4",
+  form: "powder",
+  expectedPhase: "LiFePO4, olivine (triphylite)",
+  crystalSystem: "orthorhombic",
+  centering: "P",
+  cellA: LFP_DECLARED.a,
+  cellB: LFP_DECLARED.b,
+  cellC: LFP_DECLARED.c,
+  cellAlpha: 90,
+  cellBeta: 90,
+  cellGamma: 90,
+} as const;
 // The "true" cell of the demo lot: invented, a little off the declaration as a real batch would be.
 export const LFP_LOT: Cell = { a: 10.326, b: 6.006, c: 4.695, alpha: 90, beta: 90, gamma: 90 };
 export const LFP_SCAN = {

@@ -45,7 +45,7 @@ import { expireOverdueRequests, withdrawRequest } from "~/models/requests/reques
 import { putObject, storageKeyFor } from "~/models/files/storage.server";
 import { simplePdf } from "./demo-pdf";
 import { payOrder } from "./seed-orders.server";
-import { CO, CU, LFP_DECLARED, LFP_LOT, LFP_SCAN, storeCheckedScan } from "./seed-scans.server";
+import { CO, CU, LFP_DECLARATION, LFP_LOT, LFP_SCAN, storeCheckedScan } from "./seed-scans.server";
 
 const DAY = 86_400_000;
 const isoDate = (offsetDays: number) => new Date(Date.now() + offsetDays * DAY).toISOString().slice(0, 10);
@@ -123,18 +123,9 @@ export interface ScenarioRequest {
 
 const lfp = (label: string, phase = "LiFePO4, olivine (triphylite)"): SampleSpec["fields"] => ({
   label,
-  formula: "LiFePO4",
-  form: "powder",
+  ...LFP_DECLARATION,
   massMg: 400,
   expectedPhase: phase,
-  crystalSystem: "orthorhombic",
-  centering: "P",
-  cellA: LFP_DECLARED.a,
-  cellB: LFP_DECLARED.b,
-  cellC: LFP_DECLARED.c,
-  cellAlpha: 90,
-  cellBeta: 90,
-  cellGamma: 90,
 });
 
 /** Layered NMC on hexagonal axes (R -3 m): a ≈ 2.87 Å, c ≈ 14.2 Å (common literature values, from memory). */

@@ -17,7 +17,7 @@ import { decideAgreement, orderLots, proposeAgreement } from "~/models/agreement
 import { acceptDelivery, markDelivered, markReceived, markShipped, startMeasuring } from "~/models/orders/lifecycle.server";
 import { createOrderTx } from "~/models/orders/create.server";
 import { onboardDemoLabs, payOrder } from "./seed-orders.server";
-import { LFP_DECLARED, LFP_SCAN, storeCheckedScan } from "./seed-scans.server";
+import { LFP_DECLARATION, LFP_SCAN, storeCheckedScan } from "./seed-scans.server";
 
 export const TREND_DEMO_PRODUCT_CODE = "HCW-LFP-C20";
 /** The one-off order the agreement was made from (its accepted quote sets the price per lot). */
@@ -161,19 +161,9 @@ async function sourceOrder(clientId: string, labId: string, instrumentId: string
         requestId: request.id,
         position: 0,
         label: "C20-2500",
-        formula: "LiFePO4",
+        ...LFP_DECLARATION,
         elements: ["Fe", "Li", "O", "P"],
-        form: "powder",
         massMg: 500,
-        expectedPhase: "LiFePO4, olivine (triphylite)",
-        crystalSystem: "orthorhombic",
-        centering: "P",
-        cellA: LFP_DECLARED.a,
-        cellB: LFP_DECLARED.b,
-        cellC: LFP_DECLARED.c,
-        cellAlpha: 90,
-        cellBeta: 90,
-        cellGamma: 90,
         acceptanceWindow: WINDOW,
       })
       .returning({ id: schema.samples.id, label: schema.samples.label });
@@ -247,18 +237,8 @@ export async function seedDemoTrends() {
         organisationId: halvorsen.id,
         productCode: TREND_DEMO_PRODUCT_CODE,
         name: "Carbon-coated LFP cathode powder, grade C20",
-        formula: "LiFePO4",
-        form: "powder",
+        ...LFP_DECLARATION,
         massMg: 500,
-        expectedPhase: "LiFePO4, olivine (triphylite)",
-        crystalSystem: "orthorhombic",
-        centering: "P",
-        cellA: LFP_DECLARED.a,
-        cellB: LFP_DECLARED.b,
-        cellC: LFP_DECLARED.c,
-        cellAlpha: 90,
-        cellBeta: 90,
-        cellGamma: 90,
         acceptanceWindow: WINDOW,
         technique: "powder_reflection",
         rangeMin: 15,
