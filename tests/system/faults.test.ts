@@ -102,11 +102,11 @@ async function mailFake() {
   return (await res.json()) as { messages: { to: string[]; subject: string; idempotencyKey: string | null }[]; sendAttempts: number };
 }
 
-async function paymentFault(mode: "none" | "error_500" | "timeout", count = 10) {
+async function paymentFault(mode: "none" | "error_500" | "timeout", count = 10, pathPrefix?: string) {
   const res = await fetch(`${stack.fakes.payments.url}/_fake/faults`, {
     method: "POST",
     headers: { "content-type": "application/json" },
-    body: JSON.stringify({ mode, count, hangMs: 20_000 }),
+    body: JSON.stringify({ mode, count, hangMs: 20_000, pathPrefix }),
   });
   expect(res.ok).toBe(true);
 }
@@ -315,7 +315,9 @@ describe.sequential("faults while the app runs", () => {
     const paymentsBefore = await stack.sql("select 1 from payments where order_id = $1", [order.id]);
 
     for (const mode of ["error_500", "timeout"] as const) {
-      await paymentFault(mode);
+      // Aimed at checkout sessions: the worker's own calls to the provider (payout sweeps, transfer syncs) would
+      // otherwise use up the injected faults before the client's click reaches the provider.
+      await paymentFault(mode, 10, "/v1/checkout/sessions");
       const t0 = Date.now();
       const res = await client.form(`/client/orders/${order.id}`, { intent: "pay" });
       expect(res.status, mode).toBe(503);
