@@ -7,12 +7,12 @@ import { transferDemoIds } from "~/demo/seed-transfer.server";
 import { TIER_REQUEST_TITLE } from "~/demo/seed-tiers.server";
 import { TREND_DEMO_PRODUCT_CODE, TREND_DEMO_SOURCE_TITLE } from "~/demo/seed-trends.server";
 
-async function requestId(title: string) {
+export async function requestId(title: string) {
   const [row] = await db.select({ id: schema.requests.id }).from(schema.requests).where(eq(schema.requests.title, title));
   return row?.id ?? "";
 }
 
-async function orderId(title: string) {
+export async function orderId(title: string) {
   const [row] = await db
     .select({ id: schema.orders.id })
     .from(schema.orders)
@@ -21,13 +21,13 @@ async function orderId(title: string) {
   return row?.id ?? "";
 }
 
-async function materialId(productCode: string) {
+export async function materialId(productCode: string) {
   const [row] = await db.select({ id: schema.materials.id }).from(schema.materials).where(eq(schema.materials.productCode, productCode));
   return row?.id ?? "";
 }
 
 /** The standing agreement of the demo's material (the cathode grade's, with Granite Ridge). */
-async function agreementId(productCode: string) {
+export async function agreementId(productCode: string) {
   const [row] = await db
     .select({ id: schema.standingAgreements.id })
     .from(schema.standingAgreements)
@@ -36,13 +36,13 @@ async function agreementId(productCode: string) {
   return row?.id ?? "";
 }
 
-async function instrumentId(name: string) {
+export async function instrumentId(name: string) {
   const [row] = await db.select({ id: schema.instruments.id }).from(schema.instruments).where(eq(schema.instruments.name, name));
   return row?.id ?? "";
 }
 
 /** The check of the order's scan with this file name. */
-async function checkId(fileName: string) {
+export async function checkId(fileName: string) {
   const [row] = await db
     .select({ id: schema.scanChecks.id })
     .from(schema.scanChecks)
