@@ -1,6 +1,7 @@
 // The check screen's answers about phases: the acceptance window beside the verdict, the declared phases (main and
 // expected) with their refined cells and why each counts as present or absent, and the candidate forms with the
 // one that explains the scan (docs/decisions/012-phases-and-window.md).
+import { CellSymbol, Formula } from "~/components/symbols";
 import type { CandidateResult } from "~/diffraction/phases";
 import { phaseColour } from "./check-plot";
 import {
@@ -56,7 +57,7 @@ export function WindowPanel({ result }: { result: CheckScreenResult }) {
               {rows.map((r) => (
                 <tr key={r.key} data-inside={r.inside === null ? "unknown" : String(r.inside)}>
                   <th scope="row" className={ROW_HEADER}>
-                    {r.name}
+                    <CellSymbol name={r.name} />
                   </th>
                   <td className="tabular-nums">
                     <span className="whitespace-nowrap">{r.window}</span>
@@ -101,7 +102,7 @@ export function PhasesTable({ result }: { result: CheckScreenResult }) {
                 <svg viewBox="0 0 12 12" className="h-3 w-3 shrink-0" aria-hidden="true" focusable="false">
                   <path d="M3 1v10M9 1v10" stroke={phaseColour(i)} strokeWidth="2" strokeDasharray={p.present ? undefined : "2 2"} />
                 </svg>
-                {phaseName(p, i)}
+                <Formula>{phaseName(p, i)}</Formula>
               </span>
             </th>
             <td className="whitespace-nowrap">{systemWords(p)}</td>

@@ -74,3 +74,103 @@ function skipNumber(s: string, i: number) {
   if (Number(match[0]) === 0) return -1;
   return next;
 }
+
+/** One run of a formula as the trade writes it: normal text, a subscript count or a superscript charge. */
+export interface FormulaPart {
+  text: string;
+  kind: "text" | "sub" | "sup";
+}
+
+const CHARGE = /^(.*?)(?:(?:\^|\s)(\d*[+\-−])|([A-Za-z)\]}])(\d?[+\-−]))$/;
+
+/**
+ * A formula split into runs for display — counts after a symbol or bracket as subscripts, a hydrate's multiplier
+ * after "·" as normal text, a trailing charge ("^2-", " 2-", "3+" after a symbol) as a superscript — or null when
+ * the text is not a formula that parseFormula accepts (names such as "Form I" or "NMC811" stay as written).
+ */
+export function formulaParts(text: string): FormulaPart[] | null {
+  const trimmed = text.trim();
+  let body = trimmed;
+  let charge = "";
+  const m = CHARGE.exec(trimmed);
+  if (m) {
+    body = m[3] ? m[1] + m[3] : m[1];
+    charge = (m[2] ?? m[4] ?? "").replace("-", "−");
+  }
+  if (!body || /\s/.test(body) || "elements" in parseFormula(body) === false) return null;
+  const parts: FormulaPart[] = [];
+  const push = (s: string, kind: FormulaPart["kind"]) => {
+    const last = parts[parts.length - 1];
+    if (last && last.kind === kind) last.text += s;
+    else parts.push({ text: s, kind });
+  };
+  let i = 0;
+  while (i < body.length) {
+    const number = /^(\d+(\.\d+)?|\.\d+)/.exec(body.slice(i));
+    if (number) {
+      const prev = body[i - 1] ?? "";
+      // A count follows a symbol or a closing bracket; a multiplier opens the formula or follows "·".
+      push(number[0], /[A-Za-z)\]}]/.test(prev) ? "sub" : "text");
+      i += number[0].length;
+    } else {
+      push(body[i] === "*" ? "·" : body[i], "text");
+      i += 1;
+    }
+  }
+  if (charge) push(charge, "sup");
+  return parts;
+}
+
+const SUB_DIGITS = "₀₁₂₃₄₅₆₇₈₉";
+const SUP: Record<string, string> = { "+": "⁺", "−": "⁻", "0": "⁰", "1": "¹", "2": "²", "3": "³", "4": "⁴", "5": "⁵", "6": "⁶", "7": "⁷", "8": "⁸", "9": "⁹" };
+
+/**
+ * A formula in plain text with Unicode sub- and superscripts (LiFePO₄, Fe³⁺), for places that cannot hold markup:
+ * canvas labels, e-mail subjects, CSV-free plain text. Text that is not a formula comes back as it was.
+ */
+export function formulaUnicode(text: string): string {
+  return formulaRuns(text)
+    .map((p) =>
+      p.kind === "sub" ? p.text.replace(/\d/g, (d) => SUB_DIGITS[Number(d)]) : p.kind === "sup" ? [...p.text].map((c) => SUP[c] ?? c).join("") : p.text,
+    )
+    .join("");
+}
+
+/**
+ * Running text (a phase's name, "LiFePO4 (olivine)", "Li3PO4 residue") as runs: each word that is a formula with a
+ * count, bracket or charge gets its sub- and superscripts; every other character stays as written.
+ */
+export function formulaRuns(text: string): FormulaPart[] {
+  const runs: FormulaPart[] = [];
+  const push = (p: FormulaPart) => {
+    const last = runs[runs.length - 1];
+    if (last && last.kind === p.kind) last.text += p.text;
+    else runs.push({ ...p });
+  };
+  for (const token of text.split(/(\s+)/)) {
+    if (!token) continue;
+    const whole = formulaWord(token);
+    if (whole) {
+      whole.forEach(push);
+      continue;
+    }
+    // Punctuation around a formula in a sentence: "(LiFePO4)", "LiFePO4,".
+    const m = /^([([{"“]*)(.*?)([)\]}"”.,;:]*)$/.exec(token);
+    const inner = m?.[2] ? formulaWord(m[2]) : null;
+    if (m && inner) {
+      if (m[1]) push({ text: m[1], kind: "text" });
+      inner.forEach(push);
+      if (m[3]) push({ text: m[3], kind: "text" });
+    } else {
+      push({ text: token, kind: "text" });
+    }
+  }
+  return runs;
+}
+
+/** A word of running text read as a formula when it is one and has a count, bracket or charge to show. */
+export function formulaWord(word: string): FormulaPart[] | null {
+  if (!/[A-Z]/.test(word) || !/[\d()[\]{}+\-−·]/.test(word)) return null;
+  const parts = formulaParts(word);
+  return parts?.some((p) => p.kind !== "text" || /[·]/.test(p.text)) ? parts : null;
+}
