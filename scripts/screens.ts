@@ -14,6 +14,8 @@ import { timeStep, totpCodeAt } from "~/models/accounts/totp.server";
 const base = process.env.APP_URL ?? `http://127.0.0.1:${process.env.PORT ?? 3000}`;
 const out = path.resolve(process.argv[2] ?? "test-results/screens");
 const only = process.argv[3] ? new RegExp(process.argv[3]) : null;
+/** SCREENS_PNG=1: the first screen only, as PNG (for a quick look in an image viewer). */
+const png = process.env.SCREENS_PNG === "1";
 const WIDTHS = [
   { name: "desk", width: 1366, height: 900 },
   { name: "phone", width: 390, height: 844 },
@@ -109,14 +111,16 @@ for (const size of WIDTHS) {
     await page.goto(`${base}${await s.path()}`);
     await page.waitForLoadState("networkidle");
     const height = await page.evaluate(() => document.documentElement.scrollHeight);
-    const file = path.join(out, `${s.name}-${size.name}.jpg`);
-    await page.screenshot({
-      path: file,
-      type: "jpeg",
-      quality: 50,
-      fullPage: true,
-      clip: { x: 0, y: 0, width: size.width, height: Math.min(height, SCREENS_KEPT * size.height) },
-    });
+    const file = path.join(out, `${s.name}-${size.name}.${png ? "png" : "jpg"}`);
+    if (png) await page.screenshot({ path: file });
+    else
+      await page.screenshot({
+        path: file,
+        type: "jpeg",
+        quality: 50,
+        fullPage: true,
+        clip: { x: 0, y: 0, width: size.width, height: Math.min(height, SCREENS_KEPT * size.height) },
+      });
     rows.push(`${s.name.padEnd(24)} ${size.name.padEnd(6)} ${String(height).padStart(6)} px`);
     console.log(rows.at(-1));
   }
