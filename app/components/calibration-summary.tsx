@@ -1,5 +1,8 @@
 // The calibration check of a lab's vetting application: refined cell against the certified one, the verdict and the
 // plot (the same interactive plot as a delivered scan's check).
+import { formulaUnicode } from "~/domain/formula";
+import { FormulaText } from "~/components/symbol-values";
+import { CellSymbol } from "~/components/symbols";
 import { useMemo } from "react";
 import { CheckPlot, type CheckPlotData } from "./check-plot";
 import { plotCurves, rFactor } from "./check-words";
@@ -35,7 +38,7 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
       ...plotCurves(p),
       wavelength: check.instrument.wavelength,
       ticks,
-      rows: [{ name: standard.label, role: "main", present: true, ticks }],
+      rows: [{ name: formulaUnicode(standard.label), role: "main", present: true, ticks }],
     };
   }, [check, standard.label]);
   const wp = check.wholePattern;
@@ -69,8 +72,10 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
       <dl className="grid gap-x-6 gap-y-2 text-sm sm:grid-cols-[10rem_1fr]">
         {rows.map(([k, v]) => (
           <div key={k} className="contents">
-            <dt className="text-ink-500">{k}</dt>
-            <dd className="font-mono text-ink-900">{v}</dd>
+            <dt className="text-ink-500">{rowLabel(k)}</dt>
+            <dd className="text-ink-900 tabular-nums">
+              <FormulaText text={v} />
+            </dd>
           </div>
         ))}
       </dl>
@@ -101,5 +106,17 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
         {check.scanFormatLabel ? ` (${check.scanFormatLabel})` : ""} · checked {check.checkedAt.slice(0, 16).replace("T", " ")} UTC
       </p>
     </section>
+  );
+}
+
+/** A row's label with the cell parameter's symbol in italics: "Refined a" → "Refined <i>a</i>". */
+function rowLabel(k: string) {
+  const m = /^(Refined|Certified) a$/.exec(k);
+  return m ? (
+    <>
+      {m[1]} <CellSymbol name="a" />
+    </>
+  ) : (
+    k
   );
 }

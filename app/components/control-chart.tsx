@@ -32,6 +32,11 @@ export interface ControlChartData {
   baseline?: [number, number] | null;
   /** The value axis's words, e.g. "a (Å)". */
   axisLabel: string;
+  /**
+   * The cell parameter's symbol at the start of axisLabel ("a", "α"): drawn in italics, as crystallography prints
+   * it (IUCr Notes for Authors), with the rest of the label upright.
+   */
+  axisSymbol?: string;
   /** The x axis's words; lots in order unless given (e.g. "Calibration scan, by date"). */
   xLabel?: string;
   /** The points' name in the legend, e.g. "Lot value" or "Moving range". */
@@ -39,17 +44,20 @@ export interface ControlChartData {
   digits: number;
 }
 
+// The design tokens of app/app.css: ink, beam (the centre line and zones), danger (limits and flags).
 const COLOURS = {
-  point: "#161a22",
-  center: "#3c31a8",
-  limit: "#c62828",
-  zone: "rgba(60, 49, 168, 0.06)",
-  zone2: "rgba(60, 49, 168, 0.10)",
+  point: "#1a1a18",
+  center: "#1c6266",
+  limit: "#b3261e",
+  zone: "rgba(28, 98, 102, 0.06)",
+  zone2: "rgba(28, 98, 102, 0.11)",
   band: "rgba(21, 128, 61, 0.12)",
   bandEdge: "#15803d",
   baseline: "rgba(134, 144, 163, 0.18)",
-  flag: "#c62828",
+  flag: "#b3261e",
 };
+const AXIS_FONT = '12px "DM Sans", Helvetica, Arial, sans-serif';
+const SYMBOL_FONT = 'italic 14px "Source Serif 4", Georgia, serif';
 
 export function ControlChart({
   data,
@@ -122,6 +130,27 @@ export function ControlChart({
         ctx.restore();
       };
 
+      // The value axis's label, drawn here so that its symbol is italic and its unit upright.
+      const drawAxisLabel = (u: uPlotType) => {
+        if (!data.axisSymbol || !data.axisLabel.startsWith(data.axisSymbol)) return;
+        const ctx = u.ctx;
+        const rest = data.axisLabel.slice(data.axisSymbol.length);
+        ctx.save();
+        ctx.fillStyle = "#42413c";
+        ctx.textBaseline = "top";
+        ctx.font = SYMBOL_FONT.replace("14px", `${14 * dpr()}px`);
+        const w1 = ctx.measureText(data.axisSymbol).width;
+        ctx.font = AXIS_FONT.replace("12px", `${12 * dpr()}px`);
+        const w2 = ctx.measureText(rest).width;
+        ctx.translate(4 * dpr(), u.bbox.top + u.bbox.height / 2 + (w1 + w2) / 2);
+        ctx.rotate(-Math.PI / 2);
+        ctx.font = SYMBOL_FONT.replace("14px", `${14 * dpr()}px`);
+        ctx.fillText(data.axisSymbol, 0, 0);
+        ctx.font = AXIS_FONT.replace("12px", `${12 * dpr()}px`);
+        ctx.fillText(rest, w1, 2 * dpr());
+        ctx.restore();
+      };
+
       const drawFlags = (u: uPlotType) => {
         const ctx = u.ctx;
         ctx.save();
@@ -189,7 +218,8 @@ export function ControlChart({
             values: (_u, splits) => splits.map((x) => tickOf.get(x) ?? ""),
           },
           {
-            label: data.axisLabel,
+            // With a symbol the label is drawn by drawAxisLabel; a blank keeps its room.
+            label: data.axisSymbol && data.axisLabel.startsWith(data.axisSymbol) ? " " : data.axisLabel,
             stroke: "#3a4151",
             grid: { stroke: "#eceef2" },
             ticks: { stroke: "#d6dae2" },
@@ -200,7 +230,7 @@ export function ControlChart({
         series,
         hooks: {
           drawClear: [drawBehind],
-          draw: [drawFlags],
+          draw: [drawFlags, drawAxisLabel],
           setCursor: [
             (u) => {
               const i = u.cursor.idx;

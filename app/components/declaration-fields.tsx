@@ -2,6 +2,7 @@
 // and candidate forms, and the acceptance window: the request wizard's samples step and a material's form share them.
 import { getInputProps, getSelectProps, type FieldMetadata, type FormMetadata } from "@conform-to/react";
 import { Options } from "~/components/request-parts";
+import { CellHeading, CellSymbol } from "~/components/symbols";
 import { FieldErrors, Field } from "~/components/ui";
 import { CENTERINGS, CRYSTAL_SYSTEMS, type CrystalSystem } from "~/diffraction/cell";
 import type { CellKey } from "~/diffraction/phases";
@@ -38,12 +39,12 @@ export function SystemFields({ system, centering }: { system: FieldMetadata<stri
 /** The six cell fields of a phase; the crystal system's rules are checked with the rest of the form. */
 export function CellFields({ cell, legend }: { cell: CellFieldset; legend: string }) {
   const cellFields = [
-    ["a (Å)", cell.cellA],
-    ["b (Å)", cell.cellB],
-    ["c (Å)", cell.cellC],
-    ["α (°)", cell.cellAlpha],
-    ["β (°)", cell.cellBeta],
-    ["γ (°)", cell.cellGamma],
+    ["a", cell.cellA],
+    ["b", cell.cellB],
+    ["c", cell.cellC],
+    ["alpha", cell.cellAlpha],
+    ["beta", cell.cellBeta],
+    ["gamma", cell.cellGamma],
   ] as const;
   return (
     <fieldset>
@@ -52,7 +53,7 @@ export function CellFields({ cell, legend }: { cell: CellFieldset; legend: strin
         {cellFields.map(([label, field]) => (
           <div key={field.name}>
             <label htmlFor={field.id} className="text-xs text-ink-600">
-              {label}
+              <CellHeading name={label} />
             </label>
             <input className="input" inputMode="decimal" {...getInputProps(field, { type: "text" })} />
           </div>
@@ -142,7 +143,7 @@ export function WindowFields({ window, system }: { window: FieldMetadata<WindowI
             return (
               <div key={key}>
                 <label htmlFor={entry.plusMinus.id} className="text-xs text-ink-600">
-                  {CELL_PARAMETER_LABELS[key]} ±
+                  <CellSymbol name={key} /> ±
                 </label>
                 <div className="flex gap-2">
                   <input className="input" inputMode="decimal" placeholder="no limit" {...getInputProps(entry.plusMinus, { type: "text" })} />

@@ -9,6 +9,8 @@ import { WIZARD_STEPS, type WizardStep } from "~/domain/request-forms";
 import type { AcceptanceWindow } from "~/diffraction/phases";
 import { windowWords } from "~/diffraction/window";
 import { useFormat } from "~/components/locale";
+import { CellValues, WindowValues } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 
 /** The five steps; steps up to the furthest one reached are links. */
 export function WizardSteps({ requestId, current, reached }: { requestId: string | null; current: WizardStep; reached: string }) {
@@ -94,11 +96,6 @@ interface SampleView extends CellView {
   acceptanceWindow?: AcceptanceWindow | null;
 }
 
-export function cellText(s: CellView) {
-  if (s.cellA === null) return "—";
-  return `a ${s.cellA}, b ${s.cellB}, c ${s.cellC} Å; α ${s.cellAlpha}°, β ${s.cellBeta}°, γ ${s.cellGamma}°`;
-}
-
 /** The acceptance window in words, e.g. "a ± 0.002 Å, c ± 0.3 %"; "none" when no parameter has one. */
 export function windowText(window: AcceptanceWindow | null | undefined) {
   return (window && windowWords(window)) || "none";
@@ -109,7 +106,7 @@ function PhaseLines({ phases }: { phases: PhaseView[] }) {
     <ul className="space-y-0.5">
       {phases.map((p, i) => (
         <li key={`${p.role}-${i}`}>
-          {p.name ?? "unnamed"} ({p.crystalSystem}, {p.centering}): {cellText(p)}
+          {p.name ? <Formula>{p.name}</Formula> : "unnamed"} ({p.crystalSystem}, {p.centering}): <CellValues cell={p} />
         </li>
       ))}
     </ul>
@@ -123,17 +120,21 @@ export function SampleFacts({ sample }: { sample: SampleView }) {
   return (
     <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-1 text-sm">
       <dt className="text-ink-500">Formula</dt>
-      <dd className="font-mono">{sample.formula}</dd>
+      <dd>
+        <Formula>{sample.formula}</Formula>
+      </dd>
       <dt className="text-ink-500">Form, mass</dt>
       <dd>
         {sample.form.replace(/_/g, " ")}, {sample.massMg ?? "—"} mg
       </dd>
       <dt className="text-ink-500">Main phase</dt>
       <dd>
-        {sample.expectedPhase ?? "—"} ({sample.crystalSystem ?? "—"}, {sample.centering ?? "—"})
+        {sample.expectedPhase ? <Formula>{sample.expectedPhase}</Formula> : "—"} ({sample.crystalSystem ?? "—"}, {sample.centering ?? "—"})
       </dd>
       <dt className="text-ink-500">Cell</dt>
-      <dd>{cellText(sample)}</dd>
+      <dd>
+        <CellValues cell={sample} />
+      </dd>
       {expected.length ? (
         <>
           <dt className="text-ink-500">Further expected phases</dt>
@@ -151,7 +152,9 @@ export function SampleFacts({ sample }: { sample: SampleView }) {
         </>
       ) : null}
       <dt className="text-ink-500">Acceptance window</dt>
-      <dd>{windowText(sample.acceptanceWindow)}</dd>
+      <dd>
+        <WindowValues window={sample.acceptanceWindow} />
+      </dd>
     </dl>
   );
 }

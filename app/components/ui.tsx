@@ -1,11 +1,14 @@
 // Small building blocks of Diffractory's screens: page headers, fields, badges, empty states.
 import type { ReactNode } from "react";
+import { FormulaText } from "~/components/symbol-values";
 
 export function PageHeader({ title, subtitle, actions }: { title: string; subtitle?: ReactNode; actions?: ReactNode }) {
   return (
     <div className="mb-6 flex flex-wrap items-end justify-between gap-4">
       <div>
-        <h1 className="text-2xl font-bold text-ink-900">{title}</h1>
+        <h1 className="text-2xl font-bold text-ink-900">
+          <FormulaText text={title} />
+        </h1>
         {subtitle ? <p className="mt-1 text-sm text-ink-600">{subtitle}</p> : null}
       </div>
       {actions ? <div className="flex gap-2">{actions}</div> : null}
@@ -131,15 +134,15 @@ export function SafetyNotice({ className = "" }: { className?: string }) {
  * (`scrolls`) gets a keyboard stop and a name, so its hidden columns are reachable without a mouse (WCAG 2.1.1; axe
  * "scrollable-region-focusable").
  */
-export function TableCard({ columns, children, caption, scrolls }: { columns: string[]; children: ReactNode; caption?: string; scrolls?: boolean }) {
+export function TableCard({ columns, children, caption, scrolls }: { columns: ReactNode[]; children: ReactNode; caption?: string; scrolls?: boolean }) {
   return (
     <div className="card overflow-x-auto p-0" {...(scrolls ? { tabIndex: 0, role: "region", "aria-label": caption } : {})}>
       <table className="table">
         {caption ? <caption className="sr-only">{caption}</caption> : null}
         <thead>
           <tr>
-            {columns.map((c) => (
-              <th key={c} scope="col">
+            {columns.map((c, i) => (
+              <th key={i} scope="col">
                 {c}
               </th>
             ))}

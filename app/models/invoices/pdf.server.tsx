@@ -4,6 +4,7 @@
 import { createRequire } from "node:module";
 import { Document, Font, Page, renderToBuffer, StyleSheet, Text, View } from "@react-pdf/renderer";
 import type { InvoiceDocument, InvoiceParty } from "~/domain/invoice-document";
+import { formulaRuns } from "~/domain/formula";
 import { formatMoney } from "~/domain/money";
 import { addressLines } from "~/domain/profile-forms";
 
@@ -32,7 +33,7 @@ const s = StyleSheet.create({
   muted: { color: "#5b6472" },
   row: { flexDirection: "row", gap: 24 },
   party: { flex: 1, marginTop: 18 },
-  label: { fontSize: 8, color: "#5b6472", textTransform: "uppercase", letterSpacing: 0.6, marginBottom: 3 },
+  label: { fontSize: 8, color: "#5b6472", fontWeight: 600, marginBottom: 3 },
   strong: { fontWeight: 600 },
   facts: { marginTop: 18, flexDirection: "row", flexWrap: "wrap", gap: 18 },
   table: { marginTop: 20, borderTopWidth: 1, borderColor: "#c8ced8" },
@@ -59,6 +60,26 @@ function Party({ heading, party }: { heading: string; party: InvoiceParty }) {
       {party.address ? addressLines(party.address).map((line) => <Text key={line}>{line}</Text>) : null}
       <Text>{party.taxId ? `VAT / tax id: ${party.taxId}` : "No VAT or tax id given"}</Text>
     </View>
+  );
+}
+
+/**
+ * Running text whose formulas print with sub- and superscripts (IUPAC Red Book IR-3.4): "Li3PO4" as Li₃PO₄. The
+ * typeface has no Unicode subscript digits, so each count is a smaller run lowered by verticalAlign.
+ */
+function PdfFormulaText({ text }: { text: string }) {
+  return (
+    <>
+      {formulaRuns(text).map((r, i) =>
+        r.kind === "text" ? (
+          r.text
+        ) : (
+          <Text key={i} style={{ fontSize: 7, verticalAlign: r.kind === "sub" ? "sub" : "super" }}>
+            {r.text}
+          </Text>
+        ),
+      )}
+    </>
   );
 }
 
@@ -103,7 +124,9 @@ function InvoicePdf({ doc }: { doc: InvoiceDocument }) {
           </View>
           {doc.lines.map((line, i) => (
             <View style={s.tr} key={i} wrap={false}>
-              <Text style={s.cDesc}>{line.description}</Text>
+              <Text style={s.cDesc}>
+                <PdfFormulaText text={line.description} />
+              </Text>
               <Text style={s.cNum}>{line.quantity}</Text>
               <Text style={s.cNum}>{money(line.unitPriceMinor)}</Text>
               <Text style={s.cNum}>{percent(line.taxRateBps)}</Text>

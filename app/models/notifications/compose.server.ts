@@ -1,5 +1,6 @@
 // The wording of every milestone message, per audience: what happened, the facts, the next step and a link.
 import type { Order } from "~/db/schema";
+import { formulaUnicode } from "~/domain/formula";
 import { formatMoney } from "~/domain/money";
 import type { Letter } from "~/models/notifications/letters.server";
 import type { MilestoneKind } from "~/domain/milestones";
@@ -29,7 +30,7 @@ const VERDICT_WORDS: Record<string, string> = {
 function orderFacts(c: OrderContext): [string, string][] {
   return [
     ["Order", ref(c.order)],
-    ["Request", c.requestTitle],
+    ["Request", formulaUnicode(c.requestTitle)],
     ["Client", c.clientName],
     ["Lab", c.labName],
     ["Amount", formatMoney(c.order.amountMinor, c.order.currency)],
@@ -49,7 +50,7 @@ export function orderLetter(kind: MilestoneKind, c: OrderContext, side: Audience
 }
 
 function orderLetterWords(kind: MilestoneKind, c: OrderContext, side: Audience): Letter {
-  const title = c.requestTitle;
+  const title = formulaUnicode(c.requestTitle);
   const facts = withNote(c, orderFacts(c));
   const link = { path: orderPath(c, side), label: "Open the order" };
   const base = { facts, link };
@@ -244,10 +245,14 @@ function orderLetterWords(kind: MilestoneKind, c: OrderContext, side: Audience):
 
 export function requestOpenLetter(r: { id: string; title: string; clientName: string; technique: string; deadline: string | null }): Letter {
   return {
-    subject: `New request: “${r.title}”`,
+    subject: `New request: “${formulaUnicode(r.title)}”`,
     heading: "A request your lab can serve",
     paragraphs: [`${r.clientName} posted a measurement request that fits your instruments and hazard acceptance.`],
-    facts: [["Request", r.title], ["Technique", r.technique.replaceAll("_", " ")], ...(r.deadline ? ([["Deadline", r.deadline]] as [string, string][]) : [])],
+    facts: [
+      ["Request", formulaUnicode(r.title)],
+      ["Technique", r.technique.replaceAll("_", " ")],
+      ...(r.deadline ? ([["Deadline", r.deadline]] as [string, string][]) : []),
+    ],
     nextStep: "Read the samples and their hazard declarations, then send a quote if you can take it on.",
     link: { path: `/lab/requests/${r.id}`, label: "Open the request" },
   };
@@ -267,11 +272,13 @@ export function messageLetter(m: {
 }): Letter {
   const excerpt = m.body.length > MESSAGE_EXCERPT ? `${m.body.slice(0, MESSAGE_EXCERPT).trimEnd()}…` : m.body;
   return {
-    subject: m.orderNumber ? `New message from ${m.fromName} · order ${m.orderNumber}` : `New message from ${m.fromName} about “${m.requestTitle}”`,
+    subject: m.orderNumber
+      ? `New message from ${m.fromName} · order ${m.orderNumber}`
+      : `New message from ${m.fromName} about “${formulaUnicode(m.requestTitle)}”`,
     heading: `${m.fromName} wrote`,
     paragraphs: [`${m.authorName} of ${m.fromName} wrote:`, excerpt],
     facts: [
-      ["Request", m.requestTitle],
+      ["Request", formulaUnicode(m.requestTitle)],
       ...(m.orderNumber ? ([["Order", m.orderNumber]] as [string, string][]) : []),
       ...(m.attachmentName ? ([["Attachment", m.attachmentName]] as [string, string][]) : []),
     ],
@@ -283,14 +290,14 @@ export function messageLetter(m: {
 /** A published request the lab quoted on was changed: what changed, and that the quote waits for the lab. */
 export function requestRevisedLetter(r: { id: string; title: string; clientName: string; summary: string }): Letter {
   return {
-    subject: `“${r.title}” was changed by the client`,
+    subject: `“${formulaUnicode(r.title)}” was changed by the client`,
     heading: "A request you quoted on has changed",
     paragraphs: [
       `${r.clientName} changed the request after your quote: ${r.summary}.`,
       "The client cannot accept your quote until you re-confirm it for the changed request, withdraw it or send a new one.",
     ],
     facts: [
-      ["Request", r.title],
+      ["Request", formulaUnicode(r.title)],
       ["Client", r.clientName],
     ],
     nextStep: "Read the changes, then re-confirm your quote or send a new one.",
@@ -302,11 +309,11 @@ export function requestRevisedLetter(r: { id: string; title: string; clientName:
 export function requestClosedLetter(how: "withdrawn" | "expired", r: { id: string; title: string; clientName: string }, side: "client" | "lab"): Letter {
   const what = how === "withdrawn" ? `${r.clientName} withdrew the request` : "The request reached its deadline without an accepted quote";
   return {
-    subject: how === "withdrawn" ? `“${r.title}” was withdrawn` : `“${r.title}” has expired`,
+    subject: how === "withdrawn" ? `“${formulaUnicode(r.title)}” was withdrawn` : `“${formulaUnicode(r.title)}” has expired`,
     heading: how === "withdrawn" ? "A request was withdrawn" : "A request has expired",
     paragraphs: [`${what}. ${side === "lab" ? "Your quote on it has lapsed; nothing more is needed from your lab." : "The quotes on it have lapsed."}`],
     facts: [
-      ["Request", r.title],
+      ["Request", formulaUnicode(r.title)],
       ["Client", r.clientName],
     ],
     nextStep: side === "client" ? "Use “Order again” on the request to post it anew with a later deadline." : "No action is needed.",
@@ -324,11 +331,11 @@ export function quoteReceivedLetter(q: {
   validUntil: Date;
 }): Letter {
   return {
-    subject: `${q.labName} sent a quote for “${q.requestTitle}”`,
+    subject: `${q.labName} sent a quote for “${formulaUnicode(q.requestTitle)}”`,
     heading: "A new quote",
     paragraphs: [`${q.labName} quoted on your request. Compare it with the other quotes side by side.`],
     facts: [
-      ["Request", q.requestTitle],
+      ["Request", formulaUnicode(q.requestTitle)],
       ["Lab", q.labName],
       ["Total", formatMoney(q.totalMinor, q.currency)],
       ["Turnaround", `${q.turnaroundDays} days`],
@@ -353,11 +360,11 @@ export function quoteDecisionLetter(
 ): Letter {
   return accepted
     ? {
-        subject: `Quote accepted: “${q.requestTitle}” · order ${q.orderNumber}`,
+        subject: `Quote accepted: “${formulaUnicode(q.requestTitle)}” · order ${q.orderNumber}`,
         heading: "Your quote was accepted",
         paragraphs: [`${q.clientName} accepted your quote. The order waits for their payment; you will hear from us when the money is held.`],
         facts: [
-          ["Request", q.requestTitle],
+          ["Request", formulaUnicode(q.requestTitle)],
           ["Client", q.clientName],
           ["Total", formatMoney(q.totalMinor, q.currency)],
           ["Order", q.orderNumber],
@@ -367,11 +374,11 @@ export function quoteDecisionLetter(
         link: { path: `/lab/orders/${q.orderId}`, label: "Open the order" },
       }
     : {
-        subject: `Another quote was chosen for “${q.requestTitle}”`,
+        subject: `Another quote was chosen for “${formulaUnicode(q.requestTitle)}”`,
         heading: "Your quote was not chosen",
         paragraphs: [`${q.clientName} accepted another lab's quote for this request. Thank you for quoting.`],
         facts: [
-          ["Request", q.requestTitle],
+          ["Request", formulaUnicode(q.requestTitle)],
           ["Your total", formatMoney(q.totalMinor, q.currency)],
         ],
         nextStep: "Nothing to do; new matching requests arrive in your inbox.",
@@ -561,11 +568,11 @@ export function lotRuleBrokenLetter(l: {
     subject: `Lot ${l.lotCode} of ${l.productCode} breaks a control rule`,
     heading: "A lot is out of control on the material's trend",
     paragraphs: [
-      `The lattice check of lot ${l.lotCode} of ${l.name} (${l.productCode}) gives a cell parameter that breaks a Western Electric rule against the control limits of the material's baseline lots.`,
+      `The lattice check of lot ${l.lotCode} of ${formulaUnicode(l.name)} (${l.productCode}) gives a cell parameter that breaks a Western Electric rule against the control limits of the material's baseline lots.`,
       ...what,
     ],
     facts: [
-      ["Material", `${l.productCode} — ${l.name}`],
+      ["Material", `${l.productCode} — ${formulaUnicode(l.name)}`],
       ["Lot", l.lotCode],
       ["Parameter", l.broken.map((b) => b.parameter).join(", ")],
     ],

@@ -10,7 +10,7 @@ const s = StyleSheet.create({
   page: { fontFamily: "DM Sans", fontSize: 8.5, padding: 36, color: "#1d2430", lineHeight: 1.35 },
   title: { fontSize: 18, fontWeight: 600, lineHeight: 1.2, marginBottom: 4 },
   muted: { color: "#5b6472" },
-  label: { fontSize: 8, color: "#5b6472", textTransform: "uppercase", letterSpacing: 0.6, marginBottom: 3, marginTop: 16 },
+  label: { fontSize: 8, color: "#5b6472", fontWeight: 600, marginBottom: 3, marginTop: 16 },
   strong: { fontWeight: 600 },
   table: { marginTop: 4, borderTopWidth: 1, borderColor: "#c8ced8" },
   th: { flexDirection: "row", borderBottomWidth: 1, borderColor: "#c8ced8", paddingVertical: 4, fontWeight: 600 },

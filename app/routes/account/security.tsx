@@ -211,7 +211,7 @@ export default function AccountSecurity({ loaderData: page, actionData: answer }
               <img src={page.totp.qr} alt="QR code of the authenticator set-up key" width={192} height={192} className="rounded-lg border border-ink-200" />
               <div className="space-y-3">
                 <div>
-                  <p className="text-xs font-semibold tracking-wide text-ink-500 uppercase">Key</p>
+                  <p className="text-xs font-semibold text-ink-500">Key</p>
                   <code className="block font-mono text-sm break-all text-ink-900" data-testid="totp-secret">
                     {page.totp.secret}
                   </code>

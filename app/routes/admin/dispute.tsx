@@ -1,6 +1,7 @@
 // /admin/disputes/:id — one dispute (by its order): both statements with their evidence, the order's files with
 // their checks (and one check's plot on request, audit-logged), the order's timeline and the decision in money.
 // See docs/design.md#disputes.
+import { FormulaText } from "~/components/symbol-values";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useMemo, useState } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
@@ -146,7 +147,12 @@ export default function DisputeScreen({ loaderData, actionData }: Route.Componen
       </p>
       <PageHeader
         title={`Dispute on order ${order.number}`}
-        subtitle={`${title} — ${clientName} and ${labName} · order total ${fmt.money(order.amountMinor, order.currency)} · held ${fmt.money(heldMinor, order.currency)}`}
+        subtitle={
+          <>
+            <FormulaText text={title} />
+            {` — ${clientName} and ${labName} · order total ${fmt.money(order.amountMinor, order.currency)} · held ${fmt.money(heldMinor, order.currency)}`}
+          </>
+        }
         actions={<OrderStateBadge state={order.state} />}
       />
       <DisputePanel orderId={order.id} side="admin" dispute={dispute} />

@@ -2,6 +2,7 @@
 // (individuals or X̄/R, limits from the chosen baseline, Western Electric rules), the moving-range or range chart
 // below, the acceptance window as a band, the lots in a table, and the baseline's choice (docs/design.md#lots-and-trends).
 // The client organisation's own materials only; any other is a 404.
+import { CellHeading, CellSymbol } from "~/components/symbols";
 import { useMemo } from "react";
 import { data, Form, Link } from "react-router";
 import { type ControlChartData, ControlChart } from "~/components/control-chart";
@@ -90,6 +91,7 @@ function chartData(
       band: t.window ? { lower: t.window.lower, upper: t.window.upper, label: `Acceptance window ${t.window.words}` } : null,
       baseline: [baseline.first, baseline.last],
       axisLabel: `${name} (${unit})`,
+      axisSymbol: name,
       valueLabel: t.chart === "xbar_r" ? "Lot mean" : "Lot value",
       digits,
     },
@@ -141,15 +143,19 @@ export default function MaterialTrend({ loaderData, actionData }: Route.Componen
                 aria-current={k === parameter ? "page" : undefined}
                 className={k === parameter ? "btn-primary px-3 py-1 text-sm" : "btn-secondary px-3 py-1 text-sm"}
               >
-                {PARAMETER_NAMES[k].name}
+                <CellSymbol name={k} />
               </Link>
             ))}
           </nav>
-          {askedUnknown ? <p className="text-sm text-caution-700">That parameter is not free in this material's crystal system; showing {p.name}.</p> : null}
+          {askedUnknown ? (
+            <p className="text-sm text-caution-700">
+              That parameter is not free in this material's crystal system; showing <CellSymbol name={parameter} />.
+            </p>
+          ) : null}
 
           <section className="card space-y-3" aria-labelledby="chart-heading">
             <h2 id="chart-heading" className="text-lg font-semibold">
-              {chart.chart === "xbar_r" ? "X̄ chart" : "Individuals chart"} of {p.name}
+              {chart.chart === "xbar_r" ? "X̄ chart" : "Individuals chart"} of <CellSymbol name={parameter} />
             </h2>
             {chart.limits ? null : (
               <p className="text-sm text-caution-700" data-testid="no-limits">
@@ -161,7 +167,12 @@ export default function MaterialTrend({ loaderData, actionData }: Route.Componen
               <li>● a lot's value</li>
               <li className="text-beam-700">— centre line</li>
               <li className="text-danger-700">- - control limits (3σ); the shaded bands are the 1σ–2σ and 2σ–3σ zones</li>
-              {chart.window ? <li className="text-ok-700">- - acceptance window {chart.window.words} (green band)</li> : null}
+              {chart.window ? (
+                <li className="text-ok-700">
+                  - - acceptance window <CellSymbol name={parameter} />
+                  {chart.window.words.slice(p.name.length)} (green band)
+                </li>
+              ) : null}
               <li className="text-danger-700">◆ a lot that breaks a rule, with the rule numbers</li>
               <li>grey strip along the bottom: the baseline lots</li>
             </ul>
@@ -221,7 +232,20 @@ export default function MaterialTrend({ loaderData, actionData }: Route.Componen
             ) : null}
           </section>
 
-          <TableCard columns={["No.", "Lot", "Measured", `${p.name} (${p.unit}) ± esd`, "Verdict", "Window", "Rules broken"]} caption="Lots on the record">
+          <TableCard
+            columns={[
+              "No.",
+              "Lot",
+              "Measured",
+              <>
+                <CellHeading name={parameter} /> ± esd
+              </>,
+              "Verdict",
+              "Window",
+              "Rules broken",
+            ]}
+            caption="Lots on the record"
+          >
             {lots.map((l) => {
               const value = l.cell[parameter];
               const esd = l.esd[parameter];

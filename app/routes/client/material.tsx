@@ -9,7 +9,8 @@ import { CheckStateBadge, WindowBadge } from "~/components/check-status";
 import { CellFields, EMPTY_PHASE, PhaseList, SystemFields, WindowFields, type PhaseDefaults } from "~/components/declaration-fields";
 import { HazardFields, hazardDefaults } from "~/components/hazard-fields";
 import { useFormat } from "~/components/locale";
-import { Options, windowText } from "~/components/request-parts";
+import { Options } from "~/components/request-parts";
+import { WindowValues } from "~/components/symbol-values";
 import { Badge, Field, FieldErrors, FormError, PageHeader, TableCard } from "~/components/ui";
 import type { Material, MaterialPhase } from "~/db/schema";
 import { LotCodesSchema, MaterialSchema, type MaterialForm, type MaterialInput } from "~/domain/material-forms";
@@ -94,7 +95,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       productCode: material.productCode,
       name: material.name,
       archived: !!material.archivedAt,
-      window: windowText(material.acceptanceWindow),
+      acceptanceWindow: material.acceptanceWindow,
     },
     // Newest first on this page; the trend reads them oldest first.
     lots: lots
@@ -189,8 +190,8 @@ export default function MaterialPage({ loaderData, actionData }: Route.Component
             Request a lot measurement
           </h2>
           <p className="text-sm text-ink-600">
-            A draft request with one sample per lot, filled from this material: phases, window ({material.window}), usual measurement, hazards and safety data
-            sheet. You check it in the request wizard and publish it as any other.
+            A draft request with one sample per lot, filled from this material: phases, window (<WindowValues window={material.acceptanceWindow} />
+            ), usual measurement, hazards and safety data sheet. You check it in the request wizard and publish it as any other.
           </p>
           <Form method="post" {...getFormProps(lotForm)} className="space-y-2">
             <input type="hidden" name="intent" value="request-lot" />
@@ -249,7 +250,7 @@ export default function MaterialPage({ loaderData, actionData }: Route.Component
               <input className="input" {...getInputProps(fields.name, { type: "text" })} />
             </Field>
             <Field label="Chemical formula" id={fields.formula.id} errors={fields.formula.errors} hint="e.g. LiFePO4">
-              <input className="input font-mono" {...getInputProps(fields.formula, { type: "text" })} />
+              <input className="input" {...getInputProps(fields.formula, { type: "text" })} />
             </Field>
             <Field label="Form" id={fields.form.id} errors={fields.form.errors}>
               <select className="input" {...getSelectProps(fields.form)}>

@@ -1,5 +1,7 @@
 // The client organisation's materials: each product declared once (docs/design.md#materials-and-lots), with its
 // main phase, how many lots are on its record and the last lot's verdict; archived ones on request.
+import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { CheckStateBadge, WindowBadge } from "~/components/check-status";
 import { useFormat } from "~/components/locale";
@@ -65,9 +67,11 @@ export default function Materials({ loaderData }: Route.ComponentProps) {
               </Link>{" "}
               {m.archived ? <Badge tone="neutral">Archived</Badge> : null}
             </td>
-            <td>{m.name}</td>
             <td>
-              {m.phase ?? "—"}
+              <FormulaText text={m.name} />
+            </td>
+            <td>
+              {m.phase ? <Formula>{m.phase}</Formula> : "—"}
               {m.crystalSystem ? <span className="text-ink-500"> ({m.crystalSystem})</span> : null}
             </td>
             <td>{m.lotsOnRecord}</td>

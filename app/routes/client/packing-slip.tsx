@@ -1,5 +1,6 @@
 // /client/orders/:id/packing-slip — a printable list of the parcel's samples with their declared hazards, and a
 // parcel label to cut out: the lab's default receiving address (contact, opening hours), the client's as sender.
+import { FormulaText } from "~/components/symbol-values";
 import { requireOrderSide } from "~/utils/permissions.server";
 import { OrderSamples } from "~/components/order-samples";
 import { DiffractionRingsIcon } from "~/components/ui";
@@ -42,7 +43,9 @@ export default function PackingSlip({ loaderData }: Route.ComponentProps) {
         <dt className="text-ink-600">Order</dt>
         <dd className="font-mono">{orderNumber}</dd>
         <dt className="text-ink-600">Request</dt>
-        <dd>{title}</dd>
+        <dd>
+          <FormulaText text={title} />
+        </dd>
         <dt className="text-ink-600">From</dt>
         <dd>{from}</dd>
         <dt className="text-ink-600">To</dt>
@@ -55,7 +58,7 @@ export default function PackingSlip({ loaderData }: Route.ComponentProps) {
       <h1 className="mt-6 mb-3 text-lg font-semibold">Samples and declared hazards</h1>
       <OrderSamples samples={samples} />
       <section className="mt-8 break-inside-avoid rounded-md border-2 border-dashed border-ink-400 p-4" aria-labelledby="label-heading">
-        <h2 id="label-heading" className="text-sm font-semibold tracking-wide text-ink-600 uppercase">
+        <h2 id="label-heading" className="text-sm font-semibold text-ink-600">
           Parcel label — cut out and fix to the parcel
         </h2>
         <div className="mt-3 grid gap-4 sm:grid-cols-2">

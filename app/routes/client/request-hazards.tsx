@@ -1,4 +1,5 @@
 // New request, step 2 (hazards): each sample's GHS pictograms, H-statements, special categories and safety data sheet.
+import { Formula } from "~/components/symbols";
 import { getFormProps, useForm, type FieldMetadata } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
@@ -84,7 +85,10 @@ function SampleHazards({
     <fieldset className="card space-y-4">
       <legend className="sr-only">Hazards of {sample.label}</legend>
       <h2 className="text-lg font-semibold">
-        {sample.label} <span className="font-mono text-sm text-ink-500">{sample.formula}</span>
+        {sample.label}{" "}
+        <span className="text-sm text-ink-500">
+          <Formula>{sample.formula}</Formula>
+        </span>
       </h2>
       <input type="hidden" name={f.id.name} value={sample.id} />
       <HazardFields

@@ -200,7 +200,7 @@ function SampleFieldset({
           <input className="input" {...getInputProps(f.label, { type: "text" })} />
         </Field>
         <Field label="Chemical formula" id={f.formula.id} errors={f.formula.errors} hint="e.g. LiFePO4, Ca10(PO4)6(OH)2, CuSO4·5H2O">
-          <input className="input font-mono" {...getInputProps(f.formula, { type: "text" })} />
+          <input className="input" {...getInputProps(f.formula, { type: "text" })} />
         </Field>
         <Field label="Form" id={f.form.id} errors={f.form.errors}>
           <select className="input" {...getSelectProps(f.form)}>

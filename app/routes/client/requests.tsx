@@ -1,4 +1,5 @@
 // The client organisation's requests, grouped by state, REQUESTS_PAGE_SIZE (25) to a page, with the way to start a new one.
+import { FormulaText } from "~/components/symbol-values";
 import { data, Link } from "react-router";
 import { RequestStateBadge } from "~/components/request-parts";
 import { PageNav } from "~/components/data-table";
@@ -46,7 +47,7 @@ export default function Requests({ loaderData }: Route.ComponentProps) {
           if (rows.length === 0) return null;
           return (
             <section key={state} aria-label={`${state} requests`}>
-              <h2 className="mb-2 text-sm font-semibold tracking-wide text-ink-500 uppercase">
+              <h2 className="mb-2 text-sm font-semibold text-ink-500">
                 {state} <span className="font-normal normal-case">({countByState[state] ?? rows.length})</span>
               </h2>
               <TableCard columns={["Title", "State", "Samples", "Quotes", "Deadline", "Created"]} caption={`${state} requests`}>
@@ -57,7 +58,7 @@ export default function Requests({ loaderData }: Route.ComponentProps) {
                         to={r.state === "draft" ? `/client/requests/${r.id}/edit/${r.draftStep}` : `/client/requests/${r.id}`}
                         className="text-beam-700 underline"
                       >
-                        {r.title}
+                        <FormulaText text={r.title} />
                       </Link>
                     </td>
                     <td>

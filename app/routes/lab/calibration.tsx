@@ -1,5 +1,7 @@
 // An instrument's calibration on record: repeat scans of a certified standard, the schedule, the control charts
 // of deviation, zero shift and profile width, and the table of scans (docs/design.md#calibration-on-record).
+import { FormulaText } from "~/components/symbol-values";
+import { CellSymbol, TwoTheta } from "~/components/symbols";
 import { getFormProps, getInputProps, useForm, type SubmissionResult } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useMemo, useState } from "react";
@@ -143,9 +145,13 @@ export default function InstrumentCalibration({ loaderData, actionData }: Route.
       />
       <section className="card text-sm text-ink-700" aria-label="Calibration summary" role="status">
         <p>
-          {instrument.state === "none"
-            ? "No calibration scan recorded yet."
-            : `${scans.length} ${scans.length === 1 ? "scan" : "scans"} on record, standard ${standardLabel(instrument.standard)}. Next scan due ${instrument.dueAt ? day(instrument.dueAt) : "—"} (every ${instrument.intervalDays} days).`}
+          {instrument.state === "none" ? (
+            "No calibration scan recorded yet."
+          ) : (
+            <FormulaText
+              text={`${scans.length} ${scans.length === 1 ? "scan" : "scans"} on record, standard ${standardLabel(instrument.standard)}. Next scan due ${instrument.dueAt ? day(instrument.dueAt) : "—"} (every ${instrument.intervalDays} days).`}
+            />
+          )}
         </p>
         {withdrawn ? <p className="mt-2 font-medium text-danger-700">{withdrawn}. Record a passing calibration scan to bring it back.</p> : null}
         <p className="mt-2">
@@ -200,12 +206,26 @@ export default function InstrumentCalibration({ loaderData, actionData }: Route.
             </h2>
             <TableCard
               caption="Calibration scans"
-              columns={["Measured", "Standard", "File", "Deviation", "Zero shift (° 2θ)", `FWHM at ${WIDTH_REFERENCE_TWO_THETA}° (° 2θ)`, "Result"]}
+              columns={[
+                "Measured",
+                "Standard",
+                "File",
+                "Deviation",
+                <>
+                  Zero shift (° <TwoTheta />)
+                </>,
+                <>
+                  FWHM at {WIDTH_REFERENCE_TWO_THETA}° (° <TwoTheta />)
+                </>,
+                "Result",
+              ]}
             >
               {[...scans].reverse().map((s) => (
                 <tr key={s.id}>
                   <td>{day(s.measuredAt)}</td>
-                  <td>{standardLabel(s.standard)}</td>
+                  <td>
+                    <FormulaText text={standardLabel(s.standard)} />
+                  </td>
                   <td className="break-all">{s.fileName}</td>
                   <td>{s.deviationA === null ? "—" : signedAngstrom(s.deviationA)}</td>
                   <td>{s.zeroShift === null ? "—" : s.zeroShift.toFixed(4)}</td>
@@ -252,7 +272,7 @@ function ScanForm({ instrumentId, standard, actionData }: { instrumentId: string
             <label key={key} className="flex gap-2 text-sm">
               <input type="radio" name={fields.standard.name} value={key} defaultChecked={fields.standard.initialValue === key} />
               <span>
-                {CALIBRATION_STANDARDS[key].label} (certified a = {CALIBRATION_STANDARDS[key].a} Å)
+                <FormulaText text={CALIBRATION_STANDARDS[key].label} /> (certified <CellSymbol name="a" /> = {CALIBRATION_STANDARDS[key].a} Å)
               </span>
             </label>
           ))}

@@ -1,4 +1,5 @@
 // The lab's quotes with their state; lapsed ones are marked before the list is read.
+import { FormulaText } from "~/components/symbol-values";
 import { Link } from "react-router";
 import { QuoteStateBadge } from "~/components/request-parts";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
@@ -35,7 +36,7 @@ export default function LabQuotes({ loaderData }: Route.ComponentProps) {
             <tr key={q.id}>
               <td className="font-medium">
                 <Link to={`/lab/requests/${q.requestId}`} className="text-beam-700 underline">
-                  {q.requestTitle}
+                  <FormulaText text={q.requestTitle} />
                 </Link>
               </td>
               <td>{fmt.money(q.totalMinor, q.currency)}</td>

@@ -1,4 +1,6 @@
 // The lab's vetting application: accreditation evidence, radiation-licence attestation and a calibration scan of a standard.
+import { FormulaText } from "~/components/symbol-values";
+import { CellSymbol } from "~/components/symbols";
 import { getFormProps, getInputProps, getTextareaProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useState } from "react";
@@ -252,8 +254,12 @@ function ApplicationForm({ application, actionData }: { application: Application
               >
                 <input type="radio" name={fields.standard.name} value={key} defaultChecked={fields.standard.initialValue === key} className="mt-1" />
                 <span>
-                  <span className="block font-semibold">{CALIBRATION_STANDARDS[key].label}</span>
-                  <span className="block text-xs text-ink-600">certified a = {CALIBRATION_STANDARDS[key].a} Å</span>
+                  <span className="block font-semibold">
+                    <FormulaText text={CALIBRATION_STANDARDS[key].label} />
+                  </span>
+                  <span className="block text-xs text-ink-600">
+                    certified <CellSymbol name="a" /> = {CALIBRATION_STANDARDS[key].a} Å
+                  </span>
                 </span>
               </label>
             ))}

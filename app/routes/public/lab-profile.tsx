@@ -1,4 +1,6 @@
 // A lab's public profile: instruments with the d-spacings they reach, stages, hazards accepted, prices.
+import { FormulaText } from "~/components/symbol-values";
+import { TwoTheta } from "~/components/symbols";
 import { Link } from "react-router";
 import { Badge, PageHeader, SafetyNotice, TableCard } from "~/components/ui";
 import { dSpacingCoverage } from "~/domain/coverage";
@@ -61,7 +63,22 @@ export default function LabProfile({ loaderData }: Route.ComponentProps) {
       {lab.description ? <p className="mb-4 max-w-3xl text-ink-700">{lab.description}</p> : null}
       <p className="mb-8 text-sm text-ink-700">{lab.onTime}</p>
       <h2 className="mb-3 text-lg font-semibold">Instruments</h2>
-      <TableCard columns={["Instrument", "Technique", "Source", "2θ range", "d reached (Å)", "Stages", "Measured accuracy"]} caption="Instruments">
+      <TableCard
+        columns={[
+          "Instrument",
+          "Technique",
+          "Source",
+          <>
+            <TwoTheta /> range
+          </>,
+          <>
+            <i className="symbol">d</i> reached (Å)
+          </>,
+          "Stages",
+          "Measured accuracy",
+        ]}
+        caption="Instruments"
+      >
         {lab.instruments.map((i) => (
           <tr key={i.id}>
             <td className="font-medium">{i.name}</td>
@@ -79,7 +96,7 @@ export default function LabProfile({ loaderData }: Route.ComponentProps) {
               {i.accuracy.length
                 ? i.accuracy.map((t) => (
                     <span key={t} className="block">
-                      {t}
+                      <FormulaText text={t} />
                     </span>
                   ))
                 : "No calibration scans on record"}

@@ -1,4 +1,5 @@
 // The public lab directory: filters kept in the URL, results fetched from /api/labs with TanStack Query.
+import { FormulaText } from "~/components/symbol-values";
 import { keepPreviousData, useQuery } from "@tanstack/react-query";
 import { Link, useSearchParams } from "react-router";
 import { EmptyState, PageHeader } from "~/components/ui";
@@ -106,7 +107,7 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
           <div className="grid grid-cols-2 gap-3">
             <div>
               <label className="label" htmlFor="dMin">
-                Smallest d (Å)
+                Smallest <i className="symbol">d</i> (Å)
               </label>
               <input
                 id="dMin"
@@ -211,7 +212,9 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
                       <dd>{lab.sources.join(", ") || "—"}</dd>
                     </div>
                     <div>
-                      <dt className="text-ink-500">Smallest d</dt>
+                      <dt className="text-ink-500">
+                        Smallest <i className="symbol">d</i>
+                      </dt>
                       <dd>{lab.minD !== null ? `${lab.minD.toFixed(3)} Å` : "—"}</dd>
                     </div>
                     <div>
@@ -233,7 +236,7 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
                           <ul>
                             {lab.accuracy.map((a) => (
                               <li key={`${a.instrumentName}-${a.standard}`}>
-                                {a.instrumentName} — {a.text}
+                                {a.instrumentName} — <FormulaText text={a.text} />
                               </li>
                             ))}
                           </ul>
