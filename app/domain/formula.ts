@@ -168,9 +168,13 @@ export function formulaRuns(text: string): FormulaPart[] {
   return runs;
 }
 
-/** A word of running text read as a formula when it is one and has a count, bracket or charge to show. */
+/**
+ * A word of running text read as a formula when it is one and has a count, bracket or charge to show, and names at
+ * least two element symbols: a product or grade code such as "C20" or "B2" is a valid formula of one element, but
+ * in a sentence it is far more often a code than C₂₀ (common practice).
+ */
 export function formulaWord(word: string): FormulaPart[] | null {
-  if (!/[A-Z]/.test(word) || !/[\d()[\]{}+\-−·]/.test(word)) return null;
+  if ((word.match(/[A-Z]/g)?.length ?? 0) < 2 || !/[\d()[\]{}+\-−·]/.test(word)) return null;
   const parts = formulaParts(word);
   return parts?.some((p) => p.kind !== "text" || /[·]/.test(p.text)) ? parts : null;
 }

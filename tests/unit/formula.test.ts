@@ -70,7 +70,7 @@ describe("formulas for display (IUPAC Red Book IR-3.4, IR-4)", () => {
   });
 
   it("leaves names that are not formulas as written", () => {
-    for (const t of ["NMC811", "Form I", "HC-2645", "2θ", "C20-2523 lot"]) expect(formulaUnicode(t)).toBe(t);
+    for (const t of ["NMC811", "Form I", "HC-2645", "2θ", "C20-2523 lot", "powder, grade C20: lot C20-2523"]) expect(formulaUnicode(t)).toBe(t);
   });
 
   it("finds formulas inside running text and keeps the rest", () => {
