@@ -5,6 +5,7 @@ import type { ReactNode } from "react";
 import { Link, useSearchParams } from "react-router";
 import type { PageInfo, SortDir } from "~/utils/table";
 import { useFormat } from "./locale";
+import { labelRows, STACKED_TABLE, useStackLabels } from "./stacked-rows";
 
 export interface Column {
   label: string;
@@ -51,10 +52,12 @@ export function SortableTable({
   children: ReactNode;
 }) {
   const href = useHref();
+  const ref = useStackLabels<HTMLDivElement>();
   // relative: the sort links' visually hidden words are positioned inside this scroller, not out past the page's edge.
   return (
-    <div className="card relative overflow-x-auto p-0">
-      <table className="table">
+    <div ref={ref} className="card relative overflow-x-auto p-0">
+      {/* On a phone the rows stack as small cards (stacked-rows.tsx). */}
+      <table className={`table ${STACKED_TABLE}`}>
         <caption className="sr-only">
           {caption}
           {columns.find((c) => c.sort === sort)
@@ -90,7 +93,12 @@ export function SortableTable({
             })}
           </tr>
         </thead>
-        <tbody>{children}</tbody>
+        <tbody>
+          {labelRows(
+            children,
+            columns.map((c) => c.label),
+          )}
+        </tbody>
       </table>
     </div>
   );

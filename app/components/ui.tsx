@@ -1,5 +1,6 @@
 // Small building blocks of Diffractory's screens: page headers, fields, badges, empty states.
 import type { ReactNode } from "react";
+import { labelRows, STACKED_TABLE, useStackLabels } from "./stacked-rows";
 import { FormulaText } from "~/components/symbol-values";
 
 export function PageHeader({ title, subtitle, actions }: { title: string; subtitle?: ReactNode; actions?: ReactNode }) {
@@ -114,30 +115,62 @@ export function DiffractionRingsIcon({ className }: { className?: string }) {
   );
 }
 
-export function SafetyNotice({ className = "" }: { className?: string }) {
+/**
+ * The safety caution where a hazard is declared or shown: one line with a caution mark and a link to /safety, where
+ * the whole text stands (the declaration informs and replaces nothing; trained staff under licence; Diffractory
+ * defers to local codes and licensed practice). `full` prints that whole text, for the safety page itself.
+ */
+export function SafetyNotice({ className = "", full = false }: { className?: string; full?: boolean }) {
   return (
-    <aside className={`rounded-lg border border-caution-600/30 bg-caution-50 p-4 text-sm text-caution-700 ${className}`} aria-label="Safety notice">
-      <p className="font-semibold">
-        <span aria-hidden="true">! </span>Safety
-      </p>
-      <p className="mt-1">
-        A hazard declaration informs the lab; it does not replace the safety data sheet, the carrier's dangerous-goods rules, local regulations, or the approval
-        of the lab's radiation and chemical safety officers. X-ray instruments are operated only by the lab's trained staff under its licence. Diffractory
-        defers to local codes and licensed practice and gives no safety advice of its own beyond these cautions.
-      </p>
+    <aside
+      className={`flex items-start gap-2 rounded-card border border-caution-600/30 bg-caution-50 px-3 py-2 text-sm text-caution-700 ${className}`}
+      aria-label="Safety notice"
+    >
+      <svg viewBox="0 0 16 16" className="mt-0.5 h-4 w-4 shrink-0" aria-hidden="true" focusable="false">
+        <path d="M8 1.8 14.6 13.6H1.4Z" fill="currentColor" strokeLinejoin="round" />
+        <path d="M8 6v3.6M8 11.4v.1" stroke="white" strokeWidth="1.7" strokeLinecap="round" />
+      </svg>
+      {full ? (
+        <p>
+          A hazard declaration informs the lab; it does not replace the safety data sheet, the carrier's dangerous-goods rules, local regulations, or the
+          approval of the lab's radiation and chemical safety officers. X-ray instruments are operated only by the lab's trained staff under its licence.
+          Diffractory defers to local codes and licensed practice and gives no safety advice of its own beyond these cautions.
+        </p>
+      ) : (
+        <p>
+          A hazard declaration informs the lab; it replaces neither the safety data sheet nor the carrier's, the law's or the lab's safety rules.{" "}
+          <a href="/safety" className="font-semibold underline underline-offset-2 hover:text-caution-600">
+            Read the safety page
+          </a>
+        </p>
+      )}
     </aside>
   );
 }
 
 /**
- * A table in a card with column headings; rows come as children. It scrolls sideways when too wide; a wide table
- * (`scrolls`) gets a keyboard stop and a name, so its hidden columns are reachable without a mouse (WCAG 2.1.1; axe
- * "scrollable-region-focusable").
+ * A table in a card with column headings; rows come as children. On a phone its rows stack as small cards (the first
+ * cell as title, the others as "heading: value"; stacked-rows.tsx) unless `stack={false}`; a table that does not
+ * stack scrolls sideways when too wide, and a wide one (`scrolls`) gets a keyboard stop and a name, so its hidden
+ * columns are reachable without a mouse (WCAG 2.1.1; axe "scrollable-region-focusable").
  */
-export function TableCard({ columns, children, caption, scrolls }: { columns: ReactNode[]; children: ReactNode; caption?: string; scrolls?: boolean }) {
+export function TableCard({
+  columns,
+  children,
+  caption,
+  scrolls,
+  stack = true,
+}: {
+  columns: ReactNode[];
+  children: ReactNode;
+  caption?: string;
+  scrolls?: boolean;
+  stack?: boolean;
+}) {
+  const ref = useStackLabels<HTMLDivElement>();
   return (
-    <div className="card overflow-x-auto p-0" {...(scrolls ? { tabIndex: 0, role: "region", "aria-label": caption } : {})}>
-      <table className="table">
+    <div ref={ref} className="card overflow-x-auto p-0" {...(scrolls ? { tabIndex: 0, role: "region", "aria-label": caption } : {})}>
+      <table className={stack ? `table ${STACKED_TABLE}` : "table"}>
         {caption ? <caption className="sr-only">{caption}</caption> : null}
         <thead>
           <tr>
@@ -148,7 +181,15 @@ export function TableCard({ columns, children, caption, scrolls }: { columns: Re
             ))}
           </tr>
         </thead>
-        <tbody>{children}</tbody>
+        {/* A heading that is markup (a cell symbol) gets its label from the rendered heading, after hydration. */}
+        <tbody>
+          {stack
+            ? labelRows(
+                children,
+                columns.map((c) => (typeof c === "string" ? c : "")),
+              )
+            : children}
+        </tbody>
       </table>
     </div>
   );

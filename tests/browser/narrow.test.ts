@@ -129,3 +129,83 @@ describe("at 375 px wide", () => {
     expect(b.consoleErrors).toEqual([]);
   });
 });
+
+// A phone of 390 px (common practice for a current mid-size phone): the long lists stack their rows as small cards
+// (docs/design-system.md, "Phones, tables, dates and the safety caution"), so neither the page nor any table is
+// wider than the screen, and a row's cells carry their column's heading.
+describe("long lists at 390 px wide", () => {
+  const PHONE = 390;
+  let p: Browser;
+  beforeAll(async () => {
+    p = await openBrowser({ viewport: { width: PHONE, height: 844 } });
+  });
+  afterAll(async () => {
+    await p?.close();
+  });
+
+  /** Screens whose page or tables are wider than the phone, and tables whose cells lack their heading. */
+  async function lists(paths: string[]) {
+    const faults: string[] = [];
+    for (const path of paths) {
+      await visit(p.page, path);
+      const m = await p.page.evaluate(() => ({
+        page: document.documentElement.scrollWidth,
+        tables: [...document.querySelectorAll("main table")].map((t) => ({
+          right: Math.ceil(t.getBoundingClientRect().right),
+          width: Math.ceil(t.getBoundingClientRect().width),
+          unlabelled: [...t.querySelectorAll("tbody tr")].filter(
+            (tr) => tr.children.length > 1 && ![...tr.children].slice(1).some((td) => td.hasAttribute("data-label")),
+          ).length,
+        })),
+      }));
+      if (m.page > PHONE) faults.push(`${path}: page ${m.page} px`);
+      for (const t of m.tables) {
+        if (t.width > PHONE || t.right > PHONE) faults.push(`${path}: a table ${t.width} px wide reaching ${t.right} px`);
+        if (t.unlabelled) faults.push(`${path}: ${t.unlabelled} rows without headings on their cells`);
+      }
+      await screenshot(
+        p.page,
+        `narrow/390-${path
+          .replace(/[0-9a-f]{8}-[0-9a-f-]{27}/g, "id")
+          .replace(/[^a-z0-9]+/gi, "-")
+          .replace(/^-|-$/g, "")}`,
+      );
+    }
+    return faults;
+  }
+
+  it("the client's orders, requests, payments and data room", async () => {
+    await signIn(p.page, "owner@halvorsen.example");
+    await p.page.waitForURL(`${BASE_URL}/client`);
+    const paths = ["/client/orders", "/client/requests", "/client/payments", "/client/data-room"];
+    if (ids.clientOrder) paths.push(`/client/data-room/${ids.clientOrder}`);
+    expect(await lists(paths)).toEqual([]);
+    // The orders list is a list of small cards: the first row's state stands under its heading.
+    await visit(p.page, "/client/orders");
+    expect(await p.page.locator("main tbody tr").first().locator('td[data-label="State"]').count()).toBe(1);
+    expect(
+      await p.page
+        .locator("main thead")
+        .first()
+        .evaluate((e) => e.getBoundingClientRect().height),
+    ).toBeLessThanOrEqual(1);
+    expect(p.consoleErrors).toEqual([]);
+    await p.context.clearCookies();
+  });
+
+  it("the lab's work queue, quotes and payouts", async () => {
+    await signIn(p.page, "lab@graniteridge.example");
+    await p.page.waitForURL(`${BASE_URL}/lab`);
+    expect(await lists(["/lab/work-queue", "/lab/quotes", "/lab/payouts"])).toEqual([]);
+    expect(p.consoleErrors).toEqual([]);
+    await p.context.clearCookies();
+  });
+
+  it("the admin's ledger, audit log and invoices", async () => {
+    await signIn(p.page, "admin@diffractory.example");
+    await p.page.waitForURL(`${BASE_URL}/admin`);
+    expect(await lists(["/admin/ledger", "/admin/audit-log", "/admin/invoices"])).toEqual([]);
+    expect(p.consoleErrors).toEqual([]);
+    await p.context.clearCookies();
+  });
+});
