@@ -3,6 +3,11 @@ import type { Sample, SamplePhase } from "~/db/schema";
 import { HazardDeclaration, SampleFacts } from "./request-parts";
 import { SafetyNotice } from "./ui";
 
+/** Whether any of the samples declares a hazard (a pictogram, an H-statement or a special category). */
+export function anyHazardDeclared(samples: { ghsPictograms: unknown[] | null; hStatements: unknown[] | null; specialHazards: unknown[] | null }[]) {
+  return samples.some((s) => (s.ghsPictograms?.length ?? 0) > 0 || (s.hStatements?.length ?? 0) > 0 || (s.specialHazards?.length ?? 0) > 0);
+}
+
 /** `sds` maps sample ids to download links of their safety data sheets (the lab's order page); without it the name shows. */
 export function OrderSamples({
   samples,
@@ -34,7 +39,7 @@ export function OrderSamples({
     | "sdsFileName"
   > & { phases: SamplePhase[] })[];
 }) {
-  const anyHazard = samples.some((s) => s.ghsPictograms.length || s.hStatements.length || s.specialHazards.length);
+  const anyHazard = anyHazardDeclared(samples);
   return (
     <div className="space-y-4">
       {samples.map((s) => (

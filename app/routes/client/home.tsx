@@ -1,7 +1,7 @@
 // The client workspace's overview: where the organisation's requests, orders and data stand.
 import { Link } from "react-router";
 import { OrdersByState, WaitingPanel } from "~/components/overview";
-import { EmptyState, PageHeader, SafetyNotice } from "~/components/ui";
+import { EmptyState, PageHeader } from "~/components/ui";
 import { clientOverview } from "~/models/orders/overview.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/home";
@@ -46,7 +46,6 @@ export default function ClientHome({ loaderData }: Route.ComponentProps) {
             </EmptyState>
           )}
         </div>
-        <SafetyNotice />
       </div>
     </div>
   );

@@ -11,7 +11,7 @@ import { HazardFields, hazardDefaults } from "~/components/hazard-fields";
 import { useFormat } from "~/components/locale";
 import { Options } from "~/components/request-parts";
 import { WindowValues } from "~/components/symbol-values";
-import { Badge, Field, FieldErrors, FormError, PageHeader, TableCard } from "~/components/ui";
+import { Badge, Field, FieldErrors, FormError, PageHeader, SafetyNotice, TableCard } from "~/components/ui";
 import type { Material, MaterialPhase } from "~/db/schema";
 import { LotCodesSchema, MaterialSchema, type MaterialForm, type MaterialInput } from "~/domain/material-forms";
 import { MAX_CANDIDATES, MAX_EXPECTED_PHASES, QUALITY_LEVELS, SAMPLE_FORMS, SOURCES, TECHNIQUES } from "~/domain/request-forms";
@@ -316,6 +316,7 @@ export default function MaterialPage({ loaderData, actionData }: Route.Component
         <fieldset className="card space-y-4">
           <legend className="sr-only">Hazards</legend>
           <h2 className="text-lg font-semibold">Hazards</h2>
+          <SafetyNotice />
           <HazardFields
             fields={fields}
             label={material?.productCode ?? "the material"}

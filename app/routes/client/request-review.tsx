@@ -3,6 +3,7 @@ import { FormulaText } from "~/components/symbol-values";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { HazardDeclaration, SampleFacts, WizardSteps } from "~/components/request-parts";
 import { FormError, PageHeader, SafetyNotice } from "~/components/ui";
+import { anyHazardDeclared } from "~/components/order-samples";
 import { labelOf } from "~/domain/matching";
 import { invitedLabIds, noLabCanMeasure, notEditable, publishProblems, publishRequest, samplesOf } from "~/models/requests/requests.server";
 import { requireOwnDraft } from "~/utils/permissions.server";
@@ -45,7 +46,7 @@ export default function RequestReview({ loaderData, actionData }: Route.Componen
     <div>
       <PageHeader title="Review and publish" subtitle={<FormulaText text={r.title} />} />
       <WizardSteps requestId={r.id} current="review" reached={r.draftStep} />
-      <SafetyNotice className="mb-6" />
+      {anyHazardDeclared(samples) ? <SafetyNotice className="mb-6" /> : null}
       <div className="grid gap-4 lg:grid-cols-2">
         {samples.map((s) => (
           <section key={s.id} className="card space-y-3" aria-label={`Sample ${s.label}`}>

@@ -5,6 +5,7 @@ import { MessageThread } from "~/components/message-thread";
 import { requestThreadForClient, requestThreadsOfClient, viewThread } from "~/models/messages/messages.server";
 import { OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from "~/components/request-parts";
 import { Badge, EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
+import { anyHazardDeclared } from "~/components/order-samples";
 import { matchLabsForRequest, quoteJudgementsForRequest } from "~/models/labs/matching.server";
 import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/requests/quotes.server";
 import { noLabCanMeasure, samplesOf, sdsLinks } from "~/models/requests/requests.server";
@@ -330,7 +331,7 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
       </section>
 
       <h2 className="mt-8 mb-3 text-lg font-semibold">Samples and hazard declaration</h2>
-      <SafetyNotice className="mb-4" />
+      {anyHazardDeclared(samples) ? <SafetyNotice className="mb-4" /> : null}
       <SampleCards samples={samples} sds={sds} />
     </div>
   );

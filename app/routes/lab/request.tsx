@@ -1,5 +1,6 @@
 // A request as a lab sees it: the hazard declaration to acknowledge, then the quote builder; the lab's own quotes.
 import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
+import { DateField } from "~/components/date-field";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
 import { MatchReasons } from "~/components/match-reasons";
@@ -7,6 +8,7 @@ import { MessageThread } from "~/components/message-thread";
 import { requestThreadForLab, viewThread } from "~/models/messages/messages.server";
 import { QuoteStateBadge, SampleCards } from "~/components/request-parts";
 import { Badge, Field, FieldErrors, FormError, PageHeader, SafetyNotice } from "~/components/ui";
+import { anyHazardDeclared } from "~/components/order-samples";
 import { CLIENT_KIND_LABELS } from "~/domain/profile-forms";
 import { labelOf, matchLab, sourceLabel } from "~/domain/matching";
 import { organisationNameOf } from "~/models/accounts/organisations.server";
@@ -158,7 +160,7 @@ export default function LabRequest({ loaderData, actionData }: Route.ComponentPr
       {stale ? null : <RevisionList revisions={revisions} />}
 
       <h2 className="mb-3 text-lg font-semibold">Hazard declaration</h2>
-      <SafetyNotice className="mb-4" />
+      {anyHazardDeclared(samples) ? <SafetyNotice className="mb-4" /> : null}
       <SampleCards samples={samples} sds={sds} />
       <div className="card mt-4">
         {acknowledgement ? (
@@ -317,7 +319,7 @@ function QuoteBuilder({ loaderData, actionData }: Pick<Route.ComponentProps, "lo
         </button>
         <div className="grid gap-4 sm:grid-cols-3">
           <Field label="Valid until" id={fields.validUntil.id} errors={fields.validUntil.errors}>
-            <input className="input" {...getInputProps(fields.validUntil, { type: "date" })} />
+            <DateField {...getInputProps(fields.validUntil, { type: "text" })} />
           </Field>
           <Field label="Turnaround (days)" id={fields.turnaroundDays.id} errors={fields.turnaroundDays.errors}>
             <input className="input" inputMode="numeric" {...getInputProps(fields.turnaroundDays, { type: "text" })} />

@@ -2,6 +2,7 @@
 import { FormulaText } from "~/components/symbol-values";
 import { CellSymbol } from "~/components/symbols";
 import { getFormProps, getInputProps, getTextareaProps, useForm } from "@conform-to/react";
+import { DateField } from "~/components/date-field";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useState } from "react";
 import { data, Form, useFetcher, useNavigation } from "react-router";
@@ -216,7 +217,7 @@ function ApplicationForm({ application, actionData }: { application: Application
             <input className="input" {...getInputProps(fields.accreditationNumber, { type: "text" })} />
           </Field>
           <Field label="Accreditation expires on" id={fields.accreditationExpiry.id} errors={fields.accreditationExpiry.errors}>
-            <input className="input" {...getInputProps(fields.accreditationExpiry, { type: "date" })} />
+            <DateField {...getInputProps(fields.accreditationExpiry, { type: "text" })} />
           </Field>
         </div>
         <UploadedFileField

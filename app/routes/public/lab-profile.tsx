@@ -111,7 +111,7 @@ export default function LabProfile({ loaderData }: Route.ComponentProps) {
           <p className="mt-2 text-sm text-ink-700">
             {[...lab.acceptance.pictograms, ...lab.acceptance.specialCategories.map(labelOf)].join(", ") || "No hazardous samples."}
           </p>
-          <SafetyNotice className="mt-4" />
+          {lab.acceptance.pictograms.length + lab.acceptance.specialCategories.length > 0 ? <SafetyNotice className="mt-4" /> : null}
         </div>
         <div className="card">
           <h2 className="text-lg font-semibold">Prices</h2>

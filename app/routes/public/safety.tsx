@@ -10,7 +10,7 @@ export default function Safety() {
   return (
     <article className="mx-auto max-w-3xl px-4 py-12 sm:px-6">
       <h1 className="text-3xl font-bold">Safety notes</h1>
-      <SafetyNotice className="mt-6" />
+      <SafetyNotice className="mt-6" full />
       <div className="mt-8 space-y-4 text-ink-700">
         <p>
           Every sample carries a hazard declaration: the GHS pictograms (GHS01–GHS09) and H-statement codes of its safety data sheet, special categories such as
