@@ -50,7 +50,7 @@ export function AgreementsTable({ rows, hrefBase, counterpart }: { rows: Agreeme
             {fmt.money(a.spentNetMinor, a.currency)} / {fmt.money(a.budgetCapMinor, a.currency)}
           </td>
           <td>
-            {a.startsOn} – {a.endsOn}
+            {fmt.date(a.startsOn)} – {fmt.date(a.endsOn)}
           </td>
           <td>
             <AgreementStateBadge state={a.state} />
@@ -120,7 +120,7 @@ export function AgreementDetails({ view, orderHref }: { view: AgreementView; ord
           <div>
             <dt className="text-ink-500">Period</dt>
             <dd>
-              {a.startsOn} to {a.endsOn}
+              {fmt.date(a.startsOn)} to {fmt.date(a.endsOn)}
             </dd>
           </div>
           <div>

@@ -130,3 +130,69 @@ export function formatterFor(locale: SupportedLocale = DEFAULT_LOCALE): Formatte
   cache.set(locale, formatter);
   return formatter;
 }
+
+/** How a locale writes a calendar day in figures: the order of day, month and year and what stands between them. */
+export interface DayPattern {
+  order: ("day" | "month" | "year")[];
+  /** The pattern people read beside the field: "DD/MM/YYYY" (en-GB), "MM/DD/YYYY" (en-US), "DD.MM.YYYY" (de-DE). */
+  pattern: string;
+  /** 30 June 2099 written that way, for the sentence that asks for a date again. */
+  example: string;
+}
+
+const dayPatterns = new Map<SupportedLocale, DayPattern>();
+const NUMERIC_DAY = { day: "2-digit", month: "2-digit", year: "numeric", timeZone: "UTC" } as const;
+
+/** The locale's numeric day (CLDR's short date with a four-figure year), read from Intl so it matches the formatters. */
+export function dayPatternOf(locale: SupportedLocale = DEFAULT_LOCALE): DayPattern {
+  const kept = dayPatterns.get(locale);
+  if (kept) return kept;
+  const parts = new Intl.DateTimeFormat(locale, NUMERIC_DAY).formatToParts(new Date(Date.UTC(2099, 5, 30)));
+  const order: DayPattern["order"] = [];
+  let pattern = "";
+  let example = "";
+  for (const p of parts) {
+    example += p.value;
+    if (p.type === "day" || p.type === "month" || p.type === "year") {
+      order.push(p.type);
+      pattern += p.type === "day" ? "DD" : p.type === "month" ? "MM" : "YYYY";
+    } else pattern += p.value;
+  }
+  const made = { order, pattern, example };
+  dayPatterns.set(locale, made);
+  return made;
+}
+
+const ISO_DAY = /^(\d{4})-(\d{2})-(\d{2})$/;
+
+/** An ISO day (YYYY-MM-DD) in the locale's figures ("30/06/2099"); anything else is returned as it is. */
+export function isoDayInLocale(iso: string | null | undefined, locale: SupportedLocale = DEFAULT_LOCALE): string {
+  if (!iso) return "";
+  const m = ISO_DAY.exec(iso);
+  if (!m) return iso;
+  return new Intl.DateTimeFormat(locale, NUMERIC_DAY).format(new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, Number(m[3]))));
+}
+
+/**
+ * A day typed in the locale's figures ("30/06/2099", "06/30/2099", "30.6.2099") or as ISO ("2099-06-30") read
+ * into ISO YYYY-MM-DD; null when it is not a real calendar day. A group of four figures first is always
+ * year-month-day (ISO 8601), whatever the locale.
+ */
+export function parseLocaleDay(text: string, locale: SupportedLocale = DEFAULT_LOCALE): string | null {
+  const groups = text
+    .trim()
+    .split(/[^0-9]+/)
+    .filter(Boolean);
+  if (groups.length !== 3) return null;
+  let order = dayPatternOf(locale).order;
+  if (groups[0].length === 4) order = ["year", "month", "day"];
+  const value: Record<string, string> = {};
+  order.forEach((k, i) => {
+    value[k] = groups[i];
+  });
+  if (value.year?.length !== 4 || !value.month || value.month.length > 2 || !value.day || value.day.length > 2) return null;
+  const [y, mo, d] = [Number(value.year), Number(value.month), Number(value.day)];
+  const at = new Date(Date.UTC(y, mo - 1, d));
+  if (y < 1000 || at.getUTCFullYear() !== y || at.getUTCMonth() !== mo - 1 || at.getUTCDate() !== d) return null;
+  return `${value.year}-${String(mo).padStart(2, "0")}-${String(d).padStart(2, "0")}`;
+}

@@ -85,3 +85,48 @@ describe("money and dates in the viewer's locale", () => {
     });
   }
 });
+
+// Diffractory's own date field (app/components/date-field.tsx): it shows and takes a day in the page's locale, not
+// the browser interface's, and sends ISO 8601 (YYYY-MM-DD) under the field's name. Orders as CLDR writes the numeric
+// day (common practice): day/month/year in Britain, month/day/year in the United States, day.month.year in German.
+const FIELD_CASES = [
+  { locale: "en-GB", pattern: "DD/MM/YYYY", typed: "30/06/2099", shown: (y: string, m: string, d: string) => `${d}/${m}/${y}` },
+  { locale: "en-US", pattern: "MM/DD/YYYY", typed: "06/30/2099", shown: (y: string, m: string, d: string) => `${m}/${d}/${y}` },
+  { locale: "de-DE", pattern: "DD.MM.YYYY", typed: "30.06.2099", shown: (y: string, m: string, d: string) => `${d}.${m}.${y}` },
+];
+
+describe("dates in one style per locale, the date field included", () => {
+  for (const c of FIELD_CASES) {
+    it(`${c.locale}: the agreement form's first day, and no ISO day on the order screens`, async () => {
+      const b = await openBrowser({ locale: c.locale });
+      try {
+        await signIn(b.page, "owner@halvorsen.example");
+        await b.page.waitForURL(`${BASE_URL}/client`);
+        for (const path of ["/client/orders", `/client/orders/${orderId}`]) {
+          await visit(b.page, path);
+          expect(await b.page.locator("main").textContent(), path).not.toMatch(/\b\d{4}-\d{2}-\d{2}\b/);
+        }
+        await visit(b.page, `/client/orders/${orderId}/agreement`);
+        const field = b.page.getByLabel("First day");
+        expect(await field.getAttribute("placeholder")).toBe(c.pattern);
+        expect(await field.getAttribute("type")).toBe("text");
+        // The loader's default (today, in UTC) shows in the locale's order; the form would send it as ISO.
+        const sent = b.page.locator('input[type="hidden"][name="startsOn"]');
+        const iso = await sent.inputValue();
+        expect(iso).toMatch(/^\d{4}-\d{2}-\d{2}$/);
+        const [y, m, d] = iso.split("-");
+        expect(await field.inputValue()).toBe(c.shown(y, m, d));
+        await field.fill(c.typed);
+        expect(await sent.inputValue()).toBe("2099-06-30");
+        // A day that is not on the calendar is named in one sentence, in the locale's pattern.
+        await field.fill("31/31/2099");
+        await field.blur();
+        await b.page.getByText(`Write the day as ${c.pattern}`).waitFor();
+        await screenshot(b.page, `locale-${c.locale}-date-field`);
+        expect(b.consoleErrors).toEqual([]);
+      } finally {
+        await b.close();
+      }
+    });
+  }
+});

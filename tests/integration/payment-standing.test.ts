@@ -5,6 +5,7 @@
 // server from their loaders' data, as the app renders them. Each payment says how it was paid (card or bank
 // transfer), and a bank transfer of which only part has arrived reads "Part received" with the amount.
 import { createElement } from "react";
+import { formatterFor } from "~/domain/locale";
 import { renderToString } from "react-dom/server";
 import { createRoutesStub } from "react-router";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -162,7 +163,8 @@ describe("no page in the client's area calls a refunded payment Paid", () => {
       expect(text, key).not.toMatch(/\bPaid\b/);
       expect(text, key).not.toMatch(PROVIDER_ID);
       expect(JSON.stringify(body), key).not.toMatch(PROVIDER_ID);
-      expect(text).toContain(`${o.number} / ${new Date().toISOString().slice(0, 10)}`);
+      // The page renders in the default locale (en-GB) when the request names none.
+      expect(text).toContain(`${o.number} / ${formatterFor("en-GB").date(new Date())}`);
       expect(text).toContain(key === "partly" ? "Partly refunded" : "Refunded");
       expect(text).toContain(key === "partly" ? "−€50.00" : "−€310.00");
       expect(text).toContain(key === "partly" ? "Net after refunds €190.00" : "Net after refunds €0.00");

@@ -1,7 +1,7 @@
 // The viewer's locale from Accept-Language (RFC 9110 §12.5.4 q-values) and the text of money and dates in it.
 // Expected strings are the CLDR conventions as Node's ICU renders them (the browser tests check Chromium agrees).
 import { describe, expect, it } from "vitest";
-import { formatterFor, negotiateLocale, supportedLocale } from "~/domain/locale";
+import { dayPatternOf, formatterFor, isoDayInLocale, negotiateLocale, parseLocaleDay, supportedLocale } from "~/domain/locale";
 
 describe("negotiateLocale", () => {
   it("takes an exact supported tag, case-insensitively", () => {
@@ -52,5 +52,39 @@ describe("formatterFor", () => {
   it("groups counts", () => {
     expect(formatterFor("en-GB").number(12345)).toBe("12,345");
     expect(formatterFor("de-DE").number(12345)).toBe("12.345");
+  });
+});
+
+// The numeric day of each locale as CLDR writes it (common practice: day/month/year in Britain and most of Europe,
+// month/day/year in the United States, day.month.year in German, year-month-day in Swedish as in ISO 8601).
+describe("the date field's pattern and reading", () => {
+  it("orders day, month and year as the locale does", () => {
+    expect(dayPatternOf("en-GB")).toEqual({ order: ["day", "month", "year"], pattern: "DD/MM/YYYY", example: "30/06/2099" });
+    expect(dayPatternOf("en-US")).toEqual({ order: ["month", "day", "year"], pattern: "MM/DD/YYYY", example: "06/30/2099" });
+    expect(dayPatternOf("de-DE")).toEqual({ order: ["day", "month", "year"], pattern: "DD.MM.YYYY", example: "30.06.2099" });
+    expect(dayPatternOf("sv-SE").order).toEqual(["year", "month", "day"]);
+  });
+  it("shows an ISO day in the locale's figures", () => {
+    expect(isoDayInLocale("2026-03-07", "en-GB")).toBe("07/03/2026");
+    expect(isoDayInLocale("2026-03-07", "en-US")).toBe("03/07/2026");
+    expect(isoDayInLocale("2026-03-07", "de-DE")).toBe("07.03.2026");
+    expect(isoDayInLocale("", "de-DE")).toBe("");
+  });
+  it("reads a typed day back into ISO, in the locale's order or as ISO itself", () => {
+    expect(parseLocaleDay("07/03/2026", "en-GB")).toBe("2026-03-07");
+    expect(parseLocaleDay("03/07/2026", "en-US")).toBe("2026-03-07");
+    expect(parseLocaleDay("7.3.2026", "de-DE")).toBe("2026-03-07");
+    expect(parseLocaleDay(" 2026-03-07 ", "en-US")).toBe("2026-03-07");
+    expect(parseLocaleDay("2026-03-07", "de-DE")).toBe("2026-03-07");
+  });
+  it("refuses days that are not on the calendar, short years and words", () => {
+    expect(parseLocaleDay("30/02/2031", "en-GB")).toBeNull();
+    expect(parseLocaleDay("13/30/2026", "en-US")).toBeNull();
+    expect(parseLocaleDay("07/03/26", "en-GB")).toBeNull();
+    expect(parseLocaleDay("next Tuesday", "en-GB")).toBeNull();
+    expect(parseLocaleDay("", "en-GB")).toBeNull();
+    // 2028 is a leap year, 2100 is not (Gregorian rule).
+    expect(parseLocaleDay("29/02/2028", "en-GB")).toBe("2028-02-29");
+    expect(parseLocaleDay("29/02/2100", "en-GB")).toBeNull();
   });
 });

@@ -1,6 +1,7 @@
 // /admin/invoices — the documents issued in a period (invoices, credit notes, platform fee invoices), with totals
 // per currency and kind, and the period's CSV for the accounts. Days are UTC; both the first and last are included.
 import { Form, Link, useSearchParams } from "react-router";
+import { DateField } from "~/components/date-field";
 import { useFormat } from "~/components/locale";
 import { SubmitButton } from "~/components/pending";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
@@ -58,13 +59,13 @@ export default function Invoices({ loaderData }: Route.ComponentProps) {
           <label className="label" htmlFor="from">
             First day
           </label>
-          <input id="from" name="from" type="date" className="input" defaultValue={params.get("from") ?? from} />
+          <DateField id="from" name="from" defaultValue={params.get("from") ?? from} />
         </div>
         <div>
           <label className="label" htmlFor="to">
             Last day
           </label>
-          <input id="to" name="to" type="date" className="input" defaultValue={params.get("to") ?? to} />
+          <DateField id="to" name="to" defaultValue={params.get("to") ?? to} />
         </div>
         <div className="flex items-end">
           <SubmitButton className="btn-primary w-full" pendingText="Reading…">

@@ -1,5 +1,6 @@
 // An admin's review of one lab: documents, radiation-licence attestation, the calibration check, and the decision.
 import { getFormProps, getInputProps, getTextareaProps, useForm } from "@conform-to/react";
+import { useFormat } from "~/components/locale";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
@@ -120,6 +121,7 @@ const KIND_LABELS: Record<string, string> = {
 export default function LabReview({ loaderData, actionData }: Route.ComponentProps) {
   const { lab, documents, check, withinTolerance: inTolerance, incomplete, decisions } = loaderData;
   const navigation = useNavigation();
+  const fmt = useFormat();
   const [form, fields] = useForm({
     id: "vetting-decision",
     lastResult: actionData?.result,
@@ -134,7 +136,9 @@ export default function LabReview({ loaderData, actionData }: Route.ComponentPro
     ["ISO/IEC 17025 accreditation", lab.accreditationNumber ? `${lab.accreditationNumber}, expires ${lab.accreditationExpiry ?? "—"}` : "—"],
     [
       "Radiation licence",
-      lab.attestation ? `${lab.attestation} (attested by ${lab.attestedBy ?? "a former member"} on ${lab.attestedAt?.slice(0, 10)})` : "not attested",
+      lab.attestation
+        ? `${lab.attestation} (attested by ${lab.attestedBy ?? "a former member"} on ${lab.attestedAt ? fmt.date(lab.attestedAt) : "—"})`
+        : "not attested",
     ],
   ];
   return (
@@ -159,7 +163,7 @@ export default function LabReview({ loaderData, actionData }: Route.ComponentPro
         </dl>
         {lab.reviewNote ? (
           <p className="mt-4 text-sm">
-            Last decision ({lab.reviewedAt?.slice(0, 10)}): {lab.reviewNote}
+            Last decision ({lab.reviewedAt ? fmt.date(lab.reviewedAt) : "—"}): {lab.reviewNote}
           </p>
         ) : null}
       </section>

@@ -1,5 +1,6 @@
 // /admin/ledger — every money movement as balanced double-entry rows, with filters and totals.
 import { Form, Link, useSearchParams } from "react-router";
+import { DateField } from "~/components/date-field";
 import { PageNav, SortableTable } from "~/components/data-table";
 import { SubmitButton } from "~/components/pending";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
@@ -106,13 +107,13 @@ export default function Ledger({ loaderData }: Route.ComponentProps) {
           <label className="label" htmlFor="from">
             From
           </label>
-          <input id="from" name="from" type="date" className="input" defaultValue={params.get("from") ?? ""} />
+          <DateField id="from" name="from" defaultValue={params.get("from") ?? ""} />
         </div>
         <div>
           <label className="label" htmlFor="to">
             To
           </label>
-          <input id="to" name="to" type="date" className="input" defaultValue={params.get("to") ?? ""} />
+          <DateField id="to" name="to" defaultValue={params.get("to") ?? ""} />
         </div>
         <div className="flex items-end">
           <SubmitButton className="btn-primary w-full" pendingText="Filtering…">

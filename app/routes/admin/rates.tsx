@@ -1,10 +1,12 @@
 // /admin/rates — indicative exchange rates (admins only): set a dated rate with its source; the recent ones listed.
 // Quotes in other currencies are compared at the latest rate, labelled as indicative (docs/design.md#currencies).
 import { data, Form, useNavigation } from "react-router";
+import { DateField } from "~/components/date-field";
 import { EmptyState, Field, FormError, PageHeader, TableCard } from "~/components/ui";
 import { useFormat } from "~/components/locale";
 import { parseRate, rateText } from "~/domain/exchange";
 import { CURRENCIES } from "~/domain/money";
+import { formatterFor, negotiateLocale } from "~/domain/locale";
 import { rateProblems, recentRates, setExchangeRate, type RateInput } from "~/models/platform/exchange-rates.server";
 import { readForm } from "~/utils/form.server";
 import { requireAdmin } from "~/utils/permissions.server";
@@ -26,7 +28,7 @@ export async function action({ request }: Route.ActionArgs) {
   await setExchangeRate(input, user.id);
   return redirectWithToast("/admin/rates", {
     kind: "success",
-    message: `Rate saved: 1 ${input.base} = ${rateText(parseRate(input.rate) as bigint)} ${input.quote} as of ${input.asOf}.`,
+    message: `Rate saved: 1 ${input.base} = ${rateText(parseRate(input.rate) as bigint)} ${input.quote} as of ${formatterFor(negotiateLocale(request.headers.get("accept-language"))).date(`${input.asOf}T00:00:00Z`)}.`,
   });
 }
 
@@ -66,15 +68,7 @@ export default function Rates({ loaderData, actionData }: Route.ComponentProps) 
           <input id="rate" name="rate" className="input" inputMode="decimal" defaultValue={values?.rate ?? ""} aria-describedby="rate-error" />
         </Field>
         <Field label="As of" id="asOf" errors={err("asOf")}>
-          <input
-            id="asOf"
-            name="asOf"
-            type="date"
-            className="input"
-            max={loaderData.today}
-            defaultValue={values?.asOf ?? loaderData.today}
-            aria-describedby="asOf-error"
-          />
+          <DateField id="asOf" name="asOf" defaultValue={values?.asOf ?? loaderData.today} aria-describedby="asOf-error" />
         </Field>
         <Field label="Source" id="source" errors={err("source")} hint="Where the rate comes from">
           <input id="source" name="source" className="input" maxLength={200} defaultValue={values?.source ?? ""} aria-describedby="source-error" />

@@ -1,5 +1,6 @@
 // /client/orders/:id/agreement — make an order's accepted quote a standing agreement for one of the client's materials.
 import { data, Form, Link } from "react-router";
+import { DateField } from "~/components/date-field";
 import { useFormat } from "~/components/locale";
 import { FormError, PageHeader } from "~/components/ui";
 import { isoDay } from "~/domain/agreements";
@@ -82,13 +83,13 @@ export default function OrderAgreement({ loaderData, actionData }: Route.Compone
               <label htmlFor="starts-on" className="label">
                 First day
               </label>
-              <input id="starts-on" name="startsOn" type="date" className="input" defaultValue={defaults.startsOn} required />
+              <DateField id="starts-on" name="startsOn" defaultValue={defaults.startsOn} required />
             </div>
             <div>
               <label htmlFor="ends-on" className="label">
                 Last day
               </label>
-              <input id="ends-on" name="endsOn" type="date" className="input" defaultValue={defaults.endsOn} required />
+              <DateField id="ends-on" name="endsOn" defaultValue={defaults.endsOn} required />
             </div>
             <div>
               <label htmlFor="budget-cap" className="label">

@@ -99,7 +99,7 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
         ) : null}
         <dt className="text-ink-600">Reference</dt>
         <dd className="font-mono text-xs">
-          {receipt.orderNumber} / {new Date(receipt.at).toISOString().slice(0, 10)}
+          {receipt.orderNumber} / {fmt.date(receipt.at)}
         </dd>
         <dt className="text-ink-600">State</dt>
         <dd>{PAYMENT_STANDING_LABELS[receipt.standing]}</dd>

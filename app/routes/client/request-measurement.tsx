@@ -1,5 +1,6 @@
 // New request, step 3 (measurement): range of interest, source, temperatures, atmosphere, quality, deadline, budget.
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
+import { DateField } from "~/components/date-field";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
 import { Options, WizardSteps } from "~/components/request-parts";
@@ -102,7 +103,7 @@ export default function RequestMeasurement({ loaderData, actionData }: Route.Com
             </select>
           </Field>
           <Field label="Deadline" id={fields.deadline.id} errors={fields.deadline.errors}>
-            <input className="input" {...getInputProps(fields.deadline, { type: "date" })} />
+            <DateField {...getInputProps(fields.deadline, { type: "text" })} />
           </Field>
           <div className="grid grid-cols-[2fr_1fr] gap-2">
             <Field label="Budget (optional)" id={fields.budget.id} errors={fields.budget.errors}>

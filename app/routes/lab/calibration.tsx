@@ -3,6 +3,8 @@
 import { FormulaText } from "~/components/symbol-values";
 import { CellSymbol, TwoTheta } from "~/components/symbols";
 import { getFormProps, getInputProps, useForm, type SubmissionResult } from "@conform-to/react";
+import { useFormat } from "~/components/locale";
+import type { Formatter } from "~/domain/locale";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useMemo, useState } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
@@ -108,14 +110,13 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   return data({ intent, result: { status: "error", error: { "": ["This form cannot be handled here."] } } as SubmissionResult<string[]> }, { status: 400 });
 }
 
-const day = (iso: string) => iso.slice(0, 10);
 const DECIMALS = { deviation: 5, zeroShift: 4, width: 4 } as const;
 /** The value axis's words: short, so they fit beside the chart (the caption says the rest). */
 const AXIS_WORDS = { deviation: "Deviation", zeroShift: "Zero shift", width: "FWHM" } as const;
 
 /** A calibration series as the generic control chart draws it: scans in order, each under its date. */
-function chartData(c: ChartSeries): ControlChartData {
-  const dateOf = (t: number) => new Date(t * 1000).toISOString().slice(0, 10);
+function chartData(c: ChartSeries, fmt: Formatter): ControlChartData {
+  const dateOf = (t: number) => fmt.date(t * 1000);
   return {
     points: c.values.map((value, i) => ({ x: i + 1, tick: dateOf(c.times[i]), words: `Scan ${i + 1}, ${dateOf(c.times[i])}`, value, rules: c.flags[i] ?? [] })),
     limits: c.limits ? { center: c.limits.center, ucl: c.limits.ucl, lcl: c.limits.lcl, sigma: c.limits.sigma } : null,
@@ -129,7 +130,8 @@ function chartData(c: ChartSeries): ControlChartData {
 
 export default function InstrumentCalibration({ loaderData, actionData }: Route.ComponentProps) {
   const { canEdit, instrument, scans } = loaderData;
-  const charts = useMemo(() => calibrationCharts(scans).map((c) => ({ ...c, data: chartData(c) })), [scans]);
+  const fmt = useFormat();
+  const charts = useMemo(() => calibrationCharts(scans).map((c) => ({ ...c, data: chartData(c, fmt) })), [scans, fmt]);
   const withdrawn = withdrawalReason(instrument.state);
   return (
     <div className="space-y-6">
@@ -149,7 +151,7 @@ export default function InstrumentCalibration({ loaderData, actionData }: Route.
             "No calibration scan recorded yet."
           ) : (
             <FormulaText
-              text={`${scans.length} ${scans.length === 1 ? "scan" : "scans"} on record, standard ${standardLabel(instrument.standard)}. Next scan due ${instrument.dueAt ? day(instrument.dueAt) : "—"} (every ${instrument.intervalDays} days).`}
+              text={`${scans.length} ${scans.length === 1 ? "scan" : "scans"} on record, standard ${standardLabel(instrument.standard)}. Next scan due ${instrument.dueAt ? fmt.date(instrument.dueAt) : "—"} (every ${instrument.intervalDays} days).`}
             />
           )}
         </p>
@@ -222,7 +224,7 @@ export default function InstrumentCalibration({ loaderData, actionData }: Route.
             >
               {[...scans].reverse().map((s) => (
                 <tr key={s.id}>
-                  <td>{day(s.measuredAt)}</td>
+                  <td>{fmt.date(s.measuredAt)}</td>
                   <td>
                     <FormulaText text={standardLabel(s.standard)} />
                   </td>

@@ -1,5 +1,7 @@
 // The capabilities editor: instruments with their sources, ranges and stages, and the hazards the lab accepts.
 import { getCollectionProps, getFormProps, getInputProps, useForm, type SubmissionResult } from "@conform-to/react";
+import { useFormat } from "~/components/locale";
+import type { Formatter } from "~/domain/locale";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useActionData, useNavigation, useSearchParams } from "react-router";
 import type { z } from "zod";
@@ -150,10 +152,10 @@ function profileText(i: Pick<Instrument, "cagliotiU" | "cagliotiV" | "cagliotiW"
   return `U ${i.cagliotiU}, V ${i.cagliotiV}, W ${i.cagliotiW} degrees²${i.profileSource ? ` · ${i.profileSource}` : ""}`;
 }
 
-function calibrationText(i: Pick<Instrument, "calibrationState" | "calibrationDueAt" | "calibrationIntervalDays">) {
+function calibrationText(i: Pick<Instrument, "calibrationState" | "calibrationDueAt" | "calibrationIntervalDays">, fmt: Formatter) {
   const withdrawn = withdrawalReason(i.calibrationState);
   const due = i.calibrationDueAt
-    ? `next scan due ${new Date(i.calibrationDueAt).toISOString().slice(0, 10)}, every ${i.calibrationIntervalDays} days`
+    ? `next scan due ${fmt.date(i.calibrationDueAt)}, every ${i.calibrationIntervalDays} days`
     : `every ${i.calibrationIntervalDays} days`;
   return withdrawn ? `${withdrawn} (${due})` : `${CALIBRATION_STATE_LABELS[i.calibrationState]} (${due})`;
 }
@@ -170,6 +172,7 @@ function useFormResult(formId: string) {
 }
 
 function InstrumentCard({ instrument: i, canEdit, editStage }: { instrument: InstrumentView; canEdit: boolean; editStage: string | null }) {
+  const fmt = useFormat();
   const facts: [string, string][] = [
     ["Technique", TECHNIQUE_LABELS[i.technique]],
     ["Source", sourceText(i)],
@@ -179,7 +182,7 @@ function InstrumentCard({ instrument: i, canEdit, editStage }: { instrument: Ins
     ["Sample forms", i.sampleForms.map((f) => SAMPLE_FORM_LABELS[f as keyof typeof SAMPLE_FORM_LABELS] ?? f).join(", ") || "—"],
     ["Sample holder", SAMPLE_HOLDER_OPTIONS.find((h) => h.value === i.sampleHolder)?.label ?? "Not stated"],
     ["Instrument profile", profileText(i)],
-    ["Calibration", calibrationText(i)],
+    ["Calibration", calibrationText(i, fmt)],
   ];
   const stageBeingEdited = i.stages.find((s) => s.id === editStage);
   const newStageResult = useFormResult(`stage-new-${i.id}`);

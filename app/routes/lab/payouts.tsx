@@ -91,7 +91,7 @@ export default function Payouts({ loaderData, actionData }: Route.ComponentProps
               <td>
                 {/* The order number and the day are the reference people use; the provider's id stays secondary, for the payout account's own records. */}
                 <span className="font-mono text-xs">
-                  {p.orderNumber || "—"} / {new Date(p.at).toISOString().slice(0, 10)}
+                  {p.orderNumber || "—"} / {fmt.date(p.at)}
                 </span>
                 <span className="block text-xs text-ink-500">provider&apos;s transfer id {p.transferId}</span>
               </td>
