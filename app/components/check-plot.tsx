@@ -1,5 +1,6 @@
-// The interactive pattern of a lattice check (uPlot on a canvas). The observed counts are drawn last, on top, as
-// a thin dark line (and as points once zoomed in far enough); under them the calculated curve — the whole-pattern
+// The interactive pattern of a lattice check (uPlot on a canvas, its own legend and readout off: the key and the
+// cursor readout beside the plot are Diffractory's own, docs/design-system.md). The observed counts are drawn last,
+// on top, as a thin dark line (and as points once zoomed in far enough); under them the calculated curve — the whole-pattern
 // fit when the check made one, else the sum of the freely fitted peaks, labelled as such — and the background;
 // below the pattern one tick row per declared phase (an absent phase's row dashed and faint), rows for the lines
 // that are not the sample's (tube: Kβ, tungsten L; holder), and the difference observed − calculated. Sample
@@ -7,10 +8,11 @@
 // on their 2θ points and only the axis's labels change. The freely fitted peaks can be shown as a layer of their
 // own. Drag to zoom, Shift + drag or the arrow buttons to pan, the wheel zooms around the pointer, double-click
 // resets.
-import { useEffect, useId, useRef, useState } from "react";
+import { type ReactNode, useEffect, useId, useRef, useState } from "react";
 import type uPlotType from "uplot";
 import "uplot/dist/uPlot.min.css";
 import { useFormat } from "~/components/locale";
+import { Formula, TwoTheta } from "~/components/symbols";
 import { axisNumber, axisUnit, dOf, type PlotAxis, qOf, roundSplits } from "./plot-axis";
 
 export interface CheckPlotTick {
@@ -56,29 +58,47 @@ export interface CheckPlotData {
   unindexed?: CheckPlotTick[];
 }
 
-// The product's own palette (app.css) plus a few distinct hues for further phases: observed in ink, the
-// calculated curve in beam violet, background grey, difference in ok green, phases each in their own colour.
-const COLOURS = {
-  observed: "#161a22",
-  calculated: "#7a70ee",
-  background: "#8690a3",
-  difference: "#15803d",
-  free: "#0e7490",
-  tube: "#b45309",
-  holder: "#636d81",
-  unindexed: "#c62828",
-};
-/** Tick-row colours: the main phase in beam violet, then further phases (all ≥ 4.5 : 1 on white). */
-const PHASE_COLOURS = ["#3c31a8", "#0f766e", "#be185d", "#1d4ed8", "#7c3aed", "#4d7c0f"];
+// The product's own palette (app/app.css tokens, read from the stylesheet when the canvas is drawn; the values here
+// are the tokens' own for a page without it): observed in ink, the calculated curve in the copper anode, the
+// difference in beam, background and the lines that are not the sample's in greys.
+const TOKENS = {
+  observed: ["--color-ink-900", "#1a1a18"],
+  calculated: ["--color-anode-500", "#c1682a"],
+  background: ["--color-ink-400", "#9a968a"],
+  difference: ["--color-beam-600", "#1c6266"],
+  free: ["--color-beam-400", "#4a9597"],
+  tube: ["--color-ink-600", "#57554f"],
+  holder: ["--color-ink-400", "#9a968a"],
+  unindexed: ["--color-danger-600", "#b3261e"],
+  axis: ["--color-ink-700", "#42413c"],
+  grid: ["--color-ink-100", "#efede6"],
+  tick: ["--color-ink-300", "#c6c2b5"],
+} as const;
+type PlotColour = keyof typeof TOKENS;
+/** A colour for SVG and CSS: the token itself, so the key follows the stylesheet. */
+const cssColour = (c: PlotColour) => `var(${TOKENS[c][0]}, ${TOKENS[c][1]})`;
+/** The colours for the canvas, read from the stylesheet's tokens. */
+function canvasColours(): Record<PlotColour, string> {
+  const style = typeof document === "undefined" ? null : getComputedStyle(document.documentElement);
+  return Object.fromEntries(Object.entries(TOKENS).map(([k, [name, fallback]]) => [k, style?.getPropertyValue(name).trim() || fallback])) as Record<
+    PlotColour,
+    string
+  >;
+}
+/**
+ * Tick-row colours, one per phase (main first): the Okabe–Ito set for colour-blind readers, darkened where needed
+ * to hold 3 : 1 against white as thin marks (WCAG 1.4.11); rows also differ by position, and the key names each.
+ */
+const PHASE_COLOURS = ["#0072b2", "#a8508a", "#00785a", "#b84a00", "#6e5c00", "#3d7fb5"];
 export const phaseColour = (i: number) => PHASE_COLOURS[i % PHASE_COLOURS.length];
 
 const ROW_PX = 14;
 
 /** The tick rows under the pattern, top to bottom: one per phase, then tube lines and holder lines when any. */
 function tickRows(data: CheckPlotData) {
-  const rows: { key: string; label: string; colour: string; faint: boolean; ticks: CheckPlotTick[] }[] = [];
+  const rows: TickRow[] = [];
   if (data.rows?.length) {
-    data.rows.forEach((r, i) => rows.push({ key: `phase-${i}`, label: phaseRowLabel(r, i), colour: phaseColour(i), faint: !r.present, ticks: r.ticks }));
+    data.rows.forEach((r, i) => rows.push({ key: `phase-${i}`, ...phaseRowLabel(r, i), colour: phaseColour(i), faint: !r.present, ticks: r.ticks }));
   } else if (data.ticks.length) {
     rows.push({ key: "phase-0", label: "Reflections of the refined cell", colour: phaseColour(0), faint: false, ticks: data.ticks });
   }
@@ -90,19 +110,34 @@ function tickRows(data: CheckPlotData) {
     rows.push({
       key: "tube",
       label: untyped ? "Lines that are not the sample's (Kβ, tungsten L, holder)" : "Tube lines (Kβ, tungsten L)",
-      colour: COLOURS.tube,
+      colour: cssColour("tube"),
+      token: "tube",
       faint: false,
       ticks: tube,
     });
   }
-  if (holder.length) rows.push({ key: "holder", label: "Holder lines", colour: COLOURS.holder, faint: false, ticks: holder });
+  if (holder.length) rows.push({ key: "holder", label: "Holder lines", colour: cssColour("holder"), token: "holder", faint: false, ticks: holder });
   return rows;
+}
+
+interface TickRow {
+  key: string;
+  /** The row's words in plain text (for the readout); `formula` and `suffix` split them for the key. */
+  label: string;
+  formula?: string;
+  suffix?: string;
+  /** The colour for SVG and CSS; `token` names it for the canvas when it is one of the plot's own. */
+  colour: string;
+  token?: PlotColour;
+  faint: boolean;
+  ticks: CheckPlotTick[];
 }
 
 function phaseRowLabel(r: CheckPlotRow, i: number) {
   const role = r.role === "main" ? "main" : "expected";
-  const name = r.name?.trim() ? `${r.name.trim()} — ${role}` : r.role === "main" ? "Main phase" : `Expected phase ${i + 1}`;
-  return `${name}${r.present ? "" : ", absent"}${r.note ? ` (${r.note})` : ""}`;
+  const tail = `${r.present ? "" : ", absent"}${r.note ? ` (${r.note})` : ""}`;
+  if (r.name?.trim()) return { label: `${r.name.trim()} — ${role}${tail}`, formula: r.name.trim(), suffix: ` — ${role}${tail}` };
+  return { label: `${r.role === "main" ? "Main phase" : `Expected phase ${i + 1}`}${tail}` };
 }
 
 /**
@@ -161,7 +196,29 @@ const AXIS_WORDS: Record<PlotAxis, { label: string; short: string }> = {
   q: { label: "Q = 4π sin θ / λ (Å⁻¹)", short: "Q" },
 };
 
-export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { data: CheckPlotData; height?: number; label?: string }) {
+/** The values under the cursor, for the readout beside the plot. */
+interface Readout {
+  twoTheta: number;
+  observed: number;
+  calculated: number;
+  difference: number;
+}
+
+/**
+ * The pattern with its controls, its key and the cursor readout. `keyBeside`: on wide screens the key stands to
+ * the right of the canvas (the check page, where the plot shares the first screen with the verdict); else below.
+ */
+export function CheckPlot({
+  data,
+  height = 360,
+  label = "Powder pattern",
+  keyBeside = false,
+}: {
+  data: CheckPlotData;
+  height?: number;
+  label?: string;
+  keyBeside?: boolean;
+}) {
   const fmt = useFormat();
   const id = useId();
   const host = useRef<HTMLDivElement>(null);
@@ -170,6 +227,7 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
   const [axis, setAxis] = useState<PlotAxis>("twoTheta");
   const [showFree, setShowFree] = useState(false);
   const [hover, setHover] = useState<string | null>(null);
+  const [readout, setReadout] = useState<Readout | null>(null);
   // The zoom and the free-peak layer outlive a rebuild for another axis (the same data keeps its window).
   const kept = useRef<{ data: CheckPlotData; range: [number, number] | null; showFree: boolean }>({ data, range: null, showFree: false });
   kept.current.showFree = showFree;
@@ -194,6 +252,7 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
       const calc = wholePattern ? data.calculated! : data.fitted;
       const unindexed = (data.unindexed ?? []).map((p) => ({ ...p, top: peakTop(data, p.twoTheta) }));
       const dpr = () => devicePixelRatio;
+      const C = canvasColours();
 
       const drawRows = (u: uPlotType) => {
         const ctx = u.ctx;
@@ -204,7 +263,7 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
         ctx.lineWidth = Math.max(1, dpr());
         rows.forEach((row, r) => {
           const y = u.valToPos(layout.rows[r], "y", true);
-          ctx.strokeStyle = row.colour;
+          ctx.strokeStyle = row.token ? C[row.token] : row.colour;
           ctx.globalAlpha = row.faint ? 0.55 : 1;
           ctx.setLineDash(row.faint ? [2 * dpr(), 2 * dpr()] : []);
           ctx.beginPath();
@@ -219,7 +278,7 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
         ctx.globalAlpha = 1;
         ctx.setLineDash([]);
         // Unindexed sample peaks: a red triangle pointing down at the peak, just above its top.
-        ctx.fillStyle = COLOURS.unindexed;
+        ctx.fillStyle = C.unindexed;
         for (const p of unindexed) {
           if (p.twoTheta < xMin || p.twoTheta > xMax) continue;
           const x = u.valToPos(p.twoTheta, "x", true);
@@ -257,49 +316,38 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
         return tick ? `${near.row.label}: ${tick.label} at 2θ ${tick.twoTheta.toFixed(3)}°` : null;
       };
 
-      const unitValue = (v: number) => {
-        if (axis === "twoTheta" || !wavelength) return `${v.toFixed(3)}°`;
-        return axis === "d" ? `${dOf(v, wavelength).toFixed(4)} Å (2θ ${v.toFixed(3)}°)` : `${qOf(v, wavelength).toFixed(4)} Å⁻¹ (2θ ${v.toFixed(3)}°)`;
-      };
-      const counts = (_u: uPlotType, v: number | null) => (v == null ? "—" : v.toFixed(0));
-      const xAxis: uPlotType.Axis = { label: AXIS_WORDS[axis].label, stroke: "#3a4151", grid: { stroke: "#eceef2" }, ticks: { stroke: "#d6dae2" } };
+      const xAxis: uPlotType.Axis = { label: AXIS_WORDS[axis].label, stroke: C.axis, grid: { stroke: C.grid }, ticks: { stroke: C.tick } };
       if (axis !== "twoTheta" && wavelength) {
         const [toUnit, fromUnit] = axisUnit(axis, wavelength);
         xAxis.splits = (u, _i, min, max) => roundSplits(min, max, toUnit, fromUnit, u.bbox.width / dpr());
         xAxis.values = (_u, splits) => splits.map((x) => axisNumber(toUnit(x)));
       }
-      const series: uPlotType.Series[] = [
-        { label: AXIS_WORDS[axis].short, value: (_u, v) => (v == null ? "—" : unitValue(v)) },
-        { label: "Background", stroke: COLOURS.background, width: 1, dash: [4, 3], value: counts },
-      ];
+      const series: uPlotType.Series[] = [{ label: AXIS_WORDS[axis].short }, { label: "Background", stroke: C.background, width: 1, dash: [4, 3] }];
       if (wholePattern) {
         series.push({
           label: "Freely fitted peaks (sum; separate layer)",
-          stroke: COLOURS.free,
+          stroke: C.free,
           width: 1,
           dash: [5, 3],
           show: kept.current.showFree,
-          value: counts,
         });
-        series.push({ label: "Calculated (whole-pattern fit)", stroke: COLOURS.calculated, width: 2, value: counts });
+        series.push({ label: "Calculated (whole-pattern fit)", stroke: C.calculated, width: 2 });
       } else {
-        series.push({ label: "Sum of freely fitted peaks — not a whole-pattern fit", stroke: COLOURS.calculated, width: 2, value: counts });
+        series.push({ label: "Sum of freely fitted peaks — not a whole-pattern fit", stroke: C.calculated, width: 2 });
       }
       series.push(
         {
           label: wholePattern ? "Difference (observed − calculated, offset)" : "Difference (observed − sum of free peaks, offset)",
-          stroke: COLOURS.difference,
+          stroke: C.difference,
           width: 1,
-          value: (_u, v) => (v == null ? "—" : (v - layout.diffZero).toFixed(0)),
         },
         // Last, so it is drawn on top of every other curve; points once zoomed in enough to tell them apart.
         {
           label: "Observed",
-          stroke: COLOURS.observed,
+          stroke: C.observed,
           width: 1,
           // Points once each has 5 CSS pixels of its own, i.e. when zoomed in.
-          points: { show: (u, _s, i0, i1) => (i1 - i0) * 5 * dpr() < u.bbox.width, size: 4, fill: COLOURS.observed, stroke: COLOURS.observed },
-          value: counts,
+          points: { show: (u, _s, i0, i1) => (i1 - i0) * 5 * dpr() < u.bbox.width, size: 4, fill: C.observed, stroke: C.observed },
         },
       );
       const x = Float64Array.from(data.twoTheta as ArrayLike<number>);
@@ -313,6 +361,8 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
         height: plotHeight,
         pxAlign: false,
         cursor: { drag: { x: true, y: false, setScale: true }, points: { show: false } },
+        // The plotting library's own legend stays off: the key and the readout beside the plot are the product's.
+        legend: { show: false },
         scales: {
           x: { time: false },
           y: {
@@ -328,9 +378,9 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
           xAxis,
           {
             label: "Counts",
-            stroke: "#3a4151",
-            grid: { stroke: "#eceef2", filter: (_u, splits) => splits.map((v) => (v >= layout.lo - 1e-9 ? v : null)) },
-            ticks: { stroke: "#d6dae2", filter: (_u, splits) => splits.map((v) => (v >= layout.lo - 1e-9 ? v : null)) },
+            stroke: C.axis,
+            grid: { stroke: C.grid, filter: (_u, splits) => splits.map((v) => (v >= layout.lo - 1e-9 ? v : null)) },
+            ticks: { stroke: C.tick, filter: (_u, splits) => splits.map((v) => (v >= layout.lo - 1e-9 ? v : null)) },
             // Counts are labelled on the pattern only, not beside the tick rows and the offset difference.
             filter: (_u, splits) => splits.map((v) => (v >= layout.lo - 1e-9 ? v : null)),
             size: 64,
@@ -350,7 +400,17 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
               }
             },
           ],
-          setCursor: [(u) => setHover(hoverWords(u))],
+          setCursor: [
+            (u) => {
+              setHover(hoverWords(u));
+              const i = u.cursor.idx;
+              setReadout(
+                i == null || u.cursor.left == null || u.cursor.left < 0
+                  ? null
+                  : { twoTheta: x[i], observed: data.observed[i], calculated: calc[i], difference: data.observed[i] - calc[i] },
+              );
+            },
+          ],
           setSeries: [(u, i) => i === FREE && wholePattern && setShowFree(u.series[FREE].show !== false)],
         },
       };
@@ -423,29 +483,91 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
   };
   const unindexedCount = data.unindexed?.length ?? 0;
 
+  const calcWords = wholePattern ? "Calculated — whole-pattern fit" : "Sum of freely fitted peaks — not a whole-pattern fit";
+  const key = (
+    <ul className="space-y-1 text-xs text-ink-700" aria-label="Key to the plot" data-testid="plot-key">
+      <KeyItem series="observed" swatch={<KeyLine colour={cssColour("observed")} width={1.4} dot />}>
+        Observed scan
+      </KeyItem>
+      <KeyItem series="calculated" swatch={<KeyLine colour={cssColour("calculated")} width={2.4} />}>
+        {calcWords}
+      </KeyItem>
+      {wholePattern ? (
+        <li data-series="free" data-shown={String(showFree)} className="print:hidden">
+          <label className="inline-flex items-start gap-2">
+            <input type="checkbox" className="mt-0.5" checked={showFree} onChange={(e) => toggleFree(e.target.checked)} />
+            <KeyLine colour={cssColour("free")} width={1.4} dash="4 2" />
+            <span>Show the freely fitted peaks (a separate layer)</span>
+          </label>
+        </li>
+      ) : null}
+      <KeyItem series="background" swatch={<KeyLine colour={cssColour("background")} width={1.4} dash="4 3" />}>
+        Background
+      </KeyItem>
+      <KeyItem series="difference" swatch={<KeyLine colour={cssColour("difference")} width={1.4} />}>
+        Difference, observed − {wholePattern ? "calculated" : "sum"} (below)
+      </KeyItem>
+      {rows.map((r) => (
+        <KeyItem
+          key={r.key}
+          series={r.key}
+          faint={r.faint}
+          swatch={
+            <svg viewBox="0 0 28 12" className="h-3 w-7 shrink-0" aria-hidden="true" focusable="false">
+              <path
+                d="M3 1v10M10 1v10M17 1v10M24 1v10"
+                stroke={r.colour}
+                strokeWidth="1.6"
+                strokeDasharray={r.faint ? "2 2" : undefined}
+                opacity={r.faint ? 0.55 : 1}
+              />
+            </svg>
+          }
+        >
+          {r.formula ? (
+            <span>
+              <Formula>{r.formula}</Formula>
+              {r.suffix}
+            </span>
+          ) : (
+            r.label
+          )}{" "}
+          <span className="text-ink-600">({r.ticks.length})</span>
+        </KeyItem>
+      ))}
+      {unindexedCount ? (
+        <KeyItem
+          series="unindexed"
+          swatch={
+            <svg viewBox="0 0 28 12" className="h-3 w-7 shrink-0" aria-hidden="true" focusable="false">
+              <path d="M14 10 9.5 2h9Z" fill={cssColour("unindexed")} />
+            </svg>
+          }
+        >
+          Sample peaks no declared phase indexes <span className="text-ink-600">({unindexedCount})</span>
+        </KeyItem>
+      ) : null}
+    </ul>
+  );
+  const readoutLine = (
+    <p className="min-h-8 text-xs text-ink-800 tabular-nums print:hidden" data-testid="plot-readout" aria-live="off">
+      {readout ? readoutWords(readout, axis, wavelength, fmt.number) : <span className="text-ink-600">Point at the pattern to read its values here.</span>}
+      <span className="block text-ink-700" data-testid="plot-hover">
+        {hover ?? ""}
+      </span>
+    </p>
+  );
+
   return (
-    <figure className="space-y-2">
-      <div className="flex flex-wrap items-center justify-between gap-2 text-xs text-ink-600">
+    <figure className="space-y-2 print:break-inside-avoid">
+      <div className="flex flex-wrap items-center justify-between gap-x-6 gap-y-1 text-xs text-ink-600">
         <p data-testid="plot-range">{rangeWords(range && zoomed ? range : null, full, n, axis, wavelength, fmt.number)}</p>
-        <div className="flex gap-1">
-          <button type="button" className="btn-secondary px-2 py-1 text-xs" onClick={() => pan(-1)} disabled={!zoomed} aria-label="Pan to lower 2θ">
-            ← Pan
-          </button>
-          <button type="button" className="btn-secondary px-2 py-1 text-xs" onClick={() => pan(1)} disabled={!zoomed} aria-label="Pan to higher 2θ">
-            Pan →
-          </button>
-          <button type="button" className="btn-secondary px-2 py-1 text-xs" onClick={reset} disabled={!zoomed}>
-            Reset zoom
-          </button>
-        </div>
-      </div>
-      <div className="flex flex-wrap items-center gap-x-6 gap-y-2 text-xs text-ink-700">
         {wavelength ? (
-          <fieldset className="flex flex-wrap items-center gap-3">
-            <legend className="float-left mr-2 font-medium">x axis</legend>
+          <fieldset className="flex flex-wrap items-center gap-3 text-ink-700 print:hidden">
+            <legend className="float-left mr-1 font-medium">x axis</legend>
             {(
               [
-                ["twoTheta", "2θ (°)"],
+                ["twoTheta", <TwoTheta key="t" unit />],
                 ["d", "d-spacing (Å)"],
                 ["q", "Q (Å⁻¹)"],
               ] as const
@@ -457,75 +579,87 @@ export function CheckPlot({ data, height = 360, label = "Powder pattern" }: { da
             ))}
           </fieldset>
         ) : null}
-        {wholePattern ? (
-          <label className="inline-flex items-center gap-1">
-            <input type="checkbox" checked={showFree} onChange={(e) => toggleFree(e.target.checked)} />
-            Show the freely fitted peaks (a separate layer, not the whole-pattern fit)
-          </label>
-        ) : null}
+        <div className="flex gap-1 print:hidden">
+          <button type="button" className="btn-secondary px-2 py-1 text-xs" onClick={() => pan(-1)} disabled={!zoomed} aria-label="Pan to lower 2θ">
+            ← Pan
+          </button>
+          <button type="button" className="btn-secondary px-2 py-1 text-xs" onClick={() => pan(1)} disabled={!zoomed} aria-label="Pan to higher 2θ">
+            Pan →
+          </button>
+          <button type="button" className="btn-secondary px-2 py-1 text-xs" onClick={reset} disabled={!zoomed}>
+            Reset zoom
+          </button>
+        </div>
       </div>
-      <div
-        ref={host}
-        role="img"
-        aria-label={label}
-        // A hidden series keeps its legend words at full contrast, struck through; only its marker fades (uPlot's own
-        // stylesheet fades the whole row, unlayered, hence the important opacity).
-        className="check-plot w-full overflow-hidden rounded-lg border border-ink-200 bg-white [&_.u-legend_.u-off>*]:opacity-100! [&_.u-legend_.u-off_.u-label]:line-through [&_.u-legend_.u-off_.u-marker]:opacity-30"
-        data-testid="check-plot"
-        data-axis={axis}
-        data-calculated={wholePattern ? "whole-pattern" : "free-peaks"}
-      />
-      <p className="min-h-4 text-xs text-ink-700" data-testid="plot-hover">
-        {hover ?? ""}
-      </p>
-      {rows.length || unindexedCount ? (
-        <ul className="flex flex-wrap gap-x-5 gap-y-1 text-xs text-ink-700" aria-label="Marks under and over the pattern" data-testid="plot-key">
-          {rows.map((r) => (
-            <li key={r.key} className="inline-flex items-center gap-1.5" data-faint={r.faint ? "true" : undefined}>
-              <svg viewBox="0 0 24 12" className="h-3 w-6" aria-hidden="true" focusable="false">
-                <path
-                  d="M3 1v10M9 1v10M15 1v10M21 1v10"
-                  stroke={r.colour}
-                  strokeWidth="1.6"
-                  strokeDasharray={r.faint ? "2 2" : undefined}
-                  opacity={r.faint ? 0.55 : 1}
-                />
-              </svg>
-              {r.label}
-              <span className="text-ink-600">({r.ticks.length})</span>
-            </li>
-          ))}
-          {unindexedCount ? (
-            <li className="inline-flex items-center gap-1.5">
-              <svg viewBox="0 0 12 12" className="h-3 w-3" aria-hidden="true" focusable="false">
-                <path d="M6 10 1.5 2h9Z" fill={COLOURS.unindexed} />
-              </svg>
-              Sample peaks no declared phase indexes <span className="text-ink-600">({unindexedCount})</span>
-            </li>
-          ) : null}
-        </ul>
-      ) : null}
+      <div className={keyBeside ? "grid gap-3 lg:grid-cols-[minmax(0,1fr)_15rem] print:block" : "space-y-2"}>
+        <div
+          ref={host}
+          role="img"
+          aria-label={label}
+          // In print the canvas scales to the paper's width (it keeps its drawing; the pointer layers are left out).
+          className="check-plot w-full overflow-hidden rounded-card border border-ink-200 bg-white print:border-ink-400 print:[&_.u-over]:hidden print:[&_.u-under]:hidden print:[&_.u-wrap]:h-auto! print:[&_.u-wrap]:w-full! print:[&_.uplot]:w-full! print:[&_canvas]:h-auto! print:[&_canvas]:w-full!"
+          data-testid="check-plot"
+          data-axis={axis}
+          data-calculated={wholePattern ? "whole-pattern" : "free-peaks"}
+        />
+        <div className={keyBeside ? "space-y-3 print:mt-2" : "space-y-2"}>
+          {key}
+          {readoutLine}
+        </div>
+      </div>
       <figcaption className="text-xs text-ink-600">
-        {wholePattern ? (
-          <>
-            The dark line (drawn on top) is the observed scan; the violet curve is calculated by the whole-pattern fit from the phases&apos; cells (positions
-            from the cells, intensities free, one shared peak shape), so a wrong cell shows as misfit; the green curve below is observed − calculated.
-          </>
-        ) : (
-          <>
-            The dark line (drawn on top) is the observed scan.{" "}
-            <strong className="font-semibold text-ink-800">
-              The violet curve is the sum of freely fitted peaks — not a whole-pattern fit: each peak was fitted on its own, so it follows the scan whatever the
-              cell.
-            </strong>{" "}
-            The green curve below is observed − that sum.
-          </>
-        )}{" "}
-        Drag across the plot to zoom, Shift + drag to pan, the mouse wheel zooms around the pointer, double-click resets; point at a tick to name it.
-        {axis === "d" ? " On the d-spacing axis d decreases from left to right, because the data stay on their 2θ points." : ""}
+        {wholePattern ? null : (
+          <strong className="mb-1 block font-semibold text-ink-800">
+            The copper curve is the sum of freely fitted peaks — not a whole-pattern fit: each peak was fitted on its own, so it follows the scan whatever the
+            cell.
+          </strong>
+        )}
+        <details className="print:hidden">
+          <summary className="cursor-pointer text-beam-700">How to read and zoom the plot</summary>
+          <p className="mt-1">
+            {wholePattern
+              ? "The dark line (drawn on top) is the observed scan; the copper curve is calculated by the whole-pattern fit from the phases' cells (positions from the cells, intensities free, one shared peak shape), so a wrong cell shows as misfit; the petrol curve below is observed − calculated."
+              : "The dark line (drawn on top) is the observed scan; the petrol curve below is observed − the sum of the freely fitted peaks."}{" "}
+            The tick rows under the pattern mark each phase&apos;s reflections, one row per phase. Drag across the plot to zoom, Shift + drag to pan, the mouse
+            wheel zooms around the pointer, double-click resets; point at a tick to name it.
+            {axis === "d" ? " On the d-spacing axis d decreases from left to right, because the data stay on their 2θ points." : ""}
+          </p>
+        </details>
       </figcaption>
     </figure>
   );
+}
+
+/** A line of the key: the swatch drawn as the plot draws the curve or the marks, then the words. */
+function KeyItem({ series, swatch, faint, children }: { series: string; swatch: ReactNode; faint?: boolean; children: ReactNode }) {
+  return (
+    <li className="flex items-start gap-2" data-series={series} data-faint={faint ? "true" : undefined}>
+      <span className="mt-0.5 inline-flex">{swatch}</span>
+      <span>{children}</span>
+    </li>
+  );
+}
+
+/** A curve's swatch: a short stretch of line in its colour, width and dash; the observed scan with a point on it. */
+function KeyLine({ colour, width, dash, dot }: { colour: string; width: number; dash?: string; dot?: boolean }) {
+  return (
+    <svg viewBox="0 0 28 12" className="h-3 w-7 shrink-0" aria-hidden="true" focusable="false">
+      <path d="M1 6h26" stroke={colour} strokeWidth={width} strokeDasharray={dash} />
+      {dot ? <circle cx="14" cy="6" r="2.2" fill={colour} /> : null}
+    </svg>
+  );
+}
+
+/** The readout under the cursor in words: "2θ 32.000° · 1,234 counts · calculated 1,180 · difference +54". */
+function readoutWords(r: Readout, axis: PlotAxis, wavelength: number | null, number: (v: number) => string) {
+  const where =
+    axis === "d" && wavelength
+      ? `d ${dOf(r.twoTheta, wavelength).toFixed(4)} Å (2θ ${r.twoTheta.toFixed(3)}°)`
+      : axis === "q" && wavelength
+        ? `Q ${qOf(r.twoTheta, wavelength).toFixed(4)} Å⁻¹ (2θ ${r.twoTheta.toFixed(3)}°)`
+        : `2θ ${r.twoTheta.toFixed(3)}°`;
+  const diff = Math.round(r.difference);
+  return `${where} · ${number(Math.round(r.observed))} counts · calculated ${number(Math.round(r.calculated))} · difference ${diff > 0 ? "+" : diff < 0 ? "−" : ""}${number(Math.abs(diff))}`;
 }
 
 function rangeWords(

@@ -92,7 +92,10 @@ describe("the check screen with phases", () => {
     const key = page.getByTestId("plot-key");
     await key.getByText("PSF-118 form I — main").waitFor();
     await key.getByText("PSF-118 hydrate — expected, absent (declared cell)").waitFor();
-    // Peaks carry the phase that indexes them.
+    // Peaks carry the phase that indexes them (the table is folded and paged: open it, show every peak).
+    await page.getByTestId("peaks-details").locator("summary").click();
+    const showAll = page.getByRole("button", { name: /^Show all \d+$/ });
+    if (await showAll.count()) await showAll.click();
     const peaks = page.getByRole("table", { name: "Fitted peaks with their Miller indices" });
     await expect(peaks.getByRole("columnheader", { name: "Phase", exact: true }).count()).resolves.toBe(1);
     await expect(peaks.locator('tr[data-phase="0"]').first().textContent()).resolves.toContain("PSF-118 form I");
@@ -102,10 +105,12 @@ describe("the check screen with phases", () => {
     // The freely fitted peaks: a separate layer, off until asked for.
     const free = page.getByRole("checkbox", { name: /Show the freely fitted peaks/ });
     await expect(free.isChecked()).resolves.toBe(false);
-    const freeLegend = page.locator(".u-legend .u-series", { hasText: "Freely fitted peaks" });
-    await expect(freeLegend.getAttribute("class")).resolves.toContain("u-off");
+    // The plot's own key (the plotting library's legend is off) says whether the layer is shown.
+    await expect(page.locator(".u-legend").count()).resolves.toBe(0);
+    const freeKey = key.locator('[data-series="free"]');
+    await expect(freeKey.getAttribute("data-shown")).resolves.toBe("false");
     await free.check();
-    await expect(freeLegend.getAttribute("class")).resolves.not.toContain("u-off");
+    await expect(freeKey.getAttribute("data-shown")).resolves.toBe("true");
     await checkAccessibility(page, "check-screen-free-peaks");
 
     // The x axis: d-spacing and Q relabel the same 2θ points; a zoom is kept across the change.
@@ -148,6 +153,9 @@ describe("the check screen with phases", () => {
     const phases = page.getByRole("table", { name: "Declared phases and what the scan shows of each" }).locator("tbody tr");
     await expect(phases.count()).resolves.toBe(2);
     await expect(phases.nth(1).textContent()).resolves.toMatch(/Expected.*TiO2, rutile \(coating\).*tetragonal P.*Present/);
+    await page.getByTestId("peaks-details").locator("summary").click();
+    const showAll = page.getByRole("button", { name: /^Show all \d+$/ });
+    if (await showAll.count()) await showAll.click();
     await expect(page.locator('tr[data-phase="1"]').first().textContent()).resolves.toContain("TiO2, rutile (coating)");
     await page.getByTestId("plot-key").getByText("TiO2, rutile (coating) — expected").waitFor();
     await checkAccessibility(page, "check-screen-window");
@@ -159,8 +167,8 @@ describe("the check screen with phases", () => {
     await visit(page, `/checks/${ids.consistent}`);
     await plotReady(b);
     await expect(page.getByTestId("check-plot").getAttribute("data-calculated")).resolves.toBe("free-peaks");
-    await page.getByText("The violet curve is the sum of freely fitted peaks — not a whole-pattern fit").waitFor();
-    await expect(page.locator(".u-legend").getByText("Sum of freely fitted peaks — not a whole-pattern fit").count()).resolves.toBe(1);
+    await page.getByText("The copper curve is the sum of freely fitted peaks — not a whole-pattern fit").waitFor();
+    await expect(page.getByTestId("plot-key").getByText("Sum of freely fitted peaks — not a whole-pattern fit").count()).resolves.toBe(1);
     await expect(page.getByRole("checkbox", { name: /Show the freely fitted peaks/ }).count()).resolves.toBe(0);
     await expect(page.getByTestId("whole-pattern").textContent()).resolves.toBe("not available (checked before the whole-pattern fit)");
     await expect(page.getByTestId("window-answer").textContent()).resolves.toBe("No window set");
