@@ -30,19 +30,19 @@ export function WindowPanel({ result }: { result: CheckScreenResult }) {
   const answer = windowAnswer(result);
   const rows = windowRows(result.window);
   return (
-    <section className="card min-w-0 space-y-3" aria-labelledby="window-heading">
-      <div className="flex flex-wrap items-center gap-3">
-        <h2 id="window-heading" className="text-lg font-semibold">
+    <section className="card min-w-0 space-y-2 p-3 sm:p-4 print:shadow-none" aria-labelledby="window-heading">
+      <div className="flex flex-wrap items-center gap-2">
+        <h2 id="window-heading" className="text-base font-semibold">
           Acceptance window
         </h2>
         <span data-testid="window-answer">
           <Badge tone={answer.tone}>{answer.label}</Badge>
         </span>
       </div>
-      <p className="text-ink-800">{answer.meaning}</p>
+      <p className="text-sm text-ink-800">{answer.meaning}</p>
       {rows.length ? (
-        <div className="overflow-x-auto">
-          <table className="table text-sm [&_td]:px-2 [&_th]:px-2">
+        <div className="overflow-x-auto" {...{ tabIndex: 0, role: "region", "aria-label": "Acceptance window table" }}>
+          <table className="table text-xs [&_td]:px-2 [&_td]:py-1 [&_th]:px-2 [&_th]:py-1">
             <caption className="sr-only">Acceptance window of the main phase&apos;s cell</caption>
             <thead>
               <tr>
@@ -70,10 +70,11 @@ export function WindowPanel({ result }: { result: CheckScreenResult }) {
               ))}
             </tbody>
           </table>
-          <p className="mt-2 text-xs text-ink-600">
+          <details className="mt-1 text-xs text-ink-600">
+            <summary className="cursor-pointer text-beam-700">What the margin means</summary>
             The margin is the distance from the refined value to the nearer limit (the limits are under each declared value): positive inside the window,
             negative outside. A value on a limit counts as inside; the standard uncertainty is shown beside it and does not move the limits.
-          </p>
+          </details>
         </div>
       ) : null}
     </section>
@@ -110,7 +111,10 @@ export function PhasesTable({ result }: { result: CheckScreenResult }) {
               <ul className="space-y-0.5 text-xs tabular-nums">
                 {phaseCellLines(p).map((line) => (
                   <li key={line.name} className={line.fixed ? "text-ink-600" : "whitespace-nowrap"}>
-                    <span className="inline-block w-4 font-medium text-ink-700">{line.name}</span> {line.value}
+                    <span className="inline-block w-4 font-medium text-ink-700">
+                      <CellSymbol name={line.name} />
+                    </span>{" "}
+                    {line.value}
                   </li>
                 ))}
               </ul>
@@ -154,7 +158,7 @@ export function CandidatesTable({ candidates }: { candidates: readonly Candidate
         {candidates.map((c, i) => (
           <tr key={`${i}-${c.name ?? ""}`} data-chosen={String(c.chosen)} className={c.chosen ? "bg-beam-50" : ""}>
             <th scope="row" className={ROW_HEADER}>
-              {candidateName(c, i)}
+              <Formula>{candidateName(c, i)}</Formula>
               {i === 0 ? <span className="block text-xs font-normal text-ink-600">the main declaration</span> : null}
             </th>
             <td className="whitespace-nowrap">{systemWords(c)}</td>

@@ -50,14 +50,20 @@ describe("the check screen", () => {
     await expect(page.getByTestId("verdict").textContent()).resolves.toContain("Consistent");
     await page.getByText("The scan confirms the declared cell.").waitFor();
     await page.locator('[data-testid="check-plot"][data-ready="true"] canvas').waitFor();
+    // The peaks are folded under the summary and paged: open them, then show every peak.
+    await page.getByTestId("peaks-details").locator("summary").click();
     const rows = page.getByRole("table", { name: "Fitted peaks with their Miller indices" }).locator("tbody tr");
+    await page.getByRole("button", { name: /^Show all \d+$/ }).click();
     expect(await rows.count()).toBeGreaterThan(20);
-    await expect(page.getByRole("columnheader", { name: "h k l" }).count()).resolves.toBe(1);
+    // Miller indices as the trade writes them: hkl, lower case, one heading.
+    await expect(page.getByRole("columnheader", { name: "hkl", exact: true }).count()).resolves.toBe(1);
     await expect(page.getByTestId("m20").textContent()).resolves.toMatch(/^\d+\.\d/);
     await screenshot(page, "check-screen-consistent");
 
     // Drag across a quarter of the plot: the 2θ window narrows.
     const over = page.locator(".u-over");
+    // The peaks opened below the plot scrolled the page: bring the plot back into view before dragging on it.
+    await over.scrollIntoViewIfNeeded();
     const box = (await over.boundingBox())!;
     await page.mouse.move(box.x + box.width * 0.2, box.y + box.height * 0.4);
     await page.mouse.down();
