@@ -4,15 +4,16 @@ import { labelRows, STACKED_TABLE, useStackLabels } from "./stacked-rows";
 import { FormulaText } from "~/components/symbol-values";
 
 export function PageHeader({ title, subtitle, actions }: { title: string; subtitle?: ReactNode; actions?: ReactNode }) {
+  // Titles in the display face; a step smaller on a phone so a long order title takes two lines, not five.
   return (
-    <div className="mb-6 flex flex-wrap items-end justify-between gap-4">
-      <div>
-        <h1 className="text-2xl font-bold text-ink-900">
+    <div className="mb-6 flex flex-wrap items-end justify-between gap-x-6 gap-y-3 border-b border-ink-200 pb-4">
+      <div className="min-w-0 basis-80 grow">
+        <h1 className="font-display text-2xl font-semibold text-balance break-words text-ink-900 sm:text-title">
           <FormulaText text={title} />
         </h1>
         {subtitle ? <p className="mt-1 text-sm text-ink-600">{subtitle}</p> : null}
       </div>
-      {actions ? <div className="flex gap-2">{actions}</div> : null}
+      {actions ? <div className="flex flex-wrap gap-2">{actions}</div> : null}
     </div>
   );
 }
@@ -47,12 +48,13 @@ export function FormError({ errors }: { errors?: string[] | null }) {
   );
 }
 
+/** Each tone: the tag's ground and word, a thin border, and the stronger colour of its left edge and shape. */
 const BADGE_TONES = {
-  neutral: "bg-ink-100 text-ink-700 border-ink-200",
-  brand: "bg-beam-50 text-beam-700 border-beam-200",
-  ok: "bg-ok-50 text-ok-700 border-ok-600/30",
-  caution: "bg-caution-50 text-caution-700 border-caution-600/30",
-  danger: "bg-danger-50 text-danger-700 border-danger-600/30",
+  neutral: "bg-ink-50 text-ink-700 border-ink-300 border-l-ink-500",
+  brand: "bg-beam-50 text-beam-800 border-beam-200 border-l-beam-600",
+  ok: "bg-ok-50 text-ok-700 border-ok-600/30 border-l-ok-600",
+  caution: "bg-caution-50 text-caution-700 border-caution-600/30 border-l-caution-600",
+  danger: "bg-danger-50 text-danger-700 border-danger-600/30 border-l-danger-600",
 } as const;
 /** A shape per tone, drawn at text size: a ring, a diamond, a tick in a circle, a triangle with a bar, a crossed octagon. */
 const BADGE_SHAPES: Record<keyof typeof BADGE_TONES, ReactNode> = {
@@ -80,10 +82,16 @@ const BADGE_SHAPES: Record<keyof typeof BADGE_TONES, ReactNode> = {
 
 export type BadgeTone = keyof typeof BADGE_TONES;
 
-/** A state badge: a word, a shape and a colour, so colour never carries the meaning alone. */
+/**
+ * A state badge: a word, a shape and a colour, so colour never carries the meaning alone. A squared tag with a
+ * stronger left edge (docs/design-system.md#badges), never a pill; the word is written as given, never upper-cased.
+ */
 export function Badge({ tone = "neutral", children }: { tone?: BadgeTone; children: ReactNode }) {
   return (
-    <span className={`inline-flex items-center gap-1 rounded-full border px-2 py-0.5 text-xs font-semibold ${BADGE_TONES[tone]}`}>
+    <span
+      className={`inline-flex items-center gap-1 rounded-badge border border-l-[3px] py-px pr-1.5 pl-1 text-xs leading-5 font-semibold whitespace-nowrap ${BADGE_TONES[tone]}`}
+      data-badge={tone}
+    >
       <svg viewBox="0 0 16 16" className="h-3.5 w-3.5 shrink-0" aria-hidden="true" focusable="false" data-shape={tone}>
         {BADGE_SHAPES[tone]}
       </svg>
@@ -94,11 +102,11 @@ export function Badge({ tone = "neutral", children }: { tone?: BadgeTone; childr
 
 export function EmptyState({ title, children, action }: { title: string; children?: ReactNode; action?: ReactNode }) {
   return (
-    <div className="rounded-card border border-dashed border-ink-300 bg-white px-6 py-12 text-center">
-      <DiffractionRingsIcon className="mx-auto mb-4 h-12 w-12 text-beam-200" />
-      <h2 className="text-lg font-semibold text-ink-800">{title}</h2>
+    <div className="rounded-card border border-ink-200 bg-white px-6 py-10 text-center">
+      <DiffractionRingsIcon className="mx-auto mb-3 h-10 w-10 text-beam-300" />
+      <h2 className="font-display text-lg font-semibold text-ink-900">{title}</h2>
       {children ? <div className="mx-auto mt-2 max-w-md text-sm text-ink-600">{children}</div> : null}
-      {action ? <div className="mt-6">{action}</div> : null}
+      {action ? <div className="mt-5">{action}</div> : null}
     </div>
   );
 }

@@ -151,7 +151,7 @@ describe("admin journey", () => {
     await navigate(page, "Disputes", "Disputes");
     const card = page.getByRole("listitem").filter({ has: page.getByRole("heading", { name: new RegExp(DISPUTE) }) });
     await card.waitFor();
-    await card.locator("span.rounded-full", { hasText: /^\W*Open$/ }).waitFor();
+    await card.locator("[data-badge]", { hasText: /^\W*Open$/ }).waitFor();
     // The client's side (the reason given) and the lab's side (its notes on the order's timeline).
     await card.getByRole("region", { name: /Client/ }).waitFor();
     await card.getByRole("region", { name: /Lab/ }).waitFor();
@@ -180,7 +180,7 @@ describe("admin journey", () => {
     expect(submit.found.visibleFocus, "visible focus on the submit button").toBe(true);
     await page.keyboard.press("Enter");
     await card.getByText("Write the reason for the decision.").waitFor();
-    await card.locator("span.rounded-full", { hasText: /^\W*Open$/ }).waitFor();
+    await card.locator("[data-badge]", { hasText: /^\W*Open$/ }).waitFor();
     await page.waitForFunction(() => (document.activeElement as HTMLTextAreaElement | null)?.name === "reason");
     const reasonField = await focusedElement(page);
     expect(reasonField?.visibleFocus, "visible focus on the reason field").toBe(true);
@@ -191,7 +191,7 @@ describe("admin journey", () => {
     await step(page, "dispute-decision-by-keyboard");
     await page.keyboard.press("Enter");
     await page.getByText("Dispute decided; the refund and payout are under way.").waitFor();
-    await card.locator("span.rounded-full", { hasText: /^\W*Decided$/ }).waitFor();
+    await card.locator("[data-badge]", { hasText: /^\W*Decided$/ }).waitFor();
     const decision = (await card.getByText(/^Refunded /).textContent())!.match(/^Refunded (\S+), paid to the lab (\S+)\. /)!;
     expect(minorUnits(decision[1])).toBe(refundMinor);
     expect(minorUnits(decision[2])).toBe(payoutMinor);

@@ -47,9 +47,9 @@ async function step(page: Page, name: string, screen: string) {
   await snap(page, name);
   await checkAccessibility(page, `lab-${screen}`);
   const wordless = await page.evaluate(() =>
-    // A pill-shaped element that is not hidden from assistive technology (decorative dots such as the timeline's
+    // A pill-shaped element or a state badge that is not hidden from assistive technology (decorative dots such as the timeline's
     // bullets are aria-hidden, with the event's words beside them).
-    [...document.querySelectorAll("span.rounded-full")]
+    [...document.querySelectorAll("span.rounded-full, [data-badge]")]
       .filter((el) => !el.closest("[aria-hidden='true']"))
       .filter((el) => {
         const copy = el.cloneNode(true) as HTMLElement;

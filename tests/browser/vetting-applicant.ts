@@ -8,7 +8,7 @@ import { SILICON } from "~/diffraction/structures";
 import { BASE_URL, visit } from "./harness";
 
 /** A state badge (shape + word) by its word. */
-export const badge = (page: Page, word: string) => page.locator("span.rounded-full", { hasText: new RegExp(`^\\W*${word}$`) }).first();
+export const badge = (page: Page, word: string) => page.locator("[data-badge]", { hasText: new RegExp(`^\\W*${word}$`) }).first();
 
 export interface Applicant {
   labName: string;
