@@ -26,19 +26,19 @@ export function AccountMenu() {
   if (isPending) return <div className="h-9 w-40" aria-hidden="true" />;
   if (!me) {
     return (
-      <div className="flex items-center gap-2">
+      <div className="flex items-center gap-1 sm:gap-2">
         <Link to="/sign-in" className="btn-quiet">
           Sign in
         </Link>
-        <Link to="/create-account" className="btn-primary">
+        <Link to="/create-account" className="btn-primary max-sm:px-2.5">
           Create account
         </Link>
       </div>
     );
   }
   return (
-    <div className="flex items-center gap-3">
-      <Link to={workspaceHref(me)} className="btn-secondary">
+    <div className="flex items-center gap-2 sm:gap-3">
+      <Link to={workspaceHref(me)} className="btn-secondary max-sm:px-2.5">
         My workspace
       </Link>
       <span className="hidden text-sm text-ink-600 sm:inline" data-testid="signed-in-as">

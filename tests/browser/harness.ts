@@ -105,7 +105,11 @@ export async function signIn(page: Page, email: string, password = DEMO_PASSWORD
 }
 
 export async function signOut(page: Page) {
-  await page.getByRole("button", { name: "Sign out" }).first().click();
+  const button = page.getByRole("button", { name: "Sign out" }).first();
+  // On a phone the workspace keeps the account items behind its Menu button.
+  const menu = page.getByRole("button", { name: "Menu" });
+  if (!(await button.isVisible()) && (await menu.isVisible())) await menu.click();
+  await button.click();
   await page.waitForURL(`${BASE_URL}/`);
 }
 
