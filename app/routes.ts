@@ -8,6 +8,7 @@ export default [
     route("labs/:slug", "routes/public/lab-profile.tsx"),
     route("how-it-works", "routes/public/how-it-works.tsx"),
     route("safety", "routes/public/safety.tsx"),
+    route("design-system", "routes/public/design-system.tsx"),
     route("sign-in", "routes/public/sign-in.tsx"),
     route("sign-in/code", "routes/public/sign-in-code.tsx"),
     route("forgot-password", "routes/public/forgot-password.tsx"),

@@ -62,6 +62,7 @@ const EXPECTED: Record<string, Expect> = {
   "routes/public/lab-profile": { loader: "public" },
   "routes/public/how-it-works": { loader: "public" },
   "routes/public/safety": { loader: "public" },
+  "routes/public/design-system": { loader: "public" },
   // Signed-in people posting the account forms are sent to their workspace; a half signed-in session may start over.
   "routes/public/sign-in": { loader: "public", action: all("ok", { signedOut: "bad", halfSignedIn: "bad" }) },
   "routes/public/create-account": { loader: "public", action: all("ok", { signedOut: "bad", halfSignedIn: "bad" }) },
