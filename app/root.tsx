@@ -1,4 +1,5 @@
 // The document shell: fonts and styles, the data client, toasts, and the error page of last resort.
+import "./zod-config";
 import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { useEffect, useState, type ReactNode } from "react";
 import { data, Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteLoaderData } from "react-router";

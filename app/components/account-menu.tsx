@@ -1,6 +1,6 @@
 // The header's account area: reads /api/me through TanStack Query and offers workspace, switching and sign-out.
 import { useQuery } from "@tanstack/react-query";
-import { Link } from "react-router";
+import { Link, useRouteLoaderData } from "react-router";
 import { SignOutButton } from "./sign-out-button";
 import type { MeSummary } from "~/models/accounts/me.server";
 
@@ -11,8 +11,9 @@ async function fetchMe(): Promise<MeSummary | null> {
   return res.json();
 }
 
-export function useMe(initial?: MeSummary | null) {
-  return useQuery({ queryKey: ["me"], queryFn: fetchMe, initialData: initial, staleTime: 60_000 });
+/** `enabled: false` (nobody signed in, as the root loader says) asks nothing: a signed-out page makes no failing request. */
+export function useMe(initial?: MeSummary | null, enabled = true) {
+  return useQuery({ queryKey: ["me"], queryFn: fetchMe, initialData: initial, staleTime: 60_000, enabled });
 }
 
 export function workspaceHref(me: MeSummary) {
@@ -22,9 +23,10 @@ export function workspaceHref(me: MeSummary) {
 }
 
 export function AccountMenu() {
-  const { data: me, isPending } = useMe();
-  if (isPending) return <div className="h-9 w-40" aria-hidden="true" />;
-  if (!me) {
+  const signedIn = useRouteLoaderData<{ signedIn?: boolean }>("root")?.signedIn ?? false;
+  const { data: me, isPending } = useMe(undefined, signedIn);
+  if (signedIn && isPending) return <div className="h-9 w-40" aria-hidden="true" />;
+  if (!signedIn || !me) {
     return (
       <div className="flex items-center gap-1 sm:gap-2">
         <Link to="/sign-in" className="btn-quiet">
