@@ -12,11 +12,14 @@ import { readToast } from "./utils/toast.server";
 import { LocaleProvider } from "./components/locale";
 import { NavigationProgress } from "./components/pending";
 import { negotiateLocale, supportedLocale } from "~/domain/locale";
+import { getOptionalActor } from "./utils/permissions.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
-  // Public: the toast cookie and the viewer's Accept-Language are the only things read here.
+  // Public: the toast cookie, the viewer's Accept-Language and whether someone is signed in (the header asks
+  // /api/me only then, so a signed-out page makes no request that fails). The person is looked up once per request.
   const { toast, headers } = await readToast(request);
-  return data({ toast, locale: negotiateLocale(request.headers.get("accept-language")) }, { headers });
+  const signedIn = (await getOptionalActor(request)) !== null;
+  return data({ toast, locale: negotiateLocale(request.headers.get("accept-language")), signedIn }, { headers });
 }
 
 export function Layout({ children }: { children: ReactNode }) {
@@ -56,8 +59,12 @@ export default function App() {
   );
 }
 
+// The fallback for a screen without its own (every route module has one; error pages use this).
 export function meta() {
-  return [{ title: "Diffractory — powder-diffraction measurements, bought and sold" }];
+  return [
+    { title: "Diffractory — powder-diffraction measurements, bought and sold" },
+    { name: "description", content: "A marketplace for powder-diffraction measurements, each delivered scan with an automatic lattice-parameter check." },
+  ];
 }
 
 export function ErrorBoundary() {
