@@ -57,7 +57,13 @@ function measurementOf(info: ScanInfo | null, result: StoredCheckResult | null):
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: data ? `Lattice check · ${data.file.name} — Diffractory` : "Lattice check — Diffractory" }];
+  return [
+    { title: data ? `Lattice check · ${data.file.name} — Diffractory` : "Lattice check — Diffractory" },
+    {
+      name: "description",
+      content: "A scan's lattice check: the verdict against the acceptance window, the plot, phases, refined cells, figures of merit and peaks.",
+    },
+  ];
 }
 
 export default function CheckScreen({ loaderData: d }: Route.ComponentProps) {

@@ -150,5 +150,8 @@ export default function NotificationSettings({ loaderData, actionData }: Route.C
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Notifications — Diffractory" }];
+  return [
+    { title: "Notifications — Diffractory" },
+    { name: "description", content: "Choose which milestone e-mails you receive and read your notifications across all your organisations." },
+  ];
 }

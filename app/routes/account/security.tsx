@@ -246,5 +246,8 @@ export default function AccountSecurity({ loaderData: page, actionData: answer }
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Account security — Diffractory" }];
+  return [
+    { title: "Account security — Diffractory" },
+    { name: "description", content: "Change your password and set up the authenticator-app code that protects your Diffractory account." },
+  ];
 }

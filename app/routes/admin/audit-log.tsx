@@ -184,5 +184,8 @@ export default function AuditLog({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Audit log — Diffractory" }];
+  return [
+    { title: "Audit log — Diffractory" },
+    { name: "description", content: "Who did what on Diffractory, newest first: sign-ins, order moves, payments and decisions, filtered by kind and person." },
+  ];
 }

@@ -286,5 +286,11 @@ export default function DisputeScreen({ loaderData, actionData }: Route.Componen
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: data ? `Dispute on order ${data.order.number} — Diffractory` : "Dispute — Diffractory" }];
+  return [
+    { title: data ? `Dispute on order ${data.order.number} — Diffractory` : "Dispute — Diffractory" },
+    {
+      name: "description",
+      content: "One dispute: both parties' statements and evidence, the order's files and lattice checks, its timeline and the decision.",
+    },
+  ];
 }

@@ -198,5 +198,8 @@ export default function Disputes({ loaderData, actionData }: Route.ComponentProp
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Disputes — Diffractory" }];
+  return [
+    { title: "Disputes — Diffractory" },
+    { name: "description", content: "Open and settled disputes between clients and labs, and the decision on how the held money is split." },
+  ];
 }

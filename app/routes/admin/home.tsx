@@ -65,5 +65,8 @@ export default function AdminHome({ loaderData: stats }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Admin — Diffractory" }];
+  return [
+    { title: "Admin — Diffractory" },
+    { name: "description", content: "What waits for an admin's decision — lab applications, disputes, undeliverable e-mail — and the platform's size." },
+  ];
 }

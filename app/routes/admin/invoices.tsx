@@ -139,5 +139,11 @@ export default function Invoices({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Invoices — Diffractory" }];
+  return [
+    { title: "Invoices — Diffractory" },
+    {
+      name: "description",
+      content: "Invoices, credit notes and platform fee invoices issued in a period, with totals per currency and a CSV for the accounts.",
+    },
+  ];
 }

@@ -247,5 +247,11 @@ export default function LabReview({ loaderData, actionData }: Route.ComponentPro
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: `${data?.lab.name ?? "Lab"} — review — Diffractory` }];
+  return [
+    { title: `${data?.lab.name ?? "Lab"} — review — Diffractory` },
+    {
+      name: "description",
+      content: "An admin's review of a lab's application: documents, radiation-licence attestation, the calibration check and the decision.",
+    },
+  ];
 }

@@ -163,5 +163,8 @@ export default function Ledger({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Ledger — Diffractory" }];
+  return [
+    { title: "Ledger — Diffractory" },
+    { name: "description", content: "Every money movement on Diffractory as balanced double-entry rows, with filters and totals." },
+  ];
 }

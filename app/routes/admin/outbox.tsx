@@ -90,5 +90,8 @@ export default function Outbox({ loaderData, actionData }: Route.ComponentProps)
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Outbox — Diffractory" }];
+  return [
+    { title: "Outbox — Diffractory" },
+    { name: "description", content: "E-mails that could not be delivered after every retry, with the error and a way to send them again." },
+  ];
 }

@@ -102,5 +102,8 @@ export default function Rates({ loaderData, actionData }: Route.ComponentProps) 
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Exchange rates — Diffractory" }];
+  return [
+    { title: "Exchange rates — Diffractory" },
+    { name: "description", content: "Indicative exchange rates used to compare quotes in other currencies: set a dated rate with its source." },
+  ];
 }

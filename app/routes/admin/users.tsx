@@ -125,5 +125,8 @@ export default function Users({ loaderData, actionData }: Route.ComponentProps) 
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Users — Diffractory" }];
+  return [
+    { title: "Users — Diffractory" },
+    { name: "description", content: "Everyone on Diffractory with their organisations, and the organisation kinds that wait for confirmation." },
+  ];
 }

@@ -106,5 +106,5 @@ export default function VettingQueue({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Vetting queue — Diffractory" }];
+  return [{ title: "Vetting queue — Diffractory" }, { name: "description", content: "Labs by vetting state, with applications in review first." }];
 }

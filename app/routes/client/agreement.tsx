@@ -106,5 +106,8 @@ export default function ClientAgreement({ loaderData, actionData }: Route.Compon
 }
 
 export function meta({ data: d }: Route.MetaArgs) {
-  return [{ title: `${d?.view.agreement.number ?? "Agreement"} — Diffractory` }];
+  return [
+    { title: `${d?.view.agreement.number ?? "Agreement"} — Diffractory` },
+    { name: "description", content: "A standing agreement with a lab: its terms and usage, the orders made under it, ordering a lot and giving notice." },
+  ];
 }

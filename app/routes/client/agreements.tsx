@@ -35,5 +35,8 @@ export default function ClientAgreements({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Standing agreements — Diffractory" }];
+  return [
+    { title: "Standing agreements — Diffractory" },
+    { name: "description", content: "Your organisation's standing agreements with labs: state, material, lots used and period." },
+  ];
 }

@@ -312,5 +312,8 @@ export default function DataRoomOrder({ loaderData, actionData }: Route.Componen
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: `${data?.order.title ?? "Data room"} — Diffractory` }];
+  return [
+    { title: `${data?.order.title ?? "Data room"} — Diffractory` },
+    { name: "description", content: "One order's delivered files with their versions and lattice checks, share links and who downloaded what." },
+  ];
 }

@@ -86,5 +86,8 @@ export default function DataRoom({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Data room — Diffractory" }];
+  return [
+    { title: "Data room — Diffractory" },
+    { name: "description", content: "Every file delivered for your organisation's orders, grouped by order, with their lattice checks." },
+  ];
 }

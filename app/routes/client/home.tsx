@@ -52,5 +52,8 @@ export default function ClientHome({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Client workspace — Diffractory" }];
+  return [
+    { title: "Client workspace — Diffractory" },
+    { name: "description", content: "Where your organisation's requests, orders and delivered data stand." },
+  ];
 }

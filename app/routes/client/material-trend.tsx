@@ -280,5 +280,8 @@ export default function MaterialTrend({ loaderData, actionData }: Route.Componen
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: data ? `${data.material.productCode} trend — Diffractory` : "Trend — Diffractory" }];
+  return [
+    { title: data ? `${data.material.productCode} trend — Diffractory` : "Trend — Diffractory" },
+    { name: "description", content: "A material's lots over time for one cell parameter: control chart, limits from the chosen baseline and rule signals." },
+  ];
 }

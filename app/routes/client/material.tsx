@@ -363,5 +363,11 @@ export default function MaterialPage({ loaderData, actionData }: Route.Component
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: `${data?.material ? data.material.productCode : "New material"} — Diffractory` }];
+  return [
+    { title: `${data?.material ? data.material.productCode : "New material"} — Diffractory` },
+    {
+      name: "description",
+      content: "A material declared once: product code, formula, main phase and cell, further phases and the acceptance window of its lots.",
+    },
+  ];
 }

@@ -96,5 +96,8 @@ export default function Materials({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Materials — Diffractory" }];
+  return [
+    { title: "Materials — Diffractory" },
+    { name: "description", content: "Your organisation's materials with their main phase, lots on record and the last lot's verdict." },
+  ];
 }

@@ -20,5 +20,5 @@ export default function Members({ loaderData: page, actionData }: Route.Componen
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Members — Diffractory" }];
+  return [{ title: "Members — Diffractory" }, { name: "description", content: "The people of your organisation and their roles; owners invite new members." }];
 }

@@ -114,5 +114,8 @@ export default function OrderAgreement({ loaderData, actionData }: Route.Compone
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Standing agreement — Diffractory" }];
+  return [
+    { title: "Standing agreement — Diffractory" },
+    { name: "description", content: "Turn an order's accepted quote into a standing agreement with the lab for one of your materials." },
+  ];
 }

@@ -445,5 +445,8 @@ function PurchaseOrderCard({
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Order — Diffractory" }];
+  return [
+    { title: "Order — Diffractory" },
+    { name: "description", content: "An order from your side: payment, timeline, messages with the lab, and accepting or disputing the delivery." },
+  ];
 }

@@ -38,5 +38,5 @@ export default function ClientOrders({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Orders — Diffractory" }];
+  return [{ title: "Orders — Diffractory" }, { name: "description", content: "Your organisation's orders with their state, lab and amount." }];
 }

@@ -82,5 +82,8 @@ export default function PackingSlip({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Packing slip — Diffractory" }];
+  return [
+    { title: "Packing slip — Diffractory" },
+    { name: "description", content: "A printable list of the parcel's samples with their declared hazards, and a label addressed to the lab." },
+  ];
 }

@@ -171,5 +171,5 @@ function CreditNoteRow({ note, currency }: { note: { number: string; grossMinor:
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Receipt — Diffractory" }];
+  return [{ title: "Receipt — Diffractory" }, { name: "description", content: "A printable receipt for one payment, with anything refunded since." }];
 }

@@ -70,5 +70,8 @@ export default function ClientPayments({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Payments — Diffractory" }];
+  return [
+    { title: "Payments — Diffractory" },
+    { name: "description", content: "What your organisation paid, what is held until acceptance and what came back, with a receipt per payment." },
+  ];
 }

@@ -21,5 +21,8 @@ export default function ClientProfile({ loaderData, actionData }: Route.Componen
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Profile — Diffractory" }];
+  return [
+    { title: "Profile — Diffractory" },
+    { name: "description", content: "Your organisation's invoicing details, kind, purchase-order rule and parcel addresses." },
+  ];
 }

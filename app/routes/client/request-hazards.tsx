@@ -107,5 +107,8 @@ function SampleHazards({
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Hazard declaration — Diffractory" }];
+  return [
+    { title: "Hazard declaration — Diffractory" },
+    { name: "description", content: "New request, step 2: each sample's GHS pictograms, hazard statements, special categories and safety data sheet." },
+  ];
 }

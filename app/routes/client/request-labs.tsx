@@ -124,5 +124,8 @@ export default function RequestLabs({ loaderData, actionData }: Route.ComponentP
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Matching labs — Diffractory" }];
+  return [
+    { title: "Matching labs — Diffractory" },
+    { name: "description", content: "New request, step 4: the approved labs whose instruments fit, and who may quote." },
+  ];
 }

@@ -128,5 +128,8 @@ export default function RequestMeasurement({ loaderData, actionData }: Route.Com
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Measurement needs — Diffractory" }];
+  return [
+    { title: "Measurement needs — Diffractory" },
+    { name: "description", content: "New request, step 3: 2θ or d-spacing range, source, temperatures, atmosphere, quality, deadline and budget." },
+  ];
 }

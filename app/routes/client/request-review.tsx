@@ -113,5 +113,8 @@ export default function RequestReview({ loaderData, actionData }: Route.Componen
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Review request — Diffractory" }];
+  return [
+    { title: "Review request — Diffractory" },
+    { name: "description", content: "New request, step 5: everything at a glance, what still blocks publishing, and publishing the request." },
+  ];
 }

@@ -245,5 +245,8 @@ function SampleFieldset({
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Request samples — Diffractory" }];
+  return [
+    { title: "Request samples — Diffractory" },
+    { name: "description", content: "New request, step 1: title, technique and each sample's formula, form, mass, main phase and cell." },
+  ];
 }

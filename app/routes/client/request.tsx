@@ -360,5 +360,8 @@ function CurrencyNote({ note }: { note: Route.ComponentProps["loaderData"]["curr
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: `${data?.request.title ?? "Request"} — Diffractory` }];
+  return [
+    { title: `${data?.request.title ?? "Request"} — Diffractory` },
+    { name: "description", content: "A request with its samples and hazards, the labs' quotes side by side, and accepting one of them." },
+  ];
 }

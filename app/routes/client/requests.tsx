@@ -81,5 +81,5 @@ export default function Requests({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Requests — Diffractory" }];
+  return [{ title: "Requests — Diffractory" }, { name: "description", content: "Your organisation's requests by state, and the way to start a new one." }];
 }

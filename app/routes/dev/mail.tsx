@@ -67,5 +67,5 @@ export default function DevMail({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Sent e-mail — Diffractory" }];
+  return [{ title: "Sent e-mail — Diffractory" }, { name: "description", content: "What the local e-mail stand-in received, for development." }];
 }

@@ -89,5 +89,8 @@ export default function LabAgreement({ loaderData, actionData }: Route.Component
 }
 
 export function meta({ data: d }: Route.MetaArgs) {
-  return [{ title: `${d?.view.agreement.number ?? "Agreement"} — Diffractory` }];
+  return [
+    { title: `${d?.view.agreement.number ?? "Agreement"} — Diffractory` },
+    { name: "description", content: "A standing agreement with a client: its terms and usage, the orders made under it; agree, decline or give notice." },
+  ];
 }

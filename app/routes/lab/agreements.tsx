@@ -28,5 +28,8 @@ export default function LabAgreements({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Standing agreements — Diffractory" }];
+  return [
+    { title: "Standing agreements — Diffractory" },
+    { name: "description", content: "Your lab's standing agreements with clients: state, material, lots used and period." },
+  ];
 }

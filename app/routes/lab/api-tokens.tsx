@@ -147,5 +147,8 @@ export default function ApiTokens({ loaderData, actionData }: Route.ComponentPro
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "API tokens — Diffractory" }];
+  return [
+    { title: "API tokens — Diffractory" },
+    { name: "description", content: "Tokens that let your instrument computers upload scans straight to an order; create, revoke and see their last use." },
+  ];
 }

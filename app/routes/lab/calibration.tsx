@@ -330,5 +330,8 @@ function IntervalForm({ intervalDays, actionData }: { intervalDays: number; acti
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: `Calibration of ${data?.instrument.name ?? "an instrument"} — Diffractory` }];
+  return [
+    { title: `Calibration of ${data?.instrument.name ?? "an instrument"} — Diffractory` },
+    { name: "description", content: "An instrument's calibration record: repeat scans of a certified standard, the schedule and control charts." },
+  ];
 }

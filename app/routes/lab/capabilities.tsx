@@ -548,5 +548,8 @@ function HazardForm({ hazards, canEdit }: { hazards: { pictograms: string[]; spe
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Capabilities — Diffractory" }];
+  return [
+    { title: "Capabilities — Diffractory" },
+    { name: "description", content: "Your lab's instruments with their sources, ranges and stages, and the hazards the lab accepts." },
+  ];
 }

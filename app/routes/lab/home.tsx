@@ -50,5 +50,8 @@ export default function LabHome({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Lab workspace — Diffractory" }];
+  return [
+    { title: "Lab workspace — Diffractory" },
+    { name: "description", content: "Your lab's vetting state, the requests that match its instruments and the work in progress." },
+  ];
 }

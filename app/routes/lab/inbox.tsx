@@ -142,5 +142,8 @@ export default function LabInbox({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Inbox — Diffractory" }];
+  return [
+    { title: "Inbox — Diffractory" },
+    { name: "description", content: "Open requests your instruments and accepted hazards fit, and requests your lab was invited to quote for." },
+  ];
 }

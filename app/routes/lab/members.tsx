@@ -20,5 +20,5 @@ export default function Members({ loaderData: page, actionData }: Route.Componen
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Members — Diffractory" }];
+  return [{ title: "Members — Diffractory" }, { name: "description", content: "Your lab's staff and their roles; managers invite managers and operators." }];
 }

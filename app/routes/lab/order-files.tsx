@@ -244,5 +244,8 @@ function ConditionsSection({ scans }: { scans: Route.ComponentProps["loaderData"
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: `Delivery: ${data?.order.title ?? "order"} — Diffractory` }];
+  return [
+    { title: `Delivery: ${data?.order.title ?? "order"} — Diffractory` },
+    { name: "description", content: "Deliver an order's data: upload scans and reports, see each version with its state and lattice check." },
+  ];
 }

@@ -274,5 +274,8 @@ export default function LabOrder({ loaderData, actionData }: Route.ComponentProp
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Order — Diffractory" }];
+  return [
+    { title: "Order — Diffractory" },
+    { name: "description", content: "An order from your lab's side: samples and hazards, the shipment, messages with the client and the next moves." },
+  ];
 }

@@ -104,5 +104,8 @@ export default function Payouts({ loaderData, actionData }: Route.ComponentProps
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Payouts — Diffractory" }];
+  return [
+    { title: "Payouts — Diffractory" },
+    { name: "description", content: "Your lab's payout account at the payment provider and the payouts it received." },
+  ];
 }

@@ -168,5 +168,8 @@ export default function PriceList({ loaderData, actionData }: Route.ComponentPro
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Price list — Diffractory" }];
+  return [
+    { title: "Price list — Diffractory" },
+    { name: "description", content: "Your lab's per-sample prices by technique, surcharges, rush multiplier, turnaround and tiers by client kind." },
+  ];
 }

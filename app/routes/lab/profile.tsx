@@ -21,5 +21,5 @@ export default function LabProfile({ loaderData, actionData }: Route.ComponentPr
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Profile — Diffractory" }];
+  return [{ title: "Profile — Diffractory" }, { name: "description", content: "Your lab's invoicing details and the addresses where it receives samples." }];
 }

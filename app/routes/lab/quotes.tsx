@@ -58,5 +58,5 @@ export default function LabQuotes({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Quotes — Diffractory" }];
+  return [{ title: "Quotes — Diffractory" }, { name: "description", content: "The quotes your lab sent, with their state." }];
 }

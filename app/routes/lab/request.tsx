@@ -350,5 +350,8 @@ function QuoteBuilder({ loaderData, actionData }: Pick<Route.ComponentProps, "lo
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: `${data?.request.title ?? "Request"} — Diffractory` }];
+  return [
+    { title: `${data?.request.title ?? "Request"} — Diffractory` },
+    { name: "description", content: "A client's request: acknowledge the hazard declaration, then build and send a quote." },
+  ];
 }

@@ -143,5 +143,11 @@ export default function Statements({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Statements — Diffractory" }];
+  return [
+    { title: "Statements — Diffractory" },
+    {
+      name: "description",
+      content: "Monthly payout statements: payouts with their orders, refunds, the platform fee and what your lab received, as PDF and CSV.",
+    },
+  ];
 }

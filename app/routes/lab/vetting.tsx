@@ -361,5 +361,11 @@ function UploadedFileField(props: {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Vetting application — Diffractory" }];
+  return [
+    { title: "Vetting application — Diffractory" },
+    {
+      name: "description",
+      content: "Your lab's vetting application: accreditation evidence, radiation-licence attestation and a calibration scan of a standard.",
+    },
+  ];
 }

@@ -44,5 +44,8 @@ export default function WorkQueue({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Work queue — Diffractory" }];
+  return [
+    { title: "Work queue — Diffractory" },
+    { name: "description", content: "Your lab's orders from paid and waiting for samples to delivered, most recent first." },
+  ];
 }

@@ -174,5 +174,11 @@ export default function CreateAccount({ actionData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Create an account — Diffractory" }];
+  return [
+    { title: "Create an account — Diffractory" },
+    {
+      name: "description",
+      content: "Create a Diffractory account to buy powder-diffraction measurements for your organisation, or apply to sell them as a lab.",
+    },
+  ];
 }

@@ -69,5 +69,8 @@ export default function ForgotPassword({ actionData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Forgot password — Diffractory" }];
+  return [
+    { title: "Forgot password — Diffractory" },
+    { name: "description", content: "Forgot your Diffractory password? Give your e-mail address and we send a link to choose a new one." },
+  ];
 }

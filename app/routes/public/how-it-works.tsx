@@ -2,7 +2,13 @@
 import type { Route } from "./+types/how-it-works";
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "How it works — Diffractory" }];
+  return [
+    { title: "How it works — Diffractory" },
+    {
+      name: "description",
+      content: "How Diffractory works for clients and labs: requests and quotes, held payment, delivery, and the automatic lattice-parameter check.",
+    },
+  ];
 }
 
 export default function HowItWorks() {

@@ -93,5 +93,11 @@ export default function Invitation({ loaderData: page, actionData }: Route.Compo
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Invitation — Diffractory" }];
+  return [
+    { title: "Invitation — Diffractory" },
+    {
+      name: "description",
+      content: "An invitation to join an organisation on Diffractory: sign in or create an account with the invited address, then accept.",
+    },
+  ];
 }

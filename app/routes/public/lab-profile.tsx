@@ -168,5 +168,9 @@ export default function LabProfile({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta({ data }: Route.MetaArgs) {
-  return [{ title: `${data?.lab.name ?? "Lab"} — Diffractory` }];
+  const where = data ? [data.lab.city, data.lab.country].filter(Boolean).join(", ") : "";
+  const description = data
+    ? `${data.lab.name}${where ? `, ${where}` : ""}: a vetted powder-diffraction lab on Diffractory — its instruments, the d-spacings they reach, hazards accepted and prices.`
+    : "A vetted powder-diffraction lab on Diffractory: its instruments, the d-spacings they reach, hazards accepted and prices.";
+  return [{ title: `${data?.lab.name ?? "Lab"} — Diffractory` }, { name: "description", content: description }];
 }

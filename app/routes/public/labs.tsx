@@ -279,5 +279,11 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Lab directory — Diffractory" }];
+  return [
+    { title: "Lab directory — Diffractory" },
+    {
+      name: "description",
+      content: "Find a vetted powder-diffraction lab by technique, X-ray source, d-spacing reach, temperature, accepted hazards, price and turnaround.",
+    },
+  ];
 }

@@ -10,6 +10,10 @@ export async function action(_: Route.ActionArgs) {
   notFound("No page lives at this address.");
 }
 
+export function meta(_: Route.MetaArgs) {
+  return [{ title: "Page not found — Diffractory" }, { name: "description", content: "No page lives at this address on Diffractory." }];
+}
+
 export default function NotFound() {
   return null;
 }

@@ -82,5 +82,5 @@ export default function ResetPassword({ loaderData: page, actionData }: Route.Co
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Choose a new password — Diffractory" }];
+  return [{ title: "Choose a new password — Diffractory" }, { name: "description", content: "Choose a new password for your Diffractory account." }];
 }

@@ -3,7 +3,10 @@ import { SafetyNotice } from "~/components/ui";
 import type { Route } from "./+types/safety";
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Safety notes — Diffractory" }];
+  return [
+    { title: "Safety notes — Diffractory" },
+    { name: "description", content: "What a hazard declaration on Diffractory is and is not, and how clients and labs handle hazardous samples." },
+  ];
 }
 
 export default function Safety() {

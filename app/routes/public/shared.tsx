@@ -85,5 +85,9 @@ export default function SharedDataRoom({ loaderData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Shared data room — Diffractory" }, { name: "robots", content: "noindex" }];
+  return [
+    { title: "Shared data room — Diffractory" },
+    { name: "description", content: "A read-only data room of one order's delivered files and lattice checks, shared through a link." },
+    { name: "robots", content: "noindex" },
+  ];
 }

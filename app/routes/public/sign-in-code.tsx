@@ -118,5 +118,8 @@ export default function SignInCode({ loaderData, actionData }: Route.ComponentPr
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Sign-in code — Diffractory" }];
+  return [
+    { title: "Sign-in code — Diffractory" },
+    { name: "description", content: "The second step of signing in to Diffractory: the six-digit code from your authenticator app." },
+  ];
 }

@@ -107,5 +107,8 @@ export default function SignIn({ actionData }: Route.ComponentProps) {
 }
 
 export function meta(_: Route.MetaArgs) {
-  return [{ title: "Sign in — Diffractory" }];
+  return [
+    { title: "Sign in — Diffractory" },
+    { name: "description", content: "Sign in to Diffractory to request, quote, deliver and check powder-diffraction measurements." },
+  ];
 }
