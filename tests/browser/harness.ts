@@ -20,8 +20,11 @@ export interface Browser {
   close(): Promise<void>;
 }
 
-/** locale sets the browser's language (and so its Accept-Language); viewport defaults to a 1280 × 860 desktop. */
-export async function openBrowser(options: { locale?: string; viewport?: { width: number; height: number } } = {}): Promise<Browser> {
+/**
+ * locale sets the browser's language (and so its Accept-Language); viewport defaults to a 1280 × 860 desktop;
+ * args are further Chromium switches (the Lighthouse test opens a debugging port).
+ */
+export async function openBrowser(options: { locale?: string; viewport?: { width: number; height: number }; args?: string[] } = {}): Promise<Browser> {
   const profile = fs.mkdtempSync(path.join(os.tmpdir(), "diffractory-chromium-"));
   const context = await chromium.launchPersistentContext(profile, {
     executablePath: "/usr/bin/chromium",
@@ -37,6 +40,7 @@ export async function openBrowser(options: { locale?: string; viewport?: { width
       "--disable-background-networking",
       "--disable-component-update",
       "--disable-sync",
+      ...(options.args ?? []),
     ],
   });
   const page = context.pages()[0] ?? (await context.newPage());
