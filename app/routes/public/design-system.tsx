@@ -1,6 +1,7 @@
 // The design page: Diffractory's tokens and building blocks as they render, for people who build or review screens.
 // The rules behind them: docs/design-system.md. The colour swatches are read from app/app.css itself, so the page
 // cannot drift from the tokens.
+import { DateField } from "~/components/date-field";
 import type { ReactNode } from "react";
 import { Link } from "react-router";
 import appCss from "~/app.css?raw";
@@ -321,7 +322,7 @@ export default function DesignSystem() {
             </select>
           </Field>
           <Field label="Needed by" id="ds-date">
-            <input id="ds-date" type="date" className="input" defaultValue="2026-12-04" aria-describedby="ds-date-error" />
+            <DateField id="ds-date" name="neededBy" defaultValue="2026-12-04" aria-describedby="ds-date-error" />
           </Field>
         </form>
       </Section>
