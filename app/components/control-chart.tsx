@@ -4,6 +4,7 @@
 // acceptance window, or a tolerance); the baseline's span shaded; points that break a rule marked with a red
 // diamond and their rule numbers. The picture is an img whose label is the text summary given
 // (docs/design.md#lots-and-trends).
+import { CellSymbol } from "~/components/symbols";
 import { useEffect, useRef, useState } from "react";
 import type uPlotType from "uplot";
 import "uplot/dist/uPlot.min.css";
@@ -57,18 +58,20 @@ const COLOURS = {
   flag: "#b3261e",
 };
 const AXIS_FONT = '12px "DM Sans", Helvetica, Arial, sans-serif';
-const SYMBOL_FONT = 'italic 14px "Source Serif 4", Georgia, serif';
 
 export function ControlChart({
   data,
   label,
   height = 300,
   testId = "control-chart",
+  keyed = true,
 }: {
   data: ControlChartData;
   label: string;
   height?: number;
   testId?: string;
+  /** Draw the chart's own key under it; off where the page writes a fuller one. */
+  keyed?: boolean;
 }) {
   const host = useRef<HTMLDivElement>(null);
   const [hover, setHover] = useState<string | null>(null);
@@ -130,27 +133,6 @@ export function ControlChart({
         ctx.restore();
       };
 
-      // The value axis's label, drawn here so that its symbol is italic and its unit upright.
-      const drawAxisLabel = (u: uPlotType) => {
-        if (!data.axisSymbol || !data.axisLabel.startsWith(data.axisSymbol)) return;
-        const ctx = u.ctx;
-        const rest = data.axisLabel.slice(data.axisSymbol.length);
-        ctx.save();
-        ctx.fillStyle = "#42413c";
-        ctx.textBaseline = "top";
-        ctx.font = SYMBOL_FONT.replace("14px", `${14 * dpr()}px`);
-        const w1 = ctx.measureText(data.axisSymbol).width;
-        ctx.font = AXIS_FONT.replace("12px", `${12 * dpr()}px`);
-        const w2 = ctx.measureText(rest).width;
-        ctx.translate(4 * dpr(), u.bbox.top + u.bbox.height / 2 + (w1 + w2) / 2);
-        ctx.rotate(-Math.PI / 2);
-        ctx.font = SYMBOL_FONT.replace("14px", `${14 * dpr()}px`);
-        ctx.fillText(data.axisSymbol, 0, 0);
-        ctx.font = AXIS_FONT.replace("12px", `${12 * dpr()}px`);
-        ctx.fillText(rest, w1, 2 * dpr());
-        ctx.restore();
-      };
-
       const drawFlags = (u: uPlotType) => {
         const ctx = u.ctx;
         ctx.save();
@@ -199,7 +181,8 @@ export function ControlChart({
         width: Math.max(320, el.clientWidth),
         height,
         cursor: { drag: { x: false, y: false }, points: { show: false } },
-        legend: { show: true, live: false },
+        // The chart's own key and axis label are drawn as text under and above it, not as the library's legend.
+        legend: { show: false },
         scales: {
           x: { time: false, range: () => [Math.min(...xs, 1) - 0.5, Math.max(...xs, 1) + 0.5] },
           y: { range: () => [lo - pad, hi + pad] },
@@ -207,9 +190,11 @@ export function ControlChart({
         axes: [
           {
             label: data.xLabel ?? "Lot, in order of measurement",
-            stroke: "#3a4151",
-            grid: { stroke: "#eceef2" },
-            ticks: { stroke: "#d6dae2" },
+            stroke: "#42413c",
+            font: AXIS_FONT,
+            labelFont: AXIS_FONT,
+            grid: { stroke: "#efede6" },
+            ticks: { stroke: "#dfdcd2" },
             // One tick per point when they fit, else every k-th.
             splits: (u) => {
               const k = Math.max(1, Math.ceil((xs.length * 64 * dpr()) / Math.max(u.bbox.width, 1)));
@@ -218,11 +203,11 @@ export function ControlChart({
             values: (_u, splits) => splits.map((x) => tickOf.get(x) ?? ""),
           },
           {
-            // With a symbol the label is drawn by drawAxisLabel; a blank keeps its room.
-            label: data.axisSymbol && data.axisLabel.startsWith(data.axisSymbol) ? " " : data.axisLabel,
-            stroke: "#3a4151",
-            grid: { stroke: "#eceef2" },
-            ticks: { stroke: "#d6dae2" },
+            stroke: "#42413c",
+            font: AXIS_FONT,
+            labelFont: AXIS_FONT,
+            grid: { stroke: "#efede6" },
+            ticks: { stroke: "#dfdcd2" },
             size: 80,
             values: (_u, s) => s.map((v) => v.toFixed(data.digits)),
           },
@@ -230,7 +215,7 @@ export function ControlChart({
         series,
         hooks: {
           drawClear: [drawBehind],
-          draw: [drawFlags, drawAxisLabel],
+          draw: [drawFlags],
           setCursor: [
             (u) => {
               const i = u.cursor.idx;
@@ -258,7 +243,59 @@ export function ControlChart({
 
   return (
     <figure className="space-y-1">
+      <p className="text-xs font-medium text-ink-700" data-testid={`${testId}-axis`}>
+        {data.axisSymbol && data.axisLabel.startsWith(data.axisSymbol) ? (
+          <>
+            <CellSymbol name={data.axisSymbol} />
+            {data.axisLabel.slice(data.axisSymbol.length)}
+          </>
+        ) : (
+          data.axisLabel
+        )}
+      </p>
       <div ref={host} role="img" aria-label={label} className="w-full overflow-hidden rounded-lg border border-ink-200 bg-white" data-testid={testId} />
+      {keyed ? (
+        <ul className="flex flex-wrap gap-x-5 gap-y-1 text-xs text-ink-700" aria-label="Key to the chart">
+          <li>
+            <span aria-hidden="true" style={{ color: COLOURS.point }}>
+              ●
+            </span>{" "}
+            {data.valueLabel ?? "Value"}
+          </li>
+          {data.limits ? (
+            <>
+              <li>
+                <span aria-hidden="true" style={{ color: COLOURS.center }}>
+                  —
+                </span>{" "}
+                centre line
+              </li>
+              <li>
+                <span aria-hidden="true" style={{ color: COLOURS.limit }}>
+                  - -
+                </span>{" "}
+                control limits (3σ)
+              </li>
+            </>
+          ) : null}
+          {data.band ? (
+            <li>
+              <span aria-hidden="true" style={{ color: COLOURS.bandEdge }}>
+                ▬
+              </span>{" "}
+              {data.band.label}
+            </li>
+          ) : null}
+          {data.points.some((p) => p.rules.length > 0) ? (
+            <li>
+              <span aria-hidden="true" style={{ color: COLOURS.flag }}>
+                ◆
+              </span>{" "}
+              breaks a rule (its numbers beside it)
+            </li>
+          ) : null}
+        </ul>
+      ) : null}
       <p className="min-h-4 text-xs text-ink-700" aria-live="polite">
         {hover ?? ""}
       </p>

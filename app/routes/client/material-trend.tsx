@@ -162,7 +162,7 @@ export default function MaterialTrend({ loaderData, actionData }: Route.Componen
                 {chart.limitsProblem}
               </p>
             )}
-            <ControlChart data={charts.main} label={`Control chart of ${p.name}. ${trendSummary(chart)}`} testId="trend-chart" />
+            <ControlChart data={charts.main} keyed={false} label={`Control chart of ${p.name}. ${trendSummary(chart)}`} testId="trend-chart" />
             <ul className="flex flex-wrap gap-x-5 gap-y-1 text-xs text-ink-700" aria-label="Key to the chart">
               <li>● a lot's value</li>
               <li className="text-beam-700">— centre line</li>
