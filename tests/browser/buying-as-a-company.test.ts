@@ -51,7 +51,7 @@ function pdfText(file: string) {
 }
 
 /**
- * The value under a heading of the PDF's facts row ("YOUR PURCHASE ORDER", "CORRECTS INVOICE"): pdftotext keeps the
+ * The value under a heading of the PDF's facts row ("Your purchase order", "Corrects invoice"): pdftotext keeps the
  * columns, so the value starts in the heading's column on the next line that has text.
  */
 function pdfFact(text: string, heading: string) {
@@ -257,8 +257,8 @@ describe("buying as a company: a purchase order, a bank transfer, the invoice, a
     // Council Directive 2006/112/EC Art. 226: (2) the number, (5) both parties' names and addresses, (8)-(10) the
     // amounts; the purchase order is the buyer's own reference, printed for its procurement.
     expect(text).toContain(invoiceNumber);
-    expect(pdfFact(text, "YOUR PURCHASE ORDER")).toBe(PO);
-    expect(pdfFact(text, "ORDER ")).toBe(orderNumber);
+    expect(pdfFact(text, "Your purchase order")).toBe(PO);
+    expect(pdfFact(text, "Order ")).toBe(orderNumber);
     expect(text).toContain("Granite Ridge Characterisation Inc.");
     expect(text).toContain("410 Quarrystone Avenue");
     expect(text).toContain("Pinecrest Solid Forms Ltd");
@@ -317,9 +317,9 @@ describe("buying as a company: a purchase order, a bank transfer, the invoice, a
     // A credit note refers to the invoice it corrects (Council Directive 2006/112/EC Art. 219 treats it as an invoice;
     // Art. 226 then asks for its own number and date and the amounts).
     expect(text).toContain(creditNoteNumber);
-    expect(pdfFact(text, "CORRECTS INVOICE")).toMatch(new RegExp(`^${invoiceNumber} of \\d{1,2} \\w+ \\d{4}$`));
+    expect(pdfFact(text, "Corrects invoice")).toMatch(new RegExp(`^${invoiceNumber} of \\d{1,2} \\w+ \\d{4}$`));
     expect(text).toMatch(new RegExp(`Total credited\\s+€${REFUND.replace(".", "\\.")}\\n`));
-    expect(pdfFact(text, "YOUR PURCHASE ORDER")).toBe(PO);
+    expect(pdfFact(text, "Your purchase order")).toBe(PO);
     // The line says why in words, not in the ledger's memo.
     expect(text).toContain(`Refund on order ${orderNumber} after the`);
     expect(text).not.toContain("Dispute decision: refund");

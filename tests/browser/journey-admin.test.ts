@@ -139,7 +139,8 @@ describe("admin journey", () => {
     await page.getByRole("button", { name: "Approve" }).click();
     await page.getByText("Lab approved.").waitFor();
     await badge(page, "Approved").waitFor();
-    await page.getByText(/Last decision \(\d{4}-\d{2}-\d{2}\): Accreditation current/).waitFor();
+    // The day in the viewer's locale (docs/design-system.md, dates): "5 Dec 2026" in Britain, "Dec 5, 2026" in the US.
+    await page.getByText(/Last decision \((\d{1,2} [A-Z][a-z]{2} \d{4}|[A-Z][a-z]{2} \d{1,2}, \d{4})\): Accreditation current/).waitFor();
     await checkAccessibility(page, "admin-lab-approved");
     await step(page, "lab-approved");
   });
