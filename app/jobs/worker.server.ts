@@ -12,6 +12,7 @@ import { sweepBankTransfers } from "~/models/payments/bank-transfer.server";
 import { endDueAgreements } from "~/models/agreements/agreements.server";
 import { markOverdueCalibrations } from "~/models/labs/calibration.server";
 import { QUEUES } from "./queues.server";
+import { listenForSentJobs } from "./wake.server";
 
 /** Registers every queue's handler and the schedules; the worker process calls this once. */
 export async function startWorkers(boss: PgBoss, { reviewWindowCron = config.reviewWindowCron } = {}) {
@@ -49,9 +50,16 @@ export async function startWorkers(boss: PgBoss, { reviewWindowCron = config.rev
     const marked = await markOverdueCalibrations();
     if (marked > 0) console.log(`calibration: ${marked} instruments overdue, withdrawn from matching`);
   });
-  await boss.work<{ fileId: string }>(QUEUES.scanCheck, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => {
-    await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });
-  });
+  const scanCheckWorker = await boss.work<{ fileId: string }>(
+    QUEUES.scanCheck,
+    { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 },
+    async ([job]) => {
+      await runScanCheck(job.data.fileId, { finalAttempt: job.retryCount >= job.retryLimit });
+    },
+  );
+  // A sent check wakes its worker at once (app/jobs/wake.server.ts); the half-second poll is the fallback.
+  const stopListening = await listenForSentJobs(boss, { [QUEUES.scanCheck]: [scanCheckWorker] });
+  boss.once("stopped", () => void stopListening());
   await startMailWorkers(boss);
 }
 

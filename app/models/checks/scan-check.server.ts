@@ -9,7 +9,8 @@ import { readStoredBytes } from "~/models/files/storage.server";
 import { recordLot } from "~/models/materials/materials.server";
 import { phasesOfSamples } from "~/models/requests/requests.server";
 import { config } from "~/config.server";
-import { getBoss, QUEUES } from "~/jobs/queues.server";
+import { QUEUES } from "~/jobs/queues.server";
+import { sendAndWake } from "~/jobs/wake.server";
 
 /** How often pg-boss runs a check again after a failure or a killed worker, and when an active job counts as lost. */
 export const SCAN_CHECK_JOB = {
@@ -18,11 +19,10 @@ export const SCAN_CHECK_JOB = {
   expireInSeconds: config.jobs.scanCheckExpireSeconds,
 } as const;
 
-/** Puts a stored file's check in the queue (a new row, or the existing one reset) and sends the job. */
+/** Puts a stored file's check in the queue (a new row, or the existing one reset) and sends the job, waking the worker. */
 export async function enqueueScanCheck(fileId: string): Promise<void> {
   await resetToQueued(fileId);
-  const boss = await getBoss();
-  const jobId = await boss.send(QUEUES.scanCheck, { fileId }, { ...SCAN_CHECK_JOB });
+  const jobId = await sendAndWake(QUEUES.scanCheck, { fileId }, { ...SCAN_CHECK_JOB });
   if (!jobId) throw new Error(`The scan check of file ${fileId} could not be queued.`);
 }
 
