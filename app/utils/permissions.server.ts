@@ -223,11 +223,16 @@ const isFullAdmin = (actor: Actor) => actor.user.isAdmin && !!actor.user.totpEna
 /**
  * A lattice check with its file, order and the viewer's side, for the order's client organisation and its lab,
  * and for an admin when the order has a dispute (open or decided; each such read is audit-logged with `what`);
- * a check of anyone else's order is the same 404 as a missing one.
+ * a check of anyone else's order is the same 404 as a missing one. `statusOnly` (the status API) reads the check
+ * without its stored result, keeping only its `withinWindow`.
  */
-export async function requireCheckAccess(request: Request, checkId: string, { what = "check", clientAddress }: { what?: string; clientAddress?: string } = {}) {
+export async function requireCheckAccess(
+  request: Request,
+  checkId: string,
+  { what = "check", clientAddress, statusOnly }: { what?: string; clientAddress?: string; statusOnly?: boolean } = {},
+) {
   const actor = await requireUser(request);
-  const found = await checkWithOrder(checkId);
+  const found = await checkWithOrder(checkId, { statusOnly });
   if (!found) notFound("There is no such check.");
   const party = await partyTo(actor, found.file.orderId);
   if (party) return { actor, ...found, order: party.order, side: party.side, organisation: party.organisation };

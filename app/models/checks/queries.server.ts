@@ -1,6 +1,7 @@
 // Reading lattice checks: a check with its file, the sample its scan belongs to, and which samples still lack a check.
-import { and, eq, isNull } from "drizzle-orm";
+import { and, eq, getTableColumns, isNull, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
+import type { ScanCheck } from "~/db/schema";
 import { isUuid } from "~/domain/ids";
 
 /** The sample the checked scan belongs to (label and declared phase), or null. */
@@ -38,11 +39,21 @@ export async function samplesWithoutCompletedCheck(orderId: string): Promise<str
   return sampleRows.filter((s) => !done.has(s.id)).map((s) => s.label);
 }
 
-/** A check with the order it belongs to, for access checks (null when there is no such check). */
-export async function checkWithOrder(checkId: string) {
+/**
+ * A check with the order it belongs to, for access checks (null when there is no such check). With `statusOnly`
+ * its stored result (the fitted profile and peaks, hundreds of kB for a long scan) is left in the database and
+ * `result` holds only `withinWindow`, all the status API answers with (docs/performance.md#end-to-end).
+ */
+export async function checkWithOrder(checkId: string, { statusOnly = false } = {}) {
   if (!isUuid(checkId)) return null;
+  const check = statusOnly
+    ? {
+        ...getTableColumns(schema.scanChecks),
+        result: sql<ScanCheck["result"]>`jsonb_build_object('withinWindow', ${schema.scanChecks.result} -> 'withinWindow')`,
+      }
+    : schema.scanChecks;
   const [row] = await db
-    .select({ check: schema.scanChecks, file: schema.orderFiles })
+    .select({ check, file: schema.orderFiles })
     .from(schema.scanChecks)
     .innerJoin(schema.orderFiles, eq(schema.orderFiles.id, schema.scanChecks.fileId))
     .where(eq(schema.scanChecks.id, checkId));
