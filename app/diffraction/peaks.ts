@@ -80,7 +80,7 @@ function pseudoVoigt(x: number, x0: number, h: number, H: number, eta: number, o
 /** Position of a satellite line from the main line's position (Bragg's law at fixed d). */
 function satellitePosition(twoTheta: number, ratio: number): { x: number; slope: number } {
   const s = ratio * Math.sin((twoTheta * RAD) / 2);
-  if (s >= 1) return { x: NaN, slope: 0 };
+  if (s >= 1) return { x: Number.NaN, slope: Number.NaN };
   const x = (2 * Math.asin(s)) / RAD;
   const slope = (ratio * Math.cos((twoTheta * RAD) / 2)) / Math.cos((x * RAD) / 2);
   return { x, slope };
@@ -482,13 +482,30 @@ function fitCluster(
   upper[nParams - 2] = Infinity;
   lower[nParams - 1] = -Infinity;
   upper[nParams - 1] = Infinity;
-  const ratios = lines.slice(1).map((l) => ({ ratio: l.wavelength / lines[0].wavelength, weight: l.weight / lines[0].weight }));
+  // The satellite lines' wavelength ratios and weights, and per evaluation each peak's satellite positions and
+  // slopes, in typed arrays: the model loop then reads numbers of one kind only (no objects made per evaluation,
+  // no shape checks that could send the optimised code back to the interpreter).
+  const nSat = lines.length - 1;
+  const satRatio = new Float64Array(nSat);
+  const satWeight = new Float64Array(nSat);
+  for (let s = 0; s < nSat; s++) {
+    satRatio[s] = lines[s + 1].wavelength / lines[0].wavelength;
+    satWeight[s] = lines[s + 1].weight / lines[0].weight;
+  }
+  const satX = new Float64Array(k * nSat);
+  const satSlope = new Float64Array(k * nSat);
   const d = new Float64Array(4);
   const problem: NonlinearProblem = {
     nParams,
     nPoints: m,
     evaluate(p, residuals, jacobian) {
-      const sats = cluster.map((_, j) => ratios.map((r) => satellitePosition(p[PER_PEAK * j], r.ratio)));
+      for (let j = 0; j < k; j++) {
+        for (let s = 0; s < nSat; s++) {
+          const sat = satellitePosition(p[PER_PEAK * j], satRatio[s]);
+          satX[j * nSat + s] = sat.x;
+          satSlope[j * nSat + s] = sat.slope;
+        }
+      }
       if (jacobian) jacobian.fill(0);
       for (let i = 0; i < m; i++) {
         const x = xs[i];
@@ -504,14 +521,14 @@ function fitCluster(
           const near = jacobian !== null && Math.abs(x - p[o]) < JACOBIAN_REACH * H;
           f += pseudoVoigt(x, p[o], h, H, eta, near ? d : null);
           if (near) for (let q = 0; q < 4; q++) jacobian[row + o + q] += d[q] * w;
-          for (let s = 0; s < ratios.length; s++) {
-            const sat = sats[j][s];
-            if (!Number.isFinite(sat.x)) continue;
-            const wr = ratios[s].weight;
-            const nearSat = jacobian !== null && Math.abs(x - sat.x) < JACOBIAN_REACH * H;
-            f += pseudoVoigt(x, sat.x, wr * h, H, eta, nearSat ? d : null);
+          for (let s = 0; s < nSat; s++) {
+            const sx = satX[j * nSat + s];
+            if (!Number.isFinite(sx)) continue;
+            const wr = satWeight[s];
+            const nearSat = jacobian !== null && Math.abs(x - sx) < JACOBIAN_REACH * H;
+            f += pseudoVoigt(x, sx, wr * h, H, eta, nearSat ? d : null);
             if (nearSat) {
-              jacobian[row + o] += d[0] * sat.slope * w;
+              jacobian[row + o] += d[0] * satSlope[j * nSat + s] * w;
               jacobian[row + o + 1] += d[1] * wr * w;
               jacobian[row + o + 2] += d[2] * w;
               jacobian[row + o + 3] += d[3] * w;
