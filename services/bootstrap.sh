@@ -2,6 +2,7 @@
 # Installs what a fresh machine lacks: Debian packages and the npm dependencies.
 #   services/bootstrap.sh          PostgreSQL (for npm run demo / dev)
 #   services/bootstrap.sh --test   also Chromium, poppler-utils, the Python reference libraries and sqlmap used by the tests
+#   services/bootstrap.sh --bench  also python3 with numpy and scipy, for the lattice check's peer in `npm run bench`
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -14,6 +15,10 @@ if [ "${1:-}" = "--test" ]; then
   # The outside SQL-injection scanner of tests/system/sqlmap.test.ts.
   command -v sqlmap >/dev/null || need+=(sqlmap)
   /usr/bin/python3 -c 'import xraylib, gemmi, pymatgen' 2>/dev/null || need+=(python3-xraylib python3-gemmi python3-pymatgen)
+fi
+if [ "${1:-}" = "--bench" ]; then
+  # bench/peer/lattice_peer.py, the numpy/scipy comparison of bench/run.ts (the bench skips it, saying so, without them).
+  python3 -c 'import numpy, scipy' 2>/dev/null || need+=(python3-numpy python3-scipy)
 fi
 if [ ${#need[@]} -gt 0 ]; then
   if [ "$(id -u)" != 0 ]; then
