@@ -283,22 +283,35 @@ export async function unreadThreads(userId: string, organisationId: string): Pro
     .from(schema.messages)
     .innerJoin(schema.requests, eq(schema.requests.id, schema.messages.requestId))
     .leftJoin(schema.messageReads, and(eq(schema.messageReads.userId, userId), eq(schema.messageReads.threadKey, keySql)))
-    .where(
-      and(
-        or(eq(schema.messages.labId, organisationId), eq(schema.requests.organisationId, organisationId)),
-        or(isNull(schema.messages.authorOrganisationId), ne(schema.messages.authorOrganisationId, organisationId)),
-        or(isNull(schema.messageReads.lastReadAt), gt(schema.messages.createdAt, schema.messageReads.lastReadAt)),
-      ),
-    )
+    .where(unreadFor(organisationId))
     .groupBy(keySql, schema.messages.requestId, schema.messages.labId, schema.messages.orderId);
   return rows.map((r) => ({ ...r, kind: r.orderId ? "order" : "request", unread: Number(r.unread) }));
 }
 
-/** Unread messages for a person in one organisation: in request threads, in order threads, and in all. */
+/** Messages the person has not read: written by the other side of a thread of the organisation, after the person last read it. */
+const unreadFor = (organisationId: string) =>
+  and(
+    or(eq(schema.messages.labId, organisationId), eq(schema.requests.organisationId, organisationId)),
+    or(isNull(schema.messages.authorOrganisationId), ne(schema.messages.authorOrganisationId, organisationId)),
+    or(isNull(schema.messageReads.lastReadAt), gt(schema.messages.createdAt, schema.messageReads.lastReadAt)),
+  );
+
+/**
+ * Unread messages for a person in one organisation: in request threads, in order threads, and in all. Every
+ * workspace page shows them, so they are counted in SQL (one row) rather than summed over the threads here.
+ */
 export async function unreadTotals(userId: string, organisationId: string) {
-  const threads = await unreadThreads(userId, organisationId);
-  const requests = threads.filter((t) => t.kind === "request").reduce((s, t) => s + t.unread, 0);
-  const orders = threads.filter((t) => t.kind === "order").reduce((s, t) => s + t.unread, 0);
+  const [row] = await db
+    .select({
+      requests: sql<number>`count(*) filter (where ${schema.messages.orderId} is null)::int`,
+      orders: sql<number>`count(*) filter (where ${schema.messages.orderId} is not null)::int`,
+    })
+    .from(schema.messages)
+    .innerJoin(schema.requests, eq(schema.requests.id, schema.messages.requestId))
+    .leftJoin(schema.messageReads, and(eq(schema.messageReads.userId, userId), eq(schema.messageReads.threadKey, keySql)))
+    .where(unreadFor(organisationId));
+  const requests = Number(row?.requests ?? 0);
+  const orders = Number(row?.orders ?? 0);
   return { requests, orders, total: requests + orders };
 }
 
