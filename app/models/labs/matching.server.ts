@@ -8,9 +8,23 @@ import { judgeQuote, matchLab, type LabMatch, type MatchInstrument, type MatchLa
 
 type InstrumentRow = typeof schema.instruments.$inferSelect;
 
+/** Items by a key, in their order (Map.groupBy, which Node 20 lacks). */
+function groupBy<T, K>(items: T[], key: (item: T) => K) {
+  const out = new Map<K, T[]>();
+  for (const item of items) {
+    const k = key(item);
+    const list = out.get(k);
+    if (list) list.push(item);
+    else out.set(k, [item]);
+  }
+  return out;
+}
+
 /** Instruments with their sample stages in the shape the matching rules read. */
 async function withStages(instruments: InstrumentRow[]): Promise<(MatchInstrument & { labId: string })[]> {
   const stages = await stagesOf(instruments.map((i) => i.id));
+  // Grouped once: a scan of every stage per instrument grows with the square of the directory.
+  const stagesBy = groupBy(stages, (s) => s.instrumentId);
   return instruments.map((i) => ({
     id: i.id,
     labId: i.labId,
@@ -22,7 +36,7 @@ async function withStages(instruments: InstrumentRow[]): Promise<(MatchInstrumen
     twoThetaMax: i.twoThetaMax,
     energyDiscrimination: i.energyDiscrimination,
     sampleForms: i.sampleForms,
-    stages: stages.filter((s) => s.instrumentId === i.id),
+    stages: stagesBy.get(i.id) ?? [],
     calibrationState: i.calibrationState,
   }));
 }
@@ -58,14 +72,17 @@ export async function loadMatchLabs(labIds?: string[], client?: ClientStanding |
     db.select().from(schema.hazardAcceptance).where(inArray(schema.hazardAcceptance.labId, ids)),
     db.select().from(schema.priceLists).where(inArray(schema.priceLists.labId, ids)),
   ]);
-  const instruments = await withStages(instrumentRows);
+  const instruments = groupBy(await withStages(instrumentRows), (i) => i.labId);
+  const acceptanceBy = new Map(acceptance.map((a) => [a.labId, a]));
+  const pricesBy = new Map<string, (typeof prices)[number]>();
+  for (const p of prices) if (!pricesBy.has(p.labId)) pricesBy.set(p.labId, p);
   return labs.map((lab) => {
-    const acc = acceptance.find((a) => a.labId === lab.id);
-    const listed = prices.find((p) => p.labId === lab.id) ?? null;
+    const acc = acceptanceBy.get(lab.id);
+    const listed = pricesBy.get(lab.id) ?? null;
     const price = client === undefined ? listed : pricesForClient(listed, client).prices;
     return {
       ...lab,
-      instruments: instruments.filter((i) => i.labId === lab.id).map(stripLab),
+      instruments: (instruments.get(lab.id) ?? []).map(stripLab),
       acceptance: { pictograms: acc?.pictograms ?? [], specialCategories: acc?.specialCategories ?? [] },
       priceList: price
         ? {
@@ -83,14 +100,28 @@ export async function loadMatchLabs(labIds?: string[], client?: ClientStanding |
   });
 }
 
-/** A request with its samples in the shape the matching rules read; null when it does not exist. */
-export async function loadMatchRequest(
-  requestId: string,
-): Promise<(MatchRequest & { id: string; organisationId: string; visibility: string; state: string }) | null> {
-  const [request] = await db.select().from(schema.requests).where(eq(schema.requests.id, requestId));
-  if (!request) return null;
-  const samples = await db.select().from(schema.samples).where(eq(schema.samples.requestId, requestId)).orderBy(asc(schema.samples.position));
-  return {
+type MatchRequestRow = MatchRequest & { id: string; organisationId: string; visibility: string; state: string };
+
+/** Requests with their samples in the shape the matching rules read, in the rows' order: one query for each table. */
+async function toMatchRequests(requests: (typeof schema.requests.$inferSelect)[]): Promise<MatchRequestRow[]> {
+  if (requests.length === 0) return [];
+  const samples = await db
+    .select()
+    .from(schema.samples)
+    .where(
+      inArray(
+        schema.samples.requestId,
+        requests.map((r) => r.id),
+      ),
+    )
+    .orderBy(asc(schema.samples.position));
+  const byRequest = new Map<string, typeof samples>();
+  for (const s of samples) {
+    const list = byRequest.get(s.requestId);
+    if (list) list.push(s);
+    else byRequest.set(s.requestId, [s]);
+  }
+  return requests.map((request) => ({
     id: request.id,
     organisationId: request.organisationId,
     visibility: request.visibility,
@@ -102,14 +133,22 @@ export async function loadMatchRequest(
     preferredSource: request.preferredSource,
     temperaturePointsK: request.temperaturePointsK,
     atmosphere: request.atmosphere,
-    samples: samples.map((s) => ({
+    samples: (byRequest.get(request.id) ?? []).map((s) => ({
       label: s.label,
       elements: s.elements,
       form: s.form,
       ghsPictograms: s.ghsPictograms,
       specialHazards: s.specialHazards,
     })),
-  };
+  }));
+}
+
+/** A request with its samples in the shape the matching rules read; null when it does not exist. */
+export async function loadMatchRequest(requestId: string): Promise<MatchRequestRow | null> {
+  const [request] = await db.select().from(schema.requests).where(eq(schema.requests.id, requestId));
+  if (!request) return null;
+  const [loaded] = await toMatchRequests([request]);
+  return loaded;
 }
 
 /** Every approved lab against the request, fitting labs first, with reasons for each. */
@@ -195,18 +234,21 @@ export async function requestsMatchingLab(labId: string) {
     .from(schema.requestInvitations)
     .where(eq(schema.requestInvitations.labId, labId));
   const invitedIds = new Set(invited.map((i) => i.requestId));
-  const open = await db
-    .select({ id: schema.requests.id })
-    .from(schema.requests)
-    .where(eq(schema.requests.state, "open"))
-    .orderBy(asc(schema.requests.openedAt));
+  // Every open request with its samples and its client's standing, in three queries rather than a few per request.
+  const open = await toMatchRequests(await db.select().from(schema.requests).where(eq(schema.requests.state, "open")).orderBy(asc(schema.requests.openedAt)));
+  const clientIds = [...new Set(open.map((r) => r.organisationId))];
+  const standingRows = clientIds.length
+    ? await db
+        .select({ id: schema.organisations.id, clientKind: schema.organisations.clientKind, clientKindConfirmedAt: schema.organisations.clientKindConfirmedAt })
+        .from(schema.organisations)
+        .where(inArray(schema.organisations.id, clientIds))
+    : [];
+  // The estimate the lab reads is what this client would be quoted: the lab's prices per client, worked out once per client.
+  const labFor = new Map<string, MatchLab>();
+  for (const { id, ...standing } of standingRows) labFor.set(id, labForClient(lab, standing));
   const out: { requestId: string; invited: boolean; match: LabMatch }[] = [];
-  const standings = new Map<string, ClientStanding | null>();
-  for (const { id } of open) {
-    const request = await loadMatchRequest(id);
-    if (request && !standings.has(request.organisationId)) standings.set(request.organisationId, await clientStandingOf(request.organisationId));
-    // The estimate the lab reads is what this client would be quoted.
-    const entry = request && inboxEntry(request, labForClient(lab, standings.get(request.organisationId) ?? null), invitedIds.has(id));
+  for (const request of open) {
+    const entry = inboxEntry(request, labFor.get(request.organisationId) ?? labForClient(lab, null), invitedIds.has(request.id));
     if (entry) out.push(entry);
   }
   return out;

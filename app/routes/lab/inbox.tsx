@@ -28,8 +28,10 @@ export async function loader({ request }: Route.LoaderArgs) {
   const ids = found.map((f) => f.requestId);
   const rows = await requestsWithClients(ids);
   const quoted = await quoteStatesOfLab(labId, ids);
+  const byId = new Map(rows.map((r) => [r.id, r]));
+  const quotedIds = new Set(quoted.filter((q) => q.state === "sent").map((q) => q.requestId));
   const items = found.flatMap((f) => {
-    const row = rows.find((r) => r.id === f.requestId);
+    const row = byId.get(f.requestId);
     if (!row) return [];
     return [
       {
@@ -39,7 +41,7 @@ export async function loader({ request }: Route.LoaderArgs) {
         estimate: f.match.estimatedPriceMinor,
         currency: f.match.currency,
         warnings: f.match.warnings.length,
-        quoted: quoted.some((q) => q.requestId === row.id && q.state === "sent"),
+        quoted: quotedIds.has(row.id),
       },
     ];
   });
