@@ -9,6 +9,8 @@ declare module "autocannon" {
     duration?: number;
     /** Stop after this many requests in all (instead of a duration). */
     amount?: number;
+    /** Seconds before a request counts as timed out (default 10). */
+    timeout?: number;
   }
   interface Histogram {
     p50: number;

@@ -1,6 +1,7 @@
 // The load benchmark's yardstick: a bare node:http server with a pg pool that runs the SQL the app ran
 // (captured from the app's own query log, text and parameters unchanged) and answers with little else.
-// Started by bench/load.ts with BARE_SQL (the captured queries), DATABASE_URL and PORT.
+// Started by bench/load.ts with BARE_SQL (the captured queries), DATABASE_URL and PORT; by bench/cpu.ts with
+// BARE_PAGES instead: per page path, the queries the app ran for it, run in turn, every row in a plain table.
 import { createHash, randomBytes } from "node:crypto";
 import fs from "node:fs";
 import http from "node:http";
@@ -22,7 +23,13 @@ export interface BareSql {
   sessionInsert: CapturedQuery;
 }
 
-const sqlSet = JSON.parse(fs.readFileSync(process.env.BARE_SQL!, "utf8")) as BareSql;
+/** bench/cpu.ts: per page path (without its query string), the queries the app ran for that page. */
+export interface BarePages {
+  pages: Record<string, CapturedQuery[]>;
+}
+
+const sqlSet = (process.env.BARE_SQL ? JSON.parse(fs.readFileSync(process.env.BARE_SQL, "utf8")) : {}) as BareSql;
+const pageSql = (process.env.BARE_PAGES ? JSON.parse(fs.readFileSync(process.env.BARE_PAGES, "utf8")) : { pages: {} }) as BarePages;
 const pool = new pg.Pool({ connectionString: process.env.DATABASE_URL, max: Number(process.env.PG_POOL_MAX ?? 10) });
 const escapeHtml = (s: unknown) => String(s ?? "").replace(/[&<>"]/g, (c) => `&#${c.charCodeAt(0)};`);
 
@@ -51,6 +58,31 @@ async function requestsPage(req: http.IncomingMessage, res: http.ServerResponse)
         `<tr><td><a href="/client/requests/${escapeHtml(r.id)}">${escapeHtml(r.title)}</a></td><td>${escapeHtml(r.state)}</td><td>${escapeHtml(r.samples)}</td><td>${escapeHtml(r.quotes)}</td></tr>`,
     )
     .join("")}</table></main></body></html>`;
+  res.writeHead(200, { "Content-Type": "text/html; charset=utf-8" });
+  res.end(body);
+}
+
+/** Any page of BARE_PAGES: its queries in turn, then every row of every query as a table (JSON for /api/). */
+async function page(path: string, res: http.ServerResponse) {
+  const results: Record<string, unknown>[][] = [];
+  for (const q of pageSql.pages[path]) results.push((await pool.query(q.query, q.params)).rows);
+  if (path.startsWith("/api/")) {
+    res.writeHead(200, { "Content-Type": "application/json; charset=utf-8" });
+    return res.end(JSON.stringify(results));
+  }
+  const body = `<!DOCTYPE html><html lang="en"><head><meta charset="utf-8"><title>Page</title></head><body><main>${results
+    .map(
+      (rows) =>
+        `<table>${rows
+          .map(
+            (r) =>
+              `<tr>${Object.values(r)
+                .map((v) => `<td>${escapeHtml(typeof v === "object" && v !== null && !(v instanceof Date) ? JSON.stringify(v) : v)}</td>`)
+                .join("")}</tr>`,
+          )
+          .join("")}</table>`,
+    )
+    .join("")}</main></body></html>`;
   res.writeHead(200, { "Content-Type": "text/html; charset=utf-8" });
   res.end(body);
 }
@@ -87,13 +119,15 @@ async function signIn(req: http.IncomingMessage, res: http.ServerResponse) {
 const server = http.createServer((req, res) => {
   const path = (req.url ?? "/").split("?")[0];
   const route =
-    req.method === "GET" && path === "/api/labs"
-      ? directory(res)
-      : req.method === "GET" && path === "/client/requests"
-        ? requestsPage(req, res)
-        : req.method === "POST" && path === "/sign-in"
-          ? signIn(req, res)
-          : null;
+    req.method === "GET" && pageSql.pages[path]
+      ? page(path, res)
+      : req.method === "GET" && path === "/api/labs"
+        ? directory(res)
+        : req.method === "GET" && path === "/client/requests"
+          ? requestsPage(req, res)
+          : req.method === "POST" && path === "/sign-in"
+            ? signIn(req, res)
+            : null;
   if (!route) {
     res.writeHead(404).end();
     return;

@@ -3,9 +3,11 @@
 // and 20,000 orders (bench/seed-load.ts); then the same against a bare node:http server running the SQL
 // the app ran (bench/bare-server.ts). Prints a table and writes JSON to bench/results/.
 // `npm run bench:load`; LOAD_SECONDS shortens the runs, LOAD_ONLY=directory,requests,sign-in picks some,
-// LOAD_SKIP_BARE=1 skips the bare server, WEB_CONCURRENCY=n runs n app processes (server/cluster.ts).
+// LOAD_SKIP_BARE=1 skips the bare server, WEB_CONCURRENCY=n runs n app processes (server/cluster.ts),
+// BENCH_APP_PORT / BENCH_BARE_PORT (default 3290 / 3291) the ports. Then the CPU-per-view table of every page
+// (bench/cpu.ts) and its growth with the data (bench/cpu-growth.ts) follow, from `npm run bench:load`.
 import autocannon from "autocannon";
-import { execFileSync, spawn, type ChildProcess } from "node:child_process";
+import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
@@ -13,10 +15,13 @@ import { root } from "../services/paths";
 import { waitForPort } from "../services/process";
 import { servicesUp } from "../services/up";
 import type { BareSql, CapturedQuery } from "./bare-server";
+import { buildIfNeeded } from "./build";
 import { ensureLoadDatabase, LOAD } from "./seed-load";
 
-const APP_PORT = 3290;
-const BARE_PORT = 3291;
+const APP_PORT = Number(process.env.BENCH_APP_PORT ?? 3290);
+const BARE_PORT = Number(process.env.BENCH_BARE_PORT ?? 3291);
+/** The issue's targets at 100 connections: p95 in ms, and no errors. */
+const P95_TARGET_MS: Record<string, number> = { requests: 150, directory: 50 };
 const SECONDS = Number(process.env.LOAD_SECONDS ?? 30);
 const CONNECTIONS = Number(process.env.LOAD_CONNECTIONS ?? 100);
 const ONLY = process.env.LOAD_ONLY?.split(",");
@@ -31,23 +36,6 @@ interface Endpoint {
   expect: number;
   headers?: Record<string, string>;
   body?: string;
-}
-
-function newestMtime(dir: string): number {
-  let newest = 0;
-  for (const entry of fs.readdirSync(dir, { withFileTypes: true })) {
-    const p = path.join(dir, entry.name);
-    newest = Math.max(newest, entry.isDirectory() ? newestMtime(p) : fs.statSync(p).mtimeMs);
-  }
-  return newest;
-}
-
-function buildIfNeeded() {
-  const built = path.join(root, "build/server/index.js");
-  const sources = Math.max(newestMtime(path.join(root, "app")), newestMtime(path.join(root, "server")));
-  if (fs.existsSync(built) && fs.statSync(built).mtimeMs >= sources) return;
-  console.log("building the app (sources are newer than build/)…");
-  execFileSync("npx", ["react-router", "build"], { cwd: root, stdio: "ignore" });
 }
 
 async function start(label: string, args: string[], env: NodeJS.ProcessEnv, port: number) {
@@ -247,12 +235,18 @@ if (!process.env.LOAD_SKIP_BARE) {
   }
 }
 
-console.log(`\nendpoint          target    req/s  median ms  p95 ms  p97.5 ms  p99 ms  errors  non-2xx  unexpected  app/bare req/s`);
+console.log(`\nendpoint          target    req/s  median ms  p95 ms  p97.5 ms  p99 ms  errors  non-2xx  unexpected  app/bare req/s  app/bare p95  p95 target`);
 for (const r of rows) {
   const bare = rows.find((b) => b.target === "bare" && b.endpoint === r.endpoint);
   const ratio = r.target === "app" && bare ? (r.rps / bare.rps).toFixed(2) : "";
+  const p95Ratio = r.target === "app" && bare ? (r.p95Ms / bare.p95Ms).toFixed(2) : "";
+  const target = P95_TARGET_MS[r.endpoint];
+  const check =
+    r.target === "app" && target !== undefined
+      ? `≤ ${target} ms ${r.p95Ms <= target && r.errors + r.timeouts === 0 && r.unexpectedStatus === 0 ? "met" : "MISSED"}`
+      : "";
   console.log(
-    `${r.endpoint.padEnd(17)} ${r.target.padEnd(6)} ${r.rps.toFixed(0).padStart(7)} ${r.medianMs.toFixed(1).padStart(10)} ${r.p95Ms.toFixed(1).padStart(7)} ${r.p97_5Ms.toFixed(1).padStart(9)} ${r.p99Ms.toFixed(1).padStart(7)} ${String(r.errors + r.timeouts).padStart(7)} ${String(r.non2xx).padStart(8)} ${String(r.unexpectedStatus).padStart(11)} ${ratio.padStart(15)}`,
+    `${r.endpoint.padEnd(17)} ${r.target.padEnd(6)} ${r.rps.toFixed(0).padStart(7)} ${r.medianMs.toFixed(1).padStart(10)} ${r.p95Ms.toFixed(1).padStart(7)} ${r.p97_5Ms.toFixed(1).padStart(9)} ${r.p99Ms.toFixed(1).padStart(7)} ${String(r.errors + r.timeouts).padStart(7)} ${String(r.non2xx).padStart(8)} ${String(r.unexpectedStatus).padStart(11)} ${ratio.padStart(15)} ${p95Ratio.padStart(13)}  ${check}`,
   );
 }
 console.log(

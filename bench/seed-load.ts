@@ -10,17 +10,36 @@ import { databaseUrl } from "../services/postgres";
 import { isMain } from "../services/process";
 import { TEMPLATE_DB } from "../services/test-db";
 
-export const LOAD_DB = "diffractory_load";
+/**
+ * LOAD_SCALE multiplies every row count (1 by default; 4 and 16 for the growth table, or 0.25 and 0.0625 where
+ * the larger ones take too long to seed). Each scale has its own database: diffractory_load, diffractory_load_x4,
+ * diffractory_load_x0_25 …
+ */
+export const LOAD_SCALE = Number(process.env.LOAD_SCALE ?? 1);
+export const loadDbName = (scale: number) => (scale === 1 ? "diffractory_load" : `diffractory_load_x${String(scale).replace(".", "_")}`);
+export const LOAD_DB = loadDbName(LOAD_SCALE);
+const scaled = (n: number, scale = LOAD_SCALE) => Math.max(1, Math.round(n * scale));
+export const loadSizes = (scale: number) => ({
+  labs: scaled(5000, scale),
+  clients: scaled(400, scale),
+  requests: scaled(50_000, scale),
+  /** Requests of the first client organisation, the one whose pages are measured. */
+  bigClientRequests: scaled(2500, scale),
+  orders: scaled(20_000, scale),
+  /** Materials of the first client organisation (the others have two each), and lots per material. */
+  bigClientMaterials: scaled(40, scale),
+  lotsPerMaterial: 25,
+  auditEntries: scaled(50_000, scale),
+});
 export const LOAD = {
-  labs: 5000,
-  clients: 400,
-  requests: 50_000,
-  /** Requests of the first client organisation, the one whose requests page is measured. */
-  bigClientRequests: 2500,
-  orders: 20_000,
-  /** Every seeded client owner signs in with this password (e-mail load-owner-N@load.example). */
+  ...loadSizes(LOAD_SCALE),
+  /** Every seeded person signs in with this password (clients load-owner-N@load.example). */
   password: "load-bench-password",
   ownerEmail: (n: number) => `load-owner-${n}@load.example`,
+  /** The owner of the first lab ("Load Lab 1"), which quotes for half of the first client's requests. */
+  labOwnerEmail: "load-lab-owner@load.example",
+  /** A platform admin. */
+  adminEmail: "load-admin@load.example",
 };
 
 /**
@@ -89,7 +108,7 @@ async function seedMarket(c: pg.ClientBase) {
   // g % 5 ∈ {0, 1} → awarded (these get the orders), 2 → open, 3 → draft, 4 → expired or withdrawn.
   await c.query(
     `create temporary table load_requests on commit drop as
-     select g, case when g <= $2 then 1 else 2 + (g % ($3 - 1)) end as client,
+     select g, case when g <= $2 then 1 else 2 + (g % greatest($3 - 1, 1)) end as client,
        case when g % 5 in (0, 1) then 'awarded' when g % 5 = 2 then 'open' when g % 5 = 3 then 'draft'
             when g % 10 = 4 then 'expired' else 'withdrawn' end::request_state as state,
        now() - g * interval '7 minutes' as created_at
@@ -119,6 +138,7 @@ async function seedMarket(c: pg.ClientBase) {
      select row_number() over (order by o.slug) - 1 as n, l.organisation_id as id
      from labs l join organisations o on o.id = l.organisation_id where l.description = 'Synthetic lab for the load lab benchmark'`,
   );
+  await c.query("analyze organisations, memberships, requests, samples, load_requests, load_labs");
   await c.query(
     `insert into quotes (id, request_id, lab_id, state, line_items, total_minor, currency, valid_until, turnaround_days, created_at, decided_at)
      select md5('load-quote-' || r.g)::uuid, md5('load-request-' || r.g)::uuid, ll.id,
@@ -126,15 +146,16 @@ async function seedMarket(c: pg.ClientBase) {
        jsonb_build_array(jsonb_build_object('description', 'Measurement', 'quantity', 1, 'unitMinor', 18000, 'totalMinor', 18000)),
        18000, 'EUR', r.created_at + interval '14 days', 10, r.created_at + interval '2 hours',
        case when r.state = 'awarded' then r.created_at + interval '3 hours' end
-     from load_requests r join load_labs ll on ll.n = r.g % $1
+     from load_requests r join load_labs ll on ll.n = case when r.client = 1 and r.g % 2 = 0 then 0 else r.g % $1 end
      where r.state = 'awarded' or (r.state = 'open' and r.g % 10 = 2)`,
     [LOAD.labs],
   );
+  await c.query("analyze quotes");
   const states = ORDER_STATES.map((s) => `'${s}'`).join(",");
   const delivered = ["data_delivered", "accepted", "paid_out", "disputed", "resolved"].map((s) => `'${s}'`).join(",");
   await c.query(`
-    insert into orders (id, request_id, quote_id, client_organisation_id, lab_id, state, amount_minor, currency, delivered_at, created_at, updated_at)
-    select md5('load-order-' || r.g)::uuid, q.request_id, q.id, rq.organisation_id, q.lab_id,
+    insert into orders (id, request_id, quote_id, client_organisation_id, lab_id, number, state, amount_minor, currency, delivered_at, created_at, updated_at)
+    select md5('load-order-' || r.g)::uuid, q.request_id, q.id, rq.organisation_id, q.lab_id, 'LD' || r.client || '-2026-' || lpad(r.g::text, 7, '0'),
       (array[${states}])[1 + (r.g / 5) % ${ORDER_STATES.length}]::order_state, q.total_minor, q.currency,
       case when (array[${states}])[1 + (r.g / 5) % ${ORDER_STATES.length}] in (${delivered}) then r.created_at + interval '10 days' end,
       r.created_at + interval '3 hours', r.created_at + interval '3 hours'
@@ -142,26 +163,162 @@ async function seedMarket(c: pg.ClientBase) {
     join quotes q on q.id = md5('load-quote-' || r.g)::uuid
     join requests rq on rq.id = q.request_id
     where r.state = 'awarded'`);
+  await c.query("analyze orders");
   await c.query(`
     insert into order_events (order_id, from_state, to_state, note, created_at)
     select id, null::order_state, 'awaiting_payment'::order_state, 'Order placed', created_at from orders where id in (select md5('load-order-' || g)::uuid from load_requests where state = 'awarded')
     union all
     select id, 'awaiting_payment'::order_state, state, 'Seeded for the load run', updated_at from orders
     where state <> 'awaiting_payment' and id in (select md5('load-order-' || g)::uuid from load_requests where state = 'awarded')`);
+  await seedNewerRows(c, hash);
+}
+
+/**
+ * The rows the newer pages read: a lab owner and an admin; a payment per order and the ledger behind it
+ * (money held, payouts and fees for paid-out orders); disputes; an invoice per paid order; messages on every
+ * order and quoted request; a scan with its check on every delivered order; materials with lots, standing
+ * agreements; and audit-log entries.
+ */
+async function seedNewerRows(c: pg.ClientBase, hash: string) {
+  // Fresh statistics inside the transaction, or the planner takes the new tables for empty and nests its loops.
+  await c.query("analyze organisations, memberships, requests, samples, quotes, orders, load_labs");
+  await c.query(`insert into users (email, name, password_hash, is_admin) values ($1, 'Load Lab Owner', $3, false), ($2, 'Load Admin', $3, true)`, [
+    LOAD.labOwnerEmail,
+    LOAD.adminEmail,
+    hash,
+  ]);
+  await c.query(
+    `insert into memberships (user_id, organisation_id, role) select u.id, ll.id, 'owner' from users u, load_labs ll where u.email = $1 and ll.n = 0`,
+    [LOAD.labOwnerEmail],
+  );
+  await c.query(`
+    insert into payments (order_id, method, status, amount_minor, received_minor, currency, payment_intent_id, created_at, updated_at)
+    select id, 'card', case when state = 'awaiting_payment' then 'open' else 'paid' end::payment_status, amount_minor,
+      case when state = 'awaiting_payment' then 0 else amount_minor end, currency, 'pi_load_' || md5(id::text), created_at, created_at + interval '1 hour'
+    from orders`);
+  // Money held for every paid order; a payout (the amount less 8 %) and its fee for the paid-out ones.
+  await c.query(`
+    create temporary table load_tx on commit drop as
+    select o.id as order_id, o.amount_minor as amount, o.currency, o.state, o.created_at,
+      md5('held-' || o.id)::uuid as held_id, md5('payout-' || o.id)::uuid as payout_id, md5('fee-' || o.id)::uuid as fee_id,
+      (o.amount_minor * 8 / 100) as fee
+    from orders o where o.state <> 'awaiting_payment'`);
+  await c.query(`
+    insert into ledger_transactions (id, kind, order_id, currency, provider_object_id, memo, created_at)
+    select held_id, 'payment_held'::ledger_kind, order_id, currency, 'ch_' || order_id, 'Payment held', created_at + interval '1 hour' from load_tx
+    union all
+    select payout_id, 'payout'::ledger_kind, order_id, currency, 'tr_' || order_id, 'Payout', created_at + interval '12 days' from load_tx where state = 'paid_out'
+    union all
+    select fee_id, 'platform_fee'::ledger_kind, order_id, currency, 'fee:tr_' || order_id, 'Platform fee', created_at + interval '12 days' from load_tx where state = 'paid_out'`);
+  await c.query(`
+    insert into ledger_entries (transaction_id, account, amount_minor, currency)
+    select held_id, 'platform_cash', amount, currency from load_tx
+    union all select held_id, 'funds_held', -amount, currency from load_tx
+    union all select payout_id, 'funds_held', amount - fee, currency from load_tx where state = 'paid_out'
+    union all select payout_id, 'platform_cash', -(amount - fee), currency from load_tx where state = 'paid_out'
+    union all select fee_id, 'funds_held', fee, currency from load_tx where state = 'paid_out'
+    union all select fee_id, 'platform_fees', -fee, currency from load_tx where state = 'paid_out'`);
+  await c.query(`
+    insert into disputes (order_id, state, opened_by, reason, created_at, refund_minor, payout_minor, decided_at, decision_reason)
+    select o.id, case when o.state = 'resolved' then 'resolved' else 'open' end::dispute_state, m.user_id,
+      'The scan does not cover the range asked for.', o.delivered_at + interval '2 days',
+      case when o.state = 'resolved' then o.amount_minor / 2 end, case when o.state = 'resolved' then o.amount_minor / 2 end,
+      case when o.state = 'resolved' then o.delivered_at + interval '5 days' end, case when o.state = 'resolved' then 'Split evenly.' end
+    from orders o join memberships m on m.organisation_id = o.client_organisation_id
+    where o.state in ('disputed', 'resolved')`);
+  await c.query(`
+    insert into invoices (kind, number, series, seq, issuer_organisation_id, recipient_organisation_id, order_id, currency, net_minor, tax_minor, total_minor, document, source_key, created_at)
+    select 'invoice', 'INV-LD-' || lpad(row_number() over (order by o.created_at)::text, 7, '0'), 'INV-LD', row_number() over (order by o.created_at),
+      o.lab_id, o.client_organisation_id, o.id, o.currency, o.amount_minor, 0, o.amount_minor,
+      jsonb_build_object('kind', 'invoice', 'number', 'INV-LD-' || lpad(row_number() over (order by o.created_at)::text, 7, '0'),
+        'issueDate', to_char(o.created_at + interval '1 hour', 'YYYY-MM-DD'), 'supplyDate', null, 'currency', o.currency,
+        'seller', jsonb_build_object('name', lo.name, 'address', jsonb_build_array(lo.city, lo.country), 'taxId', null),
+        'buyer', jsonb_build_object('name', co.name, 'address', jsonb_build_array(co.city, co.country), 'taxId', null),
+        'issuedOnBehalfBy', null, 'orderNumber', o.number, 'purchaseOrderNumber', null, 'creditsInvoice', null, 'period', null,
+        'lines', jsonb_build_array(jsonb_build_object('description', 'Measurement', 'quantity', 1, 'unitMinor', o.amount_minor, 'netMinor', o.amount_minor, 'rateBps', 0, 'taxMinor', 0)),
+        'taxPerRate', jsonb_build_array(jsonb_build_object('rateBps', 0, 'netMinor', o.amount_minor, 'taxMinor', 0)),
+        'totals', jsonb_build_object('netMinor', o.amount_minor, 'taxMinor', 0, 'grossMinor', o.amount_minor),
+        'treatment', 'outside_scope', 'notes', '[]'::jsonb),
+      'payment:' || o.id, o.created_at + interval '1 hour'
+    from orders o join organisations lo on lo.id = o.lab_id join organisations co on co.id = o.client_organisation_id
+    where o.state <> 'awaiting_payment'`);
+  // Two messages on every order's thread and on every quoted open request's thread.
+  await c.query(`
+    insert into messages (request_id, lab_id, order_id, author_user_id, author_organisation_id, body, created_at)
+    select o.request_id, o.lab_id, o.id, m.user_id, o.client_organisation_id, 'When do the samples need to arrive?', o.created_at + interval '1 hour'
+    from orders o join memberships m on m.organisation_id = o.client_organisation_id
+    union all
+    select o.request_id, o.lab_id, o.id, null, o.lab_id, 'Any weekday before noon.', o.created_at + interval '2 hours' from orders o
+    union all
+    select q.request_id, q.lab_id, null, m.user_id, r.organisation_id, 'Can you measure down to 5 degrees?', q.created_at + interval '1 hour'
+    from quotes q join requests r on r.id = q.request_id join memberships m on m.organisation_id = r.organisation_id where q.state = 'sent'
+    union all
+    select q.request_id, q.lab_id, null, null, q.lab_id, 'Yes, with the same instrument.', q.created_at + interval '2 hours'
+    from quotes q where q.state = 'sent'`);
+  // A stored scan with a finished check on every delivered order.
+  await c.query(`
+    insert into order_files (id, order_id, sample_id, kind, name, version, size_bytes, content_type, sha256, storage_key, state, scan_format, created_at, stored_at)
+    select md5('file-' || o.id)::uuid, o.id, s.id, 'scan', 'S1.xy', 1, 1200000, 'text/plain', md5(o.id::text) || md5(o.id::text), 'load/' || o.id || '/S1.xy', 'stored', 'xy',
+      o.delivered_at, o.delivered_at
+    from orders o join samples s on s.request_id = o.request_id and s.position = 0
+    where o.delivered_at is not null`);
+  await c.query("analyze orders, payments, ledger_transactions, invoices, messages, order_files");
+  await c.query(`
+    insert into scan_checks (file_id, status, verdict, attempts, created_at, started_at, finished_at)
+    select id, 'done', (array['consistent', 'review', 'inconsistent'])[1 + (hashtext(id::text) & 65535) % 3], 1, stored_at, stored_at, stored_at + interval '2 seconds'
+    from order_files where storage_key like 'load/%'`);
+  // Materials: the first client holds bigClientMaterials, every other two; each with lotsPerMaterial lots.
+  await c.query(
+    `insert into materials (organisation_id, product_code, name, formula, expected_phase, crystal_system, centering, cell_a, cell_b, cell_c, cell_alpha, cell_beta, cell_gamma, acceptance_window, created_at)
+     select o.id, 'P-' || lpad(k::text, 5, '0'), 'Load material ' || k, 'TiO2', 'Anatase', 'tetragonal', 'I', 3.785, 3.785, 9.514, 90, 90, 90,
+       '{"a": {"min": 3.78, "max": 3.79}}'::jsonb, now() - interval '400 days'
+     from organisations o, generate_series(1, case when o.slug = 'load-client-1' then $1 else 2 end) k
+     where o.slug like 'load-client-%'`,
+    [LOAD.bigClientMaterials],
+  );
+  await c.query(
+    `insert into material_lots (material_id, lot_code, measured_at, cell, verdict, within_window, created_at)
+     select m.id, 'L' || lpad(k::text, 4, '0'), m.created_at + k * interval '7 days',
+       jsonb_build_object('a', 3.785 + (k % 7) * 0.0004, 'b', 3.785 + (k % 7) * 0.0004, 'c', 9.514, 'alpha', 90, 'beta', 90, 'gamma', 90),
+       'consistent', (k % 11) <> 0, m.created_at + k * interval '7 days'
+     from materials m, generate_series(1, $1) k`,
+    [LOAD.lotsPerMaterial],
+  );
+  // Standing agreements of the first client with the first lab, on its first ten materials.
+  await c.query(`
+    insert into standing_agreements (number, client_organisation_id, lab_id, material_id, line_items, price_per_lot_minor, currency, turnaround_days, starts_on, ends_on, budget_cap_minor, state, agreed_at)
+    select 'SA-LD-2026-' || row_number() over (order by m.product_code), m.organisation_id, ll.id, m.id,
+      jsonb_build_array(jsonb_build_object('description', 'Measurement', 'quantity', 1, 'unitMinor', 15000, 'totalMinor', 15000)),
+      15000, 'EUR', 10, current_date - 100, current_date + 265, 300000, 'active', now() - interval '100 days'
+    from materials m join organisations o on o.id = m.organisation_id and o.slug = 'load-client-1', load_labs ll
+    where ll.n = 0 and m.product_code <= 'P-00010'`);
+  await c.query(
+    `insert into audit_log (at, actor_user_id, organisation_id, action, subject_type, subject_id, details)
+     select now() - g * interval '3 minutes', m.user_id, m.organisation_id,
+       (array['request_published', 'quote_accepted', 'profile_saved', 'password_changed'])[1 + g % 4], 'request', md5('load-request-' || g), '{}'::jsonb
+     from generate_series(1, $1) g join memberships m on m.organisation_id = (select id from organisations where slug = 'load-client-' || (1 + g % $2))`,
+    [LOAD.auditEntries, LOAD.clients],
+  );
 }
 
 async function counts(c: pg.ClientBase) {
-  const r = await c.query<{ labs: number; requests: number; orders: number }>(
-    `select (select count(*)::int from labs where vetting_state = 'approved') as labs, (select count(*)::int from requests) as requests, (select count(*)::int from orders) as orders`,
+  const r = await c.query<{ labs: number; requests: number; orders: number; messages: number; invoices: number; lots: number }>(
+    `select (select count(*)::int from labs where vetting_state = 'approved') as labs, (select count(*)::int from requests) as requests,
+       (select count(*)::int from orders) as orders, (select count(*)::int from messages) as messages, (select count(*)::int from invoices) as invoices,
+       (select count(*)::int from material_lots) as lots`,
   );
   return r.rows[0];
 }
 
 /** The load database, created, migrated and seeded when missing; reused as it is otherwise. Returns its URL. */
-export async function ensureLoadDatabase({ log = console.log } = {}) {
+export async function ensureLoadDatabase({ log = console.log } = {}): Promise<string> {
   const admin = new pg.Client({ connectionString: databaseUrl("diffractory_test") });
   await admin.connect();
   try {
+    if (await seededBeforeNewerRows()) {
+      log(`${LOAD_DB} was seeded without the newer rows (messages, invoices, lots): seeding it again`);
+      await admin.query(`drop database ${LOAD_DB} with (force)`);
+    }
     const exists = await admin.query("select 1 from pg_database where datname = $1", [LOAD_DB]);
     if (exists.rowCount === 0) {
       const template = await admin.query("select 1 from pg_database where datname = $1", [TEMPLATE_DB]);
@@ -177,7 +334,7 @@ export async function ensureLoadDatabase({ log = console.log } = {}) {
   try {
     const have = await counts(c);
     if (have.labs >= LOAD.labs && have.requests >= LOAD.requests && have.orders >= LOAD.orders) {
-      log(`load database reused: ${have.labs} approved labs, ${have.requests} requests, ${have.orders} orders`);
+      log(`${LOAD_DB} reused: ${describe(have)}`);
       return url;
     }
     if (have.labs || have.requests) throw new Error(`${LOAD_DB} holds partial data (${JSON.stringify(have)}); drop it and run again`);
@@ -188,8 +345,31 @@ export async function ensureLoadDatabase({ log = console.log } = {}) {
     await c.query("commit");
     await c.query("vacuum analyze");
     const now = await counts(c);
-    log(`load database seeded in ${((performance.now() - t0) / 1000).toFixed(1)} s: ${now.labs} approved labs, ${now.requests} requests, ${now.orders} orders`);
+    log(`${LOAD_DB} seeded in ${((performance.now() - t0) / 1000).toFixed(1)} s: ${describe(now)}`);
     return url;
+  } finally {
+    await c.end();
+  }
+}
+
+const describe = (n: Awaited<ReturnType<typeof counts>>) =>
+  `${n.labs} approved labs, ${n.requests} requests, ${n.orders} orders, ${n.messages} messages, ${n.invoices} invoices, ${n.lots} material lots`;
+
+/** A load database seeded by an older version of this file: orders but no messages. */
+async function seededBeforeNewerRows() {
+  const c = new pg.Client({ connectionString: databaseUrl(LOAD_DB) });
+  try {
+    await c.connect();
+  } catch {
+    return false; // no such database yet
+  }
+  try {
+    const r = await c.query<{ old: boolean }>(
+      `select to_regclass('messages') is not null and (select count(*) from orders) > 0 and not exists (select 1 from messages) as old`,
+    );
+    return r.rows[0].old;
+  } catch {
+    return false;
   } finally {
     await c.end();
   }
