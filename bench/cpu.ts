@@ -9,6 +9,7 @@
 // CPU_ENCODING=gzip|br asks for compressed answers, CPU_304=1 also measures a revisit that sends the ETag back,
 // CPU_JSON=file writes the rows, CPU_ROOT runs the server of another checkout (its build/ must be current),
 // BENCH_APP_PORT (default 3292) the port, LOAD_SCALE the data size (bench/seed-load.ts).
+import { queryLogReader } from "./query-log";
 import autocannon from "autocannon";
 import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
@@ -222,16 +223,7 @@ async function cookies(base: string, dbUrl: string): Promise<Record<Who, string>
 async function captureSql(env: NodeJS.ProcessEnv, dbUrl: string, pages: Page[]) {
   const { child, logFile } = await start("capture", ["server/main.ts"], { ...env, DIFFRACTORY_LOG_SQL: "1" });
   const base = `http://127.0.0.1:${PORT}`;
-  let offset = 0;
-  const queriesSince = () => {
-    const text = fs.readFileSync(logFile, "utf8");
-    const lines = text
-      .slice(offset)
-      .split("\n")
-      .filter((l) => l.startsWith("SQL "));
-    offset = text.length;
-    return lines.map((l) => JSON.parse(l.slice(4)) as CapturedQuery);
-  };
+  const queriesSince = queryLogReader(logFile);
   try {
     const jar = await cookies(base, dbUrl);
     await new Promise((r) => setTimeout(r, 200));

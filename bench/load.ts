@@ -6,6 +6,7 @@
 // LOAD_SKIP_BARE=1 skips the bare server, WEB_CONCURRENCY=n runs n app processes (server/cluster.ts),
 // BENCH_APP_PORT / BENCH_BARE_PORT (default 3290 / 3291) the ports. Then the CPU-per-view table of every page
 // (bench/cpu.ts) and its growth with the data (bench/cpu-growth.ts) follow, from `npm run bench:load`.
+import { queryLogReader } from "./query-log";
 import autocannon from "autocannon";
 import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
@@ -14,7 +15,7 @@ import path from "node:path";
 import { root } from "../services/paths";
 import { waitForPort } from "../services/process";
 import { servicesUp } from "../services/up";
-import type { BareSql, CapturedQuery } from "./bare-server";
+import type { BareSql } from "./bare-server";
 import { buildIfNeeded } from "./build";
 import { ensureLoadDatabase, LOAD } from "./seed-load";
 
@@ -80,16 +81,7 @@ async function signIn(base: string) {
 async function captureSql(dbUrl: string): Promise<{ sql: BareSql; cookie: string }> {
   const { child, logFile } = await start("capture", ["server/main.ts"], appEnv(dbUrl, { DIFFRACTORY_LOG_SQL: "1" }), APP_PORT);
   const base = `http://127.0.0.1:${APP_PORT}`;
-  let offset = 0;
-  const queriesSince = () => {
-    const text = fs.readFileSync(logFile, "utf8");
-    const lines = text
-      .slice(offset)
-      .split("\n")
-      .filter((l) => l.startsWith("SQL "));
-    offset = text.length;
-    return lines.map((l) => JSON.parse(l.slice(4)) as CapturedQuery);
-  };
+  const queriesSince = queryLogReader(logFile);
   try {
     queriesSince();
     const cookie = await signIn(base);
