@@ -1,8 +1,7 @@
 // The calibration check of a lab's vetting application: refined cell against the certified one, the verdict and the
 // plot (the same interactive plot as a delivered scan's check).
 import { formulaUnicode } from "~/domain/formula";
-import { FormulaText } from "~/components/symbol-values";
-import { CellSymbol } from "~/components/symbols";
+import { CellSymbol, Formula } from "~/components/symbols";
 import { useMemo } from "react";
 import { CheckPlot, type CheckPlotData } from "./check-plot";
 import { plotCurves, rFactor } from "./check-words";
@@ -74,7 +73,7 @@ export function CalibrationSummary({ check }: { check: CalibrationCheck }) {
           <div key={k} className="contents">
             <dt className="text-ink-500">{rowLabel(k)}</dt>
             <dd className="text-ink-900 tabular-nums">
-              <FormulaText text={v} />
+              <Formula>{v}</Formula>
             </dd>
           </div>
         ))}

@@ -1,6 +1,6 @@
 // The bell in the workspace header: the unread count and latest notifications of the organisation the person works
 // in, read through TanStack Query; other organisations' unread notices are counted, with a switch to each.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useEffect, useRef, useState } from "react";
 import { Form, Link } from "react-router";
@@ -142,7 +142,7 @@ export function NotificationBell() {
                     </span>
                   )}
                   <span className={n.read ? "text-ink-700" : "font-medium text-ink-900"}>
-                    <FormulaText text={n.title} />
+                    <Formula>{n.title}</Formula>
                   </span>
                   <span className="block text-xs text-ink-500">{fmt.dateTime(n.createdAt)}</span>
                 </Link>

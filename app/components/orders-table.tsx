@@ -1,6 +1,6 @@
 // A list of orders with the other party, the amount and the state, for the client's and the lab's screens:
 // sortable by any column but the party, 50 a page (ordersOf reads them all; an organisation has hundreds at most).
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { ORDER_STATES, type OrderState } from "~/domain/order-states";
 import { OrderStateBadge } from "./order-state-badge";
@@ -87,7 +87,7 @@ export function OrdersTable({
             <td className="whitespace-nowrap font-mono text-xs">{o.number}</td>
             <td>
               <Link to={`${hrefBase}/${o.id}`} className="font-medium text-beam-700 hover:underline">
-                <FormulaText text={o.title} />
+                <Formula>{o.title}</Formula>
               </Link>
             </td>
             <td>{o.counterpart}</td>

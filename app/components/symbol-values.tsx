@@ -1,16 +1,9 @@
 // Values written with their symbols (docs/design-system.md, "Symbols"): a declared cell "a 10.33, b 6.01, c 4.69 Å;
-// α 90°, β 90°, γ 90°" with italic cell symbols, an acceptance window "a ± 0.002 Å", and running text (a request's
-// title, a material's name) whose formulas get their subscripts. The stored and sent text stays as it was.
-import { CellSymbol, Formula } from "~/components/symbols";
+// α 90°, β 90°, γ 90°" with italic cell symbols, an acceptance window "a ± 0.002 Å". The stored and sent text stays as it was.
+import { CellSymbol } from "~/components/symbols";
 import { CELL_KEYS, type AcceptanceWindow } from "~/diffraction/phases";
-import { formulaRuns } from "~/domain/formula";
 
 type CellView = Record<"cellA" | "cellB" | "cellC" | "cellAlpha" | "cellBeta" | "cellGamma", number | null>;
-
-/** Running text with its formulas' subscripts; marked as a formula only where it holds one ("Li3PO4 residue"). */
-export function FormulaText({ text }: { text: string }) {
-  return formulaRuns(text).some((r) => r.kind !== "text") ? <Formula>{text}</Formula> : text;
-}
 
 /** A declared cell: "a 10.33, b 6.01, c 4.69 Å; α 90°, β 90°, γ 90°" with the symbols in italics; "—" without one. */
 export function CellValues({ cell: s }: { cell: CellView }) {

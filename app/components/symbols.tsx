@@ -4,11 +4,16 @@
 import type { ReactNode } from "react";
 import { formulaRuns } from "~/domain/formula";
 
-/** A formula, or a phase's name that holds one ("LiFePO4 (olivine)"): counts subscript, charges superscript. */
+/**
+ * A formula, or running text that holds one ("LiFePO4 (olivine)", a request's title): counts subscript, charges
+ * superscript. Text without a formula comes back as it is, unmarked.
+ */
 export function Formula({ children }: { children: string }) {
+  const runs = formulaRuns(children);
+  if (runs.every((r) => r.kind === "text")) return children;
   return (
     <span className="symbol" data-symbol="formula">
-      {formulaRuns(children).map((r, i) => (r.kind === "sub" ? <sub key={i}>{r.text}</sub> : r.kind === "sup" ? <sup key={i}>{r.text}</sup> : r.text))}
+      {runs.map((r, i) => (r.kind === "sub" ? <sub key={i}>{r.text}</sub> : r.kind === "sup" ? <sup key={i}>{r.text}</sup> : r.text))}
     </span>
   );
 }

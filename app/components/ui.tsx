@@ -1,7 +1,7 @@
 // Small building blocks of Diffractory's screens: page headers, fields, badges, empty states.
+import { Formula } from "~/components/symbols";
 import type { ReactNode } from "react";
 import { labelRows, STACKED_TABLE, useStackLabels } from "./stacked-rows";
-import { FormulaText } from "~/components/symbol-values";
 
 export function PageHeader({ title, subtitle, actions }: { title: string; subtitle?: ReactNode; actions?: ReactNode }) {
   // Titles in the display face; a step smaller on a phone so a long order title takes two lines, not five.
@@ -9,7 +9,7 @@ export function PageHeader({ title, subtitle, actions }: { title: string; subtit
     <div className="mb-6 flex flex-wrap items-end justify-between gap-x-6 gap-y-3 border-b border-ink-200 pb-4">
       <div className="min-w-0 basis-80 grow">
         <h1 className="font-display text-2xl font-semibold text-balance break-words text-ink-900 sm:text-title">
-          <FormulaText text={title} />
+          <Formula>{title}</Formula>
         </h1>
         {subtitle ? <p className="mt-1 text-sm text-ink-600">{subtitle}</p> : null}
       </div>

@@ -1,6 +1,6 @@
 // /account/notifications — which milestone e-mails a person receives (only the kinds their roles concern, and
 // whether optional ones come once a day), and their notification list across all their organisations.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { data, Form, useNavigation } from "react-router";
 import { Badge, FormError, PageHeader } from "~/components/ui";
 import type { Actor } from "~/models/accounts/actors.server";
@@ -130,13 +130,13 @@ export default function NotificationSettings({ loaderData, actionData }: Route.C
                     <input type="hidden" name="notification" value={n.id} />
                     {n.href ? <input type="hidden" name="next" value={n.href} /> : null}
                     <button type="submit" className={`text-left hover:underline ${n.read ? "text-ink-700" : "font-medium text-ink-900"}`}>
-                      <FormulaText text={n.title} />
+                      <Formula>{n.title}</Formula>
                     </button>{" "}
                     <span className="text-xs text-ink-500">(switches to {orgName.get(n.organisationId)})</span>
                   </Form>
                 ) : (
                   <a href={n.href || "#"} className={n.read ? "text-ink-700" : "font-medium text-ink-900"}>
-                    <FormulaText text={n.title} />
+                    <Formula>{n.title}</Formula>
                   </a>
                 )}
                 <span className="block text-xs text-ink-500">{fmt.dateTime(n.createdAt)}</span>

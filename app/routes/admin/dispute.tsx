@@ -1,7 +1,7 @@
 // /admin/disputes/:id — one dispute (by its order): both statements with their evidence, the order's files with
 // their checks (and one check's plot on request, audit-logged), the order's timeline and the decision in money.
 // See docs/design.md#disputes.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useMemo, useState } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
@@ -149,7 +149,7 @@ export default function DisputeScreen({ loaderData, actionData }: Route.Componen
         title={`Dispute on order ${order.number}`}
         subtitle={
           <>
-            <FormulaText text={title} />
+            <Formula>{title}</Formula>
             {` — ${clientName} and ${labName} · order total ${fmt.money(order.amountMinor, order.currency)} · held ${fmt.money(heldMinor, order.currency)}`}
           </>
         }

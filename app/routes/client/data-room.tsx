@@ -1,5 +1,5 @@
 // /client/data-room — every delivered file of the organisation's orders, grouped by order.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { FileCheckCell } from "~/components/order-files-table";
 import { EmptyState, PageHeader } from "~/components/ui";
@@ -55,7 +55,7 @@ export default function DataRoom({ loaderData }: Route.ComponentProps) {
                   <div>
                     <h2 id={`order-${o.id}`} className="text-lg font-semibold">
                       <Link to={`/client/data-room/${o.id}`} className="text-beam-700 hover:underline">
-                        <FormulaText text={o.title} />
+                        <Formula>{o.title}</Formula>
                       </Link>
                     </h2>
                     <p className="text-sm text-ink-600">

@@ -1,6 +1,5 @@
 // The client organisation's materials: each product declared once (docs/design.md#materials-and-lots), with its
 // main phase, how many lots are on its record and the last lot's verdict; archived ones on request.
-import { FormulaText } from "~/components/symbol-values";
 import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { CheckStateBadge, WindowBadge } from "~/components/check-status";
@@ -68,7 +67,7 @@ export default function Materials({ loaderData }: Route.ComponentProps) {
               {m.archived ? <Badge tone="neutral">Archived</Badge> : null}
             </td>
             <td>
-              <FormulaText text={m.name} />
+              <Formula>{m.name}</Formula>
             </td>
             <td>
               {m.phase ? <Formula>{m.phase}</Formula> : "—"}

@@ -1,5 +1,5 @@
 // /client/orders/:id — the client's view of an order: payment, timeline, cancel, accept or dispute.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { OrderThread } from "~/components/message-thread";
 import { orderThread, viewThread } from "~/models/messages/messages.server";
 import { requireOrderSide } from "~/utils/permissions.server";
@@ -202,7 +202,7 @@ export default function ClientOrder({ loaderData, actionData }: Route.ComponentP
     <div>
       <p className="mb-2 text-sm">
         <Link to={`/client/requests/${request?.id}`} className="text-beam-700 underline">
-          ← <FormulaText text={request?.title ?? ""} />
+          ← <Formula>{request?.title ?? ""}</Formula>
         </Link>
       </p>
       <PageHeader

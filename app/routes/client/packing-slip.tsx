@@ -1,6 +1,6 @@
 // /client/orders/:id/packing-slip — a printable list of the parcel's samples with their declared hazards, and a
 // parcel label to cut out: the lab's default receiving address (contact, opening hours), the client's as sender.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { requireOrderSide } from "~/utils/permissions.server";
 import { OrderSamples } from "~/components/order-samples";
 import { DiffractionRingsIcon } from "~/components/ui";
@@ -44,7 +44,7 @@ export default function PackingSlip({ loaderData }: Route.ComponentProps) {
         <dd className="font-mono">{orderNumber}</dd>
         <dt className="text-ink-600">Request</dt>
         <dd>
-          <FormulaText text={title} />
+          <Formula>{title}</Formula>
         </dd>
         <dt className="text-ink-600">From</dt>
         <dd>{from}</dd>

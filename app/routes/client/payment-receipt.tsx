@@ -1,6 +1,6 @@
 // /client/payments/:id/receipt — a printable receipt for one payment of the organisation, with what has been refunded
 // since; its reference is the order number and the payment's date (never the payment provider's ids).
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { isUuid } from "~/domain/ids";
 import { DiffractionRingsIcon } from "~/components/ui";
 import { documentsOfOrder } from "~/models/invoices/invoices.server";
@@ -78,7 +78,7 @@ export default function Receipt({ loaderData }: Route.ComponentProps) {
         ) : null}
         <dt className="text-ink-600">For</dt>
         <dd>
-          <FormulaText text={receipt.title} /> — {receipt.lab}
+          <Formula>{receipt.title}</Formula> — {receipt.lab}
         </dd>
         <dt className="text-ink-600">Date</dt>
         <dd>{fmt.dateTime(receipt.at)}</dd>

@@ -1,7 +1,7 @@
 // /client/payments — what the organisation paid, what is held, what came back, with a receipt per payment. Each
 // payment's state comes from the ledger's refunds for its order (docs/design.md#payments-list): paid, partly refunded,
 // refunded, part received (a bank transfer of which part has arrived) or not completed; and how it was paid.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { Badge, EmptyState, PageHeader, TableCard } from "~/components/ui";
 import { paymentsOfClient } from "~/models/orders/queries.server";
@@ -39,7 +39,7 @@ export default function ClientPayments({ loaderData }: Route.ComponentProps) {
               <td>{fmt.date(p.at)}</td>
               <td>
                 <Link to={`/client/orders/${p.orderId}`} className="text-beam-700 hover:underline">
-                  <span className="font-mono text-xs">{p.orderNumber}</span> <FormulaText text={p.title} />
+                  <span className="font-mono text-xs">{p.orderNumber}</span> <Formula>{p.title}</Formula>
                 </Link>
               </td>
               <td>{p.lab}</td>

@@ -1,5 +1,5 @@
 // New request, step 5 (review): everything at a glance, what still blocks publishing, and "Publish request".
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { HazardDeclaration, SampleFacts, WizardSteps } from "~/components/request-parts";
 import { FormError, PageHeader, SafetyNotice } from "~/components/ui";
@@ -44,7 +44,7 @@ export default function RequestReview({ loaderData, actionData }: Route.Componen
   const range = r.rangeMin === null ? "—" : `${r.rangeMin}–${r.rangeMax} ${r.rangeKind === "d_spacing" ? "Å (d-spacing)" : "° 2θ"}`;
   return (
     <div>
-      <PageHeader title="Review and publish" subtitle={<FormulaText text={r.title} />} />
+      <PageHeader title="Review and publish" subtitle={<Formula>{r.title}</Formula>} />
       <WizardSteps requestId={r.id} current="review" reached={r.draftStep} />
       {anyHazardDeclared(samples) ? <SafetyNotice className="mb-6" /> : null}
       <div className="grid gap-4 lg:grid-cols-2">

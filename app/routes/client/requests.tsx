@@ -1,5 +1,5 @@
 // The client organisation's requests, grouped by state, REQUESTS_PAGE_SIZE (25) to a page, with the way to start a new one.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { data, Link } from "react-router";
 import { RequestStateBadge } from "~/components/request-parts";
 import { PageNav } from "~/components/data-table";
@@ -58,7 +58,7 @@ export default function Requests({ loaderData }: Route.ComponentProps) {
                         to={r.state === "draft" ? `/client/requests/${r.id}/edit/${r.draftStep}` : `/client/requests/${r.id}`}
                         className="text-beam-700 underline"
                       >
-                        <FormulaText text={r.title} />
+                        <Formula>{r.title}</Formula>
                       </Link>
                     </td>
                     <td>

@@ -1,7 +1,6 @@
 // An instrument's calibration on record: repeat scans of a certified standard, the schedule, the control charts
 // of deviation, zero shift and profile width, and the table of scans (docs/design.md#calibration-on-record).
-import { FormulaText } from "~/components/symbol-values";
-import { CellSymbol, TwoTheta } from "~/components/symbols";
+import { CellSymbol, TwoTheta, Formula } from "~/components/symbols";
 import { getFormProps, getInputProps, useForm, type SubmissionResult } from "@conform-to/react";
 import { useFormat } from "~/components/locale";
 import type { Formatter } from "~/domain/locale";
@@ -150,9 +149,7 @@ export default function InstrumentCalibration({ loaderData, actionData }: Route.
           {instrument.state === "none" ? (
             "No calibration scan recorded yet."
           ) : (
-            <FormulaText
-              text={`${scans.length} ${scans.length === 1 ? "scan" : "scans"} on record, standard ${standardLabel(instrument.standard)}. Next scan due ${instrument.dueAt ? fmt.date(instrument.dueAt) : "—"} (every ${instrument.intervalDays} days).`}
-            />
+            <Formula>{`${scans.length} ${scans.length === 1 ? "scan" : "scans"} on record, standard ${standardLabel(instrument.standard)}. Next scan due ${instrument.dueAt ? fmt.date(instrument.dueAt) : "—"} (every ${instrument.intervalDays} days).`}</Formula>
           )}
         </p>
         {withdrawn ? <p className="mt-2 font-medium text-danger-700">{withdrawn}. Record a passing calibration scan to bring it back.</p> : null}
@@ -226,7 +223,7 @@ export default function InstrumentCalibration({ loaderData, actionData }: Route.
                 <tr key={s.id}>
                   <td>{fmt.date(s.measuredAt)}</td>
                   <td>
-                    <FormulaText text={standardLabel(s.standard)} />
+                    <Formula>{standardLabel(s.standard)}</Formula>
                   </td>
                   <td className="break-all">{s.fileName}</td>
                   <td>{s.deviationA === null ? "—" : signedAngstrom(s.deviationA)}</td>
@@ -274,7 +271,7 @@ function ScanForm({ instrumentId, standard, actionData }: { instrumentId: string
             <label key={key} className="flex gap-2 text-sm">
               <input type="radio" name={fields.standard.name} value={key} defaultChecked={fields.standard.initialValue === key} />
               <span>
-                <FormulaText text={CALIBRATION_STANDARDS[key].label} /> (certified <CellSymbol name="a" /> = {CALIBRATION_STANDARDS[key].a} Å)
+                <Formula>{CALIBRATION_STANDARDS[key].label}</Formula> (certified <CellSymbol name="a" /> = {CALIBRATION_STANDARDS[key].a} Å)
               </span>
             </label>
           ))}

@@ -1,5 +1,5 @@
 // The lab's inbox: open requests its instruments and hazard acceptance fit, and requests it was invited to.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { PageNav, SortableTable } from "~/components/data-table";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
@@ -114,7 +114,7 @@ export default function LabInbox({ loaderData }: Route.ComponentProps) {
               <tr key={i.id}>
                 <td className="font-medium">
                   <Link to={`/lab/requests/${i.id}`} className="text-beam-700 underline">
-                    <FormulaText text={i.title} />
+                    <Formula>{i.title}</Formula>
                   </Link>
                   <div className="mt-1 flex gap-1">
                     {i.invited ? <Badge tone="brand">invited</Badge> : null}

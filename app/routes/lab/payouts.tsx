@@ -1,5 +1,5 @@
 // /lab/payouts — the lab's payout account (onboarding at the payment provider) and the payouts it received.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
 import { findLab } from "~/models/labs/vetting.server";
@@ -80,7 +80,7 @@ export default function Payouts({ loaderData, actionData }: Route.ComponentProps
               <td>
                 {p.orderId ? (
                   <Link to={`/lab/orders/${p.orderId}`} className="text-beam-700 underline">
-                    <span className="font-mono text-xs">{p.orderNumber}</span> <FormulaText text={p.title} />
+                    <span className="font-mono text-xs">{p.orderNumber}</span> <Formula>{p.title}</Formula>
                   </Link>
                 ) : (
                   "—"

@@ -1,5 +1,5 @@
 // The lab's quotes with their state; lapsed ones are marked before the list is read.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { QuoteStateBadge } from "~/components/request-parts";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
@@ -36,7 +36,7 @@ export default function LabQuotes({ loaderData }: Route.ComponentProps) {
             <tr key={q.id}>
               <td className="font-medium">
                 <Link to={`/lab/requests/${q.requestId}`} className="text-beam-700 underline">
-                  <FormulaText text={q.requestTitle} />
+                  <Formula>{q.requestTitle}</Formula>
                 </Link>
               </td>
               <td>{fmt.money(q.totalMinor, q.currency)}</td>

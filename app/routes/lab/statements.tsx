@@ -1,6 +1,6 @@
 // /lab/statements — the lab's payout statements per month (UTC): the payouts of each month with their orders, what
 // the client paid, refunds, the platform fee and what the lab received, as PDF and CSV, and the month's fee invoices.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { useFormat } from "~/components/locale";
 import { EmptyState, PageHeader, TableCard } from "~/components/ui";
@@ -111,7 +111,7 @@ export default function Statements({ loaderData }: Route.ComponentProps) {
             {statement.rows.map((r) => (
               <tr key={`${r.orderNumber}-${r.paidAt}`}>
                 <td>
-                  <span className="font-mono text-xs">{r.orderNumber}</span> <FormulaText text={r.title} />
+                  <span className="font-mono text-xs">{r.orderNumber}</span> <Formula>{r.title}</Formula>
                 </td>
                 <td className="font-mono text-xs">{r.purchaseOrderNumber ?? "—"}</td>
                 <td className="whitespace-nowrap">{fmt.date(r.paidAt)}</td>

@@ -1,6 +1,5 @@
 // The lab's vetting application: accreditation evidence, radiation-licence attestation and a calibration scan of a standard.
-import { FormulaText } from "~/components/symbol-values";
-import { CellSymbol } from "~/components/symbols";
+import { CellSymbol, Formula } from "~/components/symbols";
 import { getFormProps, getInputProps, getTextareaProps, useForm } from "@conform-to/react";
 import { DateField } from "~/components/date-field";
 import { parseWithZod } from "@conform-to/zod/v4";
@@ -256,7 +255,7 @@ function ApplicationForm({ application, actionData }: { application: Application
                 <input type="radio" name={fields.standard.name} value={key} defaultChecked={fields.standard.initialValue === key} className="mt-1" />
                 <span>
                   <span className="block font-semibold">
-                    <FormulaText text={CALIBRATION_STANDARDS[key].label} />
+                    <Formula>{CALIBRATION_STANDARDS[key].label}</Formula>
                   </span>
                   <span className="block text-xs text-ink-600">
                     certified <CellSymbol name="a" /> = {CALIBRATION_STANDARDS[key].a} Å

@@ -1,6 +1,5 @@
 // A lab's public profile: instruments with the d-spacings they reach, stages, hazards accepted, prices.
-import { FormulaText } from "~/components/symbol-values";
-import { TwoTheta } from "~/components/symbols";
+import { TwoTheta, Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { Badge, PageHeader, SafetyNotice, TableCard } from "~/components/ui";
 import { dSpacingCoverage } from "~/domain/coverage";
@@ -96,7 +95,7 @@ export default function LabProfile({ loaderData }: Route.ComponentProps) {
               {i.accuracy.length
                 ? i.accuracy.map((t) => (
                     <span key={t} className="block">
-                      <FormulaText text={t} />
+                      <Formula>{t}</Formula>
                     </span>
                   ))
                 : "No calibration scans on record"}

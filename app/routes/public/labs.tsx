@@ -1,5 +1,5 @@
 // The public lab directory: filters kept in the URL, results fetched from /api/labs with TanStack Query.
-import { FormulaText } from "~/components/symbol-values";
+import { Formula } from "~/components/symbols";
 import { keepPreviousData, useQuery } from "@tanstack/react-query";
 import { Link, useSearchParams } from "react-router";
 import { EmptyState, PageHeader } from "~/components/ui";
@@ -236,7 +236,7 @@ export default function LabDirectory({ loaderData }: Route.ComponentProps) {
                           <ul>
                             {lab.accuracy.map((a) => (
                               <li key={`${a.instrumentName}-${a.standard}`}>
-                                {a.instrumentName} — <FormulaText text={a.text} />
+                                {a.instrumentName} — <Formula>{a.text}</Formula>
                               </li>
                             ))}
                           </ul>
