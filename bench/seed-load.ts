@@ -244,17 +244,17 @@ async function seedNewerRows(c: pg.ClientBase, hash: string) {
     where o.state <> 'awaiting_payment'`);
   // Two messages on every order's thread and on every quoted open request's thread.
   await c.query(`
-    insert into messages (request_id, lab_id, order_id, author_user_id, author_organisation_id, body, created_at)
-    select o.request_id, o.lab_id, o.id, m.user_id, o.client_organisation_id, 'When do the samples need to arrive?', o.created_at + interval '1 hour'
+    insert into messages (request_id, lab_id, client_organisation_id, order_id, author_user_id, author_organisation_id, body, created_at)
+    select o.request_id, o.lab_id, o.client_organisation_id, o.id, m.user_id, o.client_organisation_id, 'When do the samples need to arrive?', o.created_at + interval '1 hour'
     from orders o join memberships m on m.organisation_id = o.client_organisation_id
     union all
-    select o.request_id, o.lab_id, o.id, null, o.lab_id, 'Any weekday before noon.', o.created_at + interval '2 hours' from orders o
+    select o.request_id, o.lab_id, o.client_organisation_id, o.id, null, o.lab_id, 'Any weekday before noon.', o.created_at + interval '2 hours' from orders o
     union all
-    select q.request_id, q.lab_id, null, m.user_id, r.organisation_id, 'Can you measure down to 5 degrees?', q.created_at + interval '1 hour'
+    select q.request_id, q.lab_id, r.organisation_id, null, m.user_id, r.organisation_id, 'Can you measure down to 5 degrees?', q.created_at + interval '1 hour'
     from quotes q join requests r on r.id = q.request_id join memberships m on m.organisation_id = r.organisation_id where q.state = 'sent'
     union all
-    select q.request_id, q.lab_id, null, null, q.lab_id, 'Yes, with the same instrument.', q.created_at + interval '2 hours'
-    from quotes q where q.state = 'sent'`);
+    select q.request_id, q.lab_id, r.organisation_id, null, null, q.lab_id, 'Yes, with the same instrument.', q.created_at + interval '2 hours'
+    from quotes q join requests r on r.id = q.request_id where q.state = 'sent'`);
   // A stored scan with a finished check on every delivered order.
   await c.query(`
     insert into order_files (id, order_id, sample_id, kind, name, version, size_bytes, content_type, sha256, storage_key, state, scan_format, created_at, stored_at)

@@ -1322,6 +1322,10 @@ export const messages = pgTable(
     labId: uuid("lab_id")
       .notNull()
       .references(() => labs.organisationId, { onDelete: "cascade" }),
+    /** The request's client organisation, kept beside the lab so that either side's unread count is one index read. */
+    clientOrganisationId: uuid("client_organisation_id")
+      .notNull()
+      .references(() => organisations.id, { onDelete: "cascade" }),
     orderId: uuid("order_id").references(() => orders.id, { onDelete: "cascade" }),
     authorUserId: uuid("author_user_id").references(() => users.id, { onDelete: "set null" }),
     authorOrganisationId: uuid("author_organisation_id").references(() => organisations.id, { onDelete: "set null" }),
@@ -1332,7 +1336,12 @@ export const messages = pgTable(
     attachmentContentType: text("attachment_content_type"),
     createdAt: createdAt(),
   },
-  (t) => [index("messages_request_lab_idx").on(t.requestId, t.labId, t.createdAt), index("messages_order_idx").on(t.orderId, t.createdAt)],
+  (t) => [
+    index("messages_request_lab_idx").on(t.requestId, t.labId, t.createdAt),
+    index("messages_order_idx").on(t.orderId, t.createdAt),
+    index("messages_lab_created_idx").on(t.labId, t.createdAt),
+    index("messages_client_created_idx").on(t.clientOrganisationId, t.createdAt),
+  ],
 );
 
 /** How far each person has read each thread ("request:<requestId>:<labId>" or "order:<orderId>"): unread counts. */

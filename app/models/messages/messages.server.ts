@@ -229,6 +229,7 @@ export async function postMessage(t: Thread, author: { userId: string; organisat
       .values({
         requestId: t.requestId,
         labId: t.labId,
+        clientOrganisationId: t.clientOrganisationId,
         orderId: t.orderId,
         authorUserId: author.userId,
         authorOrganisationId: author.organisationId,
@@ -281,7 +282,6 @@ export async function unreadThreads(userId: string, organisationId: string): Pro
       unread: count(),
     })
     .from(schema.messages)
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.messages.requestId))
     .leftJoin(schema.messageReads, and(eq(schema.messageReads.userId, userId), eq(schema.messageReads.threadKey, keySql)))
     .where(unreadFor(organisationId))
     .groupBy(keySql, schema.messages.requestId, schema.messages.labId, schema.messages.orderId);
@@ -291,7 +291,8 @@ export async function unreadThreads(userId: string, organisationId: string): Pro
 /** Messages the person has not read: written by the other side of a thread of the organisation, after the person last read it. */
 const unreadFor = (organisationId: string) =>
   and(
-    or(eq(schema.messages.labId, organisationId), eq(schema.requests.organisationId, organisationId)),
+    // Either side's messages are one index read (messages_lab_created_idx, messages_client_created_idx).
+    or(eq(schema.messages.labId, organisationId), eq(schema.messages.clientOrganisationId, organisationId)),
     or(isNull(schema.messages.authorOrganisationId), ne(schema.messages.authorOrganisationId, organisationId)),
     or(isNull(schema.messageReads.lastReadAt), gt(schema.messages.createdAt, schema.messageReads.lastReadAt)),
   );
@@ -307,7 +308,6 @@ export async function unreadTotals(userId: string, organisationId: string) {
       orders: sql<number>`count(*) filter (where ${schema.messages.orderId} is not null)::int`,
     })
     .from(schema.messages)
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.messages.requestId))
     .leftJoin(schema.messageReads, and(eq(schema.messageReads.userId, userId), eq(schema.messageReads.threadKey, keySql)))
     .where(unreadFor(organisationId));
   const requests = Number(row?.requests ?? 0);
