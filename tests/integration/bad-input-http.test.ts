@@ -452,6 +452,13 @@ describe("bad input on the wire is refused with a sentence and changes nothing",
     expect(await cacheOf("/labs", "")).toBeNull();
     expect(await cacheOf("/api/labs", "")).toBe("public, max-age=30");
     expect(await cacheOf("/api/labs")).toBe("public, max-age=30");
+    // No validator on a signed-in answer: with no-store a browser never revalidates, and an ETag there would
+    // only invite a 304 path that cannot be used (docs/decisions/015-no-conditional-gets-for-private-pages.md).
+    for (const page of ["/client/requests", "/client/requests.data"]) {
+      const answer = await fetch(`${base}${page}`, { headers: { Cookie: client } });
+      expect(answer.headers.get("etag"), page).toBeNull();
+      await answer.arrayBuffer();
+    }
   });
 
   // The attack as sent: 50 MB bodies to an address anyone may post to, and to a signed-in JSON address, declared
