@@ -193,25 +193,10 @@ describe("seeded counting noise", () => {
   });
 });
 
-describe("speed", () => {
-  it("a 70k-point scan takes well under a second", () => {
-    // Warm, best of three: other test files share the machine.
-    const timed = (options: SimulationOptions) => {
-      let n = simulatePattern(options).twoTheta.length;
-      let ms = Number.POSITIVE_INFINITY;
-      for (let i = 0; i < 3; i++) {
-        const t0 = performance.now();
-        n = simulatePattern(options).twoTheta.length;
-        ms = Math.min(ms, performance.now() - t0);
-      }
-      return { ms, n };
-    };
+describe("a long scan", () => {
+  it("5–145° at 0.002° is 70,001 points (its speed is measured in bench/kernels.ts, not here)", () => {
     const common = { radiation: CU_DOUBLET, twoThetaMin: 5, twoThetaMax: 145, step: 0.002, noise: { seed: 3 }, background: { constant: 100 } };
-    const olivine = timed({ structure: STRUCTURES.lithiumIronPhosphate, ...common });
-    const monoclinic = timed({ cell: { a: 10, b: 12, c: 15, alpha: 90, beta: 105, gamma: 90 }, system: "monoclinic", centering: "P", ...common });
-    expect(olivine.n).toBe(70_001);
-    expect(olivine.ms).toBeLessThan(500);
-    expect(monoclinic.ms).toBeLessThan(500);
+    expect(simulatePattern({ structure: STRUCTURES.lithiumIronPhosphate, ...common }).twoTheta.length).toBe(70_001);
   });
 });
 
