@@ -1,12 +1,12 @@
 // Reading orders: the timeline, an organisation's side of an order, its order list and the shipment; the
 // payments, payouts and disputes the order screens list.
-import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, lte, or, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { db, schema } from "~/db/client.server";
 import { isUuid } from "~/domain/ids";
 import type { OrderState } from "~/domain/order-states";
 import { paymentStanding } from "~/domain/payment-standing";
-import { heldForOrder } from "~/models/payments/ledger.server";
+import { ACCOUNTS, heldForOrder } from "~/models/payments/ledger.server";
 
 export async function orderTimeline(orderId: string) {
   return db
@@ -105,30 +105,108 @@ export async function disputeOf(orderId: string) {
   return row;
 }
 
-/** Every dispute, newest first, with its order, the request's title, both parties' names and who opened it. */
-export async function disputesWithOrders() {
+/** How many disputes the admin's list shows to a page. */
+export const DISPUTES_PAGE_SIZE = 20;
+
+/** How many disputes are open and how many resolved. */
+export async function disputeCountsByState() {
+  const rows = await db.select({ state: schema.disputes.state, n: sql<number>`count(*)::int` }).from(schema.disputes).groupBy(schema.disputes.state);
+  return Object.fromEntries(rows.map((r) => [r.state, r.n])) as Partial<Record<(typeof rows)[number]["state"], number>>;
+}
+
+/**
+ * One page of disputes, open ones first, then resolved ones, each newest first (oldest first with
+ * `dir: "asc"`), with its order, the request's title, both parties' names and who opened it.
+ */
+export async function disputesWithOrders(page: { limit: number; offset: number; dir?: "asc" | "desc" }) {
   const labOrg = alias(schema.organisations, "lab_org");
-  return db
-    .select({
-      dispute: schema.disputes,
-      order: schema.orders,
-      title: schema.requests.title,
-      client: schema.organisations.name,
-      lab: labOrg.name,
-      openedBy: schema.users.name,
-    })
-    .from(schema.disputes)
-    .innerJoin(schema.orders, eq(schema.orders.id, schema.disputes.orderId))
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.clientOrganisationId))
-    .innerJoin(labOrg, eq(labOrg.id, schema.orders.labId))
-    .leftJoin(schema.users, eq(schema.users.id, schema.disputes.openedBy))
-    .orderBy(desc(schema.disputes.openedAt));
+  const by = page.dir === "asc" ? asc : desc;
+  return (
+    db
+      .select({
+        dispute: schema.disputes,
+        order: schema.orders,
+        title: schema.requests.title,
+        client: schema.organisations.name,
+        lab: labOrg.name,
+        openedBy: schema.users.name,
+      })
+      .from(schema.disputes)
+      .innerJoin(schema.orders, eq(schema.orders.id, schema.disputes.orderId))
+      .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
+      .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.clientOrganisationId))
+      .innerJoin(labOrg, eq(labOrg.id, schema.orders.labId))
+      .leftJoin(schema.users, eq(schema.users.id, schema.disputes.openedBy))
+      // The enum's order puts "open" before "resolved"; the id keeps equal times in one order from page to page.
+      .orderBy(asc(schema.disputes.state), by(schema.disputes.openedAt), by(schema.disputes.id))
+      .limit(page.limit)
+      .offset(page.offset)
+  );
 }
 
 /** What is still held for the order (minor units of its currency), read outside any transaction. */
 export function heldMoneyOf(orderId: string) {
   return heldForOrder(db, orderId);
+}
+
+/** What is still held for each of the given orders, in one query (as heldForOrder per order); 0 for an order with nothing. */
+export async function heldMoneyOfOrders(orderIds: string[]): Promise<Map<string, number>> {
+  const held = new Map<string, number>(orderIds.map((id) => [id, 0]));
+  if (orderIds.length === 0) return held;
+  const rows = await db
+    .select({ orderId: schema.ledgerTransactions.orderId, held: sql<string>`coalesce(-sum(${schema.ledgerEntries.amountMinor}), 0)` })
+    .from(schema.ledgerEntries)
+    .innerJoin(schema.ledgerTransactions, eq(schema.ledgerTransactions.id, schema.ledgerEntries.transactionId))
+    .where(and(inArray(schema.ledgerTransactions.orderId, orderIds), eq(schema.ledgerEntries.account, ACCOUNTS.held)))
+    .groupBy(schema.ledgerTransactions.orderId);
+  for (const r of rows) if (r.orderId) held.set(r.orderId, Number(r.held));
+  return held;
+}
+
+/**
+ * The timelines of the given orders in one query, oldest event first, grouped by order: the whole timeline of
+ * the orders in `whole`, the last `last` events of the others; with each order's number of events.
+ */
+export async function orderTimelines(orderIds: string[], { whole, last }: { whole: string[]; last: number }) {
+  const timelines = new Map<string, { rows: Awaited<ReturnType<typeof orderTimeline>>; total: number }>(orderIds.map((id) => [id, { rows: [], total: 0 }]));
+  if (orderIds.length === 0) return timelines;
+  const ranked = db
+    .select({
+      id: schema.orderEvents.id,
+      orderId: schema.orderEvents.orderId,
+      fromState: schema.orderEvents.fromState,
+      toState: schema.orderEvents.toState,
+      note: schema.orderEvents.note,
+      at: schema.orderEvents.at,
+      actorUserId: schema.orderEvents.actorUserId,
+      fromEnd: sql<number>`row_number() over (partition by ${schema.orderEvents.orderId} order by ${schema.orderEvents.id} desc)`.as("from_end"),
+      total: sql<number>`(count(*) over (partition by ${schema.orderEvents.orderId}))::int`.as("total"),
+    })
+    .from(schema.orderEvents)
+    .where(inArray(schema.orderEvents.orderId, orderIds))
+    .as("ranked");
+  const rows = await db
+    .select({
+      id: ranked.id,
+      orderId: ranked.orderId,
+      fromState: ranked.fromState,
+      toState: ranked.toState,
+      note: ranked.note,
+      at: ranked.at,
+      actor: schema.users.name,
+      total: ranked.total,
+    })
+    .from(ranked)
+    .leftJoin(schema.users, eq(schema.users.id, ranked.actorUserId))
+    .where(whole.length ? or(lte(ranked.fromEnd, last), inArray(ranked.orderId, whole)) : lte(ranked.fromEnd, last))
+    .orderBy(asc(ranked.orderId), asc(ranked.id));
+  for (const { orderId, total, ...event } of rows) {
+    const t = timelines.get(orderId);
+    if (!t) continue;
+    t.rows.push(event);
+    t.total = total;
+  }
+  return timelines;
 }
 
 /**
@@ -176,8 +254,29 @@ export async function payoutsOfLab(labId: string) {
   }));
 }
 
-/** The client organisation's paid and unfinished payments, newest first, each with what has been refunded on its order. */
-export async function paymentsOfClient(organisationId: string) {
+/** How many payments the client's payments list shows to a page. */
+export const PAYMENTS_PAGE_SIZE = 25;
+
+/** Paid and unfinished payments are listed; failed and expired checkout attempts are not. */
+const listedPayment = (organisationId: string) =>
+  and(eq(schema.orders.clientOrganisationId, organisationId), inArray(schema.payments.status, ["paid", "open"]));
+
+/** How many payments the client organisation's list holds. */
+export async function paymentCountOfClient(organisationId: string): Promise<number> {
+  const [row] = await db
+    .select({ n: sql<number>`count(*)::int` })
+    .from(schema.payments)
+    .innerJoin(schema.orders, eq(schema.orders.id, schema.payments.orderId))
+    .where(listedPayment(organisationId));
+  return row?.n ?? 0;
+}
+
+/**
+ * One page of the client organisation's paid and unfinished payments, newest first (oldest first with
+ * `dir: "asc"`), each with what has been refunded on its order.
+ */
+export async function paymentsOfClient(organisationId: string, page: { limit: number; offset: number; dir?: "asc" | "desc" }) {
+  const by = page.dir === "asc" ? asc : desc;
   const payments = await db
     .select({
       id: schema.payments.id,
@@ -196,8 +295,10 @@ export async function paymentsOfClient(organisationId: string) {
     .innerJoin(schema.orders, eq(schema.orders.id, schema.payments.orderId))
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
     .innerJoin(schema.organisations, eq(schema.organisations.id, schema.orders.labId))
-    .where(and(eq(schema.orders.clientOrganisationId, organisationId), inArray(schema.payments.status, ["paid", "open"])))
-    .orderBy(desc(schema.payments.updatedAt));
+    .where(listedPayment(organisationId))
+    .orderBy(by(schema.payments.updatedAt), by(schema.payments.id))
+    .limit(page.limit)
+    .offset(page.offset);
   const orderIds = [...new Set(payments.map((p) => p.orderId))];
   const refunds = orderIds.length
     ? await db

@@ -1,4 +1,6 @@
-// /admin/disputes — open and settled disputes, and the decision form for one: a split of the held money.
+// /admin/disputes — open and settled disputes, open ones first, DISPUTES_PAGE_SIZE (20) to a page read in SQL, and the
+// decision form for each open one: a split of the held money. An open dispute shows its order's whole timeline, a
+// decided one its last few events; every dispute's page (/admin/disputes/:id) shows all of it.
 import { parseWithZod } from "@conform-to/zod/v4";
 import { useEffect } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
@@ -8,7 +10,7 @@ import type { Verdict } from "~/diffraction/verdict";
 import { OrderTimeline } from "~/components/order-timeline";
 import { Badge, EmptyState, Field, FormError, PageHeader } from "~/components/ui";
 import { filesWithVerdicts } from "~/models/files/files.server";
-import { disputesWithOrders, heldMoneyOf, orderTimeline } from "~/models/orders/queries.server";
+import { DISPUTES_PAGE_SIZE, disputeCountsByState, disputesWithOrders, heldMoneyOfOrders, orderTimelines } from "~/models/orders/queries.server";
 import { toMinorUnits } from "~/domain/money";
 import { PaymentProblem } from "~/models/payments/provider.server";
 import { platformFeeOnPart } from "~/domain/money";
@@ -18,41 +20,63 @@ import { redirectWithToast } from "~/utils/toast.server";
 import { readForm } from "~/utils/form.server";
 import type { Route } from "./+types/disputes";
 import { useFormat } from "~/components/locale";
+import { PageNav } from "~/components/data-table";
+import { pageOf, readTableQuery, type TableSpec } from "~/utils/table";
+
+const TABLE: TableSpec<"opened"> = { sorts: ["opened"], defaultSort: "opened", firstDir: { opened: "desc" }, pageSize: DISPUTES_PAGE_SIZE };
+/** A decided dispute shows the last few events of its order's timeline here; its page shows the whole. */
+const DECIDED_TIMELINE_EVENTS = 3;
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireAdmin(request);
-  const rows = await disputesWithOrders();
-  // The lab's side: what it delivered, with each scan's check verdict, and its notes on the order's timeline.
-  const files = await filesWithVerdicts(rows.map((r) => r.order.id));
-  const disputes = await Promise.all(
-    rows.map(async (r) => {
-      const heldMinor = await heldMoneyOf(r.order.id);
-      const refundHalf = Math.round(heldMinor / 2);
-      return {
-        orderId: r.order.id,
-        orderNumber: r.order.number,
-        title: r.title,
-        client: r.client,
-        lab: r.lab,
-        openedBy: r.openedBy,
-        files: files.filter((f) => f.orderId === r.order.id).map((f) => ({ name: f.name, version: f.version, verdict: f.verdict as Verdict | null })),
-        timeline: (await orderTimeline(r.order.id)).map((e) => ({ ...e, at: e.at.toISOString() })),
-        state: r.dispute.state,
-        reason: r.dispute.reason,
-        labStatement: r.dispute.labStatement,
-        openedAt: r.dispute.openedAt,
-        currency: r.order.currency,
-        amountMinor: r.order.amountMinor,
-        heldMinor,
-        feeBps: r.order.platformFeeBps,
-        // What the lab would get from an even split, as an example beside the form.
-        halfSplitPayoutMinor: heldMinor - refundHalf - platformFeeOnPart(heldMinor - refundHalf, r.order),
-        decision:
-          r.dispute.state === "resolved" ? { refundMinor: r.dispute.refundMinor, payoutMinor: r.dispute.payoutMinor, reason: r.dispute.decisionReason } : null,
-      };
-    }),
-  );
-  return { disputes };
+  const q = readTableQuery(request, TABLE);
+  const counts = await disputeCountsByState();
+  // Open disputes first, then decided ones, newest first; a page past the end shows the last page.
+  const info = pageOf((counts.open ?? 0) + (counts.resolved ?? 0), q);
+  const rows = await disputesWithOrders({ limit: info.pageSize, offset: info.offset, dir: q.dir });
+  const orderIds = rows.map((r) => r.order.id);
+  // The page's disputes only, in three queries: the lab's side (what it delivered, with each scan's check verdict),
+  // the money still held, and the timelines with the lab's notes (whole for an open dispute, to decide it here).
+  const [files, held, timelines] = await Promise.all([
+    filesWithVerdicts(orderIds),
+    heldMoneyOfOrders(orderIds),
+    orderTimelines(orderIds, { whole: rows.filter((r) => r.dispute.state === "open").map((r) => r.order.id), last: DECIDED_TIMELINE_EVENTS }),
+  ]);
+  const filesOf = new Map<string, { name: string; version: number; verdict: Verdict | null }[]>();
+  for (const f of files) {
+    const list = filesOf.get(f.orderId) ?? [];
+    list.push({ name: f.name, version: f.version, verdict: f.verdict as Verdict | null });
+    filesOf.set(f.orderId, list);
+  }
+  const disputes = rows.map((r) => {
+    const heldMinor = held.get(r.order.id) ?? 0;
+    const refundHalf = Math.round(heldMinor / 2);
+    const timeline = timelines.get(r.order.id) ?? { rows: [], total: 0 };
+    return {
+      orderId: r.order.id,
+      orderNumber: r.order.number,
+      title: r.title,
+      client: r.client,
+      lab: r.lab,
+      openedBy: r.openedBy,
+      files: filesOf.get(r.order.id) ?? [],
+      timeline: timeline.rows.map((e) => ({ ...e, at: e.at.toISOString() })),
+      timelineEvents: timeline.total,
+      state: r.dispute.state,
+      reason: r.dispute.reason,
+      labStatement: r.dispute.labStatement,
+      openedAt: r.dispute.openedAt,
+      currency: r.order.currency,
+      amountMinor: r.order.amountMinor,
+      heldMinor,
+      feeBps: r.order.platformFeeBps,
+      // What the lab would get from an even split, as an example beside the form.
+      halfSplitPayoutMinor: heldMinor - refundHalf - platformFeeOnPart(heldMinor - refundHalf, r.order),
+      decision:
+        r.dispute.state === "resolved" ? { refundMinor: r.dispute.refundMinor, payoutMinor: r.dispute.payoutMinor, reason: r.dispute.decisionReason } : null,
+    };
+  });
+  return { disputes, info, open: counts.open ?? 0, decided: counts.resolved ?? 0 };
 }
 
 const Decision = z.object({
@@ -73,12 +97,14 @@ export async function action({ request, context }: Route.ActionArgs) {
       return data({ orderId, result: submission.reply({ formErrors: [err.message] }) }, { status: err.status === 400 ? 400 : 409 });
     throw err;
   }
-  return redirectWithToast("/admin/disputes", { kind: "success", message: "Dispute decided; the refund and payout are under way." });
+  // Back to the page the decision was made on (a page past the end shows the last one).
+  const back = new URLSearchParams([...new URL(request.url).searchParams].filter(([k]) => ["page", "sort", "dir"].includes(k))).toString();
+  return redirectWithToast(`/admin/disputes${back ? `?${back}` : ""}`, { kind: "success", message: "Dispute decided; the refund and payout are under way." });
 }
 
 export default function Disputes({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { disputes } = loaderData;
+  const { disputes, info, open, decided } = loaderData;
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
   const settling = busy ? navigation.formData?.get("orderId") : null;
@@ -90,7 +116,10 @@ export default function Disputes({ loaderData, actionData }: Route.ComponentProp
   }, [actionData]);
   return (
     <div>
-      <PageHeader title="Disputes" subtitle="The money of a disputed order stays held until you decide how to split it." />
+      <PageHeader
+        title="Disputes"
+        subtitle={`The money of a disputed order stays held until you decide how to split it. ${fmt.number(open)} open, ${fmt.number(decided)} decided.`}
+      />
       {disputes.length === 0 ? (
         <EmptyState title="No disputes">Disputes opened by clients on delivered data appear here.</EmptyState>
       ) : (
@@ -138,9 +167,18 @@ export default function Disputes({ loaderData, actionData }: Route.ComponentProp
                     <p className="mt-2 text-sm text-ink-600">No files delivered.</p>
                   )}
                   <details className="mt-3 text-sm">
-                    <summary className="cursor-pointer font-medium text-beam-700">The order's timeline, with the lab's notes</summary>
+                    <summary className="cursor-pointer font-medium text-beam-700">
+                      {d.timeline.length < d.timelineEvents
+                        ? `The last ${d.timeline.length} of ${d.timelineEvents} events on the order's timeline, with the lab's notes`
+                        : "The order's timeline, with the lab's notes"}
+                    </summary>
                     <div className="mt-3">
                       <OrderTimeline rows={d.timeline} />
+                      {d.timeline.length < d.timelineEvents ? (
+                        <Link to={`/admin/disputes/${d.orderId}`} className="mt-2 inline-block text-beam-700 underline">
+                          The whole timeline on the dispute's page
+                        </Link>
+                      ) : null}
                     </div>
                   </details>
                 </section>
@@ -193,6 +231,7 @@ export default function Disputes({ loaderData, actionData }: Route.ComponentProp
           ))}
         </ul>
       )}
+      <PageNav info={info} noun={["dispute", "disputes"]} />
     </div>
   );
 }
