@@ -66,11 +66,18 @@ export function WindowBadge({ withinWindow }: { withinWindow?: boolean | null })
 }
 
 /**
+ * On the server a badge shows the status it was given, as the query would (nothing polls there): a query per badge
+ * in a throwaway cache cost a list of files more than the rest of its row. In the browser it is the live query.
+ */
+const useBadgeStatus: (checkId: string, initial?: CheckStatusJson) => { data: CheckStatusJson | undefined; error: Error | null } =
+  typeof document === "undefined" ? (_checkId, initial) => ({ data: initial, error: null }) : useCheckStatus;
+
+/**
  * The live status of one check for a file list: polls while the check is queued or running, links to the
  * check screen when it is done, and shows the engine's sentence when the scan could not be read.
  */
 export function CheckStatusBadge({ checkId, initial, link = true }: { checkId: string; initial?: CheckStatusJson; link?: boolean }) {
-  const { data, error } = useCheckStatus(checkId, initial);
+  const { data, error } = useBadgeStatus(checkId, initial);
   if (!data) {
     return (
       <span className="text-xs text-ink-600" role="status">

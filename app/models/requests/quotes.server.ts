@@ -1,5 +1,5 @@
 // Quotes: drafted from the lab's price list, sent after the hazard acknowledgement, withdrawn, lapsed, accepted.
-import { and, asc, desc, eq, inArray, lt, ne } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, lt, ne, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { MarketRequest, PriceList, QuoteLineItem, Sample } from "~/db/schema";
 import { notify } from "~/models/notifications/outbox.server";
@@ -12,6 +12,7 @@ import { AWAITING_RECONFIRMATION } from "~/domain/request-revisions";
 import { acknowledgementOf, isUuid } from "~/models/requests/requests.server";
 import type { PurchaseOrder } from "~/models/orders/purchase-orders.server";
 import { PO_REQUIRED } from "~/domain/purchase-orders";
+import { pageOf, type TableQuery } from "~/utils/table";
 
 /** Line items a quote starts from: per sample by technique, extra temperature points, preparation, hazardous handling. */
 export function draftLineItems(request: Pick<MarketRequest, "technique" | "temperaturePointsK">, samples: Sample[], prices: PriceList | null): QuoteLineItem[] {
@@ -83,12 +84,12 @@ export async function vettingStateOf(labId: string) {
   return row?.state ?? null;
 }
 
-/** Marks every sent quote whose validity has passed as lapsed; returns how many changed. */
-export async function lapseExpiredQuotes(now = new Date()) {
+/** Marks every sent quote (of one lab, when given) whose validity has passed as lapsed; returns how many changed. */
+export async function lapseExpiredQuotes(now = new Date(), labId?: string) {
   const lapsed = await db
     .update(schema.quotes)
     .set({ state: "lapsed", decidedAt: now })
-    .where(and(eq(schema.quotes.state, "sent"), lt(schema.quotes.validUntil, now)))
+    .where(and(labId ? eq(schema.quotes.labId, labId) : undefined, eq(schema.quotes.state, "sent"), lt(schema.quotes.validUntil, now)))
     .returning({ id: schema.quotes.id });
   return lapsed.length;
 }
@@ -236,6 +237,31 @@ export async function quotesForLab(labId: string) {
     .where(eq(schema.quotes.labId, labId))
     .orderBy(desc(schema.quotes.sentAt));
   return rows.map(withSource);
+}
+
+export const LAB_QUOTES_PAGE_SIZE = 25;
+
+/**
+ * One page of a lab's quotes with their requests' titles, newest first (oldest first with `dir` asc), and how many
+ * quotes the lab has in all: the page's rows only are read (limit/offset), a page past the end gives the last page.
+ */
+export async function quotesPageForLab(labId: string, q: Pick<TableQuery, "page" | "pageSize" | "dir">) {
+  // The lab's own quotes only: the (lab, state) index finds them, where every lab's would be read otherwise.
+  await lapseExpiredQuotes(new Date(), labId);
+  const [{ total }] = await db.select({ total: sql<number>`count(*)::int` }).from(schema.quotes).where(eq(schema.quotes.labId, labId));
+  const info = pageOf(total, q);
+  const rows = await db
+    .select({ ...quoteColumns, requestTitle: schema.requests.title })
+    .from(schema.quotes)
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.quotes.labId))
+    .innerJoin(schema.requests, eq(schema.requests.id, schema.quotes.requestId))
+    .leftJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
+    .where(eq(schema.quotes.labId, labId))
+    // The id breaks ties so that a quote never shows on two pages.
+    .orderBy(q.dir === "asc" ? asc(schema.quotes.sentAt) : desc(schema.quotes.sentAt), asc(schema.quotes.id))
+    .limit(info.pageSize)
+    .offset(info.offset);
+  return { quotes: rows.map(withSource), ...info };
 }
 
 export type AcceptResult = { ok: true; orderId: string } | { ok: false; error: string };
