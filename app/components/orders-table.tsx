@@ -1,10 +1,10 @@
 // A list of orders with the other party, the amount and the state, for the client's and the lab's screens:
-// sortable by any column but the party, 50 a page (ordersOf reads them all; an organisation has hundreds at most).
+// sortable by any column but the party, 50 a page, sorted and paged in SQL (ordersPage in models/orders/queries.server.ts).
 import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
-import { ORDER_STATES, type OrderState } from "~/domain/order-states";
+import type { OrderState } from "~/domain/order-states";
 import { OrderStateBadge } from "./order-state-badge";
-import { sortAndPage, type PageInfo, type SortDir, type TableQuery, type TableSpec } from "~/utils/table";
+import type { PageInfo, SortDir, TableSpec } from "~/utils/table";
 import { PageNav, SortableTable } from "./data-table";
 import { useFormat } from "./locale";
 import { Badge } from "./ui";
@@ -25,27 +25,13 @@ export interface OrderRow {
   due?: { at: string | null } & DueStatus;
 }
 
-type OrderSort = "number" | "title" | "amount" | "state" | "updated" | "due";
+export type OrderSort = "number" | "title" | "amount" | "state" | "updated" | "due";
 export const ORDERS_TABLE: TableSpec<OrderSort> = {
   sorts: ["number", "title", "amount", "state", "updated", "due"],
   defaultSort: "updated",
   firstDir: { updated: "desc", amount: "desc" },
   pageSize: 50,
 };
-
-/** One page of orders in the asked order; states sort in the order an order moves through them. */
-export function pageOfOrders<T extends OrderRow>(orders: T[], q: TableQuery<OrderSort>) {
-  return sortAndPage(orders, q, {
-    number: (o) => o.number,
-    title: (o) => o.title,
-    // Amounts in different currencies are not compared by value: currency first, then amount.
-    amount: (o) => `${o.currency}${String(o.amountMinor).padStart(12, "0")}`,
-    state: (o) => ORDER_STATES.indexOf(o.state),
-    updated: (o) => new Date(o.updatedAt).getTime(),
-    // Orders without a due date (samples not yet arrived) and delivered ones come after those still owed.
-    due: (o) => (o.due?.at && o.due.kind !== "none" ? Date.parse(o.due.at) : null),
-  });
-}
 
 export function OrdersTable({
   orders,

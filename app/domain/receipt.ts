@@ -65,7 +65,9 @@ export function dueDateFrom(receivedAt: Date, turnaroundDays: number): Date {
 }
 
 /** The states in which a due date still binds the lab (the data is not yet delivered). */
-const OWING_STATES = new Set(["samples_received", "measuring"]);
+/** The states in which the lab still owes the data: a due date counts only in these. */
+export const OWING_STATES = ["samples_received", "measuring"] as const;
+const owing = new Set<string>(OWING_STATES);
 
 export interface DueStatus {
   /** "overdue", "today" (within a day), "soon" (within two days), "on_time", or "none" (no due date, or delivered). */
@@ -76,7 +78,7 @@ export interface DueStatus {
 /** Whether an order is late, in words: "Overdue by 3 days", "Due within a day", "Due in 5 days". */
 export function dueStatus(dueAt: Date | string | null | undefined, state: string, now = new Date()): DueStatus {
   if (!dueAt) return { kind: "none", words: "No due date yet (set when the samples arrive)" };
-  if (!OWING_STATES.has(state)) return { kind: "none", words: "Data delivered" };
+  if (!owing.has(state)) return { kind: "none", words: "Data delivered" };
   const left = new Date(dueAt).getTime() - now.getTime();
   const days = (ms: number) => Math.max(1, Math.ceil(ms / DAY_MS));
   if (left < 0) {

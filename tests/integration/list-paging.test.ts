@@ -1,6 +1,6 @@
 // Paging in SQL of the lab's quotes and the client's data room on the real PostgreSQL: a page of 25 with the
 // total, the next page with the next rows, a page past the end gives the last page, a bad page number a 400
-// with a sentence; the data room reads only orders with files the client may see.
+// with a sentence; the data room reads only orders with files the client may see; orders sort and page in SQL.
 import { count, eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { db, schema } from "~/db/client.server";
@@ -9,6 +9,9 @@ import { DATA_ROOM_PAGE_SIZE } from "~/models/files/data-room.server";
 import { LAB_QUOTES_PAGE_SIZE } from "~/models/requests/quotes.server";
 import { loader as dataRoomLoader } from "~/routes/client/data-room";
 import { loader as labQuotesLoader } from "~/routes/lab/quotes";
+import { loader as clientOrdersLoader } from "~/routes/client/orders";
+import { loader as workQueueLoader } from "~/routes/lab/work-queue";
+import { ORDER_STATES, type OrderState } from "~/domain/order-states";
 import { callRoute, getRequest, sessionCookies } from "./route-call";
 
 const as = sessionCookies();
@@ -183,5 +186,59 @@ describe("the data room", () => {
       expect(answer.status, bad).toBe(400);
       expect((answer.body as { message: string }).message).toBe("The page number must be a whole number from 1.");
     }
+  });
+});
+
+describe("orders, client and lab side, sorted and paged in SQL", () => {
+  type Listed = {
+    orders: { id: string; number: string; state: string; amountMinor: number; title: string }[];
+    info: { total: number; pageCount: number; page: number };
+  };
+  const clientList = async (query = "") => (await callRoute(clientOrdersLoader, getRequest(`/client/orders${query}`, await as(CLIENT)))).body as Listed;
+  const labList = async (query = "") => (await callRoute(workQueueLoader, getRequest(`/lab/work-queue${query}`, await as(GRANITE)))).body as Listed;
+  const everyPage = async (list: (q: string) => Promise<Listed>, query: string) => {
+    const first = await list(query);
+    const all = [...first.orders];
+    for (let page = 2; page <= first.info.pageCount; page++) all.push(...(await list(`${query}&page=${page}`)).orders);
+    return { first, all };
+  };
+  const STATES = ["funds_held", "samples_received", "measuring", "data_delivered", "paid_out"] as const;
+
+  it("more orders than ever fitted one read (250): every one reachable, in the asked order across pages", async () => {
+    const quotes = await quotedRequests(250, "Paging order");
+    await db.insert(schema.orders).values(
+      quotes.map((q, i) => ({
+        requestId: q.requestId,
+        quoteId: q.id,
+        clientOrganisationId: clientId,
+        labId: graniteId,
+        number: `PAGING-${String(i).padStart(4, "0")}`,
+        state: STATES[i % STATES.length],
+        amountMinor: 10_000 + ((i * 37) % 250),
+        currency: "EUR",
+        dueAt: minute(1000 + ((i * 53) % 250)),
+        updatedAt: minute(i),
+      })),
+    );
+    const [{ n }] = await db.select({ n: count() }).from(schema.orders).where(eq(schema.orders.clientOrganisationId, clientId));
+    // Newest change first by default: the last inserted first.
+    const byUpdated = await everyPage(clientList, "?sort=updated");
+    expect(byUpdated.first.info.total).toBe(n);
+    expect(byUpdated.all).toHaveLength(n);
+    expect(new Set(byUpdated.all.map((o) => o.id)).size).toBe(n);
+    const mine = byUpdated.all.filter((o) => o.number.startsWith("PAGING-")).map((o) => o.number);
+    expect(mine).toEqual(Array.from({ length: 250 }, (_, i) => `PAGING-${String(249 - i).padStart(4, "0")}`));
+    // By amount, largest first, across all pages (one currency here).
+    const byAmount = (await everyPage(clientList, "?sort=amount&dir=desc")).all.filter((o) => o.number.startsWith("PAGING-"));
+    expect(byAmount.map((o) => o.amountMinor)).toEqual([...byAmount.map((o) => o.amountMinor)].sort((a, b) => b - a));
+    // By state, in the order an order moves through them.
+    const byState = (await everyPage(clientList, "?sort=state&dir=asc")).all;
+    const ranks = byState.map((o) => ORDER_STATES.indexOf(o.state as OrderState));
+    expect(ranks).toEqual([...ranks].sort((a, b) => a - b));
+    // The lab's work queue: by due date, the owed ones (samples received, measuring) first, soonest first.
+    const due = (await everyPage(labList, "?sort=due&dir=asc")).all as unknown as { state: string; due: { at: string | null; kind: string } }[];
+    const owed = due.filter((o) => o.due.kind !== "none");
+    expect(due.slice(0, owed.length).every((o) => o.due.kind !== "none")).toBe(true);
+    expect(owed.map((o) => o.due.at)).toEqual([...owed.map((o) => o.due.at)].sort());
   });
 });

@@ -1,10 +1,13 @@
 // Reading orders: the timeline, an organisation's side of an order, its order list and the shipment; the
 // payments, payouts and disputes the order screens list.
-import { and, asc, desc, eq, inArray, lte, or, sql } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, lte, or, type SQL, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { db, schema } from "~/db/client.server";
 import { isUuid } from "~/domain/ids";
-import type { OrderState } from "~/domain/order-states";
+import { ORDER_STATES, type OrderState } from "~/domain/order-states";
+import { OWING_STATES } from "~/domain/receipt";
+import type { OrderSort } from "~/components/orders-table";
+import { pageOf, type TableQuery } from "~/utils/table";
 import { paymentStanding } from "~/domain/payment-standing";
 import { ACCOUNTS, heldForOrder } from "~/models/payments/ledger.server";
 
@@ -37,28 +40,56 @@ export async function orderForOrganisation(orderId: string, organisationId: stri
   return null;
 }
 
-/** An organisation's orders, newest change first, with the other party's name: the lab for a client, the client for a lab. */
-export async function ordersOf(side: "client" | "lab", organisationId: string, limit = 200) {
+/**
+ * One page of an organisation's orders, with the other party's name (the lab for a client, the client for a lab),
+ * sorted in SQL as the orders table asks (app/components/orders-table.tsx); one count and one page of rows.
+ */
+export async function ordersPage(side: "client" | "lab", organisationId: string, q: TableQuery<OrderSort>) {
   const own = side === "client" ? schema.orders.clientOrganisationId : schema.orders.labId;
   const other = side === "client" ? schema.orders.labId : schema.orders.clientOrganisationId;
-  return db
+  const [{ n }] = await db.select({ n: sql<number>`count(*)::int` }).from(schema.orders).where(eq(own, organisationId));
+  const info = pageOf(n, q);
+  const d = (e: SQL) => (q.dir === "asc" ? sql`${e} asc` : sql`${e} desc`);
+  const o = schema.orders;
+  const byKey: Record<OrderSort, SQL[]> = {
+    number: [d(sql`${o.number}`)],
+    title: [d(sql`lower(${schema.requests.title})`)],
+    // Amounts in different currencies are not compared by value: currency first, then amount.
+    amount: [d(sql`${o.currency}`), d(sql`${o.amountMinor}`)],
+    // States in the order an order moves through them.
+    state: [d(sql`array_position(${sql.raw(`ARRAY[${ORDER_STATES.map((st) => `'${st}'`).join(",")}]::text[]`)}, ${o.state}::text)`)],
+    updated: [d(sql`${o.updatedAt}`)],
+    // Orders without a due date, and those no longer owed (delivered), come last either way.
+    due: [
+      sql`${d(
+        sql`case when ${o.state} in (${sql.join(
+          OWING_STATES.map((st) => sql`${st}`),
+          sql`, `,
+        )}) then ${o.dueAt} end`,
+      )} nulls last`,
+    ],
+  };
+  const rows = await db
     .select({
-      id: schema.orders.id,
-      number: schema.orders.number,
-      state: schema.orders.state,
-      amountMinor: schema.orders.amountMinor,
-      currency: schema.orders.currency,
-      updatedAt: schema.orders.updatedAt,
-      dueAt: schema.orders.dueAt,
+      id: o.id,
+      number: o.number,
+      state: o.state,
+      amountMinor: o.amountMinor,
+      currency: o.currency,
+      updatedAt: o.updatedAt,
+      dueAt: o.dueAt,
       title: schema.requests.title,
       counterpart: schema.organisations.name,
     })
-    .from(schema.orders)
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
+    .from(o)
+    .innerJoin(schema.requests, eq(schema.requests.id, o.requestId))
     .innerJoin(schema.organisations, eq(schema.organisations.id, other))
     .where(eq(own, organisationId))
-    .orderBy(desc(schema.orders.updatedAt))
-    .limit(limit);
+    // Ties keep the newest change first, then a fixed order, so a row never moves between pages.
+    .orderBy(...byKey[q.sort], desc(o.updatedAt), asc(o.id))
+    .limit(info.pageSize)
+    .offset(info.offset);
+  return { rows, info };
 }
 
 export async function shipmentOf(orderId: string) {

@@ -1,8 +1,8 @@
 // /client/orders — the organisation's orders with their state, lab and amount.
 import { Link } from "react-router";
-import { ORDERS_TABLE, OrdersTable, pageOfOrders } from "~/components/orders-table";
+import { ORDERS_TABLE, OrdersTable } from "~/components/orders-table";
 import { EmptyState, PageHeader } from "~/components/ui";
-import { ordersOf } from "~/models/orders/queries.server";
+import { ordersPage } from "~/models/orders/queries.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { readTableQuery } from "~/utils/table";
 import type { Route } from "./+types/orders";
@@ -10,8 +10,8 @@ import type { Route } from "./+types/orders";
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "client");
   const q = readTableQuery(request, ORDERS_TABLE);
-  const { rows, sort, dir, ...info } = pageOfOrders(await ordersOf("client", membership.organisation.id), q);
-  return { orders: rows, sort, dir, info };
+  const { rows, info } = await ordersPage("client", membership.organisation.id, q);
+  return { orders: rows, sort: q.sort, dir: q.dir, info };
 }
 
 export default function ClientOrders({ loaderData }: Route.ComponentProps) {

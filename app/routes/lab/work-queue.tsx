@@ -1,8 +1,8 @@
 // /lab/work-queue — the lab's orders, from paid and waiting for samples to delivered, most recent first.
 import { Link } from "react-router";
-import { ORDERS_TABLE, OrdersTable, pageOfOrders } from "~/components/orders-table";
+import { ORDERS_TABLE, OrdersTable } from "~/components/orders-table";
 import { EmptyState, PageHeader } from "~/components/ui";
-import { ordersOf } from "~/models/orders/queries.server";
+import { ordersPage } from "~/models/orders/queries.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import { readTableQuery } from "~/utils/table";
 import { dueStatus } from "~/domain/receipt";
@@ -12,12 +12,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
   const q = readTableQuery(request, ORDERS_TABLE);
   const now = new Date();
-  const orders = (await ordersOf("lab", membership.organisation.id)).map(({ dueAt, ...o }) => ({
-    ...o,
-    due: { at: dueAt?.toISOString() ?? null, ...dueStatus(dueAt, o.state, now) },
-  }));
-  const { rows, sort, dir, ...info } = pageOfOrders(orders, q);
-  return { orders: rows, sort, dir, info };
+  const { rows, info } = await ordersPage("lab", membership.organisation.id, q);
+  const orders = rows.map(({ dueAt, ...o }) => ({ ...o, due: { at: dueAt?.toISOString() ?? null, ...dueStatus(dueAt, o.state, now) } }));
+  return { orders, sort: q.sort, dir: q.dir, info };
 }
 
 export default function WorkQueue({ loaderData }: Route.ComponentProps) {
