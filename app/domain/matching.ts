@@ -96,7 +96,7 @@ export interface LabMatch {
 }
 
 /** A measurement at room temperature in air needs no stage (common practice: 293–303 K counts as ambient). */
-const AMBIENT_K: [number, number] = [293, 303];
+export const AMBIENT_K: [number, number] = [293, 303];
 /**
  * An element fluoresces under a source when its K edge lies below the source's Kα1 energy; the effect is
  * strong when the edge is close below (iron 7.112 keV under copper 8.048 keV). Edges more than 2.5 keV

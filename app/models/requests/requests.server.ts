@@ -9,7 +9,7 @@ import { DOCUMENT_RULE, presignDownload, verifyStoredObject, type UploadRule } f
 import { notify } from "~/models/notifications/outbox.server";
 import { audit } from "~/models/audit.server";
 import { parseFormula } from "~/domain/formula";
-import { inLabInbox, labsMatchingRequest, loadMatchLabs, loadMatchRequest } from "~/models/labs/matching.server";
+import { anyLabFits, inLabInbox, labsMatchingRequest, loadMatchLabs, loadMatchRequest } from "~/models/labs/matching.server";
 import { matchLab, whyNoLabFits } from "~/domain/matching";
 import { declaresHazard } from "~/domain/hazards";
 import {
@@ -410,6 +410,8 @@ export async function noLabCanMeasure(request: MarketRequest): Promise<string | 
   const wanted = await loadMatchRequest(request.id);
   if (!wanted) return null;
   const invited = request.visibility === "invited" ? await invitedLabIds(request.id) : null;
+  // Whether one fits is answered in SQL over classes of equal instruments; every lab is loaded only to say why none does.
+  if (await anyLabFits(request.id, invited ?? undefined)) return null;
   const labs = (await loadMatchLabs()).filter((l) => !invited || invited.includes(l.id));
   if (labs.some((l) => matchLab(wanted, l).fits)) return null;
   const who = invited ? "None of the invited labs" : "No approved lab";

@@ -4,9 +4,11 @@ import { MatchReasons } from "~/components/match-reasons";
 import { MessageThread } from "~/components/message-thread";
 import { requestThreadForClient, requestThreadsOfClient, viewThread } from "~/models/messages/messages.server";
 import { OrderStateBadge, QuoteStateBadge, RequestStateBadge, SampleCards } from "~/components/request-parts";
-import { Badge, EmptyState, FormError, PageHeader, SafetyNotice } from "~/components/ui";
+import { Badge, EmptyState, FormError, PageHeader, SafetyNotice, TableCard } from "~/components/ui";
 import { anyHazardDeclared } from "~/components/order-samples";
-import { matchLabsForRequest, quoteJudgementsForRequest } from "~/models/labs/matching.server";
+import { fittingLabsPage, quoteJudgementsForRequest } from "~/models/labs/matching.server";
+import { PageNav } from "~/components/data-table";
+import { readTableQuery, type TableSpec } from "~/utils/table";
 import { acceptQuote, orderForRequest, quotesForRequest } from "~/models/requests/quotes.server";
 import { noLabCanMeasure, samplesOf, sdsLinks } from "~/models/requests/requests.server";
 import { repeatRequest, revisionsOf, withdrawRequest } from "~/models/requests/request-life.server";
@@ -25,16 +27,20 @@ import { taxDecisionsFor } from "~/models/invoices/tax.server";
 import { taxLineText, taxOn } from "~/domain/vat";
 import type { TaxTreatment } from "~/domain/invoice-document";
 
+/** The labs that fit, a page at a time in the matching order (fitting labs by name): `?page=<n>`. */
+const MATCHES: TableSpec<"name"> = { sorts: ["name"], defaultSort: "name", firstDir: {}, pageSize: 10 };
+
 export async function loader({ request, params }: Route.LoaderArgs) {
   const actor = await requireOrgRole(request, "client");
   const { user, membership } = actor;
   const row = await requireOwnRequest(params.id, membership.organisation.id, { request, actor });
   if (row.state === "draft") throw redirect(`/client/requests/${row.id}/edit/${row.draftStep}`);
+  const matchQuery = readTableQuery(request, MATCHES);
   // Each quote card is judged by the instrument the quote names; the labs' matches judge each lab as a whole.
-  const [samples, quotes, matches, judgements, order, revisions] = await Promise.all([
+  const [samples, quotes, { matches, info: matchInfo }, judgements, order, revisions] = await Promise.all([
     samplesOf(row.id),
     quotesForRequest(row.id),
-    matchLabsForRequest(row.id),
+    fittingLabsPage(row.id, matchQuery),
     quoteJudgementsForRequest(row.id),
     orderForRequest(row.id),
     revisionsOf(row.id),
@@ -45,7 +51,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const found = chosen ? await requestThreadForClient(row.id, membership.organisation.id, chosen) : null;
   const conversation = found ? { lab: found.lab, ...(await viewThread(user.id, membership.organisation.id, found.thread)) } : null;
   // An edit after publishing can rule every lab out; the page says so rather than waiting for quotes that cannot come.
-  const noLab = row.state === "open" ? await noLabCanMeasure(row) : null;
+  // A request open to every lab that has a fitting lab on its first page needs no second look.
+  const noLab = row.state === "open" && !(row.visibility === "open" && matchInfo.total > 0) ? await noLabCanMeasure(row) : null;
   // Quotes in other currencies: said plainly per card, with an indicative conversion at the latest admin-set rate.
   const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
   const currencies = [...new Set([row.currency, ...live.map((q) => q.currency)])];
@@ -68,6 +75,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     samples,
     quotes,
     matches,
+    matchInfo,
     judgements,
     order,
     revisions,
@@ -115,7 +123,22 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ClientRequest({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { request: r, samples, quotes, judgements, order, revisions, sds, threads, conversation, noLab, currencyNotes, requiresPurchaseOrder } = loaderData;
+  const {
+    request: r,
+    samples,
+    quotes,
+    matches,
+    matchInfo,
+    judgements,
+    order,
+    revisions,
+    sds,
+    threads,
+    conversation,
+    noLab,
+    currencyNotes,
+    requiresPurchaseOrder,
+  } = loaderData;
   const slugOf = new Map(threads.map((t) => [t.labId, t.slug]));
   const navigation = useNavigation();
   const live = quotes.filter((q) => q.state === "sent" || q.state === "accepted");
@@ -288,6 +311,39 @@ export default function ClientRequest({ loaderData, actionData }: Route.Componen
           Also received: {past.map((q) => `${q.labName} (${q.state}, ${fmt.money(q.totalMinor, q.currency)})`).join("; ")}.
         </p>
       ) : null}
+
+      <section className="mt-8" aria-label="Matching labs">
+        <h2 className="mb-3 text-lg font-semibold">Matching labs</h2>
+        {matchInfo.total === 0 ? (
+          <p className="text-sm text-ink-600">No approved lab's instruments and hazard acceptance fit this request as it now reads.</p>
+        ) : (
+          <>
+            <p className="mb-2 text-sm text-ink-600">
+              Labs whose instruments and hazard acceptance fit your samples and needs; estimates are from their price lists.
+            </p>
+            <TableCard columns={["Lab", "Instrument", "Estimate", "Turnaround"]} caption="Matching labs">
+              {matches.map((m) => (
+                <tr key={m.labId}>
+                  <td>
+                    <Link to={`/labs/${m.labSlug}`} className="text-beam-700 underline">
+                      {m.labName}
+                    </Link>
+                    {m.warnings.map((w) => (
+                      <p key={w} className="text-xs text-caution-700">
+                        {w}
+                      </p>
+                    ))}
+                  </td>
+                  <td>{m.instrumentName ? `${m.instrumentName} (${m.source})` : "—"}</td>
+                  <td>{m.estimatedPriceMinor !== null && m.currency ? fmt.money(m.estimatedPriceMinor, m.currency) : "—"}</td>
+                  <td>{m.turnaroundDays !== null ? `${m.turnaroundDays} days` : "—"}</td>
+                </tr>
+              ))}
+            </TableCard>
+          </>
+        )}
+        <PageNav info={matchInfo} noun={["matching lab", "matching labs"]} />
+      </section>
 
       <section className="mt-8" aria-label="Questions from labs">
         <h2 className="mb-3 text-lg font-semibold">Questions from labs</h2>

@@ -3,15 +3,14 @@ import { Formula } from "~/components/symbols";
 import { Link } from "react-router";
 import { PageNav, SortableTable } from "~/components/data-table";
 import { Badge, EmptyState, PageHeader } from "~/components/ui";
-import { requestsMatchingLab } from "~/models/labs/matching.server";
-import { quoteStatesOfLab, vettingStateOf } from "~/models/requests/quotes.server";
-import { requestsWithClients } from "~/models/requests/requests.server";
+import { type InboxSort, labInboxPage } from "~/models/labs/matching.server";
+import { vettingStateOf } from "~/models/requests/quotes.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/inbox";
 import { useFormat } from "~/components/locale";
-import { pageOf, readTableQuery, sortAndPage, type TableSpec } from "~/utils/table";
+import { pageOf, readTableQuery, type TableSpec } from "~/utils/table";
 
-const TABLE: TableSpec<"title" | "client" | "estimate" | "deadline" | "opened"> = {
+const TABLE: TableSpec<InboxSort> = {
   sorts: ["title", "client", "estimate", "deadline", "opened"],
   defaultSort: "opened",
   firstDir: { opened: "desc" },
@@ -24,41 +23,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   const q = readTableQuery(request, TABLE);
   const vetting = await vettingStateOf(labId);
   if (vetting !== "approved") return { vetting, items: [], sort: q.sort, dir: q.dir, info: pageOf(0, q) };
-  const found = await requestsMatchingLab(labId);
-  const ids = found.map((f) => f.requestId);
-  const rows = await requestsWithClients(ids);
-  const quoted = await quoteStatesOfLab(labId, ids);
-  const byId = new Map(rows.map((r) => [r.id, r]));
-  const quotedIds = new Set(quoted.filter((q) => q.state === "sent").map((q) => q.requestId));
-  const items = found.flatMap((f) => {
-    const row = byId.get(f.requestId);
-    if (!row) return [];
-    return [
-      {
-        ...row,
-        invited: f.invited,
-        fits: f.match.fits,
-        estimate: f.match.estimatedPriceMinor,
-        currency: f.match.currency,
-        warnings: f.match.warnings.length,
-        quoted: quotedIds.has(row.id),
-      },
-    ];
-  });
-  // Matching is computed per request, so the list is sorted and paged here rather than in SQL.
-  const {
-    rows: page,
-    sort,
-    dir,
-    ...info
-  } = sortAndPage(items, q, {
-    title: (i) => i.title,
-    client: (i) => i.client,
-    estimate: (i) => (i.estimate === null ? null : `${i.currency}${String(i.estimate).padStart(12, "0")}`),
-    deadline: (i) => i.deadline,
-    opened: (i) => i.openedAt,
-  });
-  return { vetting, items: page, sort, dir, info };
+  // Only the page's requests are read: the matching and the paging run in SQL over classes of equal needs (labInboxPage).
+  const { items, info } = await labInboxPage(labId, q);
+  return { vetting, items, sort: q.sort, dir: q.dir, info };
 }
 
 export default function LabInbox({ loaderData }: Route.ComponentProps) {
