@@ -82,10 +82,18 @@ function snip(values: Float64Array, window: number): Float64Array {
   for (let i = 0; i < n; i++) v[i] = forward(values[i] + offset);
   let next = new Float64Array(n);
   for (let p = Math.min(window, Math.floor((n - 1) / 2)); p >= 1; p--) {
-    for (let i = 0; i < n; i++) {
-      // Near the ends the window shrinks to what is there.
-      const q = Math.min(p, i, n - 1 - i);
-      const mean = q === 0 ? v[i] : 0.5 * (v[i - q] + v[i + q]);
+    // Near the ends the window shrinks to what is there: q = i below p, n − 1 − i above n − 1 − p (p ≤ (n − 1)/2).
+    for (let i = 0; i < p; i++) {
+      const mean = i === 0 ? v[0] : 0.5 * (v[0] + v[2 * i]);
+      next[i] = mean < v[i] ? mean : v[i];
+    }
+    for (let i = p; i <= n - 1 - p; i++) {
+      const mean = 0.5 * (v[i - p] + v[i + p]);
+      next[i] = mean < v[i] ? mean : v[i];
+    }
+    for (let i = n - p; i < n; i++) {
+      const q = n - 1 - i;
+      const mean = q === 0 ? v[i] : 0.5 * (v[i - q] + v[n - 1]);
       next[i] = mean < v[i] ? mean : v[i];
     }
     [v, next] = [next, v];

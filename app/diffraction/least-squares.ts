@@ -218,6 +218,9 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
   const gradient = new Float64Array(n);
   const freeGradient = new Float64Array(n);
   const frozen = new Uint8Array(n);
+  const nonzero = new Int32Array(n);
+  // The trial parameters; swapped with p when the step is taken.
+  let trial = new Float64Array(n);
   problem.evaluate(p, r, J);
   let chi2 = sumSquares(r);
   let lambda = 1e-3;
@@ -229,7 +232,7 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
   while (iterations < maxIterations) {
     iterations++;
     if (needNormal) {
-      buildNormal(J, r, m, n, normal, gradient);
+      buildNormal(J, r, m, n, normal, gradient, nonzero);
       needNormal = false;
     }
     let step = dampedStep(normal, gradient, lambda, null, damped, freeGradient);
@@ -249,7 +252,6 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
       held += frozen[j];
     }
     if (held > 0 && held < n) step = dampedStep(normal, gradient, lambda, frozen, damped, freeGradient) ?? step;
-    const trial = new Float64Array(n);
     for (let j = 0; j < n; j++) trial[j] = p[j] + step[j];
     clamp(trial);
     // A step (after the bounds) below 1 % of every parameter's standard uncertainty, σ_j ≈ 1/√N_jj,
@@ -271,7 +273,7 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
         predicted += dj * (2 * gradient[j] - nd);
       }
       const rho = predicted > 0 ? (chi2 - trialChi2) / predicted : 0;
-      p = trial;
+      [p, trial] = [trial, p];
       [r, trialR] = [trialR, r];
       [J, trialJ] = [trialJ, J];
       chi2 = trialChi2;
@@ -292,7 +294,7 @@ export function levenbergMarquardt(problem: NonlinearProblem, start: ArrayLike<n
       }
     }
   }
-  if (needNormal) buildNormal(J, r, m, n, normal, gradient);
+  if (needNormal) buildNormal(J, r, m, n, normal, gradient, nonzero);
   return { params: p, chi2, dof: m - n, covariance: invertSymmetric(normal), iterations, converged };
 }
 
@@ -323,11 +325,10 @@ function dampedStep(
 
 // Rows of a peak-cluster Jacobian are mostly zeros (a peak far from a point leaves no derivative), so
 // each row's non-zero columns are gathered first and only their products accumulated.
-function buildNormal(J: Float64Array, r: Float64Array, m: number, n: number, normal: SquareMatrix, gradient: Float64Array): void {
+function buildNormal(J: Float64Array, r: Float64Array, m: number, n: number, normal: SquareMatrix, gradient: Float64Array, nonzero: Int32Array): void {
   normal.data.fill(0);
   gradient.fill(0);
   const N = normal.data;
-  const nonzero = new Int32Array(n);
   for (let i = 0; i < m; i++) {
     const o = i * n;
     const ri = r[i];

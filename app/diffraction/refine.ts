@@ -556,7 +556,11 @@ function coarseSearch(
   for (;;) {
     const scaleStep = scaleStepAt(widen);
     const zeroStep = zeroStepAt(widen);
-    const found: Candidate[] = [];
+    // The level's grid points as three parallel lists of numbers (no object per point: a laboratory scan's level
+    // has a few thousand of them).
+    const foundScore: number[] = [];
+    const foundScale: number[] = [];
+    const foundZero: number[] = [];
     for (const region of regions) {
       // Grid points on the level's lattice (multiples of the steps from −range and −ZERO_RANGE).
       const k0 = Math.max(0, Math.ceil((region.scaleLow + range) / scaleStep - 1e-9));
@@ -571,19 +575,27 @@ function coarseSearch(
         scoreAt(-range + k0 * scaleStep, scaleStep, nScale, zero, scores);
         for (let k = 0; k < nScale; k++) {
           const scale = -range + (k0 + k) * scaleStep;
-          found.push({ score: ranked(scores[k], scale, zero), scale, zero });
+          foundScore.push(ranked(scores[k], scale, zero));
+          foundScale.push(scale);
+          foundZero.push(zero);
         }
       }
     }
-    found.sort((a, b) => b.score - a.score);
+    const count = foundScore.length;
     if (widen === 1) {
-      if (found.length > 0) best = found[0];
+      // The highest score, the first of equal ones (as a stable sort by score would put first).
+      let top = -1;
+      for (let i = 0; i < count; i++) if (top < 0 || foundScore[i] > foundScore[top]) top = i;
+      if (top >= 0) best = { score: foundScore[top], scale: foundScale[top], zero: foundZero[top] };
       break;
     }
+    // Highest score first, equal scores in the order found (a stable sort).
+    const order = Array.from({ length: count }, (_, i) => i).sort((a, b) => foundScore[b] - foundScore[a] || a - b);
     // The best candidates at least two grid steps apart, each searched at the next level over the
     // neighbourhood its grid cell leaves uncertain.
     const kept: Candidate[] = [];
-    for (const c of found) {
+    for (const i of order) {
+      const c: Candidate = { score: foundScore[i], scale: foundScale[i], zero: foundZero[i] };
       if (kept.length >= COARSE_CANDIDATES) break;
       if (kept.some((k) => Math.abs(k.scale - c.scale) < 2 * scaleStep && Math.abs(k.zero - c.zero) < 2 * zeroStep)) continue;
       kept.push(c);
@@ -633,7 +645,7 @@ function assign(
       const q = qOfRow(row, state.p);
       const x = predict(q, state.shifts, model, options, radius);
       if (!(x <= xMax)) return null;
-      const g = positionGradient(options, model, r, q, radius);
+      const g = positionGradient(options, model, row, q, radius);
       let variance = 0;
       for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) variance += g[i] * covariance.data[i * n + j] * g[j];
       return { r, x, sigma: Math.sqrt(Math.max(variance, 0)), row: key };
@@ -726,10 +738,15 @@ function addStraddledBlends(
  * ∂(2θ_calc)/∂(p, corrections) of a reflection, degrees per unit of each parameter (the corrections' own
  * dependence on p through θ is left out: it is of the order of the shift times the step, far below the noise).
  */
-function positionGradient(options: RefineOptions, model: Model, r: Reflection, q: number, radius: number): number[] {
+function positionGradient(options: RefineOptions, model: Model, row: readonly number[], q: number, radius: number): number[] {
   const theta = Math.asin((options.wavelength * Math.sqrt(q)) / 2);
   const slope = (options.wavelength / (2 * Math.sqrt(q) * Math.cos(theta))) * DEG;
-  return [...qDesignRow(options.system, r).map((x) => x * slope), ...model.terms.map((t) => termColumn(t, theta, radius))];
+  // `row` is the reflection's design row ∂Q/∂p (qDesignRow), which the callers have at hand already.
+  const nRow = row.length;
+  const g = new Array<number>(nRow + model.terms.length);
+  for (let i = 0; i < nRow; i++) g[i] = row[i] * slope;
+  for (let k = 0; k < model.terms.length; k++) g[nRow + k] = termColumn(model.terms[k], theta, radius);
+  return g;
 }
 
 interface LinearStep {
@@ -800,11 +817,12 @@ function gaussNewtonStep(
   const residuals: number[] = [];
   const weights: number[] = [];
   for (const a of used) {
-    const q = qOf(system, state.p, a.reflection);
+    const row = qDesignRow(system, a.reflection);
+    const q = qOfRow(row, state.p);
     const sinTheta = (wavelength * Math.sqrt(q)) / 2;
     if (!(sinTheta < 1) || !(q > 0)) return null;
     const theta = Math.asin(sinTheta);
-    rows.push(positionGradient(options, model, a.reflection, q, radius));
+    rows.push(positionGradient(options, model, row, q, radius));
     // A fixed transparency is part of the calculated position; the refined corrections are unknowns.
     const fixed = model.fixedPenetration ? transparencyShiftAtTheta(theta, model.fixedPenetration, radius) : 0;
     residuals.push(peaks[a.peak].twoTheta - 2 * theta * DEG - fixed);
