@@ -48,6 +48,9 @@ export function estimateBackground(twoTheta: Float64Array, intensity: Float64Arr
   return background;
 }
 
+// biome-ignore lint/complexity/useMathMinMax: Math.min treats NaN and −0 otherwise, and the clipped values must stay as they were
+const lower = (a: number, b: number) => (a < b ? a : b);
+
 /**
  * Clipping follows the lower edge of the noise, so the raw SNIP background sits about one standard
  * deviation low. Points within 2.5 σ of it are background; the median of their normalised residuals is
@@ -85,16 +88,16 @@ function snip(values: Float64Array, window: number): Float64Array {
     // Near the ends the window shrinks to what is there: q = i below p, n − 1 − i above n − 1 − p (p ≤ (n − 1)/2).
     for (let i = 0; i < p; i++) {
       const mean = i === 0 ? v[0] : 0.5 * (v[0] + v[2 * i]);
-      next[i] = mean < v[i] ? mean : v[i];
+      next[i] = lower(mean, v[i]);
     }
     for (let i = p; i <= n - 1 - p; i++) {
       const mean = 0.5 * (v[i - p] + v[i + p]);
-      next[i] = mean < v[i] ? mean : v[i];
+      next[i] = lower(mean, v[i]);
     }
     for (let i = n - p; i < n; i++) {
       const q = n - 1 - i;
       const mean = q === 0 ? v[i] : 0.5 * (v[i - q] + v[n - 1]);
-      next[i] = mean < v[i] ? mean : v[i];
+      next[i] = lower(mean, v[i]);
     }
     [v, next] = [next, v];
   }
