@@ -18,6 +18,8 @@ import { TEMPLATE_DB } from "../services/test-db";
 export const LOAD_SCALE = Number(process.env.LOAD_SCALE ?? 1);
 export const loadDbName = (scale: number) => (scale === 1 ? "diffractory_load" : `diffractory_load_x${String(scale).replace(".", "_")}`);
 export const LOAD_DB = loadDbName(LOAD_SCALE);
+/** Marks a load database seeded by this seed; one seeded by an older seed is seeded again. */
+const SEED_VERSION = "load seed 3: the same labs every seeding";
 const scaled = (n: number, scale = LOAD_SCALE) => Math.max(1, Math.round(n * scale));
 export const loadSizes = (scale: number) => ({
   labs: scaled(5000, scale),
@@ -46,6 +48,9 @@ export const LOAD = {
  * Approved labs with two instruments each, a stage per instrument, a price list, and hazard acceptance for a
  * quarter of them. With `someApplied`, every lab whose number ends in 7 is still awaiting vetting.
  */
+/** The lab's number, from the end of its slug (load-lab-1 → 1), as SQL over organisations `o`. */
+const labNo = "substring(o.slug from '[0-9]+$')::int";
+
 export async function seedSyntheticLabs(c: pg.ClientBase, n: number, { prefix = "Bench Lab", someApplied = false } = {}) {
   const slugPrefix = prefix.toLowerCase().replace(/\s+/g, "-");
   const description = `Synthetic lab for the ${prefix.toLowerCase()} benchmark`;
@@ -62,25 +67,30 @@ export async function seedSyntheticLabs(c: pg.ClientBase, n: number, { prefix = 
     ), i as (
       insert into instruments (lab_id, name, technique, anode, monochromation, two_theta_min, two_theta_max, smallest_step, detector, energy_discrimination, sample_forms)
       select organisation_id, 'Instrument ' || k,
-        (array['powder_reflection','powder_transmission','thin_film'])[1 + ((k - 1 + (hashtext(organisation_id::text) & 1)) % 3)]::technique,
-        (array[${ANODES.map((a) => `'${a}'`).join(",")}])[1 + (((hashtext(organisation_id::text) & 65535) + k) % ${ANODES.length})]::anode,
+        (array['powder_reflection','powder_transmission','thin_film'])[1 + ((k - 1 + ((${labNo} + 1) & 1)) % 3)]::technique,
+        (array[${ANODES.map((a) => `'${a}'`).join(",")}])[1 + ((${labNo} + 1 + k) % ${ANODES.length})]::anode,
         'k_alpha_doublet', 5, 120 + (k * 10), 0.01, 'strip_1d', k % 2 = 0, '{powder}'
-      from l, generate_series(1, 2) k
-      returning id
+      from l join o on o.id = l.organisation_id, generate_series(1, 2) k
+      returning id, lab_id, name
     )
+    -- From the lab's number and hashes of its slug, not of random ids: every seeding gives each lab the same
+    -- instruments, stages, prices and hazard acceptance, so the pages the benches view hold the same rows from one
+    -- database to the next; lab 1 (the load lab owner's) measures powder reflection with Cu Kα and accepts hazards.
     insert into sample_stages (instrument_id, name, min_temperature_k, max_temperature_k, atmospheres)
-    select id, 'Stage', 80 + (hashtext(id::text) & 200), 400 + (hashtext(id::text) & 1023), '{air,nitrogen}' from i`,
+    select i.id, 'Stage', 80 + (hashtext(o.slug || i.name) & 200), 400 + (hashtext(o.slug || i.name) & 1023), '{air,nitrogen}'
+    from i join o on o.id = i.lab_id`,
     [n, prefix, slugPrefix, description, someApplied],
   );
   await c.query(
     `insert into price_lists (lab_id, currency, per_sample_minor, turnaround_days)
-    select organisation_id, 'EUR', jsonb_build_object('powder_reflection', 9000 + (hashtext(organisation_id::text) & 16383), 'powder_transmission', 12000 + (hashtext(organisation_id::text) & 8191)), 3 + (hashtext(organisation_id::text) & 15)
-    from labs where description = $1`,
+    select organisation_id, 'EUR', jsonb_build_object('powder_reflection', 9000 + (hashtext(o.slug) & 16383), 'powder_transmission', 12000 + (hashtext(o.slug) & 8191)), 3 + (hashtext(o.slug) & 15)
+    from labs join organisations o on o.id = labs.organisation_id where description = $1`,
     [description],
   );
   await c.query(
     `insert into hazard_acceptance (lab_id, pictograms, special_categories)
-    select organisation_id, '{GHS06,GHS07,GHS08}', '{nanomaterial}' from labs where description = $1 and (hashtext(organisation_id::text) & 3) = 0`,
+    select organisation_id, '{GHS06,GHS07,GHS08}', '{nanomaterial}' from labs join organisations o on o.id = labs.organisation_id
+    where description = $1 and (${labNo} & 3) = 1`,
     [description],
   );
 }
@@ -316,7 +326,7 @@ export async function ensureLoadDatabase({ log = console.log } = {}): Promise<st
   await admin.connect();
   try {
     if (await seededBeforeNewerRows()) {
-      log(`${LOAD_DB} was seeded without the newer rows (messages, invoices, lots): seeding it again`);
+      log(`${LOAD_DB} was seeded by an older seed (${SEED_VERSION} is current): seeding it again`);
       await admin.query(`drop database ${LOAD_DB} with (force)`);
     }
     const exists = await admin.query("select 1 from pg_database where datname = $1", [LOAD_DB]);
@@ -343,6 +353,7 @@ export async function ensureLoadDatabase({ log = console.log } = {}): Promise<st
     await seedSyntheticLabs(c, LOAD.labs, { prefix: "Load Lab" });
     await seedMarket(c);
     await c.query("commit");
+    await c.query(`comment on database ${LOAD_DB} is '${SEED_VERSION}'`);
     await c.query("vacuum analyze");
     const now = await counts(c);
     log(`${LOAD_DB} seeded in ${((performance.now() - t0) / 1000).toFixed(1)} s: ${describe(now)}`);
@@ -365,7 +376,10 @@ async function seededBeforeNewerRows() {
   }
   try {
     const r = await c.query<{ old: boolean }>(
-      `select to_regclass('messages') is not null and (select count(*) from orders) > 0 and not exists (select 1 from messages) as old`,
+      // Seeded before messages were, or before the seed gave each lab the same instruments every time (SEED_VERSION).
+      `select to_regclass('messages') is not null and (select count(*) from orders) > 0
+         and (not exists (select 1 from messages) or coalesce(shobj_description((select oid from pg_database where datname = current_database()), 'pg_database'), '') <> $1) as old`,
+      [SEED_VERSION],
     );
     return r.rows[0].old;
   } catch {
