@@ -1,7 +1,7 @@
 // Paging in SQL of the lab's quotes and the client's data room on the real PostgreSQL: a page of 25 with the
 // total, the next page with the next rows, a page past the end gives the last page, a bad page number a 400
 // with a sentence; the data room reads only orders with files the client may see; orders sort and page in SQL.
-import { count, eq } from "drizzle-orm";
+import { and, count, eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { db, schema } from "~/db/client.server";
 import { seedDemo } from "~/demo/seed.server";
@@ -11,6 +11,9 @@ import { loader as dataRoomLoader } from "~/routes/client/data-room";
 import { loader as labQuotesLoader } from "~/routes/lab/quotes";
 import { loader as clientOrdersLoader } from "~/routes/client/orders";
 import { loader as workQueueLoader } from "~/routes/lab/work-queue";
+import { loader as payoutsLoader } from "~/routes/lab/payouts";
+import { PAYOUTS_PAGE_SIZE } from "~/models/orders/queries.server";
+import { postPayout } from "~/models/payments/provider.server";
 import { ORDER_STATES, type OrderState } from "~/domain/order-states";
 import { callRoute, getRequest, sessionCookies } from "./route-call";
 
@@ -240,5 +243,45 @@ describe("orders, client and lab side, sorted and paged in SQL", () => {
     const owed = due.filter((o) => o.due.kind !== "none");
     expect(due.slice(0, owed.length).every((o) => o.due.kind !== "none")).toBe(true);
     expect(owed.map((o) => o.due.at)).toEqual([...owed.map((o) => o.due.at)].sort());
+  });
+});
+
+describe("the lab's payouts, paged in SQL", () => {
+  type Listed = {
+    payouts: { transferId: string | null; amount: number; feeMinor: number | null; orderNumber: string }[];
+    info: { total: number; pageCount: number; page: number };
+  };
+  const list = async (query = "") => (await callRoute(payoutsLoader, getRequest(`/lab/payouts${query}`, await as(GRANITE)))).body as Listed;
+
+  it("PAYOUTS_PAGE_SIZE a page, newest first, each with its order and the fee kept from it", async () => {
+    const orders = await db.select().from(schema.orders).where(eq(schema.orders.labId, graniteId)).limit(30);
+    expect(orders.length).toBe(30);
+    for (const [i, order] of orders.entries()) {
+      await db.transaction((tx) => postPayout(tx, order, `tr_paging_${String(i).padStart(2, "0")}`, 9_000 + i, i % 3 === 0 ? 0 : 500 + i, "Paging payout"));
+    }
+    const [{ n }] = await db
+      .select({ n: count() })
+      .from(schema.ledgerTransactions)
+      .innerJoin(schema.orders, eq(schema.orders.id, schema.ledgerTransactions.orderId))
+      .where(and(eq(schema.ledgerTransactions.kind, "payout"), eq(schema.orders.labId, graniteId)));
+    const first = await list();
+    expect(first.info.total).toBe(n);
+    expect(first.payouts).toHaveLength(Math.min(PAYOUTS_PAGE_SIZE, n));
+    const all = [...first.payouts];
+    for (let page = 2; page <= first.info.pageCount; page++) all.push(...(await list(`?page=${page}`)).payouts);
+    const mine = all.filter((p) => p.transferId?.startsWith("tr_paging_"));
+    // Posted one after another: the last posted first.
+    expect(mine.map((p) => p.transferId)).toEqual(Array.from({ length: 30 }, (_, i) => `tr_paging_${String(29 - i).padStart(2, "0")}`));
+    for (const p of mine) {
+      const i = Number(p.transferId?.slice(-2));
+      expect(p.amount).toBe(9_000 + i);
+      expect(p.feeMinor).toBe(i % 3 === 0 ? null : 500 + i);
+      expect(p.orderNumber).toBe(orders[i].number);
+    }
+    expect((await list("?page=999")).info.page).toBe(first.info.pageCount);
+    for (const bad of BAD_PAGES) {
+      const answer = await callRoute(payoutsLoader, getRequest(`/lab/payouts?page=${bad}`, await as(GRANITE)));
+      expect(answer.status, bad).toBe(400);
+    }
   });
 });

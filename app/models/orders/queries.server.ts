@@ -244,45 +244,49 @@ export async function orderTimelines(orderIds: string[], { whole, last }: { whol
  * The payouts a lab received, newest first, each with its order's title and the platform fee kept from it.
  * Both are read from their side of the funds-held account.
  */
-export async function payoutsOfLab(labId: string) {
-  const orders = await db
-    .select({ id: schema.orders.id, number: schema.orders.number, title: schema.requests.title })
-    .from(schema.orders)
+/** How many payouts the lab's payouts list shows to a page. */
+export const PAYOUTS_PAGE_SIZE = 25;
+
+/**
+ * One page of the payouts the lab received, newest first, each with its order and the platform fee kept from it
+ * (a fee's provider id is "fee:" and the transfer's id), and how many there are: one count and one page in SQL.
+ */
+export async function payoutsOfLab(labId: string, q: Pick<TableQuery, "page" | "pageSize">) {
+  const tx = schema.ledgerTransactions;
+  const held = and(eq(schema.ledgerEntries.transactionId, tx.id), eq(schema.ledgerEntries.account, "funds_held"));
+  const ofLab = and(eq(tx.kind, "payout"), eq(schema.orders.labId, labId));
+  const [{ n }] = await db
+    .select({ n: sql<number>`count(*)::int` })
+    .from(tx)
+    .innerJoin(schema.ledgerEntries, held)
+    .innerJoin(schema.orders, eq(schema.orders.id, tx.orderId))
+    .where(ofLab);
+  const info = pageOf(n, q);
+  const feeTx = alias(schema.ledgerTransactions, "fee_tx");
+  const feeEntry = alias(schema.ledgerEntries, "fee_entry");
+  const rows = await db
+    .select({
+      id: tx.id,
+      orderId: tx.orderId,
+      transferId: tx.providerObjectId,
+      at: tx.createdAt,
+      currency: tx.currency,
+      amount: schema.ledgerEntries.amountMinor,
+      title: schema.requests.title,
+      orderNumber: schema.orders.number,
+      feeMinor: feeEntry.amountMinor,
+    })
+    .from(tx)
+    .innerJoin(schema.ledgerEntries, held)
+    .innerJoin(schema.orders, eq(schema.orders.id, tx.orderId))
     .innerJoin(schema.requests, eq(schema.requests.id, schema.orders.requestId))
-    .where(eq(schema.orders.labId, labId));
-  const ledgerOf = (kind: "payout" | "platform_fee") =>
-    db
-      .select({
-        id: schema.ledgerTransactions.id,
-        orderId: schema.ledgerTransactions.orderId,
-        transferId: schema.ledgerTransactions.providerObjectId,
-        at: schema.ledgerTransactions.createdAt,
-        currency: schema.ledgerTransactions.currency,
-        amount: schema.ledgerEntries.amountMinor,
-      })
-      .from(schema.ledgerTransactions)
-      .innerJoin(
-        schema.ledgerEntries,
-        and(eq(schema.ledgerEntries.transactionId, schema.ledgerTransactions.id), eq(schema.ledgerEntries.account, "funds_held")),
-      )
-      .where(
-        and(
-          eq(schema.ledgerTransactions.kind, kind),
-          inArray(
-            schema.ledgerTransactions.orderId,
-            orders.map((o) => o.id),
-          ),
-        ),
-      )
-      .orderBy(desc(schema.ledgerTransactions.createdAt));
-  const [paid, fees] = orders.length ? await Promise.all([ledgerOf("payout"), ledgerOf("platform_fee")]) : [[], []];
-  // A fee belongs to the transfer it was kept from: its provider id is "fee:" and the transfer's id.
-  return paid.map((p) => ({
-    ...p,
-    title: orders.find((o) => o.id === p.orderId)?.title ?? "",
-    orderNumber: orders.find((o) => o.id === p.orderId)?.number ?? "",
-    feeMinor: fees.find((f) => f.transferId === `fee:${p.transferId}`)?.amount ?? null,
-  }));
+    .leftJoin(feeTx, and(eq(feeTx.kind, "platform_fee"), eq(feeTx.orderId, tx.orderId), eq(feeTx.providerObjectId, sql`'fee:' || ${tx.providerObjectId}`)))
+    .leftJoin(feeEntry, and(eq(feeEntry.transactionId, feeTx.id), eq(feeEntry.account, "funds_held")))
+    .where(ofLab)
+    .orderBy(desc(tx.createdAt), desc(tx.id))
+    .limit(info.pageSize)
+    .offset(info.offset);
+  return { payouts: rows, info };
 }
 
 /** How many payments the client's payments list shows to a page. */

@@ -3,11 +3,16 @@ import { Formula } from "~/components/symbols";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { Badge, EmptyState, FormError, PageHeader, TableCard } from "~/components/ui";
 import { findLab } from "~/models/labs/vetting.server";
-import { payoutsOfLab } from "~/models/orders/queries.server";
+import { PAYOUTS_PAGE_SIZE, payoutsOfLab } from "~/models/orders/queries.server";
+import { PageNav } from "~/components/data-table";
+import { readTableQuery, type TableSpec } from "~/utils/table";
 import { payoutOnboardingUrl, PaymentProblem, syncPayoutAccount } from "~/models/payments/provider.server";
 import { requireOrgRole } from "~/utils/permissions.server";
 import type { Route } from "./+types/payouts";
 import { useFormat } from "~/components/locale";
+
+/** Newest first, PAYOUTS_PAGE_SIZE to a page (`?page=`). */
+const PAYOUTS_TABLE: TableSpec<"at"> = { sorts: ["at"], defaultSort: "at", firstDir: { at: "desc" }, pageSize: PAYOUTS_PAGE_SIZE };
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { membership } = await requireOrgRole(request, "lab");
@@ -18,8 +23,8 @@ export async function loader({ request }: Route.LoaderArgs) {
     await syncPayoutAccount(lab.payoutAccountId).catch(() => null);
     lab = await findLab(labId);
   }
-  const payouts = await payoutsOfLab(labId);
-  return { account: { id: lab?.payoutAccountId ?? null, ready: lab?.payoutsEnabled ?? false }, canManage: membership.role === "manager", payouts };
+  const { payouts, info } = await payoutsOfLab(labId, readTableQuery(request, PAYOUTS_TABLE));
+  return { account: { id: lab?.payoutAccountId ?? null, ready: lab?.payoutsEnabled ?? false }, canManage: membership.role === "manager", payouts, info };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -34,7 +39,7 @@ export async function action({ request }: Route.ActionArgs) {
 
 export default function Payouts({ loaderData, actionData }: Route.ComponentProps) {
   const fmt = useFormat();
-  const { account, canManage, payouts } = loaderData;
+  const { account, canManage, payouts, info } = loaderData;
   const busy = useNavigation().state !== "idle";
   return (
     <div>
@@ -73,31 +78,34 @@ export default function Payouts({ loaderData, actionData }: Route.ComponentProps
           Payouts appear here when clients accept your deliveries.
         </EmptyState>
       ) : (
-        <TableCard columns={["When", "Order", "Paid to you", "Platform fee", "Reference"]} caption="Payouts">
-          {payouts.map((p) => (
-            <tr key={p.id}>
-              <td>{fmt.dateTime(p.at)}</td>
-              <td>
-                {p.orderId ? (
-                  <Link to={`/lab/orders/${p.orderId}`} className="text-beam-700 underline">
-                    <span className="font-mono text-xs">{p.orderNumber}</span> <Formula>{p.title}</Formula>
-                  </Link>
-                ) : (
-                  "—"
-                )}
-              </td>
-              <td className="font-medium">{fmt.money(p.amount, p.currency)}</td>
-              <td>{p.feeMinor === null ? "—" : fmt.money(p.feeMinor, p.currency)}</td>
-              <td>
-                {/* The order number and the day are the reference people use; the provider's id stays secondary, for the payout account's own records. */}
-                <span className="font-mono text-xs">
-                  {p.orderNumber || "—"} / {fmt.date(p.at)}
-                </span>
-                <span className="block text-xs text-ink-500">provider&apos;s transfer id {p.transferId}</span>
-              </td>
-            </tr>
-          ))}
-        </TableCard>
+        <>
+          <TableCard columns={["When", "Order", "Paid to you", "Platform fee", "Reference"]} caption="Payouts">
+            {payouts.map((p) => (
+              <tr key={p.id}>
+                <td>{fmt.dateTime(p.at)}</td>
+                <td>
+                  {p.orderId ? (
+                    <Link to={`/lab/orders/${p.orderId}`} className="text-beam-700 underline">
+                      <span className="font-mono text-xs">{p.orderNumber}</span> <Formula>{p.title}</Formula>
+                    </Link>
+                  ) : (
+                    "—"
+                  )}
+                </td>
+                <td className="font-medium">{fmt.money(p.amount, p.currency)}</td>
+                <td>{p.feeMinor === null ? "—" : fmt.money(p.feeMinor, p.currency)}</td>
+                <td>
+                  {/* The order number and the day are the reference people use; the provider's id stays secondary, for the payout account's own records. */}
+                  <span className="font-mono text-xs">
+                    {p.orderNumber || "—"} / {fmt.date(p.at)}
+                  </span>
+                  <span className="block text-xs text-ink-500">provider&apos;s transfer id {p.transferId}</span>
+                </td>
+              </tr>
+            ))}
+          </TableCard>
+          <PageNav info={info} noun={["payout", "payouts"]} />
+        </>
       )}
     </div>
   );
