@@ -225,16 +225,16 @@ export async function quotesForRequest(requestId: string) {
   return rows.map(withSource);
 }
 
-/** A lab's own quotes with their requests' titles, newest first. */
-export async function quotesForLab(labId: string) {
-  await lapseExpiredQuotes();
+/** A lab's own quotes on one request, with the request's title, newest first. */
+export async function labQuotesOnRequest(labId: string, requestId: string) {
+  await lapseExpiredQuotes(new Date(), labId);
   const rows = await db
     .select({ ...quoteColumns, requestTitle: schema.requests.title })
     .from(schema.quotes)
     .innerJoin(schema.organisations, eq(schema.organisations.id, schema.quotes.labId))
     .innerJoin(schema.requests, eq(schema.requests.id, schema.quotes.requestId))
     .leftJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
-    .where(eq(schema.quotes.labId, labId))
+    .where(and(eq(schema.quotes.labId, labId), eq(schema.quotes.requestId, requestId)))
     .orderBy(desc(schema.quotes.sentAt));
   return rows.map(withSource);
 }

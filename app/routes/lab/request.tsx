@@ -16,7 +16,7 @@ import { clientStandingOf, loadMatchLabs, loadMatchRequest } from "~/models/labs
 import { pricesForClient } from "~/domain/price-tiers";
 import { toMajorText, toMinorUnits } from "~/domain/money";
 import { QuoteSchema } from "~/domain/quote-forms";
-import { draftLineItems, instrumentsOf, priceListOf, quotesForLab, sendQuote, vettingStateOf, withdrawQuote } from "~/models/requests/quotes.server";
+import { draftLineItems, instrumentsOf, priceListOf, labQuotesOnRequest, sendQuote, vettingStateOf, withdrawQuote } from "~/models/requests/quotes.server";
 import { acknowledgeHazards, acknowledgementOf, samplesOf, sdsLinks } from "~/models/requests/requests.server";
 import { reconfirmQuote, revisionsOf } from "~/models/requests/request-life.server";
 import { RequestNeeds, RevisionList } from "~/components/request-needs";
@@ -37,20 +37,19 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const thread = await requestThreadForLab(row.id, labId);
   // The client's confirmed kind picks the price tier the quote drafts from (docs/design.md#price-tiers).
   const standing = await clientStandingOf(row.organisationId);
-  const [samples, acknowledgement, vetting, prices, instruments, ownQuotes, client, matchRequest, [lab], revisions] = await Promise.all([
+  const [samples, acknowledgement, vetting, prices, instruments, quotes, client, matchRequest, [lab], revisions] = await Promise.all([
     samplesOf(row.id),
     acknowledgementOf(row.id, labId),
     vettingStateOf(labId),
     priceListOf(labId),
     instrumentsOf(labId),
-    quotesForLab(labId),
+    labQuotesOnRequest(labId, row.id),
     organisationNameOf(row.organisationId),
     loadMatchRequest(row.id),
     loadMatchLabs([labId], standing),
     revisionsOf(row.id),
   ]);
   const match = matchRequest && lab ? matchLab(matchRequest, lab) : null;
-  const quotes = ownQuotes.filter((q) => q.requestId === row.id);
   const { prices: clientPrices, choice: tierChoice } = pricesForClient(prices, standing);
   const draft = draftLineItems(row, samples, clientPrices);
   return {
