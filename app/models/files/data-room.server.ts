@@ -3,6 +3,7 @@
 import { and, asc, desc, eq, exists, inArray, isNull, sql } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import { pageOf, type TableQuery } from "~/utils/table";
+import { checkSummaryColumns } from "./files.server";
 
 export const DATA_ROOM_PAGE_SIZE = 25;
 
@@ -49,16 +50,7 @@ export async function dataRoomPage(organisationId: string, q: Pick<TableQuery, "
           version: schema.orderFiles.version,
           kind: schema.orderFiles.kind,
           size: schema.orderFiles.sizeBytes,
-          check: {
-            id: schema.scanChecks.id,
-            fileId: schema.scanChecks.fileId,
-            status: schema.scanChecks.status,
-            verdict: schema.scanChecks.verdict,
-            // The acceptance window's answer, apart from the verdict (null: none set, or not finished).
-            withinWindow: sql<boolean | null>`(${schema.scanChecks.result} ->> 'withinWindow')::boolean`,
-            error: schema.scanChecks.error,
-            finishedAt: schema.scanChecks.finishedAt,
-          },
+          check: checkSummaryColumns,
         })
         .from(schema.orderFiles)
         .leftJoin(schema.scanChecks, eq(schema.scanChecks.fileId, schema.orderFiles.id))

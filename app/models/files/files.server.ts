@@ -48,6 +48,18 @@ import {
 import { ORDER_STATE_LABELS } from "~/domain/order-states";
 import { proposeSample, unmatchedReason } from "~/domain/sample-match";
 
+/** A file's check as the file lists show it: state, verdict, the acceptance window's answer and any error. */
+export const checkSummaryColumns = {
+  id: schema.scanChecks.id,
+  fileId: schema.scanChecks.fileId,
+  status: schema.scanChecks.status,
+  verdict: schema.scanChecks.verdict,
+  // The acceptance window's answer, apart from the verdict (null: none set, or not finished).
+  withinWindow: sql<boolean | null>`(${schema.scanChecks.result} ->> 'withinWindow')::boolean`,
+  error: schema.scanChecks.error,
+  finishedAt: schema.scanChecks.finishedAt,
+};
+
 /** A refused upload step, with the sentence for the uploader and the HTTP status to answer with. */
 export class UploadProblem extends Error {
   constructor(
@@ -366,16 +378,7 @@ export async function orderFileList(orderId: string, { side, archived = false }:
       file: schema.orderFiles,
       uploader: schema.users.name,
       sampleLabel: schema.samples.label,
-      check: {
-        id: schema.scanChecks.id,
-        fileId: schema.scanChecks.fileId,
-        status: schema.scanChecks.status,
-        verdict: schema.scanChecks.verdict,
-        // The acceptance window's answer, apart from the verdict (null: none set, or not finished).
-        withinWindow: sql<boolean | null>`(${schema.scanChecks.result} ->> 'withinWindow')::boolean`,
-        error: schema.scanChecks.error,
-        finishedAt: schema.scanChecks.finishedAt,
-      },
+      check: checkSummaryColumns,
     })
     .from(schema.orderFiles)
     .leftJoin(schema.users, eq(schema.users.id, schema.orderFiles.uploadedBy))

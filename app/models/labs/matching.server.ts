@@ -500,17 +500,7 @@ export async function labInboxPage(labId: string, q: TableQuery<InboxSort>): Pro
   const ids = page.map((p) => p.id);
   const [rows, quotes] = ids.length
     ? await Promise.all([
-        db
-          .select({
-            id: schema.requests.id,
-            title: schema.requests.title,
-            deadline: schema.requests.deadline,
-            openedAt: schema.requests.openedAt,
-            client: schema.organisations.name,
-          })
-          .from(schema.requests)
-          .innerJoin(schema.organisations, eq(schema.organisations.id, schema.requests.organisationId))
-          .where(inArray(schema.requests.id, ids)),
+        requestsWithClients(ids),
         db
           .select({ requestId: schema.quotes.requestId })
           .from(schema.quotes)
@@ -542,4 +532,20 @@ export async function labInboxPage(labId: string, q: TableQuery<InboxSort>): Pro
 function estimateSortValue(match: LabMatch | undefined) {
   if (!match || match.estimatedPriceMinor === null) return null;
   return `${match.currency}${String(match.estimatedPriceMinor).padStart(12, "0")}`;
+}
+
+/** The given requests with their deadline, opening date and client organisation's name, in no set order. */
+export async function requestsWithClients(requestIds: string[]) {
+  if (requestIds.length === 0) return [];
+  return db
+    .select({
+      id: schema.requests.id,
+      title: schema.requests.title,
+      deadline: schema.requests.deadline,
+      openedAt: schema.requests.openedAt,
+      client: schema.organisations.name,
+    })
+    .from(schema.requests)
+    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.requests.organisationId))
+    .where(inArray(schema.requests.id, requestIds));
 }

@@ -42,22 +42,6 @@ export async function requestTitleOf(requestId: string): Promise<string | null> 
   return row?.title ?? null;
 }
 
-/** The given requests with their deadline, opening date and client organisation's name, in no set order. */
-export async function requestsWithClients(requestIds: string[]) {
-  if (requestIds.length === 0) return [];
-  return db
-    .select({
-      id: schema.requests.id,
-      title: schema.requests.title,
-      deadline: schema.requests.deadline,
-      openedAt: schema.requests.openedAt,
-      client: schema.organisations.name,
-    })
-    .from(schema.requests)
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.requests.organisationId))
-    .where(inArray(schema.requests.id, requestIds));
-}
-
 /** A sample with its further declared phases: the expected phases, then the candidate forms, each in its order. */
 export type SampleWithPhases = Sample & { phases: SamplePhase[] };
 
