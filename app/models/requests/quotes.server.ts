@@ -225,15 +225,19 @@ export async function quotesForRequest(requestId: string) {
   return rows.map(withSource);
 }
 
-/** A lab's own quotes on one request, with the request's title, newest first. */
-export async function labQuotesOnRequest(labId: string, requestId: string) {
-  await lapseExpiredQuotes(new Date(), labId);
-  const rows = await db
+/** Quotes with their lab, instrument and request's title, for a `where` to narrow. */
+const quotesWithTitles = () =>
+  db
     .select({ ...quoteColumns, requestTitle: schema.requests.title })
     .from(schema.quotes)
     .innerJoin(schema.organisations, eq(schema.organisations.id, schema.quotes.labId))
     .innerJoin(schema.requests, eq(schema.requests.id, schema.quotes.requestId))
-    .leftJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
+    .leftJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId));
+
+/** A lab's own quotes on one request, with the request's title, newest first. */
+export async function labQuotesOnRequest(labId: string, requestId: string) {
+  await lapseExpiredQuotes(new Date(), labId);
+  const rows = await quotesWithTitles()
     .where(and(eq(schema.quotes.labId, labId), eq(schema.quotes.requestId, requestId)))
     .orderBy(desc(schema.quotes.sentAt));
   return rows.map(withSource);
@@ -250,12 +254,7 @@ export async function quotesPageForLab(labId: string, q: Pick<TableQuery, "page"
   await lapseExpiredQuotes(new Date(), labId);
   const [{ total }] = await db.select({ total: sql<number>`count(*)::int` }).from(schema.quotes).where(eq(schema.quotes.labId, labId));
   const info = pageOf(total, q);
-  const rows = await db
-    .select({ ...quoteColumns, requestTitle: schema.requests.title })
-    .from(schema.quotes)
-    .innerJoin(schema.organisations, eq(schema.organisations.id, schema.quotes.labId))
-    .innerJoin(schema.requests, eq(schema.requests.id, schema.quotes.requestId))
-    .leftJoin(schema.instruments, eq(schema.instruments.id, schema.quotes.instrumentId))
+  const rows = await quotesWithTitles()
     .where(eq(schema.quotes.labId, labId))
     // The id breaks ties so that a quote never shows on two pages.
     .orderBy(q.dir === "asc" ? asc(schema.quotes.sentAt) : desc(schema.quotes.sentAt), asc(schema.quotes.id))
