@@ -9,7 +9,7 @@ import { OWING_STATES } from "~/domain/receipt";
 import type { OrderSort } from "~/components/orders-table";
 import { pageOf, type TableQuery } from "~/utils/table";
 import { paymentStanding } from "~/domain/payment-standing";
-import { ACCOUNTS, heldForOrder } from "~/models/payments/ledger.server";
+import { heldForOrder } from "~/models/payments/ledger.server";
 
 export async function orderTimeline(orderId: string) {
   return db
@@ -178,20 +178,6 @@ export async function disputesWithOrders(page: { limit: number; offset: number; 
 /** What is still held for the order (minor units of its currency), read outside any transaction. */
 export function heldMoneyOf(orderId: string) {
   return heldForOrder(db, orderId);
-}
-
-/** What is still held for each of the given orders, in one query (as heldForOrder per order); 0 for an order with nothing. */
-export async function heldMoneyOfOrders(orderIds: string[]): Promise<Map<string, number>> {
-  const held = new Map<string, number>(orderIds.map((id) => [id, 0]));
-  if (orderIds.length === 0) return held;
-  const rows = await db
-    .select({ orderId: schema.ledgerTransactions.orderId, held: sql<string>`coalesce(-sum(${schema.ledgerEntries.amountMinor}), 0)` })
-    .from(schema.ledgerEntries)
-    .innerJoin(schema.ledgerTransactions, eq(schema.ledgerTransactions.id, schema.ledgerEntries.transactionId))
-    .where(and(inArray(schema.ledgerTransactions.orderId, orderIds), eq(schema.ledgerEntries.account, ACCOUNTS.held)))
-    .groupBy(schema.ledgerTransactions.orderId);
-  for (const r of rows) if (r.orderId) held.set(r.orderId, Number(r.held));
-  return held;
 }
 
 /**

@@ -1,5 +1,5 @@
 // The double-entry ledger: every money movement is a transaction whose entries sum to zero per currency.
-import { and, eq, sql, type SQL } from "drizzle-orm";
+import { and, eq, inArray, sql, type SQL } from "drizzle-orm";
 import { db, schema } from "~/db/client.server";
 import type { Tx } from "~/db/client.server";
 
@@ -40,14 +40,23 @@ export async function postLedger(tx: Tx, posting: LedgerPosting): Promise<boolea
   return true;
 }
 
-/** What is still held for an order (minor units of its currency). */
-export async function heldForOrder(tx: Tx | typeof db, orderId: string): Promise<number> {
-  const [row] = await tx
-    .select({ held: sql<string>`coalesce(-sum(${schema.ledgerEntries.amountMinor}), 0)` })
+/** What is still held for each of the given orders (minor units of its currency), in one query; 0 for an order with nothing. */
+export async function heldForOrders(orderIds: string[], tx: Tx | typeof db = db): Promise<Map<string, number>> {
+  const held = new Map<string, number>(orderIds.map((id) => [id, 0]));
+  if (orderIds.length === 0) return held;
+  const rows = await tx
+    .select({ orderId: schema.ledgerTransactions.orderId, held: sql<string>`coalesce(-sum(${schema.ledgerEntries.amountMinor}), 0)` })
     .from(schema.ledgerEntries)
     .innerJoin(schema.ledgerTransactions, eq(schema.ledgerTransactions.id, schema.ledgerEntries.transactionId))
-    .where(and(eq(schema.ledgerTransactions.orderId, orderId), eq(schema.ledgerEntries.account, ACCOUNTS.held)));
-  return Number(row.held);
+    .where(and(inArray(schema.ledgerTransactions.orderId, orderIds), eq(schema.ledgerEntries.account, ACCOUNTS.held)))
+    .groupBy(schema.ledgerTransactions.orderId);
+  for (const r of rows) if (r.orderId) held.set(r.orderId, Number(r.held));
+  return held;
+}
+
+/** What is still held for an order (minor units of its currency). */
+export async function heldForOrder(tx: Tx | typeof db, orderId: string): Promise<number> {
+  return (await heldForOrders([orderId], tx)).get(orderId) ?? 0;
 }
 
 export interface LedgerTotals {

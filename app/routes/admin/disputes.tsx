@@ -10,7 +10,8 @@ import type { Verdict } from "~/diffraction/verdict";
 import { OrderTimeline } from "~/components/order-timeline";
 import { Badge, EmptyState, Field, FormError, PageHeader } from "~/components/ui";
 import { filesWithVerdicts } from "~/models/files/files.server";
-import { DISPUTES_PAGE_SIZE, disputeCountsByState, disputesWithOrders, heldMoneyOfOrders, orderTimelines } from "~/models/orders/queries.server";
+import { DISPUTES_PAGE_SIZE, disputeCountsByState, disputesWithOrders, orderTimelines } from "~/models/orders/queries.server";
+import { heldForOrders } from "~/models/payments/ledger.server";
 import { toMinorUnits } from "~/domain/money";
 import { PaymentProblem } from "~/models/payments/provider.server";
 import { platformFeeOnPart } from "~/domain/money";
@@ -39,7 +40,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   // the money still held, and the timelines with the lab's notes (whole for an open dispute, to decide it here).
   const [files, held, timelines] = await Promise.all([
     filesWithVerdicts(orderIds),
-    heldMoneyOfOrders(orderIds),
+    heldForOrders(orderIds),
     orderTimelines(orderIds, { whole: rows.filter((r) => r.dispute.state === "open").map((r) => r.order.id), last: DECIDED_TIMELINE_EVENTS }),
   ]);
   const filesOf = new Map<string, { name: string; version: number; verdict: Verdict | null }[]>();
